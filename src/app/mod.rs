@@ -1,0 +1,1 @@
+//! UI-agnostic application state: screens, actions, update().

@@ -1,0 +1,263 @@
+//! Subcommands. Raw clap arguments are turned into checked domain values here, so the
+//! rest of the code never sees an unchecked input.
+//!
+//! Exit codes: 0 ok, 1 a failure of the work (bad data, a check that failed),
+//! 2 a usage error (a flag or value the user typed that cannot be used).
+
+use std::ffi::OsString;
+use std::io::Write;
+use std::path::PathBuf;
+
+use clap::{Parser, Subcommand};
+
+pub mod load;
+pub mod materials;
+pub mod mirror;
+pub mod records;
+pub mod report;
+pub mod stats;
+pub mod weibull;
+
+/// Fractography and breakage incident log for glass and ceramic parts.
+#[derive(Debug, Parser)]
+#[command(name = "shardlog", version, about, long_about = None)]
+pub struct Cli {
+    /// Database file (else $SHARDLOG_DB, else a file in the platform's data folder).
+    #[arg(long, global = true, value_name = "PATH")]
+    pub db: Option<PathBuf>,
+
+    #[command(subcommand)]
+    pub command: Option<Command>,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Back-calculate stress and flaw size from fracture-mirror readings.
+    Mirror(mirror::MirrorArgs),
+    /// List the material library.
+    Materials(materials::MaterialsArgs),
+    /// Service-load hypotheses: impact, plate, thermal, critical-flaw.
+    Load(load::LoadArgs),
+    /// Fit a two-parameter Weibull distribution to a column of strengths.
+    Weibull(weibull::WeibullArgs),
+    /// Create an empty database.
+    Init(records::InitArgs),
+    /// Import incidents from CSV or JSON (all or nothing).
+    Import(records::ImportArgs),
+    /// Export incidents as CSV or JSON.
+    Export(records::ExportArgs),
+    /// List incidents.
+    List(records::ListArgs),
+    /// Show one incident.
+    Show(records::ShowArgs),
+    /// Recompute the audit chain (or check a dispute bundle).
+    Verify(records::VerifyArgs),
+    /// Copy the database with SQLite's online backup, then check the copy.
+    Backup(records::BackupArgs),
+    /// Generate the invented demo fleet.
+    Demo(records::DemoArgs),
+    /// Fleet recurrence and strength statistics.
+    Stats(stats::StatsArgs),
+    /// One incident's summary.
+    Report(report::ReportArgs),
+    /// A dispute bundle for one supplier (and lot).
+    Dispute(report::DisputeArgs),
+}
+
+/// A failure a subcommand reports. `Usage` exits 2, `Work` exits 1.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum CliError {
+    Usage(String),
+    Work(String),
+}
+
+impl CliError {
+    pub fn usage(msg: impl Into<String>) -> Self {
+        CliError::Usage(msg.into())
+    }
+    pub fn work(msg: impl Into<String>) -> Self {
+        CliError::Work(msg.into())
+    }
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            CliError::Usage(_) => 2,
+            CliError::Work(_) => 1,
+        }
+    }
+    pub fn message(&self) -> &str {
+        match self {
+            CliError::Usage(m) | CliError::Work(m) => m,
+        }
+    }
+}
+
+impl std::fmt::Display for CliError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.message())
+    }
+}
+
+impl std::error::Error for CliError {}
+
+impl From<std::io::Error> for CliError {
+    fn from(e: std::io::Error) -> Self {
+        CliError::Work(format!("output: {e}"))
+    }
+}
+
+/// What every subcommand gets: where the database is and where to print.
+pub struct Context<'a> {
+    pub db: PathBuf,
+    pub out: &'a mut dyn Write,
+}
+
+/// The database path: `--db`, else `$SHARDLOG_DB`, else the platform data folder
+/// (`$XDG_DATA_HOME/shardlog/shardlog.db`, `~/.local/share/shardlog/shardlog.db`,
+/// `~/Library/Application Support/shardlog/shardlog.db` on macOS,
+/// `%APPDATA%\shardlog\shardlog.db` on Windows).
+pub fn resolve_db(flag: Option<PathBuf>) -> PathBuf {
+    if let Some(p) = flag {
+        return p;
+    }
+    if let Some(p) = std::env::var_os("SHARDLOG_DB").filter(|v| !v.is_empty()) {
+        return PathBuf::from(p);
+    }
+    data_dir().join("shardlog").join("shardlog.db")
+}
+
+fn data_dir() -> PathBuf {
+    if cfg!(windows) {
+        if let Some(p) = std::env::var_os("APPDATA") {
+            return PathBuf::from(p);
+        }
+    }
+    if let Some(p) = std::env::var_os("XDG_DATA_HOME").filter(|v| !v.is_empty()) {
+        return PathBuf::from(p);
+    }
+    let home = std::env::var_os("HOME")
+        .map(PathBuf::from)
+        .unwrap_or_else(|| PathBuf::from("."));
+    if cfg!(target_os = "macos") {
+        home.join("Library").join("Application Support")
+    } else {
+        home.join(".local").join("share")
+    }
+}
+
+/// Strip terminal control sequences and other control characters from user text before
+/// it is printed to a terminal. Tabs become spaces; newlines are kept only if `keep_newlines`.
+pub fn sanitize_for_terminal(text: &str, keep_newlines: bool) -> String {
+    let mut out = String::with_capacity(text.len());
+    let mut chars = text.chars().peekable();
+    while let Some(c) = chars.next() {
+        match c {
+            '\u{1b}' => {
+                // ESC [ ... final byte, ESC ] ... BEL/ST, or ESC + one char
+                match chars.peek() {
+                    Some('[') => {
+                        chars.next();
+                        for d in chars.by_ref() {
+                            if ('@'..='~').contains(&d) {
+                                break;
+                            }
+                        }
+                    }
+                    Some(']') | Some('P') | Some('_') | Some('^') => {
+                        chars.next();
+                        while let Some(d) = chars.next() {
+                            if d == '\u{7}' {
+                                break;
+                            }
+                            if d == '\u{1b}' && chars.peek() == Some(&'\\') {
+                                chars.next();
+                                break;
+                            }
+                        }
+                    }
+                    Some(_) => {
+                        chars.next();
+                    }
+                    None => {}
+                }
+            }
+            '\n' if keep_newlines => out.push('\n'),
+            '\t' => out.push(' '),
+            c if c.is_control() => {}
+            // C1 controls and bidi overrides are control-like too
+            '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}' => {}
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// Parse, dispatch, print errors, return the exit code.
+pub fn main_with_args<I, T>(args: I) -> u8
+where
+    I: IntoIterator<Item = T>,
+    T: Into<OsString> + Clone,
+{
+    let cli = match Cli::try_parse_from(args) {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return code;
+        }
+    };
+    let stdout = std::io::stdout();
+    let mut lock = stdout.lock();
+    match run(cli, &mut lock) {
+        Ok(()) => 0,
+        Err(e) => {
+            let _ = lock.flush();
+            eprintln!("shardlog: {}", sanitize_for_terminal(e.message(), true));
+            e.exit_code()
+        }
+    }
+}
+
+/// Run a parsed command line, printing to `out`.
+pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
+    let db = resolve_db(cli.db);
+    let Some(command) = cli.command else {
+        return crate::tui::run(&db).map_err(|e| CliError::work(format!("{e:#}")));
+    };
+    let mut ctx = Context { db, out };
+    match command {
+        Command::Mirror(a) => mirror::run(a, &mut ctx),
+        Command::Materials(a) => materials::run(a, &mut ctx),
+        Command::Load(a) => load::run(a, &mut ctx),
+        Command::Weibull(a) => weibull::run(a, &mut ctx),
+        Command::Init(a) => records::init(a, &mut ctx),
+        Command::Import(a) => records::import(a, &mut ctx),
+        Command::Export(a) => records::export(a, &mut ctx),
+        Command::List(a) => records::list(a, &mut ctx),
+        Command::Show(a) => records::show(a, &mut ctx),
+        Command::Verify(a) => records::verify(a, &mut ctx),
+        Command::Backup(a) => records::backup(a, &mut ctx),
+        Command::Demo(a) => records::demo(a, &mut ctx),
+        Command::Stats(a) => stats::run(a, &mut ctx),
+        Command::Report(a) => report::report(a, &mut ctx),
+        Command::Dispute(a) => report::dispute(a, &mut ctx),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn escapes_are_stripped() {
+        let s = sanitize_for_terminal("a\u{1b}[31mred\u{1b}[0m b\u{1b}]0;title\u{7}c\u{7}\r", false);
+        assert_eq!(s, "ared bc");
+        assert_eq!(sanitize_for_terminal("x\ny\tz", true), "x\ny z");
+        assert_eq!(sanitize_for_terminal("x\ny", false), "xy");
+    }
+
+    #[test]
+    fn cli_definition_is_consistent() {
+        use clap::CommandFactory;
+        Cli::command().debug_assert();
+    }
+}

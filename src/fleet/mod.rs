@@ -1,0 +1,1 @@
+//! Fleet statistics: grouping, rates, tests of difference, Weibull. Pure.

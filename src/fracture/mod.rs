@@ -1,0 +1,1 @@
+//! Fracture-mechanics core: mirror, flaw, residual stress, materials, uncertainty. Pure.

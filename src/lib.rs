@@ -1,0 +1,15 @@
+//! shardlog: fractography and breakage incident log.
+//!
+//! The core (`units`, `fracture`, `loads`, `fleet`) is pure: numbers in, numbers out.
+//! `store` owns SQLite; `report` renders; `app` holds UI-agnostic state; `tui` draws it;
+//! `cli` runs the subcommands.
+
+pub mod app;
+pub mod cli;
+pub mod fleet;
+pub mod fracture;
+pub mod loads;
+pub mod report;
+pub mod store;
+pub mod tui;
+pub mod units;

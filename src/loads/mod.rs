@@ -1,0 +1,1 @@
+//! Service-load hypotheses: impact, plates, thermal, critical flaw curve. Pure.

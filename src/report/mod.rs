@@ -1,0 +1,1 @@
+//! Incident summaries and dispute bundles: PDF, HTML, Markdown, JSON, CSV.
