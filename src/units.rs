@@ -58,7 +58,10 @@ impl Dimension {
 
     /// Every unit this dimension accepts, in the order they are listed to users.
     pub fn units(self) -> impl Iterator<Item = Unit> {
-        Unit::ALL.iter().copied().filter(move |u| u.dimension() == self)
+        Unit::ALL
+            .iter()
+            .copied()
+            .filter(move |u| u.dimension() == self)
     }
 }
 
@@ -607,18 +610,36 @@ mod tests {
         assert!(close(parse("850 µm", Dimension::Length).unwrap(), 850e-6));
         assert!(close(parse("850um", Dimension::Length).unwrap(), 850e-6));
         assert!(close(parse("850 μm", Dimension::Length).unwrap(), 850e-6));
-        assert!(close(parse("0.047 in", Dimension::Length).unwrap(), 0.047 * 0.0254));
+        assert!(close(
+            parse("0.047 in", Dimension::Length).unwrap(),
+            0.047 * 0.0254
+        ));
         assert!(close(parse("2e-3 m", Dimension::Length).unwrap(), 2e-3));
     }
 
     #[test]
     fn stresses_and_toughness() {
         assert!(close(parse("60 MPa", Dimension::Stress).unwrap(), 60e6));
-        assert!(close(parse("8700 psi", Dimension::Stress).unwrap(), 8700.0 * PSI));
-        assert!(close(parse("9 ksi", Dimension::Stress).unwrap(), 9000.0 * PSI));
+        assert!(close(
+            parse("8700 psi", Dimension::Stress).unwrap(),
+            8700.0 * PSI
+        ));
+        assert!(close(
+            parse("9 ksi", Dimension::Stress).unwrap(),
+            9000.0 * PSI
+        ));
         assert!(close(parse("2kPa", Dimension::Stress).unwrap(), 2000.0));
-        for t in ["0.75 MPa√m", "0.75 MPa*m^0.5", "0.75MPa·m^½", "0.75 MPa m^0.5", "0.75 MPa·√m"] {
-            assert!(close(parse(t, Dimension::Toughness).unwrap(), 0.75e6), "{t}");
+        for t in [
+            "0.75 MPa√m",
+            "0.75 MPa*m^0.5",
+            "0.75MPa·m^½",
+            "0.75 MPa m^0.5",
+            "0.75 MPa·√m",
+        ] {
+            assert!(
+                close(parse(t, Dimension::Toughness).unwrap(), 0.75e6),
+                "{t}"
+            );
         }
         // 1 ksi·√in = 1.0988 MPa·√m (common conversion factor)
         let k = parse("1 ksi√in", Dimension::Toughness).unwrap();
@@ -627,13 +648,22 @@ mod tests {
 
     #[test]
     fn speeds_and_others() {
-        assert!(close(parse("26 mph", Dimension::Speed).unwrap(), 26.0 * 0.44704));
+        assert!(close(
+            parse("26 mph", Dimension::Speed).unwrap(),
+            26.0 * 0.44704
+        ));
         assert!(close(parse("36 km/h", Dimension::Speed).unwrap(), 10.0));
         assert!(close(parse("40 ms", Dimension::Time).unwrap(), 0.04));
         assert!(close(parse("4 lb", Dimension::Mass).unwrap(), 4.0 * POUND));
         assert!(close(parse("1 kN", Dimension::Force).unwrap(), 1000.0));
-        assert!(close(parse("30 K", Dimension::TemperatureDifference).unwrap(), 30.0));
-        assert!(close(parse("9 °F", Dimension::TemperatureDifference).unwrap(), 5.0));
+        assert!(close(
+            parse("30 K", Dimension::TemperatureDifference).unwrap(),
+            30.0
+        ));
+        assert!(close(
+            parse("9 °F", Dimension::TemperatureDifference).unwrap(),
+            5.0
+        ));
     }
 
     #[test]

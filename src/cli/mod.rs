@@ -249,7 +249,10 @@ mod tests {
 
     #[test]
     fn escapes_are_stripped() {
-        let s = sanitize_for_terminal("a\u{1b}[31mred\u{1b}[0m b\u{1b}]0;title\u{7}c\u{7}\r", false);
+        let s = sanitize_for_terminal(
+            "a\u{1b}[31mred\u{1b}[0m b\u{1b}]0;title\u{7}c\u{7}\r",
+            false,
+        );
         assert_eq!(s, "ared bc");
         assert_eq!(sanitize_for_terminal("x\ny\tz", true), "x\ny z");
         assert_eq!(sanitize_for_terminal("x\ny", false), "xy");
