@@ -289,10 +289,7 @@ pub fn month_bounds(year: i32, month: u32) -> Option<(NaiveDate, NaiveDate)> {
 pub fn months_in(window: &Window) -> Vec<(i32, u32, NaiveDate, NaiveDate)> {
     let mut out = Vec::new();
     let (mut y, mut m) = (window.since.year(), window.since.month());
-    loop {
-        let Some((a, b)) = month_bounds(y, m) else {
-            break;
-        };
+    while let Some((a, b)) = month_bounds(y, m) {
         if a > window.until {
             break;
         }
