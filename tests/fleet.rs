@@ -501,6 +501,19 @@ fn grouped_rates_and_flags() {
         .unwrap();
     // 5 thermal over 999.3 pane-years against 5 thermal over 1998.6 → ratio 2
     close("thermal ratio", birch.ratio.unwrap().ratio, 2.0, 1e-12);
+    // the row's values select exactly its incidents
+    let n = inc
+        .iter()
+        .filter(|f| w.contains(f.found))
+        .filter(|f| {
+            birch
+                .values
+                .iter()
+                .zip(&t3.keys)
+                .all(|(v, k)| v.matches(*k, f))
+        })
+        .count();
+    assert_eq!(n as u64, birch.count);
 }
 
 #[test]

@@ -201,6 +201,33 @@ pub const SEASON_NAMES: [&str; 4] = [
     "autumn (Sep-Nov)",
 ];
 
+/// The value of one key for a group, as data (for filtering the log to a group).
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+pub enum GroupValue {
+    /// A text key; `None` = not recorded.
+    Text(Option<String>),
+    Month {
+        year: i32,
+        month: u32,
+    },
+    /// 0 winter, 1 spring, 2 summer, 3 autumn (see [`SEASON_NAMES`]).
+    Season(u8),
+}
+
+impl GroupValue {
+    /// Does this incident belong to the group on `key`?
+    pub fn matches(&self, key: Key, f: &IncidentFacts) -> bool {
+        match (self, key) {
+            (GroupValue::Month { year, month }, Key::Month) => {
+                f.found.year() == *year && f.found.month() == *month
+            }
+            (GroupValue::Season(s), Key::Season) => season_of(f.found.month()) == *s,
+            (GroupValue::Text(v), k) if !k.is_time() => text_of(f, k) == v.as_deref(),
+            _ => false,
+        }
+    }
+}
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 enum Val<'a> {
     Text(Option<&'a str>),
@@ -215,6 +242,16 @@ impl Val<'_> {
             Val::Text(None) => NOT_RECORDED.to_string(),
             Val::Month(y, m) => format!("{y:04}-{m:02}"),
             Val::Season(s) => SEASON_NAMES[*s as usize].to_string(),
+        }
+    }
+    fn value(&self) -> GroupValue {
+        match self {
+            Val::Text(v) => GroupValue::Text(v.map(str::to_string)),
+            Val::Month(y, m) => GroupValue::Month {
+                year: *y,
+                month: *m,
+            },
+            Val::Season(s) => GroupValue::Season(*s),
         }
     }
 }
@@ -325,6 +362,8 @@ pub struct GroupOptions {
 pub struct GroupRow {
     /// The label of each key, in the order of the keys.
     pub key: Vec<String>,
+    /// The same values as data, to filter the incidents of this group.
+    pub values: Vec<GroupValue>,
     pub count: u64,
     /// Fraction of all incidents in the window.
     pub share: f64,
@@ -487,9 +526,11 @@ pub fn group(
         } else {
             None
         };
-        let key = keys.iter().enumerate().map(|(i, _)| k[i].label()).collect();
+        let key = (0..keys.len()).map(|i| k[i].label()).collect();
+        let values = (0..keys.len()).map(|i| k[i].value()).collect();
         rows.push(GroupRow {
             key,
+            values,
             count: acc.count,
             share: if total > 0 {
                 acc.count as f64 / total as f64

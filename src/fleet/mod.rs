@@ -15,7 +15,7 @@ pub mod weibull;
 
 pub use group::{
     group, histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow, GroupTable,
-    IncidentFacts, Key, Window,
+    GroupValue, IncidentFacts, Key, Window,
 };
 pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
 pub use trend::{monthly_counts, seasonality, trend, MonthCount, Seasonality, Trend};
