@@ -569,3 +569,37 @@ fn bad_keys_and_windows() {
     assert!(Key::parse_list("colour").is_err());
     assert!(Window::new(d(2025, 2, 1), d(2025, 1, 1)).is_err());
 }
+
+mod properties {
+    use proptest::prelude::*;
+    use shardlog::fleet::weibull::{fit, Specimen, WeibullError};
+
+    proptest! {
+        // Any positive sample with at least two distinct failures either fits, satisfying
+        // C1239's equation, or is refused with a typed error; it never panics.
+        #[test]
+        fn solver_is_robust(values in prop::collection::vec((1e-3f64..1e6, any::<bool>()), 0..60)) {
+            let s: Vec<Specimen> = values
+                .iter()
+                .map(|&(v, c)| Specimen { stress: v, censored: c })
+                .collect();
+            match fit(&s) {
+                Ok(f) => {
+                    prop_assert!(f.modulus.is_finite() && f.modulus > 0.0);
+                    prop_assert!(f.scale.is_finite() && f.scale > 0.0);
+                    let m = f.modulus;
+                    let max = s.iter().map(|x| x.stress).fold(0.0, f64::max);
+                    let s0: f64 = s.iter().map(|x| (x.stress / max).powf(m)).sum();
+                    let s1: f64 = s.iter().map(|x| (x.stress / max).powf(m) * (x.stress / max).ln()).sum();
+                    let r = s.iter().filter(|x| !x.censored).count() as f64;
+                    let lf: f64 = s.iter().filter(|x| !x.censored).map(|x| (x.stress / max).ln()).sum::<f64>() / r;
+                    let g = s1 / s0 - lf - 1.0 / m;
+                    prop_assert!(g.abs() < 1e-9 * (1.0 + 1.0 / m), "g = {g}, m = {m}");
+                    prop_assert!(f.modulus_ci95.low <= m && m <= f.modulus_ci95.high);
+                }
+                Err(WeibullError::Empty | WeibullError::AllCensored | WeibullError::TooFewFailures { .. } | WeibullError::AllEqual { .. }) => {}
+                Err(e) => prop_assert!(false, "unexpected error {e:?}"),
+            }
+        }
+    }
+}
