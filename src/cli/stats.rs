@@ -38,9 +38,29 @@ pub struct StatsArgs {
     /// (competing flaw populations, ASTM C1239).
     #[arg(long, value_name = "TYPE")]
     pub origin_type: Option<String>,
+    /// Which back-calculated stress the Weibull fit uses: applied (net minus residual
+    /// stress: the service load at fracture) or net (the mirror's stress at the origin).
+    #[arg(long, value_name = "applied|net", default_value = "applied")]
+    pub stress: String,
     /// Print JSON instead of tables.
     #[arg(long)]
     pub json: bool,
+}
+
+/// Which stress of an incident the strength statistics use.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StressKind {
+    Applied,
+    Net,
+}
+
+impl StressKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            StressKind::Applied => "applied",
+            StressKind::Net => "net",
+        }
+    }
 }
 
 /// Checked arguments.
@@ -53,6 +73,7 @@ pub struct StatsQuery {
     pub trend: bool,
     pub weibull: bool,
     pub origin_type: Option<String>,
+    pub stress: StressKind,
     pub json: bool,
 }
 
@@ -90,8 +111,18 @@ impl StatsQuery {
                 "--origin-type chooses the flaw population of the Weibull fit; add --weibull",
             ));
         }
+        let stress = match a.stress.trim().to_ascii_lowercase().as_str() {
+            "applied" => StressKind::Applied,
+            "net" => StressKind::Net,
+            other => {
+                return Err(CliError::usage(format!(
+                    "--stress: '{other}' is not applied or net"
+                )))
+            }
+        };
         Ok(StatsQuery {
             keys,
+            stress,
             since,
             until,
             rates: a.rates,
@@ -250,6 +281,7 @@ pub fn to_json(q: &StatsQuery, r: &StatsResult) -> Value {
         "by": q.keys.iter().map(|k| k.name()).collect::<Vec<_>>(),
         "window": { "since": t.window.since.to_string(), "until": t.window.until.to_string() },
         "total": t.total,
+        "stress": q.stress.name(),
         "groups": groups,
     });
     let m = out.as_object_mut().expect("object literal");
@@ -563,7 +595,8 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
     }
     if q.weibull {
         s.push_str(&format!(
-            "\nStrength (Weibull fit of back-calculated fracture stress{})\n",
+            "\nStrength (Weibull fit of back-calculated {} stress at fracture{})\n",
+            q.stress.name(),
             match &q.origin_type {
                 Some(o) => format!("; origin type '{}', other origins censored", clean(o)),
                 None => String::new(),
@@ -741,6 +774,7 @@ mod tests {
             trend: true,
             weibull: true,
             origin_type: None,
+            stress: "applied".into(),
             json: false,
         })
         .unwrap()
@@ -809,6 +843,7 @@ mod tests {
             trend: false,
             weibull,
             origin_type: origin.map(String::from),
+            stress: "applied".into(),
             json: false,
         };
         for args in [
