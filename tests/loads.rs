@@ -433,7 +433,12 @@ fn simply_supported_uniform_against_timoshenko_table_8() {
     let d = plates::rigidity(TABLE_MAT.youngs_modulus, 0.3, t);
     for (ratio, alpha, beta) in table {
         let r = rect(Edges::SimplySupported, ratio, PlateLoad::Pressure(q), t);
-        close(r.deflection, alpha * q / d, 0.005, &format!("α at b/a {ratio}"));
+        close(
+            r.deflection,
+            alpha * q / d,
+            0.005,
+            &format!("α at b/a {ratio}"),
+        );
         close(
             r.stress,
             6.0 * beta * q / (t * t),
@@ -451,10 +456,25 @@ fn long_plates_tend_to_the_beam_strip() {
     let d = plates::rigidity(TABLE_MAT.youngs_modulus, 0.3, t);
     let ss = rect(Edges::SimplySupported, 20.0, PlateLoad::Pressure(q), t);
     close(ss.stress, 6.0 * q / 8.0 / (t * t), 0.002, "SS strip moment");
-    close(ss.deflection, 5.0 * q / (384.0 * d), 0.002, "SS strip deflection");
+    close(
+        ss.deflection,
+        5.0 * q / (384.0 * d),
+        0.002,
+        "SS strip deflection",
+    );
     let cl = rect(Edges::Clamped, 1000.0, PlateLoad::Pressure(q), t);
-    close(cl.stress, 6.0 * q / 12.0 / (t * t), 0.002, "clamped strip moment");
-    close(cl.deflection, q / (384.0 * d), 0.002, "clamped strip deflection");
+    close(
+        cl.stress,
+        6.0 * q / 12.0 / (t * t),
+        0.002,
+        "clamped strip moment",
+    );
+    close(
+        cl.deflection,
+        q / (384.0 * d),
+        0.002,
+        "clamped strip deflection",
+    );
 }
 
 #[test]
@@ -473,7 +493,12 @@ fn clamped_uniform_against_roark_case_8a() {
     let e = TABLE_MAT.youngs_modulus;
     for (ratio, beta1, alpha) in table {
         let r = rect(Edges::Clamped, ratio, PlateLoad::Pressure(q), t);
-        close(r.stress, beta1 * q / (t * t), 0.003, &format!("β₁ at {ratio}"));
+        close(
+            r.stress,
+            beta1 * q / (t * t),
+            0.003,
+            &format!("β₁ at {ratio}"),
+        );
         close(
             r.deflection,
             alpha * q / (e * t.powi(3)),
@@ -491,7 +516,8 @@ fn simply_supported_patch_against_roark_case_1d() {
     // Roark Table 11.4 case 1d (ν = 0.3), central load W over a small circle r₀ (from memory):
     // σ = 3W/2πt² [(1+ν) ln(2b/πr′₀) + β], y = α W b²/(E t³), b the short side, with
     // β = 0.435, 0.650, 0.789, 0.958 and α = 0.1267, 0.1478, 0.1621, 0.1805 at a/b = 1, 1.2, 1.4, 2.
-    // The Navier series uses the square of equal area; tolerance 2 % (memory and that swap).
+    // The Navier series uses the square of equal area; tolerance 1 % (memory and that swap;
+    // the series lands within 0.35 %).
     let (w, t, r0) = (1000.0, 0.004, 0.02);
     let nu: f64 = 0.3;
     let e = TABLE_MAT.youngs_modulus;
@@ -512,11 +538,11 @@ fn simply_supported_patch_against_roark_case_1d() {
             t,
         );
         let want = 3.0 * w / (2.0 * pi * t * t) * ((1.0 + nu) * (2.0 / (pi * r0)).ln() + beta);
-        close(r.stress, want, 0.02, &format!("patch stress at {ratio}"));
+        close(r.stress, want, 0.01, &format!("patch stress at {ratio}"));
         close(
             r.deflection,
             alpha * w / (e * t.powi(3)),
-            0.02,
+            0.01,
             &format!("patch deflection at {ratio}"),
         );
     }
@@ -796,7 +822,12 @@ fn verdict_sound_part() {
     assert!(weak.explanation.contains("sound part should have survived"));
     let strong = verdict::judge(&m, 130e6, Some(110e6)).unwrap();
     assert_eq!(strong.sound_part, Some(SoundPart::WouldBreak));
-    close(strong.strength_ratio.unwrap(), 130.0 / 110.0, 1e-12, "ratio");
+    close(
+        strong.strength_ratio.unwrap(),
+        130.0 / 110.0,
+        1e-12,
+        "ratio",
+    );
     // a bad interval is refused
     let bad = Measured {
         stress: 10e6,
@@ -804,4 +835,280 @@ fn verdict_sound_part() {
         high: 14e6,
     };
     assert!(verdict::judge(&bad, 10e6, None).is_err());
+}
+
+// ---------------------------------------------------------------- the binary from outside
+
+fn owned(args: &[&str]) -> Vec<String> {
+    args.iter().map(|s| s.to_string()).collect()
+}
+
+fn shardlog(args: &[&str]) -> (i32, String, String) {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        .args(args)
+        .env("SHARDLOG_DB", "/nonexistent/loads-test.db")
+        .output()
+        .expect("run shardlog");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn bad_input_gives_a_clear_error_and_exit_code() {
+    let plate = |extra: &[&str]| {
+        let mut v = vec![
+            "load",
+            "plate",
+            "--shape",
+            "rectangular",
+            "--span",
+            "600mm",
+            "--span-b",
+            "900mm",
+            "--edges",
+            "simply-supported",
+        ];
+        v.extend_from_slice(extra);
+        v.iter().map(|s| s.to_string()).collect::<Vec<_>>()
+    };
+    let impact = |extra: &[&str]| {
+        let mut v = vec!["load", "impact", "--mass", "1.8kg", "--speed", "11.6m/s"];
+        v.extend_from_slice(extra);
+        v.iter().map(|s| s.to_string()).collect::<Vec<_>>()
+    };
+    // (arguments, exit code, text the one-line message must contain)
+    let cases: Vec<(Vec<String>, i32, &str)> = vec![
+        (
+            plate(&["--thickness", "0mm", "--pressure", "2kPa"]),
+            2,
+            "--thickness",
+        ),
+        (
+            plate(&["--thickness", "5", "--pressure", "2kPa"]),
+            2,
+            "has no unit",
+        ),
+        (impact(&["--contact-time", "-40ms"]), 2, "--contact-time"),
+        (
+            impact(&["--contact-time", "40ms", "--restitution", "1.2"]),
+            2,
+            "--restitution",
+        ),
+        (impact(&[]), 2, "--contact-time"),
+        (
+            owned(&[
+                "load",
+                "plate",
+                "--shape",
+                "circular",
+                "--span",
+                "0mm",
+                "--thickness",
+                "5mm",
+                "--edges",
+                "clamped",
+                "--pressure",
+                "2kPa",
+            ]),
+            2,
+            "--span",
+        ),
+        (
+            plate(&[
+                "--thickness",
+                "5mm",
+                "--span-b",
+                "0mm",
+                "--pressure",
+                "2kPa",
+            ]),
+            2,
+            "",
+        ),
+        (
+            owned(&[
+                "load",
+                "plate",
+                "--shape",
+                "rectangular",
+                "--span",
+                "600mm",
+                "--span-b",
+                "900mm",
+                "--thickness",
+                "5mm",
+                "--edges",
+                "clamped",
+                "--force",
+                "1kN",
+                "--patch",
+                "10mm",
+            ]),
+            1,
+            "--edges",
+        ),
+        (
+            owned(&[
+                "load",
+                "thermal",
+                "--material",
+                "unobtainium",
+                "--delta-t",
+                "30K",
+            ]),
+            2,
+            "--material",
+        ),
+        (
+            owned(&["load", "thermal", "--delta-t", "30K", "--restraint", "0"]),
+            2,
+            "--restraint",
+        ),
+        (
+            owned(&[
+                "load",
+                "critical-flaw",
+                "--stress",
+                "-60MPa",
+                "--toughness",
+                "2MPa√m",
+                "--y",
+                "1.988",
+            ]),
+            2,
+            "",
+        ),
+        (
+            impact(&["--contact-time", "40ms", "--measured", "20MPa"]),
+            2,
+            "gives a force, not a stress",
+        ),
+    ];
+    for (args, code, needle) in cases {
+        let refs: Vec<&str> = args.iter().map(|s| s.as_str()).collect();
+        let (got, stdout, stderr) = shardlog(&refs);
+        assert_eq!(got, code, "{args:?}: stderr {stderr}");
+        assert!(stdout.is_empty(), "{args:?} printed {stdout}");
+        assert!(stderr.contains(needle), "{args:?}: {stderr}");
+        assert!(!stderr.contains("panicked"), "{args:?}: {stderr}");
+    }
+}
+
+fn json_of(args: &[&str]) -> serde_json::Value {
+    let (code, stdout, stderr) = shardlog(args);
+    assert_eq!(code, 0, "{args:?}: {stderr}");
+    serde_json::from_str(&stdout).expect("one JSON object")
+}
+
+#[test]
+fn json_objects_carry_the_documented_keys() {
+    // the impulse case of reference-values.md, through the binary
+    let v = json_of(&[
+        "load",
+        "impact",
+        "--mass",
+        "1.81kg",
+        "--speed",
+        "11.6m/s",
+        "--contact-time",
+        "40ms",
+        "--json",
+    ]);
+    close(v["force_n"].as_f64().unwrap(), 1049.8, 1e-4, "force_n");
+    assert!(v["warnings"].as_array().unwrap().is_empty());
+    assert!(v["method"].as_str().unwrap().contains("impulse"));
+    // speed in mph: 26 mph = 11.62 m/s
+    let mph = json_of(&[
+        "load",
+        "impact",
+        "--mass",
+        "1.8kg",
+        "--speed",
+        "26mph",
+        "--contact-time",
+        "40ms",
+        "--json",
+    ]);
+    close(
+        mph["force_n"].as_f64().unwrap(),
+        2.0 * 1.8 * 26.0 * 0.44704 / 0.040,
+        1e-9,
+        "26 mph",
+    );
+
+    let p = json_of(&[
+        "load",
+        "plate",
+        "--shape",
+        "circular",
+        "--span",
+        "600mm",
+        "--thickness",
+        "5mm",
+        "--edges",
+        "simply-supported",
+        "--force",
+        "1kN",
+        "--patch",
+        "10mm",
+        "--json",
+    ]);
+    assert!(p["stress_mpa"].as_f64().unwrap() > 0.0);
+    assert!(p["deflection_mm"].as_f64().unwrap() > 0.0);
+    assert_eq!(p["force_n"].as_f64().unwrap(), 1000.0);
+    let codes: Vec<&str> = p["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w["code"].as_str().unwrap())
+        .collect();
+    assert!(codes.contains(&"large-deflection"), "{codes:?}");
+
+    // soda-lime, 40 K: 0.63 MPa/K · 40 = 25.2 MPa (reference-values.md, computed)
+    let t = json_of(&[
+        "load",
+        "thermal",
+        "--material",
+        "soda-lime",
+        "--delta-t",
+        "40K",
+        "--json",
+    ]);
+    close(t["stress_mpa"].as_f64().unwrap(), 25.2, 1e-9, "thermal");
+
+    let c = json_of(&[
+        "load",
+        "critical-flaw",
+        "--stress",
+        "60MPa",
+        "--toughness",
+        "2.0MPa√m",
+        "--y",
+        "1.988",
+        "--json",
+    ]);
+    close(c["critical_flaw_um"].as_f64().unwrap(), 281.1, 0.001, "a_c");
+    assert_eq!(c["curve"].as_array().unwrap().len(), 25);
+
+    // the verdict rides along when a measured stress is given
+    let v = json_of(&[
+        "load",
+        "thermal",
+        "--delta-t",
+        "30K",
+        "--measured",
+        "19MPa",
+        "--measured-low",
+        "16MPa",
+        "--measured-high",
+        "22MPa",
+        "--strength",
+        "45MPa",
+        "--json",
+    ]);
+    assert_eq!(v["verdict"]["finding"], "consistent");
+    assert_eq!(v["verdict"]["sound_part"], "would survive");
 }

@@ -17,7 +17,7 @@ use crate::units::{self, Dimension, Unit};
 #[derive(Debug, Args)]
 pub struct LoadArgs {
     #[command(subcommand)]
-    pub kind: LoadKind,
+    pub kind: Box<LoadKind>,
 }
 
 #[derive(Debug, Subcommand)]
@@ -36,45 +36,60 @@ pub enum LoadKind {
 #[derive(Debug, Args, Default)]
 pub struct VerdictArgs {
     /// Stress back-calculated from the fracture (e.g. from the mirror), e.g. 19MPa.
-    #[arg(long, value_name = "STRESS")]
+    #[arg(long, allow_hyphen_values = true, value_name = "STRESS")]
     pub measured: Option<String>,
     /// Low end of the measured stress interval (default: the measured value).
-    #[arg(long, value_name = "STRESS", requires = "measured")]
+    #[arg(
+        long,
+        allow_hyphen_values = true,
+        value_name = "STRESS",
+        requires = "measured"
+    )]
     pub measured_low: Option<String>,
     /// High end of the measured stress interval (default: the measured value).
-    #[arg(long, value_name = "STRESS", requires = "measured")]
+    #[arg(
+        long,
+        allow_hyphen_values = true,
+        value_name = "STRESS",
+        requires = "measured"
+    )]
     pub measured_high: Option<String>,
     /// Lower bound of a sound part's strength (a Weibull quantile; for tempered glass the
     /// surface compression plus the annealed strength).
-    #[arg(long, value_name = "STRESS")]
+    #[arg(long, allow_hyphen_values = true, value_name = "STRESS")]
     pub strength: Option<String>,
 }
 
 #[derive(Debug, Args)]
 pub struct ImpactArgs {
     /// Mass of the impacting body, e.g. 1.8kg (optional with --sphere-diameter: a solid sphere).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub mass: Option<String>,
     /// Speed on arrival, e.g. 11.6m/s or 26mph.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub speed: String,
     /// Contact time for the impulse model, e.g. 40ms.
-    #[arg(long, conflicts_with = "sphere_diameter")]
+    #[arg(long, allow_hyphen_values = true, conflicts_with = "sphere_diameter")]
     pub contact_time: Option<String>,
     /// Coefficient of restitution, 0 (stops dead) to 1 (elastic rebound).
-    #[arg(long, default_value = "1", conflicts_with = "sphere_diameter")]
+    #[arg(
+        long,
+        allow_hyphen_values = true,
+        default_value = "1",
+        conflicts_with = "sphere_diameter"
+    )]
     pub restitution: String,
     /// Diameter of a sphere for the Hertz contact model, e.g. 75mm.
-    #[arg(long, requires_all = ["sphere_material", "thickness"])]
+    #[arg(long, allow_hyphen_values = true, requires_all = ["sphere_material", "thickness"])]
     pub sphere_diameter: Option<String>,
     /// Sphere material (steel, aluminium, granite, tungsten-carbide, or a library material).
-    #[arg(long, requires = "sphere_diameter")]
+    #[arg(long, allow_hyphen_values = true, requires = "sphere_diameter")]
     pub sphere_material: Option<String>,
     /// Material of the struck pane (library key, e.g. soda-lime).
-    #[arg(long, default_value = "soda-lime")]
+    #[arg(long, allow_hyphen_values = true, default_value = "soda-lime")]
     pub target: String,
     /// Thickness of the struck pane, e.g. 5mm.
-    #[arg(long, requires = "sphere_diameter")]
+    #[arg(long, allow_hyphen_values = true, requires = "sphere_diameter")]
     pub thickness: Option<String>,
     #[command(flatten)]
     pub verdict: VerdictArgs,
@@ -100,27 +115,27 @@ pub struct PlateArgs {
     #[arg(long, value_enum)]
     pub shape: ShapeArg,
     /// Diameter of a circular plate, or one side of a rectangular one, e.g. 600mm.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub span: String,
     /// The other side of a rectangular plate, e.g. 900mm.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub span_b: Option<String>,
     /// Plate thickness, e.g. 5mm.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub thickness: String,
     #[arg(long, value_enum)]
     pub edges: EdgesArg,
     /// Uniform pressure over the plate, e.g. 2kPa.
-    #[arg(long, conflicts_with_all = ["force", "patch"], required_unless_present = "force")]
+    #[arg(long, allow_hyphen_values = true, conflicts_with_all = ["force", "patch"], required_unless_present = "force")]
     pub pressure: Option<String>,
     /// Total force on a central patch, e.g. 1kN.
-    #[arg(long, requires = "patch")]
+    #[arg(long, allow_hyphen_values = true, requires = "patch")]
     pub force: Option<String>,
     /// Diameter of the central loaded circle, e.g. 10mm.
-    #[arg(long, requires = "force")]
+    #[arg(long, allow_hyphen_values = true, requires = "force")]
     pub patch: Option<String>,
     /// Plate material (library key).
-    #[arg(long, default_value = "soda-lime")]
+    #[arg(long, allow_hyphen_values = true, default_value = "soda-lime")]
     pub material: String,
     #[command(flatten)]
     pub verdict: VerdictArgs,
@@ -131,16 +146,16 @@ pub struct PlateArgs {
 #[derive(Debug, Args)]
 pub struct ThermalArgs {
     /// Material (library key), e.g. soda-lime.
-    #[arg(long, default_value = "soda-lime")]
+    #[arg(long, allow_hyphen_values = true, default_value = "soda-lime")]
     pub material: String,
     /// Temperature difference between the hot centre and the cold edge, e.g. 40K.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub delta_t: String,
     /// Restraint factor k: 1 = fully restrained edge strip (0 < k <= 2).
-    #[arg(long, default_value = "1")]
+    #[arg(long, allow_hyphen_values = true, default_value = "1")]
     pub restraint: String,
     /// Edge strength: also report the temperature difference it survives, e.g. 40MPa.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub edge_strength: Option<String>,
     #[command(flatten)]
     pub verdict: VerdictArgs,
@@ -151,32 +166,42 @@ pub struct ThermalArgs {
 #[derive(Debug, Args)]
 pub struct CriticalArgs {
     /// Applied stress: report the critical flaw size, e.g. 60MPa.
-    #[arg(long, required_unless_present = "flaw_size", conflicts_with = "flaw_size")]
+    #[arg(
+        long,
+        allow_hyphen_values = true,
+        required_unless_present = "flaw_size",
+        conflicts_with = "flaw_size"
+    )]
     pub stress: Option<String>,
     /// Flaw size: report the stress at which it fails, e.g. 100um.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub flaw_size: Option<String>,
     /// Fracture toughness K_Ic, e.g. 0.75MPa√m (default: the library value of --material).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub toughness: Option<String>,
     /// Material for the toughness when --toughness is not given.
-    #[arg(long, default_value = "soda-lime")]
+    #[arg(long, allow_hyphen_values = true, default_value = "soda-lime")]
     pub material: String,
     /// Flaw geometry (see `fracture::flaw`), e.g. edge, penny, through, semicircular.
-    #[arg(long, required_unless_present = "y", conflicts_with = "y")]
+    #[arg(
+        long,
+        allow_hyphen_values = true,
+        required_unless_present = "y",
+        conflicts_with = "y"
+    )]
     pub flaw: Option<String>,
     /// Geometry factor Y given directly (K = Y sigma sqrt(a), sqrt(pi) included).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub y: Option<String>,
     /// Number of points of the K(a) curve in --json output.
-    #[arg(long, default_value = "25")]
+    #[arg(long, allow_hyphen_values = true, default_value = "25")]
     pub points: String,
     #[arg(long)]
     pub json: bool,
 }
 
 pub fn run(args: LoadArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let out = match args.kind {
+    let out = match *args.kind {
         LoadKind::Impact(a) => impact_cmd(a)?,
         LoadKind::Plate(a) => plate_cmd(a)?,
         LoadKind::Thermal(a) => thermal_cmd(a)?,
@@ -258,9 +283,7 @@ fn number_in(flag: &str, text: &str, lo: f64, hi: f64, expected: &str) -> Result
 fn load_err(e: LoadError) -> CliError {
     match e {
         LoadError::OutOfRange { field, .. } => CliError::usage(format!("--{field}: {e}")),
-        LoadError::NotAvailable { field, reason } => {
-            CliError::work(format!("--{field}: {reason}"))
-        }
+        LoadError::NotAvailable { field, reason } => CliError::work(format!("--{field}: {reason}")),
     }
 }
 
@@ -311,7 +334,11 @@ fn add_verdict(out: &mut Output, args: &VerdictArgs, stress: Option<f64>) -> Res
                      the force as a patch load",
                 ));
             };
-            let b = positive("strength", args.strength.as_deref().unwrap_or(""), Dimension::Stress)?;
+            let b = positive(
+                "strength",
+                args.strength.as_deref().unwrap_or(""),
+                Dimension::Stress,
+            )?;
             let v = verdict::judge(
                 &verdict::Measured {
                     stress: s,
@@ -459,7 +486,12 @@ fn impact_cmd(a: ImpactArgs) -> Result<Output, CliError> {
             "sphere of {sphere_name} on {}: Hertz contact at the deepest point of the impact",
             target.name
         ));
-        out.figure("force_n", "peak contact force", r.contact.force, Unit::Newton);
+        out.figure(
+            "force_n",
+            "peak contact force",
+            r.contact.force,
+            Unit::Newton,
+        );
         out.figure(
             "stress_mpa",
             "tension at the contact rim",
@@ -660,13 +692,22 @@ fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
                 ))
             })?,
     };
-    let points = number_in("points", &a.points, 2.0, 2000.0, "a whole number from 2 to 2000")?;
+    let points = number_in(
+        "points",
+        &a.points,
+        2.0,
+        2000.0,
+        "a whole number from 2 to 2000",
+    )?;
     if points.fract() != 0.0 {
-        return Err(CliError::usage("--points: expected a whole number from 2 to 2000"));
+        return Err(CliError::usage(
+            "--points: expected a whole number from 2 to 2000",
+        ));
     }
     let mut out = Output::new(a.json, critical::CRITICAL_METHOD);
     out.object.insert("y".into(), json!(y));
-    out.lines.push(format!("geometry factor Y: {}", units::fmt_sig(y, 4)));
+    out.lines
+        .push(format!("geometry factor Y: {}", units::fmt_sig(y, 4)));
     out.figure(
         "toughness_mpa_sqrt_m",
         "toughness K_Ic",
@@ -697,8 +738,7 @@ fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
             return Err(CliError::usage("--stress or --flaw-size: one is needed"));
         }
     };
-    let curve =
-        critical::curve(stress, toughness, y, 10.0, points as usize).map_err(load_err)?;
+    let curve = critical::curve(stress, toughness, y, 10.0, points as usize).map_err(load_err)?;
     let pts: Vec<Value> = curve
         .points
         .iter()
@@ -706,7 +746,7 @@ fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
         .collect();
     out.object.insert("curve".into(), Value::Array(pts));
     out.lines.push("K(a) at this stress:".into());
-    for p in curve.points.iter().step_by(((curve.points.len() / 6).max(1)) as usize) {
+    for p in curve.points.iter().step_by((curve.points.len() / 6).max(1)) {
         out.lines.push(format!(
             "  a = {:>10}   K = {}{}",
             units::format(p.flaw_size, Unit::Micrometre),
@@ -716,4 +756,3 @@ fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
     }
     Ok(out.finish())
 }
-

@@ -71,5 +71,6 @@ pub fn curve(stress: f64, toughness: f64, y: f64, span: f64, n: usize) -> Result
     })
 }
 
-pub const CRITICAL_METHOD: &str = "linear-elastic fracture mechanics (Irwin): K = Y sigma sqrt(a); \
+pub const CRITICAL_METHOD: &str =
+    "linear-elastic fracture mechanics (Irwin): K = Y sigma sqrt(a); \
      critical size a_c = (K_Ic / (Y sigma))^2";

@@ -126,8 +126,7 @@ pub fn bend(plate: &Plate) -> Result<PlateResult, LoadError> {
                 None => {
                     return Err(LoadError::NotAvailable {
                         field: "span-b",
-                        reason: "a rectangular plate needs both sides (--span and --span-b)"
-                            .into(),
+                        reason: "a rectangular plate needs both sides (--span and --span-b)".into(),
                     })
                 }
             };
@@ -360,21 +359,14 @@ pub fn clamped_uniform_coefficients(ratio: f64) -> (f64, f64) {
 
 /// Navier series for a simply supported a×b plate (a ≤ b): centre moments Mx (along the short
 /// span), My, centre deflection and total force. Odd terms only (symmetric load).
-fn navier_centre(
-    a: f64,
-    b: f64,
-    nu: f64,
-    d: f64,
-    load: PlateLoad,
-    t: f64,
-) -> (f64, f64, f64, f64) {
+fn navier_centre(a: f64, b: f64, nu: f64, d: f64, load: PlateLoad, t: f64) -> (f64, f64, f64, f64) {
     let (n_terms, force, patch) = match load {
         PlateLoad::Pressure(q) => (99usize, q * a * b, None),
         PlateLoad::Patch { force, diameter } => {
             let r = equivalent_radius(diameter / 2.0, t);
             let side = r * PI.sqrt(); // square of the same area as the circle
-            // enough terms for the patch to be resolved: about 25 half-waves across it,
-            // capped so that one call stays within milliseconds
+                                      // enough terms for the patch to be resolved: about 25 half-waves across it,
+                                      // capped so that one call stays within milliseconds
             let n = ((25.0 * b / side).ceil() as usize).clamp(99, 1201);
             (n | 1, force, Some(side))
         }
