@@ -121,3 +121,95 @@ pub(crate) struct Field {
     pub modulus: &'static str,
     pub poisson: &'static str,
 }
+
+/// One hypothesis of any kind, for an interface that lets the analyst switch between them and
+/// recomputes on every keystroke: `evaluate` gives the common figures of all kinds.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Hypothesis {
+    Impulse(impact::Impulse),
+    Sphere(contact::SphereImpact),
+    Plate(plates::Plate),
+    Thermal(thermal::Thermal),
+}
+
+/// The figures every hypothesis can be shown with. `stress` is what the verdict compares with
+/// the measured stress (`None` for the impulse model, which gives a force only).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Outcome {
+    /// N
+    pub force: Option<f64>,
+    /// Pa
+    pub stress: Option<f64>,
+    /// m
+    pub deflection: Option<f64>,
+    pub warnings: Vec<Warning>,
+    pub method: &'static str,
+}
+
+pub fn evaluate(h: &Hypothesis) -> Result<Outcome, LoadError> {
+    Ok(match h {
+        Hypothesis::Impulse(i) => {
+            let r = impact::impulse(i)?;
+            Outcome {
+                force: Some(r.force),
+                stress: None,
+                deflection: None,
+                warnings: r.warnings,
+                method: impact::IMPULSE_METHOD,
+            }
+        }
+        Hypothesis::Sphere(s) => {
+            let r = contact::sphere_impact(s)?;
+            Outcome {
+                force: Some(r.contact.force),
+                stress: Some(r.contact.rim_tension),
+                deflection: None,
+                warnings: r.warnings,
+                method: contact::HERTZ_METHOD,
+            }
+        }
+        Hypothesis::Plate(p) => {
+            let r = plates::bend(p)?;
+            Outcome {
+                force: Some(r.force),
+                stress: Some(r.stress),
+                deflection: Some(r.deflection),
+                warnings: r.warnings,
+                method: r.method,
+            }
+        }
+        Hypothesis::Thermal(t) => {
+            let r = thermal::edge_stress(t)?;
+            Outcome {
+                force: None,
+                stress: Some(r.stress),
+                deflection: None,
+                warnings: r.warnings,
+                method: thermal::THERMAL_METHOD,
+            }
+        }
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn evaluate_passes_the_figures_through() {
+        let t = thermal::Thermal {
+            youngs_modulus: 70e9,
+            expansion: 9e-6,
+            delta_t: 10.0,
+            restraint: 1.0,
+        };
+        let o = evaluate(&Hypothesis::Thermal(t)).unwrap();
+        assert!((o.stress.unwrap() - 6.3e6).abs() < 1.0);
+        let bad = evaluate(&Hypothesis::Thermal(thermal::Thermal {
+            delta_t: 0.0,
+            ..t
+        }))
+        .unwrap_err();
+        assert_eq!(bad.field(), "delta-t");
+    }
+}
