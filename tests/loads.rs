@@ -783,6 +783,46 @@ fn critical_curve_crosses_toughness_at_the_critical_size() {
     close(c.points[40].k / mid.k, 10f64.sqrt(), 1e-9, "√a");
 }
 
+#[test]
+fn critical_flaw_curve_with_the_core_geometry_factors() {
+    use shardlog::fracture::flaw::{geometry_factor, FlawGeometry};
+    // Y values of reference-values.md (sources there): through √π = 1.772, edge 1.988
+    // (Tada, Paris & Irwin), penny 2/√π = 1.128 (Sneddon), semicircular Newman–Raju deepest
+    // point 1.174 / surface 1.292 (governing: the larger), semi-elliptical a/c 0.8 deepest 1.322.
+    // At 60 MPa with K_Ic 0.75 MPa·√m, a_c = (0.75 / (Y · 60))² (computed).
+    let cases = [
+        (FlawGeometry::ThroughCrack, 1.772),
+        (FlawGeometry::EdgeCrack, 1.988),
+        (FlawGeometry::EmbeddedPenny, 1.128),
+        (FlawGeometry::Semicircular { a_over_t: 0.0 }, 1.292),
+        (
+            FlawGeometry::SemiElliptical {
+                a_over_c: 0.8,
+                a_over_t: 0.0,
+            },
+            1.322,
+        ),
+    ];
+    for (g, y_ref) in cases {
+        let y = geometry_factor(&g);
+        close(y, y_ref, 0.002, &format!("Y of {}", g.label()));
+        let c = critical::curve(60e6, 0.75e6, y, 10.0, 21).unwrap();
+        let want = (0.75 / (y_ref * 60.0)).powi(2);
+        close(
+            c.critical_size,
+            want,
+            0.004,
+            &format!("a_c of {}", g.label()),
+        );
+        close(c.points[10].k, 0.75e6, 1e-9, "K(a_c) = K_Ic");
+    }
+    // reference-values.md: a crack of the order of 1 mm is critical at about 60 MPa in a
+    // ceramic of K_Ic about 2 MPa·√m (common practice; depends on Y): penny 873 µm, edge 281 µm.
+    let penny = critical::critical_size(60e6, 2.0e6, geometry_factor(&FlawGeometry::EmbeddedPenny))
+        .unwrap();
+    assert!(penny > 0.5e-3 && penny < 1.5e-3, "{penny}");
+}
+
 // ---------------------------------------------------------------- verdict
 
 #[test]
@@ -982,6 +1022,42 @@ fn bad_input_gives_a_clear_error_and_exit_code() {
             "",
         ),
         (
+            owned(&[
+                "load",
+                "critical-flaw",
+                "--stress",
+                "60MPa",
+                "--flaw",
+                "banana",
+            ]),
+            2,
+            "--flaw",
+        ),
+        (
+            owned(&[
+                "load",
+                "critical-flaw",
+                "--stress",
+                "60MPa",
+                "--flaw",
+                "semi-elliptical",
+            ]),
+            2,
+            "--aspect",
+        ),
+        (
+            owned(&[
+                "load",
+                "thermal",
+                "--material",
+                "glass-ceramic",
+                "--delta-t",
+                "30K",
+            ]),
+            1,
+            "about zero",
+        ),
+        (
             impact(&["--contact-time", "40ms", "--measured", "20MPa"]),
             2,
             "gives a force, not a stress",
@@ -1091,6 +1167,61 @@ fn json_objects_carry_the_documented_keys() {
         "--json",
     ]);
     close(c["critical_flaw_um"].as_f64().unwrap(), 281.1, 0.001, "a_c");
+    // the same through the core's flaw library: --flaw edge gives Y = 1.988
+    let f = json_of(&[
+        "load",
+        "critical-flaw",
+        "--stress",
+        "60MPa",
+        "--toughness",
+        "2.0MPa√m",
+        "--flaw",
+        "edge",
+        "--json",
+    ]);
+    close(f["y"].as_f64().unwrap(), 1.988, 0.001, "Y edge");
+    close(
+        f["critical_flaw_um"].as_f64().unwrap(),
+        281.1,
+        0.001,
+        "a_c edge",
+    );
+    // the inverse with the library's K_Ic for soda-lime (0.75 MPa·√m) and an embedded penny:
+    // σ_f = 0.75 / (1.128 · √100e-6) = 66.5 MPa (computed)
+    let inv = json_of(&[
+        "load",
+        "critical-flaw",
+        "--flaw-size",
+        "100um",
+        "--flaw",
+        "penny",
+        "--json",
+    ]);
+    close(
+        inv["stress_mpa"].as_f64().unwrap(),
+        66.5,
+        0.002,
+        "failure stress",
+    );
+    // Hertz through the binary: steel sphere from the impactor table on library soda-lime
+    let h = json_of(&[
+        "load",
+        "impact",
+        "--sphere-diameter",
+        "25mm",
+        "--sphere-material",
+        "steel",
+        "--speed",
+        "1m/s",
+        "--target",
+        "soda-lime",
+        "--thickness",
+        "19mm",
+        "--json",
+    ]);
+    assert!(h["force_n"].as_f64().unwrap() > 0.0);
+    assert!(h["stress_mpa"].as_f64().unwrap() > 0.0);
+    assert!(h["method"].as_str().unwrap().contains("Hertz"));
     assert_eq!(c["curve"].as_array().unwrap().len(), 25);
 
     // the verdict rides along when a measured stress is given

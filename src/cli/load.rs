@@ -9,6 +9,8 @@ use clap::{Args, Subcommand, ValueEnum};
 use serde_json::{json, Map, Value};
 
 use super::{CliError, Context};
+use crate::fracture::flaw::{self, FlawGeometry};
+use crate::fracture::materials;
 use crate::loads::{
     contact, critical, impact, plates, thermal, verdict, Elastic, LoadError, Warning,
 };
@@ -182,7 +184,8 @@ pub struct CriticalArgs {
     /// Material for the toughness when --toughness is not given.
     #[arg(long, allow_hyphen_values = true, default_value = "soda-lime")]
     pub material: String,
-    /// Flaw geometry (see `fracture::flaw`), e.g. edge, penny, through, semicircular.
+    /// Flaw geometry: semicircular, semi-elliptical, penny, edge, corner, through,
+    /// semicircular-hand (1.12 x penny).
     #[arg(
         long,
         allow_hyphen_values = true,
@@ -190,6 +193,12 @@ pub struct CriticalArgs {
         conflicts_with = "y"
     )]
     pub flaw: Option<String>,
+    /// Flaw aspect ratio a/c (depth over half length) for semi-elliptical and corner flaws.
+    #[arg(long, allow_hyphen_values = true)]
+    pub aspect: Option<String>,
+    /// Flaw depth over part thickness a/t (default 0, a thick part).
+    #[arg(long, allow_hyphen_values = true, default_value = "0")]
+    pub depth_ratio: String,
     /// Geometry factor Y given directly (K = Y sigma sqrt(a), sqrt(pi) included).
     #[arg(long, allow_hyphen_values = true)]
     pub y: Option<String>,
@@ -282,7 +291,7 @@ fn number_in(flag: &str, text: &str, lo: f64, hi: f64, expected: &str) -> Result
 /// A calculation refused its input: name the flag.
 fn load_err(e: LoadError) -> CliError {
     match e {
-        LoadError::OutOfRange { field, .. } => CliError::usage(format!("--{field}: {e}")),
+        LoadError::OutOfRange { .. } => CliError::usage(format!("--{e}")),
         LoadError::NotAvailable { field, reason } => CliError::work(format!("--{field}: {reason}")),
     }
 }
@@ -295,31 +304,89 @@ struct GlassProps {
     elastic: Elastic,
     expansion: Option<f64>,
     toughness: Option<f64>,
+    density: Option<f64>,
 }
 
+/// A material of the core library (`fracture::materials`), with the constants the load models
+/// use. A missing elastic constant is a failure of the work (the library lacks it).
 fn library_material(flag: &str, key: &str) -> Result<GlassProps, CliError> {
-    material_adapter(key)
-        .ok_or_else(|| CliError::usage(format!("--{flag}: no material '{key}' in the library")))
-}
-
-/// Until the core's material library is merged: soda-lime only (EN 572-1 values).
-fn material_adapter(key: &str) -> Option<GlassProps> {
-    (key.trim().eq_ignore_ascii_case("soda-lime")).then(|| GlassProps {
-        name: "soda-lime-silica glass".into(),
+    let Some(m) = materials::find(key) else {
+        return Err(CliError::usage(format!(
+            "--{flag}: no material '{}' in the library; expected one of {}",
+            super::sanitize_for_terminal(key, false),
+            materials::keys().join(", ")
+        )));
+    };
+    let need = |c: &Option<materials::Constant>, what: &str| {
+        c.as_ref().map(|c| c.value).ok_or_else(|| {
+            CliError::work(format!(
+                "--{flag}: the library has no {what} for '{}'",
+                m.key
+            ))
+        })
+    };
+    Ok(GlassProps {
         elastic: Elastic {
-            youngs_modulus: 70e9,
-            poisson: 0.2,
+            youngs_modulus: need(&m.youngs_modulus, "Young's modulus")?,
+            poisson: need(&m.poisson, "Poisson's ratio")?,
         },
-        expansion: Some(9e-6),
-        toughness: Some(0.75e6),
+        expansion: m.expansion.as_ref().map(|c| c.value),
+        toughness: m.k_ic.as_ref().map(|c| c.value),
+        density: m.density.as_ref().map(|c| c.value),
+        name: m.name.clone(),
     })
 }
 
-/// Geometry factor Y for a named flaw: from the core's flaw module once merged.
-fn geometry_y(name: &str) -> Result<f64, CliError> {
-    Err(CliError::work(format!(
-        "--flaw: the flaw geometry library is not merged yet ('{name}'); give --y"
-    )))
+/// A flaw geometry by the names `shardlog mirror --flaw` uses; Y itself comes from
+/// `fracture::flaw::geometry_factor`.
+fn flaw_geometry(
+    name: &str,
+    aspect: Option<f64>,
+    depth_ratio: f64,
+) -> Result<FlawGeometry, CliError> {
+    let k = name.trim().to_ascii_lowercase().replace(['_', ' '], "-");
+    let g = match k.as_str() {
+        "semicircular" | "semi-circular" => FlawGeometry::Semicircular {
+            a_over_t: depth_ratio,
+        },
+        "semi-elliptical" | "semielliptical" => FlawGeometry::SemiElliptical {
+            a_over_c: aspect.ok_or_else(|| {
+                CliError::usage(
+                    "--aspect: missing for --flaw semi-elliptical; expected a/c such as \
+                     --aspect 0.8",
+                )
+            })?,
+            a_over_t: depth_ratio,
+        },
+        "corner" => FlawGeometry::CornerCrack {
+            a_over_c: aspect.unwrap_or(1.0),
+            a_over_t: depth_ratio,
+        },
+        "penny" | "embedded-penny" | "embedded" => FlawGeometry::EmbeddedPenny,
+        "edge" => FlawGeometry::EdgeCrack,
+        "through" => FlawGeometry::ThroughCrack,
+        "semicircular-hand" => FlawGeometry::SemicircularIrwin,
+        _ => {
+            return Err(CliError::usage(format!(
+                "--flaw: '{}' is not a flaw geometry; expected semicircular, semi-elliptical, \
+                 penny, edge, corner, through or semicircular-hand",
+                super::sanitize_for_terminal(name, false)
+            )))
+        }
+    };
+    if aspect.is_some()
+        && !matches!(
+            g,
+            FlawGeometry::SemiElliptical { .. } | FlawGeometry::CornerCrack { .. }
+        )
+    {
+        return Err(CliError::usage(format!(
+            "--aspect: given with --flaw {k}; expected --flaw semi-elliptical or corner"
+        )));
+    }
+    g.validate()
+        .map_err(|e| CliError::usage(format!("--flaw: {e}")))?;
+    Ok(g)
 }
 
 // ---- verdict ----
@@ -461,13 +528,12 @@ fn impact_cmd(a: ImpactArgs) -> Result<Output, CliError> {
                             .join(", ")
                     ))
                 })?;
-                if mass.is_none() {
-                    return Err(CliError::usage(
-                        "--mass: needed when the sphere is a library material (its density is \
-                         not in the library)",
-                    ));
+                if mass.is_none() && g.density.is_none() {
+                    return Err(CliError::usage(format!(
+                        "--mass: needed (the library has no density for '{sm}')"
+                    )));
                 }
-                (g.elastic, 0.0, g.name)
+                (g.elastic, g.density.unwrap_or(0.0), g.name)
             }
         };
         let target = library_material("target", &a.target)?;
@@ -635,11 +701,21 @@ fn thermal_cmd(a: ThermalArgs) -> Result<Output, CliError> {
         "a restraint factor above 0 and at most 2 (1 = fully restrained edge strip)",
     )?;
     let mat = library_material("material", &a.material)?;
-    let Some(alpha) = mat.expansion else {
-        return Err(CliError::work(format!(
-            "--material: the library has no expansion coefficient for '{}'",
-            a.material
-        )));
+    let alpha = match mat.expansion {
+        Some(x) if x > 0.0 => x,
+        Some(_) => {
+            return Err(CliError::work(format!(
+                "--material: {} has an expansion coefficient of about zero in the library: a \
+                 temperature difference gives it no thermal stress to speak of",
+                mat.name
+            )))
+        }
+        None => {
+            return Err(CliError::work(format!(
+                "--material: the library has no expansion coefficient for '{}'",
+                a.material
+            )))
+        }
     };
     let r = thermal::edge_stress(&thermal::Thermal {
         youngs_modulus: mat.elastic.youngs_modulus,
@@ -676,9 +752,33 @@ fn thermal_cmd(a: ThermalArgs) -> Result<Output, CliError> {
 }
 
 fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
-    let y = match (&a.y, &a.flaw) {
-        (Some(t), _) => number_in("y", t, 0.1, 10.0, "a geometry factor from 0.1 to 10")?,
-        (None, Some(name)) => geometry_y(name)?,
+    let (y, geometry) = match (&a.y, &a.flaw) {
+        (Some(t), _) => (
+            number_in("y", t, 0.1, 10.0, "a geometry factor from 0.1 to 10")?,
+            None,
+        ),
+        (None, Some(name)) => {
+            let aspect = match &a.aspect {
+                Some(t) => Some(number_in(
+                    "aspect",
+                    t,
+                    f64::MIN_POSITIVE,
+                    2.0,
+                    "a/c greater than 0 and at most 2, such as 0.8",
+                )?),
+                None => None,
+            };
+            let at = number_in(
+                "depth-ratio",
+                &a.depth_ratio,
+                0.0,
+                0.999_999,
+                "a/t from 0 up to 1, such as 0.1",
+            )?;
+            let g = flaw_geometry(name, aspect, at)?;
+            let detail = flaw::geometry_factor_detail(&g);
+            (detail.y, Some((g, detail)))
+        }
         (None, None) => return Err(CliError::usage("--flaw or --y: a flaw geometry is needed")),
     };
     let toughness = match &a.toughness {
@@ -706,8 +806,29 @@ fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
     }
     let mut out = Output::new(a.json, critical::CRITICAL_METHOD);
     out.object.insert("y".into(), json!(y));
-    out.lines
-        .push(format!("geometry factor Y: {}", units::fmt_sig(y, 4)));
+    match &geometry {
+        Some((g, d)) => {
+            out.object.insert("flaw".into(), json!(g.label()));
+            out.object.insert("y_source".into(), json!(d.source));
+            let point = if d.governing_point.is_empty() {
+                String::new()
+            } else {
+                format!(", {}", d.governing_point)
+            };
+            out.object
+                .insert("governing_point".into(), json!(d.governing_point));
+            out.lines.push(format!(
+                "geometry factor Y: {} ({}{point}; {})",
+                units::fmt_sig(y, 4),
+                g.label(),
+                d.source
+            ));
+        }
+        None => out.lines.push(format!(
+            "geometry factor Y: {} (given)",
+            units::fmt_sig(y, 4)
+        )),
+    }
     out.figure(
         "toughness_mpa_sqrt_m",
         "toughness K_Ic",

@@ -23,7 +23,7 @@ pub mod verdict;
 /// (the CLI flag without dashes), the value is in SI units.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum LoadError {
-    #[error("{field}: {value} is out of range; expected {expected}")]
+    #[error("{field}: out of range; expected {expected}")]
     OutOfRange {
         field: &'static str,
         value: f64,
@@ -205,11 +205,8 @@ mod tests {
         };
         let o = evaluate(&Hypothesis::Thermal(t)).unwrap();
         assert!((o.stress.unwrap() - 6.3e6).abs() < 1.0);
-        let bad = evaluate(&Hypothesis::Thermal(thermal::Thermal {
-            delta_t: 0.0,
-            ..t
-        }))
-        .unwrap_err();
+        let bad =
+            evaluate(&Hypothesis::Thermal(thermal::Thermal { delta_t: 0.0, ..t })).unwrap_err();
         assert_eq!(bad.field(), "delta-t");
     }
 }
