@@ -114,6 +114,7 @@ pub enum EdgesArg {
 
 #[derive(Debug, Args)]
 pub struct PlateArgs {
+    /// Plate outline.
     #[arg(long, value_enum)]
     pub shape: ShapeArg,
     /// Diameter of a circular plate, or one side of a rectangular one, e.g. 600mm.
@@ -125,6 +126,7 @@ pub struct PlateArgs {
     /// Plate thickness, e.g. 5mm.
     #[arg(long, allow_hyphen_values = true)]
     pub thickness: String,
+    /// Edge support: simply supported (free to rotate) or clamped (held flat).
     #[arg(long, value_enum)]
     pub edges: EdgesArg,
     /// Uniform pressure over the plate, e.g. 2kPa.
@@ -141,6 +143,7 @@ pub struct PlateArgs {
     pub material: String,
     #[command(flatten)]
     pub verdict: VerdictArgs,
+    /// Print one JSON object.
     #[arg(long)]
     pub json: bool,
 }
@@ -161,6 +164,7 @@ pub struct ThermalArgs {
     pub edge_strength: Option<String>,
     #[command(flatten)]
     pub verdict: VerdictArgs,
+    /// Print one JSON object.
     #[arg(long)]
     pub json: bool,
 }
@@ -205,6 +209,7 @@ pub struct CriticalArgs {
     /// Number of points of the K(a) curve in --json output.
     #[arg(long, allow_hyphen_values = true, default_value = "25")]
     pub points: String,
+    /// Print one JSON object.
     #[arg(long)]
     pub json: bool,
 }
