@@ -14,8 +14,9 @@
 //!   the aspect ratio. A clamped plate's deflection and edge moment do not depend on Poisson's
 //!   ratio, so the table holds for glass too.
 //!
-//! Small-deflection theory assumes the deflection is small against the thickness. Once it passes
-//! about half the thickness, membrane action stiffens a glass pane and this theory over-predicts
+//! Small-deflection theory assumes the deflection is small against the thickness (Roark, 8th ed.,
+//! §11.1, states the limit: "the maximum deflection is not more than about one-half the
+//! thickness"). Once it passes about half the thickness, membrane action stiffens a glass pane and this theory over-predicts
 //! the stress (and the deflection): such results are flagged with `large-deflection`.
 
 use super::{positive, within, Elastic, Field, LoadError, Warning};
@@ -271,11 +272,11 @@ fn rectangular(
                 method: match load {
                     PlateLoad::Pressure(_) => {
                         "rectangular plate, simply supported, uniform pressure: Navier series \
-                         (Timoshenko & Woinowsky-Krieger 30, Table 8; Roark Table 11.4)"
+                         (Timoshenko & Woinowsky-Krieger 30, Table 8; Roark Table 11.4 case 1a)"
                     }
                     PlateLoad::Patch { .. } => {
                         "rectangular plate, simply supported, central patch: Navier series \
-                         (Timoshenko & Woinowsky-Krieger 30, Table 23; Roark Table 11.4), \
+                         (Timoshenko & Woinowsky-Krieger 30; Roark Table 11.4 case 1b), \
                          equivalent radius for small patches"
                     }
                 },
