@@ -12,7 +12,9 @@
 //! - rectangular plates, clamped, uniform pressure: the coefficients of Timoshenko &
 //!   Woinowsky-Krieger Table 35 (the same as Roark Table 11.4 case 8a), interpolated linearly in
 //!   the aspect ratio. A clamped plate's deflection and edge moment do not depend on Poisson's
-//!   ratio, so the table holds for glass too.
+//!   ratio, so the table holds for glass too;
+//! - rectangular plates, clamped, small central patch: Roark Table 11.4 (all edges fixed, load
+//!   over a small concentric circle), tabulated for ν = 0.3, interpolated by aspect ratio.
 //!
 //! Small-deflection theory assumes the deflection is small against the thickness (Roark, 8th ed.,
 //! §11.1, states the limit: "the maximum deflection is not more than about one-half the
@@ -306,14 +308,82 @@ fn rectangular(
                 },
             })
         }
-        (Edges::Clamped, PlateLoad::Patch { .. }) => Err(LoadError::NotAvailable {
-            field: "edges",
-            reason: "a clamped rectangular plate under a patch load is not built (no coefficient \
-                     table in hand); use simply-supported (an upper bound on the centre stress) \
-                     or a circular plate of the same short span"
-                .into(),
-        }),
+        (Edges::Clamped, PlateLoad::Patch { force, diameter }) => {
+            // Roark Table 11.4, rectangular plate with all edges fixed, load W uniform over a
+            // small central circle: centre σ = 3W/2πt² [(1+ν) ln(2b/πr′) + β₁], middle of the
+            // long edge σ = β₂ W/t², y = α W b²/(E t³), b the short side.
+            let ratio = b / a;
+            let (beta1, beta2, alpha) = clamped_patch_coefficients(ratio);
+            let rp = equivalent_radius(diameter / 2.0, t);
+            let centre = 3.0 * force / (2.0 * PI * t * t)
+                * ((1.0 + nu) * (2.0 * a / (PI * rp)).ln() + beta1);
+            let edge = beta2 * force / (t * t);
+            let (stress, at) = if centre >= edge {
+                (centre, "centre")
+            } else {
+                (edge, "middle of the long edges")
+            };
+            let mut warnings = Vec::new();
+            if (nu - 0.3).abs() > 0.02 {
+                warnings.push(Warning::new(
+                    "table-poisson",
+                    "the clamped patch coefficients are tabulated for Poisson's ratio 0.3; the \
+                     (1+ν) term is taken with this material's value, the small remainder is not",
+                ));
+            }
+            if 2.0 * rp > 0.25 * a {
+                warnings.push(Warning::new(
+                    "patch-not-small",
+                    "the patch is wider than a quarter of the short side: the small-patch \
+                     coefficients are stretched beyond their use",
+                ));
+            }
+            Ok(PlateResult {
+                stress,
+                stress_at: at,
+                deflection: alpha * force * a * a / (mat.youngs_modulus * t.powi(3)),
+                force,
+                method: "rectangular plate, clamped, central patch: Roark Table 11.4 (all edges \
+                         fixed, uniform load over a small concentric circle), coefficients \
+                         interpolated by aspect ratio, equivalent radius for small patches",
+                warnings,
+            })
+        }
     }
+}
+
+/// Roark Table 11.4, all edges fixed, uniform load over a small concentric circle (ν = 0.3):
+/// long side / short side, β₁ (centre), β₂ (middle of the long edge), α (deflection).
+/// Quoted from the 7th edition as reproduced on a public engineering-reference page; the ∞ row's
+/// β₁ reads 0.067 there truncated to "0.06", taken as 0.067 (the 1.8 and 2.0 rows).
+const CLAMPED_PATCH: &[(f64, f64, f64, f64)] = &[
+    (1.0, -0.2387, 0.7542, 0.0611),
+    (1.2, -0.078, 0.8940, 0.0706),
+    (1.4, 0.011, 0.9624, 0.0754),
+    (1.6, 0.053, 0.9906, 0.0777),
+    (1.8, 0.068, 1.0000, 0.0786),
+    (2.0, 0.067, 1.0040, 0.0788),
+];
+const CLAMPED_PATCH_INF: (f64, f64, f64) = (0.067, 1.008, 0.0791);
+
+/// (β₁, β₂, α) for a clamped plate under a small central patch, ratio = long / short ≥ 1.
+pub fn clamped_patch_coefficients(ratio: f64) -> (f64, f64, f64) {
+    let tab = CLAMPED_PATCH;
+    if ratio <= tab[0].0 {
+        return (tab[0].1, tab[0].2, tab[0].3);
+    }
+    for w in tab.windows(2) {
+        let (r0, p0, q0, s0) = w[0];
+        let (r1, p1, q1, s1) = w[1];
+        if ratio <= r1 {
+            let f = (ratio - r0) / (r1 - r0);
+            return (p0 + f * (p1 - p0), q0 + f * (q1 - q0), s0 + f * (s1 - s0));
+        }
+    }
+    let (r2, p2, q2, s2) = tab[tab.len() - 1];
+    let f = 1.0 - r2 / ratio;
+    let (pi, qi, si) = CLAMPED_PATCH_INF;
+    (p2 + f * (pi - p2), q2 + f * (qi - q2), s2 + f * (si - s2))
 }
 
 /// Timoshenko & Woinowsky-Krieger Table 35 (ν-independent): b/a, α with w_max = α q a⁴ / D,
