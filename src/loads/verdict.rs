@@ -85,10 +85,17 @@ pub fn judge(
     let s = positive("measured-stress", measured.stress)?;
     let lo = positive("measured-low", measured.low)?;
     let hi = positive("measured-high", measured.high)?;
-    if lo > s || s > hi {
+    if lo > s {
         return Err(LoadError::OutOfRange {
             field: "measured-low",
             value: lo,
+            expected: "an interval low ≤ stress ≤ high",
+        });
+    }
+    if s > hi {
+        return Err(LoadError::OutOfRange {
+            field: "measured-high",
+            value: hi,
             expected: "an interval low ≤ stress ≤ high",
         });
     }
