@@ -221,12 +221,30 @@ pub struct Analysis {
     pub warnings: Vec<String>,
 }
 
+/// Upper limits far beyond any real part, so nothing downstream overflows: 10 m for lengths,
+/// 1000 MPa·√m for constants and toughness, 10 GPa for stresses.
+fn upper_limit(unit: Unit) -> f64 {
+    match unit.dimension() {
+        crate::units::Dimension::Length => 10.0,
+        crate::units::Dimension::Toughness => 1e9,
+        _ => 1e10,
+    }
+}
+
 fn check_positive(field: &str, what: &str, v: f64, unit: Unit) -> Result<(), FractureError> {
     if !v.is_finite() || v <= 0.0 {
         return Err(FractureError::invalid(
             field,
             format!("{what} must be a finite number greater than zero, got {v}"),
             format!("a value in {} or another {} unit", unit, unit.dimension()),
+        ));
+    }
+    let max = upper_limit(unit);
+    if v > max {
+        return Err(FractureError::invalid(
+            field,
+            format!("{what} of {} is out of range", format(v, unit)),
+            format!("at most {}", format(max, unit)),
         ));
     }
     Ok(())
@@ -301,7 +319,7 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         check_constant("toughness", "the toughness", k, Unit::MegapascalRootMetre)?;
     }
     if let Some(cs) = input.surface_compression_pa {
-        if !cs.is_finite() || cs < 0.0 {
+        if !cs.is_finite() || cs < 0.0 || cs > upper_limit(Unit::Megapascal) {
             return Err(FractureError::invalid(
                 "surface-compression",
                 format!("surface compression {cs} Pa"),
@@ -483,7 +501,7 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
             mpa(at_origin)
         ),
         Origin::Surface if cs > 0.0 => {
-            format!("{basis}; surface origin: residual {}", mpa(at_origin))
+            format!("{basis}; surface origin, in the compressive layer")
         }
         _ => basis,
     };
