@@ -121,6 +121,12 @@ fn cases() -> Vec<Case> {
             false,
         ),
         (
+            with(&["--radius", "20m"]),
+            2,
+            "--radius: a mirror-mist radius of 20000 mm is out of range",
+            false,
+        ),
+        (
             with(&["--radius", "1mm", "--toughness", "-0.75MPa√m"]),
             2,
             "--toughness",
