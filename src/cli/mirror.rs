@@ -511,6 +511,11 @@ pub fn to_json(a: &Analysis) -> serde_json::Value {
     })
 }
 
+/// Text that may come from a user-defined material: no terminal control sequences.
+fn clean(s: &str) -> String {
+    super::sanitize_for_terminal(s, false)
+}
+
 fn pad(s: &str, w: usize) -> String {
     let n = s.chars().count();
     if n >= w {
@@ -550,7 +555,8 @@ pub fn render_plain(a: &Analysis) -> String {
     let s = Unit::Megapascal;
     o.push_str(&format!(
         "Fracture mirror analysis: {} ({})\n\n",
-        a.material_name, a.material_key
+        clean(&a.material_name),
+        clean(&a.material_key)
     ));
     o.push_str(&format!(
         "{}{}{}{}{}{}{}\n",
@@ -725,7 +731,7 @@ pub fn render_plain(a: &Analysis) -> String {
             "  {}{}\n      {}\n",
             pad(&c.symbol, 6),
             spread_text(c, t),
-            c.provenance
+            clean(&c.provenance.to_string())
         ));
     };
     for b in &a.boundaries {
@@ -745,7 +751,7 @@ pub fn render_plain(a: &Analysis) -> String {
     if !a.warnings.is_empty() {
         o.push_str("\nwarnings\n");
         for w in &a.warnings {
-            o.push_str(&format!("  - {w}\n"));
+            o.push_str(&format!("  - {}\n", clean(w)));
         }
     }
     o.push_str(&format!("\n{}\n", fracture::CAUTION));
@@ -809,6 +815,20 @@ mod tests {
         .unwrap_err();
         assert_eq!(e.exit_code(), 2);
         assert!(e.message().starts_with("--radius"), "{e}");
+    }
+
+    #[test]
+    fn user_material_text_is_sanitized() {
+        let mut m = materials::find("soda-lime").unwrap();
+        m.name = "lab glass \u{1b}[2J\u{1b}]0;title\u{7}".into();
+        let a =
+            analyze(&AnalysisInput::new(m).with_readings(Boundary::MirrorMist, &[1e-3])).unwrap();
+        let text = render_plain(&a);
+        assert!(
+            !text.contains('\u{1b}') && !text.contains('\u{7}'),
+            "{text:?}"
+        );
+        assert!(text.contains("lab glass"));
     }
 
     #[test]

@@ -658,6 +658,17 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
                         .to_string(),
                 );
             }
+            if let FlawGeometry::SemiElliptical { a_over_c, .. }
+            | FlawGeometry::CornerCrack { a_over_c, .. } = geometry
+            {
+                if a_over_c < 0.2 {
+                    warnings.push(format!(
+                        "Flaw aspect ratio a/c = {} is below 0.2, outside the range the \
+                         Newman–Raju equations were fitted over.",
+                        fmt_sig(a_over_c, 2)
+                    ));
+                }
+            }
             let solved = flaw::solve_flaw(geometry, k.value, net, input.thickness_m);
             if solved.beyond_range {
                 warnings.push(format!(
@@ -805,6 +816,27 @@ mod tests {
         i.origin = Origin::Interior;
         let b = analyze(&i).unwrap();
         assert!((b.applied_stress_pa - (b.stress_pa - 47.5e6)).abs() < 1.0);
+    }
+
+    #[test]
+    fn slender_flaw_warns() {
+        let mut i = AnalysisInput::new(soda()).with_readings(Boundary::MirrorMist, &[1e-3]);
+        i.flaw = Some(FlawGeometry::SemiElliptical {
+            a_over_c: 0.1,
+            a_over_t: 0.0,
+        });
+        let a = analyze(&i).unwrap();
+        assert!(
+            a.warnings.iter().any(|w| w.contains("below 0.2")),
+            "{:?}",
+            a.warnings
+        );
+        i.flaw = Some(FlawGeometry::SemiElliptical {
+            a_over_c: 0.5,
+            a_over_t: 0.0,
+        });
+        let a = analyze(&i).unwrap();
+        assert!(!a.warnings.iter().any(|w| w.contains("below 0.2")));
     }
 
     #[test]
