@@ -441,7 +441,11 @@ fn mpa(pa: f64) -> Option<f64> {
 /// The JSON object of `mirror --json`: headline figures in the units their names say, then
 /// every boundary, then the whole analysis in SI under `analysis`.
 pub fn to_json(a: &Analysis) -> serde_json::Value {
-    let head = &a.boundaries[0];
+    let head = a
+        .boundaries
+        .iter()
+        .find(|b| b.boundary == a.headline)
+        .or(a.boundaries.first());
     let readings: Vec<_> = a
         .boundaries
         .iter()
@@ -489,7 +493,7 @@ pub fn to_json(a: &Analysis) -> serde_json::Value {
         "flaw_size_low_um": flaw.map(|f| f.size_low_m * 1e6),
         "flaw_size_high_um": flaw.map(|f| f.size_high_m * 1e6),
         "flaw_geometry": flaw.map(|f| f.geometry_label.clone()),
-        "constant_mpa_sqrt_m": head.constant.value / 1e6,
+        "constant_mpa_sqrt_m": head.map(|h| h.constant.value / 1e6),
         "toughness_mpa_sqrt_m": flaw.map(|f| f.toughness.value / 1e6),
         "geometry_factor": flaw.map(|f| f.factor.y),
         "geometry_factor_source": flaw.map(|f| f.factor.source.clone()),
@@ -746,7 +750,11 @@ pub fn render_plain(a: &Analysis) -> String {
     o.push_str(&format!(
         "\n95 % interval: {}; the constant's spread at 1.96 s.d.; the two combined in quadrature \
          on relative terms, (Δσ/σ)² = (ΔA/A)² + (ΔR/2R)².\n",
-        a.boundaries[0].stats.method
+        a.boundaries
+            .iter()
+            .find(|b| b.boundary == a.headline)
+            .map(|b| b.stats.method.as_str())
+            .unwrap_or("")
     ));
     if !a.warnings.is_empty() {
         o.push_str("\nwarnings\n");
