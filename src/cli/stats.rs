@@ -186,10 +186,9 @@ pub fn compute(
             .map(|f| f.found)
             .filter(|d| window.contains(*d))
             .collect();
-        let ex: &[Exposure] = if q.rates { exposures } else { &[] };
         (
-            Some(trend(&dates, ex, &window).map_err(|e| e.to_string())),
-            Some(seasonality(&dates, ex, &window)),
+            Some(trend(&dates, exposures, &window).map_err(|e| e.to_string())),
+            Some(seasonality(&dates, exposures, &window)),
         )
     } else {
         (None, None)
@@ -586,8 +585,8 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
             } else {
                 ": no significant pattern"
             },
-            if peaks.is_empty() {
-                "—".to_string()
+            if peaks.is_empty() || peaks.len() > 3 {
+                "none".to_string()
             } else {
                 peaks.join(", ")
             }
@@ -691,12 +690,87 @@ pub fn render(
     }
 }
 
+/// The incidents and exposure rows the statistics need, from the store.
+pub fn load(
+    store: &crate::store::Store,
+    q: &StatsQuery,
+) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
+    let filter = crate::store::Filter {
+        since: q.since,
+        until: q.until,
+        ..Default::default()
+    };
+    let rows = store
+        .fleet_rows(&filter)
+        .map_err(|e| CliError::work(e.to_string()))?;
+    let incidents = rows
+        .into_iter()
+        .map(|r| IncidentFacts {
+            stress_pa: match q.stress {
+                StressKind::Applied => r.applied_stress_pa,
+                StressKind::Net => r.net_stress_pa,
+            },
+            cause: r.cause,
+            origin_type: r.origin_type,
+            supplier: r.supplier,
+            product: r.product,
+            lot: r.lot,
+            site: r.site,
+            asset_type: r.asset_type,
+            temper: r.temper,
+            found: r.found_on,
+        })
+        .collect();
+    let exposures = store
+        .exposure()
+        .map_err(|e| CliError::work(e.to_string()))?
+        .into_iter()
+        .map(|e| Exposure {
+            supplier: Some(e.supplier),
+            product: e.product,
+            lot: e.lot,
+            site: e.site,
+            panes: e.panes as f64,
+            from: e.installed_on,
+            until: e.removed_on,
+        })
+        .collect();
+    Ok((incidents, exposures))
+}
+
+/// Accept an origin-type code or its label ("inclusion_nis" or "inclusion: nickel sulfide
+/// stone"); anything else is a usage error listing the codes.
+fn origin_code(store: &crate::store::Store, given: &str) -> Result<String, CliError> {
+    let list = store
+        .lookups(crate::store::LookupKind::OriginType)
+        .map_err(|e| CliError::work(e.to_string()))?;
+    let g = given.trim();
+    if let Some(e) = list
+        .iter()
+        .find(|e| e.code.eq_ignore_ascii_case(g) || e.label.eq_ignore_ascii_case(g))
+    {
+        return Ok(e.code.clone());
+    }
+    let codes: Vec<&str> = list.iter().map(|e| e.code.as_str()).collect();
+    Err(CliError::usage(format!(
+        "--origin-type: '{g}' is not an origin type; expected one of {}",
+        codes.join(", ")
+    )))
+}
+
 pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let q = StatsQuery::from_args(&args)?;
-    let _ = (&q, &ctx.db);
-    Err(CliError::work(
-        "'stats' needs the incident store, which is not merged into this build yet",
-    ))
+    let mut q = StatsQuery::from_args(&args)?;
+    let store =
+        crate::store::Store::open_existing(&ctx.db).map_err(|e| CliError::work(e.to_string()))?;
+    if let Some(o) = &q.origin_type {
+        q.origin_type = Some(origin_code(&store, o)?);
+    }
+    let (incidents, exposures) = load(&store, &q)?;
+    // The clock is read here, at the edge: the default end of the window is today.
+    let today = chrono::Utc::now().date_naive();
+    let text = render(&q, &incidents, &exposures, today)?;
+    ctx.out.write_all(text.as_bytes())?;
+    Ok(())
 }
 
 #[cfg(test)]
