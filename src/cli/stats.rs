@@ -252,6 +252,11 @@ pub fn to_json(q: &StatsQuery, r: &StatsResult) -> Value {
                         .map_or(Value::Null, |r| pair(r.ci95.low, r.ci95.high)),
                 );
                 m.insert("rate_ratio".into(), opt(row.ratio.map(|r| r.ratio)));
+                m.insert("rest_count".into(), json!(row.ratio.map(|r| r.rest_count)));
+                m.insert(
+                    "rest_pane_years".into(),
+                    opt(row.ratio.map(|r| r.rest_exposure)),
+                );
                 m.insert(
                     "rate_ratio_ci95".into(),
                     row.ratio
@@ -386,6 +391,15 @@ fn lpad(s: &str, w: usize) -> String {
     }
 }
 
+/// A ratio or bound for the table: "∞" when the rest had no events.
+fn fmt_ratio(x: f64) -> String {
+    if x == f64::INFINITY {
+        "∞".to_string()
+    } else {
+        fmt_sig(x, 3)
+    }
+}
+
 fn fmt_p(p: f64) -> String {
     if p < 0.0001 {
         "<0.0001".to_string()
@@ -474,11 +488,15 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
                 }
                 match row.ratio {
                     Some(rr) => {
-                        c.push(format!("{}x", fmt_sig(rr.ratio, 3)));
+                        c.push(if rr.ratio.is_nan() {
+                            "—".to_string()
+                        } else {
+                            format!("{}x", fmt_ratio(rr.ratio))
+                        });
                         c.push(format!(
                             "[{}, {}]",
-                            fmt_sig(rr.ci95.low, 3),
-                            fmt_sig(rr.ci95.high, 3)
+                            fmt_ratio(rr.ci95.low),
+                            fmt_ratio(rr.ci95.high)
                         ));
                         c.push(fmt_p(rr.p_two_sided));
                         c.push(if row.flagged {
@@ -870,6 +888,29 @@ mod tests {
             !s.contains("NaN") && !s.contains("inf]") && !s.contains("inf,"),
             "{s}"
         );
+    }
+
+    #[test]
+    fn a_group_alone_in_its_stratum_reads_infinity() {
+        // inclusion breaks happen only on Quarry Glass: against no events elsewhere
+        let (inc, ex) = fleet();
+        let s = render(&query("cause,supplier"), &inc, &ex, d(2026, 1, 1)).unwrap();
+        assert!(s.contains("∞x"), "{s}");
+        assert!(!s.contains("—x"), "{s}");
+        let mut q = query("cause,supplier");
+        q.json = true;
+        let v: Value =
+            serde_json::from_str(&render(&q, &inc, &ex, d(2026, 1, 1)).unwrap()).unwrap();
+        let g = v["groups"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|g| g["key"][0] == "inclusion")
+            .unwrap();
+        // JSON has no infinity: the ratio is null and the rest's count says why
+        assert!(g["rate_ratio"].is_null());
+        assert_eq!(g["rest_count"], 0);
+        assert_eq!(g["flagged"], true);
     }
 
     #[test]
