@@ -361,8 +361,14 @@ impl Store {
                 }
             }
         }
-        for ((entity, id), img) in &last {
-            if img.is_some() && !seen.contains_key(&(entity.clone(), id.clone())) {
+        let mut gone: Vec<&(String, String)> = last
+            .iter()
+            .filter(|(k, img)| img.is_some() && !seen.contains_key(*k))
+            .map(|(k, _)| k)
+            .collect();
+        gone.sort();
+        for (entity, id) in gone {
+            {
                 problem(
                     &mut report,
                     format!("{entity} {id}: in the audit log but missing from the records (deleted behind shardlog's back)"),
