@@ -82,7 +82,8 @@ fn tamper(path: &Path, sql: &str) {
 fn problem(path: &Path) -> String {
     let s = Store::open_existing(path).unwrap();
     let r = s.verify().unwrap();
-    r.first_problem.unwrap_or_else(|| panic!("verify passed after tampering"))
+    r.first_problem
+        .unwrap_or_else(|| panic!("verify passed after tampering"))
 }
 
 #[test]
@@ -101,7 +102,10 @@ fn changed_reading_is_found() {
 #[test]
 fn changed_listed_stress_is_found() {
     let (_d, path, _) = setup();
-    tamper(&path, "UPDATE incidents SET stress_pa = 123.0 WHERE seq = 2");
+    tamper(
+        &path,
+        "UPDATE incidents SET stress_pa = 123.0 WHERE seq = 2",
+    );
     let p = problem(&path);
     assert!(p.contains("listed stress"), "{p}");
 }
@@ -109,7 +113,10 @@ fn changed_listed_stress_is_found() {
 #[test]
 fn deleted_custody_entry_is_found() {
     let (_d, path, _) = setup();
-    tamper(&path, "DELETE FROM custody WHERE entry_no = 1 AND rowid = (SELECT min(rowid) FROM custody)");
+    tamper(
+        &path,
+        "DELETE FROM custody WHERE entry_no = 1 AND rowid = (SELECT min(rowid) FROM custody)",
+    );
     assert!(problem(&path).contains("changed"));
 }
 
@@ -124,7 +131,10 @@ fn inserted_incident_is_found() {
            '2026-05-01T00:00:00.000Z', '', '2026-05-01', '', '', '', '', 'monolithic', '', 'reported', '', '')",
     );
     let p = problem(&path);
-    assert!(p.contains("BR-260501-0099") && p.contains("inserted"), "{p}");
+    assert!(
+        p.contains("BR-260501-0099") && p.contains("inserted"),
+        "{p}"
+    );
 }
 
 #[test]
@@ -175,7 +185,10 @@ fn deleted_audit_row_is_found() {
 #[test]
 fn cut_tail_of_audit_is_found() {
     let (_d, path, _) = setup();
-    tamper(&path, "DELETE FROM audit WHERE seq = (SELECT max(seq) FROM audit)");
+    tamper(
+        &path,
+        "DELETE FROM audit WHERE seq = (SELECT max(seq) FROM audit)",
+    );
     let p = problem(&path);
     assert!(p.contains("head") || p.contains("differs"), "{p}");
 }
@@ -257,11 +270,15 @@ fn several_writers_on_one_file_lose_nothing() {
                 s.set_id_seed(1000 + w);
                 for i in 0..15 {
                     let inc = s
-                        .create_incident(&incident(1 + (i % 28) as u32), &stamp("2026-05-20T10:00:00Z"))
+                        .create_incident(
+                            &incident(1 + (i % 28) as u32),
+                            &stamp("2026-05-20T10:00:00Z"),
+                        )
                         .unwrap();
                     let mut e = inc.clone();
                     e.notes = format!("writer {w} edit {i}");
-                    s.update_incident(&e, &stamp("2026-05-20T10:01:00Z")).unwrap();
+                    s.update_incident(&e, &stamp("2026-05-20T10:01:00Z"))
+                        .unwrap();
                 }
             })
         })

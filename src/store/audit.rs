@@ -345,7 +345,7 @@ impl Store {
             let mut bad_derived: Option<String> = None;
             let mut n_bad = 0u64;
             incidents::for_each_incident(&self.conn, |inc, derived_ok| {
-                let img = canon::canonical(&inc)?;
+                let img = canon::incident_image(&inc)?;
                 check(&mut report, INCIDENT, inc.id.clone(), &inc.reference, &img);
                 if !derived_ok {
                     n_bad += 1;
