@@ -14,7 +14,17 @@ use super::{incidents, refdata, Store, StoreError, MIGRATION_AT};
 pub(crate) const INCIDENT: &str = "incident";
 
 pub(crate) fn fmt_time(at: DateTime<Utc>) -> String {
-    at.format("%Y-%m-%dT%H:%M:%S%.3fZ").to_string()
+    use chrono::{Datelike, Timelike};
+    format!(
+        "{:04}-{:02}-{:02}T{:02}:{:02}:{:02}.{:03}Z",
+        at.year(),
+        at.month(),
+        at.day(),
+        at.hour(),
+        at.minute(),
+        at.second(),
+        at.timestamp_subsec_millis().min(999)
+    )
 }
 
 pub(crate) fn parse_time(s: &str) -> Option<DateTime<Utc>> {

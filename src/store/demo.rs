@@ -874,7 +874,10 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         }
         let (sigma, location, origin_type) = target(&mut rng, plan.cause, pdef.temper);
         let sigma = sigma.max(8e6);
-        let examined = rng.chance(match plan.cause {
+        // a lab examines a few thousand breakages, not a million: at benchmark scale the
+        // share examined falls so that about 20,000 examinations are generated at most
+        let lab_share = (20_000.0 / o.incidents as f64).min(1.0);
+        let examined = rng.chance(lab_share * match plan.cause {
             CauseKind::Thermal => 0.75,
             CauseKind::Impact => 0.35,
             CauseKind::Vandalism => 0.2,

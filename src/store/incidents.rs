@@ -120,13 +120,23 @@ const COLS: [&str; 39] = [
     "seq",
 ];
 
-fn insert_sql() -> String {
+fn insert_sql() -> &'static str {
+    static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    SQL.get_or_init(build_insert_sql)
+}
+
+fn update_sql() -> &'static str {
+    static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    SQL.get_or_init(build_update_sql)
+}
+
+fn build_insert_sql() -> String {
     let cols = COLS[..38].join(", ");
     let qs: Vec<String> = (1..=38).map(|i| format!("?{i}")).collect();
     format!("INSERT INTO incidents ({cols}) VALUES ({})", qs.join(", "))
 }
 
-fn update_sql() -> String {
+fn build_update_sql() -> String {
     let sets: Vec<String> = COLS[..38]
         .iter()
         .enumerate()
@@ -358,7 +368,7 @@ pub(crate) fn insert_new(
 ) -> Result<i64, StoreError> {
     let d = derive(inc);
     let values = row_values(inc, refs, &d)?;
-    conn.prepare_cached(&insert_sql())?
+    conn.prepare_cached(insert_sql())?
         .execute(params_from_iter(values.iter()))
         .map_err(|e| match e {
             rusqlite::Error::SqliteFailure(f, _)
@@ -1186,7 +1196,7 @@ impl Store {
         let mut values = row_values(&new, &refs, &d)?;
         values.push(SqlValue::Integer(current.revision));
         let n = conn
-            .prepare_cached(&update_sql())?
+            .prepare_cached(update_sql())?
             .execute(params_from_iter(values.iter()))?;
         if n != 1 {
             return Err(StoreError::StaleRevision {
