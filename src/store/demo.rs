@@ -877,16 +877,19 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         // a lab examines a few thousand breakages, not a million: at benchmark scale the
         // share examined falls so that about 20,000 examinations are generated at most
         let lab_share = (20_000.0 / o.incidents as f64).min(1.0);
-        let examined = rng.chance(lab_share * match plan.cause {
-            CauseKind::Thermal => 0.75,
-            CauseKind::Impact => 0.35,
-            CauseKind::Vandalism => 0.2,
-            CauseKind::HardContact | CauseKind::EdgeDamage => 0.8,
-            CauseKind::NickelSulfide => 1.0,
-            CauseKind::Handling => 0.5,
-            CauseKind::Pressure => 0.6,
-            CauseKind::Unknown => 0.5,
-        });
+        let examined = rng.chance(
+            lab_share
+                * match plan.cause {
+                    CauseKind::Thermal => 0.75,
+                    CauseKind::Impact => 0.35,
+                    CauseKind::Vandalism => 0.2,
+                    CauseKind::HardContact | CauseKind::EdgeDamage => 0.8,
+                    CauseKind::NickelSulfide => 1.0,
+                    CauseKind::Handling => 0.5,
+                    CauseKind::Pressure => 0.6,
+                    CauseKind::Unknown => 0.5,
+                },
+        );
         let fragmented = pdef.temper == "fully_tempered";
         inc.pattern = FracturePattern {
             crack_count: if fragmented {
