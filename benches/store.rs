@@ -34,7 +34,15 @@ fn time_list(s: &Store, label: &str, f: &Filter, sort: Sort, with_total: bool, d
     if deep {
         for _ in 0..50 {
             let p = s
-                .list(f, sort, &PageRequest { after: after.clone(), with_total: false, ..req.clone() })
+                .list(
+                    f,
+                    sort,
+                    &PageRequest {
+                        after: after.clone(),
+                        with_total: false,
+                        ..req.clone()
+                    },
+                )
                 .expect("list");
             match p.next {
                 Some(n) => after = Some(n),
@@ -48,7 +56,14 @@ fn time_list(s: &Store, label: &str, f: &Filter, sort: Sort, with_total: bool, d
     for _ in 0..15 {
         let t = Instant::now();
         let p = s
-            .list(f, sort, &PageRequest { after: after.clone(), ..req.clone() })
+            .list(
+                f,
+                sort,
+                &PageRequest {
+                    after: after.clone(),
+                    ..req.clone()
+                },
+            )
             .expect("list");
         times.push(t.elapsed());
         rows = p.rows.len();
@@ -57,7 +72,9 @@ fn time_list(s: &Store, label: &str, f: &Filter, sort: Sort, with_total: bool, d
     println!(
         "list {label:<44} {rows:>3} rows  median {:>9}  (total {})",
         ms(median(times)),
-        total.map(|t| t.to_string()).unwrap_or_else(|| "not counted".into())
+        total
+            .map(|t| t.to_string())
+            .unwrap_or_else(|| "not counted".into())
     );
 }
 
@@ -102,9 +119,15 @@ fn plain_inserts(path: &PathBuf, n: usize) -> Duration {
         let mut a = tx
             .prepare("INSERT INTO inc (id, reference, found_on, site, asset, position, supplier, product, lot, makeup, status, origin_location, cause, confidence, responsibility, description) VALUES (?1,?2,?3,?4,?5,?6,?7,?8,?9,?10,?11,?12,?13,?14,?15,?16)")
             .expect("prep");
-        let mut b = tx.prepare("INSERT INTO ply VALUES (?1, ?2, ?3, ?4)").expect("prep");
-        let mut e = tx.prepare("INSERT INTO exam VALUES (?1, ?2, ?3, ?4)").expect("prep");
-        let mut r = tx.prepare("INSERT INTO rd VALUES (?1, ?2, ?3, ?4, ?5)").expect("prep");
+        let mut b = tx
+            .prepare("INSERT INTO ply VALUES (?1, ?2, ?3, ?4)")
+            .expect("prep");
+        let mut e = tx
+            .prepare("INSERT INTO exam VALUES (?1, ?2, ?3, ?4)")
+            .expect("prep");
+        let mut r = tx
+            .prepare("INSERT INTO rd VALUES (?1, ?2, ?3, ?4, ?5)")
+            .expect("prep");
         for i in 0..n {
             let id = format!("0190{i:028x}");
             let ex = format!("0191{i:028x}");
@@ -127,10 +150,22 @@ fn plain_inserts(path: &PathBuf, n: usize) -> Duration {
                 format!("crack from the edge number {i}")
             ])
             .expect("insert");
-            b.execute(rusqlite::params![id, "soda_lime", "fully_tempered", 0.006]).expect("insert");
-            e.execute(rusqlite::params![ex, id, "edge_chip", "mira"]).expect("insert");
-            for (k, bnd) in ["mirror_mist", "mirror_mist", "mist_hackle"].iter().enumerate() {
-                r.execute(rusqlite::params![ex, bnd, format!("0.{}", 40 + k), "mm", 0.0004]).expect("insert");
+            b.execute(rusqlite::params![id, "soda_lime", "fully_tempered", 0.006])
+                .expect("insert");
+            e.execute(rusqlite::params![ex, id, "edge_chip", "mira"])
+                .expect("insert");
+            for (k, bnd) in ["mirror_mist", "mirror_mist", "mist_hackle"]
+                .iter()
+                .enumerate()
+            {
+                r.execute(rusqlite::params![
+                    ex,
+                    bnd,
+                    format!("0.{}", 40 + k),
+                    "mm",
+                    0.0004
+                ])
+                .expect("insert");
             }
         }
     }
@@ -150,29 +185,84 @@ fn main() {
         let n = s.incident_count().expect("count");
         println!("database {db}: {n} incidents");
         let all = Filter::default();
-        let newest = Sort { column: SortColumn::Found, descending: true };
+        let newest = Sort {
+            column: SortColumn::Found,
+            descending: true,
+        };
         time_list(&s, "newest first, no count", &all, newest, false, false);
         time_list(&s, "newest first, with count", &all, newest, true, false);
-        time_list(&s, "newest first, page 51, no count", &all, newest, false, true);
-        let brellin = Filter { supplier: Some("BRELLIN".into()), ..Filter::default() };
-        time_list(&s, "supplier BRELLIN, no count", &brellin, newest, false, false);
-        time_list(&s, "supplier BRELLIN, with count", &brellin, newest, true, false);
-        let lot = Filter { lot: Some("BS-2207".into()), ..Filter::default() };
+        time_list(
+            &s,
+            "newest first, page 51, no count",
+            &all,
+            newest,
+            false,
+            true,
+        );
+        let brellin = Filter {
+            supplier: Some("BRELLIN".into()),
+            ..Filter::default()
+        };
+        time_list(
+            &s,
+            "supplier BRELLIN, no count",
+            &brellin,
+            newest,
+            false,
+            false,
+        );
+        time_list(
+            &s,
+            "supplier BRELLIN, with count",
+            &brellin,
+            newest,
+            true,
+            false,
+        );
+        let lot = Filter {
+            lot: Some("BS-2207".into()),
+            ..Filter::default()
+        };
         time_list(&s, "lot BS-2207, with count", &lot, newest, true, false);
-        let thermal = Filter { cause: Some("thermal".into()), ..Filter::default() };
-        time_list(&s, "cause thermal, with count", &thermal, newest, true, false);
+        let thermal = Filter {
+            cause: Some("thermal".into()),
+            ..Filter::default()
+        };
+        time_list(
+            &s,
+            "cause thermal, with count",
+            &thermal,
+            newest,
+            true,
+            false,
+        );
         let y = Filter {
             since: NaiveDate::from_ymd_opt(2025, 3, 1),
             until: NaiveDate::from_ymd_opt(2025, 3, 31),
             ..Filter::default()
         };
         time_list(&s, "March 2025, with count", &y, newest, true, false);
-        let stress = Sort { column: SortColumn::Stress, descending: true };
-        time_list(&s, "by stress, largest first, no count", &all, stress, false, false);
-        let text = Filter { text: Some("stone".into()), ..Filter::default() };
+        let stress = Sort {
+            column: SortColumn::Stress,
+            descending: true,
+        };
+        time_list(
+            &s,
+            "by stress, largest first, no count",
+            &all,
+            stress,
+            false,
+            false,
+        );
+        let text = Filter {
+            text: Some("stone".into()),
+            ..Filter::default()
+        };
         time_list(&s, "text \"stone\", no count", &text, newest, false, false);
     }
-    let n: usize = arg("--import").and_then(|v| v.parse().ok()).unwrap_or(20_000);
+    let n: usize = arg("--import")
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(20_000);
     let dir = std::env::temp_dir().join(format!("shardlog-bench-{}", std::process::id()));
     std::fs::create_dir_all(&dir).expect("temp dir");
     let csv = synthetic_csv(n);
@@ -199,6 +289,9 @@ fn main() {
         plain.as_secs_f64(),
         rate(plain)
     );
-    println!("import / plain rate: {:.2} (goal: at least 0.5)", rate(import) / rate(plain));
+    println!(
+        "import / plain rate: {:.2} (goal: at least 0.5)",
+        rate(import) / rate(plain)
+    );
     let _ = std::fs::remove_dir_all(&dir);
 }

@@ -469,8 +469,7 @@ fn build_world(rng: &mut Rng, incidents: u64) -> World {
             let product = choices[(b + rng.below(2)) % choices.len()];
             let lot_for = |d: NaiveDate| {
                 lots.iter()
-                    .filter(|(pi, _, made)| *pi == product && *made + Days::new(30) <= d)
-                    .last()
+                    .rfind(|(pi, _, made)| *pi == product && *made + Days::new(30) <= d)
                     .or_else(|| lots.iter().find(|(pi, _, _)| *pi == product))
                     .map(|(_, code, _)| code.clone())
                     .unwrap_or_default()
