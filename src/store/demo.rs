@@ -14,7 +14,7 @@ use std::path::{Path, PathBuf};
 
 use chrono::{DateTime, Datelike, Days, NaiveDate, TimeZone, Utc};
 
-use super::audit::Chain;
+use super::audit::{Bulk, Chain, INCIDENT};
 use super::incidents::{format_reference, insert_new, Refs};
 use super::model::*;
 use super::{compute, files, refdata, sqlite, Store, StoreError};
@@ -800,6 +800,8 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     let mut per_day: HashMap<NaiveDate, u32> = HashMap::new();
     let mut attachments_left = 8u32;
     let materials = fracture::materials::find("soda-lime");
+    let mut bulk = Bulk::new(INCIDENT, o.seed ^ 0xB0B);
+    let mut last_stamp = setup_stamp.clone();
     for plan in &plans {
         let slot = &world.slots[plan.slot];
         let pdef = &PRODUCTS[slot.product];
@@ -1084,9 +1086,11 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
             product: Some(pid.clone()),
             lot: lot_ids.get(&(slot.product, slot.lot.clone())).cloned(),
         };
-        insert_new(&tx, &mut chain, &inc, &refs, &stamp, true)?;
+        insert_new(&tx, &mut chain, &inc, &refs, &stamp, Some(&mut bulk))?;
         summary.incidents += 1;
+        last_stamp = stamp;
     }
+    bulk.flush(&tx, &mut chain, &last_stamp)?;
     chain.finish(&tx)?;
     for (_, sql) in &indexes {
         tx.execute_batch(sql)?;

@@ -364,7 +364,7 @@ pub(crate) fn insert_new(
     inc: &Incident,
     refs: &Refs,
     stamp: &Stamp,
-    with_text: bool,
+    bulk: Option<&mut super::audit::Bulk>,
 ) -> Result<i64, StoreError> {
     let d = derive(inc);
     let values = row_values(inc, refs, &d)?;
@@ -383,11 +383,12 @@ pub(crate) fn insert_new(
         })?;
     let seq = conn.last_insert_rowid();
     insert_children(conn, inc)?;
-    if with_text {
-        sqlite::fts_insert(conn, seq, &search_body(inc))?;
-    }
+    sqlite::fts_insert(conn, seq, &search_body(inc))?;
     let img = canon::incident_image(inc)?;
-    chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?;
+    match bulk {
+        Some(b) => b.add(conn, chain, stamp, &inc.id, &img)?,
+        None => chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?,
+    }
     Ok(seq)
 }
 
@@ -1140,7 +1141,7 @@ impl Store {
         }
         inc.reference = next_reference(&tx, inc.found_on)?;
         let refs = Store::resolve_refs(&tx, &mut chain, &mut self.ids, &inc, stamp, false)?;
-        insert_new(&tx, &mut chain, &inc, &refs, stamp, true)?;
+        insert_new(&tx, &mut chain, &inc, &refs, stamp, None)?;
         chain.finish(&tx)?;
         tx.commit()?;
         Ok(inc)
