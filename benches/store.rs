@@ -173,6 +173,71 @@ fn plain_inserts(path: &PathBuf, n: usize) -> Duration {
     t.elapsed()
 }
 
+/// The same rows with plain prepared statements into the store's own tables (with their
+/// indexes), one transaction: no checks, no audit, no text index.
+fn plain_into_schema(path: &PathBuf, n: usize) -> Duration {
+    drop(Store::open(path).expect("schema"));
+    let c = rusqlite::Connection::open(path).expect("open");
+    c.execute_batch("PRAGMA synchronous = FULL; PRAGMA cache_size = -65536;")
+        .expect("pragmas");
+    let t = Instant::now();
+    let tx = c.unchecked_transaction().expect("tx");
+    {
+        let mut a = tx
+            .prepare(
+                "INSERT INTO incidents (id, reference, revision, created_at, updated_at, position, found_on, sun,
+                   weather, reporter, how_found, makeup, tension_face, status, description, notes, cause_category,
+                   cause_confidence, cause_responsibility, origin_location)
+                 VALUES (?1, ?2, 1, ?3, ?3, ?4, ?5, '', '', '', '', 'monolithic', '', 'cause_assigned', ?6, '',
+                   'thermal', 'probable', 'undetermined', 'edge')",
+            )
+            .expect("prep");
+        let mut b = tx
+            .prepare(
+                "INSERT INTO plies VALUES (?1, 1, 'soda_lime', 'fully_tempered', 0.006, '', '')",
+            )
+            .expect("prep");
+        let mut e = tx
+            .prepare("INSERT INTO examinations (id, incident_id, exam_no, analyst, origin_type, flaw_present, flaw_shape, notes) VALUES (?1, ?2, 1, 'mira', 'edge_chip', 0, '', '')")
+            .expect("prep");
+        let mut r = tx
+            .prepare(
+                "INSERT INTO mirror_readings VALUES (?1, ?2, ?3, ?4, 'mm', ?5, NULL, 'mira', '')",
+            )
+            .expect("prep");
+        for i in 0..n {
+            let id = format!("0190{i:028x}");
+            let ex = format!("0191{i:028x}");
+            a.execute(rusqlite::params![
+                id,
+                format!("BR-{i:08}"),
+                "2026-11-01T08:00:00.000Z",
+                "left side bay 1",
+                "2024-01-01",
+                format!("crack from the edge number {i}")
+            ])
+            .expect("insert");
+            b.execute([&id]).expect("insert");
+            e.execute([&ex, &id]).expect("insert");
+            for (k, bnd) in ["mirror_mist", "mirror_mist", "mist_hackle"]
+                .iter()
+                .enumerate()
+            {
+                r.execute(rusqlite::params![
+                    ex,
+                    k as i64 + 1,
+                    bnd,
+                    format!("0.{}", 40 + k),
+                    0.0004
+                ])
+                .expect("insert");
+            }
+        }
+    }
+    tx.commit().expect("commit");
+    t.elapsed()
+}
+
 fn main() {
     let args: Vec<String> = std::env::args().collect();
     let arg = |name: &str| {
@@ -278,6 +343,7 @@ fn main() {
     assert_eq!(sum.incidents, n);
     drop(s);
     let plain = plain_inserts(&dir.join("plain.db"), n);
+    let schema = plain_into_schema(&dir.join("schema.db"), n);
     let rate = |d: Duration| n as f64 / d.as_secs_f64();
     println!(
         "import {n} incidents (CSV, checked, audited, text-indexed, one transaction): {:.2} s, {:.0} incidents/s",

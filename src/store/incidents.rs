@@ -1388,7 +1388,7 @@ impl Store {
         sort: Sort,
         page: &PageRequest,
     ) -> Result<Page, StoreError> {
-        let (where_sql, mut args) = filter_sql(filter);
+        let (from, where_sql, mut args) = filter_sql(&self.conn, filter)?;
         let limit = page.limit.clamp(1, 10_000) as i64;
         let (order_cols, key_exprs): (&str, Vec<&str>) = match sort.column {
             SortColumn::Found => ("i.found_on {d}, i.seq {d}", vec!["i.found_on"]),
@@ -1401,14 +1401,16 @@ impl Store {
         };
         let dir = if sort.descending { "DESC" } else { "ASC" };
         let cmp = if sort.descending { "<" } else { ">" };
-        let select = "SELECT i.seq, i.id, i.reference, i.found_on, a.code, i.position, s.code, p.code, su.code,
+        let select = format!(
+            "SELECT i.seq, i.id, i.reference, i.found_on, a.code, i.position, s.code, p.code, su.code,
                       l.code, i.status, i.cause_category, i.stress_pa
-                      FROM incidents i
+                      FROM {from}
                       LEFT JOIN assets a ON a.id = i.asset_id
                       LEFT JOIN sites s ON s.id = i.site_id
                       LEFT JOIN suppliers su ON su.id = i.supplier_id
                       LEFT JOIN products p ON p.id = i.product_id
-                      LEFT JOIN lots l ON l.id = i.lot_id";
+                      LEFT JOIN lots l ON l.id = i.lot_id"
+        );
         let mut rows: Vec<(i64, LogRow)> = Vec::new();
         if sort.column != SortColumn::Stress {
             let mut conds = where_sql.clone();
@@ -1499,10 +1501,7 @@ impl Store {
             (n, _) => n,
         };
         let total = if page.with_total {
-            let sql = format!(
-                "SELECT count(*) FROM incidents i {}",
-                where_clause(&where_sql)
-            );
+            let sql = format!("SELECT count(*) FROM {from} {}", where_clause(&where_sql));
             let n: i64 = self
                 .conn
                 .prepare_cached(&sql)?
@@ -1554,9 +1553,9 @@ impl Store {
 
     /// Ids of all incidents matching a filter, in date-found order (exports, reports).
     pub fn matching_ids(&self, filter: &Filter) -> Result<Vec<String>, StoreError> {
-        let (conds, args) = filter_sql(filter);
+        let (from, conds, args) = filter_sql(&self.conn, filter)?;
         let sql = format!(
-            "SELECT i.id FROM incidents i {} ORDER BY i.found_on, i.seq",
+            "SELECT i.id FROM {from} {} ORDER BY i.found_on, i.seq",
             where_clause(&conds)
         );
         let mut stmt = self.conn.prepare(&sql)?;
@@ -1566,12 +1565,12 @@ impl Store {
 
     /// One flat row per matching incident for fleet statistics, in date-found order.
     pub fn fleet_rows(&self, filter: &Filter) -> Result<Vec<FleetRow>, StoreError> {
-        let (conds, args) = filter_sql(filter);
+        let (from, conds, args) = filter_sql(&self.conn, filter)?;
         let sql = format!(
             "SELECT i.id, i.reference, i.cause_category, i.cause_confidence, i.origin_type, su.code, p.code,
                     l.code, s.code, a.asset_type, i.temper, i.found_on, i.broken_on, i.applied_stress_pa,
                     i.stress_pa
-             FROM incidents i
+             FROM {from}
              LEFT JOIN assets a ON a.id = i.asset_id
              LEFT JOIN sites s ON s.id = i.site_id
              LEFT JOIN suppliers su ON su.id = i.supplier_id
@@ -1616,9 +1615,14 @@ fn where_clause(conds: &[String]) -> String {
     }
 }
 
-/// SQL conditions on `incidents i` and their parameters. Only fixed SQL text; every
-/// user value is a bound parameter.
-fn filter_sql(f: &Filter) -> (Vec<String>, Vec<SqlValue>) {
+/// The FROM clause, SQL conditions on `incidents i` and their parameters. Only fixed SQL
+/// text; every user value is a bound parameter. Lot codes are resolved to keys first so the
+/// lot index can be used.
+fn filter_sql(
+    conn: &Connection,
+    f: &Filter,
+) -> Result<(&'static str, Vec<String>, Vec<SqlValue>), StoreError> {
+    let mut from = "incidents i";
     let mut c = Vec::new();
     let mut a = Vec::new();
     if let Some(s) = &f.status {
@@ -1638,20 +1642,19 @@ fn filter_sql(f: &Filter) -> (Vec<String>, Vec<SqlValue>) {
         a.push(t(s));
     }
     if let Some(l) = &f.lot {
-        match &f.supplier {
-            Some(s) => {
-                c.push(
-                    "i.lot_id IN (SELECT lo.id FROM lots lo JOIN products pr ON pr.id = lo.product_id
-                     JOIN suppliers sp ON sp.id = pr.supplier_id WHERE lo.code = ? AND sp.code = ?)"
-                        .to_string(),
-                );
-                a.push(t(l));
-                a.push(t(s));
-            }
-            None => {
-                c.push("i.lot_id IN (SELECT lo.id FROM lots lo WHERE lo.code = ?)".to_string());
-                a.push(t(l));
-            }
+        let mut stmt = conn.prepare_cached(
+            "SELECT lo.id FROM lots lo JOIN products pr ON pr.id = lo.product_id
+             JOIN suppliers sp ON sp.id = pr.supplier_id
+             WHERE lo.code = ?1 AND (?2 IS NULL OR sp.code = ?2) ORDER BY lo.id",
+        )?;
+        let ids: Vec<String> = stmt
+            .query_map(params![l, f.supplier], |r| r.get(0))?
+            .collect::<Result<_, _>>()?;
+        if ids.is_empty() {
+            c.push("1 = 0".to_string());
+        } else {
+            c.push(format!("i.lot_id IN ({})", vec!["?"; ids.len()].join(", ")));
+            a.extend(ids.into_iter().map(SqlValue::Text));
         }
     }
     if let Some(s) = &f.site {
@@ -1669,11 +1672,13 @@ fn filter_sql(f: &Filter) -> (Vec<String>, Vec<SqlValue>) {
     if let Some(text) = &f.text {
         match sqlite::fts_query(text) {
             Some(q) => {
-                c.push(sqlite::FTS_CONDITION.to_string());
-                a.push(SqlValue::Text(q));
+                // the text index drives: its matches are few next to the whole log
+                from = sqlite::FTS_FROM;
+                c.insert(0, sqlite::FTS_CONDITION.to_string());
+                a.insert(0, SqlValue::Text(q));
             }
             None => c.push("1 = 0".to_string()),
         }
     }
-    (c, a)
+    Ok((from, c, a))
 }
