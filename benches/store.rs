@@ -356,8 +356,14 @@ fn main() {
         rate(plain)
     );
     println!(
-        "import / plain rate: {:.2} (goal: at least 0.5)",
-        rate(import) / rate(plain)
+        "plain prepared inserts into the store's own tables and indexes:             {:.2} s, {:.0} incidents/s",
+        schema.as_secs_f64(),
+        rate(schema)
+    );
+    println!(
+        "import / plain rate: {:.2} against bare tables, {:.2} against the store's tables (goal: at least 0.5)",
+        rate(import) / rate(plain),
+        rate(import) / rate(schema)
     );
     let _ = std::fs::remove_dir_all(&dir);
 }
