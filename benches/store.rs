@@ -335,6 +335,27 @@ fn main() {
     let mut s = Store::open(&db).expect("open");
     let stamp = Stamp::new("bench", Utc.with_ymd_and_hms(2026, 11, 1, 8, 0, 0).unwrap());
     let t = Instant::now();
+    let parsed = shardlog::store::exchange::parse_csv(&csv, &stamp).expect("parse");
+    let parse = t.elapsed();
+    let t = Instant::now();
+    let mut check = Store::open_in_memory().expect("memory");
+    for inc in &parsed {
+        assert!(check.validate_incident(inc).is_empty());
+    }
+    let validate = t.elapsed();
+    let t = Instant::now();
+    for inc in &parsed {
+        std::hint::black_box(canon::incident_image(inc).expect("image"));
+    }
+    let image = t.elapsed();
+    check.set_id_seed(1);
+    println!(
+        "import phases for {n}: parse {}, validate {}, audit images {}",
+        ms(parse),
+        ms(validate),
+        ms(image)
+    );
+    let t = Instant::now();
     let sum = s
         .import_bytes("bench.csv", &csv, ImportOptions::default(), &stamp)
         .expect("import")
