@@ -304,6 +304,33 @@ fn plain_output_with_trend_and_strength() {
 }
 
 #[test]
+fn only_narrows_incidents_and_exposure() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = build(dir.path());
+    // thermal breaks on supplier ALDER: 4 on AF-6-01 and 2 on AF-6-02, over ALDER's 800 panes
+    let v = json(
+        &db,
+        &[
+            "--by",
+            "lot",
+            "--rates",
+            "--trend",
+            "--only",
+            "cause=thermal",
+            "--only",
+            "supplier=ALDER",
+        ],
+    );
+    assert_eq!(v["total"], 6);
+    let py = 800.0 * 365.0 / 365.25;
+    assert!((v["total_pane_years"].as_f64().unwrap() - py).abs() < 1e-9);
+    let months = v["trend"]["months"].as_array().unwrap();
+    assert_eq!(months.len(), 12);
+    let n: u64 = months.iter().map(|m| m["count"].as_u64().unwrap()).sum();
+    assert_eq!(n, 6);
+}
+
+#[test]
 fn errors() {
     let dir = tempfile::tempdir().unwrap();
     let db = build(dir.path());
@@ -321,6 +348,8 @@ fn errors() {
             "--weibull",
         ),
         (vec!["stats", "--stress", "peak"], 2, "--stress"),
+        (vec!["stats", "--only", "cause"], 2, "KEY=VALUE"),
+        (vec!["stats", "--only", "month=2025-01"], 2, "--since"),
     ] {
         let r = run(&db, &args);
         assert_eq!(r.code, code, "{args:?}: {}", r.stderr);

@@ -38,6 +38,10 @@ pub struct StatsArgs {
     /// (competing flaw populations, ASTM C1239).
     #[arg(long, value_name = "TYPE")]
     pub origin_type: Option<String>,
+    /// Keep only incidents with this value (repeatable), e.g. --only cause=thermal or
+    /// --only supplier=KESTREL; a supplier/product/lot/site value also narrows the exposure.
+    #[arg(long, value_name = "KEY=VALUE")]
+    pub only: Vec<String>,
     /// Which back-calculated stress the Weibull fit uses: applied (net minus residual
     /// stress: the service load at fracture) or net (the mirror's stress at the origin).
     #[arg(long, value_name = "applied|net", default_value = "applied")]
@@ -73,6 +77,7 @@ pub struct StatsQuery {
     pub trend: bool,
     pub weibull: bool,
     pub origin_type: Option<String>,
+    pub only: Vec<(Key, String)>,
     pub stress: StressKind,
     pub json: bool,
 }
@@ -120,8 +125,24 @@ impl StatsQuery {
                 )))
             }
         };
+        let mut only = Vec::new();
+        for o in &a.only {
+            let (k, v) = o.split_once('=').ok_or_else(|| {
+                CliError::usage(format!(
+                    "--only: '{o}' is not KEY=VALUE, e.g. cause=thermal"
+                ))
+            })?;
+            let key = Key::parse(k).map_err(|e| CliError::usage(format!("--only: {e}")))?;
+            if key.is_time() {
+                return Err(CliError::usage(
+                    "--only: use --since and --until for dates, not month or season",
+                ));
+            }
+            only.push((key, v.trim().to_string()));
+        }
         Ok(StatsQuery {
             keys,
+            only,
             stress,
             since,
             until,
@@ -153,6 +174,43 @@ impl StatsQuery {
         };
         Window::new(since, until).map_err(|e| CliError::usage(e.to_string()))
     }
+}
+
+/// Apply the `--only` filters: incidents must match every one; exposure rows must match the
+/// supplier/product/lot/site ones.
+pub fn apply_only(
+    q: &StatsQuery,
+    incidents: &mut Vec<IncidentFacts>,
+    exposures: &mut Vec<Exposure>,
+) {
+    if q.only.is_empty() {
+        return;
+    }
+    let want: Vec<(Key, crate::fleet::GroupValue)> = q
+        .only
+        .iter()
+        .map(|(k, v)| {
+            let value = if v == crate::fleet::group::NOT_RECORDED {
+                None
+            } else {
+                Some(v.clone())
+            };
+            (*k, crate::fleet::GroupValue::Text(value))
+        })
+        .collect();
+    incidents.retain(|f| want.iter().all(|(k, v)| v.matches(*k, f)));
+    exposures.retain(|e| {
+        q.only.iter().all(|(k, v)| {
+            let field = match k {
+                Key::Supplier => e.supplier.as_deref(),
+                Key::Product => e.product.as_deref(),
+                Key::Lot => e.lot.as_deref(),
+                Key::Site => e.site.as_deref(),
+                _ => return true,
+            };
+            field == Some(v.as_str())
+        })
+    });
 }
 
 /// Everything `stats` computed.
@@ -285,6 +343,7 @@ pub fn to_json(q: &StatsQuery, r: &StatsResult) -> Value {
         "by": q.keys.iter().map(|k| k.name()).collect::<Vec<_>>(),
         "window": { "since": t.window.since.to_string(), "until": t.window.until.to_string() },
         "total": t.total,
+        "only": q.only.iter().map(|(k, v)| json!({ "key": k.name(), "value": v })).collect::<Vec<_>>(),
         "stress": q.stress.name(),
         "groups": groups,
     });
@@ -400,6 +459,15 @@ fn fmt_ratio(x: f64) -> String {
     }
 }
 
+/// "p = 0.03" or "p < 0.0001".
+fn p_eq(p: f64) -> String {
+    if p < 0.0001 {
+        "p < 0.0001".to_string()
+    } else {
+        format!("p = {}", fmt_sig(p, 2))
+    }
+}
+
 fn fmt_p(p: f64) -> String {
     if p < 0.0001 {
         "<0.0001".to_string()
@@ -443,10 +511,20 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
     let t = &r.table;
     let mut s = String::new();
     let by: Vec<&str> = q.keys.iter().map(|k| k.name()).collect();
+    let only: Vec<String> = q
+        .only
+        .iter()
+        .map(|(k, v)| format!("{}={}", k.name(), clean(v)))
+        .collect();
     s.push_str(&format!(
-        "Incidents found {} to {}: {} (grouped by {})\n\n",
+        "Incidents found {} to {}{}: {} (grouped by {})\n\n",
         t.window.since,
         t.window.until,
+        if only.is_empty() {
+            String::new()
+        } else {
+            format!(", only {}", only.join(", "))
+        },
         t.total,
         by.join(", ")
     ));
@@ -554,11 +632,11 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
                     "no significant trend"
                 };
                 s.push_str(&format!(
-                    "  trend: rate x{} per year (95 % CI [{}, {}]), p = {}: {verdict}\n",
+                    "  trend: rate x{} per year (95 % CI [{}, {}]), {}: {verdict}\n",
                     fmt_sig(tr.ratio_per_year, 3),
                     fmt_sig(tr.ratio_ci95.low, 3),
                     fmt_sig(tr.ratio_ci95.high, 3),
-                    fmt_p(tr.p_value)
+                    p_eq(tr.p_value)
                 ));
                 s.push_str(&format!(
                     "  method: {METHOD_TREND}; exposure per month in {}; dispersion {}\n",
@@ -594,10 +672,10 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
             .map(|m| NAMES[(*m - 1) as usize])
             .collect();
         s.push_str(&format!(
-            "  seasonality: chi-square {} on {} df, p = {}{}; peak {}\n  method: {METHOD_SEASON}\n",
+            "  seasonality: chi-square {} on {} df, {}{}; peak {}\n  method: {METHOD_SEASON}\n",
             fmt_sig(se.chi2, 3),
             se.df,
-            fmt_p(se.p_value),
+            p_eq(se.p_value),
             if se.p_value < 0.05 {
                 ": months differ"
             } else {
@@ -626,61 +704,79 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
             header.push(h.into());
         }
         let mut rows = Vec::new();
-        let push = |rows: &mut Vec<Vec<String>>,
-                    label: Vec<String>,
-                    n: usize,
-                    w: Option<&Result<crate::fleet::WeibullFit, String>>| {
-            let mut c = label;
-            c.push(n.to_string());
-            match w {
-                Some(Ok(f)) => {
-                    c.push(f.n_censored.to_string());
-                    c.push(fmt_sig(f.modulus, 3));
-                    c.push(format!(
-                        "[{}, {}]",
-                        fmt_sig(f.modulus_ci95.low, 3),
-                        fmt_sig(f.modulus_ci95.high, 3)
-                    ));
-                    let u = Unit::Megapascal;
-                    c.push(fmt_sig(u.from_si(f.scale), 3));
-                    c.push(format!(
-                        "[{}, {}]",
-                        fmt_sig(u.from_si(f.scale_ci95.low), 3),
-                        fmt_sig(u.from_si(f.scale_ci95.high), 3)
-                    ));
-                    c.push(f.anderson_darling.map_or("—".to_string(), |a| {
-                        format!(
-                            "{}{}",
-                            fmt_sig(a.a2_modified, 2),
-                            if a.rejected_at_5pct { " poor fit" } else { "" }
-                        )
-                    }));
+        let mut notes = Vec::new();
+        let mut push =
+            |rows: &mut Vec<Vec<String>>,
+             label: Vec<String>,
+             n: usize,
+             w: Option<Result<&crate::fleet::WeibullFit, String>>| {
+                let mut c = label.clone();
+                c.push(n.to_string());
+                match w {
+                    Some(Ok(f)) => {
+                        c.push(f.n_censored.to_string());
+                        c.push(fmt_sig(f.modulus, 3));
+                        c.push(format!(
+                            "[{}, {}]",
+                            fmt_sig(f.modulus_ci95.low, 3),
+                            fmt_sig(f.modulus_ci95.high, 3)
+                        ));
+                        let u = Unit::Megapascal;
+                        c.push(fmt_sig(u.from_si(f.scale), 3));
+                        c.push(format!(
+                            "[{}, {}]",
+                            fmt_sig(u.from_si(f.scale_ci95.low), 3),
+                            fmt_sig(u.from_si(f.scale_ci95.high), 3)
+                        ));
+                        c.push(f.anderson_darling.map_or("—".to_string(), |a| {
+                            format!(
+                                "{}{}",
+                                fmt_sig(a.a2_modified, 2),
+                                if a.rejected_at_5pct { " poor fit" } else { "" }
+                            )
+                        }));
+                    }
+                    Some(Err(e)) => {
+                        c.push("no fit".into());
+                        let who: Vec<&str> = label
+                            .iter()
+                            .map(String::as_str)
+                            .filter(|l| !l.is_empty())
+                            .collect();
+                        notes.push(format!("  no fit for {}: {e}\n", who.join(" / ")));
+                    }
+                    None => c.push("no stresses".into()),
                 }
-                Some(Err(e)) => c.push(format!("no fit: {e}")),
-                None => c.push("no stresses".into()),
-            }
-            rows.push(c);
-        };
+                rows.push(c);
+            };
         for row in &t.rows {
             let w = row
                 .weibull
                 .as_ref()
-                .map(|r| r.as_ref().map_err(|e| e.to_string()).cloned());
+                .map(|r| r.as_ref().map_err(|e| e.to_string()));
             push(
                 &mut rows,
                 row.key.iter().map(|k| clean(k)).collect(),
                 row.n_stresses,
-                w.as_ref(),
+                w,
             );
         }
         let mut all_label = vec!["all".to_string()];
         all_label.resize(q.keys.len(), String::new());
-        let n_all = r.overall_weibull.as_ref().map_or(0, |w| match w {
-            Ok(f) => f.n,
-            Err(_) => 0,
-        });
-        push(&mut rows, all_label, n_all, r.overall_weibull.as_ref());
+        let n_all: usize = t.rows.iter().map(|r| r.n_stresses).sum();
+        push(
+            &mut rows,
+            all_label,
+            n_all,
+            r.overall_weibull
+                .as_ref()
+                .map(|w| w.as_ref().map_err(String::clone)),
+        );
         s.push_str(&columns(&header, &rows, q.keys.len()));
+        for n in &notes {
+            s.push_str(&clean(n.trim_end()));
+            s.push('\n');
+        }
         if let Some(Ok(f)) = &r.overall_weibull {
             s.push_str("\n  all groups together:\n");
             s.push_str(&fit_table(f, Unit::Megapascal, "    "));
@@ -783,7 +879,8 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(o) = &q.origin_type {
         q.origin_type = Some(origin_code(&store, o)?);
     }
-    let (incidents, exposures) = load(&store, &q)?;
+    let (mut incidents, mut exposures) = load(&store, &q)?;
+    apply_only(&q, &mut incidents, &mut exposures);
     // The clock is read here, at the edge: the default end of the window is today.
     let today = chrono::Utc::now().date_naive();
     let text = render(&q, &incidents, &exposures, today)?;
@@ -866,6 +963,7 @@ mod tests {
             trend: true,
             weibull: true,
             origin_type: None,
+            only: vec![],
             stress: "applied".into(),
             json: false,
         })
@@ -958,6 +1056,7 @@ mod tests {
             trend: false,
             weibull,
             origin_type: origin.map(String::from),
+            only: vec![],
             stress: "applied".into(),
             json: false,
         };
