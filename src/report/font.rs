@@ -115,7 +115,8 @@ pub fn wrap(font: &mut Font, text: &str, size: f32, max_width: f32) -> Vec<Strin
         let mut line = String::new();
         let mut line_w = 0.0f32;
         let space_w = font.width(" ", size);
-        for word in para.split(' ') {
+        for word in glue_units(para) {
+            let word = word.as_str();
             let word_w = font.width(word, size);
             let sep_w = if line.is_empty() { 0.0 } else { space_w };
             if line_w + sep_w + word_w <= max_width {
@@ -150,6 +151,32 @@ pub fn wrap(font: &mut Font, text: &str, size: f32, max_width: f32) -> Vec<Strin
         lines.push(line);
     }
     lines
+}
+
+/// Split at spaces, but keep a number and the short unit after it together ("38.4 MPa",
+/// "95 %", "72 kB"): they are joined by a no-break space, which the PDF draws as a space.
+fn glue_units(para: &str) -> Vec<String> {
+    let mut out: Vec<String> = Vec::new();
+    for w in para.split(' ') {
+        let glue = match out.last() {
+            Some(prev) => {
+                prev.ends_with(|c: char| c.is_ascii_digit())
+                    && !w.is_empty()
+                    && w.chars().count() <= 6
+                    && !w.starts_with(|c: char| c.is_ascii_digit())
+            }
+            None => false,
+        };
+        if glue {
+            if let Some(prev) = out.last_mut() {
+                prev.push('\u{a0}');
+                prev.push_str(w);
+            }
+        } else {
+            out.push(w.to_string());
+        }
+    }
+    out
 }
 
 /// The visual (left-to-right drawing) order of one line: right-to-left runs reversed by the

@@ -10,20 +10,36 @@ use super::doc::{Block, Document};
 /// renderer that allows raw HTML shows them as text.
 pub fn esc(s: &str) -> String {
     let mut o = String::with_capacity(s.len() + 8);
-    for c in s.chars() {
-        match c {
-            '&' => o.push_str("&amp;"),
-            '<' => o.push_str("&lt;"),
-            '>' => o.push_str("&gt;"),
-            '\\' | '`' | '*' | '_' | '[' | ']' | '(' | ')' | '#' | '|' | '!' | '~' | '{' | '}'
-            | '+' | '-' | '=' => {
-                o.push('\\');
-                o.push(c);
+    for (i, line) in s.split('\n').enumerate() {
+        if i > 0 {
+            o.push('\n');
+        }
+        let mut at_start = true;
+        let mut digits = false;
+        for c in line.chars() {
+            match c {
+                '&' => o.push_str("&amp;"),
+                '<' => o.push_str("&lt;"),
+                '>' => o.push_str("&gt;"),
+                '\\' | '`' | '*' | '_' | '[' | ']' | '|' | '~' => {
+                    o.push('\\');
+                    o.push(c);
+                }
+                // block markers only mean something at the start of a line
+                '#' | '-' | '+' | '=' if at_start => {
+                    o.push('\\');
+                    o.push(c);
+                }
+                '.' | ')' if digits => {
+                    o.push('\\');
+                    o.push(c);
+                }
+                '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}' => {}
+                c if c.is_control() => {}
+                c => o.push(c),
             }
-            '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}' => {}
-            '\n' => o.push('\n'),
-            c if c.is_control() => {}
-            c => o.push(c),
+            digits = (at_start || digits) && c.is_ascii_digit();
+            at_start = at_start && c == ' ';
         }
     }
     o
@@ -132,7 +148,9 @@ mod tests {
 
     #[test]
     fn user_text_cannot_become_markup() {
-        assert_eq!(esc("[x](http://y)"), "\\[x\\]\\(http://y\\)");
+        assert_eq!(esc("[x](http://y)"), "\\[x\\](http://y)");
+        assert_eq!(esc("# not a heading\n- not a list\n12. no"), "\\# not a heading\n\\- not a list\n12\\. no");
+        assert_eq!(esc("cross-checks 1.5"), "cross-checks 1.5");
         assert_eq!(esc("*b* `c`"), "\\*b\\* \\`c\\`");
         assert_eq!(esc("a|b"), "a\\|b");
         assert_eq!(esc("<i>"), "&lt;i&gt;");

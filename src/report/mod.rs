@@ -12,6 +12,7 @@ pub mod html;
 pub mod image;
 pub mod markdown;
 pub mod pdf;
+pub mod source;
 pub mod summary;
 
 pub use doc::{Block, Document, Paper, Table};

@@ -46,6 +46,8 @@ impl FontUse {
     fn encode(&mut self, text: &str) -> Vec<u8> {
         let mut out = Vec::with_capacity(text.len() * 2);
         for c in text.chars() {
+            // a no-break space (from unit gluing) is drawn and extracted as a plain space
+            let c = if c == '\u{a0}' { ' ' } else { c };
             let Some((gid, adv)) = self.font.glyph(c) else {
                 continue;
             };
@@ -361,6 +363,20 @@ impl<'d> Writer<'d> {
             natural[i] += pad;
             minw[i] += pad;
         }
+        // long unbreakable words (hashes) keep their width when the table has room for them
+        let mut full_min = vec![0.0f32; n];
+        let rows = std::iter::once((&t.header, Weight::Bold))
+            .chain(t.rows.iter().map(|r| (r, Weight::Regular)));
+        for (row, w) in rows {
+            for (i, cell) in row.iter().enumerate().take(n) {
+                for word in cell.split([' ', '\n']) {
+                    full_min[i] = full_min[i].max(self.width(word, CELL, w).min(cw) + pad);
+                }
+            }
+        }
+        if full_min.iter().sum::<f32>() <= cw {
+            minw = full_min;
+        }
         let total: f32 = natural.iter().sum();
         if total <= cw {
             let extra = cw - total;
@@ -417,7 +433,22 @@ impl<'d> Writer<'d> {
             .map(|(i, h)| self.wrap(h, CELL, Weight::Bold, widths[i] - 6.0))
             .collect();
         let head_h = head.iter().map(|c| c.len()).max().unwrap_or(1) as f32 * lead + 5.0;
-        self.ensure(head_h + lead + 5.0);
+        // never leave a header alone at the foot of a page: keep it with its first row
+        // (or the first few lines of a long one)
+        let first_lines = t
+            .rows
+            .first()
+            .map(|r| {
+                r.iter()
+                    .enumerate()
+                    .take(widths.len())
+                    .map(|(i, c)| self.wrap(c, CELL, Weight::Regular, widths[i] - 6.0).len())
+                    .max()
+                    .unwrap_or(1)
+            })
+            .unwrap_or(1)
+            .min(4);
+        self.ensure(head_h + first_lines as f32 * lead + 5.0);
         self.table_header(t, &widths, &head);
         let cw = self.cw();
         for row in &t.rows {

@@ -509,10 +509,16 @@ fn computation_section(d: &mut Document, c: &IncidentContent) {
             constant_text(&f.toughness),
             provenance_text(&f.toughness),
         );
-        let mut gb = format!("{}; {}", f.factor.governing_point, f.factor.source);
-        if !f.geometry_basis.is_empty() {
-            gb = format!("{}; {gb}", f.geometry_basis);
-        }
+        let gb = [
+            f.geometry_basis.as_str(),
+            f.factor.governing_point.as_str(),
+            f.factor.source.as_str(),
+        ]
+        .iter()
+        .map(|s| s.trim())
+        .filter(|s| !s.is_empty())
+        .collect::<Vec<_>>()
+        .join("; ");
         add(
             &mut t,
             format!("Geometry factor Y ({})", f.geometry_label),
@@ -648,6 +654,11 @@ fn cause_section(d: &mut Document, c: &IncidentContent) {
     }
 }
 
+/// Keep a date and time on one line in tables.
+fn nb(s: &str) -> String {
+    s.replace(' ', "\u{a0}")
+}
+
 fn human_bytes(n: u64) -> String {
     if n < 1024 {
         format!("{n} B")
@@ -668,20 +679,19 @@ fn attachments_section(
         d.para("No photos or files are attached to this incident.");
         return;
     }
-    let mut t = Table::new(&["File", "Caption", "Size", "Added", "SHA-256"]).numeric(&[2]);
+    let mut t = Table::new(&["File and its SHA-256", "Caption", "Size, added"]);
     for a in &c.attachments {
-        let added = match (&a.added_at, &a.added_by) {
-            (Some(x), Some(y)) => format!("{x}, {y}"),
-            (Some(x), None) => x.clone(),
-            (None, Some(y)) => y.clone(),
-            (None, None) => NOT_RECORDED.into(),
-        };
+        let mut added = human_bytes(a.bytes);
+        if let Some(x) = &a.added_at {
+            added.push_str(&format!("\n{}", nb(x)));
+        }
+        if let Some(y) = &a.added_by {
+            added.push_str(&format!("\n{y}"));
+        }
         t.row(vec![
-            a.name.clone(),
+            format!("{}\n{}", a.name, a.sha256),
             a.caption.clone().unwrap_or_default(),
-            human_bytes(a.bytes),
             added,
-            a.sha256.clone(),
         ]);
     }
     d.push(Block::Table(t));
@@ -711,7 +721,7 @@ fn custody_section(d: &mut Document, c: &IncidentContent) {
     let mut t = Table::new(&["When", "Event", "Who", "Detail"]);
     for e in &c.custody {
         t.row(vec![
-            e.at.clone(),
+            nb(&e.at),
             e.event.clone(),
             or_nr(&e.who),
             e.detail.clone().unwrap_or_default(),
@@ -729,7 +739,7 @@ fn history_section(d: &mut Document, c: &IncidentContent) {
     let mut t = Table::new(&["When", "Who", "Change", "Detail"]);
     for h in &c.history {
         t.row(vec![
-            h.at.clone(),
+            nb(&h.at),
             h.actor.clone(),
             h.action.clone(),
             h.detail.clone().unwrap_or_default(),
@@ -737,4 +747,54 @@ fn history_section(d: &mut Document, c: &IncidentContent) {
     }
     d.push(Block::Table(t));
     d.note("Every change is appended to the hash-chained audit log of the database.");
+}
+
+/// The JSON form of a summary: content, its digest and the proof, for other tools.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SummaryJson {
+    pub format: String,
+    pub content: IncidentContent,
+    pub proof: Proof,
+}
+
+pub const SUMMARY_FORMAT: &str = "shardlog incident summary 1";
+
+/// The proof of a summary's content at export time.
+pub fn proof_for(
+    content: &IncidentContent,
+    chain_head: Option<String>,
+    exported_at: &str,
+) -> Result<Proof, serde_json::Error> {
+    Ok(Proof {
+        content_sha256: super::canonical::digest(content)?,
+        audit_chain_head: chain_head,
+        exported_at: exported_at.to_string(),
+        generator: generator(),
+    })
+}
+
+/// Render one summary in a format.
+pub fn render(
+    content: &IncidentContent,
+    proof: &Proof,
+    pictures: &HashMap<String, Arc<Vec<u8>>>,
+    format: super::Format,
+    paper: super::Paper,
+) -> Result<Vec<u8>, serde_json::Error> {
+    use super::Format;
+    Ok(match format {
+        Format::Pdf => super::pdf::render(&document(content, proof, pictures), paper),
+        Format::Html => super::html::render(&document(content, proof, pictures), paper).into_bytes(),
+        Format::Md => super::markdown::render(&document(content, proof, pictures)).into_bytes(),
+        Format::Json => {
+            let j = SummaryJson {
+                format: SUMMARY_FORMAT.into(),
+                content: content.clone(),
+                proof: proof.clone(),
+            };
+            let mut s = serde_json::to_string_pretty(&j)?;
+            s.push('\n');
+            s.into_bytes()
+        }
+    })
 }

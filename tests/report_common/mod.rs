@@ -130,3 +130,209 @@ pub fn sample_document(hostile: bool) -> Document {
     ];
     d
 }
+
+// ---- a database with invented suppliers and incidents, through the store's own API ----
+
+use chrono::{DateTime, Duration, NaiveDate, Utc};
+use shardlog::store::{
+    self, ComputedResult, Exposure, Incident, Measured, MirrorReading, Stamp, Store, Supplier,
+};
+use shardlog::units::Dimension;
+
+pub fn at(s: &str) -> DateTime<Utc> {
+    DateTime::parse_from_rfc3339(s).unwrap().with_timezone(&Utc)
+}
+
+pub fn day(y: i32, m: u32, d: u32) -> NaiveDate {
+    NaiveDate::from_ymd_opt(y, m, d).unwrap()
+}
+
+pub struct Demo {
+    pub store: Store,
+    pub db: std::path::PathBuf,
+    /// references of the claimed supplier's incidents
+    pub claimed: Vec<String>,
+    pub hostile: Option<String>,
+}
+
+pub const CLAIMED: &str = "VELMARA";
+
+/// Suppliers VELMARA (claimed; `n_claimed` incidents, lot 24-117 weak) and TORSUND
+/// (`n_other`), with exposure rows, readings, saved computations, causes, custody, photos.
+pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile: bool) -> Demo {
+    let db = dir.join("bench.db");
+    let mut s = Store::open(&db).unwrap();
+    s.set_id_seed(7);
+    let st = |t: &str| Stamp::new("ines", at(t));
+    s.add_supplier(
+        &Supplier {
+            id: String::new(),
+            code: CLAIMED.into(),
+            name: "Velmara Glassworks".into(),
+        },
+        &st("2026-01-02T08:00:00Z"),
+    )
+    .unwrap();
+    s.add_supplier(
+        &Supplier {
+            id: String::new(),
+            code: "TORSUND".into(),
+            name: "Torsund Panes".into(),
+        },
+        &st("2026-01-02T08:00:00Z"),
+    )
+    .unwrap();
+    for (sup, panes) in [(CLAIMED, 1200), ("TORSUND", 2400)] {
+        s.add_exposure(
+            &Exposure {
+                id: String::new(),
+                supplier: sup.into(),
+                product: None,
+                lot: None,
+                site: None,
+                installed_on: day(2024, 1, 1),
+                removed_on: None,
+                panes,
+            },
+            &st("2026-01-02T08:00:00Z"),
+        )
+        .unwrap();
+    }
+    let photo_png = fixture("mirror-origin.png");
+    let photo_jpg = fixture("mirror-origin.jpg");
+    let mut claimed = Vec::new();
+    let total = n_claimed + n_other;
+    for i in 0..total {
+        let is_claimed = i < n_claimed;
+        let (sup, lot) = if is_claimed {
+            (CLAIMED, if i % 3 == 0 { "24-117" } else { "24-090" })
+        } else {
+            ("TORSUND", "T-881")
+        };
+        let found = day(2026, 1, 1) + Duration::days((i % 300) as i64);
+        let mut inc = Incident::draft(found);
+        inc.asset = Some(format!("car {}", 200 + i % 40));
+        inc.position = "left side, bay 3".into();
+        inc.site = Some("north-depot".into());
+        inc.environment.temperature_c = Some(-4.0);
+        inc.environment.sun = "sunny afternoon".into();
+        inc.reporter = "depot staff".into();
+        inc.how_found = "found broken at the morning check".into();
+        inc.glass.supplier = Some(sup.into());
+        inc.glass.product = Some("SIDE-6T".into());
+        inc.glass.lot = Some(lot.into());
+        inc.glass.plies.push(store::Ply {
+            material: Some("soda_lime".into()),
+            temper: Some(if is_claimed { "fully_tempered" } else { "annealed" }.into()),
+            thickness_m: Some(0.006),
+            coating: String::new(),
+            edge_finish: "arrissed".into(),
+        });
+        inc.pattern.origin_location = Some(if i % 3 == 0 { "interior" } else { "edge" }.into());
+        inc.pattern.crack_count = Some(3 + (i % 5) as i64);
+        inc.description = "crack running square to the edge, no chip".into();
+        // mirror radii: weak lot breaks at lower stress (larger mirror)
+        let base = if is_claimed && i % 3 == 0 { 2.4 } else { 0.9 };
+        let r = base * (1.0 + 0.35 * ((i * 37 % 17) as f64 / 17.0));
+        let readings = vec![
+            MirrorReading {
+                boundary: "mirror_mist".into(),
+                radius: Measured::parse(&format!("{:.3} mm", r), Dimension::Length).unwrap(),
+                magnification: Some(20.0),
+                analyst: "R. Quennell".into(),
+                note: String::new(),
+            },
+            MirrorReading {
+                boundary: "mirror_mist".into(),
+                radius: Measured::parse(&format!("{:.3} mm", r * 1.04), Dimension::Length)
+                    .unwrap(),
+                magnification: Some(20.0),
+                analyst: "R. Quennell".into(),
+                note: String::new(),
+            },
+        ];
+        let mut exam = store::Examination {
+            id: String::new(),
+            examined_on: Some(found),
+            analyst: "R. Quennell".into(),
+            origin_type: Some(
+                if i % 3 == 0 { "inclusion_nis" } else { "edge_cutting_damage" }.into(),
+            ),
+            material: Some("soda_lime".into()),
+            readings,
+            flaw: None,
+            result: None,
+            notes: String::new(),
+        };
+        if hostile && i == 0 {
+            exam.notes = HOSTILE_NOTE.to_string();
+        }
+        let a = shardlog::report::source::analyze_exam(&inc, &exam).unwrap();
+        exam.result = Some(ComputedResult {
+            computed_at: at("2026-03-14T10:00:00Z"),
+            code_version: store::CODE_VERSION.into(),
+            stress_pa: Some(a.stress_pa),
+            stress_low_pa: Some(a.stress_low_pa),
+            stress_high_pa: Some(a.stress_high_pa),
+            residual_pa: Some(a.residual.at_origin_pa),
+            applied_stress_pa: Some(a.applied_stress_pa),
+            flaw_size_m: a.flaw.as_ref().map(|f| f.size_m),
+            constants: serde_json::json!({}),
+            analysis: serde_json::to_value(&a).unwrap(),
+        });
+        inc.examinations.push(exam);
+        inc.cause = Some(store::Cause {
+            category: if i % 3 == 0 { "nickel_sulfide" } else { "thermal" }.into(),
+            factors: vec!["sunny afternoon, cold night".into()],
+            confidence: "probable".into(),
+            responsibility: if i % 3 == 0 { "supplier" } else { "undetermined" }.into(),
+            note: String::new(),
+        });
+        inc.status = "cause_assigned".into();
+        if hostile && i == 0 {
+            inc.notes = format!("{HOSTILE_NOTE}\n{}", "w".repeat(10_000));
+            inc.position = "bay <b>3</b> & \"left\"".into();
+        }
+        let t = format!("2026-03-14T09:{:02}:00Z", i % 60);
+        let saved = s.create_incident(&inc, &st(&t)).unwrap();
+        s.add_custody(
+            &saved.reference,
+            &store::CustodyEntry {
+                id: String::new(),
+                at: at("2026-03-14T09:10:00Z"),
+                action: "received".into(),
+                who: "depot staff".into(),
+                location: "shelf B".into(),
+                note: String::new(),
+            },
+            &st(&t),
+        )
+        .unwrap();
+        if i < 3 || (is_claimed && i % 25 == 0) {
+            s.add_attachment_bytes(&saved.reference, "origin-x20.png", &photo_png, "origin, ×20", &st(&t))
+                .unwrap();
+            s.add_attachment_bytes(&saved.reference, "origin-x20.jpg", &photo_jpg, "origin, JPEG", &st(&t))
+                .unwrap();
+        }
+        if hostile && i == 0 {
+            s.add_attachment_bytes(
+                &saved.reference,
+                "photo.jpg",
+                b"<script>alert('not a photo')</script>",
+                "a \"photo\" that is not <b>one</b>",
+                &st(&t),
+            )
+            .unwrap();
+        }
+        if is_claimed {
+            claimed.push(saved.reference.clone());
+        }
+    }
+    let hostile_ref = if hostile { claimed.first().cloned() } else { None };
+    Demo {
+        store: s,
+        db,
+        claimed,
+        hostile: hostile_ref,
+    }
+}
