@@ -38,9 +38,16 @@ pub fn show(_args: ShowArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
 }
 
 #[derive(Debug, clap::Args)]
-pub struct VerifyArgs {}
+pub struct VerifyArgs {
+    /// Check a dispute bundle folder instead (and compare it with the database if present).
+    #[arg(long, value_name = "DIR")]
+    pub bundle: Option<std::path::PathBuf>,
+}
 
-pub fn verify(_args: VerifyArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
+pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    if let Some(dir) = &args.bundle {
+        return super::report::verify_bundle_cmd(dir, ctx);
+    }
     Err(CliError::work("'verify' is not built yet"))
 }
 

@@ -87,9 +87,121 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
 }
 
 #[derive(Debug, clap::Args)]
-pub struct DisputeArgs {}
+pub struct DisputeArgs {
+    /// Supplier code or name.
+    #[arg(long, value_name = "NAME")]
+    pub supplier: String,
+    /// Only this lot.
+    #[arg(long, value_name = "LOT")]
+    pub lot: Option<String>,
+    /// Incidents found on or after this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE")]
+    pub since: Option<String>,
+    /// Incidents found on or before this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE")]
+    pub until: Option<String>,
+    /// Paper size of the PDFs.
+    #[arg(long, value_enum, default_value = "a4")]
+    pub paper: Paper,
+    /// The bundle folder to create (must not exist, or be empty).
+    #[arg(short = 'o', long = "output", value_name = "DIR")]
+    pub output: PathBuf,
+}
 
-pub fn dispute(_args: DisputeArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let _ = report::Format::Pdf;
-    Err(CliError::work("'dispute' is not built yet"))
+fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>, CliError> {
+    match v {
+        None => Ok(None),
+        Some(t) => chrono::NaiveDate::parse_from_str(t.trim(), "%Y-%m-%d")
+            .map(Some)
+            .map_err(|_| {
+                CliError::usage(format!(
+                    "--{flag} {t}: expected a date as YYYY-MM-DD, e.g. 2027-03-14"
+                ))
+            }),
+    }
+}
+
+fn bundle_err(e: report::bundle::BundleError) -> CliError {
+    match e {
+        report::bundle::BundleError::Usage(m) => CliError::usage(m),
+        other => CliError::work(other.to_string()),
+    }
+}
+
+pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let since = date_flag("since", &args.since)?;
+    let until = date_flag("until", &args.until)?;
+    let store = open_store(&ctx.db)?;
+    let opts = report::bundle::DisputeOptions {
+        supplier: args.supplier.clone(),
+        lot: args.lot.clone(),
+        since,
+        until,
+        paper: args.paper,
+        exported_at: now_text(),
+        today: chrono::Utc::now().date_naive(),
+    };
+    let w = report::bundle::write_bundle(&store, &opts, &args.output).map_err(bundle_err)?;
+    writeln!(
+        ctx.out,
+        "wrote {}: {} incident summaries, {} attachments, {} files",
+        w.dir.display(),
+        w.incidents,
+        w.attachments,
+        w.files
+    )?;
+    writeln!(ctx.out, "content SHA-256     {}", w.content_sha256)?;
+    writeln!(ctx.out, "audit-chain head    {}", w.audit_chain_head)?;
+    writeln!(
+        ctx.out,
+        "check it with: shardlog --db {} verify --bundle {}",
+        ctx.db.display(),
+        w.dir.display()
+    )?;
+    Ok(())
+}
+
+/// `verify --bundle DIR`: the bundle alone, and against the database when there is one.
+pub fn verify_bundle_cmd(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let store = if ctx.db.exists() {
+        Some(open_store(&ctx.db)?)
+    } else {
+        None
+    };
+    let check = report::verify_bundle(dir, store.as_ref()).map_err(bundle_err)?;
+    let shown = super::sanitize_for_terminal(&dir.display().to_string(), false);
+    writeln!(
+        ctx.out,
+        "bundle {shown}: {} incidents, {} files checked{}",
+        check.incidents,
+        check.files_checked,
+        if check.compared_with_records {
+            format!(", compared with the records in {}", ctx.db.display())
+        } else {
+            " (no database: the records were not compared)".to_string()
+        }
+    )?;
+    for n in &check.notes {
+        writeln!(ctx.out, "note: {}", super::sanitize_for_terminal(n, false))?;
+    }
+    if check.ok() {
+        writeln!(
+            ctx.out,
+            "ok: every file matches the bundle's digest{}",
+            if check.compared_with_records {
+                " and the bundle matches the records"
+            } else {
+                ""
+            }
+        )?;
+        return Ok(());
+    }
+    for p in &check.problems {
+        writeln!(ctx.out, "DIFFERS: {}", super::sanitize_for_terminal(p, false))?;
+    }
+    Err(CliError::work(format!(
+        "the bundle does not verify: {} difference{} (listed above)",
+        check.problems.len(),
+        if check.problems.len() == 1 { "" } else { "s" }
+    )))
 }

@@ -4,6 +4,7 @@
 //! ([`pdf`], [`html`], [`markdown`]) only read it. [`canonical`] gives the digest that proves
 //! a summary or bundle unchanged.
 
+pub mod bundle;
 pub mod canonical;
 pub mod chart;
 pub mod doc;
@@ -15,6 +16,7 @@ pub mod pdf;
 pub mod source;
 pub mod summary;
 
+pub use bundle::{verify_bundle, BundleCheck};
 pub use doc::{Block, Document, Paper, Table};
 
 /// Output formats of a single summary.
