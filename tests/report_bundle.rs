@@ -86,7 +86,13 @@ fn setup() -> Setup {
     let bundle = tmp.path().join("claim-2027-03");
     let o = shardlog(
         &db,
-        &["dispute", "--supplier", CLAIMED, "-o", bundle.to_str().unwrap()],
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "-o",
+            bundle.to_str().unwrap(),
+        ],
     );
     assert!(
         o.status.success(),
@@ -116,6 +122,12 @@ impl Setup {
 #[test]
 fn a_fresh_bundle_holds_everything_and_verifies() {
     let s = setup();
+    // kept for looking at: target/tmp/report/bundle
+    let keep = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join("report")
+        .join("bundle");
+    let _ = std::fs::remove_dir_all(&keep);
+    copy_dir(&s.bundle, &keep);
     for f in ["cover.pdf", "cover.html", "figures.csv", "bundle.json"] {
         assert!(s.bundle.join(f).exists(), "{f} missing");
     }
@@ -131,7 +143,12 @@ fn a_fresh_bundle_holds_everything_and_verifies() {
     assert_eq!(bf.content.incidents.len(), 8);
     assert_eq!(bf.content_sha256, digest(&bf.content).unwrap());
     // cover: the rate against the other supplier and a Weibull row for each
-    assert!(bf.content.cover.rates.iter().any(|r| r.claimed && r.rate_per_1000.is_some()));
+    assert!(bf
+        .content
+        .cover
+        .rates
+        .iter()
+        .any(|r| r.claimed && r.rate_per_1000.is_some()));
     assert!(bf.content.cover.rates.iter().any(|r| !r.claimed));
     assert!(bf.content.cover.weibull.len() >= 2);
     let cover = Command::new("pdftotext")
@@ -177,9 +194,18 @@ fn each_kind_of_edit_is_found() {
     let d = s.copy("figure");
     let text = std::fs::read_to_string(d.join("bundle.json")).unwrap();
     let mut bf: BundleFile = serde_json::from_str(&text).unwrap();
-    let a = bf.content.incidents[1].content.examination.analysis.as_mut().unwrap();
+    let a = bf.content.incidents[1]
+        .content
+        .examination
+        .analysis
+        .as_mut()
+        .unwrap();
     a.applied_stress_pa *= 1.5;
-    std::fs::write(d.join("bundle.json"), serde_json::to_string_pretty(&bf).unwrap()).unwrap();
+    std::fs::write(
+        d.join("bundle.json"),
+        serde_json::to_string_pretty(&bf).unwrap(),
+    )
+    .unwrap();
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
     assert!(out.contains("content was edited"), "{out}");
@@ -189,7 +215,10 @@ fn each_kind_of_edit_is_found() {
     rewrite_consistently(&d, bf.clone());
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
-    assert!(out.contains("differs from what the bundle's content renders to"), "{out}");
+    assert!(
+        out.contains("differs from what the bundle's content renders to"),
+        "{out}"
+    );
     // even after re-rendering every file from the forged content, the records disagree
     let pictures = std::collections::HashMap::new();
     for (path, bytes) in bundle::render_files(&bf.content, &pictures, 2) {
@@ -201,8 +230,9 @@ fn each_kind_of_edit_is_found() {
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
     assert!(
-        out.contains(&format!("incident {victim}: the bundle does not match the records"))
-            && out.contains("applied_stress_pa"),
+        out.contains(&format!(
+            "incident {victim}: the bundle does not match the records"
+        )) && out.contains("applied_stress_pa"),
         "{out}"
     );
 
@@ -216,7 +246,10 @@ fn each_kind_of_edit_is_found() {
     std::fs::write(&p, b).unwrap();
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
-    assert!(out.contains(&format!("attachments/{png}.png: the file was edited")), "{out}");
+    assert!(
+        out.contains(&format!("attachments/{png}.png: the file was edited")),
+        "{out}"
+    );
 
     // an incident summary PDF, one byte
     let d = s.copy("pdf");
@@ -227,14 +260,20 @@ fn each_kind_of_edit_is_found() {
     std::fs::write(&p, b).unwrap();
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
-    assert!(out.contains(&format!("incidents/{victim}.pdf: the file was edited")), "{out}");
+    assert!(
+        out.contains(&format!("incidents/{victim}.pdf: the file was edited")),
+        "{out}"
+    );
 
     // a removed incident: its PDF deleted
     let d = s.copy("removed-pdf");
     std::fs::remove_file(d.join(format!("incidents/{victim}.pdf"))).unwrap();
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
-    assert!(out.contains(&format!("incidents/{victim}.pdf: the file is missing")), "{out}");
+    assert!(
+        out.contains(&format!("incidents/{victim}.pdf: the file is missing")),
+        "{out}"
+    );
 
     // a removed incident, removed from bundle.json too and everything made consistent:
     // only the records can tell, and they do
@@ -257,7 +296,11 @@ fn each_kind_of_edit_is_found() {
     }
     rewrite_consistently(&d, bf);
     let alone = bundle::verify_bundle(&d, None).unwrap();
-    assert!(alone.ok(), "a consistent forgery passes without the records: {:?}", alone.problems);
+    assert!(
+        alone.ok(),
+        "a consistent forgery passes without the records: {:?}",
+        alone.problems
+    );
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
     assert!(
@@ -270,7 +313,10 @@ fn each_kind_of_edit_is_found() {
     std::fs::write(d.join("incidents/BR-999999-0001.pdf"), b"%PDF-1.7 forged").unwrap();
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
-    assert!(out.contains("BR-999999-0001.pdf: a file that is not part of the bundle"), "{out}");
+    assert!(
+        out.contains("BR-999999-0001.pdf: a file that is not part of the bundle"),
+        "{out}"
+    );
 
     // bundle.json that is not JSON: a clear failure, no panic
     let d = s.copy("garbage");
@@ -301,11 +347,15 @@ fn a_record_changed_after_the_export_is_named() {
     let (code, out) = verify(&s.db, &s.bundle);
     assert_eq!(code, 1, "{out}");
     assert!(
-        out.contains(&format!("incident {victim}: the bundle does not match the records"))
-            && out.contains("content.cause.responsibility"),
+        out.contains(&format!(
+            "incident {victim}: the bundle does not match the records"
+        )) && out.contains("content.cause.responsibility"),
         "{out}"
     );
-    assert!(out.contains("the database has changed since the export"), "{out}");
+    assert!(
+        out.contains("the database has changed since the export"),
+        "{out}"
+    );
 }
 
 #[test]
@@ -314,26 +364,58 @@ fn dispute_refuses_bad_input_clearly() {
     let demo = demo_db(tmp.path(), 1, 1, false);
     drop(demo.store);
     let out = tmp.path().join("b");
-    let o = shardlog(&demo.db, &["dispute", "--supplier", "NOBODY", "-o", out.to_str().unwrap()]);
+    let o = shardlog(
+        &demo.db,
+        &[
+            "dispute",
+            "--supplier",
+            "NOBODY",
+            "-o",
+            out.to_str().unwrap(),
+        ],
+    );
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--supplier NOBODY"));
     let o = shardlog(
         &demo.db,
-        &["dispute", "--supplier", CLAIMED, "--since", "14/03/2027", "-o", out.to_str().unwrap()],
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "--since",
+            "14/03/2027",
+            "-o",
+            out.to_str().unwrap(),
+        ],
     );
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("YYYY-MM-DD"));
     // an existing, non-empty folder is never overwritten
     std::fs::create_dir_all(&out).unwrap();
     std::fs::write(out.join("keep.txt"), b"mine").unwrap();
-    let o = shardlog(&demo.db, &["dispute", "--supplier", CLAIMED, "-o", out.to_str().unwrap()]);
+    let o = shardlog(
+        &demo.db,
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "-o",
+            out.to_str().unwrap(),
+        ],
+    );
     assert_eq!(o.status.code(), Some(2));
     assert_eq!(std::fs::read(out.join("keep.txt")).unwrap(), b"mine");
     // by supplier name, case-insensitive, works too
     let out2 = tmp.path().join("c");
     let o = shardlog(
         &demo.db,
-        &["dispute", "--supplier", "velmara glassworks", "-o", out2.to_str().unwrap()],
+        &[
+            "dispute",
+            "--supplier",
+            "velmara glassworks",
+            "-o",
+            out2.to_str().unwrap(),
+        ],
     );
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
 }

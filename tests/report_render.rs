@@ -12,7 +12,10 @@ use shardlog::report::doc::Paper;
 use shardlog::report::{html, markdown, pdf};
 
 fn out_dir(name: &str) -> PathBuf {
-    let d = Path::new(env!("CARGO_TARGET_TMPDIR")).join("report").join(name);
+    let d = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join("report")
+        .join(name);
+    let _ = std::fs::remove_dir_all(&d);
     std::fs::create_dir_all(&d).unwrap();
     d
 }
@@ -23,9 +26,17 @@ fn pdftotext(pdf: &Path, page: Option<usize>) -> String {
     if let Some(p) = page {
         c.arg("-f").arg(p.to_string()).arg("-l").arg(p.to_string());
     }
-    let o = c.arg(pdf).arg("-").output().expect("pdftotext runs (poppler-utils)");
+    let o = c
+        .arg(pdf)
+        .arg("-")
+        .output()
+        .expect("pdftotext runs (poppler-utils)");
     let err = String::from_utf8_lossy(&o.stderr);
-    assert!(o.status.success(), "pdftotext failed on {}: {err}", pdf.display());
+    assert!(
+        o.status.success(),
+        "pdftotext failed on {}: {err}",
+        pdf.display()
+    );
     assert!(
         !err.contains("Syntax Error") && !err.contains("rror"),
         "poppler complained about {}: {err}",
@@ -35,7 +46,10 @@ fn pdftotext(pdf: &Path, page: Option<usize>) -> String {
 }
 
 fn page_count(pdf: &Path) -> usize {
-    let o = Command::new("pdfinfo").arg(pdf).output().expect("pdfinfo runs");
+    let o = Command::new("pdfinfo")
+        .arg(pdf)
+        .output()
+        .expect("pdfinfo runs");
     assert!(o.status.success());
     let s = String::from_utf8_lossy(&o.stdout);
     s.lines()
@@ -45,7 +59,10 @@ fn page_count(pdf: &Path) -> usize {
 }
 
 fn page_size(pdf: &Path) -> String {
-    let o = Command::new("pdfinfo").arg(pdf).output().expect("pdfinfo runs");
+    let o = Command::new("pdfinfo")
+        .arg(pdf)
+        .output()
+        .expect("pdfinfo runs");
     let s = String::from_utf8_lossy(&o.stdout).to_string();
     s.lines()
         .find(|l| l.starts_with("Page size:"))
@@ -63,7 +80,10 @@ fn pdftoppm(pdf: &Path, prefix: &Path) -> Vec<PathBuf> {
         .output()
         .expect("pdftoppm runs (poppler-utils)");
     let err = String::from_utf8_lossy(&o.stderr);
-    assert!(o.status.success() && !err.contains("rror"), "pdftoppm: {err}");
+    assert!(
+        o.status.success() && !err.contains("rror"),
+        "pdftoppm: {err}"
+    );
     let dir = prefix.parent().unwrap();
     let stem = prefix.file_name().unwrap().to_string_lossy().to_string();
     let mut v: Vec<PathBuf> = std::fs::read_dir(dir)
@@ -121,12 +141,21 @@ fn pdf_pages_read_back_with_header_page_numbers_and_unicode() {
             "Ünterlinde Glasbau",
             "Cautions",
         ] {
-            assert!(all.contains(needle), "{needle} missing from {paper:?} PDF text");
+            assert!(
+                all.contains(needle),
+                "{needle} missing from {paper:?} PDF text"
+            );
         }
         for p in 1..=n {
             let t = pdftotext(&path, Some(p));
-            assert!(t.contains("TST-0001"), "page {p} lacks the header reference");
-            assert!(t.contains(&format!("Page {p} of {n}")), "page {p} lacks its number");
+            assert!(
+                t.contains("TST-0001"),
+                "page {p} lacks the header reference"
+            );
+            assert!(
+                t.contains(&format!("Page {p} of {n}")),
+                "page {p} lacks its number"
+            );
         }
         // the long table's header row is repeated on each page it reaches
         let with_header = (1..=n)
@@ -135,7 +164,10 @@ fn pdf_pages_read_back_with_header_page_numbers_and_unicode() {
         let with_rows = (1..=n)
             .filter(|p| pdftotext(&path, Some(*p)).contains("row 1"))
             .count();
-        assert!(with_rows >= 2 && with_header >= with_rows, "{with_header} {with_rows}");
+        assert!(
+            with_rows >= 2 && with_header >= with_rows,
+            "{with_header} {with_rows}"
+        );
         // every row reached the page (no truncated table)
         for i in [1, 57, 119, 120] {
             assert!(all.contains(&format!("row {i} ")), "row {i} missing");
@@ -160,9 +192,15 @@ fn hostile_text_is_safe_in_every_format() {
     let text = pdftotext(&path, None);
     assert!(text.contains("<script>alert"));
     assert!(text.contains("O'Brien & \"Sons\""));
-    assert!(text.contains("שלום") || text.contains("םולש"), "Hebrew lost");
+    assert!(
+        text.contains("שלום") || text.contains("םולש"),
+        "Hebrew lost"
+    );
     assert!(text.contains("Attachment not shown"));
-    assert!(text.matches('y').count() >= 10_000, "the 10,000-character line was cut");
+    assert!(
+        text.matches('y').count() >= 10_000,
+        "the 10,000-character line was cut"
+    );
     let pngs = pdftoppm(&path, &dir.join("hostile-page"));
     assert!(!pngs.is_empty());
 
@@ -173,12 +211,19 @@ fn hostile_text_is_safe_in_every_format() {
     assert!(h.contains("O&#39;Brien &amp; &quot;Sons&quot;"));
     assert!(!h.contains("src=\"http") && !h.contains("href=") && !h.contains("url("));
     // the file that is not an image is listed, not embedded
-    assert_eq!(h.matches("data:image/").count(), 2, "only the two real photos embedded");
+    assert_eq!(
+        h.matches("data:image/").count(),
+        2,
+        "only the two real photos embedded"
+    );
     let hp = dir.join("hostile.html");
     std::fs::write(&hp, &h).unwrap();
     let (printed, shot) = chromium(&hp, &dir);
     let ptext = pdftotext(&printed, None);
-    assert!(ptext.contains("<script>alert"), "Chromium shows the tag as text");
+    assert!(
+        ptext.contains("<script>alert"),
+        "Chromium shows the tag as text"
+    );
     assert!(std::fs::metadata(&shot).unwrap().len() > 1000);
     assert!(png_has_ink(&shot));
 

@@ -27,7 +27,10 @@ fn pdftotext(pdf: &Path) -> String {
         .output()
         .expect("pdftotext runs (poppler-utils)");
     let err = String::from_utf8_lossy(&o.stderr);
-    assert!(o.status.success() && !err.contains("rror"), "pdftotext: {err}");
+    assert!(
+        o.status.success() && !err.contains("rror"),
+        "pdftotext: {err}"
+    );
     String::from_utf8(o.stdout).unwrap()
 }
 
@@ -54,14 +57,28 @@ fn summaries_of_demo_incidents_in_every_format() {
     let demo = demo_db(tmp.path(), 4, 2, false);
     let reference = demo.claimed[0].clone();
     drop(demo.store);
-    let out = Path::new(env!("CARGO_TARGET_TMPDIR")).join("report").join("summary");
+    let out = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join("report")
+        .join("summary");
     std::fs::create_dir_all(&out).unwrap();
 
-    for (fmt, ext) in [("pdf", "pdf"), ("html", "html"), ("md", "md"), ("json", "json")] {
+    for (fmt, ext) in [
+        ("pdf", "pdf"),
+        ("html", "html"),
+        ("md", "md"),
+        ("json", "json"),
+    ] {
         let file = out.join(format!("{reference}.{ext}"));
         let o = shardlog(
             &demo.db,
-            &["report", &reference, "--format", fmt, "-o", file.to_str().unwrap()],
+            &[
+                "report",
+                &reference,
+                "--format",
+                fmt,
+                "-o",
+                file.to_str().unwrap(),
+            ],
         );
         assert!(
             o.status.success(),
@@ -140,15 +157,28 @@ fn a_hostile_incident_is_safe_in_every_format() {
     let demo = demo_db(tmp.path(), 1, 0, true);
     let reference = demo.hostile.clone().unwrap();
     drop(demo.store);
-    let out = Path::new(env!("CARGO_TARGET_TMPDIR")).join("report").join("summary");
+    let out = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join("report")
+        .join("summary");
     std::fs::create_dir_all(&out).unwrap();
     for fmt in ["pdf", "html", "md", "json"] {
         let file = out.join(format!("hostile.{fmt}"));
         let o = shardlog(
             &demo.db,
-            &["report", &reference, "--format", fmt, "-o", file.to_str().unwrap()],
+            &[
+                "report",
+                &reference,
+                "--format",
+                fmt,
+                "-o",
+                file.to_str().unwrap(),
+            ],
         );
-        assert!(o.status.success(), "{fmt}: {}", String::from_utf8_lossy(&o.stderr));
+        assert!(
+            o.status.success(),
+            "{fmt}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
         match fmt {
             "pdf" => {
                 let t = pdftotext(&file);
@@ -171,7 +201,10 @@ fn a_hostile_incident_is_safe_in_every_format() {
                 let j: serde_json::Value =
                     serde_json::from_str(&std::fs::read_to_string(&file).unwrap()).unwrap();
                 let notes = j["content"]["notes"][0]["text"].as_str().unwrap();
-                assert!(notes.starts_with(HOSTILE_NOTE), "JSON keeps the text as it was");
+                assert!(
+                    notes.starts_with(HOSTILE_NOTE),
+                    "JSON keeps the text as it was"
+                );
             }
         }
     }

@@ -27,7 +27,9 @@ pub(crate) fn open_store(db: &Path) -> Result<Store, CliError> {
 }
 
 pub(crate) fn now_text() -> String {
-    chrono::Utc::now().format("%Y-%m-%d %H:%M:%S UTC").to_string()
+    chrono::Utc::now()
+        .format("%Y-%m-%d %H:%M:%S UTC")
+        .to_string()
 }
 
 /// Write a file through a temporary sibling and a rename, so that an interrupted write
@@ -61,8 +63,8 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         .get(&args.reference)
         .map_err(|e| CliError::work(e.to_string()))?;
     let labels = source::Labels::load(&store).map_err(|e| CliError::work(e.to_string()))?;
-    let (content, pictures) =
-        source::incident_content(&store, &labels, &inc).map_err(|e| CliError::work(e.to_string()))?;
+    let (content, pictures) = source::incident_content(&store, &labels, &inc)
+        .map_err(|e| CliError::work(e.to_string()))?;
     let head = store
         .audit_head()
         .map_err(|e| CliError::work(e.to_string()))?;
@@ -197,7 +199,11 @@ pub fn verify_bundle_cmd(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliErr
         return Ok(());
     }
     for p in &check.problems {
-        writeln!(ctx.out, "DIFFERS: {}", super::sanitize_for_terminal(p, false))?;
+        writeln!(
+            ctx.out,
+            "DIFFERS: {}",
+            super::sanitize_for_terminal(p, false)
+        )?;
     }
     Err(CliError::work(format!(
         "the bundle does not verify: {} difference{} (listed above)",

@@ -206,7 +206,10 @@ fn ref_file(reference: &str) -> String {
             }
         })
         .collect();
-    format!("incidents/{}.pdf", if s.is_empty() { "incident".into() } else { s })
+    format!(
+        "incidents/{}.pdf",
+        if s.is_empty() { "incident".into() } else { s }
+    )
 }
 
 fn resolve_supplier(s: &Store, wanted: &str) -> Result<store::Supplier, BundleError> {
@@ -371,8 +374,7 @@ fn cover(
         .unwrap_or(opts.today);
     let since = opts.since.unwrap_or(earliest);
     let until = opts.until.unwrap_or(opts.today).max(since);
-    let window = fleet::Window::new(since, until)
-        .map_err(|e| BundleError::Usage(e.to_string()))?;
+    let window = fleet::Window::new(since, until).map_err(|e| BundleError::Usage(e.to_string()))?;
     let facts: Vec<fleet::IncidentFacts> = all_rows
         .iter()
         .map(|r| fleet::IncidentFacts {
@@ -426,7 +428,10 @@ fn cover(
     };
     let mut rates = Vec::new();
     let mut weibull = Vec::new();
-    let to_row = |name: String, claimed: bool, fit: &Result<fleet::WeibullFit, fleet::WeibullError>, n: usize| match fit {
+    let to_row = |name: String,
+                  claimed: bool,
+                  fit: &Result<fleet::WeibullFit, fleet::WeibullError>,
+                  n: usize| match fit {
         Ok(f) => WeibullRow {
             group: name,
             claimed,
@@ -559,15 +564,12 @@ pub fn cover_document(c: &BundleContent) -> Document {
     if let Some(l) = &sel.lot {
         scope.push_str(&format!(", lot {l}"));
     }
-    scope.push_str(&format!(
-        ", found between {} and {}.",
-        sel.since
-            .map(|d| d.to_string())
-            .unwrap_or_else(|| "the first record".into()),
-        sel.until
-            .map(|d| d.to_string())
-            .unwrap_or_else(|| "the export".into())
-    ));
+    scope.push_str(&match (sel.since, sel.until) {
+        (Some(a), Some(b)) => format!(", found from {a} to {b}."),
+        (Some(a), None) => format!(", found on or after {a}."),
+        (None, Some(b)) => format!(", found on or before {b}."),
+        (None, None) => ", found on any date up to the export.".to_string(),
+    });
     d.para(scope);
     let mut t = Table::new(&["Cause", "Incidents"]).numeric(&[1]);
     for x in &cv.by_cause {
@@ -700,7 +702,9 @@ pub fn cover_document(c: &BundleContent) -> Document {
     let (lo, hi) = cv
         .stresses_mpa
         .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(*v), b.max(*v)));
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+            (a.min(*v), b.max(*v))
+        });
     if lo.is_finite() && hi.is_finite() {
         let (edges, cnt) = fleet::histogram(&cv.stresses_mpa, 10);
         let width = if hi > lo { (hi - lo) / 10.0 } else { 1.0 };
@@ -750,7 +754,10 @@ pub fn cover_document(c: &BundleContent) -> Document {
         t.row(vec![
             i.reference.clone(),
             ct.identification.found_on.clone().unwrap_or_default(),
-            ct.glass.lot.clone().unwrap_or_else(|| "not recorded".into()),
+            ct.glass
+                .lot
+                .clone()
+                .unwrap_or_else(|| "not recorded".into()),
             ct.examination
                 .origin_type
                 .clone()
@@ -786,7 +793,10 @@ pub fn cover_document(c: &BundleContent) -> Document {
                 c.attachments.iter().filter(|a| a.file.is_some()).count()
             ),
         ),
-        ("figures.csv".into(), "one row of figures per incident".into()),
+        (
+            "figures.csv".into(),
+            "one row of figures per incident".into(),
+        ),
         (
             "bundle.json".into(),
             "everything above as data, the digest and the SHA-256 of every file".into(),
@@ -801,8 +811,14 @@ pub fn cover_document(c: &BundleContent) -> Document {
         lines: CAUTIONS.iter().map(|s| s.to_string()).collect(),
     });
     d.proof = vec![
-        ("Bundle content SHA-256".into(), "see bundle.json".into()),
-        ("Audit-chain head at export".into(), c.audit_chain_head.clone()),
+        (
+            "Bundle content SHA-256".into(),
+            digest(c).unwrap_or_else(|_| "not computable".into()),
+        ),
+        (
+            "Audit-chain head at export".into(),
+            c.audit_chain_head.clone(),
+        ),
         ("Exported".into(), c.exported_at.clone()),
         ("Produced by".into(), c.generator.clone()),
     ];
@@ -872,7 +888,8 @@ pub fn figures_csv(c: &BundleContent) -> String {
                 .map(|t| num(t * 1e3))
                 .unwrap_or_default(),
             ct.examination.readings.len().to_string(),
-            b.map(|b| b.boundary.label().to_string()).unwrap_or_default(),
+            b.map(|b| b.boundary.label().to_string())
+                .unwrap_or_default(),
             b.map(|b| num(b.stats.mean * 1e3)).unwrap_or_default(),
             b.map(|b| num(b.constant.value / 1e6)).unwrap_or_default(),
             b.map(|b| b.constant.provenance.to_string())
@@ -882,7 +899,8 @@ pub fn figures_csv(c: &BundleContent) -> String {
             a.map(|a| num(a.stress_high_pa / 1e6)).unwrap_or_default(),
             a.map(|a| num(a.residual.at_origin_pa / 1e6))
                 .unwrap_or_default(),
-            a.map(|a| num(a.applied_stress_pa / 1e6)).unwrap_or_default(),
+            a.map(|a| num(a.applied_stress_pa / 1e6))
+                .unwrap_or_default(),
             a.map(|a| num(a.applied_low_pa / 1e6)).unwrap_or_default(),
             a.map(|a| num(a.applied_high_pa / 1e6)).unwrap_or_default(),
             f.map(|f| num(f.size_m * 1e6)).unwrap_or_default(),
@@ -942,7 +960,8 @@ pub fn render_files(
                 scope.spawn(move || {
                     part.iter()
                         .map(|i| {
-                            let doc = summary::document(&i.content, &incident_proof(c, i), pictures);
+                            let doc =
+                                summary::document(&i.content, &incident_proof(c, i), pictures);
                             (i.file.clone(), super::pdf::render(&doc, paper))
                         })
                         .collect::<Vec<_>>()
@@ -1049,7 +1068,11 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
     Ok(Written {
         dir: dir.to_path_buf(),
         incidents: content.incidents.len(),
-        attachments: content.attachments.iter().filter(|a| a.file.is_some()).count(),
+        attachments: content
+            .attachments
+            .iter()
+            .filter(|a| a.file.is_some())
+            .count(),
         files: entries.len() + 1,
         content_sha256: digest(&content)?,
         audit_chain_head: content.audit_chain_head.clone(),
@@ -1077,7 +1100,11 @@ impl BundleCheck {
 }
 
 /// The first JSON path where two values differ, with both values (shortened).
-pub fn first_difference(a: &serde_json::Value, b: &serde_json::Value, path: &str) -> Option<String> {
+pub fn first_difference(
+    a: &serde_json::Value,
+    b: &serde_json::Value,
+    path: &str,
+) -> Option<String> {
     use serde_json::Value;
     if a == b {
         return None;
@@ -1175,7 +1202,9 @@ pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, B
     let text = match read_limited(&bj) {
         Ok(b) => b,
         Err(e) => {
-            check.problems.push(format!("bundle.json: cannot be read ({e})"));
+            check
+                .problems
+                .push(format!("bundle.json: cannot be read ({e})"));
             return Ok(check);
         }
     };
@@ -1191,9 +1220,9 @@ pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, B
     let bf: BundleFile = match serde_json::from_value(value.clone()) {
         Ok(b) => b,
         Err(e) => {
-            check.problems.push(format!(
-                "bundle.json: not a shardlog dispute bundle ({e})"
-            ));
+            check
+                .problems
+                .push(format!("bundle.json: not a shardlog dispute bundle ({e})"));
             return Ok(check);
         }
     };
@@ -1238,9 +1267,10 @@ pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, B
     let mut disk_bytes: HashMap<String, Vec<u8>> = HashMap::new();
     for f in &bf.files {
         if f.path.contains("..") || f.path.starts_with('/') || f.path.contains('\\') {
-            check
-                .problems
-                .push(format!("bundle.json: file path {} leaves the bundle", f.path));
+            check.problems.push(format!(
+                "bundle.json: file path {} leaves the bundle",
+                f.path
+            ));
             continue;
         }
         let p = dir.join(&f.path);
@@ -1263,9 +1293,9 @@ pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, B
     }
     for extra in on_disk.difference(&listed) {
         if extra != "bundle.json" {
-            check
-                .problems
-                .push(format!("{extra}: a file that is not part of the bundle was added"));
+            check.problems.push(format!(
+                "{extra}: a file that is not part of the bundle was added"
+            ));
         }
     }
     // 3. attachments are what their names say
@@ -1325,7 +1355,11 @@ pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, B
     Ok(check)
 }
 
-fn compare_with_records(s: &Store, c: &BundleContent, check: &mut BundleCheck) -> Result<(), BundleError> {
+fn compare_with_records(
+    s: &Store,
+    c: &BundleContent,
+    check: &mut BundleCheck,
+) -> Result<(), BundleError> {
     let chain = s.verify()?;
     if !chain.ok() {
         check.problems.push(format!(
@@ -1346,8 +1380,8 @@ fn compare_with_records(s: &Store, c: &BundleContent, check: &mut BundleCheck) -
         if now != i.content {
             let a = serde_json::to_value(&i.content)?;
             let b = serde_json::to_value(&now)?;
-            let diff = first_difference(&a, &b, "content")
-                .unwrap_or_else(|| "a value differs".into());
+            let diff =
+                first_difference(&a, &b, "content").unwrap_or_else(|| "a value differs".into());
             check.problems.push(format!(
                 "incident {}: the bundle does not match the records: {diff}",
                 i.reference

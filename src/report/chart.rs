@@ -323,7 +323,14 @@ fn histogram(
             color: AXIS,
             dashed: false,
         });
-        text(&mut p, x, f.y0 + f.h + 12.0, 7.5, Anchor::Middle, &fmt_tick(t));
+        text(
+            &mut p,
+            x,
+            f.y0 + f.h + 12.0,
+            7.5,
+            Anchor::Middle,
+            &fmt_tick(t),
+        );
     }
     if let Some((v, label)) = marker {
         if v.is_finite() && *v >= lo && *v <= hi {
@@ -404,7 +411,11 @@ fn weibull(w: f32, h: f32, x_label: &str, series: &[WeibullSeries]) -> Vec<Prim>
     let pad = (xhi - xlo) * 0.08;
     let (xlo, xhi) = (xlo - pad, xhi + pad);
     let ylo = wy(0.01).min(pts.iter().map(|p| wy(p.1)).fold(f64::INFINITY, f64::min));
-    let yhi = wy(0.99).max(pts.iter().map(|p| wy(p.1)).fold(f64::NEG_INFINITY, f64::max));
+    let yhi = wy(0.99).max(
+        pts.iter()
+            .map(|p| wy(p.1))
+            .fold(f64::NEG_INFINITY, f64::max),
+    );
     let legend_h = 12.0 * series.len().min(6) as f32;
     let f = Frame {
         x0: 56.0,
@@ -456,7 +467,14 @@ fn weibull(w: f32, h: f32, x_label: &str, series: &[WeibullSeries]) -> Vec<Prim>
                 color: GRID,
                 dashed: false,
             });
-            text(&mut p, x, f.y0 + f.h + 11.0, 7.5, Anchor::Middle, &fmt_tick(t));
+            text(
+                &mut p,
+                x,
+                f.y0 + f.h + 11.0,
+                7.5,
+                Anchor::Middle,
+                &fmt_tick(t),
+            );
         }
         d *= 10.0;
         n += 1;
@@ -468,8 +486,7 @@ fn weibull(w: f32, h: f32, x_label: &str, series: &[WeibullSeries]) -> Vec<Prim>
                 // F(x) = 1 − exp(−(x/s0)^m): a straight line on these axes
                 let yv = |x: f64| m * (x.ln() - s0.ln());
                 let (xa, xb) = (lo, hi);
-                let to_y =
-                    |v: f64| f.y0 + f.h - ((v - ylo) / (yhi - ylo)) as f32 * f.h;
+                let to_y = |v: f64| f.y0 + f.h - ((v - ylo) / (yhi - ylo)) as f32 * f.h;
                 let (mut ya, mut yb) = (to_y(yv(xa)), to_y(yv(xb)));
                 let (mut pxa, mut pxb) = (sx(xa), sx(xb));
                 // clip to the frame vertically
@@ -594,7 +611,14 @@ fn bar_chart(w: f32, h: f32, x_label: &str, bars: &[(String, f64)]) -> Vec<Prim>
             color: GRID,
             dashed: false,
         });
-        text(&mut p, x, f.y0 + f.h + 11.0, 7.5, Anchor::Middle, &fmt_tick(*t));
+        text(
+            &mut p,
+            x,
+            f.y0 + f.h + 11.0,
+            7.5,
+            Anchor::Middle,
+            &fmt_tick(*t),
+        );
     }
     for (i, (label, v)) in bars.iter().enumerate() {
         let y = f.y0 + band * i as f32;
@@ -612,7 +636,14 @@ fn bar_chart(w: f32, h: f32, x_label: &str, bars: &[(String, f64)]) -> Vec<Prim>
         if l.chars().count() > max_chars.max(4) {
             l = l.chars().take(max_chars.max(4) - 1).collect::<String>() + "…";
         }
-        text(&mut p, f.x0 - 4.0, yb + bh / 2.0 + 2.7, 7.5, Anchor::End, &l);
+        text(
+            &mut p,
+            f.x0 - 4.0,
+            yb + bh / 2.0 + 2.7,
+            7.5,
+            Anchor::End,
+            &l,
+        );
         text(
             &mut p,
             sx(*v) + 3.0,
@@ -640,7 +671,10 @@ mod tests {
 
     #[test]
     fn ticks_are_nice_and_cover_the_range() {
-        assert_eq!(nice_ticks(0.0, 10.0, 5), vec![0.0, 2.0, 4.0, 6.0, 8.0, 10.0]);
+        assert_eq!(
+            nice_ticks(0.0, 10.0, 5),
+            vec![0.0, 2.0, 4.0, 6.0, 8.0, 10.0]
+        );
         let t = nice_ticks(13.0, 97.0, 5);
         assert!(t[0] <= 13.0 && *t.last().unwrap() >= 97.0 - 1e-9);
         assert_eq!(nice_ticks(f64::NAN, 1.0, 5).len(), 1);
@@ -689,7 +723,10 @@ mod tests {
                     Prim::Text { x, y, .. } => (x, y),
                 };
                 assert!(x.is_finite() && y.is_finite());
-                assert!((-1.0..=401.0).contains(&x) && (-1.0..=201.0).contains(&y), "{p:?}");
+                assert!(
+                    (-1.0..=401.0).contains(&x) && (-1.0..=201.0).contains(&y),
+                    "{p:?}"
+                );
             }
         }
     }

@@ -30,10 +30,16 @@ pub enum Block {
     /// Label / value pairs, two columns, no rules.
     KeyValue(Vec<(String, String)>),
     Table(Table),
-    Figure { chart: Chart, caption: String },
+    Figure {
+        chart: Chart,
+        caption: String,
+    },
     Picture(Picture),
     /// A framed box with a title (the cautions).
-    Boxed { title: String, lines: Vec<String> },
+    Boxed {
+        title: String,
+        lines: Vec<String>,
+    },
 }
 
 #[derive(Debug, Clone, Default, Serialize)]

@@ -133,14 +133,22 @@ fn block(h: &mut String, b: &Block) {
         Block::Table(t) => {
             h.push_str("<table>\n<thead><tr>");
             for (i, c) in t.header.iter().enumerate() {
-                let cls = if t.is_numeric(i) { " class=\"num\"" } else { "" };
+                let cls = if t.is_numeric(i) {
+                    " class=\"num\""
+                } else {
+                    ""
+                };
                 let _ = write!(h, "<th{cls}>{}</th>", esc(c));
             }
             h.push_str("</tr></thead>\n<tbody>\n");
             for r in &t.rows {
                 h.push_str("<tr>");
                 for (i, c) in r.iter().enumerate() {
-                    let cls = if t.is_numeric(i) { " class=\"num\"" } else { "" };
+                    let cls = if t.is_numeric(i) {
+                        " class=\"num\""
+                    } else {
+                        ""
+                    };
                     let _ = write!(h, "<td{cls}>{}</td>", esc(c));
                 }
                 h.push_str("</tr>\n");
@@ -165,7 +173,11 @@ fn block(h: &mut String, b: &Block) {
             for p in chart.layout(w, ht) {
                 svg_prim(h, &p);
             }
-            let _ = writeln!(h, "</svg><figcaption>{}</figcaption></figure>", esc(caption));
+            let _ = writeln!(
+                h,
+                "</svg><figcaption>{}</figcaption></figure>",
+                esc(caption)
+            );
         }
         Block::Picture(p) => picture(h, p),
         Block::Boxed { title, lines } => {
@@ -233,7 +245,13 @@ fn svg_prim(h: &mut String, p: &Prim) {
                 f(*width)
             );
         }
-        Prim::Rect { x, y, w, h: hh, fill } => {
+        Prim::Rect {
+            x,
+            y,
+            w,
+            h: hh,
+            fill,
+        } => {
             let _ = writeln!(
                 h,
                 "<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\"/>",

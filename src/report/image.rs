@@ -148,6 +148,58 @@ fn sniff_png(b: &[u8]) -> Option<PictureKind> {
     Some(PictureKind::Png { width, height })
 }
 
+/// The compressed image data of a PNG that PDF can read as it is (FlateDecode with the PNG
+/// predictors): 8-bit greyscale or RGB, not interlaced. Returns (width, height, colours,
+/// the concatenated IDAT data). Anything else goes through [`decode_png`].
+pub fn png_passthrough(b: &[u8]) -> Option<(u32, u32, u8, Vec<u8>)> {
+    if !b.starts_with(b"\x89PNG\r\n\x1a\n") {
+        return None;
+    }
+    let mut i = 8usize;
+    let mut head: Option<(u32, u32, u8)> = None;
+    let mut idat = Vec::new();
+    while i + 8 <= b.len() {
+        let len = u32::from_be_bytes([b[i], b[i + 1], b[i + 2], b[i + 3]]) as usize;
+        let kind = &b[i + 4..i + 8];
+        let start = i + 8;
+        let end = start.checked_add(len)?;
+        if end + 4 > b.len() {
+            return None;
+        }
+        let data = &b[start..end];
+        match kind {
+            b"IHDR" => {
+                if data.len() != 13 {
+                    return None;
+                }
+                let w = u32::from_be_bytes([data[0], data[1], data[2], data[3]]);
+                let h = u32::from_be_bytes([data[4], data[5], data[6], data[7]]);
+                let (depth, color, interlace) = (data[8], data[9], data[12]);
+                let colors = match color {
+                    0 => 1,
+                    2 => 3,
+                    _ => return None,
+                };
+                if depth != 8 || interlace != 0 || w == 0 || h == 0 {
+                    return None;
+                }
+                head = Some((w, h, colors));
+            }
+            b"IDAT" => idat.extend_from_slice(data),
+            b"IEND" => break,
+            // transparency or gamma chunks change what the samples mean: decode instead
+            b"tRNS" | b"gAMA" | b"iCCP" | b"sBIT" => return None,
+            _ => {}
+        }
+        i = end + 4;
+    }
+    let (w, h, c) = head?;
+    if idat.is_empty() {
+        return None;
+    }
+    Some((w, h, c, idat))
+}
+
 /// A PNG decoded to 8-bit samples for the PDF: colour (1 or 3 channels) and an optional
 /// alpha plane. `None` when the data do not decode (the picture is then listed, not drawn).
 pub struct DecodedPng {
@@ -270,6 +322,10 @@ mod tests {
         let d = decode_png(&png).unwrap();
         assert_eq!((d.width, d.height, d.channels), (2, 2, 3));
         assert_eq!(d.color.len(), 12);
+        let (w, h, c, data) = png_passthrough(&png).unwrap();
+        assert_eq!((w, h, c), (2, 2, 3));
+        assert!(!data.is_empty());
+        assert!(png_passthrough(b"\x89PNG\r\n\x1a\n\0\0\0\x0dIHDR").is_none());
     }
 
     pub(crate) fn tiny_png() -> Vec<u8> {

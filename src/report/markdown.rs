@@ -120,7 +120,10 @@ pub fn render(doc: &Document) -> String {
                     "- {} ({how}): {} — SHA-256 `{}`\n",
                     cell(&p.name),
                     cell(&p.caption),
-                    p.sha256.chars().filter(|c| c.is_ascii_hexdigit()).collect::<String>()
+                    p.sha256
+                        .chars()
+                        .filter(|c| c.is_ascii_hexdigit())
+                        .collect::<String>()
                 );
             }
             Block::Boxed { title, lines } => {
@@ -149,7 +152,10 @@ mod tests {
     #[test]
     fn user_text_cannot_become_markup() {
         assert_eq!(esc("[x](http://y)"), "\\[x\\](http://y)");
-        assert_eq!(esc("# not a heading\n- not a list\n12. no"), "\\# not a heading\n\\- not a list\n12\\. no");
+        assert_eq!(
+            esc("# not a heading\n- not a list\n12. no"),
+            "\\# not a heading\n\\- not a list\n12\\. no"
+        );
         assert_eq!(esc("cross-checks 1.5"), "cross-checks 1.5");
         assert_eq!(esc("*b* `c`"), "\\*b\\* \\`c\\`");
         assert_eq!(esc("a|b"), "a\\|b");

@@ -51,7 +51,11 @@ pub fn csv(header: &[String], rows: &[Vec<String>]) -> String {
 
 fn csv_cell(c: &str) -> String {
     let risky = c.starts_with(['=', '+', '-', '@', '\t', '\r']) && c.parse::<f64>().is_err();
-    let c = if risky { format!("'{c}") } else { c.to_string() };
+    let c = if risky {
+        format!("'{c}")
+    } else {
+        c.to_string()
+    };
     if c.contains([',', '"', '\n', '\r']) {
         format!("\"{}\"", c.replace('"', "\"\""))
     } else {
@@ -67,7 +71,10 @@ mod tests {
     fn csv_quotes_and_defuses_formulas() {
         let s = csv(
             &["a".into(), "b".into()],
-            &[vec!["x,\"y\"".into(), "=1+1".into()], vec!["-3.5".into(), "ok".into()]],
+            &[
+                vec!["x,\"y\"".into(), "=1+1".into()],
+                vec!["-3.5".into(), "ok".into()],
+            ],
         );
         assert_eq!(s, "a,b\n\"x,\"\"y\"\"\",'=1+1\n-3.5,ok\n");
     }

@@ -7,7 +7,9 @@
 //! Output is deterministic: the same document gives the same bytes (no clock, no random).
 
 use std::collections::{BTreeMap, HashMap};
+use std::sync::{Arc, Mutex, OnceLock};
 
+use pdf_writer::types::Predictor;
 use pdf_writer::types::{CidFontType, FontFlags, SystemInfo};
 use pdf_writer::{Content, Filter, Finish, Name, Pdf, Rect, Ref, Str, TextStr};
 use subsetter::GlyphRemapper;
@@ -15,7 +17,7 @@ use subsetter::GlyphRemapper;
 use super::chart::{Anchor, Prim, Rgb, GRID, INK};
 use super::doc::{Block, Document, Paper, Table};
 use super::font::{is_invisible, visual, wrap, Font, Weight};
-use super::image::{decode_png, Picture, PictureKind};
+use super::image::{decode_png, png_passthrough, Picture, PictureKind};
 
 const MARGIN_X: f32 = 50.0;
 const MARGIN_TOP: f32 = 40.0;
@@ -35,13 +37,20 @@ struct FontUse {
     used: BTreeMap<u16, (char, f32)>,
 }
 
+/// Characters every subset carries, in a fixed order: with them most documents of a bundle
+/// need the very same subset, which is then made and compressed once (see `subset_cached`).
+const BASE_CHARS: &str = " !\"#$%&'()*+,-./0123456789:;<=>?@ABCDEFGHIJKLMNOPQRSTUVWXYZ[\\]^_`\
+abcdefghijklmnopqrstuvwxyz{|}~°±²³µ·×÷ÄÖÜßäöüéèàçñ–—‘’“”•…−√σ≤≥≈·→€";
+
 impl FontUse {
     fn new(w: Weight) -> FontUse {
-        FontUse {
+        let mut fu = FontUse {
             font: Font::load(w),
             remap: GlyphRemapper::new(),
             used: BTreeMap::new(),
-        }
+        };
+        let _ = fu.encode(BASE_CHARS);
+        fu
     }
     fn encode(&mut self, text: &str) -> Vec<u8> {
         let mut out = Vec::with_capacity(text.len() * 2);
@@ -179,7 +188,15 @@ impl<'d> Writer<'d> {
         let left = format!("{}  ·  {}", doc.reference, doc.title);
         self.text_at(MARGIN_X, y, SMALL, Weight::Bold, INK, Anchor::Start, &left);
         let right = self.pw - MARGIN_X;
-        self.text_at(right, y, SMALL, Weight::Regular, GREY, Anchor::End, "shardlog");
+        self.text_at(
+            right,
+            y,
+            SMALL,
+            Weight::Regular,
+            GREY,
+            Anchor::End,
+            "shardlog",
+        );
         self.rule(MARGIN_X, y + 6.0, right, 0.6, GREY);
     }
 
@@ -465,7 +482,8 @@ impl<'d> Writer<'d> {
                 let fit = ((self.room() - 5.0) / lead).floor().max(0.0) as usize;
                 let remaining = n - start;
                 let full_page = ((self.bottom() - self.top() - head_h - 5.0) / lead) as usize;
-                if remaining > fit && !fresh && (fit == 0 || (start == 0 && remaining <= full_page)) {
+                if remaining > fit && !fresh && (fit == 0 || (start == 0 && remaining <= full_page))
+                {
                     // keep a row that fits on one page together; never start a row with no room
                     self.new_page();
                     self.table_header(t, &widths, &head);
@@ -488,15 +506,7 @@ impl<'d> Writer<'d> {
                                 l,
                             );
                         } else {
-                            self.text_at(
-                                x + 3.0,
-                                bl,
-                                CELL,
-                                Weight::Regular,
-                                INK,
-                                Anchor::Start,
-                                l,
-                            );
+                            self.text_at(x + 3.0, bl, CELL, Weight::Regular, INK, Anchor::Start, l);
                         }
                     }
                     x += w;
@@ -518,6 +528,7 @@ impl<'d> Writer<'d> {
         let caption = format!("{} — {}\nSHA-256 {}", p.name, p.caption, p.sha256);
         let drawable = match p.kind {
             PictureKind::Jpeg { .. } => true,
+            // a full decode checks every chunk and the compressed stream
             PictureKind::Png { .. } => decode_png(&p.bytes).is_some(),
             PictureKind::Other => false,
         };
@@ -625,7 +636,15 @@ impl<'d> Writer<'d> {
                         .show(Str(&bytes))
                         .end_text();
                 } else {
-                    self.text_at(x0 + x, y0 + y, *size, Weight::Regular, *color, *anchor, text);
+                    self.text_at(
+                        x0 + x,
+                        y0 + y,
+                        *size,
+                        Weight::Regular,
+                        *color,
+                        *anchor,
+                        text,
+                    );
                 }
             }
         }
@@ -634,6 +653,11 @@ impl<'d> Writer<'d> {
 
 fn deflate(data: &[u8]) -> Vec<u8> {
     miniz_oxide::deflate::compress_to_vec_zlib(data, 6)
+}
+
+/// Photo samples: noisy data compresses little better at higher levels, and slowly.
+fn deflate_fast(data: &[u8]) -> Vec<u8> {
+    miniz_oxide::deflate::compress_to_vec_zlib(data, 1)
 }
 
 /// Render the document to PDF bytes.
@@ -655,7 +679,14 @@ pub fn render(doc: &Document, paper: Paper) -> Vec<u8> {
     // title block
     let cw = w.cw();
     w.lines(&doc.title, 18.0, Weight::Bold, INK, MARGIN_X, cw);
-    w.lines(&doc.reference, 12.0, Weight::Bold, Rgb(0x1f, 0x3a, 0x5f), MARGIN_X, cw);
+    w.lines(
+        &doc.reference,
+        12.0,
+        Weight::Bold,
+        Rgb(0x1f, 0x3a, 0x5f),
+        MARGIN_X,
+        cw,
+    );
     if !doc.subtitle.is_empty() {
         w.lines(&doc.subtitle, SMALL, Weight::Regular, GREY, MARGIN_X, cw);
     }
@@ -683,10 +714,26 @@ pub fn render(doc: &Document, paper: Paper) -> Vec<u8> {
         let y = ph - MARGIN_BOTTOM;
         w.rule(MARGIN_X, y - 12.0, pw - MARGIN_X, 0.4, GRID);
         if !digest.is_empty() {
-            w.text_at(MARGIN_X, y, 6.5, Weight::Regular, GREY, Anchor::Start, &digest);
+            w.text_at(
+                MARGIN_X,
+                y,
+                6.5,
+                Weight::Regular,
+                GREY,
+                Anchor::Start,
+                &digest,
+            );
         }
         let label = format!("Page {} of {}", i + 1, total);
-        w.text_at(pw - MARGIN_X, y, SMALL, Weight::Regular, GREY, Anchor::End, &label);
+        w.text_at(
+            pw - MARGIN_X,
+            y,
+            SMALL,
+            Weight::Regular,
+            GREY,
+            Anchor::End,
+            &label,
+        );
         std::mem::swap(&mut w.cur, page);
     }
 
@@ -744,7 +791,7 @@ pub fn render(doc: &Document, paper: Paper) -> Vec<u8> {
             }
         }
         pg.finish();
-        let data = deflate(&page.finish());
+        let data = deflate_fast(&page.finish());
         pdf.stream(cref, &data).filter(Filter::FlateDecode);
     }
     pdf.finish()
@@ -761,10 +808,44 @@ impl Writer<'_> {
     }
 }
 
+type SubsetCache = HashMap<(&'static str, Vec<u16>), (String, Arc<Vec<u8>>)>;
+
+/// The subset of a face for a glyph set, compressed, with its tag; made once per process
+/// for each distinct glyph set (the result depends only on the set, so output stays
+/// deterministic).
+fn subset_cached(fu: &FontUse) -> (String, Arc<Vec<u8>>) {
+    static CACHE: OnceLock<Mutex<SubsetCache>> = OnceLock::new();
+    let key = (
+        fu.font.postscript_name,
+        fu.remap.remapped_gids().collect::<Vec<u16>>(),
+    );
+    let cache = CACHE.get_or_init(|| Mutex::new(HashMap::new()));
+    if let Ok(c) = cache.lock() {
+        if let Some(v) = c.get(&key) {
+            return v.clone();
+        }
+    }
+    let sub = match subsetter::subset(fu.font.data, 0, &fu.remap) {
+        Ok(s) => s,
+        Err(_) => fu.font.data.to_vec(), // whole face: larger, still correct
+    };
+    let v = (subset_tag(&sub), Arc::new(deflate(&sub)));
+    if let Ok(mut c) = cache.lock() {
+        if c.len() > 256 {
+            c.clear();
+        }
+        c.insert(key, v.clone());
+    }
+    v
+}
+
 fn subset_tag(data: &[u8]) -> String {
     use sha2::{Digest, Sha256};
     let h = Sha256::digest(data);
-    h.iter().take(6).map(|b| char::from(b'A' + b % 26)).collect()
+    h.iter()
+        .take(6)
+        .map(|b| char::from(b'A' + b % 26))
+        .collect()
 }
 
 fn write_font(pdf: &mut Pdf, alloc: &mut impl FnMut() -> Ref, type0: Ref, fu: &FontUse) {
@@ -774,11 +855,8 @@ fn write_font(pdf: &mut Pdf, alloc: &mut impl FnMut() -> Ref, type0: Ref, fu: &F
     let cmap_ref = alloc();
     let face = &fu.font.face;
     let scale = 1000.0 / fu.font.units_per_em();
-    let sub = match subsetter::subset(fu.font.data, 0, &fu.remap) {
-        Ok(s) => s,
-        Err(_) => fu.font.data.to_vec(), // whole face: larger, still correct
-    };
-    let name = format!("{}+{}", subset_tag(&sub), fu.font.postscript_name);
+    let (sub_tag, data) = subset_cached(fu);
+    let name = format!("{}+{}", sub_tag, fu.font.postscript_name);
     let info = SystemInfo {
         registry: Str(b"Adobe"),
         ordering: Str(b"Identity"),
@@ -836,7 +914,6 @@ fn write_font(pdf: &mut Pdf, alloc: &mut impl FnMut() -> Ref, type0: Ref, fu: &F
         .cap_height(f32::from(face.capital_height().unwrap_or(face.ascender())) * scale)
         .stem_v(if fu.font.face.is_bold() { 140.0 } else { 80.0 })
         .font_file2(file);
-    let data = deflate(&sub);
     pdf.stream(file, &data).filter(Filter::FlateDecode);
     let mut cmap = pdf_writer::types::UnicodeCmap::new(Name(b"Custom"), info);
     for (&g, &(c, _)) in &fu.used {
@@ -865,12 +942,29 @@ fn write_image(pdf: &mut Pdf, (img, mask): (Ref, Ref), p: &Picture) {
             }
         }
         PictureKind::Png { .. } => {
+            // most photos: the PNG's own compressed data, read by PDF with PNG predictors
+            if let Some((w, h, colors, data)) = png_passthrough(&p.bytes) {
+                let mut x = pdf.image_xobject(img, &data);
+                x.filter(Filter::FlateDecode);
+                x.decode_parms()
+                    .predictor(Predictor::PngOptimum)
+                    .colors(i32::from(colors))
+                    .bits_per_component(8)
+                    .columns(w as i32);
+                x.width(w as i32).height(h as i32).bits_per_component(8);
+                if colors == 1 {
+                    x.color_space().device_gray();
+                } else {
+                    x.color_space().device_rgb();
+                }
+                return;
+            }
             // decodes: checked before the image was placed
             let Some(d) = decode_png(&p.bytes) else {
                 return;
             };
-            let color = deflate(&d.color);
-            let alpha = d.alpha.as_ref().map(|a| deflate(a));
+            let color = deflate_fast(&d.color);
+            let alpha = d.alpha.as_ref().map(|a| deflate_fast(a));
             {
                 let mut x = pdf.image_xobject(img, &color);
                 x.filter(Filter::FlateDecode);

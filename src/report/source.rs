@@ -159,10 +159,7 @@ pub fn incident_content(
     };
     let glass = Glass {
         supplier: g.supplier.as_deref().map(|c| l.supplier(c)),
-        product: g
-            .product
-            .as_deref()
-            .map(|c| Labels::named(&l.products, c)),
+        product: g.product.as_deref().map(|c| Labels::named(&l.products, c)),
         lot: g.lot.clone(),
         makeup: nonempty(&g.makeup).map(|m| l.lookup(LookupKind::Makeup, &m)),
         size,
@@ -170,8 +167,14 @@ pub fn incident_content(
             .plies
             .iter()
             .map(|p| Ply {
-                glass_type: p.material.as_deref().map(|m| l.lookup(LookupKind::Material, m)),
-                temper: p.temper.as_deref().map(|t| l.lookup(LookupKind::TemperClass, t)),
+                glass_type: p
+                    .material
+                    .as_deref()
+                    .map(|m| l.lookup(LookupKind::Material, m)),
+                temper: p
+                    .temper
+                    .as_deref()
+                    .map(|t| l.lookup(LookupKind::TemperClass, t)),
                 thickness_m: p.thickness_m,
                 coating: nonempty(&p.coating),
                 edge_finish: nonempty(&p.edge_finish),
@@ -181,7 +184,9 @@ pub fn incident_content(
     let p = &inc.pattern;
     let pattern = Pattern {
         crack_count: p.crack_count,
-        branching: p.branching.map(|b| if b { "yes" } else { "no" }.to_string()),
+        branching: p
+            .branching
+            .map(|b| if b { "yes" } else { "no" }.to_string()),
         fragment_count: p.fragment_count,
         origin_location: p
             .origin_location
@@ -368,7 +373,12 @@ fn computation(inc: &Incident) -> (Option<Analysis>, Option<String>) {
             );
         }
     }
-    let Some(exam) = inc.examinations.iter().rev().find(|e| !e.readings.is_empty()) else {
+    let Some(exam) = inc
+        .examinations
+        .iter()
+        .rev()
+        .find(|e| !e.readings.is_empty())
+    else {
         return (None, None);
     };
     match analyze_exam(inc, exam) {
@@ -441,6 +451,10 @@ pub fn analyze_exam(inc: &Incident, exam: &store::Examination) -> Result<Analysi
     if inc.pattern.origin_location.as_deref() == Some("interior") {
         input.origin = Origin::Interior;
     }
-    input.measured_flaw_m = exam.flaw.as_ref().and_then(|f| f.depth.as_ref()).map(|m| m.si);
+    input.measured_flaw_m = exam
+        .flaw
+        .as_ref()
+        .and_then(|f| f.depth.as_ref())
+        .map(|m| m.si);
     fracture::analyze(&input).map_err(|e| e.to_string())
 }

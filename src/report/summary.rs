@@ -225,7 +225,10 @@ fn constant_text(c: &ConstantUsed) -> String {
     };
     let mut s = format!("{} = {}", c.symbol, unit_fmt(c.value));
     if let Some(sp) = c.spread {
-        s.push_str(&format!(" (spread ±{}, one standard deviation)", unit_fmt(sp)));
+        s.push_str(&format!(
+            " (spread ±{}, one standard deviation)",
+            unit_fmt(sp)
+        ));
     }
     if c.overridden {
         s.push_str(", set for this calculation");
@@ -557,7 +560,12 @@ fn computation_section(d: &mut Document, c: &IncidentContent) {
         if let (Some(m), Some(q)) = (f.measured_m, f.measured_over_predicted) {
             checks.row(vec![
                 "measured flaw / predicted flaw".into(),
-                format!("{} / {} = {}", length(m), length(f.size_m), units::fmt_sig(q, 3)),
+                format!(
+                    "{} / {} = {}",
+                    length(m),
+                    length(f.size_m),
+                    units::fmt_sig(q, 3)
+                ),
                 "about 1".into(),
                 if (0.5..=2.0).contains(&q) {
                     "consistent".into()
@@ -571,7 +579,10 @@ fn computation_section(d: &mut Document, c: &IncidentContent) {
         checks.row(vec![
             format!("{} / {} radius ratio", k.outer.label(), k.inner.label()),
             units::fmt_sig(k.radius_ratio, 3),
-            format!("{} (constants squared)", units::fmt_sig(k.expected_ratio, 3)),
+            format!(
+                "{} (constants squared)",
+                units::fmt_sig(k.expected_ratio, 3)
+            ),
             if k.agrees {
                 "consistent within the uncertainties".into()
             } else {
@@ -784,7 +795,9 @@ pub fn render(
     use super::Format;
     Ok(match format {
         Format::Pdf => super::pdf::render(&document(content, proof, pictures), paper),
-        Format::Html => super::html::render(&document(content, proof, pictures), paper).into_bytes(),
+        Format::Html => {
+            super::html::render(&document(content, proof, pictures), paper).into_bytes()
+        }
         Format::Md => super::markdown::render(&document(content, proof, pictures)).into_bytes(),
         Format::Json => {
             let j = SummaryJson {

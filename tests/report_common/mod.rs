@@ -10,7 +10,11 @@ use shardlog::report::doc::{Block, Document, Table};
 use shardlog::report::image::Picture;
 
 pub fn fixture(name: &str) -> Vec<u8> {
-    std::fs::read(format!("{}/tests/fixtures/{name}", env!("CARGO_MANIFEST_DIR"))).unwrap()
+    std::fs::read(format!(
+        "{}/tests/fixtures/{name}",
+        env!("CARGO_MANIFEST_DIR")
+    ))
+    .unwrap()
 }
 
 pub fn picture(name: &str, caption: &str, bytes: Vec<u8>) -> Picture {
@@ -41,8 +45,14 @@ pub fn sample_document(hostile: bool) -> Document {
         "Mirror-constant relation σ = A / √R, mirror–mist constant A = 1.95 MPa·√m \
          (spread 0.1 MPa·√m), radius 850 µm, stress 66.9 MPa (95 % interval 61.2–72.6 MPa).",
     );
-    let mut t = Table::new(&["Reading no.", "Boundary", "Radius", "Magnification", "Analyst"])
-        .numeric(&[0, 2, 3]);
+    let mut t = Table::new(&[
+        "Reading no.",
+        "Boundary",
+        "Radius",
+        "Magnification",
+        "Analyst",
+    ])
+    .numeric(&[0, 2, 3]);
     for i in 1..=120 {
         t.row(vec![
             i.to_string(),
@@ -58,7 +68,13 @@ pub fn sample_document(hostile: bool) -> Document {
             x_label: "Applied stress (MPa)".into(),
             y_label: "incidents".into(),
             bins: (0..8)
-                .map(|i| (f64::from(i) * 10.0, f64::from(i + 1) * 10.0, (i * 7 % 5 + 1) as u32))
+                .map(|i| {
+                    (
+                        f64::from(i) * 10.0,
+                        f64::from(i + 1) * 10.0,
+                        (i * 7 % 5 + 1) as u32,
+                    )
+                })
                 .collect(),
             marker: Some((43.0, "this incident".into())),
         },
@@ -223,7 +239,14 @@ pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile:
         inc.glass.lot = Some(lot.into());
         inc.glass.plies.push(store::Ply {
             material: Some("soda_lime".into()),
-            temper: Some(if is_claimed { "fully_tempered" } else { "annealed" }.into()),
+            temper: Some(
+                if is_claimed {
+                    "fully_tempered"
+                } else {
+                    "annealed"
+                }
+                .into(),
+            ),
             thickness_m: Some(0.006),
             coating: String::new(),
             edge_finish: "arrissed".into(),
@@ -244,8 +267,7 @@ pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile:
             },
             MirrorReading {
                 boundary: "mirror_mist".into(),
-                radius: Measured::parse(&format!("{:.3} mm", r * 1.04), Dimension::Length)
-                    .unwrap(),
+                radius: Measured::parse(&format!("{:.3} mm", r * 1.04), Dimension::Length).unwrap(),
                 magnification: Some(20.0),
                 analyst: "R. Quennell".into(),
                 note: String::new(),
@@ -256,7 +278,12 @@ pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile:
             examined_on: Some(found),
             analyst: "R. Quennell".into(),
             origin_type: Some(
-                if i % 3 == 0 { "inclusion_nis" } else { "edge_cutting_damage" }.into(),
+                if i % 3 == 0 {
+                    "inclusion_nis"
+                } else {
+                    "edge_cutting_damage"
+                }
+                .into(),
             ),
             material: Some("soda_lime".into()),
             readings,
@@ -282,10 +309,20 @@ pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile:
         });
         inc.examinations.push(exam);
         inc.cause = Some(store::Cause {
-            category: if i % 3 == 0 { "nickel_sulfide" } else { "thermal" }.into(),
+            category: if i % 3 == 0 {
+                "nickel_sulfide"
+            } else {
+                "thermal"
+            }
+            .into(),
             factors: vec!["sunny afternoon, cold night".into()],
             confidence: "probable".into(),
-            responsibility: if i % 3 == 0 { "supplier" } else { "undetermined" }.into(),
+            responsibility: if i % 3 == 0 {
+                "supplier"
+            } else {
+                "undetermined"
+            }
+            .into(),
             note: String::new(),
         });
         inc.status = "cause_assigned".into();
@@ -309,10 +346,22 @@ pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile:
         )
         .unwrap();
         if i < 3 || (is_claimed && i % 25 == 0) {
-            s.add_attachment_bytes(&saved.reference, "origin-x20.png", &photo_png, "origin, ×20", &st(&t))
-                .unwrap();
-            s.add_attachment_bytes(&saved.reference, "origin-x20.jpg", &photo_jpg, "origin, JPEG", &st(&t))
-                .unwrap();
+            s.add_attachment_bytes(
+                &saved.reference,
+                "origin-x20.png",
+                &photo_png,
+                "origin, ×20",
+                &st(&t),
+            )
+            .unwrap();
+            s.add_attachment_bytes(
+                &saved.reference,
+                "origin-x20.jpg",
+                &photo_jpg,
+                "origin, JPEG",
+                &st(&t),
+            )
+            .unwrap();
         }
         if hostile && i == 0 {
             s.add_attachment_bytes(
@@ -328,7 +377,11 @@ pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile:
             claimed.push(saved.reference.clone());
         }
     }
-    let hostile_ref = if hostile { claimed.first().cloned() } else { None };
+    let hostile_ref = if hostile {
+        claimed.first().cloned()
+    } else {
+        None
+    };
     Demo {
         store: s,
         db,
