@@ -4,7 +4,6 @@
 //! report tests (500 incidents of the claimed supplier, 200 of another; 40 with photos).
 
 #[path = "../tests/report_common/mod.rs"]
-#[allow(dead_code)]
 mod report_common;
 
 use std::time::Instant;

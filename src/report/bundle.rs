@@ -26,7 +26,7 @@ use super::canonical::{digest, sha256_hex};
 use super::chart::{Chart, WeibullSeries};
 use super::doc::{Block, Document, Paper, Table};
 use super::source::{incident_content, Labels};
-use super::summary::{self, IncidentContent, Proof, CAUTIONS};
+use super::summary::{self, IncidentContent, Pictures, Proof, CAUTIONS};
 use crate::fleet;
 use crate::store::{self, Filter, Store, StoreError};
 use crate::units;
@@ -235,10 +235,7 @@ fn resolve_supplier(s: &Store, wanted: &str) -> Result<store::Supplier, BundleEr
 }
 
 /// Everything the bundle's files are rendered from, gathered from the store.
-pub fn gather(
-    s: &Store,
-    opts: &DisputeOptions,
-) -> Result<(BundleContent, HashMap<String, Arc<Vec<u8>>>), BundleError> {
+pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictures), BundleError> {
     if let (Some(a), Some(b)) = (opts.since, opts.until) {
         if a > b {
             return Err(BundleError::Usage(format!(
@@ -258,7 +255,7 @@ pub fn gather(
     };
     let ids = s.matching_ids(&filter)?;
     let mut incidents = Vec::with_capacity(ids.len());
-    let mut pictures: HashMap<String, Arc<Vec<u8>>> = HashMap::new();
+    let mut pictures: Pictures = HashMap::new();
     let mut attachments: BTreeMap<String, BundleAttachment> = BTreeMap::new();
     let mut raw = Vec::with_capacity(ids.len());
     for id in &ids {
@@ -937,7 +934,7 @@ fn incident_proof(c: &BundleContent, i: &BundleIncident) -> Proof {
 /// Incident summaries are rendered on up to `threads` threads.
 pub fn render_files(
     c: &BundleContent,
-    pictures: &HashMap<String, Arc<Vec<u8>>>,
+    pictures: &Pictures,
     threads: usize,
 ) -> Vec<(String, Vec<u8>)> {
     let paper = paper_of(c);
@@ -1263,7 +1260,7 @@ pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, B
     // 2. the files on disk against the file list
     let on_disk = rel_files(dir)?;
     let listed: BTreeSet<String> = bf.files.iter().map(|f| f.path.clone()).collect();
-    let mut pictures: HashMap<String, Arc<Vec<u8>>> = HashMap::new();
+    let mut pictures: Pictures = HashMap::new();
     let mut disk_bytes: HashMap<String, Vec<u8>> = HashMap::new();
     for f in &bf.files {
         if f.path.contains("..") || f.path.starts_with('/') || f.path.contains('\\') {

@@ -105,7 +105,7 @@ pub fn incident_content(
     s: &Store,
     labels: &Labels,
     inc: &Incident,
-) -> Result<(IncidentContent, HashMap<String, Arc<Vec<u8>>>), StoreError> {
+) -> Result<(IncidentContent, Pictures), StoreError> {
     let l = labels;
     let env = &inc.environment;
     let mut envs = Vec::new();

@@ -14,6 +14,9 @@ use super::image::Picture;
 use crate::fracture::{Analysis, ConstantUsed};
 use crate::units::{self, Unit};
 
+/// Attachment bytes by SHA-256 (absent: listed, not shown).
+pub type Pictures = HashMap<String, Arc<Vec<u8>>>;
+
 /// The cautions of design.md §6, stated once, plainly.
 pub const CAUTIONS: [&str; 3] = [
     "Broken glass cuts: handle fragments with cut-resistant gloves and eye protection; \
@@ -247,11 +250,7 @@ fn provenance_text(c: &ConstantUsed) -> String {
 
 /// Build the document of one incident summary. `pictures` maps SHA-256 to the attachment's
 /// bytes (absent bytes: the attachment is listed, not shown).
-pub fn document(
-    c: &IncidentContent,
-    proof: &Proof,
-    pictures: &HashMap<String, Arc<Vec<u8>>>,
-) -> Document {
+pub fn document(c: &IncidentContent, proof: &Proof, pictures: &Pictures) -> Document {
     let subtitle = format!(
         "{} · exported {} · {}",
         c.glass
@@ -680,11 +679,7 @@ fn human_bytes(n: u64) -> String {
     }
 }
 
-fn attachments_section(
-    d: &mut Document,
-    c: &IncidentContent,
-    pictures: &HashMap<String, Arc<Vec<u8>>>,
-) {
+fn attachments_section(d: &mut Document, c: &IncidentContent, pictures: &Pictures) {
     d.heading("Photos and attachments");
     if c.attachments.is_empty() {
         d.para("No photos or files are attached to this incident.");
@@ -788,7 +783,7 @@ pub fn proof_for(
 pub fn render(
     content: &IncidentContent,
     proof: &Proof,
-    pictures: &HashMap<String, Arc<Vec<u8>>>,
+    pictures: &Pictures,
     format: super::Format,
     paper: super::Paper,
 ) -> Result<Vec<u8>, serde_json::Error> {
