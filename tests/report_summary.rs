@@ -209,3 +209,58 @@ fn a_hostile_incident_is_safe_in_every_format() {
         }
     }
 }
+
+#[test]
+fn a_bare_incident_reads_plainly() {
+    // only what the intake form requires: no readings, no cause, no photos, no custody
+    let tmp = tempfile::tempdir().unwrap();
+    let db = tmp.path().join("bare.db");
+    let mut s = shardlog::store::Store::open(&db).unwrap();
+    let inc = shardlog::store::Incident::draft(day(2027, 3, 14));
+    let saved = s
+        .create_incident(
+            &inc,
+            &shardlog::store::Stamp::new("mira", at("2027-03-14T09:10:00Z")),
+        )
+        .unwrap();
+    drop(s);
+    for fmt in ["pdf", "html", "md"] {
+        let file = tmp.path().join(format!("bare.{fmt}"));
+        let o = shardlog(
+            &db,
+            &[
+                "report",
+                &saved.reference,
+                "--format",
+                fmt,
+                "--paper",
+                "letter",
+                "-o",
+                file.to_str().unwrap(),
+            ],
+        );
+        assert!(
+            o.status.success(),
+            "{fmt}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        let text = if fmt == "pdf" {
+            pdftotext(&file)
+        } else {
+            std::fs::read_to_string(&file).unwrap()
+        };
+        for must in [
+            "No mirror readings were recorded",
+            "No stress was computed",
+            "not yet assigned",
+            "No photos or files are attached",
+            "No custody entries were recorded",
+            "Cautions",
+        ] {
+            assert!(text.contains(must), "{fmt}: {must} missing");
+        }
+        for never in NEVER {
+            assert!(!text.contains(never), "{fmt}: {never} appears");
+        }
+    }
+}
