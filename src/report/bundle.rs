@@ -731,8 +731,9 @@ pub fn cover_document(c: &BundleContent) -> Document {
         "Origin",
         "Cause (confidence)",
         "Responsibility",
-        "Applied stress (95 % interval)",
-    ]);
+        "Applied stress, MPa (95 % interval)",
+    ])
+    .numeric(&[6]);
     for i in &c.incidents {
         let ct = &i.content;
         let stress = ct
@@ -741,10 +742,10 @@ pub fn cover_document(c: &BundleContent) -> Document {
             .as_ref()
             .map(|a| {
                 format!(
-                    "{} ({} to {})",
-                    mpa(a.applied_stress_pa / 1e6),
+                    "{} ({}–{})",
+                    fmt3(a.applied_stress_pa / 1e6),
                     fmt3(a.applied_low_pa / 1e6),
-                    mpa(a.applied_high_pa / 1e6)
+                    fmt3(a.applied_high_pa / 1e6)
                 )
             })
             .unwrap_or_else(|| "not computed".into());
@@ -759,14 +760,11 @@ pub fn cover_document(c: &BundleContent) -> Document {
                 .origin_type
                 .clone()
                 .unwrap_or_else(|| "not recorded".into()),
-            format!(
-                "{} ({})",
-                ct.cause
-                    .category
-                    .clone()
-                    .unwrap_or_else(|| "not yet assigned".into()),
-                ct.cause.confidence.clone().unwrap_or_else(|| "—".into())
-            ),
+            match (&ct.cause.category, &ct.cause.confidence) {
+                (Some(c), Some(k)) => format!("{c} ({k})"),
+                (Some(c), None) => c.clone(),
+                (None, _) => "not yet assigned".into(),
+            },
             ct.cause
                 .responsibility
                 .clone()

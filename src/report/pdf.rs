@@ -215,7 +215,8 @@ impl<'d> Writer<'d> {
         let cw = self.cw();
         match b {
             Block::Heading(t) => {
-                self.ensure(60.0);
+                // a heading keeps room for a table header and a few lines under it
+                self.ensure(100.0);
                 if self.y > self.top() + 1.0 {
                     self.y += 10.0;
                 }

@@ -64,7 +64,8 @@ impl Labels {
 
     fn named(map: &HashMap<String, String>, code: &str) -> String {
         match map.get(code) {
-            Some(n) if n != code && !n.is_empty() => format!("{n} ({code})"),
+            Some(n) if !n.contains(code) && !n.is_empty() => format!("{n} ({code})"),
+            Some(n) if !n.is_empty() => n.clone(),
             _ => code.to_string(),
         }
     }
@@ -121,7 +122,7 @@ pub fn incident_content(
     let (asset, asset_kind) = match &inc.asset {
         Some(code) => match l.assets.get(code) {
             Some((name, kind)) => {
-                let shown = if name.is_empty() || name == code {
+                let shown = if name.is_empty() || name.contains(code.as_str()) {
                     code.clone()
                 } else {
                     format!("{name} ({code})")
@@ -209,7 +210,13 @@ pub fn incident_content(
                     .map(|b| b.label().to_string())
                     .unwrap_or_else(|| l.lookup(LookupKind::Boundary, &r.boundary)),
                 radius_m: r.radius.si,
-                as_entered: Some(r.radius.display()),
+                as_entered: Some(format!(
+                    "{} {}",
+                    r.radius.text,
+                    units::Unit::lookup(&r.radius.unit)
+                        .map(|u| u.symbol().to_string())
+                        .unwrap_or_else(|| r.radius.unit.clone())
+                )),
                 magnification: r.magnification.map(|m| format!("×{}", trim_num(m))),
                 analyst: nonempty(&r.analyst).or_else(|| nonempty(&e.analyst)),
                 taken_at: e.examined_on.map(|d| d.to_string()),
