@@ -37,13 +37,14 @@ h1{{font-size:18pt;margin:0}} .ref{{font-size:12pt;font-weight:bold;color:#1f3a5
 .sub{{color:#666;font-size:8pt}}
 h2{{font-size:13pt;color:#1f3a5f;border-bottom:1px solid #ddd;margin:16px 0 6px;break-after:avoid}}
 h3{{font-size:10.5pt;margin:10px 0 4px;break-after:avoid}}
-p,td,th,dd,dt{{overflow-wrap:anywhere;word-break:break-word;unicode-bidi:plaintext}}
+p,td,dd,dt{{overflow-wrap:anywhere;unicode-bidi:plaintext}}
+th{{overflow-wrap:normal;word-break:normal;hyphens:none}}
 p{{margin:0 0 6px;white-space:pre-wrap}}
 p.note{{color:#666;font-size:8pt}}
 table{{border-collapse:collapse;width:100%;font-size:8.5pt;margin:4px 0 10px}}
 thead{{display:table-header-group}} tr{{break-inside:avoid}}
 th{{background:#e8ecf1;text-align:left;padding:3px}} td{{padding:3px;border-bottom:1px solid #ddd;vertical-align:top;white-space:pre-wrap}}
-td.num,th.num{{text-align:right;font-variant-numeric:tabular-nums}}
+td.num,th.num{{text-align:right;font-variant-numeric:tabular-nums}} td.nw{{white-space:nowrap;overflow-wrap:normal}}
 table.kv td{{border:none;padding:1px 8px 1px 0}} table.kv td.k{{color:#666;font-weight:bold;width:34%}}
 figure{{margin:6px 0 12px;break-inside:avoid}} figcaption{{color:#666;font-size:8pt;white-space:pre-wrap;overflow-wrap:anywhere}}
 figure img{{max-width:100%;max-height:120mm}}
@@ -144,10 +145,13 @@ fn block(h: &mut String, b: &Block) {
             for r in &t.rows {
                 h.push_str("<tr>");
                 for (i, c) in r.iter().enumerate() {
-                    let cls = if t.is_numeric(i) {
-                        " class=\"num\""
-                    } else {
-                        ""
+                    // short unbreakable cells (references, dates) stay on one line
+                    let short = !c.contains(char::is_whitespace) && c.chars().count() <= 24;
+                    let cls = match (t.is_numeric(i), short) {
+                        (true, true) => " class=\"num nw\"",
+                        (true, false) => " class=\"num\"",
+                        (false, true) => " class=\"nw\"",
+                        (false, false) => "",
                     };
                     let _ = write!(h, "<td{cls}>{}</td>", esc(c));
                 }
