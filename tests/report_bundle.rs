@@ -419,3 +419,29 @@ fn dispute_refuses_bad_input_clearly() {
     );
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
 }
+
+#[test]
+fn a_bundle_with_a_hostile_incident_is_safe_and_verifies() {
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 2, 1, true);
+    drop(demo.store);
+    let dir = tmp.path().join("hostile-bundle");
+    let o = shardlog(
+        &demo.db,
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "-o",
+            dir.to_str().unwrap(),
+        ],
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    // the text file posing as a photo is kept, under a name nothing would run
+    let fake = sha256_hex(b"<script>alert('not a photo')</script>");
+    assert!(dir.join(format!("attachments/{fake}.bin")).exists());
+    let html = std::fs::read_to_string(dir.join("cover.html")).unwrap();
+    assert!(!html.contains("<script"));
+    let (code, out) = verify(&demo.db, &dir);
+    assert_eq!(code, 0, "{out}");
+}

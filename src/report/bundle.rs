@@ -183,14 +183,24 @@ pub struct Written {
     pub audit_chain_head: String,
 }
 
-fn safe_ext(name: &str) -> String {
+/// The extension an attachment gets in the bundle: from what its bytes are for photos, from
+/// its name only for a few inert kinds, else `.bin` — a file named `x.html` or `x.exe` is
+/// never handed to someone under a name their computer would open by running it.
+fn safe_ext(name: &str, bytes: Option<&[u8]>) -> String {
+    use super::image::{sniff, PictureKind};
+    match bytes.map(sniff) {
+        Some(PictureKind::Jpeg { .. }) => return ".jpg".into(),
+        Some(PictureKind::Png { .. }) => return ".png".into(),
+        _ => {}
+    }
+    const INERT: [&str; 9] = [
+        "pdf", "txt", "csv", "tif", "tiff", "gif", "bmp", "webp", "heic",
+    ];
     match name.rsplit_once('.') {
-        Some((_, e))
-            if !e.is_empty() && e.len() <= 5 && e.chars().all(|c| c.is_ascii_alphanumeric()) =>
-        {
+        Some((_, e)) if INERT.contains(&e.to_ascii_lowercase().as_str()) => {
             format!(".{}", e.to_ascii_lowercase())
         }
-        _ => String::new(),
+        _ => ".bin".into(),
     }
 }
 
@@ -263,8 +273,8 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
         let (content, pics) = incident_content(s, &labels, &inc)?;
         for a in &content.attachments {
             let file = pics
-                .contains_key(&a.sha256)
-                .then(|| format!("attachments/{}{}", a.sha256, safe_ext(&a.name)));
+                .get(&a.sha256)
+                .map(|b| format!("attachments/{}{}", a.sha256, safe_ext(&a.name, Some(b))));
             attachments
                 .entry(a.sha256.clone())
                 .or_insert_with(|| BundleAttachment {
@@ -1446,8 +1456,10 @@ mod tests {
     fn file_names_from_records_stay_inside_the_bundle() {
         assert_eq!(ref_file("BR-260314-0001"), "incidents/BR-260314-0001.pdf");
         assert_eq!(ref_file("../../etc/x"), "incidents/______etc_x.pdf");
-        assert_eq!(safe_ext("photo.JPG"), ".jpg");
-        assert_eq!(safe_ext("a.tar/../x"), "");
+        assert_eq!(safe_ext("scan.PDF", None), ".pdf");
+        assert_eq!(safe_ext("photo.jpg", Some(b"<script>")), ".bin");
+        assert_eq!(safe_ext("page.html", Some(b"<script>")), ".bin");
+        assert_eq!(safe_ext("a.tar/../x", None), ".bin");
         assert_eq!(crate::report::chart::fmt_tick(2.0), "2");
     }
 }
