@@ -49,6 +49,12 @@ const NEVER: &[&str] = &[
     "inclusion_nis",
     "origin_type",
     "stress_pa",
+    "hard_contact",
+    "edge_damage",
+    "rail_car",
+    "third_party",
+    "impact_site",
+    "heat_strengthened",
 ];
 
 #[test]
@@ -263,4 +269,59 @@ fn a_bare_incident_reads_plainly() {
             assert!(!text.contains(never), "{fmt}: {never} appears");
         }
     }
+}
+
+#[test]
+fn summaries_of_the_shipped_demo_fleet_in_every_format() {
+    // the invented demo fleet of `shardlog demo`, as README's users first see it
+    let tmp = tempfile::tempdir().unwrap();
+    let db = tmp.path().join("demo.db");
+    let o = Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        .args(["demo", "--out", db.to_str().unwrap(), "--incidents", "60"])
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let o = shardlog(&db, &["list", "--json", "--limit", "60"]);
+    assert!(o.status.success());
+    let rows: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let rows = rows.as_array().unwrap();
+    let with_stress = rows.iter().filter(|r| r["stress_mpa"].is_number()).take(3);
+    let without = rows.iter().filter(|r| !r["stress_mpa"].is_number()).take(2);
+    let mut n = 0;
+    for r in with_stress.chain(without) {
+        let reference = r["ref"].as_str().unwrap();
+        for fmt in ["pdf", "html", "md", "json"] {
+            let file = tmp.path().join(format!("{reference}.{fmt}"));
+            let o = shardlog(
+                &db,
+                &[
+                    "report",
+                    reference,
+                    "--format",
+                    fmt,
+                    "-o",
+                    file.to_str().unwrap(),
+                ],
+            );
+            assert!(
+                o.status.success(),
+                "{reference} {fmt}: {}",
+                String::from_utf8_lossy(&o.stderr)
+            );
+            if fmt == "json" {
+                continue;
+            }
+            let text = if fmt == "pdf" {
+                pdftotext(&file)
+            } else {
+                std::fs::read_to_string(&file).unwrap()
+            };
+            assert!(text.contains("Computation, step by step") && text.contains("Cautions"));
+            for never in NEVER {
+                assert!(!text.contains(never), "{reference} {fmt}: {never} appears");
+            }
+        }
+        n += 1;
+    }
+    assert_eq!(n, 5);
 }
