@@ -9,14 +9,22 @@ use super::doc::{Block, Document};
 /// Escape text for Markdown inline content. `<`, `>` and `&` become entities so that a
 /// renderer that allows raw HTML shows them as text.
 pub fn esc(s: &str) -> String {
+    escape(s, true)
+}
+
+/// `block`: also escape what would start a heading, list or rule at the start of a line
+/// (not needed inside a table cell or after a list marker of ours).
+fn escape(s: &str, block: bool) -> String {
     let mut o = String::with_capacity(s.len() + 8);
     for (i, line) in s.split('\n').enumerate() {
         if i > 0 {
             o.push('\n');
         }
-        let mut at_start = true;
+        let mut at_start = block;
         let mut digits = false;
-        for c in line.chars() {
+        let mut chars = line.chars().peekable();
+        while let Some(c) = chars.next() {
+            let next_blank = chars.peek().is_none_or(|n| *n == ' ');
             match c {
                 '&' => o.push_str("&amp;"),
                 '<' => o.push_str("&lt;"),
@@ -30,7 +38,8 @@ pub fn esc(s: &str) -> String {
                     o.push('\\');
                     o.push(c);
                 }
-                '.' | ')' if digits => {
+                // "12. " would start an ordered list
+                '.' | ')' if digits && next_blank => {
                     o.push('\\');
                     o.push(c);
                 }
@@ -47,7 +56,7 @@ pub fn esc(s: &str) -> String {
 
 /// A table cell: escaped, on one line.
 fn cell(s: &str) -> String {
-    esc(&s.replace(['\n', '\r'], " "))
+    escape(&s.replace(['\n', '\r'], " "), false)
 }
 
 fn para(s: &str) -> String {
@@ -157,6 +166,8 @@ mod tests {
             "\\# not a heading\n\\- not a list\n12\\. no"
         );
         assert_eq!(esc("cross-checks 1.5"), "cross-checks 1.5");
+        assert_eq!(esc("25.8 °C"), "25.8 °C");
+        assert_eq!(cell("- 3.5 MPa"), "- 3.5 MPa");
         assert_eq!(esc("*b* `c`"), "\\*b\\* \\`c\\`");
         assert_eq!(esc("a|b"), "a\\|b");
         assert_eq!(esc("<i>"), "&lt;i&gt;");
