@@ -266,10 +266,11 @@ fn wald_bounds_cover_about_95_percent() {
 
 #[test]
 fn poisson_intervals_against_textbook() {
-    // Exact (Garwood 1936) 95 % limits for a Poisson count, as tabulated e.g. in
-    // Documenta Geigy / Diem & Lentner, Scientific Tables, and computed by
-    // scipy 1.17.1 chi2.ppf: 0 → [0, 3.689]; 1 → [0.0253, 5.572]; 5 → [1.623, 11.668];
-    // 10 → [4.795, 18.390].
+    // Exact 95 % limits for a Poisson count (Garwood, Biometrika 28 (1936) 437), the values
+    // standard tables print: 0 → [0, 3.689]; 1 → [0.0253, 5.572]; 5 → [1.623, 11.668];
+    // 10 → [4.795, 18.390] (rounded figures from memory, not checked against a printed table
+    // here). The full-precision figures are scipy 1.17.1 chi2.ppf (scripts/fleet-reference.py);
+    // ours come from our own incomplete gamma function.
     let cases = [
         (0u64, 0.0, 3.688_879_454_11),
         (1, 0.025_317_807_984_3, 5.571_643_390_94),

@@ -38,9 +38,33 @@ pub struct StatsArgs {
     /// (competing flaw populations, ASTM C1239).
     #[arg(long, value_name = "TYPE")]
     pub origin_type: Option<String>,
+    /// Keep only incidents with this value (repeatable), e.g. --only cause=thermal or
+    /// --only supplier=KESTREL; a supplier/product/lot/site value also narrows the exposure.
+    #[arg(long, value_name = "KEY=VALUE")]
+    pub only: Vec<String>,
+    /// Which back-calculated stress the Weibull fit uses: applied (net minus residual
+    /// stress: the service load at fracture) or net (the mirror's stress at the origin).
+    #[arg(long, value_name = "applied|net", default_value = "applied")]
+    pub stress: String,
     /// Print JSON instead of tables.
     #[arg(long)]
     pub json: bool,
+}
+
+/// Which stress of an incident the strength statistics use.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StressKind {
+    Applied,
+    Net,
+}
+
+impl StressKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            StressKind::Applied => "applied",
+            StressKind::Net => "net",
+        }
+    }
 }
 
 /// Checked arguments.
@@ -53,6 +77,8 @@ pub struct StatsQuery {
     pub trend: bool,
     pub weibull: bool,
     pub origin_type: Option<String>,
+    pub only: Vec<(Key, String)>,
+    pub stress: StressKind,
     pub json: bool,
 }
 
@@ -90,8 +116,34 @@ impl StatsQuery {
                 "--origin-type chooses the flaw population of the Weibull fit; add --weibull",
             ));
         }
+        let stress = match a.stress.trim().to_ascii_lowercase().as_str() {
+            "applied" => StressKind::Applied,
+            "net" => StressKind::Net,
+            other => {
+                return Err(CliError::usage(format!(
+                    "--stress: '{other}' is not applied or net"
+                )))
+            }
+        };
+        let mut only = Vec::new();
+        for o in &a.only {
+            let (k, v) = o.split_once('=').ok_or_else(|| {
+                CliError::usage(format!(
+                    "--only: '{o}' is not KEY=VALUE, e.g. cause=thermal"
+                ))
+            })?;
+            let key = Key::parse(k).map_err(|e| CliError::usage(format!("--only: {e}")))?;
+            if key.is_time() {
+                return Err(CliError::usage(
+                    "--only: use --since and --until for dates, not month or season",
+                ));
+            }
+            only.push((key, v.trim().to_string()));
+        }
         Ok(StatsQuery {
             keys,
+            only,
+            stress,
             since,
             until,
             rates: a.rates,
@@ -122,6 +174,43 @@ impl StatsQuery {
         };
         Window::new(since, until).map_err(|e| CliError::usage(e.to_string()))
     }
+}
+
+/// Apply the `--only` filters: incidents must match every one; exposure rows must match the
+/// supplier/product/lot/site ones.
+pub fn apply_only(
+    q: &StatsQuery,
+    incidents: &mut Vec<IncidentFacts>,
+    exposures: &mut Vec<Exposure>,
+) {
+    if q.only.is_empty() {
+        return;
+    }
+    let want: Vec<(Key, crate::fleet::GroupValue)> = q
+        .only
+        .iter()
+        .map(|(k, v)| {
+            let value = if v == crate::fleet::group::NOT_RECORDED {
+                None
+            } else {
+                Some(v.clone())
+            };
+            (*k, crate::fleet::GroupValue::Text(value))
+        })
+        .collect();
+    incidents.retain(|f| want.iter().all(|(k, v)| v.matches(*k, f)));
+    exposures.retain(|e| {
+        q.only.iter().all(|(k, v)| {
+            let field = match k {
+                Key::Supplier => e.supplier.as_deref(),
+                Key::Product => e.product.as_deref(),
+                Key::Lot => e.lot.as_deref(),
+                Key::Site => e.site.as_deref(),
+                _ => return true,
+            };
+            field == Some(v.as_str())
+        })
+    });
 }
 
 /// Everything `stats` computed.
@@ -155,10 +244,9 @@ pub fn compute(
             .map(|f| f.found)
             .filter(|d| window.contains(*d))
             .collect();
-        let ex: &[Exposure] = if q.rates { exposures } else { &[] };
         (
-            Some(trend(&dates, ex, &window).map_err(|e| e.to_string())),
-            Some(seasonality(&dates, ex, &window)),
+            Some(trend(&dates, exposures, &window).map_err(|e| e.to_string())),
+            Some(seasonality(&dates, exposures, &window)),
         )
     } else {
         (None, None)
@@ -222,6 +310,11 @@ pub fn to_json(q: &StatsQuery, r: &StatsResult) -> Value {
                         .map_or(Value::Null, |r| pair(r.ci95.low, r.ci95.high)),
                 );
                 m.insert("rate_ratio".into(), opt(row.ratio.map(|r| r.ratio)));
+                m.insert("rest_count".into(), json!(row.ratio.map(|r| r.rest_count)));
+                m.insert(
+                    "rest_pane_years".into(),
+                    opt(row.ratio.map(|r| r.rest_exposure)),
+                );
                 m.insert(
                     "rate_ratio_ci95".into(),
                     row.ratio
@@ -250,6 +343,8 @@ pub fn to_json(q: &StatsQuery, r: &StatsResult) -> Value {
         "by": q.keys.iter().map(|k| k.name()).collect::<Vec<_>>(),
         "window": { "since": t.window.since.to_string(), "until": t.window.until.to_string() },
         "total": t.total,
+        "only": q.only.iter().map(|(k, v)| json!({ "key": k.name(), "value": v })).collect::<Vec<_>>(),
+        "stress": q.stress.name(),
         "groups": groups,
     });
     let m = out.as_object_mut().expect("object literal");
@@ -355,6 +450,24 @@ fn lpad(s: &str, w: usize) -> String {
     }
 }
 
+/// A ratio or bound for the table: "∞" when the rest had no events.
+fn fmt_ratio(x: f64) -> String {
+    if x == f64::INFINITY {
+        "∞".to_string()
+    } else {
+        fmt_sig(x, 3)
+    }
+}
+
+/// "p = 0.03" or "p < 0.0001".
+fn p_eq(p: f64) -> String {
+    if p < 0.0001 {
+        "p < 0.0001".to_string()
+    } else {
+        format!("p = {}", fmt_sig(p, 2))
+    }
+}
+
 fn fmt_p(p: f64) -> String {
     if p < 0.0001 {
         "<0.0001".to_string()
@@ -398,10 +511,20 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
     let t = &r.table;
     let mut s = String::new();
     let by: Vec<&str> = q.keys.iter().map(|k| k.name()).collect();
+    let only: Vec<String> = q
+        .only
+        .iter()
+        .map(|(k, v)| format!("{}={}", k.name(), clean(v)))
+        .collect();
     s.push_str(&format!(
-        "Incidents found {} to {}: {} (grouped by {})\n\n",
+        "Incidents found {} to {}{}: {} (grouped by {})\n\n",
         t.window.since,
         t.window.until,
+        if only.is_empty() {
+            String::new()
+        } else {
+            format!(", only {}", only.join(", "))
+        },
         t.total,
         by.join(", ")
     ));
@@ -443,11 +566,15 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
                 }
                 match row.ratio {
                     Some(rr) => {
-                        c.push(format!("{}x", fmt_sig(rr.ratio, 3)));
+                        c.push(if rr.ratio.is_nan() {
+                            "—".to_string()
+                        } else {
+                            format!("{}x", fmt_ratio(rr.ratio))
+                        });
                         c.push(format!(
                             "[{}, {}]",
-                            fmt_sig(rr.ci95.low, 3),
-                            fmt_sig(rr.ci95.high, 3)
+                            fmt_ratio(rr.ci95.low),
+                            fmt_ratio(rr.ci95.high)
                         ));
                         c.push(fmt_p(rr.p_two_sided));
                         c.push(if row.flagged {
@@ -505,11 +632,11 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
                     "no significant trend"
                 };
                 s.push_str(&format!(
-                    "  trend: rate x{} per year (95 % CI [{}, {}]), p = {}: {verdict}\n",
+                    "  trend: rate x{} per year (95 % CI [{}, {}]), {}: {verdict}\n",
                     fmt_sig(tr.ratio_per_year, 3),
                     fmt_sig(tr.ratio_ci95.low, 3),
                     fmt_sig(tr.ratio_ci95.high, 3),
-                    fmt_p(tr.p_value)
+                    p_eq(tr.p_value)
                 ));
                 s.push_str(&format!(
                     "  method: {METHOD_TREND}; exposure per month in {}; dispersion {}\n",
@@ -545,17 +672,17 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
             .map(|m| NAMES[(*m - 1) as usize])
             .collect();
         s.push_str(&format!(
-            "  seasonality: chi-square {} on {} df, p = {}{}; peak {}\n  method: {METHOD_SEASON}\n",
+            "  seasonality: chi-square {} on {} df, {}{}; peak {}\n  method: {METHOD_SEASON}\n",
             fmt_sig(se.chi2, 3),
             se.df,
-            fmt_p(se.p_value),
+            p_eq(se.p_value),
             if se.p_value < 0.05 {
                 ": months differ"
             } else {
                 ": no significant pattern"
             },
-            if peaks.is_empty() {
-                "—".to_string()
+            if peaks.is_empty() || peaks.len() > 3 {
+                "none".to_string()
             } else {
                 peaks.join(", ")
             }
@@ -563,7 +690,8 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
     }
     if q.weibull {
         s.push_str(&format!(
-            "\nStrength (Weibull fit of back-calculated fracture stress{})\n",
+            "\nStrength (Weibull fit of back-calculated {} stress at fracture{})\n",
+            q.stress.name(),
             match &q.origin_type {
                 Some(o) => format!("; origin type '{}', other origins censored", clean(o)),
                 None => String::new(),
@@ -576,61 +704,79 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
             header.push(h.into());
         }
         let mut rows = Vec::new();
-        let push = |rows: &mut Vec<Vec<String>>,
-                    label: Vec<String>,
-                    n: usize,
-                    w: Option<&Result<crate::fleet::WeibullFit, String>>| {
-            let mut c = label;
-            c.push(n.to_string());
-            match w {
-                Some(Ok(f)) => {
-                    c.push(f.n_censored.to_string());
-                    c.push(fmt_sig(f.modulus, 3));
-                    c.push(format!(
-                        "[{}, {}]",
-                        fmt_sig(f.modulus_ci95.low, 3),
-                        fmt_sig(f.modulus_ci95.high, 3)
-                    ));
-                    let u = Unit::Megapascal;
-                    c.push(fmt_sig(u.from_si(f.scale), 3));
-                    c.push(format!(
-                        "[{}, {}]",
-                        fmt_sig(u.from_si(f.scale_ci95.low), 3),
-                        fmt_sig(u.from_si(f.scale_ci95.high), 3)
-                    ));
-                    c.push(f.anderson_darling.map_or("—".to_string(), |a| {
-                        format!(
-                            "{}{}",
-                            fmt_sig(a.a2_modified, 2),
-                            if a.rejected_at_5pct { " poor fit" } else { "" }
-                        )
-                    }));
+        let mut notes = Vec::new();
+        let mut push =
+            |rows: &mut Vec<Vec<String>>,
+             label: Vec<String>,
+             n: usize,
+             w: Option<Result<&crate::fleet::WeibullFit, String>>| {
+                let mut c = label.clone();
+                c.push(n.to_string());
+                match w {
+                    Some(Ok(f)) => {
+                        c.push(f.n_censored.to_string());
+                        c.push(fmt_sig(f.modulus, 3));
+                        c.push(format!(
+                            "[{}, {}]",
+                            fmt_sig(f.modulus_ci95.low, 3),
+                            fmt_sig(f.modulus_ci95.high, 3)
+                        ));
+                        let u = Unit::Megapascal;
+                        c.push(fmt_sig(u.from_si(f.scale), 3));
+                        c.push(format!(
+                            "[{}, {}]",
+                            fmt_sig(u.from_si(f.scale_ci95.low), 3),
+                            fmt_sig(u.from_si(f.scale_ci95.high), 3)
+                        ));
+                        c.push(f.anderson_darling.map_or("—".to_string(), |a| {
+                            format!(
+                                "{}{}",
+                                fmt_sig(a.a2_modified, 2),
+                                if a.rejected_at_5pct { " poor fit" } else { "" }
+                            )
+                        }));
+                    }
+                    Some(Err(e)) => {
+                        c.push("no fit".into());
+                        let who: Vec<&str> = label
+                            .iter()
+                            .map(String::as_str)
+                            .filter(|l| !l.is_empty())
+                            .collect();
+                        notes.push(format!("  no fit for {}: {e}\n", who.join(" / ")));
+                    }
+                    None => c.push("no stresses".into()),
                 }
-                Some(Err(e)) => c.push(format!("no fit: {e}")),
-                None => c.push("no stresses".into()),
-            }
-            rows.push(c);
-        };
+                rows.push(c);
+            };
         for row in &t.rows {
             let w = row
                 .weibull
                 .as_ref()
-                .map(|r| r.as_ref().map_err(|e| e.to_string()).cloned());
+                .map(|r| r.as_ref().map_err(|e| e.to_string()));
             push(
                 &mut rows,
                 row.key.iter().map(|k| clean(k)).collect(),
                 row.n_stresses,
-                w.as_ref(),
+                w,
             );
         }
         let mut all_label = vec!["all".to_string()];
         all_label.resize(q.keys.len(), String::new());
-        let n_all = r.overall_weibull.as_ref().map_or(0, |w| match w {
-            Ok(f) => f.n,
-            Err(_) => 0,
-        });
-        push(&mut rows, all_label, n_all, r.overall_weibull.as_ref());
+        let n_all: usize = t.rows.iter().map(|r| r.n_stresses).sum();
+        push(
+            &mut rows,
+            all_label,
+            n_all,
+            r.overall_weibull
+                .as_ref()
+                .map(|w| w.as_ref().map_err(String::clone)),
+        );
         s.push_str(&columns(&header, &rows, q.keys.len()));
+        for n in &notes {
+            s.push_str(&clean(n.trim_end()));
+            s.push('\n');
+        }
         if let Some(Ok(f)) = &r.overall_weibull {
             s.push_str("\n  all groups together:\n");
             s.push_str(&fit_table(f, Unit::Megapascal, "    "));
@@ -658,12 +804,88 @@ pub fn render(
     }
 }
 
+/// The incidents and exposure rows the statistics need, from the store.
+pub fn load(
+    store: &crate::store::Store,
+    q: &StatsQuery,
+) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
+    let filter = crate::store::Filter {
+        since: q.since,
+        until: q.until,
+        ..Default::default()
+    };
+    let rows = store
+        .fleet_rows(&filter)
+        .map_err(|e| CliError::work(e.to_string()))?;
+    let incidents = rows
+        .into_iter()
+        .map(|r| IncidentFacts {
+            stress_pa: match q.stress {
+                StressKind::Applied => r.applied_stress_pa,
+                StressKind::Net => r.net_stress_pa,
+            },
+            cause: r.cause,
+            origin_type: r.origin_type,
+            supplier: r.supplier,
+            product: r.product,
+            lot: r.lot,
+            site: r.site,
+            asset_type: r.asset_type,
+            temper: r.temper,
+            found: r.found_on,
+        })
+        .collect();
+    let exposures = store
+        .exposure()
+        .map_err(|e| CliError::work(e.to_string()))?
+        .into_iter()
+        .map(|e| Exposure {
+            supplier: Some(e.supplier),
+            product: e.product,
+            lot: e.lot,
+            site: e.site,
+            panes: e.panes as f64,
+            from: e.installed_on,
+            until: e.removed_on,
+        })
+        .collect();
+    Ok((incidents, exposures))
+}
+
+/// Accept an origin-type code or its label ("inclusion_nis" or "inclusion: nickel sulfide
+/// stone"); anything else is a usage error listing the codes.
+fn origin_code(store: &crate::store::Store, given: &str) -> Result<String, CliError> {
+    let list = store
+        .lookups(crate::store::LookupKind::OriginType)
+        .map_err(|e| CliError::work(e.to_string()))?;
+    let g = given.trim();
+    if let Some(e) = list
+        .iter()
+        .find(|e| e.code.eq_ignore_ascii_case(g) || e.label.eq_ignore_ascii_case(g))
+    {
+        return Ok(e.code.clone());
+    }
+    let codes: Vec<&str> = list.iter().map(|e| e.code.as_str()).collect();
+    Err(CliError::usage(format!(
+        "--origin-type: '{g}' is not an origin type; expected one of {}",
+        codes.join(", ")
+    )))
+}
+
 pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let q = StatsQuery::from_args(&args)?;
-    let _ = (&q, &ctx.db);
-    Err(CliError::work(
-        "'stats' needs the incident store, which is not merged into this build yet",
-    ))
+    let mut q = StatsQuery::from_args(&args)?;
+    let store =
+        crate::store::Store::open_existing(&ctx.db).map_err(|e| CliError::work(e.to_string()))?;
+    if let Some(o) = &q.origin_type {
+        q.origin_type = Some(origin_code(&store, o)?);
+    }
+    let (mut incidents, mut exposures) = load(&store, &q)?;
+    apply_only(&q, &mut incidents, &mut exposures);
+    // The clock is read here, at the edge: the default end of the window is today.
+    let today = chrono::Utc::now().date_naive();
+    let text = render(&q, &incidents, &exposures, today)?;
+    ctx.out.write_all(text.as_bytes())?;
+    Ok(())
 }
 
 #[cfg(test)]
@@ -741,6 +963,8 @@ mod tests {
             trend: true,
             weibull: true,
             origin_type: None,
+            only: vec![],
+            stress: "applied".into(),
             json: false,
         })
         .unwrap()
@@ -762,6 +986,29 @@ mod tests {
             !s.contains("NaN") && !s.contains("inf]") && !s.contains("inf,"),
             "{s}"
         );
+    }
+
+    #[test]
+    fn a_group_alone_in_its_stratum_reads_infinity() {
+        // inclusion breaks happen only on Quarry Glass: against no events elsewhere
+        let (inc, ex) = fleet();
+        let s = render(&query("cause,supplier"), &inc, &ex, d(2026, 1, 1)).unwrap();
+        assert!(s.contains("∞x"), "{s}");
+        assert!(!s.contains("—x"), "{s}");
+        let mut q = query("cause,supplier");
+        q.json = true;
+        let v: Value =
+            serde_json::from_str(&render(&q, &inc, &ex, d(2026, 1, 1)).unwrap()).unwrap();
+        let g = v["groups"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|g| g["key"][0] == "inclusion")
+            .unwrap();
+        // JSON has no infinity: the ratio is null and the rest's count says why
+        assert!(g["rate_ratio"].is_null());
+        assert_eq!(g["rest_count"], 0);
+        assert_eq!(g["flagged"], true);
     }
 
     #[test]
@@ -809,6 +1056,8 @@ mod tests {
             trend: false,
             weibull,
             origin_type: origin.map(String::from),
+            only: vec![],
+            stress: "applied".into(),
             json: false,
         };
         for args in [

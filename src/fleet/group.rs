@@ -12,6 +12,7 @@
 //! by cause alone there is no rate ratio (every cause has the same exposure).
 
 use std::collections::HashMap;
+use std::hash::{BuildHasherDefault, Hasher};
 
 use chrono::{Datelike, NaiveDate};
 
@@ -395,6 +396,52 @@ pub struct GroupTable {
     pub flag_level: f64,
 }
 
+/// A small multiply-rotate hasher (the Fx scheme): grouping a million rows by short keys is
+/// several times faster than with the default SipHash, and these maps are never exposed to
+/// an adversary choosing keys to collide.
+#[derive(Default, Clone, Copy)]
+struct FxHasher(u64);
+
+impl FxHasher {
+    fn add(&mut self, w: u64) {
+        self.0 = (self.0.rotate_left(5) ^ w).wrapping_mul(0x517c_c1b7_2722_0a95);
+    }
+}
+
+impl Hasher for FxHasher {
+    fn write(&mut self, bytes: &[u8]) {
+        let mut chunks = bytes.chunks_exact(8);
+        for c in &mut chunks {
+            let mut b = [0u8; 8];
+            b.copy_from_slice(c);
+            self.add(u64::from_le_bytes(b));
+        }
+        let rest = chunks.remainder();
+        if !rest.is_empty() {
+            let mut b = [0u8; 8];
+            b[..rest.len()].copy_from_slice(rest);
+            self.add(u64::from_le_bytes(b));
+        }
+    }
+    fn write_u8(&mut self, i: u8) {
+        self.add(u64::from(i));
+    }
+    fn write_u32(&mut self, i: u32) {
+        self.add(u64::from(i));
+    }
+    fn write_u64(&mut self, i: u64) {
+        self.add(i);
+    }
+    fn write_usize(&mut self, i: usize) {
+        self.add(i as u64);
+    }
+    fn finish(&self) -> u64 {
+        self.0
+    }
+}
+
+type FxMap<K, V> = HashMap<K, V, BuildHasherDefault<FxHasher>>;
+
 #[derive(Default)]
 struct Acc {
     count: u64,
@@ -424,7 +471,7 @@ pub fn group(
     check_keys(&opts.keys)?;
     let window = opts.window;
     let keys = &opts.keys;
-    let mut map: HashMap<[Val<'_>; 2], Acc> = HashMap::new();
+    let mut map: FxMap<[Val<'_>; 2], Acc> = FxMap::default();
     let mut total = 0u64;
     let target = opts.origin_type.as_deref();
     for f in incidents {
@@ -475,7 +522,7 @@ pub fn group(
         }
         s
     }
-    let mut stratum_count: HashMap<[Option<Val<'_>>; 2], u64> = HashMap::new();
+    let mut stratum_count: FxMap<[Option<Val<'_>>; 2], u64> = FxMap::default();
     for (k, acc) in &map {
         *stratum_count.entry(stratum_of(keys, k)).or_default() += acc.count;
     }

@@ -68,6 +68,9 @@ pub struct RateRatio {
     pub p_two_sided: f64,
     /// One-sided p-value for "the group's rate is above the rest".
     pub p_above: f64,
+    /// Events and exposure of the rest.
+    pub rest_count: u64,
+    pub rest_exposure: f64,
 }
 
 /// P(X ≥ k) for X ~ Binomial(n, p).
@@ -156,6 +159,8 @@ pub fn rate_ratio(k1: u64, e1: f64, k0: u64, e0: f64) -> Option<RateRatio> {
         ci95,
         p_two_sided: p_two,
         p_above,
+        rest_count: k0,
+        rest_exposure: e0,
     })
 }
 

@@ -297,7 +297,11 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
     if r < 2 {
         return Err(WeibullError::TooFewFailures { failures: r });
     }
-    let max = samples.iter().map(|s| s.stress).fold(0.0_f64, f64::max);
+    // Sorted once: the plot positions and the Anderson–Darling sum need the order.
+    let mut sorted: Vec<Specimen> = samples.to_vec();
+    sort_specimens(&mut sorted);
+    let samples = &sorted[..];
+    let max = samples[n - 1].stress;
     let ln_y: Vec<f64> = samples.iter().map(|s| (s.stress / max).ln()).collect();
     let rf = r as f64;
     let mean_ln_f: f64 = samples
@@ -382,15 +386,17 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
     //   −∂²ℓ/∂σ_θ²  = m² r / σ_θ²
     //   −∂²ℓ/∂m∂σ_θ = −(m/σ_θ) Σ u t
     let ln_ratio = (max / scale).ln(); // ln z = ln y + ln(max/σ_θ)
-    let (mut su, mut sut, mut sut2) = (0.0, 0.0, 0.0);
+    let (mut sut, mut sut2) = (0.0, 0.0);
+    let mut z = Vec::with_capacity(if n == r { n } else { 0 });
     for &l in &ln_y {
         let t = l + ln_ratio;
         let u = (m * t).exp();
-        su += u;
         sut += u * t;
         sut2 += u * t * t;
+        if n == r {
+            z.push(u);
+        }
     }
-    let _ = su;
     let i_mm = rf / (m * m) + sut2;
     let i_ss = m * m * rf / (scale * scale);
     let i_ms = -(m / scale) * sut;
@@ -417,7 +423,7 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
         None
     };
     let anderson_darling = if n_censored == 0 {
-        Some(anderson_darling(samples, m, scale))
+        Some(anderson_darling(&z))
     } else {
         None
     };
@@ -435,14 +441,13 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
         scale_ci90: wald(scale, se_ln_s, 0.90),
         scale_ci95: wald(scale, se_ln_s, 0.95),
         anderson_darling,
-        plot: plot_points(samples),
+        plot: plot_points_sorted(samples),
         iterations,
     })
 }
 
-fn anderson_darling(samples: &[Specimen], m: f64, scale: f64) -> AndersonDarling {
-    let mut z: Vec<f64> = samples.iter().map(|s| (s.stress / scale).powf(m)).collect();
-    z.sort_by(f64::total_cmp);
+/// A² from z = (σ/σ_θ)^m in rising order (−ln(1 − F) at each value).
+fn anderson_darling(z: &[f64]) -> AndersonDarling {
     let n = z.len();
     let nf = n as f64;
     let mut sum = 0.0;
@@ -466,11 +471,19 @@ fn anderson_darling(samples: &[Specimen], m: f64, scale: f64) -> AndersonDarling
 /// ranked before survivors at the same stress (a survivor at σ outlived the failures at σ).
 pub fn plot_points(samples: &[Specimen]) -> Vec<PlotPoint> {
     let mut sorted: Vec<Specimen> = samples.to_vec();
-    sorted.sort_by(|a, b| {
+    sort_specimens(&mut sorted);
+    plot_points_sorted(&sorted)
+}
+
+fn sort_specimens(s: &mut [Specimen]) {
+    s.sort_unstable_by(|a, b| {
         a.stress
             .total_cmp(&b.stress)
             .then(a.censored.cmp(&b.censored))
     });
+}
+
+fn plot_points_sorted(sorted: &[Specimen]) -> Vec<PlotPoint> {
     let n = sorted.len() as f64;
     let mut prev = 0.0;
     let mut out = Vec::with_capacity(sorted.len());
