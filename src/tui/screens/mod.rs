@@ -1,0 +1,3 @@
+//! One module per screen; each has `draw(app, frame, body, theme)`.
+
+pub mod bench;
