@@ -1,1 +1,807 @@
 //! Fracture-mechanics core: mirror, flaw, residual stress, materials, uncertainty. Pure.
+//!
+//! [`analyze`] takes mirror readings and everything around them and returns an [`Analysis`]
+//! that carries every step a report shows. It is cheap (no I/O, a few small allocations), so the
+//! bench calculator can call it on every keystroke. SI throughout: m, Pa, Pa·√m.
+//!
+//! The steps:
+//! 1. per boundary: mean and scatter of the radii, σ = A/√R̄, 95 % interval ([`uncertainty`]);
+//! 2. net stress at the origin = the stress of the first boundary given;
+//! 3. residual stress at the origin from the temper class or the surface compression
+//!    ([`residual`]); applied stress = net − residual (compression negative);
+//! 4. flaw size a = (K_Ic / (Y σ_net))² ([`flaw`]); the flaw sees the net stress;
+//! 5. cross-checks: mirror-to-flaw ratios, measured flaw, predicted branching distance,
+//!    consistency between boundaries; warnings in plain sentences.
+
+pub mod flaw;
+pub mod materials;
+pub mod mirror;
+pub mod residual;
+pub mod uncertainty;
+
+use serde::{Deserialize, Serialize};
+
+pub use flaw::{geometry_factor, FlawGeometry, GeometryFactor};
+pub use materials::{Constant, Material, Provenance};
+pub use mirror::{Boundary, BoundaryReadings, BoundaryResult, Consistency, ConstantUsed};
+pub use residual::{Origin, Residual, Temper};
+
+use crate::units::{fmt_sig, format, Unit};
+
+/// Why an analysis cannot be made. `field` names the input (the command line uses the same
+/// names for its flags: radius, constant, toughness, surface-compression, layer-depth,
+/// thickness, measured-flaw, aspect, depth-ratio, boundary, temper).
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum FractureError {
+    #[error("{field}: {problem}; expected {expected}")]
+    Invalid {
+        field: String,
+        problem: String,
+        expected: String,
+    },
+    #[error("{field}: {what} is needed; expected {expected}")]
+    Missing {
+        field: String,
+        what: String,
+        expected: String,
+    },
+    #[error(
+        "radius: no readings were given; expected at least one radius for a boundary \
+         (mirror-mist, mist-hackle or branching)"
+    )]
+    NoReadings,
+}
+
+impl FractureError {
+    pub fn invalid(
+        field: impl Into<String>,
+        problem: impl Into<String>,
+        expected: impl Into<String>,
+    ) -> Self {
+        FractureError::Invalid {
+            field: field.into(),
+            problem: problem.into(),
+            expected: expected.into(),
+        }
+    }
+
+    pub fn missing(
+        field: impl Into<String>,
+        what: impl Into<String>,
+        expected: impl Into<String>,
+    ) -> Self {
+        FractureError::Missing {
+            field: field.into(),
+            what: what.into(),
+            expected: expected.into(),
+        }
+    }
+
+    /// The input the error is about.
+    pub fn field(&self) -> &str {
+        match self {
+            FractureError::Invalid { field, .. } | FractureError::Missing { field, .. } => field,
+            FractureError::NoReadings => "radius",
+        }
+    }
+}
+
+/// A constant the user gives for one boundary, replacing the material's.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ConstantOverride {
+    pub boundary: Boundary,
+    pub constant: Constant,
+}
+
+/// Everything an analysis needs. Build with [`AnalysisInput::new`] and set what you have.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct AnalysisInput {
+    pub material: Material,
+    /// Readings per boundary; the first one gives the headline stress.
+    pub readings: Vec<BoundaryReadings>,
+    #[serde(default)]
+    pub constant_overrides: Vec<ConstantOverride>,
+    #[serde(default)]
+    pub toughness_override: Option<Constant>,
+    /// `None`: not stated (treated as annealed, with a warning for interior origins).
+    #[serde(default)]
+    pub temper: Option<Temper>,
+    /// Surface compression magnitude (Pa, ≥ 0), measured; replaces the class default.
+    #[serde(default)]
+    pub surface_compression_pa: Option<f64>,
+    /// One standard deviation of the measured surface compression (Pa), if known.
+    #[serde(default)]
+    pub surface_compression_spread_pa: Option<f64>,
+    /// Depth of the compressive layer (m); estimated as 0.21 t for thermal temper.
+    #[serde(default)]
+    pub layer_depth_m: Option<f64>,
+    #[serde(default)]
+    pub origin: Origin,
+    /// `None`: semicircular surface flaw for a surface origin, embedded penny for an interior one.
+    #[serde(default)]
+    pub flaw: Option<FlawGeometry>,
+    #[serde(default)]
+    pub measured_flaw_m: Option<f64>,
+    #[serde(default)]
+    pub thickness_m: Option<f64>,
+}
+
+impl AnalysisInput {
+    pub fn new(material: Material) -> Self {
+        AnalysisInput {
+            material,
+            readings: Vec::new(),
+            constant_overrides: Vec::new(),
+            toughness_override: None,
+            temper: None,
+            surface_compression_pa: None,
+            surface_compression_spread_pa: None,
+            layer_depth_m: None,
+            origin: Origin::Surface,
+            flaw: None,
+            measured_flaw_m: None,
+            thickness_m: None,
+        }
+    }
+
+    /// Add readings for a boundary (convenience for callers and tests).
+    pub fn with_readings(mut self, boundary: Boundary, radii_m: &[f64]) -> Self {
+        self.readings.push(BoundaryReadings {
+            boundary,
+            radii_m: radii_m.to_vec(),
+        });
+        self
+    }
+}
+
+/// The ratio of a boundary's radius to the flaw size, against the published ratio.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FlawRatio {
+    pub boundary: Boundary,
+    pub ratio: f64,
+    pub expected: f64,
+    /// True when the ratio is within a factor of two of the expected one.
+    pub plausible: bool,
+}
+
+/// Flaw size and its checks.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FlawResult {
+    /// The geometry used (with a/t as solved when a thickness was given).
+    pub geometry: FlawGeometry,
+    pub geometry_label: String,
+    /// How the geometry was chosen ("as given", "default for a surface origin", …).
+    pub geometry_basis: String,
+    pub factor: GeometryFactor,
+    pub toughness: ConstantUsed,
+    /// Flaw size a (m): depth for surface flaws, radius for a penny, half length for a
+    /// through crack.
+    pub size_m: f64,
+    pub size_low_m: f64,
+    pub size_high_m: f64,
+    pub ratios: Vec<FlawRatio>,
+    pub measured_m: Option<f64>,
+    /// measured / predicted.
+    pub measured_over_predicted: Option<f64>,
+}
+
+/// Branching distance predicted from the headline stress, R_b = (A_b / σ)².
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct BranchingPrediction {
+    pub constant: ConstantUsed,
+    pub distance_m: f64,
+    pub low_m: f64,
+    pub high_m: f64,
+    /// The measured mean branching distance, if branching readings were given.
+    pub measured_m: Option<f64>,
+}
+
+/// Everything a report shows, step by step. SI values.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Analysis {
+    pub material_key: String,
+    pub material_name: String,
+    pub boundaries: Vec<BoundaryResult>,
+    /// The boundary the headline (net) stress comes from: the first given.
+    pub headline: Boundary,
+    /// Net stress at the origin (Pa) and its 95 % interval.
+    pub stress_pa: f64,
+    pub stress_low_pa: f64,
+    pub stress_high_pa: f64,
+    pub residual: Residual,
+    /// Applied stress = net − residual (Pa), with a 95 % interval that also carries the spread
+    /// of the surface compression where it is known.
+    pub applied_stress_pa: f64,
+    pub applied_low_pa: f64,
+    pub applied_high_pa: f64,
+    /// `None` when no toughness is known.
+    pub flaw: Option<FlawResult>,
+    pub branching: Option<BranchingPrediction>,
+    pub consistency: Vec<Consistency>,
+    pub warnings: Vec<String>,
+}
+
+fn check_positive(field: &str, what: &str, v: f64, unit: Unit) -> Result<(), FractureError> {
+    if !v.is_finite() || v <= 0.0 {
+        return Err(FractureError::invalid(
+            field,
+            format!("{what} must be a finite number greater than zero, got {v}"),
+            format!("a value in {} or another {} unit", unit, unit.dimension()),
+        ));
+    }
+    Ok(())
+}
+
+fn check_constant(field: &str, what: &str, c: &Constant, unit: Unit) -> Result<(), FractureError> {
+    check_positive(field, what, c.value, unit)?;
+    if let Some(s) = c.spread {
+        if !s.is_finite() || s < 0.0 {
+            return Err(FractureError::invalid(
+                field,
+                format!("the spread of {what} must be finite and not negative, got {s}"),
+                "a spread of zero or more".to_string(),
+            ));
+        }
+    }
+    Ok(())
+}
+
+fn mm(m: f64) -> String {
+    format(m, Unit::Millimetre)
+}
+fn mpa(pa: f64) -> String {
+    format(pa, Unit::Megapascal)
+}
+fn um(m: f64) -> String {
+    format(m, Unit::Micrometre)
+}
+
+/// Run the analysis.
+pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
+    let mut warnings = Vec::new();
+    let material = &input.material;
+
+    // ---- validation of everything the user typed
+    if input.readings.iter().all(|b| b.radii_m.is_empty()) {
+        return Err(FractureError::NoReadings);
+    }
+    for (i, b) in input.readings.iter().enumerate() {
+        if input.readings[..i].iter().any(|o| o.boundary == b.boundary) {
+            return Err(FractureError::invalid(
+                "boundary",
+                format!("{} is given twice", b.boundary.key()),
+                "each boundary once, with all its radii after it",
+            ));
+        }
+        if b.radii_m.is_empty() {
+            return Err(FractureError::missing(
+                "radius",
+                format!("a radius for the {} boundary", b.boundary.key()),
+                "at least one radius such as 1.0mm after the boundary",
+            ));
+        }
+        for &r in &b.radii_m {
+            check_positive(
+                "radius",
+                &format!("a {} radius", b.boundary.key()),
+                r,
+                Unit::Millimetre,
+            )?;
+        }
+    }
+    for o in &input.constant_overrides {
+        check_constant(
+            "constant",
+            &format!("the {} constant", o.boundary.key()),
+            &o.constant,
+            Unit::MegapascalRootMetre,
+        )?;
+    }
+    if let Some(k) = &input.toughness_override {
+        check_constant("toughness", "the toughness", k, Unit::MegapascalRootMetre)?;
+    }
+    if let Some(cs) = input.surface_compression_pa {
+        if !cs.is_finite() || cs < 0.0 {
+            return Err(FractureError::invalid(
+                "surface-compression",
+                format!("surface compression {cs} Pa"),
+                "its magnitude, zero or more, such as 95MPa (compression is understood)",
+            ));
+        }
+        if input.temper == Some(Temper::Annealed) && cs > 0.0 {
+            return Err(FractureError::invalid(
+                "surface-compression",
+                format!("{} given for annealed glass", mpa(cs)),
+                "no surface compression for annealed glass, or another temper class",
+            ));
+        }
+    }
+    if let Some(s) = input.surface_compression_spread_pa {
+        if !s.is_finite() || s < 0.0 {
+            return Err(FractureError::invalid(
+                "surface-compression",
+                format!("spread {s} Pa"),
+                "a spread of zero or more",
+            ));
+        }
+    }
+    if let Some(d) = input.layer_depth_m {
+        check_positive("layer-depth", "the layer depth", d, Unit::Micrometre)?;
+    }
+    if let Some(t) = input.thickness_m {
+        check_positive("thickness", "the thickness", t, Unit::Millimetre)?;
+    }
+    if let Some(a) = input.measured_flaw_m {
+        check_positive(
+            "measured-flaw",
+            "the measured flaw size",
+            a,
+            Unit::Micrometre,
+        )?;
+    }
+    if let Some(g) = &input.flaw {
+        g.validate()?;
+    }
+    if let (Some(d), Some(t)) = (input.layer_depth_m, input.thickness_m) {
+        if d >= t / 2.0 {
+            return Err(FractureError::invalid(
+                "layer-depth",
+                format!("a layer {} deep in a part {} thick", mm(d), mm(t)),
+                "a compressive layer shallower than half the thickness",
+            ));
+        }
+    }
+
+    // ---- per boundary
+    let mut boundaries = Vec::with_capacity(input.readings.len());
+    for b in input.readings.iter().filter(|b| !b.radii_m.is_empty()) {
+        let constant = match input
+            .constant_overrides
+            .iter()
+            .find(|o| o.boundary == b.boundary)
+        {
+            Some(o) => ConstantUsed::new(b.boundary.constant_symbol(), &o.constant, true),
+            None => match b.boundary.constant_of(material) {
+                Some(c) => ConstantUsed::new(b.boundary.constant_symbol(), c, false),
+                None => {
+                    return Err(FractureError::missing(
+                        "constant",
+                        format!(
+                            "a {} constant {} ({} has none in the library)",
+                            b.boundary.key(),
+                            b.boundary.constant_symbol(),
+                            material.key
+                        ),
+                        "a mirror constant such as 2.0MPa√m",
+                    ))
+                }
+            },
+        };
+        if constant.relative_spread().is_none() {
+            warnings.push(format!(
+                "The {} constant {} has no known spread: the interval for the {} stress covers \
+                 the reading scatter only.",
+                b.boundary.label(),
+                constant.symbol,
+                b.boundary.label()
+            ));
+        }
+        let result = mirror::boundary_result(b.boundary, &b.radii_m, constant);
+        if result.stats.n == 1 {
+            warnings.push(format!(
+                "Only one {} reading: its reading uncertainty is assumed ({} %), not measured.",
+                b.boundary.label(),
+                uncertainty::SINGLE_READING_REL_SD * 100.0
+            ));
+        } else if result.stats.sd == Some(0.0) {
+            warnings.push(format!(
+                "The {} readings are all equal: the interval carries the constant's spread only.",
+                b.boundary.label()
+            ));
+        }
+        boundaries.push(result);
+    }
+    let head = &boundaries[0];
+    let net = head.stress_pa;
+
+    // ---- consistency between boundaries (ordered inner to outer)
+    let mut consistency = Vec::new();
+    let mut ordered: Vec<&BoundaryResult> = boundaries.iter().collect();
+    ordered.sort_by_key(|b| b.boundary);
+    for i in 0..ordered.len() {
+        for j in i + 1..ordered.len() {
+            let c = mirror::consistency(ordered[i], ordered[j]);
+            if !c.agrees {
+                warnings.push(format!(
+                    "The {} and {} readings disagree: R({}) / R({}) is {}, the constants expect \
+                     ({}/{})² = {}, more than the uncertainties allow. Check the boundary \
+                     readings and the constants.",
+                    ordered[i].boundary.label(),
+                    ordered[j].boundary.label(),
+                    ordered[j].boundary.key(),
+                    ordered[i].boundary.key(),
+                    fmt_sig(c.radius_ratio, 3),
+                    ordered[j].constant.symbol,
+                    ordered[i].constant.symbol,
+                    fmt_sig(c.expected_ratio, 3),
+                ));
+            }
+            consistency.push(c);
+        }
+    }
+
+    // ---- residual stress
+    if input.temper.is_some_and(|t| t != Temper::Annealed) && !material.glass {
+        warnings.push(format!(
+            "Temper classes apply to glass; {} is not a glass. Check the temper class.",
+            material.name
+        ));
+    }
+    let (cs, cs_spread, basis) = match (input.surface_compression_pa, input.temper) {
+        (Some(cs), Some(t)) => (
+            cs,
+            input.surface_compression_spread_pa,
+            format!("{}: surface compression {} as given", t.label(), mpa(cs)),
+        ),
+        (Some(cs), None) => (
+            cs,
+            input.surface_compression_spread_pa,
+            format!("surface compression {} as given", mpa(cs)),
+        ),
+        (None, Some(t)) => match t.default_surface_compression() {
+            Some((v, spread, basis)) => {
+                if t != Temper::Annealed {
+                    warnings.push(format!(
+                        "No surface compression was measured: the {} class value {} was used. \
+                         A measured value is better.",
+                        t.label(),
+                        mpa(v)
+                    ));
+                }
+                (v, spread, basis.to_string())
+            }
+            None => {
+                return Err(FractureError::missing(
+                    "surface-compression",
+                    "the surface compression of chemically strengthened glass (it has no \
+                     class value)",
+                    "a stress such as 600MPa",
+                ))
+            }
+        },
+        (None, None) => (
+            0.0,
+            None,
+            "no temper class given: residual stress taken as zero".into(),
+        ),
+    };
+    let at_origin = residual::residual_at_origin(cs, input.origin);
+    let basis = match input.origin {
+        Origin::Interior if cs > 0.0 => format!(
+            "{basis}; interior origin in the tensile core: central tension taken as half the \
+             surface compression (parabolic profile), +{}",
+            mpa(at_origin)
+        ),
+        Origin::Surface if cs > 0.0 => {
+            format!("{basis}; surface origin: residual {}", mpa(at_origin))
+        }
+        _ => basis,
+    };
+    let layer_depth = input
+        .layer_depth_m
+        .or_else(|| match (input.temper, input.thickness_m) {
+            (Some(t), Some(th)) if t.is_thermal() => Some(residual::thermal_layer_fraction() * th),
+            _ => None,
+        });
+    if input.origin == Origin::Interior {
+        match input.temper {
+            None => warnings.push(
+                "Interior origin but no temper class: residual stress taken as zero. Interior \
+                 origins usually sit in the tensile core of tempered glass; give the temper class."
+                    .to_string(),
+            ),
+            Some(Temper::Annealed) => warnings.push(
+                "Interior origin in annealed glass: there is no tensile core. Check the temper \
+                 class (an inclusion can still start an interior break)."
+                    .to_string(),
+            ),
+            _ => {}
+        }
+    }
+    if input.temper == Some(Temper::ChemicallyStrengthened) && input.layer_depth_m.is_none() {
+        warnings.push(
+            "Chemically strengthened glass without a layer depth: the mirror cannot be compared \
+             with the compressive layer."
+                .to_string(),
+        );
+    }
+    let residual = Residual {
+        temper: input.temper,
+        origin: input.origin,
+        surface_compression_pa: cs,
+        surface_compression_spread_pa: cs_spread,
+        at_origin_pa: at_origin,
+        layer_depth_m: layer_depth,
+        basis,
+    };
+
+    // ---- mirror size against the thickness and the compressive layer
+    let branching_result = boundaries
+        .iter()
+        .find(|b| b.boundary == Boundary::Branching);
+    for b in boundaries
+        .iter()
+        .filter(|b| b.boundary != Boundary::Branching)
+    {
+        let r = b.stats.mean;
+        if let Some(t) = input.thickness_m {
+            if r >= t {
+                let advice = match branching_result {
+                    Some(br) => {
+                        format!("use the branching estimate ({}) instead", mpa(br.stress_pa))
+                    }
+                    None => "use the branching distance or an inner boundary instead".to_string(),
+                };
+                warnings.push(format!(
+                    "The {} radius ({}) is as large as the thickness ({}): the mirror is not \
+                     closed inside the part, so σ = A/√R does not hold for it; {advice}.",
+                    b.boundary.label(),
+                    mm(r),
+                    mm(t)
+                ));
+            } else if r > t / 4.0 && input.origin == Origin::Surface {
+                // rule of thumb of this program: beyond a quarter of the thickness a bending
+                // gradient visibly elongates the mirror along the surface
+                warnings.push(format!(
+                    "The {} radius ({}) is more than a quarter of the thickness ({}): under \
+                     bending the stress falls through the thickness and the mirror elongates \
+                     along the surface, so only the radius along the tension face is valid.",
+                    b.boundary.label(),
+                    mm(r),
+                    mm(t)
+                ));
+            }
+        }
+        if let Some(d) = layer_depth {
+            if r > d && residual.surface_compression_pa > 0.0 {
+                warnings.push(format!(
+                    "The {} radius ({}) reaches beyond the compressive layer ({} deep): the \
+                     residual stress changes across the mirror, so one residual value at the \
+                     origin is approximate.",
+                    b.boundary.label(),
+                    mm(r),
+                    mm(d)
+                ));
+            }
+        }
+    }
+
+    // ---- applied stress
+    let applied = net - at_origin;
+    let res_u = cs_spread.map(|s| match input.origin {
+        Origin::Surface => s,
+        Origin::Interior => s / 2.0,
+    });
+    let res_term = res_u.map(|u| uncertainty::Z95 * u).unwrap_or(0.0);
+    let applied_low = applied - ((net - head.stress_low_pa).powi(2) + res_term.powi(2)).sqrt();
+    let applied_high = applied + ((head.stress_high_pa - net).powi(2) + res_term.powi(2)).sqrt();
+    if applied < 0.0 {
+        warnings.push(format!(
+            "The applied stress comes out negative ({}): the residual stress assumed at the \
+             origin exceeds the net stress. Check the temper class, the surface compression and \
+             the origin location.",
+            mpa(applied)
+        ));
+    }
+
+    // ---- flaw size
+    let toughness = match &input.toughness_override {
+        Some(k) => Some(ConstantUsed::new("K_Ic", k, true)),
+        None => material
+            .k_ic
+            .as_ref()
+            .map(|k| ConstantUsed::new("K_Ic", k, false)),
+    };
+    let flaw = match toughness {
+        None => {
+            warnings.push(format!(
+                "{} has no fracture toughness in the library: no flaw size. Give the toughness.",
+                material.name
+            ));
+            None
+        }
+        Some(k) => {
+            let (geometry, geometry_basis) = match input.flaw {
+                Some(g) => (g, "as given".to_string()),
+                None => match input.origin {
+                    Origin::Surface => (
+                        FlawGeometry::Semicircular { a_over_t: 0.0 },
+                        "default for a surface origin".to_string(),
+                    ),
+                    Origin::Interior => (
+                        FlawGeometry::EmbeddedPenny,
+                        "default for an interior origin".to_string(),
+                    ),
+                },
+            };
+            if input.origin == Origin::Interior
+                && matches!(
+                    geometry,
+                    FlawGeometry::Semicircular { .. }
+                        | FlawGeometry::SemiElliptical { .. }
+                        | FlawGeometry::SemicircularIrwin
+                        | FlawGeometry::EdgeCrack
+                        | FlawGeometry::CornerCrack { .. }
+                )
+            {
+                warnings.push(
+                    "Interior origin with a surface flaw geometry: an embedded penny crack is \
+                     the usual choice."
+                        .to_string(),
+                );
+            }
+            let solved = flaw::solve_flaw(geometry, k.value, net, input.thickness_m);
+            if solved.beyond_range {
+                warnings.push(format!(
+                    "The flaw comes out deeper than 0.8 of the thickness ({}): beyond the range \
+                     of the Newman–Raju equations.",
+                    um(solved.size)
+                ));
+            }
+            let k_rel = k.relative_spread().unwrap_or(0.0);
+            let rel = 2.0 * (head.rel_u95.powi(2) + (uncertainty::Z95 * k_rel).powi(2)).sqrt();
+            let (lo, hi) = uncertainty::log_interval(solved.size, rel);
+            let mut ratios = Vec::new();
+            for b in &boundaries {
+                if let Some(expected) = b.boundary.flaw_ratio() {
+                    let ratio = b.stats.mean / solved.size;
+                    let plausible = ratio >= expected / 2.0 && ratio <= expected * 2.0;
+                    if !plausible {
+                        warnings.push(format!(
+                            "The {} radius is {} times the flaw size, far from the usual {} \
+                             (Mecholsky, Rice & Freiman 1974). Check the toughness, the flaw \
+                             geometry and the boundary.",
+                            b.boundary.label(),
+                            fmt_sig(ratio, 3),
+                            expected
+                        ));
+                    }
+                    ratios.push(FlawRatio {
+                        boundary: b.boundary,
+                        ratio,
+                        expected,
+                        plausible,
+                    });
+                }
+            }
+            let measured_over_predicted = input.measured_flaw_m.map(|m| m / solved.size);
+            if let (Some(m), Some(q)) = (input.measured_flaw_m, measured_over_predicted) {
+                if !(0.5..=2.0).contains(&q) {
+                    warnings.push(format!(
+                        "The measured flaw ({}) is {} times the predicted size ({}): check the \
+                         flaw geometry, the toughness, or whether this flaw was the origin.",
+                        um(m),
+                        fmt_sig(q, 2),
+                        um(solved.size)
+                    ));
+                }
+            }
+            Some(FlawResult {
+                geometry_label: solved.geometry.label(),
+                geometry: solved.geometry,
+                geometry_basis,
+                factor: solved.factor,
+                toughness: k,
+                size_m: solved.size,
+                size_low_m: lo,
+                size_high_m: hi,
+                ratios,
+                measured_m: input.measured_flaw_m,
+                measured_over_predicted,
+            })
+        }
+    };
+
+    // ---- branching distance predicted from the headline stress
+    let branching = if head.boundary == Boundary::Branching {
+        None
+    } else {
+        let c = match input
+            .constant_overrides
+            .iter()
+            .find(|o| o.boundary == Boundary::Branching)
+        {
+            Some(o) => Some(ConstantUsed::new("A_b", &o.constant, true)),
+            None => material
+                .a_b
+                .as_ref()
+                .map(|c| ConstantUsed::new("A_b", c, false)),
+        };
+        c.map(|c| {
+            let d = mirror::radius_from_stress(c.value, net);
+            let rel = 2.0
+                * (head.rel_u95.powi(2)
+                    + (uncertainty::Z95 * c.relative_spread().unwrap_or(0.0)).powi(2))
+                .sqrt();
+            let (lo, hi) = uncertainty::log_interval(d, rel);
+            BranchingPrediction {
+                constant: c,
+                distance_m: d,
+                low_m: lo,
+                high_m: hi,
+                measured_m: branching_result.map(|b| b.stats.mean),
+            }
+        })
+    };
+
+    Ok(Analysis {
+        material_key: material.key.clone(),
+        material_name: material.name.clone(),
+        headline: head.boundary,
+        stress_pa: net,
+        stress_low_pa: head.stress_low_pa,
+        stress_high_pa: head.stress_high_pa,
+        residual,
+        applied_stress_pa: applied,
+        applied_low_pa: applied_low,
+        applied_high_pa: applied_high,
+        flaw,
+        branching,
+        consistency,
+        warnings,
+        boundaries,
+    })
+}
+
+/// The short caution of design.md §6, for the end of every result.
+pub const CAUTION: &str = "Caution: estimates from fracture mirrors carry the uncertainty of the \
+constants and readings; they support, and do not replace, a qualified investigator.";
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn soda() -> Material {
+        materials::find("soda-lime").unwrap()
+    }
+
+    #[test]
+    fn one_mm_mirror_in_soda_lime() {
+        let a = analyze(&AnalysisInput::new(soda()).with_readings(Boundary::MirrorMist, &[1e-3]))
+            .unwrap();
+        // 1.9 / √0.001 = 60.08 MPa (computed)
+        assert!((a.stress_pa / 1e6 - 60.08).abs() < 0.01);
+        assert!(a.stress_low_pa < a.stress_pa && a.stress_pa < a.stress_high_pa);
+        let f = a.flaw.unwrap();
+        assert!((f.size_m * 1e6 - 93.6).abs() < 0.5, "{}", f.size_m);
+        assert!(a.branching.is_some());
+    }
+
+    #[test]
+    fn tempered_surface_origin_adds_compression() {
+        let mut i = AnalysisInput::new(soda()).with_readings(Boundary::MirrorMist, &[0.5e-3]);
+        i.temper = Some(Temper::FullyTempered);
+        i.surface_compression_pa = Some(95e6);
+        let a = analyze(&i).unwrap();
+        assert!((a.applied_stress_pa - (a.stress_pa + 95e6)).abs() < 1.0);
+        i.origin = Origin::Interior;
+        let b = analyze(&i).unwrap();
+        assert!((b.applied_stress_pa - (b.stress_pa - 47.5e6)).abs() < 1.0);
+    }
+
+    #[test]
+    fn errors_name_fields() {
+        let i = AnalysisInput::new(soda()).with_readings(Boundary::MirrorMist, &[-1e-3]);
+        assert_eq!(analyze(&i).unwrap_err().field(), "radius");
+        let mut i = AnalysisInput::new(soda()).with_readings(Boundary::MirrorMist, &[1e-3]);
+        i.temper = Some(Temper::ChemicallyStrengthened);
+        assert_eq!(analyze(&i).unwrap_err().field(), "surface-compression");
+        let i = AnalysisInput::new(materials::find("aluminum-oxynitride").unwrap())
+            .with_readings(Boundary::MistHackle, &[1e-3]);
+        assert_eq!(analyze(&i).unwrap_err().field(), "constant");
+        assert_eq!(
+            analyze(&AnalysisInput::new(soda())).unwrap_err(),
+            FractureError::NoReadings
+        );
+    }
+}

@@ -1,0 +1,433 @@
+//! The material library: mirror constants, toughness and elastic properties, each with its
+//! provenance. Values are SI (Pa·√m, Pa, 1/K, kg/m³).
+//!
+//! `spread` is always **one standard deviation** in the constant's own SI unit. Where the
+//! sources give a range rather than a standard deviation (most of the library), half the
+//! range is taken as one standard deviation and the provenance note says so. That is wider
+//! than a rectangular reading of the range (half-range/√3) on purpose: the studies disagree
+//! more than their own scatter suggests.
+//!
+//! Users add their own materials (the store persists `Material` as JSON) and may override any
+//! constant per calculation; an override carries `Provenance::User`.
+
+use serde::{Deserialize, Serialize};
+use std::fmt;
+
+/// Where a value comes from.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "kebab-case")]
+pub enum Provenance {
+    /// A named published source (standard, handbook, paper).
+    Published { source: String },
+    /// A fact of the trade with no single source.
+    CommonPractice { note: String },
+    /// Not confirmed against the document; treat with care.
+    FromMemory { note: String },
+    /// Given by the user (an in-house calibration, a value typed for one calculation).
+    User { note: String },
+}
+
+impl Provenance {
+    /// The mark shown in tables: "published", "common practice", "from memory", "user".
+    pub fn mark(&self) -> &'static str {
+        match self {
+            Provenance::Published { .. } => "published",
+            Provenance::CommonPractice { .. } => "common practice",
+            Provenance::FromMemory { .. } => "from memory",
+            Provenance::User { .. } => "user",
+        }
+    }
+
+    /// The source or note text.
+    pub fn text(&self) -> &str {
+        match self {
+            Provenance::Published { source } => source,
+            Provenance::CommonPractice { note }
+            | Provenance::FromMemory { note }
+            | Provenance::User { note } => note,
+        }
+    }
+}
+
+impl fmt::Display for Provenance {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.text().is_empty() {
+            f.write_str(self.mark())
+        } else {
+            write!(f, "{}: {}", self.mark(), self.text())
+        }
+    }
+}
+
+/// One material constant: SI value, optional spread (one standard deviation, SI), provenance.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Constant {
+    pub value: f64,
+    #[serde(default)]
+    pub spread: Option<f64>,
+    pub provenance: Provenance,
+}
+
+impl Constant {
+    /// A value typed by the user for one calculation (no spread known).
+    pub fn user(value: f64, note: impl Into<String>) -> Self {
+        Constant {
+            value,
+            spread: None,
+            provenance: Provenance::User { note: note.into() },
+        }
+    }
+
+    /// Relative spread (spread / value), if known.
+    pub fn relative_spread(&self) -> Option<f64> {
+        self.spread
+            .filter(|s| s.is_finite() && *s >= 0.0 && self.value != 0.0)
+            .map(|s| s / self.value.abs())
+    }
+}
+
+/// A material with its constants. Any constant may be missing (`None`): the calculation that
+/// needs it then asks for it by name.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Material {
+    /// Stable key, e.g. `soda-lime`.
+    pub key: String,
+    /// Name for people, e.g. "soda-lime-silica glass".
+    pub name: String,
+    /// Whether this is a glass (temper classes of ASTM C1048 apply to flat glass only).
+    #[serde(default)]
+    pub glass: bool,
+    /// Mirror–mist constant A_i, Pa·√m.
+    #[serde(default)]
+    pub a_i: Option<Constant>,
+    /// Mist–hackle constant A_o, Pa·√m (for ceramics: the mirror–hackle constant).
+    #[serde(default)]
+    pub a_o: Option<Constant>,
+    /// Crack-branching constant A_b, Pa·√m.
+    #[serde(default)]
+    pub a_b: Option<Constant>,
+    /// Fracture toughness K_Ic, Pa·√m.
+    #[serde(default)]
+    pub k_ic: Option<Constant>,
+    /// Young's modulus E, Pa.
+    #[serde(default)]
+    pub youngs_modulus: Option<Constant>,
+    /// Poisson's ratio ν (dimensionless).
+    #[serde(default)]
+    pub poisson: Option<Constant>,
+    /// Linear thermal expansion coefficient α, 1/K.
+    #[serde(default)]
+    pub expansion: Option<Constant>,
+    /// Density ρ, kg/m³.
+    #[serde(default)]
+    pub density: Option<Constant>,
+    /// Free notes (what the constants were measured on, caveats).
+    #[serde(default)]
+    pub notes: String,
+}
+
+const QUINN: &str = "G. D. Quinn, Fractography of Ceramics and Glasses, NIST SP 960-16, App. C \
+                     and ch. 7 (quoted second-hand)";
+const EN572: &str = "EN 572-1, basic soda-lime silicate glass";
+
+fn published(value: f64, spread: Option<f64>, source: &str) -> Option<Constant> {
+    Some(Constant {
+        value,
+        spread,
+        provenance: Provenance::Published {
+            source: source.to_string(),
+        },
+    })
+}
+
+fn memory(value: f64, spread: Option<f64>, note: &str) -> Option<Constant> {
+    Some(Constant {
+        value,
+        spread,
+        provenance: Provenance::FromMemory {
+            note: note.to_string(),
+        },
+    })
+}
+
+fn practice(value: f64, spread: Option<f64>, note: &str) -> Option<Constant> {
+    Some(Constant {
+        value,
+        spread,
+        provenance: Provenance::CommonPractice {
+            note: note.to_string(),
+        },
+    })
+}
+
+const MPA: f64 = 1e6;
+const GPA: f64 = 1e9;
+
+fn aluminosilicate(key: &str, name: &str, notes: &str) -> Material {
+    Material {
+        key: key.into(),
+        name: name.into(),
+        glass: true,
+        a_i: memory(
+            2.3 * MPA,
+            Some(0.2 * MPA),
+            "about 2.1–2.5 MPa·√m (see Dugnani & Zednik, J. Am. Ceram. Soc. 96 (2013) 3908); \
+             half-range as one standard deviation",
+        ),
+        a_o: None,
+        a_b: None,
+        k_ic: memory(
+            0.8 * MPA,
+            Some(0.1 * MPA),
+            "0.7–0.9 MPa·√m; half-range as one standard deviation",
+        ),
+        youngs_modulus: memory(
+            72.0 * GPA,
+            None,
+            "typical of ion-exchangeable aluminosilicates",
+        ),
+        poisson: memory(0.22, None, "typical of aluminosilicate glasses"),
+        expansion: memory(8.0e-6, None, "typical of ion-exchangeable aluminosilicates"),
+        density: memory(2450.0, None, "typical of aluminosilicate glasses"),
+        notes: notes.into(),
+    }
+}
+
+/// The built-in library. Keys: soda-lime, borosilicate, fused-silica, aluminosilicate,
+/// aluminosilicate-chem, glass-ceramic, alumina, aluminum-oxynitride.
+pub fn library() -> Vec<Material> {
+    vec![
+        Material {
+            key: "soda-lime".into(),
+            name: "soda-lime-silica glass".into(),
+            glass: true,
+            a_i: published(
+                1.9 * MPA,
+                Some(0.15 * MPA),
+                &format!(
+                    "{QUINN}: 1.8–2.1 MPa·√m across studies (1.89; 2.06; 1.8); half-range as \
+                     one standard deviation"
+                ),
+            ),
+            a_o: published(
+                2.2 * MPA,
+                Some(0.2 * MPA),
+                &format!("{QUINN}: 2.0–2.4 MPa·√m; half-range as one standard deviation"),
+            ),
+            a_b: published(
+                2.3 * MPA,
+                Some(0.42 * MPA),
+                &format!(
+                    "{QUINN}: about 2.3 MPa·√m in flexure; spread computed from the 18 % scatter \
+                     of Choi & Gyekenyesi, NASA TM-1998-206536 (3.54 ± 0.64 MPa·√m, four-point \
+                     bending)"
+                ),
+            ),
+            k_ic: published(
+                0.75 * MPA,
+                Some(0.05 * MPA),
+                "common handbook value, 0.72–0.82 MPa·√m seen (0.77 in ASME J. Eng. Mater. \
+                 Technol. 112 (1990) 151); spread: half of that range, rounded",
+            ),
+            youngs_modulus: published(70.0 * GPA, None, EN572),
+            poisson: published(0.2, None, &format!("{EN572} (0.22–0.23 also quoted)")),
+            expansion: published(9.0e-6, None, EN572),
+            density: published(2500.0, None, EN572),
+            notes: "float and sheet glass for windows, vehicle side glass, building panes".into(),
+        },
+        Material {
+            key: "borosilicate".into(),
+            name: "borosilicate glass".into(),
+            glass: true,
+            a_i: memory(
+                1.95 * MPA,
+                Some(0.05 * MPA),
+                "about 1.9–2.0 MPa·√m; half-range as one standard deviation",
+            ),
+            a_o: memory(2.1 * MPA, None, "about 2.1 MPa·√m"),
+            a_b: None,
+            k_ic: published(
+                0.75 * MPA,
+                Some(0.06 * MPA),
+                "chevron-notch tests (abstract level): 0.75 MPa·√m as received, 0.64 annealed; \
+                 spread: half that difference",
+            ),
+            youngs_modulus: memory(64.0 * GPA, None, "typical low-expansion borosilicate"),
+            poisson: memory(0.2, None, "typical low-expansion borosilicate"),
+            expansion: memory(3.3e-6, None, "typical low-expansion borosilicate"),
+            density: memory(2230.0, None, "typical low-expansion borosilicate"),
+            notes: "oven doors, laboratory ware, lamp covers".into(),
+        },
+        Material {
+            key: "fused-silica".into(),
+            name: "fused silica".into(),
+            glass: true,
+            a_i: memory(
+                2.2 * MPA,
+                Some(0.1 * MPA),
+                "about 2.1–2.3 MPa·√m; half-range as one standard deviation",
+            ),
+            a_o: memory(
+                2.35 * MPA,
+                Some(0.05 * MPA),
+                "about 2.3–2.4 MPa·√m; half-range as one standard deviation",
+            ),
+            a_b: None,
+            k_ic: memory(
+                0.775 * MPA,
+                Some(0.025 * MPA),
+                "0.75–0.80 MPa·√m; half-range as one standard deviation",
+            ),
+            youngs_modulus: memory(72.0 * GPA, None, "typical of fused silica"),
+            poisson: memory(0.17, None, "typical of fused silica"),
+            expansion: memory(0.55e-6, None, "typical of fused silica"),
+            density: memory(2200.0, None, "typical of fused silica"),
+            notes: "instrument windows, optics".into(),
+        },
+        aluminosilicate(
+            "aluminosilicate",
+            "aluminosilicate glass",
+            "before ion exchange; for strengthened parts use aluminosilicate-chem",
+        ),
+        aluminosilicate(
+            "aluminosilicate-chem",
+            "chemically strengthened aluminosilicate glass",
+            "display cover glass; mirror constants as the base glass; give the temper class \
+             chemically-strengthened with the surface compression and layer depth",
+        ),
+        Material {
+            key: "glass-ceramic".into(),
+            name: "glass-ceramic".into(),
+            glass: false,
+            a_i: None,
+            a_o: memory(
+                4.0 * MPA,
+                Some(1.0 * MPA),
+                "mirror–hackle, about 2.5–6 MPa·√m depending on the crystal phase; low \
+                 confidence; calibrate for your material",
+            ),
+            a_b: None,
+            k_ic: memory(
+                1.5 * MPA,
+                Some(0.5 * MPA),
+                "about 1–2 MPa·√m; low confidence",
+            ),
+            youngs_modulus: memory(90.0 * GPA, None, "typical, varies widely"),
+            poisson: memory(0.25, None, "typical"),
+            expansion: memory(0.0, Some(0.5e-6), "near-zero-expansion cooktop grades"),
+            density: memory(2550.0, None, "typical"),
+            notes: "cooktops, stove windows; mirror boundaries are faint, the constant is the \
+                    mirror–hackle one"
+                .into(),
+        },
+        Material {
+            key: "alumina".into(),
+            name: "polycrystalline alumina".into(),
+            glass: false,
+            a_i: None,
+            a_o: memory(
+                8.0 * MPA,
+                Some(2.0 * MPA),
+                "mirror–hackle, about 6–10 MPa·√m; low confidence; half-range as one \
+                 standard deviation",
+            ),
+            a_b: None,
+            k_ic: memory(
+                3.75 * MPA,
+                Some(0.75 * MPA),
+                "about 3–4.5 MPa·√m; half-range as one standard deviation",
+            ),
+            youngs_modulus: memory(380.0 * GPA, None, "dense 99 % alumina"),
+            poisson: memory(0.22, None, "dense alumina"),
+            expansion: memory(8.0e-6, None, "dense alumina"),
+            density: memory(3950.0, None, "dense alumina"),
+            notes: "mirror boundaries are rough in coarse grains; the constant is the \
+                    mirror–hackle one"
+                .into(),
+        },
+        Material {
+            key: "aluminum-oxynitride".into(),
+            name: "aluminum oxynitride (transparent ceramic)".into(),
+            glass: false,
+            a_i: None,
+            a_o: None,
+            a_b: None,
+            k_ic: practice(2.0 * MPA, None, "about 2.0 MPa·√m"),
+            youngs_modulus: memory(320.0 * GPA, None, "typical"),
+            poisson: memory(0.24, None, "typical"),
+            expansion: memory(5.8e-6, None, "typical"),
+            density: memory(3690.0, None, "typical"),
+            notes: "no mirror constant in the library: give --constant from your own \
+                    calibration; flexure strength about 500 MPa on average (common practice)"
+                .into(),
+        },
+    ]
+}
+
+/// Look a material up by key (case-insensitive; `_` and spaces read as `-`).
+pub fn find(key: &str) -> Option<Material> {
+    let want: String = key
+        .trim()
+        .chars()
+        .map(|c| match c {
+            '_' | ' ' => '-',
+            c => c.to_ascii_lowercase(),
+        })
+        .collect();
+    library().into_iter().find(|m| m.key == want)
+}
+
+/// The keys of the library, for error messages.
+pub fn keys() -> Vec<String> {
+    library().into_iter().map(|m| m.key).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn keys_are_unique_and_findable() {
+        let lib = library();
+        assert!(lib.len() >= 8);
+        for m in &lib {
+            assert_eq!(find(&m.key).as_ref(), Some(m));
+            assert_eq!(lib.iter().filter(|o| o.key == m.key).count(), 1);
+        }
+        assert!(find("Soda_Lime").is_some());
+        assert!(find("unobtainium").is_none());
+    }
+
+    #[test]
+    fn every_constant_has_a_provenance_text_and_sane_spread() {
+        for m in library() {
+            for c in [
+                &m.a_i,
+                &m.a_o,
+                &m.a_b,
+                &m.k_ic,
+                &m.youngs_modulus,
+                &m.poisson,
+                &m.expansion,
+                &m.density,
+            ]
+            .into_iter()
+            .flatten()
+            {
+                assert!(c.value.is_finite(), "{}", m.key);
+                assert!(!c.provenance.text().is_empty(), "{}", m.key);
+                if let Some(s) = c.spread {
+                    assert!(s >= 0.0 && s.is_finite(), "{}", m.key);
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn serde_round_trip() {
+        let lib = library();
+        let json = serde_json::to_string(&lib).unwrap();
+        let back: Vec<Material> = serde_json::from_str(&json).unwrap();
+        assert_eq!(back, lib);
+    }
+}

@@ -1,0 +1,136 @@
+//! Residual stress at the origin, from a temper class or a measured surface compression.
+//!
+//! Sign convention: tension positive, compression negative. The mirror gives the **net**
+//! stress at the origin; the applied (service) stress is net − residual. A surface origin in
+//! tempered glass sits in compression (residual = −surface compression), so the applied stress
+//! was larger than the mirror says. An interior origin sits in the tensile core; for the
+//! parabolic through-thickness profile of thermally tempered glass the central tension is half
+//! the surface compression: σ(x) = CS·(1 − 3x²)/2 with x = 1 − 2z/t (z depth from a face)
+//! gives −CS at the faces, +CS/2 at the mid-plane and no net force. It crosses zero at
+//! x = 1/√3, so the compressive layer reaches z/t = (1 − 1/√3)/2 ≈ 0.211 from each face.
+
+use serde::{Deserialize, Serialize};
+
+/// ASTM C1048 classes (plus ion-exchanged glass, which has no C1048 class).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Temper {
+    Annealed,
+    HeatStrengthened,
+    FullyTempered,
+    ChemicallyStrengthened,
+}
+
+impl Temper {
+    pub fn label(self) -> &'static str {
+        match self {
+            Temper::Annealed => "annealed",
+            Temper::HeatStrengthened => "heat-strengthened",
+            Temper::FullyTempered => "fully tempered",
+            Temper::ChemicallyStrengthened => "chemically strengthened",
+        }
+    }
+
+    /// Thermally tempered (parabolic profile).
+    pub fn is_thermal(self) -> bool {
+        matches!(self, Temper::HeatStrengthened | Temper::FullyTempered)
+    }
+
+    /// The default surface compression for a class when none is measured (Pa), its spread
+    /// (one standard deviation, Pa) and the basis in words. `None` where the class has none.
+    pub fn default_surface_compression(self) -> Option<(f64, Option<f64>, &'static str)> {
+        match self {
+            Temper::Annealed => Some((0.0, None, "annealed: no residual stress")),
+            // 24–52 MPa (3500–7500 psi): midpoint, half-range as one standard deviation
+            Temper::HeatStrengthened => Some((
+                38e6,
+                Some(14e6),
+                "heat-strengthened class of ASTM C1048 (24–52 MPa surface compression, \
+                 thickness up to 6 mm): midpoint 38 MPa taken, half-range as one standard \
+                 deviation",
+            )),
+            Temper::FullyTempered => Some((
+                69e6,
+                None,
+                "fully tempered class of ASTM C1048: at least 69 MPa surface compression; the \
+                 class minimum is taken, real panes often carry more",
+            )),
+            Temper::ChemicallyStrengthened => None,
+        }
+    }
+}
+
+/// Where the origin sits through the thickness.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Origin {
+    #[default]
+    Surface,
+    Interior,
+}
+
+impl Origin {
+    pub fn label(self) -> &'static str {
+        match self {
+            Origin::Surface => "surface",
+            Origin::Interior => "interior",
+        }
+    }
+}
+
+/// Depth of the compressive layer of thermally tempered glass as a fraction of the
+/// thickness, for the parabolic profile: (1 − 1/√3)/2.
+pub fn thermal_layer_fraction() -> f64 {
+    (1.0 - 1.0 / 3f64.sqrt()) / 2.0
+}
+
+/// The residual stress chosen for an analysis.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Residual {
+    pub temper: Option<Temper>,
+    pub origin: Origin,
+    /// Surface compression magnitude used (Pa, ≥ 0).
+    pub surface_compression_pa: f64,
+    /// One standard deviation of the surface compression, if known (Pa).
+    pub surface_compression_spread_pa: Option<f64>,
+    /// Signed residual stress at the origin (Pa, compression negative).
+    pub at_origin_pa: f64,
+    /// Depth of the compressive layer, if known or estimated (m).
+    pub layer_depth_m: Option<f64>,
+    /// How the value was chosen, in words.
+    pub basis: String,
+}
+
+/// Signed residual at the origin from a surface compression magnitude.
+pub fn residual_at_origin(surface_compression: f64, origin: Origin) -> f64 {
+    match origin {
+        Origin::Surface => -surface_compression,
+        Origin::Interior => surface_compression / 2.0,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn signs() {
+        assert_eq!(residual_at_origin(100e6, Origin::Surface), -100e6);
+        assert_eq!(residual_at_origin(100e6, Origin::Interior), 50e6);
+    }
+
+    #[test]
+    fn parabolic_profile_balances() {
+        // σ(x)/CS = (1 − 3x²)/2, x = 1 − 2z/t in [−1, 1]: −1 at the faces, +½ at the
+        // mid-plane (central tension half the surface compression); net force zero.
+        let f = |x: f64| 0.5 * (1.0 - 3.0 * x * x); // = +0.5 at mid-plane, −1 at faces
+        let n = 10_000;
+        let integral: f64 = (0..n)
+            .map(|i| f(-1.0 + (i as f64 + 0.5) * 2.0 / n as f64) * 2.0 / n as f64)
+            .sum();
+        assert!(integral.abs() < 1e-6);
+        let zero_x = 1.0 / 3f64.sqrt();
+        assert!(f(zero_x).abs() < 1e-12);
+        assert!((thermal_layer_fraction() - (1.0 - zero_x) / 2.0).abs() < 1e-15);
+    }
+}
