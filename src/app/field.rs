@@ -27,6 +27,8 @@ pub enum FieldKind {
     Date { optional: bool },
     /// A whole number ≥ 0.
     Count { optional: bool },
+    /// A plain positive number without unit (a ratio such as a/c).
+    Number { optional: bool },
 }
 
 /// A validated field value (SI for quantities).
@@ -38,6 +40,7 @@ pub enum FieldValue {
     Readings(Vec<f64>),
     Date(chrono::NaiveDate),
     Count(u64),
+    Number(f64),
 }
 
 /// A labelled input with its validation state.
@@ -275,6 +278,16 @@ pub fn validate(kind: &FieldKind, text: &str) -> Result<FieldValue, String> {
             chrono::NaiveDate::parse_from_str(t, "%Y-%m-%d")
                 .map(FieldValue::Date)
                 .map_err(|_| format!("'{t}' is not a date; expected YYYY-MM-DD such as 2027-03-14"))
+        }
+        FieldKind::Number { optional } => {
+            if t.is_empty() && *optional {
+                return Ok(FieldValue::Empty);
+            }
+            match units::parse_number(t) {
+                Ok(x) if x > 0.0 => Ok(FieldValue::Number(x)),
+                Ok(_) => Err(format!("'{t}' must be greater than zero")),
+                Err(e) => Err(e.to_string()),
+            }
         }
         FieldKind::Count { optional } => {
             if t.is_empty() && *optional {

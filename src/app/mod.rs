@@ -143,6 +143,11 @@ impl App {
         }
     }
 
+    /// The reference of the incident the bench calculator works for, if any.
+    pub fn bench_incident_label(&self) -> Option<String> {
+        None
+    }
+
     /// What the status line shows when there is no message.
     pub fn status_line(&self) -> String {
         match self.screen() {

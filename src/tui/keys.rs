@@ -142,6 +142,22 @@ pub static TABLE: &[Binding] = &[
         action: Action::Save,
         footer: true,
     },
+    Binding {
+        ctxs: TEXT,
+        keys: &[k(KeyCode::PageUp)],
+        label: "PgUp",
+        desc: "scroll the results or details up",
+        action: Action::PageUp,
+        footer: false,
+    },
+    Binding {
+        ctxs: TEXT,
+        keys: &[k(KeyCode::PageDown)],
+        label: "PgDn",
+        desc: "scroll the results or details down",
+        action: Action::PageDown,
+        footer: false,
+    },
     // --- help overlay ---
     Binding {
         ctxs: &[Help],
