@@ -96,9 +96,10 @@ pub fn reading_stats(values: &[f64]) -> ReadingStats {
         u_mean: sd / (n as f64).sqrt(),
         coverage: t,
         method: format!(
-            "{n} readings: standard error of the mean, Student's t = {t:.3} ({} degrees of \
+            "{n} readings: standard error of the mean, Student's t = {t:.3} ({} degree{} of \
              freedom)",
-            n - 1
+            n - 1,
+            if n == 2 { "" } else { "s" }
         ),
     }
 }
