@@ -345,6 +345,67 @@ impl BenchState {
         Ok(Some(input))
     }
 
+    /// Fill the form from an incident: material, temper, thickness, origin and the readings
+    /// of its latest examination that has any.
+    pub fn prefill(&mut self, inc: &crate::store::model::Incident) {
+        let ply = inc.glass.plies.first();
+        let exam = inc
+            .examinations
+            .iter()
+            .rev()
+            .find(|e| !e.readings.is_empty());
+        let material = exam
+            .and_then(|e| e.material.clone())
+            .or_else(|| ply.and_then(|p| p.material.clone()))
+            .map(|m| m.replace('_', "-"));
+        if let (Some(m), Some(p)) = (material, self.form.pick_mut("material")) {
+            if materials::find(&m).is_some() {
+                p.choose_code(&m);
+            }
+        }
+        if let (Some(t), Some(p)) = (
+            ply.and_then(|p| p.temper.clone()),
+            self.form.pick_mut("temper"),
+        ) {
+            p.choose_code(&t.replace('_', "-"));
+        }
+        if let (Some(t), Some(f)) = (
+            ply.and_then(|p| p.thickness_m),
+            self.form.field_mut("thickness"),
+        ) {
+            f.set_text(&crate::units::format(t, crate::units::Unit::Millimetre));
+        }
+        if inc.pattern.origin_location.as_deref() == Some("interior") {
+            if let Some(p) = self.form.pick_mut("origin") {
+                p.choose_code("interior");
+            }
+        }
+        if let Some(e) = exam {
+            for (code, key) in [
+                ("mirror_mist", "r_mist"),
+                ("mist_hackle", "r_hackle"),
+                ("branching", "r_branch"),
+            ] {
+                let lines: Vec<String> = e
+                    .readings
+                    .iter()
+                    .filter(|r| r.boundary == code)
+                    .map(|r| r.radius.display())
+                    .collect();
+                if let Some(f) = self.form.field_mut(key) {
+                    f.set_text(&lines.join("\n"));
+                }
+            }
+            if let (Some(d), Some(f)) = (
+                e.flaw.as_ref().and_then(|f| f.depth.as_ref()),
+                self.form.field_mut("measured_flaw"),
+            ) {
+                f.set_text(&d.display());
+            }
+        }
+        self.recompute();
+    }
+
     /// Put readings back into the form (when an incident's saved readings are opened).
     pub fn set_readings(&mut self, boundary: Boundary, lines: &[String]) {
         let key = match boundary {

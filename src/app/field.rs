@@ -29,6 +29,10 @@ pub enum FieldKind {
     Count { optional: bool },
     /// A plain positive number without unit (a ratio such as a/c).
     Number { optional: bool },
+    /// A signed number without unit (a temperature in °C); "−" is read as a minus sign.
+    Float { optional: bool },
+    /// A date and time, "YYYY-MM-DD HH:MM" (UTC).
+    DateTime { optional: bool },
 }
 
 /// A validated field value (SI for quantities).
@@ -41,6 +45,7 @@ pub enum FieldValue {
     Date(chrono::NaiveDate),
     Count(u64),
     Number(f64),
+    DateTime(chrono::DateTime<chrono::Utc>),
 }
 
 /// A labelled input with its validation state.
@@ -288,6 +293,30 @@ pub fn validate(kind: &FieldKind, text: &str) -> Result<FieldValue, String> {
                 Ok(_) => Err(format!("'{t}' must be greater than zero")),
                 Err(e) => Err(e.to_string()),
             }
+        }
+        FieldKind::Float { optional } => {
+            if t.is_empty() && *optional {
+                return Ok(FieldValue::Empty);
+            }
+            units::parse_number(&t.replace('−', "-"))
+                .map(FieldValue::Number)
+                .map_err(|e| e.to_string())
+        }
+        FieldKind::DateTime { optional } => {
+            if t.is_empty() {
+                return if *optional {
+                    Ok(FieldValue::Empty)
+                } else {
+                    Err("required; expected a time such as 2027-03-14 09:10".to_string())
+                };
+            }
+            chrono::NaiveDateTime::parse_from_str(t, "%Y-%m-%d %H:%M")
+                .map(|d| FieldValue::DateTime(d.and_utc()))
+                .map_err(|_| {
+                    format!(
+                        "'{t}' is not a time; expected YYYY-MM-DD HH:MM such as 2027-03-14 09:10"
+                    )
+                })
         }
         FieldKind::Count { optional } => {
             if t.is_empty() && *optional {

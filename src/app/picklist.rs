@@ -34,6 +34,9 @@ pub struct PickList {
     chosen: Option<usize>,
     /// Whether an empty choice is allowed.
     pub optional: bool,
+    /// Whether Enter on a filter that matches nothing exactly takes the typed text as a new
+    /// code (asset numbers, lots).
+    pub allow_new: bool,
     dirty: bool,
 }
 
@@ -48,6 +51,11 @@ impl PickList {
         };
         p.refilter();
         p
+    }
+
+    pub fn open_ended(mut self) -> Self {
+        self.allow_new = true;
+        self
     }
 
     pub fn required(mut self) -> Self {
@@ -138,8 +146,21 @@ impl PickList {
         }
     }
 
-    /// Take the highlighted item. Returns true when something was chosen.
+    /// Take the highlighted item (or, for an open-ended list, the typed text when nothing
+    /// matches it). Returns true when something was chosen.
     pub fn confirm(&mut self) -> bool {
+        let typed = self.filter.trim().to_string();
+        if self.allow_new && !typed.is_empty() && self.matches.is_empty() {
+            // a new code: offer it first in the list so it can be seen and chosen
+            let clean = crate::cli::sanitize_for_terminal(&typed, false);
+            self.items
+                .push(PickItem::new(clean.clone(), format!("{clean} (new)")));
+            self.chosen = Some(self.items.len() - 1);
+            self.filter.clear();
+            self.refilter();
+            self.dirty = true;
+            return true;
+        }
         match self.matches.get(self.cursor) {
             Some(&i) => {
                 self.chosen = Some(i);

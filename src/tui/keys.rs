@@ -240,11 +240,126 @@ pub static TABLE: &[Binding] = &[
         action: Action::End,
         footer: false,
     },
+    // --- the log ---
     Binding {
-        ctxs: &[Global],
+        ctxs: &[Log],
+        keys: &[k(KeyCode::Enter)],
+        label: "Enter",
+        desc: "open the incident",
+        action: Action::Confirm,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('n')],
+        label: "n",
+        desc: "new incident",
+        action: Action::NewIncident,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('/')],
+        label: "/",
+        desc: "search text",
+        action: Action::Search,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('f')],
+        label: "f",
+        desc: "filter: status, cause, supplier, lot, site, dates",
+        action: Action::Filter,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('x')],
+        label: "x",
+        desc: "clear filters and search",
+        action: Action::ClearFilter,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('s')],
+        label: "s",
+        desc: "sort by the next column (date, reference, stress, status)",
+        action: Action::SortNext,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('S')],
+        label: "S",
+        desc: "reverse the sort",
+        action: Action::SortReverse,
+        footer: false,
+    },
+    // --- the search line ---
+    Binding {
+        ctxs: &[Search],
+        keys: &[k(KeyCode::Enter)],
+        label: "Enter",
+        desc: "search",
+        action: Action::Confirm,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Search],
+        keys: &[k(KeyCode::Esc)],
+        label: "Esc",
+        desc: "cancel the search",
+        action: Action::Back,
+        footer: true,
+    },
+    // --- one incident ---
+    Binding {
+        ctxs: &[Incident],
+        keys: &[k(KeyCode::Tab)],
+        label: "Tab/→",
+        desc: "next section",
+        action: Action::NextSection,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[k(KeyCode::BackTab)],
+        label: "S-Tab/←",
+        desc: "previous section",
+        action: Action::PrevSection,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[c('e'), k(KeyCode::Enter)],
+        label: "e/Enter",
+        desc: "edit this section",
+        action: Action::Edit,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[c('a')],
+        label: "a",
+        desc: "attach a file (photo, micrograph) by its path",
+        action: Action::Attach,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[c('c')],
+        label: "c",
+        desc: "add a specimen custody entry",
+        action: Action::AddCustody,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Incident, Log],
         keys: &[c('b')],
         label: "b",
-        desc: "bench calculator",
+        desc: "bench calculator (for this incident when one is open)",
         action: Action::OpenBench,
         footer: true,
     },
@@ -285,12 +400,12 @@ pub static TABLE: &[Binding] = &[
         ctxs: &[Global, Help],
         keys: &[c('q')],
         label: "q",
-        desc: "quit (from the top screen)",
+        desc: "quit (from the log; elsewhere: back)",
         action: Action::Quit,
         footer: true,
     },
     Binding {
-        ctxs: &[Global, Help, Field, MultiField, Pick, Prompt],
+        ctxs: &[Global, Help, Field, MultiField, Pick, Prompt, Search],
         keys: &[ctrl('c')],
         label: "C-c",
         desc: "quit from any screen (asks first if there are unsaved changes)",
@@ -317,6 +432,15 @@ pub fn lookup(ctx: Ctx, ev: &KeyEvent) -> Option<&'static Binding> {
     TABLE
         .iter()
         .find(|b| b.ctxs.contains(&ctx) && b.keys.contains(&key))
+        .or_else(|| {
+            if ctx.has_global() {
+                TABLE
+                    .iter()
+                    .find(|b| b.ctxs.contains(&Ctx::Global) && b.keys.contains(&key))
+            } else {
+                None
+            }
+        })
 }
 
 /// Turn a key press into an action for the current context.
@@ -333,7 +457,15 @@ pub fn action_for(ctx: Ctx, ev: &KeyEvent) -> Option<Action> {
 
 /// The bindings active in `ctx`, in table order, for the help overlay.
 pub fn bindings_for(ctx: Ctx) -> Vec<&'static Binding> {
-    TABLE.iter().filter(|b| b.ctxs.contains(&ctx)).collect()
+    let mut out: Vec<&'static Binding> = TABLE.iter().filter(|b| b.ctxs.contains(&ctx)).collect();
+    if ctx.has_global() && ctx != Ctx::Global {
+        out.extend(
+            TABLE
+                .iter()
+                .filter(|b| b.ctxs.contains(&Ctx::Global) && !b.ctxs.contains(&ctx)),
+        );
+    }
+    out
 }
 
 /// The footer entries for `ctx`.

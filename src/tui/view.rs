@@ -26,6 +26,9 @@ pub const CAUTIONS: [&str; 3] = [
 
 pub fn screen_title(app: &App) -> &'static str {
     match app.screen() {
+        Screen::Log => "Incident log",
+        Screen::Incident => "Incident",
+        Screen::Edit => "Edit",
         Screen::Bench => "Bench calculator",
     }
 }
@@ -55,6 +58,9 @@ pub fn draw(app: &App, f: &mut Frame) {
     .areas(area);
     draw_title(app, f, title, th);
     match app.screen() {
+        Screen::Log => super::screens::log::draw(app, f, body, th),
+        Screen::Incident => super::screens::incident::draw(app, f, body, th),
+        Screen::Edit => super::screens::edit::draw(app, f, body, th),
         Screen::Bench => super::screens::bench::draw(app, f, body, th),
     }
     draw_status(app, f, status, th);
