@@ -157,7 +157,9 @@ pub mod harness {
                 while x < w {
                     let cell = &buf[(x, y)];
                     line.push_str(cell.symbol());
-                    x += 1;
+                    // a wide character covers the next cell too, as on a real terminal
+                    let cw = unicode_width::UnicodeWidthStr::width(cell.symbol()).max(1);
+                    x = x.saturating_add(cw as u16);
                 }
                 line
             })
