@@ -140,3 +140,84 @@ fn help_opens_and_the_terminal_is_restored_on_quit() {
     assert!(!s.bracketed_paste(), "bracketed paste turned off");
     assert!(!s.hide_cursor(), "cursor shown again");
 }
+
+#[test]
+fn create_an_incident_by_keystrokes_and_find_it_after_quitting() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("pty-new.db");
+    let mut pty = Pty::spawn(&db);
+    pty.wait_text("No incidents yet");
+    pty.send("n");
+    pty.wait_text("New incident");
+    // asset: a new code, Enter takes it and moves on; then the position
+    pty.send("car 214\r");
+    pty.wait_text("car 214 (new)");
+    pty.send("left side, bay 3");
+    pty.wait_text("left side, bay 3");
+    // Ctrl-S saves; the incident opens
+    pty.send("\u{13}");
+    pty.wait_text("created BR-");
+    // back to the log: the new row is there, with the count
+    pty.send("\u{1b}");
+    pty.wait_text("1 incident matches");
+    pty.send("q");
+    let code = pty.finish();
+    assert_eq!(code, 0, "screen:\n{}", pty.screen());
+    assert!(!pty.parser.screen().alternate_screen());
+
+    // the record is in the database the binary wrote
+    let store = shardlog::store::Store::open_existing(&db).unwrap();
+    let page = store
+        .list(
+            &Default::default(),
+            Default::default(),
+            &shardlog::store::model::PageRequest::default(),
+        )
+        .unwrap();
+    assert_eq!(page.rows.len(), 1);
+    assert_eq!(page.rows[0].asset.as_deref(), Some("car 214"));
+    assert_eq!(page.rows[0].position, "left side, bay 3");
+}
+
+#[test]
+fn no_color_turns_colour_off() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("pty-mono.db");
+    let mut cmd = Command::new(env!("CARGO_BIN_EXE_shardlog"));
+    cmd.arg("--db").arg(&db);
+    cmd.env("TERM", "xterm-256color");
+    cmd.env("NO_COLOR", "1");
+    let mut session = Session::spawn(cmd).expect("spawn");
+    session
+        .get_process_mut()
+        .set_window_size(COLS, ROWS)
+        .unwrap();
+    let mut pty = Pty {
+        session,
+        parser: vt100::Parser::new(
+            std::num::NonZeroU16::new(ROWS).unwrap(),
+            std::num::NonZeroU16::new(COLS).unwrap(),
+            0,
+        ),
+    };
+    pty.wait_text("No incidents yet");
+    let s = pty.parser.screen();
+    for row in 0..ROWS {
+        for col in 0..COLS {
+            if let Some(cell) = s.cell(row, col) {
+                assert_eq!(
+                    cell.fgcolor(),
+                    vt100::Color::Default,
+                    "colour at {row},{col}"
+                );
+                assert_eq!(
+                    cell.bgcolor(),
+                    vt100::Color::Default,
+                    "colour at {row},{col}"
+                );
+            }
+        }
+    }
+    pty.send("q");
+    assert_eq!(pty.finish(), 0);
+}

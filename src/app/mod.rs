@@ -399,6 +399,8 @@ impl App {
             self.report(r);
             return;
         }
+        // a message lasts until the next key
+        self.message = None;
         if let Some(prompt) = self.prompt.clone() {
             match action {
                 Action::Yes => {
@@ -470,7 +472,6 @@ impl App {
             }
             _ => {}
         }
-        self.message = None;
         match self.screen() {
             Screen::Log => self.update_log(action),
             Screen::Incident => self.update_incident(action),
