@@ -103,11 +103,30 @@ fn draw_status(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
 
 fn draw_footer(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
     let ctx = app.ctx();
-    let entries: Vec<(&str, &str)> = keys::footer_for(ctx)
+    let all = keys::footer_for(ctx);
+    // the help key is always shown, at the end; the others as many as fit before it
+    let help = all
         .iter()
+        .find(|b| b.action == crate::app::Action::ToggleHelp)
+        .map(|b| (b.label, "help"));
+    let entries: Vec<(&str, &str)> = all
+        .iter()
+        .filter(|b| b.action != crate::app::Action::ToggleHelp)
         .map(|b| (b.label, short_desc(b.desc)))
         .collect();
-    let line = widgets::footer_line(&entries, area.width, th);
+    let reserve = help
+        .map(|(k, d)| (unicode_width::UnicodeWidthStr::width(k) + d.len() + 3) as u16)
+        .unwrap_or(0);
+    let mut line = widgets::footer_line(&entries, area.width.saturating_sub(reserve), th);
+    if let Some((k, d)) = help {
+        if area.width >= reserve {
+            let used = line.width() as u16;
+            let gap = area.width.saturating_sub(used + reserve) as usize;
+            line.spans.push(Span::raw(" ".repeat(gap)));
+            line.spans
+                .extend(widgets::footer_line(&[(k, d)], reserve, th).spans);
+        }
+    }
     Paragraph::new(line).render(area, f.buffer_mut());
 }
 
@@ -176,7 +195,7 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     let block = Block::default()
         .borders(Borders::ALL)
         .border_style(th.focus_border)
-        .title(" Help ");
+        .title(" Help · ↑/↓ PgUp/PgDn scroll (cautions at the end) · Esc closes ");
     Clear.render(area, f.buffer_mut());
     widgets::para(lines)
         .block(block)

@@ -62,7 +62,7 @@ pub fn centered(area: Rect, w: u16, h: u16) -> Rect {
 
 /// Width of the label column of a form laid out in `width` columns.
 fn label_width(width: u16) -> u16 {
-    (width * 2 / 5).clamp(8, 21)
+    (width / 2).clamp(8, 17)
 }
 
 /// Split `text` into lines of at most `width` columns (breaking at spaces where possible).
@@ -312,7 +312,14 @@ fn draw_pick(buf: &mut Buffer, area: Rect, p: &PickList, focused: bool, th: &The
         return;
     }
     if p.match_count() == 0 {
-        buf.set_stringn(area.x, area.y + 1, fit("  nothing matches", w), w, th.muted);
+        let msg = if p.allow_new && !p.filter().trim().is_empty() {
+            format!("  Enter adds “{}” as new", clean(p.filter().trim()))
+        } else if p.allow_new {
+            "  type a code; Enter adds it".to_string()
+        } else {
+            "  nothing matches; Backspace widens".to_string()
+        };
+        buf.set_stringn(area.x, area.y + 1, fit(&msg, w), w, th.muted);
         return;
     }
     let first = p.cursor().saturating_sub(rows.saturating_sub(1));

@@ -10,7 +10,7 @@ use crate::app::App;
 use crate::store::model::{Incident, LookupKind};
 use crate::tui::theme::Theme;
 use crate::tui::widgets::{self, clean};
-use crate::units::{fmt_sig, format, Unit};
+use crate::units::{format, Unit};
 
 pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     let Some(state) = &app.incident else {
@@ -97,7 +97,7 @@ fn section_lines(app: &App, state: &IncidentState, th: &Theme) -> Vec<Line<'stat
                 "Temperature",
                 inc.environment
                     .temperature_c
-                    .map(|t| format!("{} °C", fmt_sig(t, 3)))
+                    .map(|t| format!("{t} °C"))
                     .unwrap_or_default(),
                 th,
             ));
