@@ -121,6 +121,12 @@ fn cases() -> Vec<Case> {
             false,
         ),
         (
+            with(&["--radius", "20m"]),
+            2,
+            "--radius: a mirror-mist radius of 20000 mm is out of range",
+            false,
+        ),
+        (
             with(&["--radius", "1mm", "--toughness", "-0.75MPa√m"]),
             2,
             "--toughness",
@@ -487,6 +493,11 @@ fn bench_analyst_case_warns_that_the_mirror_is_not_closed() {
             .any(|w| w.contains("not closed") && w.contains("18.8 MPa")),
         "{warnings:?}"
     );
+    // the headline moves to the branching boundary: computed 2.3 / √0.015 = 18.78 MPa, and the
+    // flaw size follows it
+    assert_eq!(v["stress_from"], "branching");
+    assert!((v["stress_mpa"].as_f64().unwrap() - 18.78).abs() < 0.01);
+    assert!((v["constant_mpa_sqrt_m"].as_f64().unwrap() - 2.3).abs() < 1e-9);
 }
 
 #[test]

@@ -414,3 +414,41 @@ proptest! {
         }
     }
 }
+
+// ---------------------------------------------------------------- robustness
+
+proptest! {
+    /// Whatever numbers arrive, `analyze` returns an error or finite figures (never NaN,
+    /// never a panic), and its result survives a JSON round trip (the store keeps it).
+    #[test]
+    fn analyze_is_total_and_finite(
+        rs in proptest::collection::vec(prop_oneof![1e-300f64..1e-3, 1e-3f64..20.0, Just(0.0), Just(-1e-3), Just(f64::NAN), Just(f64::INFINITY)], 0..5),
+        b in prop_oneof![Just(Boundary::MirrorMist), Just(Boundary::MistHackle), Just(Boundary::Branching)],
+        cs in proptest::option::of(prop_oneof![0.0f64..1e9, Just(-5e6), Just(f64::NAN)]),
+        temper in prop_oneof![Just(None), Just(Some(Temper::Annealed)), Just(Some(Temper::HeatStrengthened)), Just(Some(Temper::FullyTempered)), Just(Some(Temper::ChemicallyStrengthened))],
+        interior in any::<bool>(),
+        thickness in proptest::option::of(prop_oneof![1e-5f64..0.05, Just(0.0), Just(f64::NAN)]),
+        ac in 0.01f64..2.0,
+        measured in proptest::option::of(1e-9f64..1.0),
+    ) {
+        let mut i = one_boundary(b, &rs);
+        i.surface_compression_pa = cs;
+        i.temper = temper;
+        i.origin = if interior { Origin::Interior } else { Origin::Surface };
+        i.thickness_m = thickness;
+        i.flaw = Some(FlawGeometry::SemiElliptical { a_over_c: ac, a_over_t: 0.0 });
+        i.measured_flaw_m = measured;
+        if let Ok(a) = analyze(&i) {
+            let figures = [a.stress_pa, a.stress_low_pa, a.stress_high_pa, a.applied_stress_pa,
+                a.applied_low_pa, a.applied_high_pa, a.residual.at_origin_pa];
+            prop_assert!(figures.iter().all(|x| x.is_finite()), "{:?}", figures);
+            if let Some(f) = &a.flaw {
+                prop_assert!(f.size_m.is_finite() && f.size_m > 0.0 && f.factor.y.is_finite());
+                prop_assert!(f.size_low_m.is_finite() && f.size_high_m.is_finite());
+            }
+            let json = serde_json::to_string(&a).unwrap();
+            let back: shardlog::fracture::Analysis = serde_json::from_str(&json).unwrap();
+            prop_assert_eq!(back.warnings, a.warnings);
+        }
+    }
+}

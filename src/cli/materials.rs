@@ -46,6 +46,11 @@ fn cell(c: &Option<Constant>, unit_factor: f64, sig: usize) -> String {
     }
 }
 
+/// Text that may come from a user-defined material: no terminal control sequences.
+fn clean(s: &str) -> String {
+    super::sanitize_for_terminal(s, false)
+}
+
 fn pad(s: &str, w: usize) -> String {
     let n = s.chars().count();
     if n >= w {
@@ -74,7 +79,7 @@ pub fn render_plain(lib: &[Material]) -> String {
     for m in lib {
         o.push_str(&format!(
             "{}{}{}{}{}{}{}{}{}\n",
-            pad(&m.key, 22),
+            pad(&clean(&m.key), 22),
             pad(&cell(&m.a_i, 1e6, 3), 14),
             pad(&cell(&m.a_o, 1e6, 3), 14),
             pad(&cell(&m.a_b, 1e6, 3), 14),
@@ -87,7 +92,7 @@ pub fn render_plain(lib: &[Material]) -> String {
     }
     o.push_str("\n± is one standard deviation. Sources:\n");
     for m in lib {
-        o.push_str(&format!("\n{} ({})\n", m.name, m.key));
+        o.push_str(&format!("\n{} ({})\n", clean(&m.name), clean(&m.key)));
         let items = [
             ("A_i", &m.a_i),
             ("A_o", &m.a_o),
@@ -100,11 +105,15 @@ pub fn render_plain(lib: &[Material]) -> String {
         ];
         for (sym, c) in items {
             if let Some(c) = c {
-                o.push_str(&format!("  {}{}\n", pad(sym, 6), c.provenance));
+                o.push_str(&format!(
+                    "  {}{}\n",
+                    pad(sym, 6),
+                    clean(&c.provenance.to_string())
+                ));
             }
         }
         if !m.notes.is_empty() {
-            o.push_str(&format!("  note  {}\n", m.notes));
+            o.push_str(&format!("  note  {}\n", clean(&m.notes)));
         }
     }
     o.push_str(

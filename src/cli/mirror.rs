@@ -441,7 +441,11 @@ fn mpa(pa: f64) -> Option<f64> {
 /// The JSON object of `mirror --json`: headline figures in the units their names say, then
 /// every boundary, then the whole analysis in SI under `analysis`.
 pub fn to_json(a: &Analysis) -> serde_json::Value {
-    let head = &a.boundaries[0];
+    let head = a
+        .boundaries
+        .iter()
+        .find(|b| b.boundary == a.headline)
+        .or(a.boundaries.first());
     let readings: Vec<_> = a
         .boundaries
         .iter()
@@ -489,7 +493,7 @@ pub fn to_json(a: &Analysis) -> serde_json::Value {
         "flaw_size_low_um": flaw.map(|f| f.size_low_m * 1e6),
         "flaw_size_high_um": flaw.map(|f| f.size_high_m * 1e6),
         "flaw_geometry": flaw.map(|f| f.geometry_label.clone()),
-        "constant_mpa_sqrt_m": head.constant.value / 1e6,
+        "constant_mpa_sqrt_m": head.map(|h| h.constant.value / 1e6),
         "toughness_mpa_sqrt_m": flaw.map(|f| f.toughness.value / 1e6),
         "geometry_factor": flaw.map(|f| f.factor.y),
         "geometry_factor_source": flaw.map(|f| f.factor.source.clone()),
@@ -509,6 +513,11 @@ pub fn to_json(a: &Analysis) -> serde_json::Value {
         "caution": fracture::CAUTION,
         "analysis": a,
     })
+}
+
+/// Text that may come from a user-defined material: no terminal control sequences.
+fn clean(s: &str) -> String {
+    super::sanitize_for_terminal(s, false)
 }
 
 fn pad(s: &str, w: usize) -> String {
@@ -550,7 +559,8 @@ pub fn render_plain(a: &Analysis) -> String {
     let s = Unit::Megapascal;
     o.push_str(&format!(
         "Fracture mirror analysis: {} ({})\n\n",
-        a.material_name, a.material_key
+        clean(&a.material_name),
+        clean(&a.material_key)
     ));
     o.push_str(&format!(
         "{}{}{}{}{}{}{}\n",
@@ -725,7 +735,7 @@ pub fn render_plain(a: &Analysis) -> String {
             "  {}{}\n      {}\n",
             pad(&c.symbol, 6),
             spread_text(c, t),
-            c.provenance
+            clean(&c.provenance.to_string())
         ));
     };
     for b in &a.boundaries {
@@ -740,12 +750,16 @@ pub fn render_plain(a: &Analysis) -> String {
     o.push_str(&format!(
         "\n95 % interval: {}; the constant's spread at 1.96 s.d.; the two combined in quadrature \
          on relative terms, (Δσ/σ)² = (ΔA/A)² + (ΔR/2R)².\n",
-        a.boundaries[0].stats.method
+        a.boundaries
+            .iter()
+            .find(|b| b.boundary == a.headline)
+            .map(|b| b.stats.method.as_str())
+            .unwrap_or("")
     ));
     if !a.warnings.is_empty() {
         o.push_str("\nwarnings\n");
         for w in &a.warnings {
-            o.push_str(&format!("  - {w}\n"));
+            o.push_str(&format!("  - {}\n", clean(w)));
         }
     }
     o.push_str(&format!("\n{}\n", fracture::CAUTION));
@@ -809,6 +823,20 @@ mod tests {
         .unwrap_err();
         assert_eq!(e.exit_code(), 2);
         assert!(e.message().starts_with("--radius"), "{e}");
+    }
+
+    #[test]
+    fn user_material_text_is_sanitized() {
+        let mut m = materials::find("soda-lime").unwrap();
+        m.name = "lab glass \u{1b}[2J\u{1b}]0;title\u{7}".into();
+        let a =
+            analyze(&AnalysisInput::new(m).with_readings(Boundary::MirrorMist, &[1e-3])).unwrap();
+        let text = render_plain(&a);
+        assert!(
+            !text.contains('\u{1b}') && !text.contains('\u{7}'),
+            "{text:?}"
+        );
+        assert!(text.contains("lab glass"));
     }
 
     #[test]

@@ -62,6 +62,17 @@ pub enum Command {
     Report(report::ReportArgs),
     /// A dispute bundle for one supplier (and lot).
     Dispute(report::DisputeArgs),
+    /// Print a shell completion script (bash, zsh, fish, elvish, powershell).
+    Completions(CompletionsArgs),
+    /// Print the manual page (roff), generated from the same argument definitions.
+    Manpage,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct CompletionsArgs {
+    /// The shell to complete for.
+    #[arg(value_enum)]
+    pub shell: clap_complete::Shell,
 }
 
 /// A failure a subcommand reports. `Usage` exits 2, `Work` exits 1.
@@ -99,8 +110,15 @@ impl std::fmt::Display for CliError {
 
 impl std::error::Error for CliError {}
 
+/// The message of the error made when the reader of our output went away (`| head`).
+/// `main_with_args` exits quietly on it, as command-line tools do.
+const OUTPUT_CLOSED: &str = "output closed by the reader";
+
 impl From<std::io::Error> for CliError {
     fn from(e: std::io::Error) -> Self {
+        if e.kind() == std::io::ErrorKind::BrokenPipe {
+            return CliError::Work(OUTPUT_CLOSED.to_string());
+        }
         CliError::Work(format!("output: {e}"))
     }
 }
@@ -209,6 +227,7 @@ where
     let mut lock = stdout.lock();
     match run(cli, &mut lock) {
         Ok(()) => 0,
+        Err(CliError::Work(m)) if m == OUTPUT_CLOSED => 0,
         Err(e) => {
             let _ = lock.flush();
             eprintln!("shardlog: {}", sanitize_for_terminal(e.message(), true));
@@ -240,6 +259,20 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Stats(a) => stats::run(a, &mut ctx),
         Command::Report(a) => report::report(a, &mut ctx),
         Command::Dispute(a) => report::dispute(a, &mut ctx),
+        Command::Completions(a) => {
+            use clap::CommandFactory;
+            let mut cmd = Cli::command();
+            // generate() panics on a write error, so render to memory first.
+            let mut buf = Vec::new();
+            clap_complete::generate(a.shell, &mut cmd, "shardlog", &mut buf);
+            ctx.out.write_all(&buf).map_err(CliError::from)
+        }
+        Command::Manpage => {
+            use clap::CommandFactory;
+            clap_mangen::Man::new(Cli::command())
+                .render(ctx.out)
+                .map_err(CliError::from)
+        }
     }
 }
 

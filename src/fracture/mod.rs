@@ -6,7 +6,8 @@
 //!
 //! The steps:
 //! 1. per boundary: mean and scatter of the radii, σ = A/√R̄, 95 % interval ([`uncertainty`]);
-//! 2. net stress at the origin = the stress of the first boundary given;
+//! 2. net stress at the origin = the stress of the first boundary given (skipping a mirror
+//!    boundary as large as the thickness, which is not closed, when another is given);
 //! 3. residual stress at the origin from the temper class or the surface compression
 //!    ([`residual`]); applied stress = net − residual (compression negative);
 //! 4. flaw size a = (K_Ic / (Y σ_net))² ([`flaw`]); the flaw sees the net stress;
@@ -97,7 +98,7 @@ pub struct ConstantOverride {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct AnalysisInput {
     pub material: Material,
-    /// Readings per boundary; the first one gives the headline stress.
+    /// Readings per boundary; the first one (that is closed) gives the headline stress.
     pub readings: Vec<BoundaryReadings>,
     #[serde(default)]
     pub constant_overrides: Vec<ConstantOverride>,
@@ -202,7 +203,7 @@ pub struct Analysis {
     pub material_key: String,
     pub material_name: String,
     pub boundaries: Vec<BoundaryResult>,
-    /// The boundary the headline (net) stress comes from: the first given.
+    /// The boundary the headline (net) stress comes from: the first given that is closed.
     pub headline: Boundary,
     /// Net stress at the origin (Pa) and its 95 % interval.
     pub stress_pa: f64,
@@ -221,12 +222,30 @@ pub struct Analysis {
     pub warnings: Vec<String>,
 }
 
+/// Upper limits far beyond any real part, so nothing downstream overflows: 10 m for lengths,
+/// 1000 MPa·√m for constants and toughness, 10 GPa for stresses.
+fn upper_limit(unit: Unit) -> f64 {
+    match unit.dimension() {
+        crate::units::Dimension::Length => 10.0,
+        crate::units::Dimension::Toughness => 1e9,
+        _ => 1e10,
+    }
+}
+
 fn check_positive(field: &str, what: &str, v: f64, unit: Unit) -> Result<(), FractureError> {
     if !v.is_finite() || v <= 0.0 {
         return Err(FractureError::invalid(
             field,
             format!("{what} must be a finite number greater than zero, got {v}"),
             format!("a value in {} or another {} unit", unit, unit.dimension()),
+        ));
+    }
+    let max = upper_limit(unit);
+    if v > max {
+        return Err(FractureError::invalid(
+            field,
+            format!("{what} of {} is out of range", format(v, unit)),
+            format!("at most {}", format(max, unit)),
         ));
     }
     Ok(())
@@ -301,7 +320,7 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         check_constant("toughness", "the toughness", k, Unit::MegapascalRootMetre)?;
     }
     if let Some(cs) = input.surface_compression_pa {
-        if !cs.is_finite() || cs < 0.0 {
+        if !cs.is_finite() || cs < 0.0 || cs > upper_limit(Unit::Megapascal) {
             return Err(FractureError::invalid(
                 "surface-compression",
                 format!("surface compression {cs} Pa"),
@@ -401,7 +420,14 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         }
         boundaries.push(result);
     }
-    let head = &boundaries[0];
+    // A mirror boundary as large as the thickness is not closed: σ = A/√R does not hold for
+    // it. The headline (net) stress is the first boundary given that is closed (branching
+    // always counts as closed); if none is, the first one, with the warning below.
+    let not_closed = |b: &BoundaryResult| {
+        b.boundary != Boundary::Branching && input.thickness_m.is_some_and(|t| b.stats.mean >= t)
+    };
+    let head_index = boundaries.iter().position(|b| !not_closed(b)).unwrap_or(0);
+    let head = &boundaries[head_index];
     let net = head.stress_pa;
 
     // ---- consistency between boundaries (ordered inner to outer)
@@ -483,7 +509,7 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
             mpa(at_origin)
         ),
         Origin::Surface if cs > 0.0 => {
-            format!("{basis}; surface origin: residual {}", mpa(at_origin))
+            format!("{basis}; surface origin, in the compressive layer")
         }
         _ => basis,
     };
@@ -536,11 +562,19 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         let r = b.stats.mean;
         if let Some(t) = input.thickness_m {
             if r >= t {
-                let advice = match branching_result {
-                    Some(br) => {
-                        format!("use the branching estimate ({}) instead", mpa(br.stress_pa))
+                let advice = if head.boundary != b.boundary {
+                    format!(
+                        "the stress is taken from the {} boundary instead ({})",
+                        head.boundary.label(),
+                        mpa(head.stress_pa)
+                    )
+                } else {
+                    match branching_result {
+                        Some(br) => {
+                            format!("use the branching estimate ({}) instead", mpa(br.stress_pa))
+                        }
+                        None => "use the branching distance or an inner boundary instead".into(),
                     }
-                    None => "use the branching distance or an inner boundary instead".to_string(),
                 };
                 warnings.push(format!(
                     "The {} radius ({}) is as large as the thickness ({}): the mirror is not \
@@ -640,6 +674,17 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
                         .to_string(),
                 );
             }
+            if let FlawGeometry::SemiElliptical { a_over_c, .. }
+            | FlawGeometry::CornerCrack { a_over_c, .. } = geometry
+            {
+                if a_over_c < 0.2 {
+                    warnings.push(format!(
+                        "Flaw aspect ratio a/c = {} is below 0.2, outside the range the \
+                         Newman–Raju equations were fitted over.",
+                        fmt_sig(a_over_c, 2)
+                    ));
+                }
+            }
             let solved = flaw::solve_flaw(geometry, k.value, net, input.thickness_m);
             if solved.beyond_range {
                 warnings.push(format!(
@@ -652,7 +697,7 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
             let rel = 2.0 * (head.rel_u95.powi(2) + (uncertainty::Z95 * k_rel).powi(2)).sqrt();
             let (lo, hi) = uncertainty::log_interval(solved.size, rel);
             let mut ratios = Vec::new();
-            for b in &boundaries {
+            for b in boundaries.iter().filter(|b| !not_closed(b)) {
                 if let Some(expected) = b.boundary.flaw_ratio() {
                     let ratio = b.stats.mean / solved.size;
                     let plausible = ratio >= expected / 2.0 && ratio <= expected * 2.0;
@@ -787,6 +832,27 @@ mod tests {
         i.origin = Origin::Interior;
         let b = analyze(&i).unwrap();
         assert!((b.applied_stress_pa - (b.stress_pa - 47.5e6)).abs() < 1.0);
+    }
+
+    #[test]
+    fn slender_flaw_warns() {
+        let mut i = AnalysisInput::new(soda()).with_readings(Boundary::MirrorMist, &[1e-3]);
+        i.flaw = Some(FlawGeometry::SemiElliptical {
+            a_over_c: 0.1,
+            a_over_t: 0.0,
+        });
+        let a = analyze(&i).unwrap();
+        assert!(
+            a.warnings.iter().any(|w| w.contains("below 0.2")),
+            "{:?}",
+            a.warnings
+        );
+        i.flaw = Some(FlawGeometry::SemiElliptical {
+            a_over_c: 0.5,
+            a_over_t: 0.0,
+        });
+        let a = analyze(&i).unwrap();
+        assert!(!a.warnings.iter().any(|w| w.contains("below 0.2")));
     }
 
     #[test]
