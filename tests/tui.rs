@@ -243,4 +243,44 @@ mod bench {
         assert!(text.contains("Broken glass cuts"), "{text}");
         assert!(text.contains("60.1 MPa"), "{text}");
     }
+
+    #[test]
+    fn workflow_one_branching_and_thermal_hypothesis() {
+        // workflow 1 (/work/shared/workflows.md): mirror not closed in 6 mm glass, branching
+        // 15 mm, thermal hypothesis ΔT 30 K; the figures are the core's and loads' own
+        let mut app = bench_app();
+        focus(&mut app, "r_mist");
+        type_str(&mut app, "7 mm");
+        focus(&mut app, "r_branch");
+        type_str(&mut app, "15 mm");
+        focus(&mut app, "thickness");
+        type_str(&mut app, "6 mm");
+        focus(&mut app, "delta_t");
+        type_str(&mut app, "30 K");
+        let Outcome::Done { analysis, .. } = &app.bench.outcome else {
+            panic!("{:?}", app.bench.outcome)
+        };
+        assert_eq!(analysis.headline, Boundary::Branching);
+        let net = analysis.stress_pa;
+        let m = materials::find("soda-lime").unwrap();
+        let expected = shardlog::loads::thermal::edge_stress(&shardlog::loads::thermal::Thermal {
+            youngs_modulus: m.youngs_modulus.as_ref().unwrap().value,
+            expansion: m.expansion.as_ref().unwrap().value,
+            delta_t: 30.0,
+            restraint: 1.0,
+        })
+        .unwrap();
+        let Some(Ok(t)) = &app.bench.thermal else {
+            panic!("{:?}", app.bench.thermal)
+        };
+        assert_eq!(t.stress_pa, expected.stress);
+        let v = t.verdict.as_ref().unwrap();
+        assert_eq!(v.finding, shardlog::loads::verdict::Finding::Consistent);
+        let text = screen_text(&render(&mut app, 100, 30));
+        assert!(
+            text.contains(&format(expected.stress, Unit::Megapascal)),
+            "{text}"
+        );
+        assert!(text.contains(&format(net, Unit::Megapascal)), "{text}");
+    }
 }

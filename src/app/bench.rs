@@ -25,6 +25,18 @@ pub struct GeometryRow {
     pub high_m: f64,
 }
 
+/// The thermal hypothesis tried beside the measurement: σ = k·E·α·ΔT (loads::thermal) and
+/// the verdict against the applied stress (loads::verdict).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ThermalCheck {
+    pub delta_t_k: f64,
+    pub restraint: f64,
+    pub stress_pa: f64,
+    pub stress_per_kelvin: f64,
+    pub verdict: Result<crate::loads::verdict::Verdict, String>,
+    pub warnings: Vec<String>,
+}
+
 /// What the calculator shows.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Outcome {
@@ -44,6 +56,8 @@ pub enum Outcome {
 pub struct BenchState {
     pub form: Form,
     pub outcome: Outcome,
+    /// The thermal hypothesis, when a ΔT is typed (or why it cannot be evaluated).
+    pub thermal: Option<Result<ThermalCheck, String>>,
     /// First line of the results pane shown (PgUp/PgDn, mouse wheel).
     pub scroll: u16,
 }
@@ -155,6 +169,18 @@ impl BenchState {
             )
             .with_choice("surface"),
         );
+        form.push_field(
+            Field::new(
+                "delta_t",
+                "Thermal ΔT",
+                FieldKind::Quantity {
+                    dim: Dimension::TemperatureDifference,
+                    positive: true,
+                    optional: true,
+                },
+            )
+            .with_hint("hypothesis, e.g. 30 K"),
+        );
         form.push_pick(
             PickList::new(
                 "geometry",
@@ -193,6 +219,7 @@ impl BenchState {
             .with_hint("measured, e.g. 95 MPa"),
         );
         form.push_field(optional_length("layer_depth", "Layer depth", "e.g. 1.2 mm"));
+
         form.push_field(optional_toughness("a_i", "A_i (own)"));
         form.push_field(optional_toughness("a_o", "A_o (own)"));
         form.push_field(optional_toughness("a_b", "A_b (own)"));
@@ -201,6 +228,7 @@ impl BenchState {
         let mut b = BenchState {
             form,
             outcome: Outcome::Waiting,
+            thermal: None,
             scroll: 0,
         };
         b.recompute();
@@ -247,6 +275,55 @@ impl BenchState {
             },
             Err(e) => Outcome::Incomplete(e),
         };
+        self.thermal = self.thermal_check();
+    }
+
+    /// Thermal edge stress for the typed ΔT with the material's E and α (restraint 1, a
+    /// fully restrained edge strip), judged against the applied stress and its interval.
+    fn thermal_check(&self) -> Option<Result<ThermalCheck, String>> {
+        let dt = match self.opt_quantity("delta_t") {
+            Ok(Some(dt)) => dt,
+            Ok(None) => return None,
+            Err(e) => return Some(Err(e)),
+        };
+        let material = materials::find(&self.form.text("material"))?;
+        let (Some(e), Some(a)) = (&material.youngs_modulus, &material.expansion) else {
+            return Some(Err(format!(
+                "{} has no Young's modulus or expansion coefficient in the library",
+                material.name
+            )));
+        };
+        let input = crate::loads::thermal::Thermal {
+            youngs_modulus: e.value,
+            expansion: a.value,
+            delta_t: dt,
+            restraint: 1.0,
+        };
+        let r = match crate::loads::thermal::edge_stress(&input) {
+            Ok(r) => r,
+            Err(e) => return Some(Err(e.to_string())),
+        };
+        let verdict = match &self.outcome {
+            Outcome::Done { analysis, .. } => crate::loads::verdict::judge(
+                &crate::loads::verdict::Measured {
+                    stress: analysis.applied_stress_pa,
+                    low: analysis.applied_low_pa,
+                    high: analysis.applied_high_pa,
+                },
+                r.stress,
+                None,
+            )
+            .map_err(|e| e.to_string()),
+            _ => Err("no measured stress yet".to_string()),
+        };
+        Some(Ok(ThermalCheck {
+            delta_t_k: dt,
+            restraint: 1.0,
+            stress_pa: r.stress,
+            stress_per_kelvin: r.stress_per_kelvin,
+            verdict,
+            warnings: r.warnings.iter().map(|w| w.message.clone()).collect(),
+        }))
     }
 
     fn aspect(&self) -> f64 {

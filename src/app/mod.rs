@@ -1037,7 +1037,22 @@ impl App {
                 });
             }
         }
-        exam.result = Some(computed_result(input, analysis, stamp.at));
+        let mut result = computed_result(input, analysis, stamp.at);
+        if let (Some(Ok(t)), serde_json::Value::Object(map)) =
+            (&self.bench.thermal, &mut result.analysis)
+        {
+            map.insert(
+                "thermal_hypothesis".to_string(),
+                serde_json::json!({
+                    "method": crate::loads::thermal::THERMAL_METHOD,
+                    "delta_t_k": t.delta_t_k,
+                    "restraint": t.restraint,
+                    "stress_pa": t.stress_pa,
+                    "verdict": t.verdict.as_ref().map(|v| v.explanation.clone()).ok(),
+                }),
+            );
+        }
+        exam.result = Some(result);
         match store.put_examination(&target.id, target.revision, &exam, &stamp) {
             Ok(saved) => {
                 self.bench_target = Some(BenchTarget {

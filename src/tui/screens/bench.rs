@@ -125,8 +125,61 @@ pub fn result_lines(app: &App, th: &Theme, width: u16) -> Vec<Line<'static>> {
             analysis,
             per_geometry,
             ..
-        } => analysis_lines(analysis, per_geometry, th, width),
+        } => {
+            let mut lines = analysis_lines(analysis, per_geometry, th, width);
+            // the hypothesis goes right under the headline figures
+            if let Some(t) = thermal_lines(app, th) {
+                let at = lines
+                    .iter()
+                    .position(|l| {
+                        l.to_string().starts_with("Warnings")
+                            || l.to_string().starts_with("No warnings")
+                    })
+                    .unwrap_or(lines.len());
+                for (i, l) in t.into_iter().enumerate() {
+                    lines.insert(at + i, l);
+                }
+            }
+            lines
+        }
     }
+}
+
+fn thermal_lines(app: &App, th: &Theme) -> Option<Vec<Line<'static>>> {
+    let t = app.bench.thermal.as_ref()?;
+    Some(match t {
+        Err(e) => vec![Line::styled(
+            format!("Thermal hypothesis: ✗ {}", clean(e)),
+            th.error,
+        )],
+        Ok(t) => {
+            let mut v = vec![kv(
+                "Thermal hypothesis",
+                format!(
+                    "ΔT {} → {} (k·E·α = {} MPa/K, k = {})",
+                    format(t.delta_t_k, Unit::Kelvin),
+                    mpa(t.stress_pa),
+                    fmt_sig(t.stress_per_kelvin / 1e6, 3),
+                    fmt_sig(t.restraint, 2)
+                ),
+                th,
+            )];
+            match &t.verdict {
+                Ok(v2) => v.push(Line::styled(
+                    format!("  {}", clean(&v2.explanation)),
+                    match v2.finding {
+                        crate::loads::verdict::Finding::Consistent => th.ok,
+                        _ => th.warning,
+                    },
+                )),
+                Err(e) => v.push(Line::styled(format!("  ✗ {}", clean(e)), th.error)),
+            }
+            for w in &t.warnings {
+                v.push(Line::styled(format!("  ! {}", clean(w)), th.warning));
+            }
+            v
+        }
+    })
 }
 
 fn analysis_lines(
