@@ -22,8 +22,15 @@ struct Pty {
 
 impl Pty {
     fn spawn(db: &Path) -> Pty {
+        Pty::spawn_with(db, &[])
+    }
+
+    fn spawn_with(db: &Path, env: &[(&str, &str)]) -> Pty {
         let mut cmd = Command::new(env!("CARGO_BIN_EXE_shardlog"));
         cmd.arg("--db").arg(db);
+        for (k, v) in env {
+            cmd.env(k, v);
+        }
         cmd.env("TERM", "xterm-256color");
         cmd.env_remove("NO_COLOR");
         let mut session = Session::spawn(cmd).expect("spawn shardlog in a pty");
@@ -220,4 +227,32 @@ fn no_color_turns_colour_off() {
     }
     pty.send("q");
     assert_eq!(pty.finish(), 0);
+}
+
+#[test]
+fn a_panic_restores_the_terminal() {
+    // debug builds panic right after the first frame when this variable is set
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("pty-panic.db");
+    let mut pty = Pty::spawn_with(&db, &[("SHARDLOG_TEST_PANIC_AFTER_FIRST_FRAME", "1")]);
+    let code = pty.finish();
+    assert_eq!(
+        code,
+        101,
+        "a panic exits with 101; screen:\n{}",
+        pty.screen()
+    );
+    let s = pty.parser.screen();
+    assert!(!s.alternate_screen(), "left the alternate screen");
+    assert_eq!(
+        s.mouse_protocol_mode(),
+        vt100::MouseProtocolMode::None,
+        "mouse capture turned off"
+    );
+    assert!(!s.bracketed_paste(), "bracketed paste turned off");
+    assert!(
+        pty.screen().contains("test panic"),
+        "the panic message is readable:\n{}",
+        pty.screen()
+    );
 }

@@ -63,6 +63,12 @@ where
         height: size.height,
     });
     terminal.draw(|f| view::draw(app, f))?;
+    // debug builds only: lets the pseudo-terminal test check the panic path restores the
+    // terminal (release builds never read this)
+    if cfg!(debug_assertions) && std::env::var_os("SHARDLOG_TEST_PANIC_AFTER_FIRST_FRAME").is_some()
+    {
+        panic!("test panic after the first frame (SHARDLOG_TEST_PANIC_AFTER_FIRST_FRAME)");
+    }
     while !app.quit {
         let ev = event::read()?;
         let Some(action) = action_for_event(app, &ev) else {
