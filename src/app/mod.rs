@@ -617,6 +617,12 @@ impl App {
             &f.cause,
         ));
         form.push_pick(pick(
+            "origin_type",
+            "Origin type",
+            self.lists.lookup(LookupKind::OriginType),
+            &f.origin_type,
+        ));
+        form.push_pick(pick(
             "supplier",
             "Supplier",
             self.lists.suppliers.clone(),
@@ -670,7 +676,7 @@ impl App {
         let filter = crate::store::model::Filter {
             status: opt("status"),
             cause: opt("cause"),
-            origin_type: self.log.filter.origin_type.clone(),
+            origin_type: opt("origin_type"),
             supplier: opt("supplier"),
             lot: opt("lot"),
             site: opt("site"),

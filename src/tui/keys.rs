@@ -269,7 +269,7 @@ pub static TABLE: &[Binding] = &[
         ctxs: &[Log],
         keys: &[c('f')],
         label: "f",
-        desc: "filter: status, cause, supplier, lot, site, dates",
+        desc: "filter: status, cause, origin type, supplier, lot, site, dates",
         action: Action::Filter,
         footer: true,
     },
