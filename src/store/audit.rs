@@ -345,7 +345,7 @@ impl Store {
             let mut bad_derived: Option<String> = None;
             let mut n_bad = 0u64;
             incidents::for_each_incident(&self.conn, |inc, derived_ok| {
-                let img = canon::canonical(&inc)?;
+                let img = canon::incident_image(&inc)?;
                 check(&mut report, INCIDENT, inc.id.clone(), &inc.reference, &img);
                 if !derived_ok {
                     n_bad += 1;
@@ -361,8 +361,14 @@ impl Store {
                 }
             }
         }
-        for ((entity, id), img) in &last {
-            if img.is_some() && !seen.contains_key(&(entity.clone(), id.clone())) {
+        let mut gone: Vec<&(String, String)> = last
+            .iter()
+            .filter(|(k, img)| img.is_some() && !seen.contains_key(*k))
+            .map(|(k, _)| k)
+            .collect();
+        gone.sort();
+        for (entity, id) in gone {
+            {
                 problem(
                     &mut report,
                     format!("{entity} {id}: in the audit log but missing from the records (deleted behind shardlog's back)"),

@@ -6,7 +6,8 @@
 //!   or the short escapes), everything else verbatim UTF-8;
 //! - integers: plain decimal; `true`, `false`, `null` as such;
 //! - floating-point numbers: the string `"f64:"` followed by the 16 lower-case hex digits of
-//!   the IEEE 754 binary64 bit pattern, so no float formatting can change a hash.
+//!   the IEEE 754 binary64 bit pattern, so no float formatting can change a hash
+//!   (negative zero is written as zero).
 
 use serde::Serialize;
 use serde_json::Value;
@@ -18,6 +19,23 @@ pub fn canonical<T: Serialize>(value: &T) -> Result<String, serde_json::Error> {
     let mut out = String::with_capacity(512);
     write_value(&v, &mut out);
     Ok(out)
+}
+
+/// The audit image of an incident: its canonical JSON, except that each result's full
+/// `analysis` blob is replaced by `"sha256:<hex>"` of the blob's canonical text. The blob is
+/// stored whole in the results table; the image pins it without copying it into every
+/// audit row, while the figures (stress, interval, constants) stay in the image as values.
+pub fn incident_image(inc: &crate::store::model::Incident) -> Result<String, serde_json::Error> {
+    let mut v = serde_json::to_value(inc)?;
+    if let Some(exams) = v.get_mut("examinations").and_then(Value::as_array_mut) {
+        for e in exams {
+            if let Some(a) = e.get_mut("result").and_then(|r| r.get_mut("analysis")) {
+                let digest = sha256_hex(canonical_value(a).as_bytes());
+                *a = Value::String(format!("sha256:{digest}"));
+            }
+        }
+    }
+    Ok(canonical_value(&v))
 }
 
 /// The canonical text of a JSON value.
@@ -72,6 +90,9 @@ fn write_value(v: &Value, out: &mut String) {
 
 fn write_float(f: f64, out: &mut String) {
     use std::fmt::Write;
+    // -0.0 is written as 0.0: neither SQLite (which stores integral reals as integers) nor
+    // JSON parsers keep the sign of zero
+    let f = if f == 0.0 { 0.0 } else { f };
     let _ = write!(out, "\"f64:{:016x}\"", f.to_bits());
 }
 

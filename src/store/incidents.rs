@@ -376,7 +376,7 @@ pub(crate) fn insert_new(
     if with_text {
         sqlite::fts_insert(conn, seq, &search_body(inc))?;
     }
-    let img = canon::canonical(inc)?;
+    let img = canon::incident_image(inc)?;
     chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?;
     Ok(seq)
 }
@@ -1198,8 +1198,8 @@ impl Store {
         delete_children(conn, &new.id)?;
         insert_children(conn, &new)?;
         sqlite::fts_put(conn, seq, &search_body(&new))?;
-        let before = canon::canonical(&current)?;
-        let after = canon::canonical(&new)?;
+        let before = canon::incident_image(&current)?;
+        let after = canon::incident_image(&new)?;
         chain.record(conn, stamp, INCIDENT, &new.id, Some(&before), Some(&after))?;
         chain.finish(conn)?;
         Ok(new)
@@ -1340,7 +1340,7 @@ impl Store {
         tx.prepare_cached("DELETE FROM incidents WHERE id = ?1")?
             .execute([&id])?;
         let mut chain = Chain::load(&tx)?;
-        let before = canon::canonical(&current)?;
+        let before = canon::incident_image(&current)?;
         chain.record(&tx, stamp, INCIDENT, &id, Some(&before), None)?;
         chain.finish(&tx)?;
         tx.commit()?;
