@@ -172,18 +172,24 @@ fn create_an_incident_by_keystrokes_and_find_it_after_quitting() {
     assert_eq!(code, 0, "screen:\n{}", pty.screen());
     assert!(!pty.parser.screen().alternate_screen());
 
-    // the record is in the database the binary wrote
-    let store = shardlog::store::Store::open_existing(&db).unwrap();
-    let page = store
-        .list(
-            &Default::default(),
-            Default::default(),
-            &shardlog::store::model::PageRequest::default(),
-        )
+    // the record is in the database: `shardlog list --json` finds it
+    let out = Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        .arg("--db")
+        .arg(&db)
+        .args(["list", "--json"])
+        .output()
         .unwrap();
-    assert_eq!(page.rows.len(), 1);
-    assert_eq!(page.rows[0].asset.as_deref(), Some("car 214"));
-    assert_eq!(page.rows[0].position, "left side, bay 3");
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let rows: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let rows = rows.as_array().expect("a JSON array");
+    assert_eq!(rows.len(), 1, "{rows:?}");
+    assert_eq!(rows[0]["asset"], "car 214");
+    assert_eq!(rows[0]["position"], "left side, bay 3");
+    assert!(rows[0]["ref"].as_str().unwrap().starts_with("BR-"));
 }
 
 #[test]

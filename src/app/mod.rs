@@ -23,7 +23,7 @@ use log::LogState;
 use picklist::{PickItem, PickList};
 
 use crate::fracture::Boundary;
-use crate::store::model::{ComputedResult, Incident, LookupKind, MirrorReading, Stamp};
+use crate::store::model::{Incident, LookupKind, MirrorReading, Stamp};
 use crate::store::{Store, StoreError};
 
 /// The screens. The first one on the stack is the top screen (`q` quits from there).
@@ -1043,7 +1043,21 @@ impl App {
                 });
             }
         }
-        let mut result = computed_result(input, analysis, stamp.at);
+        let mut result = match crate::store::compute::to_result(analysis, stamp.at) {
+            Ok(r) => r,
+            Err(e) => {
+                self.error(format!("not saved: storing the analysis: {e}"));
+                return;
+            }
+        };
+        // what the bench was given beyond the stored readings (temper, constants, geometry…)
+        // and the hypothesis tried beside it ride along with the analysis
+        if let serde_json::Value::Object(map) = &mut result.analysis {
+            map.insert(
+                "bench_input".to_string(),
+                serde_json::to_value(input.as_ref()).unwrap_or(serde_json::Value::Null),
+            );
+        }
         if let (Some(Ok(t)), serde_json::Value::Object(map)) =
             (&self.bench.thermal, &mut result.analysis)
         {
@@ -1076,44 +1090,6 @@ impl App {
             }
             Err(e) => self.error(format!("not saved: {e}; your readings are kept")),
         }
-    }
-}
-
-/// The stored form of a bench result: the headline figures as columns, the constants and
-/// the whole analysis as JSON.
-pub fn computed_result(
-    input: &crate::fracture::AnalysisInput,
-    a: &crate::fracture::Analysis,
-    at: chrono::DateTime<chrono::Utc>,
-) -> ComputedResult {
-    let mut constants = serde_json::Map::new();
-    for b in &a.boundaries {
-        constants.insert(
-            b.constant.symbol.clone(),
-            serde_json::to_value(&b.constant).unwrap_or(serde_json::Value::Null),
-        );
-    }
-    if let Some(f) = &a.flaw {
-        constants.insert(
-            f.toughness.symbol.clone(),
-            serde_json::to_value(&f.toughness).unwrap_or(serde_json::Value::Null),
-        );
-    }
-    let analysis = serde_json::json!({
-        "input": input,
-        "analysis": a,
-    });
-    ComputedResult {
-        computed_at: at,
-        code_version: crate::store::CODE_VERSION.to_string(),
-        stress_pa: Some(a.stress_pa),
-        stress_low_pa: Some(a.stress_low_pa),
-        stress_high_pa: Some(a.stress_high_pa),
-        residual_pa: Some(a.residual.at_origin_pa),
-        applied_stress_pa: Some(a.applied_stress_pa),
-        flaw_size_m: a.flaw.as_ref().map(|f| f.size_m),
-        constants: serde_json::Value::Object(constants),
-        analysis,
     }
 }
 
