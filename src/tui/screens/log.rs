@@ -41,7 +41,7 @@ const COLS: &[Col] = &[
         header: "Product",
         width: 10,
         sort: None,
-        min_screen: 110,
+        min_screen: 124,
     },
     Col {
         header: "Supplier",
@@ -53,7 +53,7 @@ const COLS: &[Col] = &[
         header: "Lot",
         width: 9,
         sort: None,
-        min_screen: 96,
+        min_screen: 110,
     },
     Col {
         header: "Status",
@@ -74,6 +74,14 @@ const COLS: &[Col] = &[
         min_screen: 0,
     },
 ];
+
+/// Status and cause get more room on wide screens.
+fn col_width(i: usize, screen: u16) -> u16 {
+    match i {
+        6 | 7 if screen >= 100 => 13,
+        _ => COLS[i].width,
+    }
+}
 
 fn cell(app: &App, row: &LogRow, col: usize) -> String {
     let t = match col {
@@ -98,10 +106,15 @@ fn cell(app: &App, row: &LogRow, col: usize) -> String {
             .as_deref()
             .map(|c| app.lists.label(LookupKind::CauseCategory, c))
             .unwrap_or_default(),
-        8 => row
-            .stress_mpa
-            .map(|s| format!("{:>5} MPa", crate::units::fmt_sig(s, 3)))
-            .unwrap_or_else(|| "—".to_string()),
+        8 => {
+            let t = row
+                .stress_mpa
+                .map(|s| format!("{} MPa", crate::units::fmt_sig(s, 3)))
+                .unwrap_or_else(|| "—".to_string());
+            // right-aligned in its column
+            let w = unicode_width::UnicodeWidthStr::width(t.as_str());
+            format!("{}{t}", " ".repeat(9usize.saturating_sub(w)))
+        }
         _ => String::new(),
     };
     clean(&t)
@@ -136,8 +149,8 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     let cols: Vec<usize> = (0..COLS.len())
         .filter(|&i| body.width >= COLS[i].min_screen)
         .collect();
-    let fixed: u16 =
-        cols.iter().map(|&i| COLS[i].width).sum::<u16>() + cols.len().saturating_sub(1) as u16;
+    let fixed: u16 = cols.iter().map(|&i| col_width(i, body.width)).sum::<u16>()
+        + cols.len().saturating_sub(1) as u16;
     let fill = body.width.saturating_sub(fixed).max(6);
     let widths: Vec<u16> = cols
         .iter()
@@ -145,7 +158,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
             if COLS[i].width == 0 {
                 fill
             } else {
-                COLS[i].width
+                col_width(i, body.width)
             }
         })
         .collect();
