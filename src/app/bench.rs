@@ -60,6 +60,9 @@ pub struct BenchState {
     pub thermal: Option<Result<ThermalCheck, String>>,
     /// First line of the results pane shown (PgUp/PgDn, mouse wheel).
     pub scroll: u16,
+    /// The largest useful `scroll`, as the last frame measured it (the view sets it; the
+    /// state only uses it to keep scrolling in range).
+    pub scroll_max: std::cell::Cell<u16>,
 }
 
 impl std::fmt::Debug for BenchState {
@@ -230,6 +233,7 @@ impl BenchState {
             outcome: Outcome::Waiting,
             thermal: None,
             scroll: 0,
+            scroll_max: std::cell::Cell::new(u16::MAX),
         };
         b.recompute();
         b
@@ -243,7 +247,7 @@ impl BenchState {
         match action {
             Action::PageDown | Action::ScrollDown => {
                 let step = if action == Action::PageDown { 8 } else { 2 };
-                self.scroll = self.scroll.saturating_add(step);
+                self.scroll = self.scroll.saturating_add(step).min(self.scroll_max.get());
             }
             Action::PageUp | Action::ScrollUp => {
                 let step = if action == Action::PageUp { 8 } else { 2 };

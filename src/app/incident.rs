@@ -72,6 +72,8 @@ pub struct IncidentState {
     pub history: Vec<HistoryEntry>,
     pub section: Section,
     pub scroll: u16,
+    /// The largest useful `scroll` for the section shown, as the last frame measured it.
+    pub scroll_max: std::cell::Cell<u16>,
 }
 
 /// What a form edits.

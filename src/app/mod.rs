@@ -159,6 +159,8 @@ pub struct App {
     pub stack: Vec<Screen>,
     pub help_open: bool,
     pub help_scroll: u16,
+    /// The largest useful `help_scroll`, as the last frame measured it.
+    pub help_scroll_max: std::cell::Cell<u16>,
     pub prompt: Option<Prompt>,
     pub quit: bool,
     pub message: Option<Message>,
@@ -236,6 +238,7 @@ impl App {
             stack: vec![Screen::Bench],
             help_open: false,
             help_scroll: 0,
+            help_scroll_max: std::cell::Cell::new(u16::MAX),
             prompt: None,
             quit: false,
             message: None,
@@ -429,12 +432,20 @@ impl App {
                     self.help_scroll = 0;
                 }
                 Action::Down | Action::ScrollDown => {
-                    self.help_scroll = self.help_scroll.saturating_add(1)
+                    self.help_scroll = self
+                        .help_scroll
+                        .saturating_add(1)
+                        .min(self.help_scroll_max.get())
                 }
                 Action::Up | Action::ScrollUp => {
                     self.help_scroll = self.help_scroll.saturating_sub(1)
                 }
-                Action::PageDown => self.help_scroll = self.help_scroll.saturating_add(10),
+                Action::PageDown => {
+                    self.help_scroll = self
+                        .help_scroll
+                        .saturating_add(10)
+                        .min(self.help_scroll_max.get())
+                }
                 Action::PageUp => self.help_scroll = self.help_scroll.saturating_sub(10),
                 Action::Home => self.help_scroll = 0,
                 _ => {}
@@ -713,6 +724,7 @@ impl App {
                     history,
                     section,
                     scroll: 0,
+                    scroll_max: std::cell::Cell::new(u16::MAX),
                 });
                 if self.screen() != Screen::Incident {
                     self.stack.push(Screen::Incident);
@@ -747,12 +759,16 @@ impl App {
                 state.section = state.section.prev();
                 state.scroll = 0;
             }
-            Action::Down | Action::ScrollDown => state.scroll = state.scroll.saturating_add(1),
+            Action::Down | Action::ScrollDown => {
+                state.scroll = state.scroll.saturating_add(1).min(state.scroll_max.get())
+            }
             Action::Up | Action::ScrollUp => state.scroll = state.scroll.saturating_sub(1),
-            Action::PageDown => state.scroll = state.scroll.saturating_add(10),
+            Action::PageDown => {
+                state.scroll = state.scroll.saturating_add(10).min(state.scroll_max.get())
+            }
             Action::PageUp => state.scroll = state.scroll.saturating_sub(10),
             Action::Home => state.scroll = 0,
-            Action::End => state.scroll = u16::MAX / 2,
+            Action::End => state.scroll = state.scroll_max.get().min(u16::MAX / 2),
             Action::Edit | Action::Confirm => {
                 let section = if state.section.editable() {
                     state.section

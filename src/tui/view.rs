@@ -197,9 +197,12 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         .border_style(th.focus_border)
         .title(" Help · ↑/↓ PgUp/PgDn scroll (cautions at the end) · Esc closes ");
     Clear.render(area, f.buffer_mut());
+    let inner_h = area.height.saturating_sub(2);
+    let max = widgets::wrapped_rows(&lines, area.width.saturating_sub(2)).saturating_sub(inner_h);
+    app.help_scroll_max.set(max);
     widgets::para(lines)
         .block(block)
-        .scroll((app.help_scroll, 0))
+        .scroll((app.help_scroll.min(max), 0))
         .render(area, f.buffer_mut());
 }
 

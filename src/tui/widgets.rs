@@ -395,6 +395,17 @@ pub fn footer_line(entries: &[(&str, &str)], width: u16, th: &Theme) -> Line<'st
     Line::from(spans)
 }
 
+/// How many rows `lines` take when wrapped at `width` (the same breaking as [`wrap`]; close
+/// to ratatui's word wrapping, used only to bound scrolling).
+pub fn wrapped_rows(lines: &[Line<'_>], width: u16) -> u16 {
+    let w = width.max(1) as usize;
+    let rows: usize = lines
+        .iter()
+        .map(|l| wrap(&l.to_string(), w).len().max(1))
+        .sum();
+    u16::try_from(rows).unwrap_or(u16::MAX)
+}
+
 /// A paragraph that wraps, for messages that must be read whole.
 pub fn para(lines: Vec<Line<'static>>) -> Paragraph<'static> {
     Paragraph::new(lines).wrap(ratatui::widgets::Wrap { trim: false })

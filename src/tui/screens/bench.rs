@@ -58,7 +58,8 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     );
     let inner = boxed(f, results, "Results (live) · PgUp/PgDn scroll", false, th);
     let lines = result_lines(app, th, inner.width);
-    let max_scroll = (lines.len() as u16).saturating_sub(inner.height);
+    let max_scroll = widgets::wrapped_rows(&lines, inner.width).saturating_sub(inner.height);
+    app.bench.scroll_max.set(max_scroll);
     widgets::para(lines)
         .scroll((app.bench.scroll.min(max_scroll), 0))
         .render(inner, f.buffer_mut());

@@ -51,7 +51,8 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         th.header,
     );
     let lines = section_lines(app, state, th);
-    let max = (lines.len() as u16).saturating_sub(content.height);
+    let max = widgets::wrapped_rows(&lines, content.width).saturating_sub(content.height);
+    state.scroll_max.set(max);
     widgets::para(lines)
         .scroll((state.scroll.min(max), 0))
         .render(content, f.buffer_mut());
