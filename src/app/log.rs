@@ -243,21 +243,26 @@ impl LogState {
         self.sort.descending = !self.sort.descending;
     }
 
-    /// Words for the status line: what is filtered.
-    pub fn filter_summary(&self) -> String {
+    /// Words for the status line: what is filtered (lookup codes shown by their labels).
+    pub fn filter_summary(&self, lists: &super::incident::Lists) -> String {
+        use crate::store::model::LookupKind;
         let f = &self.filter;
         let mut parts = Vec::new();
-        let mut add = |k: &str, v: &Option<String>| {
+        let mut add = |k: &str, v: &Option<String>, kind: Option<LookupKind>| {
             if let Some(v) = v {
-                parts.push(format!("{k} {v}"));
+                let shown = match kind {
+                    Some(kind) => lists.label(kind, v),
+                    None => v.clone(),
+                };
+                parts.push(format!("{k} {shown}"));
             }
         };
-        add("status", &f.status);
-        add("cause", &f.cause);
-        add("origin", &f.origin_type);
-        add("supplier", &f.supplier);
-        add("lot", &f.lot);
-        add("site", &f.site);
+        add("status", &f.status, Some(LookupKind::Status));
+        add("cause", &f.cause, Some(LookupKind::CauseCategory));
+        add("origin", &f.origin_type, Some(LookupKind::OriginType));
+        add("supplier", &f.supplier, None);
+        add("lot", &f.lot, None);
+        add("site", &f.site, None);
         if let Some(d) = f.since {
             parts.push(format!("since {d}"));
         }

@@ -328,7 +328,7 @@ impl App {
                     ),
                     (None, _) => String::new(),
                 };
-                let filt = self.log.filter_summary();
+                let filt = self.log.filter_summary(&self.lists);
                 let filt = if filt.is_empty() {
                     String::new()
                 } else {

@@ -133,7 +133,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
             Span::styled("  Enter search · Esc cancel", th.muted),
         ]),
         None => {
-            let filt = app.log.filter_summary();
+            let filt = app.log.filter_summary(&app.lists);
             if filt.is_empty() {
                 Line::styled(
                     " All incidents · / search · f filter · s sort · n new · ? help",
