@@ -461,6 +461,14 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
                     .unwrap_or_default()
             )?;
         }
+        if let Some(f) = &e.flaw {
+            if let Some(d) = &f.depth {
+                writeln!(out, "    flaw depth   {} {}", t(&d.display()), t(&f.shape))?;
+            }
+            if let Some(w) = &f.width {
+                writeln!(out, "    flaw width   {}", t(&w.display()))?;
+            }
+        }
         if let Some(res) = &e.result {
             writeln!(
                 out,

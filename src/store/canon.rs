@@ -98,22 +98,32 @@ fn write_float(f: f64, out: &mut String) {
 
 fn write_str(s: &str, out: &mut String) {
     out.push('"');
-    for c in s.chars() {
-        match c {
-            '"' => out.push_str("\\\""),
-            '\\' => out.push_str("\\\\"),
-            '\n' => out.push_str("\\n"),
-            '\r' => out.push_str("\\r"),
-            '\t' => out.push_str("\\t"),
-            '\u{8}' => out.push_str("\\b"),
-            '\u{c}' => out.push_str("\\f"),
-            c if (c as u32) < 0x20 => {
+    let bytes = s.as_bytes();
+    let mut start = 0;
+    for (i, &b) in bytes.iter().enumerate() {
+        let esc: Option<&str> = match b {
+            b'"' => Some("\\\""),
+            b'\\' => Some("\\\\"),
+            b'\n' => Some("\\n"),
+            b'\r' => Some("\\r"),
+            b'\t' => Some("\\t"),
+            0x08 => Some("\\b"),
+            0x0c => Some("\\f"),
+            0..=0x1f => None,
+            _ => continue,
+        };
+        // bytes below 0x80 are whole characters, so these slices fall on char boundaries
+        out.push_str(&s[start..i]);
+        match esc {
+            Some(e) => out.push_str(e),
+            None => {
                 use std::fmt::Write;
-                let _ = write!(out, "\\u{:04x}", c as u32);
+                let _ = write!(out, "\\u{:04x}", b);
             }
-            c => out.push(c),
         }
+        start = i + 1;
     }
+    out.push_str(&s[start..]);
     out.push('"');
 }
 
@@ -242,10 +252,10 @@ mod tests {
 
     #[test]
     fn keys_sorted_floats_as_bits() {
-        let v = json!({"b": 1, "a": 0.1, "c": [true, null, "x\"y"]});
+        let v = json!({"b": 1, "a": 0.1, "c": [true, null, "x\"y\\\n\u{1}é"]});
         assert_eq!(
             canonical_value(&v),
-            r#"{"a":"f64:3fb999999999999a","b":1,"c":[true,null,"x\"y"]}"#
+            r#"{"a":"f64:3fb999999999999a","b":1,"c":[true,null,"x\"y\\\n\u0001é"]}"#
         );
         let back = decanonical(&canonical_value(&v)).unwrap();
         assert_eq!(back, v);

@@ -10,7 +10,7 @@ use rusqlite::TransactionBehavior;
 use serde::{Deserialize, Serialize};
 use serde_json::Value;
 
-use super::audit::Chain;
+use super::audit::{Bulk, Chain, INCIDENT};
 use super::incidents::{self, format_reference, next_reference, reference_prefix};
 use super::model::*;
 use super::refdata::{self, fmt_date};
@@ -1077,6 +1077,7 @@ impl Store {
             );
             // fresh lookups for validation inside this transaction are not needed: checked above
             let mut day_counter: HashMap<NaiveDate, u32> = HashMap::new();
+            let mut bulk = Bulk::new(INCIDENT, self.ids.next_u64());
             for (i, inc) in doc.incidents.iter().enumerate() {
                 let mut inc = inc.clone();
                 if inc.revision < 1 {
@@ -1117,10 +1118,12 @@ impl Store {
                     options.strict,
                 )
                 .map_err(|x| (place(i), x))?;
-                incidents::insert_new(&tx, &mut chain, &inc, &refs, stamp, true)
+                incidents::insert_new(&tx, &mut chain, &inc, &refs, stamp, Some(&mut bulk))
                     .map_err(|x| (place(i), x))?;
                 summary.incidents += 1;
             }
+            bulk.flush(&tx, &mut chain, stamp)
+                .map_err(|e| ("audit".to_string(), e))?;
             chain.finish(&tx).map_err(|e| ("audit".to_string(), e))?;
             Ok(())
         })();
