@@ -837,7 +837,13 @@ impl App {
                 return;
             }
         }
-        edit.form.update(action);
+        let focus = edit.form.focus_key();
+        if edit.form.update(action) == form::FormEvent::Changed {
+            if let (Some(k @ ("supplier" | "product")), Some(store)) = (focus, self.store.as_ref())
+            {
+                narrow_glass_lists(&mut edit.form, store, k);
+            }
+        }
     }
 
     fn save_edit(&mut self) {
@@ -1105,6 +1111,39 @@ impl App {
                 self.info(msg);
             }
             Err(e) => self.error(format!("not saved: {e}; your readings are kept")),
+        }
+    }
+}
+
+/// After a supplier (or product) is chosen, the product and lot lists keep only what belongs
+/// to it (a new code keeps the full lists: it has nothing of its own yet).
+fn narrow_glass_lists(form: &mut Form, store: &Store, changed: &str) {
+    let supplier = form.text("supplier");
+    let product = form.text("product");
+    let sup = (!supplier.is_empty()).then_some(supplier.as_str());
+    if changed == "supplier" {
+        if let Ok(products) = store.products(sup) {
+            if !products.is_empty() {
+                let items = products
+                    .into_iter()
+                    .map(|p| PickItem::new(p.code.clone(), format!("{} ({})", p.name, p.code)))
+                    .collect();
+                if let Some(p) = form.pick_mut("product") {
+                    p.set_items(items);
+                }
+            }
+        }
+    }
+    let prod = (!product.is_empty()).then_some(product.as_str());
+    if let Ok(lots) = store.lots(sup, prod) {
+        if !lots.is_empty() {
+            let items = lots
+                .into_iter()
+                .map(|l| PickItem::new(l.code.clone(), format!("{} · {}", l.code, l.product)))
+                .collect();
+            if let Some(p) = form.pick_mut("lot") {
+                p.set_items(items);
+            }
         }
     }
 }
