@@ -144,17 +144,36 @@ fn first_frame_and_rss(db: &Path) -> (Duration, Option<u64>) {
 }
 
 fn keystrokes(db: &Path) {
+    let t = Instant::now();
     let store = Store::open_existing(db).expect("open");
+    let t_open = t.elapsed();
+    let t = Instant::now();
     let mut app = App::with_store(store, db).expect("app");
+    let t_app = t.elapsed();
     let mut term = match Terminal::new(TestBackend::new(100, 30)) {
         Ok(t) => t,
         Err(e) => match e {},
     };
+    let t = Instant::now();
     app.update(shardlog::app::Action::Resize {
         width: 100,
         height: 30,
     });
     let _ = term.draw(|f| shardlog::tui::view::draw(&app, f));
+    let t_draw = t.elapsed();
+    let t = Instant::now();
+    if app.after_draw() {
+        let _ = term.draw(|f| shardlog::tui::view::draw(&app, f));
+    }
+    let t_count = t.elapsed();
+    println!(
+        "  start-up in process: open store {}, lists + first page {}, resize + first frame {}, \
+         then the count + frame {}",
+        ms(t_open),
+        ms(t_app),
+        ms(t_draw),
+        ms(t_count)
+    );
     let plan: Vec<(&str, Vec<KeyCode>)> = vec![
         ("move ↓", vec![KeyCode::Down; 400]),
         ("page PgDn", vec![KeyCode::PageDown; 200]),
@@ -163,6 +182,7 @@ fn keystrokes(db: &Path) {
         ("sort change s", vec![KeyCode::Char('s'); 20]),
     ];
     let mut all = Vec::new();
+    let mut counts = Vec::new();
     for (name, keys) in plan {
         let mut times = Vec::with_capacity(keys.len());
         for k in keys {
@@ -170,6 +190,12 @@ fn keystrokes(db: &Path) {
             send(&mut app, &key(k));
             let _ = term.draw(|f| shardlog::tui::view::draw(&app, f));
             times.push(t.elapsed());
+            // the deferred count and the frame that shows it
+            let t = Instant::now();
+            if app.after_draw() {
+                let _ = term.draw(|f| shardlog::tui::view::draw(&app, f));
+                counts.push(t.elapsed());
+            }
         }
         times.sort();
         println!(
@@ -185,14 +211,19 @@ fn keystrokes(db: &Path) {
     let mut times = Vec::new();
     for status in ["closed", "reported", "examining", "closed", "reported"] {
         app.log.filter.status = Some(status.into());
-        let t = Instant::now();
-        send(&mut app, &key(KeyCode::Home));
-        let _ = term.draw(|f| shardlog::tui::view::draw(&app, f));
-        times.push(t.elapsed());
-        let t = Instant::now();
-        send(&mut app, &key(KeyCode::Char('x')));
-        let _ = term.draw(|f| shardlog::tui::view::draw(&app, f));
-        times.push(t.elapsed());
+        // a filter change is a reload, as the filter form's save does: with the status filter
+        // (S reverses the sort and reloads), then cleared (x)
+        for k in [KeyCode::Char('S'), KeyCode::Char('x')] {
+            let t = Instant::now();
+            send(&mut app, &key(k));
+            let _ = term.draw(|f| shardlog::tui::view::draw(&app, f));
+            times.push(t.elapsed());
+            let t = Instant::now();
+            if app.after_draw() {
+                let _ = term.draw(|f| shardlog::tui::view::draw(&app, f));
+                counts.push(t.elapsed());
+            }
+        }
     }
     times.sort();
     println!(
@@ -209,6 +240,13 @@ fn keystrokes(db: &Path) {
         "  all keystrokes    n={:<4} p95 {}",
         all.len(),
         ms(percentile(&all, 0.95))
+    );
+    counts.sort();
+    println!(
+        "  count of matches, drawn in the frame after (reloads only): n={} p50 {}  p95 {}",
+        counts.len(),
+        ms(percentile(&counts, 0.5)),
+        ms(percentile(&counts, 0.95))
     );
 }
 

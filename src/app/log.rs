@@ -25,6 +25,9 @@ pub struct LogState {
     next: Option<Cursor>,
     /// Matching incidents (counted when the filter or sort changes).
     pub total: Option<u64>,
+    /// The count is out of date: it is taken after the next frame is drawn, so a new page
+    /// never waits for a count over a large table.
+    pub count_pending: bool,
     /// Number of rows before the first shown row, when known (for "rows 41–60 of 1,000").
     pub offset: Option<u64>,
 }
@@ -88,22 +91,45 @@ impl LogState {
         Ok(true)
     }
 
-    /// Load the first page (after a filter, sort or size change).
+    /// Load the first page (after a filter, sort or size change); the count follows.
     pub fn reload(&mut self, store: &Store) -> Result<(), StoreError> {
         self.flipped = false;
         self.starts.clear();
         self.selected = 0;
         self.offset = Some(0);
-        self.fetch(store, None, true)?;
+        self.total = None;
+        self.fetch(store, None, false)?;
+        self.count_pending = true;
         Ok(())
     }
 
-    /// Reload the page being shown (after an edit), keeping the selection where possible.
+    /// Reload the page being shown (after an edit), keeping the selection where possible;
+    /// the count follows.
     pub fn refresh(&mut self, store: &Store) -> Result<(), StoreError> {
         let keep = self.selected;
         let start = self.current_start.clone();
-        self.fetch(store, start, true)?;
+        self.fetch(store, start, false)?;
         self.selected = keep.min(self.rows.len().saturating_sub(1));
+        self.count_pending = true;
+        Ok(())
+    }
+
+    /// Count the matching incidents (deferred work after a frame).
+    pub fn count(&mut self, store: &Store) -> Result<(), StoreError> {
+        let page = store.list(
+            &self.filter,
+            self.sort,
+            &PageRequest {
+                limit: 1,
+                after: None,
+                with_total: true,
+            },
+        )?;
+        self.total = page.total;
+        self.count_pending = false;
+        if self.flipped && self.starts.is_empty() {
+            self.offset = self.total.map(|t| t.saturating_sub(self.rows.len() as u64));
+        }
         Ok(())
     }
 
@@ -195,11 +221,13 @@ impl LogState {
         Ok(())
     }
 
-    /// The first page, first row.
+    /// The first page, first row (the count stays: nothing changed but the position).
     pub fn home(&mut self, store: &Store) -> Result<(), StoreError> {
-        let total = self.total;
-        self.reload(store)?;
-        self.total = total.or(self.total);
+        self.flipped = false;
+        self.starts.clear();
+        self.selected = 0;
+        self.offset = Some(0);
+        self.fetch(store, None, false)?;
         Ok(())
     }
 

@@ -317,7 +317,7 @@ impl App {
                 let total = match self.log.total {
                     Some(1) => "1 incident matches".to_string(),
                     Some(n) => format!("{} incidents match", group_thousands(n)),
-                    None => "incidents".to_string(),
+                    None => "counting…".to_string(),
                 };
                 let rows = match (self.log.offset, self.log.rows.len()) {
                     (_, 0) => String::new(),
@@ -390,6 +390,22 @@ impl App {
 
     fn stamp(&self) -> Stamp {
         Stamp::new(self.actor.clone(), chrono::Utc::now())
+    }
+
+    /// Work left for after a frame is drawn (the log's count over a large table). Returns
+    /// true when the screen should be drawn again.
+    pub fn after_draw(&mut self) -> bool {
+        if !self.log.count_pending {
+            return false;
+        }
+        let Some(store) = self.store.as_ref() else {
+            self.log.count_pending = false;
+            return false;
+        };
+        let r = self.log.count(store);
+        self.log.count_pending = false;
+        self.report(r);
+        true
     }
 
     /// Apply one action.

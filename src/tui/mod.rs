@@ -63,6 +63,9 @@ where
         height: size.height,
     });
     terminal.draw(|f| view::draw(app, f))?;
+    if app.after_draw() {
+        terminal.draw(|f| view::draw(app, f))?;
+    }
     // debug builds only: lets the pseudo-terminal test check the panic path restores the
     // terminal (release builds never read this)
     if cfg!(debug_assertions) && std::env::var_os("SHARDLOG_TEST_PANIC_AFTER_FIRST_FRAME").is_some()
@@ -79,6 +82,9 @@ where
             break;
         }
         terminal.draw(|f| view::draw(app, f))?;
+        if app.after_draw() {
+            terminal.draw(|f| view::draw(app, f))?;
+        }
     }
     Ok(())
 }
@@ -154,7 +160,11 @@ pub mod harness {
             Ok(t) => t,
             Err(e) => match e {},
         };
+        // as the event loop does: a frame, the deferred work, the frame after it
         let _ = term.draw(|f| super::view::draw(app, f));
+        if app.after_draw() {
+            let _ = term.draw(|f| super::view::draw(app, f));
+        }
         let buf = term.backend().buffer();
         (0..h)
             .map(|y| {
