@@ -399,3 +399,63 @@ fn every_screen_survives_tiny_sizes() {
         render(&mut app, s.0, s.1);
     }
 }
+
+#[test]
+fn a_chosen_supplier_narrows_products_and_lots() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("narrow.db");
+    let mut store = Store::open(&path).unwrap();
+    for (sup, prod, lot) in [
+        ("ALDERGLAS", "AG-SW5", "AG-L1"),
+        ("BIRCHPANE", "BP-SW6", "BP-L7"),
+    ] {
+        let mut d = Incident::draft(NaiveDate::from_ymd_opt(2027, 2, 1).unwrap());
+        d.glass = Glass {
+            supplier: Some(sup.into()),
+            product: Some(prod.into()),
+            lot: Some(lot.into()),
+            makeup: "monolithic".into(),
+            ..Glass::default()
+        };
+        store.create_incident(&d, &stamp()).unwrap();
+    }
+    let mut app = App::with_store(store, &path).unwrap();
+    render(&mut app, 100, 30);
+    send(&mut app, &key(KeyCode::Char('n')));
+    app.edit.as_mut().unwrap().form.set_focus("supplier");
+    type_str(&mut app, "birch\n");
+    let form = &app.edit.as_ref().unwrap().form;
+    assert_eq!(form.text("supplier"), "BIRCHPANE");
+    let products: Vec<&str> = form
+        .pick("product")
+        .unwrap()
+        .items()
+        .iter()
+        .map(|i| i.code.as_str())
+        .collect();
+    assert_eq!(products, vec!["BP-SW6"]);
+    type_str(&mut app, "\n"); // take the only product
+    let form = &app.edit.as_ref().unwrap().form;
+    let lots: Vec<&str> = form
+        .pick("lot")
+        .unwrap()
+        .items()
+        .iter()
+        .map(|i| i.code.as_str())
+        .collect();
+    assert_eq!(lots, vec!["BP-L7"]);
+}
+
+#[test]
+fn leaving_the_bench_with_unsaved_readings_asks_first() {
+    let (_f, mut app) = fixture(1);
+    open_first(&mut app);
+    send(&mut app, &key(KeyCode::Char('b')));
+    app.bench.form.set_focus("r_mist");
+    type_str(&mut app, "1.1 mm");
+    send(&mut app, &key(KeyCode::Esc));
+    assert!(app.prompt.is_some(), "asks before dropping readings");
+    send(&mut app, &key(KeyCode::Esc)); // no: stay
+    assert_eq!(app.screen(), Screen::Bench);
+    assert_eq!(app.bench.form.text("r_mist"), "1.1 mm");
+}
