@@ -193,22 +193,6 @@ pub static TABLE: &[Binding] = &[
         footer: false,
     },
     Binding {
-        ctxs: &[Global],
-        keys: &[k(KeyCode::Left), c('h')],
-        label: "←/h",
-        desc: "move left",
-        action: Action::Left,
-        footer: false,
-    },
-    Binding {
-        ctxs: &[Global],
-        keys: &[k(KeyCode::Right), c('l')],
-        label: "→/l",
-        desc: "move right",
-        action: Action::Right,
-        footer: false,
-    },
-    Binding {
         ctxs: LISTS,
         keys: &[k(KeyCode::PageUp)],
         label: "PgUp",
@@ -243,8 +227,8 @@ pub static TABLE: &[Binding] = &[
     // --- the log ---
     Binding {
         ctxs: &[Log],
-        keys: &[k(KeyCode::Enter)],
-        label: "Enter",
+        keys: &[k(KeyCode::Enter), k(KeyCode::Right), c('l')],
+        label: "Enter/→",
         desc: "open the incident",
         action: Action::Confirm,
         footer: true,
@@ -317,7 +301,7 @@ pub static TABLE: &[Binding] = &[
     // --- one incident ---
     Binding {
         ctxs: &[Incident],
-        keys: &[k(KeyCode::Tab)],
+        keys: &[k(KeyCode::Tab), k(KeyCode::Right), c('l')],
         label: "Tab/→",
         desc: "next section",
         action: Action::NextSection,
@@ -325,7 +309,7 @@ pub static TABLE: &[Binding] = &[
     },
     Binding {
         ctxs: &[Incident],
-        keys: &[k(KeyCode::BackTab)],
+        keys: &[k(KeyCode::BackTab), k(KeyCode::Left), c('h')],
         label: "S-Tab/←",
         desc: "previous section",
         action: Action::PrevSection,
@@ -459,13 +443,21 @@ pub fn action_for(ctx: Ctx, ev: &KeyEvent) -> Option<Action> {
 pub fn bindings_for(ctx: Ctx) -> Vec<&'static Binding> {
     let mut out: Vec<&'static Binding> = TABLE.iter().filter(|b| b.ctxs.contains(&ctx)).collect();
     if ctx.has_global() && ctx != Ctx::Global {
-        out.extend(
-            TABLE
-                .iter()
-                .filter(|b| b.ctxs.contains(&Ctx::Global) && !b.ctxs.contains(&ctx)),
-        );
+        // shared keys, unless this screen gives every one of their keys another meaning
+        let shadowed = |k: &K| out_keys(ctx).contains(k);
+        out.extend(TABLE.iter().filter(|b| {
+            b.ctxs.contains(&Ctx::Global) && !b.ctxs.contains(&ctx) && !b.keys.iter().all(shadowed)
+        }));
     }
     out
+}
+
+fn out_keys(ctx: Ctx) -> Vec<K> {
+    TABLE
+        .iter()
+        .filter(|b| b.ctxs.contains(&ctx))
+        .flat_map(|b| b.keys.iter().copied())
+        .collect()
 }
 
 /// The footer entries for `ctx`.

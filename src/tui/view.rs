@@ -175,7 +175,7 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
             Span::raw(b.desc),
         ]));
     }
-    if ctx == Ctx::Global {
+    if ctx.has_global() {
         let (k, d) = keys::MOUSE_HELP;
         lines.push(Line::from(vec![
             Span::styled(widgets::pad(k, kw), th.focus_label),
