@@ -159,16 +159,28 @@ impl Form {
         }
     }
 
+    /// Leaving a pick-list with text typed into it takes the highlighted match (or, on an
+    /// open-ended list, the typed text as a new entry), as Enter would: Tab never throws away
+    /// what the user typed.
+    fn take_typed_pick(&mut self) -> bool {
+        match self.items.get_mut(self.focus) {
+            Some(FormItem::Pick(p)) if !p.filter().trim().is_empty() => p.confirm(),
+            _ => false,
+        }
+    }
+
     /// Apply a navigation or typing action to the focused item.
     pub fn update(&mut self, action: Action) -> FormEvent {
         match action {
             Action::NextField => {
+                let changed = self.take_typed_pick();
                 self.next();
-                FormEvent::Moved
+                moved_or_changed(changed)
             }
             Action::PrevField => {
+                let changed = self.take_typed_pick();
                 self.prev();
-                FormEvent::Moved
+                moved_or_changed(changed)
             }
             Action::Up => match self.items.get_mut(self.focus) {
                 Some(FormItem::Pick(p)) => {
@@ -244,5 +256,60 @@ impl Form {
             },
             _ => FormEvent::None,
         }
+    }
+}
+
+fn moved_or_changed(changed: bool) -> FormEvent {
+    if changed {
+        FormEvent::Changed
+    } else {
+        FormEvent::Moved
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::app::picklist::{PickItem, PickList};
+
+    fn typed(form: &mut Form, text: &str) {
+        for c in text.chars() {
+            form.update(Action::Input(crate::app::Input {
+                key: crate::app::Key::Char(c),
+                ..Default::default()
+            }));
+        }
+    }
+
+    #[test]
+    fn tab_out_of_a_pick_list_keeps_the_typed_choice() {
+        let assets = PickList::new(
+            "asset",
+            "Asset",
+            vec![
+                PickItem::new("car 213", "car 213"),
+                PickItem::new("car 214", "car 214"),
+            ],
+        )
+        .open_ended();
+        let site = PickList::new("site", "Site", vec![PickItem::new("DEP", "depot")]);
+        let mut form = Form::new(vec![FormItem::Pick(assets), FormItem::Pick(site)]);
+        typed(&mut form, "214");
+        assert_eq!(form.update(Action::NextField), FormEvent::Changed);
+        assert_eq!(
+            form.pick("asset").and_then(|p| p.chosen_code()),
+            Some("car 214")
+        );
+        // a code nobody has yet is taken as new on an open-ended list
+        form.update(Action::PrevField);
+        typed(&mut form, "car 999");
+        form.update(Action::NextField);
+        assert_eq!(
+            form.pick("asset").and_then(|p| p.chosen_code()),
+            Some("car 999")
+        );
+        // Tab with nothing typed changes nothing
+        assert_eq!(form.update(Action::NextField), FormEvent::Moved);
+        assert_eq!(form.pick("site").and_then(|p| p.chosen_code()), None);
     }
 }
