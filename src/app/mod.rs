@@ -7,6 +7,7 @@
 pub mod bench;
 pub mod field;
 pub mod form;
+pub mod hypothesis;
 pub mod incident;
 pub mod log;
 pub mod picklist;
@@ -108,6 +109,8 @@ pub enum Action {
     Attach,
     Yes,
     No,
+    /// Bench: move to the load hypothesis inputs (again: back to the readings).
+    JumpHypothesis,
     /// A key for the focused text input.
     Input(Input),
     /// Pasted text for the focused text input.
