@@ -60,7 +60,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     // room; otherwise its lines are in the results pane only
     let results = match &app.bench.hypothesis {
         Some(h)
-            if results.height >= 8 + super::hypothesis::PANEL_MIN_ROWS && results.width >= 34 =>
+            if results.height >= 6 + super::hypothesis::PANEL_MIN_ROWS && results.width >= 34 =>
         {
             let panel_h = (results.height * 3 / 5).clamp(super::hypothesis::PANEL_MIN_ROWS, 22);
             let [r, p] =

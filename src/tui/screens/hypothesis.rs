@@ -74,11 +74,7 @@ fn short_verdict(c: &Check, th: &Theme) -> Line<'static> {
         Some(Ok(v)) => Line::from(vec![
             Span::styled("Verdict: ", th.label),
             Span::styled(
-                format!(
-                    "{}, ×{} the measured stress",
-                    v.finding.label(),
-                    fmt_sig(v.ratio, 3)
-                ),
+                format!("{} ×{} of measured", v.finding.label(), fmt_sig(v.ratio, 3)),
                 finding_style(v.finding, th),
             ),
         ]),
@@ -175,22 +171,36 @@ pub fn draw_panel(
     let text: Vec<Line<'static>> = match h {
         Err(e) => vec![Line::styled(format!("✗ {}", clean(e)), th.error)],
         Ok(c) => {
-            let mut t = vec![figures(c, th), short_verdict(c, th)];
-            match &c.chart {
-                Ok(k) => t.push(Line::styled(
-                    match k.measured_flaw_m {
-                        Some(m) => format!(
-                            "K(a) log a · critical {} · measured flaw {} │",
-                            length(k.curve.critical_size),
-                            length(m)
-                        ),
-                        None => format!(
-                            "K(a) log a · critical {} · no measured flaw typed",
-                            length(k.curve.critical_size)
-                        ),
-                    },
-                    th.muted,
+            let mut spans = Vec::new();
+            match (c.outcome.stress, c.outcome.force) {
+                (Some(s), _) => spans.push(Span::styled(format!("σ {}", mpa(s)), th.figure)),
+                (None, Some(fo)) => spans.push(Span::styled(
+                    format!("F {}", format(fo, Unit::Newton)),
+                    th.figure,
                 )),
+                (None, None) => spans.push(Span::styled("—", th.muted)),
+            }
+            spans.push(Span::styled(" hypothesis", th.label));
+            if let Some(m) = &c.measured {
+                spans.push(Span::styled(" · ", th.label));
+                spans.push(Span::styled(mpa(m.stress), th.figure));
+                spans.push(Span::styled(" measured", th.label));
+            }
+            let mut t = vec![Line::from(spans), short_verdict(c, th)];
+            match &c.chart {
+                Ok(k) => {
+                    let mut l = vec![
+                        Span::styled("K(a) ", th.label),
+                        Span::styled("━hyp ", th.figure),
+                        Span::styled("━meas ", th.muted),
+                        Span::styled("━K_Ic ", th.error),
+                    ];
+                    if k.measured_flaw_m.is_some() {
+                        l.push(Span::styled("│flaw ", th.warning));
+                    }
+                    l.push(Span::styled("•mirror a", th.ok));
+                    t.push(Line::from(l));
+                }
                 Err(e) => t.push(Line::styled(format!("K(a): {}", clean(e)), th.muted)),
             }
             t
@@ -208,7 +218,7 @@ pub fn draw_panel(
         ..area
     };
     if let Ok(Check { chart: Ok(k), .. }) = h {
-        if chart_area.height >= 7 && chart_area.width >= 30 {
+        if chart_area.height >= 6 && chart_area.width >= 30 {
             draw_chart(buf, chart_area, k, th);
         }
     }
