@@ -176,7 +176,6 @@ pub fn swap_inputs(form: &mut Form, kind: &str, stash: &mut HashMap<&'static str
     let Some(at) = form.items.iter().position(|i| i.key() == "hypothesis") else {
         return;
     };
-    let dirty_before = form.is_dirty();
     let mut kept = Vec::new();
     for item in form.items.drain(..) {
         if INPUT_KEYS.contains(&item.key()) {
@@ -215,7 +214,6 @@ pub fn swap_inputs(form: &mut Form, kind: &str, stash: &mut HashMap<&'static str
     kept.extend(tail);
     form.items = kept;
     form.focus = form.focus.min(form.items.len().saturating_sub(1));
-    let _ = dirty_before;
 }
 
 /// The K(a) chart's figures.
@@ -464,7 +462,7 @@ fn k_chart(stress: f64, a: &Analysis) -> Result<KChart, String> {
         return Err("K(a) needs a toughness K_Ic for the material".to_string());
     };
     let net = stress + a.residual.at_origin_pa;
-    if !(net > 0.0) {
+    if !net.is_finite() || net <= 0.0 {
         return Err(
             "the hypothesis does not overcome the surface compression at the origin".into(),
         );

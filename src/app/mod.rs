@@ -1113,6 +1113,23 @@ impl App {
                 }),
             );
         }
+        if let (Some(Ok(c)), serde_json::Value::Object(map)) =
+            (&self.bench.hypothesis, &mut result.analysis)
+        {
+            map.insert(
+                "load_hypothesis".to_string(),
+                serde_json::json!({
+                    "kind": c.kind,
+                    "inputs": c.summary,
+                    "method": c.outcome.method,
+                    "force_n": c.outcome.force,
+                    "stress_pa": c.outcome.stress,
+                    "deflection_m": c.outcome.deflection,
+                    "warnings": c.outcome.warnings.iter().map(|w| w.message.clone()).collect::<Vec<_>>(),
+                    "verdict": c.verdict.as_ref().and_then(|v| v.as_ref().ok()).map(|v| v.explanation.clone()),
+                }),
+            );
+        }
         exam.result = Some(result);
         match store.put_examination(&target.id, target.revision, &exam, &stamp) {
             Ok(saved) => {

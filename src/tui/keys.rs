@@ -162,7 +162,7 @@ pub static TABLE: &[Binding] = &[
         ctxs: TEXT,
         keys: &[k(KeyCode::F(2))],
         label: "F2",
-        desc: "hypothesis (bench): jump to the load hypothesis inputs, again back to the readings",
+        desc: "hypothesis (bench): go to its inputs, again to the readings",
         action: Action::JumpHypothesis,
         footer: true,
     },

@@ -240,7 +240,7 @@ pub fn draw_chart(buf: &mut ratatui::buffer::Buffer, area: Rect, k: &KChart, th:
     };
     let x0 = lg(first.flaw_size);
     let x1 = lg(last.flaw_size);
-    if !(x1 > x0) || !(k.k_ic > 0.0) {
+    if !x0.is_finite() || !x1.is_finite() || x1 <= x0 || !k.k_ic.is_finite() || k.k_ic <= 0.0 {
         return;
     }
     let kic = k.k_ic / 1e6;
