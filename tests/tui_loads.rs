@@ -143,6 +143,11 @@ fn impulse_gives_a_force_and_says_there_is_no_verdict() {
         "{screen}"
     );
     assert!(screen.contains("force only"), "{screen}");
+    // the force carries over as the patch load of a plate, where it gets a stress
+    choose(&mut app, "patch");
+    let carried = app.bench.form.field("h_force").unwrap().quantity().unwrap();
+    let f = expected.force.unwrap();
+    assert!((carried - f).abs() < 1e-3 * f, "{carried} vs {f}");
 }
 
 #[test]

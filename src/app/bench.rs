@@ -268,6 +268,21 @@ impl BenchState {
                 if ev == FormEvent::Changed {
                     let kind = self.form.text("hypothesis");
                     if !kind.is_empty() && kind != self.hypothesis_kind {
+                        // an impulse force carries over as the patch load, unless one is typed
+                        if let (Some(Ok(c)), "plate-patch") = (&self.hypothesis, kind.as_str()) {
+                            let typed = self
+                                .hypothesis_stash
+                                .get("h_force")
+                                .is_some_and(|t| !t.trim().is_empty());
+                            if let (Some(force), false, "impulse") =
+                                (c.outcome.force, typed, c.kind)
+                            {
+                                self.hypothesis_stash.insert(
+                                    "h_force",
+                                    crate::units::format_sig(force, crate::units::Unit::Newton, 4),
+                                );
+                            }
+                        }
                         super::hypothesis::swap_inputs(
                             &mut self.form,
                             &kind,

@@ -443,7 +443,7 @@ fn judge(
         None => Err("no measured stress yet: type mirror readings".to_string()),
     });
     let chart = match (outcome.stress, analysis) {
-        (None, _) => Err("a force only: no stress to draw K(a) for".to_string()),
+        (None, _) => Err("needs a stress".to_string()),
         (Some(_), None) => Err("K(a) needs the mirror readings".to_string()),
         (Some(s), Some(a)) => k_chart(s, a),
     };

@@ -62,7 +62,11 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         Some(h)
             if results.height >= 6 + super::hypothesis::PANEL_MIN_ROWS && results.width >= 34 =>
         {
-            let panel_h = (results.height * 3 / 5).clamp(super::hypothesis::PANEL_MIN_ROWS, 22);
+            let mut panel_h = (results.height * 3 / 5).clamp(super::hypothesis::PANEL_MIN_ROWS, 22);
+            if !matches!(h, Ok(c) if c.chart.is_ok()) {
+                // no chart to draw: the panel holds its few lines only
+                panel_h = 6;
+            }
             let [r, p] =
                 Layout::vertical([Constraint::Fill(1), Constraint::Length(panel_h)]).areas(results);
             let inner = boxed(f, p, "Load hypothesis · F2 inputs", false, th);

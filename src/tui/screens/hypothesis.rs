@@ -79,10 +79,7 @@ fn short_verdict(c: &Check, th: &Theme) -> Line<'static> {
             ),
         ]),
         Some(Err(e)) => Line::styled(format!("Verdict: ✗ {}", clean(e)), th.error),
-        None => Line::styled(
-            "Verdict: none (a force only; try a plate under a patch load with it)",
-            th.muted,
-        ),
+        None => Line::styled("No verdict: a force only → try patch load", th.muted),
     }
 }
 
@@ -126,7 +123,7 @@ pub fn detail_lines(h: &Result<Check, String>, th: &Theme) -> Vec<Line<'static>>
         Some(Err(e)) => v.push(Line::styled(format!("  ✗ {}", clean(e)), th.error)),
         None => v.push(Line::styled(
             "  no verdict: the impulse model gives a force only; pick \"plate under a central \
-             patch load\" and type this force to get a stress",
+             patch load\" (F2) and this force carries over as its patch load",
             th.muted,
         )),
     }
