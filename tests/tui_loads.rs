@@ -349,3 +349,54 @@ fn no_size_panics_with_the_panel_and_chart() {
         render(&mut app, w, h);
     }
 }
+
+#[test]
+fn saving_into_an_incident_keeps_the_hypothesis() {
+    use shardlog::app::Screen;
+    use shardlog::store::model::{Incident, Stamp};
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("loads.db");
+    let mut store = shardlog::store::Store::open(&path).unwrap();
+    let stamp = Stamp::new(
+        "test-analyst",
+        chrono::TimeZone::with_ymd_and_hms(&chrono::Utc, 2027, 3, 14, 9, 10, 0).unwrap(),
+    );
+    let day = chrono::NaiveDate::from_ymd_opt(2027, 3, 1).unwrap();
+    store
+        .create_incident(&Incident::draft(day), &stamp)
+        .unwrap();
+    let mut app = App::with_store(store, &path).unwrap();
+    render(&mut app, 100, 30);
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Incident);
+    send(&mut app, &key(KeyCode::Char('b')));
+    assert_eq!(app.screen(), Screen::Bench);
+    focus(&mut app, "r_mist");
+    type_str(&mut app, "1 mm");
+    focus(&mut app, "thickness");
+    type_str(&mut app, "6 mm");
+    choose(&mut app, "pressure");
+    focus(&mut app, "h_span");
+    type_str(&mut app, "600 mm");
+    send(&mut app, &key(KeyCode::Tab));
+    type_str(&mut app, "900 mm");
+    send(&mut app, &key(KeyCode::Tab));
+    type_str(&mut app, "10 kPa");
+    let stress = check(&app).outcome.stress.unwrap();
+    send(
+        &mut app,
+        &ratatui::crossterm::event::Event::Key(ratatui::crossterm::event::KeyEvent::new(
+            KeyCode::Char('s'),
+            ratatui::crossterm::event::KeyModifiers::CONTROL,
+        )),
+    );
+    let msg = app.message.clone().unwrap();
+    assert!(!msg.error, "{}", msg.text);
+    send(&mut app, &key(KeyCode::Esc));
+    let inc = &app.incident.as_ref().unwrap().incident;
+    let (_, result) = inc.current_result().expect("result saved");
+    let h = &result.analysis["load_hypothesis"];
+    assert_eq!(h["kind"], "plate-pressure");
+    assert_eq!(h["stress_pa"].as_f64(), Some(stress));
+    assert!(h["verdict"].as_str().is_some(), "{h}");
+}
