@@ -440,11 +440,11 @@ fn judge(
     });
     let verdict = outcome.stress.map(|s| match &measured {
         Some(m) => verdict::judge(m, s, None).map_err(|e| e.to_string()),
-        None => Err("no measured stress yet: type mirror readings".to_string()),
+        None => Err("no measured stress yet (see the results)".to_string()),
     });
     let chart = match (outcome.stress, analysis) {
         (None, _) => Err("needs a stress".to_string()),
-        (Some(_), None) => Err("K(a) needs the mirror readings".to_string()),
+        (Some(_), None) => Err("needs the measured stress".to_string()),
         (Some(s), Some(a)) => k_chart(s, a),
     };
     Check {
@@ -459,7 +459,7 @@ fn judge(
 
 fn k_chart(stress: f64, a: &Analysis) -> Result<KChart, String> {
     let Some(fl) = &a.flaw else {
-        return Err("K(a) needs a toughness K_Ic for the material".to_string());
+        return Err("needs a toughness K_Ic for the material".to_string());
     };
     let net = stress + a.residual.at_origin_pa;
     if !net.is_finite() || net <= 0.0 {
