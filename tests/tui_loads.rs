@@ -400,3 +400,45 @@ fn saving_into_an_incident_keeps_the_hypothesis() {
     assert_eq!(h["stress_pa"].as_f64(), Some(stress));
     assert!(h["verdict"].as_str().is_some(), "{h}");
 }
+
+#[test]
+fn sphere_impact_gives_the_hertz_rim_tension() {
+    let mut app = with_readings();
+    choose(&mut app, "sphere");
+    assert_eq!(app.bench.form.focus_key(), Some("h_impactor"));
+    send(&mut app, &key(KeyCode::Enter)); // steel, the default
+    type_str(&mut app, "75 mm");
+    send(&mut app, &key(KeyCode::Tab));
+    type_str(&mut app, "1.8 kg");
+    send(&mut app, &key(KeyCode::Tab));
+    type_str(&mut app, "11.6 m/s");
+    let m = soda_lime();
+    let steel = loads::contact::find_impactor("steel").unwrap();
+    let expected = loads::evaluate(&Hypothesis::Sphere(loads::contact::SphereImpact {
+        sphere_diameter: 0.075,
+        sphere: steel.elastic,
+        sphere_density: steel.density,
+        mass: Some(1.8),
+        speed: 11.6,
+        target: loads::Elastic {
+            youngs_modulus: m.youngs_modulus.as_ref().unwrap().value,
+            poisson: m.poisson.as_ref().unwrap().value,
+        },
+        thickness: 0.006,
+    }))
+    .unwrap();
+    let c = check(&app);
+    assert_eq!(c.kind, "sphere");
+    assert_eq!(c.outcome.stress, expected.stress);
+    assert_eq!(c.outcome.force, expected.force);
+    let want = verdict::judge(&measured(&app), expected.stress.unwrap(), None).unwrap();
+    assert_eq!(
+        c.verdict.as_ref().unwrap().as_ref().unwrap().finding,
+        want.finding
+    );
+    let screen = text(&mut app, 100, 30);
+    assert!(
+        screen.contains(&format(expected.stress.unwrap(), Unit::Megapascal)),
+        "{screen}"
+    );
+}

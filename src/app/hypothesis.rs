@@ -22,6 +22,7 @@ pub const KINDS: &[(&str, &str)] = &[
     ("impulse", "blunt impact (impulse, force only)"),
     ("plate-pressure", "plate under uniform pressure"),
     ("plate-patch", "plate under a central patch load"),
+    ("sphere", "sphere impact (Hertz contact)"),
 ];
 
 /// Keys of every hypothesis input (the form holds those of the chosen kind only).
@@ -39,6 +40,8 @@ pub const INPUT_KEYS: &[&str] = &[
     "h_pressure",
     "h_force",
     "h_patch",
+    "h_impactor",
+    "h_sphere_d",
 ];
 
 /// The pick-list that chooses the kind.
@@ -131,6 +134,38 @@ pub fn inputs(kind: &str) -> Vec<FormItem> {
                 FieldKind::Float { optional: true },
             )
             .with_hint("1 (rebounds), 0 (stops)")),
+        ],
+        "sphere" => vec![
+            FormItem::Pick(
+                PickList::new(
+                    "h_impactor",
+                    "Sphere of",
+                    crate::loads::contact::IMPACTORS
+                        .iter()
+                        .map(|i| PickItem::new(i.key, i.name))
+                        .collect(),
+                )
+                .required()
+                .with_choice("steel"),
+            ),
+            f(quantity(
+                "h_sphere_d",
+                "Sphere diam.",
+                Dimension::Length,
+                "e.g. 75 mm",
+            )),
+            f(quantity(
+                "h_mass",
+                "Mass",
+                Dimension::Mass,
+                "solid sphere if empty",
+            )),
+            f(quantity(
+                "h_speed",
+                "Speed",
+                Dimension::Speed,
+                "e.g. 11.6 m/s",
+            )),
         ],
         "plate-pressure" => plate(vec![f(quantity(
             "h_pressure",
@@ -278,6 +313,7 @@ pub fn check(form: &Form, analysis: Option<&Analysis>) -> Option<Result<Check, S
         "impulse" => vec!["h_mass", "h_speed", "h_time"],
         "plate-pressure" => vec!["h_span", "h_span_b", "h_pressure"],
         "plate-patch" => vec!["h_span", "h_span_b", "h_force", "h_patch"],
+        "sphere" => vec!["h_sphere_d", "h_speed"],
         _ => vec!["delta_t"],
     };
     if typed.iter().all(|k| form.text(k).is_empty()) {
@@ -335,6 +371,37 @@ fn build(form: &Form, kind: &str) -> Result<(Hypothesis, String), String> {
                     format(speed, Unit::MetrePerSecond),
                     format(time, Unit::Millisecond),
                     crate::units::fmt_sig(e, 2)
+                ),
+            ))
+        }
+        "sphere" => {
+            let (_, target) = elastic(form)?;
+            let imp = crate::loads::contact::find_impactor(&form.text("h_impactor"))
+                .ok_or_else(|| "Sphere of: pick a material from the list".to_string())?;
+            let d = need(form, "h_sphere_d")?;
+            let mass = value(form, "h_mass")?;
+            let speed = need(form, "h_speed")?;
+            let thickness = value(form, "thickness")?.ok_or_else(|| {
+                "Thickness: type the pane's thickness (above) for a sphere impact".to_string()
+            })?;
+            let m = mass
+                .map(|m| format!(", {}", format(m, Unit::Kilogram)))
+                .unwrap_or_default();
+            Ok((
+                Hypothesis::Sphere(crate::loads::contact::SphereImpact {
+                    sphere_diameter: d,
+                    sphere: imp.elastic,
+                    sphere_density: imp.density,
+                    mass,
+                    speed,
+                    target,
+                    thickness,
+                }),
+                format!(
+                    "{} sphere ⌀ {}{m} at {}",
+                    imp.name,
+                    format(d, Unit::Millimetre),
+                    format(speed, Unit::MetrePerSecond)
                 ),
             ))
         }
