@@ -58,6 +58,12 @@ pub struct BenchState {
     pub outcome: Outcome,
     /// The thermal hypothesis, when a ΔT is typed (or why it cannot be evaluated).
     pub thermal: Option<Result<ThermalCheck, String>>,
+    /// The load hypothesis of any kind (thermal included), when its inputs are typed.
+    pub hypothesis: Option<Result<super::hypothesis::Check, String>>,
+    /// The kind whose inputs are in the form.
+    pub hypothesis_kind: String,
+    /// Text typed for the kinds not shown, kept for when they are picked again.
+    pub hypothesis_stash: std::collections::HashMap<&'static str, String>,
     /// First line of the results pane shown (PgUp/PgDn, mouse wheel).
     pub scroll: u16,
     /// The largest useful `scroll`, as the last frame measured it (the view sets it; the
@@ -172,18 +178,10 @@ impl BenchState {
             )
             .with_choice("surface"),
         );
-        form.push_field(
-            Field::new(
-                "delta_t",
-                "Thermal ΔT",
-                FieldKind::Quantity {
-                    dim: Dimension::TemperatureDifference,
-                    positive: true,
-                    optional: true,
-                },
-            )
-            .with_hint("hypothesis, e.g. 30 K"),
-        );
+        form.push_pick(super::hypothesis::kind_pick());
+        for item in super::hypothesis::inputs("thermal") {
+            form.items.push(item);
+        }
         form.push_pick(
             PickList::new(
                 "geometry",
@@ -232,6 +230,9 @@ impl BenchState {
             form,
             outcome: Outcome::Waiting,
             thermal: None,
+            hypothesis: None,
+            hypothesis_kind: "thermal".to_string(),
+            hypothesis_stash: std::collections::HashMap::new(),
             scroll: 0,
             scroll_max: std::cell::Cell::new(u16::MAX),
         };
@@ -253,9 +254,42 @@ impl BenchState {
                 let step = if action == Action::PageUp { 8 } else { 2 };
                 self.scroll = self.scroll.saturating_sub(step);
             }
+            Action::JumpHypothesis => {
+                if self.form.focus_key().is_some_and(|k| {
+                    k == "hypothesis" || super::hypothesis::INPUT_KEYS.contains(&k)
+                }) {
+                    self.form.set_focus("r_mist");
+                } else {
+                    self.form.set_focus("hypothesis");
+                }
+            }
             other => {
                 let ev = self.form.update(other);
                 if ev == FormEvent::Changed {
+                    let kind = self.form.text("hypothesis");
+                    if !kind.is_empty() && kind != self.hypothesis_kind {
+                        // an impulse force carries over as the patch load, unless one is typed
+                        if let (Some(Ok(c)), "plate-patch") = (&self.hypothesis, kind.as_str()) {
+                            let typed = self
+                                .hypothesis_stash
+                                .get("h_force")
+                                .is_some_and(|t| !t.trim().is_empty());
+                            if let (Some(force), false, "impulse") =
+                                (c.outcome.force, typed, c.kind)
+                            {
+                                self.hypothesis_stash.insert(
+                                    "h_force",
+                                    crate::units::format_sig(force, crate::units::Unit::Newton, 4),
+                                );
+                            }
+                        }
+                        super::hypothesis::swap_inputs(
+                            &mut self.form,
+                            &kind,
+                            &mut self.hypothesis_stash,
+                        );
+                        self.hypothesis_kind = kind;
+                    }
                     self.recompute();
                 }
             }
@@ -280,10 +314,15 @@ impl BenchState {
             Err(e) => Outcome::Incomplete(e),
         };
         self.thermal = self.thermal_check();
+        let analysis = match &self.outcome {
+            Outcome::Done { analysis, .. } => Some(analysis.as_ref()),
+            _ => None,
+        };
+        self.hypothesis = super::hypothesis::check(&self.form, analysis);
     }
 
-    /// Thermal edge stress for the typed ΔT with the material's E and α (restraint 1, a
-    /// fully restrained edge strip), judged against the applied stress and its interval.
+    /// Thermal edge stress for the typed ΔT with the material's E and α (restraint k as typed,
+    /// 1 when empty: a fully restrained edge strip), judged against the applied stress.
     fn thermal_check(&self) -> Option<Result<ThermalCheck, String>> {
         let dt = match self.opt_quantity("delta_t") {
             Ok(Some(dt)) => dt,
@@ -297,11 +336,16 @@ impl BenchState {
                 material.name
             )));
         };
+        let restraint = match self.form.field("h_restraint").map(|f| f.value()) {
+            Some(Ok(FieldValue::Number(k))) => k,
+            Some(Err(e)) => return Some(Err(e)),
+            _ => 1.0,
+        };
         let input = crate::loads::thermal::Thermal {
             youngs_modulus: e.value,
             expansion: a.value,
             delta_t: dt,
-            restraint: 1.0,
+            restraint,
         };
         let r = match crate::loads::thermal::edge_stress(&input) {
             Ok(r) => r,
@@ -322,7 +366,7 @@ impl BenchState {
         };
         Some(Ok(ThermalCheck {
             delta_t_k: dt,
-            restraint: 1.0,
+            restraint,
             stress_pa: r.stress,
             stress_per_kelvin: r.stress_per_kelvin,
             verdict,

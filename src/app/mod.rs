@@ -7,6 +7,7 @@
 pub mod bench;
 pub mod field;
 pub mod form;
+pub mod hypothesis;
 pub mod incident;
 pub mod log;
 pub mod picklist;
@@ -108,6 +109,8 @@ pub enum Action {
     Attach,
     Yes,
     No,
+    /// Bench: move to the load hypothesis inputs (again: back to the readings).
+    JumpHypothesis,
     /// A key for the focused text input.
     Input(Input),
     /// Pasted text for the focused text input.
@@ -1107,6 +1110,23 @@ impl App {
                     "restraint": t.restraint,
                     "stress_pa": t.stress_pa,
                     "verdict": t.verdict.as_ref().map(|v| v.explanation.clone()).ok(),
+                }),
+            );
+        }
+        if let (Some(Ok(c)), serde_json::Value::Object(map)) =
+            (&self.bench.hypothesis, &mut result.analysis)
+        {
+            map.insert(
+                "load_hypothesis".to_string(),
+                serde_json::json!({
+                    "kind": c.kind,
+                    "inputs": c.summary,
+                    "method": c.outcome.method,
+                    "force_n": c.outcome.force,
+                    "stress_pa": c.outcome.stress,
+                    "deflection_m": c.outcome.deflection,
+                    "warnings": c.outcome.warnings.iter().map(|w| w.message.clone()).collect::<Vec<_>>(),
+                    "verdict": c.verdict.as_ref().and_then(|v| v.as_ref().ok()).map(|v| v.explanation.clone()),
                 }),
             );
         }

@@ -158,6 +158,14 @@ pub static TABLE: &[Binding] = &[
         action: Action::PageDown,
         footer: false,
     },
+    Binding {
+        ctxs: TEXT,
+        keys: &[k(KeyCode::F(2))],
+        label: "F2",
+        desc: "hypothesis (bench): go to its inputs, again to the readings",
+        action: Action::JumpHypothesis,
+        footer: true,
+    },
     // --- help overlay ---
     Binding {
         ctxs: &[Help],

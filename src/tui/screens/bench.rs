@@ -56,6 +56,25 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         !app.help_open && app.prompt.is_none(),
         th,
     );
+    // the load hypothesis panel under the results, when a hypothesis is typed and there is
+    // room; otherwise its lines are in the results pane only
+    let results = match &app.bench.hypothesis {
+        Some(h)
+            if results.height >= 6 + super::hypothesis::PANEL_MIN_ROWS && results.width >= 34 =>
+        {
+            let mut panel_h = (results.height * 3 / 5).clamp(super::hypothesis::PANEL_MIN_ROWS, 22);
+            if !matches!(h, Ok(c) if c.chart.is_ok()) {
+                // no chart to draw: the panel holds its few lines only
+                panel_h = 6;
+            }
+            let [r, p] =
+                Layout::vertical([Constraint::Fill(1), Constraint::Length(panel_h)]).areas(results);
+            let inner = boxed(f, p, "Load hypothesis · F2 inputs", false, th);
+            super::hypothesis::draw_panel(f.buffer_mut(), inner, h, th);
+            r
+        }
+        _ => results,
+    };
     let inner = boxed(f, results, "Results (live) · PgUp/PgDn scroll", false, th);
     let lines = result_lines(app, th, inner.width);
     let max_scroll = widgets::wrapped_rows(&lines, inner.width).saturating_sub(inner.height);
@@ -105,6 +124,16 @@ fn kv(key: &str, value: String, th: &Theme) -> Line<'static> {
 
 /// The lines of the results pane (also used by tests to compare with the core).
 pub fn result_lines(app: &App, th: &Theme, width: u16) -> Vec<Line<'static>> {
+    let mut lines = outcome_lines(app, th, width);
+    if !matches!(app.bench.outcome, Outcome::Done { .. }) {
+        if let Some(h) = &app.bench.hypothesis {
+            lines.extend(super::hypothesis::detail_lines(h, th));
+        }
+    }
+    lines
+}
+
+fn outcome_lines(app: &App, th: &Theme, width: u16) -> Vec<Line<'static>> {
     match &app.bench.outcome {
         Outcome::Waiting => vec![
             Line::styled("Type mirror readings on the left:", th.muted),
@@ -129,7 +158,12 @@ pub fn result_lines(app: &App, th: &Theme, width: u16) -> Vec<Line<'static>> {
         } => {
             let mut lines = analysis_lines(analysis, per_geometry, th, width);
             // the hypothesis goes right under the headline figures
-            if let Some(t) = thermal_lines(app, th) {
+            if let Some(t) = app
+                .bench
+                .hypothesis
+                .as_ref()
+                .map(|h| super::hypothesis::detail_lines(h, th))
+            {
                 let at = lines
                     .iter()
                     .position(|l| {
@@ -144,43 +178,6 @@ pub fn result_lines(app: &App, th: &Theme, width: u16) -> Vec<Line<'static>> {
             lines
         }
     }
-}
-
-fn thermal_lines(app: &App, th: &Theme) -> Option<Vec<Line<'static>>> {
-    let t = app.bench.thermal.as_ref()?;
-    Some(match t {
-        Err(e) => vec![Line::styled(
-            format!("Thermal hypothesis: ✗ {}", clean(e)),
-            th.error,
-        )],
-        Ok(t) => {
-            let mut v = vec![kv(
-                "Thermal hypothesis",
-                format!(
-                    "ΔT {} → {} (k·E·α = {} MPa/K, k = {})",
-                    format(t.delta_t_k, Unit::Kelvin),
-                    mpa(t.stress_pa),
-                    fmt_sig(t.stress_per_kelvin / 1e6, 3),
-                    fmt_sig(t.restraint, 2)
-                ),
-                th,
-            )];
-            match &t.verdict {
-                Ok(v2) => v.push(Line::styled(
-                    format!("  {}", clean(&v2.explanation)),
-                    match v2.finding {
-                        crate::loads::verdict::Finding::Consistent => th.ok,
-                        _ => th.warning,
-                    },
-                )),
-                Err(e) => v.push(Line::styled(format!("  ✗ {}", clean(e)), th.error)),
-            }
-            for w in &t.warnings {
-                v.push(Line::styled(format!("  ! {}", clean(w)), th.warning));
-            }
-            v
-        }
-    })
 }
 
 fn analysis_lines(

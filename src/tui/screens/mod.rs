@@ -2,5 +2,6 @@
 
 pub mod bench;
 pub mod edit;
+pub mod hypothesis;
 pub mod incident;
 pub mod log;

@@ -1,0 +1,318 @@
+//! The load hypothesis beside the bench results: its stress next to the measured applied
+//! stress with the verdict, and a K(a) chart (log crack size) with the K_Ic line and the
+//! measured flaw marked. Figures come from `app::hypothesis::Check` (loads::evaluate,
+//! loads::verdict::judge, loads::critical::curve); nothing is computed here.
+
+use ratatui::layout::{Constraint, Rect};
+use ratatui::style::Style;
+use ratatui::symbols::Marker;
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Axis, Chart, Dataset, GraphType, LegendPosition, Widget};
+
+use crate::app::hypothesis::{Check, KChart, KINDS};
+use crate::loads::verdict::Finding;
+use crate::tui::theme::Theme;
+use crate::tui::widgets::clean;
+use crate::units::{fmt_sig, format, Unit};
+
+fn mpa(pa: f64) -> String {
+    format(pa, Unit::Megapascal)
+}
+
+fn length(m: f64) -> String {
+    if m.abs() < 1e-3 {
+        format(m, Unit::Micrometre)
+    } else {
+        format(m, Unit::Millimetre)
+    }
+}
+
+fn kind_label(kind: &str) -> &'static str {
+    KINDS
+        .iter()
+        .find(|(c, _)| *c == kind)
+        .map(|(_, l)| *l)
+        .unwrap_or("hypothesis")
+}
+
+fn finding_style(f: Finding, th: &Theme) -> Style {
+    match f {
+        Finding::Consistent => th.ok,
+        _ => th.warning,
+    }
+}
+
+/// The hypothesis' figure line: its stress (or force) beside the measured applied stress.
+fn figures(c: &Check, th: &Theme) -> Line<'static> {
+    let mut spans = vec![Span::styled("Hypothesis ", th.label)];
+    match (c.outcome.stress, c.outcome.force) {
+        (Some(s), _) => spans.push(Span::styled(format!("σ {}", mpa(s)), th.figure)),
+        (None, Some(fo)) => spans.push(Span::styled(
+            format!("F {}", format(fo, Unit::Newton)),
+            th.figure,
+        )),
+        (None, None) => spans.push(Span::styled("—", th.muted)),
+    }
+    if let Some(m) = &c.measured {
+        spans.push(Span::styled(" · measured ", th.label));
+        spans.push(Span::styled(
+            format!(
+                "{} ({} – {})",
+                mpa(m.stress),
+                fmt_sig(m.low / 1e6, 3),
+                fmt_sig(m.high / 1e6, 3)
+            ),
+            th.figure,
+        ));
+    }
+    Line::from(spans)
+}
+
+/// A short verdict line for the panel.
+fn short_verdict(c: &Check, th: &Theme) -> Line<'static> {
+    match &c.verdict {
+        Some(Ok(v)) => Line::from(vec![
+            Span::styled("Verdict: ", th.label),
+            Span::styled(
+                format!("{} ×{} of measured", v.finding.label(), fmt_sig(v.ratio, 3)),
+                finding_style(v.finding, th),
+            ),
+        ]),
+        Some(Err(e)) => Line::styled(format!("Verdict: ✗ {}", clean(e)), th.error),
+        None => Line::styled("No verdict: a force only → try patch load", th.muted),
+    }
+}
+
+/// The hypothesis in full for the results pane (also what a narrow window shows instead of
+/// the panel).
+pub fn detail_lines(h: &Result<Check, String>, th: &Theme) -> Vec<Line<'static>> {
+    let c = match h {
+        Err(e) => {
+            return vec![Line::styled(
+                format!("Load hypothesis: ✗ {}", clean(e)),
+                th.error,
+            )]
+        }
+        Ok(c) => c,
+    };
+    let mut v = vec![
+        Line::from(vec![
+            Span::styled(
+                format!("Load hypothesis ({}): ", kind_label(c.kind)),
+                th.label,
+            ),
+            Span::styled(clean(&c.summary), th.figure),
+        ]),
+        figures(c, th),
+    ];
+    let mut extra = Vec::new();
+    if let (Some(_), Some(fo)) = (c.outcome.stress, c.outcome.force) {
+        extra.push(format!("force {}", format(fo, Unit::Newton)));
+    }
+    if let Some(d) = c.outcome.deflection {
+        extra.push(format!("deflection {}", format(d, Unit::Millimetre)));
+    }
+    if !extra.is_empty() {
+        v.push(Line::styled(format!("  {}", extra.join(", ")), th.muted));
+    }
+    match &c.verdict {
+        Some(Ok(vd)) => v.push(Line::styled(
+            format!("  {}", clean(&vd.explanation)),
+            finding_style(vd.finding, th),
+        )),
+        Some(Err(e)) => v.push(Line::styled(format!("  ✗ {}", clean(e)), th.error)),
+        None => v.push(Line::styled(
+            "  no verdict: the impulse model gives a force only; pick \"plate under a central \
+             patch load\" (F2) and this force carries over as its patch load",
+            th.muted,
+        )),
+    }
+    for w in &c.outcome.warnings {
+        v.push(Line::styled(
+            format!("  ! {}", clean(&w.message)),
+            th.warning,
+        ));
+    }
+    if let Ok(k) = &c.chart {
+        v.push(Line::styled(
+            format!(
+                "  K(a): net σ {} at the origin reaches K_Ic {} at a = {} (Y {})",
+                mpa(k.hypothesis_net_pa),
+                format(k.k_ic, Unit::MegapascalRootMetre),
+                length(k.curve.critical_size),
+                fmt_sig(k.y, 3)
+            ),
+            th.muted,
+        ));
+    }
+    v.push(Line::styled(
+        format!("  method: {}", clean(c.outcome.method)),
+        th.muted,
+    ));
+    v
+}
+
+/// Rows the panel wants at least (text and a useful chart).
+pub const PANEL_MIN_ROWS: u16 = 12;
+
+/// Draw the panel's inside: the figures, the verdict, the chart when there is room.
+pub fn draw_panel(
+    buf: &mut ratatui::buffer::Buffer,
+    area: Rect,
+    h: &Result<Check, String>,
+    th: &Theme,
+) {
+    if area.width < 4 || area.height == 0 {
+        return;
+    }
+    let text: Vec<Line<'static>> = match h {
+        Err(e) => vec![Line::styled(format!("✗ {}", clean(e)), th.error)],
+        Ok(c) => {
+            let mut spans = Vec::new();
+            match (c.outcome.stress, c.outcome.force) {
+                (Some(s), _) => spans.push(Span::styled(format!("σ {}", mpa(s)), th.figure)),
+                (None, Some(fo)) => spans.push(Span::styled(
+                    format!("F {}", format(fo, Unit::Newton)),
+                    th.figure,
+                )),
+                (None, None) => spans.push(Span::styled("—", th.muted)),
+            }
+            spans.push(Span::styled(" hypothesis", th.label));
+            if let Some(m) = &c.measured {
+                spans.push(Span::styled(" · ", th.label));
+                spans.push(Span::styled(mpa(m.stress), th.figure));
+                spans.push(Span::styled(" measured", th.label));
+            }
+            let mut t = vec![Line::from(spans), short_verdict(c, th)];
+            match &c.chart {
+                Ok(k) => {
+                    let mut l = vec![
+                        Span::styled("K(a) ", th.label),
+                        Span::styled("━hyp ", th.figure),
+                        Span::styled("━meas ", th.muted),
+                        Span::styled("━K_Ic ", th.error),
+                    ];
+                    if k.measured_flaw_m.is_some() {
+                        l.push(Span::styled("│flaw ", th.warning));
+                    }
+                    l.push(Span::styled("•mirror a", th.ok));
+                    t.push(Line::from(l));
+                }
+                Err(e) => t.push(Line::styled(format!("K(a): {}", clean(e)), th.muted)),
+            }
+            t
+        }
+    };
+    let rows = crate::tui::widgets::wrapped_rows(&text, area.width).min(area.height);
+    let text_area = Rect {
+        height: rows,
+        ..area
+    };
+    crate::tui::widgets::para(text).render(text_area, buf);
+    let chart_area = Rect {
+        y: area.y + rows,
+        height: area.height - rows,
+        ..area
+    };
+    if let Ok(Check { chart: Ok(k), .. }) = h {
+        if chart_area.height >= 6 && chart_area.width >= 30 {
+            draw_chart(buf, chart_area, k, th);
+        }
+    }
+}
+
+fn lg(a_m: f64) -> f64 {
+    (a_m * 1e6).max(1e-12).log10()
+}
+
+fn size_label(log_um: f64) -> String {
+    length(10f64.powf(log_um) * 1e-6)
+}
+
+/// K(a) on a log crack-size axis: the hypothesis curve, the measured-stress curve, the K_Ic
+/// line, the measured flaw (vertical line) and the mirror-predicted flaw (a point on K_Ic).
+pub fn draw_chart(buf: &mut ratatui::buffer::Buffer, area: Rect, k: &KChart, th: &Theme) {
+    let (Some(first), Some(last)) = (k.curve.points.first(), k.curve.points.last()) else {
+        return;
+    };
+    let x0 = lg(first.flaw_size);
+    let x1 = lg(last.flaw_size);
+    if !x0.is_finite() || !x1.is_finite() || x1 <= x0 || !k.k_ic.is_finite() || k.k_ic <= 0.0 {
+        return;
+    }
+    let kic = k.k_ic / 1e6;
+    let ymax = 2.0 * kic;
+    let hyp: Vec<(f64, f64)> = k
+        .curve
+        .points
+        .iter()
+        .map(|p| (lg(p.flaw_size), (p.k / 1e6).min(ymax * 1.5)))
+        .collect();
+    let meas: Vec<(f64, f64)> = k
+        .measured_curve
+        .iter()
+        .map(|p| (lg(p.flaw_size), (p.k / 1e6).min(ymax * 1.5)))
+        .collect();
+    let kic_line = [(x0, kic), (x1, kic)];
+    let pred = [(lg(k.predicted_flaw_m), kic)];
+    let flaw: Vec<(f64, f64)> = k
+        .measured_flaw_m
+        .map(|m| {
+            let x = lg(m).clamp(x0, x1);
+            (0..=20).map(|i| (x, ymax * i as f64 / 20.0)).collect()
+        })
+        .unwrap_or_default();
+    let mut sets = vec![
+        Dataset::default()
+            .name("K_Ic")
+            .marker(Marker::Braille)
+            .graph_type(GraphType::Line)
+            .style(th.error)
+            .data(&kic_line),
+        Dataset::default()
+            .name("K meas. σ")
+            .marker(Marker::Braille)
+            .graph_type(GraphType::Line)
+            .style(th.muted)
+            .data(&meas),
+        Dataset::default()
+            .name("K hyp.")
+            .marker(Marker::Braille)
+            .graph_type(GraphType::Line)
+            .style(th.figure)
+            .data(&hyp),
+        Dataset::default()
+            .name("mirror a")
+            .marker(Marker::Dot)
+            .graph_type(GraphType::Scatter)
+            .style(th.ok)
+            .data(&pred),
+    ];
+    if !flaw.is_empty() {
+        sets.push(
+            Dataset::default()
+                .name("measured flaw")
+                .marker(Marker::Braille)
+                .graph_type(GraphType::Scatter)
+                .style(th.warning)
+                .data(&flaw),
+        );
+    }
+    let xm = (x0 + x1) / 2.0;
+    let chart = Chart::new(sets)
+        .x_axis(
+            Axis::default()
+                .bounds([x0, x1])
+                .style(th.muted)
+                .labels(vec![size_label(x0), size_label(xm), size_label(x1)]),
+        )
+        .y_axis(
+            Axis::default()
+                .bounds([0.0, ymax])
+                .style(th.muted)
+                .labels(vec!["0".to_string(), fmt_sig(kic, 2), fmt_sig(ymax, 2)]),
+        )
+        .legend_position(Some(LegendPosition::TopLeft))
+        .hidden_legend_constraints((Constraint::Ratio(1, 2), Constraint::Ratio(1, 2)));
+    chart.render(area, buf);
+}
