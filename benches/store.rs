@@ -4,7 +4,7 @@
 //!     shardlog demo --out /tmp/m1.db --incidents 1000000        # once
 //!     cargo bench --bench store -- --db /tmp/m1.db --import 20000
 //!
-//! Without `--db` the list figures are skipped. Goals (not asserted): list of 200 rows in
+//! Without `--db` the list and fleet-row figures are skipped. Goals (not asserted): list of 200 rows in
 //! under 50 ms; import at no less than half the rate of plain prepared inserts.
 
 use std::path::PathBuf;
@@ -324,6 +324,18 @@ fn main() {
             ..Filter::default()
         };
         time_list(&s, "text \"stone\", no count", &text, newest, false, false);
+        // the read behind `shardlog stats` (issue 5): every incident as one flat row
+        let mut times = Vec::new();
+        let mut rows = 0;
+        for _ in 0..3 {
+            let t = Instant::now();
+            rows = s.fleet_rows(&all).expect("fleet rows").len();
+            times.push(t.elapsed());
+        }
+        println!(
+            "fleet_rows, whole fleet                      {rows} rows  median {:>9}",
+            ms(median(times))
+        );
     }
     let n: usize = arg("--import")
         .and_then(|v| v.parse().ok())

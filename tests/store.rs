@@ -389,6 +389,31 @@ fn list_filters_sorts_and_pages() {
     assert!(fleet
         .iter()
         .all(|r| r.temper.as_deref() == Some("annealed")));
+    // codes are looked up in memory now (no joins): they must agree with the log's join
+    let log = s
+        .list(
+            &Filter::default(),
+            Sort::default(),
+            &PageRequest {
+                limit: 1000,
+                after: None,
+                with_total: false,
+            },
+        )
+        .unwrap();
+    assert_eq!(log.rows.len(), fleet.len());
+    for r in &fleet {
+        let l = log.rows.iter().find(|l| l.id == r.id).unwrap();
+        assert_eq!(l.reference, r.reference);
+        assert_eq!(l.supplier, r.supplier, "{}", r.reference);
+        assert_eq!(l.product, r.product, "{}", r.reference);
+        assert_eq!(l.lot, r.lot, "{}", r.reference);
+        assert_eq!(l.site, r.site, "{}", r.reference);
+        assert_eq!(l.occurred, r.found_on, "{}", r.reference);
+    }
+    assert!(fleet
+        .iter()
+        .any(|r| r.supplier.is_some() && r.lot.is_some()));
 }
 
 #[test]

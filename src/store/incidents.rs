@@ -1,7 +1,7 @@
 //! Incidents: write and read the whole aggregate, revision checks, the log listing with
 //! keyset pagination, and the flat rows for fleet statistics.
 
-use std::collections::HashSet;
+use std::collections::{HashMap, HashSet};
 
 use chrono::NaiveDate;
 use rusqlite::types::Value as SqlValue;
@@ -545,6 +545,17 @@ fn load_row(conn: &Connection, id: &str) -> Result<Option<(i64, Incident, Derive
     };
     load_children(conn, &mut inc)?;
     Ok(Some((seq, inc, d)))
+}
+
+/// A text column borrowed from the row (no copy), None for NULL.
+fn text_ref<'a>(r: &'a rusqlite::Row<'_>, k: usize) -> rusqlite::Result<Option<&'a str>> {
+    match r.get_ref(k)? {
+        rusqlite::types::ValueRef::Null => Ok(None),
+        rusqlite::types::ValueRef::Text(b) => std::str::from_utf8(b)
+            .map(Some)
+            .map_err(|e| rusqlite::Error::Utf8Error(k, e)),
+        _ => Err(bad_col(k, "text value", "another type")),
+    }
 }
 
 fn bad_col(i: usize, what: &str, s: &str) -> rusqlite::Error {
@@ -1563,25 +1574,34 @@ impl Store {
         Ok(rows.collect::<Result<_, _>>()?)
     }
 
-    /// One flat row per matching incident for fleet statistics, in date-found order.
+    /// One flat row per matching incident for fleet statistics, in no particular order
+    /// (the order SQLite reads them in; callers group and count, none relies on an order).
+    ///
+    /// The codes of supplier, product, lot and site and the asset type are looked up in
+    /// memory from one read of each small table instead of joined per row: on a database of
+    /// a million incidents the joins on text keys cost most of the read (benches/store.rs).
     pub fn fleet_rows(&self, filter: &Filter) -> Result<Vec<FleetRow>, StoreError> {
+        let suppliers = self.code_map("SELECT id, code FROM suppliers")?;
+        let products = self.code_map("SELECT id, code FROM products")?;
+        let lots = self.code_map("SELECT id, code FROM lots")?;
+        let sites = self.code_map("SELECT id, code FROM sites")?;
+        let asset_types = self.code_map("SELECT id, asset_type FROM assets")?;
         let (from, conds, args) = filter_sql(&self.conn, filter)?;
         let sql = format!(
-            "SELECT i.id, i.reference, i.cause_category, i.cause_confidence, i.origin_type, su.code, p.code,
-                    l.code, s.code, a.asset_type, i.temper, i.found_on, i.broken_on, i.applied_stress_pa,
-                    i.stress_pa
-             FROM {from}
-             LEFT JOIN assets a ON a.id = i.asset_id
-             LEFT JOIN sites s ON s.id = i.site_id
-             LEFT JOIN suppliers su ON su.id = i.supplier_id
-             LEFT JOIN products p ON p.id = i.product_id
-             LEFT JOIN lots l ON l.id = i.lot_id
-             {} ORDER BY i.found_on, i.seq",
+            "SELECT i.id, i.reference, i.cause_category, i.cause_confidence, i.origin_type,
+                    i.supplier_id, i.product_id, i.lot_id, i.site_id, i.asset_id, i.temper,
+                    i.found_on, i.broken_on, i.applied_stress_pa, i.stress_pa
+             FROM {from} {}",
             where_clause(&conds)
         );
+        // a key with no row in its table reads as not recorded, as the LEFT JOIN did
+        let code = |r: &rusqlite::Row<'_>, k: usize, map: &HashMap<String, String>| {
+            Ok::<_, rusqlite::Error>(text_ref(r, k)?.and_then(|key| map.get(key).cloned()))
+        };
         let mut stmt = self.conn.prepare(&sql)?;
         let rows = stmt.query_map(params_from_iter(args.iter()), |r| {
-            let found: String = r.get(11)?;
+            let found = text_ref(r, 11)?.ok_or_else(|| bad_col(11, "date", "nothing"))?;
+            let found_on = parse_date(found).ok_or_else(|| bad_col(11, "date", found))?;
             let broken: Option<String> = r.get(12)?;
             let net: Option<f64> = r.get(14)?;
             Ok(FleetRow {
@@ -1590,19 +1610,26 @@ impl Store {
                 cause: r.get(2)?,
                 confidence: r.get(3)?,
                 origin_type: r.get(4)?,
-                supplier: r.get(5)?,
-                product: r.get(6)?,
-                lot: r.get(7)?,
-                site: r.get(8)?,
-                asset_type: r.get(9)?,
+                supplier: code(r, 5, &suppliers)?,
+                product: code(r, 6, &products)?,
+                lot: code(r, 7, &lots)?,
+                site: code(r, 8, &sites)?,
+                asset_type: code(r, 9, &asset_types)?,
                 temper: r.get(10)?,
-                found_on: parse_date(&found).ok_or_else(|| bad_col(11, "date", &found))?,
+                found_on,
                 broken_on: broken.as_deref().and_then(parse_date),
                 applied_stress_pa: r.get(13)?,
                 net_stress_pa: net,
                 has_stress: net.is_some(),
             })
         })?;
+        Ok(rows.collect::<Result<_, _>>()?)
+    }
+
+    /// Key -> code (or other text column) of one small table, from a two-column query.
+    fn code_map(&self, sql: &str) -> Result<HashMap<String, String>, StoreError> {
+        let mut stmt = self.conn.prepare_cached(sql)?;
+        let rows = stmt.query_map([], |r| Ok((r.get::<_, String>(0)?, r.get::<_, String>(1)?)))?;
         Ok(rows.collect::<Result<_, _>>()?)
     }
 }

@@ -525,7 +525,10 @@ pub struct Page {
     pub total: Option<u64>,
 }
 
-/// One flat row per incident for fleet statistics.
+/// One flat row per incident for fleet statistics. [`Store::fleet_rows`] returns them in
+/// no particular order (not date order); sort them if an order matters.
+///
+/// [`Store::fleet_rows`]: crate::store::Store::fleet_rows
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct FleetRow {
     pub id: String,
