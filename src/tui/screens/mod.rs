@@ -4,3 +4,4 @@ pub mod bench;
 pub mod edit;
 pub mod incident;
 pub mod log;
+pub mod review;
