@@ -1040,7 +1040,7 @@ impl App {
                 self.reload_review();
             }
             Action::Confirm => match self.review.selected_filter() {
-                Ok((filter, count, label)) => {
+                Ok((filter, _, _)) => {
                     self.log.filter = filter;
                     // the log sits beneath the review: go back to it, filtered
                     while self.stack.len() > 1 && self.screen() != Screen::Log {
@@ -1049,13 +1049,8 @@ impl App {
                     if self.screen() != Screen::Log {
                         self.stack.push(Screen::Log);
                     }
+                    // the filter line names the group; the status line gives its count
                     self.reload_log();
-                    if self.message.is_none() {
-                        let n = group_thousands(count);
-                        self.info(format!(
-                            "log filtered to {label} (the review counted {n}); x clears the filter"
-                        ));
-                    }
                 }
                 Err(e) => self.error(e),
             },

@@ -242,6 +242,14 @@ impl ReviewState {
     /// The log filter for the selected row of the current panel, with the row's count, or
     /// why that row cannot be shown in the log.
     pub fn selected_filter(&self) -> Result<(Filter, u64, String), String> {
+        let (f, n, label) = self.selected_filter_any()?;
+        if n == 0 {
+            return Err(format!("no incidents in {label}"));
+        }
+        Ok((f, n, label))
+    }
+
+    fn selected_filter_any(&self) -> Result<(Filter, u64, String), String> {
         let Some(d) = &self.data else {
             return Err("nothing to open: the review has no figures".to_string());
         };

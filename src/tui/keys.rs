@@ -292,6 +292,14 @@ pub static TABLE: &[Binding] = &[
     // --- the fleet review ---
     Binding {
         ctxs: &[Review],
+        keys: &[k(KeyCode::Enter)],
+        label: "Enter",
+        desc: "open in the log: the incidents of the highlighted cause, month or group",
+        action: Action::Confirm,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Review],
         keys: &[k(KeyCode::Tab), k(KeyCode::Right), c('l')],
         label: "Tab/→",
         desc: "next panel (causes, per month, stress, Weibull, groups)",
@@ -320,7 +328,7 @@ pub static TABLE: &[Binding] = &[
         label: "2",
         desc: "second grouping key (none, then each other key)",
         action: Action::GroupSecond,
-        footer: true,
+        footer: false,
     },
     Binding {
         ctxs: &[Review],
@@ -328,14 +336,6 @@ pub static TABLE: &[Binding] = &[
         label: "w",
         desc: "window: last 12 months or all records",
         action: Action::NextWindow,
-        footer: true,
-    },
-    Binding {
-        ctxs: &[Review],
-        keys: &[k(KeyCode::Enter)],
-        label: "Enter",
-        desc: "open the log filtered to the highlighted cause, month or group",
-        action: Action::Confirm,
         footer: true,
     },
     // --- the search line ---

@@ -5,15 +5,18 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::{Color, Style};
 use ratatui::symbols::Marker;
 use ratatui::text::{Line, Span};
-use ratatui::widgets::canvas::{Canvas, Line as CLine, Points};
+use ratatui::widgets::canvas::{Canvas, Line as CLine};
 use ratatui::widgets::Widget;
 use ratatui::Frame;
 use unicode_width::UnicodeWidthStr;
 
 use crate::app::review::{Panel, ReviewData, ReviewState};
 use crate::app::{group_thousands, App};
+use crate::fleet::group::NOT_RECORDED;
+use crate::fleet::Key;
+use crate::store::model::LookupKind;
 use crate::tui::theme::Theme;
-use crate::tui::widgets::{clean, fit, pad};
+use crate::tui::widgets::{clean, fit, pad, wrap};
 use crate::units::{fmt_sig, to_mpa};
 
 pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
@@ -23,7 +26,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     let r = &app.review;
     let [tabs, note, content] = Layout::vertical([
         Constraint::Length(1),
-        Constraint::Length(1),
+        Constraint::Length(2),
         Constraint::Fill(1),
     ])
     .areas(body);
@@ -37,12 +40,13 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         put(f, note, &format!(" {}", clean(&why)), w, th.error);
         return;
     };
+    let labels = Labels(&app.lists);
     match r.panel {
-        Panel::Causes => causes(r, d, f, note, content, th),
+        Panel::Causes => causes(r, d, &labels, f, note, content, th),
         Panel::Months => months(r, d, f, note, content, th),
         Panel::Stress => stress(d, f, note, content, th),
         Panel::Weibull => weibull(d, f, note, content, th),
-        Panel::Groups => groups(r, d, f, note, content, th),
+        Panel::Groups => groups(r, d, &labels, f, note, content, th),
     }
 }
 
@@ -52,6 +56,58 @@ fn put(f: &mut Frame, area: Rect, text: &str, w: usize, style: Style) {
     }
     f.buffer_mut()
         .set_stringn(area.x, area.y, pad(&fit(text, w), w), w, style);
+}
+
+/// Text over the rows of `area`, wrapped at words (the last row cut with … if it must be).
+fn put_wrapped(f: &mut Frame, area: Rect, text: &str, style: Style) {
+    let w = area.width as usize;
+    if area.height == 0 || w < 2 {
+        return;
+    }
+    let lines = wrap(text.trim_start(), w - 1);
+    let h = area.height as usize;
+    for (i, l) in lines.iter().take(h).enumerate() {
+        let shown = if i + 1 == h && lines.len() > h {
+            fit(&format!("{l} {}", lines[h..].join(" ")), w - 1)
+        } else {
+            l.clone()
+        };
+        put(
+            f,
+            Rect {
+                y: area.y + i as u16,
+                height: 1,
+                ..area
+            },
+            &format!(" {shown}"),
+            w,
+            style,
+        );
+    }
+}
+
+/// Group values as people read them: lookup codes by their labels.
+struct Labels<'a>(&'a crate::app::incident::Lists);
+
+impl Labels<'_> {
+    fn of(&self, keys: &[Key], values: &[String]) -> String {
+        let parts: Vec<String> = keys
+            .iter()
+            .zip(values)
+            .map(|(k, v)| {
+                let kind = match k {
+                    Key::Cause => Some(LookupKind::CauseCategory),
+                    Key::OriginType => Some(LookupKind::OriginType),
+                    _ => None,
+                };
+                match kind {
+                    Some(kind) if v != NOT_RECORDED => self.0.label(kind, v),
+                    _ => v.clone(),
+                }
+            })
+            .collect();
+        clean(&parts.join(" · "))
+    }
 }
 
 fn draw_tabs(r: &ReviewState, f: &mut Frame, area: Rect, th: &Theme) {
@@ -147,16 +203,22 @@ fn pct(share: f64) -> String {
     format!("{:.0} %", share * 100.0)
 }
 
-fn causes(r: &ReviewState, d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
-    let w = note.width as usize;
-    put(
+fn causes(
+    r: &ReviewState,
+    d: &ReviewData,
+    labels: &Labels<'_>,
+    f: &mut Frame,
+    note: Rect,
+    area: Rect,
+    th: &Theme,
+) {
+    put_wrapped(
         f,
         note,
         &format!(
-            " Causes, largest first · {} incidents · Enter opens them in the log",
+            "Causes, largest first · {} incidents · Enter opens the highlighted cause in the log",
             group_thousands(d.causes.total)
         ),
-        w,
         th.header,
     );
     let rows: Vec<(String, f64, String)> = d
@@ -165,7 +227,7 @@ fn causes(r: &ReviewState, d: &ReviewData, f: &mut Frame, note: Rect, area: Rect
         .iter()
         .map(|g| {
             (
-                clean(&g.key.join(" · ")),
+                labels.of(&d.causes.keys, &g.key),
                 g.count as f64,
                 format!("{} ({})", group_thousands(g.count), pct(g.share)),
             )
@@ -186,7 +248,8 @@ fn trend_text(d: &ReviewData) -> (String, bool) {
             };
             (
                 format!(
-                    " Trend: {flag} · ×{} per year (95 % {}–{}), p = {} · Poisson regression per {}",
+                    "Trend: {flag} · rate ×{} per year (95 % {}–{}), p = {} · Poisson regression \
+                     of monthly counts, offset by the month's {}",
                     fmt_sig(t.ratio_per_year, 3),
                     fmt_sig(t.ratio_ci95.low, 2),
                     fmt_sig(t.ratio_ci95.high, 2),
@@ -196,32 +259,33 @@ fn trend_text(d: &ReviewData) -> (String, bool) {
                 t.rising,
             )
         }
-        Err(e) => (format!(" Trend: not estimated ({})", clean(e)), false),
+        Err(e) => (format!("Trend: not estimated ({})", clean(e)), false),
     }
 }
 
 fn months(r: &ReviewState, d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
-    let w = note.width as usize;
     let (text, alarm) = trend_text(d);
-    put(
-        f,
-        note,
-        &text,
-        w,
-        if alarm { th.warning } else { th.header },
-    );
+    put_wrapped(f, note, &text, if alarm { th.warning } else { th.header });
     let rows: Vec<(String, f64, String)> = d
         .months
         .iter()
         .map(|m| {
+            let full = crate::fleet::group::month_bounds(m.year, m.month)
+                .map(|(a, b)| (b - a).num_days() + 1)
+                .unwrap_or(m.days);
+            let part = if m.days < full {
+                format!(" ({} d)", m.days)
+            } else {
+                String::new()
+            };
             let rate = if m.pane_years > 0.0 {
                 format!(
-                    "{}  {} /1000 pane-yr",
+                    "{:>3}  {:>4} /1000 pane-yr{part}",
                     m.count,
                     fmt_sig(m.count as f64 / m.pane_years * 1000.0, 2)
                 )
             } else {
-                m.count.to_string()
+                format!("{:>3}{part}", m.count)
             };
             (m.label(), m.count as f64, rate)
         })
@@ -230,17 +294,16 @@ fn months(r: &ReviewState, d: &ReviewData, f: &mut Frame, note: Rect, area: Rect
 }
 
 fn stress(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
-    let w = note.width as usize;
     let (edges, counts, width) = &d.histogram;
     let n: u64 = counts.iter().sum();
-    put(
+    put_wrapped(
         f,
         note,
         &format!(
-            " Applied stress at fracture (MPa), {n} incidents; {} without a stress",
+            "Applied stress at fracture (net of residual stress), {n} incidents with a \
+             back-calculated stress; {} without one",
             d.without_stress
         ),
-        w,
         th.header,
     );
     let rows: Vec<(String, f64, String)> = edges
@@ -272,32 +335,30 @@ fn stress(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
 }
 
 fn weibull(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
-    let w = note.width as usize;
     let fit_r = match &d.weibull {
         Ok(fit) => fit,
         Err(e) => {
-            put(
+            put_wrapped(
                 f,
                 note,
-                &format!(" Weibull fit: not possible ({})", clean(e)),
-                w,
+                &format!("Weibull fit: not possible ({})", clean(e)),
                 th.warning,
             );
             return;
         }
     };
-    put(
+    put_wrapped(
         f,
         note,
         &format!(
-            " m = {} (95 % {}–{}), σθ = {} MPa, n = {} · ML, ASTM C1239 · applied stress",
+            "Weibull modulus m = {} (95 % {}–{}), characteristic strength σθ = {} MPa, \
+             n = {} · maximum likelihood (ASTM C1239) of the applied stress at fracture",
             fmt_sig(fit_r.modulus, 3),
             fmt_sig(fit_r.modulus_ci95.low, 2),
             fmt_sig(fit_r.modulus_ci95.high, 2),
             fmt_sig(to_mpa(fit_r.scale), 3),
             fit_r.n
         ),
-        w,
         th.header,
     );
     if area.height < 4 || area.width < 20 || fit_r.plot.is_empty() {
@@ -326,18 +387,26 @@ fn weibull(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
         .y_bounds([y0, y1])
         .paint(|ctx| {
             ctx.draw(&line);
-            ctx.draw(&Points {
-                coords: &pts,
-                color: Color::Yellow,
-            });
         })
         .render(plot, f.buffer_mut());
+    // the incidents as whole-cell marks over the line, so they read at any size
+    for (x, y) in &pts {
+        let cx = ((x - x0) / (x1 - x0) * (plot.width.saturating_sub(1)) as f64).round();
+        let cy = ((y1 - y) / (y1 - y0) * (plot.height.saturating_sub(1)) as f64).round();
+        if cx.is_finite() && cy.is_finite() && cx >= 0.0 && cy >= 0.0 {
+            let (cx, cy) = (cx as u16, cy as u16);
+            if cx < plot.width && cy < plot.height {
+                f.buffer_mut()
+                    .set_stringn(plot.x + cx, plot.y + cy, "●", 1, th.figure);
+            }
+        }
+    }
     let p_of = |y: f64| 100.0 * -(-(y.exp())).exp_m1();
     let buf = f.buffer_mut();
     buf.set_stringn(
         ylab.x,
         ylab.y,
-        format!("{:>5}%", fmt_sig(p_of(y1), 2)),
+        format!("{:>5}%", fmt_sig(p_of(y1), 3)),
         7,
         th.muted,
     );
@@ -345,14 +414,14 @@ fn weibull(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
         buf.set_stringn(
             ylab.x,
             ylab.y + ylab.height - 1,
-            format!("{:>5}%", fmt_sig(p_of(y0), 2)),
+            format!("{:>5}%", fmt_sig(p_of(y0), 3)),
             7,
             th.muted,
         );
     }
     let lo = format!("{} MPa", fmt_sig(to_mpa(x0.exp()), 3));
     let hi = format!("{} MPa", fmt_sig(to_mpa(x1.exp()), 3));
-    let mid = "stress (log scale) · dots: incidents · line: fit";
+    let mid = "stress, log scale · ● incidents · line: the fit";
     let xw = xlab.width as usize;
     buf.set_stringn(plot.x, xlab.y, &lo, xw, th.muted);
     let hw = UnicodeWidthStr::width(hi.as_str());
@@ -373,24 +442,38 @@ fn span(v: &[f64]) -> (f64, f64) {
     if !(lo.is_finite() && hi.is_finite()) {
         return (0.0, 1.0);
     }
-    let m = ((hi - lo) * 0.05).max(0.05);
-    (lo - m, hi + m)
+    if hi - lo < 1e-9 {
+        return (lo - 0.5, hi + 0.5);
+    }
+    (lo, hi)
 }
 
-fn groups(r: &ReviewState, d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
-    let w = note.width as usize;
+fn groups(
+    r: &ReviewState,
+    d: &ReviewData,
+    labels: &Labels<'_>,
+    f: &mut Frame,
+    note: Rect,
+    area: Rect,
+    th: &Theme,
+) {
     let t = &d.table;
     let note_text = if d.exposure_rows == 0 {
-        " No exposure recorded (panes in service): counts only, no rates.".to_string()
+        "No exposure recorded (panes in service with install dates): counts only, no rates."
+            .to_string()
     } else {
+        let rest = if t.keys.iter().any(|k| k.is_exposure()) {
+            "HIGH: above the rest, exact one-sided test, Holm 5 %."
+        } else {
+            "Not an exposure key: each group over the whole fleet's exposure, no flags."
+        };
         format!(
-            " Rate = incidents per 1,000 pane-years of the group's exposure (pane-yr column: \
-             panes in service × years inside the window; {} in all). Flag: above the rest, \
-             Holm 5 %.",
+            "Rate per 1,000 pane-years; exposure = pane-yr column (panes in service × years \
+             in the window, {} in all). {rest}",
             fmt_sig(t.total_pane_years, 3)
         )
     };
-    put(f, note, &note_text, w, th.header);
+    put_wrapped(f, note, &note_text, th.header);
     if area.height < 2 {
         return;
     }
@@ -442,7 +525,7 @@ fn groups(r: &ReviewState, d: &ReviewData, f: &mut Frame, note: Rect, area: Rect
         cells.push(if g.flagged { "HIGH" } else { "" }.to_string());
         let mut s = String::new();
         s.push(if i == sel { '▶' } else { ' ' });
-        s.push_str(&pad(&fit(&clean(&g.key.join(" · ")), kw), kw));
+        s.push_str(&pad(&fit(&labels.of(&t.keys, &g.key), kw), kw));
         for (c, (_, cw)) in cells.iter().zip(&cols) {
             s.push(' ');
             s.push_str(&lpad(c, *cw));
