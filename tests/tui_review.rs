@@ -388,6 +388,9 @@ fn every_panel_draws_its_figures_at_80x24_and_100x30() {
         );
         let wb = of(Panel::Weibull);
         assert!(wb.contains("m = ") && wb.contains("●"), "{wb}");
+        // the group highlighted on Groups (thermal, the largest cause) beside the whole window
+        assert!(wb.contains("○ thermal") && wb.contains("n = 14"), "{wb}");
+        assert!(wb.contains("n = 30"), "{wb}");
         assert!(
             of(Panel::Groups).contains("pane-yr"),
             "{}",

@@ -148,6 +148,11 @@ impl ReviewState {
         self.selected[self.panel.index()]
     }
 
+    /// The selected row of `panel` (kept while another panel is shown).
+    pub fn selected_in(&self, panel: Panel) -> usize {
+        self.selected[panel.index()]
+    }
+
     /// Rows in the current panel.
     pub fn rows(&self) -> usize {
         let Some(d) = &self.data else { return 0 };
@@ -430,7 +435,7 @@ impl ReviewState {
             return "review: no figures yet".to_string();
         };
         format!(
-            "{} incidents · {} to {} ({}) · grouped by {}",
+            "{} incidents · {} to {} ({}) · by {}",
             crate::app::group_thousands(d.table.total),
             d.window.since,
             d.window.until,

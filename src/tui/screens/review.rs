@@ -45,7 +45,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         Panel::Causes => causes(r, d, &labels, f, note, content, th),
         Panel::Months => months(r, d, f, note, content, th),
         Panel::Stress => stress(d, f, note, content, th),
-        Panel::Weibull => weibull(d, f, note, content, th),
+        Panel::Weibull => weibull(r, d, &labels, f, note, content, th),
         Panel::Groups => groups(r, d, &labels, f, note, content, th),
     }
 }
@@ -334,7 +334,15 @@ fn stress(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
     bars(f, area, &rows, None, th);
 }
 
-fn weibull(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
+fn weibull(
+    r: &ReviewState,
+    d: &ReviewData,
+    labels: &Labels<'_>,
+    f: &mut Frame,
+    note: Rect,
+    area: Rect,
+    th: &Theme,
+) {
     let fit_r = match &d.weibull {
         Ok(fit) => fit,
         Err(e) => {
@@ -347,20 +355,39 @@ fn weibull(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
             return;
         }
     };
-    put_wrapped(
-        f,
-        note,
-        &format!(
-            "Weibull modulus m = {} (95 % {}–{}), characteristic strength σθ = {} MPa, \
-             n = {} · maximum likelihood (ASTM C1239) of the applied stress at fracture",
-            fmt_sig(fit_r.modulus, 3),
-            fmt_sig(fit_r.modulus_ci95.low, 2),
-            fmt_sig(fit_r.modulus_ci95.high, 2),
-            fmt_sig(to_mpa(fit_r.scale), 3),
-            fit_r.n
+    // the group highlighted on the Groups panel, beside the whole window
+    let grp = d
+        .table
+        .rows
+        .get(r.selected_in(Panel::Groups))
+        .filter(|g| g.count < d.table.total)
+        .and_then(|g| match &g.weibull {
+            Some(Ok(w)) => Some((labels.of(&d.table.keys, &g.key), w)),
+            _ => None,
+        });
+    let one = |w: &crate::fleet::WeibullFit| {
+        format!(
+            "m = {} (95\u{a0}% {}–{}), σθ = {} MPa, n = {}",
+            fmt_sig(w.modulus, 3),
+            fmt_sig(w.modulus_ci95.low, 2),
+            fmt_sig(w.modulus_ci95.high, 2),
+            fmt_sig(to_mpa(w.scale), 3),
+            w.n
+        )
+    };
+    let text = match &grp {
+        Some((label, w)) => format!(
+            "● all: {} · ○ {label}: {} · ML (ASTM C1239), applied stress",
+            one(fit_r),
+            one(w)
         ),
-        th.header,
-    );
+        None => format!(
+            "Weibull {} · maximum likelihood (ASTM C1239) of the applied stress at fracture \
+             (the group highlighted on Groups is drawn beside it)",
+            one(fit_r)
+        ),
+    };
+    put_wrapped(f, note, &text, th.header);
     if area.height < 4 || area.width < 20 || fit_r.plot.is_empty() {
         return;
     }
@@ -369,10 +396,22 @@ fn weibull(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
         Layout::vertical([Constraint::Fill(1), Constraint::Length(1)]).areas(area);
     let [ylab, plot] =
         Layout::horizontal([Constraint::Length(7), Constraint::Fill(1)]).areas(plot_rows);
+    let gplot: &[crate::fleet::weibull::PlotPoint] =
+        grp.as_ref().map(|g| &g.1.plot[..]).unwrap_or(&[]);
     let xs: Vec<f64> = fit_r.plot.iter().map(|p| p.x).collect();
     let ys: Vec<f64> = fit_r.plot.iter().map(|p| p.y).collect();
-    let (x0, x1) = span(&xs);
-    let (y0, y1) = span(&ys);
+    let all_x: Vec<f64> = xs
+        .iter()
+        .copied()
+        .chain(gplot.iter().map(|p| p.x))
+        .collect();
+    let all_y: Vec<f64> = ys
+        .iter()
+        .copied()
+        .chain(gplot.iter().map(|p| p.y))
+        .collect();
+    let (x0, x1) = span(&all_x);
+    let (y0, y1) = span(&all_y);
     let pts: Vec<(f64, f64)> = xs.iter().copied().zip(ys.iter().copied()).collect();
     let line = CLine {
         x1: x0,
@@ -387,17 +426,33 @@ fn weibull(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
         .y_bounds([y0, y1])
         .paint(|ctx| {
             ctx.draw(&line);
+            if let Some((_, g)) = &grp {
+                ctx.draw(&CLine {
+                    x1: x0,
+                    y1: g.plot_line(x0),
+                    x2: x1,
+                    y2: g.plot_line(x1),
+                    color: Color::Magenta,
+                });
+            }
         })
         .render(plot, f.buffer_mut());
     // the incidents as whole-cell marks over the line, so they read at any size
-    for (x, y) in &pts {
+    let gpts: Vec<(f64, f64, &str)> = gplot.iter().map(|p| (p.x, p.y, "○")).collect();
+    let marks: Vec<(f64, f64, &str)> = pts.iter().map(|(x, y)| (*x, *y, "●")).chain(gpts).collect();
+    for (x, y, mark) in &marks {
+        let style = if *mark == "○" {
+            th.warning
+        } else {
+            th.figure
+        };
         let cx = ((x - x0) / (x1 - x0) * (plot.width.saturating_sub(1)) as f64).round();
         let cy = ((y1 - y) / (y1 - y0) * (plot.height.saturating_sub(1)) as f64).round();
         if cx.is_finite() && cy.is_finite() && cx >= 0.0 && cy >= 0.0 {
             let (cx, cy) = (cx as u16, cy as u16);
             if cx < plot.width && cy < plot.height {
                 f.buffer_mut()
-                    .set_stringn(plot.x + cx, plot.y + cy, "●", 1, th.figure);
+                    .set_stringn(plot.x + cx, plot.y + cy, mark, 1, style);
             }
         }
     }
@@ -463,13 +518,13 @@ fn groups(
             .to_string()
     } else {
         let rest = if t.keys.iter().any(|k| k.is_exposure()) {
-            "HIGH: above the rest, exact one-sided test, Holm 5 %."
+            "HIGH: above the rest, exact test, Holm 5 %."
         } else {
             "Not an exposure key: each group over the whole fleet's exposure, no flags."
         };
         format!(
             "Rate per 1,000 pane-years; exposure = pane-yr column (panes in service × years \
-             in the window, {} in all). {rest}",
+             in window; {} in all). {rest}",
             fmt_sig(t.total_pane_years, 3)
         )
     };
