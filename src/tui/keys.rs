@@ -285,7 +285,7 @@ pub static TABLE: &[Binding] = &[
         ctxs: &[Log],
         keys: &[c('r')],
         label: "r",
-        desc: "fleet review: causes, months, stress, Weibull, groups with rates",
+        desc: "fleet review: causes, months, stress, Weibull, rates",
         action: Action::OpenReview,
         footer: true,
     },
