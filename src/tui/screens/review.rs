@@ -176,7 +176,7 @@ fn bars(
         .map(|r| UnicodeWidthStr::width(r.2.as_str()))
         .max()
         .unwrap_or(0)
-        .min(w / 3);
+        .min(w / 2);
     let bw = w.saturating_sub(lw + fw + 5);
     let start = scroll_start(selected.unwrap_or(0), h);
     for (line, (i, (label, v, fig))) in rows.iter().enumerate().skip(start).take(h).enumerate() {
@@ -520,7 +520,7 @@ fn groups(
         let rest = if t.keys.iter().any(|k| k.is_exposure()) {
             "HIGH: above the rest, exact test, Holm 5 %."
         } else {
-            "Not an exposure key: each group over the whole fleet's exposure, no flags."
+            "Not an exposure key: whole-fleet exposure, no flags."
         };
         format!(
             "Rate per 1,000 pane-years; exposure = pane-yr column (panes in service × years \
