@@ -375,6 +375,8 @@ fn every_panel_draws_its_figures_at_80x24_and_100x30() {
             "{}",
             of(Panel::Months)
         );
+        let months = of(Panel::Months);
+        assert!(months.contains("Season: peaks"), "{months}");
         assert!(
             of(Panel::Months).contains("2025-01"),
             "{}",

@@ -104,6 +104,8 @@ pub struct ReviewData {
     pub causes: GroupTable,
     pub months: Vec<MonthCount>,
     pub trend: Result<Trend, String>,
+    /// Counts per calendar month against the exposure of each month (chi-square test).
+    pub seasonality: Option<crate::fleet::Seasonality>,
     /// Applied stresses in the window, Pa: (bin lower edges, counts, bin width).
     pub histogram: (Vec<f64>, Vec<u64>, f64),
     /// Incidents in the window with no stress (not in the histogram or the fit).
@@ -418,6 +420,7 @@ fn compute(
         causes,
         months,
         trend,
+        seasonality: r.seasonality,
         histogram: (edges, counts, width),
         without_stress,
         weibull,

@@ -290,6 +290,34 @@ fn months(r: &ReviewState, d: &ReviewData, f: &mut Frame, note: Rect, area: Rect
             (m.label(), m.count as f64, rate)
         })
         .collect();
+    let mut area = area;
+    if let (Some(sz), true) = (&d.seasonality, area.height >= 6) {
+        const NAMES: [&str; 12] = [
+            "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
+        ];
+        let peaks: Vec<&str> = sz
+            .peak_months
+            .iter()
+            .filter_map(|m| NAMES.get((*m as usize).wrapping_sub(1)).copied())
+            .collect();
+        let peaks = if peaks.is_empty() {
+            "none".to_string()
+        } else {
+            peaks.join(", ")
+        };
+        let text = format!(
+            "Season: peaks {peaks} · p = {} · χ² of counts per month of year against its {}",
+            fmt_sig(sz.p_value, 2),
+            sz.basis.name()
+        );
+        area.height -= 1;
+        let last = Rect {
+            y: area.y + area.height,
+            height: 1,
+            ..area
+        };
+        put(f, last, &format!(" {text}"), last.width as usize, th.muted);
+    }
     bars(f, area, &rows, Some(r.selected()), th);
 }
 
