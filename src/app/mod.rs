@@ -11,6 +11,7 @@ pub mod hypothesis;
 pub mod incident;
 pub mod log;
 pub mod picklist;
+pub mod review;
 
 use std::path::{Path, PathBuf};
 
@@ -22,6 +23,7 @@ use form::Form;
 use incident::{EditKind, EditState, IncidentState, Lists, Section};
 use log::LogState;
 use picklist::{PickItem, PickList};
+use review::ReviewState;
 
 use crate::fracture::Boundary;
 use crate::store::model::{Incident, LookupKind, MirrorReading, Stamp};
@@ -38,6 +40,8 @@ pub enum Screen {
     Edit,
     /// The bench calculator (also usable with no incident open).
     Bench,
+    /// The fleet review: causes, months, stress, Weibull, groups with rates.
+    Review,
 }
 
 /// Which set of keys is active: the key table is keyed by this.
@@ -61,6 +65,8 @@ pub enum Ctx {
     MultiField,
     /// A pick-list has the focus.
     Pick,
+    /// The fleet review.
+    Review,
 }
 
 impl Ctx {
@@ -71,7 +77,7 @@ impl Ctx {
 
     /// Whether the shared moving keys (Global) also apply.
     pub fn has_global(self) -> bool {
-        matches!(self, Ctx::Log | Ctx::Incident | Ctx::Global)
+        matches!(self, Ctx::Log | Ctx::Incident | Ctx::Review | Ctx::Global)
     }
 }
 
@@ -117,6 +123,14 @@ pub enum Action {
     Paste(String),
     ScrollUp,
     ScrollDown,
+    /// Open the fleet review.
+    OpenReview,
+    /// Review: the next first grouping key.
+    GroupFirst,
+    /// Review: the next second grouping key (or none).
+    GroupSecond,
+    /// Review: the next date window.
+    NextWindow,
     /// The drawing area changed.
     Resize {
         width: u16,
@@ -174,6 +188,7 @@ pub struct App {
     pub edit: Option<EditState>,
     pub bench: BenchState,
     pub bench_target: Option<BenchTarget>,
+    pub review: ReviewState,
     pub width: u16,
     pub height: u16,
 }
@@ -251,6 +266,7 @@ impl App {
             edit: None,
             bench: BenchState::new(),
             bench_target: None,
+            review: ReviewState::new(),
             width: 80,
             height: 24,
         }
@@ -305,6 +321,7 @@ impl App {
                 .map(|e| e.form.ctx())
                 .unwrap_or(Ctx::Global),
             Screen::Bench => self.bench.ctx(),
+            Screen::Review => Ctx::Review,
         }
     }
 
@@ -365,6 +382,7 @@ impl App {
                 None => "bench calculator: no incident open (open one and press b to save into it)"
                     .to_string(),
             },
+            Screen::Review => self.review.status_line(),
         }
     }
 
@@ -507,6 +525,7 @@ impl App {
             Screen::Incident => self.update_incident(action),
             Screen::Edit => self.update_edit(action),
             Screen::Bench => self.update_bench(action),
+            Screen::Review => self.update_review(action),
         }
     }
 
@@ -609,6 +628,10 @@ impl App {
             Action::OpenBench => {
                 self.bench_target = None;
                 self.stack.push(Screen::Bench);
+                Ok(())
+            }
+            Action::OpenReview => {
+                self.open_review();
                 Ok(())
             }
             _ => Ok(()),
@@ -971,6 +994,70 @@ impl App {
                 self.info(what);
             }
             Err(e) => self.error(format!("not saved: {e}")),
+        }
+    }
+
+    // ---------------------------------------------------------------- review
+
+    /// Open the fleet review (figures computed now, from the store).
+    pub fn open_review(&mut self) {
+        self.reload_review();
+        if self.screen() != Screen::Review {
+            self.stack.push(Screen::Review);
+        }
+    }
+
+    fn reload_review(&mut self) {
+        let Some(store) = self.store.as_ref() else {
+            self.error("no database is open: the review needs the incident records");
+            return;
+        };
+        // the clock is read here, at the edge: the window ends today
+        let today = chrono::Utc::now().date_naive();
+        self.review.load(store, today);
+    }
+
+    fn update_review(&mut self, action: Action) {
+        let page = self.height.saturating_sub(8).max(1) as i64;
+        match action {
+            Action::NextSection | Action::Right => self.review.panel = self.review.panel.next(),
+            Action::PrevSection | Action::Left => self.review.panel = self.review.panel.prev(),
+            Action::Down | Action::ScrollDown => self.review.move_by(1),
+            Action::Up | Action::ScrollUp => self.review.move_by(-1),
+            Action::PageDown => self.review.move_by(page),
+            Action::PageUp => self.review.move_by(-page),
+            Action::Home => self.review.home(),
+            Action::End => self.review.end(),
+            Action::GroupFirst => {
+                self.review.next_first_key();
+                self.review.panel = review::Panel::Groups;
+                self.reload_review();
+            }
+            Action::GroupSecond => {
+                self.review.next_second_key();
+                self.review.panel = review::Panel::Groups;
+                self.reload_review();
+            }
+            Action::NextWindow => {
+                self.review.next_window();
+                self.reload_review();
+            }
+            Action::Confirm => match self.review.selected_filter() {
+                Ok((filter, _, _)) => {
+                    self.log.filter = filter;
+                    // the log sits beneath the review: go back to it, filtered
+                    while self.stack.len() > 1 && self.screen() != Screen::Log {
+                        self.leave_screen();
+                    }
+                    if self.screen() != Screen::Log {
+                        self.stack.push(Screen::Log);
+                    }
+                    // the filter line names the group; the status line gives its count
+                    self.reload_log();
+                }
+                Err(e) => self.error(e),
+            },
+            _ => {}
         }
     }
 

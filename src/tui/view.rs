@@ -30,6 +30,7 @@ pub fn screen_title(app: &App) -> &'static str {
         Screen::Incident => "Incident",
         Screen::Edit => "Edit",
         Screen::Bench => "Bench calculator",
+        Screen::Review => "Fleet review",
     }
 }
 
@@ -62,6 +63,7 @@ pub fn draw(app: &App, f: &mut Frame) {
         Screen::Incident => super::screens::incident::draw(app, f, body, th),
         Screen::Edit => super::screens::edit::draw(app, f, body, th),
         Screen::Bench => super::screens::bench::draw(app, f, body, th),
+        Screen::Review => super::screens::review::draw(app, f, body, th),
     }
     draw_status(app, f, status, th);
     draw_footer(app, f, footer, th);

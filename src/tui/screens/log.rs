@@ -136,7 +136,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
             let filt = app.log.filter_summary(&app.lists);
             if filt.is_empty() {
                 Line::styled(
-                    " All incidents · / search · f filter · s sort · n new · ? help",
+                    " All incidents · / search · f filter · s sort · n new · r review · ? help",
                     th.muted,
                 )
             } else {

@@ -5,3 +5,4 @@ pub mod edit;
 pub mod hypothesis;
 pub mod incident;
 pub mod log;
+pub mod review;

@@ -1,0 +1,449 @@
+//! The fleet review: recurring causes, incidents per month with the trend test, the stress
+//! histogram, the Weibull plot and the table of groups with rates and flags.
+//!
+//! Everything is computed when the screen opens or the grouping or window changes (from the
+//! store through `cli::stats::load`, the figures by `crate::fleet`); the view only reads.
+
+use chrono::{Months, NaiveDate};
+
+use crate::cli::stats::{StatsQuery, StressKind};
+use crate::fleet::{
+    histogram, monthly_counts, GroupOptions, GroupTable, GroupValue, Key, MonthCount, Trend,
+    WeibullFit, Window,
+};
+use crate::store::model::Filter;
+use crate::store::Store;
+
+/// The panels, one at a time at 80×24 (Tab moves between them).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Panel {
+    Causes,
+    Months,
+    Stress,
+    Weibull,
+    Groups,
+}
+
+impl Panel {
+    pub const ALL: [Panel; 5] = [
+        Panel::Causes,
+        Panel::Months,
+        Panel::Stress,
+        Panel::Weibull,
+        Panel::Groups,
+    ];
+
+    pub fn title(self) -> &'static str {
+        match self {
+            Panel::Causes => "Causes",
+            Panel::Months => "Per month",
+            Panel::Stress => "Stress",
+            Panel::Weibull => "Weibull",
+            Panel::Groups => "Groups",
+        }
+    }
+
+    fn index(self) -> usize {
+        Panel::ALL.iter().position(|p| *p == self).unwrap_or(0)
+    }
+
+    pub fn next(self) -> Panel {
+        Panel::ALL[(self.index() + 1) % Panel::ALL.len()]
+    }
+
+    pub fn prev(self) -> Panel {
+        Panel::ALL[(self.index() + Panel::ALL.len() - 1) % Panel::ALL.len()]
+    }
+
+    /// Whether the panel has rows to choose with ↑/↓ and open with Enter.
+    pub fn has_rows(self) -> bool {
+        matches!(self, Panel::Causes | Panel::Months | Panel::Groups)
+    }
+}
+
+/// The date window of the review.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum WindowChoice {
+    /// The last twelve months up to today.
+    Last12,
+    /// From the earliest incident (or exposure row) to today.
+    All,
+}
+
+impl WindowChoice {
+    pub fn label(self) -> &'static str {
+        match self {
+            WindowChoice::Last12 => "last 12 months",
+            WindowChoice::All => "all records",
+        }
+    }
+}
+
+/// The keys the review groups by: those the log can also filter by (so Enter can open a
+/// group), plus month and season.
+pub const GROUP_KEYS: [Key; 7] = [
+    Key::Cause,
+    Key::Supplier,
+    Key::Lot,
+    Key::Site,
+    Key::OriginType,
+    Key::Month,
+    Key::Season,
+];
+
+/// Bins of the stress histogram.
+pub const HISTOGRAM_BINS: usize = 10;
+
+/// What was computed for the current grouping and window.
+#[derive(Debug, Clone)]
+pub struct ReviewData {
+    pub window: Window,
+    /// The groups of the chosen grouping, with rates (largest first).
+    pub table: GroupTable,
+    /// Grouped by cause alone (the bar chart), largest first.
+    pub causes: GroupTable,
+    pub months: Vec<MonthCount>,
+    pub trend: Result<Trend, String>,
+    /// Counts per calendar month against the exposure of each month (chi-square test).
+    pub seasonality: Option<crate::fleet::Seasonality>,
+    /// Applied stresses in the window, Pa: (bin lower edges, counts, bin width).
+    pub histogram: (Vec<f64>, Vec<u64>, f64),
+    /// Incidents in the window with no stress (not in the histogram or the fit).
+    pub without_stress: usize,
+    pub weibull: Result<WeibullFit, String>,
+    /// Exposure rows known to the store (0: rates cannot be given).
+    pub exposure_rows: usize,
+}
+
+/// The review screen's state.
+#[derive(Debug, Clone)]
+pub struct ReviewState {
+    pub keys: Vec<Key>,
+    pub window: WindowChoice,
+    pub panel: Panel,
+    /// Selected row per panel (index of [`Panel::ALL`]).
+    pub selected: [usize; 5],
+    pub data: Option<ReviewData>,
+    /// Why the figures could not be computed.
+    pub error: Option<String>,
+}
+
+impl Default for ReviewState {
+    fn default() -> Self {
+        ReviewState::new()
+    }
+}
+
+impl ReviewState {
+    pub fn new() -> Self {
+        ReviewState {
+            keys: vec![Key::Cause],
+            window: WindowChoice::Last12,
+            panel: Panel::Causes,
+            selected: [0; 5],
+            data: None,
+            error: None,
+        }
+    }
+
+    pub fn selected(&self) -> usize {
+        self.selected[self.panel.index()]
+    }
+
+    /// The selected row of `panel` (kept while another panel is shown).
+    pub fn selected_in(&self, panel: Panel) -> usize {
+        self.selected[panel.index()]
+    }
+
+    /// Rows in the current panel.
+    pub fn rows(&self) -> usize {
+        let Some(d) = &self.data else { return 0 };
+        match self.panel {
+            Panel::Causes => d.causes.rows.len(),
+            Panel::Months => d.months.len(),
+            Panel::Groups => d.table.rows.len(),
+            Panel::Stress | Panel::Weibull => 0,
+        }
+    }
+
+    /// Move the selection by `delta` rows (clamped).
+    pub fn move_by(&mut self, delta: i64) {
+        let n = self.rows();
+        let i = self.panel.index();
+        if n == 0 {
+            self.selected[i] = 0;
+            return;
+        }
+        let cur = self.selected[i] as i64;
+        self.selected[i] = (cur + delta).clamp(0, n as i64 - 1) as usize;
+    }
+
+    pub fn home(&mut self) {
+        self.selected[self.panel.index()] = 0;
+    }
+
+    pub fn end(&mut self) {
+        let n = self.rows();
+        self.selected[self.panel.index()] = n.saturating_sub(1);
+    }
+
+    /// Next first grouping key (the second is dropped when it would repeat the first).
+    pub fn next_first_key(&mut self) {
+        let cur = self.keys.first().copied().unwrap_or(Key::Cause);
+        let i = GROUP_KEYS.iter().position(|k| *k == cur).unwrap_or(0);
+        let next = GROUP_KEYS[(i + 1) % GROUP_KEYS.len()];
+        let second = self.keys.get(1).copied().filter(|k| *k != next);
+        self.keys = std::iter::once(next).chain(second).collect();
+    }
+
+    /// Next second grouping key: none, then every key but the first, then none again.
+    pub fn next_second_key(&mut self) {
+        let first = self.keys.first().copied().unwrap_or(Key::Cause);
+        let choices: Vec<Option<Key>> = std::iter::once(None)
+            .chain(GROUP_KEYS.iter().copied().filter(|k| *k != first).map(Some))
+            .collect();
+        let cur = self.keys.get(1).copied();
+        let i = choices.iter().position(|k| *k == cur).unwrap_or(0);
+        let next = choices[(i + 1) % choices.len()];
+        self.keys = std::iter::once(first).chain(next).collect();
+    }
+
+    pub fn next_window(&mut self) {
+        self.window = match self.window {
+            WindowChoice::Last12 => WindowChoice::All,
+            WindowChoice::All => WindowChoice::Last12,
+        };
+    }
+
+    /// "cause" or "supplier × lot".
+    pub fn grouping_label(&self) -> String {
+        self.keys
+            .iter()
+            .map(|k| k.name())
+            .collect::<Vec<_>>()
+            .join(" × ")
+    }
+
+    /// Recompute everything from the store (`today` is the window's end).
+    pub fn load(&mut self, store: &Store, today: NaiveDate) {
+        match compute(store, &self.keys, self.window, today) {
+            Ok(d) => {
+                self.data = Some(d);
+                self.error = None;
+            }
+            Err(e) => {
+                self.data = None;
+                self.error = Some(e);
+            }
+        }
+        let keep = self.panel;
+        for p in Panel::ALL {
+            self.panel = p;
+            let n = self.rows();
+            let i = p.index();
+            self.selected[i] = self.selected[i].min(n.saturating_sub(1));
+        }
+        self.panel = keep;
+    }
+
+    /// The log filter for the selected row of the current panel, with the row's count, or
+    /// why that row cannot be shown in the log.
+    pub fn selected_filter(&self) -> Result<(Filter, u64, String), String> {
+        let (f, n, label) = self.selected_filter_any()?;
+        if n == 0 {
+            return Err(format!("no incidents in {label}"));
+        }
+        Ok((f, n, label))
+    }
+
+    fn selected_filter_any(&self) -> Result<(Filter, u64, String), String> {
+        let Some(d) = &self.data else {
+            return Err("nothing to open: the review has no figures".to_string());
+        };
+        let i = self.selected();
+        let mut f = Filter {
+            since: Some(d.window.since),
+            until: Some(d.window.until),
+            ..Default::default()
+        };
+        match self.panel {
+            Panel::Causes => {
+                let row = d.causes.rows.get(i).ok_or("no cause to open")?;
+                for (k, v) in d.causes.keys.iter().zip(&row.values) {
+                    apply_value(&mut f, *k, v, &d.window)?;
+                }
+                Ok((f, row.count, row.key.join(" · ")))
+            }
+            Panel::Groups => {
+                let row = d.table.rows.get(i).ok_or("no group to open")?;
+                for (k, v) in d.table.keys.iter().zip(&row.values) {
+                    apply_value(&mut f, *k, v, &d.window)?;
+                }
+                Ok((f, row.count, row.key.join(" · ")))
+            }
+            Panel::Months => {
+                let m = d.months.get(i).ok_or("no month to open")?;
+                let v = GroupValue::Month {
+                    year: m.year,
+                    month: m.month,
+                };
+                apply_value(&mut f, Key::Month, &v, &d.window)?;
+                Ok((f, m.count, m.label()))
+            }
+            Panel::Stress | Panel::Weibull => Err(
+                "Enter opens a group from the Causes, Per month or Groups panel (Tab moves)"
+                    .to_string(),
+            ),
+        }
+    }
+}
+
+/// Narrow a log filter to one group value.
+fn apply_value(f: &mut Filter, key: Key, v: &GroupValue, window: &Window) -> Result<(), String> {
+    match v {
+        GroupValue::Text(None) => Err(format!(
+            "the log cannot filter to incidents with no {} recorded",
+            key.name()
+        )),
+        GroupValue::Text(Some(s)) => {
+            let slot = match key {
+                Key::Cause => &mut f.cause,
+                Key::OriginType => &mut f.origin_type,
+                Key::Supplier => &mut f.supplier,
+                Key::Lot => &mut f.lot,
+                Key::Site => &mut f.site,
+                other => {
+                    return Err(format!("the log cannot filter by {}", other.name()));
+                }
+            };
+            *slot = Some(s.clone());
+            Ok(())
+        }
+        GroupValue::Month { year, month } => {
+            let (a, b) = crate::fleet::group::month_bounds(*year, *month)
+                .ok_or_else(|| format!("{year:04}-{month:02} is not a month"))?;
+            f.since = Some(a.max(window.since));
+            f.until = Some(b.min(window.until));
+            Ok(())
+        }
+        GroupValue::Season(_) => Err(
+            "the log filters by dates, not by season: group by month to open the incidents"
+                .to_string(),
+        ),
+    }
+}
+
+/// The start of the window for `choice`.
+fn window_for(
+    choice: WindowChoice,
+    q: &StatsQuery,
+    incidents: &[crate::fleet::IncidentFacts],
+    exposures: &[crate::fleet::Exposure],
+    today: NaiveDate,
+) -> Result<Window, String> {
+    match choice {
+        WindowChoice::Last12 => {
+            let since = today
+                .checked_sub_months(Months::new(12))
+                .and_then(|d| d.succ_opt())
+                .unwrap_or(today);
+            Window::new(since, today).map_err(|e| e.to_string())
+        }
+        WindowChoice::All => q
+            .window(incidents, exposures, today)
+            .map_err(|e| e.to_string()),
+    }
+}
+
+fn compute(
+    store: &Store,
+    keys: &[Key],
+    choice: WindowChoice,
+    today: NaiveDate,
+) -> Result<ReviewData, String> {
+    let q = StatsQuery {
+        keys: keys.to_vec(),
+        since: None,
+        until: None,
+        rates: true,
+        trend: true,
+        weibull: true,
+        origin_type: None,
+        only: Vec::new(),
+        stress: StressKind::Applied,
+        json: false,
+    };
+    let (incidents, exposures) =
+        crate::cli::stats::load(store, &q).map_err(|e| e.message().to_string())?;
+    let window = window_for(choice, &q, &incidents, &exposures, today)?;
+    let r = crate::cli::stats::compute(&q, &incidents, &exposures, window)
+        .map_err(|e| e.message().to_string())?;
+    let causes = crate::fleet::group(
+        &incidents,
+        &exposures,
+        &GroupOptions {
+            keys: vec![Key::Cause],
+            window,
+            rates: false,
+            weibull: false,
+            origin_type: None,
+            flag_level: 0.05,
+        },
+    )
+    .map_err(|e| e.to_string())?;
+    let dates: Vec<NaiveDate> = incidents
+        .iter()
+        .map(|f| f.found)
+        .filter(|d| window.contains(*d))
+        .collect();
+    let months = monthly_counts(&dates, &exposures, &window);
+    let in_window: Vec<&crate::fleet::IncidentFacts> = incidents
+        .iter()
+        .filter(|f| window.contains(f.found))
+        .collect();
+    let stresses: Vec<f64> = in_window.iter().filter_map(|f| f.stress_pa).collect();
+    let without_stress = in_window.len() - stresses.len();
+    let (edges, counts) = histogram(&stresses, HISTOGRAM_BINS);
+    let width = match (edges.first(), edges.get(1)) {
+        (Some(a), Some(b)) => b - a,
+        _ => 0.0,
+    };
+    let trend = r
+        .trend
+        .unwrap_or_else(|| Err("no trend was computed".to_string()));
+    let weibull = r
+        .overall_weibull
+        .unwrap_or_else(|| Err("no fit was computed".to_string()));
+    Ok(ReviewData {
+        window,
+        table: r.table,
+        causes,
+        months,
+        trend,
+        seasonality: r.seasonality,
+        histogram: (edges, counts, width),
+        without_stress,
+        weibull,
+        exposure_rows: exposures.len(),
+    })
+}
+
+impl ReviewState {
+    /// What the status line shows on the review screen.
+    pub fn status_line(&self) -> String {
+        if let Some(e) = &self.error {
+            return format!("review: {e}");
+        }
+        let Some(d) = &self.data else {
+            return "review: no figures yet".to_string();
+        };
+        format!(
+            "{} incidents · {} to {} ({}) · by {}",
+            crate::app::group_thousands(d.table.total),
+            d.window.since,
+            d.window.until,
+            self.window.label(),
+            self.grouping_label()
+        )
+    }
+}

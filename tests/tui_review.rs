@@ -1,0 +1,451 @@
+//! The fleet review screen over a real store on a temporary file, driven by key events
+//! through the key table and drawn to TestBackend: its counts are `fleet::group`'s, and
+//! Enter opens the log filtered to the group with the same count.
+
+use std::path::{Path, PathBuf};
+
+use chrono::{NaiveDate, TimeZone, Utc};
+use ratatui::crossterm::event::KeyCode;
+use shardlog::app::review::Panel;
+use shardlog::app::{App, Screen};
+use shardlog::cli::stats::{StatsQuery, StressKind};
+use shardlog::fleet::{group, GroupOptions, GroupTable, Key};
+use shardlog::store::{Cause, ComputedResult, Examination, Exposure, Incident, Ply, Stamp, Store};
+use shardlog::tui::harness::{key, render, send, type_str};
+
+fn d(y: i32, m: u32, day: u32) -> NaiveDate {
+    NaiveDate::from_ymd_opt(y, m, day).unwrap()
+}
+
+/// Invented fleet (all names invented): two suppliers, three lots, one depot, 2025; lot
+/// AF-6-02 of "ALDER" has nickel sulfide breaks in fully tempered panes (the same fleet as
+/// tests/stats_cli.rs).
+fn build(dir: &Path) -> PathBuf {
+    let db = dir.join("fleet.db");
+    let mut store = Store::open(&db).unwrap();
+    let stamp = Stamp::new("test", Utc.with_ymd_and_hms(2026, 1, 5, 9, 0, 0).unwrap());
+    // (supplier, product, lot, cause, origin, temper, applied MPa)
+    let mut specs: Vec<(&str, &str, &str, &str, &str, &str, f64)> = Vec::new();
+    for i in 0..4 {
+        let s = 22.0 + 3.0 * i as f64;
+        specs.push((
+            "ALDER",
+            "AF-6",
+            "AF-6-01",
+            "thermal",
+            "edge_cutting_damage",
+            "annealed",
+            s,
+        ));
+    }
+    for i in 0..12 {
+        let s = 8.0 + 1.5 * i as f64;
+        specs.push((
+            "ALDER",
+            "AF-6",
+            "AF-6-02",
+            "nickel_sulfide",
+            "inclusion_nis",
+            "fully_tempered",
+            s,
+        ));
+    }
+    for i in 0..2 {
+        let s = 30.0 + 4.0 * i as f64;
+        specs.push((
+            "ALDER",
+            "AF-6",
+            "AF-6-02",
+            "thermal",
+            "edge_cutting_damage",
+            "fully_tempered",
+            s,
+        ));
+    }
+    for i in 0..12 {
+        let impact = i % 3 == 0;
+        let (cause, origin, s) = if impact {
+            ("impact", "impact_site", 90.0 + 10.0 * i as f64)
+        } else {
+            ("thermal", "edge_cutting_damage", 25.0 + 2.0 * i as f64)
+        };
+        specs.push((
+            "BIRCH",
+            "BG-8",
+            "BG-8-01",
+            cause,
+            origin,
+            "heat_strengthened",
+            s,
+        ));
+    }
+    for (i, &(supplier, product, lot, cause, origin, temper, applied)) in specs.iter().enumerate() {
+        let found = d(2025, 1 + (i as u32 * 5) % 12, 1 + (i as u32 * 7) % 28);
+        let mut inc = Incident::draft(found);
+        inc.site = Some("DEPOT-N".into());
+        inc.glass.supplier = Some(supplier.into());
+        inc.glass.product = Some(product.into());
+        inc.glass.lot = Some(lot.into());
+        inc.glass.plies = vec![Ply {
+            material: None,
+            temper: Some(temper.into()),
+            thickness_m: Some(0.006),
+            coating: String::new(),
+            edge_finish: String::new(),
+        }];
+        inc.cause = Some(Cause {
+            category: cause.into(),
+            factors: vec![],
+            confidence: "probable".into(),
+            responsibility: "undetermined".into(),
+            note: String::new(),
+        });
+        inc.examinations = vec![Examination {
+            id: String::new(),
+            examined_on: Some(found),
+            analyst: "bench 1".into(),
+            origin_type: Some(origin.into()),
+            material: None,
+            readings: vec![],
+            flaw: None,
+            result: Some(ComputedResult {
+                computed_at: stamp.at,
+                code_version: "test".into(),
+                stress_pa: Some(applied * 1e6),
+                stress_low_pa: None,
+                stress_high_pa: None,
+                residual_pa: Some(0.0),
+                applied_stress_pa: Some(applied * 1e6),
+                flaw_size_m: None,
+                constants: serde_json::json!({}),
+                analysis: serde_json::json!({}),
+            }),
+            notes: String::new(),
+        }];
+        store.create_incident(&inc, &stamp).unwrap();
+    }
+    for (supplier, product, lot, panes) in [
+        ("ALDER", "AF-6", "AF-6-01", 400),
+        ("ALDER", "AF-6", "AF-6-02", 400),
+        ("BIRCH", "BG-8", "BG-8-01", 800),
+    ] {
+        store
+            .add_exposure(
+                &Exposure {
+                    id: String::new(),
+                    supplier: supplier.into(),
+                    product: Some(product.into()),
+                    lot: Some(lot.into()),
+                    site: Some("DEPOT-N".into()),
+                    installed_on: d(2024, 1, 1),
+                    removed_on: None,
+                    panes,
+                },
+                &stamp,
+            )
+            .unwrap();
+    }
+    db
+}
+
+struct Fixture {
+    _dir: tempfile::TempDir,
+    db: PathBuf,
+}
+
+fn fixture() -> (Fixture, App) {
+    let dir = tempfile::tempdir().unwrap();
+    let db = build(dir.path());
+    let app = App::with_store(Store::open(&db).unwrap(), &db).unwrap();
+    (Fixture { _dir: dir, db }, app)
+}
+
+/// What `fleet::group` gives for `keys` over the review's window, from the same store.
+fn expected(db: &Path, app: &App, keys: &[Key]) -> GroupTable {
+    let store = Store::open(db).unwrap();
+    let q = StatsQuery {
+        keys: keys.to_vec(),
+        since: None,
+        until: None,
+        rates: true,
+        trend: false,
+        weibull: false,
+        origin_type: None,
+        only: vec![],
+        stress: StressKind::Applied,
+        json: false,
+    };
+    let (facts, exposure) = shardlog::cli::stats::load(&store, &q).unwrap();
+    let window = app.review.data.as_ref().expect("figures").window;
+    group(
+        &facts,
+        &exposure,
+        &GroupOptions {
+            keys: keys.to_vec(),
+            window,
+            rates: true,
+            weibull: false,
+            origin_type: None,
+            flag_level: 0.05,
+        },
+    )
+    .unwrap()
+}
+
+fn text(lines: &[String]) -> String {
+    lines.join("\n")
+}
+
+/// Open the review from the log and widen the window to all records (the fleet is 2025).
+fn open_all(app: &mut App) {
+    send(app, &key(KeyCode::Char('r')));
+    assert_eq!(app.screen(), Screen::Review);
+    send(app, &key(KeyCode::Char('w')));
+    assert_eq!(app.review.window.label(), "all records");
+}
+
+#[test]
+fn the_review_opens_from_the_log_with_causes_largest_first() {
+    let (f, mut app) = fixture();
+    open_all(&mut app);
+    let t = text(&render(&mut app, 80, 24));
+    assert!(t.contains("Fleet review"), "{t}");
+    assert!(t.contains("30 incidents"), "{t}");
+    let want = expected(&f.db, &app, &[Key::Cause]);
+    let got = &app.review.data.as_ref().unwrap().causes;
+    let pairs = |g: &GroupTable| -> Vec<(Vec<String>, u64)> {
+        g.rows.iter().map(|r| (r.key.clone(), r.count)).collect()
+    };
+    assert_eq!(pairs(got), pairs(&want));
+    // thermal 14, nickel sulfide 12, impact 4: largest first, each count on screen
+    assert_eq!(want.rows[0].key, vec!["thermal".to_string()]);
+    assert_eq!(want.rows[0].count, 14);
+    for r in &want.rows {
+        assert!(
+            t.contains(&format!("{} (", r.count)),
+            "count {} missing:\n{t}",
+            r.count
+        );
+    }
+    let lines = render(&mut app, 80, 24);
+    let first = lines
+        .iter()
+        .position(|l| l.contains("14 (47 %)"))
+        .expect(&t);
+    let second = lines
+        .iter()
+        .position(|l| l.contains("12 (40 %)"))
+        .expect(&t);
+    assert!(first < second, "{t}");
+}
+
+#[test]
+fn changing_the_grouping_gives_fleet_groups_counts_and_rates() {
+    let (f, mut app) = fixture();
+    open_all(&mut app);
+    // 1: cause → supplier
+    send(&mut app, &key(KeyCode::Char('1')));
+    assert_eq!(app.review.keys, vec![Key::Supplier]);
+    assert_eq!(app.review.panel, Panel::Groups);
+    let want = expected(&f.db, &app, &[Key::Supplier]);
+    let got = &app.review.data.as_ref().unwrap().table;
+    assert_eq!(got.rows.len(), want.rows.len());
+    for (g, w) in got.rows.iter().zip(&want.rows) {
+        assert_eq!(g.key, w.key);
+        assert_eq!(g.count, w.count);
+        assert_eq!(g.rate.map(|r| r.rate), w.rate.map(|r| r.rate));
+    }
+    let t = text(&render(&mut app, 80, 24));
+    assert!(t.contains("ALDER"), "{t}");
+    assert!(t.contains("BIRCH"), "{t}");
+    assert!(t.contains("per 1,000 pane-years"), "{t}");
+    assert!(t.contains("pane-yr"), "{t}");
+    // 2 twice: supplier × cause, then supplier × lot
+    send(&mut app, &key(KeyCode::Char('2')));
+    send(&mut app, &key(KeyCode::Char('2')));
+    assert_eq!(app.review.keys, vec![Key::Supplier, Key::Lot]);
+    let want = expected(&f.db, &app, &[Key::Supplier, Key::Lot]);
+    let got = &app.review.data.as_ref().unwrap().table;
+    let pairs = |g: &GroupTable| -> Vec<(Vec<String>, u64, bool)> {
+        g.rows
+            .iter()
+            .map(|r| (r.key.clone(), r.count, r.flagged))
+            .collect()
+    };
+    assert_eq!(pairs(got), pairs(&want));
+    let bad = got.rows.iter().find(|r| r.key[1] == "AF-6-02").unwrap();
+    assert_eq!(bad.count, 14);
+    assert!(bad.flagged);
+    let lines = render(&mut app, 80, 24);
+    let row = lines
+        .iter()
+        .find(|l| l.contains("AF-6-02"))
+        .unwrap_or_else(|| panic!("{}", text(&lines)));
+    assert!(row.contains("HIGH"), "{row}");
+    assert!(row.contains(" 14 "), "{row}");
+    let other = lines.iter().find(|l| l.contains("AF-6-01")).unwrap();
+    assert!(!other.contains("HIGH"), "{other}");
+}
+
+#[test]
+fn enter_on_a_group_opens_the_log_filtered_to_it_with_the_same_count() {
+    let (_f, mut app) = fixture();
+    open_all(&mut app);
+    send(&mut app, &key(KeyCode::Char('1')));
+    send(&mut app, &key(KeyCode::Char('1')));
+    assert_eq!(app.review.keys, vec![Key::Lot]);
+    let rows = &app.review.data.as_ref().unwrap().table.rows;
+    let i = rows.iter().position(|r| r.key[0] == "AF-6-02").unwrap();
+    let count = rows[i].count;
+    for _ in 0..i {
+        send(&mut app, &key(KeyCode::Down));
+    }
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Log);
+    assert_eq!(app.log.filter.lot.as_deref(), Some("AF-6-02"));
+    let t = text(&render(&mut app, 80, 24));
+    assert_eq!(app.log.total, Some(count));
+    assert!(t.contains(&format!("{count} incidents match")), "{t}");
+    // back to the log's own keys: x clears the filter
+    type_str(&mut app, "x");
+    render(&mut app, 80, 24);
+    assert_eq!(app.log.filter.lot, None);
+    assert_eq!(app.log.total, Some(30));
+}
+
+#[test]
+fn enter_on_a_cause_bar_and_on_a_month_opens_their_incidents() {
+    let (_f, mut app) = fixture();
+    open_all(&mut app);
+    // causes panel, first bar: thermal
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Log);
+    assert_eq!(app.log.filter.cause.as_deref(), Some("thermal"));
+    render(&mut app, 80, 24);
+    assert_eq!(app.log.total, Some(14));
+    // again from the log: the review keeps its grouping and window
+    send(&mut app, &key(KeyCode::Char('r')));
+    assert_eq!(app.review.window.label(), "all records");
+    send(&mut app, &key(KeyCode::Tab));
+    assert_eq!(app.review.panel, Panel::Months);
+    let months = app.review.data.as_ref().unwrap().months.clone();
+    let i = months.iter().position(|m| m.count > 0).unwrap();
+    for _ in 0..i {
+        send(&mut app, &key(KeyCode::Down));
+    }
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Log);
+    let m = months[i];
+    assert_eq!(
+        app.log.filter.since.map(|d| d.format("%Y-%m").to_string()),
+        Some(m.label())
+    );
+    render(&mut app, 80, 24);
+    assert_eq!(app.log.total, Some(m.count));
+}
+
+#[test]
+fn a_season_group_cannot_open_the_log_and_says_why() {
+    let (_f, mut app) = fixture();
+    open_all(&mut app);
+    for _ in 0..6 {
+        send(&mut app, &key(KeyCode::Char('1')));
+    }
+    assert_eq!(app.review.keys, vec![Key::Season]);
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Review);
+    let t = text(&render(&mut app, 80, 24));
+    assert!(t.contains("not by season"), "{t}");
+}
+
+#[test]
+fn every_panel_draws_its_figures_at_80x24_and_100x30() {
+    let (_f, mut app) = fixture();
+    open_all(&mut app);
+    for (w, h) in [(80, 24), (100, 30)] {
+        let mut seen = Vec::new();
+        for _ in 0..5 {
+            let t = text(&render(&mut app, w, h));
+            seen.push((app.review.panel, t));
+            send(&mut app, &key(KeyCode::Tab));
+        }
+        let of = |p: Panel| &seen.iter().find(|(q, _)| *q == p).unwrap().1;
+        assert!(
+            of(Panel::Months).contains("Trend:"),
+            "{}",
+            of(Panel::Months)
+        );
+        let months = of(Panel::Months);
+        assert!(months.contains("Season: peaks"), "{months}");
+        assert!(
+            of(Panel::Months).contains("2025-01"),
+            "{}",
+            of(Panel::Months)
+        );
+        assert!(of(Panel::Stress).contains("MPa"), "{}", of(Panel::Stress));
+        assert!(
+            of(Panel::Stress).contains("30 incidents"),
+            "{}",
+            of(Panel::Stress)
+        );
+        let wb = of(Panel::Weibull);
+        assert!(wb.contains("m = ") && wb.contains("●"), "{wb}");
+        // the group highlighted on Groups (thermal, the largest cause) beside the whole window
+        assert!(wb.contains("○ thermal") && wb.contains("n = 14"), "{wb}");
+        assert!(wb.contains("n = 30"), "{wb}");
+        assert!(
+            of(Panel::Groups).contains("pane-yr"),
+            "{}",
+            of(Panel::Groups)
+        );
+        for (_, t) in &seen {
+            for line in t.lines() {
+                assert!(unicode_width::UnicodeWidthStr::width(line) <= w as usize);
+            }
+        }
+    }
+}
+
+#[test]
+fn zero_and_tiny_sizes_do_not_panic() {
+    let (_f, mut app) = fixture();
+    open_all(&mut app);
+    for _ in 0..5 {
+        for (w, h) in [
+            (0, 0),
+            (1, 1),
+            (0, 24),
+            (80, 0),
+            (12, 4),
+            (40, 10),
+            (41, 11),
+            (50, 12),
+        ] {
+            render(&mut app, w, h);
+        }
+        send(&mut app, &key(KeyCode::Tab));
+    }
+    for _ in 0..40 {
+        send(&mut app, &key(KeyCode::PageDown));
+        send(&mut app, &key(KeyCode::Up));
+    }
+    render(&mut app, 40, 10);
+}
+
+#[test]
+fn an_empty_database_opens_the_review_without_figures_to_fail_on() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("empty.db");
+    let mut app = App::with_store(Store::open(&db).unwrap(), &db).unwrap();
+    send(&mut app, &key(KeyCode::Char('r')));
+    assert_eq!(app.screen(), Screen::Review);
+    for _ in 0..5 {
+        let t = text(&render(&mut app, 80, 24));
+        assert!(!t.contains("panicked"), "{t}");
+        send(&mut app, &key(KeyCode::Enter));
+        assert_eq!(app.screen(), Screen::Review);
+        send(&mut app, &key(KeyCode::Tab));
+    }
+    send(&mut app, &key(KeyCode::Esc));
+    assert_eq!(app.screen(), Screen::Log);
+}
