@@ -232,6 +232,17 @@ fn upper_limit(unit: Unit) -> f64 {
     }
 }
 
+/// Lower limits far below any real part, so nothing downstream underflows to zero or
+/// overflows to infinity (a subnormal radius once gave a stress of 6e161 MPa and a flaw of
+/// 0 µm): 1 nm for lengths, 0.001 MPa·√m for constants and toughness.
+fn lower_limit(unit: Unit) -> f64 {
+    match unit.dimension() {
+        crate::units::Dimension::Length => 1e-9,
+        crate::units::Dimension::Toughness => 1e3,
+        _ => 0.0,
+    }
+}
+
 fn check_positive(field: &str, what: &str, v: f64, unit: Unit) -> Result<(), FractureError> {
     if !v.is_finite() || v <= 0.0 {
         return Err(FractureError::invalid(
@@ -246,6 +257,14 @@ fn check_positive(field: &str, what: &str, v: f64, unit: Unit) -> Result<(), Fra
             field,
             format!("{what} of {} is out of range", format(v, unit)),
             format!("at most {}", format(max, unit)),
+        ));
+    }
+    let min = lower_limit(unit);
+    if v < min {
+        return Err(FractureError::invalid(
+            field,
+            format!("{what} of {} is out of range", format(v, unit)),
+            format!("at least {}", format(min, unit)),
         ));
     }
     Ok(())

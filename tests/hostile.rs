@@ -1,0 +1,555 @@
+//! Hostile input across the command line, over the real binary: SQL fragments, control
+//! characters, terminal escape sequences, enormous values, wrong encodings, path traversal.
+//!
+//! Every case must end with a clear error or a normal result: never a panic, never a signal,
+//! never a raw escape or control byte on stdout or stderr (the run sets `CLICOLOR_FORCE=1`, so
+//! clap behaves as it does on a terminal, where it would otherwise pass escapes through).
+//! Cases that touch a database compare a hash of the file before and after a refusal.
+
+use std::ffi::OsString;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Stdio};
+
+use sha2::{Digest, Sha256};
+
+/// One hostile command line.
+struct Case {
+    name: &'static str,
+    args: Vec<OsString>,
+    /// Exit codes that are a correct answer (0 ok, 1 work failure, 2 usage error).
+    codes: &'static [i32],
+}
+
+fn case(name: &'static str, args: &[&str], codes: &'static [i32]) -> Case {
+    Case {
+        name,
+        args: args.iter().map(OsString::from).collect(),
+        codes,
+    }
+}
+
+fn os_case(name: &'static str, args: Vec<OsString>, codes: &'static [i32]) -> Case {
+    Case { name, args, codes }
+}
+
+const USAGE: &[i32] = &[2];
+const OK: &[i32] = &[0];
+const REFUSED: &[i32] = &[1, 2];
+
+/// Bytes a terminal would act on: ESC, BEL, the other C0 controls (tab and newline are
+/// fine), DEL, and the C1 controls in their UTF-8 form (U+0080..U+009F, e.g. CSI U+009B).
+fn control_bytes(bytes: &[u8]) -> Vec<String> {
+    let mut found = Vec::new();
+    for (i, &b) in bytes.iter().enumerate() {
+        let c0 = (b < 0x20 && b != b'\n' && b != b'\t') || b == 0x7f;
+        let c1 = b == 0xc2 && bytes.get(i + 1).is_some_and(|n| (0x80..=0x9f).contains(n));
+        if c0 || c1 {
+            found.push(format!("byte {i}: {b:#04x}"));
+        }
+    }
+    found
+}
+
+struct Run {
+    code: Option<i32>,
+    stdout: Vec<u8>,
+    stderr: Vec<u8>,
+}
+
+fn run_in(dir: &Path, args: &[OsString]) -> Run {
+    let out = Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        .args(args)
+        .current_dir(dir)
+        .env("SHARDLOG_DB", dir.join("default.db"))
+        .env("HOME", dir)
+        .env("XDG_DATA_HOME", dir.join("data"))
+        .env("CLICOLOR_FORCE", "1")
+        .env_remove("NO_COLOR")
+        .stdin(Stdio::null())
+        .output()
+        .expect("the binary runs");
+    Run {
+        code: out.status.code(),
+        stdout: out.stdout,
+        stderr: out.stderr,
+    }
+}
+
+/// The problems of one run, empty when the run is a correct answer.
+fn judge(c: &Case, r: &Run) -> Vec<String> {
+    let mut problems = Vec::new();
+    let stderr = String::from_utf8_lossy(&r.stderr);
+    match r.code {
+        None => problems.push("killed by a signal".to_string()),
+        Some(code) if !c.codes.contains(&code) => {
+            problems.push(format!("exit code {code}, expected one of {:?}", c.codes))
+        }
+        _ => {}
+    }
+    if stderr.contains("panicked") || r.code == Some(101) {
+        problems.push("panicked".to_string());
+    }
+    for (what, bytes) in [("stdout", &r.stdout), ("stderr", &r.stderr)] {
+        let bad = control_bytes(bytes);
+        if !bad.is_empty() {
+            problems.push(format!("raw control bytes on {what}: {}", bad.join(", ")));
+        }
+    }
+    if r.code.is_some_and(|c| c != 0) {
+        let first = stderr.lines().next().unwrap_or("");
+        if !(first.starts_with("shardlog: ") || first.starts_with("error: ")) || first.len() < 12 {
+            problems.push(format!("no clear message on stderr: {first:?}"));
+        }
+    }
+    problems
+}
+
+fn run_cases(cases: &[Case]) -> Vec<String> {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let mut failures = Vec::new();
+    for c in cases {
+        let r = run_in(dir.path(), &c.args);
+        for p in judge(c, &r) {
+            failures.push(format!(
+                "{}: {p}\n    args {}\n    stderr {:?}",
+                c.name,
+                format!("{:?}", c.args)
+                    .chars()
+                    .take(200)
+                    .collect::<String>(),
+                String::from_utf8_lossy(&r.stderr)
+                    .chars()
+                    .take(300)
+                    .collect::<String>()
+            ));
+        }
+    }
+    failures
+}
+
+fn m(extra: &[&str]) -> Vec<String> {
+    let mut v: Vec<String> = ["mirror", "--material", "soda-lime"]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    v.extend(extra.iter().map(|s| s.to_string()));
+    v
+}
+
+fn owned(name: &'static str, args: Vec<String>, codes: &'static [i32]) -> Case {
+    Case {
+        name,
+        args: args.into_iter().map(OsString::from).collect(),
+        codes,
+    }
+}
+
+#[cfg(unix)]
+fn non_utf8(bytes: &[u8]) -> OsString {
+    use std::os::unix::ffi::OsStringExt;
+    OsString::from_vec(bytes.to_vec())
+}
+
+/// The command-line cases that need no database.
+fn calculator_cases() -> Vec<Case> {
+    let huge_digits = format!("{}mm", "9".repeat(5000));
+    let long_material = "x".repeat(100_000);
+    let mut v = vec![
+        // SQL fragments where a key or a quantity is expected
+        case(
+            "material key with SQL",
+            &[
+                "mirror",
+                "--material",
+                "soda-lime'; DROP TABLE incidents;--",
+                "--radius",
+                "1mm",
+            ],
+            USAGE,
+        ),
+        owned("radius with SQL", m(&["--radius", "1mm' OR '1'='1"]), USAGE),
+        owned(
+            "temper with SQL",
+            m(&["--radius", "1mm", "--temper", "x\" OR 1=1 --"]),
+            USAGE,
+        ),
+        case(
+            "load material with SQL",
+            &[
+                "load",
+                "thermal",
+                "--material",
+                "') UNION SELECT * FROM sqlite_master--",
+                "--delta-t",
+                "30K",
+            ],
+            USAGE,
+        ),
+        // terminal escape sequences: colour, clear screen, window title, clipboard write
+        case(
+            "CSI in the material",
+            &[
+                "mirror",
+                "--material",
+                "\u{1b}[2J\u{1b}[H",
+                "--radius",
+                "1mm",
+            ],
+            USAGE,
+        ),
+        owned(
+            "CSI inside a radius",
+            m(&["--radius", "1\u{1b}[31mmm"]),
+            USAGE,
+        ),
+        owned(
+            "OSC title in temper",
+            m(&["--radius", "1mm", "--temper", "\u{1b}]0;owned\u{7}"]),
+            USAGE,
+        ),
+        owned(
+            "OSC 52 clipboard in flaw",
+            m(&["--radius", "1mm", "--flaw", "\u{1b}]52;c;ZWNobyBoaQ==\u{7}"]),
+            USAGE,
+        ),
+        case("escape as a subcommand", &["\u{1b}]0;owned\u{7}"], USAGE),
+        case(
+            "escape in a clap value enum",
+            &[
+                "load",
+                "plate",
+                "--shape",
+                "\u{1b}[31mround",
+                "--span",
+                "1m",
+                "--thickness",
+                "6mm",
+                "--edges",
+                "clamped",
+                "--pressure",
+                "1kPa",
+            ],
+            USAGE,
+        ),
+        case(
+            "escape in an unknown flag",
+            &["mirror", "--\u{1b}[31mradius", "1mm"],
+            USAGE,
+        ),
+        case(
+            "escape in completions shell",
+            &["completions", "\u{1b}[5mbash"],
+            USAGE,
+        ),
+        case(
+            "C1 CSI (U+009B) in the material",
+            &["mirror", "--material", "\u{9b}31msoda", "--radius", "1mm"],
+            USAGE,
+        ),
+        case(
+            "DCS in the boundary",
+            &[
+                "mirror",
+                "--material",
+                "soda-lime",
+                "--boundary",
+                "\u{1b}Pq#0\u{1b}\\",
+                "--radius",
+                "1mm",
+            ],
+            USAGE,
+        ),
+        // control characters
+        owned(
+            "backspaces in a radius",
+            m(&["--radius", "1mm\u{8}\u{8}\u{8}5mm"]),
+            USAGE,
+        ),
+        owned(
+            "carriage return in a radius",
+            m(&["--radius", "1mm\rok"]),
+            USAGE,
+        ),
+        owned(
+            "BEL and DEL in a radius",
+            m(&["--radius", "\u{7}1mm\u{7f}"]),
+            USAGE,
+        ),
+        owned(
+            "bidi override in a radius",
+            m(&["--radius", "1\u{202e}mm"]),
+            USAGE,
+        ),
+        owned(
+            "zero-width space in a radius",
+            m(&["--radius", "1\u{200b}mm"]),
+            USAGE,
+        ),
+        owned(
+            "newline inside a radius",
+            m(&["--radius", "1mm\n2mm"]),
+            USAGE,
+        ),
+        // numbers that are not numbers
+        owned("NaN radius", m(&["--radius", "NaNmm"]), USAGE),
+        owned("infinite radius", m(&["--radius", "infmm"]), USAGE),
+        owned("negative zero radius", m(&["--radius", "-0mm"]), USAGE),
+        owned("hex radius", m(&["--radius", "0x10mm"]), USAGE),
+        owned("underscored radius", m(&["--radius", "1_000mm"]), USAGE),
+        owned("two decimal points", m(&["--radius", "1.2.3mm"]), USAGE),
+        owned("decimal comma", m(&["--radius", "1,2mm"]), USAGE),
+        owned("Arabic-Indic digits", m(&["--radius", "١٫٢mm"]), USAGE),
+        owned("full-width digits", m(&["--radius", "１２mm"]), USAGE),
+        owned("empty radius", m(&["--radius", ""]), USAGE),
+        // enormous and tiny values
+        owned("radius 1e308 mm", m(&["--radius", "1e308mm"]), USAGE),
+        owned("radius past f64", m(&["--radius", "1e400mm"]), USAGE),
+        owned("subnormal radius", m(&["--radius", "1e-320mm"]), USAGE),
+        owned(
+            "radius of 5000 nines",
+            m(&["--radius", &huge_digits]),
+            USAGE,
+        ),
+        owned(
+            "toughness 1e300",
+            m(&["--radius", "1mm", "--toughness", "1e300MPa√m"]),
+            USAGE,
+        ),
+        owned(
+            "thousands of readings",
+            {
+                let mut v = m(&[]);
+                for _ in 0..5000 {
+                    v.push("--radius".into());
+                    v.push("1.05mm".into());
+                }
+                v
+            },
+            OK,
+        ),
+        owned(
+            "100 000-character material key",
+            vec![
+                "mirror".into(),
+                "--material".into(),
+                long_material,
+                "--radius".into(),
+                "1mm".into(),
+            ],
+            USAGE,
+        ),
+        // finite (6.3e299 MPa) and warned "beyond service conditions": acceptable
+        case(
+            "delta-t 1e300 K",
+            &["load", "thermal", "--delta-t", "1e300K"],
+            &[0, 2],
+        ),
+        case(
+            "restraint NaN",
+            &["load", "thermal", "--delta-t", "30K", "--restraint", "NaN"],
+            USAGE,
+        ),
+        case(
+            "impact mass -1 kg",
+            &[
+                "load",
+                "impact",
+                "--mass",
+                "-1kg",
+                "--speed",
+                "5m/s",
+                "--contact-time",
+                "1ms",
+            ],
+            USAGE,
+        ),
+        case(
+            "impact speed 1e308",
+            &[
+                "load",
+                "impact",
+                "--mass",
+                "1kg",
+                "--speed",
+                "1e308m/s",
+                "--contact-time",
+                "1ms",
+            ],
+            REFUSED,
+        ),
+        case(
+            "critical stress subnormal",
+            &[
+                "load",
+                "critical-flaw",
+                "--stress",
+                "1e-320MPa",
+                "--flaw",
+                "semicircular",
+            ],
+            REFUSED,
+        ),
+        case(
+            "plate span 1e300 m",
+            &[
+                "load",
+                "plate",
+                "--shape",
+                "circular",
+                "--span",
+                "1e300m",
+                "--thickness",
+                "6mm",
+                "--edges",
+                "clamped",
+                "--pressure",
+                "1kPa",
+            ],
+            REFUSED,
+        ),
+        // path traversal and odd paths where the commands take names
+        case(
+            "material key as a path",
+            &[
+                "mirror",
+                "--material",
+                "../../../etc/passwd",
+                "--radius",
+                "1mm",
+            ],
+            USAGE,
+        ),
+        case(
+            "load material as a path",
+            &[
+                "load",
+                "thermal",
+                "--material",
+                "/etc/shadow",
+                "--delta-t",
+                "30K",
+            ],
+            USAGE,
+        ),
+        case(
+            "database path traversal, calculator ignores it",
+            &[
+                "--db",
+                "../../../../etc/passwd",
+                "mirror",
+                "--material",
+                "soda-lime",
+                "--radius",
+                "1mm",
+            ],
+            OK,
+        ),
+        case(
+            "manpage with a stray argument",
+            &["manpage", "../../etc/passwd"],
+            USAGE,
+        ),
+    ];
+    #[cfg(unix)]
+    {
+        v.push(os_case(
+            "non-UTF-8 radius",
+            vec![
+                "mirror".into(),
+                "--material".into(),
+                "soda-lime".into(),
+                "--radius".into(),
+                non_utf8(b"1\xffmm"),
+            ],
+            USAGE,
+        ));
+        v.push(os_case(
+            "non-UTF-8 material (Latin-1)",
+            vec![
+                "mirror".into(),
+                "--material".into(),
+                non_utf8(b"soda-lim\xe9"),
+                "--radius".into(),
+                "1mm".into(),
+            ],
+            USAGE,
+        ));
+        v.push(os_case(
+            "non-UTF-8 subcommand",
+            vec![non_utf8(b"mirr\xc3\x28or")],
+            USAGE,
+        ));
+        v.push(os_case(
+            "UTF-16 byte-order mark in a delta-t",
+            vec![
+                "load".into(),
+                "thermal".into(),
+                "--delta-t".into(),
+                non_utf8(b"\xff\xfe30K"),
+            ],
+            USAGE,
+        ));
+    }
+    v
+}
+
+#[test]
+fn hostile_calculator_command_lines() {
+    let cases = calculator_cases();
+    assert!(cases.len() >= 45, "{} cases", cases.len());
+    let failures = run_cases(&cases);
+    assert!(
+        failures.is_empty(),
+        "{} of {} cases failed:\n{}",
+        failures.len(),
+        cases.len(),
+        failures.join("\n")
+    );
+}
+
+/// The judge itself: it flags what it must flag (so a passing table means something).
+#[test]
+fn the_judge_catches_escapes_panics_and_wrong_codes() {
+    let c = case("probe", &[], USAGE);
+    let esc = Run {
+        code: Some(2),
+        stdout: vec![],
+        stderr: b"error: x \x1b[31m".to_vec(),
+    };
+    assert!(judge(&c, &esc).iter().any(|p| p.contains("control bytes")));
+    let c1 = Run {
+        code: Some(2),
+        stdout: "\u{9b}2J".as_bytes().to_vec(),
+        stderr: b"error: no such thing".to_vec(),
+    };
+    assert!(judge(&c, &c1).iter().any(|p| p.contains("stdout")));
+    let panic = Run {
+        code: Some(101),
+        stdout: vec![],
+        stderr: b"thread 'main' panicked at".to_vec(),
+    };
+    assert!(judge(&c, &panic).iter().any(|p| p == "panicked"));
+    let wrong = Run {
+        code: Some(0),
+        stdout: vec![],
+        stderr: vec![],
+    };
+    assert!(judge(&c, &wrong).iter().any(|p| p.contains("exit code 0")));
+    let fine = Run {
+        code: Some(2),
+        stdout: vec![],
+        stderr: b"shardlog: radius: bad".to_vec(),
+    };
+    assert!(judge(&c, &fine).is_empty());
+}
+
+#[allow(dead_code)]
+fn sha256_of(path: &Path) -> Option<String> {
+    let bytes = std::fs::read(path).ok()?;
+    Some(format!("{:x}", Sha256::digest(&bytes)))
+}
+
+#[allow(dead_code)]
+fn db_in(dir: &Path) -> PathBuf {
+    dir.join("default.db")
+}
