@@ -1,0 +1,104 @@
+//! Inputs that once broke the core, found by the fuzz targets in fuzz/ and by the hostile
+//! command-line table. Each stays here so the bug cannot come back unnoticed.
+
+use shardlog::fracture::{self, materials, AnalysisInput, Boundary};
+use shardlog::loads::{self, critical, impact, plates, thermal, Elastic, Hypothesis};
+
+fn soda_lime() -> fracture::Material {
+    materials::find("soda-lime").expect("soda-lime is in the library")
+}
+
+/// A subnormal radius (1e-320 mm typed) was accepted: stress 6e161 MPa, flaw 0 µm and an
+/// applied-stress interval of NaN. Lengths below 1 nm are now refused, naming the radius.
+#[test]
+fn subnormal_radius_is_refused() {
+    let input = AnalysisInput::new(soda_lime()).with_readings(Boundary::MirrorMist, &[1e-323]);
+    let e = fracture::analyze(&input).unwrap_err();
+    assert_eq!(e.field(), "radius");
+    assert!(e.to_string().contains("at least"), "{e}");
+}
+
+/// The smallest length accepted still gives a finite analysis with ordered intervals.
+#[test]
+fn smallest_accepted_radius_gives_finite_figures() {
+    let input = AnalysisInput::new(soda_lime()).with_readings(Boundary::MirrorMist, &[1e-9]);
+    let a = fracture::analyze(&input).expect("1 nm is accepted");
+    for v in [
+        a.stress_low_pa,
+        a.stress_pa,
+        a.stress_high_pa,
+        a.applied_low_pa,
+        a.applied_stress_pa,
+        a.applied_high_pa,
+    ] {
+        assert!(v.is_finite(), "{v}");
+    }
+    let f = a.flaw.expect("soda-lime has a toughness");
+    assert!(f.size_m > 0.0 && f.size_m.is_finite());
+    assert!(f.size_low_m <= f.size_m && f.size_m <= f.size_high_m);
+}
+
+/// A toughness override of 1e-300 Pa·√m gave a flaw of 0 µm; now refused.
+#[test]
+fn vanishing_toughness_is_refused() {
+    let mut input = AnalysisInput::new(soda_lime()).with_readings(Boundary::MirrorMist, &[1e-3]);
+    input.toughness_override = Some(fracture::Constant::user(1e-300, "test"));
+    let e = fracture::analyze(&input).unwrap_err();
+    assert_eq!(e.field(), "toughness");
+}
+
+const GLASS: Elastic = Elastic {
+    youngs_modulus: 70e9,
+    poisson: 0.22,
+};
+
+/// `load impact --speed 1e308m/s` printed "mean contact force: — N" with exit 0.
+#[test]
+fn impulse_overflow_is_refused() {
+    let h = Hypothesis::Impulse(impact::Impulse {
+        mass: 1.0,
+        speed: 1e308,
+        contact_time: 1e-3,
+        restitution: 0.5,
+    });
+    assert_eq!(loads::evaluate(&h).unwrap_err().field(), "speed");
+}
+
+/// `load plate --span 1e300m` printed "largest bending stress: — MPa" with exit 0.
+#[test]
+fn plate_overflow_is_refused() {
+    let h = Hypothesis::Plate(plates::Plate {
+        shape: plates::Shape::Circular,
+        edges: plates::Edges::Clamped,
+        span: 1e300,
+        span_b: None,
+        thickness: 6e-3,
+        material: GLASS,
+        load: plates::PlateLoad::Pressure(1e3),
+    });
+    assert_eq!(loads::evaluate(&h).unwrap_err().field(), "span");
+}
+
+/// `load critical-flaw --stress 1e-320MPa` printed "critical flaw size: — µm" with exit 0.
+#[test]
+fn critical_size_overflow_is_refused() {
+    let e = critical::critical_size(1e-314, 0.75e6, 1.29).unwrap_err();
+    assert_eq!(e.field(), "stress");
+    // and the ordinary case is untouched: a_c = (K / Yσ)²
+    let a = critical::critical_size(50e6, 0.75e6, 1.29).expect("ordinary");
+    assert!((a - (0.75e6_f64 / (1.29 * 50e6)).powi(2)).abs() < 1e-15);
+}
+
+/// A finite, warned result at an absurd temperature difference stays a result.
+#[test]
+fn thermal_large_but_finite_is_kept_with_a_warning() {
+    let r = thermal::edge_stress(&thermal::Thermal {
+        youngs_modulus: 70e9,
+        expansion: 9e-6,
+        delta_t: 1e300,
+        restraint: 1.0,
+    })
+    .expect("finite");
+    assert!(r.stress.is_finite());
+    assert!(r.warnings.iter().any(|w| w.code == "large-delta-t"));
+}
