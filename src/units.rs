@@ -378,7 +378,7 @@ fn unit_list(dim: Dimension) -> String {
 
 /// Split "1.2 mm" into ("1.2", "mm"). The number part is the longest prefix that
 /// looks numeric (sign, digits, point, comma, exponent).
-fn split_number(text: &str) -> (&str, &str) {
+pub fn split_number(text: &str) -> (&str, &str) {
     let bytes = text.as_bytes();
     let mut end = 0;
     let mut seen_digit = false;

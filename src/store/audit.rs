@@ -1,0 +1,388 @@
+//! The hash-chained audit log: append, history, verify.
+
+use std::collections::HashMap;
+
+use chrono::{DateTime, Utc};
+use rusqlite::{params, Connection, OptionalExtension};
+use sha2::{Digest, Sha256};
+
+use super::canon::{self, AuditRow, GENESIS};
+use super::model::*;
+use super::{incidents, refdata, Store, StoreError, MIGRATION_AT};
+
+/// Entity names used in the audit log.
+pub(crate) const INCIDENT: &str = "incident";
+
+pub(crate) fn fmt_time(at: DateTime<Utc>) -> String {
+    at.format("%Y-%m-%dT%H:%M:%S%.3fZ").to_string()
+}
+
+pub(crate) fn parse_time(s: &str) -> Option<DateTime<Utc>> {
+    DateTime::parse_from_rfc3339(s)
+        .ok()
+        .map(|d| d.with_timezone(&Utc))
+}
+
+/// The running end of the chain inside one transaction.
+pub(crate) struct Chain {
+    seq: i64,
+    hash: String,
+}
+
+impl Chain {
+    pub(crate) fn load(conn: &Connection) -> Result<Chain, StoreError> {
+        let last = conn
+            .query_row(
+                "SELECT seq, hash FROM audit ORDER BY seq DESC LIMIT 1",
+                [],
+                |r| Ok((r.get::<_, i64>(0)?, r.get::<_, String>(1)?)),
+            )
+            .optional()?;
+        Ok(match last {
+            Some((seq, hash)) => Chain { seq, hash },
+            None => Chain {
+                seq: 0,
+                hash: GENESIS.to_string(),
+            },
+        })
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    pub(crate) fn append(
+        &mut self,
+        conn: &Connection,
+        at: &str,
+        actor: &str,
+        entity: &str,
+        entity_id: &str,
+        op: &str,
+        before: Option<&str>,
+        after: Option<&str>,
+    ) -> Result<(), StoreError> {
+        let seq = self.seq + 1;
+        let row = AuditRow {
+            seq,
+            at,
+            actor,
+            entity,
+            entity_id,
+            op,
+            before,
+            after,
+        };
+        let hash = row.hash(&self.hash);
+        conn.prepare_cached(
+            "INSERT INTO audit (seq, at, actor, entity, entity_id, op, before, after, prev_hash, hash)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)",
+        )?
+        .execute(params![
+            seq, at, actor, entity, entity_id, op, before, after, self.hash, hash
+        ])?;
+        self.seq = seq;
+        self.hash = hash;
+        Ok(())
+    }
+
+    pub(crate) fn record(
+        &mut self,
+        conn: &Connection,
+        stamp: &Stamp,
+        entity: &str,
+        entity_id: &str,
+        before: Option<&str>,
+        after: Option<&str>,
+    ) -> Result<(), StoreError> {
+        let op = match (before, after) {
+            (None, _) => "insert",
+            (Some(_), Some(_)) => "update",
+            (Some(_), None) => "delete",
+        };
+        let at = fmt_time(stamp.at);
+        self.append(
+            conn,
+            &at,
+            &stamp.actor,
+            entity,
+            entity_id,
+            op,
+            before,
+            after,
+        )
+    }
+
+    /// Write the chain head into `meta` (end of every writing transaction), so that
+    /// cutting rows off the end of the log is noticed.
+    pub(crate) fn finish(&self, conn: &Connection) -> Result<(), StoreError> {
+        let mut stmt = conn.prepare_cached(
+            "INSERT INTO meta (key, value) VALUES (?1, ?2)
+             ON CONFLICT (key) DO UPDATE SET value = excluded.value",
+        )?;
+        stmt.execute(params!["audit_head_seq", self.seq.to_string()])?;
+        stmt.execute(params!["audit_head_hash", self.hash])?;
+        Ok(())
+    }
+}
+
+/// Audit the lookup entries that migration 0001 seeds, as written by "schema 0001".
+pub(crate) fn seed_lookup_audit(conn: &Connection) -> Result<(), StoreError> {
+    let entries = refdata::load_lookups(conn, None)?;
+    let mut chain = Chain::load(conn)?;
+    for e in &entries {
+        let img = canon::canonical(e)?;
+        chain.append(
+            conn,
+            MIGRATION_AT,
+            "schema 0001",
+            refdata::LOOKUP,
+            &refdata::lookup_key(e),
+            "insert",
+            None,
+            Some(&img),
+        )?;
+    }
+    chain.finish(conn)
+}
+
+fn digest(text: &str) -> [u8; 16] {
+    let d = Sha256::digest(text.as_bytes());
+    let mut out = [0u8; 16];
+    out.copy_from_slice(&d[..16]);
+    out
+}
+
+fn changed_keys(
+    before: Option<&serde_json::Value>,
+    after: Option<&serde_json::Value>,
+) -> Vec<String> {
+    use serde_json::Value;
+    let empty = serde_json::Map::new();
+    let b = before.and_then(Value::as_object).unwrap_or(&empty);
+    let a = after.and_then(Value::as_object).unwrap_or(&empty);
+    let mut keys: Vec<String> = b
+        .keys()
+        .chain(a.keys())
+        .filter(|k| b.get(*k) != a.get(*k))
+        .filter(|k| !matches!(k.as_str(), "revision" | "updated_at"))
+        .cloned()
+        .collect();
+    keys.sort();
+    keys.dedup();
+    keys
+}
+
+impl Store {
+    /// The audit history of one incident (by reference or id), oldest first.
+    pub fn history(&self, key: &str) -> Result<Vec<HistoryEntry>, StoreError> {
+        let id = incidents::resolve_key(&self.conn, key)?;
+        let mut stmt = self.conn.prepare(
+            "SELECT seq, at, actor, op, before, after, hash FROM audit
+             WHERE entity = ?1 AND entity_id = ?2 ORDER BY seq",
+        )?;
+        let rows = stmt.query_map(params![INCIDENT, id], |r| {
+            Ok((
+                r.get::<_, i64>(0)?,
+                r.get::<_, String>(1)?,
+                r.get::<_, String>(2)?,
+                r.get::<_, String>(3)?,
+                r.get::<_, Option<String>>(4)?,
+                r.get::<_, Option<String>>(5)?,
+                r.get::<_, String>(6)?,
+            ))
+        })?;
+        let mut out = Vec::new();
+        for row in rows {
+            let (seq, at, actor, op, before, after, hash) = row?;
+            let before = before.as_deref().and_then(canon::decanonical);
+            let after = after.as_deref().and_then(canon::decanonical);
+            out.push(HistoryEntry {
+                seq,
+                at: parse_time(&at).unwrap_or(DateTime::<Utc>::UNIX_EPOCH),
+                actor,
+                op,
+                changed: changed_keys(before.as_ref(), after.as_ref()),
+                before,
+                after,
+                hash,
+            });
+        }
+        Ok(out)
+    }
+
+    /// Recompute the audit chain and compare every record with its last audited image.
+    /// Finds audit rows changed, deleted or inserted, and record rows changed, deleted or
+    /// inserted without going through the store.
+    pub fn verify(&self) -> Result<VerifyReport, StoreError> {
+        let mut report = VerifyReport {
+            audit_rows: 0,
+            records_checked: 0,
+            head: GENESIS.to_string(),
+            first_problem: None,
+            problems: 0,
+        };
+        let problem = |report: &mut VerifyReport, msg: String| {
+            if report.first_problem.is_none() {
+                report.first_problem = Some(msg);
+            }
+            report.problems += 1;
+        };
+
+        // 1. the chain
+        let mut last: HashMap<(String, String), Option<[u8; 16]>> = HashMap::new();
+        let mut prev = GENESIS.to_string();
+        let mut expect_seq = 1i64;
+        {
+            let mut stmt = self.conn.prepare(
+                "SELECT seq, at, actor, entity, entity_id, op, before, after, prev_hash, hash
+                 FROM audit ORDER BY seq",
+            )?;
+            let mut rows = stmt.query([])?;
+            while let Some(r) = rows.next()? {
+                let seq: i64 = r.get(0)?;
+                let at: String = r.get(1)?;
+                let actor: String = r.get(2)?;
+                let entity: String = r.get(3)?;
+                let entity_id: String = r.get(4)?;
+                let op: String = r.get(5)?;
+                let before: Option<String> = r.get(6)?;
+                let after: Option<String> = r.get(7)?;
+                let prev_hash: String = r.get(8)?;
+                let hash: String = r.get(9)?;
+                report.audit_rows += 1;
+                if seq != expect_seq {
+                    problem(
+                        &mut report,
+                        format!("audit row {expect_seq}: missing (the next row is {seq}); rows were deleted"),
+                    );
+                }
+                if prev_hash != prev {
+                    problem(
+                        &mut report,
+                        format!("audit row {seq}: its previous-hash does not match row {}; a row was deleted, inserted or changed", seq - 1),
+                    );
+                }
+                let row = AuditRow {
+                    seq,
+                    at: &at,
+                    actor: &actor,
+                    entity: &entity,
+                    entity_id: &entity_id,
+                    op: &op,
+                    before: before.as_deref(),
+                    after: after.as_deref(),
+                };
+                let computed = row.hash(&prev_hash);
+                if computed != hash {
+                    problem(
+                        &mut report,
+                        format!("audit row {seq} ({entity} {entity_id}, {op} by {actor} at {at}): its content does not match its hash; it was changed"),
+                    );
+                }
+                prev = hash;
+                expect_seq = seq + 1;
+                last.insert((entity, entity_id), after.as_deref().map(digest));
+            }
+        }
+        report.head = prev.clone();
+        let meta_head: Option<String> = self
+            .conn
+            .query_row(
+                "SELECT value FROM meta WHERE key = 'audit_head_hash'",
+                [],
+                |r| r.get(0),
+            )
+            .optional()?;
+        match meta_head {
+            Some(h) if h == prev => {}
+            Some(_) => problem(
+                &mut report,
+                format!("audit log: the last row ({}) is not the recorded head; rows were cut off the end or added", expect_seq - 1),
+            ),
+            None if report.audit_rows > 0 => problem(
+                &mut report,
+                "audit log: the recorded head is missing".to_string(),
+            ),
+            None => {}
+        }
+
+        // 2. the records against their last images
+        let mut seen: HashMap<(String, String), ()> = HashMap::new();
+        let mut check = |report: &mut VerifyReport,
+                         entity: &str,
+                         id: String,
+                         shown: &str,
+                         image: &str| {
+            report.records_checked += 1;
+            let key = (entity.to_string(), id);
+            match last.get(&key) {
+                None => problem(
+                    report,
+                    format!("{entity} {shown}: present in the records but never written through shardlog (inserted behind its back)"),
+                ),
+                Some(None) => problem(
+                    report,
+                    format!("{entity} {shown}: present in the records although the audit log says it was deleted"),
+                ),
+                Some(Some(d)) => {
+                    if *d != digest(image) {
+                        problem(
+                            report,
+                            format!("{entity} {shown}: differs from its last audited version (changed behind shardlog's back)"),
+                        );
+                    }
+                }
+            }
+            seen.insert(key, ());
+        };
+        for e in refdata::load_lookups(&self.conn, None)? {
+            let img = canon::canonical(&e)?;
+            let key = refdata::lookup_key(&e);
+            check(&mut report, refdata::LOOKUP, key.clone(), &key, &img);
+        }
+        for (entity, id, shown, img) in refdata::all_images(&self.conn)? {
+            check(&mut report, entity, id, &shown, &img);
+        }
+        {
+            let mut bad_derived: Option<String> = None;
+            let mut n_bad = 0u64;
+            incidents::for_each_incident(&self.conn, |inc, derived_ok| {
+                let img = canon::canonical(&inc)?;
+                check(&mut report, INCIDENT, inc.id.clone(), &inc.reference, &img);
+                if !derived_ok {
+                    n_bad += 1;
+                    if bad_derived.is_none() {
+                        bad_derived = Some(inc.reference.clone());
+                    }
+                }
+                Ok(())
+            })?;
+            if let Some(r) = bad_derived {
+                for _ in 0..n_bad {
+                    problem(&mut report, format!("incident {r}: its listed stress, origin type or temper does not follow from its examinations (changed behind shardlog's back)"));
+                }
+            }
+        }
+        for ((entity, id), img) in &last {
+            if img.is_some() && !seen.contains_key(&(entity.clone(), id.clone())) {
+                problem(
+                    &mut report,
+                    format!("{entity} {id}: in the audit log but missing from the records (deleted behind shardlog's back)"),
+                );
+            }
+        }
+        Ok(report)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn time_format_round_trips() {
+        let t = DateTime::parse_from_rfc3339("2026-03-14T09:10:00.120Z")
+            .unwrap()
+            .with_timezone(&Utc);
+        assert_eq!(fmt_time(t), "2026-03-14T09:10:00.120Z");
+        assert_eq!(parse_time(&fmt_time(t)), Some(t));
+    }
+}

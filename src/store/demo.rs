@@ -1,0 +1,1 @@
+//! The invented demo fleet.

@@ -1,0 +1,1 @@
+//! Import and export (JSON and CSV).

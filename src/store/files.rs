@@ -1,0 +1,163 @@
+//! Attachment files: kept in `<database>.files/` under their SHA-256, owner-only.
+
+use std::fs;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use sha2::{Digest, Sha256};
+
+use super::canon::hex;
+use super::model::*;
+use super::{Store, StoreError};
+
+/// Largest attachment accepted (a micrograph series can be big; a video is not evidence here).
+pub const MAX_ATTACHMENT_BYTES: u64 = 256 * 1024 * 1024;
+
+/// `<database>.files` beside the database file.
+pub(crate) fn dir_for(db: &Path) -> PathBuf {
+    let mut name = db.file_name().map(|n| n.to_os_string()).unwrap_or_default();
+    name.push(".files");
+    db.with_file_name(name)
+}
+
+fn io_err(path: &Path, e: impl std::fmt::Display) -> StoreError {
+    StoreError::File {
+        path: path.display().to_string(),
+        message: e.to_string(),
+    }
+}
+
+fn make_private_dir(dir: &Path) -> Result<(), StoreError> {
+    fs::create_dir_all(dir).map_err(|e| io_err(dir, e))?;
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        fs::set_permissions(dir, fs::Permissions::from_mode(0o700)).map_err(|e| io_err(dir, e))?;
+    }
+    Ok(())
+}
+
+/// Write bytes to `dir/<sha256>` unless already there (write to a temporary name, then
+/// rename, so a half-written file never carries a hash name).
+pub(crate) fn put_bytes(dir: &Path, bytes: &[u8]) -> Result<String, StoreError> {
+    let hash = hex(&Sha256::digest(bytes));
+    make_private_dir(dir)?;
+    let dest = dir.join(&hash);
+    if dest.exists() {
+        return Ok(hash);
+    }
+    let tmp = dir.join(format!(".{hash}.part"));
+    {
+        let mut opts = fs::OpenOptions::new();
+        opts.write(true).create(true).truncate(true);
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::OpenOptionsExt;
+            opts.mode(0o600);
+        }
+        let mut f = opts.open(&tmp).map_err(|e| io_err(&tmp, e))?;
+        f.write_all(bytes).map_err(|e| io_err(&tmp, e))?;
+        f.sync_all().map_err(|e| io_err(&tmp, e))?;
+    }
+    fs::rename(&tmp, &dest).map_err(|e| io_err(&dest, e))?;
+    Ok(hash)
+}
+
+pub(crate) fn copy_dir(src: &Path, dest: &Path) -> Result<(), StoreError> {
+    make_private_dir(dest)?;
+    for entry in fs::read_dir(src).map_err(|e| io_err(src, e))? {
+        let entry = entry.map_err(|e| io_err(src, e))?;
+        let p = entry.path();
+        if p.is_file() {
+            let bytes = fs::read(&p).map_err(|e| io_err(&p, e))?;
+            put_bytes(dest, &bytes)?;
+        }
+    }
+    Ok(())
+}
+
+/// A media type from the file name's extension.
+pub fn media_type_for(name: &str) -> &'static str {
+    let ext = name.rsplit('.').next().unwrap_or("").to_ascii_lowercase();
+    match ext.as_str() {
+        "png" => "image/png",
+        "jpg" | "jpeg" => "image/jpeg",
+        "tif" | "tiff" => "image/tiff",
+        "bmp" => "image/bmp",
+        "pdf" => "application/pdf",
+        "txt" => "text/plain",
+        "csv" => "text/csv",
+        _ => "application/octet-stream",
+    }
+}
+
+impl Store {
+    /// Copy a file into the attachment folder (named by its SHA-256) and attach it to the
+    /// incident. The record keeps the hash and the original file name, never the path.
+    pub fn add_attachment(
+        &mut self,
+        key: &str,
+        file: &Path,
+        caption: &str,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let meta = fs::metadata(file).map_err(|e| io_err(file, e))?;
+        if !meta.is_file() {
+            return Err(io_err(file, "is not a file"));
+        }
+        if meta.len() > MAX_ATTACHMENT_BYTES {
+            return Err(io_err(
+                file,
+                format!("is larger than {} MB", MAX_ATTACHMENT_BYTES / (1024 * 1024)),
+            ));
+        }
+        let bytes = fs::read(file).map_err(|e| io_err(file, e))?;
+        let name = file
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "attachment".into());
+        self.add_attachment_bytes(key, &name, &bytes, caption, stamp)
+    }
+
+    /// Attach bytes under a file name (the demo and imports use this).
+    pub fn add_attachment_bytes(
+        &mut self,
+        key: &str,
+        file_name: &str,
+        bytes: &[u8],
+        caption: &str,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let Some(dir) = self.files_dir.clone() else {
+            return Err(StoreError::invalid(
+                "attachment",
+                "this database has no attachment folder (in memory)",
+            ));
+        };
+        // make sure the incident exists before copying anything in
+        self.get(key)?;
+        let hash = put_bytes(&dir, bytes)?;
+        let att = Attachment {
+            id: String::new(),
+            sha256: hash,
+            file_name: file_name.to_string(),
+            media_type: media_type_for(file_name).to_string(),
+            size_bytes: bytes.len() as i64,
+            caption: caption.to_string(),
+            added_at: stamp.at,
+        };
+        self.modify_incident(key, None, stamp, move |inc| {
+            inc.attachments.push(att);
+            Ok(())
+        })
+    }
+
+    /// Where an attachment's bytes are, if the file is present.
+    pub fn attachment_path(&self, sha256: &str) -> Option<PathBuf> {
+        if sha256.len() != 64 || !sha256.bytes().all(|b| b.is_ascii_hexdigit()) {
+            return None;
+        }
+        let p = self.files_dir.as_ref()?.join(sha256);
+        p.is_file().then_some(p)
+    }
+}

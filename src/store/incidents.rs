@@ -1,0 +1,1668 @@
+//! Incidents: write and read the whole aggregate, revision checks, the log listing with
+//! keyset pagination, and the flat rows for fleet statistics.
+
+use std::collections::HashSet;
+
+use chrono::NaiveDate;
+use rusqlite::types::Value as SqlValue;
+use rusqlite::{params, params_from_iter, Connection, OptionalExtension, TransactionBehavior};
+
+use super::audit::{fmt_time, parse_time, Chain, INCIDENT};
+use super::canon;
+use super::model::*;
+use super::refdata::{self, fmt_date, parse_date};
+use super::sqlite;
+use super::{IdGen, Store, StoreError};
+
+/// Foreign keys of an incident, resolved from its codes.
+#[derive(Debug, Clone, Default)]
+pub(crate) struct Refs {
+    pub asset: Option<String>,
+    pub site: Option<String>,
+    pub supplier: Option<String>,
+    pub product: Option<String>,
+    pub lot: Option<String>,
+}
+
+/// Columns kept for the log and statistics, derived from the aggregate.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct Derived {
+    pub stress_pa: Option<f64>,
+    pub applied_stress_pa: Option<f64>,
+    pub origin_type: Option<String>,
+    pub temper: Option<String>,
+}
+
+pub(crate) fn derive(inc: &Incident) -> Derived {
+    let current = inc.current_result();
+    let origin_type = current
+        .and_then(|(e, _)| e.origin_type.clone())
+        .or_else(|| {
+            inc.examinations
+                .iter()
+                .rev()
+                .find_map(|e| e.origin_type.clone())
+        });
+    Derived {
+        stress_pa: current.and_then(|(_, r)| r.stress_pa),
+        applied_stress_pa: current.and_then(|(_, r)| r.applied_stress_pa),
+        origin_type,
+        temper: inc.glass.plies.first().and_then(|p| p.temper.clone()),
+    }
+}
+
+/// The text that free-text search covers.
+pub(crate) fn search_body(inc: &Incident) -> String {
+    let mut parts: Vec<&str> = vec![&inc.reference, &inc.position, &inc.description, &inc.notes];
+    if let Some(a) = &inc.asset {
+        parts.push(a);
+    }
+    parts.push(&inc.reporter);
+    parts.push(&inc.how_found);
+    if let Some(c) = &inc.cause {
+        parts.push(&c.note);
+        for f in &c.factors {
+            parts.push(f);
+        }
+    }
+    for e in &inc.examinations {
+        parts.push(&e.notes);
+    }
+    for c in &inc.custody {
+        parts.push(&c.note);
+    }
+    for a in &inc.attachments {
+        parts.push(&a.caption);
+    }
+    parts.retain(|p| !p.is_empty());
+    parts.join("\n")
+}
+
+const COLS: [&str; 39] = [
+    "id",
+    "reference",
+    "revision",
+    "created_at",
+    "updated_at",
+    "asset_id",
+    "position",
+    "site_id",
+    "found_on",
+    "broken_on",
+    "temperature_c",
+    "sun",
+    "weather",
+    "reporter",
+    "how_found",
+    "supplier_id",
+    "product_id",
+    "lot_id",
+    "makeup",
+    "width_m",
+    "height_m",
+    "crack_count",
+    "branching",
+    "fragment_count",
+    "origin_location",
+    "tension_face",
+    "cause_category",
+    "cause_factors",
+    "cause_confidence",
+    "cause_responsibility",
+    "cause_note",
+    "status",
+    "description",
+    "notes",
+    "stress_pa",
+    "applied_stress_pa",
+    "origin_type",
+    "temper",
+    "seq",
+];
+
+fn insert_sql() -> String {
+    let cols = COLS[..38].join(", ");
+    let qs: Vec<String> = (1..=38).map(|i| format!("?{i}")).collect();
+    format!("INSERT INTO incidents ({cols}) VALUES ({})", qs.join(", "))
+}
+
+fn update_sql() -> String {
+    let sets: Vec<String> = COLS[..38]
+        .iter()
+        .enumerate()
+        .map(|(i, c)| format!("{c} = ?{}", i + 1))
+        .collect();
+    format!(
+        "UPDATE incidents SET {} WHERE id = ?1 AND revision = ?39",
+        sets.join(", ")
+    )
+}
+
+fn t(s: &str) -> SqlValue {
+    SqlValue::Text(s.to_string())
+}
+fn ot(s: &Option<String>) -> SqlValue {
+    s.as_deref().map_or(SqlValue::Null, t)
+}
+fn of(x: Option<f64>) -> SqlValue {
+    x.map_or(SqlValue::Null, SqlValue::Real)
+}
+fn oi(x: Option<i64>) -> SqlValue {
+    x.map_or(SqlValue::Null, SqlValue::Integer)
+}
+
+fn row_values(inc: &Incident, refs: &Refs, d: &Derived) -> Result<Vec<SqlValue>, StoreError> {
+    let cause = inc.cause.as_ref();
+    Ok(vec![
+        t(&inc.id),
+        t(&inc.reference),
+        SqlValue::Integer(inc.revision),
+        t(&fmt_time(inc.created_at)),
+        t(&fmt_time(inc.updated_at)),
+        ot(&refs.asset),
+        t(&inc.position),
+        ot(&refs.site),
+        t(&fmt_date(inc.found_on)),
+        inc.broken_on.map_or(SqlValue::Null, |d| t(&fmt_date(d))),
+        of(inc.environment.temperature_c),
+        t(&inc.environment.sun),
+        t(&inc.environment.weather),
+        t(&inc.reporter),
+        t(&inc.how_found),
+        ot(&refs.supplier),
+        ot(&refs.product),
+        ot(&refs.lot),
+        t(&inc.glass.makeup),
+        of(inc.glass.width_m),
+        of(inc.glass.height_m),
+        oi(inc.pattern.crack_count),
+        oi(inc.pattern.branching.map(i64::from)),
+        oi(inc.pattern.fragment_count),
+        ot(&inc.pattern.origin_location),
+        t(&inc.pattern.tension_face),
+        ot(&cause.map(|c| c.category.clone())),
+        match cause {
+            Some(c) => t(&serde_json::to_string(&c.factors)?),
+            None => SqlValue::Null,
+        },
+        ot(&cause.map(|c| c.confidence.clone())),
+        ot(&cause.map(|c| c.responsibility.clone())),
+        ot(&cause.map(|c| c.note.clone())),
+        t(&inc.status),
+        t(&inc.description),
+        t(&inc.notes),
+        of(d.stress_pa),
+        of(d.applied_stress_pa),
+        ot(&d.origin_type),
+        ot(&d.temper),
+    ])
+}
+
+fn insert_children(conn: &Connection, inc: &Incident) -> Result<(), StoreError> {
+    {
+        let mut ply = conn.prepare_cached(
+            "INSERT INTO plies (incident_id, ply_no, material, temper, thickness_m, coating, edge_finish)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7)",
+        )?;
+        for (i, p) in inc.glass.plies.iter().enumerate() {
+            ply.execute(params![
+                inc.id,
+                i as i64 + 1,
+                p.material,
+                p.temper,
+                p.thickness_m,
+                p.coating,
+                p.edge_finish
+            ])?;
+        }
+    }
+    for (i, e) in inc.examinations.iter().enumerate() {
+        let flaw = e.flaw.as_ref();
+        let depth = flaw.and_then(|f| f.depth.as_ref());
+        let width = flaw.and_then(|f| f.width.as_ref());
+        conn.prepare_cached(
+            "INSERT INTO examinations (id, incident_id, exam_no, examined_on, analyst, origin_type, material,
+                 flaw_present, flaw_depth_text, flaw_depth_unit, flaw_depth_m, flaw_width_text, flaw_width_unit,
+                 flaw_width_m, flaw_shape, notes)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16)",
+        )?
+        .execute(params![
+            e.id,
+            inc.id,
+            i as i64 + 1,
+            e.examined_on.map(fmt_date),
+            e.analyst,
+            e.origin_type,
+            e.material,
+            flaw.is_some() as i64,
+            depth.map(|m| m.text.as_str()),
+            depth.map(|m| m.unit.as_str()),
+            depth.map(|m| m.si),
+            width.map(|m| m.text.as_str()),
+            width.map(|m| m.unit.as_str()),
+            width.map(|m| m.si),
+            flaw.map_or("", |f| f.shape.as_str()),
+            e.notes
+        ])?;
+        let mut rd = conn.prepare_cached(
+            "INSERT INTO mirror_readings (examination_id, reading_no, boundary, value_text, unit, value_m,
+                 magnification, analyst, note)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
+        )?;
+        for (j, r) in e.readings.iter().enumerate() {
+            rd.execute(params![
+                e.id,
+                j as i64 + 1,
+                r.boundary,
+                r.radius.text,
+                r.radius.unit,
+                r.radius.si,
+                r.magnification,
+                r.analyst,
+                r.note
+            ])?;
+        }
+        if let Some(res) = &e.result {
+            conn.prepare_cached(
+                "INSERT INTO results (examination_id, computed_at, code_version, stress_pa, stress_low_pa,
+                     stress_high_pa, residual_pa, applied_stress_pa, flaw_size_m, constants_json, analysis_json)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)",
+            )?
+            .execute(params![
+                e.id,
+                fmt_time(res.computed_at),
+                res.code_version,
+                res.stress_pa,
+                res.stress_low_pa,
+                res.stress_high_pa,
+                res.residual_pa,
+                res.applied_stress_pa,
+                res.flaw_size_m,
+                serde_json::to_string(&res.constants)?,
+                serde_json::to_string(&res.analysis)?
+            ])?;
+        }
+    }
+    {
+        let mut cu = conn.prepare_cached(
+            "INSERT INTO custody (id, incident_id, entry_no, at, action, who, location, note)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8)",
+        )?;
+        for (i, c) in inc.custody.iter().enumerate() {
+            cu.execute(params![
+                c.id,
+                inc.id,
+                i as i64 + 1,
+                fmt_time(c.at),
+                c.action,
+                c.who,
+                c.location,
+                c.note
+            ])?;
+        }
+    }
+    {
+        let mut at = conn.prepare_cached(
+            "INSERT INTO attachments (id, incident_id, entry_no, sha256, file_name, media_type, size_bytes,
+                 caption, added_at)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
+        )?;
+        for (i, a) in inc.attachments.iter().enumerate() {
+            at.execute(params![
+                a.id,
+                inc.id,
+                i as i64 + 1,
+                a.sha256,
+                a.file_name,
+                a.media_type,
+                a.size_bytes,
+                a.caption,
+                fmt_time(a.added_at)
+            ])?;
+        }
+    }
+    Ok(())
+}
+
+fn delete_children(conn: &Connection, id: &str) -> Result<(), StoreError> {
+    // results and readings go with their examinations (ON DELETE CASCADE is not relied
+    // upon: the portable way is to delete children first)
+    conn.prepare_cached(
+        "DELETE FROM results WHERE examination_id IN (SELECT id FROM examinations WHERE incident_id = ?1)",
+    )?
+    .execute([id])?;
+    conn.prepare_cached(
+        "DELETE FROM mirror_readings WHERE examination_id IN (SELECT id FROM examinations WHERE incident_id = ?1)",
+    )?
+    .execute([id])?;
+    for sql in [
+        "DELETE FROM examinations WHERE incident_id = ?1",
+        "DELETE FROM plies WHERE incident_id = ?1",
+        "DELETE FROM custody WHERE incident_id = ?1",
+        "DELETE FROM attachments WHERE incident_id = ?1",
+    ] {
+        conn.prepare_cached(sql)?.execute([id])?;
+    }
+    Ok(())
+}
+
+/// Insert a complete new incident (ids, reference, revision and times already set) and
+/// its audit row. Returns its seq.
+pub(crate) fn insert_new(
+    conn: &Connection,
+    chain: &mut Chain,
+    inc: &Incident,
+    refs: &Refs,
+    stamp: &Stamp,
+    with_text: bool,
+) -> Result<i64, StoreError> {
+    let d = derive(inc);
+    let values = row_values(inc, refs, &d)?;
+    conn.prepare_cached(&insert_sql())?
+        .execute(params_from_iter(values.iter()))
+        .map_err(|e| match e {
+            rusqlite::Error::SqliteFailure(f, _)
+                if f.code == rusqlite::ErrorCode::ConstraintViolation =>
+            {
+                StoreError::Duplicate {
+                    what: "incident".into(),
+                    code: format!("{} ({})", inc.reference, inc.id),
+                }
+            }
+            other => other.into(),
+        })?;
+    let seq = conn.last_insert_rowid();
+    insert_children(conn, inc)?;
+    if with_text {
+        sqlite::fts_insert(conn, seq, &search_body(inc))?;
+    }
+    let img = canon::canonical(inc)?;
+    chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?;
+    Ok(seq)
+}
+
+/// The id of an incident given its reference or id.
+pub(crate) fn resolve_key(conn: &Connection, key: &str) -> Result<String, StoreError> {
+    let key = key.trim();
+    conn.prepare_cached("SELECT id FROM incidents WHERE reference = ?1 OR id = ?1")?
+        .query_row([key], |r| r.get::<_, String>(0))
+        .optional()?
+        .ok_or_else(|| StoreError::NotFound(key.to_string()))
+}
+
+/// Next free reference for a date found: "BR-YYMMDD-NNNN".
+pub(crate) fn next_reference(conn: &Connection, found_on: NaiveDate) -> Result<String, StoreError> {
+    let prefix = reference_prefix(found_on);
+    let upper = format!("{prefix}~");
+    let last: Option<String> = conn
+        .prepare_cached(
+            "SELECT reference FROM incidents WHERE reference >= ?1 AND reference < ?2
+             ORDER BY reference DESC LIMIT 1",
+        )?
+        .query_row([&prefix, &upper], |r| r.get(0))
+        .optional()?;
+    let n = match last {
+        Some(r) => r[prefix.len()..].parse::<u32>().unwrap_or(9999) + 1,
+        None => 1,
+    };
+    format_reference(found_on, n)
+}
+
+pub(crate) fn reference_prefix(found_on: NaiveDate) -> String {
+    format!("BR-{}-", found_on.format("%y%m%d"))
+}
+
+pub(crate) fn format_reference(found_on: NaiveDate, n: u32) -> Result<String, StoreError> {
+    if n > 9999 {
+        return Err(StoreError::invalid(
+            "found_on",
+            format!("more than 9999 incidents found on {found_on}"),
+        ));
+    }
+    Ok(format!("{}{n:04}", reference_prefix(found_on)))
+}
+
+fn load_row(conn: &Connection, id: &str) -> Result<Option<(i64, Incident, Derived)>, StoreError> {
+    let mut stmt = conn.prepare_cached(
+        "SELECT i.seq, i.id, i.reference, i.revision, i.created_at, i.updated_at, a.code, i.position, s.code,
+                i.found_on, i.broken_on, i.temperature_c, i.sun, i.weather, i.reporter, i.how_found,
+                su.code, p.code, l.code, i.makeup, i.width_m, i.height_m, i.crack_count, i.branching,
+                i.fragment_count, i.origin_location, i.tension_face, i.cause_category, i.cause_factors,
+                i.cause_confidence, i.cause_responsibility, i.cause_note, i.status, i.description, i.notes,
+                i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper
+         FROM incidents i
+         LEFT JOIN assets a ON a.id = i.asset_id
+         LEFT JOIN sites s ON s.id = i.site_id
+         LEFT JOIN suppliers su ON su.id = i.supplier_id
+         LEFT JOIN products p ON p.id = i.product_id
+         LEFT JOIN lots l ON l.id = i.lot_id
+         WHERE i.id = ?1",
+    )?;
+    let row = stmt
+        .query_row([id], |r| {
+            let time = |i: usize| -> rusqlite::Result<chrono::DateTime<chrono::Utc>> {
+                let s: String = r.get(i)?;
+                parse_time(&s).ok_or_else(|| {
+                    rusqlite::Error::FromSqlConversionFailure(
+                        i,
+                        rusqlite::types::Type::Text,
+                        format!("not a time: {s}").into(),
+                    )
+                })
+            };
+            let date = |i: usize| -> rusqlite::Result<Option<NaiveDate>> {
+                let s: Option<String> = r.get(i)?;
+                match s {
+                    None => Ok(None),
+                    Some(s) => parse_date(&s).map(Some).ok_or_else(|| {
+                        rusqlite::Error::FromSqlConversionFailure(
+                            i,
+                            rusqlite::types::Type::Text,
+                            format!("not a date: {s}").into(),
+                        )
+                    }),
+                }
+            };
+            let cause_category: Option<String> = r.get(27)?;
+            let factors: Option<String> = r.get(28)?;
+            let cause = match cause_category {
+                Some(category) => Some(Cause {
+                    category,
+                    factors: factors
+                        .as_deref()
+                        .and_then(|f| serde_json::from_str(f).ok())
+                        .unwrap_or_default(),
+                    confidence: r.get::<_, Option<String>>(29)?.unwrap_or_default(),
+                    responsibility: r.get::<_, Option<String>>(30)?.unwrap_or_default(),
+                    note: r.get::<_, Option<String>>(31)?.unwrap_or_default(),
+                }),
+                None => None,
+            };
+            let inc = Incident {
+                id: r.get(1)?,
+                reference: r.get(2)?,
+                revision: r.get(3)?,
+                created_at: time(4)?,
+                updated_at: time(5)?,
+                asset: r.get(6)?,
+                position: r.get(7)?,
+                site: r.get(8)?,
+                found_on: date(9)?.unwrap_or_default(),
+                broken_on: date(10)?,
+                environment: Environment {
+                    temperature_c: r.get(11)?,
+                    sun: r.get(12)?,
+                    weather: r.get(13)?,
+                },
+                reporter: r.get(14)?,
+                how_found: r.get(15)?,
+                glass: Glass {
+                    supplier: r.get(16)?,
+                    product: r.get(17)?,
+                    lot: r.get(18)?,
+                    makeup: r.get(19)?,
+                    plies: Vec::new(),
+                    width_m: r.get(20)?,
+                    height_m: r.get(21)?,
+                },
+                pattern: FracturePattern {
+                    crack_count: r.get(22)?,
+                    branching: r.get::<_, Option<i64>>(23)?.map(|b| b != 0),
+                    fragment_count: r.get(24)?,
+                    origin_location: r.get(25)?,
+                    tension_face: r.get(26)?,
+                },
+                examinations: Vec::new(),
+                cause,
+                status: r.get(32)?,
+                description: r.get(33)?,
+                notes: r.get(34)?,
+                custody: Vec::new(),
+                attachments: Vec::new(),
+            };
+            let d = Derived {
+                stress_pa: r.get(35)?,
+                applied_stress_pa: r.get(36)?,
+                origin_type: r.get(37)?,
+                temper: r.get(38)?,
+            };
+            Ok((r.get::<_, i64>(0)?, inc, d))
+        })
+        .optional()?;
+    let Some((seq, mut inc, d)) = row else {
+        return Ok(None);
+    };
+    load_children(conn, &mut inc)?;
+    Ok(Some((seq, inc, d)))
+}
+
+fn bad_col(i: usize, what: &str, s: &str) -> rusqlite::Error {
+    rusqlite::Error::FromSqlConversionFailure(
+        i,
+        rusqlite::types::Type::Text,
+        format!("not a {what}: {s}").into(),
+    )
+}
+
+fn load_children(conn: &Connection, inc: &mut Incident) -> Result<(), StoreError> {
+    let mut stmt = conn.prepare_cached(
+        "SELECT material, temper, thickness_m, coating, edge_finish FROM plies
+         WHERE incident_id = ?1 ORDER BY ply_no",
+    )?;
+    inc.glass.plies = stmt
+        .query_map([&inc.id], |r| {
+            Ok(Ply {
+                material: r.get(0)?,
+                temper: r.get(1)?,
+                thickness_m: r.get(2)?,
+                coating: r.get(3)?,
+                edge_finish: r.get(4)?,
+            })
+        })?
+        .collect::<Result<_, _>>()?;
+
+    let mut stmt = conn.prepare_cached(
+        "SELECT id, examined_on, analyst, origin_type, material, flaw_present, flaw_depth_text, flaw_depth_unit,
+                flaw_depth_m, flaw_width_text, flaw_width_unit, flaw_width_m, flaw_shape, notes
+         FROM examinations WHERE incident_id = ?1 ORDER BY exam_no",
+    )?;
+    let exams: Vec<Examination> = stmt
+        .query_map([&inc.id], |r| {
+            let measured = |ti: usize| -> rusqlite::Result<Option<Measured>> {
+                let text: Option<String> = r.get(ti)?;
+                let unit: Option<String> = r.get(ti + 1)?;
+                let si: Option<f64> = r.get(ti + 2)?;
+                Ok(match (text, unit, si) {
+                    (Some(text), Some(unit), Some(si)) => Some(Measured { text, unit, si }),
+                    _ => None,
+                })
+            };
+            let examined_on: Option<String> = r.get(1)?;
+            let examined_on = match examined_on {
+                Some(s) => Some(parse_date(&s).ok_or_else(|| bad_col(1, "date", &s))?),
+                None => None,
+            };
+            let present: i64 = r.get(5)?;
+            let flaw = if present != 0 {
+                Some(FlawMeasurement {
+                    depth: measured(6)?,
+                    width: measured(9)?,
+                    shape: r.get(12)?,
+                })
+            } else {
+                None
+            };
+            Ok(Examination {
+                id: r.get(0)?,
+                examined_on,
+                analyst: r.get(2)?,
+                origin_type: r.get(3)?,
+                material: r.get(4)?,
+                readings: Vec::new(),
+                flaw,
+                result: None,
+                notes: r.get(13)?,
+            })
+        })?
+        .collect::<Result<_, _>>()?;
+    inc.examinations = exams;
+    for e in &mut inc.examinations {
+        let mut stmt = conn.prepare_cached(
+            "SELECT boundary, value_text, unit, value_m, magnification, analyst, note
+             FROM mirror_readings WHERE examination_id = ?1 ORDER BY reading_no",
+        )?;
+        e.readings = stmt
+            .query_map([&e.id], |r| {
+                Ok(MirrorReading {
+                    boundary: r.get(0)?,
+                    radius: Measured {
+                        text: r.get(1)?,
+                        unit: r.get(2)?,
+                        si: r.get(3)?,
+                    },
+                    magnification: r.get(4)?,
+                    analyst: r.get(5)?,
+                    note: r.get(6)?,
+                })
+            })?
+            .collect::<Result<_, _>>()?;
+        let mut stmt = conn.prepare_cached(
+            "SELECT computed_at, code_version, stress_pa, stress_low_pa, stress_high_pa, residual_pa,
+                    applied_stress_pa, flaw_size_m, constants_json, analysis_json
+             FROM results WHERE examination_id = ?1",
+        )?;
+        let res = stmt
+            .query_row([&e.id], |r| {
+                let at: String = r.get(0)?;
+                let constants: String = r.get(8)?;
+                let analysis: String = r.get(9)?;
+                Ok(ComputedResult {
+                    computed_at: parse_time(&at).ok_or_else(|| bad_col(0, "time", &at))?,
+                    code_version: r.get(1)?,
+                    stress_pa: r.get(2)?,
+                    stress_low_pa: r.get(3)?,
+                    stress_high_pa: r.get(4)?,
+                    residual_pa: r.get(5)?,
+                    applied_stress_pa: r.get(6)?,
+                    flaw_size_m: r.get(7)?,
+                    constants: serde_json::from_str(&constants)
+                        .map_err(|_| bad_col(8, "JSON value", &constants))?,
+                    analysis: serde_json::from_str(&analysis)
+                        .map_err(|_| bad_col(9, "JSON value", "analysis"))?,
+                })
+            })
+            .optional()?;
+        e.result = res;
+    }
+
+    let mut stmt = conn.prepare_cached(
+        "SELECT id, at, action, who, location, note FROM custody WHERE incident_id = ?1 ORDER BY entry_no",
+    )?;
+    inc.custody = stmt
+        .query_map([&inc.id], |r| {
+            let at: String = r.get(1)?;
+            Ok(CustodyEntry {
+                id: r.get(0)?,
+                at: parse_time(&at).ok_or_else(|| bad_col(1, "time", &at))?,
+                action: r.get(2)?,
+                who: r.get(3)?,
+                location: r.get(4)?,
+                note: r.get(5)?,
+            })
+        })?
+        .collect::<Result<_, _>>()?;
+    let mut stmt = conn.prepare_cached(
+        "SELECT id, sha256, file_name, media_type, size_bytes, caption, added_at FROM attachments
+         WHERE incident_id = ?1 ORDER BY entry_no",
+    )?;
+    inc.attachments = stmt
+        .query_map([&inc.id], |r| {
+            let at: String = r.get(6)?;
+            Ok(Attachment {
+                id: r.get(0)?,
+                sha256: r.get(1)?,
+                file_name: r.get(2)?,
+                media_type: r.get(3)?,
+                size_bytes: r.get(4)?,
+                caption: r.get(5)?,
+                added_at: parse_time(&at).ok_or_else(|| bad_col(6, "time", &at))?,
+            })
+        })?
+        .collect::<Result<_, _>>()?;
+    Ok(())
+}
+
+pub(crate) fn load(conn: &Connection, id: &str) -> Result<Option<Incident>, StoreError> {
+    Ok(load_row(conn, id)?.map(|(_, inc, _)| inc))
+}
+
+/// Call `f` with every incident in row order, and whether its derived columns agree.
+pub(crate) fn for_each_incident(
+    conn: &Connection,
+    mut f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
+) -> Result<(), StoreError> {
+    let ids: Vec<String> = {
+        let mut stmt = conn.prepare("SELECT id FROM incidents ORDER BY seq")?;
+        let rows = stmt.query_map([], |r| r.get(0))?;
+        rows.collect::<Result<_, _>>()?
+    };
+    for id in ids {
+        if let Some((_, inc, d)) = load_row(conn, &id)? {
+            let ok = derive(&inc) == d;
+            f(inc, ok)?;
+        }
+    }
+    Ok(())
+}
+
+fn finite(problems: &mut Vec<(String, String)>, field: &str, x: Option<f64>) {
+    if let Some(v) = x {
+        if !v.is_finite() {
+            problems.push((field.to_string(), "must be a finite number".into()));
+        }
+    }
+}
+
+fn positive(problems: &mut Vec<(String, String)>, field: &str, x: Option<f64>) {
+    if let Some(v) = x {
+        if !v.is_finite() || v <= 0.0 {
+            problems.push((field.to_string(), "must be a positive finite number".into()));
+        }
+    }
+}
+
+/// Check a measured value: its text and unit must parse to its SI value.
+fn check_measured(
+    problems: &mut Vec<(String, String)>,
+    field: &str,
+    m: &Measured,
+    dim: crate::units::Dimension,
+) {
+    let typed = format!("{} {}", m.text, m.unit);
+    match crate::units::parse_with_unit(&typed, dim) {
+        Err(e) => problems.push((field.to_string(), e.to_string())),
+        Ok((si, _)) => {
+            if !(m.si.is_finite() && (si - m.si).abs() <= 1e-9 * si.abs().max(1e-300)) {
+                problems.push((
+                    field.to_string(),
+                    format!("the SI value {} does not match \"{typed}\"", m.si),
+                ));
+            } else if si <= 0.0 {
+                problems.push((field.to_string(), "must be greater than zero".into()));
+            }
+        }
+    }
+}
+
+type Lookups = HashSet<(String, String)>;
+
+fn check_code(
+    lookups: &Lookups,
+    problems: &mut Vec<(String, String)>,
+    field: &str,
+    kind: LookupKind,
+    code: Option<&str>,
+) {
+    if let Some(c) = code {
+        if !lookups.contains(&(kind.as_str().to_string(), c.to_string())) {
+            problems.push((
+                field.to_string(),
+                format!("unknown {} code \"{c}\"", kind.as_str().replace('_', " ")),
+            ));
+        }
+    }
+}
+
+/// Every problem with an incident's content, as (field path, what is wrong).
+pub(crate) fn validate(lookups: &Lookups, inc: &Incident) -> Vec<(String, String)> {
+    use crate::units::Dimension;
+    let mut p = Vec::new();
+    check_code(
+        lookups,
+        &mut p,
+        "status",
+        LookupKind::Status,
+        Some(&inc.status),
+    );
+    check_code(
+        lookups,
+        &mut p,
+        "glass.makeup",
+        LookupKind::Makeup,
+        Some(&inc.glass.makeup),
+    );
+    if let Some(b) = inc.broken_on {
+        if b > inc.found_on {
+            p.push(("broken_on".into(), "is after the date found".into()));
+        }
+    }
+    finite(
+        &mut p,
+        "environment.temperature_c",
+        inc.environment.temperature_c,
+    );
+    positive(&mut p, "glass.width_m", inc.glass.width_m);
+    positive(&mut p, "glass.height_m", inc.glass.height_m);
+    if inc.glass.product.is_some() && inc.glass.supplier.is_none() {
+        p.push((
+            "glass.product".into(),
+            "a product needs its supplier".into(),
+        ));
+    }
+    if inc.glass.lot.is_some() && inc.glass.product.is_none() {
+        p.push(("glass.lot".into(), "a lot needs its product".into()));
+    }
+    for (i, ply) in inc.glass.plies.iter().enumerate() {
+        let f = format!("glass.plies[{i}]");
+        check_code(
+            lookups,
+            &mut p,
+            &format!("{f}.material"),
+            LookupKind::Material,
+            ply.material.as_deref(),
+        );
+        check_code(
+            lookups,
+            &mut p,
+            &format!("{f}.temper"),
+            LookupKind::TemperClass,
+            ply.temper.as_deref(),
+        );
+        positive(&mut p, &format!("{f}.thickness_m"), ply.thickness_m);
+    }
+    for (name, v) in [
+        ("pattern.crack_count", inc.pattern.crack_count),
+        ("pattern.fragment_count", inc.pattern.fragment_count),
+    ] {
+        if v.is_some_and(|n| n < 0) {
+            p.push((name.into(), "must not be negative".into()));
+        }
+    }
+    check_code(
+        lookups,
+        &mut p,
+        "pattern.origin_location",
+        LookupKind::OriginLocation,
+        inc.pattern.origin_location.as_deref(),
+    );
+    if let Some(c) = &inc.cause {
+        check_code(
+            lookups,
+            &mut p,
+            "cause.category",
+            LookupKind::CauseCategory,
+            Some(&c.category),
+        );
+        check_code(
+            lookups,
+            &mut p,
+            "cause.confidence",
+            LookupKind::Confidence,
+            Some(&c.confidence),
+        );
+        check_code(
+            lookups,
+            &mut p,
+            "cause.responsibility",
+            LookupKind::Responsibility,
+            Some(&c.responsibility),
+        );
+    }
+    let mut ids = HashSet::new();
+    for (i, e) in inc.examinations.iter().enumerate() {
+        let f = format!("examinations[{i}]");
+        if !e.id.is_empty() && !ids.insert(e.id.clone()) {
+            p.push((format!("{f}.id"), "is used twice".into()));
+        }
+        check_code(
+            lookups,
+            &mut p,
+            &format!("{f}.origin_type"),
+            LookupKind::OriginType,
+            e.origin_type.as_deref(),
+        );
+        check_code(
+            lookups,
+            &mut p,
+            &format!("{f}.material"),
+            LookupKind::Material,
+            e.material.as_deref(),
+        );
+        for (j, r) in e.readings.iter().enumerate() {
+            let g = format!("{f}.readings[{j}]");
+            check_code(
+                lookups,
+                &mut p,
+                &format!("{g}.boundary"),
+                LookupKind::Boundary,
+                Some(&r.boundary),
+            );
+            check_measured(&mut p, &format!("{g}.radius"), &r.radius, Dimension::Length);
+            positive(&mut p, &format!("{g}.magnification"), r.magnification);
+        }
+        if let Some(fl) = &e.flaw {
+            if let Some(m) = &fl.depth {
+                check_measured(&mut p, &format!("{f}.flaw.depth"), m, Dimension::Length);
+            }
+            if let Some(m) = &fl.width {
+                check_measured(&mut p, &format!("{f}.flaw.width"), m, Dimension::Length);
+            }
+        }
+        if let Some(r) = &e.result {
+            let g = format!("{f}.result");
+            for (name, v) in [
+                ("stress_pa", r.stress_pa),
+                ("stress_low_pa", r.stress_low_pa),
+                ("stress_high_pa", r.stress_high_pa),
+                ("residual_pa", r.residual_pa),
+                ("applied_stress_pa", r.applied_stress_pa),
+                ("flaw_size_m", r.flaw_size_m),
+            ] {
+                finite(&mut p, &format!("{g}.{name}"), v);
+            }
+        }
+    }
+    for (i, c) in inc.custody.iter().enumerate() {
+        let f = format!("custody[{i}]");
+        if !c.id.is_empty() && !ids.insert(c.id.clone()) {
+            p.push((format!("{f}.id"), "is used twice".into()));
+        }
+        check_code(
+            lookups,
+            &mut p,
+            &format!("{f}.action"),
+            LookupKind::CustodyAction,
+            Some(&c.action),
+        );
+        if c.who.trim().is_empty() {
+            p.push((
+                format!("{f}.who"),
+                "must name who handled the specimen".into(),
+            ));
+        }
+    }
+    for (i, a) in inc.attachments.iter().enumerate() {
+        let f = format!("attachments[{i}]");
+        if !a.id.is_empty() && !ids.insert(a.id.clone()) {
+            p.push((format!("{f}.id"), "is used twice".into()));
+        }
+        if a.sha256.len() != 64
+            || !a
+                .sha256
+                .bytes()
+                .all(|b| b.is_ascii_hexdigit() && !b.is_ascii_uppercase())
+        {
+            p.push((
+                format!("{f}.sha256"),
+                "must be 64 lower-case hex digits".into(),
+            ));
+        }
+        if a.size_bytes < 0 {
+            p.push((format!("{f}.size_bytes"), "must not be negative".into()));
+        }
+    }
+    p
+}
+
+impl Store {
+    /// Every problem with an incident's content, as (field path, what is wrong).
+    pub fn validate_incident(&self, inc: &Incident) -> Vec<(String, String)> {
+        validate(&self.lookups, inc)
+    }
+
+    /// Give new children keys and truncate times to milliseconds.
+    pub(crate) fn normalize(ids: &mut IdGen, inc: &mut Incident, stamp: &Stamp) {
+        let ms = stamp.at.timestamp_millis();
+        for e in &mut inc.examinations {
+            if e.id.is_empty() {
+                e.id = ids.uuid_v7(ms);
+            }
+            if let Some(r) = &mut e.result {
+                r.computed_at = truncate_ms(r.computed_at);
+            }
+        }
+        for c in &mut inc.custody {
+            if c.id.is_empty() {
+                c.id = ids.uuid_v7(ms);
+            }
+            c.at = truncate_ms(c.at);
+        }
+        for a in &mut inc.attachments {
+            if a.id.is_empty() {
+                a.id = ids.uuid_v7(ms);
+            }
+            a.added_at = truncate_ms(a.added_at);
+        }
+        inc.created_at = truncate_ms(inc.created_at);
+        inc.updated_at = truncate_ms(inc.updated_at);
+    }
+
+    fn first_problem(lookups: &Lookups, inc: &Incident) -> Result<(), StoreError> {
+        match validate(lookups, inc).into_iter().next() {
+            Some((field, message)) => Err(StoreError::Invalid { field, message }),
+            None => Ok(()),
+        }
+    }
+
+    /// Resolve codes to keys; unknown sites, assets, suppliers, products and lots are
+    /// created (and audited) unless `strict`.
+    pub(crate) fn resolve_refs(
+        conn: &Connection,
+        chain: &mut Chain,
+        ids: &mut IdGen,
+        inc: &Incident,
+        stamp: &Stamp,
+        strict: bool,
+    ) -> Result<Refs, StoreError> {
+        let ms = stamp.at.timestamp_millis();
+        let missing = |what: &str, code: &str| {
+            StoreError::invalid(
+                what,
+                format!("no {what} with code \"{code}\" (strict mode)"),
+            )
+        };
+        let mut refs = Refs::default();
+        if let Some(code) = &inc.site {
+            refs.site = match refdata::site_id(conn, code)? {
+                Some(id) => Some(id),
+                None if strict => return Err(missing("site", code)),
+                None => {
+                    let s = Site {
+                        id: ids.uuid_v7(ms),
+                        code: code.clone(),
+                        name: code.clone(),
+                        region: String::new(),
+                    };
+                    refdata::insert_site(conn, chain, &s, stamp)?;
+                    Some(s.id)
+                }
+            };
+        }
+        if let Some(code) = &inc.asset {
+            refs.asset = match refdata::asset_id(conn, code)? {
+                Some(id) => Some(id),
+                None if strict => return Err(missing("asset", code)),
+                None => {
+                    let a = Asset {
+                        id: ids.uuid_v7(ms),
+                        code: code.clone(),
+                        asset_type: "other".into(),
+                        name: code.clone(),
+                        site: inc.site.clone(),
+                    };
+                    refdata::insert_asset(conn, chain, &a, stamp)?;
+                    Some(a.id)
+                }
+            };
+        }
+        if let Some(code) = &inc.glass.supplier {
+            let sid = match refdata::supplier_id(conn, code)? {
+                Some(id) => id,
+                None if strict => return Err(missing("supplier", code)),
+                None => {
+                    let s = Supplier {
+                        id: ids.uuid_v7(ms),
+                        code: code.clone(),
+                        name: code.clone(),
+                    };
+                    refdata::insert_supplier(conn, chain, &s, stamp)?;
+                    s.id
+                }
+            };
+            if let Some(pcode) = &inc.glass.product {
+                let pid = match refdata::product_id(conn, &sid, pcode)? {
+                    Some(id) => id,
+                    None if strict => return Err(missing("product", pcode)),
+                    None => {
+                        let p = Product {
+                            id: ids.uuid_v7(ms),
+                            supplier: code.clone(),
+                            code: pcode.clone(),
+                            name: pcode.clone(),
+                        };
+                        refdata::insert_product(conn, chain, &p, stamp)?;
+                        p.id
+                    }
+                };
+                if let Some(lcode) = &inc.glass.lot {
+                    refs.lot = Some(match refdata::lot_id(conn, &pid, lcode)? {
+                        Some(id) => id,
+                        None if strict => return Err(missing("lot", lcode)),
+                        None => {
+                            let l = Lot {
+                                id: ids.uuid_v7(ms),
+                                supplier: code.clone(),
+                                product: pcode.clone(),
+                                code: lcode.clone(),
+                                made_on: None,
+                            };
+                            refdata::insert_lot(conn, chain, &l, stamp)?;
+                            l.id
+                        }
+                    });
+                }
+                refs.product = Some(pid);
+            }
+            refs.supplier = Some(sid);
+        }
+        Ok(refs)
+    }
+
+    /// Save a new incident from a draft: the store assigns the id, the reference, revision 1
+    /// and the times. Unknown site, asset, supplier, product and lot codes are created.
+    pub fn create_incident(
+        &mut self,
+        draft: &Incident,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let mut inc = draft.clone();
+        inc.revision = 1;
+        inc.created_at = stamp.at;
+        inc.updated_at = stamp.at;
+        Store::normalize(&mut self.ids, &mut inc, stamp);
+        Store::first_problem(&self.lookups, &inc)?;
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let mut chain = Chain::load(&tx)?;
+        if inc.id.is_empty() {
+            inc.id = self.ids.uuid_v7(stamp.at.timestamp_millis());
+        }
+        inc.reference = next_reference(&tx, inc.found_on)?;
+        let refs = Store::resolve_refs(&tx, &mut chain, &mut self.ids, &inc, stamp, false)?;
+        insert_new(&tx, &mut chain, &inc, &refs, stamp, true)?;
+        chain.finish(&tx)?;
+        tx.commit()?;
+        Ok(inc)
+    }
+
+    /// Save an edited incident. `inc.revision` must be the revision it was loaded at; if the
+    /// stored incident has moved on, [`StoreError::StaleRevision`] and nothing is written.
+    /// The whole aggregate is replaced by `inc` (examinations, custody, attachments too).
+    pub fn update_incident(
+        &mut self,
+        inc: &Incident,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let out = Store::update_in(&tx, &mut self.ids, &self.lookups, inc, stamp)?;
+        tx.commit()?;
+        Ok(out)
+    }
+
+    fn update_in(
+        conn: &Connection,
+        ids: &mut IdGen,
+        lookups: &Lookups,
+        inc: &Incident,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let Some((seq, current, _)) = load_row(conn, &inc.id)? else {
+            return Err(StoreError::NotFound(if inc.reference.is_empty() {
+                inc.id.clone()
+            } else {
+                inc.reference.clone()
+            }));
+        };
+        if current.revision != inc.revision {
+            return Err(StoreError::StaleRevision {
+                reference: current.reference,
+                expected: inc.revision,
+                current: current.revision,
+            });
+        }
+        let mut new = inc.clone();
+        new.reference = current.reference.clone();
+        new.created_at = current.created_at;
+        new.revision = current.revision + 1;
+        new.updated_at = stamp.at;
+        Store::normalize(ids, &mut new, stamp);
+        Store::first_problem(lookups, &new)?;
+        let mut chain = Chain::load(conn)?;
+        let refs = Store::resolve_refs(conn, &mut chain, ids, &new, stamp, false)?;
+        let d = derive(&new);
+        let mut values = row_values(&new, &refs, &d)?;
+        values.push(SqlValue::Integer(current.revision));
+        let n = conn
+            .prepare_cached(&update_sql())?
+            .execute(params_from_iter(values.iter()))?;
+        if n != 1 {
+            return Err(StoreError::StaleRevision {
+                reference: current.reference,
+                expected: inc.revision,
+                current: current.revision,
+            });
+        }
+        delete_children(conn, &new.id)?;
+        insert_children(conn, &new)?;
+        sqlite::fts_put(conn, seq, &search_body(&new))?;
+        let before = canon::canonical(&current)?;
+        let after = canon::canonical(&new)?;
+        chain.record(conn, stamp, INCIDENT, &new.id, Some(&before), Some(&after))?;
+        chain.finish(conn)?;
+        Ok(new)
+    }
+
+    /// Load, change and save in one transaction. `expected` = the revision the caller's
+    /// change was made on (None: apply to whatever is current, for additive changes).
+    pub fn modify_incident(
+        &mut self,
+        key: &str,
+        expected: Option<i64>,
+        stamp: &Stamp,
+        change: impl FnOnce(&mut Incident) -> Result<(), StoreError>,
+    ) -> Result<Incident, StoreError> {
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let id = resolve_key(&tx, key)?;
+        let mut inc = load(&tx, &id)?.ok_or_else(|| StoreError::NotFound(key.to_string()))?;
+        if let Some(rev) = expected {
+            if rev != inc.revision {
+                return Err(StoreError::StaleRevision {
+                    reference: inc.reference,
+                    expected: rev,
+                    current: inc.revision,
+                });
+            }
+        }
+        change(&mut inc)?;
+        let out = Store::update_in(&tx, &mut self.ids, &self.lookups, &inc, stamp)?;
+        tx.commit()?;
+        Ok(out)
+    }
+
+    /// Add or replace an examination (matched by id; an empty id adds a new one).
+    /// Returns the saved incident; the examination keeps its position.
+    pub fn put_examination(
+        &mut self,
+        key: &str,
+        expected: i64,
+        exam: &Examination,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let exam = exam.clone();
+        self.modify_incident(key, Some(expected), stamp, move |inc| {
+            match inc
+                .examinations
+                .iter_mut()
+                .find(|e| !exam.id.is_empty() && e.id == exam.id)
+            {
+                Some(slot) => *slot = exam,
+                None => inc.examinations.push(exam),
+            }
+            Ok(())
+        })
+    }
+
+    /// Set (or clear) the computed result of one examination.
+    pub fn set_result(
+        &mut self,
+        key: &str,
+        expected: i64,
+        examination_id: &str,
+        result: Option<ComputedResult>,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let exam_id = examination_id.to_string();
+        self.modify_incident(key, Some(expected), stamp, move |inc| {
+            let e = inc
+                .examinations
+                .iter_mut()
+                .find(|e| e.id == exam_id)
+                .ok_or_else(|| {
+                    StoreError::invalid("examination", format!("no examination {exam_id}"))
+                })?;
+            e.result = result;
+            Ok(())
+        })
+    }
+
+    /// Set (or clear) the cause, and optionally move the case status.
+    pub fn set_cause(
+        &mut self,
+        key: &str,
+        expected: i64,
+        cause: Option<Cause>,
+        status: Option<&str>,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let status = status.map(str::to_string);
+        self.modify_incident(key, Some(expected), stamp, move |inc| {
+            inc.cause = cause;
+            if let Some(s) = status {
+                inc.status = s;
+            }
+            Ok(())
+        })
+    }
+
+    /// Append a custody entry (an empty id gets a new key). No revision check: entries
+    /// only add.
+    pub fn add_custody(
+        &mut self,
+        key: &str,
+        entry: &CustodyEntry,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let entry = entry.clone();
+        self.modify_incident(key, None, stamp, move |inc| {
+            inc.custody.push(entry);
+            Ok(())
+        })
+    }
+
+    /// Delete an incident (the audit log keeps its last image).
+    pub fn delete_incident(
+        &mut self,
+        key: &str,
+        expected: i64,
+        stamp: &Stamp,
+    ) -> Result<(), StoreError> {
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let id = resolve_key(&tx, key)?;
+        let Some((seq, current, _)) = load_row(&tx, &id)? else {
+            return Err(StoreError::NotFound(key.to_string()));
+        };
+        if current.revision != expected {
+            return Err(StoreError::StaleRevision {
+                reference: current.reference,
+                expected,
+                current: current.revision,
+            });
+        }
+        delete_children(&tx, &id)?;
+        sqlite::fts_delete(&tx, seq)?;
+        tx.prepare_cached("DELETE FROM incidents WHERE id = ?1")?
+            .execute([&id])?;
+        let mut chain = Chain::load(&tx)?;
+        let before = canon::canonical(&current)?;
+        chain.record(&tx, stamp, INCIDENT, &id, Some(&before), None)?;
+        chain.finish(&tx)?;
+        tx.commit()?;
+        Ok(())
+    }
+
+    /// The full incident by reference ("BR-260314-0007") or id.
+    pub fn get(&self, key: &str) -> Result<Incident, StoreError> {
+        let id = resolve_key(&self.conn, key)?;
+        load(&self.conn, &id)?.ok_or_else(|| StoreError::NotFound(key.to_string()))
+    }
+
+    /// The full incident, or None when there is no such reference or id.
+    pub fn find(&self, key: &str) -> Result<Option<Incident>, StoreError> {
+        match self.get(key) {
+            Ok(i) => Ok(Some(i)),
+            Err(StoreError::NotFound(_)) => Ok(None),
+            Err(e) => Err(e),
+        }
+    }
+
+    /// Number of incidents in the database.
+    pub fn incident_count(&self) -> Result<u64, StoreError> {
+        Ok(self
+            .conn
+            .query_row("SELECT count(*) FROM incidents", [], |r| r.get::<_, i64>(0))?
+            as u64)
+    }
+
+    /// One page of the incident log.
+    pub fn list(
+        &self,
+        filter: &Filter,
+        sort: Sort,
+        page: &PageRequest,
+    ) -> Result<Page, StoreError> {
+        let (where_sql, mut args) = filter_sql(filter);
+        let limit = page.limit.clamp(1, 10_000) as i64;
+        let (order_cols, key_exprs): (&str, Vec<&str>) = match sort.column {
+            SortColumn::Found => ("i.found_on {d}, i.seq {d}", vec!["i.found_on"]),
+            SortColumn::Reference => ("i.reference {d}, i.seq {d}", vec!["i.reference"]),
+            SortColumn::Status => (
+                "i.status {d}, i.found_on {d}, i.seq {d}",
+                vec!["i.status", "i.found_on"],
+            ),
+            SortColumn::Stress => ("", vec![]),
+        };
+        let dir = if sort.descending { "DESC" } else { "ASC" };
+        let cmp = if sort.descending { "<" } else { ">" };
+        let select = "SELECT i.seq, i.id, i.reference, i.found_on, a.code, i.position, s.code, p.code, su.code,
+                      l.code, i.status, i.cause_category, i.stress_pa
+                      FROM incidents i
+                      LEFT JOIN assets a ON a.id = i.asset_id
+                      LEFT JOIN sites s ON s.id = i.site_id
+                      LEFT JOIN suppliers su ON su.id = i.supplier_id
+                      LEFT JOIN products p ON p.id = i.product_id
+                      LEFT JOIN lots l ON l.id = i.lot_id";
+        let mut rows: Vec<(i64, LogRow)> = Vec::new();
+        if sort.column != SortColumn::Stress {
+            let mut conds = where_sql.clone();
+            let mut params_v = args.clone();
+            if let Some(c) = &page.after {
+                let mut lhs: Vec<&str> = key_exprs.clone();
+                lhs.push("i.seq");
+                let qs = vec!["?"; lhs.len()].join(", ");
+                conds.push(format!("({}) {cmp} ({qs})", lhs.join(", ")));
+                for k in &c.key {
+                    match k {
+                        CursorKey::Text(s) => params_v.push(SqlValue::Text(s.clone())),
+                        CursorKey::Real(x) => params_v.push(of(*x)),
+                    }
+                }
+                params_v.push(SqlValue::Integer(c.seq));
+            }
+            let sql = format!(
+                "{select} {} ORDER BY {} LIMIT {limit}",
+                where_clause(&conds),
+                order_cols.replace("{d}", dir)
+            );
+            self.collect_rows(&sql, &params_v, &mut rows)?;
+        } else {
+            // stress: incidents with a stress first (in the chosen direction), then the rest
+            let in_nulls = matches!(&page.after, Some(c) if matches!(c.key.first(), Some(CursorKey::Real(None))));
+            if !in_nulls {
+                let mut conds = where_sql.clone();
+                conds.push("i.stress_pa IS NOT NULL".into());
+                let mut params_v = args.clone();
+                if let Some(c) = &page.after {
+                    if let Some(CursorKey::Real(Some(x))) = c.key.first() {
+                        conds.push(format!("(i.stress_pa, i.seq) {cmp} (?, ?)"));
+                        params_v.push(SqlValue::Real(*x));
+                        params_v.push(SqlValue::Integer(c.seq));
+                    }
+                }
+                let sql = format!(
+                    "{select} {} ORDER BY i.stress_pa {dir}, i.seq {dir} LIMIT {limit}",
+                    where_clause(&conds)
+                );
+                self.collect_rows(&sql, &params_v, &mut rows)?;
+            }
+            if (rows.len() as i64) < limit {
+                let mut conds = where_sql.clone();
+                conds.push("i.stress_pa IS NULL".into());
+                let mut params_v = args.clone();
+                if in_nulls {
+                    if let Some(c) = &page.after {
+                        conds.push(format!("i.seq {cmp} ?"));
+                        params_v.push(SqlValue::Integer(c.seq));
+                    }
+                }
+                let sql = format!(
+                    "{select} {} ORDER BY i.seq {dir} LIMIT {}",
+                    where_clause(&conds),
+                    limit - rows.len() as i64
+                );
+                self.collect_rows(&sql, &params_v, &mut rows)?;
+            }
+        }
+        let next = if rows.len() as i64 == limit {
+            rows.last().map(|(seq, row)| Cursor {
+                key: match sort.column {
+                    SortColumn::Found => vec![CursorKey::Text(fmt_date(row.occurred))],
+                    SortColumn::Reference => vec![CursorKey::Text(row.reference.clone())],
+                    SortColumn::Status => vec![
+                        CursorKey::Text(row.status.clone()),
+                        CursorKey::Text(fmt_date(row.occurred)),
+                    ],
+                    SortColumn::Stress => vec![CursorKey::Real(None)],
+                },
+                seq: *seq,
+            })
+        } else {
+            None
+        };
+        // the stress cursor needs the exact stored value, not the MPa shown
+        let next = match (next, sort.column) {
+            (Some(mut c), SortColumn::Stress) => {
+                let stress: Option<f64> = self
+                    .conn
+                    .prepare_cached("SELECT stress_pa FROM incidents WHERE seq = ?1")?
+                    .query_row([c.seq], |r| r.get(0))?;
+                c.key = vec![CursorKey::Real(stress)];
+                Some(c)
+            }
+            (n, _) => n,
+        };
+        let total = if page.with_total {
+            let sql = format!(
+                "SELECT count(*) FROM incidents i {}",
+                where_clause(&where_sql)
+            );
+            let n: i64 = self
+                .conn
+                .prepare_cached(&sql)?
+                .query_row(params_from_iter(args.iter()), |r| r.get(0))?;
+            Some(n as u64)
+        } else {
+            None
+        };
+        args.clear();
+        Ok(Page {
+            rows: rows.into_iter().map(|(_, r)| r).collect(),
+            next,
+            total,
+        })
+    }
+
+    fn collect_rows(
+        &self,
+        sql: &str,
+        args: &[SqlValue],
+        out: &mut Vec<(i64, LogRow)>,
+    ) -> Result<(), StoreError> {
+        let mut stmt = self.conn.prepare_cached(sql)?;
+        let rows = stmt.query_map(params_from_iter(args.iter()), |r| {
+            let found: String = r.get(3)?;
+            Ok((
+                r.get::<_, i64>(0)?,
+                LogRow {
+                    id: r.get(1)?,
+                    reference: r.get(2)?,
+                    occurred: parse_date(&found).ok_or_else(|| bad_col(3, "date", &found))?,
+                    asset: r.get(4)?,
+                    position: r.get(5)?,
+                    site: r.get(6)?,
+                    product: r.get(7)?,
+                    supplier: r.get(8)?,
+                    lot: r.get(9)?,
+                    status: r.get(10)?,
+                    cause: r.get(11)?,
+                    stress_mpa: r.get::<_, Option<f64>>(12)?.map(|x| x / 1e6),
+                },
+            ))
+        })?;
+        for row in rows {
+            out.push(row?);
+        }
+        Ok(())
+    }
+
+    /// Ids of all incidents matching a filter, in date-found order (exports, reports).
+    pub fn matching_ids(&self, filter: &Filter) -> Result<Vec<String>, StoreError> {
+        let (conds, args) = filter_sql(filter);
+        let sql = format!(
+            "SELECT i.id FROM incidents i {} ORDER BY i.found_on, i.seq",
+            where_clause(&conds)
+        );
+        let mut stmt = self.conn.prepare(&sql)?;
+        let rows = stmt.query_map(params_from_iter(args.iter()), |r| r.get::<_, String>(0))?;
+        Ok(rows.collect::<Result<_, _>>()?)
+    }
+
+    /// One flat row per matching incident for fleet statistics, in date-found order.
+    pub fn fleet_rows(&self, filter: &Filter) -> Result<Vec<FleetRow>, StoreError> {
+        let (conds, args) = filter_sql(filter);
+        let sql = format!(
+            "SELECT i.id, i.reference, i.cause_category, i.cause_confidence, i.origin_type, su.code, p.code,
+                    l.code, s.code, a.asset_type, i.temper, i.found_on, i.broken_on, i.applied_stress_pa,
+                    i.stress_pa
+             FROM incidents i
+             LEFT JOIN assets a ON a.id = i.asset_id
+             LEFT JOIN sites s ON s.id = i.site_id
+             LEFT JOIN suppliers su ON su.id = i.supplier_id
+             LEFT JOIN products p ON p.id = i.product_id
+             LEFT JOIN lots l ON l.id = i.lot_id
+             {} ORDER BY i.found_on, i.seq",
+            where_clause(&conds)
+        );
+        let mut stmt = self.conn.prepare(&sql)?;
+        let rows = stmt.query_map(params_from_iter(args.iter()), |r| {
+            let found: String = r.get(11)?;
+            let broken: Option<String> = r.get(12)?;
+            let net: Option<f64> = r.get(14)?;
+            Ok(FleetRow {
+                id: r.get(0)?,
+                reference: r.get(1)?,
+                cause: r.get(2)?,
+                confidence: r.get(3)?,
+                origin_type: r.get(4)?,
+                supplier: r.get(5)?,
+                product: r.get(6)?,
+                lot: r.get(7)?,
+                site: r.get(8)?,
+                asset_type: r.get(9)?,
+                temper: r.get(10)?,
+                found_on: parse_date(&found).ok_or_else(|| bad_col(11, "date", &found))?,
+                broken_on: broken.as_deref().and_then(parse_date),
+                applied_stress_pa: r.get(13)?,
+                net_stress_pa: net,
+                has_stress: net.is_some(),
+            })
+        })?;
+        Ok(rows.collect::<Result<_, _>>()?)
+    }
+}
+
+fn where_clause(conds: &[String]) -> String {
+    if conds.is_empty() {
+        String::new()
+    } else {
+        format!("WHERE {}", conds.join(" AND "))
+    }
+}
+
+/// SQL conditions on `incidents i` and their parameters. Only fixed SQL text; every
+/// user value is a bound parameter.
+fn filter_sql(f: &Filter) -> (Vec<String>, Vec<SqlValue>) {
+    let mut c = Vec::new();
+    let mut a = Vec::new();
+    if let Some(s) = &f.status {
+        c.push("i.status = ?".to_string());
+        a.push(t(s));
+    }
+    if let Some(s) = &f.cause {
+        c.push("i.cause_category = ?".to_string());
+        a.push(t(s));
+    }
+    if let Some(s) = &f.origin_type {
+        c.push("i.origin_type = ?".to_string());
+        a.push(t(s));
+    }
+    if let Some(s) = &f.supplier {
+        c.push("i.supplier_id = (SELECT id FROM suppliers WHERE code = ?)".to_string());
+        a.push(t(s));
+    }
+    if let Some(l) = &f.lot {
+        match &f.supplier {
+            Some(s) => {
+                c.push(
+                    "i.lot_id IN (SELECT lo.id FROM lots lo JOIN products pr ON pr.id = lo.product_id
+                     JOIN suppliers sp ON sp.id = pr.supplier_id WHERE lo.code = ? AND sp.code = ?)"
+                        .to_string(),
+                );
+                a.push(t(l));
+                a.push(t(s));
+            }
+            None => {
+                c.push("i.lot_id IN (SELECT lo.id FROM lots lo WHERE lo.code = ?)".to_string());
+                a.push(t(l));
+            }
+        }
+    }
+    if let Some(s) = &f.site {
+        c.push("i.site_id = (SELECT id FROM sites WHERE code = ?)".to_string());
+        a.push(t(s));
+    }
+    if let Some(d) = f.since {
+        c.push("i.found_on >= ?".to_string());
+        a.push(t(&fmt_date(d)));
+    }
+    if let Some(d) = f.until {
+        c.push("i.found_on <= ?".to_string());
+        a.push(t(&fmt_date(d)));
+    }
+    if let Some(text) = &f.text {
+        match sqlite::fts_query(text) {
+            Some(q) => {
+                c.push(sqlite::FTS_CONDITION.to_string());
+                a.push(SqlValue::Text(q));
+            }
+            None => c.push("1 = 0".to_string()),
+        }
+    }
+    (c, a)
+}
