@@ -74,8 +74,12 @@ fn crash_child() {
                 })
                 .expect("edit");
             let mut lock = out.lock();
-            writeln!(lock, "committed edit {} {} {marker}", saved.id, saved.revision)
-                .expect("stdout");
+            writeln!(
+                lock,
+                "committed edit {} {} {marker}",
+                saved.id, saved.revision
+            )
+            .expect("stdout");
             lock.flush().expect("flush");
         } else {
             let saved = store.create_incident(&draft(i), &stamp(i)).expect("create");
@@ -130,12 +134,19 @@ fn check_after_kill(db: &Path, before: u64, c: &Committed, round: usize) -> u64 
     }
     let store = Store::open_existing(db).expect("the store reopens the file");
     let report = store.verify().expect("verify runs");
-    assert!(report.ok(), "round {round}: verify: {:?}", report.first_problem);
+    assert!(
+        report.ok(),
+        "round {round}: verify: {:?}",
+        report.first_problem
+    );
     for id in &c.created {
         let inc = store
             .get(id)
             .unwrap_or_else(|e| panic!("round {round}: committed {id} missing: {e}"));
-        assert!(inc.description.starts_with("crash-test incident"), "round {round}");
+        assert!(
+            inc.description.starts_with("crash-test incident"),
+            "round {round}"
+        );
     }
     for (id, (rev, notes)) in &c.edited {
         let inc = store.get(id).expect("edited incident present");
@@ -145,15 +156,24 @@ fn check_after_kill(db: &Path, before: u64, c: &Committed, round: usize) -> u64 
             inc.revision
         );
         if inc.revision == *rev {
-            assert_eq!(&inc.notes, notes, "round {round}: {id} content of revision {rev}");
+            assert_eq!(
+                &inc.notes, notes,
+                "round {round}: {id} content of revision {rev}"
+            );
         }
     }
     let n = store.incident_count().expect("count");
     // committed ones, plus at most one transaction that committed before the child could say
     // so (a whole batch of 20 at most); never a part of one
-    assert!(n >= before + c.created.len() as u64, "round {round}: {n} incidents");
+    assert!(
+        n >= before + c.created.len() as u64,
+        "round {round}: {n} incidents"
+    );
     let extra = n - before - c.created.len() as u64;
-    assert!(extra == 0 || extra == 1 || extra == 20, "round {round}: {extra} unreported");
+    assert!(
+        extra == 0 || extra == 1 || extra == 20,
+        "round {round}: {extra} unreported"
+    );
     n
 }
 
@@ -215,5 +235,8 @@ fn sigkill_during_single_edits_leaves_a_sound_database() {
     }
     let (k, w) = kill_loop("edits", kills());
     eprintln!("edits: {k} kills, {w} committed writes checked");
-    assert!(w > 0, "the children never committed anything: the harness tests nothing");
+    assert!(
+        w > 0,
+        "the children never committed anything: the harness tests nothing"
+    );
 }
