@@ -121,7 +121,7 @@ fn parse_committed(lines: &[String]) -> Committed {
 }
 
 /// Every check after a kill; returns the number of incidents found.
-fn check_after_kill(db: &Path, before: u64, c: &Committed, round: usize) -> u64 {
+fn check_after_kill(db: &Path, before: u64, c: &Committed, round: usize, batch: u64) -> u64 {
     {
         let conn = Connection::open(db).expect("sqlite opens the file");
         let integrity: String = conn
@@ -164,14 +164,14 @@ fn check_after_kill(db: &Path, before: u64, c: &Committed, round: usize) -> u64 
     }
     let n = store.incident_count().expect("count");
     // committed ones, plus at most one transaction that committed before the child could say
-    // so (a whole batch of 20 at most); never a part of one
+    // so (a whole batch); never a part of one
     assert!(
         n >= before + c.created.len() as u64,
         "round {round}: {n} incidents"
     );
     let extra = n - before - c.created.len() as u64;
     assert!(
-        extra == 0 || extra == 1 || extra == 20,
+        extra == 0 || extra == batch,
         "round {round}: {extra} unreported"
     );
     n
@@ -223,7 +223,7 @@ fn kill_loop(mode: &str, rounds: usize) -> (usize, usize) {
         let lines = reader.join().expect("reader");
         let c = parse_committed(&lines);
         total_writes += c.created.len() + c.edited.len();
-        check_after_kill(&db, before, &c, round);
+        check_after_kill(&db, before, &c, round, 1);
     }
     (rounds, total_writes)
 }
@@ -238,5 +238,107 @@ fn sigkill_during_single_edits_leaves_a_sound_database() {
     assert!(
         w > 0,
         "the children never committed anything: the harness tests nothing"
+    );
+}
+
+/// `shardlog import` (the real binary) killed at points spread over the time one import
+/// takes: the import is all or nothing, and a reported import is all there.
+#[test]
+fn sigkill_during_import_leaves_all_or_nothing() {
+    if std::env::var(CHILD_ENV).is_ok() {
+        return;
+    }
+    let dir = tempfile::tempdir().expect("temp dir");
+    let db = dir.path().join("import.db");
+    let bin = env!("CARGO_BIN_EXE_shardlog");
+    let ok = Command::new(bin)
+        .arg("--db")
+        .arg(&db)
+        .arg("init")
+        .output()
+        .expect("init");
+    assert!(
+        ok.status.success(),
+        "{}",
+        String::from_utf8_lossy(&ok.stderr)
+    );
+    const ROWS: u64 = 300;
+    let mut csv = String::from("found_on,site,asset,supplier,lot,mirror_mist,description,notes\n");
+    for i in 0..ROWS {
+        csv.push_str(&format!(
+            "2026-03-{:02},north-depot,car {},ORVALE,L{},{}.{} mm,crash-test import row {i},{}\n",
+            1 + i % 28,
+            200 + i % 17,
+            i % 5,
+            1 + i % 2,
+            i % 10,
+            "n".repeat((i as usize * 31) % 500)
+        ));
+    }
+    let file = dir.path().join("rows.csv");
+    std::fs::write(&file, csv).expect("csv");
+    let import = || {
+        Command::new(bin)
+            .arg("--db")
+            .arg(&db)
+            .arg("import")
+            .arg(&file)
+            .env("SHARDLOG_ACTOR", "crash-harness")
+            .stdout(Stdio::piped())
+            .stderr(Stdio::null())
+            .spawn()
+            .expect("import starts")
+    };
+    // one full import to know how long it takes
+    let t0 = Instant::now();
+    let full = import().wait_with_output().expect("import runs");
+    let full_time = t0.elapsed();
+    assert!(full.status.success(), "a whole import works");
+    let count = |db: &Path| {
+        Store::open_existing(db)
+            .expect("open")
+            .incident_count()
+            .expect("n")
+    };
+    assert_eq!(count(&db), ROWS);
+
+    let rounds = kills();
+    let mut killed_mid_way = 0;
+    for round in 0..rounds {
+        let before = count(&db);
+        let mut child = import();
+        // spread over 0 .. 1.2 × the time of a whole import
+        let at = full_time.mul_f64(1.2 * round as f64 / rounds as f64);
+        std::thread::sleep(at);
+        let finished = matches!(child.try_wait(), Ok(Some(_)));
+        let _ = child.kill();
+        let out = child.wait_with_output().expect("wait");
+        if !finished && !out.status.success() {
+            killed_mid_way += 1;
+        }
+        let reported = String::from_utf8_lossy(&out.stdout).contains(&format!("imported {ROWS}"));
+        check_after_kill(&db, before, &Committed::default(), round, ROWS);
+        let after = count(&db);
+        if reported {
+            assert_eq!(
+                after,
+                before + ROWS,
+                "round {round}: reported import not all there"
+            );
+        } else {
+            assert!(
+                after == before || after == before + ROWS,
+                "round {round}: {} of {ROWS} rows written: half an import",
+                after - before
+            );
+        }
+    }
+    eprintln!(
+        "import: {rounds} rounds, {killed_mid_way} killed before the end (whole import {:?})",
+        full_time
+    );
+    assert!(
+        killed_mid_way >= rounds / 3,
+        "few kills landed mid-import: {killed_mid_way}"
     );
 }
