@@ -102,3 +102,46 @@ fn thermal_large_but_finite_is_kept_with_a_warning() {
     assert!(r.stress.is_finite());
     assert!(r.warnings.iter().any(|w| w.code == "large-delta-t"));
 }
+
+/// fuzz/mirror_analyze, first crasher: a toughness of 0.01275 MPa·√m with a spread of
+/// 61.3 MPa·√m made the upper end of the flaw-size interval infinite. A spread larger than
+/// its value is now refused.
+#[test]
+fn spread_larger_than_the_value_is_refused() {
+    let mut input = AnalysisInput::new(materials::find("alumina").expect("alumina"))
+        .with_readings(Boundary::MistHackle, &[0.026367]);
+    input.toughness_override = Some(fracture::Constant {
+        spread: Some(61_343_550.0),
+        ..fracture::Constant::user(12_750.0, "fuzz")
+    });
+    input.origin = fracture::Origin::Interior;
+    input.flaw = Some(fracture::FlawGeometry::Semicircular { a_over_t: 0.0 });
+    let e = fracture::analyze(&input).unwrap_err();
+    assert_eq!(e.field(), "toughness");
+    assert!(e.to_string().contains("larger than the value"), "{e}");
+}
+
+/// A user's material with a negative mirror constant is refused, naming the material.
+#[test]
+fn user_material_with_a_negative_constant_is_refused() {
+    let mut m = soda_lime();
+    m.key = "in-house".into();
+    m.a_i = Some(fracture::Constant::user(-2e6, "typed wrong"));
+    let input = AnalysisInput::new(m).with_readings(Boundary::MirrorMist, &[1e-3]);
+    let e = fracture::analyze(&input).unwrap_err();
+    assert_eq!(e.field(), "material");
+    assert!(e.to_string().contains("in-house"), "{e}");
+}
+
+/// Every library material still analyses a 1 mm reading on each boundary it has a constant for.
+#[test]
+fn every_library_material_passes_the_new_checks() {
+    for m in materials::library() {
+        for b in Boundary::ALL {
+            if b.constant_of(&m).is_some() {
+                let input = AnalysisInput::new(m.clone()).with_readings(b, &[1e-3]);
+                assert!(fracture::analyze(&input).is_ok(), "{} {:?}", m.key, b);
+            }
+        }
+    }
+}

@@ -280,6 +280,19 @@ fn check_constant(field: &str, what: &str, c: &Constant, unit: Unit) -> Result<(
                 "a spread of zero or more".to_string(),
             ));
         }
+        // one standard deviation larger than the value says nothing about it, and made the
+        // interval of the flaw size overflow to infinity (found by fuzzing)
+        if s > c.value {
+            return Err(FractureError::invalid(
+                field,
+                format!(
+                    "the spread of {what} ({}) is larger than the value ({})",
+                    format(s, unit),
+                    format(c.value, unit)
+                ),
+                "a spread (one standard deviation) no larger than the value itself",
+            ));
+        }
     }
     Ok(())
 }
@@ -324,6 +337,22 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
                 &format!("a {} radius", b.boundary.key()),
                 r,
                 Unit::Millimetre,
+            )?;
+        }
+    }
+    // a user's material (kept by the store as JSON) is checked like a typed constant
+    for (symbol, c) in [
+        ("A_i", &material.a_i),
+        ("A_o", &material.a_o),
+        ("A_b", &material.a_b),
+        ("K_Ic", &material.k_ic),
+    ] {
+        if let Some(c) = c {
+            check_constant(
+                "material",
+                &format!("{symbol} of {}", material.key),
+                c,
+                Unit::MegapascalRootMetre,
             )?;
         }
     }
