@@ -1,59 +1,640 @@
-//! Record commands: init, import, export, list, show, verify, backup, demo (not built yet).
+//! Record commands: init, import, export, list, show, verify, backup, demo.
 
-use super::{CliError, Context};
+use std::path::{Path, PathBuf};
+
+use chrono::{NaiveDate, Utc};
+
+use super::{sanitize_for_terminal, CliError, Context};
+use crate::store::exchange::ImportOptions;
+use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
+
+/// The actor and time of a change, taken here at the edge: `$SHARDLOG_ACTOR`, else
+/// `$USER`/`$USERNAME`, else "unknown"; the system clock.
+pub fn edge_stamp() -> Stamp {
+    let actor = ["SHARDLOG_ACTOR", "USER", "USERNAME"]
+        .iter()
+        .find_map(|k| std::env::var(k).ok().filter(|v| !v.trim().is_empty()))
+        .unwrap_or_else(|| "unknown".into());
+    Stamp::new(actor, Utc::now())
+}
+
+fn work(e: StoreError) -> CliError {
+    CliError::work(e.to_string())
+}
+
+fn open(db: &Path) -> Result<Store, CliError> {
+    Store::open_existing(db).map_err(work)
+}
+
+/// Filters shared by export and list.
+#[derive(Debug, Clone, Default, clap::Args)]
+pub struct FilterArgs {
+    /// Case status code (e.g. cause_assigned).
+    #[arg(long, value_name = "S")]
+    pub status: Option<String>,
+    /// Cause category code (e.g. thermal, impact, nickel_sulfide).
+    #[arg(long, value_name = "C")]
+    pub cause: Option<String>,
+    /// Supplier code.
+    #[arg(long, value_name = "S")]
+    pub supplier: Option<String>,
+    /// Lot code.
+    #[arg(long, value_name = "L")]
+    pub lot: Option<String>,
+    /// Site code.
+    #[arg(long, value_name = "S")]
+    pub site: Option<String>,
+    /// Found on or after (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE")]
+    pub since: Option<String>,
+    /// Found on or before (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE")]
+    pub until: Option<String>,
+}
+
+fn parse_date(flag: &str, v: &str) -> Result<NaiveDate, CliError> {
+    NaiveDate::parse_from_str(v.trim(), "%Y-%m-%d").map_err(|_| {
+        CliError::usage(format!(
+            "--{flag}: \"{v}\" is not a date; expected YYYY-MM-DD such as 2026-03-14"
+        ))
+    })
+}
+
+impl FilterArgs {
+    fn to_filter(&self) -> Result<Filter, CliError> {
+        let since = self
+            .since
+            .as_deref()
+            .map(|v| parse_date("since", v))
+            .transpose()?;
+        let until = self
+            .until
+            .as_deref()
+            .map(|v| parse_date("until", v))
+            .transpose()?;
+        if let (Some(a), Some(b)) = (since, until) {
+            if a > b {
+                return Err(CliError::usage(format!("--since {a} is after --until {b}")));
+            }
+        }
+        Ok(Filter {
+            status: self.status.clone(),
+            cause: self.cause.clone(),
+            supplier: self.supplier.clone(),
+            lot: self.lot.clone(),
+            site: self.site.clone(),
+            since,
+            until,
+            ..Filter::default()
+        })
+    }
+}
 
 #[derive(Debug, clap::Args)]
 pub struct InitArgs {}
 
-pub fn init(_args: InitArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'init' is not built yet"))
+pub fn init(_args: InitArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let existed = ctx.db.exists();
+    let s = Store::open(&ctx.db).map_err(work)?;
+    let v = s.schema_version().map_err(work)?;
+    if existed {
+        writeln!(
+            ctx.out,
+            "{} is already a shardlog database (schema {v}); nothing was changed",
+            ctx.db.display()
+        )?;
+    } else {
+        writeln!(
+            ctx.out,
+            "created {} (schema {v}); attachments will be kept in {}",
+            ctx.db.display(),
+            s.files_dir()
+                .map(|p| p.display().to_string())
+                .unwrap_or_default()
+        )?;
+    }
+    Ok(())
 }
 
 #[derive(Debug, clap::Args)]
-pub struct ImportArgs {}
+pub struct ImportArgs {
+    /// A CSV (flat view) or JSON (full export) file.
+    #[arg(value_name = "FILE")]
+    pub file: PathBuf,
+    /// Check and report without writing anything.
+    #[arg(long)]
+    pub dry_run: bool,
+    /// Refuse site, asset, supplier, product and lot codes the database and file do not define.
+    #[arg(long)]
+    pub strict: bool,
+}
 
-pub fn import(_args: ImportArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'import' is not built yet"))
+pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let meta = std::fs::metadata(&args.file)
+        .map_err(|e| CliError::work(format!("{}: {e}", args.file.display())))?;
+    if !meta.is_file() {
+        return Err(CliError::work(format!(
+            "{}: is not a file",
+            args.file.display()
+        )));
+    }
+    if meta.len() > store::exchange::MAX_IMPORT_BYTES as u64 {
+        return Err(CliError::work(format!(
+            "{}: larger than {} MB; split it",
+            args.file.display(),
+            store::exchange::MAX_IMPORT_BYTES >> 20
+        )));
+    }
+    let bytes = std::fs::read(&args.file)
+        .map_err(|e| CliError::work(format!("{}: {e}", args.file.display())))?;
+    let mut s = open(&ctx.db)?;
+    let name = args.file.display().to_string();
+    let options = ImportOptions {
+        dry_run: args.dry_run,
+        strict: args.strict,
+    };
+    match s
+        .import_bytes(&name, &bytes, options, &edge_stamp())
+        .map_err(work)?
+    {
+        Ok(sum) => {
+            writeln!(
+                ctx.out,
+                "{}{} incident{}, {} reference record{} ({} already present){}",
+                if sum.dry_run {
+                    "would import "
+                } else {
+                    "imported "
+                },
+                sum.incidents,
+                if sum.incidents == 1 { "" } else { "s" },
+                sum.reference_records,
+                if sum.reference_records == 1 { "" } else { "s" },
+                sum.already_present,
+                if sum.dry_run {
+                    "; nothing was written (dry run)"
+                } else {
+                    ""
+                }
+            )?;
+            Ok(())
+        }
+        Err(rej) => Err(CliError::work(format!(
+            "{name}: {}",
+            rej.to_string().trim_end()
+        ))),
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ExportFormat {
+    Csv,
+    Json,
 }
 
 #[derive(Debug, clap::Args)]
-pub struct ExportArgs {}
+pub struct ExportArgs {
+    #[arg(long, value_enum)]
+    pub format: ExportFormat,
+    #[command(flatten)]
+    pub filter: FilterArgs,
+    /// Write to FILE instead of standard output (written whole, then renamed into place).
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    pub output: Option<PathBuf>,
+}
 
-pub fn export(_args: ExportArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'export' is not built yet"))
+pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let filter = args.filter.to_filter()?;
+    let s = open(&ctx.db)?;
+    let mut buf: Vec<u8> = Vec::new();
+    match args.format {
+        ExportFormat::Json => {
+            buf.extend_from_slice(s.export_json(&filter).map_err(work)?.as_bytes())
+        }
+        ExportFormat::Csv => {
+            s.export_csv(&filter, &mut buf).map_err(work)?;
+        }
+    }
+    match args.output {
+        None => ctx.out.write_all(&buf)?,
+        Some(path) => write_whole(&path, &buf)?,
+    }
+    Ok(())
+}
+
+/// Write a file completely under a temporary name, then rename it into place.
+pub fn write_whole(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
+    let err = |e: std::io::Error| CliError::work(format!("{}: {e}", path.display()));
+    let mut tmp_name = path
+        .file_name()
+        .map(|n| n.to_os_string())
+        .unwrap_or_default();
+    tmp_name.push(".part");
+    let tmp = path.with_file_name(tmp_name);
+    std::fs::write(&tmp, bytes).map_err(err)?;
+    std::fs::rename(&tmp, path).map_err(err)
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum SortArg {
+    Found,
+    Ref,
+    Stress,
+    Status,
 }
 
 #[derive(Debug, clap::Args)]
-pub struct ListArgs {}
+pub struct ListArgs {
+    #[command(flatten)]
+    pub filter: FilterArgs,
+    /// Free text over references, positions, descriptions and notes.
+    #[arg(long, value_name = "TEXT")]
+    pub search: Option<String>,
+    /// At most N incidents.
+    #[arg(long, value_name = "N", default_value_t = 50)]
+    pub limit: u32,
+    /// Sort column.
+    #[arg(long, value_enum, default_value_t = SortArg::Found)]
+    pub sort: SortArg,
+    /// Largest / newest first.
+    #[arg(long)]
+    pub desc: bool,
+    /// Print a JSON array instead of a table.
+    #[arg(long)]
+    pub json: bool,
+}
 
-pub fn list(_args: ListArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'list' is not built yet"))
+fn cell(s: &str, width: usize) -> String {
+    let clean = sanitize_for_terminal(s, false);
+    let n = clean.chars().count();
+    if n <= width {
+        format!("{clean}{}", " ".repeat(width - n))
+    } else {
+        let mut t: String = clean.chars().take(width.saturating_sub(1)).collect();
+        t.push('…');
+        t
+    }
+}
+
+pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    if args.limit == 0 || args.limit > 10_000 {
+        return Err(CliError::usage(
+            "--limit: expected a number from 1 to 10000",
+        ));
+    }
+    let mut filter = args.filter.to_filter()?;
+    filter.text = args.search.clone();
+    let sort = Sort {
+        column: match args.sort {
+            SortArg::Found => SortColumn::Found,
+            SortArg::Ref => SortColumn::Reference,
+            SortArg::Stress => SortColumn::Stress,
+            SortArg::Status => SortColumn::Status,
+        },
+        descending: args.desc,
+    };
+    let s = open(&ctx.db)?;
+    let page = s
+        .list(
+            &filter,
+            sort,
+            &PageRequest {
+                limit: args.limit,
+                after: None,
+                with_total: !args.json,
+            },
+        )
+        .map_err(work)?;
+    if args.json {
+        let text = serde_json::to_string_pretty(&page.rows)
+            .map_err(|e| CliError::work(format!("JSON: {e}")))?;
+        writeln!(ctx.out, "{text}")?;
+        return Ok(());
+    }
+    writeln!(
+        ctx.out,
+        "{} {} {} {} {} {} {} {} {:>10}",
+        cell("ref", 14),
+        cell("found", 10),
+        cell("asset / position", 24),
+        cell("product", 10),
+        cell("supplier", 10),
+        cell("lot", 8),
+        cell("status", 14),
+        cell("cause", 14),
+        "stress"
+    )?;
+    for r in &page.rows {
+        let where_ = match (&r.asset, r.position.is_empty()) {
+            (Some(a), false) => format!("{a} / {}", r.position),
+            (Some(a), true) => a.clone(),
+            (None, _) => r.position.clone(),
+        };
+        let stress = r
+            .stress_mpa
+            .map(|m| format!("{} MPa", crate::units::fmt_sig(m, 3)))
+            .unwrap_or_else(|| "—".into());
+        writeln!(
+            ctx.out,
+            "{} {} {} {} {} {} {} {} {:>10}",
+            cell(&r.reference, 14),
+            cell(&r.occurred.to_string(), 10),
+            cell(&where_, 24),
+            cell(r.product.as_deref().unwrap_or("—"), 10),
+            cell(r.supplier.as_deref().unwrap_or("—"), 10),
+            cell(r.lot.as_deref().unwrap_or("—"), 8),
+            cell(&r.status, 14),
+            cell(r.cause.as_deref().unwrap_or("—"), 14),
+            stress
+        )?;
+    }
+    let total = page.total.unwrap_or(page.rows.len() as u64);
+    writeln!(
+        ctx.out,
+        "{} of {} incident{} shown",
+        page.rows.len(),
+        total,
+        if total == 1 { "" } else { "s" }
+    )?;
+    Ok(())
 }
 
 #[derive(Debug, clap::Args)]
-pub struct ShowArgs {}
+pub struct ShowArgs {
+    /// Reference (BR-YYMMDD-NNNN) or id.
+    #[arg(value_name = "REF")]
+    pub reference: String,
+    /// Print the full record as JSON.
+    #[arg(long)]
+    pub json: bool,
+}
 
-pub fn show(_args: ShowArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'show' is not built yet"))
+fn mpa(x: Option<f64>) -> String {
+    x.map(|v| format!("{} MPa", crate::units::fmt_sig(v / 1e6, 3)))
+        .unwrap_or_else(|| "—".into())
+}
+
+pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let s = open(&ctx.db)?;
+    let inc = s.get(&args.reference).map_err(work)?;
+    if args.json {
+        let text =
+            serde_json::to_string_pretty(&inc).map_err(|e| CliError::work(format!("JSON: {e}")))?;
+        writeln!(ctx.out, "{text}")?;
+        return Ok(());
+    }
+    let t = |x: &str| sanitize_for_terminal(x, false);
+    let o = |x: &Option<String>| x.as_deref().map(t).unwrap_or_else(|| "—".into());
+    let out = &mut *ctx.out;
+    writeln!(
+        out,
+        "{}  (revision {}, id {})",
+        t(&inc.reference),
+        inc.revision,
+        inc.id
+    )?;
+    writeln!(out, "  status      {}", t(&inc.status))?;
+    writeln!(
+        out,
+        "  found       {}{}",
+        inc.found_on,
+        inc.broken_on
+            .map(|d| format!(", broken {d}"))
+            .unwrap_or_default()
+    )?;
+    writeln!(
+        out,
+        "  asset       {}  position {}",
+        o(&inc.asset),
+        t(&inc.position)
+    )?;
+    writeln!(out, "  site        {}", o(&inc.site))?;
+    if let Some(tc) = inc.environment.temperature_c {
+        writeln!(out, "  temperature {} °C", crate::units::fmt_sig(tc, 3))?;
+    }
+    writeln!(
+        out,
+        "  glass       supplier {}, product {}, lot {}, {}",
+        o(&inc.glass.supplier),
+        o(&inc.glass.product),
+        o(&inc.glass.lot),
+        t(&inc.glass.makeup)
+    )?;
+    for (i, p) in inc.glass.plies.iter().enumerate() {
+        writeln!(
+            out,
+            "    ply {}    {} {} {}",
+            i + 1,
+            o(&p.material),
+            o(&p.temper),
+            p.thickness_m
+                .map(|x| format!("{} mm", crate::units::fmt_sig(x * 1e3, 3)))
+                .unwrap_or_default()
+        )?;
+    }
+    if let Some(loc) = &inc.pattern.origin_location {
+        writeln!(out, "  origin at   {}", t(loc))?;
+    }
+    for (i, e) in inc.examinations.iter().enumerate() {
+        writeln!(
+            out,
+            "  examination {} by {} on {}: origin type {}",
+            i + 1,
+            if e.analyst.is_empty() {
+                "—".into()
+            } else {
+                t(&e.analyst)
+            },
+            e.examined_on
+                .map(|d| d.to_string())
+                .unwrap_or_else(|| "—".into()),
+            o(&e.origin_type)
+        )?;
+        for r in &e.readings {
+            writeln!(
+                out,
+                "    {:<12} {}{}",
+                t(&r.boundary),
+                t(&r.radius.display()),
+                r.magnification
+                    .map(|m| format!(" at {}×", crate::units::fmt_sig(m, 3)))
+                    .unwrap_or_default()
+            )?;
+        }
+        if let Some(f) = &e.flaw {
+            if let Some(d) = &f.depth {
+                writeln!(out, "    flaw depth   {} {}", t(&d.display()), t(&f.shape))?;
+            }
+            if let Some(w) = &f.width {
+                writeln!(out, "    flaw width   {}", t(&w.display()))?;
+            }
+        }
+        if let Some(res) = &e.result {
+            writeln!(
+                out,
+                "    result: net stress {} (95 % {} to {}), applied {}, by {}",
+                mpa(res.stress_pa),
+                mpa(res.stress_low_pa),
+                mpa(res.stress_high_pa),
+                mpa(res.applied_stress_pa),
+                t(&res.code_version)
+            )?;
+        }
+    }
+    if let Some(c) = &inc.cause {
+        writeln!(
+            out,
+            "  cause       {} ({}, responsibility {})",
+            t(&c.category),
+            t(&c.confidence),
+            t(&c.responsibility)
+        )?;
+        for f in &c.factors {
+            writeln!(out, "    factor    {}", t(f))?;
+        }
+    }
+    for c in &inc.custody {
+        writeln!(
+            out,
+            "  custody     {} {} by {} {}",
+            c.at.format("%Y-%m-%d %H:%M"),
+            t(&c.action),
+            t(&c.who),
+            t(&c.location)
+        )?;
+    }
+    for a in &inc.attachments {
+        writeln!(
+            out,
+            "  attachment  {} ({} bytes) sha256 {}",
+            t(&a.file_name),
+            a.size_bytes,
+            a.sha256
+        )?;
+    }
+    if !inc.description.is_empty() {
+        writeln!(
+            out,
+            "  description {}",
+            sanitize_for_terminal(&inc.description, true)
+        )?;
+    }
+    if !inc.notes.is_empty() {
+        writeln!(
+            out,
+            "  notes       {}",
+            sanitize_for_terminal(&inc.notes, true)
+        )?;
+    }
+    Ok(())
 }
 
 #[derive(Debug, clap::Args)]
-pub struct VerifyArgs {}
+pub struct VerifyArgs {
+    /// Print the report as JSON.
+    #[arg(long)]
+    pub json: bool,
+}
 
-pub fn verify(_args: VerifyArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'verify' is not built yet"))
+pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let s = open(&ctx.db)?;
+    let r = s.verify().map_err(work)?;
+    if args.json {
+        let text =
+            serde_json::to_string_pretty(&r).map_err(|e| CliError::work(format!("JSON: {e}")))?;
+        writeln!(ctx.out, "{text}")?;
+    }
+    match &r.first_problem {
+        None => {
+            if !args.json {
+                writeln!(
+                    ctx.out,
+                    "ok: {} audit rows chain correctly, {} records match their last audited version; head {}",
+                    r.audit_rows, r.records_checked, r.head
+                )?;
+            }
+            Ok(())
+        }
+        Some(p) => Err(CliError::work(format!(
+            "verify failed: {} problem{}; the first: {p}",
+            r.problems,
+            if r.problems == 1 { "" } else { "s" }
+        ))),
+    }
 }
 
 #[derive(Debug, clap::Args)]
-pub struct BackupArgs {}
+pub struct BackupArgs {
+    /// The new database file (must not exist).
+    #[arg(value_name = "DEST")]
+    pub dest: PathBuf,
+}
 
-pub fn backup(_args: BackupArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'backup' is not built yet"))
+pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let s = open(&ctx.db)?;
+    let r = s.backup(&args.dest).map_err(work)?;
+    match r.first_problem {
+        None => writeln!(
+            ctx.out,
+            "backed up to {}: integrity check ok, audit chain ok ({} rows, head {})",
+            args.dest.display(),
+            r.audit_rows,
+            r.head
+        )?,
+        Some(p) => {
+            return Err(CliError::work(format!(
+                "backed up to {}, but the copy does not verify: {p}",
+                args.dest.display()
+            )))
+        }
+    }
+    Ok(())
 }
 
 #[derive(Debug, clap::Args)]
-pub struct DemoArgs {}
+pub struct DemoArgs {
+    /// The database file to create (must not exist).
+    #[arg(long, value_name = "PATH")]
+    pub out: PathBuf,
+    /// Number of incidents.
+    #[arg(long, value_name = "N", default_value_t = store::demo::DEFAULT_INCIDENTS)]
+    pub incidents: u64,
+    /// Seed of the generator.
+    #[arg(long, value_name = "S", default_value_t = store::demo::DEFAULT_SEED)]
+    pub seed: u64,
+}
 
-pub fn demo(_args: DemoArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'demo' is not built yet"))
+pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    if args.incidents == 0 || args.incidents > 5_000_000 {
+        return Err(CliError::usage(
+            "--incidents: expected a number from 1 to 5000000",
+        ));
+    }
+    if args.out.exists() {
+        return Err(CliError::usage(format!(
+            "--out: {} already exists; the demo writes a new file",
+            args.out.display()
+        )));
+    }
+    let started = std::time::Instant::now();
+    let sum = store::demo::generate(
+        &args.out,
+        &store::demo::DemoOptions {
+            incidents: args.incidents,
+            seed: args.seed,
+        },
+    )
+    .map_err(work)?;
+    writeln!(
+        ctx.out,
+        "wrote {}: {} incidents, {} examinations, {} custody entries, {} attachments, {} exposure rows ({:.1} s)",
+        args.out.display(),
+        sum.incidents,
+        sum.examinations,
+        sum.custody,
+        sum.attachments,
+        sum.exposure,
+        started.elapsed().as_secs_f64()
+    )?;
+    Ok(())
 }

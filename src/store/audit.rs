@@ -14,7 +14,17 @@ use super::{incidents, refdata, Store, StoreError, MIGRATION_AT};
 pub(crate) const INCIDENT: &str = "incident";
 
 pub(crate) fn fmt_time(at: DateTime<Utc>) -> String {
-    at.format("%Y-%m-%dT%H:%M:%S%.3fZ").to_string()
+    use chrono::{Datelike, Timelike};
+    format!(
+        "{:04}-{:02}-{:02}T{:02}:{:02}:{:02}.{:03}Z",
+        at.year(),
+        at.month(),
+        at.day(),
+        at.hour(),
+        at.minute(),
+        at.second(),
+        at.timestamp_subsec_millis().min(999)
+    )
 }
 
 pub(crate) fn parse_time(s: &str) -> Option<DateTime<Utc>> {
@@ -123,6 +133,87 @@ impl Chain {
     }
 }
 
+/// Entity name of a bulk-load audit row: its `after` is a manifest of the records it
+/// inserted, `{"entity":"incident","records":[["<id>","<sha256 of the image>"],...]}`.
+pub(crate) const BATCH: &str = "batch";
+
+/// Records per bulk-load audit row.
+pub(crate) const BATCH_SIZE: usize = 1000;
+
+/// Collects the images of records inserted by a bulk load (import, demo) and writes one
+/// audit row per [`BATCH_SIZE`] records, holding each record's id and image digest.
+pub(crate) struct Bulk {
+    entity: &'static str,
+    records: Vec<(String, String)>,
+    ids: super::IdGen,
+}
+
+impl Bulk {
+    pub(crate) fn new(entity: &'static str, seed: u64) -> Bulk {
+        Bulk {
+            entity,
+            records: Vec::with_capacity(BATCH_SIZE),
+            ids: super::IdGen::new(seed),
+        }
+    }
+
+    pub(crate) fn add(
+        &mut self,
+        conn: &Connection,
+        chain: &mut Chain,
+        stamp: &Stamp,
+        id: &str,
+        image: &str,
+    ) -> Result<(), StoreError> {
+        self.records
+            .push((id.to_string(), canon::sha256_hex(image.as_bytes())));
+        if self.records.len() >= BATCH_SIZE {
+            self.flush(conn, chain, stamp)?;
+        }
+        Ok(())
+    }
+
+    pub(crate) fn flush(
+        &mut self,
+        conn: &Connection,
+        chain: &mut Chain,
+        stamp: &Stamp,
+    ) -> Result<(), StoreError> {
+        if self.records.is_empty() {
+            return Ok(());
+        }
+        let manifest = serde_json::json!({
+            "entity": self.entity,
+            "records": self.records.iter().map(|(i, d)| serde_json::json!([i, d])).collect::<Vec<_>>(),
+        });
+        let text = canon::canonical_value(&manifest);
+        let id = self.ids.uuid_v7(stamp.at.timestamp_millis());
+        chain.record(conn, stamp, BATCH, &id, None, Some(&text))?;
+        self.records.clear();
+        Ok(())
+    }
+}
+
+/// (entity, id, image digest) of each record in a bulk-load manifest.
+fn manifest_records(text: &str) -> Option<Vec<(String, String, [u8; 16])>> {
+    let v: serde_json::Value = serde_json::from_str(text).ok()?;
+    let entity = v.get("entity")?.as_str()?.to_string();
+    let mut out = Vec::new();
+    for r in v.get("records")?.as_array()? {
+        let id = r.get(0)?.as_str()?;
+        let hex = r.get(1)?.as_str()?;
+        if hex.len() != 64 {
+            return None;
+        }
+        let mut d = [0u8; 16];
+        for (i, b) in d.iter_mut().enumerate() {
+            *b = u8::from_str_radix(hex.get(2 * i..2 * i + 2)?, 16).ok()?;
+        }
+        out.push((entity.clone(), id.to_string(), d));
+    }
+    Some(out)
+}
+
 /// Audit the lookup entries that migration 0001 seeds, as written by "schema 0001".
 pub(crate) fn seed_lookup_audit(conn: &Connection) -> Result<(), StoreError> {
     let entries = refdata::load_lookups(conn, None)?;
@@ -190,8 +281,56 @@ impl Store {
             ))
         })?;
         let mut out = Vec::new();
+        let rows: Vec<_> = rows.collect::<Result<_, _>>()?;
+        drop(stmt);
+        if rows.first().is_none_or(|r| r.3 != "insert") {
+            // inserted by a bulk load: the manifest row names it; its image is the first
+            // later row's before-image, or the current record if it matches the digest
+            let mut stmt = self.conn.prepare(
+                "SELECT seq, at, actor, after, hash FROM audit
+                 WHERE entity = ?1 AND after LIKE ?2 ORDER BY seq LIMIT 1",
+            )?;
+            // ids are UUIDs (hex digits and hyphens): nothing in them is a LIKE wildcard
+            let quoted = format!("%[\"{id}\",%");
+            let found = stmt
+                .query_row(params![BATCH, quoted], |r| {
+                    Ok((
+                        r.get::<_, i64>(0)?,
+                        r.get::<_, String>(1)?,
+                        r.get::<_, String>(2)?,
+                        r.get::<_, String>(3)?,
+                        r.get::<_, String>(4)?,
+                    ))
+                })
+                .optional()?;
+            if let Some((seq, at, actor, manifest, hash)) = found {
+                let image = match rows.first() {
+                    Some(r) => r.4.clone(),
+                    None => incidents::load(&self.conn, &id)?
+                        .map(|inc| canon::incident_image(&inc))
+                        .transpose()?,
+                };
+                let want = manifest_records(&manifest).and_then(|rs| {
+                    rs.into_iter()
+                        .find(|(_, rid, _)| *rid == id)
+                        .map(|(_, _, d)| d)
+                });
+                let image = image.filter(|img| Some(digest(img)) == want);
+                let after = image.as_deref().and_then(canon::decanonical);
+                out.push(HistoryEntry {
+                    seq,
+                    at: parse_time(&at).unwrap_or(DateTime::<Utc>::UNIX_EPOCH),
+                    actor,
+                    op: "insert".into(),
+                    changed: changed_keys(None, after.as_ref()),
+                    before: None,
+                    after,
+                    hash,
+                });
+            }
+        }
         for row in rows {
-            let (seq, at, actor, op, before, after, hash) = row?;
+            let (seq, at, actor, op, before, after, hash) = row;
             let before = before.as_deref().and_then(canon::decanonical);
             let after = after.as_deref().and_then(canon::decanonical);
             out.push(HistoryEntry {
@@ -279,7 +418,21 @@ impl Store {
                 }
                 prev = hash;
                 expect_seq = seq + 1;
-                last.insert((entity, entity_id), after.as_deref().map(digest));
+                if entity == BATCH {
+                    match after.as_deref().and_then(manifest_records) {
+                        Some(records) => {
+                            for (e, id, d) in records {
+                                last.insert((e, id), Some(d));
+                            }
+                        }
+                        None => problem(
+                            &mut report,
+                            format!("audit row {seq}: a bulk-load row whose list of records cannot be read"),
+                        ),
+                    }
+                } else {
+                    last.insert((entity, entity_id), after.as_deref().map(digest));
+                }
             }
         }
         report.head = prev.clone();
@@ -345,7 +498,7 @@ impl Store {
             let mut bad_derived: Option<String> = None;
             let mut n_bad = 0u64;
             incidents::for_each_incident(&self.conn, |inc, derived_ok| {
-                let img = canon::canonical(&inc)?;
+                let img = canon::incident_image(&inc)?;
                 check(&mut report, INCIDENT, inc.id.clone(), &inc.reference, &img);
                 if !derived_ok {
                     n_bad += 1;
@@ -361,8 +514,14 @@ impl Store {
                 }
             }
         }
-        for ((entity, id), img) in &last {
-            if img.is_some() && !seen.contains_key(&(entity.clone(), id.clone())) {
+        let mut gone: Vec<&(String, String)> = last
+            .iter()
+            .filter(|(k, img)| img.is_some() && !seen.contains_key(*k))
+            .map(|(k, _)| k)
+            .collect();
+        gone.sort();
+        for (entity, id) in gone {
+            {
                 problem(
                     &mut report,
                     format!("{entity} {id}: in the audit log but missing from the records (deleted behind shardlog's back)"),

@@ -6,7 +6,8 @@
 //!   or the short escapes), everything else verbatim UTF-8;
 //! - integers: plain decimal; `true`, `false`, `null` as such;
 //! - floating-point numbers: the string `"f64:"` followed by the 16 lower-case hex digits of
-//!   the IEEE 754 binary64 bit pattern, so no float formatting can change a hash.
+//!   the IEEE 754 binary64 bit pattern, so no float formatting can change a hash
+//!   (negative zero is written as zero).
 
 use serde::Serialize;
 use serde_json::Value;
@@ -18,6 +19,23 @@ pub fn canonical<T: Serialize>(value: &T) -> Result<String, serde_json::Error> {
     let mut out = String::with_capacity(512);
     write_value(&v, &mut out);
     Ok(out)
+}
+
+/// The audit image of an incident: its canonical JSON, except that each result's full
+/// `analysis` blob is replaced by `"sha256:<hex>"` of the blob's canonical text. The blob is
+/// stored whole in the results table; the image pins it without copying it into every
+/// audit row, while the figures (stress, interval, constants) stay in the image as values.
+pub fn incident_image(inc: &crate::store::model::Incident) -> Result<String, serde_json::Error> {
+    let mut v = serde_json::to_value(inc)?;
+    if let Some(exams) = v.get_mut("examinations").and_then(Value::as_array_mut) {
+        for e in exams {
+            if let Some(a) = e.get_mut("result").and_then(|r| r.get_mut("analysis")) {
+                let digest = sha256_hex(canonical_value(a).as_bytes());
+                *a = Value::String(format!("sha256:{digest}"));
+            }
+        }
+    }
+    Ok(canonical_value(&v))
 }
 
 /// The canonical text of a JSON value.
@@ -72,27 +90,40 @@ fn write_value(v: &Value, out: &mut String) {
 
 fn write_float(f: f64, out: &mut String) {
     use std::fmt::Write;
+    // -0.0 is written as 0.0: neither SQLite (which stores integral reals as integers) nor
+    // JSON parsers keep the sign of zero
+    let f = if f == 0.0 { 0.0 } else { f };
     let _ = write!(out, "\"f64:{:016x}\"", f.to_bits());
 }
 
 fn write_str(s: &str, out: &mut String) {
     out.push('"');
-    for c in s.chars() {
-        match c {
-            '"' => out.push_str("\\\""),
-            '\\' => out.push_str("\\\\"),
-            '\n' => out.push_str("\\n"),
-            '\r' => out.push_str("\\r"),
-            '\t' => out.push_str("\\t"),
-            '\u{8}' => out.push_str("\\b"),
-            '\u{c}' => out.push_str("\\f"),
-            c if (c as u32) < 0x20 => {
+    let bytes = s.as_bytes();
+    let mut start = 0;
+    for (i, &b) in bytes.iter().enumerate() {
+        let esc: Option<&str> = match b {
+            b'"' => Some("\\\""),
+            b'\\' => Some("\\\\"),
+            b'\n' => Some("\\n"),
+            b'\r' => Some("\\r"),
+            b'\t' => Some("\\t"),
+            0x08 => Some("\\b"),
+            0x0c => Some("\\f"),
+            0..=0x1f => None,
+            _ => continue,
+        };
+        // bytes below 0x80 are whole characters, so these slices fall on char boundaries
+        out.push_str(&s[start..i]);
+        match esc {
+            Some(e) => out.push_str(e),
+            None => {
                 use std::fmt::Write;
-                let _ = write!(out, "\\u{:04x}", c as u32);
+                let _ = write!(out, "\\u{:04x}", b);
             }
-            c => out.push(c),
         }
+        start = i + 1;
     }
+    out.push_str(&s[start..]);
     out.push('"');
 }
 
@@ -221,10 +252,10 @@ mod tests {
 
     #[test]
     fn keys_sorted_floats_as_bits() {
-        let v = json!({"b": 1, "a": 0.1, "c": [true, null, "x\"y"]});
+        let v = json!({"b": 1, "a": 0.1, "c": [true, null, "x\"y\\\n\u{1}é"]});
         assert_eq!(
             canonical_value(&v),
-            r#"{"a":"f64:3fb999999999999a","b":1,"c":[true,null,"x\"y"]}"#
+            r#"{"a":"f64:3fb999999999999a","b":1,"c":[true,null,"x\"y\\\n\u0001é"]}"#
         );
         let back = decanonical(&canonical_value(&v)).unwrap();
         assert_eq!(back, v);

@@ -1,1 +1,1105 @@
-//! The invented demo fleet.
+//! The invented demo fleet: Tarnmoor Valley Lines, a regional rail operator with four
+//! depots and a few hundred cars, glazed by four invented suppliers. Every name here is
+//! invented. Deterministic from a seed.
+//!
+//! The story the data tells: thermal edge breaks in annealed and heat-strengthened panes
+//! lead, peaking in March and November, at low stress; impacts (ballast strikes) and
+//! vandalism follow at high stress; one fully tempered side-window lot of Brellin Safety
+//! Glass (BS-2207) shows interior origins at nickel sulfide stones, at low applied stress
+//! (spontaneous breakage). Mirror readings are drawn from a target stress with
+//! R = (A/σ)² plus scatter, and the stored result is computed by the fracture core.
+
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+
+use chrono::{DateTime, Datelike, Days, NaiveDate, TimeZone, Utc};
+
+use super::audit::{Bulk, Chain, INCIDENT};
+use super::incidents::{format_reference, insert_new, Refs};
+use super::model::*;
+use super::{compute, files, refdata, sqlite, Store, StoreError};
+use crate::fracture::{self, Boundary};
+use crate::units::Dimension;
+
+pub const DEFAULT_INCIDENTS: u64 = 400;
+pub const DEFAULT_SEED: u64 = 20_260_314;
+
+#[derive(Debug, Clone)]
+pub struct DemoOptions {
+    pub incidents: u64,
+    pub seed: u64,
+}
+
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct DemoSummary {
+    pub incidents: u64,
+    pub examinations: u64,
+    pub custody: u64,
+    pub attachments: u64,
+    pub exposure: u64,
+}
+
+/// A small deterministic generator (SplitMix64).
+struct Rng(u64);
+
+impl Rng {
+    fn next(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+    /// Uniform in [0, 1).
+    fn f(&mut self) -> f64 {
+        (self.next() >> 11) as f64 / (1u64 << 53) as f64
+    }
+    fn range(&mut self, lo: f64, hi: f64) -> f64 {
+        lo + (hi - lo) * self.f()
+    }
+    fn below(&mut self, n: usize) -> usize {
+        ((self.f() * n as f64) as usize).min(n.saturating_sub(1))
+    }
+    fn chance(&mut self, p: f64) -> bool {
+        self.f() < p
+    }
+    /// Standard normal (Box–Muller).
+    fn normal(&mut self) -> f64 {
+        let u1 = self.f().max(1e-300);
+        let u2 = self.f();
+        (-2.0 * u1.ln()).sqrt() * (std::f64::consts::TAU * u2).cos()
+    }
+    fn pick<'a, T>(&mut self, items: &'a [T]) -> &'a T {
+        &items[self.below(items.len())]
+    }
+    /// Index drawn with the given weights (cumulative table).
+    fn weighted(&mut self, cumulative: &[f64]) -> usize {
+        let total = cumulative.last().copied().unwrap_or(0.0);
+        let x = self.f() * total;
+        cumulative
+            .partition_point(|c| *c <= x)
+            .min(cumulative.len().saturating_sub(1))
+    }
+}
+
+const SITES: [(&str, &str, &str); 4] = [
+    ("TVL-CEN", "Tarnmoor Central depot", "north"),
+    ("TVL-ASH", "Ashgrove depot", "west"),
+    ("TVL-PEL", "Pellbridge yard", "south"),
+    ("TVL-NOR", "Norwick sidings", "east"),
+];
+
+const SUPPLIERS: [(&str, &str); 4] = [
+    ("ORVALE", "Orvale Glassworks"),
+    ("BRELLIN", "Brellin Safety Glass"),
+    ("KESTREL", "Kestrel Glazing"),
+    ("MARROW", "Marrowfield Float Products"),
+];
+
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+enum Kind {
+    Side,
+    Door,
+    Partition,
+    Windscreen,
+}
+
+impl Kind {
+    const ALL: [Kind; 4] = [Kind::Side, Kind::Door, Kind::Partition, Kind::Windscreen];
+    /// Panes of this kind per car (windscreens: cab cars only, about one car in four).
+    fn panes_per_car(self) -> f64 {
+        match self {
+            Kind::Side => 16.0,
+            Kind::Door => 4.0,
+            Kind::Partition => 2.0,
+            Kind::Windscreen => 0.25,
+        }
+    }
+    /// Relative breakage hazard per pane-year.
+    fn hazard(self) -> f64 {
+        match self {
+            Kind::Side => 1.0,
+            Kind::Door => 1.3,
+            Kind::Partition => 0.6,
+            Kind::Windscreen => 3.0,
+        }
+    }
+}
+
+struct ProductDef {
+    supplier: &'static str,
+    code: &'static str,
+    name: &'static str,
+    kind: Kind,
+    makeup: &'static str,
+    temper: &'static str,
+    thickness: &'static str,
+    lot_prefix: &'static str,
+}
+
+const PRODUCTS: [ProductDef; 8] = [
+    ProductDef {
+        supplier: "ORVALE",
+        code: "SW6-FT",
+        name: "side window 6 mm fully tempered",
+        kind: Kind::Side,
+        makeup: "monolithic",
+        temper: "fully_tempered",
+        thickness: "6 mm",
+        lot_prefix: "OS",
+    },
+    ProductDef {
+        supplier: "BRELLIN",
+        code: "SW6-FT",
+        name: "side window 6 mm fully tempered",
+        kind: Kind::Side,
+        makeup: "monolithic",
+        temper: "fully_tempered",
+        thickness: "6 mm",
+        lot_prefix: "BS",
+    },
+    ProductDef {
+        supplier: "KESTREL",
+        code: "SW5-FT",
+        name: "side window 5 mm fully tempered",
+        kind: Kind::Side,
+        makeup: "monolithic",
+        temper: "fully_tempered",
+        thickness: "5 mm",
+        lot_prefix: "KS",
+    },
+    ProductDef {
+        supplier: "BRELLIN",
+        code: "DW6-HS",
+        name: "door drop light 6 mm heat-strengthened",
+        kind: Kind::Door,
+        makeup: "monolithic",
+        temper: "heat_strengthened",
+        thickness: "6 mm",
+        lot_prefix: "BD",
+    },
+    ProductDef {
+        supplier: "MARROW",
+        code: "DW6-HS",
+        name: "door drop light 6 mm heat-strengthened",
+        kind: Kind::Door,
+        makeup: "monolithic",
+        temper: "heat_strengthened",
+        thickness: "6 mm",
+        lot_prefix: "MD",
+    },
+    ProductDef {
+        supplier: "ORVALE",
+        code: "PT8-AN",
+        name: "saloon partition 8 mm annealed",
+        kind: Kind::Partition,
+        makeup: "monolithic",
+        temper: "annealed",
+        thickness: "8 mm",
+        lot_prefix: "OP",
+    },
+    ProductDef {
+        supplier: "MARROW",
+        code: "PT6-AN",
+        name: "saloon partition 6 mm annealed",
+        kind: Kind::Partition,
+        makeup: "monolithic",
+        temper: "annealed",
+        thickness: "6 mm",
+        lot_prefix: "MP",
+    },
+    ProductDef {
+        supplier: "KESTREL",
+        code: "WS-LAM",
+        name: "cab windscreen, laminated 2 × 6 mm heat-strengthened",
+        kind: Kind::Windscreen,
+        makeup: "laminated",
+        temper: "heat_strengthened",
+        thickness: "6 mm",
+        lot_prefix: "KW",
+    },
+];
+
+/// Lot production months (year, month) for every product.
+const LOT_MONTHS: [(i32, u32); 6] = [
+    (2022, 1),
+    (2022, 7),
+    (2023, 3),
+    (2023, 11),
+    (2024, 8),
+    (2025, 4),
+];
+
+/// The lot with nickel sulfide stones.
+const HOT_LOT: (&str, &str, &str) = ("BRELLIN", "SW6-FT", "BS-2207");
+
+fn ymd(y: i32, m: u32, d: u32) -> NaiveDate {
+    NaiveDate::from_ymd_opt(y, m, d).unwrap_or_default()
+}
+
+fn period() -> (NaiveDate, NaiveDate) {
+    (ymd(2024, 1, 1), ymd(2026, 10, 31))
+}
+
+fn lot_code(prefix: &str, (y, m): (i32, u32)) -> String {
+    format!("{prefix}-{:02}{m:02}", y % 100)
+}
+
+/// Panes of one product lot fitted to one batch of cars at one site.
+#[derive(Clone)]
+struct Slot {
+    product: usize,
+    lot: String,
+    site: usize,
+    cars: std::ops::Range<usize>,
+    installed_on: NaiveDate,
+    removed_on: Option<NaiveDate>,
+    panes: i64,
+}
+
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+enum CauseKind {
+    Thermal,
+    Impact,
+    Vandalism,
+    HardContact,
+    EdgeDamage,
+    NickelSulfide,
+    Handling,
+    Pressure,
+    Unknown,
+}
+
+impl CauseKind {
+    fn code(self) -> &'static str {
+        match self {
+            CauseKind::Thermal => "thermal",
+            CauseKind::Impact => "impact",
+            CauseKind::Vandalism => "vandalism",
+            CauseKind::HardContact => "hard_contact",
+            CauseKind::EdgeDamage => "edge_damage",
+            CauseKind::NickelSulfide => "nickel_sulfide",
+            CauseKind::Handling => "handling",
+            CauseKind::Pressure => "pressure",
+            CauseKind::Unknown => "unknown",
+        }
+    }
+}
+
+/// One planned incident before it is written.
+struct Plan {
+    found_on: NaiveDate,
+    order: u64,
+    slot: usize,
+    car: usize,
+    cause: CauseKind,
+}
+
+fn cause_for(rng: &mut Rng, temper: &str) -> CauseKind {
+    let thermal = match temper {
+        "annealed" => 0.42,
+        "heat_strengthened" => 0.20,
+        _ => 0.03,
+    };
+    let edge = match temper {
+        "fully_tempered" => 0.02,
+        _ => 0.07,
+    };
+    let nis = if temper == "fully_tempered" {
+        0.006
+    } else {
+        0.0
+    };
+    let table = [
+        (CauseKind::Thermal, thermal),
+        (CauseKind::Impact, 0.26),
+        (CauseKind::Vandalism, 0.20),
+        (CauseKind::HardContact, 0.06),
+        (CauseKind::EdgeDamage, edge),
+        (CauseKind::NickelSulfide, nis),
+        (CauseKind::Handling, 0.04),
+        (CauseKind::Pressure, 0.02),
+        (CauseKind::Unknown, 0.05),
+    ];
+    let mut cum = Vec::with_capacity(table.len());
+    let mut acc = 0.0;
+    for (_, w) in &table {
+        acc += w;
+        cum.push(acc);
+    }
+    table[rng.weighted(&cum)].0
+}
+
+/// Seasonal weight of a date for a cause (thermal breaks peak in March and November).
+fn season(cause: CauseKind, d: NaiveDate) -> f64 {
+    match (cause, d.month()) {
+        (CauseKind::Thermal, 3 | 11) => 1.0,
+        (CauseKind::Thermal, 2 | 4 | 10 | 12) => 0.6,
+        (CauseKind::Thermal, _) => 0.2,
+        (CauseKind::Vandalism, 6..=8) => 1.0,
+        (CauseKind::Vandalism, _) => 0.7,
+        _ => 1.0,
+    }
+}
+
+/// A tiny valid PNG: 16×16 grey image with a pattern set by `seed` (stored deflate).
+pub fn tiny_png(seed: u8) -> Vec<u8> {
+    fn crc32(data: &[u8]) -> u32 {
+        let mut c = 0xFFFF_FFFFu32;
+        for &b in data {
+            c ^= b as u32;
+            for _ in 0..8 {
+                c = if c & 1 != 0 {
+                    0xEDB8_8320 ^ (c >> 1)
+                } else {
+                    c >> 1
+                };
+            }
+        }
+        !c
+    }
+    fn chunk(out: &mut Vec<u8>, kind: &[u8; 4], data: &[u8]) {
+        out.extend_from_slice(&(data.len() as u32).to_be_bytes());
+        let mut body = kind.to_vec();
+        body.extend_from_slice(data);
+        out.extend_from_slice(&body);
+        out.extend_from_slice(&crc32(&body).to_be_bytes());
+    }
+    let (w, h) = (16u32, 16u32);
+    let mut raw = Vec::new();
+    for y in 0..h {
+        raw.push(0u8); // filter: none
+        for x in 0..w {
+            let dx = x as i32 - 8;
+            let dy = y as i32 - 8;
+            let r2 = (dx * dx + dy * dy) as u32;
+            raw.push(((r2 * 7 + seed as u32 * 37) % 256) as u8);
+        }
+    }
+    // zlib stream with one stored block
+    let mut z = vec![0x78, 0x01, 0x01];
+    z.extend_from_slice(&(raw.len() as u16).to_le_bytes());
+    z.extend_from_slice(&(!(raw.len() as u16)).to_le_bytes());
+    z.extend_from_slice(&raw);
+    let (mut a, mut b) = (1u32, 0u32);
+    for &x in &raw {
+        a = (a + x as u32) % 65521;
+        b = (b + a) % 65521;
+    }
+    z.extend_from_slice(&((b << 16) | a).to_be_bytes());
+    let mut out = vec![0x89, b'P', b'N', b'G', 0x0D, 0x0A, 0x1A, 0x0A];
+    let mut ihdr = Vec::new();
+    ihdr.extend_from_slice(&w.to_be_bytes());
+    ihdr.extend_from_slice(&h.to_be_bytes());
+    ihdr.extend_from_slice(&[8, 0, 0, 0, 0]); // 8-bit greyscale
+    chunk(&mut out, b"IHDR", &ihdr);
+    chunk(&mut out, b"IDAT", &z);
+    chunk(&mut out, b"IEND", &[]);
+    out
+}
+
+fn at_time(d: NaiveDate, minutes: u32) -> DateTime<Utc> {
+    let base = d.and_hms_opt(0, 0, 0).unwrap_or_default();
+    Utc.from_utc_datetime(&base) + chrono::Duration::minutes(minutes as i64)
+}
+
+/// Type a radius the way an analyst would: mm with two decimals, µm for small ones,
+/// one decimal for long branching distances.
+fn typed_radius(rng: &mut Rng, r_m: f64) -> Measured {
+    let mm = r_m * 1e3;
+    let text = if mm < 0.5 && rng.chance(0.5) {
+        format!("{:.0} um", (mm * 1e3).max(1.0))
+    } else if mm >= 10.0 {
+        format!("{mm:.1} mm")
+    } else {
+        format!("{:.2} mm", mm.max(0.01))
+    };
+    Measured::parse(&text, Dimension::Length).unwrap_or(Measured {
+        text: format!("{mm}"),
+        unit: "mm".into(),
+        si: r_m,
+    })
+}
+
+struct World {
+    cars: usize,
+    slots: Vec<Slot>,
+    lots: Vec<(usize, String, NaiveDate)>,
+}
+
+fn build_world(rng: &mut Rng, incidents: u64) -> World {
+    let cars = ((incidents as usize) * 3 / 4).clamp(300, 20_000);
+    let batch = 25usize;
+    let n_batches = cars.div_ceil(batch);
+    let mut lots = Vec::new();
+    for (pi, p) in PRODUCTS.iter().enumerate() {
+        for &m in &LOT_MONTHS {
+            lots.push((pi, lot_code(p.lot_prefix, m), ymd(m.0, m.1, 15)));
+        }
+    }
+    let side: Vec<usize> = (0..PRODUCTS.len())
+        .filter(|&i| PRODUCTS[i].kind == Kind::Side)
+        .collect();
+    let door: Vec<usize> = (0..PRODUCTS.len())
+        .filter(|&i| PRODUCTS[i].kind == Kind::Door)
+        .collect();
+    let part: Vec<usize> = (0..PRODUCTS.len())
+        .filter(|&i| PRODUCTS[i].kind == Kind::Partition)
+        .collect();
+    let ws: Vec<usize> = (0..PRODUCTS.len())
+        .filter(|&i| PRODUCTS[i].kind == Kind::Windscreen)
+        .collect();
+    let mut slots = Vec::new();
+    let span_days = (ymd(2025, 6, 30) - ymd(2022, 3, 1)).num_days();
+    for b in 0..n_batches {
+        let first = b * batch;
+        let last = (first + batch).min(cars);
+        let site = b % SITES.len();
+        let installed = ymd(2022, 3, 1)
+            + Days::new(
+                (span_days * b as i64 / n_batches.max(1) as i64) as u64 + rng.below(20) as u64,
+            );
+        for kind in Kind::ALL {
+            let choices = match kind {
+                Kind::Side => &side,
+                Kind::Door => &door,
+                Kind::Partition => &part,
+                Kind::Windscreen => &ws,
+            };
+            let product = choices[(b + rng.below(2)) % choices.len()];
+            let lot_for = |d: NaiveDate| {
+                lots.iter()
+                    .rfind(|(pi, _, made)| *pi == product && *made + Days::new(30) <= d)
+                    .or_else(|| lots.iter().find(|(pi, _, _)| *pi == product))
+                    .map(|(_, code, _)| code.clone())
+                    .unwrap_or_default()
+            };
+            let panes = ((last - first) as f64 * kind.panes_per_car()).ceil() as i64;
+            // partitions fitted before 2023 were renewed in a refurbishment in autumn 2025
+            if kind == Kind::Partition && installed < ymd(2023, 1, 1) {
+                let swap = ymd(2025, 9, 30);
+                slots.push(Slot {
+                    product,
+                    lot: lot_for(installed),
+                    site,
+                    cars: first..last,
+                    installed_on: installed,
+                    removed_on: Some(swap),
+                    panes,
+                });
+                let renewed = ymd(2025, 10, 1);
+                slots.push(Slot {
+                    product,
+                    lot: lot_for(renewed),
+                    site,
+                    cars: first..last,
+                    installed_on: renewed,
+                    removed_on: None,
+                    panes,
+                });
+            } else {
+                slots.push(Slot {
+                    product,
+                    lot: lot_for(installed),
+                    site,
+                    cars: first..last,
+                    installed_on: installed,
+                    removed_on: None,
+                    panes,
+                });
+            }
+        }
+    }
+    World { cars, slots, lots }
+}
+
+fn position(rng: &mut Rng, kind: Kind) -> String {
+    match kind {
+        Kind::Side => format!(
+            "{} side, bay {}",
+            if rng.chance(0.5) { "left" } else { "right" },
+            1 + rng.below(8)
+        ),
+        Kind::Door => format!(
+            "door {}{} drop light",
+            ["A", "B"][rng.below(2)],
+            1 + rng.below(2)
+        ),
+        Kind::Partition => format!("saloon partition, car end {}", 1 + rng.below(2)),
+        Kind::Windscreen => "cab windscreen".to_string(),
+    }
+}
+
+/// Target net stress at the origin (Pa), origin location and origin type for a cause.
+fn target(rng: &mut Rng, cause: CauseKind, temper: &str) -> (f64, &'static str, &'static str) {
+    let cs: f64 = match temper {
+        "fully_tempered" => 69e6,
+        "heat_strengthened" => 38e6,
+        _ => 0.0,
+    };
+    match cause {
+        CauseKind::Thermal => (
+            rng.range(14e6, 30e6) + 0.3 * cs.min(38e6) * rng.f(),
+            "edge",
+            if rng.chance(0.6) {
+                "edge_cutting_damage"
+            } else {
+                "edge_chip"
+            },
+        ),
+        CauseKind::Impact => (rng.range(150e6, 260e6) - cs, "surface", "impact_site"),
+        CauseKind::Vandalism => (rng.range(160e6, 300e6) - cs, "surface", "impact_site"),
+        CauseKind::HardContact => (
+            rng.range(60e6, 110e6) - 0.5 * cs,
+            if rng.chance(0.5) { "edge" } else { "corner" },
+            "hard_contact",
+        ),
+        CauseKind::EdgeDamage => (rng.range(22e6, 45e6), "edge", "edge_cutting_damage"),
+        CauseKind::NickelSulfide => (cs / 2.0 + rng.range(2e6, 14e6), "interior", "inclusion_nis"),
+        CauseKind::Handling => (rng.range(35e6, 70e6), "edge", "edge_chip"),
+        CauseKind::Pressure => (rng.range(40e6, 65e6), "surface", "surface_scratch"),
+        CauseKind::Unknown => (rng.range(25e6, 110e6), "surface", "unknown"),
+    }
+}
+
+fn description(rng: &mut Rng, cause: CauseKind) -> (&'static str, String) {
+    let d = match cause {
+        CauseKind::Thermal => *rng.pick(&[
+            "Single crack from the edge, running square to the edge and the faces, then wandering; no impact mark.",
+            "Crack starts at the edge under the frame rubber, square to the faces; pane was in low sun after a cold night.",
+        ]),
+        CauseKind::Impact => *rng.pick(&[
+            "Impact mark with a crushed zone on the outboard face; ballast strike suspected.",
+            "Small crater with radial cracks on the outboard face, pane fully fragmented.",
+        ]),
+        CauseKind::Vandalism => *rng.pick(&[
+            "Pane smashed from outside while stabled; several impact points.",
+            "Impact mark on the inboard face, fragments on the seat; reported as vandalism.",
+        ]),
+        CauseKind::HardContact => "Origin at the clamping point of the frame; fixing bolt found over-tightened.",
+        CauseKind::EdgeDamage => "Origin at a shell chip on the ground edge; edge finish looks rough.",
+        CauseKind::NickelSulfide => "Pane broke while stabled with no load; butterfly pattern around an interior origin, small dark stone at the centre.",
+        CauseKind::Handling => "Broke during a door overhaul; chip at the lower edge.",
+        CauseKind::Pressure => "Crack from a surface scratch near mid-pane after a storm with strong gusts.",
+        CauseKind::Unknown => "Pane found broken, origin not found in the remaining fragments.",
+    };
+    let how = match cause {
+        CauseKind::Impact => "reported by driver in service",
+        CauseKind::Vandalism => "found at morning inspection",
+        CauseKind::Handling => "reported by overhaul shop",
+        _ => *rng.pick(&[
+            "found at depot inspection",
+            "found by cleaning crew",
+            "reported by driver in service",
+        ]),
+    };
+    (how, d.to_string())
+}
+
+const ANALYSTS: [&str; 3] = ["mira", "jules", "anouk"];
+const REPORTERS: [&str; 4] = [
+    "depot staff",
+    "driver",
+    "cleaning crew",
+    "night shift fitter",
+];
+
+/// Generate the demo database at `out` (which must not exist).
+pub fn generate(out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> {
+    if out.exists() {
+        return Err(StoreError::File {
+            path: out.display().to_string(),
+            message: "already exists; the demo writes a new file".into(),
+        });
+    }
+    let mut tmp_name = out
+        .file_name()
+        .map(|n| n.to_os_string())
+        .unwrap_or_default();
+    tmp_name.push(".part");
+    let tmp: PathBuf = out.with_file_name(tmp_name);
+    let _ = std::fs::remove_file(&tmp);
+    let result = generate_into(&tmp, out, o);
+    match result {
+        Ok(sum) => {
+            std::fs::rename(&tmp, out).map_err(|e| StoreError::File {
+                path: out.display().to_string(),
+                message: e.to_string(),
+            })?;
+            Ok(sum)
+        }
+        Err(e) => {
+            let _ = std::fs::remove_file(&tmp);
+            Err(e)
+        }
+    }
+}
+
+fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> {
+    let mut store = Store::open(tmp)?;
+    store.set_id_seed(o.seed ^ 0x5EED_0000_0000_0001);
+    let files_dir = files::dir_for(out);
+    let mut rng = Rng(o.seed);
+    sqlite::set_bulk_pragmas(&store.conn)?;
+    let world = build_world(&mut rng, o.incidents);
+    let (start, end) = period();
+    let setup_stamp = Stamp::new("tomas", at_time(ymd(2023, 12, 15), 9 * 60));
+
+    // drop the indexes for the bulk load; put back the same statements afterwards
+    let indexes: Vec<(String, String)> = {
+        let mut stmt = store.conn.prepare(
+            "SELECT name, sql FROM sqlite_master WHERE type = 'index' AND sql IS NOT NULL
+             AND tbl_name IN ('incidents', 'plies', 'examinations', 'mirror_readings', 'custody', 'attachments', 'audit')",
+        )?;
+        let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
+        rows.collect::<Result<_, _>>()?
+    };
+    let mut summary = DemoSummary::default();
+    let tx = store.conn.transaction()?;
+    for (name, _) in &indexes {
+        // names come from sqlite_master, not from a user
+        tx.execute_batch(&format!("DROP INDEX \"{}\"", name.replace('"', "")))?;
+    }
+    let mut chain = Chain::load(&tx)?;
+    let ms = setup_stamp.at.timestamp_millis();
+    let ids = &mut store.ids;
+
+    // reference data
+    let mut site_ids = Vec::new();
+    for (code, name, region) in SITES {
+        let s = Site {
+            id: ids.uuid_v7(ms),
+            code: code.into(),
+            name: name.into(),
+            region: region.into(),
+        };
+        refdata::insert_site(&tx, &mut chain, &s, &setup_stamp)?;
+        site_ids.push(s.id);
+    }
+    let mut supplier_ids = HashMap::new();
+    for (code, name) in SUPPLIERS {
+        let s = Supplier {
+            id: ids.uuid_v7(ms),
+            code: code.into(),
+            name: name.into(),
+        };
+        refdata::insert_supplier(&tx, &mut chain, &s, &setup_stamp)?;
+        supplier_ids.insert(code, s.id);
+    }
+    let mut product_ids = Vec::new();
+    for p in &PRODUCTS {
+        let pr = Product {
+            id: ids.uuid_v7(ms),
+            supplier: p.supplier.into(),
+            code: p.code.into(),
+            name: p.name.into(),
+        };
+        refdata::insert_product(&tx, &mut chain, &pr, &setup_stamp)?;
+        product_ids.push(pr.id);
+    }
+    let mut lot_ids: HashMap<(usize, String), String> = HashMap::new();
+    for (pi, code, made) in &world.lots {
+        let p = &PRODUCTS[*pi];
+        let l = Lot {
+            id: ids.uuid_v7(ms),
+            supplier: p.supplier.into(),
+            product: p.code.into(),
+            code: code.clone(),
+            made_on: Some(*made),
+        };
+        refdata::insert_lot(&tx, &mut chain, &l, &setup_stamp)?;
+        lot_ids.insert((*pi, code.clone()), l.id);
+    }
+    let mut asset_ids = Vec::with_capacity(world.cars);
+    let car_site = |car: usize| (car / 25) % SITES.len();
+    for car in 0..world.cars {
+        let a = Asset {
+            id: ids.uuid_v7(ms),
+            code: format!("car {}", 101 + car),
+            asset_type: "rail_car".into(),
+            name: format!("Tarnmoor Valley Lines car {}", 101 + car),
+            site: Some(SITES[car_site(car)].0.into()),
+        };
+        refdata::insert_asset(&tx, &mut chain, &a, &setup_stamp)?;
+        asset_ids.push(a.id);
+    }
+    for s in &world.slots {
+        let p = &PRODUCTS[s.product];
+        let e = Exposure {
+            id: ids.uuid_v7(ms),
+            supplier: p.supplier.into(),
+            product: Some(p.code.into()),
+            lot: Some(s.lot.clone()),
+            site: Some(SITES[s.site].0.into()),
+            installed_on: s.installed_on,
+            removed_on: s.removed_on,
+            panes: s.panes,
+        };
+        refdata::insert_exposure(&tx, &mut chain, &e, &setup_stamp)?;
+        summary.exposure += 1;
+    }
+
+    // plan incidents: a slot by panes × years in the period × hazard, a cause, a date
+    let windows: Vec<Option<(NaiveDate, NaiveDate)>> = world
+        .slots
+        .iter()
+        .map(|s| {
+            let a = s.installed_on.max(start);
+            let b = s.removed_on.unwrap_or(end).min(end);
+            (a < b).then_some((a, b))
+        })
+        .collect();
+    let mut cum = Vec::with_capacity(world.slots.len());
+    let mut acc = 0.0;
+    for (s, w) in world.slots.iter().zip(&windows) {
+        if let Some((a, b)) = w {
+            acc += s.panes as f64 * (*b - *a).num_days() as f64 * PRODUCTS[s.product].kind.hazard();
+        }
+        cum.push(acc);
+    }
+    let hot: Vec<usize> = (0..world.slots.len())
+        .filter(|&i| {
+            let s = &world.slots[i];
+            let p = &PRODUCTS[s.product];
+            (p.supplier, p.code, s.lot.as_str()) == HOT_LOT && windows[i].is_some()
+        })
+        .collect();
+    let mut plans = Vec::with_capacity(o.incidents as usize);
+    for n in 0..o.incidents {
+        let (slot, cause) = if !hot.is_empty() && rng.chance(0.03) {
+            (*rng.pick(&hot), CauseKind::NickelSulfide)
+        } else {
+            let slot = rng.weighted(&cum);
+            let cause = cause_for(&mut rng, PRODUCTS[world.slots[slot].product].temper);
+            (slot, cause)
+        };
+        let Some((a, b)) = windows[slot] else {
+            continue;
+        };
+        let days = (b - a).num_days().max(1) as u64;
+        let mut found_on = a + Days::new(rng.below(days as usize) as u64);
+        for _ in 0..8 {
+            if rng.f() < season(cause, found_on) {
+                break;
+            }
+            found_on = a + Days::new(rng.below(days as usize) as u64);
+        }
+        let s = &world.slots[slot];
+        let car = s.cars.start + rng.below(s.cars.len().max(1));
+        plans.push(Plan {
+            found_on,
+            order: rng.next() ^ n,
+            slot,
+            car,
+            cause,
+        });
+    }
+    plans.sort_by_key(|p| (p.found_on, p.order));
+
+    // write them
+    let mut per_day: HashMap<NaiveDate, u32> = HashMap::new();
+    let mut attachments_left = 8u32;
+    let materials = fracture::materials::find("soda-lime");
+    let mut bulk = Bulk::new(INCIDENT, o.seed ^ 0xB0B);
+    let mut last_stamp = setup_stamp.clone();
+    for plan in &plans {
+        let slot = &world.slots[plan.slot];
+        let pdef = &PRODUCTS[slot.product];
+        let n = per_day.entry(plan.found_on).or_insert(0);
+        *n += 1;
+        let reference = format_reference(plan.found_on, *n)?;
+        let created = at_time(plan.found_on, 7 * 60 + rng.below(600) as u32);
+        let analyst = *rng.pick(&ANALYSTS);
+        let stamp = Stamp::new(analyst, created);
+        let ms = stamp.at.timestamp_millis();
+        let mut inc = Incident::draft(plan.found_on);
+        inc.id = store.ids.uuid_v7(ms);
+        inc.reference = reference;
+        inc.revision = 1;
+        inc.created_at = stamp.at;
+        inc.updated_at = stamp.at;
+        inc.asset = Some(format!("car {}", 101 + plan.car));
+        inc.site = Some(SITES[slot.site].0.into());
+        inc.position = position(&mut rng, pdef.kind);
+        if rng.chance(0.7) {
+            inc.broken_on = Some(plan.found_on - Days::new(rng.below(2) as u64));
+        }
+        let (how, desc) = description(&mut rng, plan.cause);
+        inc.how_found = how.into();
+        inc.description = desc;
+        inc.reporter = (*rng.pick(&REPORTERS)).into();
+        let winter = matches!(plan.found_on.month(), 11 | 12 | 1 | 2 | 3);
+        inc.environment.temperature_c = Some(if plan.cause == CauseKind::Thermal {
+            (rng.range(-8.0, 5.0) * 10.0).round() / 10.0
+        } else if winter {
+            (rng.range(-5.0, 10.0) * 10.0).round() / 10.0
+        } else {
+            (rng.range(5.0, 26.0) * 10.0).round() / 10.0
+        });
+        if plan.cause == CauseKind::Thermal {
+            inc.environment.sun = "sunny afternoon, then a clear cold night".into();
+        }
+        inc.glass = Glass {
+            supplier: Some(pdef.supplier.into()),
+            product: Some(pdef.code.into()),
+            lot: Some(slot.lot.clone()),
+            makeup: pdef.makeup.into(),
+            plies: Vec::new(),
+            width_m: Some(if pdef.kind == Kind::Windscreen {
+                1.45
+            } else {
+                0.9
+            }),
+            height_m: Some(if pdef.kind == Kind::Windscreen {
+                0.85
+            } else {
+                0.65
+            }),
+        };
+        let thickness = Measured::parse(pdef.thickness, Dimension::Length)
+            .map(|m| m.si)
+            .ok();
+        let plies = if pdef.makeup == "laminated" { 2 } else { 1 };
+        for _ in 0..plies {
+            inc.glass.plies.push(Ply {
+                material: Some("soda_lime".into()),
+                temper: Some(pdef.temper.into()),
+                thickness_m: thickness,
+                coating: String::new(),
+                edge_finish: if pdef.temper == "annealed" {
+                    "arrissed".into()
+                } else {
+                    "ground".into()
+                },
+            });
+        }
+        let (sigma, location, origin_type) = target(&mut rng, plan.cause, pdef.temper);
+        let sigma = sigma.max(8e6);
+        // a lab examines a few thousand breakages, not a million: at benchmark scale the
+        // share examined falls so that about 20,000 examinations are generated at most
+        let lab_share = (20_000.0 / o.incidents as f64).min(1.0);
+        let examined = rng.chance(
+            lab_share
+                * match plan.cause {
+                    CauseKind::Thermal => 0.75,
+                    CauseKind::Impact => 0.35,
+                    CauseKind::Vandalism => 0.2,
+                    CauseKind::HardContact | CauseKind::EdgeDamage => 0.8,
+                    CauseKind::NickelSulfide => 1.0,
+                    CauseKind::Handling => 0.5,
+                    CauseKind::Pressure => 0.6,
+                    CauseKind::Unknown => 0.5,
+                },
+        );
+        let fragmented = pdef.temper == "fully_tempered";
+        inc.pattern = FracturePattern {
+            crack_count: if fragmented {
+                None
+            } else {
+                Some(1 + rng.below(4) as i64)
+            },
+            branching: Some(fragmented || sigma > 40e6),
+            fragment_count: if fragmented {
+                Some(40 + rng.below(80) as i64)
+            } else {
+                None
+            },
+            origin_location: examined.then(|| location.to_string()),
+            tension_face: if plan.cause == CauseKind::Thermal {
+                "unknown (thermal)".into()
+            } else {
+                String::new()
+            },
+        };
+        let received = at_time(plan.found_on + Days::new(1), 9 * 60 + rng.below(120) as u32);
+        if examined {
+            let mut readings = Vec::new();
+            if let Some(m) = &materials {
+                let t = thickness.unwrap_or(0.006);
+                let mut boundaries: Vec<Boundary> = Vec::new();
+                let ri = m.a_i.as_ref().map(|c| (c.value / sigma).powi(2));
+                if ri.is_some_and(|r| r < 0.8 * t || plan.cause == CauseKind::NickelSulfide) {
+                    boundaries.push(Boundary::MirrorMist);
+                    if rng.chance(0.6) {
+                        boundaries.push(Boundary::MistHackle);
+                    }
+                } else {
+                    boundaries.push(Boundary::Branching);
+                }
+                for b in boundaries {
+                    let Some(c) = b.constant_of(m) else { continue };
+                    let r_true = (c.value / sigma).powi(2);
+                    let n = if b == Boundary::Branching {
+                        1 + rng.below(2)
+                    } else {
+                        2 + rng.below(3)
+                    };
+                    for _ in 0..n {
+                        let r = r_true * (1.0 + 0.06 * rng.normal()).max(0.7);
+                        readings.push(MirrorReading {
+                            boundary: b.key().replace('-', "_"),
+                            radius: typed_radius(&mut rng, r),
+                            magnification: Some(if r < 1e-3 {
+                                40.0
+                            } else if r < 5e-3 {
+                                20.0
+                            } else {
+                                10.0
+                            }),
+                            analyst: analyst.into(),
+                            note: String::new(),
+                        });
+                    }
+                }
+            }
+            let stone = rng.range(0.08e-3, 0.25e-3);
+            let flaw = (plan.cause == CauseKind::NickelSulfide).then(|| FlawMeasurement {
+                depth: Some(typed_radius(&mut rng, stone)),
+                width: None,
+                shape: "embedded penny".into(),
+            });
+            let mut exam = Examination {
+                id: store.ids.uuid_v7(ms),
+                examined_on: Some(plan.found_on + Days::new(1 + rng.below(6) as u64)),
+                analyst: analyst.into(),
+                origin_type: Some(origin_type.into()),
+                material: None,
+                readings,
+                flaw,
+                result: None,
+                notes: if plan.cause == CauseKind::NickelSulfide {
+                    "Stone at the origin, about the size of the measured flaw; send for composition check.".into()
+                } else {
+                    String::new()
+                },
+            };
+            let computed_at = at_time(exam.examined_on.unwrap_or(plan.found_on), 15 * 60);
+            exam.result = compute::compute(&inc, &exam, computed_at).ok();
+            inc.examinations.push(exam);
+            summary.examinations += 1;
+            inc.custody.push(CustodyEntry {
+                id: store.ids.uuid_v7(ms),
+                at: received,
+                action: "received".into(),
+                who: (*rng.pick(&REPORTERS)).into(),
+                location: "lab intake".into(),
+                note: String::new(),
+            });
+            inc.custody.push(CustodyEntry {
+                id: store.ids.uuid_v7(ms),
+                at: received + chrono::Duration::minutes(20),
+                action: "stored".into(),
+                who: analyst.into(),
+                location: format!(
+                    "shelf {}-{}",
+                    ["A", "B", "C"][rng.below(3)],
+                    1 + rng.below(6)
+                ),
+                note: String::new(),
+            });
+        }
+        let assigned = examined
+            || matches!(plan.cause, CauseKind::Impact | CauseKind::Vandalism) && rng.chance(0.7);
+        if assigned {
+            let confidence = if examined {
+                if rng.chance(0.6) {
+                    "confirmed"
+                } else {
+                    "probable"
+                }
+            } else {
+                "possible"
+            };
+            let responsibility = match plan.cause {
+                CauseKind::NickelSulfide | CauseKind::EdgeDamage => "supplier",
+                CauseKind::HardContact | CauseKind::Handling => "installer",
+                CauseKind::Vandalism | CauseKind::Impact => "third_party",
+                _ => "undetermined",
+            };
+            let mut factors = Vec::new();
+            if plan.cause == CauseKind::Thermal {
+                factors.push("edge shaded by the frame rubber".to_string());
+            }
+            if plan.cause == CauseKind::NickelSulfide {
+                factors.push("no heat-soak test record for the lot".to_string());
+            }
+            inc.cause = Some(Cause {
+                category: plan.cause.code().into(),
+                factors,
+                confidence: confidence.into(),
+                responsibility: responsibility.into(),
+                note: String::new(),
+            });
+            inc.status = if plan.cause == CauseKind::NickelSulfide {
+                "claim_open".into()
+            } else if rng.chance(0.4) {
+                "closed".into()
+            } else {
+                "cause_assigned".into()
+            };
+            if examined && inc.status == "closed" {
+                inc.custody.push(CustodyEntry {
+                    id: store.ids.uuid_v7(ms),
+                    at: received + chrono::Duration::days(30 + rng.below(60) as i64),
+                    action: "disposed".into(),
+                    who: analyst.into(),
+                    location: "glass recycling skip".into(),
+                    note: "case closed".into(),
+                });
+            }
+        } else {
+            inc.status = if examined {
+                "examining".into()
+            } else if rng.chance(0.5) {
+                "received".into()
+            } else {
+                "reported".into()
+            };
+        }
+        if examined
+            && attachments_left > 0
+            && matches!(
+                plan.cause,
+                CauseKind::NickelSulfide | CauseKind::Thermal | CauseKind::Impact
+            )
+        {
+            let bytes = tiny_png(attachments_left as u8);
+            let hash = files::put_bytes(&files_dir, &bytes)?;
+            inc.attachments.push(Attachment {
+                id: store.ids.uuid_v7(ms),
+                sha256: hash,
+                file_name: format!("origin-{}.png", inc.reference.to_ascii_lowercase()),
+                media_type: "image/png".into(),
+                size_bytes: bytes.len() as i64,
+                caption: "origin under the stereo microscope".into(),
+                added_at: stamp.at + chrono::Duration::days(2),
+            });
+            attachments_left -= 1;
+            summary.attachments += 1;
+        }
+        summary.custody += inc.custody.len() as u64;
+        let pid = &product_ids[slot.product];
+        let refs = Refs {
+            asset: Some(asset_ids[plan.car].clone()),
+            site: Some(site_ids[slot.site].clone()),
+            supplier: supplier_ids.get(pdef.supplier).cloned(),
+            product: Some(pid.clone()),
+            lot: lot_ids.get(&(slot.product, slot.lot.clone())).cloned(),
+        };
+        insert_new(&tx, &mut chain, &inc, &refs, &stamp, Some(&mut bulk))?;
+        summary.incidents += 1;
+        last_stamp = stamp;
+    }
+    bulk.flush(&tx, &mut chain, &last_stamp)?;
+    chain.finish(&tx)?;
+    for (_, sql) in &indexes {
+        tx.execute_batch(sql)?;
+    }
+    tx.commit()?;
+    store
+        .conn
+        .execute_batch("PRAGMA journal_mode = DELETE; ANALYZE;")?;
+    sqlite::set_file_pragmas(&store.conn)?;
+    store.conn.execute_batch("PRAGMA optimize;")?;
+    Ok(summary)
+}

@@ -120,13 +120,23 @@ const COLS: [&str; 39] = [
     "seq",
 ];
 
-fn insert_sql() -> String {
+fn insert_sql() -> &'static str {
+    static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    SQL.get_or_init(build_insert_sql)
+}
+
+fn update_sql() -> &'static str {
+    static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    SQL.get_or_init(build_update_sql)
+}
+
+fn build_insert_sql() -> String {
     let cols = COLS[..38].join(", ");
     let qs: Vec<String> = (1..=38).map(|i| format!("?{i}")).collect();
     format!("INSERT INTO incidents ({cols}) VALUES ({})", qs.join(", "))
 }
 
-fn update_sql() -> String {
+fn build_update_sql() -> String {
     let sets: Vec<String> = COLS[..38]
         .iter()
         .enumerate()
@@ -354,11 +364,11 @@ pub(crate) fn insert_new(
     inc: &Incident,
     refs: &Refs,
     stamp: &Stamp,
-    with_text: bool,
+    bulk: Option<&mut super::audit::Bulk>,
 ) -> Result<i64, StoreError> {
     let d = derive(inc);
     let values = row_values(inc, refs, &d)?;
-    conn.prepare_cached(&insert_sql())?
+    conn.prepare_cached(insert_sql())?
         .execute(params_from_iter(values.iter()))
         .map_err(|e| match e {
             rusqlite::Error::SqliteFailure(f, _)
@@ -373,11 +383,12 @@ pub(crate) fn insert_new(
         })?;
     let seq = conn.last_insert_rowid();
     insert_children(conn, inc)?;
-    if with_text {
-        sqlite::fts_insert(conn, seq, &search_body(inc))?;
+    sqlite::fts_insert(conn, seq, &search_body(inc))?;
+    let img = canon::incident_image(inc)?;
+    match bulk {
+        Some(b) => b.add(conn, chain, stamp, &inc.id, &img)?,
+        None => chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?,
     }
-    let img = canon::canonical(inc)?;
-    chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?;
     Ok(seq)
 }
 
@@ -1130,7 +1141,7 @@ impl Store {
         }
         inc.reference = next_reference(&tx, inc.found_on)?;
         let refs = Store::resolve_refs(&tx, &mut chain, &mut self.ids, &inc, stamp, false)?;
-        insert_new(&tx, &mut chain, &inc, &refs, stamp, true)?;
+        insert_new(&tx, &mut chain, &inc, &refs, stamp, None)?;
         chain.finish(&tx)?;
         tx.commit()?;
         Ok(inc)
@@ -1186,7 +1197,7 @@ impl Store {
         let mut values = row_values(&new, &refs, &d)?;
         values.push(SqlValue::Integer(current.revision));
         let n = conn
-            .prepare_cached(&update_sql())?
+            .prepare_cached(update_sql())?
             .execute(params_from_iter(values.iter()))?;
         if n != 1 {
             return Err(StoreError::StaleRevision {
@@ -1198,8 +1209,8 @@ impl Store {
         delete_children(conn, &new.id)?;
         insert_children(conn, &new)?;
         sqlite::fts_put(conn, seq, &search_body(&new))?;
-        let before = canon::canonical(&current)?;
-        let after = canon::canonical(&new)?;
+        let before = canon::incident_image(&current)?;
+        let after = canon::incident_image(&new)?;
         chain.record(conn, stamp, INCIDENT, &new.id, Some(&before), Some(&after))?;
         chain.finish(conn)?;
         Ok(new)
@@ -1340,7 +1351,7 @@ impl Store {
         tx.prepare_cached("DELETE FROM incidents WHERE id = ?1")?
             .execute([&id])?;
         let mut chain = Chain::load(&tx)?;
-        let before = canon::canonical(&current)?;
+        let before = canon::incident_image(&current)?;
         chain.record(&tx, stamp, INCIDENT, &id, Some(&before), None)?;
         chain.finish(&tx)?;
         tx.commit()?;
@@ -1377,7 +1388,7 @@ impl Store {
         sort: Sort,
         page: &PageRequest,
     ) -> Result<Page, StoreError> {
-        let (where_sql, mut args) = filter_sql(filter);
+        let (from, where_sql, mut args) = filter_sql(&self.conn, filter)?;
         let limit = page.limit.clamp(1, 10_000) as i64;
         let (order_cols, key_exprs): (&str, Vec<&str>) = match sort.column {
             SortColumn::Found => ("i.found_on {d}, i.seq {d}", vec!["i.found_on"]),
@@ -1390,14 +1401,16 @@ impl Store {
         };
         let dir = if sort.descending { "DESC" } else { "ASC" };
         let cmp = if sort.descending { "<" } else { ">" };
-        let select = "SELECT i.seq, i.id, i.reference, i.found_on, a.code, i.position, s.code, p.code, su.code,
+        let select = format!(
+            "SELECT i.seq, i.id, i.reference, i.found_on, a.code, i.position, s.code, p.code, su.code,
                       l.code, i.status, i.cause_category, i.stress_pa
-                      FROM incidents i
+                      FROM {from}
                       LEFT JOIN assets a ON a.id = i.asset_id
                       LEFT JOIN sites s ON s.id = i.site_id
                       LEFT JOIN suppliers su ON su.id = i.supplier_id
                       LEFT JOIN products p ON p.id = i.product_id
-                      LEFT JOIN lots l ON l.id = i.lot_id";
+                      LEFT JOIN lots l ON l.id = i.lot_id"
+        );
         let mut rows: Vec<(i64, LogRow)> = Vec::new();
         if sort.column != SortColumn::Stress {
             let mut conds = where_sql.clone();
@@ -1488,10 +1501,7 @@ impl Store {
             (n, _) => n,
         };
         let total = if page.with_total {
-            let sql = format!(
-                "SELECT count(*) FROM incidents i {}",
-                where_clause(&where_sql)
-            );
+            let sql = format!("SELECT count(*) FROM {from} {}", where_clause(&where_sql));
             let n: i64 = self
                 .conn
                 .prepare_cached(&sql)?
@@ -1543,9 +1553,9 @@ impl Store {
 
     /// Ids of all incidents matching a filter, in date-found order (exports, reports).
     pub fn matching_ids(&self, filter: &Filter) -> Result<Vec<String>, StoreError> {
-        let (conds, args) = filter_sql(filter);
+        let (from, conds, args) = filter_sql(&self.conn, filter)?;
         let sql = format!(
-            "SELECT i.id FROM incidents i {} ORDER BY i.found_on, i.seq",
+            "SELECT i.id FROM {from} {} ORDER BY i.found_on, i.seq",
             where_clause(&conds)
         );
         let mut stmt = self.conn.prepare(&sql)?;
@@ -1555,12 +1565,12 @@ impl Store {
 
     /// One flat row per matching incident for fleet statistics, in date-found order.
     pub fn fleet_rows(&self, filter: &Filter) -> Result<Vec<FleetRow>, StoreError> {
-        let (conds, args) = filter_sql(filter);
+        let (from, conds, args) = filter_sql(&self.conn, filter)?;
         let sql = format!(
             "SELECT i.id, i.reference, i.cause_category, i.cause_confidence, i.origin_type, su.code, p.code,
                     l.code, s.code, a.asset_type, i.temper, i.found_on, i.broken_on, i.applied_stress_pa,
                     i.stress_pa
-             FROM incidents i
+             FROM {from}
              LEFT JOIN assets a ON a.id = i.asset_id
              LEFT JOIN sites s ON s.id = i.site_id
              LEFT JOIN suppliers su ON su.id = i.supplier_id
@@ -1605,9 +1615,14 @@ fn where_clause(conds: &[String]) -> String {
     }
 }
 
-/// SQL conditions on `incidents i` and their parameters. Only fixed SQL text; every
-/// user value is a bound parameter.
-fn filter_sql(f: &Filter) -> (Vec<String>, Vec<SqlValue>) {
+/// The FROM clause, SQL conditions on `incidents i` and their parameters. Only fixed SQL
+/// text; every user value is a bound parameter. Lot codes are resolved to keys first so the
+/// lot index can be used.
+fn filter_sql(
+    conn: &Connection,
+    f: &Filter,
+) -> Result<(&'static str, Vec<String>, Vec<SqlValue>), StoreError> {
+    let mut from = "incidents i";
     let mut c = Vec::new();
     let mut a = Vec::new();
     if let Some(s) = &f.status {
@@ -1627,20 +1642,19 @@ fn filter_sql(f: &Filter) -> (Vec<String>, Vec<SqlValue>) {
         a.push(t(s));
     }
     if let Some(l) = &f.lot {
-        match &f.supplier {
-            Some(s) => {
-                c.push(
-                    "i.lot_id IN (SELECT lo.id FROM lots lo JOIN products pr ON pr.id = lo.product_id
-                     JOIN suppliers sp ON sp.id = pr.supplier_id WHERE lo.code = ? AND sp.code = ?)"
-                        .to_string(),
-                );
-                a.push(t(l));
-                a.push(t(s));
-            }
-            None => {
-                c.push("i.lot_id IN (SELECT lo.id FROM lots lo WHERE lo.code = ?)".to_string());
-                a.push(t(l));
-            }
+        let mut stmt = conn.prepare_cached(
+            "SELECT lo.id FROM lots lo JOIN products pr ON pr.id = lo.product_id
+             JOIN suppliers sp ON sp.id = pr.supplier_id
+             WHERE lo.code = ?1 AND (?2 IS NULL OR sp.code = ?2) ORDER BY lo.id",
+        )?;
+        let ids: Vec<String> = stmt
+            .query_map(params![l, f.supplier], |r| r.get(0))?
+            .collect::<Result<_, _>>()?;
+        if ids.is_empty() {
+            c.push("1 = 0".to_string());
+        } else {
+            c.push(format!("i.lot_id IN ({})", vec!["?"; ids.len()].join(", ")));
+            a.extend(ids.into_iter().map(SqlValue::Text));
         }
     }
     if let Some(s) = &f.site {
@@ -1658,11 +1672,13 @@ fn filter_sql(f: &Filter) -> (Vec<String>, Vec<SqlValue>) {
     if let Some(text) = &f.text {
         match sqlite::fts_query(text) {
             Some(q) => {
-                c.push(sqlite::FTS_CONDITION.to_string());
-                a.push(SqlValue::Text(q));
+                // the text index drives: its matches are few next to the whole log
+                from = sqlite::FTS_FROM;
+                c.insert(0, sqlite::FTS_CONDITION.to_string());
+                a.insert(0, SqlValue::Text(q));
             }
             None => c.push("1 = 0".to_string()),
         }
     }
-    (c, a)
+    Ok((from, c, a))
 }

@@ -23,6 +23,7 @@ use rusqlite::{Connection, OptionalExtension, TransactionBehavior};
 
 mod audit;
 pub mod canon;
+pub mod compute;
 pub mod demo;
 pub mod exchange;
 mod files;

@@ -22,7 +22,8 @@ pub(crate) fn lookup_key(e: &LookupEntry) -> String {
 }
 
 pub(crate) fn fmt_date(d: NaiveDate) -> String {
-    d.format("%Y-%m-%d").to_string()
+    use chrono::Datelike;
+    format!("{:04}-{:02}-{:02}", d.year(), d.month(), d.day())
 }
 
 pub(crate) fn parse_date(s: &str) -> Option<NaiveDate> {

@@ -1,0 +1,155 @@
+//! From a stored examination to the fracture core's input, and from its `Analysis` to a
+//! stored [`ComputedResult`]. Pure: no database here.
+
+use chrono::{DateTime, Utc};
+
+use super::model::*;
+use crate::fracture::{
+    self, AnalysisInput, Boundary, BoundaryReadings, FractureError, Origin, Temper,
+};
+
+/// Temper class lookup code → the core's temper.
+pub fn temper_of(code: &str) -> Option<Temper> {
+    match code {
+        "annealed" => Some(Temper::Annealed),
+        "heat_strengthened" => Some(Temper::HeatStrengthened),
+        "fully_tempered" => Some(Temper::FullyTempered),
+        "chemically_strengthened" => Some(Temper::ChemicallyStrengthened),
+        _ => None,
+    }
+}
+
+/// Whether the origin of an examination sits in the interior (tensile core).
+pub fn interior_origin(inc: &Incident, exam: &Examination) -> bool {
+    inc.pattern.origin_location.as_deref() == Some("interior")
+        || matches!(
+            exam.origin_type.as_deref(),
+            Some("interior_core") | Some("inclusion_nis")
+        )
+}
+
+/// The core's input for one examination of an incident.
+pub fn analysis_input(inc: &Incident, exam: &Examination) -> Result<AnalysisInput, FractureError> {
+    let ply = inc.glass.plies.first();
+    let material_code = exam
+        .material
+        .clone()
+        .or_else(|| ply.and_then(|p| p.material.clone()))
+        .unwrap_or_else(|| "soda_lime".to_string());
+    let material = fracture::materials::find(&material_code).ok_or_else(|| {
+        FractureError::invalid(
+            "material",
+            format!("\"{material_code}\" is not in the material library"),
+            format!("one of {}", fracture::materials::keys().join(", ")),
+        )
+    })?;
+    let mut input = AnalysisInput::new(material);
+    for r in &exam.readings {
+        let b = Boundary::parse(&r.boundary).ok_or_else(|| {
+            FractureError::invalid(
+                "boundary",
+                format!("\"{}\" is not a boundary", r.boundary),
+                "mirror_mist, mist_hackle or branching",
+            )
+        })?;
+        match input.readings.iter_mut().find(|g| g.boundary == b) {
+            Some(g) => g.radii_m.push(r.radius.si),
+            None => input.readings.push(BoundaryReadings {
+                boundary: b,
+                radii_m: vec![r.radius.si],
+            }),
+        }
+    }
+    input.temper = ply.and_then(|p| p.temper.as_deref()).and_then(temper_of);
+    input.origin = if interior_origin(inc, exam) {
+        Origin::Interior
+    } else {
+        Origin::Surface
+    };
+    input.thickness_m = ply.and_then(|p| p.thickness_m);
+    input.measured_flaw_m = exam
+        .flaw
+        .as_ref()
+        .and_then(|f| f.depth.as_ref())
+        .map(|m| m.si);
+    Ok(input)
+}
+
+/// The stored form of an analysis.
+pub fn to_result(
+    analysis: &fracture::Analysis,
+    computed_at: DateTime<Utc>,
+) -> Result<ComputedResult, serde_json::Error> {
+    let mut constants = serde_json::Map::new();
+    for b in &analysis.boundaries {
+        constants.insert(
+            b.constant.symbol.clone(),
+            serde_json::to_value(&b.constant)?,
+        );
+    }
+    if let Some(f) = &analysis.flaw {
+        constants.insert(
+            f.toughness.symbol.clone(),
+            serde_json::to_value(&f.toughness)?,
+        );
+    }
+    constants.insert("residual".into(), serde_json::to_value(&analysis.residual)?);
+    Ok(ComputedResult {
+        computed_at: truncate_ms(computed_at),
+        code_version: super::CODE_VERSION.to_string(),
+        stress_pa: Some(analysis.stress_pa),
+        stress_low_pa: Some(analysis.stress_low_pa),
+        stress_high_pa: Some(analysis.stress_high_pa),
+        residual_pa: Some(analysis.residual.at_origin_pa),
+        applied_stress_pa: Some(analysis.applied_stress_pa),
+        flaw_size_m: analysis.flaw.as_ref().map(|f| f.size_m),
+        constants: serde_json::Value::Object(constants),
+        analysis: serde_json::to_value(analysis)?,
+    })
+}
+
+/// Why a result could not be computed.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ComputeError {
+    #[error(transparent)]
+    Fracture(#[from] FractureError),
+    #[error("storing the analysis: {0}")]
+    Serialize(String),
+}
+
+/// Run the fracture core on one examination (the bench calculator can call this live).
+pub fn compute(
+    inc: &Incident,
+    exam: &Examination,
+    computed_at: DateTime<Utc>,
+) -> Result<ComputedResult, ComputeError> {
+    let input = analysis_input(inc, exam)?;
+    let analysis = fracture::analyze(&input)?;
+    to_result(&analysis, computed_at).map_err(|e| ComputeError::Serialize(e.to_string()))
+}
+
+impl super::Store {
+    /// Compute an examination's result with the fracture core and save it (revision check).
+    pub fn compute_result(
+        &mut self,
+        key: &str,
+        expected: i64,
+        examination_id: &str,
+        stamp: &Stamp,
+    ) -> Result<Incident, super::StoreError> {
+        let inc = self.get(key)?;
+        let exam = inc
+            .examinations
+            .iter()
+            .find(|e| e.id == examination_id)
+            .ok_or_else(|| {
+                super::StoreError::invalid(
+                    "examination",
+                    format!("no examination {examination_id}"),
+                )
+            })?;
+        let result = compute(&inc, exam, stamp.at)
+            .map_err(|e| super::StoreError::invalid("examination", e.to_string()))?;
+        self.set_result(key, expected, examination_id, Some(result), stamp)
+    }
+}
