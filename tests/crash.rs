@@ -263,10 +263,11 @@ fn sigkill_during_import_leaves_all_or_nothing() {
         String::from_utf8_lossy(&ok.stderr)
     );
     const ROWS: u64 = 300;
-    let mut csv = String::from("found_on,site,asset,supplier,lot,mirror_mist,description,notes\n");
+    let mut csv =
+        String::from("found_on,site,asset,supplier,product,lot,mirror_mist,description,notes\n");
     for i in 0..ROWS {
         csv.push_str(&format!(
-            "2026-03-{:02},north-depot,car {},ORVALE,L{},{}.{} mm,crash-test import row {i},{}\n",
+            "2026-03-{:02},north-depot,car {},ORVALE,SIDE-6T,L{},{}.{} mm,crash-test import row {i},{}\n",
             1 + i % 28,
             200 + i % 17,
             i % 5,

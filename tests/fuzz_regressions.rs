@@ -145,3 +145,16 @@ fn every_library_material_passes_the_new_checks() {
         }
     }
 }
+
+/// fuzz/mirror_analyze, second crasher: a surface-compression spread of 1.7e299 Pa made the
+/// applied-stress interval −inf. The spread is bounded like the compression (10 GPa).
+#[test]
+fn enormous_surface_compression_spread_is_refused() {
+    let mut input = AnalysisInput::new(soda_lime())
+        .with_readings(Boundary::MirrorMist, &[0.798972])
+        .with_readings(Boundary::Branching, &[0.07949]);
+    input.surface_compression_pa = Some(-0.0);
+    input.surface_compression_spread_pa = Some(1.6725972032429372e299);
+    let e = fracture::analyze(&input).unwrap_err();
+    assert_eq!(e.field(), "surface-compression");
+}

@@ -585,7 +585,7 @@ fn sc(
     }
 }
 
-const HEADER: &str = "found_on,supplier,lot,mirror_mist,description,notes";
+const HEADER: &str = "found_on,supplier,product,lot,mirror_mist,description,notes";
 
 fn csv_file(rows: &[&str]) -> Vec<u8> {
     let mut s = String::from(HEADER);
@@ -606,21 +606,24 @@ fn json_file(incident_fields: &str) -> Vec<u8> {
 
 fn store_cases() -> Vec<StoreCase> {
     let deep = format!("{}{}", "[".repeat(100_000), "]".repeat(100_000));
-    let big_note = format!("2026-03-14,ORVALE,L1,1.1 mm,big,{}", "n".repeat(2_000_000));
+    let big_note = format!(
+        "2026-03-14,ORVALE,SIDE-6T,L1,1.1 mm,big,{}",
+        "n".repeat(2_000_000)
+    );
     vec![
         // import files that must be refused whole
-        sc("import: Latin-1 bytes", vec![("latin1.csv", [HEADER.as_bytes(), b"\n2026-03-14,ORVALE,L1,1.1 mm,caf\xe9,x\n"].concat())], &["import", "{dir}/latin1.csv"], &[1], true),
+        sc("import: Latin-1 bytes", vec![("latin1.csv", [HEADER.as_bytes(), b"\n2026-03-14,ORVALE,SIDE-6T,L1,1.1 mm,caf\xe9,x\n"].concat())], &["import", "{dir}/latin1.csv"], &[1], true),
         sc("import: UTF-16 with BOM", vec![("utf16.csv", {
             let mut v = vec![0xff, 0xfe];
             for u in "found_on\n2026-03-14\n".encode_utf16() { v.extend(u.to_le_bytes()); }
             v
         })], &["import", "{dir}/utf16.csv"], &[1], true),
         sc("import: NUL bytes", vec![("nul.csv", vec![0u8; 4096])], &["import", "{dir}/nul.csv"], &[1], true),
-        sc("import: radius 1e400 mm", vec![("huge.csv", csv_file(&["2026-03-14,ORVALE,L1,1e400 mm,d,n"]))], &["import", "{dir}/huge.csv"], &[1], true),
-        sc("import: radius NaN", vec![("nan.csv", csv_file(&["2026-03-14,ORVALE,L1,NaN mm,d,n"]))], &["import", "{dir}/nan.csv"], &[1], true),
-        sc("import: unclosed quote", vec![("quote.csv", csv_file(&["2026-03-14,ORVALE,L1,1.1 mm,\"never closed,n"]))], &["import", "{dir}/quote.csv"], &[1], true),
-        sc("import: good row then SQL as a date", vec![("sqldate.csv", csv_file(&["2026-03-14,ORVALE,L1,1.1 mm,ok,n", "2026-03-14'); DROP TABLE incidents;--,ORVALE,L1,1.1 mm,d,n"]))], &["import", "{dir}/sqldate.csv"], &[1], true),
-        sc("import: escape in a date", vec![("escdate.csv", csv_file(&["\u{1b}[2J2026-03-14,ORVALE,L1,1.1 mm,d,n"]))], &["import", "{dir}/escdate.csv"], &[1], true),
+        sc("import: radius 1e400 mm", vec![("huge.csv", csv_file(&["2026-03-14,ORVALE,SIDE-6T,L1,1e400 mm,d,n"]))], &["import", "{dir}/huge.csv"], &[1], true),
+        sc("import: radius NaN", vec![("nan.csv", csv_file(&["2026-03-14,ORVALE,SIDE-6T,L1,NaN mm,d,n"]))], &["import", "{dir}/nan.csv"], &[1], true),
+        sc("import: unclosed quote", vec![("quote.csv", csv_file(&["2026-03-14,ORVALE,SIDE-6T,L1,1.1 mm,\"never closed,n"]))], &["import", "{dir}/quote.csv"], &[1], true),
+        sc("import: good row then SQL as a date", vec![("sqldate.csv", csv_file(&["2026-03-14,ORVALE,SIDE-6T,L1,1.1 mm,ok,n", "2026-03-14'); DROP TABLE incidents;--,ORVALE,SIDE-6T,L1,1.1 mm,d,n"]))], &["import", "{dir}/sqldate.csv"], &[1], true),
+        sc("import: escape in a date", vec![("escdate.csv", csv_file(&["\u{1b}[2J2026-03-14,ORVALE,SIDE-6T,L1,1.1 mm,d,n"]))], &["import", "{dir}/escdate.csv"], &[1], true),
         sc("import: escape in a column name", vec![("eschead.csv", b"found_on,\x1b]0;owned\x07\n2026-03-14,x\n".to_vec())], &["import", "{dir}/eschead.csv"], &[1], true),
         sc("import: JSON nested 100 000 deep", vec![("deep.json", deep.into_bytes())], &["import", "{dir}/deep.json"], &[1], true),
         sc("import: JSON NaN", vec![("nan.json", br#"{"format":"shardlog-export","version":1,"incidents":[{"found_on":"2026-03-14","status":"reported","environment":{"temperature_c":NaN}}]}"#.to_vec())], &["import", "{dir}/nan.json"], &[1], true),
@@ -633,11 +636,11 @@ fn store_cases() -> Vec<StoreCase> {
         sc("import: a directory", vec![], &["import", "{dir}"], &[1, 2], true),
         sc("import: a missing file", vec![], &["import", "{dir}/no-such-file.csv"], &[1, 2], true),
         sc("import: the database itself", vec![], &["import", "{db}"], &[1], true),
-        sc("import: dry run of a good file", vec![("dry.csv", csv_file(&["2026-03-14,ORVALE,L1,1.1 mm,d,n"]))], &["import", "{dir}/dry.csv", "--dry-run"], &[0], true),
-        sc("import: strict with unknown supplier", vec![("strict.csv", csv_file(&["2026-03-14,NOBODY-KNOWS,L1,1.1 mm,d,n"]))], &["import", "{dir}/strict.csv", "--strict"], &[1], true),
+        sc("import: dry run of a good file", vec![("dry.csv", csv_file(&["2026-03-14,ORVALE,SIDE-6T,L1,1.1 mm,d,n"]))], &["import", "{dir}/dry.csv", "--dry-run"], &[0], true),
+        sc("import: strict with unknown supplier", vec![("strict.csv", csv_file(&["2026-03-14,NOBODY-KNOWS,SIDE-6T,L1,1.1 mm,d,n"]))], &["import", "{dir}/strict.csv", "--strict"], &[1], true),
         // hostile text that is stored, then shown: it must come out sanitized
-        sc("import: SQL in notes is stored as text", vec![("sqlnote.csv", csv_file(&["2026-03-14,ORVALE,L1,1.1 mm,sql note,'); DROP TABLE incidents;--"]))], &["import", "{dir}/sqlnote.csv"], &[0], false),
-        sc("import: escapes in notes are stored", vec![("escnote.csv", csv_file(&["2026-03-14,ORVALE,L1,1.1 mm,\u{1b}]0;owned\u{7}\u{1b}[2Jescape note,\u{1b}]52;c;ZWNobyBoaQ==\u{7}bell\u{7}"]))], &["import", "{dir}/escnote.csv"], &[0], false),
+        sc("import: SQL in notes is stored as text", vec![("sqlnote.csv", csv_file(&["2026-03-14,ORVALE,SIDE-6T,L1,1.1 mm,sql note,'); DROP TABLE incidents;--"]))], &["import", "{dir}/sqlnote.csv"], &[0], false),
+        sc("import: escapes in notes are stored", vec![("escnote.csv", csv_file(&["2026-03-14,ORVALE,SIDE-6T,L1,1.1 mm,\u{1b}]0;owned\u{7}\u{1b}[2Jescape note,\u{1b}]52;c;ZWNobyBoaQ==\u{7}bell\u{7}"]))], &["import", "{dir}/escnote.csv"], &[0], false),
         sc("import: 2 MB note", vec![("bignote.csv", csv_file(&[&big_note]))], &["import", "{dir}/bignote.csv"], &[0, 1], false),
         sc("list: after the hostile imports", vec![], &["list", "--limit", "500"], &[0], true),
         sc("list --search with escapes", vec![], &["list", "--search", "\u{1b}[2Jescape"], &[0], true),
@@ -655,7 +658,13 @@ fn store_cases() -> Vec<StoreCase> {
         sc("show: path as a reference", vec![], &["show", "../../../etc/passwd"], &[1], true),
         sc("export: to a directory", vec![], &["export", "--format", "csv", "-o", "{dir}"], &[1], true),
         sc("export: to a missing folder", vec![], &["export", "--format", "json", "-o", "{dir}/no/such/dir/x.json"], &[1], true),
-        sc("export: over the database itself", vec![], &["export", "--format", "json", "-o", "{db}"], &[1, 2], true),
+        sc(
+            "export: escape sequence in the output name",
+            vec![],
+            &["export", "--format", "csv", "-o", "{dir}/\u{1b}]0;owned\u{7}.csv"],
+            &[0, 1],
+            true,
+        ),
         sc("backup: onto the database itself", vec![], &["backup", "{db}"], &[1, 2], true),
         sc("backup: into a missing folder", vec![], &["backup", "{dir}/no/such/dir/b.db"], &[1], true),
         sc("init: on an existing database", vec![], &["init"], &[0, 1], true),
@@ -684,7 +693,11 @@ fn hostile_record_commands() {
         String::from_utf8_lossy(&r.stderr)
     );
     let seed = dir.path().join("seed.csv");
-    std::fs::write(&seed, csv_file(&["2026-03-10,ORVALE,L1,1.1 mm,seed,first"])).expect("write");
+    std::fs::write(
+        &seed,
+        csv_file(&["2026-03-10,ORVALE,SIDE-6T,L1,1.1 mm,seed,first"]),
+    )
+    .expect("write");
     let r = run_in(
         dir.path(),
         &[
@@ -736,6 +749,13 @@ fn hostile_record_commands() {
             ));
         }
     }
+    assert!(
+        failures.is_empty(),
+        "{} of {} cases failed:\n{}",
+        failures.len(),
+        cases.len(),
+        failures.join("\n")
+    );
     // nothing was written outside the temp folder by the traversal attempt
     assert!(!Path::new("/etc/cron.d/x").exists());
     // the stored hostile text is intact, as data
@@ -765,13 +785,6 @@ fn hostile_record_commands() {
     assert!(
         exported.contains("\\u001b]0;owned"),
         "the escape note is stored as given"
-    );
-    assert!(
-        failures.is_empty(),
-        "{} of {} cases failed:\n{}",
-        failures.len(),
-        cases.len(),
-        failures.join("\n")
     );
 }
 

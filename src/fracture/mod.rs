@@ -384,11 +384,13 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         }
     }
     if let Some(s) = input.surface_compression_spread_pa {
-        if !s.is_finite() || s < 0.0 {
+        // bounded like the compression itself: a spread of 1e299 Pa made the applied-stress
+        // interval infinite (found by fuzzing)
+        if !s.is_finite() || s < 0.0 || s > upper_limit(Unit::Megapascal) {
             return Err(FractureError::invalid(
                 "surface-compression",
                 format!("spread {s} Pa"),
-                "a spread of zero or more",
+                "a spread of zero or more, at most 10 GPa",
             ));
         }
     }
