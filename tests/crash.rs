@@ -262,7 +262,7 @@ fn sigkill_during_import_leaves_all_or_nothing() {
         "{}",
         String::from_utf8_lossy(&ok.stderr)
     );
-    const ROWS: u64 = 300;
+    const ROWS: u64 = 120;
     let mut csv =
         String::from("found_on,site,asset,supplier,product,lot,mirror_mist,description,notes\n");
     for i in 0..ROWS {
