@@ -597,11 +597,26 @@ fn csv_file(rows: &[&str]) -> Vec<u8> {
     s.into_bytes()
 }
 
-fn json_file(incident_fields: &str) -> Vec<u8> {
-    format!(
-        r#"{{"format":"shardlog-export","version":1,"incidents":[{{"found_on":"2026-03-14","status":"reported",{incident_fields}}}]}}"#
-    )
-    .into_bytes()
+/// A draft incident as `export --format json` writes one (invented names from the demo),
+/// with its id and reference emptied so the store assigns them.
+const BASE_INCIDENT: &str = r#"{"id":"","reference":"","revision":1,"created_at":"2024-06-10T11:42:00Z","updated_at":"2024-06-10T11:42:00Z","asset":"car 166","position":"right side, bay 7","site":"TVL-PEL","found_on":"2024-06-10","broken_on":null,"environment":{"temperature_c":10.7,"sun":"","weather":""},"reporter":"depot staff","how_found":"reported by driver in service","glass":{"supplier":"KESTREL","product":"SW5-FT","lot":"KS-2207","makeup":"monolithic","plies":[{"material":"soda_lime","temper":"fully_tempered","thickness_m":0.005,"coating":"","edge_finish":"ground"}],"width_m":0.9,"height_m":0.65},"pattern":{"crack_count":null,"branching":true,"fragment_count":48,"origin_location":null,"tension_face":""},"examinations":[],"cause":null,"status":"received","description":"Small crater with radial cracks.","notes":"","custody":[],"attachments":[]}"#;
+
+/// An export document with the base incident, `fields` replaced by raw JSON text (so NaN and
+/// 1e999, which no JSON library writes, can be planted). A dotted key reaches one level down.
+fn json_file(fields: &[(&str, &str)]) -> Vec<u8> {
+    let mut inc: serde_json::Value = serde_json::from_str(BASE_INCIDENT).expect("base parses");
+    for (i, (key, _)) in fields.iter().enumerate() {
+        let mark = serde_json::Value::String(format!("@@{i}@@"));
+        match key.split_once('.') {
+            Some((outer, inner)) => inc[outer][inner] = mark,
+            None => inc[*key] = mark,
+        }
+    }
+    let mut text = format!(r#"{{"format":"shardlog-export","version":1,"incidents":[{inc}]}}"#);
+    for (i, (_, raw)) in fields.iter().enumerate() {
+        text = text.replace(&format!("\"@@{i}@@\""), raw);
+    }
+    text.into_bytes()
 }
 
 fn store_cases() -> Vec<StoreCase> {
@@ -626,13 +641,18 @@ fn store_cases() -> Vec<StoreCase> {
         sc("import: escape in a date", vec![("escdate.csv", csv_file(&["\u{1b}[2J2026-03-14,ORVALE,SIDE-6T,L1,1.1 mm,d,n"]))], &["import", "{dir}/escdate.csv"], &[1], true),
         sc("import: escape in a column name", vec![("eschead.csv", b"found_on,\x1b]0;owned\x07\n2026-03-14,x\n".to_vec())], &["import", "{dir}/eschead.csv"], &[1], true),
         sc("import: JSON nested 100 000 deep", vec![("deep.json", deep.into_bytes())], &["import", "{dir}/deep.json"], &[1], true),
-        sc("import: JSON NaN", vec![("nan.json", br#"{"format":"shardlog-export","version":1,"incidents":[{"found_on":"2026-03-14","status":"reported","environment":{"temperature_c":NaN}}]}"#.to_vec())], &["import", "{dir}/nan.json"], &[1], true),
-        sc("import: JSON number 1e999", vec![("big.json", json_file(r#""environment":{"temperature_c":1e999}"#))], &["import", "{dir}/big.json"], &[1], true),
+        sc("import: JSON good draft (control)", vec![("good.json", json_file(&[]))], &["import", "{dir}/good.json"], &[0], false),
+        sc("import: JSON NaN", vec![("nan.json", json_file(&[("environment.temperature_c", "NaN")]))], &["import", "{dir}/nan.json"], &[1], true),
+        sc("import: JSON negative width", vec![("neg.json", json_file(&[("glass.width_m", "-0.9")]))], &["import", "{dir}/neg.json"], &[1], true),
+        sc("import: JSON duplicate id", vec![("dup.json", format!(r#"{{"format":"shardlog-export","version":1,"incidents":[{0},{0}]}}"#, BASE_INCIDENT.replace(r#""id":"""#, r#""id":"019001f4-8340-7ca5-8a55-378423e20d80""#)).into_bytes())], &["import", "{dir}/dup.json"], &[1], true),
+        sc("import: JSON id with SQL", vec![("sqlid.json", json_file(&[("id", r#""'; DELETE FROM audit;--""#)]))], &["import", "{dir}/sqlid.json"], &[1], true),
+        sc("import: JSON revision past i64", vec![("rev.json", json_file(&[("revision", "99999999999999999999")]))], &["import", "{dir}/rev.json"], &[1], true),
+        sc("import: JSON number 1e999", vec![("big.json", json_file(&[("environment.temperature_c", "1e999")]))], &["import", "{dir}/big.json"], &[1], true),
         sc("import: JSON truncated", vec![("cut.json", br#"{"format":"shardlog-export","version":1,"incidents":[{"found_on":"2026-0"#.to_vec())], &["import", "{dir}/cut.json"], &[1], true),
         sc("import: JSON wrong format tag", vec![("tag.json", br#"{"format":"'; DROP TABLE audit;--","version":1,"incidents":[]}"#.to_vec())], &["import", "{dir}/tag.json"], &[1], true),
         sc("import: JSON version from the future", vec![("v99.json", br#"{"format":"shardlog-export","version":99,"incidents":[]}"#.to_vec())], &["import", "{dir}/v99.json"], &[1], true),
-        sc("import: JSON unknown status with SQL", vec![("status.json", json_file(r#""status":"x' OR '1'='1""#))], &["import", "{dir}/status.json"], &[1], true),
-        sc("import: JSON attachment path traversal", vec![("att.json", json_file(r#""attachments":[{"name":"../../../../etc/cron.d/x","sha256":"../../../../etc/passwd","media_type":"text/plain","size":1}]"#))], &["import", "{dir}/att.json"], &[1], true),
+        sc("import: JSON unknown status with SQL", vec![("status.json", json_file(&[("status", r#""x' OR '1'='1""#)]))], &["import", "{dir}/status.json"], &[1], true),
+        sc("import: JSON attachment path traversal", vec![("att.json", json_file(&[("attachments", r#"[{"id":"","sha256":"../../../../etc/passwd","file_name":"../../../../etc/cron.d/x","media_type":"text/plain","size_bytes":1,"added_at":"2026-03-14T00:00:00Z"}]"#)]))], &["import", "{dir}/att.json"], &[1], true),
         sc("import: a directory", vec![], &["import", "{dir}"], &[1, 2], true),
         sc("import: a missing file", vec![], &["import", "{dir}/no-such-file.csv"], &[1, 2], true),
         sc("import: the database itself", vec![], &["import", "{db}"], &[1], true),
