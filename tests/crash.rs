@@ -203,15 +203,25 @@ fn kill_loop(mode: &str, rounds: usize) -> (usize, usize) {
             .spawn()
             .expect("child starts");
         let stdout = child.stdout.take().expect("piped");
+        let (first_tx, first_rx) = std::sync::mpsc::channel::<()>();
         let reader = std::thread::spawn(move || {
-            BufReader::new(stdout)
-                .lines()
-                .map_while(Result::ok)
+            let mut lines = Vec::new();
+            for l in BufReader::new(stdout).lines().map_while(Result::ok) {
                 // libtest may print "test crash_child ... " on the same line first
-                .filter_map(|l| l.find("committed ").map(|at| l[at..].to_string()))
-                .collect::<Vec<_>>()
+                if let Some(at) = l.find("committed ") {
+                    if lines.is_empty() {
+                        let _ = first_tx.send(());
+                    }
+                    lines.push(l[at..].to_string());
+                }
+            }
+            lines
         });
-        // varied points: right at start-up (open, migrations check), early writes, later
+        // varied points: odd rounds from the start (open, schema check, first write), even
+        // rounds from the first reported commit (in the middle of the stream of writes)
+        if round % 2 == 0 {
+            let _ = first_rx.recv_timeout(Duration::from_secs(10));
+        }
         let delay_ms = [0u64, 3, 7, 15, 25, 40, 60, 90, 130][round % 9] + (round as u64 * 13) % 11;
         let t0 = Instant::now();
         while t0.elapsed() < Duration::from_millis(delay_ms) {
