@@ -690,6 +690,21 @@ fn store_cases() -> Vec<StoreCase> {
         sc("init: on an existing database", vec![], &["init"], &[0, 1], true),
         sc("demo: over the existing database", vec![], &["demo", "--out", "{db}", "--incidents", "3"], &[1, 2], true),
         sc("demo: absurd incident count", vec![], &["demo", "--out", "{dir}/absurd.db", "--incidents", "18446744073709551615"], &[1, 2], true),
+        // fleet statistics over the hostile records, and the Weibull fit of hostile columns
+        sc("stats --by with SQL", vec![], &["stats", "--by", "cause; DROP TABLE incidents;--"], &[2], true),
+        sc("stats --only with SQL", vec![], &["stats", "--only", "supplier=' OR '1'='1"], &[0, 1, 2], true),
+        sc("stats --only with an escape", vec![], &["stats", "--only", "supplier=\u{1b}[2J"], &[0, 1, 2], true),
+        sc("stats --stress unknown", vec![], &["stats", "--stress", "\u{1b}]0;owned\u{7}"], &[2], true),
+        sc("stats --rates --weibull over hostile notes", vec![], &["stats", "--by", "cause,supplier", "--rates", "--weibull"], &[0, 1], true),
+        sc("weibull: NaN and inf cells", vec![("wnan.csv", b"stress_mpa\nNaN\ninf\n45\n50\n".to_vec())], &["weibull", "--input", "{dir}/wnan.csv"], &[1, 2], true),
+        sc("weibull: 1e400 and negative", vec![("wbig.csv", b"stress_mpa\n1e400\n-5\n45\n50\n".to_vec())], &["weibull", "--input", "{dir}/wbig.csv"], &[1, 2], true),
+        sc("weibull: all values equal", vec![("weq.csv", b"stress_mpa\n50\n50\n50\n50\n50\n".to_vec())], &["weibull", "--input", "{dir}/weq.csv"], &[0, 1, 2], true),
+        sc("weibull: one value", vec![("wone.csv", b"stress_mpa\n50\n".to_vec())], &["weibull", "--input", "{dir}/wone.csv"], &[1, 2], true),
+        sc("weibull: subnormal values", vec![("wsub.csv", b"stress_mpa\n1e-320\n2e-320\n3e-320\n".to_vec())], &["weibull", "--input", "{dir}/wsub.csv"], &[0, 1, 2], true),
+        sc("weibull: escape in the column name", vec![("wesc.csv", b"\x1b]0;owned\x07\n45\n50\n55\n".to_vec())], &["weibull", "--input", "{dir}/wesc.csv"], &[0, 1, 2], true),
+        sc("weibull: SQL as the column", vec![], &["weibull", "--input", "{dir}/weq.csv", "--column", "x'; DROP TABLE incidents;--"], &[1, 2], true),
+        sc("weibull: Latin-1 file", vec![("wlat.csv", b"stress_mpa\n4\xe95\n".to_vec())], &["weibull", "--input", "{dir}/wlat.csv"], &[1, 2], true),
+        sc("weibull: a directory as input", vec![], &["weibull", "--input", "{dir}"], &[1, 2], true),
         sc("verify: after everything", vec![], &["verify"], &[0], true),
     ]
 }
