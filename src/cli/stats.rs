@@ -1,10 +1,1074 @@
-//! `shardlog stats` (not built yet: see the open issue).
+//! `shardlog stats`: fleet recurrence and strength statistics over the database.
+//!
+//! The store gives one flat row per incident and the exposure rows; everything else is
+//! `crate::fleet` (pure). `render` turns the figures into a table or JSON, so it can be
+//! tested without a database.
 
+use chrono::NaiveDate;
+use serde_json::{json, Value};
+
+use super::weibull::{fit_json, fit_table};
 use super::{CliError, Context};
+use crate::fleet::trend::{seasonality, trend, Seasonality, Trend};
+use crate::fleet::{group, Exposure, GroupOptions, GroupTable, IncidentFacts, Key, Window};
+use crate::units::{fmt_sig, Unit};
 
 #[derive(Debug, clap::Args)]
-pub struct StatsArgs {}
+pub struct StatsArgs {
+    /// Group by one or two keys: cause, origin-type, supplier, product, lot, site,
+    /// asset-type, temper, month, season (e.g. --by cause,supplier).
+    #[arg(long, value_name = "KEY[,KEY]", default_value = "cause")]
+    pub by: String,
+    /// First day of the window (YYYY-MM-DD; default: the earliest incident).
+    #[arg(long, value_name = "DATE")]
+    pub since: Option<String>,
+    /// Last day of the window (YYYY-MM-DD; default: today).
+    #[arg(long, value_name = "DATE")]
+    pub until: Option<String>,
+    /// Rates per 1,000 pane-years with exact intervals, rate ratios and flags.
+    #[arg(long)]
+    pub rates: bool,
+    /// Incidents per month with a trend test, and seasonality by month of year.
+    #[arg(long)]
+    pub trend: bool,
+    /// A Weibull fit of the fracture stresses of each group.
+    #[arg(long)]
+    pub weibull: bool,
+    /// With --weibull: fit this origin type, the other origins censored at their stress
+    /// (competing flaw populations, ASTM C1239).
+    #[arg(long, value_name = "TYPE")]
+    pub origin_type: Option<String>,
+    /// Keep only incidents with this value (repeatable), e.g. --only cause=thermal or
+    /// --only supplier=KESTREL; a supplier/product/lot/site value also narrows the exposure.
+    #[arg(long, value_name = "KEY=VALUE")]
+    pub only: Vec<String>,
+    /// Which back-calculated stress the Weibull fit uses: applied (net minus residual
+    /// stress: the service load at fracture) or net (the mirror's stress at the origin).
+    #[arg(long, value_name = "applied|net", default_value = "applied")]
+    pub stress: String,
+    /// Print JSON instead of tables.
+    #[arg(long)]
+    pub json: bool,
+}
 
-pub fn run(_args: StatsArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'stats' is not built yet"))
+/// Which stress of an incident the strength statistics use.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StressKind {
+    Applied,
+    Net,
+}
+
+impl StressKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            StressKind::Applied => "applied",
+            StressKind::Net => "net",
+        }
+    }
+}
+
+/// Checked arguments.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StatsQuery {
+    pub keys: Vec<Key>,
+    pub since: Option<NaiveDate>,
+    pub until: Option<NaiveDate>,
+    pub rates: bool,
+    pub trend: bool,
+    pub weibull: bool,
+    pub origin_type: Option<String>,
+    pub only: Vec<(Key, String)>,
+    pub stress: StressKind,
+    pub json: bool,
+}
+
+fn parse_date(flag: &str, text: &str) -> Result<NaiveDate, CliError> {
+    NaiveDate::parse_from_str(text.trim(), "%Y-%m-%d").map_err(|_| {
+        CliError::usage(format!(
+            "{flag}: '{}' is not a date; expected YYYY-MM-DD such as 2026-03-14",
+            text.trim()
+        ))
+    })
+}
+
+impl StatsQuery {
+    pub fn from_args(a: &StatsArgs) -> Result<Self, CliError> {
+        let keys = Key::parse_list(&a.by).map_err(|e| CliError::usage(format!("--by: {e}")))?;
+        let since = a
+            .since
+            .as_deref()
+            .map(|s| parse_date("--since", s))
+            .transpose()?;
+        let until = a
+            .until
+            .as_deref()
+            .map(|s| parse_date("--until", s))
+            .transpose()?;
+        if let (Some(s), Some(u)) = (since, until) {
+            if s > u {
+                return Err(CliError::usage(format!(
+                    "--since {s} is after --until {u}; the window would be empty"
+                )));
+            }
+        }
+        if a.origin_type.is_some() && !a.weibull {
+            return Err(CliError::usage(
+                "--origin-type chooses the flaw population of the Weibull fit; add --weibull",
+            ));
+        }
+        let stress = match a.stress.trim().to_ascii_lowercase().as_str() {
+            "applied" => StressKind::Applied,
+            "net" => StressKind::Net,
+            other => {
+                return Err(CliError::usage(format!(
+                    "--stress: '{other}' is not applied or net"
+                )))
+            }
+        };
+        let mut only = Vec::new();
+        for o in &a.only {
+            let (k, v) = o.split_once('=').ok_or_else(|| {
+                CliError::usage(format!(
+                    "--only: '{o}' is not KEY=VALUE, e.g. cause=thermal"
+                ))
+            })?;
+            let key = Key::parse(k).map_err(|e| CliError::usage(format!("--only: {e}")))?;
+            if key.is_time() {
+                return Err(CliError::usage(
+                    "--only: use --since and --until for dates, not month or season",
+                ));
+            }
+            only.push((key, v.trim().to_string()));
+        }
+        Ok(StatsQuery {
+            keys,
+            only,
+            stress,
+            since,
+            until,
+            rates: a.rates,
+            trend: a.trend,
+            weibull: a.weibull,
+            origin_type: a.origin_type.clone(),
+            json: a.json,
+        })
+    }
+
+    /// The window: the flags, else the earliest incident (or exposure) and `today`.
+    pub fn window(
+        &self,
+        incidents: &[IncidentFacts],
+        exposures: &[Exposure],
+        today: NaiveDate,
+    ) -> Result<Window, CliError> {
+        let until = self.until.unwrap_or(today);
+        let since = match self.since {
+            Some(s) => s,
+            None => incidents
+                .iter()
+                .map(|f| f.found)
+                .chain(exposures.iter().map(|e| e.from))
+                .filter(|d| *d <= until)
+                .min()
+                .unwrap_or(until),
+        };
+        Window::new(since, until).map_err(|e| CliError::usage(e.to_string()))
+    }
+}
+
+/// Apply the `--only` filters: incidents must match every one; exposure rows must match the
+/// supplier/product/lot/site ones.
+pub fn apply_only(
+    q: &StatsQuery,
+    incidents: &mut Vec<IncidentFacts>,
+    exposures: &mut Vec<Exposure>,
+) {
+    if q.only.is_empty() {
+        return;
+    }
+    let want: Vec<(Key, crate::fleet::GroupValue)> = q
+        .only
+        .iter()
+        .map(|(k, v)| {
+            let value = if v == crate::fleet::group::NOT_RECORDED {
+                None
+            } else {
+                Some(v.clone())
+            };
+            (*k, crate::fleet::GroupValue::Text(value))
+        })
+        .collect();
+    incidents.retain(|f| want.iter().all(|(k, v)| v.matches(*k, f)));
+    exposures.retain(|e| {
+        q.only.iter().all(|(k, v)| {
+            let field = match k {
+                Key::Supplier => e.supplier.as_deref(),
+                Key::Product => e.product.as_deref(),
+                Key::Lot => e.lot.as_deref(),
+                Key::Site => e.site.as_deref(),
+                _ => return true,
+            };
+            field == Some(v.as_str())
+        })
+    });
+}
+
+/// Everything `stats` computed.
+pub struct StatsResult {
+    pub table: GroupTable,
+    pub trend: Option<Result<Trend, String>>,
+    pub seasonality: Option<Seasonality>,
+    /// Pooled fit over every group (only with --weibull).
+    pub overall_weibull: Option<Result<crate::fleet::WeibullFit, String>>,
+}
+
+/// Compute the statistics (pure).
+pub fn compute(
+    q: &StatsQuery,
+    incidents: &[IncidentFacts],
+    exposures: &[Exposure],
+    window: Window,
+) -> Result<StatsResult, CliError> {
+    let opts = GroupOptions {
+        keys: q.keys.clone(),
+        window,
+        rates: q.rates,
+        weibull: q.weibull,
+        origin_type: q.origin_type.clone(),
+        flag_level: 0.05,
+    };
+    let table = group(incidents, exposures, &opts).map_err(|e| CliError::usage(e.to_string()))?;
+    let (trend_r, season) = if q.trend {
+        let dates: Vec<NaiveDate> = incidents
+            .iter()
+            .map(|f| f.found)
+            .filter(|d| window.contains(*d))
+            .collect();
+        (
+            Some(trend(&dates, exposures, &window).map_err(|e| e.to_string())),
+            Some(seasonality(&dates, exposures, &window)),
+        )
+    } else {
+        (None, None)
+    };
+    let overall_weibull = if q.weibull {
+        let s = crate::fleet::specimens(incidents, &window, q.origin_type.as_deref());
+        Some(crate::fleet::fit(&s).map_err(|e| e.to_string()))
+    } else {
+        None
+    };
+    Ok(StatsResult {
+        table,
+        trend: trend_r,
+        seasonality: season,
+        overall_weibull,
+    })
+}
+
+pub const METHOD_RATE: &str =
+    "exact Poisson (Garwood) 95 % interval; exposure = pane-years in service inside the window";
+pub const METHOD_RATIO: &str = "rate ratio against the rest of the same stratum: exact conditional binomial test and Clopper-Pearson interval";
+pub const METHOD_FLAG: &str =
+    "rate above the rest by a one-sided exact test, Holm-adjusted over the groups compared, 5 % family-wise";
+pub const METHOD_TREND: &str = "Poisson regression of monthly counts on time (IRLS), likelihood-ratio test, quasi-Poisson when over-dispersed";
+pub const METHOD_SEASON: &str =
+    "counts per calendar month against exposure in that month, Pearson chi-square";
+
+fn opt(x: Option<f64>) -> Value {
+    match x {
+        Some(v) if v.is_finite() => json!(v),
+        _ => Value::Null,
+    }
+}
+
+fn pair(a: f64, b: f64) -> Value {
+    json!([opt(Some(a)), opt(Some(b))])
+}
+
+/// JSON output.
+pub fn to_json(q: &StatsQuery, r: &StatsResult) -> Value {
+    let t = &r.table;
+    let groups: Vec<Value> = t
+        .rows
+        .iter()
+        .map(|row| {
+            let mut g = json!({
+                "key": row.key,
+                "count": row.count,
+                "share": row.share,
+            });
+            let m = g.as_object_mut().expect("object literal");
+            if q.rates {
+                m.insert("pane_years".into(), opt(row.rate.map(|r| r.exposure)));
+                m.insert(
+                    "rate_per_1000_pane_years".into(),
+                    opt(row.rate.map(|r| r.rate)),
+                );
+                m.insert(
+                    "rate_ci95".into(),
+                    row.rate
+                        .map_or(Value::Null, |r| pair(r.ci95.low, r.ci95.high)),
+                );
+                m.insert("rate_ratio".into(), opt(row.ratio.map(|r| r.ratio)));
+                m.insert("rest_count".into(), json!(row.ratio.map(|r| r.rest_count)));
+                m.insert(
+                    "rest_pane_years".into(),
+                    opt(row.ratio.map(|r| r.rest_exposure)),
+                );
+                m.insert(
+                    "rate_ratio_ci95".into(),
+                    row.ratio
+                        .map_or(Value::Null, |r| pair(r.ci95.low, r.ci95.high)),
+                );
+                m.insert("p_value".into(), opt(row.ratio.map(|r| r.p_two_sided)));
+                m.insert("p_above".into(), opt(row.ratio.map(|r| r.p_above)));
+                m.insert("p_adjusted".into(), opt(row.p_adjusted));
+                m.insert("flagged".into(), json!(row.flagged));
+            }
+            if q.weibull {
+                m.insert("n_stresses".into(), json!(row.n_stresses));
+                m.insert(
+                    "weibull".into(),
+                    match &row.weibull {
+                        Some(Ok(f)) => fit_json(f),
+                        Some(Err(e)) => json!({ "error": e.to_string() }),
+                        None => Value::Null,
+                    },
+                );
+            }
+            g
+        })
+        .collect();
+    let mut out = json!({
+        "by": q.keys.iter().map(|k| k.name()).collect::<Vec<_>>(),
+        "window": { "since": t.window.since.to_string(), "until": t.window.until.to_string() },
+        "total": t.total,
+        "only": q.only.iter().map(|(k, v)| json!({ "key": k.name(), "value": v })).collect::<Vec<_>>(),
+        "stress": q.stress.name(),
+        "groups": groups,
+    });
+    let m = out.as_object_mut().expect("object literal");
+    let mut methods = serde_json::Map::new();
+    if q.rates {
+        m.insert("total_pane_years".into(), json!(t.total_pane_years));
+        m.insert("groups_compared".into(), json!(t.compared));
+        methods.insert("rate".into(), json!(METHOD_RATE));
+        methods.insert("rate_ratio".into(), json!(METHOD_RATIO));
+        methods.insert("flag".into(), json!(METHOD_FLAG));
+    }
+    if let Some(tr) = &r.trend {
+        methods.insert("trend".into(), json!(METHOD_TREND));
+        m.insert(
+            "trend".into(),
+            match tr {
+                Ok(tr) => json!({
+                    "months": tr.months.iter().map(|mc| json!({
+                        "month": mc.label(), "count": mc.count,
+                        "days": mc.days, "pane_years": mc.pane_years,
+                    })).collect::<Vec<_>>(),
+                    "exposure_basis": tr.basis.name(),
+                    "ratio_per_year": opt(Some(tr.ratio_per_year)),
+                    "ratio_per_year_ci95": pair(tr.ratio_ci95.low, tr.ratio_ci95.high),
+                    "dispersion": tr.dispersion,
+                    "p_value": tr.p_value,
+                    "rising": tr.rising,
+                    "falling": tr.falling,
+                }),
+                Err(e) => json!({ "error": e }),
+            },
+        );
+    }
+    if let Some(s) = &r.seasonality {
+        methods.insert("seasonality".into(), json!(METHOD_SEASON));
+        m.insert(
+            "seasonality".into(),
+            json!({
+                "observed": s.observed,
+                "expected": s.expected,
+                "chi2": s.chi2,
+                "df": s.df,
+                "p_value": s.p_value,
+                "peak_months": s.peak_months,
+            }),
+        );
+    }
+    if let Some(w) = &r.overall_weibull {
+        m.insert(
+            "weibull_all".into(),
+            match w {
+                Ok(f) => fit_json(f),
+                Err(e) => json!({ "error": e }),
+            },
+        );
+        if let Some(t) = &q.origin_type {
+            m.insert("weibull_origin_type".into(), json!(t));
+        }
+    }
+    m.insert("methods".into(), Value::Object(methods));
+    out
+}
+
+fn clean(s: &str) -> String {
+    super::sanitize_for_terminal(s, false)
+}
+
+/// Width of text in terminal cells (CJK and other wide characters count two).
+fn cells(s: &str) -> usize {
+    s.chars()
+        .map(|c| {
+            let u = c as u32;
+            if (0x1100..=0x115F).contains(&u)
+                || (0x2E80..=0xA4CF).contains(&u)
+                || (0xAC00..=0xD7A3).contains(&u)
+                || (0xF900..=0xFAFF).contains(&u)
+                || (0xFF00..=0xFF60).contains(&u)
+                || (0x1F300..=0x1FAFF).contains(&u)
+            {
+                2
+            } else {
+                1
+            }
+        })
+        .sum()
+}
+
+fn pad(s: &str, w: usize) -> String {
+    let n = cells(s);
+    if n >= w {
+        s.to_string()
+    } else {
+        format!("{s}{}", " ".repeat(w - n))
+    }
+}
+
+fn lpad(s: &str, w: usize) -> String {
+    let n = cells(s);
+    if n >= w {
+        s.to_string()
+    } else {
+        format!("{}{s}", " ".repeat(w - n))
+    }
+}
+
+/// A ratio or bound for the table: "∞" when the rest had no events.
+fn fmt_ratio(x: f64) -> String {
+    if x == f64::INFINITY {
+        "∞".to_string()
+    } else {
+        fmt_sig(x, 3)
+    }
+}
+
+/// "p = 0.03" or "p < 0.0001".
+fn p_eq(p: f64) -> String {
+    if p < 0.0001 {
+        "p < 0.0001".to_string()
+    } else {
+        format!("p = {}", fmt_sig(p, 2))
+    }
+}
+
+fn fmt_p(p: f64) -> String {
+    if p < 0.0001 {
+        "<0.0001".to_string()
+    } else {
+        fmt_sig(p, 2)
+    }
+}
+
+/// Lay out rows of cells as columns (first `left` columns left-aligned, the rest right).
+fn columns(header: &[String], rows: &[Vec<String>], left: usize) -> String {
+    let n = header.len();
+    let mut w = vec![0usize; n];
+    for r in std::iter::once(header).chain(rows.iter().map(|r| r.as_slice())) {
+        for (i, c) in r.iter().enumerate().take(n) {
+            w[i] = w[i].max(cells(c));
+        }
+    }
+    let mut s = String::new();
+    for r in std::iter::once(header).chain(rows.iter().map(|r| r.as_slice())) {
+        let line: Vec<String> = r
+            .iter()
+            .enumerate()
+            .take(n)
+            .map(|(i, c)| {
+                if i < left {
+                    pad(c, w[i])
+                } else {
+                    lpad(c, w[i])
+                }
+            })
+            .collect();
+        s.push_str("  ");
+        s.push_str(line.join("  ").trim_end());
+        s.push('\n');
+    }
+    s
+}
+
+/// Plain-text output.
+pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
+    let t = &r.table;
+    let mut s = String::new();
+    let by: Vec<&str> = q.keys.iter().map(|k| k.name()).collect();
+    let only: Vec<String> = q
+        .only
+        .iter()
+        .map(|(k, v)| format!("{}={}", k.name(), clean(v)))
+        .collect();
+    s.push_str(&format!(
+        "Incidents found {} to {}{}: {} (grouped by {})\n\n",
+        t.window.since,
+        t.window.until,
+        if only.is_empty() {
+            String::new()
+        } else {
+            format!(", only {}", only.join(", "))
+        },
+        t.total,
+        by.join(", ")
+    ));
+    if t.rows.is_empty() {
+        s.push_str("  no incidents in the window\n");
+    }
+    let mut header: Vec<String> = by.iter().map(|b| b.to_string()).collect();
+    header.push("count".into());
+    header.push("share".into());
+    let with_rates = q.rates && t.total_pane_years > 0.0;
+    if with_rates {
+        for h in ["pane-yr", "rate", "95 % CI", "vs rest", "95 % CI", "p", ""] {
+            header.push(h.into());
+        }
+    }
+    let rows: Vec<Vec<String>> = t
+        .rows
+        .iter()
+        .map(|row| {
+            let mut c: Vec<String> = row.key.iter().map(|k| clean(k)).collect();
+            c.push(row.count.to_string());
+            c.push(format!("{:.1} %", row.share * 100.0));
+            if with_rates {
+                match row.rate {
+                    Some(rt) => {
+                        c.push(fmt_sig(rt.exposure, 4));
+                        c.push(fmt_sig(rt.rate, 3));
+                        c.push(format!(
+                            "[{}, {}]",
+                            fmt_sig(rt.ci95.low, 3),
+                            fmt_sig(rt.ci95.high, 3)
+                        ));
+                    }
+                    None => {
+                        c.push("no exposure".into());
+                        c.push("—".into());
+                        c.push("".into());
+                    }
+                }
+                match row.ratio {
+                    Some(rr) => {
+                        c.push(if rr.ratio.is_nan() {
+                            "—".to_string()
+                        } else {
+                            format!("{}x", fmt_ratio(rr.ratio))
+                        });
+                        c.push(format!(
+                            "[{}, {}]",
+                            fmt_ratio(rr.ci95.low),
+                            fmt_ratio(rr.ci95.high)
+                        ));
+                        c.push(fmt_p(rr.p_two_sided));
+                        c.push(if row.flagged {
+                            "ABOVE".into()
+                        } else {
+                            "".into()
+                        });
+                    }
+                    None => {
+                        c.extend(["—".to_string(), "".into(), "".into(), "".into()]);
+                    }
+                }
+            }
+            c
+        })
+        .collect();
+    if !t.rows.is_empty() {
+        s.push_str(&columns(&header, &rows, q.keys.len()));
+    }
+    if q.rates {
+        s.push('\n');
+        if t.total_pane_years > 0.0 {
+            s.push_str(&format!(
+                "  rate = incidents per 1,000 pane-years; exposure {} pane-years in the window\n",
+                fmt_sig(t.total_pane_years, 4)
+            ));
+            s.push_str(&format!(
+                "  rates: {METHOD_RATE}\n  vs rest: {METHOD_RATIO}\n"
+            ));
+            if t.compared > 0 {
+                s.push_str(&format!("  ABOVE: {METHOD_FLAG} ({} groups)\n", t.compared));
+            } else {
+                s.push_str(
+                    "  vs rest: not given when no key is supplier, product, lot, site, month or season (every group has the same exposure)\n",
+                );
+            }
+        } else {
+            s.push_str("  rates: no exposure rows (panes in service) in the window, so no rates\n");
+        }
+    }
+    if let Some(tr) = &r.trend {
+        s.push_str("\nIncidents per month\n");
+        match tr {
+            Ok(tr) => {
+                let max = tr.months.iter().map(|m| m.count).max().unwrap_or(0).max(1);
+                for mc in &tr.months {
+                    let bar = "#".repeat(((mc.count as f64 / max as f64) * 40.0).round() as usize);
+                    s.push_str(&format!("  {}  {:>6}  {bar}\n", mc.label(), mc.count));
+                }
+                let verdict = if tr.rising {
+                    "RISING"
+                } else if tr.falling {
+                    "falling"
+                } else {
+                    "no significant trend"
+                };
+                s.push_str(&format!(
+                    "  trend: rate x{} per year (95 % CI [{}, {}]), {}: {verdict}\n",
+                    fmt_sig(tr.ratio_per_year, 3),
+                    fmt_sig(tr.ratio_ci95.low, 3),
+                    fmt_sig(tr.ratio_ci95.high, 3),
+                    p_eq(tr.p_value)
+                ));
+                s.push_str(&format!(
+                    "  method: {METHOD_TREND}; exposure per month in {}; dispersion {}\n",
+                    tr.basis.name(),
+                    fmt_sig(tr.dispersion, 3)
+                ));
+            }
+            Err(e) => s.push_str(&format!("  trend: not estimated: {e}\n")),
+        }
+    }
+    if let Some(se) = &r.seasonality {
+        const NAMES: [&str; 12] = [
+            "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
+        ];
+        s.push_str("\nBy month of year (observed / expected from exposure)\n  ");
+        for (i, n) in NAMES.iter().enumerate() {
+            s.push_str(&format!(
+                "{n} {}/{}{}",
+                se.observed[i],
+                fmt_sig(se.expected[i], 2),
+                if i == 5 {
+                    "\n  "
+                } else if i < 11 {
+                    "  "
+                } else {
+                    "\n"
+                }
+            ));
+        }
+        let peaks: Vec<&str> = se
+            .peak_months
+            .iter()
+            .map(|m| NAMES[(*m - 1) as usize])
+            .collect();
+        s.push_str(&format!(
+            "  seasonality: chi-square {} on {} df, {}{}; peak {}\n  method: {METHOD_SEASON}\n",
+            fmt_sig(se.chi2, 3),
+            se.df,
+            p_eq(se.p_value),
+            if se.p_value < 0.05 {
+                ": months differ"
+            } else {
+                ": no significant pattern"
+            },
+            if peaks.is_empty() || peaks.len() > 3 {
+                "none".to_string()
+            } else {
+                peaks.join(", ")
+            }
+        ));
+    }
+    if q.weibull {
+        s.push_str(&format!(
+            "\nStrength (Weibull fit of back-calculated {} stress at fracture{})\n",
+            q.stress.name(),
+            match &q.origin_type {
+                Some(o) => format!("; origin type '{}', other origins censored", clean(o)),
+                None => String::new(),
+            }
+        ));
+        let mut header: Vec<String> = by.iter().map(|b| b.to_string()).collect();
+        for h in [
+            "stresses", "censored", "m", "95 % CI", "σθ MPa", "95 % CI", "A*",
+        ] {
+            header.push(h.into());
+        }
+        let mut rows = Vec::new();
+        let mut notes = Vec::new();
+        let mut push =
+            |rows: &mut Vec<Vec<String>>,
+             label: Vec<String>,
+             n: usize,
+             w: Option<Result<&crate::fleet::WeibullFit, String>>| {
+                let mut c = label.clone();
+                c.push(n.to_string());
+                match w {
+                    Some(Ok(f)) => {
+                        c.push(f.n_censored.to_string());
+                        c.push(fmt_sig(f.modulus, 3));
+                        c.push(format!(
+                            "[{}, {}]",
+                            fmt_sig(f.modulus_ci95.low, 3),
+                            fmt_sig(f.modulus_ci95.high, 3)
+                        ));
+                        let u = Unit::Megapascal;
+                        c.push(fmt_sig(u.from_si(f.scale), 3));
+                        c.push(format!(
+                            "[{}, {}]",
+                            fmt_sig(u.from_si(f.scale_ci95.low), 3),
+                            fmt_sig(u.from_si(f.scale_ci95.high), 3)
+                        ));
+                        c.push(f.anderson_darling.map_or("—".to_string(), |a| {
+                            format!(
+                                "{}{}",
+                                fmt_sig(a.a2_modified, 2),
+                                if a.rejected_at_5pct { " poor fit" } else { "" }
+                            )
+                        }));
+                    }
+                    Some(Err(e)) => {
+                        c.push("no fit".into());
+                        let who: Vec<&str> = label
+                            .iter()
+                            .map(String::as_str)
+                            .filter(|l| !l.is_empty())
+                            .collect();
+                        notes.push(format!("  no fit for {}: {e}\n", who.join(" / ")));
+                    }
+                    None => c.push("no stresses".into()),
+                }
+                rows.push(c);
+            };
+        for row in &t.rows {
+            let w = row
+                .weibull
+                .as_ref()
+                .map(|r| r.as_ref().map_err(|e| e.to_string()));
+            push(
+                &mut rows,
+                row.key.iter().map(|k| clean(k)).collect(),
+                row.n_stresses,
+                w,
+            );
+        }
+        let mut all_label = vec!["all".to_string()];
+        all_label.resize(q.keys.len(), String::new());
+        let n_all: usize = t.rows.iter().map(|r| r.n_stresses).sum();
+        push(
+            &mut rows,
+            all_label,
+            n_all,
+            r.overall_weibull
+                .as_ref()
+                .map(|w| w.as_ref().map_err(String::clone)),
+        );
+        s.push_str(&columns(&header, &rows, q.keys.len()));
+        for n in &notes {
+            s.push_str(&clean(n.trim_end()));
+            s.push('\n');
+        }
+        if let Some(Ok(f)) = &r.overall_weibull {
+            s.push_str("\n  all groups together:\n");
+            s.push_str(&fit_table(f, Unit::Megapascal, "    "));
+        }
+        s.push_str(&super::weibull::method_notes("  "));
+    }
+    s
+}
+
+/// Render the statistics as the command prints them.
+pub fn render(
+    q: &StatsQuery,
+    incidents: &[IncidentFacts],
+    exposures: &[Exposure],
+    today: NaiveDate,
+) -> Result<String, CliError> {
+    let window = q.window(incidents, exposures, today)?;
+    let r = compute(q, incidents, exposures, window)?;
+    if q.json {
+        serde_json::to_string_pretty(&to_json(q, &r))
+            .map(|s| s + "\n")
+            .map_err(|e| CliError::work(format!("JSON output: {e}")))
+    } else {
+        Ok(to_text(q, &r))
+    }
+}
+
+/// The incidents and exposure rows the statistics need, from the store.
+pub fn load(
+    store: &crate::store::Store,
+    q: &StatsQuery,
+) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
+    let filter = crate::store::Filter {
+        since: q.since,
+        until: q.until,
+        ..Default::default()
+    };
+    let rows = store
+        .fleet_rows(&filter)
+        .map_err(|e| CliError::work(e.to_string()))?;
+    let incidents = rows
+        .into_iter()
+        .map(|r| IncidentFacts {
+            stress_pa: match q.stress {
+                StressKind::Applied => r.applied_stress_pa,
+                StressKind::Net => r.net_stress_pa,
+            },
+            cause: r.cause,
+            origin_type: r.origin_type,
+            supplier: r.supplier,
+            product: r.product,
+            lot: r.lot,
+            site: r.site,
+            asset_type: r.asset_type,
+            temper: r.temper,
+            found: r.found_on,
+        })
+        .collect();
+    let exposures = store
+        .exposure()
+        .map_err(|e| CliError::work(e.to_string()))?
+        .into_iter()
+        .map(|e| Exposure {
+            supplier: Some(e.supplier),
+            product: e.product,
+            lot: e.lot,
+            site: e.site,
+            panes: e.panes as f64,
+            from: e.installed_on,
+            until: e.removed_on,
+        })
+        .collect();
+    Ok((incidents, exposures))
+}
+
+/// Accept an origin-type code or its label ("inclusion_nis" or "inclusion: nickel sulfide
+/// stone"); anything else is a usage error listing the codes.
+fn origin_code(store: &crate::store::Store, given: &str) -> Result<String, CliError> {
+    let list = store
+        .lookups(crate::store::LookupKind::OriginType)
+        .map_err(|e| CliError::work(e.to_string()))?;
+    let g = given.trim();
+    if let Some(e) = list
+        .iter()
+        .find(|e| e.code.eq_ignore_ascii_case(g) || e.label.eq_ignore_ascii_case(g))
+    {
+        return Ok(e.code.clone());
+    }
+    let codes: Vec<&str> = list.iter().map(|e| e.code.as_str()).collect();
+    Err(CliError::usage(format!(
+        "--origin-type: '{g}' is not an origin type; expected one of {}",
+        codes.join(", ")
+    )))
+}
+
+pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let mut q = StatsQuery::from_args(&args)?;
+    let store =
+        crate::store::Store::open_existing(&ctx.db).map_err(|e| CliError::work(e.to_string()))?;
+    if let Some(o) = &q.origin_type {
+        q.origin_type = Some(origin_code(&store, o)?);
+    }
+    let (mut incidents, mut exposures) = load(&store, &q)?;
+    apply_only(&q, &mut incidents, &mut exposures);
+    // The clock is read here, at the edge: the default end of the window is today.
+    let today = chrono::Utc::now().date_naive();
+    let text = render(&q, &incidents, &exposures, today)?;
+    ctx.out.write_all(text.as_bytes())?;
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn d(y: i32, m: u32, day: u32) -> NaiveDate {
+        NaiveDate::from_ymd_opt(y, m, day).unwrap()
+    }
+
+    fn fleet() -> (Vec<IncidentFacts>, Vec<Exposure>) {
+        // invented: two suppliers of 2,000 panes each; "Quarry Glass" has a bad lot
+        let mut inc = Vec::new();
+        for i in 0..40u32 {
+            let (sup, lot, cause, origin, stress) = if i % 4 == 0 {
+                (
+                    "Quarry Glass",
+                    "Q-17",
+                    "inclusion",
+                    "inclusion",
+                    20.0 + i as f64,
+                )
+            } else if i % 2 == 0 {
+                (
+                    "Quarry Glass",
+                    "Q-18",
+                    "thermal stress",
+                    "edge damage from cutting",
+                    30.0 + i as f64,
+                )
+            } else {
+                (
+                    "Meadow Float",
+                    "M-02",
+                    "impact",
+                    "impact site",
+                    60.0 + (i % 7) as f64 * 9.0,
+                )
+            };
+            inc.push(IncidentFacts {
+                supplier: Some(sup.into()),
+                lot: Some(lot.into()),
+                cause: Some(cause.into()),
+                origin_type: Some(origin.into()),
+                found: d(2025, 1 + i % 12, 1 + i % 27),
+                stress_pa: Some(stress * 1e6),
+                ..Default::default()
+            });
+        }
+        let ex = |s: &str, lot: &str, n: f64| Exposure {
+            supplier: Some(s.into()),
+            product: None,
+            lot: Some(lot.into()),
+            site: None,
+            panes: n,
+            from: d(2024, 1, 1),
+            until: None,
+        };
+        (
+            inc,
+            vec![
+                ex("Quarry Glass", "Q-17", 200.0),
+                ex("Quarry Glass", "Q-18", 1800.0),
+                ex("Meadow Float", "M-02", 2000.0),
+            ],
+        )
+    }
+
+    fn query(by: &str) -> StatsQuery {
+        StatsQuery::from_args(&StatsArgs {
+            by: by.into(),
+            since: Some("2025-01-01".into()),
+            until: Some("2025-12-31".into()),
+            rates: true,
+            trend: true,
+            weibull: true,
+            origin_type: None,
+            only: vec![],
+            stress: "applied".into(),
+            json: false,
+        })
+        .unwrap()
+    }
+
+    #[test]
+    fn text_names_methods_and_units() {
+        let (inc, ex) = fleet();
+        let s = render(&query("supplier,lot"), &inc, &ex, d(2026, 1, 1)).unwrap();
+        assert!(
+            s.contains("Incidents found 2025-01-01 to 2025-12-31: 40"),
+            "{s}"
+        );
+        assert!(s.contains("ABOVE"), "{s}");
+        assert!(s.contains("Holm"), "{s}");
+        assert!(s.contains("σθ MPa"), "{s}");
+        assert!(s.contains("Poisson regression"), "{s}");
+        assert!(
+            !s.contains("NaN") && !s.contains("inf]") && !s.contains("inf,"),
+            "{s}"
+        );
+    }
+
+    #[test]
+    fn a_group_alone_in_its_stratum_reads_infinity() {
+        // inclusion breaks happen only on Quarry Glass: against no events elsewhere
+        let (inc, ex) = fleet();
+        let s = render(&query("cause,supplier"), &inc, &ex, d(2026, 1, 1)).unwrap();
+        assert!(s.contains("∞x"), "{s}");
+        assert!(!s.contains("—x"), "{s}");
+        let mut q = query("cause,supplier");
+        q.json = true;
+        let v: Value =
+            serde_json::from_str(&render(&q, &inc, &ex, d(2026, 1, 1)).unwrap()).unwrap();
+        let g = v["groups"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|g| g["key"][0] == "inclusion")
+            .unwrap();
+        // JSON has no infinity: the ratio is null and the rest's count says why
+        assert!(g["rate_ratio"].is_null());
+        assert_eq!(g["rest_count"], 0);
+        assert_eq!(g["flagged"], true);
+    }
+
+    #[test]
+    fn json_groups_have_the_issue_fields() {
+        let (inc, ex) = fleet();
+        let mut q = query("lot");
+        q.json = true;
+        let v: Value =
+            serde_json::from_str(&render(&q, &inc, &ex, d(2026, 1, 1)).unwrap()).unwrap();
+        let g = &v["groups"][0];
+        for f in [
+            "key",
+            "count",
+            "share",
+            "rate_per_1000_pane_years",
+            "rate_ci95",
+            "rate_ratio",
+            "p_value",
+            "weibull",
+        ] {
+            assert!(g.get(f).is_some(), "missing {f}: {g}");
+        }
+        // 20 of 40 on lot M-02 (largest first)
+        assert_eq!(g["key"][0], "M-02");
+        assert_eq!(g["count"], 20);
+        assert!((g["share"].as_f64().unwrap() - 0.5).abs() < 1e-15);
+        // lot Q-17: 10 breaks on 200 panes against 30 on 3,800: flagged
+        let q17 = v["groups"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|g| g["key"][0] == "Q-17")
+            .unwrap();
+        assert_eq!(q17["flagged"], true);
+        assert!(q17["weibull"]["modulus"].as_f64().unwrap() > 0.0);
+    }
+
+    #[test]
+    fn usage_errors() {
+        let a = |by: &str, since: Option<&str>, origin: Option<&str>, weibull: bool| StatsArgs {
+            by: by.into(),
+            since: since.map(String::from),
+            until: Some("2025-12-31".into()),
+            rates: false,
+            trend: false,
+            weibull,
+            origin_type: origin.map(String::from),
+            only: vec![],
+            stress: "applied".into(),
+            json: false,
+        };
+        for args in [
+            a("colour", None, None, false),
+            a("cause,cause", None, None, false),
+            a("cause", Some("2025-13-01"), None, false),
+            a("cause", Some("2026-01-01"), None, false),
+            a("cause", None, Some("inclusion"), false),
+        ] {
+            let e = StatsQuery::from_args(&args).unwrap_err();
+            assert_eq!(e.exit_code(), 2, "{e}");
+        }
+    }
 }

@@ -1,1 +1,22 @@
-//! Fleet statistics: grouping, rates, tests of difference, Weibull. Pure.
+//! Fleet statistics: grouping, rates, tests of difference, trends, Weibull. Pure: numbers and
+//! plain structs in, numbers out; no I/O, no clock (window ends are passed in).
+//!
+//! - [`weibull`]: two-parameter Weibull by maximum likelihood with right-censoring (ASTM C1239).
+//! - [`rates`]: exact Poisson rates, rate ratios against the rest, Holm-adjusted flags.
+//! - [`group`]: counts, shares, rates and fits grouped by one or two keys over a window.
+//! - [`trend`]: incidents per month, Poisson-regression trend test, seasonality.
+//! - [`special`]: incomplete gamma and beta functions and their quantiles.
+
+pub mod group;
+pub mod rates;
+pub mod special;
+pub mod trend;
+pub mod weibull;
+
+pub use group::{
+    group, histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow, GroupTable,
+    GroupValue, IncidentFacts, Key, Window,
+};
+pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
+pub use trend::{monthly_counts, seasonality, trend, MonthCount, Seasonality, Trend};
+pub use weibull::{fit, fit_population, fit_values, Interval, Specimen, WeibullError, WeibullFit};

@@ -15,6 +15,12 @@ use sha2::{Digest, Sha256};
 
 /// The canonical JSON text of any serializable value.
 pub fn canonical<T: Serialize>(value: &T) -> Result<String, serde_json::Error> {
+    direct::to_string(value, false)
+}
+
+/// The same text built through a `serde_json::Value` (the reference the direct writer is
+/// tested against).
+pub fn canonical_via_value<T: Serialize>(value: &T) -> Result<String, serde_json::Error> {
     let v = serde_json::to_value(value)?;
     let mut out = String::with_capacity(512);
     write_value(&v, &mut out);
@@ -26,6 +32,13 @@ pub fn canonical<T: Serialize>(value: &T) -> Result<String, serde_json::Error> {
 /// stored whole in the results table; the image pins it without copying it into every
 /// audit row, while the figures (stress, interval, constants) stay in the image as values.
 pub fn incident_image(inc: &crate::store::model::Incident) -> Result<String, serde_json::Error> {
+    direct::to_string(inc, true)
+}
+
+/// [`incident_image`] built through a `serde_json::Value` (test reference).
+pub fn incident_image_via_value(
+    inc: &crate::store::model::Incident,
+) -> Result<String, serde_json::Error> {
     let mut v = serde_json::to_value(inc)?;
     if let Some(exams) = v.get_mut("examinations").and_then(Value::as_array_mut) {
         for e in exams {
@@ -262,6 +275,41 @@ mod tests {
     }
 
     #[test]
+    fn direct_writer_matches_value_path() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("d.db");
+        crate::store::demo::generate(
+            &path,
+            &crate::store::demo::DemoOptions {
+                incidents: 120,
+                seed: 5,
+            },
+        )
+        .unwrap();
+        let s = crate::store::Store::open_existing(&path).unwrap();
+        let doc = s.export_doc(&crate::store::Filter::default()).unwrap();
+        let mut with_result = 0;
+        for inc in &doc.incidents {
+            assert_eq!(
+                incident_image(inc).unwrap(),
+                incident_image_via_value(inc).unwrap()
+            );
+            assert_eq!(canonical(inc).unwrap(), canonical_via_value(inc).unwrap());
+            with_result += inc.current_result().is_some() as usize;
+        }
+        assert!(with_result > 10);
+        for e in &doc.lookups {
+            assert_eq!(canonical(e).unwrap(), canonical_via_value(e).unwrap());
+        }
+        for e in &doc.exposure {
+            assert_eq!(canonical(e).unwrap(), canonical_via_value(e).unwrap());
+        }
+        let odd = json!({"k": [1.5, -0.0, null, {"z": 1, "a": "\u{7f}\u{1f}"}], "n": u64::MAX});
+        assert_eq!(canonical(&odd).unwrap(), canonical_via_value(&odd).unwrap());
+        assert_eq!(canonical(&f64::NAN).unwrap(), "null");
+    }
+
+    #[test]
     fn audit_hash_depends_on_prev() {
         let row = AuditRow {
             seq: 1,
@@ -282,5 +330,495 @@ mod tests {
             sha256_hex(b""),
             "e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855"
         );
+    }
+}
+
+/// A serde serializer that writes the canonical form directly (no `serde_json::Value` tree
+/// in between). Output is byte-identical to `canonical_value(&serde_json::to_value(x))`;
+/// `tests::direct_writer_matches_value_path` checks that. With `digest_analysis`, a struct
+/// field named `analysis` is written as `"sha256:<hex of its canonical text>"` (the incident
+/// image).
+pub(crate) mod direct {
+    use serde::ser::{self, Serialize};
+    use serde_json::Error;
+
+    pub(crate) fn to_string<T: Serialize + ?Sized>(
+        value: &T,
+        digest_analysis: bool,
+    ) -> Result<String, Error> {
+        let mut out = String::with_capacity(1024);
+        value.serialize(Ser {
+            out: &mut out,
+            digest_analysis,
+        })?;
+        Ok(out)
+    }
+
+    pub(crate) struct Ser<'a> {
+        out: &'a mut String,
+        digest_analysis: bool,
+    }
+
+    fn render<T: Serialize + ?Sized>(v: &T, digest_analysis: bool) -> Result<String, Error> {
+        to_string(v, digest_analysis)
+    }
+
+    pub(crate) struct Seq<'a> {
+        out: &'a mut String,
+        digest_analysis: bool,
+        first: bool,
+        /// for tuple and struct variants: close the wrapping object too
+        close_variant: bool,
+    }
+
+    pub(crate) struct Obj<'a> {
+        out: &'a mut String,
+        digest_analysis: bool,
+        fields: Vec<(String, String)>,
+        pending_key: Option<String>,
+        close_variant: bool,
+    }
+
+    fn finish_obj(out: &mut String, mut fields: Vec<(String, String)>) {
+        fields.sort_by(|a, b| a.0.as_bytes().cmp(b.0.as_bytes()));
+        out.push('{');
+        for (i, (k, v)) in fields.iter().enumerate() {
+            if i > 0 {
+                out.push(',');
+            }
+            super::write_str(k, out);
+            out.push(':');
+            out.push_str(v);
+        }
+        out.push('}');
+    }
+
+    fn open_variant(out: &mut String, variant: &str) {
+        out.push('{');
+        super::write_str(variant, out);
+        out.push(':');
+    }
+
+    impl<'a> ser::Serializer for Ser<'a> {
+        type Ok = ();
+        type Error = Error;
+        type SerializeSeq = Seq<'a>;
+        type SerializeTuple = Seq<'a>;
+        type SerializeTupleStruct = Seq<'a>;
+        type SerializeTupleVariant = Seq<'a>;
+        type SerializeMap = Obj<'a>;
+        type SerializeStruct = Obj<'a>;
+        type SerializeStructVariant = Obj<'a>;
+
+        fn serialize_bool(self, v: bool) -> Result<(), Error> {
+            self.out.push_str(if v { "true" } else { "false" });
+            Ok(())
+        }
+        fn serialize_i8(self, v: i8) -> Result<(), Error> {
+            self.serialize_i64(v as i64)
+        }
+        fn serialize_i16(self, v: i16) -> Result<(), Error> {
+            self.serialize_i64(v as i64)
+        }
+        fn serialize_i32(self, v: i32) -> Result<(), Error> {
+            self.serialize_i64(v as i64)
+        }
+        fn serialize_i64(self, v: i64) -> Result<(), Error> {
+            use std::fmt::Write;
+            let _ = write!(self.out, "{v}");
+            Ok(())
+        }
+        fn serialize_u8(self, v: u8) -> Result<(), Error> {
+            self.serialize_u64(v as u64)
+        }
+        fn serialize_u16(self, v: u16) -> Result<(), Error> {
+            self.serialize_u64(v as u64)
+        }
+        fn serialize_u32(self, v: u32) -> Result<(), Error> {
+            self.serialize_u64(v as u64)
+        }
+        fn serialize_u64(self, v: u64) -> Result<(), Error> {
+            use std::fmt::Write;
+            let _ = write!(self.out, "{v}");
+            Ok(())
+        }
+        fn serialize_f32(self, v: f32) -> Result<(), Error> {
+            self.serialize_f64(v as f64)
+        }
+        fn serialize_f64(self, v: f64) -> Result<(), Error> {
+            // serde_json turns non-finite numbers into null
+            if v.is_finite() {
+                super::write_float(v, self.out);
+            } else {
+                self.out.push_str("null");
+            }
+            Ok(())
+        }
+        fn serialize_char(self, v: char) -> Result<(), Error> {
+            let mut b = [0u8; 4];
+            self.serialize_str(v.encode_utf8(&mut b))
+        }
+        fn serialize_str(self, v: &str) -> Result<(), Error> {
+            super::write_str(v, self.out);
+            Ok(())
+        }
+        fn serialize_bytes(self, v: &[u8]) -> Result<(), Error> {
+            use ser::SerializeSeq;
+            let mut s = self.serialize_seq(Some(v.len()))?;
+            for b in v {
+                s.serialize_element(b)?;
+            }
+            s.end()
+        }
+        fn serialize_none(self) -> Result<(), Error> {
+            self.out.push_str("null");
+            Ok(())
+        }
+        fn serialize_some<T: Serialize + ?Sized>(self, value: &T) -> Result<(), Error> {
+            value.serialize(self)
+        }
+        fn serialize_unit(self) -> Result<(), Error> {
+            self.out.push_str("null");
+            Ok(())
+        }
+        fn serialize_unit_struct(self, _name: &'static str) -> Result<(), Error> {
+            self.serialize_unit()
+        }
+        fn serialize_unit_variant(
+            self,
+            _name: &'static str,
+            _index: u32,
+            variant: &'static str,
+        ) -> Result<(), Error> {
+            self.serialize_str(variant)
+        }
+        fn serialize_newtype_struct<T: Serialize + ?Sized>(
+            self,
+            _name: &'static str,
+            value: &T,
+        ) -> Result<(), Error> {
+            value.serialize(self)
+        }
+        fn serialize_newtype_variant<T: Serialize + ?Sized>(
+            self,
+            _name: &'static str,
+            _index: u32,
+            variant: &'static str,
+            value: &T,
+        ) -> Result<(), Error> {
+            open_variant(self.out, variant);
+            let d = self.digest_analysis;
+            value.serialize(Ser {
+                out: self.out,
+                digest_analysis: d,
+            })?;
+            self.out.push('}');
+            Ok(())
+        }
+        fn serialize_seq(self, _len: Option<usize>) -> Result<Seq<'a>, Error> {
+            self.out.push('[');
+            Ok(Seq {
+                out: self.out,
+                digest_analysis: self.digest_analysis,
+                first: true,
+                close_variant: false,
+            })
+        }
+        fn serialize_tuple(self, len: usize) -> Result<Seq<'a>, Error> {
+            self.serialize_seq(Some(len))
+        }
+        fn serialize_tuple_struct(self, _name: &'static str, len: usize) -> Result<Seq<'a>, Error> {
+            self.serialize_seq(Some(len))
+        }
+        fn serialize_tuple_variant(
+            self,
+            _name: &'static str,
+            _index: u32,
+            variant: &'static str,
+            _len: usize,
+        ) -> Result<Seq<'a>, Error> {
+            open_variant(self.out, variant);
+            self.out.push('[');
+            Ok(Seq {
+                out: self.out,
+                digest_analysis: self.digest_analysis,
+                first: true,
+                close_variant: true,
+            })
+        }
+        fn serialize_map(self, len: Option<usize>) -> Result<Obj<'a>, Error> {
+            Ok(Obj {
+                out: self.out,
+                digest_analysis: self.digest_analysis,
+                fields: Vec::with_capacity(len.unwrap_or(8)),
+                pending_key: None,
+                close_variant: false,
+            })
+        }
+        fn serialize_struct(self, _name: &'static str, len: usize) -> Result<Obj<'a>, Error> {
+            self.serialize_map(Some(len))
+        }
+        fn serialize_struct_variant(
+            self,
+            _name: &'static str,
+            _index: u32,
+            variant: &'static str,
+            len: usize,
+        ) -> Result<Obj<'a>, Error> {
+            open_variant(self.out, variant);
+            Ok(Obj {
+                out: self.out,
+                digest_analysis: self.digest_analysis,
+                fields: Vec::with_capacity(len),
+                pending_key: None,
+                close_variant: true,
+            })
+        }
+    }
+
+    impl Seq<'_> {
+        fn element<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
+            if !self.first {
+                self.out.push(',');
+            }
+            self.first = false;
+            value.serialize(Ser {
+                out: self.out,
+                digest_analysis: self.digest_analysis,
+            })
+        }
+        fn close(self) -> Result<(), Error> {
+            self.out.push(']');
+            if self.close_variant {
+                self.out.push('}');
+            }
+            Ok(())
+        }
+    }
+
+    macro_rules! seq_impl {
+        ($tr:ident, $method:ident) => {
+            impl ser::$tr for Seq<'_> {
+                type Ok = ();
+                type Error = Error;
+                fn $method<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
+                    self.element(value)
+                }
+                fn end(self) -> Result<(), Error> {
+                    self.close()
+                }
+            }
+        };
+    }
+    seq_impl!(SerializeSeq, serialize_element);
+    seq_impl!(SerializeTuple, serialize_element);
+    seq_impl!(SerializeTupleStruct, serialize_field);
+    seq_impl!(SerializeTupleVariant, serialize_field);
+
+    /// Map keys: strings as they are, numbers and booleans as their text (as serde_json).
+    struct KeySer;
+    impl ser::Serializer for KeySer {
+        type Ok = String;
+        type Error = Error;
+        type SerializeSeq = ser::Impossible<String, Error>;
+        type SerializeTuple = ser::Impossible<String, Error>;
+        type SerializeTupleStruct = ser::Impossible<String, Error>;
+        type SerializeTupleVariant = ser::Impossible<String, Error>;
+        type SerializeMap = ser::Impossible<String, Error>;
+        type SerializeStruct = ser::Impossible<String, Error>;
+        type SerializeStructVariant = ser::Impossible<String, Error>;
+        fn serialize_bool(self, v: bool) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_i8(self, v: i8) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_i16(self, v: i16) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_i32(self, v: i32) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_i64(self, v: i64) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_u8(self, v: u8) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_u16(self, v: u16) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_u32(self, v: u32) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_u64(self, v: u64) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_f32(self, _v: f32) -> Result<String, Error> {
+            Err(ser::Error::custom("a float cannot be a map key"))
+        }
+        fn serialize_f64(self, _v: f64) -> Result<String, Error> {
+            Err(ser::Error::custom("a float cannot be a map key"))
+        }
+        fn serialize_char(self, v: char) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_str(self, v: &str) -> Result<String, Error> {
+            Ok(v.to_string())
+        }
+        fn serialize_bytes(self, _v: &[u8]) -> Result<String, Error> {
+            Err(ser::Error::custom("bytes cannot be a map key"))
+        }
+        fn serialize_none(self) -> Result<String, Error> {
+            Err(ser::Error::custom("null cannot be a map key"))
+        }
+        fn serialize_some<T: Serialize + ?Sized>(self, v: &T) -> Result<String, Error> {
+            v.serialize(self)
+        }
+        fn serialize_unit(self) -> Result<String, Error> {
+            Err(ser::Error::custom("null cannot be a map key"))
+        }
+        fn serialize_unit_struct(self, _n: &'static str) -> Result<String, Error> {
+            Err(ser::Error::custom("null cannot be a map key"))
+        }
+        fn serialize_unit_variant(
+            self,
+            _n: &'static str,
+            _i: u32,
+            variant: &'static str,
+        ) -> Result<String, Error> {
+            Ok(variant.to_string())
+        }
+        fn serialize_newtype_struct<T: Serialize + ?Sized>(
+            self,
+            _n: &'static str,
+            v: &T,
+        ) -> Result<String, Error> {
+            v.serialize(self)
+        }
+        fn serialize_newtype_variant<T: Serialize + ?Sized>(
+            self,
+            _n: &'static str,
+            _i: u32,
+            _v: &'static str,
+            _value: &T,
+        ) -> Result<String, Error> {
+            Err(ser::Error::custom("key must be a string"))
+        }
+        fn serialize_seq(self, _l: Option<usize>) -> Result<Self::SerializeSeq, Error> {
+            Err(ser::Error::custom("key must be a string"))
+        }
+        fn serialize_tuple(self, _l: usize) -> Result<Self::SerializeTuple, Error> {
+            Err(ser::Error::custom("key must be a string"))
+        }
+        fn serialize_tuple_struct(
+            self,
+            _n: &'static str,
+            _l: usize,
+        ) -> Result<Self::SerializeTupleStruct, Error> {
+            Err(ser::Error::custom("key must be a string"))
+        }
+        fn serialize_tuple_variant(
+            self,
+            _n: &'static str,
+            _i: u32,
+            _v: &'static str,
+            _l: usize,
+        ) -> Result<Self::SerializeTupleVariant, Error> {
+            Err(ser::Error::custom("key must be a string"))
+        }
+        fn serialize_map(self, _l: Option<usize>) -> Result<Self::SerializeMap, Error> {
+            Err(ser::Error::custom("key must be a string"))
+        }
+        fn serialize_struct(
+            self,
+            _n: &'static str,
+            _l: usize,
+        ) -> Result<Self::SerializeStruct, Error> {
+            Err(ser::Error::custom("key must be a string"))
+        }
+        fn serialize_struct_variant(
+            self,
+            _n: &'static str,
+            _i: u32,
+            _v: &'static str,
+            _l: usize,
+        ) -> Result<Self::SerializeStructVariant, Error> {
+            Err(ser::Error::custom("key must be a string"))
+        }
+    }
+
+    impl Obj<'_> {
+        fn field<T: Serialize + ?Sized>(&mut self, key: String, value: &T) -> Result<(), Error> {
+            let text = if self.digest_analysis && key == "analysis" {
+                let inner = render(value, false)?;
+                let mut s = String::with_capacity(80);
+                super::write_str(
+                    &format!("sha256:{}", super::sha256_hex(inner.as_bytes())),
+                    &mut s,
+                );
+                s
+            } else {
+                render(value, self.digest_analysis)?
+            };
+            self.fields.push((key, text));
+            Ok(())
+        }
+        fn close(self) -> Result<(), Error> {
+            finish_obj(self.out, self.fields);
+            if self.close_variant {
+                self.out.push('}');
+            }
+            Ok(())
+        }
+    }
+
+    impl ser::SerializeMap for Obj<'_> {
+        type Ok = ();
+        type Error = Error;
+        fn serialize_key<T: Serialize + ?Sized>(&mut self, key: &T) -> Result<(), Error> {
+            self.pending_key = Some(key.serialize(KeySer)?);
+            Ok(())
+        }
+        fn serialize_value<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), Error> {
+            let key = self
+                .pending_key
+                .take()
+                .ok_or_else(|| <Error as ser::Error>::custom("map value without a key"))?;
+            self.field(key, value)
+        }
+        fn end(self) -> Result<(), Error> {
+            self.close()
+        }
+    }
+
+    impl ser::SerializeStruct for Obj<'_> {
+        type Ok = ();
+        type Error = Error;
+        fn serialize_field<T: Serialize + ?Sized>(
+            &mut self,
+            key: &'static str,
+            value: &T,
+        ) -> Result<(), Error> {
+            self.field(key.to_string(), value)
+        }
+        fn end(self) -> Result<(), Error> {
+            self.close()
+        }
+    }
+
+    impl ser::SerializeStructVariant for Obj<'_> {
+        type Ok = ();
+        type Error = Error;
+        fn serialize_field<T: Serialize + ?Sized>(
+            &mut self,
+            key: &'static str,
+            value: &T,
+        ) -> Result<(), Error> {
+            self.field(key.to_string(), value)
+        }
+        fn end(self) -> Result<(), Error> {
+            self.close()
+        }
     }
 }

@@ -184,6 +184,9 @@ impl Store {
     }
 
     fn from_conn(conn: Connection, path: Option<PathBuf>, files_dir: Option<PathBuf>) -> Store {
+        // the write path uses a few dozen distinct statements; the default cache (16) would
+        // re-prepare them on every incident
+        conn.set_prepared_statement_cache_capacity(128);
         let seed = std::time::SystemTime::now()
             .duration_since(std::time::UNIX_EPOCH)
             .map(|d| d.as_nanos() as u64)
