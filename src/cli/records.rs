@@ -534,9 +534,15 @@ pub struct VerifyArgs {
     /// Print the report as JSON.
     #[arg(long)]
     pub json: bool,
+    /// Check a dispute bundle folder instead (and compare it with the database if present).
+    #[arg(long, value_name = "DIR")]
+    pub bundle: Option<std::path::PathBuf>,
 }
 
 pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    if let Some(dir) = &args.bundle {
+        return super::report::verify_bundle_cmd(dir, ctx);
+    }
     let s = open(&ctx.db)?;
     let r = s.verify().map_err(work)?;
     if args.json {

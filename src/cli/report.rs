@@ -1,17 +1,213 @@
-//! `shardlog report` and `shardlog dispute` (not built yet).
+//! `shardlog report` (one incident's summary) and `shardlog dispute` (a supplier's bundle).
+
+use std::path::{Path, PathBuf};
 
 use super::{CliError, Context};
+use crate::report::{self, source, summary, Format, Paper};
+use crate::store::Store;
 
 #[derive(Debug, clap::Args)]
-pub struct ReportArgs {}
+pub struct ReportArgs {
+    /// Incident reference (e.g. BR-260314-0001) or key.
+    #[arg(value_name = "REF")]
+    pub reference: String,
+    /// Output format.
+    #[arg(long, value_enum, default_value = "pdf")]
+    pub format: Format,
+    /// Paper size for PDF and for printing the HTML.
+    #[arg(long, value_enum, default_value = "a4")]
+    pub paper: Paper,
+    /// Output file (Markdown and JSON go to standard output without it).
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    pub output: Option<PathBuf>,
+}
 
-pub fn report(_args: ReportArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'report' is not built yet"))
+pub(crate) fn open_store(db: &Path) -> Result<Store, CliError> {
+    Store::open_existing(db).map_err(|e| CliError::work(e.to_string()))
+}
+
+pub(crate) fn now_text() -> String {
+    chrono::Utc::now()
+        .format("%Y-%m-%d %H:%M:%S UTC")
+        .to_string()
+}
+
+/// Write a file through a temporary sibling and a rename, so that an interrupted write
+/// never leaves a half-written file in place of a good one.
+pub(crate) fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
+    let shown = path.display();
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .ok_or_else(|| CliError::usage(format!("--output {shown}: not a file name")))?;
+    let tmp = dir.join(format!(".{name}.partial-{}", std::process::id()));
+    std::fs::write(&tmp, bytes).map_err(|e| CliError::work(format!("{shown}: {e}")))?;
+    std::fs::rename(&tmp, path).map_err(|e| {
+        let _ = std::fs::remove_file(&tmp);
+        CliError::work(format!("{shown}: {e}"))
+    })
+}
+
+pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    if args.output.is_none() && matches!(args.format, Format::Pdf | Format::Html) {
+        return Err(CliError::usage(
+            "--output FILE is needed for PDF and HTML (they are not for the terminal)",
+        ));
+    }
+    let store = open_store(&ctx.db)?;
+    let inc = store
+        .get(&args.reference)
+        .map_err(|e| CliError::work(e.to_string()))?;
+    let labels = source::Labels::load(&store).map_err(|e| CliError::work(e.to_string()))?;
+    let (content, pictures) = source::incident_content(&store, &labels, &inc)
+        .map_err(|e| CliError::work(e.to_string()))?;
+    let head = store
+        .audit_head()
+        .map_err(|e| CliError::work(e.to_string()))?;
+    let proof = summary::proof_for(&content, Some(head), &now_text())
+        .map_err(|e| CliError::work(format!("summary content: {e}")))?;
+    let bytes = summary::render(&content, &proof, &pictures, args.format, args.paper)
+        .map_err(|e| CliError::work(format!("summary content: {e}")))?;
+    match &args.output {
+        Some(path) => {
+            write_atomic(path, &bytes)?;
+            writeln!(
+                ctx.out,
+                "wrote {} ({} bytes); content SHA-256 {}",
+                path.display(),
+                bytes.len(),
+                proof.content_sha256
+            )?;
+        }
+        None => ctx.out.write_all(&bytes)?,
+    }
+    Ok(())
 }
 
 #[derive(Debug, clap::Args)]
-pub struct DisputeArgs {}
+pub struct DisputeArgs {
+    /// Supplier code or name.
+    #[arg(long, value_name = "NAME")]
+    pub supplier: String,
+    /// Only this lot.
+    #[arg(long, value_name = "LOT")]
+    pub lot: Option<String>,
+    /// Incidents found on or after this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE")]
+    pub since: Option<String>,
+    /// Incidents found on or before this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE")]
+    pub until: Option<String>,
+    /// Paper size of the PDFs.
+    #[arg(long, value_enum, default_value = "a4")]
+    pub paper: Paper,
+    /// The bundle folder to create (must not exist, or be empty).
+    #[arg(short = 'o', long = "output", value_name = "DIR")]
+    pub output: PathBuf,
+}
 
-pub fn dispute(_args: DisputeArgs, _ctx: &mut Context<'_>) -> Result<(), CliError> {
-    Err(CliError::work("'dispute' is not built yet"))
+fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>, CliError> {
+    match v {
+        None => Ok(None),
+        Some(t) => chrono::NaiveDate::parse_from_str(t.trim(), "%Y-%m-%d")
+            .map(Some)
+            .map_err(|_| {
+                CliError::usage(format!(
+                    "--{flag} {t}: expected a date as YYYY-MM-DD, e.g. 2027-03-14"
+                ))
+            }),
+    }
+}
+
+fn bundle_err(e: report::bundle::BundleError) -> CliError {
+    match e {
+        report::bundle::BundleError::Usage(m) => CliError::usage(m),
+        other => CliError::work(other.to_string()),
+    }
+}
+
+pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let since = date_flag("since", &args.since)?;
+    let until = date_flag("until", &args.until)?;
+    let store = open_store(&ctx.db)?;
+    let opts = report::bundle::DisputeOptions {
+        supplier: args.supplier.clone(),
+        lot: args.lot.clone(),
+        since,
+        until,
+        paper: args.paper,
+        exported_at: now_text(),
+        today: chrono::Utc::now().date_naive(),
+    };
+    let w = report::bundle::write_bundle(&store, &opts, &args.output).map_err(bundle_err)?;
+    writeln!(
+        ctx.out,
+        "wrote {}: {} incident summaries, {} attachments, {} files",
+        w.dir.display(),
+        w.incidents,
+        w.attachments,
+        w.files
+    )?;
+    writeln!(ctx.out, "content SHA-256     {}", w.content_sha256)?;
+    writeln!(ctx.out, "audit-chain head    {}", w.audit_chain_head)?;
+    writeln!(
+        ctx.out,
+        "check it with: shardlog --db {} verify --bundle {}",
+        ctx.db.display(),
+        w.dir.display()
+    )?;
+    Ok(())
+}
+
+/// `verify --bundle DIR`: the bundle alone, and against the database when there is one.
+pub fn verify_bundle_cmd(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let store = if ctx.db.exists() {
+        Some(open_store(&ctx.db)?)
+    } else {
+        None
+    };
+    let check = report::verify_bundle(dir, store.as_ref()).map_err(bundle_err)?;
+    let shown = super::sanitize_for_terminal(&dir.display().to_string(), false);
+    writeln!(
+        ctx.out,
+        "bundle {shown}: {} incidents, {} files checked{}",
+        check.incidents,
+        check.files_checked,
+        if check.compared_with_records {
+            format!(", compared with the records in {}", ctx.db.display())
+        } else {
+            " (no database: the records were not compared)".to_string()
+        }
+    )?;
+    for n in &check.notes {
+        writeln!(ctx.out, "note: {}", super::sanitize_for_terminal(n, false))?;
+    }
+    if check.ok() {
+        writeln!(
+            ctx.out,
+            "ok: every file matches the bundle's digest{}",
+            if check.compared_with_records {
+                " and the bundle matches the records"
+            } else {
+                ""
+            }
+        )?;
+        return Ok(());
+    }
+    for p in &check.problems {
+        writeln!(
+            ctx.out,
+            "DIFFERS: {}",
+            super::sanitize_for_terminal(p, false)
+        )?;
+    }
+    Err(CliError::work(format!(
+        "the bundle does not verify: {} difference{} (listed above)",
+        check.problems.len(),
+        if check.problems.len() == 1 { "" } else { "s" }
+    )))
 }

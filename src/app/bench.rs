@@ -1,0 +1,528 @@
+//! The bench calculator: mirror readings in, stress and flaw size out, live.
+//!
+//! Every edit rebuilds an [`AnalysisInput`] from the form and calls
+//! [`crate::fracture::analyze`] (the same call the command line and reports make), so the
+//! figures on screen are the core's figures. Flaw sizes for the other geometries come from
+//! the same call with only the geometry changed.
+
+use super::field::{Field, FieldKind, FieldValue};
+use super::form::{Form, FormEvent};
+use super::picklist::{PickItem, PickList};
+use super::{Action, Ctx};
+use crate::fracture::{
+    self, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
+    ConstantOverride, FlawGeometry, Origin, Temper,
+};
+use crate::units::Dimension;
+
+/// Flaw size under one geometry, for the per-geometry table.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GeometryRow {
+    pub label: String,
+    pub y: f64,
+    pub size_m: f64,
+    pub low_m: f64,
+    pub high_m: f64,
+}
+
+/// The thermal hypothesis tried beside the measurement: σ = k·E·α·ΔT (loads::thermal) and
+/// the verdict against the applied stress (loads::verdict).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ThermalCheck {
+    pub delta_t_k: f64,
+    pub restraint: f64,
+    pub stress_pa: f64,
+    pub stress_per_kelvin: f64,
+    pub verdict: Result<crate::loads::verdict::Verdict, String>,
+    pub warnings: Vec<String>,
+}
+
+/// What the calculator shows.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Outcome {
+    /// Nothing typed yet.
+    Waiting,
+    /// The form cannot be used yet: the first refusal, naming the field.
+    Incomplete(String),
+    /// The core refused the input.
+    Refused(String),
+    Done {
+        input: Box<AnalysisInput>,
+        analysis: Box<Analysis>,
+        per_geometry: Vec<GeometryRow>,
+    },
+}
+
+pub struct BenchState {
+    pub form: Form,
+    pub outcome: Outcome,
+    /// The thermal hypothesis, when a ΔT is typed (or why it cannot be evaluated).
+    pub thermal: Option<Result<ThermalCheck, String>>,
+    /// First line of the results pane shown (PgUp/PgDn, mouse wheel).
+    pub scroll: u16,
+    /// The largest useful `scroll`, as the last frame measured it (the view sets it; the
+    /// state only uses it to keep scrolling in range).
+    pub scroll_max: std::cell::Cell<u16>,
+}
+
+impl std::fmt::Debug for BenchState {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("BenchState")
+            .field("outcome", &self.outcome)
+            .finish_non_exhaustive()
+    }
+}
+
+fn readings(key: &'static str, label: &'static str) -> Field {
+    Field::new(
+        key,
+        label,
+        FieldKind::Readings {
+            dim: Dimension::Length,
+        },
+    )
+    .with_hint("one per line, e.g. 1.02 mm")
+}
+
+fn optional_length(key: &'static str, label: &'static str, hint: &'static str) -> Field {
+    Field::new(
+        key,
+        label,
+        FieldKind::Quantity {
+            dim: Dimension::Length,
+            positive: true,
+            optional: true,
+        },
+    )
+    .with_hint(hint)
+}
+
+fn optional_toughness(key: &'static str, label: &'static str) -> Field {
+    Field::new(
+        key,
+        label,
+        FieldKind::Quantity {
+            dim: Dimension::Toughness,
+            positive: true,
+            optional: true,
+        },
+    )
+    .with_hint("library value")
+}
+
+/// The geometries of the per-geometry table (a/t from the thickness where one is given).
+pub fn table_geometries(aspect: f64) -> Vec<FlawGeometry> {
+    vec![
+        FlawGeometry::Semicircular { a_over_t: 0.0 },
+        FlawGeometry::SemiElliptical {
+            a_over_c: aspect,
+            a_over_t: 0.0,
+        },
+        FlawGeometry::EmbeddedPenny,
+        FlawGeometry::EdgeCrack,
+        FlawGeometry::CornerCrack {
+            a_over_c: aspect.min(1.0),
+            a_over_t: 0.0,
+        },
+        FlawGeometry::ThroughCrack,
+    ]
+}
+
+/// Default a/c for the elliptical cases when none is typed.
+pub const DEFAULT_ASPECT: f64 = 0.8;
+
+impl BenchState {
+    pub fn new() -> Self {
+        let mats: Vec<PickItem> = materials::library()
+            .into_iter()
+            .map(|m| PickItem::new(m.key.clone(), format!("{} ({})", m.name, m.key)))
+            .collect();
+        let mut form = Form::default();
+        form.push_pick(
+            PickList::new("material", "Material", mats)
+                .required()
+                .with_choice("soda-lime"),
+        );
+        form.push_field(readings("r_mist", "Mirror–mist R"));
+        form.push_field(readings("r_hackle", "Mist–hackle R"));
+        form.push_field(readings("r_branch", "Branching R"));
+        form.push_pick(
+            PickList::new(
+                "temper",
+                "Temper class",
+                vec![
+                    PickItem::new("", "not stated"),
+                    PickItem::new("annealed", "annealed"),
+                    PickItem::new("heat-strengthened", "heat-strengthened"),
+                    PickItem::new("fully-tempered", "fully tempered"),
+                    PickItem::new("chemically-strengthened", "chemically strengthened"),
+                ],
+            )
+            .with_choice(""),
+        );
+        form.push_field(optional_length("thickness", "Thickness", "e.g. 6 mm"));
+        form.push_pick(
+            PickList::new(
+                "origin",
+                "Origin",
+                vec![
+                    PickItem::new("surface", "surface (or edge, corner)"),
+                    PickItem::new("interior", "interior (tensile core)"),
+                ],
+            )
+            .with_choice("surface"),
+        );
+        form.push_field(
+            Field::new(
+                "delta_t",
+                "Thermal ΔT",
+                FieldKind::Quantity {
+                    dim: Dimension::TemperatureDifference,
+                    positive: true,
+                    optional: true,
+                },
+            )
+            .with_hint("hypothesis, e.g. 30 K"),
+        );
+        form.push_pick(
+            PickList::new(
+                "geometry",
+                "Flaw geometry",
+                vec![
+                    PickItem::new("", "default for the origin"),
+                    PickItem::new("semicircular", "semicircular surface flaw"),
+                    PickItem::new("semi-elliptical", "semi-elliptical surface flaw"),
+                    PickItem::new("penny", "embedded penny crack"),
+                    PickItem::new("edge", "edge crack"),
+                    PickItem::new("corner", "corner crack"),
+                    PickItem::new("through", "through crack"),
+                ],
+            )
+            .with_choice(""),
+        );
+        form.push_field(
+            Field::new("aspect", "Flaw a/c", FieldKind::Number { optional: true })
+                .with_hint("0.8 (elliptical, corner)"),
+        );
+        form.push_field(optional_length(
+            "measured_flaw",
+            "Measured flaw",
+            "depth if seen, e.g. 90 µm",
+        ));
+        form.push_field(
+            Field::new(
+                "surface_compression",
+                "Surface compr.",
+                FieldKind::Quantity {
+                    dim: Dimension::Stress,
+                    positive: false,
+                    optional: true,
+                },
+            )
+            .with_hint("measured, e.g. 95 MPa"),
+        );
+        form.push_field(optional_length("layer_depth", "Layer depth", "e.g. 1.2 mm"));
+
+        form.push_field(optional_toughness("a_i", "A_i (own)"));
+        form.push_field(optional_toughness("a_o", "A_o (own)"));
+        form.push_field(optional_toughness("a_b", "A_b (own)"));
+        form.push_field(optional_toughness("k_ic", "K_Ic (own)"));
+        form.mark_clean();
+        let mut b = BenchState {
+            form,
+            outcome: Outcome::Waiting,
+            thermal: None,
+            scroll: 0,
+            scroll_max: std::cell::Cell::new(u16::MAX),
+        };
+        b.recompute();
+        b
+    }
+
+    pub fn ctx(&self) -> Ctx {
+        self.form.ctx()
+    }
+
+    pub fn update(&mut self, action: Action) {
+        match action {
+            Action::PageDown | Action::ScrollDown => {
+                let step = if action == Action::PageDown { 8 } else { 2 };
+                self.scroll = self.scroll.saturating_add(step).min(self.scroll_max.get());
+            }
+            Action::PageUp | Action::ScrollUp => {
+                let step = if action == Action::PageUp { 8 } else { 2 };
+                self.scroll = self.scroll.saturating_sub(step);
+            }
+            other => {
+                let ev = self.form.update(other);
+                if ev == FormEvent::Changed {
+                    self.recompute();
+                }
+            }
+        }
+    }
+
+    /// Rebuild the input from the form and run the core.
+    pub fn recompute(&mut self) {
+        self.outcome = match self.input() {
+            Ok(None) => Outcome::Waiting,
+            Ok(Some(input)) => match fracture::analyze(&input) {
+                Ok(analysis) => {
+                    let per_geometry = per_geometry(&input, self.aspect());
+                    Outcome::Done {
+                        input: Box::new(input),
+                        analysis: Box::new(analysis),
+                        per_geometry,
+                    }
+                }
+                Err(e) => Outcome::Refused(e.to_string()),
+            },
+            Err(e) => Outcome::Incomplete(e),
+        };
+        self.thermal = self.thermal_check();
+    }
+
+    /// Thermal edge stress for the typed ΔT with the material's E and α (restraint 1, a
+    /// fully restrained edge strip), judged against the applied stress and its interval.
+    fn thermal_check(&self) -> Option<Result<ThermalCheck, String>> {
+        let dt = match self.opt_quantity("delta_t") {
+            Ok(Some(dt)) => dt,
+            Ok(None) => return None,
+            Err(e) => return Some(Err(e)),
+        };
+        let material = materials::find(&self.form.text("material"))?;
+        let (Some(e), Some(a)) = (&material.youngs_modulus, &material.expansion) else {
+            return Some(Err(format!(
+                "{} has no Young's modulus or expansion coefficient in the library",
+                material.name
+            )));
+        };
+        let input = crate::loads::thermal::Thermal {
+            youngs_modulus: e.value,
+            expansion: a.value,
+            delta_t: dt,
+            restraint: 1.0,
+        };
+        let r = match crate::loads::thermal::edge_stress(&input) {
+            Ok(r) => r,
+            Err(e) => return Some(Err(e.to_string())),
+        };
+        let verdict = match &self.outcome {
+            Outcome::Done { analysis, .. } => crate::loads::verdict::judge(
+                &crate::loads::verdict::Measured {
+                    stress: analysis.applied_stress_pa,
+                    low: analysis.applied_low_pa,
+                    high: analysis.applied_high_pa,
+                },
+                r.stress,
+                None,
+            )
+            .map_err(|e| e.to_string()),
+            _ => Err("no measured stress yet".to_string()),
+        };
+        Some(Ok(ThermalCheck {
+            delta_t_k: dt,
+            restraint: 1.0,
+            stress_pa: r.stress,
+            stress_per_kelvin: r.stress_per_kelvin,
+            verdict,
+            warnings: r.warnings.iter().map(|w| w.message.clone()).collect(),
+        }))
+    }
+
+    fn aspect(&self) -> f64 {
+        match self.form.field("aspect").map(|f| f.value()) {
+            Some(Ok(FieldValue::Number(x))) if x > 0.0 && x <= 2.0 => x,
+            _ => DEFAULT_ASPECT,
+        }
+    }
+
+    fn opt_quantity(&self, key: &str) -> Result<Option<f64>, String> {
+        match self.form.field(key).map(|f| f.value()) {
+            Some(Ok(FieldValue::Quantity(q))) => Ok(Some(q)),
+            Some(Ok(_)) | None => Ok(None),
+            Some(Err(e)) => Err(e),
+        }
+    }
+
+    /// The analysis input the form describes; `Ok(None)` when no reading is typed yet.
+    pub fn input(&self) -> Result<Option<AnalysisInput>, String> {
+        let key = self.form.text("material");
+        let material =
+            materials::find(&key).ok_or_else(|| "Material: pick one from the list".to_string())?;
+        let mut input = AnalysisInput::new(material);
+        for (k, boundary) in [
+            ("r_mist", Boundary::MirrorMist),
+            ("r_hackle", Boundary::MistHackle),
+            ("r_branch", Boundary::Branching),
+        ] {
+            let Some(f) = self.form.field(k) else {
+                continue;
+            };
+            match f.value()? {
+                FieldValue::Readings(r) => input.readings.push(BoundaryReadings {
+                    boundary,
+                    radii_m: r,
+                }),
+                _ => continue,
+            }
+        }
+        if input.readings.is_empty() {
+            // show the refusals of the other fields even before the first reading
+            if let Some((_, e)) = self.form.first_error() {
+                return Err(e);
+            }
+            return Ok(None);
+        }
+        input.temper = match self.form.text("temper").as_str() {
+            "annealed" => Some(Temper::Annealed),
+            "heat-strengthened" => Some(Temper::HeatStrengthened),
+            "fully-tempered" => Some(Temper::FullyTempered),
+            "chemically-strengthened" => Some(Temper::ChemicallyStrengthened),
+            _ => None,
+        };
+        input.origin = match self.form.text("origin").as_str() {
+            "interior" => Origin::Interior,
+            _ => Origin::Surface,
+        };
+        input.thickness_m = self.opt_quantity("thickness")?;
+        input.measured_flaw_m = self.opt_quantity("measured_flaw")?;
+        input.surface_compression_pa = self.opt_quantity("surface_compression")?;
+        input.layer_depth_m = self.opt_quantity("layer_depth")?;
+        if let Some(f) = self.form.field("aspect") {
+            f.value()?;
+        }
+        let aspect = self.aspect();
+        input.flaw = match self.form.text("geometry").as_str() {
+            "semicircular" => Some(FlawGeometry::Semicircular { a_over_t: 0.0 }),
+            "semi-elliptical" => Some(FlawGeometry::SemiElliptical {
+                a_over_c: aspect,
+                a_over_t: 0.0,
+            }),
+            "penny" => Some(FlawGeometry::EmbeddedPenny),
+            "edge" => Some(FlawGeometry::EdgeCrack),
+            "corner" => Some(FlawGeometry::CornerCrack {
+                a_over_c: aspect.min(1.0),
+                a_over_t: 0.0,
+            }),
+            "through" => Some(FlawGeometry::ThroughCrack),
+            _ => None,
+        };
+        for (k, boundary) in [
+            ("a_i", Boundary::MirrorMist),
+            ("a_o", Boundary::MistHackle),
+            ("a_b", Boundary::Branching),
+        ] {
+            if let Some(v) = self.opt_quantity(k)? {
+                input.constant_overrides.push(ConstantOverride {
+                    boundary,
+                    constant: Constant::user(v, "typed at the bench"),
+                });
+            }
+        }
+        if let Some(v) = self.opt_quantity("k_ic")? {
+            input.toughness_override = Some(Constant::user(v, "typed at the bench"));
+        }
+        Ok(Some(input))
+    }
+
+    /// Fill the form from an incident: material, temper, thickness, origin and the readings
+    /// of its latest examination that has any.
+    pub fn prefill(&mut self, inc: &crate::store::model::Incident) {
+        let ply = inc.glass.plies.first();
+        let exam = inc
+            .examinations
+            .iter()
+            .rev()
+            .find(|e| !e.readings.is_empty());
+        let material = exam
+            .and_then(|e| e.material.clone())
+            .or_else(|| ply.and_then(|p| p.material.clone()))
+            .map(|m| m.replace('_', "-"));
+        if let (Some(m), Some(p)) = (material, self.form.pick_mut("material")) {
+            if materials::find(&m).is_some() {
+                p.choose_code(&m);
+            }
+        }
+        if let (Some(t), Some(p)) = (
+            ply.and_then(|p| p.temper.clone()),
+            self.form.pick_mut("temper"),
+        ) {
+            p.choose_code(&t.replace('_', "-"));
+        }
+        if let (Some(t), Some(f)) = (
+            ply.and_then(|p| p.thickness_m),
+            self.form.field_mut("thickness"),
+        ) {
+            f.set_text(&crate::units::format(t, crate::units::Unit::Millimetre));
+        }
+        if inc.pattern.origin_location.as_deref() == Some("interior") {
+            if let Some(p) = self.form.pick_mut("origin") {
+                p.choose_code("interior");
+            }
+        }
+        if let Some(e) = exam {
+            for (code, key) in [
+                ("mirror_mist", "r_mist"),
+                ("mist_hackle", "r_hackle"),
+                ("branching", "r_branch"),
+            ] {
+                let lines: Vec<String> = e
+                    .readings
+                    .iter()
+                    .filter(|r| r.boundary == code)
+                    .map(|r| r.radius.display())
+                    .collect();
+                if let Some(f) = self.form.field_mut(key) {
+                    f.set_text(&lines.join("\n"));
+                }
+            }
+            if let (Some(d), Some(f)) = (
+                e.flaw.as_ref().and_then(|f| f.depth.as_ref()),
+                self.form.field_mut("measured_flaw"),
+            ) {
+                f.set_text(&d.display());
+            }
+        }
+        self.recompute();
+    }
+
+    /// Put readings back into the form (when an incident's saved readings are opened).
+    pub fn set_readings(&mut self, boundary: Boundary, lines: &[String]) {
+        let key = match boundary {
+            Boundary::MirrorMist => "r_mist",
+            Boundary::MistHackle => "r_hackle",
+            Boundary::Branching => "r_branch",
+        };
+        if let Some(f) = self.form.field_mut(key) {
+            f.set_text(&lines.join("\n"));
+        }
+        self.recompute();
+    }
+}
+
+/// Flaw size for each geometry of the table, each from the core's own analysis.
+fn per_geometry(input: &AnalysisInput, aspect: f64) -> Vec<GeometryRow> {
+    table_geometries(aspect)
+        .into_iter()
+        .filter_map(|g| {
+            let mut i = input.clone();
+            i.flaw = Some(g);
+            let a = fracture::analyze(&i).ok()?;
+            let f = a.flaw?;
+            Some(GeometryRow {
+                label: f.geometry_label,
+                y: f.factor.y,
+                size_m: f.size_m,
+                low_m: f.size_low_m,
+                high_m: f.size_high_m,
+            })
+        })
+        .collect()
+}
+
+impl Default for BenchState {
+    fn default() -> Self {
+        Self::new()
+    }
+}

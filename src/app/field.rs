@@ -1,0 +1,404 @@
+//! One form field: a ratatui-textarea input with live validation.
+//!
+//! The field keeps what the user typed exactly as typed (so nothing is lost when it does not
+//! parse) and, after every edit, the reason it is refused, which the screen shows beside it.
+
+use ratatui::style::{Modifier, Style};
+use ratatui_textarea::{CursorMove, Input, Key, TextArea};
+
+use crate::units::{self, Dimension};
+
+/// What a field accepts. Validation uses `shardlog::units` for every quantity.
+#[derive(Debug, Clone, PartialEq)]
+pub enum FieldKind {
+    /// Free text; `required` refuses an empty value.
+    Text { required: bool },
+    /// A quantity with a unit; must be > 0 when `positive`, may be empty when `optional`.
+    Quantity {
+        dim: Dimension,
+        positive: bool,
+        optional: bool,
+    },
+    /// A signed quantity (e.g. a residual stress, compression negative).
+    SignedQuantity { dim: Dimension, optional: bool },
+    /// Several positive quantities, one per line (mirror readings).
+    Readings { dim: Dimension },
+    /// A date, YYYY-MM-DD.
+    Date { optional: bool },
+    /// A whole number ≥ 0.
+    Count { optional: bool },
+    /// A plain positive number without unit (a ratio such as a/c).
+    Number { optional: bool },
+    /// A signed number without unit (a temperature in °C); "−" is read as a minus sign.
+    Float { optional: bool },
+    /// A date and time, "YYYY-MM-DD HH:MM" (UTC).
+    DateTime { optional: bool },
+}
+
+/// A validated field value (SI for quantities).
+#[derive(Debug, Clone, PartialEq)]
+pub enum FieldValue {
+    Empty,
+    Text(String),
+    Quantity(f64),
+    Readings(Vec<f64>),
+    Date(chrono::NaiveDate),
+    Count(u64),
+    Number(f64),
+    DateTime(chrono::DateTime<chrono::Utc>),
+}
+
+/// A labelled input with its validation state.
+pub struct Field {
+    pub key: &'static str,
+    pub label: &'static str,
+    pub kind: FieldKind,
+    pub hint: &'static str,
+    area: TextArea<'static>,
+    error: Option<String>,
+    dirty: bool,
+}
+
+impl std::fmt::Debug for Field {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("Field")
+            .field("key", &self.key)
+            .field("text", &self.text())
+            .field("error", &self.error)
+            .finish()
+    }
+}
+
+impl Field {
+    pub fn new(key: &'static str, label: &'static str, kind: FieldKind) -> Self {
+        let mut area = TextArea::default();
+        area.set_cursor_line_style(Style::default());
+        area.set_cursor_style(Style::default().add_modifier(Modifier::REVERSED));
+        let mut f = Field {
+            key,
+            label,
+            kind,
+            hint: "",
+            area,
+            error: None,
+            dirty: false,
+        };
+        f.revalidate();
+        f
+    }
+
+    pub fn with_hint(mut self, hint: &'static str) -> Self {
+        self.hint = hint;
+        self.area.set_placeholder_text(hint);
+        self
+    }
+
+    pub fn with_text(mut self, text: &str) -> Self {
+        self.set_text(text);
+        self.dirty = false;
+        self
+    }
+
+    /// Whether this field takes several lines (Enter adds a line instead of moving on).
+    pub fn multi_line(&self) -> bool {
+        matches!(self.kind, FieldKind::Readings { .. })
+    }
+
+    /// Replace the contents (user text is stripped of control sequences first).
+    pub fn set_text(&mut self, text: &str) {
+        let clean = crate::cli::sanitize_for_terminal(text, self.multi_line());
+        let lines: Vec<String> = clean.lines().map(str::to_string).collect();
+        let mut area = TextArea::new(lines);
+        area.set_cursor_line_style(self.area.cursor_line_style());
+        area.set_cursor_style(self.area.cursor_style());
+        if !self.hint.is_empty() {
+            area.set_placeholder_text(self.hint);
+        }
+        area.move_cursor(CursorMove::Bottom);
+        area.move_cursor(CursorMove::End);
+        self.area = area;
+        self.dirty = true;
+        self.revalidate();
+    }
+
+    /// The text as typed (lines joined with '\n').
+    pub fn text(&self) -> String {
+        self.area.lines().join("\n")
+    }
+
+    pub fn lines(&self) -> &[String] {
+        self.area.lines()
+    }
+
+    pub fn textarea(&self) -> &TextArea<'static> {
+        &self.area
+    }
+
+    pub fn error(&self) -> Option<&str> {
+        self.error.as_deref()
+    }
+
+    pub fn is_valid(&self) -> bool {
+        self.error.is_none()
+    }
+
+    pub fn is_dirty(&self) -> bool {
+        self.dirty
+    }
+
+    pub fn mark_clean(&mut self) {
+        self.dirty = false;
+    }
+
+    /// Feed one key. Returns true when the text changed. Control characters and escape
+    /// sequences never reach the text: only printable characters are inserted.
+    pub fn input(&mut self, input: Input) -> bool {
+        let input = match input.key {
+            Key::Enter if !self.multi_line() => return false,
+            Key::Tab | Key::Esc => return false,
+            Key::Char(c) if c.is_control() => return false,
+            _ => input,
+        };
+        let changed = self.area.input(input);
+        if changed {
+            self.dirty = true;
+            self.revalidate();
+        }
+        changed
+    }
+
+    /// Insert pasted text, dropping control characters.
+    pub fn paste(&mut self, text: &str) {
+        let clean = crate::cli::sanitize_for_terminal(text, self.multi_line());
+        if self.area.insert_str(clean) {
+            self.dirty = true;
+            self.revalidate();
+        }
+    }
+
+    fn revalidate(&mut self) {
+        self.error = validate(&self.kind, &self.text()).err();
+    }
+
+    /// The parsed value, or the reason it is refused (with the field's label).
+    pub fn value(&self) -> Result<FieldValue, String> {
+        validate(&self.kind, &self.text()).map_err(|e| format!("{}: {e}", self.label))
+    }
+
+    /// SI value of a quantity field, None when empty or invalid.
+    pub fn quantity(&self) -> Option<f64> {
+        match self.value() {
+            Ok(FieldValue::Quantity(q)) => Some(q),
+            _ => None,
+        }
+    }
+
+    /// Readings of a readings field that parse; invalid lines are left out (their reason is
+    /// in `error()`).
+    pub fn readings(&self) -> Vec<f64> {
+        let FieldKind::Readings { dim } = self.kind else {
+            return Vec::new();
+        };
+        self.lines()
+            .iter()
+            .filter(|l| !l.trim().is_empty())
+            .filter_map(|l| units::parse_positive(l, dim).ok())
+            .collect()
+    }
+}
+
+/// Whether line `row` of a readings field is refused.
+pub fn line_error(f: &Field, row: usize) -> bool {
+    let FieldKind::Readings { dim } = f.kind else {
+        return false;
+    };
+    f.lines()
+        .get(row)
+        .is_some_and(|l| !l.trim().is_empty() && units::parse_positive(l, dim).is_err())
+}
+
+/// Validate `text` against `kind`.
+pub fn validate(kind: &FieldKind, text: &str) -> Result<FieldValue, String> {
+    let t = text.trim();
+    match kind {
+        FieldKind::Text { required } => {
+            if t.is_empty() {
+                if *required {
+                    Err("required".to_string())
+                } else {
+                    Ok(FieldValue::Empty)
+                }
+            } else {
+                Ok(FieldValue::Text(t.to_string()))
+            }
+        }
+        FieldKind::Quantity {
+            dim,
+            positive,
+            optional,
+        } => {
+            if t.is_empty() && *optional {
+                return Ok(FieldValue::Empty);
+            }
+            let r = if *positive {
+                units::parse_positive(t, *dim)
+            } else {
+                units::parse_non_negative(t, *dim)
+            };
+            r.map(FieldValue::Quantity).map_err(|e| e.to_string())
+        }
+        FieldKind::SignedQuantity { dim, optional } => {
+            if t.is_empty() && *optional {
+                return Ok(FieldValue::Empty);
+            }
+            units::parse(t, *dim)
+                .map(FieldValue::Quantity)
+                .map_err(|e| e.to_string())
+        }
+        FieldKind::Readings { dim } => {
+            let mut out = Vec::new();
+            for (i, line) in text.lines().enumerate() {
+                if line.trim().is_empty() {
+                    continue;
+                }
+                match units::parse_positive(line, *dim) {
+                    Ok(v) => out.push(v),
+                    Err(e) => return Err(format!("line {}: {e}", i + 1)),
+                }
+            }
+            if out.is_empty() {
+                Ok(FieldValue::Empty)
+            } else {
+                Ok(FieldValue::Readings(out))
+            }
+        }
+        FieldKind::Date { optional } => {
+            if t.is_empty() {
+                return if *optional {
+                    Ok(FieldValue::Empty)
+                } else {
+                    Err("required; expected a date such as 2027-03-14".to_string())
+                };
+            }
+            chrono::NaiveDate::parse_from_str(t, "%Y-%m-%d")
+                .map(FieldValue::Date)
+                .map_err(|_| format!("'{t}' is not a date; expected YYYY-MM-DD such as 2027-03-14"))
+        }
+        FieldKind::Number { optional } => {
+            if t.is_empty() && *optional {
+                return Ok(FieldValue::Empty);
+            }
+            match units::parse_number(t) {
+                Ok(x) if x > 0.0 => Ok(FieldValue::Number(x)),
+                Ok(_) => Err(format!("'{t}' must be greater than zero")),
+                Err(e) => Err(e.to_string()),
+            }
+        }
+        FieldKind::Float { optional } => {
+            if t.is_empty() && *optional {
+                return Ok(FieldValue::Empty);
+            }
+            units::parse_number(&t.replace('−', "-"))
+                .map(FieldValue::Number)
+                .map_err(|e| e.to_string())
+        }
+        FieldKind::DateTime { optional } => {
+            if t.is_empty() {
+                return if *optional {
+                    Ok(FieldValue::Empty)
+                } else {
+                    Err("required; expected a time such as 2027-03-14 09:10".to_string())
+                };
+            }
+            chrono::NaiveDateTime::parse_from_str(t, "%Y-%m-%d %H:%M")
+                .map(|d| FieldValue::DateTime(d.and_utc()))
+                .map_err(|_| {
+                    format!(
+                        "'{t}' is not a time; expected YYYY-MM-DD HH:MM such as 2027-03-14 09:10"
+                    )
+                })
+        }
+        FieldKind::Count { optional } => {
+            if t.is_empty() && *optional {
+                return Ok(FieldValue::Empty);
+            }
+            t.parse::<u64>()
+                .map(FieldValue::Count)
+                .map_err(|_| format!("'{t}' is not a whole number; expected e.g. 40"))
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn typed(f: &mut Field, s: &str) {
+        for c in s.chars() {
+            f.input(Input {
+                key: Key::Char(c),
+                ..Default::default()
+            });
+        }
+    }
+
+    #[test]
+    fn quantity_validates_as_typed() {
+        let mut f = Field::new(
+            "t",
+            "Thickness",
+            FieldKind::Quantity {
+                dim: Dimension::Length,
+                positive: true,
+                optional: false,
+            },
+        );
+        assert!(f.error().is_some());
+        typed(&mut f, "6");
+        assert!(f.error().unwrap().contains("no unit"), "{:?}", f.error());
+        typed(&mut f, " mm");
+        assert_eq!(f.error(), None);
+        assert!((f.quantity().unwrap() - 0.006).abs() < 1e-12);
+    }
+
+    #[test]
+    fn readings_name_the_bad_line() {
+        let mut f = Field::new(
+            "r",
+            "Mirror–mist radii",
+            FieldKind::Readings {
+                dim: Dimension::Length,
+            },
+        );
+        f.set_text("1.0 mm\n1,1 mm\n0.9mm");
+        let e = f.error().unwrap();
+        assert!(e.starts_with("line 2:"), "{e}");
+        assert!(e.contains("decimal comma"), "{e}");
+        assert_eq!(f.readings().len(), 2);
+    }
+
+    #[test]
+    fn control_characters_never_enter() {
+        let mut f = Field::new("n", "Note", FieldKind::Text { required: false });
+        f.paste("a\u{1b}[31mb\u{7}c");
+        assert_eq!(f.text(), "abc");
+        f.input(Input {
+            key: Key::Char('\u{1b}'),
+            ..Default::default()
+        });
+        assert_eq!(f.text(), "abc");
+    }
+
+    #[test]
+    fn dates() {
+        assert!(validate(&FieldKind::Date { optional: false }, "2027-02-30").is_err());
+        assert_eq!(
+            validate(&FieldKind::Date { optional: true }, ""),
+            Ok(FieldValue::Empty)
+        );
+        assert!(matches!(
+            validate(&FieldKind::Date { optional: false }, "2027-03-14"),
+            Ok(FieldValue::Date(_))
+        ));
+    }
+}

@@ -1,0 +1,734 @@
+//! One incident: its sections, and the forms that edit them. A form is built from the
+//! incident as loaded (its revision is kept) and applied back onto a copy of it; the store's
+//! revision check refuses the save if the record changed meanwhile.
+
+use std::collections::HashMap;
+
+use super::field::{Field, FieldKind, FieldValue};
+use super::form::Form;
+use super::picklist::{PickItem, PickList};
+use crate::store::model::{
+    Cause, CustodyEntry, Examination, FlawMeasurement, HistoryEntry, Incident, LookupKind,
+    Measured, Ply,
+};
+use crate::units::{self, Dimension, Unit};
+
+/// The sections of one incident, in the order Tab visits them.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Section {
+    Intake,
+    Glass,
+    Pattern,
+    Examination,
+    Cause,
+    Evidence,
+    History,
+}
+
+impl Section {
+    pub const ALL: [Section; 7] = [
+        Section::Intake,
+        Section::Glass,
+        Section::Pattern,
+        Section::Examination,
+        Section::Cause,
+        Section::Evidence,
+        Section::History,
+    ];
+
+    pub fn title(self) -> &'static str {
+        match self {
+            Section::Intake => "Intake",
+            Section::Glass => "Glass",
+            Section::Pattern => "Pattern",
+            Section::Examination => "Examination",
+            Section::Cause => "Cause",
+            Section::Evidence => "Evidence",
+            Section::History => "History",
+        }
+    }
+
+    pub fn next(self) -> Section {
+        let i = Section::ALL.iter().position(|s| *s == self).unwrap_or(0);
+        Section::ALL[(i + 1) % Section::ALL.len()]
+    }
+
+    pub fn prev(self) -> Section {
+        let i = Section::ALL.iter().position(|s| *s == self).unwrap_or(0);
+        Section::ALL[(i + Section::ALL.len() - 1) % Section::ALL.len()]
+    }
+
+    /// Whether `e` edits this section.
+    pub fn editable(self) -> bool {
+        !matches!(self, Section::Evidence | Section::History)
+    }
+}
+
+/// An incident on screen.
+#[derive(Debug)]
+pub struct IncidentState {
+    pub incident: Incident,
+    /// Newest first.
+    pub history: Vec<HistoryEntry>,
+    pub section: Section,
+    pub scroll: u16,
+    /// The largest useful `scroll` for the section shown, as the last frame measured it.
+    pub scroll_max: std::cell::Cell<u16>,
+}
+
+/// What a form edits.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum EditKind {
+    /// A new incident (intake and glass).
+    New,
+    Section(Section),
+    Custody,
+    Attach,
+    /// The log's filters (no incident).
+    Filter,
+}
+
+/// A form open over an incident (or a new one).
+#[derive(Debug)]
+pub struct EditState {
+    pub kind: EditKind,
+    pub form: Form,
+    /// The incident as loaded: its revision is what the save is checked against.
+    pub base: Option<Incident>,
+    /// The last save was refused because the record changed meanwhile.
+    pub conflict: bool,
+}
+
+impl EditState {
+    pub fn title(&self) -> String {
+        let r = self
+            .base
+            .as_ref()
+            .map(|b| b.reference.clone())
+            .unwrap_or_default();
+        match self.kind {
+            EditKind::New => "New incident".to_string(),
+            EditKind::Section(s) => format!("Edit {} · {r}", s.title().to_lowercase()),
+            EditKind::Custody => format!("Add custody entry · {r}"),
+            EditKind::Attach => format!("Attach a file · {r}"),
+            EditKind::Filter => "Filter the log".to_string(),
+        }
+    }
+}
+
+/// Pick-list contents loaded from the store when the interface opens (small tables).
+#[derive(Debug, Default, Clone)]
+pub struct Lists {
+    pub lookups: HashMap<String, Vec<PickItem>>,
+    pub suppliers: Vec<PickItem>,
+    pub products: Vec<PickItem>,
+    pub lots: Vec<PickItem>,
+    pub sites: Vec<PickItem>,
+    pub assets: Vec<PickItem>,
+}
+
+impl Lists {
+    pub fn lookup(&self, kind: LookupKind) -> Vec<PickItem> {
+        self.lookups.get(kind.as_str()).cloned().unwrap_or_default()
+    }
+
+    /// The label of a lookup code, or the code itself.
+    pub fn label(&self, kind: LookupKind, code: &str) -> String {
+        self.lookups
+            .get(kind.as_str())
+            .and_then(|v| v.iter().find(|i| i.code == code))
+            .map(|i| i.label.clone())
+            .unwrap_or_else(|| code.to_string())
+    }
+}
+
+fn text(key: &'static str, label: &'static str, value: &str) -> Field {
+    Field::new(key, label, FieldKind::Text { required: false }).with_text(value)
+}
+
+fn length(key: &'static str, label: &'static str, value: Option<f64>, hint: &'static str) -> Field {
+    Field::new(
+        key,
+        label,
+        FieldKind::Quantity {
+            dim: Dimension::Length,
+            positive: true,
+            optional: true,
+        },
+    )
+    .with_hint(hint)
+    .with_text(
+        &value
+            .map(|v| units::format_exact(v, Unit::Millimetre))
+            .unwrap_or_default(),
+    )
+}
+
+fn measured_text(m: &Option<Measured>) -> String {
+    m.as_ref().map(Measured::display).unwrap_or_default()
+}
+
+fn date_text(d: Option<chrono::NaiveDate>) -> String {
+    d.map(|d| d.to_string()).unwrap_or_default()
+}
+
+fn pick(
+    key: &'static str,
+    label: &'static str,
+    items: Vec<PickItem>,
+    current: Option<&str>,
+) -> PickList {
+    let mut items = items;
+    if let Some(c) = current {
+        if !c.is_empty() && !items.iter().any(|i| i.code == c) {
+            items.push(PickItem::new(c, c));
+        }
+    }
+    let p = PickList::new(key, label, items);
+    match current {
+        Some(c) => p.with_choice(c),
+        None => p,
+    }
+}
+
+fn intake_items(form: &mut Form, inc: &Incident, lists: &Lists) {
+    form.push_pick(pick("asset", "Asset", lists.assets.clone(), inc.asset.as_deref()).open_ended());
+    form.push_field(text("position", "Position", &inc.position).with_hint("e.g. left side, bay 3"));
+    form.push_pick(pick("site", "Site", lists.sites.clone(), inc.site.as_deref()).open_ended());
+    form.push_field(
+        Field::new("found_on", "Found on", FieldKind::Date { optional: false })
+            .with_hint("YYYY-MM-DD")
+            .with_text(&inc.found_on.to_string()),
+    );
+    form.push_field(
+        Field::new("broken_on", "Broken on", FieldKind::Date { optional: true })
+            .with_hint("YYYY-MM-DD if known")
+            .with_text(&date_text(inc.broken_on)),
+    );
+    form.push_field(
+        Field::new(
+            "temperature",
+            "Temperature °C",
+            FieldKind::Float { optional: true },
+        )
+        .with_hint("e.g. -4")
+        .with_text(
+            &inc.environment
+                .temperature_c
+                .map(|t| t.to_string())
+                .unwrap_or_default(),
+        ),
+    );
+    form.push_field(text("sun", "Sun", &inc.environment.sun).with_hint("e.g. sunny afternoon"));
+    form.push_field(text("weather", "Weather", &inc.environment.weather));
+    form.push_field(text("reporter", "Reporter", &inc.reporter));
+    form.push_field(text("how_found", "How found", &inc.how_found));
+    form.push_field(text("description", "Description", &inc.description));
+}
+
+fn glass_items(form: &mut Form, inc: &Incident, lists: &Lists) {
+    let g = &inc.glass;
+    let ply = g.plies.first();
+    form.push_pick(
+        pick(
+            "supplier",
+            "Supplier",
+            lists.suppliers.clone(),
+            g.supplier.as_deref(),
+        )
+        .open_ended(),
+    );
+    form.push_pick(
+        pick(
+            "product",
+            "Product",
+            lists.products.clone(),
+            g.product.as_deref(),
+        )
+        .open_ended(),
+    );
+    form.push_pick(pick("lot", "Lot", lists.lots.clone(), g.lot.as_deref()).open_ended());
+    form.push_pick(pick(
+        "makeup",
+        "Make-up",
+        lists.lookup(LookupKind::Makeup),
+        Some(g.makeup.as_str()),
+    ));
+    form.push_pick(pick(
+        "material",
+        "Ply material",
+        lists.lookup(LookupKind::Material),
+        ply.and_then(|p| p.material.as_deref()),
+    ));
+    form.push_pick(pick(
+        "temper",
+        "Temper class",
+        lists.lookup(LookupKind::TemperClass),
+        ply.and_then(|p| p.temper.as_deref()),
+    ));
+    form.push_field(length(
+        "thickness",
+        "Thickness",
+        ply.and_then(|p| p.thickness_m),
+        "e.g. 6 mm",
+    ));
+    form.push_field(text(
+        "coating",
+        "Coating",
+        ply.map(|p| p.coating.as_str()).unwrap_or(""),
+    ));
+    form.push_field(text(
+        "edge_finish",
+        "Edge finish",
+        ply.map(|p| p.edge_finish.as_str()).unwrap_or(""),
+    ));
+    form.push_field(length("width", "Width", g.width_m, "e.g. 1200 mm"));
+    form.push_field(length("height", "Height", g.height_m, "e.g. 800 mm"));
+}
+
+fn count_text(v: Option<i64>) -> String {
+    v.map(|v| v.to_string()).unwrap_or_default()
+}
+
+fn pattern_items(form: &mut Form, inc: &Incident, lists: &Lists) {
+    let p = &inc.pattern;
+    form.push_pick(pick(
+        "origin_location",
+        "Origin location",
+        lists.lookup(LookupKind::OriginLocation),
+        p.origin_location.as_deref(),
+    ));
+    form.push_field(
+        text("tension_face", "Tension face", &p.tension_face).with_hint("e.g. unknown"),
+    );
+    form.push_field(
+        Field::new(
+            "crack_count",
+            "Crack count",
+            FieldKind::Count { optional: true },
+        )
+        .with_text(&count_text(p.crack_count)),
+    );
+    form.push_pick(pick(
+        "branching",
+        "Branching",
+        vec![
+            PickItem::new("", "not recorded"),
+            PickItem::new("yes", "yes"),
+            PickItem::new("no", "no"),
+        ],
+        Some(match p.branching {
+            Some(true) => "yes",
+            Some(false) => "no",
+            None => "",
+        }),
+    ));
+    form.push_field(
+        Field::new(
+            "fragments",
+            "Fragments 50×50",
+            FieldKind::Count { optional: true },
+        )
+        .with_text(&count_text(p.fragment_count)),
+    );
+}
+
+fn examination_items(form: &mut Form, inc: &Incident, lists: &Lists) {
+    let e = inc.examinations.last();
+    form.push_pick(pick(
+        "origin_type",
+        "Origin type",
+        lists.lookup(LookupKind::OriginType),
+        e.and_then(|e| e.origin_type.as_deref()),
+    ));
+    form.push_field(text(
+        "analyst",
+        "Analyst",
+        e.map(|e| e.analyst.as_str()).unwrap_or(""),
+    ));
+    form.push_field(
+        Field::new(
+            "examined_on",
+            "Examined on",
+            FieldKind::Date { optional: true },
+        )
+        .with_hint("YYYY-MM-DD")
+        .with_text(&date_text(e.and_then(|e| e.examined_on))),
+    );
+    let flaw = e.and_then(|e| e.flaw.as_ref());
+    form.push_field(
+        Field::new(
+            "flaw_depth",
+            "Flaw depth",
+            FieldKind::Quantity {
+                dim: Dimension::Length,
+                positive: true,
+                optional: true,
+            },
+        )
+        .with_hint("measured, e.g. 90 µm")
+        .with_text(&measured_text(&flaw.and_then(|f| f.depth.clone()))),
+    );
+    form.push_field(
+        Field::new(
+            "flaw_width",
+            "Flaw width",
+            FieldKind::Quantity {
+                dim: Dimension::Length,
+                positive: true,
+                optional: true,
+            },
+        )
+        .with_text(&measured_text(&flaw.and_then(|f| f.width.clone()))),
+    );
+    form.push_field(text(
+        "exam_notes",
+        "Notes",
+        e.map(|e| e.notes.as_str()).unwrap_or(""),
+    ));
+}
+
+fn cause_items(form: &mut Form, inc: &Incident, lists: &Lists) {
+    let c = inc.cause.as_ref();
+    form.push_pick(
+        pick(
+            "cause",
+            "Cause",
+            lists.lookup(LookupKind::CauseCategory),
+            c.map(|c| c.category.as_str()),
+        )
+        .required(),
+    );
+    form.push_pick(
+        pick(
+            "confidence",
+            "Confidence",
+            lists.lookup(LookupKind::Confidence),
+            Some(c.map(|c| c.confidence.as_str()).unwrap_or("possible")),
+        )
+        .required(),
+    );
+    form.push_pick(
+        pick(
+            "responsibility",
+            "Responsibility",
+            lists.lookup(LookupKind::Responsibility),
+            Some(
+                c.map(|c| c.responsibility.as_str())
+                    .unwrap_or("undetermined"),
+            ),
+        )
+        .required(),
+    );
+    form.push_field(
+        text(
+            "factors",
+            "Contributing",
+            &c.map(|c| c.factors.join(", ")).unwrap_or_default(),
+        )
+        .with_hint("comma-separated"),
+    );
+    form.push_field(text(
+        "cause_note",
+        "Note",
+        c.map(|c| c.note.as_str()).unwrap_or(""),
+    ));
+    form.push_pick(
+        pick(
+            "status",
+            "Case status",
+            lists.lookup(LookupKind::Status),
+            Some(inc.status.as_str()),
+        )
+        .required(),
+    );
+}
+
+/// The form for a section of `inc`.
+pub fn section_form(section: Section, inc: &Incident, lists: &Lists) -> Form {
+    let mut form = Form::default();
+    match section {
+        Section::Intake => intake_items(&mut form, inc, lists),
+        Section::Glass => glass_items(&mut form, inc, lists),
+        Section::Pattern => pattern_items(&mut form, inc, lists),
+        Section::Examination => examination_items(&mut form, inc, lists),
+        Section::Cause => cause_items(&mut form, inc, lists),
+        Section::Evidence | Section::History => {}
+    }
+    form.mark_clean();
+    form
+}
+
+/// The form for a new incident: intake, then glass.
+pub fn new_form(today: chrono::NaiveDate, lists: &Lists) -> Form {
+    let inc = Incident::draft(today);
+    let mut form = Form::default();
+    intake_items(&mut form, &inc, lists);
+    glass_items(&mut form, &inc, lists);
+    form.mark_clean();
+    form
+}
+
+pub fn custody_form(now: chrono::DateTime<chrono::Utc>, actor: &str, lists: &Lists) -> Form {
+    let mut form = Form::default();
+    form.push_pick(
+        pick(
+            "action",
+            "Action",
+            lists.lookup(LookupKind::CustodyAction),
+            Some("received"),
+        )
+        .required(),
+    );
+    form.push_field(
+        Field::new("at", "When (UTC)", FieldKind::DateTime { optional: false })
+            .with_text(&now.format("%Y-%m-%d %H:%M").to_string()),
+    );
+    form.push_field(
+        Field::new("who", "Who", FieldKind::Text { required: true })
+            .with_hint("e.g. depot staff")
+            .with_text(actor),
+    );
+    form.push_field(text("location", "Location", "").with_hint("e.g. shelf B"));
+    form.push_field(text("note", "Note", ""));
+    form.mark_clean();
+    form
+}
+
+pub fn attach_form() -> Form {
+    let mut form = Form::default();
+    form.push_field(
+        Field::new("path", "File path", FieldKind::Text { required: true })
+            .with_hint("e.g. /home/mira/photos/origin-1.jpg"),
+    );
+    form.push_field(text("caption", "Caption", "").with_hint("e.g. origin at 40 mm from corner"));
+    form.mark_clean();
+    form
+}
+
+fn opt_text(form: &Form, key: &str) -> Option<String> {
+    let t = form.text(key);
+    if t.is_empty() {
+        None
+    } else {
+        Some(t)
+    }
+}
+
+fn value(form: &Form, key: &str) -> Result<FieldValue, String> {
+    match form.field(key) {
+        Some(f) => f.value(),
+        None => Ok(FieldValue::Empty),
+    }
+}
+
+fn opt_quantity(form: &Form, key: &str) -> Result<Option<f64>, String> {
+    Ok(match value(form, key)? {
+        FieldValue::Quantity(q) => Some(q),
+        _ => None,
+    })
+}
+
+fn opt_count(form: &Form, key: &str) -> Result<Option<i64>, String> {
+    Ok(match value(form, key)? {
+        FieldValue::Count(c) => Some(i64::try_from(c).unwrap_or(i64::MAX)),
+        _ => None,
+    })
+}
+
+fn opt_date(form: &Form, key: &str) -> Result<Option<chrono::NaiveDate>, String> {
+    Ok(match value(form, key)? {
+        FieldValue::Date(d) => Some(d),
+        _ => None,
+    })
+}
+
+fn opt_measured(form: &Form, key: &str) -> Result<Option<Measured>, String> {
+    let t = form.text(key);
+    if t.is_empty() {
+        return Ok(None);
+    }
+    let label = form.field(key).map(|f| f.label).unwrap_or(key);
+    Measured::parse(&t, Dimension::Length)
+        .map(Some)
+        .map_err(|e| format!("{label}: {e}"))
+}
+
+fn apply_intake(form: &Form, inc: &mut Incident) -> Result<(), String> {
+    inc.asset = opt_text(form, "asset");
+    inc.position = form.text("position");
+    inc.site = opt_text(form, "site");
+    if let Some(d) = opt_date(form, "found_on")? {
+        inc.found_on = d;
+    }
+    inc.broken_on = opt_date(form, "broken_on")?;
+    inc.environment.temperature_c = match value(form, "temperature")? {
+        FieldValue::Number(t) => Some(t),
+        _ => None,
+    };
+    inc.environment.sun = form.text("sun");
+    inc.environment.weather = form.text("weather");
+    inc.reporter = form.text("reporter");
+    inc.how_found = form.text("how_found");
+    inc.description = form.text("description");
+    Ok(())
+}
+
+fn apply_glass(form: &Form, inc: &mut Incident) -> Result<(), String> {
+    let g = &mut inc.glass;
+    g.supplier = opt_text(form, "supplier");
+    g.product = opt_text(form, "product");
+    g.lot = opt_text(form, "lot");
+    if let Some(m) = opt_text(form, "makeup") {
+        g.makeup = m;
+    }
+    g.width_m = opt_quantity(form, "width")?;
+    g.height_m = opt_quantity(form, "height")?;
+    let material = opt_text(form, "material");
+    let temper = opt_text(form, "temper");
+    let thickness = opt_quantity(form, "thickness")?;
+    let coating = form.text("coating");
+    let edge = form.text("edge_finish");
+    let any = material.is_some()
+        || temper.is_some()
+        || thickness.is_some()
+        || !coating.is_empty()
+        || !edge.is_empty();
+    if g.plies.is_empty() && any {
+        g.plies.push(Ply {
+            material: None,
+            temper: None,
+            thickness_m: None,
+            coating: String::new(),
+            edge_finish: String::new(),
+        });
+    }
+    if let Some(p) = g.plies.first_mut() {
+        p.material = material;
+        p.temper = temper;
+        p.thickness_m = thickness;
+        p.coating = coating;
+        p.edge_finish = edge;
+    }
+    Ok(())
+}
+
+fn apply_pattern(form: &Form, inc: &mut Incident) -> Result<(), String> {
+    let p = &mut inc.pattern;
+    p.origin_location = opt_text(form, "origin_location");
+    p.tension_face = form.text("tension_face");
+    p.crack_count = opt_count(form, "crack_count")?;
+    p.fragment_count = opt_count(form, "fragments")?;
+    p.branching = match form.text("branching").as_str() {
+        "yes" => Some(true),
+        "no" => Some(false),
+        _ => None,
+    };
+    Ok(())
+}
+
+fn apply_examination(form: &Form, inc: &mut Incident) -> Result<(), String> {
+    let depth = opt_measured(form, "flaw_depth")?;
+    let width = opt_measured(form, "flaw_width")?;
+    if inc.examinations.is_empty() {
+        inc.examinations.push(empty_examination());
+    }
+    let Some(e) = inc.examinations.last_mut() else {
+        return Ok(());
+    };
+    e.origin_type = opt_text(form, "origin_type");
+    e.analyst = form.text("analyst");
+    e.examined_on = opt_date(form, "examined_on")?;
+    e.notes = form.text("exam_notes");
+    e.flaw = if depth.is_none() && width.is_none() {
+        e.flaw.take().filter(|f| !f.shape.is_empty()).map(|mut f| {
+            f.depth = None;
+            f.width = None;
+            f
+        })
+    } else {
+        let shape = e.flaw.as_ref().map(|f| f.shape.clone()).unwrap_or_default();
+        Some(FlawMeasurement {
+            depth,
+            width,
+            shape,
+        })
+    };
+    Ok(())
+}
+
+/// An examination with nothing in it yet (the store assigns the id).
+pub fn empty_examination() -> Examination {
+    Examination {
+        id: String::new(),
+        examined_on: None,
+        analyst: String::new(),
+        origin_type: None,
+        material: None,
+        readings: Vec::new(),
+        flaw: None,
+        result: None,
+        notes: String::new(),
+    }
+}
+
+fn apply_cause(form: &Form, inc: &mut Incident) -> Result<(), String> {
+    let category = form.text("cause");
+    if category.is_empty() {
+        return Err("Cause: pick one: type to narrow, Enter to choose".into());
+    }
+    inc.cause = Some(Cause {
+        category,
+        factors: form
+            .text("factors")
+            .split(',')
+            .map(|s| s.trim().to_string())
+            .filter(|s| !s.is_empty())
+            .collect(),
+        confidence: form.text("confidence"),
+        responsibility: form.text("responsibility"),
+        note: form.text("cause_note"),
+    });
+    if let Some(s) = opt_text(form, "status") {
+        inc.status = s;
+    }
+    Ok(())
+}
+
+/// Apply a section form (or the new-incident form) onto `inc`.
+pub fn apply(kind: EditKind, form: &Form, inc: &mut Incident) -> Result<(), String> {
+    if let Some((_, e)) = form.first_error() {
+        return Err(e);
+    }
+    match kind {
+        EditKind::New => {
+            apply_intake(form, inc)?;
+            apply_glass(form, inc)
+        }
+        EditKind::Section(Section::Intake) => apply_intake(form, inc),
+        EditKind::Section(Section::Glass) => apply_glass(form, inc),
+        EditKind::Section(Section::Pattern) => apply_pattern(form, inc),
+        EditKind::Section(Section::Examination) => apply_examination(form, inc),
+        EditKind::Section(Section::Cause) => apply_cause(form, inc),
+        _ => Ok(()),
+    }
+}
+
+/// The custody entry a custody form describes.
+pub fn custody_entry(form: &Form) -> Result<CustodyEntry, String> {
+    if let Some((_, e)) = form.first_error() {
+        return Err(e);
+    }
+    let at = match value(form, "at")? {
+        FieldValue::DateTime(t) => t,
+        _ => return Err("When: required".into()),
+    };
+    Ok(CustodyEntry {
+        id: String::new(),
+        at,
+        action: form.text("action"),
+        who: form.text("who"),
+        location: form.text("location"),
+        note: form.text("note"),
+    })
+}

@@ -1,0 +1,466 @@
+//! The one key table. Every binding is declared here once with its description; key
+//! dispatch, the footer and the help overlay all read this table, so help cannot drift
+//! from the keys that really work.
+
+use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
+
+use crate::app::{Action, Ctx, Input};
+
+/// One key: a code and the Ctrl/Alt modifiers that must be held.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct K {
+    pub code: KeyCode,
+    pub mods: KeyModifiers,
+}
+
+const fn k(code: KeyCode) -> K {
+    K {
+        code,
+        mods: KeyModifiers::NONE,
+    }
+}
+
+const fn c(ch: char) -> K {
+    k(KeyCode::Char(ch))
+}
+
+const fn ctrl(ch: char) -> K {
+    K {
+        code: KeyCode::Char(ch),
+        mods: KeyModifiers::CONTROL,
+    }
+}
+
+/// One binding: in which contexts, which keys, what it is called, what it does.
+#[derive(Debug)]
+pub struct Binding {
+    pub ctxs: &'static [Ctx],
+    pub keys: &'static [K],
+    /// The keys as the footer and help show them.
+    pub label: &'static str,
+    pub desc: &'static str,
+    pub action: Action,
+    /// Shown in the one-line footer (the most useful keys only).
+    pub footer: bool,
+}
+
+use Ctx::*;
+
+const TEXT: &[Ctx] = &[Field, MultiField, Pick];
+const LISTS: &[Ctx] = &[Global, Help];
+
+/// The table. Order matters: the first binding that matches wins, and the footer and
+/// help list bindings in this order.
+pub static TABLE: &[Binding] = &[
+    // --- prompt ---
+    Binding {
+        ctxs: &[Prompt],
+        keys: &[c('y'), c('Y')],
+        label: "y",
+        desc: "yes, leave and drop the changes",
+        action: Action::Yes,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Prompt],
+        keys: &[c('n'), c('N'), k(KeyCode::Esc)],
+        label: "n/Esc",
+        desc: "no, stay and keep editing",
+        action: Action::No,
+        footer: true,
+    },
+    // --- forms (text fields and pick-lists) ---
+    Binding {
+        ctxs: TEXT,
+        keys: &[k(KeyCode::Tab)],
+        label: "Tab",
+        desc: "next field",
+        action: Action::NextField,
+        footer: true,
+    },
+    Binding {
+        ctxs: TEXT,
+        keys: &[k(KeyCode::BackTab)],
+        label: "S-Tab",
+        desc: "previous field",
+        action: Action::PrevField,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Field],
+        keys: &[k(KeyCode::Up)],
+        label: "↑",
+        desc: "previous field",
+        action: Action::PrevField,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Field],
+        keys: &[k(KeyCode::Down)],
+        label: "↓",
+        desc: "next field",
+        action: Action::NextField,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Pick],
+        keys: &[k(KeyCode::Up)],
+        label: "↑",
+        desc: "move up the list",
+        action: Action::Up,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Pick],
+        keys: &[k(KeyCode::Down)],
+        label: "↓",
+        desc: "move down the list (type to narrow it)",
+        action: Action::Down,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Pick],
+        keys: &[k(KeyCode::Enter)],
+        label: "Enter",
+        desc: "choose the highlighted item",
+        action: Action::Confirm,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Field],
+        keys: &[k(KeyCode::Enter)],
+        label: "Enter",
+        desc: "next field",
+        action: Action::NextField,
+        footer: false,
+    },
+    Binding {
+        ctxs: TEXT,
+        keys: &[ctrl('s')],
+        label: "C-s",
+        desc: "save",
+        action: Action::Save,
+        footer: true,
+    },
+    Binding {
+        ctxs: TEXT,
+        keys: &[k(KeyCode::PageUp)],
+        label: "PgUp",
+        desc: "scroll the results or details up",
+        action: Action::PageUp,
+        footer: false,
+    },
+    Binding {
+        ctxs: TEXT,
+        keys: &[k(KeyCode::PageDown)],
+        label: "PgDn",
+        desc: "scroll the results or details down",
+        action: Action::PageDown,
+        footer: false,
+    },
+    // --- help overlay ---
+    Binding {
+        ctxs: &[Help],
+        keys: &[k(KeyCode::Up), c('k')],
+        label: "↑/k",
+        desc: "scroll up",
+        action: Action::Up,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Help],
+        keys: &[k(KeyCode::Down), c('j')],
+        label: "↓/j",
+        desc: "scroll down",
+        action: Action::Down,
+        footer: false,
+    },
+    // --- lists and screens ---
+    Binding {
+        ctxs: &[Global],
+        keys: &[k(KeyCode::Up), c('k')],
+        label: "↑/k",
+        desc: "move up",
+        action: Action::Up,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Global],
+        keys: &[k(KeyCode::Down), c('j')],
+        label: "↓/j",
+        desc: "move down",
+        action: Action::Down,
+        footer: false,
+    },
+    Binding {
+        ctxs: LISTS,
+        keys: &[k(KeyCode::PageUp)],
+        label: "PgUp",
+        desc: "page up",
+        action: Action::PageUp,
+        footer: false,
+    },
+    Binding {
+        ctxs: LISTS,
+        keys: &[k(KeyCode::PageDown)],
+        label: "PgDn",
+        desc: "page down",
+        action: Action::PageDown,
+        footer: false,
+    },
+    Binding {
+        ctxs: LISTS,
+        keys: &[k(KeyCode::Home), c('g')],
+        label: "Home/g",
+        desc: "first",
+        action: Action::Home,
+        footer: false,
+    },
+    Binding {
+        ctxs: LISTS,
+        keys: &[k(KeyCode::End), c('G')],
+        label: "End/G",
+        desc: "last",
+        action: Action::End,
+        footer: false,
+    },
+    // --- the log ---
+    Binding {
+        ctxs: &[Log],
+        keys: &[k(KeyCode::Enter), k(KeyCode::Right), c('l')],
+        label: "Enter/→",
+        desc: "open the incident",
+        action: Action::Confirm,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('n')],
+        label: "n",
+        desc: "new incident",
+        action: Action::NewIncident,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('/')],
+        label: "/",
+        desc: "search text",
+        action: Action::Search,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('f')],
+        label: "f",
+        desc: "filter: status, cause, origin type, supplier, lot, site, dates",
+        action: Action::Filter,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('x')],
+        label: "x",
+        desc: "clear filters and search",
+        action: Action::ClearFilter,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('s')],
+        label: "s",
+        desc: "sort by the next column (date, reference, stress, status)",
+        action: Action::SortNext,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('S')],
+        label: "S",
+        desc: "reverse the sort",
+        action: Action::SortReverse,
+        footer: false,
+    },
+    // --- the search line ---
+    Binding {
+        ctxs: &[Search],
+        keys: &[k(KeyCode::Enter)],
+        label: "Enter",
+        desc: "search",
+        action: Action::Confirm,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Search],
+        keys: &[k(KeyCode::Esc)],
+        label: "Esc",
+        desc: "cancel the search",
+        action: Action::Back,
+        footer: true,
+    },
+    // --- one incident ---
+    Binding {
+        ctxs: &[Incident],
+        keys: &[k(KeyCode::Tab), k(KeyCode::Right), c('l')],
+        label: "Tab/→",
+        desc: "next section",
+        action: Action::NextSection,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[k(KeyCode::BackTab), k(KeyCode::Left), c('h')],
+        label: "S-Tab/←",
+        desc: "previous section",
+        action: Action::PrevSection,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[c('e'), k(KeyCode::Enter)],
+        label: "e/Enter",
+        desc: "edit this section",
+        action: Action::Edit,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[c('a')],
+        label: "a",
+        desc: "attach a file (photo, micrograph) by its path",
+        action: Action::Attach,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[c('c')],
+        label: "c",
+        desc: "add a specimen custody entry",
+        action: Action::AddCustody,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Incident, Log],
+        keys: &[c('b')],
+        label: "b",
+        desc: "bench calculator (for this incident when one is open)",
+        action: Action::OpenBench,
+        footer: true,
+    },
+    // --- everywhere ---
+    Binding {
+        ctxs: &[Global, Help],
+        keys: &[c('?')],
+        label: "?",
+        desc: "help: keys of this screen, cautions",
+        action: Action::ToggleHelp,
+        footer: true,
+    },
+    Binding {
+        ctxs: TEXT,
+        keys: &[k(KeyCode::F(1))],
+        label: "F1",
+        desc: "help: keys of this screen, cautions",
+        action: Action::ToggleHelp,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Global, Help],
+        keys: &[k(KeyCode::F(1))],
+        label: "F1",
+        desc: "help: keys of this screen, cautions",
+        action: Action::ToggleHelp,
+        footer: false,
+    },
+    Binding {
+        ctxs: &[Global, Help, Field, MultiField, Pick],
+        keys: &[k(KeyCode::Esc)],
+        label: "Esc",
+        desc: "back (asks first if there are unsaved changes)",
+        action: Action::Back,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Global, Help],
+        keys: &[c('q')],
+        label: "q",
+        desc: "quit (from the log; elsewhere: back)",
+        action: Action::Quit,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Global, Help, Field, MultiField, Pick, Prompt, Search],
+        keys: &[ctrl('c')],
+        label: "C-c",
+        desc: "quit from any screen (asks first if there are unsaved changes)",
+        action: Action::QuitAll,
+        footer: false,
+    },
+];
+
+/// Mouse handling, listed in help beside the table (the wheel is not a key).
+pub const MOUSE_HELP: (&str, &str) = ("wheel", "scroll the list or text under view");
+
+fn normalize(ev: &KeyEvent) -> K {
+    // Shift is part of the character (or of BackTab); only Ctrl and Alt must match.
+    let mods = ev.modifiers & (KeyModifiers::CONTROL | KeyModifiers::ALT);
+    K {
+        code: ev.code,
+        mods,
+    }
+}
+
+/// The binding that a key press triggers in `ctx`, if any.
+pub fn lookup(ctx: Ctx, ev: &KeyEvent) -> Option<&'static Binding> {
+    let key = normalize(ev);
+    TABLE
+        .iter()
+        .find(|b| b.ctxs.contains(&ctx) && b.keys.contains(&key))
+        .or_else(|| {
+            if ctx.has_global() {
+                TABLE
+                    .iter()
+                    .find(|b| b.ctxs.contains(&Ctx::Global) && b.keys.contains(&key))
+            } else {
+                None
+            }
+        })
+}
+
+/// Turn a key press into an action for the current context.
+pub fn action_for(ctx: Ctx, ev: &KeyEvent) -> Option<Action> {
+    if let Some(b) = lookup(ctx, ev) {
+        return Some(b.action.clone());
+    }
+    if ctx.takes_text() {
+        let input = Input::from(*ev);
+        return Some(Action::Input(input));
+    }
+    None
+}
+
+/// The bindings active in `ctx`, in table order, for the help overlay.
+pub fn bindings_for(ctx: Ctx) -> Vec<&'static Binding> {
+    let mut out: Vec<&'static Binding> = TABLE.iter().filter(|b| b.ctxs.contains(&ctx)).collect();
+    if ctx.has_global() && ctx != Ctx::Global {
+        // shared keys, unless this screen gives every one of their keys another meaning
+        let shadowed = |k: &K| out_keys(ctx).contains(k);
+        out.extend(TABLE.iter().filter(|b| {
+            b.ctxs.contains(&Ctx::Global) && !b.ctxs.contains(&ctx) && !b.keys.iter().all(shadowed)
+        }));
+    }
+    out
+}
+
+fn out_keys(ctx: Ctx) -> Vec<K> {
+    TABLE
+        .iter()
+        .filter(|b| b.ctxs.contains(&ctx))
+        .flat_map(|b| b.keys.iter().copied())
+        .collect()
+}
+
+/// The footer entries for `ctx`.
+pub fn footer_for(ctx: Ctx) -> Vec<&'static Binding> {
+    bindings_for(ctx).into_iter().filter(|b| b.footer).collect()
+}

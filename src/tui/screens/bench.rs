@@ -1,0 +1,357 @@
+//! The bench calculator: inputs on the left, live results on the right, cautions below.
+
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::Widget;
+use ratatui::Frame;
+
+use crate::app::bench::Outcome;
+use crate::app::App;
+use crate::fracture::Analysis;
+use crate::tui::theme::Theme;
+use crate::tui::view::{boxed, CAUTIONS};
+use crate::tui::widgets::{self, clean};
+use crate::units::{fmt_sig, format, Unit};
+
+/// The short caution line shown when the window has no room for the full text.
+pub const SHORT_CAUTION: &str =
+    "⚠ Broken glass cuts: gloves, eye protection. Mirror estimates are \
+                                 uncertain; the tool does not replace an investigator. F1: more";
+
+pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
+    let full: Vec<Line> = CAUTIONS
+        .iter()
+        .map(|c| Line::styled(format!("⚠ {c}"), th.caution))
+        .collect();
+    let full_rows: u16 = CAUTIONS
+        .iter()
+        .map(|c| widgets::wrap(&format!("⚠ {c}"), body.width as usize).len() as u16)
+        .sum();
+    let (caution_h, text) = if body.height >= 24 {
+        (full_rows, full)
+    } else {
+        let rows = widgets::wrap(SHORT_CAUTION, body.width as usize).len() as u16;
+        (rows.min(2), vec![Line::styled(SHORT_CAUTION, th.caution)])
+    };
+    let [main, caution] =
+        Layout::vertical([Constraint::Fill(1), Constraint::Length(caution_h)]).areas(body);
+    let (inputs, results) = if main.width >= 72 {
+        let [a, b] =
+            Layout::horizontal([Constraint::Percentage(45), Constraint::Fill(1)]).areas(main);
+        (a, b)
+    } else {
+        let [a, b] =
+            Layout::vertical([Constraint::Percentage(50), Constraint::Fill(1)]).areas(main);
+        (a, b)
+    };
+    let title = match &app.bench_incident_label() {
+        Some(r) => format!("Readings · {r}"),
+        None => "Readings · no incident open".to_string(),
+    };
+    let inner = boxed(f, inputs, &title, true, th);
+    widgets::draw_form(
+        f.buffer_mut(),
+        inner,
+        &app.bench.form,
+        !app.help_open && app.prompt.is_none(),
+        th,
+    );
+    let inner = boxed(f, results, "Results (live) · PgUp/PgDn scroll", false, th);
+    let lines = result_lines(app, th, inner.width);
+    let max_scroll = widgets::wrapped_rows(&lines, inner.width).saturating_sub(inner.height);
+    app.bench.scroll_max.set(max_scroll);
+    widgets::para(lines)
+        .scroll((app.bench.scroll.min(max_scroll), 0))
+        .render(inner, f.buffer_mut());
+    widgets::para(text).render(caution, f.buffer_mut());
+}
+
+fn mpa(pa: f64) -> String {
+    format(pa, Unit::Megapascal)
+}
+
+fn interval(lo: f64, hi: f64, unit: Unit) -> String {
+    format!(
+        "{} – {} {}",
+        fmt_sig(unit.from_si(lo), 3),
+        fmt_sig(unit.from_si(hi), 3),
+        unit.symbol()
+    )
+}
+
+/// A flaw or radius in the unit people read it in: µm below 1 mm, else mm.
+fn length(m: f64) -> String {
+    if m.abs() < 1e-3 {
+        format(m, Unit::Micrometre)
+    } else {
+        format(m, Unit::Millimetre)
+    }
+}
+
+fn length_unit(m: f64) -> Unit {
+    if m.abs() < 1e-3 {
+        Unit::Micrometre
+    } else {
+        Unit::Millimetre
+    }
+}
+
+fn kv(key: &str, value: String, th: &Theme) -> Line<'static> {
+    Line::from(vec![
+        Span::styled(format!("{key}: "), th.label),
+        Span::styled(value, th.figure),
+    ])
+}
+
+/// The lines of the results pane (also used by tests to compare with the core).
+pub fn result_lines(app: &App, th: &Theme, width: u16) -> Vec<Line<'static>> {
+    match &app.bench.outcome {
+        Outcome::Waiting => vec![
+            Line::styled("Type mirror readings on the left:", th.muted),
+            Line::styled("one radius per line, with its unit.", th.muted),
+            Line::styled(
+                "Stress, flaw size and checks appear here as you type.",
+                th.muted,
+            ),
+        ],
+        Outcome::Incomplete(e) => vec![
+            Line::styled("Not computed yet:", th.warning),
+            Line::styled(format!("✗ {}", clean(e)), th.error),
+        ],
+        Outcome::Refused(e) => vec![
+            Line::styled("The calculation refuses this input:", th.warning),
+            Line::styled(format!("✗ {}", clean(e)), th.error),
+        ],
+        Outcome::Done {
+            analysis,
+            per_geometry,
+            ..
+        } => {
+            let mut lines = analysis_lines(analysis, per_geometry, th, width);
+            // the hypothesis goes right under the headline figures
+            if let Some(t) = thermal_lines(app, th) {
+                let at = lines
+                    .iter()
+                    .position(|l| {
+                        l.to_string().starts_with("Warnings")
+                            || l.to_string().starts_with("No warnings")
+                    })
+                    .unwrap_or(lines.len());
+                for (i, l) in t.into_iter().enumerate() {
+                    lines.insert(at + i, l);
+                }
+            }
+            lines
+        }
+    }
+}
+
+fn thermal_lines(app: &App, th: &Theme) -> Option<Vec<Line<'static>>> {
+    let t = app.bench.thermal.as_ref()?;
+    Some(match t {
+        Err(e) => vec![Line::styled(
+            format!("Thermal hypothesis: ✗ {}", clean(e)),
+            th.error,
+        )],
+        Ok(t) => {
+            let mut v = vec![kv(
+                "Thermal hypothesis",
+                format!(
+                    "ΔT {} → {} (k·E·α = {} MPa/K, k = {})",
+                    format(t.delta_t_k, Unit::Kelvin),
+                    mpa(t.stress_pa),
+                    fmt_sig(t.stress_per_kelvin / 1e6, 3),
+                    fmt_sig(t.restraint, 2)
+                ),
+                th,
+            )];
+            match &t.verdict {
+                Ok(v2) => v.push(Line::styled(
+                    format!("  {}", clean(&v2.explanation)),
+                    match v2.finding {
+                        crate::loads::verdict::Finding::Consistent => th.ok,
+                        _ => th.warning,
+                    },
+                )),
+                Err(e) => v.push(Line::styled(format!("  ✗ {}", clean(e)), th.error)),
+            }
+            for w in &t.warnings {
+                v.push(Line::styled(format!("  ! {}", clean(w)), th.warning));
+            }
+            v
+        }
+    })
+}
+
+fn analysis_lines(
+    a: &Analysis,
+    per_geometry: &[crate::app::bench::GeometryRow],
+    th: &Theme,
+    width: u16,
+) -> Vec<Line<'static>> {
+    let mut out = Vec::new();
+    out.push(Line::styled(clean(&a.material_name), th.header));
+    out.push(kv(
+        &format!("Net stress ({})", a.headline.label()),
+        format!(
+            "{}  ({})",
+            mpa(a.stress_pa),
+            interval(a.stress_low_pa, a.stress_high_pa, Unit::Megapascal)
+        ),
+        th,
+    ));
+    out.push(kv(
+        "Applied stress",
+        format!(
+            "{}  ({})",
+            mpa(a.applied_stress_pa),
+            interval(a.applied_low_pa, a.applied_high_pa, Unit::Megapascal)
+        ),
+        th,
+    ));
+    if let Some(fl) = &a.flaw {
+        let u = length_unit(fl.size_m);
+        out.push(kv(
+            "Flaw size a",
+            format!(
+                "{}  ({})",
+                length(fl.size_m),
+                interval(fl.size_low_m, fl.size_high_m, u)
+            ),
+            th,
+        ));
+    }
+    if a.warnings.is_empty() {
+        out.push(Line::styled("No warnings.", th.ok));
+    } else {
+        out.push(Line::styled(
+            format!("Warnings ({})", a.warnings.len()),
+            th.warning,
+        ));
+        for w in &a.warnings {
+            out.push(Line::styled(format!("! {}", clean(w)), th.warning));
+        }
+    }
+    out.push(Line::styled(
+        "Stress per boundary (95 % interval)",
+        th.label,
+    ));
+    for b in &a.boundaries {
+        out.push(Line::from(vec![
+            Span::raw(format!(
+                " {} n={} R̄ {}: ",
+                b.boundary.label(),
+                b.stats.n,
+                length(b.stats.mean)
+            )),
+            Span::styled(mpa(b.stress_pa), th.figure),
+            Span::raw(format!(
+                " ({}) {} {}",
+                interval(b.stress_low_pa, b.stress_high_pa, Unit::Megapascal),
+                b.constant.symbol,
+                format(b.constant.value, Unit::MegapascalRootMetre),
+            )),
+        ]));
+    }
+    out.push(kv("Residual at origin", mpa(a.residual.at_origin_pa), th));
+    out.push(Line::styled(
+        format!("  {}", clean(&a.residual.basis)),
+        th.muted,
+    ));
+    match &a.flaw {
+        Some(fl) => {
+            out.push(Line::styled(
+                format!(
+                    "Flaw: {} ({}), Y {} {}, {} {}",
+                    clean(&fl.geometry_label),
+                    clean(&fl.geometry_basis),
+                    fmt_sig(fl.factor.y, 3),
+                    clean(&fl.factor.governing_point),
+                    fl.toughness.symbol,
+                    format(fl.toughness.value, Unit::MegapascalRootMetre)
+                ),
+                th.muted,
+            ));
+            for r in &fl.ratios {
+                let (mark, style) = if r.plausible {
+                    ("✓ plausible", th.ok)
+                } else {
+                    ("✗ implausible", th.error)
+                };
+                out.push(Line::from(vec![
+                    Span::styled("Mirror-to-flaw: ".to_string(), th.label),
+                    Span::raw(format!(
+                        "R({})/a = {} (expected ≈ {}) ",
+                        r.boundary.key(),
+                        fmt_sig(r.ratio, 3),
+                        fmt_sig(r.expected, 3)
+                    )),
+                    Span::styled(mark, style),
+                ]));
+            }
+            if let (Some(m), Some(q)) = (fl.measured_m, fl.measured_over_predicted) {
+                out.push(kv(
+                    "Measured flaw",
+                    format!("{} = {} × predicted", length(m), fmt_sig(q, 3)),
+                    th,
+                ));
+            }
+        }
+        None => out.push(kv("Flaw size", "— (no toughness)".into(), th)),
+    }
+    if let Some(b) = &a.branching {
+        let measured = b
+            .measured_m
+            .map(|m| format!(", measured {}", length(m)))
+            .unwrap_or_default();
+        out.push(kv(
+            "Branching predicted",
+            format!(
+                "{} ({}){measured}",
+                length(b.distance_m),
+                interval(b.low_m, b.high_m, length_unit(b.distance_m))
+            ),
+            th,
+        ));
+    }
+    if a.consistency.is_empty() {
+        out.push(Line::styled(
+            "Boundary consistency: one boundary only",
+            th.muted,
+        ));
+    }
+    for c in &a.consistency {
+        let (mark, style) = if c.agrees {
+            ("✓ agree", th.ok)
+        } else {
+            ("✗ disagree", th.error)
+        };
+        out.push(Line::from(vec![
+            Span::styled("Consistency: ".to_string(), th.label),
+            Span::raw(format!(
+                "R({})/R({}) {} vs {} ",
+                c.outer.key(),
+                c.inner.key(),
+                fmt_sig(c.radius_ratio, 3),
+                fmt_sig(c.expected_ratio, 3)
+            )),
+            Span::styled(mark, style),
+        ]));
+    }
+    if !per_geometry.is_empty() {
+        out.push(Line::styled(
+            "Flaw size per geometry (net stress)",
+            th.label,
+        ));
+        let lw = (width as usize).saturating_sub(22).clamp(10, 34);
+        for g in per_geometry {
+            out.push(Line::raw(format!(
+                " {} Y {:<5} {}",
+                widgets::pad(&clean(&g.label), lw),
+                fmt_sig(g.y, 3),
+                length(g.size_m)
+            )));
+        }
+    }
+    out
+}

@@ -1,0 +1,216 @@
+//! The incident log: a search/filter line, the table of visible rows, nothing more.
+
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::Widget;
+use ratatui::Frame;
+
+use crate::app::App;
+use crate::store::model::{LogRow, LookupKind, SortColumn};
+use crate::tui::theme::Theme;
+use crate::tui::widgets::{self, clean, fit, WindowTable};
+
+/// A column of the log: header, width, which sort it shows, and the text of a row.
+struct Col {
+    header: &'static str,
+    width: u16,
+    sort: Option<SortColumn>,
+    min_screen: u16,
+}
+
+const COLS: &[Col] = &[
+    Col {
+        header: "Reference",
+        width: 14,
+        sort: Some(SortColumn::Reference),
+        min_screen: 0,
+    },
+    Col {
+        header: "Found",
+        width: 10,
+        sort: Some(SortColumn::Found),
+        min_screen: 0,
+    },
+    Col {
+        header: "Asset / position",
+        width: 0,
+        sort: None,
+        min_screen: 0,
+    },
+    Col {
+        header: "Product",
+        width: 10,
+        sort: None,
+        min_screen: 124,
+    },
+    Col {
+        header: "Supplier",
+        width: 10,
+        sort: None,
+        min_screen: 80,
+    },
+    Col {
+        header: "Lot",
+        width: 9,
+        sort: None,
+        min_screen: 110,
+    },
+    Col {
+        header: "Status",
+        width: 10,
+        sort: Some(SortColumn::Status),
+        min_screen: 0,
+    },
+    Col {
+        header: "Cause",
+        width: 10,
+        sort: None,
+        min_screen: 0,
+    },
+    Col {
+        header: "Stress",
+        width: 9,
+        sort: Some(SortColumn::Stress),
+        min_screen: 0,
+    },
+];
+
+/// Status and cause get more room on wide screens.
+fn col_width(i: usize, screen: u16) -> u16 {
+    match i {
+        6 | 7 if screen >= 100 => 13,
+        _ => COLS[i].width,
+    }
+}
+
+fn cell(app: &App, row: &LogRow, col: usize) -> String {
+    let t = match col {
+        0 => row.reference.clone(),
+        1 => row.occurred.to_string(),
+        2 => {
+            let a = row.asset.clone().unwrap_or_default();
+            if row.position.is_empty() {
+                a
+            } else if a.is_empty() {
+                row.position.clone()
+            } else {
+                format!("{a} · {}", row.position)
+            }
+        }
+        3 => row.product.clone().unwrap_or_default(),
+        4 => row.supplier.clone().unwrap_or_default(),
+        5 => row.lot.clone().unwrap_or_default(),
+        6 => app.lists.label(LookupKind::Status, &row.status),
+        7 => row
+            .cause
+            .as_deref()
+            .map(|c| app.lists.label(LookupKind::CauseCategory, c))
+            .unwrap_or_default(),
+        8 => {
+            let t = row
+                .stress_mpa
+                .map(|s| format!("{} MPa", crate::units::fmt_sig(s, 3)))
+                .unwrap_or_else(|| "—".to_string());
+            // right-aligned in its column
+            let w = unicode_width::UnicodeWidthStr::width(t.as_str());
+            format!("{}{t}", " ".repeat(9usize.saturating_sub(w)))
+        }
+        _ => String::new(),
+    };
+    clean(&t)
+}
+
+pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
+    if body.height == 0 {
+        return;
+    }
+    let [top, table] = Layout::vertical([Constraint::Length(1), Constraint::Fill(1)]).areas(body);
+    // the search line, or what the log shows
+    let line = match &app.search {
+        Some(s) => Line::from(vec![
+            Span::styled(" / ", th.focus_label),
+            Span::styled(format!("{}▏", clean(&s.text())), th.input),
+            Span::styled("  Enter search · Esc cancel", th.muted),
+        ]),
+        None => {
+            let filt = app.log.filter_summary(&app.lists);
+            if filt.is_empty() {
+                Line::styled(
+                    " All incidents · / search · f filter · s sort · n new · ? help",
+                    th.muted,
+                )
+            } else {
+                Line::styled(format!(" Filter: {} (x clears)", clean(&filt)), th.warning)
+            }
+        }
+    };
+    widgets::para(vec![line]).render(top, f.buffer_mut());
+
+    let cols: Vec<usize> = (0..COLS.len())
+        .filter(|&i| body.width >= COLS[i].min_screen)
+        .collect();
+    let fixed: u16 = cols.iter().map(|&i| col_width(i, body.width)).sum::<u16>()
+        + cols.len().saturating_sub(1) as u16;
+    let fill = body.width.saturating_sub(fixed).max(6);
+    let widths: Vec<u16> = cols
+        .iter()
+        .map(|&i| {
+            if COLS[i].width == 0 {
+                fill
+            } else {
+                col_width(i, body.width)
+            }
+        })
+        .collect();
+    let header: Vec<String> = cols
+        .iter()
+        .zip(&widths)
+        .map(|(&i, &w)| {
+            let mark = match COLS[i].sort {
+                Some(s) if s == app.log.sort.column => {
+                    if app.log.sort.descending {
+                        " ▼"
+                    } else {
+                        " ▲"
+                    }
+                }
+                _ => "",
+            };
+            fit(&format!("{}{mark}", COLS[i].header), w as usize)
+        })
+        .collect();
+    if app.log.rows.is_empty() {
+        let msg = if app.log.filter == Default::default() {
+            "No incidents yet. Press n to log a new breakage."
+        } else {
+            "Nothing matches. x clears the filters and search."
+        };
+        widgets::para(vec![
+            Line::raw(""),
+            Line::styled(format!(" {msg}"), th.muted),
+        ])
+        .render(table, f.buffer_mut());
+        return;
+    }
+    let rows: Vec<Vec<String>> = app
+        .log
+        .rows
+        .iter()
+        .map(|r| {
+            cols.iter()
+                .zip(&widths)
+                .map(|(&i, &w)| fit(&cell(app, r, i), w as usize))
+                .collect()
+        })
+        .collect();
+    let header_refs: Vec<&str> = header.iter().map(String::as_str).collect();
+    WindowTable {
+        header: header_refs,
+        widths: widths.iter().map(|&w| Constraint::Length(w)).collect(),
+        rows,
+        selected: Some(app.log.selected),
+        header_style: th.header,
+        selected_style: th.selected,
+    }
+    .render(table, f.buffer_mut());
+}

@@ -1,0 +1,243 @@
+//! Drawing. Only reads the state; never calls the store.
+
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::style::Style;
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Block, Borders, Clear, Paragraph, Widget};
+use ratatui::Frame;
+
+use super::keys;
+use super::theme::{theme, Theme};
+use super::widgets::{self, fit};
+use crate::app::{App, Ctx, Prompt, Screen};
+
+/// Smallest area that gets the full layout; below it a polite message is shown.
+pub const MIN_WIDTH: u16 = 40;
+pub const MIN_HEIGHT: u16 = 10;
+
+/// The cautions of the design brief (§6), shown on the bench screen and in help.
+pub const CAUTIONS: [&str; 3] = [
+    "Broken glass cuts: handle fragments with cut-resistant gloves and eye protection; \
+     tempered glass can keep breaking.",
+    "Estimates from fracture mirrors carry the uncertainty of the constants and readings.",
+    "This tool supports, and does not replace, a qualified investigator; safety-glazing rules \
+     and conclusions that carry legal weight belong to local codes and licensed practice.",
+];
+
+pub fn screen_title(app: &App) -> &'static str {
+    match app.screen() {
+        Screen::Log => "Incident log",
+        Screen::Incident => "Incident",
+        Screen::Edit => "Edit",
+        Screen::Bench => "Bench calculator",
+    }
+}
+
+/// Draw the whole interface.
+pub fn draw(app: &App, f: &mut Frame) {
+    let area = f.area();
+    let th = theme();
+    if area.width == 0 || area.height == 0 {
+        return;
+    }
+    if area.width < MIN_WIDTH || area.height < MIN_HEIGHT {
+        let msg = format!(
+            "shardlog needs at least {MIN_WIDTH}×{MIN_HEIGHT}; this window is {}×{}. \
+             Enlarge it, or press q to quit.",
+            area.width, area.height
+        );
+        widgets::para(vec![Line::from(msg)]).render(area, f.buffer_mut());
+        return;
+    }
+    let [title, body, status, footer] = Layout::vertical([
+        Constraint::Length(1),
+        Constraint::Fill(1),
+        Constraint::Length(1),
+        Constraint::Length(1),
+    ])
+    .areas(area);
+    draw_title(app, f, title, th);
+    match app.screen() {
+        Screen::Log => super::screens::log::draw(app, f, body, th),
+        Screen::Incident => super::screens::incident::draw(app, f, body, th),
+        Screen::Edit => super::screens::edit::draw(app, f, body, th),
+        Screen::Bench => super::screens::bench::draw(app, f, body, th),
+    }
+    draw_status(app, f, status, th);
+    draw_footer(app, f, footer, th);
+    if app.help_open {
+        draw_help(app, f, body, th);
+    }
+    if let Some(p) = &app.prompt {
+        draw_prompt(p, f, body, th);
+    }
+}
+
+fn draw_title(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
+    let left = format!(" shardlog · {}", screen_title(app));
+    let right = widgets::clean(&app.db_path.display().to_string());
+    let w = area.width as usize;
+    let lw = unicode_width::UnicodeWidthStr::width(left.as_str());
+    let room = w.saturating_sub(lw + 2);
+    let text = if room > 8 {
+        let r = fit(&right, room);
+        let rw = unicode_width::UnicodeWidthStr::width(r.as_str());
+        format!("{left}{}{r} ", " ".repeat(w.saturating_sub(lw + rw + 1)))
+    } else {
+        left
+    };
+    f.buffer_mut()
+        .set_stringn(area.x, area.y, widgets::pad(&text, w), w, th.title);
+}
+
+fn draw_status(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
+    let w = area.width as usize;
+    let (text, style) = match &app.message {
+        Some(m) if m.error => (format!(" ✗ {}", widgets::clean(&m.text)), th.error),
+        Some(m) => (format!(" {}", widgets::clean(&m.text)), th.ok),
+        None => (format!(" {}", app.status_line()), th.muted),
+    };
+    f.buffer_mut()
+        .set_stringn(area.x, area.y, fit(&text, w), w, style);
+}
+
+fn draw_footer(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
+    let ctx = app.ctx();
+    let all = keys::footer_for(ctx);
+    // the help key is always shown, at the end; the others as many as fit before it
+    let help = all
+        .iter()
+        .find(|b| b.action == crate::app::Action::ToggleHelp)
+        .map(|b| (b.label, "help"));
+    let entries: Vec<(&str, &str)> = all
+        .iter()
+        .filter(|b| b.action != crate::app::Action::ToggleHelp)
+        .map(|b| (b.label, short_desc(b.desc)))
+        .collect();
+    let reserve = help
+        .map(|(k, d)| (unicode_width::UnicodeWidthStr::width(k) + d.len() + 3) as u16)
+        .unwrap_or(0);
+    let mut line = widgets::footer_line(&entries, area.width.saturating_sub(reserve), th);
+    if let Some((k, d)) = help {
+        if area.width >= reserve {
+            let used = line.width() as u16;
+            let gap = area.width.saturating_sub(used + reserve) as usize;
+            line.spans.push(Span::raw(" ".repeat(gap)));
+            line.spans
+                .extend(widgets::footer_line(&[(k, d)], reserve, th).spans);
+        }
+    }
+    Paragraph::new(line).render(area, f.buffer_mut());
+}
+
+/// The footer shows the first clause of a description.
+fn short_desc(desc: &str) -> &str {
+    desc.split([':', '(', ','])
+        .next()
+        .unwrap_or(desc)
+        .trim_end()
+}
+
+/// What typing does in a text context (shown at the top of help).
+pub fn typing_note(ctx: Ctx) -> Option<&'static str> {
+    match ctx {
+        Ctx::Field => {
+            Some("Type to edit. A value that cannot be used is marked ✗ with the reason.")
+        }
+        Ctx::MultiField => Some(
+            "One reading per line with its unit (1.02 mm, 850 µm). Enter starts a new line; \
+             ↑/↓ move between lines.",
+        ),
+        Ctx::Pick => Some("Type to narrow the list; Backspace widens it."),
+        _ => None,
+    }
+}
+
+fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
+    let area = widgets::centered(body, 76, body.height);
+    if area.width < 10 || area.height < 3 {
+        return;
+    }
+    // help is about the context underneath
+    let ctx = app.ctx_beneath_help();
+    let mut lines: Vec<Line<'static>> = Vec::new();
+    lines.push(Line::styled(
+        format!("Keys on this screen ({})", screen_title(app)),
+        th.header,
+    ));
+    if let Some(n) = typing_note(ctx) {
+        lines.push(Line::from(n));
+    }
+    let kw = 12usize;
+    for b in keys::bindings_for(ctx) {
+        lines.push(Line::from(vec![
+            Span::styled(widgets::pad(b.label, kw), th.focus_label),
+            Span::raw(b.desc),
+        ]));
+    }
+    if ctx.has_global() {
+        let (k, d) = keys::MOUSE_HELP;
+        lines.push(Line::from(vec![
+            Span::styled(widgets::pad(k, kw), th.focus_label),
+            Span::raw(d),
+        ]));
+    }
+    lines.push(Line::raw(""));
+    lines.push(Line::styled("Cautions", th.header));
+    for c in CAUTIONS {
+        lines.push(Line::styled(format!("• {c}"), th.caution));
+    }
+    lines.push(Line::raw(""));
+    lines.push(Line::styled(
+        "shardlog — fractography and breakage incident log. ? / Esc closes this help.",
+        th.muted,
+    ));
+    let block = Block::default()
+        .borders(Borders::ALL)
+        .border_style(th.focus_border)
+        .title(" Help · ↑/↓ PgUp/PgDn scroll (cautions at the end) · Esc closes ");
+    Clear.render(area, f.buffer_mut());
+    let inner_h = area.height.saturating_sub(2);
+    let max = widgets::wrapped_rows(&lines, area.width.saturating_sub(2)).saturating_sub(inner_h);
+    app.help_scroll_max.set(max);
+    widgets::para(lines)
+        .block(block)
+        .scroll((app.help_scroll.min(max), 0))
+        .render(area, f.buffer_mut());
+}
+
+fn draw_prompt(p: &Prompt, f: &mut Frame, body: Rect, th: &Theme) {
+    let text = match p {
+        Prompt::DiscardChanges => {
+            "You have unsaved changes. Leave and drop them? y = leave, n or Esc = stay"
+        }
+        Prompt::QuitDiscard => {
+            "You have unsaved changes. Quit and drop them? y = quit, n or Esc = stay"
+        }
+    };
+    let area = widgets::centered(body, 50, 5);
+    if area.width < 6 || area.height < 3 {
+        return;
+    }
+    Clear.render(area, f.buffer_mut());
+    widgets::para(vec![Line::styled(text, th.warning)])
+        .block(
+            Block::default()
+                .borders(Borders::ALL)
+                .border_style(th.focus_border)
+                .title(" Unsaved changes "),
+        )
+        .render(area, f.buffer_mut());
+}
+
+/// A titled box; returns the inner area.
+pub fn boxed(f: &mut Frame, area: Rect, title: &str, focused: bool, th: &Theme) -> Rect {
+    let style: Style = if focused { th.focus_border } else { th.border };
+    let block = Block::default()
+        .borders(Borders::ALL)
+        .border_style(style)
+        .title(format!(" {title} "));
+    let inner = block.inner(area);
+    block.render(area, f.buffer_mut());
+    inner
+}

@@ -1,0 +1,447 @@
+//! `shardlog dispute` and `shardlog verify --bundle` from outside: a fresh bundle verifies,
+//! and each kind of edit (a figure, a photo, a removed incident, a PDF, an added file, a
+//! record changed after the export) is found and named.
+
+mod report_common;
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use report_common::*;
+use shardlog::report::bundle::{self, BundleFile};
+use shardlog::report::canonical::{digest, sha256_hex};
+
+fn shardlog(db: &Path, args: &[&str]) -> std::process::Output {
+    Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        .arg("--db")
+        .arg(db)
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+fn copy_dir(from: &Path, to: &Path) {
+    std::fs::create_dir_all(to).unwrap();
+    for e in std::fs::read_dir(from).unwrap() {
+        let e = e.unwrap();
+        let p = e.path();
+        let t = to.join(e.file_name());
+        if p.is_dir() {
+            copy_dir(&p, &t);
+        } else {
+            std::fs::copy(&p, &t).unwrap();
+        }
+    }
+}
+
+fn verify(db: &Path, dir: &Path) -> (i32, String) {
+    let o = shardlog(db, &["verify", "--bundle", dir.to_str().unwrap()]);
+    let text = format!(
+        "{}{}",
+        String::from_utf8_lossy(&o.stdout),
+        String::from_utf8_lossy(&o.stderr)
+    );
+    (o.status.code().unwrap_or(-1), text)
+}
+
+fn read_bundle(dir: &Path) -> BundleFile {
+    serde_json::from_str(&std::fs::read_to_string(dir.join("bundle.json")).unwrap()).unwrap()
+}
+
+/// Write bundle.json back with every digest and file hash made consistent again, as a
+/// careful forger would.
+fn rewrite_consistently(dir: &Path, mut bf: BundleFile) {
+    for i in &mut bf.content.incidents {
+        i.content_sha256 = digest(&i.content).unwrap();
+    }
+    bf.content_sha256 = digest(&bf.content).unwrap();
+    for f in &mut bf.files {
+        if let Ok(b) = std::fs::read(dir.join(&f.path)) {
+            f.sha256 = sha256_hex(&b);
+            f.bytes = b.len() as u64;
+        }
+    }
+    bf.files.retain(|f| dir.join(&f.path).exists());
+    std::fs::write(
+        dir.join("bundle.json"),
+        serde_json::to_string_pretty(&bf).unwrap(),
+    )
+    .unwrap();
+}
+
+struct Setup {
+    _tmp: tempfile::TempDir,
+    db: PathBuf,
+    bundle: PathBuf,
+    work: PathBuf,
+    claimed: Vec<String>,
+}
+
+fn setup() -> Setup {
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 8, 6, false);
+    let db = demo.db.clone();
+    let claimed = demo.claimed.clone();
+    drop(demo.store);
+    let bundle = tmp.path().join("claim-2027-03");
+    let o = shardlog(
+        &db,
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "-o",
+            bundle.to_str().unwrap(),
+        ],
+    );
+    assert!(
+        o.status.success(),
+        "dispute: {}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let out = String::from_utf8_lossy(&o.stdout).to_string();
+    assert!(out.contains("8 incident summaries"), "{out}");
+    let work = tmp.path().join("work");
+    Setup {
+        db,
+        bundle,
+        work,
+        claimed,
+        _tmp: tmp,
+    }
+}
+
+impl Setup {
+    fn copy(&self, name: &str) -> PathBuf {
+        let d = self.work.join(name);
+        copy_dir(&self.bundle, &d);
+        d
+    }
+}
+
+#[test]
+fn a_fresh_bundle_holds_everything_and_verifies() {
+    let s = setup();
+    // kept for looking at: target/tmp/report/bundle
+    let keep = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join("report")
+        .join("bundle");
+    let _ = std::fs::remove_dir_all(&keep);
+    copy_dir(&s.bundle, &keep);
+    for f in ["cover.pdf", "cover.html", "figures.csv", "bundle.json"] {
+        assert!(s.bundle.join(f).exists(), "{f} missing");
+    }
+    for r in &s.claimed {
+        assert!(s.bundle.join(format!("incidents/{r}.pdf")).exists());
+    }
+    let png = sha256_hex(&fixture("mirror-origin.png"));
+    assert!(s.bundle.join(format!("attachments/{png}.png")).exists());
+    let csv = std::fs::read_to_string(s.bundle.join("figures.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 1 + 8);
+    assert!(!csv.contains("NaN"));
+    let bf = read_bundle(&s.bundle);
+    assert_eq!(bf.content.incidents.len(), 8);
+    assert_eq!(bf.content_sha256, digest(&bf.content).unwrap());
+    // cover: the rate against the other supplier and a Weibull row for each
+    assert!(bf
+        .content
+        .cover
+        .rates
+        .iter()
+        .any(|r| r.claimed && r.rate_per_1000.is_some()));
+    assert!(bf.content.cover.rates.iter().any(|r| !r.claimed));
+    assert!(bf.content.cover.weibull.len() >= 2);
+    let cover = Command::new("pdftotext")
+        .args(["-layout"])
+        .arg(s.bundle.join("cover.pdf"))
+        .arg("-")
+        .output()
+        .unwrap();
+    let cover = String::from_utf8_lossy(&cover.stdout);
+    for must in [
+        "Dispute bundle",
+        "Velmara Glassworks",
+        "Torsund Panes",
+        "Rate per 1,000",
+        "Weibull",
+        "Incidents by cause",
+        "Audit-chain head at export",
+        "Cautions",
+    ] {
+        assert!(cover.contains(must), "cover lacks {must}");
+    }
+    assert!(!cover.contains("NaN"));
+
+    let (code, text) = verify(&s.db, &s.bundle);
+    assert_eq!(code, 0, "{text}");
+    assert!(text.contains("ok:") && text.contains("compared with the records"));
+    assert!(text.contains("have not changed since the export"));
+    // without a database: the bundle alone
+    let (code, text) = verify(&s.work.join("no-such.db"), &s.bundle);
+    assert_eq!(code, 0, "{text}");
+    assert!(text.contains("no database"));
+    // the library function the verify command calls
+    let check = bundle::verify_bundle(&s.bundle, None).unwrap();
+    assert!(check.ok() && check.incidents == 8 && check.files_checked > 8);
+}
+
+#[test]
+fn each_kind_of_edit_is_found() {
+    let s = setup();
+    let victim = s.claimed[1].clone();
+
+    // a figure in bundle.json, digests left alone
+    let d = s.copy("figure");
+    let text = std::fs::read_to_string(d.join("bundle.json")).unwrap();
+    let mut bf: BundleFile = serde_json::from_str(&text).unwrap();
+    let a = bf.content.incidents[1]
+        .content
+        .examination
+        .analysis
+        .as_mut()
+        .unwrap();
+    a.applied_stress_pa *= 1.5;
+    std::fs::write(
+        d.join("bundle.json"),
+        serde_json::to_string_pretty(&bf).unwrap(),
+    )
+    .unwrap();
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    assert!(out.contains("content was edited"), "{out}");
+
+    // the same figure with every digest recomputed: the PDFs no longer match, and the
+    // records say otherwise
+    rewrite_consistently(&d, bf.clone());
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("differs from what the bundle's content renders to"),
+        "{out}"
+    );
+    // even after re-rendering every file from the forged content, the records disagree
+    let pictures = std::collections::HashMap::new();
+    for (path, bytes) in bundle::render_files(&bf.content, &pictures, 2) {
+        if !path.starts_with("attachments/") {
+            std::fs::write(d.join(&path), bytes).unwrap();
+        }
+    }
+    rewrite_consistently(&d, bf);
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains(&format!(
+            "incident {victim}: the bundle does not match the records"
+        )) && out.contains("applied_stress_pa"),
+        "{out}"
+    );
+
+    // a photo
+    let d = s.copy("photo");
+    let png = sha256_hex(&fixture("mirror-origin.png"));
+    let p = d.join(format!("attachments/{png}.png"));
+    let mut b = std::fs::read(&p).unwrap();
+    let n = b.len();
+    b[n / 2] ^= 0x40;
+    std::fs::write(&p, b).unwrap();
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains(&format!("attachments/{png}.png: the file was edited")),
+        "{out}"
+    );
+
+    // an incident summary PDF, one byte
+    let d = s.copy("pdf");
+    let p = d.join(format!("incidents/{victim}.pdf"));
+    let mut b = std::fs::read(&p).unwrap();
+    let k = b.len() - 10;
+    b[k] = b[k].wrapping_add(1);
+    std::fs::write(&p, b).unwrap();
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains(&format!("incidents/{victim}.pdf: the file was edited")),
+        "{out}"
+    );
+
+    // a removed incident: its PDF deleted
+    let d = s.copy("removed-pdf");
+    std::fs::remove_file(d.join(format!("incidents/{victim}.pdf"))).unwrap();
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains(&format!("incidents/{victim}.pdf: the file is missing")),
+        "{out}"
+    );
+
+    // a removed incident, removed from bundle.json too and everything made consistent:
+    // only the records can tell, and they do
+    let d = s.copy("removed");
+    std::fs::remove_file(d.join(format!("incidents/{victim}.pdf"))).unwrap();
+    let mut bf = read_bundle(&d);
+    bf.content.incidents.retain(|i| i.reference != victim);
+    bf.content.cover.incidents -= 1;
+    let mut pictures = std::collections::HashMap::new();
+    for a in &bf.content.attachments {
+        if let Some(f) = &a.file {
+            pictures.insert(
+                a.sha256.clone(),
+                std::sync::Arc::new(std::fs::read(d.join(f)).unwrap()),
+            );
+        }
+    }
+    for (path, bytes) in bundle::render_files(&bf.content, &pictures, 2) {
+        std::fs::write(d.join(&path), bytes).unwrap();
+    }
+    rewrite_consistently(&d, bf);
+    let alone = bundle::verify_bundle(&d, None).unwrap();
+    assert!(
+        alone.ok(),
+        "a consistent forgery passes without the records: {:?}",
+        alone.problems
+    );
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains(&format!("incident {victim}: matches the bundle's selection in the records but is missing from the bundle")),
+        "{out}"
+    );
+
+    // a file added to the bundle
+    let d = s.copy("added");
+    std::fs::write(d.join("incidents/BR-999999-0001.pdf"), b"%PDF-1.7 forged").unwrap();
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("BR-999999-0001.pdf: a file that is not part of the bundle"),
+        "{out}"
+    );
+
+    // bundle.json that is not JSON: a clear failure, no panic
+    let d = s.copy("garbage");
+    std::fs::write(d.join("bundle.json"), b"{\"format\": 3").unwrap();
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    assert!(out.contains("bundle.json: not valid JSON"), "{out}");
+}
+
+#[test]
+fn a_record_changed_after_the_export_is_named() {
+    let s = setup();
+    let victim = s.claimed[2].clone();
+    let mut store = shardlog::store::Store::open_existing(&s.db).unwrap();
+    let inc = store.get(&victim).unwrap();
+    let mut cause = inc.cause.clone().unwrap();
+    cause.responsibility = "installer".into();
+    store
+        .set_cause(
+            &victim,
+            inc.revision,
+            Some(cause),
+            None,
+            &shardlog::store::Stamp::new("someone", at("2027-01-01T00:00:00Z")),
+        )
+        .unwrap();
+    drop(store);
+    let (code, out) = verify(&s.db, &s.bundle);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains(&format!(
+            "incident {victim}: the bundle does not match the records"
+        )) && out.contains("content.cause.responsibility"),
+        "{out}"
+    );
+    assert!(
+        out.contains("the database has changed since the export"),
+        "{out}"
+    );
+}
+
+#[test]
+fn dispute_refuses_bad_input_clearly() {
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 1, 1, false);
+    drop(demo.store);
+    let out = tmp.path().join("b");
+    let o = shardlog(
+        &demo.db,
+        &[
+            "dispute",
+            "--supplier",
+            "NOBODY",
+            "-o",
+            out.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--supplier NOBODY"));
+    let o = shardlog(
+        &demo.db,
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "--since",
+            "14/03/2027",
+            "-o",
+            out.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("YYYY-MM-DD"));
+    // an existing, non-empty folder is never overwritten
+    std::fs::create_dir_all(&out).unwrap();
+    std::fs::write(out.join("keep.txt"), b"mine").unwrap();
+    let o = shardlog(
+        &demo.db,
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "-o",
+            out.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(o.status.code(), Some(2));
+    assert_eq!(std::fs::read(out.join("keep.txt")).unwrap(), b"mine");
+    // by supplier name, case-insensitive, works too
+    let out2 = tmp.path().join("c");
+    let o = shardlog(
+        &demo.db,
+        &[
+            "dispute",
+            "--supplier",
+            "velmara glassworks",
+            "-o",
+            out2.to_str().unwrap(),
+        ],
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+}
+
+#[test]
+fn a_bundle_with_a_hostile_incident_is_safe_and_verifies() {
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 2, 1, true);
+    drop(demo.store);
+    let dir = tmp.path().join("hostile-bundle");
+    let o = shardlog(
+        &demo.db,
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "-o",
+            dir.to_str().unwrap(),
+        ],
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    // the text file posing as a photo is kept, under a name nothing would run
+    let fake = sha256_hex(b"<script>alert('not a photo')</script>");
+    assert!(dir.join(format!("attachments/{fake}.bin")).exists());
+    let html = std::fs::read_to_string(dir.join("cover.html")).unwrap();
+    assert!(!html.contains("<script"));
+    let (code, out) = verify(&demo.db, &dir);
+    assert_eq!(code, 0, "{out}");
+}

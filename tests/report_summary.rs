@@ -1,0 +1,327 @@
+//! `shardlog report` from outside: a database made through the store's API, the real
+//! binary, every format read back (PDF through pdftotext).
+
+mod report_common;
+
+use std::path::Path;
+use std::process::Command;
+
+use report_common::*;
+use shardlog::report::canonical;
+use shardlog::report::summary::SummaryJson;
+
+fn shardlog(db: &Path, args: &[&str]) -> std::process::Output {
+    Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        .arg("--db")
+        .arg(db)
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+fn pdftotext(pdf: &Path) -> String {
+    let o = Command::new("pdftotext")
+        .args(["-enc", "UTF-8", "-layout"])
+        .arg(pdf)
+        .arg("-")
+        .output()
+        .expect("pdftotext runs (poppler-utils)");
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        o.status.success() && !err.contains("rror"),
+        "pdftotext: {err}"
+    );
+    String::from_utf8(o.stdout).unwrap()
+}
+
+/// Words a claims engineer must never have to explain away.
+const NEVER: &[&str] = &[
+    "NaN",
+    "null",
+    "None",
+    "Some(",
+    "mirror_mist",
+    "edge_cutting_damage",
+    "soda_lime",
+    "fully_tempered",
+    "cause_assigned",
+    "nickel_sulfide",
+    "inclusion_nis",
+    "origin_type",
+    "stress_pa",
+    "hard_contact",
+    "edge_damage",
+    "rail_car",
+    "third_party",
+    "impact_site",
+    "heat_strengthened",
+];
+
+#[test]
+fn summaries_of_demo_incidents_in_every_format() {
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 4, 2, false);
+    let reference = demo.claimed[0].clone();
+    drop(demo.store);
+    let out = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join("report")
+        .join("summary");
+    std::fs::create_dir_all(&out).unwrap();
+
+    for (fmt, ext) in [
+        ("pdf", "pdf"),
+        ("html", "html"),
+        ("md", "md"),
+        ("json", "json"),
+    ] {
+        let file = out.join(format!("{reference}.{ext}"));
+        let o = shardlog(
+            &demo.db,
+            &[
+                "report",
+                &reference,
+                "--format",
+                fmt,
+                "-o",
+                file.to_str().unwrap(),
+            ],
+        );
+        assert!(
+            o.status.success(),
+            "report --format {fmt}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        assert!(String::from_utf8_lossy(&o.stdout).contains("content SHA-256"));
+        let text = match fmt {
+            "pdf" => pdftotext(&file),
+            _ => std::fs::read_to_string(&file).unwrap(),
+        };
+        if fmt == "json" {
+            let j: SummaryJson = serde_json::from_str(&text).unwrap();
+            assert_eq!(
+                canonical::digest(&j.content).unwrap(),
+                j.proof.content_sha256,
+                "the JSON's digest is the digest of its content"
+            );
+            assert!(j.content.examination.analysis.is_some());
+            continue;
+        }
+        for section in [
+            "Identification",
+            "The glass",
+            "Fracture pattern and origin",
+            "Mirror readings as measured",
+            "Computation, step by step",
+            "Cross-checks",
+            "Cause and conclusion",
+            "Photos and attachments",
+            "Specimen custody",
+            "Case history",
+            "Cautions",
+            "Content SHA-256",
+            "Audit-chain head at export",
+        ] {
+            assert!(text.contains(section), "{fmt}: section {section} missing");
+        }
+        for must in [
+            "Velmara Glassworks (VELMARA)",
+            "24-117",
+            "fully tempered",
+            "central tension",
+            "mirror–mist",
+            "MPa·√m",
+            "95 % interval",
+            "Residual-stress",
+            "Applied stress",
+            "nickel sulfide",
+            "probable",
+            "shelf B",
+            "origin-x20.png",
+            "Broken glass cuts",
+        ] {
+            assert!(text.contains(must), "{fmt}: {must} missing");
+        }
+        for never in NEVER {
+            assert!(!text.contains(never), "{fmt}: {never} appears");
+        }
+        // the photo's hash is shown
+        let sha = canonical::sha256_hex(&fixture("mirror-origin.png"));
+        assert!(text.contains(&sha), "{fmt}: photo hash missing");
+    }
+    // an unknown reference is a clear failure, exit 1
+    let o = shardlog(&demo.db, &["report", "BR-000000-0000", "-o", "/dev/null"]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("BR-000000-0000"));
+    // PDF to the terminal is refused as a usage error
+    let o = shardlog(&demo.db, &["report", &reference]);
+    assert_eq!(o.status.code(), Some(2));
+}
+
+#[test]
+fn a_hostile_incident_is_safe_in_every_format() {
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 1, 0, true);
+    let reference = demo.hostile.clone().unwrap();
+    drop(demo.store);
+    let out = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join("report")
+        .join("summary");
+    std::fs::create_dir_all(&out).unwrap();
+    for fmt in ["pdf", "html", "md", "json"] {
+        let file = out.join(format!("hostile.{fmt}"));
+        let o = shardlog(
+            &demo.db,
+            &[
+                "report",
+                &reference,
+                "--format",
+                fmt,
+                "-o",
+                file.to_str().unwrap(),
+            ],
+        );
+        assert!(
+            o.status.success(),
+            "{fmt}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        match fmt {
+            "pdf" => {
+                let t = pdftotext(&file);
+                assert!(t.contains("<script>alert"));
+                assert!(t.contains("Attachment not shown"));
+                assert!(t.matches('w').count() >= 10_000);
+            }
+            "html" => {
+                let h = std::fs::read_to_string(&file).unwrap();
+                assert!(!h.contains("<script"));
+                assert!(!h.contains("<b>3</b>") && h.contains("&lt;b&gt;3&lt;/b&gt;"));
+                assert!(h.contains("O&#39;Brien &amp; &quot;Sons&quot;"));
+                assert_eq!(h.matches("data:image/").count(), 2);
+            }
+            "md" => {
+                let m = std::fs::read_to_string(&file).unwrap();
+                assert!(!m.contains("<script") && !m.contains("<b>"));
+            }
+            _ => {
+                let j: serde_json::Value =
+                    serde_json::from_str(&std::fs::read_to_string(&file).unwrap()).unwrap();
+                let notes = j["content"]["notes"][0]["text"].as_str().unwrap();
+                assert!(
+                    notes.starts_with(HOSTILE_NOTE),
+                    "JSON keeps the text as it was"
+                );
+            }
+        }
+    }
+}
+
+#[test]
+fn a_bare_incident_reads_plainly() {
+    // only what the intake form requires: no readings, no cause, no photos, no custody
+    let tmp = tempfile::tempdir().unwrap();
+    let db = tmp.path().join("bare.db");
+    let mut s = shardlog::store::Store::open(&db).unwrap();
+    let inc = shardlog::store::Incident::draft(day(2027, 3, 14));
+    let saved = s
+        .create_incident(
+            &inc,
+            &shardlog::store::Stamp::new("mira", at("2027-03-14T09:10:00Z")),
+        )
+        .unwrap();
+    drop(s);
+    for fmt in ["pdf", "html", "md"] {
+        let file = tmp.path().join(format!("bare.{fmt}"));
+        let o = shardlog(
+            &db,
+            &[
+                "report",
+                &saved.reference,
+                "--format",
+                fmt,
+                "--paper",
+                "letter",
+                "-o",
+                file.to_str().unwrap(),
+            ],
+        );
+        assert!(
+            o.status.success(),
+            "{fmt}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        let text = if fmt == "pdf" {
+            pdftotext(&file)
+        } else {
+            std::fs::read_to_string(&file).unwrap()
+        };
+        for must in [
+            "No mirror readings were recorded",
+            "No stress was computed",
+            "not yet assigned",
+            "No photos or files are attached",
+            "No custody entries were recorded",
+            "Cautions",
+        ] {
+            assert!(text.contains(must), "{fmt}: {must} missing");
+        }
+        for never in NEVER {
+            assert!(!text.contains(never), "{fmt}: {never} appears");
+        }
+    }
+}
+
+#[test]
+fn summaries_of_the_shipped_demo_fleet_in_every_format() {
+    // the invented demo fleet of `shardlog demo`, as README's users first see it
+    let tmp = tempfile::tempdir().unwrap();
+    let db = tmp.path().join("demo.db");
+    let o = Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        .args(["demo", "--out", db.to_str().unwrap(), "--incidents", "60"])
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let o = shardlog(&db, &["list", "--json", "--limit", "60"]);
+    assert!(o.status.success());
+    let rows: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let rows = rows.as_array().unwrap();
+    let with_stress = rows.iter().filter(|r| r["stress_mpa"].is_number()).take(3);
+    let without = rows.iter().filter(|r| !r["stress_mpa"].is_number()).take(2);
+    let mut n = 0;
+    for r in with_stress.chain(without) {
+        let reference = r["ref"].as_str().unwrap();
+        for fmt in ["pdf", "html", "md", "json"] {
+            let file = tmp.path().join(format!("{reference}.{fmt}"));
+            let o = shardlog(
+                &db,
+                &[
+                    "report",
+                    reference,
+                    "--format",
+                    fmt,
+                    "-o",
+                    file.to_str().unwrap(),
+                ],
+            );
+            assert!(
+                o.status.success(),
+                "{reference} {fmt}: {}",
+                String::from_utf8_lossy(&o.stderr)
+            );
+            if fmt == "json" {
+                continue;
+            }
+            let text = if fmt == "pdf" {
+                pdftotext(&file)
+            } else {
+                std::fs::read_to_string(&file).unwrap()
+            };
+            assert!(text.contains("Computation, step by step") && text.contains("Cautions"));
+            for never in NEVER {
+                assert!(!text.contains(never), "{reference} {fmt}: {never} appears");
+            }
+        }
+        n += 1;
+    }
+    assert_eq!(n, 5);
+}
