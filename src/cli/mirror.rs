@@ -212,7 +212,10 @@ pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
         Constant(usize),
     }
     let mut events: Vec<(usize, Ev)> = Vec::new();
-    let at = |v: &Vec<usize>, i: usize| v.get(i).copied().unwrap_or(usize::MAX - 1000 + i);
+    // a flag whose position clap did not give goes last; the sort is stable, so such flags
+    // keep their order (the fallback once was `usize::MAX - 1000 + i`, computed eagerly: it
+    // overflowed with more than 1000 readings)
+    let at = |v: &Vec<usize>, i: usize| v.get(i).copied().unwrap_or(usize::MAX);
     events.extend((0..raw.boundary.len()).map(|i| (at(&args.boundary_at, i), Ev::Boundary(i))));
     events.extend((0..raw.radius.len()).map(|i| (at(&args.radius_at, i), Ev::Radius(i))));
     events.extend((0..raw.constant.len()).map(|i| (at(&args.constant_at, i), Ev::Constant(i))));

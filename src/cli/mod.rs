@@ -218,9 +218,16 @@ where
     let cli = match Cli::try_parse_from(args) {
         Ok(c) => c,
         Err(e) => {
-            let code = if e.use_stderr() { 2 } else { 0 };
-            let _ = e.print();
-            return code;
+            if !e.use_stderr() {
+                // --help / --version: our own text, printed with clap's styling
+                let _ = e.print();
+                return 0;
+            }
+            // A usage error quotes what the user typed, and clap passes escape sequences
+            // through when stderr is a terminal: print it as plain, sanitized text.
+            let text = e.render().to_string();
+            eprint!("{}", sanitize_for_terminal(&text, true));
+            return 2;
         }
     };
     let stdout = std::io::stdout();

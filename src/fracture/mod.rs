@@ -232,6 +232,17 @@ fn upper_limit(unit: Unit) -> f64 {
     }
 }
 
+/// Lower limits far below any real part, so nothing downstream underflows to zero or
+/// overflows to infinity (a subnormal radius once gave a stress of 6e161 MPa and a flaw of
+/// 0 µm): 1 nm for lengths, 0.001 MPa·√m for constants and toughness.
+fn lower_limit(unit: Unit) -> f64 {
+    match unit.dimension() {
+        crate::units::Dimension::Length => 1e-9,
+        crate::units::Dimension::Toughness => 1e3,
+        _ => 0.0,
+    }
+}
+
 fn check_positive(field: &str, what: &str, v: f64, unit: Unit) -> Result<(), FractureError> {
     if !v.is_finite() || v <= 0.0 {
         return Err(FractureError::invalid(
@@ -248,6 +259,14 @@ fn check_positive(field: &str, what: &str, v: f64, unit: Unit) -> Result<(), Fra
             format!("at most {}", format(max, unit)),
         ));
     }
+    let min = lower_limit(unit);
+    if v < min {
+        return Err(FractureError::invalid(
+            field,
+            format!("{what} of {} is out of range", format(v, unit)),
+            format!("at least {}", format(min, unit)),
+        ));
+    }
     Ok(())
 }
 
@@ -259,6 +278,19 @@ fn check_constant(field: &str, what: &str, c: &Constant, unit: Unit) -> Result<(
                 field,
                 format!("the spread of {what} must be finite and not negative, got {s}"),
                 "a spread of zero or more".to_string(),
+            ));
+        }
+        // one standard deviation larger than the value says nothing about it, and made the
+        // interval of the flaw size overflow to infinity (found by fuzzing)
+        if s > c.value {
+            return Err(FractureError::invalid(
+                field,
+                format!(
+                    "the spread of {what} ({}) is larger than the value ({})",
+                    format(s, unit),
+                    format(c.value, unit)
+                ),
+                "a spread (one standard deviation) no larger than the value itself",
             ));
         }
     }
@@ -308,6 +340,22 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
             )?;
         }
     }
+    // a user's material (kept by the store as JSON) is checked like a typed constant
+    for (symbol, c) in [
+        ("A_i", &material.a_i),
+        ("A_o", &material.a_o),
+        ("A_b", &material.a_b),
+        ("K_Ic", &material.k_ic),
+    ] {
+        if let Some(c) = c {
+            check_constant(
+                "material",
+                &format!("{symbol} of {}", material.key),
+                c,
+                Unit::MegapascalRootMetre,
+            )?;
+        }
+    }
     for o in &input.constant_overrides {
         check_constant(
             "constant",
@@ -336,11 +384,13 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         }
     }
     if let Some(s) = input.surface_compression_spread_pa {
-        if !s.is_finite() || s < 0.0 {
+        // bounded like the compression itself: a spread of 1e299 Pa made the applied-stress
+        // interval infinite (found by fuzzing)
+        if !s.is_finite() || s < 0.0 || s > upper_limit(Unit::Megapascal) {
             return Err(FractureError::invalid(
                 "surface-compression",
                 format!("spread {s} Pa"),
-                "a spread of zero or more",
+                "a spread of zero or more, at most 10 GPa",
             ));
         }
     }

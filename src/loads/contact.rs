@@ -121,6 +121,7 @@ pub fn static_contact(
     let es = effective_modulus(sphere.check(SPHERE)?, target.check(TARGET)?);
     let a = (3.0 * f * r / (4.0 * es)).cbrt();
     let p0 = 3.0 * f / (2.0 * std::f64::consts::PI * a * a);
+    super::fits("force", f, &[a, p0, a * a / r])?;
     Ok(HertzContact {
         force: f,
         contact_radius: a,
@@ -187,6 +188,7 @@ pub fn sphere_impact(input: &SphereImpact) -> Result<SphereImpactResult, LoadErr
     let energy = 0.5 * m * v * v;
     let delta = (15.0 * m * v * v / (16.0 * es * r.sqrt())).powf(0.4);
     let force = 4.0 / 3.0 * es * r.sqrt() * delta.powf(1.5);
+    super::fits("speed", v, &[m, energy, delta, force, 2.94 * delta / v])?;
     let contact = static_contact(force, r, sphere, target)?;
     let mut warnings = Vec::new();
     if contact.contact_radius > HALF_SPACE_LIMIT * t {

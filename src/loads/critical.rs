@@ -4,7 +4,7 @@
 //! the CLI and interface take it from `fracture::flaw::geometry_factor`, which owns the geometry
 //! cases.
 
-use super::{positive, LoadError};
+use super::{fits, positive, LoadError};
 
 /// Flaw size (m) at which K reaches `toughness` (Pa·√m) under `stress` (Pa), for geometry
 /// factor `y`.
@@ -12,7 +12,10 @@ pub fn critical_size(stress: f64, toughness: f64, y: f64) -> Result<f64, LoadErr
     let s = positive("stress", stress)?;
     let k = positive("toughness", toughness)?;
     let y = positive("flaw", y)?;
-    Ok((k / (y * s)).powi(2))
+    let a = (k / (y * s)).powi(2);
+    // zero (underflow) is as wrong as infinity here
+    fits("stress", s, &[a, 1.0 / a])?;
+    Ok(a)
 }
 
 /// Stress (Pa) at which a flaw of size `a` (m) fails.
@@ -20,7 +23,9 @@ pub fn failure_stress(flaw_size: f64, toughness: f64, y: f64) -> Result<f64, Loa
     let a = positive("flaw-size", flaw_size)?;
     let k = positive("toughness", toughness)?;
     let y = positive("flaw", y)?;
-    Ok(k / (y * a.sqrt()))
+    let s = k / (y * a.sqrt());
+    fits("flaw-size", a, &[s, 1.0 / s])?;
+    Ok(s)
 }
 
 /// Stress intensity (Pa·√m) at flaw size `a` (m).
@@ -55,6 +60,11 @@ pub fn curve(stress: f64, toughness: f64, y: f64, span: f64, n: usize) -> Result
     let n = n.clamp(2, 2000);
     let lo = (ac / span).ln();
     let hi = (ac * span).ln();
+    fits(
+        "span",
+        span,
+        &[lo, hi, ac * span, stress_intensity(stress, ac * span, y)],
+    )?;
     let points = (0..n)
         .map(|i| {
             let a = (lo + (hi - lo) * i as f64 / (n - 1) as f64).exp();

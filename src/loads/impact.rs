@@ -56,6 +56,7 @@ pub fn impulse(input: &Impulse) -> Result<ImpulseResult, LoadError> {
     )?;
     let impulse = m * (1.0 + e) * v;
     let force = impulse / dt;
+    super::fits("speed", v, &[impulse, force, force * 2.0, 0.5 * m * v * v])?;
     let mut warnings = Vec::new();
     if dt < SHORT_CONTACT_S {
         warnings.push(Warning::new(

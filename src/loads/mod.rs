@@ -92,6 +92,21 @@ pub(crate) fn within(
     }
 }
 
+/// Every figure of a result must fit a floating-point number: inputs far past any real part
+/// (a span of 1e300 m, a speed of 1e308 m/s) once gave infinities printed as "—" with exit 0.
+/// Refuse them, naming the input that drives the result.
+pub(crate) fn fits(field: &'static str, value: f64, results: &[f64]) -> Result<(), LoadError> {
+    if results.iter().all(|r| r.is_finite()) {
+        Ok(())
+    } else {
+        Err(LoadError::OutOfRange {
+            field,
+            value,
+            expected: "a value within the range of real parts (the result overflows)",
+        })
+    }
+}
+
 /// Elastic constants of a body, SI.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Elastic {

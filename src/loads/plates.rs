@@ -145,6 +145,11 @@ pub fn bend(plate: &Plate) -> Result<PlateResult, LoadError> {
             rectangular(plate.edges, span, b, t, mat, plate.load)?
         }
     };
+    super::fits(
+        "span",
+        span,
+        &[result.stress, result.deflection, result.force],
+    )?;
     if result.deflection > LARGE_DEFLECTION_RATIO * t {
         result.warnings.push(Warning::new(
             "large-deflection",

@@ -71,6 +71,7 @@ pub fn edge_stress(input: &Thermal) -> Result<ThermalResult, LoadError> {
              input",
         ));
     }
+    super::fits("delta-t", dt, &[per_k, per_k * dt])?;
     Ok(ThermalResult {
         stress: per_k * dt,
         stress_per_kelvin: per_k,
@@ -87,5 +88,6 @@ pub fn allowable_delta_t(
 ) -> Result<f64, LoadError> {
     let per_k = check(youngs_modulus, expansion, restraint)?;
     let s = positive("edge-strength", edge_strength)?;
+    super::fits("edge-strength", s, &[s / per_k])?;
     Ok(s / per_k)
 }

@@ -1,0 +1,248 @@
+//! No SQL is built by string formatting from user data in src/store.
+//!
+//! The scan reads every source file under src/store and finds each `format!` whose text is
+//! SQL (a keyword such as SELECT, INSERT, UPDATE, DELETE, WHERE, PRAGMA, VALUES, SET, MATCH,
+//! ORDER BY, LIMIT, JOIN). Each one must be on the reviewed list below, with what it
+//! interpolates and why that is fixed text (column lists, `?` placeholders, integers from the
+//! code). A new SQL `format!` fails this test until someone has looked at it. Separately, the
+//! SQL handed to rusqlite (`prepare`, `prepare_cached`, `execute`, `execute_batch`,
+//! `query_row`, `query_map`) must be a string literal, a constant, or a variable built by one
+//! of the reviewed sites — never a `format!` written inline.
+
+use std::path::{Path, PathBuf};
+
+/// (file name, a fragment of the format string, what is interpolated and why it is safe)
+const REVIEWED: &[(&str, &str, &str)] = &[
+    ("incidents.rs", "INSERT INTO incidents ({cols}) VALUES", "cols: the COLS constant; the values are ?N placeholders"),
+    ("incidents.rs", "?{i}", "i: a loop counter making ?1..?N placeholders"),
+    ("incidents.rs", "WHERE {}", "conds: fixed condition texts with ? placeholders (filter_sql pushes only literals)"),
+    ("incidents.rs", "{} ORDER BY", "select: a literal; where_clause of fixed condition texts; order_cols and dir from the SortColumn/direction enums; limit an integer"),
+    ("incidents.rs", "ORDER BY i.stress_pa {dir}", "dir from the sort-direction enum, limit an integer"),
+    ("incidents.rs", "UPDATE incidents SET {} WHERE id = ?1", "sets: COLS names with ?N placeholders"),
+    ("incidents.rs", "{c} = ?{}", "c: a name from the COLS constant, then a placeholder number"),
+    ("incidents.rs", "({}) {cmp} ({qs})", "key expressions from the sort column match, cmp '<' or '>' from the direction, qs '?' placeholders"),
+    ("incidents.rs", "(i.stress_pa, i.seq) {cmp} (?, ?)", "cmp '<' or '>' from the direction"),
+    ("incidents.rs", "i.seq {cmp} ?", "cmp '<' or '>' from the direction"),
+    ("incidents.rs", "SELECT count(*) FROM incidents i {}", "where_clause of fixed condition texts"),
+    ("incidents.rs", "FROM {from}", "from: the literal \"incidents i\" or the sqlite::FTS_FROM constant"),
+    ("incidents.rs", "SELECT count(*) FROM {from} {}", "from as above; where_clause of fixed condition texts"),
+    ("incidents.rs", "i.lot_id IN ({})", "one '?' placeholder per resolved lot id"),
+    ("demo.rs", "DROP INDEX \"{}\"", "index names read from sqlite_master (the schema's own), quotes removed"),
+    ("sqlite.rs", "PRAGMA user_version = {v}", "v: an i64 schema version from the migration table in the code"),
+    ("sqlite.rs", "PRAGMA application_id = {APPLICATION_ID}", "a constant"),
+];
+
+const SQL_WORDS: &[&str] = &[
+    "SELECT", "INSERT", "UPDATE", "DELETE", "WHERE", "PRAGMA", "VALUES", " SET ", "MATCH",
+    "ORDER BY", "LIMIT", "JOIN", "CREATE", "DROP",
+];
+
+fn rust_files(dir: &Path, out: &mut Vec<PathBuf>) {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
+    for e in entries.flatten() {
+        let p = e.path();
+        if p.is_dir() {
+            rust_files(&p, out);
+        } else if p.extension().is_some_and(|x| x == "rs") {
+            out.push(p);
+        }
+    }
+}
+
+/// Each `format!(` in the text with the text of its first argument (the literal, raw or
+/// not) and the line it starts on. Test modules (`#[cfg(test)]` to the end) are skipped.
+fn format_calls(src: &str) -> Vec<(usize, String)> {
+    let body = match src.find("#[cfg(test)]") {
+        Some(at) => &src[..at],
+        None => src,
+    };
+    let mut out = Vec::new();
+    let mut rest = body;
+    let mut offset = 0;
+    while let Some(at) = rest.find("format!(") {
+        let start = offset + at;
+        let after = &body[start + "format!(".len()..];
+        let lit = first_literal(after);
+        let line = body[..start].matches('\n').count() + 1;
+        out.push((line, lit));
+        offset = start + "format!(".len();
+        rest = &body[offset..];
+    }
+    out
+}
+
+/// The first string literal at the start of `s` (after white space), "" if none.
+fn first_literal(s: &str) -> String {
+    let t = s.trim_start();
+    if let Some(r) = t.strip_prefix("r#\"") {
+        return r.split("\"#").next().unwrap_or("").to_string();
+    }
+    if let Some(r) = t.strip_prefix("r\"") {
+        return r.split('"').next().unwrap_or("").to_string();
+    }
+    if let Some(r) = t.strip_prefix('"') {
+        let mut lit = String::new();
+        let mut escaped = false;
+        for c in r.chars() {
+            if escaped {
+                lit.push(c);
+                escaped = false;
+            } else if c == '\\' {
+                escaped = true;
+            } else if c == '"' {
+                break;
+            } else {
+                lit.push(c);
+            }
+        }
+        return lit;
+    }
+    String::new()
+}
+
+fn is_sql(lit: &str) -> bool {
+    // an English message may contain "deleted" or "set"; SQL keywords here are upper case
+    SQL_WORDS.iter().any(|w| lit.contains(w))
+        || lit.starts_with('?')
+        || ["?{", "= ?", "(?", "{cmp}"].iter().any(|p| lit.contains(p))
+}
+
+/// SQL `format!` sites that are not on the reviewed list: (file, line, literal).
+fn unreviewed(files: &[(String, String)]) -> Vec<String> {
+    let mut bad = Vec::new();
+    for (name, src) in files {
+        for (line, lit) in format_calls(src) {
+            if !is_sql(&lit) {
+                continue;
+            }
+            let known = REVIEWED
+                .iter()
+                .any(|(f, frag, _)| name.ends_with(f) && lit.contains(frag));
+            if !known {
+                bad.push(format!("{name}:{line}: format!(\"{lit}\")"));
+            }
+        }
+    }
+    bad
+}
+
+/// Calls that hand SQL to rusqlite with a `format!` written straight into the call.
+fn inline_format_sql(files: &[(String, String)]) -> Vec<String> {
+    let calls = [
+        ".prepare(&format!",
+        ".prepare_cached(&format!",
+        ".execute(&format!",
+        ".execute_batch(&format!",
+        ".query_row(&format!",
+    ];
+    let mut bad = Vec::new();
+    for (name, src) in files {
+        for (i, l) in src.lines().enumerate() {
+            let squeezed: String = l.chars().filter(|c| !c.is_whitespace()).collect();
+            for c in calls {
+                if squeezed.contains(c) {
+                    let lit = first_literal(l.split("format!(").nth(1).unwrap_or(""));
+                    let reviewed = REVIEWED
+                        .iter()
+                        .any(|(f, frag, _)| name.ends_with(f) && lit.contains(frag));
+                    if !reviewed {
+                        bad.push(format!("{name}:{}: {}", i + 1, l.trim()));
+                    }
+                }
+            }
+        }
+    }
+    bad
+}
+
+fn store_sources() -> Vec<(String, String)> {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("src")
+        .join("store");
+    let mut paths = Vec::new();
+    rust_files(&root, &mut paths);
+    paths.sort();
+    paths
+        .into_iter()
+        .map(|p| {
+            let text = std::fs::read_to_string(&p).expect("source readable");
+            (p.display().to_string(), text)
+        })
+        .collect()
+}
+
+#[test]
+fn store_builds_no_sql_from_user_data() {
+    let files = store_sources();
+    assert!(
+        files.iter().any(|(n, _)| n.ends_with("incidents.rs")),
+        "the scan found the store's sources"
+    );
+    let sql_sites: usize = files
+        .iter()
+        .map(|(_, s)| format_calls(s).iter().filter(|(_, l)| is_sql(l)).count())
+        .sum();
+    assert!(
+        sql_sites >= 3,
+        "the scan sees the known SQL builders ({sql_sites})"
+    );
+    let bad = unreviewed(&files);
+    assert!(
+        bad.is_empty(),
+        "SQL built with format! and not reviewed:\n{}",
+        bad.join("\n")
+    );
+    let inline = inline_format_sql(&files);
+    assert!(
+        inline.is_empty(),
+        "format! inside a rusqlite call:\n{}",
+        inline.join("\n")
+    );
+}
+
+/// The condition texts of the list filter are literals: no `format!` pushed into them.
+#[test]
+fn filter_conditions_are_literal_text() {
+    let files = store_sources();
+    let (_, src) = files
+        .iter()
+        .find(|(n, _)| n.ends_with("incidents.rs"))
+        .expect("incidents.rs");
+    let start = src.find("fn filter_sql").expect("filter_sql exists");
+    let end = src[start..].find("\n}\n").map_or(src.len(), |e| start + e);
+    let body = &src[start..end];
+    assert!(body.contains("c.push("), "filter_sql pushes conditions");
+    for (at, _) in body.match_indices("c.push(") {
+        let arg = body[at + "c.push(".len()..].trim_start();
+        let line = arg.lines().next().unwrap_or("");
+        assert!(
+            arg.starts_with('"')
+                || arg.starts_with("sqlite::FTS_CONDITION")
+                // placeholders only: one "?" per resolved id
+                || arg.starts_with(r#"format!("i.lot_id IN ({})", vec!["?"; "#),
+            "a condition that is not literal text: {line}"
+        );
+    }
+}
+
+/// The scan flags what it must: a planted user value in SQL text, inline or not.
+#[test]
+fn the_scan_catches_a_planted_injection() {
+    let planted = vec![(
+        "src/store/planted.rs".to_string(),
+        r#"fn f(conn: &Connection, name: &str) {
+    let sql = format!("SELECT * FROM incidents WHERE reference = '{name}'");
+    conn.execute(&format!("DELETE FROM sites WHERE code = '{}'", name), []).ok();
+}"#
+        .to_string(),
+    )];
+    assert_eq!(unreviewed(&planted).len(), 2);
+    assert_eq!(inline_format_sql(&planted).len(), 1);
+    let harmless = vec![(
+        "src/store/planted.rs".to_string(),
+        r#"fn g(n: usize) -> String { format!("{n} incidents were deleted") }"#.to_string(),
+    )];
+    assert!(unreviewed(&harmless).is_empty());
+}
