@@ -267,6 +267,13 @@ fn sample_db_matches_the_generator() {
     // copy the committed file so the test never writes into the source tree
     let committed = dir.path().join("committed.db");
     std::fs::copy(root.join("demo.db"), &committed).unwrap();
+    // the evidence travels with the database: verify checks every attachment's file
+    let files = dir.path().join("committed.db.files");
+    std::fs::create_dir(&files).unwrap();
+    for e in std::fs::read_dir(root.join("demo.db.files")).unwrap() {
+        let e = e.unwrap();
+        std::fs::copy(e.path(), files.join(e.file_name())).unwrap();
+    }
     let fresh = dir.path().join("fresh.db");
     demo::generate(
         &fresh,

@@ -34,7 +34,8 @@ fn demo_db(dir: &Path, n: u64) -> PathBuf {
 #[test]
 fn json_round_trip_is_identical() {
     let dir = tempfile::tempdir().unwrap();
-    let src = Store::open_existing(&demo_db(dir.path(), 80)).unwrap();
+    let src_path = demo_db(dir.path(), 80);
+    let src = Store::open_existing(&src_path).unwrap();
     let first = src.export_json(&Filter::default()).unwrap();
     assert!(first.contains("\"readings\""));
     assert!(first.contains("\"custody\""));
@@ -52,6 +53,25 @@ fn json_round_trip_is_identical() {
     assert_eq!(sum.incidents, 80);
     let second = dst.export_json(&Filter::default()).unwrap();
     assert!(first == second, "export after import differs");
+    // JSON carries attachments by hash; until their files are copied beside the new
+    // database, verify reports the evidence as missing
+    let missing = dst.verify().unwrap();
+    assert!(!missing.ok());
+    assert!(
+        missing
+            .first_problem
+            .as_deref()
+            .is_some_and(|p| p.contains("attachment")),
+        "{missing:?}"
+    );
+    let mut src_files = src_path.as_os_str().to_os_string();
+    src_files.push(".files");
+    let dst_files = dir.path().join("copy.db.files");
+    std::fs::create_dir_all(&dst_files).unwrap();
+    for e in std::fs::read_dir(std::path::PathBuf::from(src_files)).unwrap() {
+        let e = e.unwrap();
+        std::fs::copy(e.path(), dst_files.join(e.file_name())).unwrap();
+    }
     assert!(dst.verify().unwrap().ok());
     // the imported records carry the importer in their history
     let any = &dst

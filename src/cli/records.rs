@@ -217,7 +217,44 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     }
     match args.output {
         None => ctx.out.write_all(&buf)?,
-        Some(path) => write_whole(&path, &buf)?,
+        Some(path) => {
+            refuse_database_files(&path, &ctx.db, "-o")?;
+            write_whole(&path, &buf)?
+        }
+    }
+    Ok(())
+}
+
+/// An output path must never be the database itself, its journal files or its attachment
+/// folder: writing there would destroy the records. Compared after resolving links and `..`.
+pub fn refuse_database_files(out: &Path, db: &Path, flag: &str) -> Result<(), CliError> {
+    fn resolved(p: &Path) -> Option<std::path::PathBuf> {
+        if let Ok(c) = p.canonicalize() {
+            return Some(c);
+        }
+        let parent = match p.parent() {
+            Some(d) if !d.as_os_str().is_empty() => d.canonicalize().ok()?,
+            _ => std::env::current_dir().ok()?,
+        };
+        Some(parent.join(p.file_name()?))
+    }
+    let (Some(out_r), Some(db_r)) = (resolved(out), resolved(db)) else {
+        return Ok(());
+    };
+    let mut guarded = vec![db_r.clone()];
+    for suffix in ["-wal", "-shm", "-journal", ".files"] {
+        let mut name = db_r.as_os_str().to_os_string();
+        name.push(suffix);
+        guarded.push(std::path::PathBuf::from(name));
+    }
+    if guarded
+        .iter()
+        .any(|g| out_r == *g || out_r.starts_with(&guarded[4]))
+    {
+        return Err(CliError::work(format!(
+            "{flag}: {} is the database or one of its own files; choose another path",
+            out.display()
+        )));
     }
     Ok(())
 }
@@ -577,6 +614,7 @@ pub struct BackupArgs {
 }
 
 pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    refuse_database_files(&args.dest, &ctx.db, "DEST")?;
     let s = open(&ctx.db)?;
     let r = s.backup(&args.dest).map_err(work)?;
     match r.first_problem {

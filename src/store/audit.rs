@@ -528,6 +528,48 @@ impl Store {
                 );
             }
         }
+
+        // 3. the evidence: every attachment's file is in the attachment folder and still has
+        // the content its hash names (skipped for a database with no folder, i.e. in memory)
+        if let Some(dir) = self.files_dir.as_deref() {
+            let mut stmt = self.conn.prepare(
+                "SELECT i.reference, a.entry_no, a.sha256 FROM attachments a
+                 JOIN incidents i ON i.id = a.incident_id ORDER BY i.reference, a.entry_no",
+            )?;
+            let mut rows = stmt.query([])?;
+            while let Some(r) = rows.next()? {
+                let reference: String = r.get(0)?;
+                let entry: i64 = r.get(1)?;
+                let sha: String = r.get(2)?;
+                report.records_checked += 1;
+                let well_formed = sha.len() == 64 && sha.bytes().all(|b| b.is_ascii_hexdigit());
+                let path = dir.join(&sha);
+                let msg = if !well_formed {
+                    Some("its hash is not a SHA-256".to_string())
+                } else {
+                    match std::fs::read(&path) {
+                        Err(_) => Some(format!(
+                            "its file {sha} is not in the attachment folder {}",
+                            dir.display()
+                        )),
+                        Ok(bytes) => {
+                            let got = canon::hex(&Sha256::digest(&bytes));
+                            (got != sha.to_ascii_lowercase()).then(|| {
+                                format!(
+                                    "its file {sha} no longer has that content (SHA-256 now {got})"
+                                )
+                            })
+                        }
+                    }
+                };
+                if let Some(m) = msg {
+                    problem(
+                        &mut report,
+                        format!("incident {reference}: attachment {entry}: {m}"),
+                    );
+                }
+            }
+        }
         Ok(report)
     }
 }
