@@ -819,35 +819,19 @@ pub fn load(
         .map_err(|e| CliError::work(e.to_string()))?;
     let incidents = rows
         .into_iter()
-        .map(|r| IncidentFacts {
-            stress_pa: match q.stress {
+        .map(|r| {
+            let stress = match q.stress {
                 StressKind::Applied => r.applied_stress_pa,
                 StressKind::Net => r.net_stress_pa,
-            },
-            cause: r.cause,
-            origin_type: r.origin_type,
-            supplier: r.supplier,
-            product: r.product,
-            lot: r.lot,
-            site: r.site,
-            asset_type: r.asset_type,
-            temper: r.temper,
-            found: r.found_on,
+            };
+            r.into_facts(stress)
         })
         .collect();
     let exposures = store
         .exposure()
         .map_err(|e| CliError::work(e.to_string()))?
-        .into_iter()
-        .map(|e| Exposure {
-            supplier: Some(e.supplier),
-            product: e.product,
-            lot: e.lot,
-            site: e.site,
-            panes: e.panes as f64,
-            from: e.installed_on,
-            until: e.removed_on,
-        })
+        .iter()
+        .map(|e| e.to_fleet())
         .collect();
     Ok((incidents, exposures))
 }

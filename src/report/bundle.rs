@@ -384,31 +384,12 @@ fn cover(
     let window = fleet::Window::new(since, until).map_err(|e| BundleError::Usage(e.to_string()))?;
     let facts: Vec<fleet::IncidentFacts> = all_rows
         .iter()
-        .map(|r| fleet::IncidentFacts {
-            cause: r.cause.clone(),
-            origin_type: r.origin_type.clone(),
-            supplier: r.supplier.clone(),
-            product: r.product.clone(),
-            lot: r.lot.clone(),
-            site: r.site.clone(),
-            asset_type: r.asset_type.clone(),
-            temper: r.temper.clone(),
-            found: r.found_on,
-            stress_pa: r.applied_stress_pa.filter(|v| v.is_finite() && *v > 0.0),
+        .map(|r| {
+            let stress = r.applied_stress_pa.filter(|v| v.is_finite() && *v > 0.0);
+            r.clone().into_facts(stress)
         })
         .collect();
-    let exposures: Vec<fleet::Exposure> = exposure
-        .iter()
-        .map(|e| fleet::Exposure {
-            supplier: Some(e.supplier.clone()),
-            product: e.product.clone(),
-            lot: e.lot.clone(),
-            site: e.site.clone(),
-            panes: e.panes as f64,
-            from: e.installed_on,
-            until: e.removed_on,
-        })
-        .collect();
+    let exposures: Vec<fleet::Exposure> = exposure.iter().map(|e| e.to_fleet()).collect();
     let table = fleet::group(
         &facts,
         &exposures,

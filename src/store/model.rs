@@ -586,3 +586,37 @@ impl VerifyReport {
         self.first_problem.is_none()
     }
 }
+
+impl FleetRow {
+    /// The facts the fleet statistics group, with the stress the caller chose (applied or
+    /// net, filtered as it needs). One mapping for every caller (stats, dispute bundles).
+    pub fn into_facts(self, stress_pa: Option<f64>) -> crate::fleet::IncidentFacts {
+        crate::fleet::IncidentFacts {
+            cause: self.cause,
+            origin_type: self.origin_type,
+            supplier: self.supplier,
+            product: self.product,
+            lot: self.lot,
+            site: self.site,
+            asset_type: self.asset_type,
+            temper: self.temper,
+            found: self.found_on,
+            stress_pa,
+        }
+    }
+}
+
+impl Exposure {
+    /// The same panes as the fleet statistics count them.
+    pub fn to_fleet(&self) -> crate::fleet::Exposure {
+        crate::fleet::Exposure {
+            supplier: Some(self.supplier.clone()),
+            product: self.product.clone(),
+            lot: self.lot.clone(),
+            site: self.site.clone(),
+            panes: self.panes as f64,
+            from: self.installed_on,
+            until: self.removed_on,
+        }
+    }
+}
