@@ -2,12 +2,17 @@
 //! depots and a few hundred cars, glazed by four invented suppliers. Every name here is
 //! invented. Deterministic from a seed.
 //!
-//! The story the data tells: thermal edge breaks in annealed and heat-strengthened panes
-//! lead, peaking in March and November, at low stress; impacts (ballast strikes) and
-//! vandalism follow at high stress; one fully tempered side-window lot of Brellin Safety
+//! The story the data tells: impacts (ballast strikes) and vandalism lead, at high
+//! stress; thermal edge breaks in annealed (and a few heat-strengthened) panes peak in
+//! March and November, at low stress, and never occur in fully tempered panes; one fully tempered side-window lot of Brellin Safety
 //! Glass (BS-2207) shows interior origins at nickel sulfide stones, at low applied stress
 //! (spontaneous breakage). Mirror readings are drawn from a target stress with
 //! R = (A/σ)² plus scatter, and the stored result is computed by the fracture core.
+//!
+//! Each record is entered after the last event it describes (the examination, or the
+//! disposal of the specimen when the case is closed), so its audit stamp never precedes a
+//! custody entry, examination or photograph in it; the log is a snapshot taken on
+//! 2026-11-30, so recent breakages are still open.
 
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -293,13 +298,95 @@ struct Plan {
     slot: usize,
     car: usize,
     cause: CauseKind,
+    life: Life,
+}
+
+/// What happens to a breakage after it is found, decided before it is written so that the
+/// record can be entered (and its audit row stamped) after the last event it describes:
+/// no record carries a custody entry, examination or attachment dated after its own entry.
+#[derive(Clone, Copy)]
+struct Life {
+    /// Sent to the lab and examined.
+    examined: bool,
+    /// Minutes after midnight of the day after finding when the lab received the specimen.
+    received_min: u32,
+    /// Days after finding the examination was made (1..=6).
+    exam_days: u64,
+    /// A cause was assigned (always when examined).
+    assigned: bool,
+    /// The case was closed (an examined specimen is then disposed of).
+    closed: bool,
+    /// Days after receipt an examined specimen was disposed of.
+    dispose_days: i64,
+    /// When the record was entered into the log: after its last event.
+    entered: DateTime<Utc>,
+}
+
+/// The moment the demo log is a snapshot of: nothing in it happens later.
+fn snapshot() -> DateTime<Utc> {
+    at_time(ymd(2026, 11, 30), 17 * 60)
+}
+
+/// Share of incidents of a cause that are sent to the lab (before the benchmark-scale cap).
+fn lab_rate(cause: CauseKind) -> f64 {
+    match cause {
+        CauseKind::Thermal => 0.75,
+        CauseKind::Impact => 0.35,
+        CauseKind::Vandalism => 0.2,
+        CauseKind::HardContact | CauseKind::EdgeDamage => 0.8,
+        CauseKind::NickelSulfide => 1.0,
+        CauseKind::Handling => 0.5,
+        CauseKind::Pressure => 0.6,
+        CauseKind::Unknown => 0.5,
+    }
+}
+
+fn plan_life(rng: &mut Rng, cause: CauseKind, found_on: NaiveDate, lab_share: f64) -> Life {
+    let mut examined = rng.chance(lab_share * lab_rate(cause));
+    let received_min = 9 * 60 + rng.below(120) as u32;
+    let exam_days = 1 + rng.below(6) as u64;
+    let examined_at = at_time(found_on + Days::new(exam_days), 15 * 60);
+    if examined && examined_at > snapshot() {
+        examined = false;
+    }
+    let assigned =
+        examined || matches!(cause, CauseKind::Impact | CauseKind::Vandalism) && rng.chance(0.7);
+    let mut closed = assigned && cause != CauseKind::NickelSulfide && rng.chance(0.4);
+    let dispose_days = 30 + rng.below(60) as i64;
+    let received = at_time(found_on + Days::new(1), received_min);
+    let disposed = received + chrono::Duration::days(dispose_days);
+    if examined && closed && disposed > snapshot() {
+        closed = false;
+    }
+    let after = |t: DateTime<Utc>, rng: &mut Rng| {
+        (t + chrono::Duration::minutes(10 + rng.below(120) as i64)).min(snapshot())
+    };
+    let entered = if examined && closed {
+        after(disposed, rng)
+    } else if examined {
+        after(examined_at, rng)
+    } else {
+        at_time(found_on, 7 * 60 + rng.below(600) as u32)
+    };
+    Life {
+        examined,
+        received_min,
+        exam_days,
+        assigned,
+        closed,
+        dispose_days,
+        entered,
+    }
 }
 
 fn cause_for(rng: &mut Rng, temper: &str) -> CauseKind {
+    // a fully tempered pane survives a temperature difference of about 200 K across it
+    // (common practice); thermal breaks are an annealed-glass problem, rare in
+    // heat-strengthened panes and left out for fully tempered ones
     let thermal = match temper {
         "annealed" => 0.42,
-        "heat_strengthened" => 0.20,
-        _ => 0.03,
+        "heat_strengthened" => 0.06,
+        _ => 0.0,
     };
     let edge = match temper {
         "fully_tempered" => 0.02,
@@ -764,6 +851,9 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
             (p.supplier, p.code, s.lot.as_str()) == HOT_LOT && windows[i].is_some()
         })
         .collect();
+    // a lab examines a few thousand breakages, not a million: at benchmark scale the
+    // share examined falls so that about 20,000 examinations are generated at most
+    let lab_share = (20_000.0 / o.incidents as f64).min(1.0);
     let mut plans = Vec::with_capacity(o.incidents as usize);
     for n in 0..o.incidents {
         let (slot, cause) = if !hot.is_empty() && rng.chance(0.03) {
@@ -786,15 +876,18 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         }
         let s = &world.slots[slot];
         let car = s.cars.start + rng.below(s.cars.len().max(1));
+        let life = plan_life(&mut rng, cause, found_on, lab_share);
         plans.push(Plan {
             found_on,
             order: rng.next() ^ n,
             slot,
             car,
             cause,
+            life,
         });
     }
-    plans.sort_by_key(|p| (p.found_on, p.order));
+    // written in the order they were entered, so the audit chain runs forward in time
+    plans.sort_by_key(|p| (p.life.entered, p.found_on, p.order));
 
     // write them
     let mut per_day: HashMap<NaiveDate, u32> = HashMap::new();
@@ -808,7 +901,8 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         let n = per_day.entry(plan.found_on).or_insert(0);
         *n += 1;
         let reference = format_reference(plan.found_on, *n)?;
-        let created = at_time(plan.found_on, 7 * 60 + rng.below(600) as u32);
+        let life = plan.life;
+        let created = life.entered;
         let analyst = *rng.pick(&ANALYSTS);
         let stamp = Stamp::new(analyst, created);
         let ms = stamp.at.timestamp_millis();
@@ -875,22 +969,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         }
         let (sigma, location, origin_type) = target(&mut rng, plan.cause, pdef.temper);
         let sigma = sigma.max(8e6);
-        // a lab examines a few thousand breakages, not a million: at benchmark scale the
-        // share examined falls so that about 20,000 examinations are generated at most
-        let lab_share = (20_000.0 / o.incidents as f64).min(1.0);
-        let examined = rng.chance(
-            lab_share
-                * match plan.cause {
-                    CauseKind::Thermal => 0.75,
-                    CauseKind::Impact => 0.35,
-                    CauseKind::Vandalism => 0.2,
-                    CauseKind::HardContact | CauseKind::EdgeDamage => 0.8,
-                    CauseKind::NickelSulfide => 1.0,
-                    CauseKind::Handling => 0.5,
-                    CauseKind::Pressure => 0.6,
-                    CauseKind::Unknown => 0.5,
-                },
-        );
+        let examined = life.examined;
         let fragmented = pdef.temper == "fully_tempered";
         inc.pattern = FracturePattern {
             crack_count: if fragmented {
@@ -911,7 +990,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
                 String::new()
             },
         };
-        let received = at_time(plan.found_on + Days::new(1), 9 * 60 + rng.below(120) as u32);
+        let received = at_time(plan.found_on + Days::new(1), life.received_min);
         if examined {
             let mut readings = Vec::new();
             if let Some(m) = &materials {
@@ -960,7 +1039,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
             });
             let mut exam = Examination {
                 id: store.ids.uuid_v7(ms),
-                examined_on: Some(plan.found_on + Days::new(1 + rng.below(6) as u64)),
+                examined_on: Some(plan.found_on + Days::new(life.exam_days)),
                 analyst: analyst.into(),
                 origin_type: Some(origin_type.into()),
                 material: None,
@@ -998,9 +1077,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
                 note: String::new(),
             });
         }
-        let assigned = examined
-            || matches!(plan.cause, CauseKind::Impact | CauseKind::Vandalism) && rng.chance(0.7);
-        if assigned {
+        if life.assigned {
             let confidence = if examined {
                 if rng.chance(0.6) {
                     "confirmed"
@@ -1032,7 +1109,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
             });
             inc.status = if plan.cause == CauseKind::NickelSulfide {
                 "claim_open".into()
-            } else if rng.chance(0.4) {
+            } else if life.closed {
                 "closed".into()
             } else {
                 "cause_assigned".into()
@@ -1040,7 +1117,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
             if examined && inc.status == "closed" {
                 inc.custody.push(CustodyEntry {
                     id: store.ids.uuid_v7(ms),
-                    at: received + chrono::Duration::days(30 + rng.below(60) as i64),
+                    at: received + chrono::Duration::days(life.dispose_days),
                     action: "disposed".into(),
                     who: analyst.into(),
                     location: "glass recycling skip".into(),
@@ -1072,7 +1149,8 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
                 media_type: "image/png".into(),
                 size_bytes: bytes.len() as i64,
                 caption: "origin under the stereo microscope".into(),
-                added_at: stamp.at + chrono::Duration::days(2),
+                // photographed at the examination, before the record was entered
+                added_at: at_time(plan.found_on + Days::new(life.exam_days), 15 * 60 + 5),
             });
             attachments_left -= 1;
             summary.attachments += 1;
