@@ -231,7 +231,7 @@ fn edit_validate_save_and_see_the_history_entry() {
     assert_eq!(app.incident.as_ref().unwrap().section, Section::History);
     let lines = render(&mut app, 100, 30);
     let first_entry = lines.iter().find(|l| l.contains(" #")).unwrap();
-    assert!(first_entry.contains("update"), "{first_entry}");
+    assert!(first_entry.contains("changed"), "{first_entry}");
     assert!(first_entry.contains("position"), "{first_entry}");
     assert!(text(&lines).contains(&reference));
 }
@@ -458,4 +458,68 @@ fn leaving_the_bench_with_unsaved_readings_asks_first() {
     send(&mut app, &key(KeyCode::Esc)); // no: stay
     assert_eq!(app.screen(), Screen::Bench);
     assert_eq!(app.bench.form.text("r_mist"), "1.1 mm");
+}
+
+/// A laminated pane's second ply is edited in the Glass section like the first; a second
+/// ply left empty is no ply, and a third ply recorded elsewhere is kept and shown.
+#[test]
+fn every_ply_of_the_make_up_is_editable() {
+    let (f, mut app) = fixture(1);
+    open_first(&mut app);
+    let id = app.incident.as_ref().unwrap().incident.id.clone();
+    send(&mut app, &key(KeyCode::Tab));
+    assert_eq!(app.incident.as_ref().unwrap().section, Section::Glass);
+    // ply 1 only: the empty ply 2 fields do not make a second ply
+    send(&mut app, &key(KeyCode::Char('e')));
+    app.edit.as_mut().unwrap().form.set_focus("thickness");
+    type_str(&mut app, "6 mm");
+    send(&mut app, &ctrl('s'));
+    assert_eq!(app.screen(), Screen::Incident, "{:?}", app.message);
+    let plies = &app.incident.as_ref().unwrap().incident.glass.plies;
+    assert_eq!(plies.len(), 1);
+    assert!((plies[0].thickness_m.unwrap() - 0.006).abs() < 1e-12);
+    // now the inner ply of a laminate
+    send(&mut app, &key(KeyCode::Char('e')));
+    let t = text(&render(&mut app, 100, 40));
+    assert!(
+        t.contains("Ply 2 temper ") && !t.contains("Ply 2 temper c…"),
+        "{t}"
+    );
+    app.edit.as_mut().unwrap().form.set_focus("ply2_temper");
+    type_str(&mut app, "fully\n");
+    app.edit.as_mut().unwrap().form.set_focus("ply2_thickness");
+    type_str(&mut app, "4 mm");
+    send(&mut app, &ctrl('s'));
+    assert_eq!(app.screen(), Screen::Incident, "{:?}", app.message);
+    let store = Store::open(&f.path).unwrap();
+    let stored = store.get(&id).unwrap();
+    assert_eq!(stored.glass.plies.len(), 2);
+    assert_eq!(
+        stored.glass.plies[1].temper.as_deref(),
+        Some("fully_tempered")
+    );
+    assert!((stored.glass.plies[1].thickness_m.unwrap() - 0.004).abs() < 1e-12);
+    assert!((stored.glass.plies[0].thickness_m.unwrap() - 0.006).abs() < 1e-12);
+    // a third ply added by another user is shown and survives an edit of ply 2
+    let mut other = Store::open(&f.path).unwrap();
+    let mut inc = other.get(&id).unwrap();
+    let mut third = inc.glass.plies[0].clone();
+    third.coating = "low-e on face 5".into();
+    inc.glass.plies.push(third);
+    other.update_incident(&inc, &stamp()).unwrap();
+    drop(app);
+    let mut app = App::with_store(Store::open(&f.path).unwrap(), &f.path).unwrap();
+    open_first(&mut app);
+    send(&mut app, &key(KeyCode::Tab));
+    send(&mut app, &key(KeyCode::Char('e')));
+    let form = &app.edit.as_ref().unwrap().form;
+    assert_eq!(form.text("ply3_coating"), "low-e on face 5");
+    app.edit.as_mut().unwrap().form.set_focus("ply2_coating");
+    type_str(&mut app, "none");
+    send(&mut app, &ctrl('s'));
+    assert_eq!(app.screen(), Screen::Incident, "{:?}", app.message);
+    let stored = other.get(&id).unwrap();
+    assert_eq!(stored.glass.plies.len(), 3);
+    assert_eq!(stored.glass.plies[1].coating, "none");
+    assert_eq!(stored.glass.plies[2].coating, "low-e on face 5");
 }

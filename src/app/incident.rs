@@ -8,7 +8,7 @@ use super::field::{Field, FieldKind, FieldValue};
 use super::form::Form;
 use super::picklist::{PickItem, PickList};
 use crate::store::model::{
-    Cause, CustodyEntry, Examination, FlawMeasurement, HistoryEntry, Incident, LookupKind,
+    Cause, CustodyEntry, Examination, FlawMeasurement, Glass, HistoryEntry, Incident, LookupKind,
     Measured, Ply,
 };
 use crate::units::{self, Dimension, Unit};
@@ -228,7 +228,6 @@ fn intake_items(form: &mut Form, inc: &Incident, lists: &Lists) {
 
 fn glass_items(form: &mut Form, inc: &Incident, lists: &Lists) {
     let g = &inc.glass;
-    let ply = g.plies.first();
     form.push_pick(
         pick(
             "supplier",
@@ -254,36 +253,88 @@ fn glass_items(form: &mut Form, inc: &Incident, lists: &Lists) {
         lists.lookup(LookupKind::Makeup),
         Some(g.makeup.as_str()),
     ));
+    // ply 1 under its plain names; a second ply always offered (laminated and insulating
+    // make-ups have two or more), and every further ply the record already holds
+    for i in 0..shown_plies(g) {
+        ply_items(form, g.plies.get(i), i, lists);
+    }
+    form.push_field(length("width", "Width", g.width_m, "e.g. 1200 mm"));
+    form.push_field(length("height", "Height", g.height_m, "e.g. 800 mm"));
+}
+
+/// Plies the Glass form edits (a triple laminate has three; a fourth covers an insulating
+/// unit with a laminated pane). Plies beyond these stay as recorded.
+const EDITABLE_PLIES: usize = 4;
+
+/// (key, label) of the five fields of each editable ply: `material` for ply 1, `ply2_material`
+/// for ply 2, …
+const PLY_FIELDS: [[(&str, &str); 5]; EDITABLE_PLIES] = [
+    [
+        ("material", "Ply material"),
+        ("temper", "Temper class"),
+        ("thickness", "Thickness"),
+        ("coating", "Coating"),
+        ("edge_finish", "Edge finish"),
+    ],
+    [
+        ("ply2_material", "Ply 2 material"),
+        ("ply2_temper", "Ply 2 temper"),
+        ("ply2_thickness", "Ply 2 thickness"),
+        ("ply2_coating", "Ply 2 coating"),
+        ("ply2_edge_finish", "Ply 2 edge"),
+    ],
+    [
+        ("ply3_material", "Ply 3 material"),
+        ("ply3_temper", "Ply 3 temper"),
+        ("ply3_thickness", "Ply 3 thickness"),
+        ("ply3_coating", "Ply 3 coating"),
+        ("ply3_edge_finish", "Ply 3 edge"),
+    ],
+    [
+        ("ply4_material", "Ply 4 material"),
+        ("ply4_temper", "Ply 4 temper"),
+        ("ply4_thickness", "Ply 4 thickness"),
+        ("ply4_coating", "Ply 4 coating"),
+        ("ply4_edge_finish", "Ply 4 edge"),
+    ],
+];
+
+/// How many plies the Glass form shows: those recorded, at least two (laminated and
+/// insulating make-ups have two or more), at most [`EDITABLE_PLIES`].
+fn shown_plies(g: &Glass) -> usize {
+    g.plies.len().clamp(2, EDITABLE_PLIES)
+}
+
+fn ply_items(form: &mut Form, ply: Option<&Ply>, i: usize, lists: &Lists) {
+    let [material, temper, thickness, coating, edge] = PLY_FIELDS[i];
     form.push_pick(pick(
-        "material",
-        "Ply material",
+        material.0,
+        material.1,
         lists.lookup(LookupKind::Material),
         ply.and_then(|p| p.material.as_deref()),
     ));
     form.push_pick(pick(
-        "temper",
-        "Temper class",
+        temper.0,
+        temper.1,
         lists.lookup(LookupKind::TemperClass),
         ply.and_then(|p| p.temper.as_deref()),
     ));
     form.push_field(length(
-        "thickness",
-        "Thickness",
+        thickness.0,
+        thickness.1,
         ply.and_then(|p| p.thickness_m),
         "e.g. 6 mm",
     ));
     form.push_field(text(
-        "coating",
-        "Coating",
+        coating.0,
+        coating.1,
         ply.map(|p| p.coating.as_str()).unwrap_or(""),
     ));
     form.push_field(text(
-        "edge_finish",
-        "Edge finish",
+        edge.0,
+        edge.1,
         ply.map(|p| p.edge_finish.as_str()).unwrap_or(""),
     ));
-    form.push_field(length("width", "Width", g.width_m, "e.g. 1200 mm"));
-    form.push_field(length("height", "Height", g.height_m, "e.g. 800 mm"));
 }
 
 fn count_text(v: Option<i64>) -> String {
@@ -584,33 +635,33 @@ fn apply_glass(form: &Form, inc: &mut Incident) -> Result<(), String> {
     }
     g.width_m = opt_quantity(form, "width")?;
     g.height_m = opt_quantity(form, "height")?;
-    let material = opt_text(form, "material");
-    let temper = opt_text(form, "temper");
-    let thickness = opt_quantity(form, "thickness")?;
-    let coating = form.text("coating");
-    let edge = form.text("edge_finish");
-    let any = material.is_some()
-        || temper.is_some()
-        || thickness.is_some()
-        || !coating.is_empty()
-        || !edge.is_empty();
-    if g.plies.is_empty() && any {
-        g.plies.push(Ply {
-            material: None,
-            temper: None,
-            thickness_m: None,
-            coating: String::new(),
-            edge_finish: String::new(),
+    let shown = shown_plies(g);
+    let mut plies = Vec::with_capacity(g.plies.len().max(shown));
+    for [material, temper, thickness, coating, edge] in PLY_FIELDS.iter().take(shown) {
+        plies.push(Ply {
+            material: opt_text(form, material.0),
+            temper: opt_text(form, temper.0),
+            thickness_m: opt_quantity(form, thickness.0)?,
+            coating: form.text(coating.0),
+            edge_finish: form.text(edge.0),
         });
     }
-    if let Some(p) = g.plies.first_mut() {
-        p.material = material;
-        p.temper = temper;
-        p.thickness_m = thickness;
-        p.coating = coating;
-        p.edge_finish = edge;
+    // plies beyond what the form shows stay as recorded
+    plies.extend(g.plies.iter().skip(shown).cloned());
+    // a ply left wholly empty at the end of the make-up is no ply
+    while plies.last().is_some_and(ply_is_empty) {
+        plies.pop();
     }
+    g.plies = plies;
     Ok(())
+}
+
+fn ply_is_empty(p: &Ply) -> bool {
+    p.material.is_none()
+        && p.temper.is_none()
+        && p.thickness_m.is_none()
+        && p.coating.is_empty()
+        && p.edge_finish.is_empty()
 }
 
 fn apply_pattern(form: &Form, inc: &mut Incident) -> Result<(), String> {

@@ -261,11 +261,20 @@ fn section_lines(app: &App, state: &IncidentState, th: &Theme) -> Vec<Line<'stat
         }
         Section::History => {
             out.push(Line::styled(
-                format!(" History, newest first ({} entries)", state.history.len()),
+                format!(
+                    " History, newest first ({} {})",
+                    state.history.len(),
+                    if state.history.len() == 1 {
+                        "entry"
+                    } else {
+                        "entries"
+                    }
+                ),
                 th.header,
             ));
             for h in &state.history {
-                let changed = if h.changed.is_empty() {
+                // a new record's every field is "changed": say what happened instead
+                let changed = if h.changed.is_empty() || h.op != "update" {
                     String::new()
                 } else {
                     format!(" · {}", h.changed.join(", "))
@@ -275,7 +284,12 @@ fn section_lines(app: &App, state: &IncidentState, th: &Theme) -> Vec<Line<'stat
                     h.seq,
                     h.at.format("%Y-%m-%d %H:%M:%S"),
                     clean(&h.actor),
-                    h.op,
+                    match h.op.as_str() {
+                        "insert" => "created",
+                        "update" => "changed",
+                        "delete" => "deleted",
+                        other => other,
+                    },
                 )));
                 out.push(Line::styled(
                     format!("   hash {}", h.hash.chars().take(32).collect::<String>()),
