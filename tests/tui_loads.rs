@@ -442,3 +442,45 @@ fn sphere_impact_gives_the_hertz_rim_tension() {
         "{screen}"
     );
 }
+
+/// The optional strength lower bound of a sound pane asks the sound-part question of
+/// `loads::verdict::judge`: the panel shows its answer and ratio, the same as the core's, and
+/// a bad value is refused by name.
+#[test]
+fn a_sound_strength_answers_the_sound_part_question() {
+    let mut app = with_readings();
+    choose(&mut app, "thermal");
+    type_str(&mut app, "30 K");
+    let stress = check(&app).outcome.stress.unwrap();
+    focus(&mut app, "h_strength");
+    type_str(&mut app, "45 MPa");
+    let want = verdict::judge(&measured(&app), stress, Some(45e6)).unwrap();
+    let got = check(&app).verdict.as_ref().unwrap().as_ref().unwrap();
+    assert_eq!(got.sound_part, want.sound_part);
+    assert_eq!(got.sound_part, Some(verdict::SoundPart::WouldSurvive));
+    assert_eq!(got.strength_ratio, want.strength_ratio);
+    // wide enough that the verdict line does not wrap
+    let screen = text(&mut app, 180, 30);
+    assert!(
+        screen.contains("a sound pane survives (×0.420)"),
+        "{screen}"
+    );
+    // a strength far below the thermal stress: the load alone breaks a sound pane
+    for _ in 0..6 {
+        send(&mut app, &key(KeyCode::Backspace));
+    }
+    type_str(&mut app, "5 MPa");
+    let got = check(&app).verdict.as_ref().unwrap().as_ref().unwrap();
+    assert_eq!(got.sound_part, Some(verdict::SoundPart::WouldBreak));
+    let screen = text(&mut app, 180, 30);
+    assert!(screen.contains("breaks a sound pane (×3.78)"), "{screen}");
+    // a strength without a unit is refused, naming the field
+    for _ in 0..5 {
+        send(&mut app, &key(KeyCode::Backspace));
+    }
+    type_str(&mut app, "45");
+    match &app.bench.hypothesis {
+        Some(Err(e)) => assert!(e.contains("Sound strength"), "{e}"),
+        other => panic!("{other:?}"),
+    }
+}

@@ -42,6 +42,7 @@ pub const INPUT_KEYS: &[&str] = &[
     "h_patch",
     "h_impactor",
     "h_sphere_d",
+    "h_strength",
 ];
 
 /// The pick-list that chooses the kind.
@@ -68,8 +69,20 @@ fn quantity(key: &'static str, label: &'static str, dim: Dimension, hint: &'stat
     .with_hint(hint)
 }
 
-/// The form items of one kind, in order.
+/// The form items of one kind, in order; every kind ends with the optional strength lower
+/// bound of a sound pane, for the sound-part question of `loads::verdict::judge`.
 pub fn inputs(kind: &str) -> Vec<FormItem> {
+    let mut items = kind_inputs(kind);
+    items.push(FormItem::Field(quantity(
+        "h_strength",
+        "Sound strength",
+        Dimension::Stress,
+        "lower bound of a sound pane, e.g. 45 MPa",
+    )));
+    items
+}
+
+fn kind_inputs(kind: &str) -> Vec<FormItem> {
     let f = FormItem::Field;
     let plate = |last: Vec<FormItem>| {
         let mut v = vec![
@@ -320,8 +333,9 @@ pub fn check(form: &Form, analysis: Option<&Analysis>) -> Option<Result<Check, S
         return None;
     }
     Some(build(form, kind).and_then(|(h, summary)| {
+        let strength = value(form, "h_strength")?;
         let outcome = loads::evaluate(&h).map_err(|e| e.to_string())?;
-        Ok(judge(kind, summary, outcome, analysis))
+        Ok(judge(kind, summary, outcome, analysis, strength))
     }))
 }
 
@@ -499,6 +513,7 @@ fn judge(
     summary: String,
     outcome: loads::Outcome,
     analysis: Option<&Analysis>,
+    strength_lower_bound: Option<f64>,
 ) -> Check {
     let measured = analysis.map(|a| verdict::Measured {
         stress: a.applied_stress_pa,
@@ -506,7 +521,7 @@ fn judge(
         high: a.applied_high_pa,
     });
     let verdict = outcome.stress.map(|s| match &measured {
-        Some(m) => verdict::judge(m, s, None).map_err(|e| e.to_string()),
+        Some(m) => verdict::judge(m, s, strength_lower_bound).map_err(|e| e.to_string()),
         None => Err("no measured stress yet (see the results)".to_string()),
     });
     let chart = match (outcome.stress, analysis) {

@@ -10,7 +10,7 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::{Axis, Chart, Dataset, GraphType, LegendPosition, Widget};
 
 use crate::app::hypothesis::{Check, KChart, KINDS};
-use crate::loads::verdict::Finding;
+use crate::loads::verdict::{Finding, SoundPart};
 use crate::tui::theme::Theme;
 use crate::tui::widgets::clean;
 use crate::units::{fmt_sig, format, Unit};
@@ -71,13 +71,28 @@ fn figures(c: &Check, th: &Theme) -> Line<'static> {
 /// A short verdict line for the panel.
 fn short_verdict(c: &Check, th: &Theme) -> Line<'static> {
     match &c.verdict {
-        Some(Ok(v)) => Line::from(vec![
-            Span::styled("Verdict: ", th.label),
-            Span::styled(
-                format!("{} ×{} of measured", v.finding.label(), fmt_sig(v.ratio, 3)),
-                finding_style(v.finding, th),
-            ),
-        ]),
+        Some(Ok(v)) => {
+            let sound = match (v.sound_part, v.strength_ratio) {
+                (Some(SoundPart::WouldBreak), Some(r)) => {
+                    format!(" · breaks a sound pane (×{})", fmt_sig(r, 3))
+                }
+                (Some(SoundPart::WouldSurvive), Some(r)) => {
+                    format!(" · a sound pane survives (×{})", fmt_sig(r, 3))
+                }
+                _ => String::new(),
+            };
+            Line::from(vec![
+                Span::styled("Verdict: ", th.label),
+                Span::styled(
+                    format!(
+                        "{} ×{} of measured{sound}",
+                        v.finding.label(),
+                        fmt_sig(v.ratio, 3)
+                    ),
+                    finding_style(v.finding, th),
+                ),
+            ])
+        }
         Some(Err(e)) => Line::styled(format!("Verdict: ✗ {}", clean(e)), th.error),
         None => Line::styled("No verdict: a force only → try patch load", th.muted),
     }
