@@ -342,43 +342,14 @@ fn library_material(flag: &str, key: &str) -> Result<GlassProps, CliError> {
     })
 }
 
-/// A flaw geometry by the names `shardlog mirror --flaw` uses; Y itself comes from
-/// `fracture::flaw::geometry_factor`.
+/// A flaw geometry by the names `shardlog mirror --flaw` uses (one list, in cli/mirror.rs).
 fn flaw_geometry(
     name: &str,
     aspect: Option<f64>,
     depth_ratio: f64,
 ) -> Result<FlawGeometry, CliError> {
-    let k = name.trim().to_ascii_lowercase().replace(['_', ' '], "-");
-    let g = match k.as_str() {
-        "semicircular" | "semi-circular" => FlawGeometry::Semicircular {
-            a_over_t: depth_ratio,
-        },
-        "semi-elliptical" | "semielliptical" => FlawGeometry::SemiElliptical {
-            a_over_c: aspect.ok_or_else(|| {
-                CliError::usage(
-                    "--aspect: missing for --flaw semi-elliptical; expected a/c such as \
-                     --aspect 0.8",
-                )
-            })?,
-            a_over_t: depth_ratio,
-        },
-        "corner" => FlawGeometry::CornerCrack {
-            a_over_c: aspect.unwrap_or(1.0),
-            a_over_t: depth_ratio,
-        },
-        "penny" | "embedded-penny" | "embedded" => FlawGeometry::EmbeddedPenny,
-        "edge" => FlawGeometry::EdgeCrack,
-        "through" => FlawGeometry::ThroughCrack,
-        "semicircular-hand" => FlawGeometry::SemicircularIrwin,
-        _ => {
-            return Err(CliError::usage(format!(
-                "--flaw: '{}' is not a flaw geometry; expected semicircular, semi-elliptical, \
-                 penny, edge, corner, through or semicircular-hand",
-                super::sanitize_for_terminal(name, false)
-            )))
-        }
-    };
+    let k = super::mirror::flaw_key(name);
+    let g = super::mirror::flaw_by_name(&k, aspect, depth_ratio)?;
     if aspect.is_some()
         && !matches!(
             g,

@@ -357,10 +357,7 @@ pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
         ));
     }
     let at = depth_ratio.unwrap_or(0.0);
-    let kind = raw
-        .flaw
-        .as_deref()
-        .map(|f| f.trim().to_ascii_lowercase().replace(['_', ' '], "-"));
+    let kind = raw.flaw.as_deref().map(flaw_key);
     let kind = match (kind.as_deref(), aspect) {
         (None, Some(_)) => Some("semi-elliptical".to_string()),
         (k, _) => k.map(str::to_string),
@@ -388,33 +385,7 @@ pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
                      semi-elliptical or corner"
                 )));
             }
-            Some(match k {
-                "semicircular" | "semi-circular" => FlawGeometry::Semicircular { a_over_t: at },
-                "semi-elliptical" | "semielliptical" => FlawGeometry::SemiElliptical {
-                    a_over_c: aspect.ok_or_else(|| {
-                        CliError::usage(
-                            "--aspect: missing for --flaw semi-elliptical; expected a/c such \
-                             as --aspect 0.8",
-                        )
-                    })?,
-                    a_over_t: at,
-                },
-                "corner" => FlawGeometry::CornerCrack {
-                    a_over_c: aspect.unwrap_or(1.0),
-                    a_over_t: at,
-                },
-                "penny" | "embedded-penny" | "embedded" => FlawGeometry::EmbeddedPenny,
-                "edge" => FlawGeometry::EdgeCrack,
-                "through" => FlawGeometry::ThroughCrack,
-                "semicircular-hand" => FlawGeometry::SemicircularIrwin,
-                other => {
-                    return Err(CliError::usage(format!(
-                        "--flaw: '{}' is not a flaw geometry; expected semicircular, \
-                         semi-elliptical, penny, edge, corner, through or semicircular-hand",
-                        super::sanitize_for_terminal(other, false)
-                    )))
-                }
-            })
+            Some(flaw_by_name(k, aspect, at)?)
         }
     };
     if let Some(g) = &geometry {
@@ -422,6 +393,47 @@ pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
     }
     input.flaw = geometry;
     Ok(input)
+}
+
+/// A `--flaw` value as the names below spell it ("Semi_Elliptical" → "semi-elliptical").
+pub(super) fn flaw_key(name: &str) -> String {
+    name.trim().to_ascii_lowercase().replace(['_', ' '], "-")
+}
+
+/// The flaw geometry a `--flaw` name (see [`flaw_key`]) stands for; `mirror` and
+/// `load critical-flaw` share it. Y itself comes from `fracture::flaw::geometry_factor`.
+pub(super) fn flaw_by_name(
+    k: &str,
+    aspect: Option<f64>,
+    a_over_t: f64,
+) -> Result<FlawGeometry, CliError> {
+    Ok(match k {
+        "semicircular" | "semi-circular" => FlawGeometry::Semicircular { a_over_t },
+        "semi-elliptical" | "semielliptical" => FlawGeometry::SemiElliptical {
+            a_over_c: aspect.ok_or_else(|| {
+                CliError::usage(
+                    "--aspect: missing for --flaw semi-elliptical; expected a/c such as \
+                     --aspect 0.8",
+                )
+            })?,
+            a_over_t,
+        },
+        "corner" => FlawGeometry::CornerCrack {
+            a_over_c: aspect.unwrap_or(1.0),
+            a_over_t,
+        },
+        "penny" | "embedded-penny" | "embedded" => FlawGeometry::EmbeddedPenny,
+        "edge" => FlawGeometry::EdgeCrack,
+        "through" => FlawGeometry::ThroughCrack,
+        "semicircular-hand" => FlawGeometry::SemicircularIrwin,
+        other => {
+            return Err(CliError::usage(format!(
+                "--flaw: '{}' is not a flaw geometry; expected semicircular, \
+                 semi-elliptical, penny, edge, corner, through or semicircular-hand",
+                super::sanitize_for_terminal(other, false)
+            )))
+        }
+    })
 }
 
 pub fn run(args: MirrorArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
