@@ -523,3 +523,25 @@ fn every_ply_of_the_make_up_is_editable() {
     assert_eq!(stored.glass.plies[1].coating, "none");
     assert_eq!(stored.glass.plies[2].coating, "low-e on face 5");
 }
+
+/// At 80 columns the log gives the date column's room to the asset and position (the
+/// reference carries the date found and shows the date sort), and a built-in status whose
+/// label does not fit shows its short form.
+#[test]
+fn the_log_at_80_columns_keeps_what_matters() {
+    let (f, mut app) = fixture(3);
+    let t = text(&render(&mut app, 80, 24));
+    assert!(!t.contains("Found"), "{t}");
+    assert!(t.contains("Reference ▼"), "{t}");
+    let wide = text(&render(&mut app, 120, 24));
+    assert!(wide.contains("Found ▼"), "{wide}");
+    let mut store = Store::open(&f.path).unwrap();
+    let id = app.log.rows[0].id.clone();
+    let mut inc = store.get(&id).unwrap();
+    inc.status = "cause_assigned".into();
+    store.update_incident(&inc, &stamp()).unwrap();
+    let mut app = App::with_store(Store::open(&f.path).unwrap(), &f.path).unwrap();
+    let t = text(&render(&mut app, 80, 24));
+    assert!(t.contains(" assigned "), "{t}");
+    assert!(!t.contains("cause ass…"), "{t}");
+}

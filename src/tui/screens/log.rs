@@ -25,11 +25,13 @@ const COLS: &[Col] = &[
         sort: Some(SortColumn::Reference),
         min_screen: 0,
     },
+    // the reference already carries the date found (BR-YYMMDD-…): narrow screens give
+    // its room to the asset and position
     Col {
         header: "Found",
         width: 10,
         sort: Some(SortColumn::Found),
-        min_screen: 0,
+        min_screen: 100,
     },
     Col {
         header: "Asset / position",
@@ -83,7 +85,21 @@ fn col_width(i: usize, screen: u16) -> u16 {
     }
 }
 
-fn cell(app: &App, row: &LogRow, col: usize) -> String {
+/// The status label, or a short form of a built-in status when the label does not fit.
+fn status_text(app: &App, code: &str, width: u16) -> String {
+    let label = app.lists.label(LookupKind::Status, code);
+    if unicode_width::UnicodeWidthStr::width(label.as_str()) <= width as usize {
+        return label;
+    }
+    match code {
+        "received" => "received".into(),
+        "cause_assigned" => "assigned".into(),
+        "claim_open" => "claim open".into(),
+        _ => label,
+    }
+}
+
+fn cell(app: &App, row: &LogRow, col: usize, screen: u16) -> String {
     let t = match col {
         0 => row.reference.clone(),
         1 => row.occurred.to_string(),
@@ -100,7 +116,7 @@ fn cell(app: &App, row: &LogRow, col: usize) -> String {
         3 => row.product.clone().unwrap_or_default(),
         4 => row.supplier.clone().unwrap_or_default(),
         5 => row.lot.clone().unwrap_or_default(),
-        6 => app.lists.label(LookupKind::Status, &row.status),
+        6 => status_text(app, &row.status, col_width(6, screen)),
         7 => row
             .cause
             .as_deref()
@@ -166,8 +182,14 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         .iter()
         .zip(&widths)
         .map(|(&i, &w)| {
+            // with the Found column hidden, the reference (which carries the date) shows
+            // the date sort
+            let shown_sort = match app.log.sort.column {
+                SortColumn::Found if !cols.contains(&1) => SortColumn::Reference,
+                c => c,
+            };
             let mark = match COLS[i].sort {
-                Some(s) if s == app.log.sort.column => {
+                Some(s) if s == shown_sort => {
                     if app.log.sort.descending {
                         " ▼"
                     } else {
@@ -199,7 +221,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         .map(|r| {
             cols.iter()
                 .zip(&widths)
-                .map(|(&i, &w)| fit(&cell(app, r, i), w as usize))
+                .map(|(&i, &w)| fit(&cell(app, r, i, body.width), w as usize))
                 .collect()
         })
         .collect();
