@@ -449,3 +449,46 @@ fn an_empty_database_opens_the_review_without_figures_to_fail_on() {
     send(&mut app, &key(KeyCode::Esc));
     assert_eq!(app.screen(), Screen::Log);
 }
+
+/// Incidents with no cause yet are a backlog, not a cause: the bar chart puts them last
+/// whatever their count (Pareto practice); Enter on that bar says the log cannot filter
+/// to them (the log's filters select a recorded value).
+#[test]
+fn incidents_without_a_cause_come_last_in_the_cause_bars() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = build(dir.path());
+    let mut store = Store::open(&db).unwrap();
+    let stamp = Stamp::new("test", Utc.with_ymd_and_hms(2026, 1, 6, 9, 0, 0).unwrap());
+    for i in 0..20 {
+        let inc = Incident::draft(d(2025, 6, 1) + chrono::Days::new(i));
+        store.create_incident(&inc, &stamp).unwrap();
+    }
+    let mut app = App::with_store(Store::open(&db).unwrap(), &db).unwrap();
+    open_all(&mut app);
+    let rows = &app.review.data.as_ref().unwrap().causes.rows;
+    assert_eq!(rows[0].key, vec!["thermal".to_string()]);
+    let last = rows.last().unwrap();
+    assert_eq!(last.count, 20);
+    assert_eq!(
+        last.key,
+        vec![shardlog::fleet::group::NOT_RECORDED.to_string()]
+    );
+    // the counts of the causes found stay largest first
+    let counts: Vec<u64> = rows[..rows.len() - 1].iter().map(|r| r.count).collect();
+    assert!(counts.windows(2).all(|w| w[0] >= w[1]), "{counts:?}");
+    let n = rows.len();
+    let t = text(&render(&mut app, 80, 24));
+    let at = |s: &str| t.find(s).unwrap_or_else(|| panic!("{s} missing:\n{t}"));
+    assert!(at("14 (") < at("20 ("), "{t}");
+    for _ in 0..n - 1 {
+        send(&mut app, &key(KeyCode::Down));
+    }
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Review);
+    let msg = &app.message.as_ref().unwrap().text;
+    assert!(msg.contains("no cause recorded"), "{msg}");
+    // the bar above it, the smallest cause found, still opens its incidents
+    send(&mut app, &key(KeyCode::Up));
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Log);
+}

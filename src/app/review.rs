@@ -378,7 +378,7 @@ fn compute(
     let window = window_for(choice, &q, &incidents, &exposures, today)?;
     let r = crate::cli::stats::compute(&q, &incidents, &exposures, window)
         .map_err(|e| e.message().to_string())?;
-    let causes = crate::fleet::group(
+    let mut causes = crate::fleet::group(
         &incidents,
         &exposures,
         &GroupOptions {
@@ -391,6 +391,13 @@ fn compute(
         },
     )
     .map_err(|e| e.to_string())?;
+    // the chart ranks the causes found; incidents without a cause yet (a backlog, not a
+    // cause) come last whatever their count, as a Pareto chart puts "other" last
+    causes.rows.sort_by_key(|g| {
+        g.values
+            .iter()
+            .all(|v| matches!(v, crate::fleet::group::GroupValue::Text(None)))
+    });
     let dates: Vec<NaiveDate> = incidents
         .iter()
         .map(|f| f.found)

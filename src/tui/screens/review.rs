@@ -216,7 +216,7 @@ fn causes(
         f,
         note,
         &format!(
-            "Causes, largest first · {} incidents · Enter opens the highlighted cause in the log",
+            "Causes, largest first, no cause yet last · {} incidents · Enter opens the highlighted cause in the log",
             group_thousands(d.causes.total)
         ),
         th.header,
