@@ -297,16 +297,46 @@ fn several_writers_on_one_file_lose_nothing() {
 #[test]
 fn bulk_loaded_records_are_checked_and_have_history() {
     let dir = tempfile::tempdir().unwrap();
-    let path = dir.path().join("demo.db");
+    let src = dir.path().join("demo.db");
     demo::generate(
-        &path,
+        &src,
         &demo::DemoOptions {
             incidents: 40,
             seed: 3,
         },
     )
     .unwrap();
-    let mut s = Store::open_existing(&path).unwrap();
+    // a demo this small audits each incident; an import always loads in batches
+    let json = Store::open_existing(&src)
+        .unwrap()
+        .export_json(&Filter::default())
+        .unwrap();
+    let path = dir.path().join("imported.db");
+    let mut s = Store::open(&path).unwrap();
+    // the evidence files travel beside the database (an import carries their hashes)
+    let files = dir.path().join("imported.db.files");
+    std::fs::create_dir_all(&files).unwrap();
+    for e in std::fs::read_dir(dir.path().join("demo.db.files")).unwrap() {
+        let e = e.unwrap();
+        std::fs::copy(e.path(), files.join(e.file_name())).unwrap();
+    }
+    s.import_bytes(
+        "demo.json",
+        json.as_bytes(),
+        shardlog::store::exchange::ImportOptions::default(),
+        &stamp("2026-10-01T10:00:00Z"),
+    )
+    .unwrap()
+    .unwrap();
+    let batches: i64 = rusqlite::Connection::open(&path)
+        .unwrap()
+        .query_row(
+            "SELECT count(*) FROM audit WHERE entity = 'batch'",
+            [],
+            |r| r.get(0),
+        )
+        .unwrap();
+    assert!(batches >= 1);
     assert!(s.verify().unwrap().ok());
     let row = s
         .list(&Filter::default(), Sort::default(), &PageRequest::default())
