@@ -78,6 +78,37 @@ pub struct RateRow {
     pub flagged: bool,
 }
 
+/// The claimed lot against every other supplier × lot of the fleet: for all causes, and for
+/// each cause found in the lot against the same cause elsewhere.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LotRate {
+    pub lot: String,
+    /// First row: all causes; then one row per cause of the lot's incidents.
+    pub rows: Vec<LotRateRow>,
+    /// Supplier × lot groups the all-causes Holm adjustment ran over.
+    pub compared_all: usize,
+    /// Cause × supplier × lot groups the per-cause Holm adjustment ran over.
+    pub compared_by_cause: usize,
+    /// Pane-years of the lot, and of every other supplier × lot.
+    pub pane_years: f64,
+    pub rest_pane_years: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LotRateRow {
+    /// "all causes" or the cause's label.
+    pub cause: String,
+    pub incidents: u64,
+    pub rate_per_1000: Option<f64>,
+    pub rate_ci95: Option<[f64; 2]>,
+    pub rest_incidents: u64,
+    pub rest_rate_per_1000: Option<f64>,
+    pub ratio: Option<f64>,
+    pub ratio_ci95: Option<[f64; 2]>,
+    pub p_adjusted: Option<f64>,
+    pub flagged: bool,
+}
+
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct WeibullRow {
     pub group: String,
@@ -102,6 +133,9 @@ pub struct Cover {
     pub by_lot_cause: Vec<Count>,
     pub rates: Vec<RateRow>,
     pub rates_compared: usize,
+    /// With `--lot`: the claimed lot's rate against every other supplier × lot of the fleet.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub lot_rate: Option<LotRate>,
     pub weibull: Vec<WeibullRow>,
     /// Applied stress of the selected incidents, MPa.
     pub stresses_mpa: Vec<f64>,
@@ -474,6 +508,10 @@ fn cover(
             }
         }
     }
+    let lot_rate = match &opts.lot {
+        Some(lot) => lot_rate(&facts, &exposures, window, sup, lot, labels)?,
+        None => None,
+    };
     // with a lot, the claimed group is the lot itself
     let stresses: Vec<f64> = selected
         .iter()
@@ -514,10 +552,117 @@ fn cover(
         by_lot_cause,
         rates,
         rates_compared: table.compared,
+        lot_rate,
         weibull,
         stresses_mpa: stresses.iter().map(|v| v / 1e6).collect(),
         notes,
     })
+}
+
+/// The claimed lot's rates against every other supplier × lot. Lot codes may repeat across
+/// suppliers, so the lot key is made "supplier/lot" before grouping; `None` when the lot has
+/// no panes in service recorded.
+fn lot_rate(
+    facts: &[fleet::IncidentFacts],
+    exposures: &[fleet::Exposure],
+    window: fleet::Window,
+    sup: &store::Supplier,
+    lot: &str,
+    labels: &Labels,
+) -> Result<Option<LotRate>, BundleError> {
+    let joined = |s: Option<&str>, l: Option<&str>| match (s, l) {
+        (Some(s), Some(l)) => Some(format!("{s}/{l}")),
+        _ => None,
+    };
+    let facts: Vec<fleet::IncidentFacts> = facts
+        .iter()
+        .map(|f| {
+            let mut f = f.clone();
+            f.lot = joined(f.supplier.as_deref(), f.lot.as_deref());
+            f
+        })
+        .collect();
+    let exposures: Vec<fleet::Exposure> = exposures
+        .iter()
+        .map(|e| {
+            let mut e = e.clone();
+            e.lot = joined(e.supplier.as_deref(), e.lot.as_deref());
+            e
+        })
+        .collect();
+    let key = format!("{}/{lot}", sup.code);
+    let group = |keys: Vec<fleet::Key>| {
+        fleet::group(
+            &facts,
+            &exposures,
+            &fleet::GroupOptions {
+                keys,
+                window,
+                rates: true,
+                weibull: false,
+                origin_type: None,
+                flag_level: 0.05,
+            },
+        )
+        .map_err(|e| BundleError::Usage(e.to_string()))
+    };
+    let text = |v: Option<&fleet::GroupValue>| match v {
+        Some(fleet::GroupValue::Text(Some(c))) => Some(c.to_string()),
+        _ => None,
+    };
+    let all = group(vec![fleet::Key::Lot])?;
+    let Some(own) = all
+        .rows
+        .iter()
+        .find(|r| text(r.values.first()).as_deref() == Some(&key))
+    else {
+        return Ok(None);
+    };
+    let Some(own_rate) = &own.rate else {
+        return Ok(None);
+    };
+    let pane_years = own_rate.exposure;
+    let rest_pane_years = all.total_pane_years - pane_years;
+    let per_1000 = |n: u64| (rest_pane_years > 0.0).then(|| n as f64 / rest_pane_years * 1000.0);
+    let row_of = |cause: String, r: &fleet::GroupRow, stratum: u64| LotRateRow {
+        cause,
+        incidents: r.count,
+        rate_per_1000: r.rate.as_ref().and_then(|x| finite(x.rate)),
+        rate_ci95: r.rate.as_ref().and_then(|x| interval(x.ci95)),
+        rest_incidents: stratum.saturating_sub(r.count),
+        rest_rate_per_1000: per_1000(stratum.saturating_sub(r.count)),
+        ratio: r.ratio.as_ref().and_then(|x| finite(x.ratio)),
+        ratio_ci95: r.ratio.as_ref().and_then(|x| interval(x.ci95)),
+        p_adjusted: r.p_adjusted.and_then(finite),
+        flagged: r.flagged,
+    };
+    let mut rows = vec![row_of("all causes".into(), own, all.total)];
+    let by_cause = group(vec![fleet::Key::Cause, fleet::Key::Lot])?;
+    for r in &by_cause.rows {
+        if text(r.values.get(1)).as_deref() != Some(&key) {
+            continue;
+        }
+        let cause = text(r.values.first());
+        let stratum: u64 = by_cause
+            .rows
+            .iter()
+            .filter(|o| text(o.values.first()) == cause)
+            .map(|o| o.count)
+            .sum();
+        let label = cause
+            .as_deref()
+            .map(|c| labels.lookup(store::LookupKind::CauseCategory, c))
+            .unwrap_or_else(|| "cause not yet assigned".into());
+        rows.push(row_of(label, r, stratum));
+    }
+    Ok(Some(LotRate {
+        lot: lot.to_string(),
+        rows,
+        compared_all: all.compared,
+        compared_by_cause: by_cause.compared,
+        pane_years,
+        rest_pane_years,
+    }))
 }
 
 fn mpa(v: f64) -> String {
@@ -635,6 +780,57 @@ pub fn cover_document(c: &BundleContent) -> Document {
         ]);
     }
     d.push(Block::Table(t));
+
+    if let Some(lr) = &cv.lot_rate {
+        d.heading(&format!(
+            "Rate of lot {} against the rest of the fleet",
+            lr.lot
+        ));
+        d.para(format!(
+            "The fleet grouped by supplier and lot: this lot ({} pane-years) against every other \
+             supplier × lot together ({} pane-years), for all causes (Holm's adjustment over \
+             {} groups) and for each cause found in the lot against the same cause elsewhere \
+             (Holm's adjustment over {} cause × lot groups).",
+            fmt3(lr.pane_years),
+            fmt3(lr.rest_pane_years),
+            lr.compared_all,
+            lr.compared_by_cause
+        ));
+        let mut t = Table::new(&[
+            "Cause",
+            "In the lot",
+            "Rate per 1,000 pane-years (95 % interval)",
+            "Elsewhere: incidents, rate",
+            "Rate ratio (95 % interval)",
+            "p (Holm)",
+            "Significantly above the rest",
+        ])
+        .numeric(&[1, 5]);
+        for r in &lr.rows {
+            t.row(vec![
+                r.cause.clone(),
+                r.incidents.to_string(),
+                match (r.rate_per_1000, r.rate_ci95) {
+                    (Some(v), Some([a, b])) => {
+                        format!("{} ({} to {})", fmt3(v), fmt3(a), fmt3(b))
+                    }
+                    (Some(v), None) => fmt3(v),
+                    _ => "no exposure recorded".into(),
+                },
+                format!("{}, {}", r.rest_incidents, opt(r.rest_rate_per_1000, fmt3)),
+                match (r.ratio, r.ratio_ci95) {
+                    (Some(v), Some([a, b])) => {
+                        format!("{} ({} to {})", fmt3(v), fmt3(a), fmt3(b))
+                    }
+                    (Some(v), None) => fmt3(v),
+                    _ => "not available".into(),
+                },
+                opt(r.p_adjusted, |p| units::fmt_sig(p, 2)),
+                if r.flagged { "yes" } else { "no" }.into(),
+            ]);
+        }
+        d.push(Block::Table(t));
+    }
 
     d.heading("Strength: Weibull comparison");
     d.para(

@@ -155,16 +155,24 @@ pub fn wrap(font: &mut Font, text: &str, size: f32, max_width: f32) -> Vec<Strin
 
 /// Split at spaces, but keep a number and the short unit after it together ("38.4 MPa",
 /// "95 %", "72 kB"): they are joined by a no-break space, which the PDF draws as a space.
+/// A unit is letters and unit signs only; short words that read on ("0.99 to 1.96") are not
+/// units, nor is anything with brackets or digits.
 fn glue_units(para: &str) -> Vec<String> {
+    const NOT_UNITS: [&str; 12] = [
+        "to", "and", "or", "of", "in", "at", "on", "for", "per", "by", "the", "times",
+    ];
+    let unit_like = |w: &str| {
+        let w = w.trim_end_matches([')', ',', '.', ';', ':']);
+        !w.is_empty()
+            && w.chars().count() <= 6
+            && w.chars()
+                .all(|c| c.is_alphabetic() || "%°µ·/²³Ω‰′″√".contains(c))
+            && !NOT_UNITS.contains(&w)
+    };
     let mut out: Vec<String> = Vec::new();
     for w in para.split(' ') {
         let glue = match out.last() {
-            Some(prev) => {
-                prev.ends_with(|c: char| c.is_ascii_digit())
-                    && !w.is_empty()
-                    && w.chars().count() <= 6
-                    && !w.starts_with(|c: char| c.is_ascii_digit())
-            }
+            Some(prev) => prev.ends_with(|c: char| c.is_ascii_digit()) && unit_like(w),
             None => false,
         };
         if glue {
@@ -214,6 +222,25 @@ mod tests {
         assert!(f.glyph('\u{fe0f}').is_none());
         let mut b = Font::load(Weight::Bold);
         assert!(b.width("MPa", 10.0) > f.width("MPa", 10.0) * 0.99);
+    }
+
+    #[test]
+    fn a_number_keeps_its_unit_but_not_the_next_word() {
+        let nb = |s: &str| s.replace(' ', "\u{a0}");
+        assert_eq!(
+            glue_units("38.4 MPa and 95 % interval"),
+            vec![nb("38.4 MPa"), "and".into(), nb("95 %"), "interval".into()]
+        );
+        // an interval: "to" reads on, brackets are no unit
+        assert_eq!(
+            glue_units("1.41 (0.993 to 1.96)"),
+            vec!["1.41", "(0.993", "to", "1.96)"]
+        );
+        assert_eq!(
+            glue_units("(1.21 mm to 5.78 mm)"),
+            vec![nb("(1.21 mm"), "to".into(), nb("5.78 mm)")]
+        );
+        assert_eq!(glue_units("0.75 MPa·√m"), vec![nb("0.75 MPa·√m")]);
     }
 
     #[test]
