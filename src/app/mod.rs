@@ -926,8 +926,11 @@ impl App {
                 match incident::apply(kind, &edit.form, &mut inc) {
                     Ok(()) => match store.update_incident(&inc, &stamp) {
                         Ok(saved) => Ok(saved),
-                        Err(e @ StoreError::StaleRevision { .. }) => {
-                            let msg = format!("{e}. Your input is kept in the form.");
+                        Err(StoreError::StaleRevision { reference, .. }) => {
+                            // short enough for an 80-column status line
+                            let msg = format!(
+                                "not saved: {reference} was changed meanwhile; your input is kept"
+                            );
                             if let Some(edit) = self.edit.as_mut() {
                                 edit.conflict = true;
                             }
