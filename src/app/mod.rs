@@ -290,6 +290,11 @@ impl App {
         Ok(app)
     }
 
+    /// Whether the open database can only be read (the file or its folder is not writable).
+    pub fn read_only(&self) -> bool {
+        self.store.as_ref().is_some_and(|s| s.is_read_only())
+    }
+
     pub fn screen(&self) -> Screen {
         *self.stack.last().unwrap_or(&Screen::Bench)
     }
