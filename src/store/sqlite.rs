@@ -320,6 +320,28 @@ mod tests {
     use super::*;
 
     #[test]
+    fn machine_failures_are_sentences_without_locked() {
+        use rusqlite::ffi;
+        let err =
+            |code: i32| rusqlite::Error::SqliteFailure(ffi::Error::new(code), Some("raw".into()));
+        let full = environment_failure(&err(ffi::SQLITE_FULL)).unwrap();
+        assert!(full.starts_with("disk full"), "{full}");
+        for code in [ffi::SQLITE_BUSY, ffi::SQLITE_LOCKED] {
+            let m = environment_failure(&err(code)).unwrap();
+            assert!(
+                m.contains("another program") && m.contains("try again"),
+                "{m}"
+            );
+            assert!(!m.to_lowercase().contains("locked"), "{m}");
+        }
+        let io = environment_failure(&err(ffi::SQLITE_IOERR_WRITE)).unwrap();
+        assert!(io.contains("disk refused"), "{io}");
+        let ro = environment_failure(&err(ffi::SQLITE_READONLY)).unwrap();
+        assert!(ro.contains("read-only"), "{ro}");
+        assert_eq!(environment_failure(&err(ffi::SQLITE_CONSTRAINT)), None);
+    }
+
+    #[test]
     fn fts_query_quotes_everything() {
         assert_eq!(
             fts_query("edge \"chip\" OR 1=1; --").as_deref(),
