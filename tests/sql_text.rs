@@ -30,6 +30,7 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("demo.rs", "DROP INDEX \"{}\"", "index names read from sqlite_master (the schema's own), quotes removed"),
     ("sqlite.rs", "PRAGMA user_version = {v}", "v: an i64 schema version from the migration table in the code"),
     ("sqlite.rs", "PRAGMA application_id = {APPLICATION_ID}", "a constant"),
+    ("sqlite.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),
 ];
 
 const SQL_WORDS: &[&str] = &[

@@ -290,6 +290,11 @@ impl App {
         Ok(app)
     }
 
+    /// Whether the open database can only be read (the file or its folder is not writable).
+    pub fn read_only(&self) -> bool {
+        self.store.as_ref().is_some_and(|s| s.is_read_only())
+    }
+
     pub fn screen(&self) -> Screen {
         *self.stack.last().unwrap_or(&Screen::Bench)
     }
@@ -926,8 +931,11 @@ impl App {
                 match incident::apply(kind, &edit.form, &mut inc) {
                     Ok(()) => match store.update_incident(&inc, &stamp) {
                         Ok(saved) => Ok(saved),
-                        Err(e @ StoreError::StaleRevision { .. }) => {
-                            let msg = format!("{e}. Your input is kept in the form.");
+                        Err(StoreError::StaleRevision { reference, .. }) => {
+                            // short enough for an 80-column status line
+                            let msg = format!(
+                                "not saved: {reference} was changed meanwhile; your input is kept"
+                            );
                             if let Some(edit) = self.edit.as_mut() {
                                 edit.conflict = true;
                             }

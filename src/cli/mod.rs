@@ -231,15 +231,123 @@ where
         }
     };
     let stdout = std::io::stdout();
+    let to_terminal = std::io::IsTerminal::is_terminal(&stdout);
     let mut lock = stdout.lock();
-    match run(cli, &mut lock) {
+    // On a terminal no byte of user text may act as a control sequence; to a pipe or a file
+    // the output stays exact (an export is evidence).
+    let mut guard = TerminalGuard::new(&mut lock, to_terminal);
+    let result = run(cli, &mut guard);
+    let flushed = guard.finish();
+    let shown = guard.replaced;
+    let code = match result.and(flushed.map_err(CliError::from)) {
         Ok(()) => 0,
         Err(CliError::Work(m)) if m == OUTPUT_CLOSED => 0,
         Err(e) => {
-            let _ = lock.flush();
             eprintln!("shardlog: {}", sanitize_for_terminal(e.message(), true));
             e.exit_code()
         }
+    };
+    if shown > 0 {
+        eprintln!(
+            "shardlog: note: {shown} control character{} in the output {} shown as symbols (such as ␛) because the output is a terminal; write to a file (-o FILE) or a pipe for the exact data",
+            if shown == 1 { "" } else { "s" },
+            if shown == 1 { "is" } else { "are" },
+        );
+    }
+    code
+}
+
+/// A writer for a terminal: every control character except newline and tab becomes a visible
+/// symbol (C0 controls their Unicode control picture, DEL ␡, C1 controls and bidirectional
+/// overrides U+FFFD, bytes that are not UTF-8 U+FFFD), so that stored escape sequences are
+/// shown, not obeyed. Counts what it replaced. When not `active` it passes bytes unchanged.
+pub struct TerminalGuard<'a> {
+    inner: &'a mut dyn Write,
+    active: bool,
+    pending: Vec<u8>,
+    /// How many characters were shown as symbols.
+    pub replaced: usize,
+}
+
+impl<'a> TerminalGuard<'a> {
+    pub fn new(inner: &'a mut dyn Write, active: bool) -> Self {
+        TerminalGuard {
+            inner,
+            active,
+            pending: Vec::new(),
+            replaced: 0,
+        }
+    }
+
+    /// Write out what is held back (an unfinished UTF-8 sequence becomes U+FFFD) and flush.
+    pub fn finish(&mut self) -> std::io::Result<()> {
+        self.drain(true)?;
+        self.inner.flush()
+    }
+
+    fn put(&mut self, s: &str) -> std::io::Result<()> {
+        let mut out = String::with_capacity(s.len());
+        for c in s.chars() {
+            let shown = match c {
+                '\n' | '\t' => c,
+                '\u{0}'..='\u{1f}' => char::from_u32(0x2400 + c as u32).unwrap_or('\u{fffd}'),
+                '\u{7f}' => '\u{2421}',
+                '\u{80}'..='\u{9f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}' => {
+                    '\u{fffd}'
+                }
+                c => c,
+            };
+            if shown != c {
+                self.replaced += 1;
+            }
+            out.push(shown);
+        }
+        self.inner.write_all(out.as_bytes())
+    }
+
+    fn drain(&mut self, last: bool) -> std::io::Result<()> {
+        loop {
+            let pending = std::mem::take(&mut self.pending);
+            match std::str::from_utf8(&pending) {
+                Ok(s) => return self.put(s),
+                Err(e) => {
+                    let good = e.valid_up_to();
+                    // valid_up_to marks a valid prefix
+                    self.put(std::str::from_utf8(&pending[..good]).unwrap_or(""))?;
+                    match e.error_len() {
+                        Some(n) => {
+                            self.replaced += 1;
+                            self.inner.write_all("\u{fffd}".as_bytes())?;
+                            self.pending = pending[good + n..].to_vec();
+                        }
+                        None if last => {
+                            self.replaced += 1;
+                            return self.inner.write_all("\u{fffd}".as_bytes());
+                        }
+                        None => {
+                            // an unfinished sequence: wait for the rest
+                            self.pending = pending[good..].to_vec();
+                            return Ok(());
+                        }
+                    }
+                }
+            }
+        }
+    }
+}
+
+impl Write for TerminalGuard<'_> {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        if !self.active {
+            return self.inner.write(buf);
+        }
+        self.pending.extend_from_slice(buf);
+        self.drain(false)?;
+        Ok(buf.len())
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.inner.flush()
     }
 }
 
@@ -296,6 +404,28 @@ mod tests {
         assert_eq!(s, "ared bc");
         assert_eq!(sanitize_for_terminal("x\ny\tz", true), "x\ny z");
         assert_eq!(sanitize_for_terminal("x\ny", false), "xy");
+    }
+
+    #[test]
+    fn the_terminal_guard_shows_controls_and_passes_text() {
+        let mut out = Vec::new();
+        let mut g = TerminalGuard::new(&mut out, true);
+        // an escape sequence, a bell, a C1 CSI, a bidi override, DEL; the é split across writes
+        g.write_all(b"a\x1b]0;owned\x07b\xc2\x9bc\xe2\x80\xaed\x7fe\n\tok \xc3")
+            .unwrap();
+        g.write_all(b"\xa9 \xff").unwrap();
+        g.finish().unwrap();
+        let n = g.replaced;
+        let s = String::from_utf8(out).unwrap();
+        assert_eq!(s, "a␛]0;owned␇b\u{fffd}c\u{fffd}d␡e\n\tok é \u{fffd}");
+        assert_eq!(n, 6);
+        // not a terminal: exact bytes
+        let mut out = Vec::new();
+        let mut g = TerminalGuard::new(&mut out, false);
+        g.write_all(b"a\x1b[2J\xff").unwrap();
+        g.finish().unwrap();
+        assert_eq!(g.replaced, 0);
+        assert_eq!(out, b"a\x1b[2J\xff");
     }
 
     #[test]

@@ -155,7 +155,7 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     };
     match s
         .import_bytes(&name, &bytes, options, &edge_stamp())
-        .map_err(work)?
+        .map_err(|e| CliError::work(format!("{name}: import failed: {e}")))?
     {
         Ok(sum) => {
             writeln!(
@@ -259,17 +259,16 @@ pub fn refuse_database_files(out: &Path, db: &Path, flag: &str) -> Result<(), Cl
     Ok(())
 }
 
-/// Write a file completely under a temporary name, then rename it into place.
+/// Write a file completely under a temporary name in the same folder, flush it, then rename
+/// it into place: a failed or interrupted write never replaces or truncates a good file, and
+/// leaves no temporary file behind.
 pub fn write_whole(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
-    let err = |e: std::io::Error| CliError::work(format!("{}: {e}", path.display()));
-    let mut tmp_name = path
-        .file_name()
-        .map(|n| n.to_os_string())
-        .unwrap_or_default();
-    tmp_name.push(".part");
-    let tmp = path.with_file_name(tmp_name);
-    std::fs::write(&tmp, bytes).map_err(err)?;
-    std::fs::rename(&tmp, path).map_err(err)
+    store::write_atomically(path, bytes, false).map_err(|e| {
+        CliError::work(format!(
+            "{}: not written ({e}); a file already there is unchanged",
+            path.display()
+        ))
+    })
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
@@ -616,7 +615,12 @@ pub struct BackupArgs {
 pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     refuse_database_files(&args.dest, &ctx.db, "DEST")?;
     let s = open(&ctx.db)?;
-    let r = s.backup(&args.dest).map_err(work)?;
+    let r = s.backup(&args.dest).map_err(|e| {
+        CliError::work(format!(
+            "backup to {} failed: {e}; nothing was left at {0}",
+            args.dest.display()
+        ))
+    })?;
     match r.first_problem {
         None => writeln!(
             ctx.out,

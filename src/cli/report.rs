@@ -35,21 +35,13 @@ pub(crate) fn now_text() -> String {
 /// Write a file through a temporary sibling and a rename, so that an interrupted write
 /// never leaves a half-written file in place of a good one.
 pub(crate) fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
-    let shown = path.display();
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .ok_or_else(|| CliError::usage(format!("--output {shown}: not a file name")))?;
-    let tmp = dir.join(format!(".{name}.partial-{}", std::process::id()));
-    std::fs::write(&tmp, bytes).map_err(|e| CliError::work(format!("{shown}: {e}")))?;
-    std::fs::rename(&tmp, path).map_err(|e| {
-        let _ = std::fs::remove_file(&tmp);
-        CliError::work(format!("{shown}: {e}"))
-    })
+    if path.file_name().is_none() {
+        return Err(CliError::usage(format!(
+            "--output {}: not a file name",
+            path.display()
+        )));
+    }
+    super::records::write_whole(path, bytes)
 }
 
 pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {

@@ -1218,7 +1218,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
     let result = (|| -> Result<(), BundleError> {
         for (path, bytes) in &files {
             let p = tmp.join(path);
-            std::fs::write(&p, bytes).map_err(|e| io(&p, e))?;
+            crate::store::write_new_synced(&p, bytes, false).map_err(|e| io(&p, e))?;
             entries.push(FileEntry {
                 path: path.clone(),
                 sha256: sha256_hex(bytes),
@@ -1236,16 +1236,35 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         let mut json = serde_json::to_string_pretty(&bf)?;
         json.push('\n');
         let p = tmp.join("bundle.json");
-        std::fs::write(&p, json).map_err(|e| io(&p, e))?;
+        crate::store::write_new_synced(&p, json.as_bytes(), false).map_err(|e| io(&p, e))?;
+        for d in [tmp.join("incidents"), tmp.join("attachments"), tmp.clone()] {
+            crate::store::sync_dir(&d).map_err(|e| io(&d, e))?;
+        }
         if dir.exists() {
             std::fs::remove_dir(dir).map_err(|e| io(dir, e))?;
         }
         std::fs::rename(&tmp, dir).map_err(|e| io(dir, e))?;
+        crate::store::sync_dir(&parent).map_err(|e| io(&parent, e))?;
         Ok(())
     })();
     if let Err(e) = result {
         let _ = std::fs::remove_dir_all(&tmp);
-        return Err(e);
+        // name the bundle and the file inside it, never the temporary folder
+        return Err(match e {
+            BundleError::Io { path, message } => {
+                let inner = Path::new(&path)
+                    .strip_prefix(&tmp)
+                    .map(|p| p.display().to_string())
+                    .unwrap_or(path);
+                BundleError::Io {
+                    path: dir.display().to_string(),
+                    message: format!(
+                        "bundle not written ({inner}: {message}); nothing was left there"
+                    ),
+                }
+            }
+            other => other,
+        });
     }
     Ok(Written {
         dir: dir.to_path_buf(),

@@ -1128,6 +1128,8 @@ impl Store {
             Ok(())
         })();
         match result {
+            // the machine, not a line of the file, refused: say so as such
+            Err((_, e @ StoreError::Storage(_))) => Err(e),
             Err((place, e)) => {
                 drop(tx); // rolls back
                 Ok(Err(ImportRejected {

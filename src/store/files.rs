@@ -37,8 +37,8 @@ fn make_private_dir(dir: &Path) -> Result<(), StoreError> {
     Ok(())
 }
 
-/// Write bytes to `dir/<sha256>` unless already there (write to a temporary name, then
-/// rename, so a half-written file never carries a hash name).
+/// Write bytes to `dir/<sha256>` unless already there (through [`write_atomically`], so a
+/// half-written file never carries a hash name).
 pub(crate) fn put_bytes(dir: &Path, bytes: &[u8]) -> Result<String, StoreError> {
     let hash = hex(&Sha256::digest(bytes));
     make_private_dir(dir)?;
@@ -46,21 +46,73 @@ pub(crate) fn put_bytes(dir: &Path, bytes: &[u8]) -> Result<String, StoreError> 
     if dest.exists() {
         return Ok(hash);
     }
-    let tmp = dir.join(format!(".{hash}.part"));
-    {
-        let mut opts = fs::OpenOptions::new();
-        opts.write(true).create(true).truncate(true);
-        #[cfg(unix)]
-        {
-            use std::os::unix::fs::OpenOptionsExt;
-            opts.mode(0o600);
-        }
-        let mut f = opts.open(&tmp).map_err(|e| io_err(&tmp, e))?;
-        f.write_all(bytes).map_err(|e| io_err(&tmp, e))?;
-        f.sync_all().map_err(|e| io_err(&tmp, e))?;
-    }
-    fs::rename(&tmp, &dest).map_err(|e| io_err(&dest, e))?;
+    write_atomically(&dest, bytes, true).map_err(|e| io_err(&dest, e))?;
     Ok(hash)
+}
+
+/// A temporary name beside `path`, unique within this process: `.<name>.partial-<pid>-<n>`.
+pub fn temporary_sibling(path: &Path) -> PathBuf {
+    static N: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
+    let n = N.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "file".into());
+    path.with_file_name(format!(".{name}.partial-{}-{n}", std::process::id()))
+}
+
+/// Flush a folder's entries (a rename in it) to the disk. A no-op where folders cannot be
+/// opened (Windows).
+pub fn sync_dir(dir: &Path) -> std::io::Result<()> {
+    let dir = if dir.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        dir
+    };
+    #[cfg(unix)]
+    {
+        fs::File::open(dir)?.sync_all()
+    }
+    #[cfg(not(unix))]
+    {
+        let _ = dir;
+        Ok(())
+    }
+}
+
+/// Create `path` new (it must not exist), write `bytes`, flush them to the disk. Owner-only
+/// when `private`. On failure the partial file is removed.
+pub fn write_new_synced(path: &Path, bytes: &[u8], private: bool) -> std::io::Result<()> {
+    let mut opts = fs::OpenOptions::new();
+    opts.write(true).create_new(true);
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::OpenOptionsExt;
+        opts.mode(if private { 0o600 } else { 0o666 });
+    }
+    #[cfg(not(unix))]
+    let _ = private;
+    let mut f = opts.open(path)?;
+    let r = f.write_all(bytes).and_then(|()| f.sync_all());
+    if r.is_err() {
+        drop(f);
+        let _ = fs::remove_file(path);
+    }
+    r
+}
+
+/// Replace (or create) `path` with `bytes` so that a reader, a crash or a failed write never
+/// finds a half-written file there: write a temporary file in the same folder, flush it,
+/// rename it over `path`, flush the folder. On failure the temporary file is removed and
+/// whatever was at `path` before is untouched.
+pub fn write_atomically(path: &Path, bytes: &[u8], private: bool) -> std::io::Result<()> {
+    let tmp = temporary_sibling(path);
+    write_new_synced(&tmp, bytes, private)?;
+    if let Err(e) = fs::rename(&tmp, path) {
+        let _ = fs::remove_file(&tmp);
+        return Err(e);
+    }
+    sync_dir(path.parent().unwrap_or(Path::new(".")))
 }
 
 pub(crate) fn copy_dir(src: &Path, dest: &Path) -> Result<(), StoreError> {

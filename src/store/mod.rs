@@ -32,6 +32,7 @@ pub mod model;
 mod refdata;
 mod sqlite;
 
+pub use files::{sync_dir, temporary_sibling, write_atomically, write_new_synced};
 pub use model::*;
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
 
@@ -69,6 +70,10 @@ pub enum StoreError {
     File { path: String, message: String },
     #[error("database: {0}")]
     Database(String),
+    /// The machine refused the write: disk full, a disk error, a read-only file, another
+    /// writer holding the lock too long. Nothing of the change was written.
+    #[error("{0}")]
+    Storage(String),
 }
 
 impl StoreError {
@@ -82,7 +87,10 @@ impl StoreError {
 
 impl From<rusqlite::Error> for StoreError {
     fn from(e: rusqlite::Error) -> Self {
-        StoreError::Database(e.to_string())
+        match sqlite::environment_failure(&e) {
+            Some(m) => StoreError::Storage(m),
+            None => StoreError::Database(e.to_string()),
+        }
     }
 }
 
@@ -221,6 +229,12 @@ impl Store {
         self.path.as_deref()
     }
 
+    /// Whether this database can only be read here (the file or its folder is not writable):
+    /// reading works, every write is refused.
+    pub fn is_read_only(&self) -> bool {
+        sqlite::is_read_only(&self.conn)
+    }
+
     /// Schema version of the open database.
     pub fn schema_version(&self) -> Result<i64, StoreError> {
         sqlite::user_version(&self.conn)
@@ -290,31 +304,73 @@ impl Store {
 
     /// Copy the database with SQLite's online backup to `dest` (which must not exist),
     /// copy the attachment folder beside it, then run an integrity check and `verify` on
-    /// the copy.
+    /// the copy. Everything is made under temporary names and renamed into place only when
+    /// whole and flushed to the disk: a failure half-way leaves nothing at `dest` and no
+    /// temporary files. The copy is readable by its owner only.
     pub fn backup(&self, dest: &Path) -> Result<VerifyReport, StoreError> {
         let shown = dest.display().to_string();
-        if dest.exists() {
-            return Err(StoreError::File {
-                path: shown,
-                message: "already exists; choose a new file name".into(),
-            });
-        }
-        {
-            let mut target = Connection::open(dest).map_err(|e| StoreError::File {
-                path: shown.clone(),
-                message: e.to_string(),
-            })?;
-            let backup = rusqlite::backup::Backup::new(&self.conn, &mut target)?;
-            backup.run_to_completion(256, std::time::Duration::from_millis(0), None)?;
-        }
-        if let Some(src) = self.files_dir.as_deref() {
-            if src.is_dir() {
-                files::copy_dir(src, &files::dir_for(dest))?;
+        let dest_files = files::dir_for(dest);
+        for p in [dest, dest_files.as_path()] {
+            if p.exists() {
+                return Err(StoreError::File {
+                    path: p.display().to_string(),
+                    message: "already exists; choose a new file name".into(),
+                });
             }
         }
-        let copy = Store::open_existing(dest)?;
-        sqlite::integrity_check(&copy.conn)?;
-        copy.verify()
+        let tmp = files::temporary_sibling(dest);
+        let tmp_files = files::dir_for(&tmp);
+        let clean = || {
+            let _ = std::fs::remove_file(&tmp);
+            for suffix in ["-wal", "-shm", "-journal"] {
+                let mut n = tmp.as_os_str().to_os_string();
+                n.push(suffix);
+                let _ = std::fs::remove_file(PathBuf::from(n));
+            }
+            let _ = std::fs::remove_dir_all(&tmp_files);
+        };
+        let result = (|| -> Result<VerifyReport, StoreError> {
+            let file_err = |e: &dyn std::fmt::Display| StoreError::File {
+                path: shown.clone(),
+                message: e.to_string(),
+            };
+            {
+                let (mut target, _) = sqlite::open_checked(&tmp, true)?;
+                let backup = rusqlite::backup::Backup::new(&self.conn, &mut target)?;
+                backup.run_to_completion(256, std::time::Duration::from_millis(0), None)?;
+                drop(backup);
+                // the copy in one file (no WAL beside it), flushed to the disk
+                let _: String =
+                    target.query_row("PRAGMA journal_mode = DELETE", [], |r| r.get(0))?;
+            }
+            std::fs::File::open(&tmp)
+                .and_then(|f| f.sync_all())
+                .map_err(|e| file_err(&e))?;
+            if let Some(src) = self.files_dir.as_deref() {
+                if src.is_dir() {
+                    files::copy_dir(src, &tmp_files)?;
+                    files::sync_dir(&tmp_files).map_err(|e| file_err(&e))?;
+                }
+            }
+            let report = {
+                let copy = Store::open_existing(&tmp)?;
+                sqlite::integrity_check(&copy.conn)?;
+                copy.verify()?
+            };
+            if tmp_files.is_dir() {
+                std::fs::rename(&tmp_files, &dest_files).map_err(|e| file_err(&e))?;
+            }
+            std::fs::rename(&tmp, dest).map_err(|e| file_err(&e))?;
+            files::sync_dir(dest.parent().unwrap_or(Path::new("."))).map_err(|e| file_err(&e))?;
+            Ok(report)
+        })();
+        if result.is_err() {
+            clean();
+            if !dest.exists() {
+                let _ = std::fs::remove_dir_all(&dest_files);
+            }
+        }
+        result
     }
 }
 

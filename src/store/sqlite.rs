@@ -32,11 +32,22 @@ pub const BUSY_TIMEOUT: Duration = Duration::from_secs(30);
 
 /// Open a file without changing it, and check it is ours and not too new.
 /// Returns the connection and the schema version found (0 for a new, empty file).
+///
+/// A new file is created readable and writable by its owner only (the WAL and shared-memory
+/// files SQLite makes beside it take the same permissions). A database the user may read but
+/// not write, in a folder where SQLite cannot make those files, is opened read-only
+/// (immutable): reading works, every write is refused by SQLite.
 pub fn open_checked(path: &Path, create: bool) -> Result<(Connection, i64), StoreError> {
     let shown = path.display().to_string();
     let exists = path.exists();
     if !exists && !create {
         return Err(StoreError::Missing { path: shown });
+    }
+    if !exists {
+        create_owner_only(path).map_err(|e| StoreError::Open {
+            path: shown.clone(),
+            message: e.to_string(),
+        })?;
     }
     let mut flags = OpenFlags::SQLITE_OPEN_READ_WRITE
         | OpenFlags::SQLITE_OPEN_URI
@@ -44,25 +55,49 @@ pub fn open_checked(path: &Path, create: bool) -> Result<(Connection, i64), Stor
     if create {
         flags |= OpenFlags::SQLITE_OPEN_CREATE;
     }
-    let conn = Connection::open_with_flags(path, flags).map_err(|e| StoreError::Open {
+    let open_err = |e: rusqlite::Error| StoreError::Open {
         path: shown.clone(),
         message: e.to_string(),
-    })?;
+    };
+    let mut conn = Connection::open_with_flags(path, flags).map_err(open_err)?;
     conn.busy_timeout(BUSY_TIMEOUT)?;
+    limit_pages_for_tests(&conn)?;
     let not_ours = |why: &str| StoreError::NotOurs {
         path: shown.clone(),
         why: why.to_string(),
     };
-    let app_id: i64 = conn
-        .query_row("PRAGMA application_id", [], |r| r.get(0))
-        .map_err(|_| not_ours("it is not an SQLite database"))?;
+    // Only "file is not a database" means it is not ours; anything else (a folder SQLite
+    // cannot write its WAL index in, a disk error) is a failure to open.
+    let header_err = |e: rusqlite::Error| match e.sqlite_error_code() {
+        Some(rusqlite::ErrorCode::NotADatabase) => not_ours("it is not an SQLite database"),
+        _ => StoreError::Open {
+            path: shown.clone(),
+            message: describe(&e),
+        },
+    };
+    let app_id: i64 = match conn.query_row("PRAGMA application_id", [], |r| r.get(0)) {
+        Ok(v) => v,
+        Err(e)
+            if exists
+                && matches!(
+                    e.sqlite_error_code(),
+                    Some(rusqlite::ErrorCode::CannotOpen | rusqlite::ErrorCode::ReadOnly)
+                ) =>
+        {
+            // a WAL database in a folder we cannot write: read it as it is on disk
+            conn = open_immutable(path).map_err(open_err)?;
+            conn.query_row("PRAGMA application_id", [], |r| r.get(0))
+                .map_err(header_err)?
+        }
+        Err(e) => return Err(header_err(e)),
+    };
     let version: i64 = conn
         .query_row("PRAGMA user_version", [], |r| r.get(0))
-        .map_err(|_| not_ours("it is not an SQLite database"))?;
+        .map_err(header_err)?;
     if app_id != APPLICATION_ID {
         let tables: i64 = conn
             .query_row("SELECT count(*) FROM sqlite_master", [], |r| r.get(0))
-            .map_err(|_| not_ours("it is not an SQLite database"))?;
+            .map_err(header_err)?;
         if app_id != 0 || tables > 0 || version != 0 {
             return Err(not_ours(
                 "it is an SQLite database of another program (application id differs)",
@@ -79,9 +114,97 @@ pub fn open_checked(path: &Path, create: bool) -> Result<(Connection, i64), Stor
     Ok((conn, version))
 }
 
+/// Create an empty file readable by its owner only (SQLite then writes the database into it).
+fn create_owner_only(path: &Path) -> std::io::Result<()> {
+    let mut o = std::fs::OpenOptions::new();
+    o.write(true).create_new(true);
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::OpenOptionsExt;
+        o.mode(0o600);
+    }
+    o.open(path).map(|_| ())
+}
+
+/// Open read-only and immutable (no WAL index, no locks): for a database in a folder the
+/// user cannot write.
+fn open_immutable(path: &Path) -> Result<Connection, rusqlite::Error> {
+    let abs = std::path::absolute(path).unwrap_or_else(|_| path.to_path_buf());
+    let mut uri = String::from("file:");
+    for b in abs.to_string_lossy().bytes() {
+        if b.is_ascii_alphanumeric() || b"/-_.~".contains(&b) {
+            uri.push(b as char);
+        } else {
+            uri.push_str(&format!("%{b:02X}"));
+        }
+    }
+    uri.push_str("?mode=ro&immutable=1");
+    let conn = Connection::open_with_flags(
+        uri,
+        OpenFlags::SQLITE_OPEN_READ_ONLY
+            | OpenFlags::SQLITE_OPEN_URI
+            | OpenFlags::SQLITE_OPEN_NO_MUTEX,
+    )?;
+    conn.busy_timeout(BUSY_TIMEOUT)?;
+    Ok(conn)
+}
+
+/// Whether the connection can only read (the file or its folder is not writable).
+pub fn is_read_only(conn: &Connection) -> bool {
+    conn.is_readonly(rusqlite::MAIN_DB).unwrap_or(false)
+}
+
+/// Debug builds only: `SHARDLOG_TEST_MAX_PAGE_COUNT=N` caps the database at N pages, the
+/// portable way for the test suite to make a database that cannot grow (disk full).
+fn limit_pages_for_tests(conn: &Connection) -> Result<(), StoreError> {
+    #[cfg(debug_assertions)]
+    if let Some(n) = std::env::var("SHARDLOG_TEST_MAX_PAGE_COUNT")
+        .ok()
+        .and_then(|v| v.parse::<u32>().ok())
+    {
+        // a number we parsed, never text from the user
+        let _: i64 = conn.query_row(&format!("PRAGMA max_page_count = {n}"), [], |r| r.get(0))?;
+    }
+    #[cfg(not(debug_assertions))]
+    let _ = conn;
+    Ok(())
+}
+
+/// A sentence for an SQLite failure that comes from the machine, not the data: a full disk,
+/// a failing or refusing disk, another writer holding the lock too long, a read-only file.
+/// None for anything else.
+pub fn environment_failure(e: &rusqlite::Error) -> Option<String> {
+    use rusqlite::ErrorCode as C;
+    let raw = e.to_string();
+    Some(match e.sqlite_error_code()? {
+        C::DiskFull => format!(
+            "disk full: the disk or the database has no room left ({raw}); nothing of this change was written"
+        ),
+        C::SystemIoFailure => format!(
+            "the disk refused a read or write ({raw}: is it full, is the file over a size limit, or is the disk failing?); nothing of this change was written"
+        ),
+        C::DatabaseBusy | C::DatabaseLocked => format!(
+            "another program kept the database busy for more than {} s (an import or a backup?); nothing was written, try again",
+            BUSY_TIMEOUT.as_secs()
+        ),
+        C::ReadOnly => "the database is read-only here (the file or its folder cannot be written); nothing was written".to_string(),
+        _ => return None,
+    })
+}
+
+/// [`environment_failure`] or SQLite's own message.
+pub fn describe(e: &rusqlite::Error) -> String {
+    environment_failure(e).unwrap_or_else(|| e.to_string())
+}
+
 /// Pragmas for a file database: WAL, synchronous=FULL (each committed audit row survives
 /// power loss), foreign keys on.
 pub fn set_file_pragmas(conn: &Connection) -> Result<(), StoreError> {
+    if is_read_only(conn) {
+        // nothing to switch on a connection that cannot write
+        conn.execute_batch("PRAGMA foreign_keys = ON;")?;
+        return Ok(());
+    }
     let mode: String = conn.query_row("PRAGMA journal_mode = WAL", [], |r| r.get(0))?;
     if !mode.eq_ignore_ascii_case("wal") {
         return Err(StoreError::Database(format!(
@@ -195,6 +318,28 @@ pub fn fts_query(text: &str) -> Option<String> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn machine_failures_are_sentences_without_locked() {
+        use rusqlite::ffi;
+        let err =
+            |code: i32| rusqlite::Error::SqliteFailure(ffi::Error::new(code), Some("raw".into()));
+        let full = environment_failure(&err(ffi::SQLITE_FULL)).unwrap();
+        assert!(full.starts_with("disk full"), "{full}");
+        for code in [ffi::SQLITE_BUSY, ffi::SQLITE_LOCKED] {
+            let m = environment_failure(&err(code)).unwrap();
+            assert!(
+                m.contains("another program") && m.contains("try again"),
+                "{m}"
+            );
+            assert!(!m.to_lowercase().contains("locked"), "{m}");
+        }
+        let io = environment_failure(&err(ffi::SQLITE_IOERR_WRITE)).unwrap();
+        assert!(io.contains("disk refused"), "{io}");
+        let ro = environment_failure(&err(ffi::SQLITE_READONLY)).unwrap();
+        assert!(ro.contains("read-only"), "{ro}");
+        assert_eq!(environment_failure(&err(ffi::SQLITE_CONSTRAINT)), None);
+    }
 
     #[test]
     fn fts_query_quotes_everything() {

@@ -77,7 +77,10 @@ pub fn draw(app: &App, f: &mut Frame) {
 
 fn draw_title(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
     let left = format!(" shardlog · {}", screen_title(app));
-    let right = widgets::clean(&app.db_path.display().to_string());
+    let mut right = widgets::clean(&app.db_path.display().to_string());
+    if app.read_only() {
+        right.push_str(" (read-only)");
+    }
     let w = area.width as usize;
     let lw = unicode_width::UnicodeWidthStr::width(left.as_str());
     let room = w.saturating_sub(lw + 2);
