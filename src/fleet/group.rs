@@ -13,6 +13,7 @@
 
 use std::collections::HashMap;
 use std::hash::{BuildHasherDefault, Hasher};
+use std::sync::Arc;
 
 use chrono::{Datelike, NaiveDate};
 
@@ -20,16 +21,19 @@ use super::rates::{holm_adjust, rate_per_1000, rate_ratio, Rate, RateRatio};
 use super::weibull::{fit, Specimen, WeibullError, WeibullFit};
 
 /// The facts of one incident that the fleet statistics use. `None` means "not recorded".
+///
+/// The texts are shared (`Arc<str>`): a fleet of a million incidents has a few thousand
+/// distinct values, and the store hands out one copy of each (`"x".into()` makes one).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct IncidentFacts {
-    pub cause: Option<String>,
-    pub origin_type: Option<String>,
-    pub supplier: Option<String>,
-    pub product: Option<String>,
-    pub lot: Option<String>,
-    pub site: Option<String>,
-    pub asset_type: Option<String>,
-    pub temper: Option<String>,
+    pub cause: Option<Arc<str>>,
+    pub origin_type: Option<Arc<str>>,
+    pub supplier: Option<Arc<str>>,
+    pub product: Option<Arc<str>>,
+    pub lot: Option<Arc<str>>,
+    pub site: Option<Arc<str>>,
+    pub asset_type: Option<Arc<str>>,
+    pub temper: Option<Arc<str>>,
     /// Date the breakage was found (the date the statistics use).
     pub found: NaiveDate,
     /// Back-calculated fracture stress, Pa (applied stress at the origin).
