@@ -13,7 +13,7 @@
 
 use std::collections::HashMap;
 use std::hash::{BuildHasherDefault, Hasher};
-use std::sync::Arc;
+use std::rc::Rc;
 
 use chrono::{Datelike, NaiveDate};
 
@@ -22,18 +22,18 @@ use super::weibull::{fit, Specimen, WeibullError, WeibullFit};
 
 /// The facts of one incident that the fleet statistics use. `None` means "not recorded".
 ///
-/// The texts are shared (`Arc<str>`): a fleet of a million incidents has a few thousand
+/// The texts are shared (`Rc<str>`): a fleet of a million incidents has a few thousand
 /// distinct values, and the store hands out one copy of each (`"x".into()` makes one).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct IncidentFacts {
-    pub cause: Option<Arc<str>>,
-    pub origin_type: Option<Arc<str>>,
-    pub supplier: Option<Arc<str>>,
-    pub product: Option<Arc<str>>,
-    pub lot: Option<Arc<str>>,
-    pub site: Option<Arc<str>>,
-    pub asset_type: Option<Arc<str>>,
-    pub temper: Option<Arc<str>>,
+    pub cause: Option<Rc<str>>,
+    pub origin_type: Option<Rc<str>>,
+    pub supplier: Option<Rc<str>>,
+    pub product: Option<Rc<str>>,
+    pub lot: Option<Rc<str>>,
+    pub site: Option<Rc<str>>,
+    pub asset_type: Option<Rc<str>>,
+    pub temper: Option<Rc<str>>,
     /// Date the breakage was found (the date the statistics use).
     pub found: NaiveDate,
     /// Back-calculated fracture stress, Pa (applied stress at the origin).

@@ -1640,7 +1640,6 @@ impl Store {
         until: Option<NaiveDate>,
         stress: FleetStress,
     ) -> Result<Vec<crate::fleet::IncidentFacts>, StoreError> {
-        use std::sync::Arc;
         let values: Vec<(i64, String)> = {
             let mut stmt = self
                 .conn
@@ -1654,8 +1653,8 @@ impl Store {
             for (n, v) in &values {
                 let text = match code {
                     // a key with no row in its table reads as not recorded
-                    Some(map) => map.get(v).map(|c| Arc::from(c.as_str())),
-                    None => Some(Arc::from(v.as_str())),
+                    Some(map) => map.get(v).map(String::as_str),
+                    None => Some(v.as_str()),
                 };
                 t.insert(*n, text);
             }
@@ -1748,40 +1747,66 @@ impl Store {
     }
 }
 
-/// Fleet value number -> text of one column: a vector indexed by the number (SQLite hands
-/// them out 1, 2, 3, ...), a map if someone made them sparse.
-enum ValueTable {
-    Dense(Vec<Option<Option<std::sync::Arc<str>>>>),
-    Sparse(HashMap<i64, Option<std::sync::Arc<str>>>),
+/// Fleet value number -> text of one column. The distinct texts of the column are kept once
+/// (all twenty thousand asset ids of a fleet map to a handful of asset types) and each number
+/// holds a small index into them, so the table of a column stays in the processor's cache.
+/// A vector indexed by the number (SQLite hands them out 1, 2, 3, ...), a map if someone
+/// made them sparse.
+struct ValueTable {
+    /// Index 0: not recorded.
+    texts: Vec<Option<std::rc::Rc<str>>>,
+    seen: HashMap<String, u32>,
+    index: ValueIndex,
+}
+
+enum ValueIndex {
+    /// `u32::MAX`: no such number.
+    Dense(Vec<u32>),
+    Sparse(HashMap<i64, u32>),
 }
 
 impl ValueTable {
     fn new(count: usize, max: i64) -> ValueTable {
-        match usize::try_from(max) {
-            Ok(m) if m <= 2 * count + 1024 => ValueTable::Dense(vec![None; m + 1]),
-            _ => ValueTable::Sparse(HashMap::new()),
+        let index = match usize::try_from(max) {
+            Ok(m) if m <= 2 * count + 1024 => ValueIndex::Dense(vec![u32::MAX; m + 1]),
+            _ => ValueIndex::Sparse(HashMap::new()),
+        };
+        ValueTable {
+            texts: vec![None],
+            seen: HashMap::new(),
+            index,
         }
     }
-    fn insert(&mut self, n: i64, text: Option<std::sync::Arc<str>>) {
-        match self {
-            ValueTable::Dense(v) => {
-                if let Some(slot) = usize::try_from(n).ok().and_then(|i| v.get_mut(i)) {
-                    *slot = Some(text);
+    fn insert(&mut self, n: i64, text: Option<&str>) {
+        let i = match text {
+            None => 0,
+            Some(t) => match self.seen.get(t) {
+                Some(&i) => i,
+                None => {
+                    let i = self.texts.len() as u32;
+                    self.texts.push(Some(std::rc::Rc::from(t)));
+                    self.seen.insert(t.to_string(), i);
+                    i
+                }
+            },
+        };
+        match &mut self.index {
+            ValueIndex::Dense(v) => {
+                if let Some(slot) = usize::try_from(n).ok().and_then(|k| v.get_mut(k)) {
+                    *slot = i;
                 }
             }
-            ValueTable::Sparse(m) => {
-                m.insert(n, text);
+            ValueIndex::Sparse(m) => {
+                m.insert(n, i);
             }
         }
     }
-    fn get(&self, n: i64) -> Option<&Option<std::sync::Arc<str>>> {
-        match self {
-            ValueTable::Dense(v) => usize::try_from(n)
-                .ok()
-                .and_then(|i| v.get(i))
-                .and_then(Option::as_ref),
-            ValueTable::Sparse(m) => m.get(&n),
-        }
+    fn get(&self, n: i64) -> Option<&Option<std::rc::Rc<str>>> {
+        let i = match &self.index {
+            ValueIndex::Dense(v) => *usize::try_from(n).ok().and_then(|k| v.get(k))?,
+            ValueIndex::Sparse(m) => *m.get(&n)?,
+        };
+        self.texts.get(i as usize)
     }
 }
 
