@@ -1747,6 +1747,59 @@ impl Store {
     }
 }
 
+/// Where the `incident_facts` table (what `stats` reads) disagrees with `incidents`: one
+/// message per incident whose row is missing or differs, and per row with no incident.
+/// Triggers keep the two in step, so any message means the table was changed by hand.
+pub(crate) fn fleet_facts_problems(conn: &Connection) -> Result<Vec<String>, StoreError> {
+    const WHY: &str = "the copy the fleet statistics read (table incident_facts)";
+    let mut out = Vec::new();
+    let mut stmt = conn.prepare(
+        "SELECT i.reference, f.seq IS NULL FROM incidents i
+         LEFT JOIN incident_facts f ON f.seq = i.seq
+         LEFT JOIN fleet_values c ON c.n = f.cause_category
+         LEFT JOIN fleet_values o ON o.n = f.origin_type
+         LEFT JOIN fleet_values t ON t.n = f.temper
+         LEFT JOIN fleet_values s ON s.n = f.supplier_id
+         LEFT JOIN fleet_values p ON p.n = f.product_id
+         LEFT JOIN fleet_values l ON l.n = f.lot_id
+         LEFT JOIN fleet_values e ON e.n = f.site_id
+         LEFT JOIN fleet_values a ON a.n = f.asset_id
+         WHERE f.seq IS NULL OR f.found_on IS NOT i.found_on
+            OR c.value IS NOT i.cause_category OR (f.cause_category IS NULL) != (i.cause_category IS NULL)
+            OR o.value IS NOT i.origin_type OR (f.origin_type IS NULL) != (i.origin_type IS NULL)
+            OR t.value IS NOT i.temper OR (f.temper IS NULL) != (i.temper IS NULL)
+            OR s.value IS NOT i.supplier_id OR (f.supplier_id IS NULL) != (i.supplier_id IS NULL)
+            OR p.value IS NOT i.product_id OR (f.product_id IS NULL) != (i.product_id IS NULL)
+            OR l.value IS NOT i.lot_id OR (f.lot_id IS NULL) != (i.lot_id IS NULL)
+            OR e.value IS NOT i.site_id OR (f.site_id IS NULL) != (i.site_id IS NULL)
+            OR a.value IS NOT i.asset_id OR (f.asset_id IS NULL) != (i.asset_id IS NULL)
+            OR f.stress_pa IS NOT i.stress_pa OR f.applied_stress_pa IS NOT i.applied_stress_pa
+         ORDER BY i.seq",
+    )?;
+    let mut rows = stmt.query([])?;
+    while let Some(r) = rows.next()? {
+        let reference: String = r.get(0)?;
+        let missing: bool = r.get(1)?;
+        out.push(if missing {
+            format!("incident {reference}: missing from {WHY} (deleted behind shardlog's back); stats leave it out")
+        } else {
+            format!("incident {reference}: {WHY} differs from the incident (changed behind shardlog's back); stats read the changed values")
+        });
+    }
+    let orphans: i64 = conn.query_row(
+        "SELECT count(*) FROM incident_facts f
+         WHERE NOT EXISTS (SELECT 1 FROM incidents i WHERE i.seq = f.seq)",
+        [],
+        |r| r.get(0),
+    )?;
+    if orphans > 0 {
+        out.push(format!(
+            "{WHY}: {orphans} row(s) belong to no incident (inserted behind shardlog's back); stats count them"
+        ));
+    }
+    Ok(out)
+}
+
 /// Fleet value number -> text of one column. The distinct texts of the column are kept once
 /// (all twenty thousand asset ids of a fleet map to a handful of asset types) and each number
 /// holds a small index into them, so the table of a column stays in the processor's cache.
