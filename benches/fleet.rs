@@ -120,8 +120,8 @@ print(scipy.__version__, ts[len(ts) // 2], c, s)
             let c = causes[(rng.next_f64() * causes.len() as f64) as usize];
             let s = &suppliers[(rng.next_f64() * suppliers.len() as f64) as usize];
             IncidentFacts {
-                cause: Some(c.to_string()),
-                supplier: Some(s.clone()),
+                cause: Some(c.into()),
+                supplier: Some(s.as_str().into()),
                 found: d0 + chrono::Days::new((rng.next_f64() * 1800.0) as u64),
                 stress_pa: Some(60e6 * (-rng.next_f64().ln()).powf(1.0 / 6.0)),
                 ..Default::default()

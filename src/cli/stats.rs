@@ -809,24 +809,13 @@ pub fn load(
     store: &crate::store::Store,
     q: &StatsQuery,
 ) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
-    let filter = crate::store::Filter {
-        since: q.since,
-        until: q.until,
-        ..Default::default()
+    let stress = match q.stress {
+        StressKind::Applied => crate::store::FleetStress::Applied,
+        StressKind::Net => crate::store::FleetStress::Net,
     };
-    let rows = store
-        .fleet_rows(&filter)
+    let incidents = store
+        .fleet_facts(q.since, q.until, stress)
         .map_err(|e| CliError::work(e.to_string()))?;
-    let incidents = rows
-        .into_iter()
-        .map(|r| {
-            let stress = match q.stress {
-                StressKind::Applied => r.applied_stress_pa,
-                StressKind::Net => r.net_stress_pa,
-            };
-            r.into_facts(stress)
-        })
-        .collect();
     let exposures = store
         .exposure()
         .map_err(|e| CliError::work(e.to_string()))?

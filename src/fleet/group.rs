@@ -13,6 +13,7 @@
 
 use std::collections::HashMap;
 use std::hash::{BuildHasherDefault, Hasher};
+use std::rc::Rc;
 
 use chrono::{Datelike, NaiveDate};
 
@@ -20,16 +21,19 @@ use super::rates::{holm_adjust, rate_per_1000, rate_ratio, Rate, RateRatio};
 use super::weibull::{fit, Specimen, WeibullError, WeibullFit};
 
 /// The facts of one incident that the fleet statistics use. `None` means "not recorded".
+///
+/// The texts are shared (`Rc<str>`): a fleet of a million incidents has a few thousand
+/// distinct values, and the store hands out one copy of each (`"x".into()` makes one).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct IncidentFacts {
-    pub cause: Option<String>,
-    pub origin_type: Option<String>,
-    pub supplier: Option<String>,
-    pub product: Option<String>,
-    pub lot: Option<String>,
-    pub site: Option<String>,
-    pub asset_type: Option<String>,
-    pub temper: Option<String>,
+    pub cause: Option<Rc<str>>,
+    pub origin_type: Option<Rc<str>>,
+    pub supplier: Option<Rc<str>>,
+    pub product: Option<Rc<str>>,
+    pub lot: Option<Rc<str>>,
+    pub site: Option<Rc<str>>,
+    pub asset_type: Option<Rc<str>>,
+    pub temper: Option<Rc<str>>,
     /// Date the breakage was found (the date the statistics use).
     pub found: NaiveDate,
     /// Back-calculated fracture stress, Pa (applied stress at the origin).

@@ -514,6 +514,10 @@ impl Store {
                 }
             }
         }
+        // the narrow copy the fleet statistics read (schema 3) agrees with the incidents
+        for msg in incidents::fleet_facts_problems(&self.conn)? {
+            problem(&mut report, msg);
+        }
         let mut gone: Vec<&(String, String)> = last
             .iter()
             .filter(|(k, img)| img.is_some() && !seen.contains_key(*k))

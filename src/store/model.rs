@@ -550,6 +550,17 @@ pub struct FleetRow {
     pub has_stress: bool,
 }
 
+/// Which back-calculated stress [`Store::fleet_facts`] puts in each incident's facts.
+///
+/// [`Store::fleet_facts`]: crate::store::Store::fleet_facts
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FleetStress {
+    /// Net minus residual stress: the service load at fracture.
+    Applied,
+    /// The mirror's stress at the origin.
+    Net,
+}
+
 /// Exposure for fleet rates: panes of one supplier/product/lot at one site.
 pub type ExposureRow = Exposure;
 
@@ -592,14 +603,14 @@ impl FleetRow {
     /// net, filtered as it needs). One mapping for every caller (stats, dispute bundles).
     pub fn into_facts(self, stress_pa: Option<f64>) -> crate::fleet::IncidentFacts {
         crate::fleet::IncidentFacts {
-            cause: self.cause,
-            origin_type: self.origin_type,
-            supplier: self.supplier,
-            product: self.product,
-            lot: self.lot,
-            site: self.site,
-            asset_type: self.asset_type,
-            temper: self.temper,
+            cause: self.cause.map(Into::into),
+            origin_type: self.origin_type.map(Into::into),
+            supplier: self.supplier.map(Into::into),
+            product: self.product.map(Into::into),
+            lot: self.lot.map(Into::into),
+            site: self.site.map(Into::into),
+            asset_type: self.asset_type.map(Into::into),
+            temper: self.temper.map(Into::into),
             found: self.found_on,
             stress_pa,
         }

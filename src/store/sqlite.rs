@@ -22,6 +22,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0002_search.sql",
         include_str!("../../schema/0002_search.sql"),
     ),
+    (
+        "0003_fleet_facts.sql",
+        include_str!("../../schema/0003_fleet_facts.sql"),
+    ),
 ];
 
 /// The schema version this build writes.
