@@ -578,7 +578,7 @@ fn lot_rate(
         .iter()
         .map(|f| {
             let mut f = f.clone();
-            f.lot = joined(f.supplier.as_deref(), f.lot.as_deref());
+            f.lot = joined(f.supplier.as_deref(), f.lot.as_deref()).map(Into::into);
             f
         })
         .collect();
