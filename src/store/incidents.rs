@@ -4,7 +4,7 @@
 use std::collections::{HashMap, HashSet};
 
 use chrono::NaiveDate;
-use rusqlite::types::Value as SqlValue;
+use rusqlite::types::{ToSqlOutput, Value as SqlValue, ValueRef};
 use rusqlite::{params, params_from_iter, Connection, OptionalExtension, TransactionBehavior};
 
 use super::audit::{fmt_time, parse_time, Chain, INCIDENT};
@@ -22,6 +22,83 @@ pub(crate) struct Refs {
     pub supplier: Option<String>,
     pub product: Option<String>,
     pub lot: Option<String>,
+}
+
+/// Keys of sites, assets, suppliers, products and lots by code, looked up (or created)
+/// once per writing transaction: a bulk import resolves the same few codes for every row.
+/// Valid only inside the transaction that filled it.
+#[derive(Debug, Default)]
+pub(crate) struct RefCache {
+    sites: HashMap<String, String>,
+    assets: HashMap<String, String>,
+    suppliers: HashMap<String, String>,
+    products: HashMap<(String, String), String>,
+    lots: HashMap<(String, String), String>,
+}
+
+impl RefCache {
+    fn site(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
+        if let Some(id) = self.sites.get(code) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::site_id(conn, code)?;
+        if let Some(id) = &id {
+            self.sites.insert(code.to_string(), id.clone());
+        }
+        Ok(id)
+    }
+    fn asset(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
+        if let Some(id) = self.assets.get(code) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::asset_id(conn, code)?;
+        if let Some(id) = &id {
+            self.assets.insert(code.to_string(), id.clone());
+        }
+        Ok(id)
+    }
+    fn supplier(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
+        if let Some(id) = self.suppliers.get(code) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::supplier_id(conn, code)?;
+        if let Some(id) = &id {
+            self.suppliers.insert(code.to_string(), id.clone());
+        }
+        Ok(id)
+    }
+    fn product(
+        &mut self,
+        conn: &Connection,
+        supplier_id: &str,
+        code: &str,
+    ) -> Result<Option<String>, StoreError> {
+        let key = (supplier_id.to_string(), code.to_string());
+        if let Some(id) = self.products.get(&key) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::product_id(conn, supplier_id, code)?;
+        if let Some(id) = &id {
+            self.products.insert(key, id.clone());
+        }
+        Ok(id)
+    }
+    fn lot(
+        &mut self,
+        conn: &Connection,
+        product_id: &str,
+        code: &str,
+    ) -> Result<Option<String>, StoreError> {
+        let key = (product_id.to_string(), code.to_string());
+        if let Some(id) = self.lots.get(&key) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::lot_id(conn, product_id, code)?;
+        if let Some(id) = &id {
+            self.lots.insert(key, id.clone());
+        }
+        Ok(id)
+    }
 }
 
 /// Columns kept for the log and statistics, derived from the aggregate.
@@ -151,61 +228,102 @@ fn build_update_sql() -> String {
 fn t(s: &str) -> SqlValue {
     SqlValue::Text(s.to_string())
 }
-fn ot(s: &Option<String>) -> SqlValue {
-    s.as_deref().map_or(SqlValue::Null, t)
-}
 fn of(x: Option<f64>) -> SqlValue {
     x.map_or(SqlValue::Null, SqlValue::Real)
 }
-fn oi(x: Option<i64>) -> SqlValue {
-    x.map_or(SqlValue::Null, SqlValue::Integer)
+
+/// Column values of an incident row, in [`COLS`] order, borrowing the incident's text
+/// (the few values that need formatting are held in `owned`).
+struct RowValues<'a> {
+    values: Vec<ToSqlOutput<'a>>,
 }
 
-fn row_values(inc: &Incident, refs: &Refs, d: &Derived) -> Result<Vec<SqlValue>, StoreError> {
-    let cause = inc.cause.as_ref();
-    Ok(vec![
-        t(&inc.id),
-        t(&inc.reference),
-        SqlValue::Integer(inc.revision),
-        t(&fmt_time(inc.created_at)),
-        t(&fmt_time(inc.updated_at)),
-        ot(&refs.asset),
-        t(&inc.position),
-        ot(&refs.site),
-        t(&fmt_date(inc.found_on)),
-        inc.broken_on.map_or(SqlValue::Null, |d| t(&fmt_date(d))),
-        of(inc.environment.temperature_c),
-        t(&inc.environment.sun),
-        t(&inc.environment.weather),
-        t(&inc.reporter),
-        t(&inc.how_found),
-        ot(&refs.supplier),
-        ot(&refs.product),
-        ot(&refs.lot),
-        t(&inc.glass.makeup),
-        of(inc.glass.width_m),
-        of(inc.glass.height_m),
-        oi(inc.pattern.crack_count),
-        oi(inc.pattern.branching.map(i64::from)),
-        oi(inc.pattern.fragment_count),
-        ot(&inc.pattern.origin_location),
-        t(&inc.pattern.tension_face),
-        ot(&cause.map(|c| c.category.clone())),
-        match cause {
-            Some(c) => t(&serde_json::to_string(&c.factors)?),
-            None => SqlValue::Null,
+/// Text values an incident row needs formatted (times, dates, the factor list).
+struct RowText {
+    created_at: String,
+    updated_at: String,
+    found_on: String,
+    broken_on: Option<String>,
+    factors: Option<String>,
+}
+
+fn row_text(inc: &Incident) -> Result<RowText, StoreError> {
+    Ok(RowText {
+        created_at: fmt_time(inc.created_at),
+        updated_at: fmt_time(inc.updated_at),
+        found_on: fmt_date(inc.found_on),
+        broken_on: inc.broken_on.map(fmt_date),
+        factors: match &inc.cause {
+            Some(c) => Some(serde_json::to_string(&c.factors)?),
+            None => None,
         },
-        ot(&cause.map(|c| c.confidence.clone())),
-        ot(&cause.map(|c| c.responsibility.clone())),
-        ot(&cause.map(|c| c.note.clone())),
-        t(&inc.status),
-        t(&inc.description),
-        t(&inc.notes),
-        of(d.stress_pa),
-        of(d.applied_stress_pa),
-        ot(&d.origin_type),
-        ot(&d.temper),
-    ])
+    })
+}
+
+fn row_values<'a>(
+    inc: &'a Incident,
+    refs: &'a Refs,
+    d: &'a Derived,
+    owned: &'a RowText,
+) -> RowValues<'a> {
+    fn b(v: ValueRef<'_>) -> ToSqlOutput<'_> {
+        ToSqlOutput::Borrowed(v)
+    }
+    fn t(s: &str) -> ToSqlOutput<'_> {
+        b(ValueRef::Text(s.as_bytes()))
+    }
+    fn ot(s: Option<&str>) -> ToSqlOutput<'_> {
+        s.map_or(b(ValueRef::Null), t)
+    }
+    fn ofr(x: Option<f64>) -> ToSqlOutput<'static> {
+        b(x.map_or(ValueRef::Null, ValueRef::Real))
+    }
+    fn oi(x: Option<i64>) -> ToSqlOutput<'static> {
+        b(x.map_or(ValueRef::Null, ValueRef::Integer))
+    }
+    let cause = inc.cause.as_ref();
+    RowValues {
+        values: vec![
+            t(&inc.id),
+            t(&inc.reference),
+            b(ValueRef::Integer(inc.revision)),
+            t(&owned.created_at),
+            t(&owned.updated_at),
+            ot(refs.asset.as_deref()),
+            t(&inc.position),
+            ot(refs.site.as_deref()),
+            t(&owned.found_on),
+            ot(owned.broken_on.as_deref()),
+            ofr(inc.environment.temperature_c),
+            t(&inc.environment.sun),
+            t(&inc.environment.weather),
+            t(&inc.reporter),
+            t(&inc.how_found),
+            ot(refs.supplier.as_deref()),
+            ot(refs.product.as_deref()),
+            ot(refs.lot.as_deref()),
+            t(&inc.glass.makeup),
+            ofr(inc.glass.width_m),
+            ofr(inc.glass.height_m),
+            oi(inc.pattern.crack_count),
+            oi(inc.pattern.branching.map(i64::from)),
+            oi(inc.pattern.fragment_count),
+            ot(inc.pattern.origin_location.as_deref()),
+            t(&inc.pattern.tension_face),
+            ot(cause.map(|c| c.category.as_str())),
+            ot(owned.factors.as_deref()),
+            ot(cause.map(|c| c.confidence.as_str())),
+            ot(cause.map(|c| c.responsibility.as_str())),
+            ot(cause.map(|c| c.note.as_str())),
+            t(&inc.status),
+            t(&inc.description),
+            t(&inc.notes),
+            ofr(d.stress_pa),
+            ofr(d.applied_stress_pa),
+            ot(d.origin_type.as_deref()),
+            ot(d.temper.as_deref()),
+        ],
+    }
 }
 
 fn insert_children(conn: &Connection, inc: &Incident) -> Result<(), StoreError> {
@@ -367,9 +485,10 @@ pub(crate) fn insert_new(
     bulk: Option<&mut super::audit::Bulk>,
 ) -> Result<i64, StoreError> {
     let d = derive(inc);
-    let values = row_values(inc, refs, &d)?;
+    let owned = row_text(inc)?;
+    let values = row_values(inc, refs, &d, &owned);
     conn.prepare_cached(insert_sql())?
-        .execute(params_from_iter(values.iter()))
+        .execute(params_from_iter(values.values.iter()))
         .map_err(|e| match e {
             rusqlite::Error::SqliteFailure(f, _)
                 if f.code == rusqlite::ErrorCode::ConstraintViolation =>
@@ -776,7 +895,7 @@ fn check_measured(
     }
 }
 
-type Lookups = HashSet<(String, String)>;
+type Lookups = super::LookupSet;
 
 fn check_code(
     lookups: &Lookups,
@@ -786,7 +905,7 @@ fn check_code(
     code: Option<&str>,
 ) {
     if let Some(c) = code {
-        if !lookups.contains(&(kind.as_str().to_string(), c.to_string())) {
+        if !lookups.contains(kind.as_str(), c) {
             problems.push((
                 field.to_string(),
                 format!("unknown {} code \"{c}\"", kind.as_str().replace('_', " ")),
@@ -1035,6 +1154,7 @@ impl Store {
         inc: &Incident,
         stamp: &Stamp,
         strict: bool,
+        cache: &mut RefCache,
     ) -> Result<Refs, StoreError> {
         let ms = stamp.at.timestamp_millis();
         let missing = |what: &str, code: &str| {
@@ -1045,7 +1165,7 @@ impl Store {
         };
         let mut refs = Refs::default();
         if let Some(code) = &inc.site {
-            refs.site = match refdata::site_id(conn, code)? {
+            refs.site = match cache.site(conn, code)? {
                 Some(id) => Some(id),
                 None if strict => return Err(missing("site", code)),
                 None => {
@@ -1056,12 +1176,13 @@ impl Store {
                         region: String::new(),
                     };
                     refdata::insert_site(conn, chain, &s, stamp)?;
+                    cache.sites.insert(code.clone(), s.id.clone());
                     Some(s.id)
                 }
             };
         }
         if let Some(code) = &inc.asset {
-            refs.asset = match refdata::asset_id(conn, code)? {
+            refs.asset = match cache.asset(conn, code)? {
                 Some(id) => Some(id),
                 None if strict => return Err(missing("asset", code)),
                 None => {
@@ -1073,12 +1194,13 @@ impl Store {
                         site: inc.site.clone(),
                     };
                     refdata::insert_asset(conn, chain, &a, stamp)?;
+                    cache.assets.insert(code.clone(), a.id.clone());
                     Some(a.id)
                 }
             };
         }
         if let Some(code) = &inc.glass.supplier {
-            let sid = match refdata::supplier_id(conn, code)? {
+            let sid = match cache.supplier(conn, code)? {
                 Some(id) => id,
                 None if strict => return Err(missing("supplier", code)),
                 None => {
@@ -1088,11 +1210,12 @@ impl Store {
                         name: code.clone(),
                     };
                     refdata::insert_supplier(conn, chain, &s, stamp)?;
+                    cache.suppliers.insert(code.clone(), s.id.clone());
                     s.id
                 }
             };
             if let Some(pcode) = &inc.glass.product {
-                let pid = match refdata::product_id(conn, &sid, pcode)? {
+                let pid = match cache.product(conn, &sid, pcode)? {
                     Some(id) => id,
                     None if strict => return Err(missing("product", pcode)),
                     None => {
@@ -1103,11 +1226,14 @@ impl Store {
                             name: pcode.clone(),
                         };
                         refdata::insert_product(conn, chain, &p, stamp)?;
+                        cache
+                            .products
+                            .insert((sid.clone(), pcode.clone()), p.id.clone());
                         p.id
                     }
                 };
                 if let Some(lcode) = &inc.glass.lot {
-                    refs.lot = Some(match refdata::lot_id(conn, &pid, lcode)? {
+                    refs.lot = Some(match cache.lot(conn, &pid, lcode)? {
                         Some(id) => id,
                         None if strict => return Err(missing("lot", lcode)),
                         None => {
@@ -1119,6 +1245,9 @@ impl Store {
                                 made_on: None,
                             };
                             refdata::insert_lot(conn, chain, &l, stamp)?;
+                            cache
+                                .lots
+                                .insert((pid.clone(), lcode.clone()), l.id.clone());
                             l.id
                         }
                     });
@@ -1151,7 +1280,15 @@ impl Store {
             inc.id = self.ids.uuid_v7(stamp.at.timestamp_millis());
         }
         inc.reference = next_reference(&tx, inc.found_on)?;
-        let refs = Store::resolve_refs(&tx, &mut chain, &mut self.ids, &inc, stamp, false)?;
+        let refs = Store::resolve_refs(
+            &tx,
+            &mut chain,
+            &mut self.ids,
+            &inc,
+            stamp,
+            false,
+            &mut RefCache::default(),
+        )?;
         insert_new(&tx, &mut chain, &inc, &refs, stamp, None)?;
         chain.finish(&tx)?;
         tx.commit()?;
@@ -1203,13 +1340,24 @@ impl Store {
         Store::normalize(ids, &mut new, stamp);
         Store::first_problem(lookups, &new)?;
         let mut chain = Chain::load(conn)?;
-        let refs = Store::resolve_refs(conn, &mut chain, ids, &new, stamp, false)?;
+        let refs = Store::resolve_refs(
+            conn,
+            &mut chain,
+            ids,
+            &new,
+            stamp,
+            false,
+            &mut RefCache::default(),
+        )?;
         let d = derive(&new);
-        let mut values = row_values(&new, &refs, &d)?;
-        values.push(SqlValue::Integer(current.revision));
+        let owned = row_text(&new)?;
+        let mut values = row_values(&new, &refs, &d, &owned);
+        values
+            .values
+            .push(ToSqlOutput::Borrowed(ValueRef::Integer(current.revision)));
         let n = conn
             .prepare_cached(update_sql())?
-            .execute(params_from_iter(values.iter()))?;
+            .execute(params_from_iter(values.values.iter()))?;
         if n != 1 {
             return Err(StoreError::StaleRevision {
                 reference: current.reference,
