@@ -314,6 +314,55 @@ fn num6(x: f64) -> String {
     }
 }
 
+/// Columns whose cells are numbers or dates written by the tool: never formula-guarded (a
+/// negative applied stress stays a number a spreadsheet can add up).
+const CSV_NUMERIC: &[&str] = &[
+    "found_on",
+    "broken_on",
+    "thickness",
+    "examined_on",
+    "magnification",
+    "mirror_mist",
+    "mist_hackle",
+    "branching",
+    "flaw_depth",
+    "stress_mpa",
+    "applied_stress_mpa",
+];
+
+fn formula_trigger(c: char) -> bool {
+    matches!(c, '=' | '+' | '-' | '@' | '\t' | '\r')
+}
+
+/// Whether a text cell needs the formula guard: it starts with a character that makes a
+/// spreadsheet read a formula (`=`, `+`, `-`, `@`, tab, CR), possibly behind apostrophes
+/// that are part of the text (those get the guard too, so that import can tell them apart).
+fn needs_formula_guard(s: &str) -> bool {
+    s.trim_start_matches('\'').starts_with(formula_trigger)
+}
+
+/// The formula guard of CSV export (OWASP "CSV injection"): a text cell that a spreadsheet
+/// would run is written with a leading apostrophe, which spreadsheets read as "this is
+/// text". Numeric and date columns are never guarded.
+pub fn csv_guard(column: &str, s: &str) -> String {
+    if !CSV_NUMERIC.contains(&column) && needs_formula_guard(s) {
+        format!("'{s}")
+    } else {
+        s.to_string()
+    }
+}
+
+/// Undo exactly [`csv_guard`]: one leading apostrophe goes when what follows it would have
+/// needed the guard. Any other text is kept as it is.
+pub fn csv_unguard(column: &str, s: &str) -> String {
+    match s.strip_prefix('\'') {
+        Some(rest) if !CSV_NUMERIC.contains(&column) && needs_formula_guard(rest) => {
+            rest.to_string()
+        }
+        _ => s.to_string(),
+    }
+}
+
 fn csv_field(s: &str, out: &mut String) {
     if s.contains([',', '"', '\n', '\r']) || s.starts_with(' ') || s.ends_with(' ') {
         out.push('"');
@@ -400,12 +449,17 @@ pub fn csv_row(inc: &Incident) -> String {
         inc.description.clone(),
         inc.notes.clone(),
     ];
+    debug_assert_eq!(cells.len(), CSV_COLUMNS.len());
     let mut out = String::new();
-    for (i, c) in cells.iter().enumerate() {
+    for (i, (c, column)) in cells.iter().zip(CSV_COLUMNS).enumerate() {
         if i > 0 {
             out.push(',');
         }
-        csv_field(c, &mut out);
+        if !CSV_NUMERIC.contains(column) && needs_formula_guard(c) {
+            csv_field(&csv_guard(column, c), &mut out);
+        } else {
+            csv_field(c, &mut out);
+        }
     }
     out
 }
@@ -555,6 +609,13 @@ pub fn parse_csv(bytes: &[u8], stamp: &Stamp) -> Result<Vec<Incident>, Vec<Probl
                 format!("has {} fields; the header has {width}", rec.len()),
             ));
             continue;
+        }
+        // undo the export's formula guard on text cells (a leading apostrophe)
+        let mut rec = rec;
+        for (name, &i) in &col {
+            if rec[i].starts_with('\'') {
+                rec[i] = csv_unguard(name, &rec[i]);
+            }
         }
         let get = |name: &str| -> &str { col.get(name).map_or("", |&i| rec[i].as_str()) };
         let mut bad = |name: &str, msg: String| {
@@ -1267,6 +1328,28 @@ mod tests {
                 _ => panic!("{c:?}: {new:?} against {old:?}"),
             }
         }
+    }
+
+    #[test]
+    fn formula_guard_is_undone_exactly() {
+        let texts = [
+            "", "=1+1", "+1", "-x", "@SUM(A1)", "\tx", "\rx", "'", "''", "'=", "''=x", "'a", "a'",
+            "x=1", " =1", "-", "'-'", "é=",
+        ];
+        for t in texts {
+            for column in ["notes", "asset", "ref"] {
+                let g = csv_guard(column, t);
+                assert_eq!(csv_unguard(column, &g), t, "{column}: {t:?} -> {g:?}");
+                assert!(!g.starts_with(formula_trigger), "{g:?}");
+            }
+            // numbers and dates are never touched
+            assert_eq!(csv_guard("applied_stress_mpa", t), t);
+            assert_eq!(csv_unguard("applied_stress_mpa", t), t);
+        }
+        assert_eq!(csv_guard("notes", "-12.5"), "'-12.5");
+        assert_eq!(csv_guard("stress_mpa", "-12.5"), "-12.5");
+        assert_eq!(csv_guard("notes", "'plain"), "'plain");
+        assert_eq!(csv_unguard("notes", "'plain"), "'plain");
     }
 
     #[test]
