@@ -110,8 +110,18 @@ fn write_float(f: f64, out: &mut String) {
 }
 
 fn write_str(s: &str, out: &mut String) {
-    out.push('"');
     let bytes = s.as_bytes();
+    // most texts (and every key) need no escape: one check without early exit, one copy
+    if !bytes.iter().fold(false, |acc, &b| {
+        acc | (b < 0x20) | (b == b'"') | (b == b'\\')
+    }) {
+        out.reserve(bytes.len() + 2);
+        out.push('"');
+        out.push_str(s);
+        out.push('"');
+        return;
+    }
+    out.push('"');
     let mut start = 0;
     for (i, &b) in bytes.iter().enumerate() {
         let esc: Option<&str> = match b {

@@ -598,7 +598,7 @@ pub fn parse_csv(bytes: &[u8], stamp: &Stamp) -> Result<Vec<Incident>, Vec<Probl
         return Err(problems);
     }
     let width = header.len();
-    let mut out = Vec::new();
+    let mut out = Vec::with_capacity(iter.len());
     for (line, rec) in iter {
         if rec.len() == 1 && rec[0].trim().is_empty() {
             continue; // blank line
