@@ -484,6 +484,52 @@ pub(crate) fn insert_new(
     stamp: &Stamp,
     bulk: Option<&mut super::audit::Bulk>,
 ) -> Result<i64, StoreError> {
+    let seq = write_rows(conn, inc, refs)?;
+    sqlite::fts_insert(conn, seq, &search_body(inc))?;
+    let img = canon::incident_image(inc)?;
+    match bulk {
+        Some(b) => b.add(conn, chain, stamp, &inc.id, &img)?,
+        None => chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?,
+    }
+    Ok(seq)
+}
+
+/// A new incident made ready for a bulk load away from the database: its audit image digest
+/// and its searchable text computed (the demo computes these on a second thread).
+pub(crate) struct Prepared {
+    pub inc: Incident,
+    pub refs: Refs,
+    pub stamp: Stamp,
+    digest: String,
+    body: String,
+}
+
+pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepared, StoreError> {
+    let img = canon::incident_image(&inc)?;
+    Ok(Prepared {
+        digest: canon::sha256_hex(img.as_bytes()),
+        body: search_body(&inc),
+        inc,
+        refs,
+        stamp,
+    })
+}
+
+/// [`insert_new`] of a [`Prepared`] incident in a bulk load: the same rows and the same audit.
+pub(crate) fn insert_prepared(
+    conn: &Connection,
+    chain: &mut Chain,
+    p: &Prepared,
+    bulk: &mut super::audit::Bulk,
+) -> Result<i64, StoreError> {
+    let seq = write_rows(conn, &p.inc, &p.refs)?;
+    sqlite::fts_insert(conn, seq, &p.body)?;
+    bulk.add_digest(conn, chain, &p.stamp, &p.inc.id, p.digest.clone())?;
+    Ok(seq)
+}
+
+/// The incident row and its children; returns the row's seq.
+fn write_rows(conn: &Connection, inc: &Incident, refs: &Refs) -> Result<i64, StoreError> {
     let d = derive(inc);
     let owned = row_text(inc)?;
     let values = row_values(inc, refs, &d, &owned);
@@ -502,12 +548,6 @@ pub(crate) fn insert_new(
         })?;
     let seq = conn.last_insert_rowid();
     insert_children(conn, inc)?;
-    sqlite::fts_insert(conn, seq, &search_body(inc))?;
-    let img = canon::incident_image(inc)?;
-    match bulk {
-        Some(b) => b.add(conn, chain, stamp, &inc.id, &img)?,
-        None => chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?,
-    }
     Ok(seq)
 }
 
