@@ -149,7 +149,7 @@ fn csv_export_guards_formulas_and_import_undoes_the_guard() {
     src.export_csv(&Filter::default(), &mut first).unwrap();
     let text = String::from_utf8(first.clone()).unwrap();
     let col = |name: &str| CSV_COLUMNS.iter().position(|c| *c == name).unwrap();
-    let rows: Vec<Vec<String>> = text.lines().skip(1).map(|l| split_simple_csv(l)).collect();
+    let rows: Vec<Vec<String>> = text.lines().skip(1).map(split_simple_csv).collect();
     assert_eq!(rows.len(), notes.len());
     for r in &rows {
         let i: usize = r[col("ref")].trim_start_matches("R-").parse().unwrap();

@@ -1886,11 +1886,10 @@ enum TextPlan {
 /// about ten per match (measured on the 1,000,000-incident demo database; DEVELOPERS.md,
 /// "Text search").
 fn choose_text_plan(hits: u64, rows: u64, limit: u64) -> TextPlan {
-    let walk = if hits == 0 {
-        rows
-    } else {
-        (limit.saturating_mul(rows) / hits).min(rows)
-    };
+    let walk = limit
+        .saturating_mul(rows)
+        .checked_div(hits)
+        .map_or(rows, |w| w.min(rows));
     if walk < hits.saturating_mul(10) {
         TextPlan::LogDrives
     } else {
