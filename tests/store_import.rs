@@ -100,6 +100,127 @@ fn csv_round_trip_is_identical_for_its_columns() {
     assert!(dst.verify().unwrap().ok());
 }
 
+/// CSV export guards text cells a spreadsheet would run as a formula with a leading
+/// apostrophe (OWASP, "CSV Injection"); import takes exactly that apostrophe off again, so
+/// the round trip holds. Numeric columns are never guarded: a negative stress stays a number.
+#[test]
+fn csv_export_guards_formulas_and_import_undoes_the_guard() {
+    let dir = tempfile::tempdir().unwrap();
+    let notes = [
+        "=HYPERLINK(\"http://example.invalid/x\",\"open\")",
+        "+1",
+        "-x",
+        "@SUM(A1:A9)",
+        "\tindented",
+        "'=already guarded by hand",
+        "''+two apostrophes",
+        "'plain apostrophe",
+        "it's fine",
+        "-",
+        "=",
+    ];
+    let mut csv = String::from(
+        "ref,found_on,asset,position,description,notes,analyst,origin_type,stress_mpa,applied_stress_mpa,cause\n",
+    );
+    for (i, n) in notes.iter().enumerate() {
+        // the file is written as export writes it (the text guarded); the asset, position
+        // and analyst cells are left bare: a bare formula is stored verbatim
+        let guarded = shardlog::store::exchange::csv_guard("notes", n);
+        let quoted = format!("\"{}\"", guarded.replace('"', "\"\""));
+        csv.push_str(&format!(
+            "R-{i},2026-03-{:02},=car {i},@bay {i},{quoted},{quoted},-mira,edge_chip,{},-12.5,thermal\n",
+            i + 1,
+            20 + i
+        ));
+    }
+    let mut src = Store::open(&dir.path().join("src.db")).unwrap();
+    src.import_bytes("in.csv", csv.as_bytes(), ImportOptions::default(), &stamp())
+        .unwrap()
+        .unwrap();
+    // stored verbatim
+    for (i, n) in notes.iter().enumerate() {
+        let inc = src.get(&format!("R-{i}")).unwrap();
+        assert_eq!(inc.notes, *n);
+        assert_eq!(inc.description, *n);
+        assert_eq!(inc.asset.as_deref(), Some(format!("=car {i}").as_str()));
+        assert_eq!(inc.position, format!("@bay {i}"));
+    }
+    let mut first = Vec::new();
+    src.export_csv(&Filter::default(), &mut first).unwrap();
+    let text = String::from_utf8(first.clone()).unwrap();
+    let col = |name: &str| CSV_COLUMNS.iter().position(|c| *c == name).unwrap();
+    let rows: Vec<Vec<String>> = text.lines().skip(1).map(split_simple_csv).collect();
+    assert_eq!(rows.len(), notes.len());
+    for r in &rows {
+        let i: usize = r[col("ref")].trim_start_matches("R-").parse().unwrap();
+        // text cells: guarded exactly when they start (behind any apostrophes) with = + - @ tab
+        let expected = match notes[i] {
+            "'plain apostrophe" | "it's fine" => notes[i].to_string(),
+            n => format!("'{n}"),
+        };
+        assert_eq!(r[col("notes")], expected, "notes of R-{i}");
+        assert_eq!(r[col("description")], expected);
+        assert_eq!(r[col("asset")], format!("'=car {i}"));
+        assert_eq!(r[col("position")], format!("'@bay {i}"));
+        assert_eq!(r[col("analyst")], "'-mira");
+        // no cell a spreadsheet would run is left
+        for (k, cell) in r.iter().enumerate() {
+            if cell.starts_with(['=', '+', '@', '\t', '\r']) || cell.starts_with('-') {
+                assert!(
+                    ["stress_mpa", "applied_stress_mpa"].contains(&CSV_COLUMNS[k]),
+                    "column {} = {cell:?}",
+                    CSV_COLUMNS[k]
+                );
+            }
+        }
+        // numbers stay numbers, the negative one too
+        assert_eq!(r[col("applied_stress_mpa")], "-12.5");
+        assert_eq!(r[col("applied_stress_mpa")].parse::<f64>().unwrap(), -12.5);
+        assert_eq!(r[col("stress_mpa")], (20 + i).to_string());
+    }
+    // import undoes exactly the guard: same records, same export
+    let mut dst = Store::open(&dir.path().join("dst.db")).unwrap();
+    dst.import_bytes("x.csv", &first, ImportOptions::default(), &stamp())
+        .unwrap()
+        .unwrap();
+    for (i, n) in notes.iter().enumerate() {
+        let inc = dst.get(&format!("R-{i}")).unwrap();
+        assert_eq!(inc.notes, *n, "R-{i}");
+        assert_eq!(inc.description, *n);
+        assert_eq!(inc.asset.as_deref(), Some(format!("=car {i}").as_str()));
+        assert_eq!(inc.position, format!("@bay {i}"));
+        assert_eq!(inc.examinations[0].analyst, "-mira");
+        let r = inc.current_result().unwrap().1;
+        assert_eq!(r.applied_stress_pa, Some(-12.5e6));
+    }
+    let mut second = Vec::new();
+    dst.export_csv(&Filter::default(), &mut second).unwrap();
+    assert_eq!(String::from_utf8(second).unwrap(), text);
+    assert!(dst.verify().unwrap().ok());
+}
+
+/// Split one CSV line (quoted fields without newlines) for the test above.
+fn split_simple_csv(line: &str) -> Vec<String> {
+    let mut out = Vec::new();
+    let mut field = String::new();
+    let mut quoted = false;
+    let mut chars = line.chars().peekable();
+    while let Some(c) = chars.next() {
+        match (quoted, c) {
+            (true, '"') if chars.peek() == Some(&'"') => {
+                chars.next();
+                field.push('"');
+            }
+            (true, '"') => quoted = false,
+            (false, '"') if field.is_empty() => quoted = true,
+            (false, ',') => out.push(std::mem::take(&mut field)),
+            (_, c) => field.push(c),
+        }
+    }
+    out.push(field);
+    out
+}
+
 #[test]
 fn filtered_export_keeps_only_matching_incidents() {
     let dir = tempfile::tempdir().unwrap();

@@ -165,8 +165,19 @@ impl Bulk {
         id: &str,
         image: &str,
     ) -> Result<(), StoreError> {
-        self.records
-            .push((id.to_string(), canon::sha256_hex(image.as_bytes())));
+        self.add_digest(conn, chain, stamp, id, canon::sha256_hex(image.as_bytes()))
+    }
+
+    /// [`Bulk::add`] with the image's SHA-256 (hex) already computed.
+    pub(crate) fn add_digest(
+        &mut self,
+        conn: &Connection,
+        chain: &mut Chain,
+        stamp: &Stamp,
+        id: &str,
+        digest: String,
+    ) -> Result<(), StoreError> {
+        self.records.push((id.to_string(), digest));
         if self.records.len() >= BATCH_SIZE {
             self.flush(conn, chain, stamp)?;
         }

@@ -110,8 +110,18 @@ fn write_float(f: f64, out: &mut String) {
 }
 
 fn write_str(s: &str, out: &mut String) {
-    out.push('"');
     let bytes = s.as_bytes();
+    // most texts (and every key) need no escape: one check without early exit, one copy
+    if !bytes.iter().fold(false, |acc, &b| {
+        acc | (b < 0x20) | (b == b'"') | (b == b'\\')
+    }) {
+        out.reserve(bytes.len() + 2);
+        out.push('"');
+        out.push_str(s);
+        out.push('"');
+        return;
+    }
+    out.push('"');
     let mut start = 0;
     for (i, &b) in bytes.iter().enumerate() {
         let esc: Option<&str> = match b {
@@ -339,6 +349,8 @@ mod tests {
 /// field named `analysis` is written as `"sha256:<hex of its canonical text>"` (the incident
 /// image).
 pub(crate) mod direct {
+    use std::borrow::Cow;
+
     use serde::ser::{self, Serialize};
     use serde_json::Error;
 
@@ -346,7 +358,7 @@ pub(crate) mod direct {
         value: &T,
         digest_analysis: bool,
     ) -> Result<String, Error> {
-        let mut out = String::with_capacity(1024);
+        let mut out = String::with_capacity(256);
         value.serialize(Ser {
             out: &mut out,
             digest_analysis,
@@ -359,10 +371,6 @@ pub(crate) mod direct {
         digest_analysis: bool,
     }
 
-    fn render<T: Serialize + ?Sized>(v: &T, digest_analysis: bool) -> Result<String, Error> {
-        to_string(v, digest_analysis)
-    }
-
     pub(crate) struct Seq<'a> {
         out: &'a mut String,
         digest_analysis: bool,
@@ -371,24 +379,32 @@ pub(crate) mod direct {
         close_variant: bool,
     }
 
+    /// An object being written: each value is rendered once into `scratch` (one buffer per
+    /// object, not one string per field), then the fields are copied out in key order.
     pub(crate) struct Obj<'a> {
         out: &'a mut String,
         digest_analysis: bool,
-        fields: Vec<(String, String)>,
+        scratch: String,
+        fields: Vec<(Cow<'static, str>, usize, usize)>,
         pending_key: Option<String>,
         close_variant: bool,
     }
 
-    fn finish_obj(out: &mut String, mut fields: Vec<(String, String)>) {
+    fn finish_obj(
+        out: &mut String,
+        scratch: &str,
+        mut fields: Vec<(Cow<'static, str>, usize, usize)>,
+    ) {
         fields.sort_by(|a, b| a.0.as_bytes().cmp(b.0.as_bytes()));
+        out.reserve(scratch.len() + fields.len() * 16 + 2);
         out.push('{');
-        for (i, (k, v)) in fields.iter().enumerate() {
+        for (i, (k, from, to)) in fields.iter().enumerate() {
             if i > 0 {
                 out.push(',');
             }
             super::write_str(k, out);
             out.push(':');
-            out.push_str(v);
+            out.push_str(&scratch[*from..*to]);
         }
         out.push('}');
     }
@@ -550,6 +566,7 @@ pub(crate) mod direct {
             Ok(Obj {
                 out: self.out,
                 digest_analysis: self.digest_analysis,
+                scratch: String::new(),
                 fields: Vec::with_capacity(len.unwrap_or(8)),
                 pending_key: None,
                 close_variant: false,
@@ -569,6 +586,7 @@ pub(crate) mod direct {
             Ok(Obj {
                 out: self.out,
                 digest_analysis: self.digest_analysis,
+                scratch: String::new(),
                 fields: Vec::with_capacity(len),
                 pending_key: None,
                 close_variant: true,
@@ -749,23 +767,30 @@ pub(crate) mod direct {
     }
 
     impl Obj<'_> {
-        fn field<T: Serialize + ?Sized>(&mut self, key: String, value: &T) -> Result<(), Error> {
-            let text = if self.digest_analysis && key == "analysis" {
-                let inner = render(value, false)?;
-                let mut s = String::with_capacity(80);
-                super::write_str(
-                    &format!("sha256:{}", super::sha256_hex(inner.as_bytes())),
-                    &mut s,
-                );
-                s
+        fn field<T: Serialize + ?Sized>(
+            &mut self,
+            key: Cow<'static, str>,
+            value: &T,
+        ) -> Result<(), Error> {
+            if self.scratch.capacity() == 0 {
+                self.scratch.reserve(256);
+            }
+            let from = self.scratch.len();
+            if self.digest_analysis && key == "analysis" {
+                let inner = to_string(value, false)?;
+                let digest = format!("sha256:{}", super::sha256_hex(inner.as_bytes()));
+                super::write_str(&digest, &mut self.scratch);
             } else {
-                render(value, self.digest_analysis)?
-            };
-            self.fields.push((key, text));
+                value.serialize(Ser {
+                    out: &mut self.scratch,
+                    digest_analysis: self.digest_analysis,
+                })?;
+            }
+            self.fields.push((key, from, self.scratch.len()));
             Ok(())
         }
         fn close(self) -> Result<(), Error> {
-            finish_obj(self.out, self.fields);
+            finish_obj(self.out, &self.scratch, self.fields);
             if self.close_variant {
                 self.out.push('}');
             }
@@ -785,7 +810,7 @@ pub(crate) mod direct {
                 .pending_key
                 .take()
                 .ok_or_else(|| <Error as ser::Error>::custom("map value without a key"))?;
-            self.field(key, value)
+            self.field(Cow::Owned(key), value)
         }
         fn end(self) -> Result<(), Error> {
             self.close()
@@ -800,7 +825,7 @@ pub(crate) mod direct {
             key: &'static str,
             value: &T,
         ) -> Result<(), Error> {
-            self.field(key.to_string(), value)
+            self.field(Cow::Borrowed(key), value)
         }
         fn end(self) -> Result<(), Error> {
             self.close()
@@ -815,7 +840,7 @@ pub(crate) mod direct {
             key: &'static str,
             value: &T,
         ) -> Result<(), Error> {
-            self.field(key.to_string(), value)
+            self.field(Cow::Borrowed(key), value)
         }
         fn end(self) -> Result<(), Error> {
             self.close()

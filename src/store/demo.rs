@@ -20,7 +20,7 @@ use std::path::{Path, PathBuf};
 use chrono::{DateTime, Datelike, Days, NaiveDate, TimeZone, Utc};
 
 use super::audit::{Bulk, Chain, INCIDENT};
-use super::incidents::{format_reference, insert_new, Refs};
+use super::incidents::{format_reference, insert_prepared, prepare, Prepared, Refs};
 use super::model::*;
 use super::{compute, files, refdata, sqlite, Store, StoreError};
 use crate::fracture::{self, Boundary};
@@ -902,280 +902,308 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     // scale are the rows batched (one per 1,000 incidents, each listing their digests)
     let per_record = o.incidents <= PER_RECORD_AUDIT_UP_TO;
     let mut last_stamp = setup_stamp.clone();
-    for plan in &plans {
-        let slot = &world.slots[plan.slot];
-        let pdef = &PRODUCTS[slot.product];
-        let n = per_day.entry(plan.found_on).or_insert(0);
-        *n += 1;
-        let reference = format_reference(plan.found_on, *n)?;
-        let life = plan.life;
-        let created = life.entered;
-        let analyst = *rng.pick(&ANALYSTS);
-        let stamp = Stamp::new(analyst, created);
-        let ms = stamp.at.timestamp_millis();
-        let mut inc = Incident::draft(plan.found_on);
-        inc.id = store.ids.uuid_v7(ms);
-        inc.reference = reference;
-        inc.revision = 1;
-        inc.created_at = stamp.at;
-        inc.updated_at = stamp.at;
-        inc.asset = Some(format!("car {}", 101 + plan.car));
-        inc.site = Some(SITES[slot.site].0.into());
-        inc.position = position(&mut rng, pdef.kind);
-        if rng.chance(0.7) {
-            inc.broken_on = Some(plan.found_on - Days::new(rng.below(2) as u64));
-        }
-        let (how, desc) = description(&mut rng, plan.cause);
-        inc.how_found = how.into();
-        inc.description = desc;
-        inc.reporter = (*rng.pick(&REPORTERS)).into();
-        let winter = matches!(plan.found_on.month(), 11 | 12 | 1 | 2 | 3);
-        inc.environment.temperature_c = Some(if plan.cause == CauseKind::Thermal {
-            (rng.range(-8.0, 5.0) * 10.0).round() / 10.0
-        } else if winter {
-            (rng.range(-5.0, 10.0) * 10.0).round() / 10.0
-        } else {
-            (rng.range(5.0, 26.0) * 10.0).round() / 10.0
-        });
-        if plan.cause == CauseKind::Thermal {
-            inc.environment.sun = "sunny afternoon, then a clear cold night".into();
-        }
-        inc.glass = Glass {
-            supplier: Some(pdef.supplier.into()),
-            product: Some(pdef.code.into()),
-            lot: Some(slot.lot.clone()),
-            makeup: pdef.makeup.into(),
-            plies: Vec::new(),
-            width_m: Some(if pdef.kind == Kind::Windscreen {
-                1.45
-            } else {
-                0.9
-            }),
-            height_m: Some(if pdef.kind == Kind::Windscreen {
-                0.85
-            } else {
-                0.65
-            }),
-        };
-        let thickness = Measured::parse(pdef.thickness, Dimension::Length)
-            .map(|m| m.si)
-            .ok();
-        let plies = if pdef.makeup == "laminated" { 2 } else { 1 };
-        for _ in 0..plies {
-            inc.glass.plies.push(Ply {
-                material: Some("soda_lime".into()),
-                temper: Some(pdef.temper.into()),
-                thickness_m: thickness,
-                coating: String::new(),
-                edge_finish: if pdef.temper == "annealed" {
-                    "arrissed".into()
-                } else {
-                    "ground".into()
-                },
-            });
-        }
-        let (sigma, location, origin_type) = target(&mut rng, plan.cause, pdef.temper);
-        let sigma = sigma.max(8e6);
-        let examined = life.examined;
-        let fragmented = pdef.temper == "fully_tempered";
-        inc.pattern = FracturePattern {
-            crack_count: if fragmented {
-                None
-            } else {
-                Some(1 + rng.below(4) as i64)
-            },
-            branching: Some(fragmented || sigma > 40e6),
-            fragment_count: if fragmented {
-                Some(40 + rng.below(80) as i64)
-            } else {
-                None
-            },
-            origin_location: examined.then(|| location.to_string()),
-            tension_face: if plan.cause == CauseKind::Thermal {
-                "unknown (thermal)".into()
-            } else {
-                String::new()
-            },
-        };
-        let received = at_time(plan.found_on + Days::new(1), life.received_min);
-        if examined {
-            let mut readings = Vec::new();
-            if let Some(m) = &materials {
-                let t = thickness.unwrap_or(0.006);
-                let mut boundaries: Vec<Boundary> = Vec::new();
-                let ri = m.a_i.as_ref().map(|c| (c.value / sigma).powi(2));
-                if ri.is_some_and(|r| r < 0.8 * t || plan.cause == CauseKind::NickelSulfide) {
-                    boundaries.push(Boundary::MirrorMist);
-                    if rng.chance(0.6) {
-                        boundaries.push(Boundary::MistHackle);
-                    }
-                } else {
-                    boundaries.push(Boundary::Branching);
+    // The incidents are made (and their audit digests and searchable text computed) on a
+    // second thread, in the same order as before; this thread writes them. The output is the
+    // same as a single-threaded run: every key, draw and row comes in the same sequence.
+    let store_ids = &mut store.ids;
+    let (to_writer, from_maker) = std::sync::mpsc::sync_channel::<Prepared>(512);
+    let mut written = 0u64;
+    std::thread::scope(|scope| -> Result<(), StoreError> {
+        let maker = scope.spawn(|| -> Result<(), StoreError> {
+            let to_writer = to_writer;
+            for plan in &plans {
+                let slot = &world.slots[plan.slot];
+                let pdef = &PRODUCTS[slot.product];
+                let n = per_day.entry(plan.found_on).or_insert(0);
+                *n += 1;
+                let reference = format_reference(plan.found_on, *n)?;
+                let life = plan.life;
+                let created = life.entered;
+                let analyst = *rng.pick(&ANALYSTS);
+                let stamp = Stamp::new(analyst, created);
+                let ms = stamp.at.timestamp_millis();
+                let mut inc = Incident::draft(plan.found_on);
+                inc.id = store_ids.uuid_v7(ms);
+                inc.reference = reference;
+                inc.revision = 1;
+                inc.created_at = stamp.at;
+                inc.updated_at = stamp.at;
+                inc.asset = Some(format!("car {}", 101 + plan.car));
+                inc.site = Some(SITES[slot.site].0.into());
+                inc.position = position(&mut rng, pdef.kind);
+                if rng.chance(0.7) {
+                    inc.broken_on = Some(plan.found_on - Days::new(rng.below(2) as u64));
                 }
-                for b in boundaries {
-                    let Some(c) = b.constant_of(m) else { continue };
-                    let r_true = (c.value / sigma).powi(2);
-                    let n = if b == Boundary::Branching {
-                        1 + rng.below(2)
+                let (how, desc) = description(&mut rng, plan.cause);
+                inc.how_found = how.into();
+                inc.description = desc;
+                inc.reporter = (*rng.pick(&REPORTERS)).into();
+                let winter = matches!(plan.found_on.month(), 11 | 12 | 1 | 2 | 3);
+                inc.environment.temperature_c = Some(if plan.cause == CauseKind::Thermal {
+                    (rng.range(-8.0, 5.0) * 10.0).round() / 10.0
+                } else if winter {
+                    (rng.range(-5.0, 10.0) * 10.0).round() / 10.0
+                } else {
+                    (rng.range(5.0, 26.0) * 10.0).round() / 10.0
+                });
+                if plan.cause == CauseKind::Thermal {
+                    inc.environment.sun = "sunny afternoon, then a clear cold night".into();
+                }
+                inc.glass = Glass {
+                    supplier: Some(pdef.supplier.into()),
+                    product: Some(pdef.code.into()),
+                    lot: Some(slot.lot.clone()),
+                    makeup: pdef.makeup.into(),
+                    plies: Vec::new(),
+                    width_m: Some(if pdef.kind == Kind::Windscreen {
+                        1.45
                     } else {
-                        2 + rng.below(3)
-                    };
-                    for _ in 0..n {
-                        let r = r_true * (1.0 + 0.06 * rng.normal()).max(0.7);
-                        readings.push(MirrorReading {
-                            boundary: b.key().replace('-', "_"),
-                            radius: typed_radius(&mut rng, r),
-                            magnification: Some(if r < 1e-3 {
-                                40.0
-                            } else if r < 5e-3 {
-                                20.0
+                        0.9
+                    }),
+                    height_m: Some(if pdef.kind == Kind::Windscreen {
+                        0.85
+                    } else {
+                        0.65
+                    }),
+                };
+                let thickness = Measured::parse(pdef.thickness, Dimension::Length)
+                    .map(|m| m.si)
+                    .ok();
+                let plies = if pdef.makeup == "laminated" { 2 } else { 1 };
+                for _ in 0..plies {
+                    inc.glass.plies.push(Ply {
+                        material: Some("soda_lime".into()),
+                        temper: Some(pdef.temper.into()),
+                        thickness_m: thickness,
+                        coating: String::new(),
+                        edge_finish: if pdef.temper == "annealed" {
+                            "arrissed".into()
+                        } else {
+                            "ground".into()
+                        },
+                    });
+                }
+                let (sigma, location, origin_type) = target(&mut rng, plan.cause, pdef.temper);
+                let sigma = sigma.max(8e6);
+                let examined = life.examined;
+                let fragmented = pdef.temper == "fully_tempered";
+                inc.pattern = FracturePattern {
+                    crack_count: if fragmented {
+                        None
+                    } else {
+                        Some(1 + rng.below(4) as i64)
+                    },
+                    branching: Some(fragmented || sigma > 40e6),
+                    fragment_count: if fragmented {
+                        Some(40 + rng.below(80) as i64)
+                    } else {
+                        None
+                    },
+                    origin_location: examined.then(|| location.to_string()),
+                    tension_face: if plan.cause == CauseKind::Thermal {
+                        "unknown (thermal)".into()
+                    } else {
+                        String::new()
+                    },
+                };
+                let received = at_time(plan.found_on + Days::new(1), life.received_min);
+                if examined {
+                    let mut readings = Vec::new();
+                    if let Some(m) = &materials {
+                        let t = thickness.unwrap_or(0.006);
+                        let mut boundaries: Vec<Boundary> = Vec::new();
+                        let ri = m.a_i.as_ref().map(|c| (c.value / sigma).powi(2));
+                        if ri.is_some_and(|r| r < 0.8 * t || plan.cause == CauseKind::NickelSulfide) {
+                            boundaries.push(Boundary::MirrorMist);
+                            if rng.chance(0.6) {
+                                boundaries.push(Boundary::MistHackle);
+                            }
+                        } else {
+                            boundaries.push(Boundary::Branching);
+                        }
+                        for b in boundaries {
+                            let Some(c) = b.constant_of(m) else { continue };
+                            let r_true = (c.value / sigma).powi(2);
+                            let n = if b == Boundary::Branching {
+                                1 + rng.below(2)
                             } else {
-                                10.0
-                            }),
-                            analyst: analyst.into(),
-                            note: String::new(),
+                                2 + rng.below(3)
+                            };
+                            for _ in 0..n {
+                                let r = r_true * (1.0 + 0.06 * rng.normal()).max(0.7);
+                                readings.push(MirrorReading {
+                                    boundary: b.key().replace('-', "_"),
+                                    radius: typed_radius(&mut rng, r),
+                                    magnification: Some(if r < 1e-3 {
+                                        40.0
+                                    } else if r < 5e-3 {
+                                        20.0
+                                    } else {
+                                        10.0
+                                    }),
+                                    analyst: analyst.into(),
+                                    note: String::new(),
+                                });
+                            }
+                        }
+                    }
+                    let stone = rng.range(0.08e-3, 0.25e-3);
+                    let flaw = (plan.cause == CauseKind::NickelSulfide).then(|| FlawMeasurement {
+                        depth: Some(typed_radius(&mut rng, stone)),
+                        width: None,
+                        shape: "embedded penny".into(),
+                    });
+                    let mut exam = Examination {
+                        id: store_ids.uuid_v7(ms),
+                        examined_on: Some(plan.found_on + Days::new(life.exam_days)),
+                        analyst: analyst.into(),
+                        origin_type: Some(origin_type.into()),
+                        material: None,
+                        readings,
+                        flaw,
+                        result: None,
+                        notes: if plan.cause == CauseKind::NickelSulfide {
+                            "Stone at the origin, about the size of the measured flaw; send for composition check.".into()
+                        } else {
+                            String::new()
+                        },
+                    };
+                    let computed_at = at_time(exam.examined_on.unwrap_or(plan.found_on), 15 * 60);
+                    exam.result = compute::compute(&inc, &exam, computed_at).ok();
+                    inc.examinations.push(exam);
+                    summary.examinations += 1;
+                    inc.custody.push(CustodyEntry {
+                        id: store_ids.uuid_v7(ms),
+                        at: received,
+                        action: "received".into(),
+                        who: (*rng.pick(&REPORTERS)).into(),
+                        location: "lab intake".into(),
+                        note: String::new(),
+                    });
+                    inc.custody.push(CustodyEntry {
+                        id: store_ids.uuid_v7(ms),
+                        at: received + chrono::Duration::minutes(20),
+                        action: "stored".into(),
+                        who: analyst.into(),
+                        location: format!(
+                            "shelf {}-{}",
+                            ["A", "B", "C"][rng.below(3)],
+                            1 + rng.below(6)
+                        ),
+                        note: String::new(),
+                    });
+                }
+                if life.assigned {
+                    let confidence = if examined {
+                        if rng.chance(0.6) {
+                            "confirmed"
+                        } else {
+                            "probable"
+                        }
+                    } else {
+                        "possible"
+                    };
+                    let responsibility = match plan.cause {
+                        CauseKind::NickelSulfide | CauseKind::EdgeDamage => "supplier",
+                        CauseKind::HardContact | CauseKind::Handling => "installer",
+                        CauseKind::Vandalism | CauseKind::Impact => "third_party",
+                        _ => "undetermined",
+                    };
+                    let mut factors = Vec::new();
+                    if plan.cause == CauseKind::Thermal {
+                        factors.push("edge shaded by the frame rubber".to_string());
+                    }
+                    if plan.cause == CauseKind::NickelSulfide {
+                        factors.push("no heat-soak test record for the lot".to_string());
+                    }
+                    inc.cause = Some(Cause {
+                        category: plan.cause.code().into(),
+                        factors,
+                        confidence: confidence.into(),
+                        responsibility: responsibility.into(),
+                        note: String::new(),
+                    });
+                    inc.status = if plan.cause == CauseKind::NickelSulfide {
+                        "claim_open".into()
+                    } else if life.closed {
+                        "closed".into()
+                    } else {
+                        "cause_assigned".into()
+                    };
+                    if examined && inc.status == "closed" {
+                        inc.custody.push(CustodyEntry {
+                            id: store_ids.uuid_v7(ms),
+                            at: received + chrono::Duration::days(life.dispose_days),
+                            action: "disposed".into(),
+                            who: analyst.into(),
+                            location: "glass recycling skip".into(),
+                            note: "case closed".into(),
                         });
                     }
+                } else {
+                    inc.status = if examined {
+                        "examining".into()
+                    } else if rng.chance(0.5) {
+                        "received".into()
+                    } else {
+                        "reported".into()
+                    };
+                }
+                if examined
+                    && attachments_left > 0
+                    && matches!(
+                        plan.cause,
+                        CauseKind::NickelSulfide | CauseKind::Thermal | CauseKind::Impact
+                    )
+                {
+                    let bytes = tiny_png(attachments_left as u8);
+                    let hash = files::put_bytes(&files_dir, &bytes)?;
+                    inc.attachments.push(Attachment {
+                        id: store_ids.uuid_v7(ms),
+                        sha256: hash,
+                        file_name: format!("origin-{}.png", inc.reference.to_ascii_lowercase()),
+                        media_type: "image/png".into(),
+                        size_bytes: bytes.len() as i64,
+                        caption: "origin under the stereo microscope".into(),
+                        // photographed at the examination, before the record was entered
+                        added_at: at_time(plan.found_on + Days::new(life.exam_days), 15 * 60 + 5),
+                    });
+                    attachments_left -= 1;
+                    summary.attachments += 1;
+                }
+                summary.custody += inc.custody.len() as u64;
+                let pid = &product_ids[slot.product];
+                let refs = Refs {
+                    asset: Some(asset_ids[plan.car].clone()),
+                    site: Some(site_ids[slot.site].clone()),
+                    supplier: supplier_ids.get(pdef.supplier).cloned(),
+                    product: Some(pid.clone()),
+                    lot: lot_ids.get(&(slot.product, slot.lot.clone())).cloned(),
+                };
+                let prepared = prepare(inc, refs, stamp)?;
+                if to_writer.send(prepared).is_err() {
+                    break; // the writer stopped on an error: it reports it
                 }
             }
-            let stone = rng.range(0.08e-3, 0.25e-3);
-            let flaw = (plan.cause == CauseKind::NickelSulfide).then(|| FlawMeasurement {
-                depth: Some(typed_radius(&mut rng, stone)),
-                width: None,
-                shape: "embedded penny".into(),
-            });
-            let mut exam = Examination {
-                id: store.ids.uuid_v7(ms),
-                examined_on: Some(plan.found_on + Days::new(life.exam_days)),
-                analyst: analyst.into(),
-                origin_type: Some(origin_type.into()),
-                material: None,
-                readings,
-                flaw,
-                result: None,
-                notes: if plan.cause == CauseKind::NickelSulfide {
-                    "Stone at the origin, about the size of the measured flaw; send for composition check.".into()
-                } else {
-                    String::new()
-                },
-            };
-            let computed_at = at_time(exam.examined_on.unwrap_or(plan.found_on), 15 * 60);
-            exam.result = compute::compute(&inc, &exam, computed_at).ok();
-            inc.examinations.push(exam);
-            summary.examinations += 1;
-            inc.custody.push(CustodyEntry {
-                id: store.ids.uuid_v7(ms),
-                at: received,
-                action: "received".into(),
-                who: (*rng.pick(&REPORTERS)).into(),
-                location: "lab intake".into(),
-                note: String::new(),
-            });
-            inc.custody.push(CustodyEntry {
-                id: store.ids.uuid_v7(ms),
-                at: received + chrono::Duration::minutes(20),
-                action: "stored".into(),
-                who: analyst.into(),
-                location: format!(
-                    "shelf {}-{}",
-                    ["A", "B", "C"][rng.below(3)],
-                    1 + rng.below(6)
-                ),
-                note: String::new(),
-            });
-        }
-        if life.assigned {
-            let confidence = if examined {
-                if rng.chance(0.6) {
-                    "confirmed"
-                } else {
-                    "probable"
-                }
-            } else {
-                "possible"
-            };
-            let responsibility = match plan.cause {
-                CauseKind::NickelSulfide | CauseKind::EdgeDamage => "supplier",
-                CauseKind::HardContact | CauseKind::Handling => "installer",
-                CauseKind::Vandalism | CauseKind::Impact => "third_party",
-                _ => "undetermined",
-            };
-            let mut factors = Vec::new();
-            if plan.cause == CauseKind::Thermal {
-                factors.push("edge shaded by the frame rubber".to_string());
+            Ok(())
+        });
+        let mut write = || -> Result<(), StoreError> {
+            for p in from_maker.iter() {
+                let batch = (!per_record).then_some(&mut bulk);
+                insert_prepared(&tx, &mut chain, &p, batch)?;
+                written += 1;
+                last_stamp = p.stamp;
             }
-            if plan.cause == CauseKind::NickelSulfide {
-                factors.push("no heat-soak test record for the lot".to_string());
-            }
-            inc.cause = Some(Cause {
-                category: plan.cause.code().into(),
-                factors,
-                confidence: confidence.into(),
-                responsibility: responsibility.into(),
-                note: String::new(),
-            });
-            inc.status = if plan.cause == CauseKind::NickelSulfide {
-                "claim_open".into()
-            } else if life.closed {
-                "closed".into()
-            } else {
-                "cause_assigned".into()
-            };
-            if examined && inc.status == "closed" {
-                inc.custody.push(CustodyEntry {
-                    id: store.ids.uuid_v7(ms),
-                    at: received + chrono::Duration::days(life.dispose_days),
-                    action: "disposed".into(),
-                    who: analyst.into(),
-                    location: "glass recycling skip".into(),
-                    note: "case closed".into(),
-                });
-            }
-        } else {
-            inc.status = if examined {
-                "examining".into()
-            } else if rng.chance(0.5) {
-                "received".into()
-            } else {
-                "reported".into()
-            };
-        }
-        if examined
-            && attachments_left > 0
-            && matches!(
-                plan.cause,
-                CauseKind::NickelSulfide | CauseKind::Thermal | CauseKind::Impact
-            )
-        {
-            let bytes = tiny_png(attachments_left as u8);
-            let hash = files::put_bytes(&files_dir, &bytes)?;
-            inc.attachments.push(Attachment {
-                id: store.ids.uuid_v7(ms),
-                sha256: hash,
-                file_name: format!("origin-{}.png", inc.reference.to_ascii_lowercase()),
-                media_type: "image/png".into(),
-                size_bytes: bytes.len() as i64,
-                caption: "origin under the stereo microscope".into(),
-                // photographed at the examination, before the record was entered
-                added_at: at_time(plan.found_on + Days::new(life.exam_days), 15 * 60 + 5),
-            });
-            attachments_left -= 1;
-            summary.attachments += 1;
-        }
-        summary.custody += inc.custody.len() as u64;
-        let pid = &product_ids[slot.product];
-        let refs = Refs {
-            asset: Some(asset_ids[plan.car].clone()),
-            site: Some(site_ids[slot.site].clone()),
-            supplier: supplier_ids.get(pdef.supplier).cloned(),
-            product: Some(pid.clone()),
-            lot: lot_ids.get(&(slot.product, slot.lot.clone())).cloned(),
+            Ok(())
         };
-        let batch = (!per_record).then_some(&mut bulk);
-        insert_new(&tx, &mut chain, &inc, &refs, &stamp, batch)?;
-        summary.incidents += 1;
-        last_stamp = stamp;
-    }
+        let wrote = write();
+        drop(from_maker); // lets a maker blocked on a full channel finish
+        let made = maker
+            .join()
+            .map_err(|_| StoreError::Database("the demo generator thread panicked".into()))?;
+        wrote.and(made)
+    })?;
+    summary.incidents += written;
     bulk.flush(&tx, &mut chain, &last_stamp)?;
     chain.finish(&tx)?;
     for (_, sql) in &indexes {

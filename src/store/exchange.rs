@@ -11,7 +11,7 @@ use serde::{Deserialize, Serialize};
 use serde_json::Value;
 
 use super::audit::{Bulk, Chain, INCIDENT};
-use super::incidents::{self, format_reference, next_reference, reference_prefix};
+use super::incidents::{self, format_reference, next_reference, reference_prefix, RefCache};
 use super::model::*;
 use super::refdata::{self, fmt_date};
 use super::{Store, StoreError};
@@ -314,6 +314,55 @@ fn num6(x: f64) -> String {
     }
 }
 
+/// Columns whose cells are numbers or dates written by the tool: never formula-guarded (a
+/// negative applied stress stays a number a spreadsheet can add up).
+const CSV_NUMERIC: &[&str] = &[
+    "found_on",
+    "broken_on",
+    "thickness",
+    "examined_on",
+    "magnification",
+    "mirror_mist",
+    "mist_hackle",
+    "branching",
+    "flaw_depth",
+    "stress_mpa",
+    "applied_stress_mpa",
+];
+
+fn formula_trigger(c: char) -> bool {
+    matches!(c, '=' | '+' | '-' | '@' | '\t' | '\r')
+}
+
+/// Whether a text cell needs the formula guard: it starts with a character that makes a
+/// spreadsheet read a formula (`=`, `+`, `-`, `@`, tab, CR), possibly behind apostrophes
+/// that are part of the text (those get the guard too, so that import can tell them apart).
+fn needs_formula_guard(s: &str) -> bool {
+    s.trim_start_matches('\'').starts_with(formula_trigger)
+}
+
+/// The formula guard of CSV export (OWASP "CSV injection"): a text cell that a spreadsheet
+/// would run is written with a leading apostrophe, which spreadsheets read as "this is
+/// text". Numeric and date columns are never guarded.
+pub fn csv_guard(column: &str, s: &str) -> String {
+    if !CSV_NUMERIC.contains(&column) && needs_formula_guard(s) {
+        format!("'{s}")
+    } else {
+        s.to_string()
+    }
+}
+
+/// Undo exactly [`csv_guard`]: one leading apostrophe goes when what follows it would have
+/// needed the guard. Any other text is kept as it is.
+pub fn csv_unguard(column: &str, s: &str) -> String {
+    match s.strip_prefix('\'') {
+        Some(rest) if !CSV_NUMERIC.contains(&column) && needs_formula_guard(rest) => {
+            rest.to_string()
+        }
+        _ => s.to_string(),
+    }
+}
+
 fn csv_field(s: &str, out: &mut String) {
     if s.contains([',', '"', '\n', '\r']) || s.starts_with(' ') || s.ends_with(' ') {
         out.push('"');
@@ -400,12 +449,17 @@ pub fn csv_row(inc: &Incident) -> String {
         inc.description.clone(),
         inc.notes.clone(),
     ];
+    debug_assert_eq!(cells.len(), CSV_COLUMNS.len());
     let mut out = String::new();
-    for (i, c) in cells.iter().enumerate() {
+    for (i, (c, column)) in cells.iter().zip(CSV_COLUMNS).enumerate() {
         if i > 0 {
             out.push(',');
         }
-        csv_field(c, &mut out);
+        if !CSV_NUMERIC.contains(column) && needs_formula_guard(c) {
+            csv_field(&csv_guard(column, c), &mut out);
+        } else {
+            csv_field(c, &mut out);
+        }
     }
     out
 }
@@ -416,50 +470,77 @@ pub fn csv_header() -> String {
 
 /// Split CSV text into records of fields, each with the line it starts on.
 fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
+    // A byte scanner: every character that ends a run (quote, comma, CR, LF) is ASCII, so
+    // the runs between them are copied as whole slices on character boundaries.
     let mut records = Vec::new();
     let mut field = String::new();
     let mut record: Vec<String> = Vec::new();
     let mut line = 1usize;
     let mut start_line = 1usize;
     let mut in_quotes = false;
-    let mut chars = text.chars().peekable();
+    let b = text.as_bytes();
+    let mut i = 0usize;
     let mut any = false;
-    while let Some(c) = chars.next() {
+    while i < b.len() {
         any = true;
         if in_quotes {
-            match c {
-                '"' if chars.peek() == Some(&'"') => {
-                    chars.next();
+            let run = b[i..]
+                .iter()
+                .position(|&c| c == b'"' || c == b'\n')
+                .map_or(b.len(), |k| i + k);
+            field.push_str(&text[i..run]);
+            i = run;
+            match b.get(i) {
+                Some(b'"') if b.get(i + 1) == Some(&b'"') => {
                     field.push('"');
+                    i += 2;
                 }
-                '"' => in_quotes = false,
-                '\n' => {
+                Some(b'"') => {
+                    in_quotes = false;
+                    i += 1;
+                }
+                Some(_) => {
                     line += 1;
                     field.push('\n');
+                    i += 1;
                 }
-                c => field.push(c),
+                None => {}
             }
             continue;
         }
-        match c {
-            '"' if field.is_empty() => in_quotes = true,
-            '"' => {
+        let run = b[i..]
+            .iter()
+            .position(|&c| matches!(c, b'"' | b',' | b'\r' | b'\n'))
+            .map_or(b.len(), |k| i + k);
+        if run > i {
+            field.push_str(&text[i..run]);
+            i = run;
+            continue;
+        }
+        match b[i] {
+            b'"' if field.is_empty() => in_quotes = true,
+            b'"' => {
                 return Err(p(
                     format!("line {line}"),
                     "a quote inside an unquoted field; quote the whole field and double the quote",
                 ))
             }
-            ',' => record.push(std::mem::take(&mut field)),
-            '\r' if chars.peek() == Some(&'\n') => {}
-            '\n' => {
+            b',' => record.push(std::mem::take(&mut field)),
+            b'\r' if b.get(i + 1) == Some(&b'\n') => {}
+            b'\r' => field.push('\r'),
+            _ => {
                 record.push(std::mem::take(&mut field));
-                records.push((start_line, std::mem::take(&mut record)));
+                let width = record.len();
+                records.push((
+                    start_line,
+                    std::mem::replace(&mut record, Vec::with_capacity(width)),
+                ));
                 line += 1;
                 start_line = line;
                 any = false;
             }
-            c => field.push(c),
         }
+        i += 1;
     }
     if in_quotes {
         return Err(p(
@@ -517,7 +598,7 @@ pub fn parse_csv(bytes: &[u8], stamp: &Stamp) -> Result<Vec<Incident>, Vec<Probl
         return Err(problems);
     }
     let width = header.len();
-    let mut out = Vec::new();
+    let mut out = Vec::with_capacity(iter.len());
     for (line, rec) in iter {
         if rec.len() == 1 && rec[0].trim().is_empty() {
             continue; // blank line
@@ -528,6 +609,13 @@ pub fn parse_csv(bytes: &[u8], stamp: &Stamp) -> Result<Vec<Incident>, Vec<Probl
                 format!("has {} fields; the header has {width}", rec.len()),
             ));
             continue;
+        }
+        // undo the export's formula guard on text cells (a leading apostrophe)
+        let mut rec = rec;
+        for (name, &i) in &col {
+            if rec[i].starts_with('\'') {
+                rec[i] = csv_unguard(name, &rec[i]);
+            }
         }
         let get = |name: &str| -> &str { col.get(name).map_or("", |&i| rec[i].as_str()) };
         let mut bad = |name: &str, msg: String| {
@@ -983,9 +1071,13 @@ impl Store {
         }
 
         // write everything in one transaction
+        let mut doc = doc;
+        let incidents = std::mem::take(&mut doc.incidents);
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        // keys made by this import ascend (they all carry the import's millisecond)
+        self.ids.set_monotonic(true);
         let result = (|| -> Result<(), (String, StoreError)> {
             let mut chain = Chain::load(&tx).map_err(|e| ("audit".to_string(), e))?;
             let at = |what: &str, i: usize| format!("{what}[{i}]");
@@ -1078,8 +1170,8 @@ impl Store {
             // fresh lookups for validation inside this transaction are not needed: checked above
             let mut day_counter: HashMap<NaiveDate, u32> = HashMap::new();
             let mut bulk = Bulk::new(INCIDENT, self.ids.next_u64());
-            for (i, inc) in doc.incidents.iter().enumerate() {
-                let mut inc = inc.clone();
+            let mut ref_cache = RefCache::default();
+            for (i, mut inc) in incidents.into_iter().enumerate() {
                 if inc.revision < 1 {
                     inc.revision = 1;
                     inc.created_at = stamp.at;
@@ -1116,6 +1208,7 @@ impl Store {
                     &inc,
                     stamp,
                     options.strict,
+                    &mut ref_cache,
                 )
                 .map_err(|x| (place(i), x))?;
                 incidents::insert_new(&tx, &mut chain, &inc, &refs, stamp, Some(&mut bulk))
@@ -1127,6 +1220,7 @@ impl Store {
             chain.finish(&tx).map_err(|e| ("audit".to_string(), e))?;
             Ok(())
         })();
+        self.ids.set_monotonic(false);
         match result {
             // the machine, not a line of the file, refused: say so as such
             Err((_, e @ StoreError::Storage(_))) => Err(e),
@@ -1152,6 +1246,113 @@ impl Store {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The character-by-character reader that `csv_records` replaced (kept as the reference
+    /// the faster scanner is checked against).
+    fn csv_records_reference(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
+        let mut records = Vec::new();
+        let mut field = String::new();
+        let mut record: Vec<String> = Vec::new();
+        let mut line = 1usize;
+        let mut start_line = 1usize;
+        let mut in_quotes = false;
+        let mut chars = text.chars().peekable();
+        let mut any = false;
+        while let Some(c) = chars.next() {
+            any = true;
+            if in_quotes {
+                match c {
+                    '"' if chars.peek() == Some(&'"') => {
+                        chars.next();
+                        field.push('"');
+                    }
+                    '"' => in_quotes = false,
+                    '\n' => {
+                        line += 1;
+                        field.push('\n');
+                    }
+                    c => field.push(c),
+                }
+                continue;
+            }
+            match c {
+                '"' if field.is_empty() => in_quotes = true,
+                '"' => return Err(p(format!("line {line}"), "quote")),
+                ',' => record.push(std::mem::take(&mut field)),
+                '\r' if chars.peek() == Some(&'\n') => {}
+                '\n' => {
+                    record.push(std::mem::take(&mut field));
+                    records.push((start_line, std::mem::take(&mut record)));
+                    line += 1;
+                    start_line = line;
+                    any = false;
+                }
+                c => field.push(c),
+            }
+        }
+        if in_quotes {
+            return Err(p(format!("line {start_line}"), "open"));
+        }
+        if any {
+            record.push(field);
+            records.push((start_line, record));
+        }
+        Ok(records)
+    }
+
+    #[test]
+    fn csv_scanner_matches_the_reference_reader() {
+        let cases = [
+            "",
+            "a",
+            "a,b\n",
+            "a,b\r\nc,d\r\n",
+            "a\rb,c\n",
+            "a,\n,\n\n",
+            "\"\"\"\",x\n",
+            "\"\"x,y\n",
+            "\"a\"b,c\n",
+            "\"a\"b\"c\n",
+            "ab\"c\n",
+            "\"multi\nline\r\nfield\",é,日本\n",
+            "\"ends in quote\"",
+            "\"open",
+            "é,\"ü\"\"\",\u{1F600}\r",
+            ",,,",
+            "=HYPERLINK(\"x\"),1\n",
+        ];
+        for c in cases {
+            let new = csv_records(c);
+            let old = csv_records_reference(c);
+            match (&new, &old) {
+                (Ok(a), Ok(b)) => assert_eq!(a, b, "{c:?}"),
+                (Err(a), Err(b)) => assert_eq!(a.place, b.place, "{c:?}"),
+                _ => panic!("{c:?}: {new:?} against {old:?}"),
+            }
+        }
+    }
+
+    #[test]
+    fn formula_guard_is_undone_exactly() {
+        let texts = [
+            "", "=1+1", "+1", "-x", "@SUM(A1)", "\tx", "\rx", "'", "''", "'=", "''=x", "'a", "a'",
+            "x=1", " =1", "-", "'-'", "é=",
+        ];
+        for t in texts {
+            for column in ["notes", "asset", "ref"] {
+                let g = csv_guard(column, t);
+                assert_eq!(csv_unguard(column, &g), t, "{column}: {t:?} -> {g:?}");
+                assert!(!g.starts_with(formula_trigger), "{g:?}");
+            }
+            // numbers and dates are never touched
+            assert_eq!(csv_guard("applied_stress_mpa", t), t);
+            assert_eq!(csv_unguard("applied_stress_mpa", t), t);
+        }
+        assert_eq!(csv_guard("notes", "-12.5"), "'-12.5");
+        assert_eq!(csv_guard("stress_mpa", "-12.5"), "-12.5");
+        assert_eq!(csv_guard("notes", "'plain"), "'plain");
+        assert_eq!(csv_unguard("notes", "'plain"), "'plain");
+    }
 
     #[test]
     fn csv_records_handle_quotes_and_newlines() {

@@ -4,7 +4,7 @@
 use std::collections::{HashMap, HashSet};
 
 use chrono::NaiveDate;
-use rusqlite::types::Value as SqlValue;
+use rusqlite::types::{ToSqlOutput, Value as SqlValue, ValueRef};
 use rusqlite::{params, params_from_iter, Connection, OptionalExtension, TransactionBehavior};
 
 use super::audit::{fmt_time, parse_time, Chain, INCIDENT};
@@ -22,6 +22,83 @@ pub(crate) struct Refs {
     pub supplier: Option<String>,
     pub product: Option<String>,
     pub lot: Option<String>,
+}
+
+/// Keys of sites, assets, suppliers, products and lots by code, looked up (or created)
+/// once per writing transaction: a bulk import resolves the same few codes for every row.
+/// Valid only inside the transaction that filled it.
+#[derive(Debug, Default)]
+pub(crate) struct RefCache {
+    sites: HashMap<String, String>,
+    assets: HashMap<String, String>,
+    suppliers: HashMap<String, String>,
+    products: HashMap<(String, String), String>,
+    lots: HashMap<(String, String), String>,
+}
+
+impl RefCache {
+    fn site(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
+        if let Some(id) = self.sites.get(code) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::site_id(conn, code)?;
+        if let Some(id) = &id {
+            self.sites.insert(code.to_string(), id.clone());
+        }
+        Ok(id)
+    }
+    fn asset(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
+        if let Some(id) = self.assets.get(code) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::asset_id(conn, code)?;
+        if let Some(id) = &id {
+            self.assets.insert(code.to_string(), id.clone());
+        }
+        Ok(id)
+    }
+    fn supplier(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
+        if let Some(id) = self.suppliers.get(code) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::supplier_id(conn, code)?;
+        if let Some(id) = &id {
+            self.suppliers.insert(code.to_string(), id.clone());
+        }
+        Ok(id)
+    }
+    fn product(
+        &mut self,
+        conn: &Connection,
+        supplier_id: &str,
+        code: &str,
+    ) -> Result<Option<String>, StoreError> {
+        let key = (supplier_id.to_string(), code.to_string());
+        if let Some(id) = self.products.get(&key) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::product_id(conn, supplier_id, code)?;
+        if let Some(id) = &id {
+            self.products.insert(key, id.clone());
+        }
+        Ok(id)
+    }
+    fn lot(
+        &mut self,
+        conn: &Connection,
+        product_id: &str,
+        code: &str,
+    ) -> Result<Option<String>, StoreError> {
+        let key = (product_id.to_string(), code.to_string());
+        if let Some(id) = self.lots.get(&key) {
+            return Ok(Some(id.clone()));
+        }
+        let id = refdata::lot_id(conn, product_id, code)?;
+        if let Some(id) = &id {
+            self.lots.insert(key, id.clone());
+        }
+        Ok(id)
+    }
 }
 
 /// Columns kept for the log and statistics, derived from the aggregate.
@@ -151,61 +228,102 @@ fn build_update_sql() -> String {
 fn t(s: &str) -> SqlValue {
     SqlValue::Text(s.to_string())
 }
-fn ot(s: &Option<String>) -> SqlValue {
-    s.as_deref().map_or(SqlValue::Null, t)
-}
 fn of(x: Option<f64>) -> SqlValue {
     x.map_or(SqlValue::Null, SqlValue::Real)
 }
-fn oi(x: Option<i64>) -> SqlValue {
-    x.map_or(SqlValue::Null, SqlValue::Integer)
+
+/// Column values of an incident row, in [`COLS`] order, borrowing the incident's text
+/// (the few values that need formatting are held in `owned`).
+struct RowValues<'a> {
+    values: Vec<ToSqlOutput<'a>>,
 }
 
-fn row_values(inc: &Incident, refs: &Refs, d: &Derived) -> Result<Vec<SqlValue>, StoreError> {
-    let cause = inc.cause.as_ref();
-    Ok(vec![
-        t(&inc.id),
-        t(&inc.reference),
-        SqlValue::Integer(inc.revision),
-        t(&fmt_time(inc.created_at)),
-        t(&fmt_time(inc.updated_at)),
-        ot(&refs.asset),
-        t(&inc.position),
-        ot(&refs.site),
-        t(&fmt_date(inc.found_on)),
-        inc.broken_on.map_or(SqlValue::Null, |d| t(&fmt_date(d))),
-        of(inc.environment.temperature_c),
-        t(&inc.environment.sun),
-        t(&inc.environment.weather),
-        t(&inc.reporter),
-        t(&inc.how_found),
-        ot(&refs.supplier),
-        ot(&refs.product),
-        ot(&refs.lot),
-        t(&inc.glass.makeup),
-        of(inc.glass.width_m),
-        of(inc.glass.height_m),
-        oi(inc.pattern.crack_count),
-        oi(inc.pattern.branching.map(i64::from)),
-        oi(inc.pattern.fragment_count),
-        ot(&inc.pattern.origin_location),
-        t(&inc.pattern.tension_face),
-        ot(&cause.map(|c| c.category.clone())),
-        match cause {
-            Some(c) => t(&serde_json::to_string(&c.factors)?),
-            None => SqlValue::Null,
+/// Text values an incident row needs formatted (times, dates, the factor list).
+struct RowText {
+    created_at: String,
+    updated_at: String,
+    found_on: String,
+    broken_on: Option<String>,
+    factors: Option<String>,
+}
+
+fn row_text(inc: &Incident) -> Result<RowText, StoreError> {
+    Ok(RowText {
+        created_at: fmt_time(inc.created_at),
+        updated_at: fmt_time(inc.updated_at),
+        found_on: fmt_date(inc.found_on),
+        broken_on: inc.broken_on.map(fmt_date),
+        factors: match &inc.cause {
+            Some(c) => Some(serde_json::to_string(&c.factors)?),
+            None => None,
         },
-        ot(&cause.map(|c| c.confidence.clone())),
-        ot(&cause.map(|c| c.responsibility.clone())),
-        ot(&cause.map(|c| c.note.clone())),
-        t(&inc.status),
-        t(&inc.description),
-        t(&inc.notes),
-        of(d.stress_pa),
-        of(d.applied_stress_pa),
-        ot(&d.origin_type),
-        ot(&d.temper),
-    ])
+    })
+}
+
+fn row_values<'a>(
+    inc: &'a Incident,
+    refs: &'a Refs,
+    d: &'a Derived,
+    owned: &'a RowText,
+) -> RowValues<'a> {
+    fn b(v: ValueRef<'_>) -> ToSqlOutput<'_> {
+        ToSqlOutput::Borrowed(v)
+    }
+    fn t(s: &str) -> ToSqlOutput<'_> {
+        b(ValueRef::Text(s.as_bytes()))
+    }
+    fn ot(s: Option<&str>) -> ToSqlOutput<'_> {
+        s.map_or(b(ValueRef::Null), t)
+    }
+    fn ofr(x: Option<f64>) -> ToSqlOutput<'static> {
+        b(x.map_or(ValueRef::Null, ValueRef::Real))
+    }
+    fn oi(x: Option<i64>) -> ToSqlOutput<'static> {
+        b(x.map_or(ValueRef::Null, ValueRef::Integer))
+    }
+    let cause = inc.cause.as_ref();
+    RowValues {
+        values: vec![
+            t(&inc.id),
+            t(&inc.reference),
+            b(ValueRef::Integer(inc.revision)),
+            t(&owned.created_at),
+            t(&owned.updated_at),
+            ot(refs.asset.as_deref()),
+            t(&inc.position),
+            ot(refs.site.as_deref()),
+            t(&owned.found_on),
+            ot(owned.broken_on.as_deref()),
+            ofr(inc.environment.temperature_c),
+            t(&inc.environment.sun),
+            t(&inc.environment.weather),
+            t(&inc.reporter),
+            t(&inc.how_found),
+            ot(refs.supplier.as_deref()),
+            ot(refs.product.as_deref()),
+            ot(refs.lot.as_deref()),
+            t(&inc.glass.makeup),
+            ofr(inc.glass.width_m),
+            ofr(inc.glass.height_m),
+            oi(inc.pattern.crack_count),
+            oi(inc.pattern.branching.map(i64::from)),
+            oi(inc.pattern.fragment_count),
+            ot(inc.pattern.origin_location.as_deref()),
+            t(&inc.pattern.tension_face),
+            ot(cause.map(|c| c.category.as_str())),
+            ot(owned.factors.as_deref()),
+            ot(cause.map(|c| c.confidence.as_str())),
+            ot(cause.map(|c| c.responsibility.as_str())),
+            ot(cause.map(|c| c.note.as_str())),
+            t(&inc.status),
+            t(&inc.description),
+            t(&inc.notes),
+            ofr(d.stress_pa),
+            ofr(d.applied_stress_pa),
+            ot(d.origin_type.as_deref()),
+            ot(d.temper.as_deref()),
+        ],
+    }
 }
 
 fn insert_children(conn: &Connection, inc: &Incident) -> Result<(), StoreError> {
@@ -366,10 +484,64 @@ pub(crate) fn insert_new(
     stamp: &Stamp,
     bulk: Option<&mut super::audit::Bulk>,
 ) -> Result<i64, StoreError> {
+    let seq = write_rows(conn, inc, refs)?;
+    sqlite::fts_insert(conn, seq, &search_body(inc))?;
+    let img = canon::incident_image(inc)?;
+    match bulk {
+        Some(b) => b.add(conn, chain, stamp, &inc.id, &img)?,
+        None => chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?,
+    }
+    Ok(seq)
+}
+
+/// A new incident made ready for a bulk load away from the database: its audit image digest
+/// and its searchable text computed (the demo computes these on a second thread).
+pub(crate) struct Prepared {
+    pub inc: Incident,
+    pub refs: Refs,
+    pub stamp: Stamp,
+    digest: String,
+    body: String,
+}
+
+pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepared, StoreError> {
+    let img = canon::incident_image(&inc)?;
+    Ok(Prepared {
+        digest: canon::sha256_hex(img.as_bytes()),
+        body: search_body(&inc),
+        inc,
+        refs,
+        stamp,
+    })
+}
+
+/// [`insert_new`] of a [`Prepared`] incident: the same rows and the same audit (in a batch,
+/// or, without one, its own audit row with the full image).
+pub(crate) fn insert_prepared(
+    conn: &Connection,
+    chain: &mut Chain,
+    p: &Prepared,
+    bulk: Option<&mut super::audit::Bulk>,
+) -> Result<i64, StoreError> {
+    let seq = write_rows(conn, &p.inc, &p.refs)?;
+    sqlite::fts_insert(conn, seq, &p.body)?;
+    match bulk {
+        Some(b) => b.add_digest(conn, chain, &p.stamp, &p.inc.id, p.digest.clone())?,
+        None => {
+            let img = canon::incident_image(&p.inc)?;
+            chain.record(conn, &p.stamp, INCIDENT, &p.inc.id, None, Some(&img))?
+        }
+    }
+    Ok(seq)
+}
+
+/// The incident row and its children; returns the row's seq.
+fn write_rows(conn: &Connection, inc: &Incident, refs: &Refs) -> Result<i64, StoreError> {
     let d = derive(inc);
-    let values = row_values(inc, refs, &d)?;
+    let owned = row_text(inc)?;
+    let values = row_values(inc, refs, &d, &owned);
     conn.prepare_cached(insert_sql())?
-        .execute(params_from_iter(values.iter()))
+        .execute(params_from_iter(values.values.iter()))
         .map_err(|e| match e {
             rusqlite::Error::SqliteFailure(f, _)
                 if f.code == rusqlite::ErrorCode::ConstraintViolation =>
@@ -383,12 +555,6 @@ pub(crate) fn insert_new(
         })?;
     let seq = conn.last_insert_rowid();
     insert_children(conn, inc)?;
-    sqlite::fts_insert(conn, seq, &search_body(inc))?;
-    let img = canon::incident_image(inc)?;
-    match bulk {
-        Some(b) => b.add(conn, chain, stamp, &inc.id, &img)?,
-        None => chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?,
-    }
     Ok(seq)
 }
 
@@ -776,7 +942,7 @@ fn check_measured(
     }
 }
 
-type Lookups = HashSet<(String, String)>;
+type Lookups = super::LookupSet;
 
 fn check_code(
     lookups: &Lookups,
@@ -786,7 +952,7 @@ fn check_code(
     code: Option<&str>,
 ) {
     if let Some(c) = code {
-        if !lookups.contains(&(kind.as_str().to_string(), c.to_string())) {
+        if !lookups.contains(kind.as_str(), c) {
             problems.push((
                 field.to_string(),
                 format!("unknown {} code \"{c}\"", kind.as_str().replace('_', " ")),
@@ -1035,6 +1201,7 @@ impl Store {
         inc: &Incident,
         stamp: &Stamp,
         strict: bool,
+        cache: &mut RefCache,
     ) -> Result<Refs, StoreError> {
         let ms = stamp.at.timestamp_millis();
         let missing = |what: &str, code: &str| {
@@ -1045,7 +1212,7 @@ impl Store {
         };
         let mut refs = Refs::default();
         if let Some(code) = &inc.site {
-            refs.site = match refdata::site_id(conn, code)? {
+            refs.site = match cache.site(conn, code)? {
                 Some(id) => Some(id),
                 None if strict => return Err(missing("site", code)),
                 None => {
@@ -1056,12 +1223,13 @@ impl Store {
                         region: String::new(),
                     };
                     refdata::insert_site(conn, chain, &s, stamp)?;
+                    cache.sites.insert(code.clone(), s.id.clone());
                     Some(s.id)
                 }
             };
         }
         if let Some(code) = &inc.asset {
-            refs.asset = match refdata::asset_id(conn, code)? {
+            refs.asset = match cache.asset(conn, code)? {
                 Some(id) => Some(id),
                 None if strict => return Err(missing("asset", code)),
                 None => {
@@ -1073,12 +1241,13 @@ impl Store {
                         site: inc.site.clone(),
                     };
                     refdata::insert_asset(conn, chain, &a, stamp)?;
+                    cache.assets.insert(code.clone(), a.id.clone());
                     Some(a.id)
                 }
             };
         }
         if let Some(code) = &inc.glass.supplier {
-            let sid = match refdata::supplier_id(conn, code)? {
+            let sid = match cache.supplier(conn, code)? {
                 Some(id) => id,
                 None if strict => return Err(missing("supplier", code)),
                 None => {
@@ -1088,11 +1257,12 @@ impl Store {
                         name: code.clone(),
                     };
                     refdata::insert_supplier(conn, chain, &s, stamp)?;
+                    cache.suppliers.insert(code.clone(), s.id.clone());
                     s.id
                 }
             };
             if let Some(pcode) = &inc.glass.product {
-                let pid = match refdata::product_id(conn, &sid, pcode)? {
+                let pid = match cache.product(conn, &sid, pcode)? {
                     Some(id) => id,
                     None if strict => return Err(missing("product", pcode)),
                     None => {
@@ -1103,11 +1273,14 @@ impl Store {
                             name: pcode.clone(),
                         };
                         refdata::insert_product(conn, chain, &p, stamp)?;
+                        cache
+                            .products
+                            .insert((sid.clone(), pcode.clone()), p.id.clone());
                         p.id
                     }
                 };
                 if let Some(lcode) = &inc.glass.lot {
-                    refs.lot = Some(match refdata::lot_id(conn, &pid, lcode)? {
+                    refs.lot = Some(match cache.lot(conn, &pid, lcode)? {
                         Some(id) => id,
                         None if strict => return Err(missing("lot", lcode)),
                         None => {
@@ -1119,6 +1292,9 @@ impl Store {
                                 made_on: None,
                             };
                             refdata::insert_lot(conn, chain, &l, stamp)?;
+                            cache
+                                .lots
+                                .insert((pid.clone(), lcode.clone()), l.id.clone());
                             l.id
                         }
                     });
@@ -1151,7 +1327,15 @@ impl Store {
             inc.id = self.ids.uuid_v7(stamp.at.timestamp_millis());
         }
         inc.reference = next_reference(&tx, inc.found_on)?;
-        let refs = Store::resolve_refs(&tx, &mut chain, &mut self.ids, &inc, stamp, false)?;
+        let refs = Store::resolve_refs(
+            &tx,
+            &mut chain,
+            &mut self.ids,
+            &inc,
+            stamp,
+            false,
+            &mut RefCache::default(),
+        )?;
         insert_new(&tx, &mut chain, &inc, &refs, stamp, None)?;
         chain.finish(&tx)?;
         tx.commit()?;
@@ -1203,13 +1387,24 @@ impl Store {
         Store::normalize(ids, &mut new, stamp);
         Store::first_problem(lookups, &new)?;
         let mut chain = Chain::load(conn)?;
-        let refs = Store::resolve_refs(conn, &mut chain, ids, &new, stamp, false)?;
+        let refs = Store::resolve_refs(
+            conn,
+            &mut chain,
+            ids,
+            &new,
+            stamp,
+            false,
+            &mut RefCache::default(),
+        )?;
         let d = derive(&new);
-        let mut values = row_values(&new, &refs, &d)?;
-        values.push(SqlValue::Integer(current.revision));
+        let owned = row_text(&new)?;
+        let mut values = row_values(&new, &refs, &d, &owned);
+        values
+            .values
+            .push(ToSqlOutput::Borrowed(ValueRef::Integer(current.revision)));
         let n = conn
             .prepare_cached(update_sql())?
-            .execute(params_from_iter(values.iter()))?;
+            .execute(params_from_iter(values.values.iter()))?;
         if n != 1 {
             return Err(StoreError::StaleRevision {
                 reference: current.reference,
@@ -1399,8 +1594,35 @@ impl Store {
         sort: Sort,
         page: &PageRequest,
     ) -> Result<Page, StoreError> {
-        let (from, where_sql, mut args) = filter_sql(&self.conn, filter)?;
+        self.list_planned(filter, sort, page, None)
+    }
+
+    /// [`Store::list`] with the text plan chosen (tests compare the two plans).
+    fn list_planned(
+        &self,
+        filter: &Filter,
+        sort: Sort,
+        page: &PageRequest,
+        force: Option<TextPlan>,
+    ) -> Result<Page, StoreError> {
         let limit = page.limit.clamp(1, 10_000) as i64;
+        // a text filter: count its matches in the text index (cheap), then choose the plan
+        let text_hits = match filter.text.as_deref().and_then(sqlite::fts_query) {
+            Some(q) => Some(sqlite::fts_count(&self.conn, &q)?),
+            None => None,
+        };
+        let plan = match text_hits {
+            Some(_) if force.is_some() => force.unwrap_or(TextPlan::IndexDrives),
+            Some(hits) => {
+                let rows: i64 = self
+                    .conn
+                    .prepare_cached("SELECT coalesce(max(seq), 0) FROM incidents")?
+                    .query_row([], |r| r.get(0))?;
+                choose_text_plan(hits, rows as u64, limit as u64)
+            }
+            None => TextPlan::IndexDrives,
+        };
+        let (from, where_sql, mut args) = filter_sql_with(&self.conn, filter, plan)?;
         let (order_cols, key_exprs): (&str, Vec<&str>) = match sort.column {
             SortColumn::Found => ("i.found_on {d}, i.seq {d}", vec!["i.found_on"]),
             SortColumn::Reference => ("i.reference {d}, i.seq {d}", vec!["i.reference"]),
@@ -1511,7 +1733,15 @@ impl Store {
             }
             (n, _) => n,
         };
-        let total = if page.with_total {
+        let text_only = Filter {
+            text: None,
+            ..filter.clone()
+        } == Filter::default();
+        let total = if page.with_total && text_only && text_hits.is_some() {
+            // every text-index row belongs to one incident (kept in step on every write)
+            text_hits
+        } else if page.with_total {
+            let (from, where_sql, args) = filter_sql(&self.conn, filter)?;
             let sql = format!("SELECT count(*) FROM {from} {}", where_clause(&where_sql));
             let n: i64 = self
                 .conn
@@ -1874,9 +2104,46 @@ fn where_clause(conds: &[String]) -> String {
 /// The FROM clause, SQL conditions on `incidents i` and their parameters. Only fixed SQL
 /// text; every user value is a bound parameter. Lot codes are resolved to keys first so the
 /// lot index can be used.
+/// How a text filter enters the query.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum TextPlan {
+    /// The text index drives: every match is looked up, then sorted (few matches).
+    IndexDrives,
+    /// The log's own order drives (an index that fits the sort), each row tested against
+    /// the set of matches; the first page stops after `limit` hits (common words).
+    LogDrives,
+}
+
+/// The plan for one page of a text search over a log of `rows` incidents of which `hits`
+/// match. Driving from the text index costs one row lookup per match, whatever the page
+/// size (about 8 µs each, sorting included); walking the log in its sort order costs about
+/// `limit * rows / hits` index steps (at most `rows`, about 0.8 µs each) after the set of
+/// matches is built (about 0.6 µs a match). Walking wins when its steps are fewer than
+/// about ten per match (measured on the 1,000,000-incident demo database; DEVELOPERS.md,
+/// "Text search").
+fn choose_text_plan(hits: u64, rows: u64, limit: u64) -> TextPlan {
+    let walk = limit
+        .saturating_mul(rows)
+        .checked_div(hits)
+        .map_or(rows, |w| w.min(rows));
+    if walk < hits.saturating_mul(10) {
+        TextPlan::LogDrives
+    } else {
+        TextPlan::IndexDrives
+    }
+}
+
 fn filter_sql(
     conn: &Connection,
     f: &Filter,
+) -> Result<(&'static str, Vec<String>, Vec<SqlValue>), StoreError> {
+    filter_sql_with(conn, f, TextPlan::IndexDrives)
+}
+
+fn filter_sql_with(
+    conn: &Connection,
+    f: &Filter,
+    plan: TextPlan,
 ) -> Result<(&'static str, Vec<String>, Vec<SqlValue>), StoreError> {
     let mut from = "incidents i";
     let mut c = Vec::new();
@@ -1927,14 +2194,146 @@ fn filter_sql(
     }
     if let Some(text) = &f.text {
         match sqlite::fts_query(text) {
-            Some(q) => {
+            Some(q) if plan == TextPlan::IndexDrives => {
                 // the text index drives: its matches are few next to the whole log
                 from = sqlite::FTS_FROM;
                 c.insert(0, sqlite::FTS_CONDITION.to_string());
+                a.insert(0, SqlValue::Text(q));
+            }
+            Some(q) => {
+                // the unary + keeps SQLite from turning the set into rowid lookups: the
+                // set is built once, the walk follows the sort's index
+                c.insert(0, sqlite::FTS_IN_SET.to_string());
                 a.insert(0, SqlValue::Text(q));
             }
             None => c.push("1 = 0".to_string()),
         }
     }
     Ok((from, c, a))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn all_pages(
+        s: &Store,
+        f: &Filter,
+        sort: Sort,
+        plan: Option<TextPlan>,
+    ) -> (Vec<String>, Option<u64>) {
+        let mut out = Vec::new();
+        let mut after = None;
+        let mut total = None;
+        loop {
+            let p = s
+                .list_planned(
+                    f,
+                    sort,
+                    &PageRequest {
+                        limit: 97,
+                        after: after.clone(),
+                        with_total: after.is_none(),
+                    },
+                    plan,
+                )
+                .unwrap();
+            if after.is_none() {
+                total = p.total;
+            }
+            out.extend(p.rows.into_iter().map(|r| r.reference));
+            match p.next {
+                Some(n) => after = Some(n),
+                None => break,
+            }
+        }
+        (out, total)
+    }
+
+    /// Both text plans give the same rows in the same order on every page, for every sort
+    /// and with other filters, and the same totals as a plain count of the matches.
+    #[test]
+    fn text_plans_agree_page_by_page() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("d.db");
+        crate::store::demo::generate(
+            &path,
+            &crate::store::demo::DemoOptions {
+                incidents: 1500,
+                seed: 3,
+            },
+        )
+        .unwrap();
+        let s = Store::open_existing(&path).unwrap();
+        let words = [
+            "impact",
+            "stone",
+            "heat",
+            "car",
+            "stereo",
+            "nothing-like-it",
+            "edge_chip",
+        ];
+        let filters = [
+            Filter::default(),
+            Filter {
+                supplier: Some("BRELLIN".into()),
+                ..Filter::default()
+            },
+            Filter {
+                since: NaiveDate::from_ymd_opt(2025, 1, 1),
+                ..Filter::default()
+            },
+        ];
+        let mut log_driven_used = 0;
+        for w in words {
+            for base in &filters {
+                let f = Filter {
+                    text: Some(w.into()),
+                    ..base.clone()
+                };
+                let expected_total = s.matching_ids(&f).unwrap().len() as u64;
+                for column in [
+                    SortColumn::Found,
+                    SortColumn::Reference,
+                    SortColumn::Status,
+                    SortColumn::Stress,
+                ] {
+                    for descending in [true, false] {
+                        let sort = Sort { column, descending };
+                        let (a, ta) = all_pages(&s, &f, sort, Some(TextPlan::IndexDrives));
+                        let (b, tb) = all_pages(&s, &f, sort, Some(TextPlan::LogDrives));
+                        let (c, tc) = all_pages(&s, &f, sort, None);
+                        assert_eq!(a, b, "{w} {base:?} {sort:?}");
+                        assert_eq!(a, c, "{w} {base:?} {sort:?}");
+                        assert_eq!(a.len() as u64, expected_total, "{w} {base:?}");
+                        for t in [ta, tb, tc] {
+                            assert_eq!(t, Some(expected_total), "{w} {base:?}");
+                        }
+                    }
+                }
+                if w == "impact" {
+                    assert!(expected_total > 100, "{expected_total}");
+                }
+            }
+            let q = sqlite::fts_query(w).unwrap();
+            let hits = sqlite::fts_count(&s.conn, &q).unwrap();
+            if choose_text_plan(hits, 1500, 97) == TextPlan::LogDrives {
+                log_driven_used += 1;
+            }
+        }
+        // the common words take the walk, the rare ones the text index
+        assert!(log_driven_used >= 2, "{log_driven_used}");
+        assert_eq!(choose_text_plan(8, 1_000_000, 200), TextPlan::IndexDrives);
+        assert_eq!(choose_text_plan(733, 1_000_000, 200), TextPlan::IndexDrives);
+        assert_eq!(
+            choose_text_plan(35_660, 1_000_000, 200),
+            TextPlan::LogDrives
+        );
+        assert_eq!(
+            choose_text_plan(481_445, 1_000_000, 200),
+            TextPlan::LogDrives
+        );
+        assert_eq!(choose_text_plan(0, 1_000_000, 200), TextPlan::IndexDrives);
+    }
 }

@@ -16,7 +16,7 @@
 //! asset, supplier, product, lot, exposure row or lookup entry) appends one hash-chained
 //! audit row in the same transaction. See DEVELOPERS.md, "store", for the canonical form.
 
-use std::collections::HashSet;
+use std::collections::{HashMap, HashSet};
 use std::path::{Path, PathBuf};
 
 use rusqlite::{Connection, OptionalExtension, TransactionBehavior};
@@ -101,14 +101,28 @@ impl From<serde_json::Error> for StoreError {
 }
 
 /// Deterministic generator for the random part of UUIDv7 keys (SplitMix64).
+///
+/// In monotonic mode (bulk imports, which stamp every key with the same millisecond) keys
+/// made within one millisecond ascend: the 74 random bits of the previous key plus a random
+/// step of 1 to 2^32 (RFC 9562 section 6.2, method 2, "monotonic random"). New rows then go
+/// to the end of the key indexes instead of to random places in them.
 #[derive(Debug, Clone)]
 pub(crate) struct IdGen {
     state: u64,
+    monotonic: bool,
+    /// (millisecond, 74 random bits) of the last key made in monotonic mode
+    last: Option<(u64, u128)>,
 }
+
+const RAND_BITS: u32 = 74;
 
 impl IdGen {
     pub(crate) fn new(seed: u64) -> IdGen {
-        IdGen { state: seed }
+        IdGen {
+            state: seed,
+            monotonic: false,
+            last: None,
+        }
     }
     pub(crate) fn next_u64(&mut self) -> u64 {
         self.state = self.state.wrapping_add(0x9E37_79B9_7F4A_7C15);
@@ -117,6 +131,11 @@ impl IdGen {
         z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
         z ^ (z >> 31)
     }
+    /// Switch monotonic mode on or off (see the type's description).
+    pub(crate) fn set_monotonic(&mut self, on: bool) {
+        self.monotonic = on;
+        self.last = None;
+    }
     /// A UUIDv7 for the given time in milliseconds since 1970.
     pub(crate) fn uuid_v7(&mut self, millis: i64) -> String {
         let a = self.next_u64().to_le_bytes();
@@ -124,10 +143,66 @@ impl IdGen {
         let mut rnd = [0u8; 10];
         rnd[..8].copy_from_slice(&a);
         rnd[8..].copy_from_slice(&b[..2]);
-        uuid::Builder::from_unix_timestamp_millis(millis.max(0) as u64, &rnd)
+        let mut ms = millis.max(0) as u64;
+        if self.monotonic {
+            let fresh = u128::from_le_bytes({
+                let mut x = [0u8; 16];
+                x[..10].copy_from_slice(&rnd);
+                x
+            }) & ((1u128 << RAND_BITS) - 1);
+            let r = match self.last {
+                Some((last_ms, last_r)) if last_ms >= ms => {
+                    let step = 1 + u128::from(u32::from_le_bytes([a[0], a[1], a[2], a[3]]));
+                    let r = last_r + step;
+                    if r >> RAND_BITS == 0 {
+                        ms = last_ms;
+                        r
+                    } else {
+                        // the random field is used up: move on to the next millisecond
+                        ms = last_ms + 1;
+                        fresh >> 1
+                    }
+                }
+                _ => fresh >> 1, // start in the lower half: room to count up
+            };
+            self.last = Some((ms, r));
+            // lay the 74 bits out where the builder takes them: 4 bits of byte 0, byte 1,
+            // 6 bits of byte 2, bytes 3..9
+            rnd[0] = ((r >> 70) & 0x0F) as u8;
+            rnd[1] = ((r >> 62) & 0xFF) as u8;
+            rnd[2] = ((r >> 56) & 0x3F) as u8;
+            for (k, byte) in rnd[3..].iter_mut().enumerate() {
+                *byte = ((r >> (8 * (6 - k))) & 0xFF) as u8;
+            }
+        }
+        uuid::Builder::from_unix_timestamp_millis(ms, &rnd)
             .into_uuid()
             .hyphenated()
             .to_string()
+    }
+}
+
+/// (kind, code) of every lookup entry, asked without building owned keys (validation asks
+/// a dozen times per incident).
+#[derive(Debug, Clone, Default)]
+pub(crate) struct LookupSet(HashMap<String, HashSet<String>>);
+
+impl LookupSet {
+    pub(crate) fn insert(&mut self, (kind, code): (String, String)) {
+        self.0.entry(kind).or_default().insert(code);
+    }
+    pub(crate) fn contains(&self, kind: &str, code: &str) -> bool {
+        self.0.get(kind).is_some_and(|codes| codes.contains(code))
+    }
+}
+
+impl FromIterator<(String, String)> for LookupSet {
+    fn from_iter<I: IntoIterator<Item = (String, String)>>(iter: I) -> Self {
+        let mut set = LookupSet::default();
+        for e in iter {
+            set.insert(e);
+        }
+        set
     }
 }
 
@@ -140,7 +215,7 @@ pub struct Store {
     files_dir: Option<PathBuf>,
     pub(crate) ids: IdGen,
     /// (kind, code) of every lookup entry, for validating writes.
-    pub(crate) lookups: HashSet<(String, String)>,
+    pub(crate) lookups: LookupSet,
 }
 
 /// The fixed time and actor of audit rows written by migrations (seeded lookup entries).
@@ -205,7 +280,7 @@ impl Store {
             path,
             files_dir,
             ids: IdGen::new(seed),
-            lookups: HashSet::new(),
+            lookups: LookupSet::default(),
         }
     }
 
@@ -278,15 +353,14 @@ impl Store {
         let mut stmt = self.conn.prepare("SELECT kind, code FROM lookup")?;
         let set = stmt
             .query_map([], |r| Ok((r.get::<_, String>(0)?, r.get::<_, String>(1)?)))?
-            .collect::<Result<HashSet<_>, _>>()?;
+            .collect::<Result<LookupSet, _>>()?;
         drop(stmt);
         self.lookups = set;
         Ok(())
     }
 
     pub(crate) fn has_lookup(&self, kind: LookupKind, code: &str) -> bool {
-        self.lookups
-            .contains(&(kind.as_str().to_string(), code.to_string()))
+        self.lookups.contains(kind.as_str(), code)
     }
 
     /// The hash of the last audit row (the chain head), or 64 zeros on an empty log.
@@ -387,5 +461,40 @@ mod tests {
         let u = uuid::Uuid::parse_str(&x).unwrap();
         assert_eq!(u.get_version_num(), 7);
         assert_ne!(x, a.uuid_v7(1_767_225_600_000));
+    }
+
+    #[test]
+    fn monotonic_ids_ascend_within_a_millisecond() {
+        let ms = 1_767_225_600_000;
+        let mut g = IdGen::new(11);
+        g.set_monotonic(true);
+        let mut prev = String::new();
+        for i in 0..5000 {
+            let x = g.uuid_v7(ms);
+            let u = uuid::Uuid::parse_str(&x).unwrap();
+            assert_eq!(u.get_version_num(), 7, "{x}");
+            assert_eq!(u.get_variant(), uuid::Variant::RFC4122, "{x}");
+            // RFC 9562: the first 48 bits are the Unix time in milliseconds
+            let (secs, nanos) = u.get_timestamp().unwrap().to_unix();
+            assert_eq!(secs * 1000 + u64::from(nanos / 1_000_000), ms as u64, "{i}");
+            assert!(x > prev, "{prev} then {x}");
+            prev = x;
+        }
+        // a random field that runs out moves on to the next millisecond, still ascending
+        g.last = Some((ms as u64, (1u128 << RAND_BITS) - 2));
+        let x = g.uuid_v7(ms);
+        assert!(x > prev);
+        let (secs, nanos) = uuid::Uuid::parse_str(&x)
+            .unwrap()
+            .get_timestamp()
+            .unwrap()
+            .to_unix();
+        assert_eq!(secs * 1000 + u64::from(nanos / 1_000_000), ms as u64 + 1);
+        // off again: the plain generator (the demo's keys stay as they were)
+        let mut a = IdGen::new(7);
+        let mut b = IdGen::new(7);
+        b.set_monotonic(true);
+        b.set_monotonic(false);
+        assert_eq!(a.uuid_v7(ms), b.uuid_v7(ms));
     }
 }

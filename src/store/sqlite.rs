@@ -304,6 +304,20 @@ pub const FTS_FROM: &str = "incident_text CROSS JOIN incidents i ON i.seq = inci
 /// SQL condition for a text match with [`FTS_FROM`]; bind [`fts_query`] of the user text.
 pub const FTS_CONDITION: &str = "incident_text MATCH ?";
 
+/// SQL condition for a text match over `incidents i` alone: the set of matching row
+/// numbers, built once; the unary `+` keeps it from driving the query (see
+/// `incidents::TextPlan::LogDrives`). Bind [`fts_query`] of the user text.
+pub const FTS_IN_SET: &str =
+    "+i.seq IN (SELECT rowid FROM incident_text WHERE incident_text MATCH ?)";
+
+/// How many incidents a text query matches (read from the text index alone).
+pub fn fts_count(conn: &Connection, query: &str) -> Result<u64, StoreError> {
+    let n: i64 = conn
+        .prepare_cached("SELECT count(*) FROM incident_text WHERE incident_text MATCH ?1")?
+        .query_row([query], |r| r.get(0))?;
+    Ok(n as u64)
+}
+
 /// Turn what a user typed into an FTS5 query that cannot be a syntax error: every word
 /// becomes a quoted prefix term, all must match. None when nothing searchable is left.
 pub fn fts_query(text: &str) -> Option<String> {
