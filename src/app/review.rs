@@ -373,8 +373,8 @@ fn compute(
         stress: StressKind::Applied,
         json: false,
     };
-    let (incidents, exposures) =
-        crate::cli::stats::load(store, &q).map_err(|e| e.message().to_string())?;
+    let (incidents, exposures) = crate::cli::stats::load_with(store, &q, &[Key::Cause])
+        .map_err(|e| e.message().to_string())?;
     let window = window_for(choice, &q, &incidents, &exposures, today)?;
     let r = crate::cli::stats::compute(&q, &incidents, &exposures, window)
         .map_err(|e| e.message().to_string())?;

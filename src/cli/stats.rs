@@ -809,12 +809,27 @@ pub fn load(
     store: &crate::store::Store,
     q: &StatsQuery,
 ) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
+    load_with(store, q, &[])
+}
+
+/// [`load`], with the facts of `extra` keys too (the query's keys, `--only` keys and, with
+/// `--origin-type`, the origin type are always read; the others are left unrecorded).
+pub fn load_with(
+    store: &crate::store::Store,
+    q: &StatsQuery,
+    extra: &[Key],
+) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
     let stress = match q.stress {
         StressKind::Applied => crate::store::FleetStress::Applied,
         StressKind::Net => crate::store::FleetStress::Net,
     };
+    let mut keys: Vec<Key> = q.keys.iter().chain(extra).copied().collect();
+    keys.extend(q.only.iter().map(|(k, _)| *k));
+    if q.origin_type.is_some() {
+        keys.push(Key::OriginType);
+    }
     let incidents = store
-        .fleet_facts(q.since, q.until, stress)
+        .fleet_facts(q.since, q.until, stress, Some(&keys))
         .map_err(|e| CliError::work(e.to_string()))?;
     let exposures = store
         .exposure()

@@ -1627,19 +1627,25 @@ impl Store {
     }
 
     /// The facts the fleet statistics group, one per incident found inside `[since, until]`
-    /// (either end open), with the stress asked for; in no particular order.
+    /// (either end open), with the stress asked for; in no particular order. Only the text
+    /// facts of `keys` are read (month and season need nothing beyond the date); the others
+    /// are left `None`, so pass every key the caller groups, filters or censors by.
+    /// `None` reads them all.
     ///
     /// Read from the narrow `incident_facts` table (schema 3) that triggers keep in step
     /// with `incidents`, not from the wide incidents table: a tenth of the bytes. Each
     /// distinct text (cause, origin type, temper, and the code of each supplier, product,
     /// lot, site and asset type) is made once and shared by every incident that has it.
-    /// Gives the same facts as [`Store::fleet_rows`] with [`FleetRow::into_facts`].
+    /// With every key it gives the same facts as [`Store::fleet_rows`] with
+    /// [`FleetRow::into_facts`].
     pub fn fleet_facts(
         &self,
         since: Option<NaiveDate>,
         until: Option<NaiveDate>,
         stress: FleetStress,
+        keys: Option<&[crate::fleet::Key]>,
     ) -> Result<Vec<crate::fleet::IncidentFacts>, StoreError> {
+        use crate::fleet::Key;
         let values: Vec<(i64, String)> = {
             let mut stmt = self
                 .conn
@@ -1660,19 +1666,40 @@ impl Store {
             }
             t
         };
-        let suppliers = self.code_map("SELECT id, code FROM suppliers")?;
-        let products = self.code_map("SELECT id, code FROM products")?;
-        let lots = self.code_map("SELECT id, code FROM lots")?;
-        let sites = self.code_map("SELECT id, code FROM sites")?;
-        let asset_types = self.code_map("SELECT id, asset_type FROM assets")?;
-        let plain = table(None);
-        let maps = [
-            table(Some(&suppliers)),
-            table(Some(&products)),
-            table(Some(&lots)),
-            table(Some(&sites)),
-            table(Some(&asset_types)),
+        // (key, column, the small table that turns a key into its code)
+        const COLUMNS: [(Key, &str, Option<&str>); 8] = [
+            (Key::Cause, "cause_category", None),
+            (Key::OriginType, "origin_type", None),
+            (Key::Temper, "temper", None),
+            (
+                Key::Supplier,
+                "supplier_id",
+                Some("SELECT id, code FROM suppliers"),
+            ),
+            (
+                Key::Product,
+                "product_id",
+                Some("SELECT id, code FROM products"),
+            ),
+            (Key::Lot, "lot_id", Some("SELECT id, code FROM lots")),
+            (Key::Site, "site_id", Some("SELECT id, code FROM sites")),
+            (
+                Key::AssetType,
+                "asset_id",
+                Some("SELECT id, asset_type FROM assets"),
+            ),
         ];
+        let mut wanted = Vec::new();
+        for (key, column, codes) in COLUMNS {
+            if keys.is_some_and(|k| !k.contains(&key)) {
+                continue;
+            }
+            let t = match codes {
+                Some(sql) => table(Some(&self.code_map(sql)?)),
+                None => table(None),
+            };
+            wanted.push((key, column, t));
+        }
         let stress_col = match stress {
             FleetStress::Applied => "applied_stress_pa",
             FleetStress::Net => "stress_pa",
@@ -1687,26 +1714,23 @@ impl Store {
             conds.push("found_on <= ?".to_string());
             args.push(t(&fmt_date(d)));
         }
-        // fixed SQL text only; the dates are bound
+        // fixed SQL text only (column names from the list above); the dates are bound
+        let columns: String = wanted.iter().map(|w| format!(", {}", w.1)).collect();
         let sql = format!(
-            "SELECT found_on, cause_category, origin_type, temper, supplier_id, product_id,
-                    lot_id, site_id, asset_id, {stress_col}
-             FROM incident_facts {}",
+            "SELECT found_on, {stress_col}{columns} FROM incident_facts {}",
             where_clause(&conds)
         );
-        let get = |r: &rusqlite::Row<'_>, k: usize, map: &ValueTable| {
-            match r.get_ref(k)? {
-                rusqlite::types::ValueRef::Null => Ok(None),
-                rusqlite::types::ValueRef::Integer(n) => match map.get(n) {
-                    Some(v) => Ok(v.clone()),
-                    None => Err(bad_col(
-                        k,
-                        "a number listed in fleet_values (run verify)",
-                        &n.to_string(),
-                    )),
-                },
-                _ => Err(bad_col(k, "a fleet value number", "another type")),
-            }
+        let get = |r: &rusqlite::Row<'_>, k: usize, map: &ValueTable| match r.get_ref(k)? {
+            rusqlite::types::ValueRef::Null => Ok(None),
+            rusqlite::types::ValueRef::Integer(n) => match map.get(n) {
+                Some(v) => Ok(v.clone()),
+                None => Err(bad_col(
+                    k,
+                    "a number listed in fleet_values (run verify)",
+                    &n.to_string(),
+                )),
+            },
+            _ => Err(bad_col(k, "a fleet value number", "another type")),
         };
         let mut stmt = self.conn.prepare(&sql)?;
         let mut rows = stmt.query(params_from_iter(args.iter()))?;
@@ -1723,18 +1747,26 @@ impl Store {
                     d
                 }
             };
-            out.push(crate::fleet::IncidentFacts {
-                cause: get(r, 1, &plain)?,
-                origin_type: get(r, 2, &plain)?,
-                temper: get(r, 3, &plain)?,
-                supplier: get(r, 4, &maps[0])?,
-                product: get(r, 5, &maps[1])?,
-                lot: get(r, 6, &maps[2])?,
-                site: get(r, 7, &maps[3])?,
-                asset_type: get(r, 8, &maps[4])?,
+            let mut f = crate::fleet::IncidentFacts {
                 found,
-                stress_pa: r.get(9)?,
-            });
+                stress_pa: r.get(1)?,
+                ..Default::default()
+            };
+            for (i, (key, _, map)) in wanted.iter().enumerate() {
+                let v = get(r, i + 2, map)?;
+                match key {
+                    Key::Cause => f.cause = v,
+                    Key::OriginType => f.origin_type = v,
+                    Key::Temper => f.temper = v,
+                    Key::Supplier => f.supplier = v,
+                    Key::Product => f.product = v,
+                    Key::Lot => f.lot = v,
+                    Key::Site => f.site = v,
+                    Key::AssetType => f.asset_type = v,
+                    Key::Month | Key::Season => {}
+                }
+            }
+            out.push(f);
         }
         Ok(out)
     }
