@@ -278,7 +278,7 @@ fn group_months<'a>(
         (Some(row), Some(Some(g))) => (row, g),
         _ => {
             return Some(Err(
-                "Per month of a group: none for this grouping (a group that is one month or                  one season has no months to chart) · g: whole fleet"
+                "Per month of a group: none for this grouping (a group that is one month or one season has no months to chart) · g: whole fleet"
                     .to_string(),
             ))
         }
