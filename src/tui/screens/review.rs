@@ -263,13 +263,16 @@ fn trend_text(d: &ReviewData) -> (String, bool) {
     }
 }
 
+/// A group's trend line, whether it is flagged, and its months.
+type GroupMonths<'a> = (String, bool, &'a [crate::fleet::MonthCount]);
+
 /// The trend line of the group highlighted on the Groups panel, with its months, when the
 /// per-month panel shows that group (`g`).
 fn group_months<'a>(
     r: &ReviewState,
     d: &'a ReviewData,
     labels: &Labels<'_>,
-) -> Option<Result<(String, bool, &'a [crate::fleet::MonthCount]), String>> {
+) -> Option<Result<GroupMonths<'a>, String>> {
     if !r.group_months {
         return None;
     }
