@@ -1779,6 +1779,54 @@ impl Store {
     }
 }
 
+/// Copy every incident into `incident_facts` (the migration to schema 3; the triggers keep
+/// it in step afterwards). One pass over the wide table: each distinct text is given its
+/// number in `fleet_values` the first time it is met. Fills in the same numbers the
+/// triggers would.
+pub(crate) fn fill_fleet_facts(tx: &Connection) -> Result<(), StoreError> {
+    let mut numbers: HashMap<String, i64> = {
+        let mut stmt = tx.prepare("SELECT value, n FROM fleet_values")?;
+        let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
+        rows.collect::<Result<_, _>>()?
+    };
+    let mut add_value = tx.prepare("INSERT INTO fleet_values (value) VALUES (?1)")?;
+    let mut add_fact = tx.prepare(
+        "INSERT INTO incident_facts (seq, found_on, cause_category, origin_type, temper,
+             supplier_id, product_id, lot_id, site_id, asset_id, stress_pa, applied_stress_pa)
+         VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12)",
+    )?;
+    let mut stmt = tx.prepare(
+        "SELECT seq, found_on, cause_category, origin_type, temper, supplier_id, product_id,
+                lot_id, site_id, asset_id, stress_pa, applied_stress_pa
+         FROM incidents ORDER BY seq",
+    )?;
+    let mut rows = stmt.query([])?;
+    while let Some(r) = rows.next()? {
+        let mut n: [Option<i64>; 8] = [None; 8];
+        for (k, slot) in n.iter_mut().enumerate() {
+            if let Some(text) = text_ref(r, k + 2)? {
+                *slot = Some(match numbers.get(text) {
+                    Some(&v) => v,
+                    None => {
+                        add_value.execute([text])?;
+                        let v = tx.last_insert_rowid();
+                        numbers.insert(text.to_string(), v);
+                        v
+                    }
+                });
+            }
+        }
+        let seq: i64 = r.get(0)?;
+        let found = text_ref(r, 1)?.ok_or_else(|| bad_col(1, "date", "nothing"))?;
+        let stress: Option<f64> = r.get(10)?;
+        let applied: Option<f64> = r.get(11)?;
+        add_fact.execute(params![
+            seq, found, n[0], n[1], n[2], n[3], n[4], n[5], n[6], n[7], stress, applied
+        ])?;
+    }
+    Ok(())
+}
+
 /// Where the `incident_facts` table (what `stats` reads) disagrees with `incidents`: one
 /// message per incident whose row is missing or differs, and per row with no incident.
 /// Triggers keep the two in step, so any message means the table was changed by hand.
