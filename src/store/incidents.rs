@@ -1646,6 +1646,16 @@ impl Store {
         keys: Option<&[crate::fleet::Key]>,
     ) -> Result<Vec<crate::fleet::IncidentFacts>, StoreError> {
         use crate::fleet::Key;
+        // one snapshot for the value list, the code tables and the rows: a writer between
+        // them would leave numbers this read does not know (ended, read-only, when dropped)
+        let _snapshot = if self.conn.is_autocommit() {
+            Some(rusqlite::Transaction::new_unchecked(
+                &self.conn,
+                TransactionBehavior::Deferred,
+            )?)
+        } else {
+            None
+        };
         let values: Vec<(i64, String)> = {
             let mut stmt = self
                 .conn
