@@ -513,6 +513,26 @@ fn main() {
             "fleet_rows, whole fleet                      {rows} rows  median {:>9}",
             ms(median(times))
         );
+        // what `stats` reads now: the narrow incident_facts table, all keys and two keys
+        for (label, keys) in [
+            ("fleet_facts, every key                      ", None),
+            (
+                "fleet_facts, cause and supplier              ",
+                Some(&[shardlog::fleet::Key::Cause, shardlog::fleet::Key::Supplier][..]),
+            ),
+        ] {
+            let mut times = Vec::new();
+            let mut rows = 0;
+            for _ in 0..3 {
+                let t = Instant::now();
+                rows = s
+                    .fleet_facts(None, None, FleetStress::Applied, keys)
+                    .expect("fleet facts")
+                    .len();
+                times.push(t.elapsed());
+            }
+            println!("{label}{rows} rows  median {:>9}", ms(median(times)));
+        }
     }
     let n: usize = arg("--import")
         .and_then(|v| v.parse().ok())

@@ -26,35 +26,8 @@ CREATE TABLE incident_facts (
     applied_stress_pa REAL
 ) STRICT;
 
--- existing incidents: the distinct values first (columns with an index are read from it),
--- then one row each
-CREATE TEMP TABLE fleet_values_new AS
-    SELECT DISTINCT origin_type, temper, product_id, asset_id FROM incidents;
-INSERT INTO fleet_values (value)
-    SELECT v FROM (
-        SELECT cause_category AS v FROM incidents
-        UNION SELECT supplier_id FROM incidents
-        UNION SELECT lot_id FROM incidents
-        UNION SELECT site_id FROM incidents
-        UNION SELECT origin_type FROM temp.fleet_values_new
-        UNION SELECT temper FROM temp.fleet_values_new
-        UNION SELECT product_id FROM temp.fleet_values_new
-        UNION SELECT asset_id FROM temp.fleet_values_new
-    ) WHERE v IS NOT NULL ORDER BY v;
-DROP TABLE temp.fleet_values_new;
-
-INSERT INTO incident_facts
-    SELECT i.seq, i.found_on,
-        (SELECT n FROM fleet_values WHERE value = i.cause_category),
-        (SELECT n FROM fleet_values WHERE value = i.origin_type),
-        (SELECT n FROM fleet_values WHERE value = i.temper),
-        (SELECT n FROM fleet_values WHERE value = i.supplier_id),
-        (SELECT n FROM fleet_values WHERE value = i.product_id),
-        (SELECT n FROM fleet_values WHERE value = i.lot_id),
-        (SELECT n FROM fleet_values WHERE value = i.site_id),
-        (SELECT n FROM fleet_values WHERE value = i.asset_id),
-        i.stress_pa, i.applied_stress_pa
-    FROM incidents i ORDER BY i.seq;
+-- existing incidents are copied in by the store right after this file, in the same
+-- transaction (one pass over incidents; see incidents::fill_fleet_facts)
 
 CREATE TRIGGER incident_facts_insert AFTER INSERT ON incidents BEGIN
     INSERT INTO fleet_values (value)

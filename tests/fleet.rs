@@ -604,3 +604,92 @@ mod properties {
         }
     }
 }
+
+#[test]
+fn each_group_gets_its_own_trend() {
+    // Invented fleet over 2024-2025: "Alder Float" breaks more each month (1, 2, ... 24),
+    // "Birch Glassworks" 6 a month throughout; 1,000 panes each in service all along.
+    let w = Window::new(d(2024, 1, 1), d(2025, 12, 31)).unwrap();
+    let mut inc = Vec::new();
+    for i in 0..24u32 {
+        let (y, m) = (2024 + (i / 12) as i32, 1 + i % 12);
+        for k in 0..=i {
+            inc.push(facts("Alder Float", "A-1", "thermal", d(y, m, 1 + k % 28)));
+        }
+        for k in 0..6 {
+            inc.push(facts("Birch Glassworks", "B-1", "impact", d(y, m, 2 + k)));
+        }
+    }
+    let exp = |s: &str| Exposure {
+        supplier: Some(s.into()),
+        product: None,
+        lot: None,
+        site: None,
+        panes: 1000.0,
+        from: d(2023, 1, 1),
+        until: None,
+    };
+    let exposures = vec![exp("Alder Float"), exp("Birch Glassworks")];
+    let opts = |keys: Vec<Key>| GroupOptions {
+        keys,
+        window: w,
+        rates: true,
+        weibull: false,
+        origin_type: None,
+        flag_level: 0.05,
+    };
+    let table = group(&inc, &exposures, &opts(vec![Key::Supplier])).unwrap();
+    let trends = shardlog::fleet::group_trends(&inc, &exposures, &table);
+    assert_eq!(trends.len(), 2);
+    for (row, g) in table.rows.iter().zip(&trends) {
+        let g = g.as_ref().unwrap();
+        let t = g.trend.as_ref().unwrap();
+        // the same regression as the fleet-wide trend, run on the group's own incidents and
+        // exposure alone
+        let own: Vec<chrono::NaiveDate> = inc
+            .iter()
+            .filter(|f| f.supplier.as_deref() == Some(row.key[0].as_str()))
+            .map(|f| f.found)
+            .collect();
+        let own_exp: Vec<Exposure> = exposures
+            .iter()
+            .filter(|e| e.supplier.as_deref() == Some(row.key[0].as_str()))
+            .cloned()
+            .collect();
+        let alone = shardlog::fleet::trend(&own, &own_exp, &w).unwrap();
+        assert_eq!(t, &alone, "{}", row.key[0]);
+        assert_eq!(t.months.iter().map(|m| m.count).sum::<u64>(), row.count);
+        assert!(g.p_adjusted.unwrap() >= t.p_value);
+        match row.key[0].as_str() {
+            "Alder Float" => {
+                assert!(g.rising && !g.falling);
+                assert!(t.ratio_per_year > 2.0, "{}", t.ratio_per_year);
+            }
+            "Birch Glassworks" => {
+                assert!(!g.rising && !g.falling);
+                // equal counts in months of unequal length: the rate per pane-year is
+                // nearly flat (common practice: exposure as the offset)
+                assert!(
+                    (t.ratio_per_year - 1.0).abs() < 0.05,
+                    "{}",
+                    t.ratio_per_year
+                );
+            }
+            other => panic!("unexpected group {other}"),
+        }
+    }
+    // by cause (not an exposure key): each cause against all the exposure
+    let by_cause = group(&inc, &exposures, &opts(vec![Key::Cause])).unwrap();
+    let tc = shardlog::fleet::group_trends(&inc, &exposures, &by_cause);
+    let thermal = by_cause
+        .rows
+        .iter()
+        .position(|r| r.key[0] == "thermal")
+        .unwrap();
+    assert!(tc[thermal].as_ref().unwrap().rising);
+    // a group that is one month has no trend over the window
+    let by_month = group(&inc, &exposures, &opts(vec![Key::Month])).unwrap();
+    assert!(shardlog::fleet::group_trends(&inc, &exposures, &by_month)
+        .iter()
+        .all(Option::is_none));
+}

@@ -5,7 +5,7 @@
 use std::path::Path;
 
 use chrono::{DateTime, Datelike, NaiveDate, Utc};
-use shardlog::fleet::IncidentFacts;
+use shardlog::fleet::{IncidentFacts, Key};
 use shardlog::store::*;
 use shardlog::units::Dimension;
 
@@ -87,7 +87,7 @@ fn from_rows(s: &Store, stress: FleetStress) -> Vec<String> {
 
 fn from_facts(s: &Store, stress: FleetStress) -> Vec<String> {
     let mut v: Vec<String> = s
-        .fleet_facts(None, None, stress)
+        .fleet_facts(None, None, stress, None)
         .unwrap()
         .iter()
         .map(|f| format!("{f:?}"))
@@ -114,14 +114,19 @@ fn migration_fills_the_facts_of_existing_incidents() {
         &st,
     )
     .unwrap();
-    s.create_incident(&incident(day(2026, 5, 2), "ORVALE", "L2291", "edge_chip"), &st)
-        .unwrap();
+    s.create_incident(
+        &incident(day(2026, 5, 2), "ORVALE", "L2291", "edge_chip"),
+        &st,
+    )
+    .unwrap();
     let mut bare = Incident::draft(day(2026, 5, 3));
     bare.description = "nothing recorded but the date".into();
     s.create_incident(&bare, &st).unwrap();
     s.migrate().unwrap();
     assert_eq!(s.schema_version().unwrap(), SCHEMA_VERSION);
-    let facts = s.fleet_facts(None, None, FleetStress::Applied).unwrap();
+    let facts = s
+        .fleet_facts(None, None, FleetStress::Applied, None)
+        .unwrap();
     assert_eq!(facts.len(), 3);
     assert!(facts
         .iter()
@@ -129,16 +134,18 @@ fn migration_fills_the_facts_of_existing_incidents() {
             && f.origin_type.as_deref() == Some("inclusion_nis")
             && f.temper.as_deref() == Some("fully_tempered")
             && f.stress_pa.is_some()));
-    assert!(facts
-        .iter()
-        .any(|f| f == &IncidentFacts {
+    assert!(facts.iter().any(|f| f
+        == &IncidentFacts {
             found: day(2026, 5, 3),
             ..Default::default()
         }));
     assert_same(&s, "after the migration");
     // and the triggers work on the migrated database
-    s.create_incident(&incident(day(2026, 5, 4), "KESTREL", "K-32", "edge_chip"), &st)
-        .unwrap();
+    s.create_incident(
+        &incident(day(2026, 5, 4), "KESTREL", "K-32", "edge_chip"),
+        &st,
+    )
+    .unwrap();
     assert_same(&s, "after a write on the migrated database");
 }
 
@@ -153,7 +160,10 @@ fn facts_follow_every_write() {
         )
         .unwrap();
     let b = s
-        .create_incident(&incident(day(2026, 5, 2), "ORVALE", "L2291", "edge_chip"), &st)
+        .create_incident(
+            &incident(day(2026, 5, 2), "ORVALE", "L2291", "edge_chip"),
+            &st,
+        )
         .unwrap();
     assert_same(&s, "after two inserts");
 
@@ -168,7 +178,9 @@ fn facts_follow_every_write() {
         .set_cause(&a.reference, a.revision, Some(cause), None, &st)
         .unwrap();
     assert_same(&s, "after setting a cause");
-    let facts = s.fleet_facts(None, None, FleetStress::Applied).unwrap();
+    let facts = s
+        .fleet_facts(None, None, FleetStress::Applied, None)
+        .unwrap();
     assert_eq!(
         facts
             .iter()
@@ -185,21 +197,62 @@ fn facts_follow_every_write() {
     edited.examinations[0].origin_type = Some("edge_chip".into());
     s.update_incident(&edited, &st).unwrap();
     assert_same(&s, "after an edit");
-    let facts = s.fleet_facts(None, None, FleetStress::Applied).unwrap();
-    assert!(facts.iter().all(|f| f.supplier.as_deref() == Some("ORVALE")));
+    let facts = s
+        .fleet_facts(None, None, FleetStress::Applied, None)
+        .unwrap();
+    assert!(facts
+        .iter()
+        .all(|f| f.supplier.as_deref() == Some("ORVALE")));
     assert!(facts.iter().any(|f| f.found == day(2026, 4, 30)));
 
     // the window
     let may = s
-        .fleet_facts(Some(day(2026, 5, 1)), Some(day(2026, 5, 31)), FleetStress::Net)
+        .fleet_facts(
+            Some(day(2026, 5, 1)),
+            Some(day(2026, 5, 31)),
+            FleetStress::Net,
+            None,
+        )
         .unwrap();
     assert_eq!(may.len(), 1);
     assert_eq!(may[0].found, day(2026, 5, 2));
 
+    // only the keys asked for are read; the rest stay unrecorded
+    let some = s
+        .fleet_facts(
+            None,
+            None,
+            FleetStress::Applied,
+            Some(&[Key::Supplier, Key::Month]),
+        )
+        .unwrap();
+    let all = s
+        .fleet_facts(None, None, FleetStress::Applied, None)
+        .unwrap();
+    let mut want: Vec<String> = all
+        .iter()
+        .map(|f| {
+            format!(
+                "{:?}",
+                IncidentFacts {
+                    supplier: f.supplier.clone(),
+                    found: f.found,
+                    stress_pa: f.stress_pa,
+                    ..Default::default()
+                }
+            )
+        })
+        .collect();
+    let mut got: Vec<String> = some.iter().map(|f| format!("{f:?}")).collect();
+    want.sort();
+    got.sort();
+    assert_eq!(got, want);
+    assert!(some.iter().all(|f| f.supplier.is_some() && f.lot.is_none()));
+
     s.delete_incident(&b.reference, b.revision, &st).unwrap();
     assert_same(&s, "after a delete");
     assert_eq!(
-        s.fleet_facts(None, None, FleetStress::Applied)
+        s.fleet_facts(None, None, FleetStress::Applied, None)
             .unwrap()
             .len(),
         1
@@ -252,17 +305,25 @@ fn hand_changed_facts_are_found_by_verify() {
     assert!(p.contains(&refs[1]) && p.contains("incident_facts"), "{p}");
 
     let (_d, path, refs) = setup();
-    tamper(&path, "UPDATE incident_facts SET applied_stress_pa = 1.0 WHERE seq = 3");
+    tamper(
+        &path,
+        "UPDATE incident_facts SET applied_stress_pa = 1.0 WHERE seq = 3",
+    );
     let (_, p) = problems(&path);
     assert!(p.contains(&refs[2]) && p.contains("differs"), "{p}");
 
     let (_d, path, refs) = setup();
-    tamper(&path, "UPDATE incident_facts SET cause_category = 99999 WHERE seq = 1");
+    tamper(
+        &path,
+        "UPDATE incident_facts SET cause_category = 99999 WHERE seq = 1",
+    );
     let (_, p) = problems(&path);
     assert!(p.contains(&refs[0]), "{p}");
     // stats refuse a number that names no value rather than guess
     let s = Store::open_existing(&path).unwrap();
-    let e = s.fleet_facts(None, None, FleetStress::Applied).unwrap_err();
+    let e = s
+        .fleet_facts(None, None, FleetStress::Applied, None)
+        .unwrap_err();
     assert!(e.to_string().contains("fleet_values"), "{e}");
 
     let (_d, path, refs) = setup();
@@ -284,12 +345,15 @@ fn edits_behind_the_stores_back_reach_the_facts_too() {
     // the triggers are in the schema: plain SQL on incidents keeps the copy in step, so
     // verify reports the one real problem (the changed incident), not a second one
     let (_d, path, _) = setup();
-    tamper(&path, "UPDATE incidents SET stress_pa = 123.0 WHERE seq = 2");
+    tamper(
+        &path,
+        "UPDATE incidents SET stress_pa = 123.0 WHERE seq = 2",
+    );
     let (n, p) = problems(&path);
     assert!(p.contains("listed stress"), "{p}");
     assert_eq!(n, 1, "{p}");
     let s = Store::open_existing(&path).unwrap();
-    let facts = s.fleet_facts(None, None, FleetStress::Net).unwrap();
+    let facts = s.fleet_facts(None, None, FleetStress::Net, None).unwrap();
     assert!(facts.iter().any(|f| f.stress_pa == Some(123.0)));
 }
 
@@ -302,7 +366,9 @@ fn sample_database_gives_the_same_facts_both_ways() {
     // opening migrates a copy made before schema 3
     let s = Store::open_existing(&db).unwrap();
     assert_eq!(s.schema_version().unwrap(), SCHEMA_VERSION);
-    let facts = s.fleet_facts(None, None, FleetStress::Applied).unwrap();
+    let facts = s
+        .fleet_facts(None, None, FleetStress::Applied, None)
+        .unwrap();
     assert!(facts.len() > 100, "{}", facts.len());
     for stress in [FleetStress::Applied, FleetStress::Net] {
         assert_eq!(from_facts(&s, stress), from_rows(&s, stress));

@@ -492,3 +492,43 @@ fn incidents_without_a_cause_come_last_in_the_cause_bars() {
     send(&mut app, &key(KeyCode::Enter));
     assert_eq!(app.screen(), Screen::Log);
 }
+
+#[test]
+fn g_shows_the_months_and_trend_of_the_highlighted_group() {
+    let (_f, mut app) = fixture();
+    open_all(&mut app);
+    // 1: cause → supplier; the Groups panel highlights the largest supplier
+    send(&mut app, &key(KeyCode::Char('1')));
+    assert_eq!(app.review.panel, Panel::Groups);
+    send(&mut app, &key(KeyCode::Char('g')));
+    assert_eq!(app.review.panel, Panel::Months);
+    assert!(app.review.group_months);
+    let d = app.review.data.as_ref().unwrap();
+    let row = &d.table.rows[0];
+    let g = d.group_trends[0].as_ref().expect("a trend for the group");
+    let t = g.trend.as_ref().expect("estimated");
+    // the group's months hold the group's incidents, not the fleet's
+    assert_eq!(t.months.iter().map(|m| m.count).sum::<u64>(), row.count);
+    assert!(row.count < d.table.total);
+    let name = row.key[0].clone();
+    let screen = text(&render(&mut app, 100, 30));
+    assert!(screen.contains(&name), "{screen}");
+    assert!(screen.contains("g: whole fleet"), "{screen}");
+    assert!(screen.contains("Holm"), "{screen}");
+    // g again: the whole fleet
+    send(&mut app, &key(KeyCode::Char('g')));
+    let screen = text(&render(&mut app, 100, 30));
+    assert!(screen.contains("Trend:"), "{screen}");
+    assert!(!screen.contains("g: whole fleet"), "{screen}");
+    // grouped by month a group has no months of its own: said so, the fleet is charted
+    send(&mut app, &key(KeyCode::Char('g')));
+    while app.review.keys != vec![Key::Month] {
+        send(&mut app, &key(KeyCode::Char('1')));
+    }
+    while app.review.panel != Panel::Months {
+        send(&mut app, &key(KeyCode::Right));
+    }
+    let screen = text(&render(&mut app, 100, 30));
+    assert_eq!(app.review.panel, Panel::Months, "{screen}");
+    assert!(screen.contains("none for this grouping"), "{screen}");
+}

@@ -67,6 +67,20 @@ fn json_fields_on_the_reference_dataset() {
     assert!((ci[1].as_f64().unwrap() - 13.594).abs() < 1e-3);
     assert!(v["anderson_darling"].as_f64().unwrap() > 0.0);
     assert_eq!(v["plot"].as_array().unwrap().len(), 20);
+    // nothing is missing, so there is nothing to explain
+    assert!(v.get("notes").is_none(), "{v}");
+
+    // three values: a fit, but C1239's factors start at 5 specimens
+    let p = csv(&dir, "three.csv", "s\n10\n12\n15\n");
+    let r = run(&["weibull", "--input", p.to_str().unwrap(), "--json"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let v: serde_json::Value = serde_json::from_str(&r.stdout).unwrap();
+    assert!(v["modulus_unbiased"].is_null());
+    assert!(v["notes"]["modulus_unbiased"]
+        .as_str()
+        .unwrap()
+        .contains("5 specimens"));
+    assert!(v["notes"].get("anderson_darling").is_none());
 }
 
 #[test]
@@ -92,6 +106,28 @@ fn censored_column_and_plain_table() {
     let m = v["modulus"].as_f64().unwrap();
     assert!((m / 5.987_638_578_61 - 1.0).abs() < 1e-6, "{m}");
     assert!(v["modulus_unbiased"].is_null());
+    // the nulls say why (ASTM C1239 scope: its bias correction and bounds are for one flaw
+    // population, complete samples)
+    let notes = &v["notes"];
+    assert!(
+        notes["modulus_unbiased"]
+            .as_str()
+            .unwrap()
+            .contains("C1239"),
+        "{notes}"
+    );
+    assert!(v["anderson_darling"].is_null());
+    assert!(
+        notes["anderson_darling"]
+            .as_str()
+            .unwrap()
+            .contains("complete samples"),
+        "{notes}"
+    );
+    assert!(
+        notes["bounds"].as_str().unwrap().contains("Wald"),
+        "{notes}"
+    );
 
     let r = run(&[
         "weibull",

@@ -131,6 +131,8 @@ pub enum Action {
     GroupSecond,
     /// Review: the next date window.
     NextWindow,
+    /// Review: per month for the whole fleet or for the highlighted group.
+    ToggleGroupMonths,
     /// The drawing area changed.
     Resize {
         width: u16,
@@ -1049,6 +1051,10 @@ impl App {
             Action::NextWindow => {
                 self.review.next_window();
                 self.reload_review();
+            }
+            Action::ToggleGroupMonths => {
+                self.review.group_months = !self.review.group_months;
+                self.review.panel = review::Panel::Months;
             }
             Action::Confirm => match self.review.selected_filter() {
                 Ok((filter, _, _)) => {

@@ -113,6 +113,9 @@ pub struct ReviewData {
     pub weibull: Result<WeibullFit, String>,
     /// Exposure rows known to the store (0: rates cannot be given).
     pub exposure_rows: usize,
+    /// Each group's own months and trend, aligned with `table.rows` (empty when a key is
+    /// month or season).
+    pub group_trends: Vec<Option<crate::fleet::GroupTrend>>,
 }
 
 /// The review screen's state.
@@ -126,6 +129,8 @@ pub struct ReviewState {
     pub data: Option<ReviewData>,
     /// Why the figures could not be computed.
     pub error: Option<String>,
+    /// The per-month panel shows the group highlighted on the Groups panel, not the fleet.
+    pub group_months: bool,
 }
 
 impl Default for ReviewState {
@@ -143,6 +148,7 @@ impl ReviewState {
             selected: [0; 5],
             data: None,
             error: None,
+            group_months: false,
         }
     }
 
@@ -373,8 +379,8 @@ fn compute(
         stress: StressKind::Applied,
         json: false,
     };
-    let (incidents, exposures) =
-        crate::cli::stats::load(store, &q).map_err(|e| e.message().to_string())?;
+    let (incidents, exposures) = crate::cli::stats::load_with(store, &q, &[Key::Cause])
+        .map_err(|e| e.message().to_string())?;
     let window = window_for(choice, &q, &incidents, &exposures, today)?;
     let r = crate::cli::stats::compute(&q, &incidents, &exposures, window)
         .map_err(|e| e.message().to_string())?;
@@ -432,6 +438,7 @@ fn compute(
         without_stress,
         weibull,
         exposure_rows: exposures.len(),
+        group_trends: r.group_trends.unwrap_or_default(),
     })
 }
 

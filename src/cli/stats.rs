@@ -220,6 +220,9 @@ pub struct StatsResult {
     pub seasonality: Option<Seasonality>,
     /// Pooled fit over every group (only with --weibull).
     pub overall_weibull: Option<Result<crate::fleet::WeibullFit, String>>,
+    /// Each group's own trend, aligned with `table.rows` (with --trend, when no key is
+    /// month or season).
+    pub group_trends: Option<Vec<Option<crate::fleet::GroupTrend>>>,
 }
 
 /// Compute the statistics (pure).
@@ -257,11 +260,14 @@ pub fn compute(
     } else {
         None
     };
+    let group_trends = (q.trend && !q.keys.iter().any(|k| k.is_time()))
+        .then(|| crate::fleet::group_trends(incidents, exposures, &table));
     Ok(StatsResult {
         table,
         trend: trend_r,
         seasonality: season,
         overall_weibull,
+        group_trends,
     })
 }
 
@@ -271,6 +277,7 @@ pub const METHOD_RATIO: &str = "rate ratio against the rest of the same stratum:
 pub const METHOD_FLAG: &str =
     "rate above the rest by a one-sided exact test, Holm-adjusted over the groups compared, 5 % family-wise";
 pub const METHOD_TREND: &str = "Poisson regression of monthly counts on time (IRLS), likelihood-ratio test, quasi-Poisson when over-dispersed";
+pub const METHOD_GROUP_TREND: &str = "each group's own Poisson regression on its own exposure (as the trend); rising/falling when the Holm-adjusted p-value over the groups is below 5 %";
 pub const METHOD_SEASON: &str =
     "counts per calendar month against exposure in that month, Pearson chi-square";
 
@@ -286,12 +293,32 @@ fn pair(a: f64, b: f64) -> Value {
 }
 
 /// JSON output.
+/// A group's own trend as JSON (the monthly counts line up with the top-level trend's
+/// months).
+fn group_trend_json(g: &crate::fleet::GroupTrend) -> Value {
+    match &g.trend {
+        Ok(tr) => json!({
+            "monthly_counts": tr.months.iter().map(|m| m.count).collect::<Vec<_>>(),
+            "exposure_basis": tr.basis.name(),
+            "ratio_per_year": opt(Some(tr.ratio_per_year)),
+            "ratio_per_year_ci95": pair(tr.ratio_ci95.low, tr.ratio_ci95.high),
+            "dispersion": tr.dispersion,
+            "p_value": tr.p_value,
+            "p_adjusted": opt(g.p_adjusted),
+            "rising": g.rising,
+            "falling": g.falling,
+        }),
+        Err(e) => json!({ "error": e.to_string() }),
+    }
+}
+
 pub fn to_json(q: &StatsQuery, r: &StatsResult) -> Value {
     let t = &r.table;
     let groups: Vec<Value> = t
         .rows
         .iter()
-        .map(|row| {
+        .enumerate()
+        .map(|(i, row)| {
             let mut g = json!({
                 "key": row.key,
                 "count": row.count,
@@ -325,6 +352,14 @@ pub fn to_json(q: &StatsQuery, r: &StatsResult) -> Value {
                 m.insert("p_adjusted".into(), opt(row.p_adjusted));
                 m.insert("flagged".into(), json!(row.flagged));
             }
+            if let Some(gt) = &r.group_trends {
+                m.insert(
+                    "trend".into(),
+                    gt.get(i)
+                        .and_then(Option::as_ref)
+                        .map_or(Value::Null, group_trend_json),
+                );
+            }
             if q.weibull {
                 m.insert("n_stresses".into(), json!(row.n_stresses));
                 m.insert(
@@ -355,6 +390,9 @@ pub fn to_json(q: &StatsQuery, r: &StatsResult) -> Value {
         methods.insert("rate".into(), json!(METHOD_RATE));
         methods.insert("rate_ratio".into(), json!(METHOD_RATIO));
         methods.insert("flag".into(), json!(METHOD_FLAG));
+    }
+    if r.group_trends.is_some() {
+        methods.insert("group_trend".into(), json!(METHOD_GROUP_TREND));
     }
     if let Some(tr) = &r.trend {
         methods.insert("trend".into(), json!(METHOD_TREND));
@@ -647,6 +685,55 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
             Err(e) => s.push_str(&format!("  trend: not estimated: {e}\n")),
         }
     }
+    if let Some(gt) = &r.group_trends {
+        s.push_str("\nTrend by group\n");
+        let mut header: Vec<String> = by.iter().map(|b| b.to_string()).collect();
+        for h in ["count", "x per year", "95 % CI", "p", "p adj", ""] {
+            header.push(h.into());
+        }
+        let rows: Vec<Vec<String>> = t
+            .rows
+            .iter()
+            .zip(gt)
+            .map(|(row, g)| {
+                let mut c: Vec<String> = row.key.iter().map(|k| clean(k)).collect();
+                c.push(row.count.to_string());
+                match g {
+                    Some(crate::fleet::GroupTrend {
+                        trend: Ok(tr),
+                        p_adjusted,
+                        rising,
+                        falling,
+                    }) => {
+                        c.push(fmt_sig(tr.ratio_per_year, 3));
+                        c.push(format!(
+                            "[{}, {}]",
+                            fmt_sig(tr.ratio_ci95.low, 3),
+                            fmt_sig(tr.ratio_ci95.high, 3)
+                        ));
+                        c.push(fmt_p(tr.p_value));
+                        c.push(p_adjusted.map_or(String::new(), fmt_p));
+                        c.push(if *rising {
+                            "RISING".into()
+                        } else if *falling {
+                            "falling".into()
+                        } else {
+                            String::new()
+                        });
+                    }
+                    Some(crate::fleet::GroupTrend { trend: Err(e), .. }) => {
+                        c.push(format!("not estimated: {e}"));
+                    }
+                    None => c.push("—".into()),
+                }
+                c
+            })
+            .collect();
+        if !rows.is_empty() {
+            s.push_str(&columns(&header, &rows, q.keys.len()));
+        }
+        s.push_str(&format!("  method: {METHOD_GROUP_TREND}\n"));
+    }
     if let Some(se) = &r.seasonality {
         const NAMES: [&str; 12] = [
             "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
@@ -809,12 +896,27 @@ pub fn load(
     store: &crate::store::Store,
     q: &StatsQuery,
 ) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
+    load_with(store, q, &[])
+}
+
+/// [`load`], with the facts of `extra` keys too (the query's keys, `--only` keys and, with
+/// `--origin-type`, the origin type are always read; the others are left unrecorded).
+pub fn load_with(
+    store: &crate::store::Store,
+    q: &StatsQuery,
+    extra: &[Key],
+) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
     let stress = match q.stress {
         StressKind::Applied => crate::store::FleetStress::Applied,
         StressKind::Net => crate::store::FleetStress::Net,
     };
+    let mut keys: Vec<Key> = q.keys.iter().chain(extra).copied().collect();
+    keys.extend(q.only.iter().map(|(k, _)| *k));
+    if q.origin_type.is_some() {
+        keys.push(Key::OriginType);
+    }
     let incidents = store
-        .fleet_facts(q.since, q.until, stress)
+        .fleet_facts(q.since, q.until, stress, Some(&keys))
         .map_err(|e| CliError::work(e.to_string()))?;
     let exposures = store
         .exposure()
@@ -1043,5 +1145,41 @@ mod tests {
             let e = StatsQuery::from_args(&args).unwrap_err();
             assert_eq!(e.exit_code(), 2, "{e}");
         }
+    }
+
+    #[test]
+    fn trend_by_group_in_json_and_text() {
+        let (inc, ex) = fleet();
+        let mut q = query("supplier");
+        q.json = true;
+        let v: Value =
+            serde_json::from_str(&render(&q, &inc, &ex, d(2026, 1, 1)).unwrap()).unwrap();
+        let months = v["trend"]["months"].as_array().unwrap().len();
+        assert_eq!(months, 12);
+        for g in v["groups"].as_array().unwrap() {
+            let t = &g["trend"];
+            let counts = t["monthly_counts"].as_array().unwrap();
+            assert_eq!(counts.len(), months, "{g}");
+            let sum: u64 = counts.iter().map(|c| c.as_u64().unwrap()).sum();
+            assert_eq!(Some(sum), g["count"].as_u64(), "{g}");
+            assert!(t["p_adjusted"].as_f64().unwrap() >= t["p_value"].as_f64().unwrap());
+            assert!(t["rising"].is_boolean() && t["ratio_per_year"].is_number());
+        }
+        assert!(v["methods"]["group_trend"]
+            .as_str()
+            .unwrap()
+            .contains("Holm"));
+        // the text has the table
+        q.json = false;
+        let s = render(&q, &inc, &ex, d(2026, 1, 1)).unwrap();
+        assert!(s.contains("Trend by group"), "{s}");
+        assert!(s.contains("x per year"), "{s}");
+        // grouped by month there is no per-group trend (a group is one month)
+        let mut q = query("month");
+        q.json = true;
+        let v: Value =
+            serde_json::from_str(&render(&q, &inc, &ex, d(2026, 1, 1)).unwrap()).unwrap();
+        assert!(v["groups"][0].get("trend").is_none());
+        assert!(v["methods"].get("group_trend").is_none());
     }
 }

@@ -37,6 +37,19 @@ pub const METHOD_BOUNDS: &str =
 pub const METHOD_PLOT: &str = "Johnson's adjusted ranks, P = (rank - 0.5) / N";
 pub const METHOD_UNBIASED: &str = "ASTM C1239 unbiasing factor (complete samples of 5 or more)";
 
+/// Why a censored fit has no unbiased modulus. ASTM C1239 (scope: 1.1 of C1239-00, 1.4 of
+/// C1239-07) gives its bias correction and confidence bounds for samples whose failures all
+/// come from one flaw population, and says they are not applicable to competing flaw
+/// populations; its unbiasing factors are tabulated by the number of specimens of a complete
+/// sample.
+pub const NOTE_UNBIASED_CENSORED: &str = "not given: ASTM C1239 tabulates its unbiasing factors for complete samples from one flaw population and says its bias correction does not apply to competing flaw populations; no factor for censored samples is given there, and none is made up here";
+pub const NOTE_UNBIASED_SMALL: &str =
+    "not given: the ASTM C1239 unbiasing factors start at 5 specimens";
+/// Why a censored fit has no Anderson-Darling statistic.
+pub const NOTE_AD_CENSORED: &str = "not given: the Anderson-Darling statistic and its 5 % critical value (modified A* against 0.757) are for complete samples; with censored values they do not apply and no censored-sample critical values are used";
+/// What the bounds of a censored fit are.
+pub const NOTE_BOUNDS_CENSORED: &str = "large-sample Wald bounds from the censored likelihood; ASTM C1239 says its confidence-bound method does not apply to competing flaw populations, so these are approximate, the more so with few failures";
+
 /// Split one CSV record (RFC 4180 quoting: "a, b" and "" for a quote inside quotes).
 pub fn split_csv_line(line: &str) -> Result<Vec<String>, String> {
     let mut out = Vec::new();
@@ -256,7 +269,7 @@ fn interval_mpa(i: crate::fleet::Interval) -> Value {
 /// The JSON object of a fit whose stresses are in Pa (`scale` and bounds printed in MPa).
 pub fn fit_json(f: &WeibullFit) -> Value {
     let ad = f.anderson_darling;
-    json!({
+    let mut v = json!({
         "n": f.n,
         "n_failures": f.n_failures,
         "n_censored": f.n_censored,
@@ -284,7 +297,29 @@ pub fn fit_json(f: &WeibullFit) -> Value {
             "rank": p.rank,
             "probability": p.probability,
         })).collect::<Vec<_>>(),
-    })
+    });
+    // why a figure is null (or approximate): only present when one is
+    let mut notes = serde_json::Map::new();
+    if f.modulus_unbiased.is_none() {
+        let why = if f.n_censored > 0 {
+            NOTE_UNBIASED_CENSORED
+        } else {
+            NOTE_UNBIASED_SMALL
+        };
+        notes.insert("modulus_unbiased".into(), json!(why));
+    }
+    if ad.is_none() {
+        notes.insert("anderson_darling".into(), json!(NOTE_AD_CENSORED));
+    }
+    if f.n_censored > 0 {
+        notes.insert("bounds".into(), json!(NOTE_BOUNDS_CENSORED));
+    }
+    if !notes.is_empty() {
+        if let Some(m) = v.as_object_mut() {
+            m.insert("notes".into(), Value::Object(notes));
+        }
+    }
+    v
 }
 
 fn iv(i: crate::fleet::Interval, unit: Unit) -> String {
@@ -323,7 +358,8 @@ pub fn fit_table(f: &WeibullFit, unit: Unit, indent: &str) -> String {
             &mut s,
             "unbiased modulus",
             if f.n_censored > 0 {
-                "not given: C1239's factors are for complete samples".to_string()
+                "not given: C1239's factors are for complete samples from one flaw population"
+                    .to_string()
             } else {
                 "not given: C1239's factors start at N = 5".to_string()
             },
@@ -363,8 +399,17 @@ pub fn fit_table(f: &WeibullFit, unit: Unit, indent: &str) -> String {
         None => line(
             &mut s,
             "Anderson-Darling",
-            "not given for censored samples".to_string(),
+            "not given for censored samples (its critical values are for complete ones)"
+                .to_string(),
         ),
+    }
+    if f.n_censored > 0 {
+        line(
+            &mut s,
+            "bounds",
+            "large-sample Wald, approximate: C1239's bounds do not cover censored samples"
+                .to_string(),
+        );
     }
     s
 }

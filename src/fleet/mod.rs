@@ -14,8 +14,8 @@ pub mod trend;
 pub mod weibull;
 
 pub use group::{
-    group, histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow, GroupTable,
-    GroupValue, IncidentFacts, Key, Window,
+    group, group_trends, histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow,
+    GroupTable, GroupTrend, GroupValue, IncidentFacts, Key, Window,
 };
 pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
 pub use trend::{monthly_counts, seasonality, trend, MonthCount, Seasonality, Trend};

@@ -1857,19 +1857,35 @@ impl Store {
     }
 
     /// The facts the fleet statistics group, one per incident found inside `[since, until]`
-    /// (either end open), with the stress asked for; in no particular order.
+    /// (either end open), with the stress asked for; in no particular order. Only the text
+    /// facts of `keys` are read (month and season need nothing beyond the date); the others
+    /// are left `None`, so pass every key the caller groups, filters or censors by.
+    /// `None` reads them all.
     ///
     /// Read from the narrow `incident_facts` table (schema 3) that triggers keep in step
     /// with `incidents`, not from the wide incidents table: a tenth of the bytes. Each
     /// distinct text (cause, origin type, temper, and the code of each supplier, product,
     /// lot, site and asset type) is made once and shared by every incident that has it.
-    /// Gives the same facts as [`Store::fleet_rows`] with [`FleetRow::into_facts`].
+    /// With every key it gives the same facts as [`Store::fleet_rows`] with
+    /// [`FleetRow::into_facts`].
     pub fn fleet_facts(
         &self,
         since: Option<NaiveDate>,
         until: Option<NaiveDate>,
         stress: FleetStress,
+        keys: Option<&[crate::fleet::Key]>,
     ) -> Result<Vec<crate::fleet::IncidentFacts>, StoreError> {
+        use crate::fleet::Key;
+        // one snapshot for the value list, the code tables and the rows: a writer between
+        // them would leave numbers this read does not know (ended, read-only, when dropped)
+        let _snapshot = if self.conn.is_autocommit() {
+            Some(rusqlite::Transaction::new_unchecked(
+                &self.conn,
+                TransactionBehavior::Deferred,
+            )?)
+        } else {
+            None
+        };
         let values: Vec<(i64, String)> = {
             let mut stmt = self
                 .conn
@@ -1890,19 +1906,40 @@ impl Store {
             }
             t
         };
-        let suppliers = self.code_map("SELECT id, code FROM suppliers")?;
-        let products = self.code_map("SELECT id, code FROM products")?;
-        let lots = self.code_map("SELECT id, code FROM lots")?;
-        let sites = self.code_map("SELECT id, code FROM sites")?;
-        let asset_types = self.code_map("SELECT id, asset_type FROM assets")?;
-        let plain = table(None);
-        let maps = [
-            table(Some(&suppliers)),
-            table(Some(&products)),
-            table(Some(&lots)),
-            table(Some(&sites)),
-            table(Some(&asset_types)),
+        // (key, column, the small table that turns a key into its code)
+        const COLUMNS: [(Key, &str, Option<&str>); 8] = [
+            (Key::Cause, "cause_category", None),
+            (Key::OriginType, "origin_type", None),
+            (Key::Temper, "temper", None),
+            (
+                Key::Supplier,
+                "supplier_id",
+                Some("SELECT id, code FROM suppliers"),
+            ),
+            (
+                Key::Product,
+                "product_id",
+                Some("SELECT id, code FROM products"),
+            ),
+            (Key::Lot, "lot_id", Some("SELECT id, code FROM lots")),
+            (Key::Site, "site_id", Some("SELECT id, code FROM sites")),
+            (
+                Key::AssetType,
+                "asset_id",
+                Some("SELECT id, asset_type FROM assets"),
+            ),
         ];
+        let mut wanted = Vec::new();
+        for (key, column, codes) in COLUMNS {
+            if keys.is_some_and(|k| !k.contains(&key)) {
+                continue;
+            }
+            let t = match codes {
+                Some(sql) => table(Some(&self.code_map(sql)?)),
+                None => table(None),
+            };
+            wanted.push((key, column, t));
+        }
         let stress_col = match stress {
             FleetStress::Applied => "applied_stress_pa",
             FleetStress::Net => "stress_pa",
@@ -1917,26 +1954,23 @@ impl Store {
             conds.push("found_on <= ?".to_string());
             args.push(t(&fmt_date(d)));
         }
-        // fixed SQL text only; the dates are bound
+        // fixed SQL text only (column names from the list above); the dates are bound
+        let columns: String = wanted.iter().map(|w| format!(", {}", w.1)).collect();
         let sql = format!(
-            "SELECT found_on, cause_category, origin_type, temper, supplier_id, product_id,
-                    lot_id, site_id, asset_id, {stress_col}
-             FROM incident_facts {}",
+            "SELECT found_on, {stress_col}{columns} FROM incident_facts {}",
             where_clause(&conds)
         );
-        let get = |r: &rusqlite::Row<'_>, k: usize, map: &ValueTable| {
-            match r.get_ref(k)? {
-                rusqlite::types::ValueRef::Null => Ok(None),
-                rusqlite::types::ValueRef::Integer(n) => match map.get(n) {
-                    Some(v) => Ok(v.clone()),
-                    None => Err(bad_col(
-                        k,
-                        "a number listed in fleet_values (run verify)",
-                        &n.to_string(),
-                    )),
-                },
-                _ => Err(bad_col(k, "a fleet value number", "another type")),
-            }
+        let get = |r: &rusqlite::Row<'_>, k: usize, map: &ValueTable| match r.get_ref(k)? {
+            rusqlite::types::ValueRef::Null => Ok(None),
+            rusqlite::types::ValueRef::Integer(n) => match map.get(n) {
+                Some(v) => Ok(v.clone()),
+                None => Err(bad_col(
+                    k,
+                    "a number listed in fleet_values (run verify)",
+                    &n.to_string(),
+                )),
+            },
+            _ => Err(bad_col(k, "a fleet value number", "another type")),
         };
         let mut stmt = self.conn.prepare(&sql)?;
         let mut rows = stmt.query(params_from_iter(args.iter()))?;
@@ -1953,18 +1987,26 @@ impl Store {
                     d
                 }
             };
-            out.push(crate::fleet::IncidentFacts {
-                cause: get(r, 1, &plain)?,
-                origin_type: get(r, 2, &plain)?,
-                temper: get(r, 3, &plain)?,
-                supplier: get(r, 4, &maps[0])?,
-                product: get(r, 5, &maps[1])?,
-                lot: get(r, 6, &maps[2])?,
-                site: get(r, 7, &maps[3])?,
-                asset_type: get(r, 8, &maps[4])?,
+            let mut f = crate::fleet::IncidentFacts {
                 found,
-                stress_pa: r.get(9)?,
-            });
+                stress_pa: r.get(1)?,
+                ..Default::default()
+            };
+            for (i, (key, _, map)) in wanted.iter().enumerate() {
+                let v = get(r, i + 2, map)?;
+                match key {
+                    Key::Cause => f.cause = v,
+                    Key::OriginType => f.origin_type = v,
+                    Key::Temper => f.temper = v,
+                    Key::Supplier => f.supplier = v,
+                    Key::Product => f.product = v,
+                    Key::Lot => f.lot = v,
+                    Key::Site => f.site = v,
+                    Key::AssetType => f.asset_type = v,
+                    Key::Month | Key::Season => {}
+                }
+            }
+            out.push(f);
         }
         Ok(out)
     }
@@ -1975,6 +2017,54 @@ impl Store {
         let rows = stmt.query_map([], |r| Ok((r.get::<_, String>(0)?, r.get::<_, String>(1)?)))?;
         Ok(rows.collect::<Result<_, _>>()?)
     }
+}
+
+/// Copy every incident into `incident_facts` (the migration to schema 3; the triggers keep
+/// it in step afterwards). One pass over the wide table: each distinct text is given its
+/// number in `fleet_values` the first time it is met. Fills in the same numbers the
+/// triggers would.
+pub(crate) fn fill_fleet_facts(tx: &Connection) -> Result<(), StoreError> {
+    let mut numbers: HashMap<String, i64> = {
+        let mut stmt = tx.prepare("SELECT value, n FROM fleet_values")?;
+        let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
+        rows.collect::<Result<_, _>>()?
+    };
+    let mut add_value = tx.prepare("INSERT INTO fleet_values (value) VALUES (?1)")?;
+    let mut add_fact = tx.prepare(
+        "INSERT INTO incident_facts (seq, found_on, cause_category, origin_type, temper,
+             supplier_id, product_id, lot_id, site_id, asset_id, stress_pa, applied_stress_pa)
+         VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12)",
+    )?;
+    let mut stmt = tx.prepare(
+        "SELECT seq, found_on, cause_category, origin_type, temper, supplier_id, product_id,
+                lot_id, site_id, asset_id, stress_pa, applied_stress_pa
+         FROM incidents ORDER BY seq",
+    )?;
+    let mut rows = stmt.query([])?;
+    while let Some(r) = rows.next()? {
+        let mut n: [Option<i64>; 8] = [None; 8];
+        for (k, slot) in n.iter_mut().enumerate() {
+            if let Some(text) = text_ref(r, k + 2)? {
+                *slot = Some(match numbers.get(text) {
+                    Some(&v) => v,
+                    None => {
+                        add_value.execute([text])?;
+                        let v = tx.last_insert_rowid();
+                        numbers.insert(text.to_string(), v);
+                        v
+                    }
+                });
+            }
+        }
+        let seq: i64 = r.get(0)?;
+        let found = text_ref(r, 1)?.ok_or_else(|| bad_col(1, "date", "nothing"))?;
+        let stress: Option<f64> = r.get(10)?;
+        let applied: Option<f64> = r.get(11)?;
+        add_fact.execute(params![
+            seq, found, n[0], n[1], n[2], n[3], n[4], n[5], n[6], n[7], stress, applied
+        ])?;
+    }
+    Ok(())
 }
 
 /// Where the `incident_facts` table (what `stats` reads) disagrees with `incidents`: one

@@ -344,6 +344,9 @@ impl Store {
                 sqlite::set_application_id(&tx)?;
                 audit::seed_lookup_audit(&tx)?;
             }
+            if name == sqlite::FLEET_FACTS_MIGRATION {
+                incidents::fill_fleet_facts(&tx)?;
+            }
             sqlite::set_user_version(&tx, version + 1)?;
             tx.commit()?;
         }

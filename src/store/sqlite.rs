@@ -28,6 +28,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
     ),
 ];
 
+/// The migration that makes `incident_facts`; the store fills it from the incidents
+/// already there, in the migration's transaction.
+pub const FLEET_FACTS_MIGRATION: &str = "0003_fleet_facts.sql";
+
 /// The schema version this build writes.
 pub const SCHEMA_VERSION: i64 = MIGRATIONS.len() as i64;
 

@@ -346,6 +346,14 @@ pub static TABLE: &[Binding] = &[
         action: Action::NextWindow,
         footer: true,
     },
+    Binding {
+        ctxs: &[Review],
+        keys: &[c('g')],
+        label: "g",
+        desc: "per month: the whole fleet or the group highlighted on Groups",
+        action: Action::ToggleGroupMonths,
+        footer: false,
+    },
     // --- the search line ---
     Binding {
         ctxs: &[Search],

@@ -43,7 +43,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     let labels = Labels(&app.lists);
     match r.panel {
         Panel::Causes => causes(r, d, &labels, f, note, content, th),
-        Panel::Months => months(r, d, f, note, content, th),
+        Panel::Months => months(r, d, &labels, f, note, content, th),
         Panel::Stress => stress(d, f, note, content, th),
         Panel::Weibull => weibull(r, d, &labels, f, note, content, th),
         Panel::Groups => groups(r, d, &labels, f, note, content, th),
@@ -263,11 +263,83 @@ fn trend_text(d: &ReviewData) -> (String, bool) {
     }
 }
 
-fn months(r: &ReviewState, d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
-    let (text, alarm) = trend_text(d);
+/// A group's trend line, whether it is flagged, and its months.
+type GroupMonths<'a> = (String, bool, &'a [crate::fleet::MonthCount]);
+
+/// The trend line of the group highlighted on the Groups panel, with its months, when the
+/// per-month panel shows that group (`g`).
+fn group_months<'a>(
+    r: &ReviewState,
+    d: &'a ReviewData,
+    labels: &Labels<'_>,
+) -> Option<Result<GroupMonths<'a>, String>> {
+    if !r.group_months {
+        return None;
+    }
+    let i = r.selected_in(Panel::Groups);
+    let (row, g) = match (d.table.rows.get(i), d.group_trends.get(i)) {
+        (Some(row), Some(Some(g))) => (row, g),
+        _ => {
+            return Some(Err(
+                "Per month of a group: none for this grouping (a group that is one month or one season has no months to chart) · g: whole fleet"
+                    .to_string(),
+            ))
+        }
+    };
+    let name = labels.of(&d.table.keys, &row.key);
+    Some(match &g.trend {
+        Ok(t) => {
+            let flag = if g.rising {
+                "RISING ▲"
+            } else if g.falling {
+                "falling ▼"
+            } else {
+                "no significant trend"
+            };
+            Ok((
+                format!(
+                    "{name}: {flag} · rate ×{} per year (95 % {}–{}), p = {}, Holm-adjusted over {} \
+                     groups {} · g: whole fleet",
+                    fmt_sig(t.ratio_per_year, 3),
+                    fmt_sig(t.ratio_ci95.low, 2),
+                    fmt_sig(t.ratio_ci95.high, 2),
+                    fmt_sig(t.p_value, 2),
+                    d.group_trends
+                        .iter()
+                        .filter(|g| matches!(g, Some(x) if x.trend.is_ok()))
+                        .count(),
+                    g.p_adjusted.map_or("—".to_string(), |p| fmt_sig(p, 2)),
+                ),
+                g.rising,
+                t.months.as_slice(),
+            ))
+        }
+        Err(e) => Err(format!(
+            "{name}: trend not estimated ({}) · g: whole fleet",
+            clean(&e.to_string())
+        )),
+    })
+}
+
+fn months(
+    r: &ReviewState,
+    d: &ReviewData,
+    labels: &Labels<'_>,
+    f: &mut Frame,
+    note: Rect,
+    area: Rect,
+    th: &Theme,
+) {
+    let (text, alarm, months) = match group_months(r, d, labels) {
+        Some(Ok((text, alarm, months))) => (text, alarm, months),
+        Some(Err(e)) => (e, false, d.months.as_slice()),
+        None => {
+            let (text, alarm) = trend_text(d);
+            (text, alarm, d.months.as_slice())
+        }
+    };
     put_wrapped(f, note, &text, if alarm { th.warning } else { th.header });
-    let rows: Vec<(String, f64, String)> = d
-        .months
+    let rows: Vec<(String, f64, String)> = months
         .iter()
         .map(|m| {
             let full = crate::fleet::group::month_bounds(m.year, m.month)
@@ -306,7 +378,8 @@ fn months(r: &ReviewState, d: &ReviewData, f: &mut Frame, note: Rect, area: Rect
             peaks.join(", ")
         };
         let text = format!(
-            "Season: peaks {peaks} · p = {} · χ² of counts per month of year against its {}",
+            "Season{}: peaks {peaks} · p = {} · χ² of counts per month of year against its {}",
+            if r.group_months { " (whole fleet)" } else { "" },
             fmt_sig(sz.p_value, 2),
             sz.basis.name()
         );
