@@ -532,3 +532,44 @@ fn g_shows_the_months_and_trend_of_the_highlighted_group() {
     assert_eq!(app.review.panel, Panel::Months, "{screen}");
     assert!(screen.contains("none for this grouping"), "{screen}");
 }
+
+/// With `g` the per-month panel charts one group; Enter on a month then opens that group's
+/// incidents of that month, not the whole fleet's.
+#[test]
+fn enter_on_a_month_of_a_charted_group_opens_only_that_group() {
+    let (_f, mut app) = fixture();
+    open_all(&mut app);
+    send(&mut app, &key(KeyCode::Char('1')));
+    assert_eq!(app.review.panel, Panel::Groups);
+    send(&mut app, &key(KeyCode::Char('g')));
+    assert_eq!(app.review.panel, Panel::Months);
+    let d = app.review.data.as_ref().unwrap();
+    let gi = app.review.selected_in(Panel::Groups);
+    let t = d.group_trends[gi].as_ref().unwrap().trend.as_ref().unwrap();
+    // a month where the group has fewer incidents than the fleet
+    let (j, want) = d
+        .months
+        .iter()
+        .enumerate()
+        .find_map(|(j, m)| {
+            let g = t
+                .months
+                .iter()
+                .find(|x| (x.year, x.month) == (m.year, m.month))?;
+            (g.count > 0 && g.count < m.count).then_some((j, g.count))
+        })
+        .expect("a month the group shares with others");
+    send(&mut app, &key(KeyCode::Home));
+    for _ in 0..j {
+        send(&mut app, &key(KeyCode::Down));
+    }
+    assert_eq!(app.review.selected(), j);
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Log, "{:?}", app.message);
+    let screen = text(&render(&mut app, 100, 30));
+    let word = if want == 1 { "incident" } else { "incidents" };
+    assert!(
+        screen.contains(&format!(" {want} {word} match")),
+        "{want}: {screen}"
+    );
+}

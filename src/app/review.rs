@@ -294,7 +294,27 @@ impl ReviewState {
                     month: m.month,
                 };
                 apply_value(&mut f, Key::Month, &v, &d.window)?;
-                Ok((f, m.count, m.label()))
+                if !self.group_months {
+                    return Ok((f, m.count, m.label()));
+                }
+                // the panel charts the group highlighted on Groups: open its month only
+                let gi = self.selected_in(Panel::Groups);
+                let row = d.table.rows.get(gi).ok_or("no group to open")?;
+                for (k, v) in d.table.keys.iter().zip(&row.values) {
+                    apply_value(&mut f, *k, v, &d.window)?;
+                }
+                let count = d
+                    .group_trends
+                    .get(gi)
+                    .and_then(|g| g.as_ref())
+                    .and_then(|g| g.trend.as_ref().ok())
+                    .and_then(|t| {
+                        t.months
+                            .iter()
+                            .find(|x| (x.year, x.month) == (m.year, m.month))
+                    })
+                    .map_or(0, |x| x.count);
+                Ok((f, count, format!("{} · {}", row.key.join(" · "), m.label())))
             }
             Panel::Stress | Panel::Weibull => Err(
                 "Enter opens a group from the Causes, Per month or Groups panel (Tab moves)"
