@@ -27,6 +27,7 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("incidents.rs", "FROM {from}", "from: the literal \"incidents i\" or the sqlite::FTS_FROM constant"),
     ("incidents.rs", "SELECT count(*) FROM {from} {}", "from as above; where_clause of fixed condition texts"),
     ("incidents.rs", "i.lot_id IN ({})", "one '?' placeholder per resolved lot id"),
+    ("incidents.rs", "lot_id, site_id, asset_id, {stress_col}", "stress_col: one of two column names from the FleetStress enum match; where_clause of fixed condition texts, the dates bound"),
     ("demo.rs", "DROP INDEX \"{}\"", "index names read from sqlite_master (the schema's own), quotes removed"),
     ("sqlite.rs", "PRAGMA user_version = {v}", "v: an i64 schema version from the migration table in the code"),
     ("sqlite.rs", "PRAGMA application_id = {APPLICATION_ID}", "a constant"),
