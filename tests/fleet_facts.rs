@@ -114,8 +114,11 @@ fn migration_fills_the_facts_of_existing_incidents() {
         &st,
     )
     .unwrap();
-    s.create_incident(&incident(day(2026, 5, 2), "ORVALE", "L2291", "edge_chip"), &st)
-        .unwrap();
+    s.create_incident(
+        &incident(day(2026, 5, 2), "ORVALE", "L2291", "edge_chip"),
+        &st,
+    )
+    .unwrap();
     let mut bare = Incident::draft(day(2026, 5, 3));
     bare.description = "nothing recorded but the date".into();
     s.create_incident(&bare, &st).unwrap();
@@ -129,16 +132,18 @@ fn migration_fills_the_facts_of_existing_incidents() {
             && f.origin_type.as_deref() == Some("inclusion_nis")
             && f.temper.as_deref() == Some("fully_tempered")
             && f.stress_pa.is_some()));
-    assert!(facts
-        .iter()
-        .any(|f| f == &IncidentFacts {
+    assert!(facts.iter().any(|f| f
+        == &IncidentFacts {
             found: day(2026, 5, 3),
             ..Default::default()
         }));
     assert_same(&s, "after the migration");
     // and the triggers work on the migrated database
-    s.create_incident(&incident(day(2026, 5, 4), "KESTREL", "K-32", "edge_chip"), &st)
-        .unwrap();
+    s.create_incident(
+        &incident(day(2026, 5, 4), "KESTREL", "K-32", "edge_chip"),
+        &st,
+    )
+    .unwrap();
     assert_same(&s, "after a write on the migrated database");
 }
 
@@ -153,7 +158,10 @@ fn facts_follow_every_write() {
         )
         .unwrap();
     let b = s
-        .create_incident(&incident(day(2026, 5, 2), "ORVALE", "L2291", "edge_chip"), &st)
+        .create_incident(
+            &incident(day(2026, 5, 2), "ORVALE", "L2291", "edge_chip"),
+            &st,
+        )
         .unwrap();
     assert_same(&s, "after two inserts");
 
@@ -186,12 +194,18 @@ fn facts_follow_every_write() {
     s.update_incident(&edited, &st).unwrap();
     assert_same(&s, "after an edit");
     let facts = s.fleet_facts(None, None, FleetStress::Applied).unwrap();
-    assert!(facts.iter().all(|f| f.supplier.as_deref() == Some("ORVALE")));
+    assert!(facts
+        .iter()
+        .all(|f| f.supplier.as_deref() == Some("ORVALE")));
     assert!(facts.iter().any(|f| f.found == day(2026, 4, 30)));
 
     // the window
     let may = s
-        .fleet_facts(Some(day(2026, 5, 1)), Some(day(2026, 5, 31)), FleetStress::Net)
+        .fleet_facts(
+            Some(day(2026, 5, 1)),
+            Some(day(2026, 5, 31)),
+            FleetStress::Net,
+        )
         .unwrap();
     assert_eq!(may.len(), 1);
     assert_eq!(may[0].found, day(2026, 5, 2));
@@ -252,12 +266,18 @@ fn hand_changed_facts_are_found_by_verify() {
     assert!(p.contains(&refs[1]) && p.contains("incident_facts"), "{p}");
 
     let (_d, path, refs) = setup();
-    tamper(&path, "UPDATE incident_facts SET applied_stress_pa = 1.0 WHERE seq = 3");
+    tamper(
+        &path,
+        "UPDATE incident_facts SET applied_stress_pa = 1.0 WHERE seq = 3",
+    );
     let (_, p) = problems(&path);
     assert!(p.contains(&refs[2]) && p.contains("differs"), "{p}");
 
     let (_d, path, refs) = setup();
-    tamper(&path, "UPDATE incident_facts SET cause_category = 99999 WHERE seq = 1");
+    tamper(
+        &path,
+        "UPDATE incident_facts SET cause_category = 99999 WHERE seq = 1",
+    );
     let (_, p) = problems(&path);
     assert!(p.contains(&refs[0]), "{p}");
     // stats refuse a number that names no value rather than guess
@@ -284,7 +304,10 @@ fn edits_behind_the_stores_back_reach_the_facts_too() {
     // the triggers are in the schema: plain SQL on incidents keeps the copy in step, so
     // verify reports the one real problem (the changed incident), not a second one
     let (_d, path, _) = setup();
-    tamper(&path, "UPDATE incidents SET stress_pa = 123.0 WHERE seq = 2");
+    tamper(
+        &path,
+        "UPDATE incidents SET stress_pa = 123.0 WHERE seq = 2",
+    );
     let (n, p) = problems(&path);
     assert!(p.contains("listed stress"), "{p}");
     assert_eq!(n, 1, "{p}");

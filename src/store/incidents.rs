@@ -1694,19 +1694,17 @@ impl Store {
              FROM incident_facts {}",
             where_clause(&conds)
         );
-        let get = |r: &rusqlite::Row<'_>, k: usize, map: &ValueTable| {
-            match r.get_ref(k)? {
-                rusqlite::types::ValueRef::Null => Ok(None),
-                rusqlite::types::ValueRef::Integer(n) => match map.get(n) {
-                    Some(v) => Ok(v.clone()),
-                    None => Err(bad_col(
-                        k,
-                        "a number listed in fleet_values (run verify)",
-                        &n.to_string(),
-                    )),
-                },
-                _ => Err(bad_col(k, "a fleet value number", "another type")),
-            }
+        let get = |r: &rusqlite::Row<'_>, k: usize, map: &ValueTable| match r.get_ref(k)? {
+            rusqlite::types::ValueRef::Null => Ok(None),
+            rusqlite::types::ValueRef::Integer(n) => match map.get(n) {
+                Some(v) => Ok(v.clone()),
+                None => Err(bad_col(
+                    k,
+                    "a number listed in fleet_values (run verify)",
+                    &n.to_string(),
+                )),
+            },
+            _ => Err(bad_col(k, "a fleet value number", "another type")),
         };
         let mut stmt = self.conn.prepare(&sql)?;
         let mut rows = stmt.query(params_from_iter(args.iter()))?;
