@@ -131,7 +131,12 @@ fn create_owner_only(path: &Path) -> std::io::Result<()> {
         use std::os::unix::fs::OpenOptionsExt;
         o.mode(0o600);
     }
-    o.open(path).map(|_| ())
+    match o.open(path) {
+        Ok(_) => Ok(()),
+        // made meanwhile by another process: SQLite opens (and checks) it as it is
+        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => Ok(()),
+        Err(e) => Err(e),
+    }
 }
 
 /// Open read-only and immutable (no WAL index, no locks): for a database in a folder the
