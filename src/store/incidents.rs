@@ -1622,7 +1622,7 @@ impl Store {
             }
             None => TextPlan::IndexDrives,
         };
-        let (from, where_sql, mut args) = filter_sql_with(&self.conn, filter, plan)?;
+        let (from, where_sql, mut args) = filter_sql(&self.conn, filter, plan)?;
         let (order_cols, key_exprs): (&str, Vec<&str>) = match sort.column {
             SortColumn::Found => ("i.found_on {d}, i.seq {d}", vec!["i.found_on"]),
             SortColumn::Reference => ("i.reference {d}, i.seq {d}", vec!["i.reference"]),
@@ -1741,7 +1741,7 @@ impl Store {
             // every text-index row belongs to one incident (kept in step on every write)
             text_hits
         } else if page.with_total {
-            let (from, where_sql, args) = filter_sql(&self.conn, filter)?;
+            let (from, where_sql, args) = filter_sql(&self.conn, filter, TextPlan::IndexDrives)?;
             let sql = format!("SELECT count(*) FROM {from} {}", where_clause(&where_sql));
             let n: i64 = self
                 .conn
@@ -1794,7 +1794,7 @@ impl Store {
 
     /// Ids of all incidents matching a filter, in date-found order (exports, reports).
     pub fn matching_ids(&self, filter: &Filter) -> Result<Vec<String>, StoreError> {
-        let (from, conds, args) = filter_sql(&self.conn, filter)?;
+        let (from, conds, args) = filter_sql(&self.conn, filter, TextPlan::IndexDrives)?;
         let sql = format!(
             "SELECT i.id FROM {from} {} ORDER BY i.found_on, i.seq",
             where_clause(&conds)
@@ -1816,7 +1816,7 @@ impl Store {
         let lots = self.code_map("SELECT id, code FROM lots")?;
         let sites = self.code_map("SELECT id, code FROM sites")?;
         let asset_types = self.code_map("SELECT id, asset_type FROM assets")?;
-        let (from, conds, args) = filter_sql(&self.conn, filter)?;
+        let (from, conds, args) = filter_sql(&self.conn, filter, TextPlan::IndexDrives)?;
         let sql = format!(
             "SELECT i.id, i.reference, i.cause_category, i.cause_confidence, i.origin_type,
                     i.supplier_id, i.product_id, i.lot_id, i.site_id, i.asset_id, i.temper,
@@ -2224,13 +2224,6 @@ fn choose_text_plan(hits: u64, rows: u64, limit: u64) -> TextPlan {
 }
 
 fn filter_sql(
-    conn: &Connection,
-    f: &Filter,
-) -> Result<(&'static str, Vec<String>, Vec<SqlValue>), StoreError> {
-    filter_sql_with(conn, f, TextPlan::IndexDrives)
-}
-
-fn filter_sql_with(
     conn: &Connection,
     f: &Filter,
     plan: TextPlan,
