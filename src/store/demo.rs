@@ -906,11 +906,14 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     // second thread, in the same order as before; this thread writes them. The output is the
     // same as a single-threaded run: every key, draw and row comes in the same sequence.
     let store_ids = &mut store.ids;
-    let (to_writer, from_maker) = std::sync::mpsc::sync_channel::<Prepared>(512);
+    // batches, not single incidents: fewer wake-ups between the threads
+    const BATCH: usize = 256;
+    let (to_writer, from_maker) = std::sync::mpsc::sync_channel::<Vec<Prepared>>(4);
     let mut written = 0u64;
     std::thread::scope(|scope| -> Result<(), StoreError> {
         let maker = scope.spawn(|| -> Result<(), StoreError> {
             let to_writer = to_writer;
+            let mut batch = Vec::with_capacity(BATCH);
             for plan in &plans {
                 let slot = &world.slots[plan.slot];
                 let pdef = &PRODUCTS[slot.product];
@@ -1180,19 +1183,27 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
                     product: Some(pid.clone()),
                     lot: lot_ids.get(&(slot.product, slot.lot.clone())).cloned(),
                 };
-                let prepared = prepare(inc, refs, stamp)?;
-                if to_writer.send(prepared).is_err() {
-                    break; // the writer stopped on an error: it reports it
+                batch.push(prepare(inc, refs, stamp)?);
+                if batch.len() == BATCH {
+                    let full = std::mem::replace(&mut batch, Vec::with_capacity(BATCH));
+                    if to_writer.send(full).is_err() {
+                        return Ok(()); // the writer stopped on an error: it reports it
+                    }
                 }
+            }
+            if !batch.is_empty() {
+                let _ = to_writer.send(batch); // a stopped writer reports its own error
             }
             Ok(())
         });
         let mut write = || -> Result<(), StoreError> {
-            for p in from_maker.iter() {
-                let batch = (!per_record).then_some(&mut bulk);
-                insert_prepared(&tx, &mut chain, &p, batch)?;
-                written += 1;
-                last_stamp = p.stamp;
+            for prepared in from_maker.iter() {
+                for p in prepared {
+                    let batch = (!per_record).then_some(&mut bulk);
+                    insert_prepared(&tx, &mut chain, &p, batch)?;
+                    written += 1;
+                    last_stamp = p.stamp;
+                }
             }
             Ok(())
         };
