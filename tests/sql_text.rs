@@ -29,6 +29,7 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("incidents.rs", "i.lot_id IN ({})", "one '?' placeholder per resolved lot id"),
     ("incidents.rs", "{stress_col}{columns} FROM incident_facts", "stress_col: one of two literal column names by the FleetStress enum; columns: names from the COLUMNS constant; where_clause of fixed condition texts"),
     ("demo.rs", "DROP INDEX \"{}\"", "index names read from sqlite_master (the schema's own), quotes removed"),
+    ("demo.rs", "DROP TRIGGER \"{}\"", "trigger names read from sqlite_master (the schema's own), quotes removed"),
     ("sqlite.rs", "PRAGMA user_version = {v}", "v: an i64 schema version from the migration table in the code"),
     ("sqlite.rs", "PRAGMA application_id = {APPLICATION_ID}", "a constant"),
     ("sqlite.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),

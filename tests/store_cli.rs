@@ -399,3 +399,46 @@ fn demo_history_is_consistent_in_time() {
     assert!(times.len() > 10);
     assert!(times.windows(2).all(|w| w[0] <= w[1]));
 }
+
+/// The demo loads without the fleet-facts triggers and fills the copy at the end: the copy
+/// matches the incidents (verify), and the triggers are back, so a later edit is followed.
+#[test]
+fn demo_fleet_facts_are_filled_and_kept_after_the_load() {
+    use shardlog::store::{demo, Stamp, Store};
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("d.db");
+    demo::generate(
+        &db,
+        &demo::DemoOptions {
+            incidents: 300,
+            seed: 11,
+        },
+    )
+    .unwrap();
+    let conn = rusqlite::Connection::open(&db).unwrap();
+    let count = |sql: &str| -> i64 { conn.query_row(sql, [], |r| r.get(0)).unwrap() };
+    assert_eq!(
+        count(
+            "SELECT count(*) FROM sqlite_master WHERE type = 'trigger' AND tbl_name = 'incidents'"
+        ),
+        3
+    );
+    assert_eq!(count("SELECT count(*) FROM incident_facts"), 300);
+    let mut store = Store::open_existing(&db).unwrap();
+    assert!(store.verify().unwrap().ok());
+    let first = store.matching_ids(&Default::default()).unwrap()[0].clone();
+    let mut inc = store.get(&first).unwrap();
+    inc.found_on = inc.found_on - chrono::Days::new(1);
+    let stamp = Stamp::new("tester", chrono::Utc::now());
+    store.update_incident(&inc, &stamp).unwrap();
+    let r = store.verify().unwrap();
+    assert!(r.ok(), "{:?}", r.first_problem);
+    let on: String = conn
+        .query_row(
+            "SELECT f.found_on FROM incident_facts f JOIN incidents i ON i.seq = f.seq WHERE i.id = ?1",
+            [&first],
+            |r| r.get(0),
+        )
+        .unwrap();
+    assert_eq!(on, inc.found_on.to_string());
+}

@@ -744,11 +744,25 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
         rows.collect::<Result<_, _>>()?
     };
+    // the fleet statistics' copy (incident_facts) is kept by triggers on every write; the
+    // bulk load drops them and fills the copy in one pass at the end, as the migration does
+    let triggers: Vec<(String, String)> = {
+        let mut stmt = store.conn.prepare(
+            "SELECT name, sql FROM sqlite_master WHERE type = 'trigger' AND sql IS NOT NULL
+             AND tbl_name = 'incidents'",
+        )?;
+        let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
+        rows.collect::<Result<_, _>>()?
+    };
     let mut summary = DemoSummary::default();
     let tx = store.conn.transaction()?;
     for (name, _) in &indexes {
         // names come from sqlite_master, not from a user
         tx.execute_batch(&format!("DROP INDEX \"{}\"", name.replace('"', "")))?;
+    }
+    for (name, _) in &triggers {
+        // names come from sqlite_master, not from a user
+        tx.execute_batch(&format!("DROP TRIGGER \"{}\"", name.replace('"', "")))?;
     }
     let mut chain = Chain::load(&tx)?;
     let ms = setup_stamp.at.timestamp_millis();
@@ -1217,6 +1231,10 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     summary.incidents += written;
     bulk.flush(&tx, &mut chain, &last_stamp)?;
     chain.finish(&tx)?;
+    super::incidents::fill_fleet_facts(&tx)?;
+    for (_, sql) in &triggers {
+        tx.execute_batch(sql)?;
+    }
     for (_, sql) in &indexes {
         tx.execute_batch(sql)?;
     }
