@@ -298,17 +298,17 @@ fn group_months<'a>(
             };
             Ok((
                 format!(
-                    "{name}: {flag} · rate ×{} per year (95 % {}–{}), p = {}, Holm-adjusted over {} \
-                     groups {} · g: whole fleet",
+                    "{name}: {flag} · rate ×{} per year (95 % {}–{}), p = {}, Holm-adjusted p = {} \
+                     over {} groups · g: whole fleet",
                     fmt_sig(t.ratio_per_year, 3),
                     fmt_sig(t.ratio_ci95.low, 2),
                     fmt_sig(t.ratio_ci95.high, 2),
                     fmt_sig(t.p_value, 2),
+                    g.p_adjusted.map_or("—".to_string(), |p| fmt_sig(p, 2)),
                     d.group_trends
                         .iter()
                         .filter(|g| matches!(g, Some(x) if x.trend.is_ok()))
                         .count(),
-                    g.p_adjusted.map_or("—".to_string(), |p| fmt_sig(p, 2)),
                 ),
                 g.rising,
                 t.months.as_slice(),
