@@ -274,17 +274,12 @@ impl ReviewState {
         };
         match self.panel {
             Panel::Causes => {
-                let row = d.causes.rows.get(i).ok_or("no cause to open")?;
-                for (k, v) in d.causes.keys.iter().zip(&row.values) {
-                    apply_value(&mut f, *k, v, &d.window)?;
-                }
+                let row =
+                    apply_row(&mut f, &d.causes, i, &d.window).ok_or("no cause to open")??;
                 Ok((f, row.count, row.key.join(" · ")))
             }
             Panel::Groups => {
-                let row = d.table.rows.get(i).ok_or("no group to open")?;
-                for (k, v) in d.table.keys.iter().zip(&row.values) {
-                    apply_value(&mut f, *k, v, &d.window)?;
-                }
+                let row = apply_row(&mut f, &d.table, i, &d.window).ok_or("no group to open")??;
                 Ok((f, row.count, row.key.join(" · ")))
             }
             Panel::Months => {
@@ -299,10 +294,8 @@ impl ReviewState {
                 }
                 // the panel charts the group highlighted on Groups: open its month only
                 let gi = self.selected_in(Panel::Groups);
-                let row = d.table.rows.get(gi).ok_or("no group to open")?;
-                for (k, v) in d.table.keys.iter().zip(&row.values) {
-                    apply_value(&mut f, *k, v, &d.window)?;
-                }
+                let row =
+                    apply_row(&mut f, &d.table, gi, &d.window).ok_or("no group to open")??;
                 let count = d
                     .group_trends
                     .get(gi)
@@ -322,6 +315,22 @@ impl ReviewState {
             ),
         }
     }
+}
+
+/// Narrow a log filter to row `i` of a group table: `None` when there is no such row.
+fn apply_row<'a>(
+    f: &mut Filter,
+    table: &'a GroupTable,
+    i: usize,
+    window: &Window,
+) -> Option<Result<&'a crate::fleet::GroupRow, String>> {
+    let row = table.rows.get(i)?;
+    for (k, v) in table.keys.iter().zip(&row.values) {
+        if let Err(e) = apply_value(f, *k, v, window) {
+            return Some(Err(e));
+        }
+    }
+    Some(Ok(row))
 }
 
 /// Narrow a log filter to one group value.
@@ -419,11 +428,9 @@ fn compute(
     .map_err(|e| e.to_string())?;
     // the chart ranks the causes found; incidents without a cause yet (a backlog, not a
     // cause) come last whatever their count, as a Pareto chart puts "other" last
-    causes.rows.sort_by_key(|g| {
-        g.values
-            .iter()
-            .all(|v| matches!(v, crate::fleet::group::GroupValue::Text(None)))
-    });
+    causes
+        .rows
+        .sort_by_key(|g| g.values.iter().all(|v| matches!(v, GroupValue::Text(None))));
     let dates: Vec<NaiveDate> = incidents
         .iter()
         .map(|f| f.found)

@@ -665,6 +665,15 @@ fn lot_rate(
     }))
 }
 
+/// "v (a to b)" with the 95 % interval, "v" without one, `missing` without a value.
+fn with_interval(v: Option<f64>, ci: Option<[f64; 2]>, missing: &str) -> String {
+    match (v, ci) {
+        (Some(v), Some([a, b])) => format!("{} ({} to {})", fmt3(v), fmt3(a), fmt3(b)),
+        (Some(v), None) => fmt3(v),
+        _ => missing.to_string(),
+    }
+}
+
 fn mpa(v: f64) -> String {
     format!("{} MPa", fmt3(v))
 }
@@ -765,16 +774,8 @@ pub fn cover_document(c: &BundleContent) -> Document {
             name,
             r.incidents.to_string(),
             opt(r.pane_years, fmt3),
-            match (r.rate_per_1000, r.rate_ci95) {
-                (Some(v), Some([a, b])) => format!("{} ({} to {})", fmt3(v), fmt3(a), fmt3(b)),
-                (Some(v), None) => fmt3(v),
-                _ => "no exposure recorded".into(),
-            },
-            match (r.ratio, r.ratio_ci95) {
-                (Some(v), Some([a, b])) => format!("{} ({} to {})", fmt3(v), fmt3(a), fmt3(b)),
-                (Some(v), None) => fmt3(v),
-                _ => "not available".into(),
-            },
+            with_interval(r.rate_per_1000, r.rate_ci95, "no exposure recorded"),
+            with_interval(r.ratio, r.ratio_ci95, "not available"),
             opt(r.p_adjusted, |p| units::fmt_sig(p, 2)),
             if r.flagged { "yes" } else { "no" }.into(),
         ]);
@@ -810,21 +811,9 @@ pub fn cover_document(c: &BundleContent) -> Document {
             t.row(vec![
                 r.cause.clone(),
                 r.incidents.to_string(),
-                match (r.rate_per_1000, r.rate_ci95) {
-                    (Some(v), Some([a, b])) => {
-                        format!("{} ({} to {})", fmt3(v), fmt3(a), fmt3(b))
-                    }
-                    (Some(v), None) => fmt3(v),
-                    _ => "no exposure recorded".into(),
-                },
+                with_interval(r.rate_per_1000, r.rate_ci95, "no exposure recorded"),
                 format!("{}, {}", r.rest_incidents, opt(r.rest_rate_per_1000, fmt3)),
-                match (r.ratio, r.ratio_ci95) {
-                    (Some(v), Some([a, b])) => {
-                        format!("{} ({} to {})", fmt3(v), fmt3(a), fmt3(b))
-                    }
-                    (Some(v), None) => fmt3(v),
-                    _ => "not available".into(),
-                },
+                with_interval(r.ratio, r.ratio_ci95, "not available"),
                 opt(r.p_adjusted, |p| units::fmt_sig(p, 2)),
                 if r.flagged { "yes" } else { "no" }.into(),
             ]);
