@@ -525,3 +525,135 @@ fn a_lot_claim_compares_the_lot_cause_by_cause() {
     let (code, text) = verify(&db, &dir);
     assert_eq!(code, 0, "{text}");
 }
+
+/// The figures of the cover's comparisons, recomputed by other commands over the same
+/// window: every supplier's count, pane-years, rate and rate ratio (with intervals and the
+/// Holm-adjusted p) as `stats --by supplier --rates` gives them, each count as `list` reads it
+/// from the incidents, and the claimed lot's all-causes row as `stats --by lot --rates` gives
+/// it (the demo's lot codes are unique across suppliers, so "supplier/lot" groups as the lot).
+#[test]
+fn the_cover_comparison_matches_stats_and_list_over_the_window() {
+    let tmp = tempfile::tempdir().unwrap();
+    let db = tmp.path().join("demo.db");
+    shardlog::store::demo::generate(
+        &db,
+        &shardlog::store::demo::DemoOptions {
+            incidents: shardlog::store::demo::DEFAULT_INCIDENTS,
+            seed: shardlog::store::demo::DEFAULT_SEED,
+        },
+    )
+    .unwrap();
+    let code_of: std::collections::HashMap<String, String> =
+        shardlog::store::Store::open_existing(&db)
+            .unwrap()
+            .suppliers()
+            .unwrap()
+            .into_iter()
+            .map(|s| (s.name, s.code))
+            .collect();
+    let json = |args: &[&str]| -> serde_json::Value {
+        let o = shardlog(&db, args);
+        assert!(
+            o.status.success(),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        serde_json::from_slice(&o.stdout).unwrap()
+    };
+    let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * a.abs().max(b.abs()).max(1e-300);
+    let same = |a: &Option<f64>, b: &serde_json::Value| match a {
+        Some(v) => b.as_f64().is_some_and(|w| close(*v, w)),
+        None => b.is_null(),
+    };
+    let same_ci = |a: &Option<[f64; 2]>, b: &serde_json::Value| match a {
+        Some([lo, hi]) => same(&Some(*lo), &b[0]) && same(&Some(*hi), &b[1]),
+        None => b.is_null(),
+    };
+    // (claim, window): with both ends, and with an open start (the earliest record)
+    let cases: [(&[&str], &[&str]); 2] = [
+        (
+            &["--supplier", "KESTREL"],
+            &["--since", "2024-01-01", "--until", "2025-06-30"],
+        ),
+        (
+            &["--supplier", "BRELLIN", "--lot", "BS-2207"],
+            &["--until", "2026-06-30"],
+        ),
+    ];
+    for (n, (claim, window)) in cases.iter().enumerate() {
+        let dir = tmp.path().join(format!("claim-{n}"));
+        let mut args = vec!["dispute"];
+        args.extend_from_slice(claim);
+        args.extend_from_slice(window);
+        args.extend_from_slice(&["-o", dir.to_str().unwrap()]);
+        let o = shardlog(&db, &args);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let cover = read_bundle(&dir).content.cover;
+        let mut stats_args = vec!["stats", "--by", "supplier", "--rates", "--json"];
+        stats_args.extend_from_slice(window);
+        let stats = json(&stats_args);
+        assert_eq!(
+            stats["window"]["since"].as_str(),
+            Some(cover.window_since.to_string().as_str()),
+            "{:?}",
+            stats["window"]
+        );
+        let groups = stats["groups"].as_array().unwrap();
+        assert_eq!(cover.rates.len(), groups.len());
+        assert!(cover.rates.len() >= 4, "{:?}", cover.rates);
+        for r in &cover.rates {
+            let code = &code_of[&r.supplier];
+            let g = groups
+                .iter()
+                .find(|g| g["key"][0].as_str() == Some(code))
+                .unwrap_or_else(|| panic!("stats has no group {code}"));
+            let what = format!("{code} over {window:?}: {r:?} against {g}");
+            assert_eq!(Some(r.incidents), g["count"].as_u64(), "{what}");
+            assert!(same(&r.pane_years, &g["pane_years"]), "{what}");
+            assert!(
+                same(&r.rate_per_1000, &g["rate_per_1000_pane_years"]),
+                "{what}"
+            );
+            assert!(same_ci(&r.rate_ci95, &g["rate_ci95"]), "{what}");
+            assert!(same(&r.ratio, &g["rate_ratio"]), "{what}");
+            assert!(same_ci(&r.ratio_ci95, &g["rate_ratio_ci95"]), "{what}");
+            assert!(same(&r.p_adjusted, &g["p_adjusted"]), "{what}");
+            assert_eq!(Some(r.flagged), g["flagged"].as_bool(), "{what}");
+            // the count once more, from the incidents themselves
+            let mut list_args = vec!["list", "--supplier", code, "--limit", "10000", "--json"];
+            list_args.extend_from_slice(window);
+            let listed = json(&list_args);
+            assert_eq!(
+                r.incidents as usize,
+                listed.as_array().unwrap().len(),
+                "{what}"
+            );
+        }
+        if let Some(i) = claim.iter().position(|a| *a == "--lot") {
+            let lot = claim[i + 1];
+            let lr = cover.lot_rate.as_ref().expect("a lot rate");
+            let mut stats_args = vec!["stats", "--by", "lot", "--rates", "--json"];
+            stats_args.extend_from_slice(window);
+            let stats = json(&stats_args);
+            let g = stats["groups"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .find(|g| g["key"][0].as_str() == Some(lot))
+                .expect("stats has the lot")
+                .clone();
+            let all = &lr.rows[0];
+            let what = format!("lot {lot}: {all:?} against {g}");
+            assert_eq!(Some(all.incidents), g["count"].as_u64(), "{what}");
+            assert!(same(&Some(lr.pane_years), &g["pane_years"]), "{what}");
+            assert!(
+                same(&all.rate_per_1000, &g["rate_per_1000_pane_years"]),
+                "{what}"
+            );
+            assert!(same_ci(&all.rate_ci95, &g["rate_ci95"]), "{what}");
+            assert!(same(&all.ratio, &g["rate_ratio"]), "{what}");
+            assert!(same(&all.p_adjusted, &g["p_adjusted"]), "{what}");
+            assert_eq!(Some(all.rest_incidents), g["rest_count"].as_u64(), "{what}");
+        }
+    }
+}

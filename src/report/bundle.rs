@@ -17,6 +17,7 @@
 
 use std::collections::{BTreeMap, BTreeSet, HashMap};
 use std::path::{Path, PathBuf};
+use std::rc::Rc;
 use std::sync::Arc;
 
 use chrono::NaiveDate;
@@ -400,29 +401,33 @@ fn cover(
             .map(|i| format!("{} · {}", lot_of(i), cause_of(i))),
     );
 
-    // the whole fleet in the window, for the comparison with other suppliers
-    let all_rows = s.fleet_rows(&Filter {
-        since: opts.since,
-        until: opts.until,
-        ..Filter::default()
-    })?;
+    // the whole fleet in the window, for the comparison with other suppliers: the narrow
+    // copy of the facts, with only the keys the comparison groups by (the supplier; with a
+    // lot, the lot and the cause too)
+    let keys: &[fleet::Key] = match opts.lot {
+        Some(_) => &[fleet::Key::Supplier, fleet::Key::Lot, fleet::Key::Cause],
+        None => &[fleet::Key::Supplier],
+    };
+    let mut facts = s.fleet_facts(
+        opts.since,
+        opts.until,
+        store::FleetStress::Applied,
+        Some(keys),
+    )?;
     let exposure = s.exposure()?;
-    let earliest = all_rows
+    let earliest = facts
         .iter()
-        .map(|r| r.found_on)
+        .map(|f| f.found)
         .chain(exposure.iter().map(|e| e.installed_on))
         .min()
         .unwrap_or(opts.today);
     let since = opts.since.unwrap_or(earliest);
     let until = opts.until.unwrap_or(opts.today).max(since);
     let window = fleet::Window::new(since, until).map_err(|e| BundleError::Usage(e.to_string()))?;
-    let facts: Vec<fleet::IncidentFacts> = all_rows
-        .iter()
-        .map(|r| {
-            let stress = r.applied_stress_pa.filter(|v| v.is_finite() && *v > 0.0);
-            r.clone().into_facts(stress)
-        })
-        .collect();
+    // the Weibull fit takes positive applied stresses only
+    for f in &mut facts {
+        f.stress_pa = f.stress_pa.filter(|v| v.is_finite() && *v > 0.0);
+    }
     let exposures: Vec<fleet::Exposure> = exposure.iter().map(|e| e.to_fleet()).collect();
     let table = fleet::group(
         &facts,
@@ -509,7 +514,7 @@ fn cover(
         }
     }
     let lot_rate = match &opts.lot {
-        Some(lot) => lot_rate(&facts, &exposures, window, sup, lot, labels)?,
+        Some(lot) => lot_rate(facts, &exposures, window, sup, lot, labels)?,
         None => None,
     };
     // with a lot, the claimed group is the lot itself
@@ -560,10 +565,10 @@ fn cover(
 }
 
 /// The claimed lot's rates against every other supplier × lot. Lot codes may repeat across
-/// suppliers, so the lot key is made "supplier/lot" before grouping; `None` when the lot has
-/// no panes in service recorded.
+/// suppliers, so the lot key is made "supplier/lot" before grouping (in place: the facts are
+/// not needed afterwards); `None` when the lot has no panes in service recorded.
 fn lot_rate(
-    facts: &[fleet::IncidentFacts],
+    mut facts: Vec<fleet::IncidentFacts>,
     exposures: &[fleet::Exposure],
     window: fleet::Window,
     sup: &store::Supplier,
@@ -574,14 +579,18 @@ fn lot_rate(
         (Some(s), Some(l)) => Some(format!("{s}/{l}")),
         _ => None,
     };
-    let facts: Vec<fleet::IncidentFacts> = facts
-        .iter()
-        .map(|f| {
-            let mut f = f.clone();
-            f.lot = joined(f.supplier.as_deref(), f.lot.as_deref()).map(Into::into);
-            f
-        })
-        .collect();
+    // a fleet has few supplier × lot pairs: make each joined text once and share it
+    let mut made: HashMap<(Rc<str>, Rc<str>), Rc<str>> = HashMap::new();
+    for f in &mut facts {
+        f.lot = match (&f.supplier, f.lot.take()) {
+            (Some(s), Some(l)) => Some(
+                made.entry((s.clone(), l))
+                    .or_insert_with_key(|(s, l)| format!("{s}/{l}").into())
+                    .clone(),
+            ),
+            _ => None,
+        };
+    }
     let exposures: Vec<fleet::Exposure> = exposures
         .iter()
         .map(|e| {
