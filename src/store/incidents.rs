@@ -515,8 +515,17 @@ pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepare
     })
 }
 
+impl Prepared {
+    /// The searchable text, for a caller that builds the text index itself
+    /// ([`insert_prepared`] leaves it out).
+    pub fn into_body(self) -> String {
+        self.body
+    }
+}
+
 /// [`insert_new`] of a [`Prepared`] incident: the same rows and the same audit (in a batch,
-/// or, without one, its own audit row with the full image).
+/// or, without one, its own audit row with the full image), except the text index: the
+/// caller adds `(seq, into_body())` to it (the demo builds it on another thread).
 pub(crate) fn insert_prepared(
     conn: &Connection,
     chain: &mut Chain,
@@ -524,7 +533,6 @@ pub(crate) fn insert_prepared(
     bulk: Option<&mut super::audit::Bulk>,
 ) -> Result<i64, StoreError> {
     let seq = write_rows(conn, &p.inc, &p.refs)?;
-    sqlite::fts_insert(conn, seq, &p.body)?;
     match bulk {
         Some(b) => b.add_digest(conn, chain, &p.stamp, &p.inc.id, p.digest.clone())?,
         None => {
