@@ -922,12 +922,13 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     let store_ids = &mut store.ids;
     // batches, not single incidents: fewer wake-ups between the threads
     const BATCH: usize = 256;
-    let (to_writer, from_maker) = std::sync::mpsc::sync_channel::<Vec<Prepared>>(4);
+    let (to_writer, from_maker) = std::sync::mpsc::sync_channel::<Vec<Box<Prepared>>>(4);
     // The text index is built on a third thread in a database of its own, in memory, made by
     // the same statement; its tables are copied in at the end (sqlite::fts_copy_index). The
     // index is the same as inserting every text here, in the same order.
     let text_sql = sqlite::fts_create_sql(&tx)?;
-    let (to_text, from_writer) = std::sync::mpsc::sync_channel::<Vec<(i64, String)>>(8);
+    // the text thread also drops what the writer is done with (freeing is not free)
+    let (to_text, from_writer) = std::sync::mpsc::sync_channel::<Vec<(i64, Box<Prepared>)>>(8);
     let mut written = 0u64;
     let text_index = std::thread::scope(|scope| -> Result<rusqlite::Connection, StoreError> {
         let texter = scope.spawn(move || -> Result<rusqlite::Connection, StoreError> {
@@ -935,8 +936,8 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
             aside.execute_batch(&text_sql)?;
             let atx = aside.unchecked_transaction()?;
             for batch in from_writer.iter() {
-                for (seq, body) in batch {
-                    sqlite::fts_insert(&atx, seq, &body)?;
+                for (seq, p) in batch {
+                    sqlite::fts_insert(&atx, seq, p.body())?;
                 }
             }
             atx.commit()?;
@@ -1214,7 +1215,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
                     product: Some(pid.clone()),
                     lot: lot_ids.get(&(slot.product, slot.lot.clone())).cloned(),
                 };
-                batch.push(prepare(inc, refs, stamp)?);
+                batch.push(Box::new(prepare(inc, refs, stamp)?));
                 if batch.len() == BATCH {
                     let full = std::mem::replace(&mut batch, Vec::with_capacity(BATCH));
                     if to_writer.send(full).is_err() {
@@ -1235,7 +1236,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
                     let seq = insert_prepared(&tx, &mut chain, &p, batch)?;
                     written += 1;
                     last_stamp = p.stamp.clone();
-                    texts.push((seq, p.into_body()));
+                    texts.push((seq, p));
                 }
                 if to_text.send(texts).is_err() {
                     break; // the text thread stopped on an error: it reports it

@@ -518,8 +518,8 @@ pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepare
 impl Prepared {
     /// The searchable text, for a caller that builds the text index itself
     /// ([`insert_prepared`] leaves it out).
-    pub fn into_body(self) -> String {
-        self.body
+    pub fn body(&self) -> &str {
+        &self.body
     }
 }
 
