@@ -26,6 +26,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0003_fleet_facts.sql",
         include_str!("../../schema/0003_fleet_facts.sql"),
     ),
+    (
+        "0004_search_contentless.sql",
+        include_str!("../../schema/0004_search_contentless.sql"),
+    ),
 ];
 
 /// The migration that makes `incident_facts`; the store fills it from the incidents
@@ -317,14 +321,26 @@ pub fn fts_create_sql(conn: &Connection) -> Result<String, StoreError> {
 }
 
 /// The tables in which FTS5 keeps the text index (`incident_text_data`, `_idx`, …), by name,
-/// with the statements that made them.
-fn fts_shadow_tables(conn: &Connection) -> Result<Vec<(String, String)>, StoreError> {
-    let mut stmt = conn.prepare(
-        "SELECT name, sql FROM sqlite_master WHERE type = 'table'
-         AND name LIKE 'incident\\_text\\_%' ESCAPE '\\' ORDER BY name",
-    )?;
-    let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
-    Ok(rows.collect::<Result<_, _>>()?)
+/// with their columns (name, type, key position).
+type ShadowTable = (String, Vec<(String, String, i64)>);
+fn fts_shadow_tables(conn: &Connection) -> Result<Vec<ShadowTable>, StoreError> {
+    let names: Vec<String> = {
+        let mut stmt = conn.prepare(
+            "SELECT name FROM sqlite_master WHERE type = 'table'
+             AND name LIKE 'incident\\_text\\_%' ESCAPE '\\' ORDER BY name",
+        )?;
+        let rows = stmt.query_map([], |r| r.get(0))?;
+        rows.collect::<Result<_, _>>()?
+    };
+    let mut out = Vec::with_capacity(names.len());
+    for name in names {
+        let mut stmt =
+            conn.prepare("SELECT name, type, pk FROM pragma_table_info(?1) ORDER BY cid")?;
+        let cols = stmt.query_map([&name], |r| Ok((r.get(0)?, r.get(1)?, r.get(2)?)))?;
+        let cols = cols.collect::<Result<_, _>>()?;
+        out.push((name, cols));
+    }
+    Ok(out)
 }
 
 /// Replace the text index of `dst` by the one built in `src` (a database whose text index was
