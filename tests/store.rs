@@ -94,6 +94,51 @@ fn migrates_from_every_earlier_version() {
     }
 }
 
+/// Schema 4 keeps only the text index (contentless FTS5 with deletes): the migration carries
+/// the words of existing incidents over, and an edit or a deletion takes the old words out.
+#[test]
+fn the_text_index_follows_migration_edit_and_deletion() {
+    let count = |s: &Store, word: &str| {
+        let f = Filter {
+            text: Some(word.into()),
+            ..Filter::default()
+        };
+        s.list(&f, Sort::default(), &PageRequest::default())
+            .unwrap()
+            .total
+    };
+    let mut s = Store::open_in_memory_at_version(3).unwrap();
+    let mut a = sample(day(2026, 3, 14));
+    a.description = "quartzite pebble struck the outboard face".into();
+    let a = s
+        .create_incident(&a, &stamp("2026-03-14T09:10:00Z"))
+        .unwrap();
+    let mut b = sample(day(2026, 3, 15));
+    b.description = "quartzite dust in the edge chip".into();
+    let b = s
+        .create_incident(&b, &stamp("2026-03-15T09:10:00Z"))
+        .unwrap();
+    assert_eq!(count(&s, "quartzite"), Some(2));
+    s.migrate().unwrap();
+    assert_eq!(s.schema_version().unwrap(), SCHEMA_VERSION);
+    assert_eq!(count(&s, "quartzite"), Some(2));
+    assert_eq!(count(&s, "pebble"), Some(1));
+    // an edit replaces the incident's words
+    let mut a2 = a.clone();
+    a2.description = "ballast strike on the outboard face".into();
+    s.update_incident(&a2, &stamp("2026-03-16T09:10:00Z"))
+        .unwrap();
+    assert_eq!(count(&s, "pebble"), Some(0));
+    assert_eq!(count(&s, "ballast"), Some(1));
+    assert_eq!(count(&s, "quartzite"), Some(1));
+    // a deletion takes them out
+    s.delete_incident(&b.reference, b.revision, &stamp("2026-03-17T09:10:00Z"))
+        .unwrap();
+    assert_eq!(count(&s, "quartzite"), Some(0));
+    assert_eq!(count(&s, "outboard"), Some(1));
+    assert!(s.verify().unwrap().ok());
+}
+
 #[test]
 fn create_get_round_trip_and_reference() {
     let mut s = Store::open_in_memory().unwrap();

@@ -193,16 +193,33 @@ impl Bulk {
         if self.records.is_empty() {
             return Ok(());
         }
-        let manifest = serde_json::json!({
-            "entity": self.entity,
-            "records": self.records.iter().map(|(i, d)| serde_json::json!([i, d])).collect::<Vec<_>>(),
-        });
-        let text = canon::canonical_value(&manifest);
+        let text = manifest_text(self.entity, &self.records);
         let id = self.ids.uuid_v7(stamp.at.timestamp_millis());
         chain.record(conn, stamp, BATCH, &id, None, Some(&text))?;
         self.records.clear();
         Ok(())
     }
+}
+
+/// The canonical text of a bulk-load manifest, `{"entity":E,"records":[[id,digest],…]}`,
+/// written directly (the same text as `canon::canonical_value` of that JSON; a test checks).
+fn manifest_text(entity: &str, records: &[(String, String)]) -> String {
+    let mut out = String::with_capacity(32 + records.len() * 112);
+    out.push_str("{\"entity\":");
+    canon::write_str(entity, &mut out);
+    out.push_str(",\"records\":[");
+    for (k, (id, digest)) in records.iter().enumerate() {
+        if k > 0 {
+            out.push(',');
+        }
+        out.push('[');
+        canon::write_str(id, &mut out);
+        out.push(',');
+        canon::write_str(digest, &mut out);
+        out.push(']');
+    }
+    out.push_str("]}");
+    out
 }
 
 /// (entity, id, image digest) of each record in a bulk-load manifest.
@@ -592,6 +609,27 @@ impl Store {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_manifest_is_written_as_its_canonical_json() {
+        for records in [
+            vec![],
+            vec![("a".to_string(), "0f".to_string())],
+            vec![
+                ("0190-x".to_string(), "ab".repeat(16)),
+                ("odd \"id\"\n".to_string(), "\\".to_string()),
+            ],
+        ] {
+            let v = serde_json::json!({
+                "entity": "incident",
+                "records": records.iter().map(|(i, d)| serde_json::json!([i, d])).collect::<Vec<_>>(),
+            });
+            assert_eq!(
+                manifest_text("incident", &records),
+                canon::canonical_value(&v)
+            );
+        }
+    }
 
     #[test]
     fn time_format_round_trips() {

@@ -109,7 +109,7 @@ fn write_float(f: f64, out: &mut String) {
     let _ = write!(out, "\"f64:{:016x}\"", f.to_bits());
 }
 
-fn write_str(s: &str, out: &mut String) {
+pub(crate) fn write_str(s: &str, out: &mut String) {
     let bytes = s.as_bytes();
     // most texts (and every key) need no escape: one check without early exit, one copy
     if !bytes.iter().fold(false, |acc, &b| {

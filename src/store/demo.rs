@@ -922,9 +922,27 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     let store_ids = &mut store.ids;
     // batches, not single incidents: fewer wake-ups between the threads
     const BATCH: usize = 256;
-    let (to_writer, from_maker) = std::sync::mpsc::sync_channel::<Vec<Prepared>>(4);
+    let (to_writer, from_maker) = std::sync::mpsc::sync_channel::<Vec<Box<Prepared>>>(4);
+    // The text index is built on a third thread in a database of its own, in memory, made by
+    // the same statement; its tables are copied in at the end (sqlite::fts_copy_index). The
+    // index is the same as inserting every text here, in the same order.
+    let text_sql = sqlite::fts_create_sql(&tx)?;
+    // the text thread also drops what the writer is done with (freeing is not free)
+    let (to_text, from_writer) = std::sync::mpsc::sync_channel::<Vec<(i64, Box<Prepared>)>>(8);
     let mut written = 0u64;
-    std::thread::scope(|scope| -> Result<(), StoreError> {
+    let text_index = std::thread::scope(|scope| -> Result<rusqlite::Connection, StoreError> {
+        let texter = scope.spawn(move || -> Result<rusqlite::Connection, StoreError> {
+            let aside = rusqlite::Connection::open_in_memory()?;
+            aside.execute_batch(&text_sql)?;
+            let atx = aside.unchecked_transaction()?;
+            for batch in from_writer.iter() {
+                for (seq, p) in batch {
+                    sqlite::fts_insert(&atx, seq, p.body())?;
+                }
+            }
+            atx.commit()?;
+            Ok(aside)
+        });
         let maker = scope.spawn(|| -> Result<(), StoreError> {
             let to_writer = to_writer;
             let mut batch = Vec::with_capacity(BATCH);
@@ -1197,7 +1215,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
                     product: Some(pid.clone()),
                     lot: lot_ids.get(&(slot.product, slot.lot.clone())).cloned(),
                 };
-                batch.push(prepare(inc, refs, stamp)?);
+                batch.push(Box::new(prepare(inc, refs, stamp)?));
                 if batch.len() == BATCH {
                     let full = std::mem::replace(&mut batch, Vec::with_capacity(BATCH));
                     if to_writer.send(full).is_err() {
@@ -1212,22 +1230,34 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         });
         let mut write = || -> Result<(), StoreError> {
             for prepared in from_maker.iter() {
+                let mut texts = Vec::with_capacity(prepared.len());
                 for p in prepared {
                     let batch = (!per_record).then_some(&mut bulk);
-                    insert_prepared(&tx, &mut chain, &p, batch)?;
+                    let seq = insert_prepared(&tx, &mut chain, &p, batch)?;
                     written += 1;
-                    last_stamp = p.stamp;
+                    last_stamp = p.stamp.clone();
+                    texts.push((seq, p));
+                }
+                if to_text.send(texts).is_err() {
+                    break; // the text thread stopped on an error: it reports it
                 }
             }
             Ok(())
         };
         let wrote = write();
         drop(from_maker); // lets a maker blocked on a full channel finish
+        drop(to_text); // the text thread finishes its index
         let made = maker
             .join()
             .map_err(|_| StoreError::Database("the demo generator thread panicked".into()))?;
-        wrote.and(made)
+        let text = texter
+            .join()
+            .map_err(|_| StoreError::Database("the demo text-index thread panicked".into()))?;
+        wrote.and(made)?;
+        text
     })?;
+    sqlite::fts_copy_index(&text_index, &tx)?;
+    drop(text_index);
     summary.incidents += written;
     bulk.flush(&tx, &mut chain, &last_stamp)?;
     chain.finish(&tx)?;
@@ -1239,10 +1269,94 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         tx.execute_batch(sql)?;
     }
     tx.commit()?;
+    // a fresh connection: this one may hold the text index's layout from before the copy
+    drop(store);
+    let store = Store::open(tmp)?;
     store
         .conn
         .execute_batch("PRAGMA journal_mode = DELETE; ANALYZE;")?;
     sqlite::set_file_pragmas(&store.conn)?;
     store.conn.execute_batch("PRAGMA optimize;")?;
     Ok(summary)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Every row of FTS5's own tables of the text index, in order.
+    fn text_index_rows(conn: &rusqlite::Connection) -> Vec<(String, Vec<rusqlite::types::Value>)> {
+        let names: Vec<String> = conn
+            .prepare(
+                "SELECT name FROM sqlite_master WHERE type = 'table'
+                 AND name LIKE 'incident\\_text\\_%' ESCAPE '\\' ORDER BY name",
+            )
+            .unwrap()
+            .query_map([], |r| r.get(0))
+            .unwrap()
+            .collect::<Result<_, _>>()
+            .unwrap();
+        assert!(names.len() >= 3, "{names:?}");
+        let mut out = Vec::new();
+        for n in names {
+            let mut stmt = conn.prepare(&format!("SELECT * FROM \"{n}\"")).unwrap();
+            let cols = stmt.column_count();
+            let mut rows = stmt.query([]).unwrap();
+            while let Some(r) = rows.next().unwrap() {
+                let v = (0..cols).map(|i| r.get(i).unwrap()).collect();
+                out.push((n.clone(), v));
+            }
+        }
+        out
+    }
+
+    /// The demo builds its text index on another thread and copies FTS5's tables in: the
+    /// result must be the very index that inserting each incident's text here gives.
+    #[test]
+    fn the_text_index_built_aside_is_the_one_built_in_place() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = dir.path().join("d.db");
+        generate(
+            &db,
+            &DemoOptions {
+                incidents: 600,
+                seed: 7,
+            },
+        )
+        .unwrap();
+        let demo = rusqlite::Connection::open(&db).unwrap();
+        let in_place = rusqlite::Connection::open_in_memory().unwrap();
+        in_place
+            .execute_batch(&sqlite::fts_create_sql(&demo).unwrap())
+            .unwrap();
+        // one transaction, as the demo writes it
+        in_place.execute_batch("BEGIN").unwrap();
+        let mut n = 0;
+        super::super::incidents::for_each_incident(&demo, |inc, _| {
+            let seq: i64 = demo
+                .query_row("SELECT seq FROM incidents WHERE id = ?1", [&inc.id], |r| {
+                    r.get(0)
+                })
+                .unwrap();
+            let body = super::super::incidents::search_body(&inc);
+            n += 1;
+            sqlite::fts_insert(&in_place, seq, &body)
+        })
+        .unwrap();
+        in_place.execute_batch("COMMIT").unwrap();
+        assert_eq!(n, 600);
+        let (a, b) = (text_index_rows(&demo), text_index_rows(&in_place));
+        assert!(a.len() > 600, "{}", a.len());
+        let first = a.iter().zip(&b).position(|(x, y)| x != y);
+        assert!(
+            a == b,
+            "the demo's text index differs from one built in place ({} against {} rows; first difference at {first:?}: {:?})",
+            a.len(),
+            b.len(),
+            first.map(|i| (&a[i].0, &b[i].0))
+        );
+        // and FTS5 finds it whole
+        demo.execute_batch("INSERT INTO incident_text (incident_text) VALUES ('integrity-check')")
+            .unwrap();
+    }
 }

@@ -502,6 +502,8 @@ pub(crate) struct Prepared {
     pub stamp: Stamp,
     digest: String,
     body: String,
+    derived: Derived,
+    text: RowText,
 }
 
 pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepared, StoreError> {
@@ -509,22 +511,32 @@ pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepare
     Ok(Prepared {
         digest: canon::sha256_hex(img.as_bytes()),
         body: search_body(&inc),
+        derived: derive(&inc),
+        text: row_text(&inc)?,
         inc,
         refs,
         stamp,
     })
 }
 
+impl Prepared {
+    /// The searchable text, for a caller that builds the text index itself
+    /// ([`insert_prepared`] leaves it out).
+    pub fn body(&self) -> &str {
+        &self.body
+    }
+}
+
 /// [`insert_new`] of a [`Prepared`] incident: the same rows and the same audit (in a batch,
-/// or, without one, its own audit row with the full image).
+/// or, without one, its own audit row with the full image), except the text index: the
+/// caller adds `(seq, into_body())` to it (the demo builds it on another thread).
 pub(crate) fn insert_prepared(
     conn: &Connection,
     chain: &mut Chain,
     p: &Prepared,
     bulk: Option<&mut super::audit::Bulk>,
 ) -> Result<i64, StoreError> {
-    let seq = write_rows(conn, &p.inc, &p.refs)?;
-    sqlite::fts_insert(conn, seq, &p.body)?;
+    let seq = write_rows_with(conn, &p.inc, &p.refs, &p.derived, &p.text)?;
     match bulk {
         Some(b) => b.add_digest(conn, chain, &p.stamp, &p.inc.id, p.digest.clone())?,
         None => {
@@ -537,9 +549,19 @@ pub(crate) fn insert_prepared(
 
 /// The incident row and its children; returns the row's seq.
 fn write_rows(conn: &Connection, inc: &Incident, refs: &Refs) -> Result<i64, StoreError> {
-    let d = derive(inc);
-    let owned = row_text(inc)?;
-    let values = row_values(inc, refs, &d, &owned);
+    write_rows_with(conn, inc, refs, &derive(inc), &row_text(inc)?)
+}
+
+/// [`write_rows`] with the derived columns and formatted texts already made (by a
+/// [`Prepared`] incident, on another thread).
+fn write_rows_with(
+    conn: &Connection,
+    inc: &Incident,
+    refs: &Refs,
+    d: &Derived,
+    owned: &RowText,
+) -> Result<i64, StoreError> {
+    let values = row_values(inc, refs, d, owned);
     conn.prepare_cached(insert_sql())?
         .execute(params_from_iter(values.values.iter()))
         .map_err(|e| match e {

@@ -26,6 +26,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0003_fleet_facts.sql",
         include_str!("../../schema/0003_fleet_facts.sql"),
     ),
+    (
+        "0004_search_contentless.sql",
+        include_str!("../../schema/0004_search_contentless.sql"),
+    ),
 ];
 
 /// The migration that makes `incident_facts`; the store fills it from the incidents
@@ -306,6 +310,71 @@ pub fn fts_delete(tx: &Connection, seq: i64) -> Result<(), StoreError> {
     Ok(())
 }
 
+/// The statement that made the text index, as SQLite keeps it (to build the same index in
+/// another database: [`fts_copy_index`]).
+pub fn fts_create_sql(conn: &Connection) -> Result<String, StoreError> {
+    Ok(conn.query_row(
+        "SELECT sql FROM sqlite_master WHERE type = 'table' AND name = 'incident_text'",
+        [],
+        |r| r.get(0),
+    )?)
+}
+
+/// The tables in which FTS5 keeps the text index (`incident_text_data`, `_idx`, …), by name,
+/// with their columns (name, type, key position).
+type ShadowTable = (String, Vec<(String, String, i64)>);
+fn fts_shadow_tables(conn: &Connection) -> Result<Vec<ShadowTable>, StoreError> {
+    let names: Vec<String> = {
+        let mut stmt = conn.prepare(
+            "SELECT name FROM sqlite_master WHERE type = 'table'
+             AND name LIKE 'incident\\_text\\_%' ESCAPE '\\' ORDER BY name",
+        )?;
+        let rows = stmt.query_map([], |r| r.get(0))?;
+        rows.collect::<Result<_, _>>()?
+    };
+    let mut out = Vec::with_capacity(names.len());
+    for name in names {
+        let mut stmt =
+            conn.prepare("SELECT name, type, pk FROM pragma_table_info(?1) ORDER BY cid")?;
+        let cols = stmt.query_map([&name], |r| Ok((r.get(0)?, r.get(1)?, r.get(2)?)))?;
+        let cols = cols.collect::<Result<_, _>>()?;
+        out.push((name, cols));
+    }
+    Ok(out)
+}
+
+/// Replace the text index of `dst` by the one built in `src` (a database whose text index was
+/// made by the same [`fts_create_sql`] and that holds nothing else of ours): the rows of
+/// FTS5's own tables are copied as they are, which is the same index as inserting every text
+/// into `dst`. Refused when the two indexes are not laid out alike. The connection to `dst`
+/// must not search its text index before it is reopened (FTS5 may keep the old index's
+/// layout in memory).
+pub fn fts_copy_index(src: &Connection, dst: &Connection) -> Result<(), StoreError> {
+    let (from, to) = (fts_shadow_tables(src)?, fts_shadow_tables(dst)?);
+    if from.is_empty() || from != to || fts_create_sql(src)? != fts_create_sql(dst)? {
+        return Err(StoreError::Database(
+            "the text index built aside is not laid out like this database's".into(),
+        ));
+    }
+    for (name, _) in &from {
+        // names come from sqlite_master and match incident_text_*, not from a user
+        let quoted = format!("\"{}\"", name.replace('"', ""));
+        let mut read = src.prepare(&format!("SELECT * FROM {quoted}"))?;
+        let columns = read.column_count();
+        let marks = vec!["?"; columns].join(", ");
+        dst.execute_batch(&format!("DELETE FROM {quoted}"))?;
+        let mut write = dst.prepare(&format!("INSERT INTO {quoted} VALUES ({marks})"))?;
+        let mut rows = read.query([])?;
+        while let Some(r) = rows.next()? {
+            let values: Vec<rusqlite::types::ToSqlOutput<'_>> = (0..columns)
+                .map(|i| r.get_ref(i).map(rusqlite::types::ToSqlOutput::Borrowed))
+                .collect::<Result<_, _>>()?;
+            write.execute(rusqlite::params_from_iter(values))?;
+        }
+    }
+    Ok(())
+}
+
 /// FROM clause for a text match: the text index drives (CROSS JOIN fixes the join order in
 /// SQLite), then the incidents by row number.
 pub const FTS_FROM: &str = "incident_text CROSS JOIN incidents i ON i.seq = incident_text.rowid";
@@ -366,6 +435,32 @@ mod tests {
         let ro = environment_failure(&err(ffi::SQLITE_READONLY)).unwrap();
         assert!(ro.contains("read-only"), "{ro}");
         assert_eq!(environment_failure(&err(ffi::SQLITE_CONSTRAINT)), None);
+    }
+
+    #[test]
+    fn a_text_index_laid_out_otherwise_is_not_copied_in() {
+        let make = |sql: &str| {
+            let c = Connection::open_in_memory().unwrap();
+            c.execute_batch(sql).unwrap();
+            fts_insert(&c, 1, "edge chip at the corner").unwrap();
+            c
+        };
+        let ours = "CREATE VIRTUAL TABLE incident_text USING fts5 (body, tokenize = 'unicode61 remove_diacritics 2')";
+        let dst = make(ours);
+        let other = make("CREATE VIRTUAL TABLE incident_text USING fts5 (body)");
+        assert!(fts_copy_index(&other, &dst).is_err());
+        let none = Connection::open_in_memory().unwrap();
+        assert!(fts_copy_index(&none, &dst).is_err());
+        // the same layout copies, and the copy is what is searched
+        let src = make(ours);
+        fts_insert(&src, 2, "thermal break from a shaded edge").unwrap();
+        fts_copy_index(&src, &dst).unwrap();
+        let n: i64 = dst
+            .query_row("SELECT count(*) FROM incident_text_docsize", [], |r| {
+                r.get(0)
+            })
+            .unwrap();
+        assert_eq!(n, 2);
     }
 
     #[test]
