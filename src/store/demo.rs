@@ -923,28 +923,32 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     // batches, not single incidents: fewer wake-ups between the threads
     const BATCH: usize = 256;
     let (to_writer, from_maker) = std::sync::mpsc::sync_channel::<Vec<Box<Prepared>>>(4);
+    // what the writer is done with goes back to be freed where it was made (freeing across
+    // threads is dear), without its searchable text, which goes to the text thread
+    let (spent, spent_back) = std::sync::mpsc::channel::<Vec<Box<Prepared>>>();
     // The text index is built on a third thread in a database of its own, in memory, made by
     // the same statement; its tables are copied in at the end (sqlite::fts_copy_index). The
-    // index is the same as inserting every text here, in the same order.
+    // index is the same as inserting every text here, in the same order. The texts queue up
+    // without a bound, so the writer never waits for that thread, which catches up while the
+    // writer builds the fleet facts and the indexes.
     let text_sql = sqlite::fts_create_sql(&tx)?;
-    // the text thread also drops what the writer is done with (freeing is not free)
-    let (to_text, from_writer) = std::sync::mpsc::sync_channel::<Vec<(i64, Box<Prepared>)>>(8);
+    let (to_text, from_writer) = std::sync::mpsc::channel::<Vec<(i64, String)>>();
     let mut written = 0u64;
-    let text_index = std::thread::scope(|scope| -> Result<rusqlite::Connection, StoreError> {
+    std::thread::scope(|scope| -> Result<(), StoreError> {
         let texter = scope.spawn(move || -> Result<rusqlite::Connection, StoreError> {
             let aside = rusqlite::Connection::open_in_memory()?;
             aside.execute_batch(&text_sql)?;
             let atx = aside.unchecked_transaction()?;
             for batch in from_writer.iter() {
-                for (seq, p) in batch {
-                    sqlite::fts_insert(&atx, seq, p.body())?;
+                for (seq, body) in batch {
+                    sqlite::fts_insert(&atx, seq, &body)?;
                 }
             }
             atx.commit()?;
             Ok(aside)
         });
         let maker = scope.spawn(|| -> Result<(), StoreError> {
-            let to_writer = to_writer;
+            let (to_writer, spent_back) = (to_writer, spent_back);
             let mut batch = Vec::with_capacity(BATCH);
             for plan in &plans {
                 let slot = &world.slots[plan.slot];
@@ -1217,6 +1221,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
                 };
                 batch.push(Box::new(prepare(inc, refs, stamp)?));
                 if batch.len() == BATCH {
+                    drop(spent_back.try_iter().collect::<Vec<_>>());
                     let full = std::mem::replace(&mut batch, Vec::with_capacity(BATCH));
                     if to_writer.send(full).is_err() {
                         return Ok(()); // the writer stopped on an error: it reports it
@@ -1229,17 +1234,21 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
             Ok(())
         });
         let mut write = || -> Result<(), StoreError> {
-            for prepared in from_maker.iter() {
+            for mut prepared in from_maker.iter() {
                 let mut texts = Vec::with_capacity(prepared.len());
-                for p in prepared {
+                for p in prepared.iter_mut() {
                     let batch = (!per_record).then_some(&mut bulk);
-                    let seq = insert_prepared(&tx, &mut chain, &p, batch)?;
+                    let seq = insert_prepared(&tx, &mut chain, p, batch)?;
                     written += 1;
-                    last_stamp = p.stamp.clone();
-                    texts.push((seq, p));
+                    texts.push((seq, p.take_body()));
                 }
+                if let Some(p) = prepared.last() {
+                    last_stamp = p.stamp.clone();
+                }
+                // a stopped maker or text thread reports its own error
+                let _ = spent.send(prepared);
                 if to_text.send(texts).is_err() {
-                    break; // the text thread stopped on an error: it reports it
+                    break;
                 }
             }
             Ok(())
@@ -1250,24 +1259,22 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         let made = maker
             .join()
             .map_err(|_| StoreError::Database("the demo generator thread panicked".into()))?;
-        let text = texter
-            .join()
-            .map_err(|_| StoreError::Database("the demo text-index thread panicked".into()))?;
         wrote.and(made)?;
-        text
+        bulk.flush(&tx, &mut chain, &last_stamp)?;
+        chain.finish(&tx)?;
+        super::incidents::fill_fleet_facts(&tx)?;
+        for (_, sql) in &triggers {
+            tx.execute_batch(sql)?;
+        }
+        for (_, sql) in &indexes {
+            tx.execute_batch(sql)?;
+        }
+        let text_index = texter
+            .join()
+            .map_err(|_| StoreError::Database("the demo text-index thread panicked".into()))??;
+        sqlite::fts_copy_index(&text_index, &tx)
     })?;
-    sqlite::fts_copy_index(&text_index, &tx)?;
-    drop(text_index);
     summary.incidents += written;
-    bulk.flush(&tx, &mut chain, &last_stamp)?;
-    chain.finish(&tx)?;
-    super::incidents::fill_fleet_facts(&tx)?;
-    for (_, sql) in &triggers {
-        tx.execute_batch(sql)?;
-    }
-    for (_, sql) in &indexes {
-        tx.execute_batch(sql)?;
-    }
     tx.commit()?;
     // a fresh connection: this one may hold the text index's layout from before the copy
     drop(store);

@@ -522,8 +522,8 @@ pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepare
 impl Prepared {
     /// The searchable text, for a caller that builds the text index itself
     /// ([`insert_prepared`] leaves it out).
-    pub fn body(&self) -> &str {
-        &self.body
+    pub fn take_body(&mut self) -> String {
+        std::mem::take(&mut self.body)
     }
 }
 
