@@ -599,8 +599,10 @@ pub(crate) fn format_reference(found_on: NaiveDate, n: u32) -> Result<String, St
     Ok(format!("{}{n:04}", reference_prefix(found_on)))
 }
 
-fn load_row(conn: &Connection, id: &str) -> Result<Option<(i64, Incident, Derived)>, StoreError> {
-    let mut stmt = conn.prepare_cached(
+/// The columns [`incident_row`] reads: an incident with the codes of its site, asset,
+/// supplier, product and lot (a macro so that the queries below can `concat!` it).
+macro_rules! incident_select {
+    () => {
         "SELECT i.seq, i.id, i.reference, i.revision, i.created_at, i.updated_at, a.code, i.position, s.code,
                 i.found_on, i.broken_on, i.temperature_c, i.sun, i.weather, i.reporter, i.how_found,
                 su.code, p.code, l.code, i.makeup, i.width_m, i.height_m, i.crack_count, i.branching,
@@ -612,100 +614,149 @@ fn load_row(conn: &Connection, id: &str) -> Result<Option<(i64, Incident, Derive
          LEFT JOIN sites s ON s.id = i.site_id
          LEFT JOIN suppliers su ON su.id = i.supplier_id
          LEFT JOIN products p ON p.id = i.product_id
-         LEFT JOIN lots l ON l.id = i.lot_id
-         WHERE i.id = ?1",
-    )?;
-    let row = stmt
-        .query_row([id], |r| {
-            let time = |i: usize| -> rusqlite::Result<chrono::DateTime<chrono::Utc>> {
-                let s: String = r.get(i)?;
-                parse_time(&s).ok_or_else(|| {
-                    rusqlite::Error::FromSqlConversionFailure(
-                        i,
-                        rusqlite::types::Type::Text,
-                        format!("not a time: {s}").into(),
-                    )
-                })
-            };
-            let date = |i: usize| -> rusqlite::Result<Option<NaiveDate>> {
-                let s: Option<String> = r.get(i)?;
-                match s {
-                    None => Ok(None),
-                    Some(s) => parse_date(&s).map(Some).ok_or_else(|| {
-                        rusqlite::Error::FromSqlConversionFailure(
-                            i,
-                            rusqlite::types::Type::Text,
-                            format!("not a date: {s}").into(),
-                        )
-                    }),
-                }
-            };
-            let cause_category: Option<String> = r.get(27)?;
-            let factors: Option<String> = r.get(28)?;
-            let cause = match cause_category {
-                Some(category) => Some(Cause {
-                    category,
-                    factors: factors
-                        .as_deref()
-                        .and_then(|f| serde_json::from_str(f).ok())
-                        .unwrap_or_default(),
-                    confidence: r.get::<_, Option<String>>(29)?.unwrap_or_default(),
-                    responsibility: r.get::<_, Option<String>>(30)?.unwrap_or_default(),
-                    note: r.get::<_, Option<String>>(31)?.unwrap_or_default(),
-                }),
-                None => None,
-            };
-            let inc = Incident {
-                id: r.get(1)?,
-                reference: r.get(2)?,
-                revision: r.get(3)?,
-                created_at: time(4)?,
-                updated_at: time(5)?,
-                asset: r.get(6)?,
-                position: r.get(7)?,
-                site: r.get(8)?,
-                found_on: date(9)?.unwrap_or_default(),
-                broken_on: date(10)?,
-                environment: Environment {
-                    temperature_c: r.get(11)?,
-                    sun: r.get(12)?,
-                    weather: r.get(13)?,
-                },
-                reporter: r.get(14)?,
-                how_found: r.get(15)?,
-                glass: Glass {
-                    supplier: r.get(16)?,
-                    product: r.get(17)?,
-                    lot: r.get(18)?,
-                    makeup: r.get(19)?,
-                    plies: Vec::new(),
-                    width_m: r.get(20)?,
-                    height_m: r.get(21)?,
-                },
-                pattern: FracturePattern {
-                    crack_count: r.get(22)?,
-                    branching: r.get::<_, Option<i64>>(23)?.map(|b| b != 0),
-                    fragment_count: r.get(24)?,
-                    origin_location: r.get(25)?,
-                    tension_face: r.get(26)?,
-                },
-                examinations: Vec::new(),
-                cause,
-                status: r.get(32)?,
-                description: r.get(33)?,
-                notes: r.get(34)?,
-                custody: Vec::new(),
-                attachments: Vec::new(),
-            };
-            let d = Derived {
-                stress_pa: r.get(35)?,
-                applied_stress_pa: r.get(36)?,
-                origin_type: r.get(37)?,
-                temper: r.get(38)?,
-            };
-            Ok((r.get::<_, i64>(0)?, inc, d))
+         LEFT JOIN lots l ON l.id = i.lot_id"
+    };
+}
+
+/// Columns of a ply (table alias `p`), read by [`ply_row`].
+macro_rules! ply_cols {
+    () => {
+        "p.material, p.temper, p.thickness_m, p.coating, p.edge_finish"
+    };
+}
+
+/// Columns of an examination (alias `e`), read by [`exam_row`].
+macro_rules! exam_cols {
+    () => {
+        "e.id, e.examined_on, e.analyst, e.origin_type, e.material, e.flaw_present, e.flaw_depth_text,
+         e.flaw_depth_unit, e.flaw_depth_m, e.flaw_width_text, e.flaw_width_unit, e.flaw_width_m,
+         e.flaw_shape, e.notes"
+    };
+}
+
+/// Columns of a mirror reading (alias `m`), read by [`reading_row`].
+macro_rules! reading_cols {
+    () => {
+        "m.boundary, m.value_text, m.unit, m.value_m, m.magnification, m.analyst, m.note"
+    };
+}
+
+/// Columns of an examination's result (alias `r`), read by [`result_row`].
+macro_rules! result_cols {
+    () => {
+        "r.computed_at, r.code_version, r.stress_pa, r.stress_low_pa, r.stress_high_pa, r.residual_pa,
+         r.applied_stress_pa, r.flaw_size_m, r.constants_json, r.analysis_json"
+    };
+}
+
+/// Columns of a custody entry (alias `c`), read by [`custody_row`].
+macro_rules! custody_cols {
+    () => {
+        "c.id, c.at, c.action, c.who, c.location, c.note"
+    };
+}
+
+/// Columns of an attachment (alias `t`), read by [`attachment_row`].
+macro_rules! attachment_cols {
+    () => {
+        "t.id, t.sha256, t.file_name, t.media_type, t.size_bytes, t.caption, t.added_at"
+    };
+}
+
+/// An incident row of [`incident_select`] (children empty), with its seq and derived columns.
+fn incident_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<(i64, Incident, Derived)> {
+    let time = |i: usize| -> rusqlite::Result<chrono::DateTime<chrono::Utc>> {
+        let s: String = r.get(i)?;
+        parse_time(&s).ok_or_else(|| {
+            rusqlite::Error::FromSqlConversionFailure(
+                i,
+                rusqlite::types::Type::Text,
+                format!("not a time: {s}").into(),
+            )
         })
-        .optional()?;
+    };
+    let date = |i: usize| -> rusqlite::Result<Option<NaiveDate>> {
+        let s: Option<String> = r.get(i)?;
+        match s {
+            None => Ok(None),
+            Some(s) => parse_date(&s).map(Some).ok_or_else(|| {
+                rusqlite::Error::FromSqlConversionFailure(
+                    i,
+                    rusqlite::types::Type::Text,
+                    format!("not a date: {s}").into(),
+                )
+            }),
+        }
+    };
+    let cause_category: Option<String> = r.get(27)?;
+    let factors: Option<String> = r.get(28)?;
+    let cause = match cause_category {
+        Some(category) => Some(Cause {
+            category,
+            factors: factors
+                .as_deref()
+                .and_then(|f| serde_json::from_str(f).ok())
+                .unwrap_or_default(),
+            confidence: r.get::<_, Option<String>>(29)?.unwrap_or_default(),
+            responsibility: r.get::<_, Option<String>>(30)?.unwrap_or_default(),
+            note: r.get::<_, Option<String>>(31)?.unwrap_or_default(),
+        }),
+        None => None,
+    };
+    let inc = Incident {
+        id: r.get(1)?,
+        reference: r.get(2)?,
+        revision: r.get(3)?,
+        created_at: time(4)?,
+        updated_at: time(5)?,
+        asset: r.get(6)?,
+        position: r.get(7)?,
+        site: r.get(8)?,
+        found_on: date(9)?.unwrap_or_default(),
+        broken_on: date(10)?,
+        environment: Environment {
+            temperature_c: r.get(11)?,
+            sun: r.get(12)?,
+            weather: r.get(13)?,
+        },
+        reporter: r.get(14)?,
+        how_found: r.get(15)?,
+        glass: Glass {
+            supplier: r.get(16)?,
+            product: r.get(17)?,
+            lot: r.get(18)?,
+            makeup: r.get(19)?,
+            plies: Vec::new(),
+            width_m: r.get(20)?,
+            height_m: r.get(21)?,
+        },
+        pattern: FracturePattern {
+            crack_count: r.get(22)?,
+            branching: r.get::<_, Option<i64>>(23)?.map(|b| b != 0),
+            fragment_count: r.get(24)?,
+            origin_location: r.get(25)?,
+            tension_face: r.get(26)?,
+        },
+        examinations: Vec::new(),
+        cause,
+        status: r.get(32)?,
+        description: r.get(33)?,
+        notes: r.get(34)?,
+        custody: Vec::new(),
+        attachments: Vec::new(),
+    };
+    let d = Derived {
+        stress_pa: r.get(35)?,
+        applied_stress_pa: r.get(36)?,
+        origin_type: r.get(37)?,
+        temper: r.get(38)?,
+    };
+    Ok((r.get::<_, i64>(0)?, inc, d))
+}
+
+fn load_row(conn: &Connection, id: &str) -> Result<Option<(i64, Incident, Derived)>, StoreError> {
+    let mut stmt = conn.prepare_cached(concat!(incident_select!(), " WHERE i.id = ?1"))?;
+    let row = stmt.query_row([id], incident_row).optional()?;
     let Some((seq, mut inc, d)) = row else {
         return Ok(None);
     };
@@ -732,150 +783,163 @@ fn bad_col(i: usize, what: &str, s: &str) -> rusqlite::Error {
     )
 }
 
+fn ply_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Ply> {
+    Ok(Ply {
+        material: r.get(0)?,
+        temper: r.get(1)?,
+        thickness_m: r.get(2)?,
+        coating: r.get(3)?,
+        edge_finish: r.get(4)?,
+    })
+}
+
+fn exam_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Examination> {
+    let measured = |ti: usize| -> rusqlite::Result<Option<Measured>> {
+        let text: Option<String> = r.get(ti)?;
+        let unit: Option<String> = r.get(ti + 1)?;
+        let si: Option<f64> = r.get(ti + 2)?;
+        Ok(match (text, unit, si) {
+            (Some(text), Some(unit), Some(si)) => Some(Measured { text, unit, si }),
+            _ => None,
+        })
+    };
+    let examined_on: Option<String> = r.get(1)?;
+    let examined_on = match examined_on {
+        Some(s) => Some(parse_date(&s).ok_or_else(|| bad_col(1, "date", &s))?),
+        None => None,
+    };
+    let present: i64 = r.get(5)?;
+    let flaw = if present != 0 {
+        Some(FlawMeasurement {
+            depth: measured(6)?,
+            width: measured(9)?,
+            shape: r.get(12)?,
+        })
+    } else {
+        None
+    };
+    Ok(Examination {
+        id: r.get(0)?,
+        examined_on,
+        analyst: r.get(2)?,
+        origin_type: r.get(3)?,
+        material: r.get(4)?,
+        readings: Vec::new(),
+        flaw,
+        result: None,
+        notes: r.get(13)?,
+    })
+}
+
+fn reading_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<MirrorReading> {
+    Ok(MirrorReading {
+        boundary: r.get(0)?,
+        radius: Measured {
+            text: r.get(1)?,
+            unit: r.get(2)?,
+            si: r.get(3)?,
+        },
+        magnification: r.get(4)?,
+        analyst: r.get(5)?,
+        note: r.get(6)?,
+    })
+}
+
+fn result_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<ComputedResult> {
+    let at: String = r.get(0)?;
+    let constants: String = r.get(8)?;
+    let analysis: String = r.get(9)?;
+    Ok(ComputedResult {
+        computed_at: parse_time(&at).ok_or_else(|| bad_col(0, "time", &at))?,
+        code_version: r.get(1)?,
+        stress_pa: r.get(2)?,
+        stress_low_pa: r.get(3)?,
+        stress_high_pa: r.get(4)?,
+        residual_pa: r.get(5)?,
+        applied_stress_pa: r.get(6)?,
+        flaw_size_m: r.get(7)?,
+        constants: serde_json::from_str(&constants)
+            .map_err(|_| bad_col(8, "JSON value", &constants))?,
+        analysis: serde_json::from_str(&analysis)
+            .map_err(|_| bad_col(9, "JSON value", "analysis"))?,
+    })
+}
+
+fn custody_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<CustodyEntry> {
+    let at: String = r.get(1)?;
+    Ok(CustodyEntry {
+        id: r.get(0)?,
+        at: parse_time(&at).ok_or_else(|| bad_col(1, "time", &at))?,
+        action: r.get(2)?,
+        who: r.get(3)?,
+        location: r.get(4)?,
+        note: r.get(5)?,
+    })
+}
+
+fn attachment_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Attachment> {
+    let at: String = r.get(6)?;
+    Ok(Attachment {
+        id: r.get(0)?,
+        sha256: r.get(1)?,
+        file_name: r.get(2)?,
+        media_type: r.get(3)?,
+        size_bytes: r.get(4)?,
+        caption: r.get(5)?,
+        added_at: parse_time(&at).ok_or_else(|| bad_col(6, "time", &at))?,
+    })
+}
+
 fn load_children(conn: &Connection, inc: &mut Incident) -> Result<(), StoreError> {
-    let mut stmt = conn.prepare_cached(
-        "SELECT material, temper, thickness_m, coating, edge_finish FROM plies
-         WHERE incident_id = ?1 ORDER BY ply_no",
-    )?;
+    let mut stmt = conn.prepare_cached(concat!(
+        "SELECT ",
+        ply_cols!(),
+        " FROM plies p WHERE p.incident_id = ?1 ORDER BY p.ply_no"
+    ))?;
     inc.glass.plies = stmt
-        .query_map([&inc.id], |r| {
-            Ok(Ply {
-                material: r.get(0)?,
-                temper: r.get(1)?,
-                thickness_m: r.get(2)?,
-                coating: r.get(3)?,
-                edge_finish: r.get(4)?,
-            })
-        })?
+        .query_map([&inc.id], ply_row)?
         .collect::<Result<_, _>>()?;
 
-    let mut stmt = conn.prepare_cached(
-        "SELECT id, examined_on, analyst, origin_type, material, flaw_present, flaw_depth_text, flaw_depth_unit,
-                flaw_depth_m, flaw_width_text, flaw_width_unit, flaw_width_m, flaw_shape, notes
-         FROM examinations WHERE incident_id = ?1 ORDER BY exam_no",
-    )?;
-    let exams: Vec<Examination> = stmt
-        .query_map([&inc.id], |r| {
-            let measured = |ti: usize| -> rusqlite::Result<Option<Measured>> {
-                let text: Option<String> = r.get(ti)?;
-                let unit: Option<String> = r.get(ti + 1)?;
-                let si: Option<f64> = r.get(ti + 2)?;
-                Ok(match (text, unit, si) {
-                    (Some(text), Some(unit), Some(si)) => Some(Measured { text, unit, si }),
-                    _ => None,
-                })
-            };
-            let examined_on: Option<String> = r.get(1)?;
-            let examined_on = match examined_on {
-                Some(s) => Some(parse_date(&s).ok_or_else(|| bad_col(1, "date", &s))?),
-                None => None,
-            };
-            let present: i64 = r.get(5)?;
-            let flaw = if present != 0 {
-                Some(FlawMeasurement {
-                    depth: measured(6)?,
-                    width: measured(9)?,
-                    shape: r.get(12)?,
-                })
-            } else {
-                None
-            };
-            Ok(Examination {
-                id: r.get(0)?,
-                examined_on,
-                analyst: r.get(2)?,
-                origin_type: r.get(3)?,
-                material: r.get(4)?,
-                readings: Vec::new(),
-                flaw,
-                result: None,
-                notes: r.get(13)?,
-            })
-        })?
+    let mut stmt = conn.prepare_cached(concat!(
+        "SELECT ",
+        exam_cols!(),
+        " FROM examinations e WHERE e.incident_id = ?1 ORDER BY e.exam_no"
+    ))?;
+    inc.examinations = stmt
+        .query_map([&inc.id], exam_row)?
         .collect::<Result<_, _>>()?;
-    inc.examinations = exams;
     for e in &mut inc.examinations {
-        let mut stmt = conn.prepare_cached(
-            "SELECT boundary, value_text, unit, value_m, magnification, analyst, note
-             FROM mirror_readings WHERE examination_id = ?1 ORDER BY reading_no",
-        )?;
+        let mut stmt = conn.prepare_cached(concat!(
+            "SELECT ",
+            reading_cols!(),
+            " FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
+        ))?;
         e.readings = stmt
-            .query_map([&e.id], |r| {
-                Ok(MirrorReading {
-                    boundary: r.get(0)?,
-                    radius: Measured {
-                        text: r.get(1)?,
-                        unit: r.get(2)?,
-                        si: r.get(3)?,
-                    },
-                    magnification: r.get(4)?,
-                    analyst: r.get(5)?,
-                    note: r.get(6)?,
-                })
-            })?
+            .query_map([&e.id], reading_row)?
             .collect::<Result<_, _>>()?;
-        let mut stmt = conn.prepare_cached(
-            "SELECT computed_at, code_version, stress_pa, stress_low_pa, stress_high_pa, residual_pa,
-                    applied_stress_pa, flaw_size_m, constants_json, analysis_json
-             FROM results WHERE examination_id = ?1",
-        )?;
-        let res = stmt
-            .query_row([&e.id], |r| {
-                let at: String = r.get(0)?;
-                let constants: String = r.get(8)?;
-                let analysis: String = r.get(9)?;
-                Ok(ComputedResult {
-                    computed_at: parse_time(&at).ok_or_else(|| bad_col(0, "time", &at))?,
-                    code_version: r.get(1)?,
-                    stress_pa: r.get(2)?,
-                    stress_low_pa: r.get(3)?,
-                    stress_high_pa: r.get(4)?,
-                    residual_pa: r.get(5)?,
-                    applied_stress_pa: r.get(6)?,
-                    flaw_size_m: r.get(7)?,
-                    constants: serde_json::from_str(&constants)
-                        .map_err(|_| bad_col(8, "JSON value", &constants))?,
-                    analysis: serde_json::from_str(&analysis)
-                        .map_err(|_| bad_col(9, "JSON value", "analysis"))?,
-                })
-            })
-            .optional()?;
-        e.result = res;
+        let mut stmt = conn.prepare_cached(concat!(
+            "SELECT ",
+            result_cols!(),
+            " FROM results r WHERE r.examination_id = ?1"
+        ))?;
+        e.result = stmt.query_row([&e.id], result_row).optional()?;
     }
 
-    let mut stmt = conn.prepare_cached(
-        "SELECT id, at, action, who, location, note FROM custody WHERE incident_id = ?1 ORDER BY entry_no",
-    )?;
+    let mut stmt = conn.prepare_cached(concat!(
+        "SELECT ",
+        custody_cols!(),
+        " FROM custody c WHERE c.incident_id = ?1 ORDER BY c.entry_no"
+    ))?;
     inc.custody = stmt
-        .query_map([&inc.id], |r| {
-            let at: String = r.get(1)?;
-            Ok(CustodyEntry {
-                id: r.get(0)?,
-                at: parse_time(&at).ok_or_else(|| bad_col(1, "time", &at))?,
-                action: r.get(2)?,
-                who: r.get(3)?,
-                location: r.get(4)?,
-                note: r.get(5)?,
-            })
-        })?
+        .query_map([&inc.id], custody_row)?
         .collect::<Result<_, _>>()?;
-    let mut stmt = conn.prepare_cached(
-        "SELECT id, sha256, file_name, media_type, size_bytes, caption, added_at FROM attachments
-         WHERE incident_id = ?1 ORDER BY entry_no",
-    )?;
+    let mut stmt = conn.prepare_cached(concat!(
+        "SELECT ",
+        attachment_cols!(),
+        " FROM attachments t WHERE t.incident_id = ?1 ORDER BY t.entry_no"
+    ))?;
     inc.attachments = stmt
-        .query_map([&inc.id], |r| {
-            let at: String = r.get(6)?;
-            Ok(Attachment {
-                id: r.get(0)?,
-                sha256: r.get(1)?,
-                file_name: r.get(2)?,
-                media_type: r.get(3)?,
-                size_bytes: r.get(4)?,
-                caption: r.get(5)?,
-                added_at: parse_time(&at).ok_or_else(|| bad_col(6, "time", &at))?,
-            })
-        })?
+        .query_map([&inc.id], attachment_row)?
         .collect::<Result<_, _>>()?;
     Ok(())
 }
@@ -884,21 +948,137 @@ pub(crate) fn load(conn: &Connection, id: &str) -> Result<Option<Incident>, Stor
     Ok(load_row(conn, id)?.map(|(_, inc, _)| inc))
 }
 
+/// One child table read in incident order beside the incidents scan of
+/// [`for_each_incident`]: its next row, decoded, with the seq of its incident.
+struct ChildScan<'s, T> {
+    rows: rusqlite::Rows<'s>,
+    next: Option<(i64, T)>,
+    read: fn(&rusqlite::Row<'_>) -> rusqlite::Result<(i64, T)>,
+}
+
+impl<'s, T> ChildScan<'s, T> {
+    fn new(
+        stmt: &'s mut rusqlite::Statement<'_>,
+        read: fn(&rusqlite::Row<'_>) -> rusqlite::Result<(i64, T)>,
+    ) -> Result<Self, StoreError> {
+        let mut scan = ChildScan {
+            rows: stmt.query([])?,
+            next: None,
+            read,
+        };
+        scan.advance()?;
+        Ok(scan)
+    }
+
+    fn advance(&mut self) -> Result<(), StoreError> {
+        self.next = match self.rows.next()? {
+            Some(r) => Some((self.read)(r)?),
+            None => None,
+        };
+        Ok(())
+    }
+
+    /// Hand `f` the rows of incident `seq`, in order. The scans run in one read
+    /// transaction and join through `incidents`, so no row belongs to an incident the
+    /// incidents scan has passed; such a row would be skipped, as `load_children` would
+    /// never have asked for it.
+    fn take(&mut self, seq: i64, mut f: impl FnMut(T)) -> Result<(), StoreError> {
+        while let Some((s, _)) = &self.next {
+            if *s > seq {
+                break;
+            }
+            if *s == seq {
+                if let Some((_, v)) = self.next.take() {
+                    f(v);
+                }
+            }
+            self.advance()?;
+        }
+        Ok(())
+    }
+}
+
 /// Call `f` with every incident in row order, and whether its derived columns agree.
+///
+/// The same incidents as [`load`] gives for each id, read in one ordered scan of
+/// `incidents` merged with one ordered scan of each child table (a query per incident
+/// costs a statement re-preparation each with the planner's sample statistics, about
+/// a third of a millisecond: minutes on a million incidents).
 pub(crate) fn for_each_incident(
     conn: &Connection,
     mut f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
 ) -> Result<(), StoreError> {
-    let ids: Vec<String> = {
-        let mut stmt = conn.prepare("SELECT id FROM incidents ORDER BY seq")?;
-        let rows = stmt.query_map([], |r| r.get(0))?;
-        rows.collect::<Result<_, _>>()?
-    };
-    for id in ids {
-        if let Some((_, inc, d)) = load_row(conn, &id)? {
-            let ok = derive(&inc) == d;
-            f(inc, ok)?;
-        }
+    let mut incidents = conn.prepare(concat!(incident_select!(), " ORDER BY i.seq"))?;
+    let mut plies = conn.prepare(concat!(
+        "SELECT ",
+        ply_cols!(),
+        ", i.seq FROM incidents i JOIN plies p ON p.incident_id = i.id
+         ORDER BY i.seq, p.ply_no"
+    ))?;
+    let mut exams = conn.prepare(concat!(
+        "SELECT ",
+        exam_cols!(),
+        ", i.seq FROM incidents i JOIN examinations e ON e.incident_id = i.id
+         ORDER BY i.seq, e.exam_no"
+    ))?;
+    let mut readings = conn.prepare(concat!(
+        "SELECT ",
+        reading_cols!(),
+        ", i.seq, e.id FROM incidents i JOIN examinations e ON e.incident_id = i.id
+         JOIN mirror_readings m ON m.examination_id = e.id
+         ORDER BY i.seq, e.exam_no, m.reading_no"
+    ))?;
+    let mut results = conn.prepare(concat!(
+        "SELECT ",
+        result_cols!(),
+        ", i.seq, e.id FROM incidents i JOIN examinations e ON e.incident_id = i.id
+         JOIN results r ON r.examination_id = e.id
+         ORDER BY i.seq, e.exam_no"
+    ))?;
+    let mut custody = conn.prepare(concat!(
+        "SELECT ",
+        custody_cols!(),
+        ", i.seq FROM incidents i JOIN custody c ON c.incident_id = i.id
+         ORDER BY i.seq, c.entry_no"
+    ))?;
+    let mut attachments = conn.prepare(concat!(
+        "SELECT ",
+        attachment_cols!(),
+        ", i.seq FROM incidents i JOIN attachments t ON t.incident_id = i.id
+         ORDER BY i.seq, t.entry_no"
+    ))?;
+    // every scan starts before any is stepped to its end, so they share one read snapshot
+    let mut rows = incidents.query([])?;
+    let mut plies = ChildScan::new(&mut plies, |r| Ok((r.get(5)?, ply_row(r)?)))?;
+    let mut exams = ChildScan::new(&mut exams, |r| Ok((r.get(14)?, exam_row(r)?)))?;
+    let mut readings = ChildScan::new(&mut readings, |r| {
+        Ok((r.get(7)?, (r.get::<_, String>(8)?, reading_row(r)?)))
+    })?;
+    let mut results = ChildScan::new(&mut results, |r| {
+        Ok((r.get(10)?, (r.get::<_, String>(11)?, result_row(r)?)))
+    })?;
+    let mut custody = ChildScan::new(&mut custody, |r| Ok((r.get(6)?, custody_row(r)?)))?;
+    let mut attachments =
+        ChildScan::new(&mut attachments, |r| Ok((r.get(7)?, attachment_row(r)?)))?;
+    while let Some(r) = rows.next()? {
+        let (seq, mut inc, d) = incident_row(r)?;
+        plies.take(seq, |p| inc.glass.plies.push(p))?;
+        exams.take(seq, |e| inc.examinations.push(e))?;
+        let exams = &mut inc.examinations;
+        readings.take(seq, |(exam, m)| {
+            if let Some(e) = exams.iter_mut().find(|e| e.id == exam) {
+                e.readings.push(m);
+            }
+        })?;
+        results.take(seq, |(exam, res)| {
+            if let Some(e) = exams.iter_mut().find(|e| e.id == exam) {
+                e.result = Some(res);
+            }
+        })?;
+        custody.take(seq, |c| inc.custody.push(c))?;
+        attachments.take(seq, |a| inc.attachments.push(a))?;
+        let ok = derive(&inc) == d;
+        f(inc, ok)?;
     }
     Ok(())
 }
