@@ -2599,4 +2599,113 @@ mod tests {
         );
         assert_eq!(choose_text_plan(0, 1_000_000, 200), TextPlan::IndexDrives);
     }
+
+    /// The ordered scans of `for_each_incident` (what verify reads) give every incident
+    /// exactly as `load_row` gives it by id, children in order, with the same derived-column
+    /// check, in seq order. On a demo database, with attachments added to later incidents
+    /// (the demo puts its few on the first ones), so that every child table is read.
+    #[test]
+    fn scan_gives_the_incidents_load_gives() {
+        use chrono::TimeZone;
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("d.db");
+        crate::store::demo::generate(
+            &path,
+            &crate::store::demo::DemoOptions {
+                incidents: 300,
+                seed: 5,
+            },
+        )
+        .unwrap();
+        let mut s = Store::open_existing(&path).unwrap();
+        let stamp = Stamp::new(
+            "test",
+            chrono::Utc.with_ymd_and_hms(2026, 11, 2, 9, 0, 0).unwrap(),
+        );
+        let ids: Vec<String> = {
+            let mut stmt = s
+                .conn
+                .prepare("SELECT id FROM incidents ORDER BY seq")
+                .unwrap();
+            let rows = stmt.query_map([], |r| r.get(0)).unwrap();
+            rows.collect::<Result<_, _>>().unwrap()
+        };
+        assert_eq!(ids.len(), 300);
+        for (k, id) in [&ids[3], &ids[3], &ids[150], &ids[299]]
+            .into_iter()
+            .enumerate()
+        {
+            s.add_attachment_bytes(id, &format!("p{k}.jpg"), &[k as u8; 10], "photo", &stamp)
+                .unwrap();
+        }
+        // the demo gives one examination at most: give two incidents a second one (a copy
+        // of another incident's, with its readings and result)
+        let examined: Vec<Incident> = ids
+            .iter()
+            .map(|id| s.get(id).unwrap())
+            .filter(|inc| {
+                inc.examinations
+                    .first()
+                    .is_some_and(|e| e.readings.len() > 1 && e.result.is_some())
+            })
+            .take(3)
+            .collect();
+        assert_eq!(examined.len(), 3, "the demo has examined incidents");
+        for (from, to) in [(0, 1), (1, 2)] {
+            let mut exam = examined[from].examinations[0].clone();
+            exam.id.clear();
+            exam.notes = format!("second look, copied from {}", examined[from].reference);
+            let target = s.get(&examined[to].id).unwrap();
+            s.put_examination(&target.id, target.revision, &exam, &stamp)
+                .unwrap();
+        }
+        let mut seen = Vec::new();
+        let (mut plies, mut exams, mut readings, mut results) = (0, 0, 0, 0);
+        let (mut custody, mut attachments, mut multi_exam) = (0, 0, 0);
+        for_each_incident(&s.conn, |inc, ok| {
+            let (_, want, d) = load_row(&s.conn, &inc.id)?.expect("the incident loads by id");
+            assert_eq!(
+                canon::incident_image(&inc)?,
+                canon::incident_image(&want)?,
+                "incident {}",
+                inc.reference
+            );
+            assert_eq!(ok, derive(&want) == d, "incident {}", inc.reference);
+            plies += inc.glass.plies.len();
+            exams += inc.examinations.len();
+            readings += inc
+                .examinations
+                .iter()
+                .map(|e| e.readings.len())
+                .sum::<usize>();
+            results += inc
+                .examinations
+                .iter()
+                .filter(|e| e.result.is_some())
+                .count();
+            custody += inc.custody.len();
+            attachments += inc.attachments.len();
+            multi_exam += usize::from(inc.examinations.len() > 1);
+            seen.push(inc.id);
+            Ok(())
+        })
+        .unwrap();
+        assert_eq!(seen, ids, "every incident once, in seq order");
+        // every child table was read, and the merge met incidents with several children
+        let count = |t: &str| -> usize {
+            s.conn
+                .query_row(&format!("SELECT count(*) FROM {t}"), [], |r| {
+                    r.get::<_, i64>(0)
+                })
+                .unwrap() as usize
+        };
+        assert_eq!(plies, count("plies"));
+        assert_eq!(exams, count("examinations"));
+        assert_eq!(readings, count("mirror_readings"));
+        assert_eq!(results, count("results"));
+        assert_eq!(custody, count("custody"));
+        assert_eq!(attachments, count("attachments"));
+        assert!(plies > 300 && exams > 0 && readings > exams && results > 0 && custody > 0);
+        assert!(multi_exam > 0, "some incident has several examinations");
+    }
 }
