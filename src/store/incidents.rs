@@ -665,6 +665,15 @@ macro_rules! attachment_cols {
 
 /// An incident row of [`incident_select`] (children empty), with its seq and derived columns.
 fn incident_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<(i64, Incident, Derived)> {
+    incident_row_with(r, &|k| r.get(k))
+}
+
+/// An incident row with the code of its asset, site, supplier, product and lot (columns 6,
+/// 8, 16, 17, 18) given by `code(column)`.
+fn incident_row_with(
+    r: &rusqlite::Row<'_>,
+    code: &dyn Fn(usize) -> rusqlite::Result<Option<String>>,
+) -> rusqlite::Result<(i64, Incident, Derived)> {
     let time = |i: usize| -> rusqlite::Result<chrono::DateTime<chrono::Utc>> {
         let s: String = r.get(i)?;
         parse_time(&s).ok_or_else(|| {
@@ -709,9 +718,9 @@ fn incident_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<(i64, Incident, Deriv
         revision: r.get(3)?,
         created_at: time(4)?,
         updated_at: time(5)?,
-        asset: r.get(6)?,
+        asset: code(6)?,
         position: r.get(7)?,
-        site: r.get(8)?,
+        site: code(8)?,
         found_on: date(9)?.unwrap_or_default(),
         broken_on: date(10)?,
         environment: Environment {
@@ -722,9 +731,9 @@ fn incident_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<(i64, Incident, Deriv
         reporter: r.get(14)?,
         how_found: r.get(15)?,
         glass: Glass {
-            supplier: r.get(16)?,
-            product: r.get(17)?,
-            lot: r.get(18)?,
+            supplier: code(16)?,
+            product: code(17)?,
+            lot: code(18)?,
             makeup: r.get(19)?,
             plies: Vec::new(),
             width_m: r.get(20)?,
@@ -1008,7 +1017,30 @@ pub(crate) fn for_each_incident(
     conn: &Connection,
     mut f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
 ) -> Result<(), StoreError> {
-    let mut incidents = conn.prepare(concat!(incident_select!(), " ORDER BY i.seq"))?;
+    // the codes of sites, assets, suppliers, products and lots by key, looked up here
+    // rather than joined per incident in SQL (five index searches each: an eighth of the time)
+    let code_map = |sql: &str| -> Result<HashMap<String, String>, StoreError> {
+        let mut stmt = conn.prepare(sql)?;
+        let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
+        Ok(rows.collect::<Result<_, _>>()?)
+    };
+    let maps = [
+        (6, code_map("SELECT id, code FROM assets")?),
+        (8, code_map("SELECT id, code FROM sites")?),
+        (16, code_map("SELECT id, code FROM suppliers")?),
+        (17, code_map("SELECT id, code FROM products")?),
+        (18, code_map("SELECT id, code FROM lots")?),
+    ];
+    // the columns of `incident_select`, with the keys in place of the codes
+    let mut incidents = conn.prepare(
+        "SELECT i.seq, i.id, i.reference, i.revision, i.created_at, i.updated_at, i.asset_id, i.position, i.site_id,
+                i.found_on, i.broken_on, i.temperature_c, i.sun, i.weather, i.reporter, i.how_found,
+                i.supplier_id, i.product_id, i.lot_id, i.makeup, i.width_m, i.height_m, i.crack_count, i.branching,
+                i.fragment_count, i.origin_location, i.tension_face, i.cause_category, i.cause_factors,
+                i.cause_confidence, i.cause_responsibility, i.cause_note, i.status, i.description, i.notes,
+                i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper
+         FROM incidents i ORDER BY i.seq",
+    )?;
     let mut plies = conn.prepare(concat!(
         "SELECT ",
         ply_cols!(),
@@ -1061,7 +1093,17 @@ pub(crate) fn for_each_incident(
     let mut attachments =
         ChildScan::new(&mut attachments, |r| Ok((r.get(7)?, attachment_row(r)?)))?;
     while let Some(r) = rows.next()? {
-        let (seq, mut inc, d) = incident_row(r)?;
+        let code = |k: usize| -> rusqlite::Result<Option<String>> {
+            let Some(key) = text_ref(r, k)? else {
+                return Ok(None);
+            };
+            // a key that names no row gives no code, as the LEFT JOIN of `load_row` does
+            Ok(maps
+                .iter()
+                .find(|(c, _)| *c == k)
+                .and_then(|(_, m)| m.get(key).cloned()))
+        };
+        let (seq, mut inc, d) = incident_row_with(r, &code)?;
         plies.take(seq, |p| inc.glass.plies.push(p))?;
         exams.take(seq, |e| inc.examinations.push(e))?;
         let exams = &mut inc.examinations;
@@ -2727,6 +2769,17 @@ mod tests {
             s.put_examination(&target.id, target.revision, &exam, &stamp)
                 .unwrap();
         }
+        // a key that names nothing and a missing key (plain SQL): no code, both ways
+        s.conn
+            .execute_batch(
+                "PRAGMA foreign_keys = OFF;
+                 UPDATE incidents SET lot_id = 'no-such-lot' WHERE seq = 7;
+                 UPDATE incidents SET site_id = NULL, asset_id = NULL WHERE seq = 8;
+                 PRAGMA foreign_keys = ON;",
+            )
+            .unwrap();
+        assert_eq!(s.get(&ids[6]).unwrap().glass.lot, None);
+        assert!(s.get(&ids[7]).unwrap().site.is_none());
         let mut seen = Vec::new();
         let (mut plies, mut exams, mut readings, mut results) = (0, 0, 0, 0);
         let (mut custody, mut attachments, mut multi_exam) = (0, 0, 0);
