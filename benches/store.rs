@@ -6,6 +6,12 @@
 //!
 //! Without `--db` the list and fleet-row figures are skipped. Goals (not asserted): list of 200 rows in
 //! under 50 ms; import at no less than half the rate of plain prepared inserts.
+//!
+//! `shardlog verify` on the database instead (nothing else; the database is only read):
+//!
+//!     cargo bench --bench store -- --db /tmp/m1.db --verify 3      # rounds
+//!
+//! Goal (not asserted): well under 60 s on a million incidents on two cores.
 
 use std::path::PathBuf;
 use std::time::{Duration, Instant};
@@ -24,6 +30,58 @@ fn thread_cpu() -> Duration {
     // SAFETY: clock_gettime writes one timespec to the pointer it is given.
     unsafe { libc::clock_gettime(libc::CLOCK_THREAD_CPUTIME_ID, &mut ts) };
     Duration::new(ts.tv_sec as u64, ts.tv_nsec as u32)
+}
+
+/// CPU time of the whole process so far (verify may use more than one thread).
+fn process_cpu() -> Duration {
+    let mut ts = libc::timespec {
+        tv_sec: 0,
+        tv_nsec: 0,
+    };
+    // SAFETY: clock_gettime writes one timespec to the pointer it is given.
+    unsafe { libc::clock_gettime(libc::CLOCK_PROCESS_CPUTIME_ID, &mut ts) };
+    Duration::new(ts.tv_sec as u64, ts.tv_nsec as u32)
+}
+
+/// Peak resident memory of the process so far, in MB.
+fn peak_rss_mb() -> f64 {
+    // SAFETY: getrusage fills the struct it is given; a zeroed rusage is a valid value.
+    let mut ru: libc::rusage = unsafe { std::mem::zeroed() };
+    // SAFETY: as above, RUSAGE_SELF with a pointer to one rusage.
+    unsafe { libc::getrusage(libc::RUSAGE_SELF, &mut ru) };
+    ru.ru_maxrss as f64 / 1024.0
+}
+
+/// `verify` on the database, `rounds` times: wall and process CPU of each, and the peak
+/// resident memory of the process after them.
+fn time_verify(s: &Store, rounds: usize) {
+    let mut walls = Vec::new();
+    let mut cpus = Vec::new();
+    for round in 1..=rounds {
+        let (w, c) = (Instant::now(), process_cpu());
+        let v = s.verify().expect("verify");
+        let (wall, cpu) = (w.elapsed(), process_cpu() - c);
+        println!(
+            "verify round {round}: {:.2} s wall, {:.2} s cpu; {} audit rows, {} records, {}",
+            wall.as_secs_f64(),
+            cpu.as_secs_f64(),
+            v.audit_rows,
+            v.records_checked,
+            match &v.first_problem {
+                None => "ok".to_string(),
+                Some(p) => format!("{} problems, the first: {p}", v.problems),
+            }
+        );
+        walls.push(wall);
+        cpus.push(cpu);
+    }
+    println!(
+        "verify: median {:.2} s wall, {:.2} s cpu of {rounds}; peak RSS of the process {:.0} MB \
+         (goal: well under 60 s wall on 1,000,000 incidents)",
+        median(walls).as_secs_f64(),
+        median(cpus).as_secs_f64(),
+        peak_rss_mb()
+    );
 }
 
 /// Wall and CPU time of one run.
@@ -387,6 +445,11 @@ fn main() {
         let s = Store::open_existing(db.as_ref()).expect("open the benchmark database");
         let n = s.incident_count().expect("count");
         println!("database {db}: {n} incidents");
+        if let Some(rounds) = arg("--verify") {
+            let rounds = rounds.parse().expect("--verify takes a number of rounds");
+            time_verify(&s, rounds);
+            return;
+        }
         let all = Filter::default();
         let newest = Sort {
             column: SortColumn::Found,

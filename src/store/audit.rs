@@ -269,6 +269,112 @@ fn digest(text: &str) -> [u8; 16] {
     out
 }
 
+/// A record's key in verify's map of last audited images: (entity, id) with the entity
+/// as its number in [`Entities`] and an id in the canonical UUID form (lower-case,
+/// hyphenated: every id shardlog writes) as its 16 bytes; any other id kept as text. One
+/// (entity, id) pair has exactly one key, so the map finds what a map of the two strings
+/// would, in a fraction of the memory.
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+enum RecordKey {
+    Uuid(u16, [u8; 16]),
+    Text(u16, Box<str>),
+}
+
+/// The 16 bytes of an id in canonical UUID form, `None` for any other text.
+fn uuid_bytes(id: &str) -> Option<[u8; 16]> {
+    let b = id.as_bytes();
+    if b.len() != 36 {
+        return None;
+    }
+    let mut out = [0u8; 16];
+    let mut k = 0;
+    let mut i = 0;
+    while i < 36 {
+        if matches!(i, 8 | 13 | 18 | 23) {
+            if b[i] != b'-' {
+                return None;
+            }
+            i += 1;
+            continue;
+        }
+        let nib = |c: u8| match c {
+            b'0'..=b'9' => Some(c - b'0'),
+            b'a'..=b'f' => Some(c - b'a' + 10),
+            _ => None,
+        };
+        out[k] = (nib(b[i])? << 4) | nib(b[i + 1])?;
+        k += 1;
+        i += 2;
+    }
+    Some(out)
+}
+
+/// The text of a canonical UUID from its bytes (the inverse of [`uuid_bytes`]).
+fn uuid_text(b: &[u8; 16]) -> String {
+    let hex = canon::hex(b);
+    format!(
+        "{}-{}-{}-{}-{}",
+        &hex[0..8],
+        &hex[8..12],
+        &hex[12..16],
+        &hex[16..20],
+        &hex[20..32]
+    )
+}
+
+/// The entity names met in the audit log, numbered in order of appearance.
+#[derive(Default)]
+struct Entities(Vec<String>);
+
+impl Entities {
+    fn number(&mut self, entity: &str) -> u16 {
+        match self.find(entity) {
+            Some(n) => n,
+            None => {
+                self.0.push(entity.to_string());
+                (self.0.len() - 1) as u16
+            }
+        }
+    }
+
+    fn find(&self, entity: &str) -> Option<u16> {
+        self.0.iter().position(|e| e == entity).map(|n| n as u16)
+    }
+
+    fn key(&mut self, entity: &str, id: &str) -> RecordKey {
+        let e = self.number(entity);
+        match uuid_bytes(id) {
+            Some(b) => RecordKey::Uuid(e, b),
+            None => RecordKey::Text(e, id.into()),
+        }
+    }
+
+    /// The key of a record, `None` if no audit row names its entity (so it has no key
+    /// in the map).
+    fn existing_key(&self, entity: &str, id: &str) -> Option<RecordKey> {
+        let e = self.find(entity)?;
+        Some(match uuid_bytes(id) {
+            Some(b) => RecordKey::Uuid(e, b),
+            None => RecordKey::Text(e, id.into()),
+        })
+    }
+
+    fn names(&self, key: &RecordKey) -> (String, String) {
+        let (e, id) = match key {
+            RecordKey::Uuid(e, b) => (*e, uuid_text(b)),
+            RecordKey::Text(e, id) => (*e, id.to_string()),
+        };
+        (self.0.get(e as usize).cloned().unwrap_or_default(), id)
+    }
+}
+
+/// What verify knows of one record: the digest of its last audited image (`None`: last
+/// audited as deleted), and whether the records hold it.
+struct LastImage {
+    digest: Option<[u8; 16]>,
+    seen: bool,
+}
+
 fn changed_keys(
     before: Option<&serde_json::Value>,
     after: Option<&serde_json::Value>,
@@ -394,7 +500,8 @@ impl Store {
         };
 
         // 1. the chain
-        let mut last: HashMap<(String, String), Option<[u8; 16]>> = HashMap::new();
+        let mut entities = Entities::default();
+        let mut last: HashMap<RecordKey, LastImage> = HashMap::new();
         let mut prev = GENESIS.to_string();
         let mut expect_seq = 1i64;
         {
@@ -450,7 +557,13 @@ impl Store {
                     match after.as_deref().and_then(manifest_records) {
                         Some(records) => {
                             for (e, id, d) in records {
-                                last.insert((e, id), Some(d));
+                                last.insert(
+                                    entities.key(&e, &id),
+                                    LastImage {
+                                        digest: Some(d),
+                                        seen: false,
+                                    },
+                                );
                             }
                         }
                         None => problem(
@@ -459,7 +572,13 @@ impl Store {
                         ),
                     }
                 } else {
-                    last.insert((entity, entity_id), after.as_deref().map(digest));
+                    last.insert(
+                        entities.key(&entity, &entity_id),
+                        LastImage {
+                            digest: after.as_deref().map(digest),
+                            seen: false,
+                        },
+                    );
                 }
             }
         }
@@ -486,48 +605,53 @@ impl Store {
         }
 
         // 2. the records against their last images
-        let mut seen: HashMap<(String, String), ()> = HashMap::new();
         let mut check = |report: &mut VerifyReport,
                          entity: &str,
-                         id: String,
+                         id: &str,
                          shown: &str,
                          image: &str| {
             report.records_checked += 1;
-            let key = (entity.to_string(), id);
-            match last.get(&key) {
+            match entities
+                .existing_key(entity, id)
+                .and_then(|k| last.get_mut(&k))
+            {
                 None => problem(
                     report,
                     format!("{entity} {shown}: present in the records but never written through shardlog (inserted behind its back)"),
                 ),
-                Some(None) => problem(
-                    report,
-                    format!("{entity} {shown}: present in the records although the audit log says it was deleted"),
-                ),
-                Some(Some(d)) => {
-                    if *d != digest(image) {
-                        problem(
+                Some(l) => {
+                    l.seen = true;
+                    match l.digest {
+                        None => problem(
                             report,
-                            format!("{entity} {shown}: differs from its last audited version (changed behind shardlog's back)"),
-                        );
+                            format!("{entity} {shown}: present in the records although the audit log says it was deleted"),
+                        ),
+                        Some(d) => {
+                            if d != digest(image) {
+                                problem(
+                                    report,
+                                    format!("{entity} {shown}: differs from its last audited version (changed behind shardlog's back)"),
+                                );
+                            }
+                        }
                     }
                 }
             }
-            seen.insert(key, ());
         };
         for e in refdata::load_lookups(&self.conn, None)? {
             let img = canon::canonical(&e)?;
             let key = refdata::lookup_key(&e);
-            check(&mut report, refdata::LOOKUP, key.clone(), &key, &img);
+            check(&mut report, refdata::LOOKUP, &key, &key, &img);
         }
         for (entity, id, shown, img) in refdata::all_images(&self.conn)? {
-            check(&mut report, entity, id, &shown, &img);
+            check(&mut report, entity, &id, &shown, &img);
         }
         {
             let mut bad_derived: Option<String> = None;
             let mut n_bad = 0u64;
             incidents::for_each_incident(&self.conn, |inc, derived_ok| {
                 let img = canon::incident_image(&inc)?;
-                check(&mut report, INCIDENT, inc.id.clone(), &inc.reference, &img);
+                check(&mut report, INCIDENT, &inc.id, &inc.reference, &img);
                 if !derived_ok {
                     n_bad += 1;
                     if bad_derived.is_none() {
@@ -546,19 +670,17 @@ impl Store {
         for msg in incidents::fleet_facts_problems(&self.conn)? {
             problem(&mut report, msg);
         }
-        let mut gone: Vec<&(String, String)> = last
+        let mut gone: Vec<(String, String)> = last
             .iter()
-            .filter(|(k, img)| img.is_some() && !seen.contains_key(*k))
-            .map(|(k, _)| k)
+            .filter(|(_, l)| l.digest.is_some() && !l.seen)
+            .map(|(k, _)| entities.names(k))
             .collect();
         gone.sort();
         for (entity, id) in gone {
-            {
-                problem(
-                    &mut report,
-                    format!("{entity} {id}: in the audit log but missing from the records (deleted behind shardlog's back)"),
-                );
-            }
+            problem(
+                &mut report,
+                format!("{entity} {id}: in the audit log but missing from the records (deleted behind shardlog's back)"),
+            );
         }
 
         // 3. the evidence: every attachment's file is in the attachment folder and still has
@@ -638,5 +760,45 @@ mod tests {
             .with_timezone(&Utc);
         assert_eq!(fmt_time(t), "2026-03-14T09:10:00.120Z");
         assert_eq!(parse_time(&fmt_time(t)), Some(t));
+    }
+
+    /// verify's compact keys: one key per (entity, id) pair of strings, and back. Only the
+    /// canonical lower-case hyphenated UUID form is packed, so an id that differs from an
+    /// audited one only in case or layout is still a different record.
+    #[test]
+    fn record_keys_are_one_to_one_with_the_strings() {
+        let id = "0190f3a2-7c4e-7d21-8a3b-1f2e3d4c5b6a";
+        let b = uuid_bytes(id).unwrap();
+        assert_eq!(uuid_text(&b), id);
+        for other in [
+            "0190F3A2-7C4E-7D21-8A3B-1F2E3D4C5B6A",
+            "0190f3a27c4e7d218a3b1f2e3d4c5b6a",
+            "{0190f3a2-7c4e-7d21-8a3b-1f2e3d4c5b6}",
+            "0190f3a2-7c4e-7d21-8a3b_1f2e3d4c5b6a",
+            "0190f3a2-7c4e-7d21-8a3b-1f2e3d4c5b6g",
+            "window_type/side",
+            "",
+        ] {
+            assert_eq!(uuid_bytes(other), None, "{other}");
+        }
+        let mut e = Entities::default();
+        let keys = [
+            e.key("incident", id),
+            e.key("site", id),
+            e.key("incident", "0190F3A2-7C4E-7D21-8A3B-1F2E3D4C5B6A"),
+            e.key("lookup", "window_type/side"),
+        ];
+        for (i, a) in keys.iter().enumerate() {
+            for (j, b) in keys.iter().enumerate() {
+                assert_eq!(a == b, i == j);
+            }
+        }
+        assert_eq!(e.existing_key("incident", id).as_ref(), Some(&keys[0]));
+        assert_eq!(e.existing_key("custody", id), None);
+        assert_eq!(e.names(&keys[1]), ("site".to_string(), id.to_string()));
+        assert_eq!(
+            e.names(&keys[3]),
+            ("lookup".to_string(), "window_type/side".to_string())
+        );
     }
 }

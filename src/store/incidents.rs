@@ -621,8 +621,10 @@ pub(crate) fn format_reference(found_on: NaiveDate, n: u32) -> Result<String, St
     Ok(format!("{}{n:04}", reference_prefix(found_on)))
 }
 
-fn load_row(conn: &Connection, id: &str) -> Result<Option<(i64, Incident, Derived)>, StoreError> {
-    let mut stmt = conn.prepare_cached(
+/// The columns [`incident_row`] reads: an incident with the codes of its site, asset,
+/// supplier, product and lot (a macro so that the queries below can `concat!` it).
+macro_rules! incident_select {
+    () => {
         "SELECT i.seq, i.id, i.reference, i.revision, i.created_at, i.updated_at, a.code, i.position, s.code,
                 i.found_on, i.broken_on, i.temperature_c, i.sun, i.weather, i.reporter, i.how_found,
                 su.code, p.code, l.code, i.makeup, i.width_m, i.height_m, i.crack_count, i.branching,
@@ -634,100 +636,158 @@ fn load_row(conn: &Connection, id: &str) -> Result<Option<(i64, Incident, Derive
          LEFT JOIN sites s ON s.id = i.site_id
          LEFT JOIN suppliers su ON su.id = i.supplier_id
          LEFT JOIN products p ON p.id = i.product_id
-         LEFT JOIN lots l ON l.id = i.lot_id
-         WHERE i.id = ?1",
-    )?;
-    let row = stmt
-        .query_row([id], |r| {
-            let time = |i: usize| -> rusqlite::Result<chrono::DateTime<chrono::Utc>> {
-                let s: String = r.get(i)?;
-                parse_time(&s).ok_or_else(|| {
-                    rusqlite::Error::FromSqlConversionFailure(
-                        i,
-                        rusqlite::types::Type::Text,
-                        format!("not a time: {s}").into(),
-                    )
-                })
-            };
-            let date = |i: usize| -> rusqlite::Result<Option<NaiveDate>> {
-                let s: Option<String> = r.get(i)?;
-                match s {
-                    None => Ok(None),
-                    Some(s) => parse_date(&s).map(Some).ok_or_else(|| {
-                        rusqlite::Error::FromSqlConversionFailure(
-                            i,
-                            rusqlite::types::Type::Text,
-                            format!("not a date: {s}").into(),
-                        )
-                    }),
-                }
-            };
-            let cause_category: Option<String> = r.get(27)?;
-            let factors: Option<String> = r.get(28)?;
-            let cause = match cause_category {
-                Some(category) => Some(Cause {
-                    category,
-                    factors: factors
-                        .as_deref()
-                        .and_then(|f| serde_json::from_str(f).ok())
-                        .unwrap_or_default(),
-                    confidence: r.get::<_, Option<String>>(29)?.unwrap_or_default(),
-                    responsibility: r.get::<_, Option<String>>(30)?.unwrap_or_default(),
-                    note: r.get::<_, Option<String>>(31)?.unwrap_or_default(),
-                }),
-                None => None,
-            };
-            let inc = Incident {
-                id: r.get(1)?,
-                reference: r.get(2)?,
-                revision: r.get(3)?,
-                created_at: time(4)?,
-                updated_at: time(5)?,
-                asset: r.get(6)?,
-                position: r.get(7)?,
-                site: r.get(8)?,
-                found_on: date(9)?.unwrap_or_default(),
-                broken_on: date(10)?,
-                environment: Environment {
-                    temperature_c: r.get(11)?,
-                    sun: r.get(12)?,
-                    weather: r.get(13)?,
-                },
-                reporter: r.get(14)?,
-                how_found: r.get(15)?,
-                glass: Glass {
-                    supplier: r.get(16)?,
-                    product: r.get(17)?,
-                    lot: r.get(18)?,
-                    makeup: r.get(19)?,
-                    plies: Vec::new(),
-                    width_m: r.get(20)?,
-                    height_m: r.get(21)?,
-                },
-                pattern: FracturePattern {
-                    crack_count: r.get(22)?,
-                    branching: r.get::<_, Option<i64>>(23)?.map(|b| b != 0),
-                    fragment_count: r.get(24)?,
-                    origin_location: r.get(25)?,
-                    tension_face: r.get(26)?,
-                },
-                examinations: Vec::new(),
-                cause,
-                status: r.get(32)?,
-                description: r.get(33)?,
-                notes: r.get(34)?,
-                custody: Vec::new(),
-                attachments: Vec::new(),
-            };
-            let d = Derived {
-                stress_pa: r.get(35)?,
-                applied_stress_pa: r.get(36)?,
-                origin_type: r.get(37)?,
-                temper: r.get(38)?,
-            };
-            Ok((r.get::<_, i64>(0)?, inc, d))
+         LEFT JOIN lots l ON l.id = i.lot_id"
+    };
+}
+
+/// Columns of a ply (table alias `p`), read by [`ply_row`].
+macro_rules! ply_cols {
+    () => {
+        "p.material, p.temper, p.thickness_m, p.coating, p.edge_finish"
+    };
+}
+
+/// Columns of an examination (alias `e`), read by [`exam_row`].
+macro_rules! exam_cols {
+    () => {
+        "e.id, e.examined_on, e.analyst, e.origin_type, e.material, e.flaw_present, e.flaw_depth_text,
+         e.flaw_depth_unit, e.flaw_depth_m, e.flaw_width_text, e.flaw_width_unit, e.flaw_width_m,
+         e.flaw_shape, e.notes"
+    };
+}
+
+/// Columns of a mirror reading (alias `m`), read by [`reading_row`].
+macro_rules! reading_cols {
+    () => {
+        "m.boundary, m.value_text, m.unit, m.value_m, m.magnification, m.analyst, m.note"
+    };
+}
+
+/// Columns of an examination's result (alias `r`), read by [`result_row`].
+macro_rules! result_cols {
+    () => {
+        "r.computed_at, r.code_version, r.stress_pa, r.stress_low_pa, r.stress_high_pa, r.residual_pa,
+         r.applied_stress_pa, r.flaw_size_m, r.constants_json, r.analysis_json"
+    };
+}
+
+/// Columns of a custody entry (alias `c`), read by [`custody_row`].
+macro_rules! custody_cols {
+    () => {
+        "c.id, c.at, c.action, c.who, c.location, c.note"
+    };
+}
+
+/// Columns of an attachment (alias `t`), read by [`attachment_row`].
+macro_rules! attachment_cols {
+    () => {
+        "t.id, t.sha256, t.file_name, t.media_type, t.size_bytes, t.caption, t.added_at"
+    };
+}
+
+/// An incident row of [`incident_select`] (children empty), with its seq and derived columns.
+fn incident_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<(i64, Incident, Derived)> {
+    incident_row_with(r, &|k| r.get(k))
+}
+
+/// An incident row with the code of its asset, site, supplier, product and lot (columns 6,
+/// 8, 16, 17, 18) given by `code(column)`.
+fn incident_row_with(
+    r: &rusqlite::Row<'_>,
+    code: &dyn Fn(usize) -> rusqlite::Result<Option<String>>,
+) -> rusqlite::Result<(i64, Incident, Derived)> {
+    let time = |i: usize| -> rusqlite::Result<chrono::DateTime<chrono::Utc>> {
+        let s: String = r.get(i)?;
+        parse_time(&s).ok_or_else(|| {
+            rusqlite::Error::FromSqlConversionFailure(
+                i,
+                rusqlite::types::Type::Text,
+                format!("not a time: {s}").into(),
+            )
         })
-        .optional()?;
+    };
+    let date = |i: usize| -> rusqlite::Result<Option<NaiveDate>> {
+        let s: Option<String> = r.get(i)?;
+        match s {
+            None => Ok(None),
+            Some(s) => parse_date(&s).map(Some).ok_or_else(|| {
+                rusqlite::Error::FromSqlConversionFailure(
+                    i,
+                    rusqlite::types::Type::Text,
+                    format!("not a date: {s}").into(),
+                )
+            }),
+        }
+    };
+    let cause_category: Option<String> = r.get(27)?;
+    let factors: Option<String> = r.get(28)?;
+    let cause = match cause_category {
+        Some(category) => Some(Cause {
+            category,
+            factors: factors
+                .as_deref()
+                .and_then(|f| serde_json::from_str(f).ok())
+                .unwrap_or_default(),
+            confidence: r.get::<_, Option<String>>(29)?.unwrap_or_default(),
+            responsibility: r.get::<_, Option<String>>(30)?.unwrap_or_default(),
+            note: r.get::<_, Option<String>>(31)?.unwrap_or_default(),
+        }),
+        None => None,
+    };
+    let inc = Incident {
+        id: r.get(1)?,
+        reference: r.get(2)?,
+        revision: r.get(3)?,
+        created_at: time(4)?,
+        updated_at: time(5)?,
+        asset: code(6)?,
+        position: r.get(7)?,
+        site: code(8)?,
+        found_on: date(9)?.unwrap_or_default(),
+        broken_on: date(10)?,
+        environment: Environment {
+            temperature_c: r.get(11)?,
+            sun: r.get(12)?,
+            weather: r.get(13)?,
+        },
+        reporter: r.get(14)?,
+        how_found: r.get(15)?,
+        glass: Glass {
+            supplier: code(16)?,
+            product: code(17)?,
+            lot: code(18)?,
+            makeup: r.get(19)?,
+            plies: Vec::new(),
+            width_m: r.get(20)?,
+            height_m: r.get(21)?,
+        },
+        pattern: FracturePattern {
+            crack_count: r.get(22)?,
+            branching: r.get::<_, Option<i64>>(23)?.map(|b| b != 0),
+            fragment_count: r.get(24)?,
+            origin_location: r.get(25)?,
+            tension_face: r.get(26)?,
+        },
+        examinations: Vec::new(),
+        cause,
+        status: r.get(32)?,
+        description: r.get(33)?,
+        notes: r.get(34)?,
+        custody: Vec::new(),
+        attachments: Vec::new(),
+    };
+    let d = Derived {
+        stress_pa: r.get(35)?,
+        applied_stress_pa: r.get(36)?,
+        origin_type: r.get(37)?,
+        temper: r.get(38)?,
+    };
+    Ok((r.get::<_, i64>(0)?, inc, d))
+}
+
+fn load_row(conn: &Connection, id: &str) -> Result<Option<(i64, Incident, Derived)>, StoreError> {
+    let mut stmt = conn.prepare_cached(concat!(incident_select!(), " WHERE i.id = ?1"))?;
+    let row = stmt.query_row([id], incident_row).optional()?;
     let Some((seq, mut inc, d)) = row else {
         return Ok(None);
     };
@@ -754,150 +814,163 @@ fn bad_col(i: usize, what: &str, s: &str) -> rusqlite::Error {
     )
 }
 
+fn ply_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Ply> {
+    Ok(Ply {
+        material: r.get(0)?,
+        temper: r.get(1)?,
+        thickness_m: r.get(2)?,
+        coating: r.get(3)?,
+        edge_finish: r.get(4)?,
+    })
+}
+
+fn exam_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Examination> {
+    let measured = |ti: usize| -> rusqlite::Result<Option<Measured>> {
+        let text: Option<String> = r.get(ti)?;
+        let unit: Option<String> = r.get(ti + 1)?;
+        let si: Option<f64> = r.get(ti + 2)?;
+        Ok(match (text, unit, si) {
+            (Some(text), Some(unit), Some(si)) => Some(Measured { text, unit, si }),
+            _ => None,
+        })
+    };
+    let examined_on: Option<String> = r.get(1)?;
+    let examined_on = match examined_on {
+        Some(s) => Some(parse_date(&s).ok_or_else(|| bad_col(1, "date", &s))?),
+        None => None,
+    };
+    let present: i64 = r.get(5)?;
+    let flaw = if present != 0 {
+        Some(FlawMeasurement {
+            depth: measured(6)?,
+            width: measured(9)?,
+            shape: r.get(12)?,
+        })
+    } else {
+        None
+    };
+    Ok(Examination {
+        id: r.get(0)?,
+        examined_on,
+        analyst: r.get(2)?,
+        origin_type: r.get(3)?,
+        material: r.get(4)?,
+        readings: Vec::new(),
+        flaw,
+        result: None,
+        notes: r.get(13)?,
+    })
+}
+
+fn reading_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<MirrorReading> {
+    Ok(MirrorReading {
+        boundary: r.get(0)?,
+        radius: Measured {
+            text: r.get(1)?,
+            unit: r.get(2)?,
+            si: r.get(3)?,
+        },
+        magnification: r.get(4)?,
+        analyst: r.get(5)?,
+        note: r.get(6)?,
+    })
+}
+
+fn result_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<ComputedResult> {
+    let at: String = r.get(0)?;
+    let constants: String = r.get(8)?;
+    let analysis: String = r.get(9)?;
+    Ok(ComputedResult {
+        computed_at: parse_time(&at).ok_or_else(|| bad_col(0, "time", &at))?,
+        code_version: r.get(1)?,
+        stress_pa: r.get(2)?,
+        stress_low_pa: r.get(3)?,
+        stress_high_pa: r.get(4)?,
+        residual_pa: r.get(5)?,
+        applied_stress_pa: r.get(6)?,
+        flaw_size_m: r.get(7)?,
+        constants: serde_json::from_str(&constants)
+            .map_err(|_| bad_col(8, "JSON value", &constants))?,
+        analysis: serde_json::from_str(&analysis)
+            .map_err(|_| bad_col(9, "JSON value", "analysis"))?,
+    })
+}
+
+fn custody_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<CustodyEntry> {
+    let at: String = r.get(1)?;
+    Ok(CustodyEntry {
+        id: r.get(0)?,
+        at: parse_time(&at).ok_or_else(|| bad_col(1, "time", &at))?,
+        action: r.get(2)?,
+        who: r.get(3)?,
+        location: r.get(4)?,
+        note: r.get(5)?,
+    })
+}
+
+fn attachment_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Attachment> {
+    let at: String = r.get(6)?;
+    Ok(Attachment {
+        id: r.get(0)?,
+        sha256: r.get(1)?,
+        file_name: r.get(2)?,
+        media_type: r.get(3)?,
+        size_bytes: r.get(4)?,
+        caption: r.get(5)?,
+        added_at: parse_time(&at).ok_or_else(|| bad_col(6, "time", &at))?,
+    })
+}
+
 fn load_children(conn: &Connection, inc: &mut Incident) -> Result<(), StoreError> {
-    let mut stmt = conn.prepare_cached(
-        "SELECT material, temper, thickness_m, coating, edge_finish FROM plies
-         WHERE incident_id = ?1 ORDER BY ply_no",
-    )?;
+    let mut stmt = conn.prepare_cached(concat!(
+        "SELECT ",
+        ply_cols!(),
+        " FROM plies p WHERE p.incident_id = ?1 ORDER BY p.ply_no"
+    ))?;
     inc.glass.plies = stmt
-        .query_map([&inc.id], |r| {
-            Ok(Ply {
-                material: r.get(0)?,
-                temper: r.get(1)?,
-                thickness_m: r.get(2)?,
-                coating: r.get(3)?,
-                edge_finish: r.get(4)?,
-            })
-        })?
+        .query_map([&inc.id], ply_row)?
         .collect::<Result<_, _>>()?;
 
-    let mut stmt = conn.prepare_cached(
-        "SELECT id, examined_on, analyst, origin_type, material, flaw_present, flaw_depth_text, flaw_depth_unit,
-                flaw_depth_m, flaw_width_text, flaw_width_unit, flaw_width_m, flaw_shape, notes
-         FROM examinations WHERE incident_id = ?1 ORDER BY exam_no",
-    )?;
-    let exams: Vec<Examination> = stmt
-        .query_map([&inc.id], |r| {
-            let measured = |ti: usize| -> rusqlite::Result<Option<Measured>> {
-                let text: Option<String> = r.get(ti)?;
-                let unit: Option<String> = r.get(ti + 1)?;
-                let si: Option<f64> = r.get(ti + 2)?;
-                Ok(match (text, unit, si) {
-                    (Some(text), Some(unit), Some(si)) => Some(Measured { text, unit, si }),
-                    _ => None,
-                })
-            };
-            let examined_on: Option<String> = r.get(1)?;
-            let examined_on = match examined_on {
-                Some(s) => Some(parse_date(&s).ok_or_else(|| bad_col(1, "date", &s))?),
-                None => None,
-            };
-            let present: i64 = r.get(5)?;
-            let flaw = if present != 0 {
-                Some(FlawMeasurement {
-                    depth: measured(6)?,
-                    width: measured(9)?,
-                    shape: r.get(12)?,
-                })
-            } else {
-                None
-            };
-            Ok(Examination {
-                id: r.get(0)?,
-                examined_on,
-                analyst: r.get(2)?,
-                origin_type: r.get(3)?,
-                material: r.get(4)?,
-                readings: Vec::new(),
-                flaw,
-                result: None,
-                notes: r.get(13)?,
-            })
-        })?
+    let mut stmt = conn.prepare_cached(concat!(
+        "SELECT ",
+        exam_cols!(),
+        " FROM examinations e WHERE e.incident_id = ?1 ORDER BY e.exam_no"
+    ))?;
+    inc.examinations = stmt
+        .query_map([&inc.id], exam_row)?
         .collect::<Result<_, _>>()?;
-    inc.examinations = exams;
     for e in &mut inc.examinations {
-        let mut stmt = conn.prepare_cached(
-            "SELECT boundary, value_text, unit, value_m, magnification, analyst, note
-             FROM mirror_readings WHERE examination_id = ?1 ORDER BY reading_no",
-        )?;
+        let mut stmt = conn.prepare_cached(concat!(
+            "SELECT ",
+            reading_cols!(),
+            " FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
+        ))?;
         e.readings = stmt
-            .query_map([&e.id], |r| {
-                Ok(MirrorReading {
-                    boundary: r.get(0)?,
-                    radius: Measured {
-                        text: r.get(1)?,
-                        unit: r.get(2)?,
-                        si: r.get(3)?,
-                    },
-                    magnification: r.get(4)?,
-                    analyst: r.get(5)?,
-                    note: r.get(6)?,
-                })
-            })?
+            .query_map([&e.id], reading_row)?
             .collect::<Result<_, _>>()?;
-        let mut stmt = conn.prepare_cached(
-            "SELECT computed_at, code_version, stress_pa, stress_low_pa, stress_high_pa, residual_pa,
-                    applied_stress_pa, flaw_size_m, constants_json, analysis_json
-             FROM results WHERE examination_id = ?1",
-        )?;
-        let res = stmt
-            .query_row([&e.id], |r| {
-                let at: String = r.get(0)?;
-                let constants: String = r.get(8)?;
-                let analysis: String = r.get(9)?;
-                Ok(ComputedResult {
-                    computed_at: parse_time(&at).ok_or_else(|| bad_col(0, "time", &at))?,
-                    code_version: r.get(1)?,
-                    stress_pa: r.get(2)?,
-                    stress_low_pa: r.get(3)?,
-                    stress_high_pa: r.get(4)?,
-                    residual_pa: r.get(5)?,
-                    applied_stress_pa: r.get(6)?,
-                    flaw_size_m: r.get(7)?,
-                    constants: serde_json::from_str(&constants)
-                        .map_err(|_| bad_col(8, "JSON value", &constants))?,
-                    analysis: serde_json::from_str(&analysis)
-                        .map_err(|_| bad_col(9, "JSON value", "analysis"))?,
-                })
-            })
-            .optional()?;
-        e.result = res;
+        let mut stmt = conn.prepare_cached(concat!(
+            "SELECT ",
+            result_cols!(),
+            " FROM results r WHERE r.examination_id = ?1"
+        ))?;
+        e.result = stmt.query_row([&e.id], result_row).optional()?;
     }
 
-    let mut stmt = conn.prepare_cached(
-        "SELECT id, at, action, who, location, note FROM custody WHERE incident_id = ?1 ORDER BY entry_no",
-    )?;
+    let mut stmt = conn.prepare_cached(concat!(
+        "SELECT ",
+        custody_cols!(),
+        " FROM custody c WHERE c.incident_id = ?1 ORDER BY c.entry_no"
+    ))?;
     inc.custody = stmt
-        .query_map([&inc.id], |r| {
-            let at: String = r.get(1)?;
-            Ok(CustodyEntry {
-                id: r.get(0)?,
-                at: parse_time(&at).ok_or_else(|| bad_col(1, "time", &at))?,
-                action: r.get(2)?,
-                who: r.get(3)?,
-                location: r.get(4)?,
-                note: r.get(5)?,
-            })
-        })?
+        .query_map([&inc.id], custody_row)?
         .collect::<Result<_, _>>()?;
-    let mut stmt = conn.prepare_cached(
-        "SELECT id, sha256, file_name, media_type, size_bytes, caption, added_at FROM attachments
-         WHERE incident_id = ?1 ORDER BY entry_no",
-    )?;
+    let mut stmt = conn.prepare_cached(concat!(
+        "SELECT ",
+        attachment_cols!(),
+        " FROM attachments t WHERE t.incident_id = ?1 ORDER BY t.entry_no"
+    ))?;
     inc.attachments = stmt
-        .query_map([&inc.id], |r| {
-            let at: String = r.get(6)?;
-            Ok(Attachment {
-                id: r.get(0)?,
-                sha256: r.get(1)?,
-                file_name: r.get(2)?,
-                media_type: r.get(3)?,
-                size_bytes: r.get(4)?,
-                caption: r.get(5)?,
-                added_at: parse_time(&at).ok_or_else(|| bad_col(6, "time", &at))?,
-            })
-        })?
+        .query_map([&inc.id], attachment_row)?
         .collect::<Result<_, _>>()?;
     Ok(())
 }
@@ -906,21 +979,170 @@ pub(crate) fn load(conn: &Connection, id: &str) -> Result<Option<Incident>, Stor
     Ok(load_row(conn, id)?.map(|(_, inc, _)| inc))
 }
 
+/// One child table read in incident order beside the incidents scan of
+/// [`for_each_incident`]: its next row, decoded, with the seq of its incident.
+struct ChildScan<'s, T> {
+    rows: rusqlite::Rows<'s>,
+    next: Option<(i64, T)>,
+    read: fn(&rusqlite::Row<'_>) -> rusqlite::Result<(i64, T)>,
+}
+
+impl<'s, T> ChildScan<'s, T> {
+    fn new(
+        stmt: &'s mut rusqlite::Statement<'_>,
+        read: fn(&rusqlite::Row<'_>) -> rusqlite::Result<(i64, T)>,
+    ) -> Result<Self, StoreError> {
+        let mut scan = ChildScan {
+            rows: stmt.query([])?,
+            next: None,
+            read,
+        };
+        scan.advance()?;
+        Ok(scan)
+    }
+
+    fn advance(&mut self) -> Result<(), StoreError> {
+        self.next = match self.rows.next()? {
+            Some(r) => Some((self.read)(r)?),
+            None => None,
+        };
+        Ok(())
+    }
+
+    /// Hand `f` the rows of incident `seq`, in order. The scans run in one read
+    /// transaction and join through `incidents`, so no row belongs to an incident the
+    /// incidents scan has passed; such a row would be skipped, as `load_children` would
+    /// never have asked for it.
+    fn take(&mut self, seq: i64, mut f: impl FnMut(T)) -> Result<(), StoreError> {
+        while let Some((s, _)) = &self.next {
+            if *s > seq {
+                break;
+            }
+            if *s == seq {
+                if let Some((_, v)) = self.next.take() {
+                    f(v);
+                }
+            }
+            self.advance()?;
+        }
+        Ok(())
+    }
+}
+
 /// Call `f` with every incident in row order, and whether its derived columns agree.
+///
+/// The same incidents as [`load`] gives for each id, read in one ordered scan of
+/// `incidents` merged with one ordered scan of each child table (a query per incident
+/// costs a statement re-preparation each with the planner's sample statistics, about
+/// a third of a millisecond: minutes on a million incidents).
 pub(crate) fn for_each_incident(
     conn: &Connection,
     mut f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
 ) -> Result<(), StoreError> {
-    let ids: Vec<String> = {
-        let mut stmt = conn.prepare("SELECT id FROM incidents ORDER BY seq")?;
-        let rows = stmt.query_map([], |r| r.get(0))?;
-        rows.collect::<Result<_, _>>()?
+    // the codes of sites, assets, suppliers, products and lots by key, looked up here
+    // rather than joined per incident in SQL (five index searches each: an eighth of the time)
+    let code_map = |sql: &str| -> Result<HashMap<String, String>, StoreError> {
+        let mut stmt = conn.prepare(sql)?;
+        let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
+        Ok(rows.collect::<Result<_, _>>()?)
     };
-    for id in ids {
-        if let Some((_, inc, d)) = load_row(conn, &id)? {
-            let ok = derive(&inc) == d;
-            f(inc, ok)?;
-        }
+    let maps = [
+        (6, code_map("SELECT id, code FROM assets")?),
+        (8, code_map("SELECT id, code FROM sites")?),
+        (16, code_map("SELECT id, code FROM suppliers")?),
+        (17, code_map("SELECT id, code FROM products")?),
+        (18, code_map("SELECT id, code FROM lots")?),
+    ];
+    // the columns of `incident_select`, with the keys in place of the codes
+    let mut incidents = conn.prepare(
+        "SELECT i.seq, i.id, i.reference, i.revision, i.created_at, i.updated_at, i.asset_id, i.position, i.site_id,
+                i.found_on, i.broken_on, i.temperature_c, i.sun, i.weather, i.reporter, i.how_found,
+                i.supplier_id, i.product_id, i.lot_id, i.makeup, i.width_m, i.height_m, i.crack_count, i.branching,
+                i.fragment_count, i.origin_location, i.tension_face, i.cause_category, i.cause_factors,
+                i.cause_confidence, i.cause_responsibility, i.cause_note, i.status, i.description, i.notes,
+                i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper
+         FROM incidents i ORDER BY i.seq",
+    )?;
+    let mut plies = conn.prepare(concat!(
+        "SELECT ",
+        ply_cols!(),
+        ", i.seq FROM incidents i JOIN plies p ON p.incident_id = i.id
+         ORDER BY i.seq, p.ply_no"
+    ))?;
+    let mut exams = conn.prepare(concat!(
+        "SELECT ",
+        exam_cols!(),
+        ", i.seq FROM incidents i JOIN examinations e ON e.incident_id = i.id
+         ORDER BY i.seq, e.exam_no"
+    ))?;
+    let mut readings = conn.prepare(concat!(
+        "SELECT ",
+        reading_cols!(),
+        ", i.seq, e.id FROM incidents i JOIN examinations e ON e.incident_id = i.id
+         JOIN mirror_readings m ON m.examination_id = e.id
+         ORDER BY i.seq, e.exam_no, m.reading_no"
+    ))?;
+    let mut results = conn.prepare(concat!(
+        "SELECT ",
+        result_cols!(),
+        ", i.seq, e.id FROM incidents i JOIN examinations e ON e.incident_id = i.id
+         JOIN results r ON r.examination_id = e.id
+         ORDER BY i.seq, e.exam_no"
+    ))?;
+    let mut custody = conn.prepare(concat!(
+        "SELECT ",
+        custody_cols!(),
+        ", i.seq FROM incidents i JOIN custody c ON c.incident_id = i.id
+         ORDER BY i.seq, c.entry_no"
+    ))?;
+    let mut attachments = conn.prepare(concat!(
+        "SELECT ",
+        attachment_cols!(),
+        ", i.seq FROM incidents i JOIN attachments t ON t.incident_id = i.id
+         ORDER BY i.seq, t.entry_no"
+    ))?;
+    // every scan starts before any is stepped to its end, so they share one read snapshot
+    let mut rows = incidents.query([])?;
+    let mut plies = ChildScan::new(&mut plies, |r| Ok((r.get(5)?, ply_row(r)?)))?;
+    let mut exams = ChildScan::new(&mut exams, |r| Ok((r.get(14)?, exam_row(r)?)))?;
+    let mut readings = ChildScan::new(&mut readings, |r| {
+        Ok((r.get(7)?, (r.get::<_, String>(8)?, reading_row(r)?)))
+    })?;
+    let mut results = ChildScan::new(&mut results, |r| {
+        Ok((r.get(10)?, (r.get::<_, String>(11)?, result_row(r)?)))
+    })?;
+    let mut custody = ChildScan::new(&mut custody, |r| Ok((r.get(6)?, custody_row(r)?)))?;
+    let mut attachments =
+        ChildScan::new(&mut attachments, |r| Ok((r.get(7)?, attachment_row(r)?)))?;
+    while let Some(r) = rows.next()? {
+        let code = |k: usize| -> rusqlite::Result<Option<String>> {
+            let Some(key) = text_ref(r, k)? else {
+                return Ok(None);
+            };
+            // a key that names no row gives no code, as the LEFT JOIN of `load_row` does
+            Ok(maps
+                .iter()
+                .find(|(c, _)| *c == k)
+                .and_then(|(_, m)| m.get(key).cloned()))
+        };
+        let (seq, mut inc, d) = incident_row_with(r, &code)?;
+        plies.take(seq, |p| inc.glass.plies.push(p))?;
+        exams.take(seq, |e| inc.examinations.push(e))?;
+        let exams = &mut inc.examinations;
+        readings.take(seq, |(exam, m)| {
+            if let Some(e) = exams.iter_mut().find(|e| e.id == exam) {
+                e.readings.push(m);
+            }
+        })?;
+        results.take(seq, |(exam, res)| {
+            if let Some(e) = exams.iter_mut().find(|e| e.id == exam) {
+                e.result = Some(res);
+            }
+        })?;
+        custody.take(seq, |c| inc.custody.push(c))?;
+        attachments.take(seq, |a| inc.attachments.push(a))?;
+        let ok = derive(&inc) == d;
+        f(inc, ok)?;
     }
     Ok(())
 }
@@ -2089,51 +2311,119 @@ pub(crate) fn fill_fleet_facts(tx: &Connection) -> Result<(), StoreError> {
     Ok(())
 }
 
+/// Whether two SQL values are the same by `IS` (no affinity: both sides are columns of
+/// STRICT tables): NULL is NULL, numbers by value, text and blobs byte by byte.
+fn same_value(a: ValueRef<'_>, b: ValueRef<'_>) -> bool {
+    use ValueRef::*;
+    match (a, b) {
+        (Null, Null) => true,
+        (Integer(x), Integer(y)) => x == y,
+        (Real(x), Real(y)) => x == y,
+        (Integer(i), Real(r)) | (Real(r), Integer(i)) => r == i as f64 && r as i64 == i,
+        (Text(x), Text(y)) | (Blob(x), Blob(y)) => x == y,
+        _ => false,
+    }
+}
+
 /// Where the `incident_facts` table (what `stats` reads) disagrees with `incidents`: one
 /// message per incident whose row is missing or differs, and per row with no incident.
 /// Triggers keep the two in step, so any message means the table was changed by hand.
+///
+/// One ordered scan of each table, merged by seq, with the value numbers looked up in a
+/// copy of `fleet_values` (the same comparisons as joining the nine tables in SQL, which
+/// takes several times as long on a million incidents).
 pub(crate) fn fleet_facts_problems(conn: &Connection) -> Result<Vec<String>, StoreError> {
     const WHY: &str = "the copy the fleet statistics read (table incident_facts)";
+    let values: HashMap<i64, Vec<u8>> = {
+        let mut stmt = conn.prepare("SELECT n, value FROM fleet_values")?;
+        let mut rows = stmt.query([])?;
+        let mut out = HashMap::new();
+        while let Some(r) = rows.next()? {
+            // n is the INTEGER PRIMARY KEY; a value is TEXT NOT NULL (STRICT)
+            let text = match r.get_ref(1)? {
+                ValueRef::Text(t) => t.to_vec(),
+                _ => return Err(bad_col(1, "text value", "another type").into()),
+            };
+            out.insert(r.get::<_, i64>(0)?, text);
+        }
+        out
+    };
+    // the eight coded columns, then found_on and the two stresses, in both tables
+    let mut inc_stmt = conn.prepare(
+        "SELECT seq, reference, cause_category, origin_type, temper, supplier_id, product_id,
+                lot_id, site_id, asset_id, found_on, stress_pa, applied_stress_pa
+         FROM incidents ORDER BY seq",
+    )?;
+    let mut fact_stmt = conn.prepare(
+        "SELECT seq, cause_category, origin_type, temper, supplier_id, product_id,
+                lot_id, site_id, asset_id, found_on, stress_pa, applied_stress_pa
+         FROM incident_facts ORDER BY seq",
+    )?;
+    // both scans start before either is stepped to its end: one read snapshot
+    let mut incs = inc_stmt.query([])?;
+    let mut facts = fact_stmt.query([])?;
     let mut out = Vec::new();
-    let mut stmt = conn.prepare(
-        "SELECT i.reference, f.seq IS NULL FROM incidents i
-         LEFT JOIN incident_facts f ON f.seq = i.seq
-         LEFT JOIN fleet_values c ON c.n = f.cause_category
-         LEFT JOIN fleet_values o ON o.n = f.origin_type
-         LEFT JOIN fleet_values t ON t.n = f.temper
-         LEFT JOIN fleet_values s ON s.n = f.supplier_id
-         LEFT JOIN fleet_values p ON p.n = f.product_id
-         LEFT JOIN fleet_values l ON l.n = f.lot_id
-         LEFT JOIN fleet_values e ON e.n = f.site_id
-         LEFT JOIN fleet_values a ON a.n = f.asset_id
-         WHERE f.seq IS NULL OR f.found_on IS NOT i.found_on
-            OR c.value IS NOT i.cause_category OR (f.cause_category IS NULL) != (i.cause_category IS NULL)
-            OR o.value IS NOT i.origin_type OR (f.origin_type IS NULL) != (i.origin_type IS NULL)
-            OR t.value IS NOT i.temper OR (f.temper IS NULL) != (i.temper IS NULL)
-            OR s.value IS NOT i.supplier_id OR (f.supplier_id IS NULL) != (i.supplier_id IS NULL)
-            OR p.value IS NOT i.product_id OR (f.product_id IS NULL) != (i.product_id IS NULL)
-            OR l.value IS NOT i.lot_id OR (f.lot_id IS NULL) != (i.lot_id IS NULL)
-            OR e.value IS NOT i.site_id OR (f.site_id IS NULL) != (i.site_id IS NULL)
-            OR a.value IS NOT i.asset_id OR (f.asset_id IS NULL) != (i.asset_id IS NULL)
-            OR f.stress_pa IS NOT i.stress_pa OR f.applied_stress_pa IS NOT i.applied_stress_pa
-         ORDER BY i.seq",
-    )?;
-    let mut rows = stmt.query([])?;
-    while let Some(r) = rows.next()? {
-        let reference: String = r.get(0)?;
-        let missing: bool = r.get(1)?;
-        out.push(if missing {
-            format!("incident {reference}: missing from {WHY} (deleted behind shardlog's back); stats leave it out")
-        } else {
-            format!("incident {reference}: {WHY} differs from the incident (changed behind shardlog's back); stats read the changed values")
-        });
+    let mut orphans = 0i64;
+    let mut fact = facts.next()?;
+    while let Some(i) = incs.next()? {
+        let seq: i64 = i.get(0)?;
+        // facts rows before this incident belong to none
+        while let Some(f) = fact {
+            if f.get::<_, i64>(0)? >= seq {
+                break;
+            }
+            orphans += 1;
+            fact = facts.next()?;
+        }
+        let matched = match fact {
+            Some(f) if f.get::<_, i64>(0)? == seq => Some(f),
+            _ => None,
+        };
+        let problem = match matched {
+            None => Some(true),
+            Some(f) => {
+                let mut differs = false;
+                for k in 0..8 {
+                    let number = f.get_ref(1 + k)?;
+                    let text = i.get_ref(2 + k)?;
+                    // `c.value IS NOT i.x`, c joined on `c.n = f.x`
+                    let value = match number {
+                        ValueRef::Integer(n) => values.get(&n).map(|v| ValueRef::Text(v)),
+                        _ => None,
+                    }
+                    .unwrap_or(ValueRef::Null);
+                    let value_differs = !same_value(value, text);
+                    // `(f.x IS NULL) != (i.x IS NULL)`
+                    let null_differs = (number == ValueRef::Null) != (text == ValueRef::Null);
+                    if value_differs || null_differs {
+                        differs = true;
+                        break;
+                    }
+                }
+                for k in 0..3 {
+                    if !same_value(f.get_ref(9 + k)?, i.get_ref(10 + k)?) {
+                        differs = true;
+                    }
+                }
+                differs.then_some(false)
+            }
+        };
+        if let Some(missing) = problem {
+            let reference: String = i.get(1)?;
+            out.push(if missing {
+                format!("incident {reference}: missing from {WHY} (deleted behind shardlog's back); stats leave it out")
+            } else {
+                format!("incident {reference}: {WHY} differs from the incident (changed behind shardlog's back); stats read the changed values")
+            });
+        }
+        if matched.is_some() {
+            fact = facts.next()?;
+        }
     }
-    let orphans: i64 = conn.query_row(
-        "SELECT count(*) FROM incident_facts f
-         WHERE NOT EXISTS (SELECT 1 FROM incidents i WHERE i.seq = f.seq)",
-        [],
-        |r| r.get(0),
-    )?;
+    while fact.is_some() {
+        orphans += 1;
+        fact = facts.next()?;
+    }
     if orphans > 0 {
         out.push(format!(
             "{WHY}: {orphans} row(s) belong to no incident (inserted behind shardlog's back); stats count them"
@@ -2440,5 +2730,246 @@ mod tests {
             TextPlan::LogDrives
         );
         assert_eq!(choose_text_plan(0, 1_000_000, 200), TextPlan::IndexDrives);
+    }
+
+    /// The ordered scans of `for_each_incident` (what verify reads) give every incident
+    /// exactly as `load_row` gives it by id, children in order, with the same derived-column
+    /// check, in seq order. On a demo database, with attachments added to later incidents
+    /// (the demo puts its few on the first ones), so that every child table is read.
+    #[test]
+    fn scan_gives_the_incidents_load_gives() {
+        use chrono::TimeZone;
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("d.db");
+        crate::store::demo::generate(
+            &path,
+            &crate::store::demo::DemoOptions {
+                incidents: 300,
+                seed: 5,
+            },
+        )
+        .unwrap();
+        let mut s = Store::open_existing(&path).unwrap();
+        let stamp = Stamp::new(
+            "test",
+            chrono::Utc.with_ymd_and_hms(2026, 11, 2, 9, 0, 0).unwrap(),
+        );
+        let ids: Vec<String> = {
+            let mut stmt = s
+                .conn
+                .prepare("SELECT id FROM incidents ORDER BY seq")
+                .unwrap();
+            let rows = stmt.query_map([], |r| r.get(0)).unwrap();
+            rows.collect::<Result<_, _>>().unwrap()
+        };
+        assert_eq!(ids.len(), 300);
+        for (k, id) in [&ids[3], &ids[3], &ids[150], &ids[299]]
+            .into_iter()
+            .enumerate()
+        {
+            s.add_attachment_bytes(id, &format!("p{k}.jpg"), &[k as u8; 10], "photo", &stamp)
+                .unwrap();
+        }
+        // the demo gives one examination at most: give two incidents a second one (a copy
+        // of another incident's, with its readings and result)
+        let examined: Vec<Incident> = ids
+            .iter()
+            .map(|id| s.get(id).unwrap())
+            .filter(|inc| {
+                inc.examinations
+                    .first()
+                    .is_some_and(|e| e.readings.len() > 1 && e.result.is_some())
+            })
+            .take(3)
+            .collect();
+        assert_eq!(examined.len(), 3, "the demo has examined incidents");
+        for (from, to) in [(0, 1), (1, 2)] {
+            let mut exam = examined[from].examinations[0].clone();
+            exam.id.clear();
+            exam.notes = format!("second look, copied from {}", examined[from].reference);
+            let target = s.get(&examined[to].id).unwrap();
+            s.put_examination(&target.id, target.revision, &exam, &stamp)
+                .unwrap();
+        }
+        // a key that names nothing and a missing key (plain SQL): no code, both ways
+        s.conn
+            .execute_batch(
+                "PRAGMA foreign_keys = OFF;
+                 UPDATE incidents SET lot_id = 'no-such-lot' WHERE seq = 7;
+                 UPDATE incidents SET site_id = NULL, asset_id = NULL WHERE seq = 8;
+                 PRAGMA foreign_keys = ON;",
+            )
+            .unwrap();
+        assert_eq!(s.get(&ids[6]).unwrap().glass.lot, None);
+        assert!(s.get(&ids[7]).unwrap().site.is_none());
+        let mut seen = Vec::new();
+        let (mut plies, mut exams, mut readings, mut results) = (0, 0, 0, 0);
+        let (mut custody, mut attachments, mut multi_exam) = (0, 0, 0);
+        for_each_incident(&s.conn, |inc, ok| {
+            let (_, want, d) = load_row(&s.conn, &inc.id)?.expect("the incident loads by id");
+            assert_eq!(
+                canon::incident_image(&inc)?,
+                canon::incident_image(&want)?,
+                "incident {}",
+                inc.reference
+            );
+            assert_eq!(ok, derive(&want) == d, "incident {}", inc.reference);
+            plies += inc.glass.plies.len();
+            exams += inc.examinations.len();
+            readings += inc
+                .examinations
+                .iter()
+                .map(|e| e.readings.len())
+                .sum::<usize>();
+            results += inc
+                .examinations
+                .iter()
+                .filter(|e| e.result.is_some())
+                .count();
+            custody += inc.custody.len();
+            attachments += inc.attachments.len();
+            multi_exam += usize::from(inc.examinations.len() > 1);
+            seen.push(inc.id);
+            Ok(())
+        })
+        .unwrap();
+        assert_eq!(seen, ids, "every incident once, in seq order");
+        // every child table was read, and the merge met incidents with several children
+        let count = |t: &str| -> usize {
+            s.conn
+                .query_row(&format!("SELECT count(*) FROM {t}"), [], |r| {
+                    r.get::<_, i64>(0)
+                })
+                .unwrap() as usize
+        };
+        assert_eq!(plies, count("plies"));
+        assert_eq!(exams, count("examinations"));
+        assert_eq!(readings, count("mirror_readings"));
+        assert_eq!(results, count("results"));
+        assert_eq!(custody, count("custody"));
+        assert_eq!(attachments, count("attachments"));
+        assert!(plies > 300 && exams > 0 && readings > exams && results > 0 && custody > 0);
+        assert!(multi_exam > 0, "some incident has several examinations");
+    }
+
+    /// The check `fleet_facts_problems` makes, as it was written first: the incidents
+    /// joined with the facts and the eight value lookups in SQL (the reference the merged
+    /// scan is tested against).
+    fn fleet_facts_problems_by_sql(conn: &Connection) -> Vec<String> {
+        const WHY: &str = "the copy the fleet statistics read (table incident_facts)";
+        let mut out = Vec::new();
+        let mut stmt = conn.prepare(
+            "SELECT i.reference, f.seq IS NULL FROM incidents i
+             LEFT JOIN incident_facts f ON f.seq = i.seq
+             LEFT JOIN fleet_values c ON c.n = f.cause_category
+             LEFT JOIN fleet_values o ON o.n = f.origin_type
+             LEFT JOIN fleet_values t ON t.n = f.temper
+             LEFT JOIN fleet_values s ON s.n = f.supplier_id
+             LEFT JOIN fleet_values p ON p.n = f.product_id
+             LEFT JOIN fleet_values l ON l.n = f.lot_id
+             LEFT JOIN fleet_values e ON e.n = f.site_id
+             LEFT JOIN fleet_values a ON a.n = f.asset_id
+             WHERE f.seq IS NULL OR f.found_on IS NOT i.found_on
+                OR c.value IS NOT i.cause_category OR (f.cause_category IS NULL) != (i.cause_category IS NULL)
+                OR o.value IS NOT i.origin_type OR (f.origin_type IS NULL) != (i.origin_type IS NULL)
+                OR t.value IS NOT i.temper OR (f.temper IS NULL) != (i.temper IS NULL)
+                OR s.value IS NOT i.supplier_id OR (f.supplier_id IS NULL) != (i.supplier_id IS NULL)
+                OR p.value IS NOT i.product_id OR (f.product_id IS NULL) != (i.product_id IS NULL)
+                OR l.value IS NOT i.lot_id OR (f.lot_id IS NULL) != (i.lot_id IS NULL)
+                OR e.value IS NOT i.site_id OR (f.site_id IS NULL) != (i.site_id IS NULL)
+                OR a.value IS NOT i.asset_id OR (f.asset_id IS NULL) != (i.asset_id IS NULL)
+                OR f.stress_pa IS NOT i.stress_pa OR f.applied_stress_pa IS NOT i.applied_stress_pa
+             ORDER BY i.seq",
+        ).unwrap();
+        let mut rows = stmt.query([]).unwrap();
+        while let Some(r) = rows.next().unwrap() {
+            let reference: String = r.get(0).unwrap();
+            let missing: bool = r.get(1).unwrap();
+            out.push(if missing {
+                format!("incident {reference}: missing from {WHY} (deleted behind shardlog's back); stats leave it out")
+            } else {
+                format!("incident {reference}: {WHY} differs from the incident (changed behind shardlog's back); stats read the changed values")
+            });
+        }
+        let orphans: i64 = conn
+            .query_row(
+                "SELECT count(*) FROM incident_facts f
+             WHERE NOT EXISTS (SELECT 1 FROM incidents i WHERE i.seq = f.seq)",
+                [],
+                |r| r.get(0),
+            )
+            .unwrap();
+        if orphans > 0 {
+            out.push(format!(
+                "{WHY}: {orphans} row(s) belong to no incident (inserted behind shardlog's back); stats count them"
+            ));
+        }
+        out
+    }
+
+    /// The merged scan finds what the SQL join finds, message for message, on a demo
+    /// database tampered with in each way the check looks for (and a few it must not
+    /// report), one tamper at a time and all together.
+    #[test]
+    fn fleet_facts_scan_agrees_with_the_sql_join() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("d.db");
+        crate::store::demo::generate(
+            &path,
+            &crate::store::demo::DemoOptions {
+                incidents: 200,
+                seed: 9,
+            },
+        )
+        .unwrap();
+        let tampers = [
+            "UPDATE incident_facts SET supplier_id = (SELECT max(n) FROM fleet_values) WHERE seq = 2",
+            "UPDATE incident_facts SET cause_category = 99999 WHERE seq = 3",
+            "UPDATE incident_facts SET origin_type = NULL WHERE seq = (SELECT min(seq) FROM incident_facts WHERE origin_type IS NOT NULL)",
+            "UPDATE incident_facts SET temper = (SELECT min(n) FROM fleet_values) WHERE seq = 5",
+            "UPDATE incidents SET cause_category = NULL WHERE seq = 6",
+            "UPDATE incidents SET asset_id = NULL WHERE seq = 12",
+            "UPDATE incident_facts SET found_on = '2001-01-01' WHERE seq = 7",
+            "UPDATE incident_facts SET stress_pa = 1.5 WHERE seq = 8",
+            "UPDATE incident_facts SET applied_stress_pa = NULL WHERE seq = (SELECT min(seq) FROM incidents WHERE applied_stress_pa IS NOT NULL)",
+            // the one that must not be reported: -0.0 is 0.0 by value
+            "UPDATE incidents SET stress_pa = 0.0 WHERE seq = 13; UPDATE incident_facts SET stress_pa = -0.0 WHERE seq = 13",
+            "DELETE FROM incident_facts WHERE seq IN (1, 10, 200)",
+            "INSERT INTO incident_facts (seq, found_on) VALUES (0, '2026-05-09'), (100000, '2026-05-09')",
+            "DELETE FROM incidents WHERE seq = 150",
+            "UPDATE fleet_values SET value = value || 'x' WHERE n = (SELECT site_id FROM incident_facts WHERE seq = 11)",
+        ];
+        let check = |c: &Connection| {
+            let want = fleet_facts_problems_by_sql(c);
+            assert_eq!(fleet_facts_problems(c).unwrap(), want);
+            want.len()
+        };
+        // no triggers: a tamper of the incidents must not reach the copy
+        let untriggered = |c: &Connection, sql: &str| {
+            c.execute_batch(&format!(
+                "DROP TRIGGER IF EXISTS incident_facts_update; DROP TRIGGER IF EXISTS incident_facts_delete; {sql}"
+            ))
+            .unwrap();
+        };
+        {
+            let c = Connection::open(&path).unwrap();
+            assert_eq!(check(&c), 0);
+        }
+        let mut found = 0;
+        for (k, sql) in tampers.iter().enumerate() {
+            let copy = dir.path().join(format!("t{k}.db"));
+            std::fs::copy(&path, &copy).unwrap();
+            let c = Connection::open(&copy).unwrap();
+            untriggered(&c, sql);
+            let n = check(&c);
+            assert_eq!(n == 0, sql.contains("-0.0"), "{sql}");
+            found += usize::from(n > 0);
+        }
+        assert_eq!(found, tampers.len() - 1);
+        let c = Connection::open(&path).unwrap();
+        for sql in tampers {
+            untriggered(&c, sql);
+        }
+        assert!(check(&c) > 10);
     }
 }
