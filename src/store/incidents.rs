@@ -2946,10 +2946,11 @@ mod tests {
         };
         // no triggers: a tamper of the incidents must not reach the copy
         let untriggered = |c: &Connection, sql: &str| {
-            c.execute_batch(&format!(
-                "DROP TRIGGER IF EXISTS incident_facts_update; DROP TRIGGER IF EXISTS incident_facts_delete; {sql}"
-            ))
+            c.execute_batch(
+                "DROP TRIGGER IF EXISTS incident_facts_update; DROP TRIGGER IF EXISTS incident_facts_delete;",
+            )
             .unwrap();
+            c.execute_batch(sql).unwrap();
         };
         {
             let c = Connection::open(&path).unwrap();
