@@ -446,12 +446,8 @@ fn a_bundle_with_a_hostile_incident_is_safe_and_verifies() {
     assert_eq!(code, 0, "{out}");
 }
 
-/// A claim against one lot compares the lot with every other supplier × lot, for all causes
-/// and cause by cause: on the demo fleet the nickel sulfide breakages of lot BS-2207 stand
-/// out (10 there, 1 in all the other lots) and are flagged; the figures add up to the
-/// fleet's, and `verify --bundle` still passes.
-#[test]
-fn a_lot_claim_compares_the_lot_cause_by_cause() {
+/// The default demo database (what sample-db holds) in a new temporary folder.
+fn default_demo() -> (tempfile::TempDir, std::path::PathBuf) {
     let tmp = tempfile::tempdir().unwrap();
     let db = tmp.path().join("demo.db");
     shardlog::store::demo::generate(
@@ -462,6 +458,16 @@ fn a_lot_claim_compares_the_lot_cause_by_cause() {
         },
     )
     .unwrap();
+    (tmp, db)
+}
+
+/// A claim against one lot compares the lot with every other supplier × lot, for all causes
+/// and cause by cause: on the demo fleet the nickel sulfide breakages of lot BS-2207 stand
+/// out (10 there, 1 in all the other lots) and are flagged; the figures add up to the
+/// fleet's, and `verify --bundle` still passes.
+#[test]
+fn a_lot_claim_compares_the_lot_cause_by_cause() {
+    let (tmp, db) = default_demo();
     let dir = tmp.path().join("claim");
     let args = [
         "dispute",
@@ -533,16 +539,7 @@ fn a_lot_claim_compares_the_lot_cause_by_cause() {
 /// it (the demo's lot codes are unique across suppliers, so "supplier/lot" groups as the lot).
 #[test]
 fn the_cover_comparison_matches_stats_and_list_over_the_window() {
-    let tmp = tempfile::tempdir().unwrap();
-    let db = tmp.path().join("demo.db");
-    shardlog::store::demo::generate(
-        &db,
-        &shardlog::store::demo::DemoOptions {
-            incidents: shardlog::store::demo::DEFAULT_INCIDENTS,
-            seed: shardlog::store::demo::DEFAULT_SEED,
-        },
-    )
-    .unwrap();
+    let (tmp, db) = default_demo();
     let code_of: std::collections::HashMap<String, String> =
         shardlog::store::Store::open_existing(&db)
             .unwrap()

@@ -1287,6 +1287,16 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     Ok(summary)
 }
 
+/// A demo database of `incidents` made from `seed` in a new temporary folder (tests); the
+/// folder lives as long as the returned guard.
+#[cfg(test)]
+pub(crate) fn temp_demo(incidents: u64, seed: u64) -> (tempfile::TempDir, PathBuf) {
+    let dir = tempfile::tempdir().expect("a temporary folder");
+    let path = dir.path().join("d.db");
+    generate(&path, &DemoOptions { incidents, seed }).expect("the demo is written");
+    (dir, path)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -1321,16 +1331,7 @@ mod tests {
     /// result must be the very index that inserting each incident's text here gives.
     #[test]
     fn the_text_index_built_aside_is_the_one_built_in_place() {
-        let dir = tempfile::tempdir().unwrap();
-        let db = dir.path().join("d.db");
-        generate(
-            &db,
-            &DemoOptions {
-                incidents: 600,
-                seed: 7,
-            },
-        )
-        .unwrap();
+        let (_dir, db) = temp_demo(600, 7);
         let demo = rusqlite::Connection::open(&db).unwrap();
         let in_place = rusqlite::Connection::open_in_memory().unwrap();
         in_place
