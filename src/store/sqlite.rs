@@ -255,7 +255,7 @@ pub fn set_memory_pragmas(conn: &Connection) -> Result<(), StoreError> {
 pub fn set_bulk_pragmas(conn: &Connection) -> Result<(), StoreError> {
     conn.execute_batch(
         "PRAGMA journal_mode = OFF; PRAGMA synchronous = OFF; PRAGMA foreign_keys = OFF;
-         PRAGMA cache_size = -262144; PRAGMA temp_store = MEMORY;",
+         PRAGMA cache_size = -262144; PRAGMA temp_store = MEMORY; PRAGMA mmap_size = 0;",
     )?;
     Ok(())
 }
