@@ -1283,7 +1283,9 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
         .conn
         // ANALYZE reads every page once: through SQLite's cache, not the read map, which
         // would count the whole file in this process's resident memory
-        .execute_batch("PRAGMA mmap_size = 0; PRAGMA journal_mode = DELETE; ANALYZE; PRAGMA optimize;")?;
+        .execute_batch(
+            "PRAGMA mmap_size = 0; PRAGMA journal_mode = DELETE; ANALYZE; PRAGMA optimize;",
+        )?;
     // the file's own settings (WAL); the read map set here is this connection's only
     sqlite::set_file_pragmas(&store.conn)?;
     Ok(summary)
