@@ -1307,16 +1307,11 @@ mod tests {
 
     /// Every row of FTS5's own tables of the text index, in order.
     fn text_index_rows(conn: &rusqlite::Connection) -> Vec<(String, Vec<rusqlite::types::Value>)> {
-        let names: Vec<String> = conn
-            .prepare(
-                "SELECT name FROM sqlite_master WHERE type = 'table'
-                 AND name LIKE 'incident\\_text\\_%' ESCAPE '\\' ORDER BY name",
-            )
+        let names: Vec<String> = sqlite::fts_shadow_tables(conn)
             .unwrap()
-            .query_map([], |r| r.get(0))
-            .unwrap()
-            .collect::<Result<_, _>>()
-            .unwrap();
+            .into_iter()
+            .map(|(name, _)| name)
+            .collect();
         assert!(names.len() >= 3, "{names:?}");
         let mut out = Vec::new();
         for n in names {

@@ -38,34 +38,28 @@ pub(crate) struct RefCache {
 
 impl RefCache {
     fn site(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
-        if let Some(id) = self.sites.get(code) {
-            return Ok(Some(id.clone()));
-        }
-        let id = refdata::site_id(conn, code)?;
-        if let Some(id) = &id {
-            self.sites.insert(code.to_string(), id.clone());
-        }
-        Ok(id)
+        cached(
+            &mut self.sites,
+            code,
+            || code.to_string(),
+            || refdata::site_id(conn, code),
+        )
     }
     fn asset(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
-        if let Some(id) = self.assets.get(code) {
-            return Ok(Some(id.clone()));
-        }
-        let id = refdata::asset_id(conn, code)?;
-        if let Some(id) = &id {
-            self.assets.insert(code.to_string(), id.clone());
-        }
-        Ok(id)
+        cached(
+            &mut self.assets,
+            code,
+            || code.to_string(),
+            || refdata::asset_id(conn, code),
+        )
     }
     fn supplier(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
-        if let Some(id) = self.suppliers.get(code) {
-            return Ok(Some(id.clone()));
-        }
-        let id = refdata::supplier_id(conn, code)?;
-        if let Some(id) = &id {
-            self.suppliers.insert(code.to_string(), id.clone());
-        }
-        Ok(id)
+        cached(
+            &mut self.suppliers,
+            code,
+            || code.to_string(),
+            || refdata::supplier_id(conn, code),
+        )
     }
     fn product(
         &mut self,
@@ -74,14 +68,12 @@ impl RefCache {
         code: &str,
     ) -> Result<Option<String>, StoreError> {
         let key = (supplier_id.to_string(), code.to_string());
-        if let Some(id) = self.products.get(&key) {
-            return Ok(Some(id.clone()));
-        }
-        let id = refdata::product_id(conn, supplier_id, code)?;
-        if let Some(id) = &id {
-            self.products.insert(key, id.clone());
-        }
-        Ok(id)
+        cached(
+            &mut self.products,
+            &key,
+            || key.clone(),
+            || refdata::product_id(conn, supplier_id, code),
+        )
     }
     fn lot(
         &mut self,
@@ -90,15 +82,36 @@ impl RefCache {
         code: &str,
     ) -> Result<Option<String>, StoreError> {
         let key = (product_id.to_string(), code.to_string());
-        if let Some(id) = self.lots.get(&key) {
-            return Ok(Some(id.clone()));
-        }
-        let id = refdata::lot_id(conn, product_id, code)?;
-        if let Some(id) = &id {
-            self.lots.insert(key, id.clone());
-        }
-        Ok(id)
+        cached(
+            &mut self.lots,
+            &key,
+            || key.clone(),
+            || refdata::lot_id(conn, product_id, code),
+        )
     }
+}
+
+/// The id `map` holds for `key`, else what `look` finds (kept when it finds one; a code that
+/// names nothing is asked again, as it may be created meanwhile). `owned` makes the key to
+/// keep, so a hit costs no allocation.
+fn cached<K, Q>(
+    map: &mut HashMap<K, String>,
+    key: &Q,
+    owned: impl FnOnce() -> K,
+    look: impl FnOnce() -> Result<Option<String>, StoreError>,
+) -> Result<Option<String>, StoreError>
+where
+    K: std::borrow::Borrow<Q> + Eq + std::hash::Hash,
+    Q: Eq + std::hash::Hash + ?Sized,
+{
+    if let Some(id) = map.get(key) {
+        return Ok(Some(id.clone()));
+    }
+    let id = look()?;
+    if let Some(id) = &id {
+        map.insert(owned(), id.clone());
+    }
+    Ok(id)
 }
 
 /// Columns kept for the log and statistics, derived from the aggregate.

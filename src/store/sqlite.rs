@@ -331,7 +331,7 @@ pub fn fts_create_sql(conn: &Connection) -> Result<String, StoreError> {
 /// The tables in which FTS5 keeps the text index (`incident_text_data`, `_idx`, …), by name,
 /// with their columns (name, type, key position).
 type ShadowTable = (String, Vec<(String, String, i64)>);
-fn fts_shadow_tables(conn: &Connection) -> Result<Vec<ShadowTable>, StoreError> {
+pub(crate) fn fts_shadow_tables(conn: &Connection) -> Result<Vec<ShadowTable>, StoreError> {
     let names: Vec<String> = {
         let mut stmt = conn.prepare(
             "SELECT name FROM sqlite_master WHERE type = 'table'
