@@ -4,7 +4,7 @@
 use std::hint::black_box;
 use std::time::Instant;
 
-use shardlog::fracture::{analyze, materials, AnalysisInput, Boundary, FlawGeometry, Temper};
+use shardlog_core::fracture::{analyze, materials, AnalysisInput, Boundary, FlawGeometry, Temper};
 
 fn time(label: &str, input: &AnalysisInput) {
     let n = 200_000;

@@ -11,8 +11,8 @@ use std::process::Command;
 use std::time::Instant;
 
 use chrono::NaiveDate;
-use shardlog::fleet::weibull::fit_values;
-use shardlog::fleet::{group, Exposure, GroupOptions, IncidentFacts, Key, Window};
+use shardlog_core::fleet::weibull::fit_values;
+use shardlog_core::fleet::{group, Exposure, GroupOptions, IncidentFacts, Key, Window};
 
 struct Rng(u64);
 impl Rng {

@@ -3,7 +3,8 @@
 //! The database is made through the store's API with the invented demo suppliers of the
 //! report tests (500 incidents of the claimed supplier, 200 of another; 40 with photos).
 
-#[path = "../tests/report_common/mod.rs"]
+#[path = "../tests/it/support/report.rs"]
+#[allow(dead_code)]
 mod report_common;
 
 use std::time::Instant;

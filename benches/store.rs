@@ -13,6 +13,7 @@
 //!
 //! Goal (not asserted): well under 60 s on a million incidents on two cores.
 
+use shardlog_core::fleet::StressKind;
 use std::path::PathBuf;
 use std::time::{Duration, Instant};
 
@@ -581,7 +582,12 @@ fn main() {
             ("fleet_facts, every key                      ", None),
             (
                 "fleet_facts, cause and supplier              ",
-                Some(&[shardlog::fleet::Key::Cause, shardlog::fleet::Key::Supplier][..]),
+                Some(
+                    &[
+                        shardlog_core::fleet::Key::Cause,
+                        shardlog_core::fleet::Key::Supplier,
+                    ][..],
+                ),
             ),
         ] {
             let mut times = Vec::new();
@@ -589,7 +595,7 @@ fn main() {
             for _ in 0..3 {
                 let t = Instant::now();
                 rows = s
-                    .fleet_facts(None, None, FleetStress::Applied, keys)
+                    .fleet_facts(None, None, StressKind::Applied, keys)
                     .expect("fleet facts")
                     .len();
                 times.push(t.elapsed());

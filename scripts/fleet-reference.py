@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""Reference values for tests/fleet.rs, computed with scipy (version printed first).
+"""Reference values for tests/it/fleet.rs, computed with scipy (version printed first).
 
 Run: python3 scripts/fleet-reference.py   (needs scipy; the Rust tests do not).
 """

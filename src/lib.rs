@@ -6,10 +6,6 @@
 
 pub mod app;
 pub mod cli;
-pub mod fleet;
-pub mod fracture;
-pub mod loads;
 pub mod report;
 pub mod store;
 pub mod tui;
-pub mod units;

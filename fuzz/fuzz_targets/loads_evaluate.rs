@@ -4,7 +4,7 @@
 
 use arbitrary::{Arbitrary, Result, Unstructured};
 use libfuzzer_sys::fuzz_target;
-use shardlog::loads::{self, contact, impact, plates, thermal, Elastic, Hypothesis};
+use shardlog_core::loads::{self, contact, impact, plates, thermal, Elastic, Hypothesis};
 
 fn number(u: &mut Unstructured, scale: f64) -> Result<f64> {
     Ok(match u.int_in_range(0u8..=9)? {

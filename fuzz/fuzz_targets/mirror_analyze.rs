@@ -5,7 +5,7 @@
 
 use arbitrary::{Arbitrary, Result, Unstructured};
 use libfuzzer_sys::fuzz_target;
-use shardlog::fracture::{
+use shardlog_core::fracture::{
     self, materials, AnalysisInput, Boundary, BoundaryReadings, Constant, ConstantOverride,
     FlawGeometry, Material, Origin, Temper,
 };

@@ -5,7 +5,7 @@
 #![no_main]
 
 use libfuzzer_sys::fuzz_target;
-use shardlog::units::{self, Dimension, Unit};
+use shardlog_core::units::{self, Dimension, Unit};
 
 const DIMENSIONS: [Dimension; 9] = [
     Dimension::Length,

@@ -1,7 +1,7 @@
 //! The bench calculator: mirror readings in, stress and flaw size out, live.
 //!
 //! Every edit rebuilds an [`AnalysisInput`] from the form and calls
-//! [`crate::fracture::analyze`] (the same call the command line and reports make), so the
+//! [`shardlog_core::fracture::analyze`] (the same call the command line and reports make), so the
 //! figures on screen are the core's figures. Flaw sizes for the other geometries come from
 //! the same call with only the geometry changed.
 
@@ -9,11 +9,11 @@ use super::field::{Field, FieldKind, FieldValue};
 use super::form::{Form, FormEvent};
 use super::picklist::{PickItem, PickList};
 use super::{Action, Ctx};
-use crate::fracture::{
+use shardlog_core::fracture::{
     self, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
     ConstantOverride, FlawGeometry, Origin, Temper,
 };
-use crate::units::Dimension;
+use shardlog_core::units::Dimension;
 
 /// Flaw size under one geometry, for the per-geometry table.
 #[derive(Debug, Clone, PartialEq)]
@@ -33,7 +33,7 @@ pub struct ThermalCheck {
     pub restraint: f64,
     pub stress_pa: f64,
     pub stress_per_kelvin: f64,
-    pub verdict: Result<crate::loads::verdict::Verdict, String>,
+    pub verdict: Result<shardlog_core::loads::verdict::Verdict, String>,
     pub warnings: Vec<String>,
 }
 
@@ -279,7 +279,11 @@ impl BenchState {
                             {
                                 self.hypothesis_stash.insert(
                                     "h_force",
-                                    crate::units::format_sig(force, crate::units::Unit::Newton, 4),
+                                    shardlog_core::units::format_sig(
+                                        force,
+                                        shardlog_core::units::Unit::Newton,
+                                        4,
+                                    ),
                                 );
                             }
                         }
@@ -341,19 +345,19 @@ impl BenchState {
             Some(Err(e)) => return Some(Err(e)),
             _ => 1.0,
         };
-        let input = crate::loads::thermal::Thermal {
+        let input = shardlog_core::loads::thermal::Thermal {
             youngs_modulus: e.value,
             expansion: a.value,
             delta_t: dt,
             restraint,
         };
-        let r = match crate::loads::thermal::edge_stress(&input) {
+        let r = match shardlog_core::loads::thermal::edge_stress(&input) {
             Ok(r) => r,
             Err(e) => return Some(Err(e.to_string())),
         };
         let verdict = match &self.outcome {
-            Outcome::Done { analysis, .. } => crate::loads::verdict::judge(
-                &crate::loads::verdict::Measured {
+            Outcome::Done { analysis, .. } => shardlog_core::loads::verdict::judge(
+                &shardlog_core::loads::verdict::Measured {
                     stress: analysis.applied_stress_pa,
                     low: analysis.applied_low_pa,
                     high: analysis.applied_high_pa,
@@ -498,7 +502,10 @@ impl BenchState {
             ply.and_then(|p| p.thickness_m),
             self.form.field_mut("thickness"),
         ) {
-            f.set_text(&crate::units::format(t, crate::units::Unit::Millimetre));
+            f.set_text(&shardlog_core::units::format(
+                t,
+                shardlog_core::units::Unit::Millimetre,
+            ));
         }
         if inc.pattern.origin_location.as_deref() == Some("interior") {
             if let Some(p) = self.form.pick_mut("origin") {

@@ -6,7 +6,7 @@
 use ratatui::style::{Modifier, Style};
 use ratatui_textarea::{CursorMove, Input, Key, TextArea};
 
-use crate::units::{self, Dimension};
+use shardlog_core::units::{self, Dimension};
 
 /// What a field accepts. Validation uses `shardlog::units` for every quantity.
 #[derive(Debug, Clone, PartialEq)]
@@ -106,7 +106,7 @@ impl Field {
 
     /// Replace the contents (user text is stripped of control sequences first).
     pub fn set_text(&mut self, text: &str) {
-        let clean = crate::cli::sanitize_for_terminal(text, self.multi_line());
+        let clean = shardlog_core::text::sanitize_for_terminal(text, self.multi_line());
         let lines: Vec<String> = clean.lines().map(str::to_string).collect();
         let mut area = TextArea::new(lines);
         area.set_cursor_line_style(self.area.cursor_line_style());
@@ -169,7 +169,7 @@ impl Field {
 
     /// Insert pasted text, dropping control characters.
     pub fn paste(&mut self, text: &str) {
-        let clean = crate::cli::sanitize_for_terminal(text, self.multi_line());
+        let clean = shardlog_core::text::sanitize_for_terminal(text, self.multi_line());
         if self.area.insert_str(clean) {
             self.dirty = true;
             self.revalidate();

@@ -12,9 +12,9 @@ use std::collections::HashMap;
 use super::field::{Field, FieldKind, FieldValue};
 use super::form::{Form, FormItem};
 use super::picklist::{PickItem, PickList};
-use crate::fracture::{materials, Analysis};
-use crate::loads::{self, critical, plates, verdict, Hypothesis};
-use crate::units::Dimension;
+use shardlog_core::fracture::{materials, Analysis};
+use shardlog_core::loads::{self, critical, plates, verdict, Hypothesis};
+use shardlog_core::units::Dimension;
 
 /// The kinds offered, as (code, label).
 pub const KINDS: &[(&str, &str)] = &[
@@ -153,7 +153,7 @@ fn kind_inputs(kind: &str) -> Vec<FormItem> {
                 PickList::new(
                     "h_impactor",
                     "Sphere of",
-                    crate::loads::contact::IMPACTORS
+                    shardlog_core::loads::contact::IMPACTORS
                         .iter()
                         .map(|i| PickItem::new(i.key, i.name))
                         .collect(),
@@ -365,7 +365,7 @@ fn elastic(form: &Form) -> Result<(materials::Material, loads::Elastic), String>
 }
 
 fn build(form: &Form, kind: &str) -> Result<(Hypothesis, String), String> {
-    use crate::units::{format, Unit};
+    use shardlog_core::units::{format, Unit};
     match kind {
         "impulse" => {
             let mass = need(form, "h_mass")?;
@@ -384,13 +384,13 @@ fn build(form: &Form, kind: &str) -> Result<(Hypothesis, String), String> {
                     format(mass, Unit::Kilogram),
                     format(speed, Unit::MetrePerSecond),
                     format(time, Unit::Millisecond),
-                    crate::units::fmt_sig(e, 2)
+                    shardlog_core::units::fmt_sig(e, 2)
                 ),
             ))
         }
         "sphere" => {
             let (_, target) = elastic(form)?;
-            let imp = crate::loads::contact::find_impactor(&form.text("h_impactor"))
+            let imp = shardlog_core::loads::contact::find_impactor(&form.text("h_impactor"))
                 .ok_or_else(|| "Sphere of: pick a material from the list".to_string())?;
             let d = need(form, "h_sphere_d")?;
             let mass = value(form, "h_mass")?;
@@ -402,7 +402,7 @@ fn build(form: &Form, kind: &str) -> Result<(Hypothesis, String), String> {
                 .map(|m| format!(", {}", format(m, Unit::Kilogram)))
                 .unwrap_or_default();
             Ok((
-                Hypothesis::Sphere(crate::loads::contact::SphereImpact {
+                Hypothesis::Sphere(shardlog_core::loads::contact::SphereImpact {
                     sphere_diameter: d,
                     sphere: imp.elastic,
                     sphere_density: imp.density,
@@ -501,7 +501,7 @@ fn build(form: &Form, kind: &str) -> Result<(Hypothesis, String), String> {
                 format!(
                     "ΔT {}, k = {}",
                     format(dt, Unit::Kelvin),
-                    crate::units::fmt_sig(k, 2)
+                    shardlog_core::units::fmt_sig(k, 2)
                 ),
             ))
         }

@@ -11,7 +11,7 @@ use crate::store::model::{
     Cause, CustodyEntry, Examination, FlawMeasurement, Glass, HistoryEntry, Incident, LookupKind,
     Measured, Ply,
 };
-use crate::units::{self, Dimension, Unit};
+use shardlog_core::units::{self, Dimension, Unit};
 
 /// The sections of one incident, in the order Tab visits them.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

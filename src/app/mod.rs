@@ -25,9 +25,9 @@ use log::LogState;
 use picklist::{PickItem, PickList};
 use review::ReviewState;
 
-use crate::fracture::Boundary;
 use crate::store::model::{Incident, LookupKind, MirrorReading, Stamp};
 use crate::store::{Store, StoreError};
+use shardlog_core::fracture::Boundary;
 
 /// The screens. The first one on the stack is the top screen (`q` quits from there).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -200,7 +200,7 @@ fn actor_from_env() -> String {
         if let Some(v) = std::env::var_os(var) {
             let s = v.to_string_lossy().trim().to_string();
             if !s.is_empty() {
-                return crate::cli::sanitize_for_terminal(&s, false);
+                return shardlog_core::text::sanitize_for_terminal(&s, false);
             }
         }
     }
@@ -1153,7 +1153,10 @@ impl App {
                 continue;
             };
             for line in f.lines().iter().filter(|l| !l.trim().is_empty()) {
-                match crate::store::model::Measured::parse(line, crate::units::Dimension::Length) {
+                match crate::store::model::Measured::parse(
+                    line,
+                    shardlog_core::units::Dimension::Length,
+                ) {
                     Ok(m) => exam.readings.push(MirrorReading {
                         boundary: code.to_string(),
                         radius: m,
@@ -1169,9 +1172,10 @@ impl App {
             }
         }
         if let Some(m) = input.measured_flaw_m {
-            let text = crate::units::format_exact(m, crate::units::Unit::Micrometre);
+            let text =
+                shardlog_core::units::format_exact(m, shardlog_core::units::Unit::Micrometre);
             if let Ok(mm) =
-                crate::store::model::Measured::parse(&text, crate::units::Dimension::Length)
+                crate::store::model::Measured::parse(&text, shardlog_core::units::Dimension::Length)
             {
                 let shape = analysis
                     .flaw
@@ -1206,7 +1210,7 @@ impl App {
             map.insert(
                 "thermal_hypothesis".to_string(),
                 serde_json::json!({
-                    "method": crate::loads::thermal::THERMAL_METHOD,
+                    "method": shardlog_core::loads::thermal::THERMAL_METHOD,
                     "delta_t_k": t.delta_t_k,
                     "restraint": t.restraint,
                     "stress_pa": t.stress_pa,

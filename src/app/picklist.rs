@@ -152,7 +152,7 @@ impl PickList {
         let typed = self.filter.trim().to_string();
         if self.allow_new && !typed.is_empty() && self.matches.is_empty() {
             // a new code: offer it first in the list so it can be seen and chosen
-            let clean = crate::cli::sanitize_for_terminal(&typed, false);
+            let clean = shardlog_core::text::sanitize_for_terminal(&typed, false);
             self.items
                 .push(PickItem::new(clean.clone(), format!("{clean} (new)")));
             self.chosen = Some(self.items.len() - 1);

@@ -2,17 +2,17 @@
 //! histogram, the Weibull plot and the table of groups with rates and flags.
 //!
 //! Everything is computed when the screen opens or the grouping or window changes (from the
-//! store through `cli::stats::load`, the figures by `crate::fleet`); the view only reads.
+//! store through `Store::stats_input`, the figures by `shardlog_core::fleet`); the view only reads.
 
 use chrono::{Months, NaiveDate};
 
-use crate::cli::stats::{StatsQuery, StressKind};
-use crate::fleet::{
+use crate::store::model::Filter;
+use crate::store::Store;
+use shardlog_core::fleet::query::{self, StatsQuery, StressKind};
+use shardlog_core::fleet::{
     histogram, monthly_counts, GroupOptions, GroupTable, GroupValue, Key, MonthCount, Trend,
     WeibullFit, Window,
 };
-use crate::store::model::Filter;
-use crate::store::Store;
 
 /// The panels, one at a time at 80×24 (Tab moves between them).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -105,7 +105,7 @@ pub struct ReviewData {
     pub months: Vec<MonthCount>,
     pub trend: Result<Trend, String>,
     /// Counts per calendar month against the exposure of each month (chi-square test).
-    pub seasonality: Option<crate::fleet::Seasonality>,
+    pub seasonality: Option<shardlog_core::fleet::Seasonality>,
     /// Applied stresses in the window, Pa: (bin lower edges, counts, bin width).
     pub histogram: (Vec<f64>, Vec<u64>, f64),
     /// Incidents in the window with no stress (not in the histogram or the fit).
@@ -115,7 +115,7 @@ pub struct ReviewData {
     pub exposure_rows: usize,
     /// Each group's own months and trend, aligned with `table.rows` (empty when a key is
     /// month or season).
-    pub group_trends: Vec<Option<crate::fleet::GroupTrend>>,
+    pub group_trends: Vec<Option<shardlog_core::fleet::GroupTrend>>,
 }
 
 /// The review screen's state.
@@ -323,7 +323,7 @@ fn apply_row<'a>(
     table: &'a GroupTable,
     i: usize,
     window: &Window,
-) -> Option<Result<&'a crate::fleet::GroupRow, String>> {
+) -> Option<Result<&'a shardlog_core::fleet::GroupRow, String>> {
     let row = table.rows.get(i)?;
     for (k, v) in table.keys.iter().zip(&row.values) {
         if let Err(e) = apply_value(f, *k, v, window) {
@@ -355,7 +355,7 @@ fn apply_value(f: &mut Filter, key: Key, v: &GroupValue, window: &Window) -> Res
             Ok(())
         }
         GroupValue::Month { year, month } => {
-            let (a, b) = crate::fleet::group::month_bounds(*year, *month)
+            let (a, b) = shardlog_core::fleet::group::month_bounds(*year, *month)
                 .ok_or_else(|| format!("{year:04}-{month:02} is not a month"))?;
             f.since = Some(a.max(window.since));
             f.until = Some(b.min(window.until));
@@ -372,8 +372,8 @@ fn apply_value(f: &mut Filter, key: Key, v: &GroupValue, window: &Window) -> Res
 fn window_for(
     choice: WindowChoice,
     q: &StatsQuery,
-    incidents: &[crate::fleet::IncidentFacts],
-    exposures: &[crate::fleet::Exposure],
+    incidents: &[shardlog_core::fleet::IncidentFacts],
+    exposures: &[shardlog_core::fleet::Exposure],
     today: NaiveDate,
 ) -> Result<Window, String> {
     match choice {
@@ -408,12 +408,12 @@ fn compute(
         stress: StressKind::Applied,
         json: false,
     };
-    let (incidents, exposures) = crate::cli::stats::load_with(store, &q, &[Key::Cause])
-        .map_err(|e| e.message().to_string())?;
+    let (incidents, exposures) = store
+        .stats_input(&q, &[Key::Cause])
+        .map_err(|e| e.to_string())?;
     let window = window_for(choice, &q, &incidents, &exposures, today)?;
-    let r = crate::cli::stats::compute(&q, &incidents, &exposures, window)
-        .map_err(|e| e.message().to_string())?;
-    let mut causes = crate::fleet::group(
+    let r = query::compute(&q, &incidents, &exposures, window)?;
+    let mut causes = shardlog_core::fleet::group(
         &incidents,
         &exposures,
         &GroupOptions {
@@ -437,7 +437,7 @@ fn compute(
         .filter(|d| window.contains(*d))
         .collect();
     let months = monthly_counts(&dates, &exposures, &window);
-    let in_window: Vec<&crate::fleet::IncidentFacts> = incidents
+    let in_window: Vec<&shardlog_core::fleet::IncidentFacts> = incidents
         .iter()
         .filter(|f| window.contains(f.found))
         .collect();

@@ -1,7 +1,7 @@
 //! `shardlog load`: service-load hypotheses (impact, plate, thermal, critical-flaw).
 //!
 //! Raw clap strings are parsed here with `units` into SI numbers and range-checked; the
-//! calculations are the pure functions of `crate::loads`. A value that cannot be used is a usage
+//! calculations are the pure functions of `shardlog_core::loads`. A value that cannot be used is a usage
 //! error (exit 2); a calculation that cannot be done for these inputs is a failure of the work
 //! (exit 1).
 
@@ -9,12 +9,12 @@ use clap::{Args, Subcommand, ValueEnum};
 use serde_json::{json, Map, Value};
 
 use super::{CliError, Context};
-use crate::fracture::flaw::{self, FlawGeometry};
-use crate::fracture::materials;
-use crate::loads::{
+use shardlog_core::fracture::flaw::{self, FlawGeometry};
+use shardlog_core::fracture::materials;
+use shardlog_core::loads::{
     contact, critical, impact, plates, thermal, verdict, Elastic, LoadError, Warning,
 };
-use crate::units::{self, Dimension, Unit};
+use shardlog_core::units::{self, Dimension, Unit};
 
 #[derive(Debug, Args)]
 pub struct LoadArgs {

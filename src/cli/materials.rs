@@ -3,8 +3,8 @@
 use serde_json::json;
 
 use super::{CliError, Context};
-use crate::fracture::materials::{self, Constant, Material};
-use crate::units::{fmt_sig, Unit};
+use shardlog_core::fracture::materials::{self, Constant, Material};
+use shardlog_core::units::{fmt_sig, Unit};
 
 #[derive(Debug, Clone, Default, clap::Args)]
 pub struct MaterialsArgs {

@@ -10,11 +10,11 @@ use clap::{ArgMatches, FromArgMatches};
 use serde_json::json;
 
 use super::{CliError, Context};
-use crate::fracture::{
+use shardlog_core::fracture::{
     self, analyze, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
     ConstantOverride, FlawGeometry, FractureError, Origin, Temper,
 };
-use crate::units::{self, fmt_sig, format, Dimension, Unit, UnitError};
+use shardlog_core::units::{self, fmt_sig, format, Dimension, Unit, UnitError};
 
 /// The flags as clap reads them (strings; checked in [`build_input`]).
 #[derive(Debug, Clone, Default, clap::Args)]

@@ -4,6 +4,7 @@
 //! Exit codes: 0 ok, 1 a failure of the work (bad data, a check that failed),
 //! 2 a usage error (a flag or value the user typed that cannot be used).
 
+use shardlog_core::text::sanitize_for_terminal;
 use std::ffi::OsString;
 use std::io::Write;
 use std::path::PathBuf;
@@ -160,53 +161,6 @@ fn data_dir() -> PathBuf {
     } else {
         home.join(".local").join("share")
     }
-}
-
-/// Strip terminal control sequences and other control characters from user text before
-/// it is printed to a terminal. Tabs become spaces; newlines are kept only if `keep_newlines`.
-pub fn sanitize_for_terminal(text: &str, keep_newlines: bool) -> String {
-    let mut out = String::with_capacity(text.len());
-    let mut chars = text.chars().peekable();
-    while let Some(c) = chars.next() {
-        match c {
-            '\u{1b}' => {
-                // ESC [ ... final byte, ESC ] ... BEL/ST, or ESC + one char
-                match chars.peek() {
-                    Some('[') => {
-                        chars.next();
-                        for d in chars.by_ref() {
-                            if ('@'..='~').contains(&d) {
-                                break;
-                            }
-                        }
-                    }
-                    Some(']') | Some('P') | Some('_') | Some('^') => {
-                        chars.next();
-                        while let Some(d) = chars.next() {
-                            if d == '\u{7}' {
-                                break;
-                            }
-                            if d == '\u{1b}' && chars.peek() == Some(&'\\') {
-                                chars.next();
-                                break;
-                            }
-                        }
-                    }
-                    Some(_) => {
-                        chars.next();
-                    }
-                    None => {}
-                }
-            }
-            '\n' if keep_newlines => out.push('\n'),
-            '\t' => out.push(' '),
-            c if c.is_control() => {}
-            // C1 controls and bidi overrides are control-like too
-            '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}' => {}
-            c => out.push(c),
-        }
-    }
-    out
 }
 
 /// Parse, dispatch, print errors, return the exit code.

@@ -368,7 +368,7 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         };
         let stress = r
             .stress_mpa
-            .map(|m| format!("{} MPa", crate::units::fmt_sig(m, 3)))
+            .map(|m| format!("{} MPa", shardlog_core::units::fmt_sig(m, 3)))
             .unwrap_or_else(|| "—".into());
         writeln!(
             ctx.out,
@@ -406,7 +406,7 @@ pub struct ShowArgs {
 }
 
 fn mpa(x: Option<f64>) -> String {
-    x.map(|v| format!("{} MPa", crate::units::fmt_sig(v / 1e6, 3)))
+    x.map(|v| format!("{} MPa", shardlog_core::units::fmt_sig(v / 1e6, 3)))
         .unwrap_or_else(|| "—".into())
 }
 
@@ -446,7 +446,11 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     )?;
     writeln!(out, "  site        {}", o(&inc.site))?;
     if let Some(tc) = inc.environment.temperature_c {
-        writeln!(out, "  temperature {} °C", crate::units::fmt_sig(tc, 3))?;
+        writeln!(
+            out,
+            "  temperature {} °C",
+            shardlog_core::units::fmt_sig(tc, 3)
+        )?;
     }
     writeln!(
         out,
@@ -464,7 +468,7 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             o(&p.material),
             o(&p.temper),
             p.thickness_m
-                .map(|x| format!("{} mm", crate::units::fmt_sig(x * 1e3, 3)))
+                .map(|x| format!("{} mm", shardlog_core::units::fmt_sig(x * 1e3, 3)))
                 .unwrap_or_default()
         )?;
     }
@@ -493,7 +497,7 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
                 t(&r.boundary),
                 t(&r.radius.display()),
                 r.magnification
-                    .map(|m| format!(" at {}×", crate::units::fmt_sig(m, 3)))
+                    .map(|m| format!(" at {}×", shardlog_core::units::fmt_sig(m, 3)))
                     .unwrap_or_default()
             )?;
         }

@@ -1,7 +1,7 @@
 //! `shardlog stats`: fleet recurrence and strength statistics over the database.
 //!
 //! The store gives one flat row per incident and the exposure rows; everything else is
-//! `crate::fleet` (pure). `render` turns the figures into a table or JSON, so it can be
+//! `shardlog_core::fleet` (pure). `render` turns the figures into a table or JSON, so it can be
 //! tested without a database.
 
 use chrono::NaiveDate;
@@ -9,9 +9,12 @@ use serde_json::{json, Value};
 
 use super::weibull::{fit_json, fit_table};
 use super::{CliError, Context};
-use crate::fleet::trend::{seasonality, trend, Seasonality, Trend};
-use crate::fleet::{group, Exposure, GroupOptions, GroupTable, IncidentFacts, Key, Window};
-use crate::units::{fmt_sig, Unit};
+use shardlog_core::fleet::query::{apply_only, compute, StatsQuery, StatsResult, StressKind};
+use shardlog_core::fleet::query::{
+    METHOD_FLAG, METHOD_GROUP_TREND, METHOD_RATE, METHOD_RATIO, METHOD_SEASON, METHOD_TREND,
+};
+use shardlog_core::fleet::{Exposure, IncidentFacts, Key};
+use shardlog_core::units::{fmt_sig, Unit};
 
 #[derive(Debug, clap::Args)]
 pub struct StatsArgs {
@@ -51,37 +54,6 @@ pub struct StatsArgs {
     pub json: bool,
 }
 
-/// Which stress of an incident the strength statistics use.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum StressKind {
-    Applied,
-    Net,
-}
-
-impl StressKind {
-    pub fn name(self) -> &'static str {
-        match self {
-            StressKind::Applied => "applied",
-            StressKind::Net => "net",
-        }
-    }
-}
-
-/// Checked arguments.
-#[derive(Debug, Clone, PartialEq)]
-pub struct StatsQuery {
-    pub keys: Vec<Key>,
-    pub since: Option<NaiveDate>,
-    pub until: Option<NaiveDate>,
-    pub rates: bool,
-    pub trend: bool,
-    pub weibull: bool,
-    pub origin_type: Option<String>,
-    pub only: Vec<(Key, String)>,
-    pub stress: StressKind,
-    pub json: bool,
-}
-
 fn parse_date(flag: &str, text: &str) -> Result<NaiveDate, CliError> {
     NaiveDate::parse_from_str(text.trim(), "%Y-%m-%d").map_err(|_| {
         CliError::usage(format!(
@@ -91,195 +63,68 @@ fn parse_date(flag: &str, text: &str) -> Result<NaiveDate, CliError> {
     })
 }
 
-impl StatsQuery {
-    pub fn from_args(a: &StatsArgs) -> Result<Self, CliError> {
-        let keys = Key::parse_list(&a.by).map_err(|e| CliError::usage(format!("--by: {e}")))?;
-        let since = a
-            .since
-            .as_deref()
-            .map(|s| parse_date("--since", s))
-            .transpose()?;
-        let until = a
-            .until
-            .as_deref()
-            .map(|s| parse_date("--until", s))
-            .transpose()?;
-        if let (Some(s), Some(u)) = (since, until) {
-            if s > u {
-                return Err(CliError::usage(format!(
-                    "--since {s} is after --until {u}; the window would be empty"
-                )));
-            }
+/// Check the arguments of `stats` and make the query.
+pub fn query_from_args(a: &StatsArgs) -> Result<StatsQuery, CliError> {
+    let keys = Key::parse_list(&a.by).map_err(|e| CliError::usage(format!("--by: {e}")))?;
+    let since = a
+        .since
+        .as_deref()
+        .map(|s| parse_date("--since", s))
+        .transpose()?;
+    let until = a
+        .until
+        .as_deref()
+        .map(|s| parse_date("--until", s))
+        .transpose()?;
+    if let (Some(s), Some(u)) = (since, until) {
+        if s > u {
+            return Err(CliError::usage(format!(
+                "--since {s} is after --until {u}; the window would be empty"
+            )));
         }
-        if a.origin_type.is_some() && !a.weibull {
+    }
+    if a.origin_type.is_some() && !a.weibull {
+        return Err(CliError::usage(
+            "--origin-type chooses the flaw population of the Weibull fit; add --weibull",
+        ));
+    }
+    let stress = match a.stress.trim().to_ascii_lowercase().as_str() {
+        "applied" => StressKind::Applied,
+        "net" => StressKind::Net,
+        other => {
+            return Err(CliError::usage(format!(
+                "--stress: '{other}' is not applied or net"
+            )))
+        }
+    };
+    let mut only = Vec::new();
+    for o in &a.only {
+        let (k, v) = o.split_once('=').ok_or_else(|| {
+            CliError::usage(format!(
+                "--only: '{o}' is not KEY=VALUE, e.g. cause=thermal"
+            ))
+        })?;
+        let key = Key::parse(k).map_err(|e| CliError::usage(format!("--only: {e}")))?;
+        if key.is_time() {
             return Err(CliError::usage(
-                "--origin-type chooses the flaw population of the Weibull fit; add --weibull",
+                "--only: use --since and --until for dates, not month or season",
             ));
         }
-        let stress = match a.stress.trim().to_ascii_lowercase().as_str() {
-            "applied" => StressKind::Applied,
-            "net" => StressKind::Net,
-            other => {
-                return Err(CliError::usage(format!(
-                    "--stress: '{other}' is not applied or net"
-                )))
-            }
-        };
-        let mut only = Vec::new();
-        for o in &a.only {
-            let (k, v) = o.split_once('=').ok_or_else(|| {
-                CliError::usage(format!(
-                    "--only: '{o}' is not KEY=VALUE, e.g. cause=thermal"
-                ))
-            })?;
-            let key = Key::parse(k).map_err(|e| CliError::usage(format!("--only: {e}")))?;
-            if key.is_time() {
-                return Err(CliError::usage(
-                    "--only: use --since and --until for dates, not month or season",
-                ));
-            }
-            only.push((key, v.trim().to_string()));
-        }
-        Ok(StatsQuery {
-            keys,
-            only,
-            stress,
-            since,
-            until,
-            rates: a.rates,
-            trend: a.trend,
-            weibull: a.weibull,
-            origin_type: a.origin_type.clone(),
-            json: a.json,
-        })
+        only.push((key, v.trim().to_string()));
     }
-
-    /// The window: the flags, else the earliest incident (or exposure) and `today`.
-    pub fn window(
-        &self,
-        incidents: &[IncidentFacts],
-        exposures: &[Exposure],
-        today: NaiveDate,
-    ) -> Result<Window, CliError> {
-        let until = self.until.unwrap_or(today);
-        let since = match self.since {
-            Some(s) => s,
-            None => incidents
-                .iter()
-                .map(|f| f.found)
-                .chain(exposures.iter().map(|e| e.from))
-                .filter(|d| *d <= until)
-                .min()
-                .unwrap_or(until),
-        };
-        Window::new(since, until).map_err(|e| CliError::usage(e.to_string()))
-    }
-}
-
-/// Apply the `--only` filters: incidents must match every one; exposure rows must match the
-/// supplier/product/lot/site ones.
-pub fn apply_only(
-    q: &StatsQuery,
-    incidents: &mut Vec<IncidentFacts>,
-    exposures: &mut Vec<Exposure>,
-) {
-    if q.only.is_empty() {
-        return;
-    }
-    let want: Vec<(Key, crate::fleet::GroupValue)> = q
-        .only
-        .iter()
-        .map(|(k, v)| {
-            let value = if v == crate::fleet::group::NOT_RECORDED {
-                None
-            } else {
-                Some(v.clone())
-            };
-            (*k, crate::fleet::GroupValue::Text(value))
-        })
-        .collect();
-    incidents.retain(|f| want.iter().all(|(k, v)| v.matches(*k, f)));
-    exposures.retain(|e| {
-        q.only.iter().all(|(k, v)| {
-            let field = match k {
-                Key::Supplier => e.supplier.as_deref(),
-                Key::Product => e.product.as_deref(),
-                Key::Lot => e.lot.as_deref(),
-                Key::Site => e.site.as_deref(),
-                _ => return true,
-            };
-            field == Some(v.as_str())
-        })
-    });
-}
-
-/// Everything `stats` computed.
-pub struct StatsResult {
-    pub table: GroupTable,
-    pub trend: Option<Result<Trend, String>>,
-    pub seasonality: Option<Seasonality>,
-    /// Pooled fit over every group (only with --weibull).
-    pub overall_weibull: Option<Result<crate::fleet::WeibullFit, String>>,
-    /// Each group's own trend, aligned with `table.rows` (with --trend, when no key is
-    /// month or season).
-    pub group_trends: Option<Vec<Option<crate::fleet::GroupTrend>>>,
-}
-
-/// Compute the statistics (pure).
-pub fn compute(
-    q: &StatsQuery,
-    incidents: &[IncidentFacts],
-    exposures: &[Exposure],
-    window: Window,
-) -> Result<StatsResult, CliError> {
-    let opts = GroupOptions {
-        keys: q.keys.clone(),
-        window,
-        rates: q.rates,
-        weibull: q.weibull,
-        origin_type: q.origin_type.clone(),
-        flag_level: 0.05,
-    };
-    let table = group(incidents, exposures, &opts).map_err(|e| CliError::usage(e.to_string()))?;
-    let (trend_r, season) = if q.trend {
-        let dates: Vec<NaiveDate> = incidents
-            .iter()
-            .map(|f| f.found)
-            .filter(|d| window.contains(*d))
-            .collect();
-        (
-            Some(trend(&dates, exposures, &window).map_err(|e| e.to_string())),
-            Some(seasonality(&dates, exposures, &window)),
-        )
-    } else {
-        (None, None)
-    };
-    let overall_weibull = if q.weibull {
-        let s = crate::fleet::specimens(incidents, &window, q.origin_type.as_deref());
-        Some(crate::fleet::fit(&s).map_err(|e| e.to_string()))
-    } else {
-        None
-    };
-    let group_trends = (q.trend && !q.keys.iter().any(|k| k.is_time()))
-        .then(|| crate::fleet::group_trends(incidents, exposures, &table));
-    Ok(StatsResult {
-        table,
-        trend: trend_r,
-        seasonality: season,
-        overall_weibull,
-        group_trends,
+    Ok(StatsQuery {
+        keys,
+        only,
+        stress,
+        since,
+        until,
+        rates: a.rates,
+        trend: a.trend,
+        weibull: a.weibull,
+        origin_type: a.origin_type.clone(),
+        json: a.json,
     })
 }
-
-pub const METHOD_RATE: &str =
-    "exact Poisson (Garwood) 95 % interval; exposure = pane-years in service inside the window";
-pub const METHOD_RATIO: &str = "rate ratio against the rest of the same stratum: exact conditional binomial test and Clopper-Pearson interval";
-pub const METHOD_FLAG: &str =
-    "rate above the rest by a one-sided exact test, Holm-adjusted over the groups compared, 5 % family-wise";
-pub const METHOD_TREND: &str = "Poisson regression of monthly counts on time (IRLS), likelihood-ratio test, quasi-Poisson when over-dispersed";
-pub const METHOD_GROUP_TREND: &str = "each group's own Poisson regression on its own exposure (as the trend); rising/falling when the Holm-adjusted p-value over the groups is below 5 %";
-pub const METHOD_SEASON: &str =
-    "counts per calendar month against exposure in that month, Pearson chi-square";
 
 fn opt(x: Option<f64>) -> Value {
     match x {
@@ -295,7 +140,7 @@ fn pair(a: f64, b: f64) -> Value {
 /// JSON output.
 /// A group's own trend as JSON (the monthly counts line up with the top-level trend's
 /// months).
-fn group_trend_json(g: &crate::fleet::GroupTrend) -> Value {
+fn group_trend_json(g: &shardlog_core::fleet::GroupTrend) -> Value {
     match &g.trend {
         Ok(tr) => json!({
             "monthly_counts": tr.months.iter().map(|m| m.count).collect::<Vec<_>>(),
@@ -699,7 +544,7 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
                 let mut c: Vec<String> = row.key.iter().map(|k| clean(k)).collect();
                 c.push(row.count.to_string());
                 match g {
-                    Some(crate::fleet::GroupTrend {
+                    Some(shardlog_core::fleet::GroupTrend {
                         trend: Ok(tr),
                         p_adjusted,
                         rising,
@@ -721,7 +566,7 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
                             String::new()
                         });
                     }
-                    Some(crate::fleet::GroupTrend { trend: Err(e), .. }) => {
+                    Some(shardlog_core::fleet::GroupTrend { trend: Err(e), .. }) => {
                         c.push(format!("not estimated: {e}"));
                     }
                     None => c.push("—".into()),
@@ -796,7 +641,7 @@ pub fn to_text(q: &StatsQuery, r: &StatsResult) -> String {
             |rows: &mut Vec<Vec<String>>,
              label: Vec<String>,
              n: usize,
-             w: Option<Result<&crate::fleet::WeibullFit, String>>| {
+             w: Option<Result<&shardlog_core::fleet::WeibullFit, String>>| {
                 let mut c = label.clone();
                 c.push(n.to_string());
                 match w {
@@ -880,8 +725,10 @@ pub fn render(
     exposures: &[Exposure],
     today: NaiveDate,
 ) -> Result<String, CliError> {
-    let window = q.window(incidents, exposures, today)?;
-    let r = compute(q, incidents, exposures, window)?;
+    let window = q
+        .window(incidents, exposures, today)
+        .map_err(CliError::usage)?;
+    let r = compute(q, incidents, exposures, window).map_err(CliError::usage)?;
     if q.json {
         serde_json::to_string_pretty(&to_json(q, &r))
             .map(|s| s + "\n")
@@ -889,42 +736,6 @@ pub fn render(
     } else {
         Ok(to_text(q, &r))
     }
-}
-
-/// The incidents and exposure rows the statistics need, from the store.
-pub fn load(
-    store: &crate::store::Store,
-    q: &StatsQuery,
-) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
-    load_with(store, q, &[])
-}
-
-/// [`load`], with the facts of `extra` keys too (the query's keys, `--only` keys and, with
-/// `--origin-type`, the origin type are always read; the others are left unrecorded).
-pub fn load_with(
-    store: &crate::store::Store,
-    q: &StatsQuery,
-    extra: &[Key],
-) -> Result<(Vec<IncidentFacts>, Vec<Exposure>), CliError> {
-    let stress = match q.stress {
-        StressKind::Applied => crate::store::FleetStress::Applied,
-        StressKind::Net => crate::store::FleetStress::Net,
-    };
-    let mut keys: Vec<Key> = q.keys.iter().chain(extra).copied().collect();
-    keys.extend(q.only.iter().map(|(k, _)| *k));
-    if q.origin_type.is_some() {
-        keys.push(Key::OriginType);
-    }
-    let incidents = store
-        .fleet_facts(q.since, q.until, stress, Some(&keys))
-        .map_err(|e| CliError::work(e.to_string()))?;
-    let exposures = store
-        .exposure()
-        .map_err(|e| CliError::work(e.to_string()))?
-        .iter()
-        .map(|e| e.to_fleet())
-        .collect();
-    Ok((incidents, exposures))
 }
 
 /// Accept an origin-type code or its label ("inclusion_nis" or "inclusion: nickel sulfide
@@ -948,13 +759,15 @@ fn origin_code(store: &crate::store::Store, given: &str) -> Result<String, CliEr
 }
 
 pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let mut q = StatsQuery::from_args(&args)?;
+    let mut q = query_from_args(&args)?;
     let store =
         crate::store::Store::open_existing(&ctx.db).map_err(|e| CliError::work(e.to_string()))?;
     if let Some(o) = &q.origin_type {
         q.origin_type = Some(origin_code(&store, o)?);
     }
-    let (mut incidents, mut exposures) = load(&store, &q)?;
+    let (mut incidents, mut exposures) = store
+        .stats_input(&q, &[])
+        .map_err(|e| CliError::work(e.to_string()))?;
     apply_only(&q, &mut incidents, &mut exposures);
     // The clock is read here, at the edge: the default end of the window is today.
     let today = chrono::Utc::now().date_naive();
@@ -1030,7 +843,7 @@ mod tests {
     }
 
     fn query(by: &str) -> StatsQuery {
-        StatsQuery::from_args(&StatsArgs {
+        query_from_args(&StatsArgs {
             by: by.into(),
             since: Some("2025-01-01".into()),
             until: Some("2025-12-31".into()),
@@ -1142,7 +955,7 @@ mod tests {
             a("cause", Some("2026-01-01"), None, false),
             a("cause", None, Some("inclusion"), false),
         ] {
-            let e = StatsQuery::from_args(&args).unwrap_err();
+            let e = query_from_args(&args).unwrap_err();
             assert_eq!(e.exit_code(), 2, "{e}");
         }
     }

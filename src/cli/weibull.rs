@@ -6,8 +6,8 @@ use std::path::PathBuf;
 use serde_json::{json, Value};
 
 use super::{CliError, Context};
-use crate::fleet::weibull::{fit, Specimen, WeibullError, WeibullFit};
-use crate::units::{self, fmt_sig, Dimension, Unit};
+use shardlog_core::fleet::weibull::{fit, Specimen, WeibullError, WeibullFit};
+use shardlog_core::units::{self, fmt_sig, Dimension, Unit};
 
 #[derive(Debug, clap::Args)]
 pub struct WeibullArgs {
@@ -262,7 +262,7 @@ pub fn explain(e: &WeibullError, col: &StrengthColumn) -> String {
     }
 }
 
-fn interval_mpa(i: crate::fleet::Interval) -> Value {
+fn interval_mpa(i: shardlog_core::fleet::Interval) -> Value {
     json!([units::to_mpa(i.low), units::to_mpa(i.high)])
 }
 
@@ -322,7 +322,7 @@ pub fn fit_json(f: &WeibullFit) -> Value {
     v
 }
 
-fn iv(i: crate::fleet::Interval, unit: Unit) -> String {
+fn iv(i: shardlog_core::fleet::Interval, unit: Unit) -> String {
     format!(
         "[{}, {}]",
         fmt_sig(unit.from_si(i.low), 4),

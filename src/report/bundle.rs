@@ -28,9 +28,9 @@ use super::chart::{Chart, WeibullSeries};
 use super::doc::{Block, Document, Paper, Table};
 use super::source::{incident_content, Labels};
 use super::summary::{self, IncidentContent, Pictures, Proof, CAUTIONS};
-use crate::fleet;
 use crate::store::{self, Filter, Store, StoreError};
-use crate::units;
+use shardlog_core::fleet;
+use shardlog_core::units;
 
 pub const BUNDLE_FORMAT: &str = "shardlog dispute bundle 1";
 
@@ -411,7 +411,7 @@ fn cover(
     let mut facts = s.fleet_facts(
         opts.since,
         opts.until,
-        store::FleetStress::Applied,
+        shardlog_core::fleet::StressKind::Applied,
         Some(keys),
     )?;
     let exposure = s.exposure()?;

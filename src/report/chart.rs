@@ -143,7 +143,7 @@ pub fn fmt_tick(v: f64) -> String {
     if v == v.round() && v.abs() < 1e7 {
         return format!("{}", v as i64);
     }
-    let s = crate::units::fmt_sig(v, 3);
+    let s = shardlog_core::units::fmt_sig(v, 3);
     if s.contains('.') && !s.contains('e') {
         s.trim_end_matches('0').trim_end_matches('.').to_string()
     } else {

@@ -5,9 +5,11 @@
 use std::collections::HashMap;
 use std::sync::Arc;
 
-use crate::fracture::{self, Analysis, AnalysisInput, Boundary, BoundaryReadings, Origin, Temper};
 use crate::store::{self, Incident, LookupKind, Store, StoreError};
-use crate::units;
+use shardlog_core::fracture::{
+    self, Analysis, AnalysisInput, Boundary, BoundaryReadings, Origin, Temper,
+};
+use shardlog_core::units;
 
 use super::canonical::sha256_hex;
 use super::summary::*;

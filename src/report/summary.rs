@@ -11,8 +11,8 @@ use serde::{Deserialize, Serialize};
 
 use super::doc::{Block, Document, Table, NOT_RECORDED};
 use super::image::Picture;
-use crate::fracture::{Analysis, ConstantUsed};
-use crate::units::{self, Unit};
+use shardlog_core::fracture::{Analysis, ConstantUsed};
+use shardlog_core::units::{self, Unit};
 
 /// Attachment bytes by SHA-256 (absent: listed, not shown).
 pub type Pictures = HashMap<String, Arc<Vec<u8>>>;

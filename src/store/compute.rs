@@ -4,7 +4,7 @@
 use chrono::{DateTime, Utc};
 
 use super::model::*;
-use crate::fracture::{
+use shardlog_core::fracture::{
     self, AnalysisInput, Boundary, BoundaryReadings, FractureError, Origin, Temper,
 };
 

@@ -23,8 +23,8 @@ use super::audit::{Bulk, Chain, INCIDENT};
 use super::incidents::{format_reference, insert_prepared, prepare, Prepared, Refs};
 use super::model::*;
 use super::{compute, files, refdata, sqlite, Store, StoreError};
-use crate::fracture::{self, Boundary};
-use crate::units::Dimension;
+use shardlog_core::fracture::{self, Boundary};
+use shardlog_core::units::Dimension;
 
 pub const DEFAULT_INCIDENTS: u64 = 400;
 pub const DEFAULT_SEED: u64 = 20_260_314;

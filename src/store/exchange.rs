@@ -15,7 +15,7 @@ use super::incidents::{self, format_reference, next_reference, reference_prefix,
 use super::model::*;
 use super::refdata::{self, fmt_date};
 use super::{Store, StoreError};
-use crate::units::{self, Dimension};
+use shardlog_core::units::{self, Dimension};
 
 /// The `format` field of a JSON export.
 pub const JSON_FORMAT: &str = "shardlog-export";

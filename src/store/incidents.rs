@@ -6,6 +6,7 @@ use std::collections::{HashMap, HashSet};
 use chrono::NaiveDate;
 use rusqlite::types::{ToSqlOutput, Value as SqlValue, ValueRef};
 use rusqlite::{params, params_from_iter, Connection, OptionalExtension, TransactionBehavior};
+use shardlog_core::fleet::StressKind;
 
 use super::audit::{fmt_time, parse_time, Chain, INCIDENT};
 use super::canon;
@@ -1181,10 +1182,10 @@ fn check_measured(
     problems: &mut Vec<(String, String)>,
     field: &str,
     m: &Measured,
-    dim: crate::units::Dimension,
+    dim: shardlog_core::units::Dimension,
 ) {
     let typed = format!("{} {}", m.text, m.unit);
-    match crate::units::parse_with_unit(&typed, dim) {
+    match shardlog_core::units::parse_with_unit(&typed, dim) {
         Err(e) => problems.push((field.to_string(), e.to_string())),
         Ok((si, _)) => {
             if !(m.si.is_finite() && (si - m.si).abs() <= 1e-9 * si.abs().max(1e-300)) {
@@ -1220,7 +1221,7 @@ fn check_code(
 
 /// Every problem with an incident's content, as (field path, what is wrong).
 pub(crate) fn validate(lookups: &Lookups, inc: &Incident) -> Vec<(String, String)> {
-    use crate::units::Dimension;
+    use shardlog_core::units::Dimension;
     let mut p = Vec::new();
     check_code(
         lookups,
@@ -2129,10 +2130,10 @@ impl Store {
         &self,
         since: Option<NaiveDate>,
         until: Option<NaiveDate>,
-        stress: FleetStress,
-        keys: Option<&[crate::fleet::Key]>,
-    ) -> Result<Vec<crate::fleet::IncidentFacts>, StoreError> {
-        use crate::fleet::Key;
+        stress: StressKind,
+        keys: Option<&[shardlog_core::fleet::Key]>,
+    ) -> Result<Vec<shardlog_core::fleet::IncidentFacts>, StoreError> {
+        use shardlog_core::fleet::Key;
         // one snapshot for the value list, the code tables and the rows: a writer between
         // them would leave numbers this read does not know (ended, read-only, when dropped)
         let _snapshot = if self.conn.is_autocommit() {
@@ -2198,8 +2199,8 @@ impl Store {
             wanted.push((key, column, t));
         }
         let stress_col = match stress {
-            FleetStress::Applied => "applied_stress_pa",
-            FleetStress::Net => "stress_pa",
+            StressKind::Applied => "applied_stress_pa",
+            StressKind::Net => "stress_pa",
         };
         let mut conds = Vec::new();
         let mut args = Vec::new();
@@ -2244,7 +2245,7 @@ impl Store {
                     d
                 }
             };
-            let mut f = crate::fleet::IncidentFacts {
+            let mut f = shardlog_core::fleet::IncidentFacts {
                 found,
                 stress_pa: r.get(1)?,
                 ..Default::default()

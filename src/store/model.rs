@@ -39,9 +39,10 @@ pub struct Measured {
 
 impl Measured {
     /// Parse "1.25 mm" (any unit of the dimension that `units` accepts).
-    pub fn parse(input: &str, dim: crate::units::Dimension) -> Result<Measured, String> {
-        let (si, unit) = crate::units::parse_with_unit(input, dim).map_err(|e| e.to_string())?;
-        let (number, _) = crate::units::split_number(input.trim());
+    pub fn parse(input: &str, dim: shardlog_core::units::Dimension) -> Result<Measured, String> {
+        let (si, unit) =
+            shardlog_core::units::parse_with_unit(input, dim).map_err(|e| e.to_string())?;
+        let (number, _) = shardlog_core::units::split_number(input.trim());
         let number = number.to_string();
         Ok(Measured {
             text: number,
@@ -550,17 +551,6 @@ pub struct FleetRow {
     pub has_stress: bool,
 }
 
-/// Which back-calculated stress [`Store::fleet_facts`] puts in each incident's facts.
-///
-/// [`Store::fleet_facts`]: crate::store::Store::fleet_facts
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum FleetStress {
-    /// Net minus residual stress: the service load at fracture.
-    Applied,
-    /// The mirror's stress at the origin.
-    Net,
-}
-
 /// Exposure for fleet rates: panes of one supplier/product/lot at one site.
 pub type ExposureRow = Exposure;
 
@@ -601,8 +591,8 @@ impl VerifyReport {
 impl FleetRow {
     /// The facts the fleet statistics group, with the stress the caller chose (applied or
     /// net, filtered as it needs). One mapping for every caller (stats, dispute bundles).
-    pub fn into_facts(self, stress_pa: Option<f64>) -> crate::fleet::IncidentFacts {
-        crate::fleet::IncidentFacts {
+    pub fn into_facts(self, stress_pa: Option<f64>) -> shardlog_core::fleet::IncidentFacts {
+        shardlog_core::fleet::IncidentFacts {
             cause: self.cause.map(Into::into),
             origin_type: self.origin_type.map(Into::into),
             supplier: self.supplier.map(Into::into),
@@ -619,8 +609,8 @@ impl FleetRow {
 
 impl Exposure {
     /// The same panes as the fleet statistics count them.
-    pub fn to_fleet(&self) -> crate::fleet::Exposure {
-        crate::fleet::Exposure {
+    pub fn to_fleet(&self) -> shardlog_core::fleet::Exposure {
+        shardlog_core::fleet::Exposure {
             supplier: Some(self.supplier.clone()),
             product: self.product.clone(),
             lot: self.lot.clone(),

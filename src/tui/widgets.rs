@@ -45,7 +45,7 @@ pub fn pad(s: &str, width: usize) -> String {
 
 /// Clean user text for display (no escape sequences, no control characters).
 pub fn clean(s: &str) -> String {
-    crate::cli::sanitize_for_terminal(s, false)
+    shardlog_core::text::sanitize_for_terminal(s, false)
 }
 
 /// A rectangle of at most `w`×`h` centred in `area`.

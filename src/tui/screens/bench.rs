@@ -7,11 +7,11 @@ use ratatui::Frame;
 
 use crate::app::bench::Outcome;
 use crate::app::App;
-use crate::fracture::Analysis;
 use crate::tui::theme::Theme;
 use crate::tui::view::{boxed, CAUTIONS};
 use crate::tui::widgets::{self, clean};
-use crate::units::{fmt_sig, format, Unit};
+use shardlog_core::fracture::Analysis;
+use shardlog_core::units::{fmt_sig, format, Unit};
 
 /// The short caution line shown when the window has no room for the full text.
 pub const SHORT_CAUTION: &str =

@@ -10,10 +10,10 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::{Axis, Chart, Dataset, GraphType, LegendPosition, Widget};
 
 use crate::app::hypothesis::{Check, KChart, KINDS};
-use crate::loads::verdict::{Finding, SoundPart};
 use crate::tui::theme::Theme;
 use crate::tui::widgets::clean;
-use crate::units::{fmt_sig, format, Unit};
+use shardlog_core::loads::verdict::{Finding, SoundPart};
+use shardlog_core::units::{fmt_sig, format, Unit};
 
 fn mpa(pa: f64) -> String {
     format(pa, Unit::Megapascal)

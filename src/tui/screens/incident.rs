@@ -10,7 +10,7 @@ use crate::app::App;
 use crate::store::model::{Incident, LookupKind};
 use crate::tui::theme::Theme;
 use crate::tui::widgets::{self, clean};
-use crate::units::{format, Unit};
+use shardlog_core::units::{format, Unit};
 
 pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     let Some(state) = &app.incident else {

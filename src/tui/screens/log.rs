@@ -125,7 +125,7 @@ fn cell(app: &App, row: &LogRow, col: usize, screen: u16) -> String {
         8 => {
             let t = row
                 .stress_mpa
-                .map(|s| format!("{} MPa", crate::units::fmt_sig(s, 3)))
+                .map(|s| format!("{} MPa", shardlog_core::units::fmt_sig(s, 3)))
                 .unwrap_or_else(|| "—".to_string());
             // right-aligned in its column
             let w = unicode_width::UnicodeWidthStr::width(t.as_str());

@@ -12,12 +12,12 @@ use unicode_width::UnicodeWidthStr;
 
 use crate::app::review::{Panel, ReviewData, ReviewState};
 use crate::app::{group_thousands, App};
-use crate::fleet::group::NOT_RECORDED;
-use crate::fleet::Key;
 use crate::store::model::LookupKind;
 use crate::tui::theme::Theme;
 use crate::tui::widgets::{clean, fit, pad, wrap};
-use crate::units::{fmt_sig, to_mpa};
+use shardlog_core::fleet::group::NOT_RECORDED;
+use shardlog_core::fleet::Key;
+use shardlog_core::units::{fmt_sig, to_mpa};
 
 pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     if body.width < 4 || body.height < 3 {
@@ -264,7 +264,7 @@ fn trend_text(d: &ReviewData) -> (String, bool) {
 }
 
 /// A group's trend line, whether it is flagged, and its months.
-type GroupMonths<'a> = (String, bool, &'a [crate::fleet::MonthCount]);
+type GroupMonths<'a> = (String, bool, &'a [shardlog_core::fleet::MonthCount]);
 
 /// The trend line of the group highlighted on the Groups panel, with its months, when the
 /// per-month panel shows that group (`g`).
@@ -342,7 +342,7 @@ fn months(
     let rows: Vec<(String, f64, String)> = months
         .iter()
         .map(|m| {
-            let full = crate::fleet::group::month_bounds(m.year, m.month)
+            let full = shardlog_core::fleet::group::month_bounds(m.year, m.month)
                 .map(|(a, b)| (b - a).num_days() + 1)
                 .unwrap_or(m.days);
             let part = if m.days < full {
@@ -466,7 +466,7 @@ fn weibull(
             Some(Ok(w)) => Some((labels.of(&d.table.keys, &g.key), w)),
             _ => None,
         });
-    let one = |w: &crate::fleet::WeibullFit| {
+    let one = |w: &shardlog_core::fleet::WeibullFit| {
         format!(
             "m = {} (95\u{a0}% {}–{}), σθ = {} MPa, n = {}",
             fmt_sig(w.modulus, 3),
@@ -497,7 +497,7 @@ fn weibull(
         Layout::vertical([Constraint::Fill(1), Constraint::Length(1)]).areas(area);
     let [ylab, plot] =
         Layout::horizontal([Constraint::Length(7), Constraint::Fill(1)]).areas(plot_rows);
-    let gplot: &[crate::fleet::weibull::PlotPoint] =
+    let gplot: &[shardlog_core::fleet::weibull::PlotPoint] =
         grp.as_ref().map(|g| &g.1.plot[..]).unwrap_or(&[]);
     let xs: Vec<f64> = fit_r.plot.iter().map(|p| p.x).collect();
     let ys: Vec<f64> = fit_r.plot.iter().map(|p| p.y).collect();

@@ -8,10 +8,10 @@ use chrono::{NaiveDate, TimeZone, Utc};
 use ratatui::crossterm::event::KeyCode;
 use shardlog::app::review::Panel;
 use shardlog::app::{App, Screen};
-use shardlog::cli::stats::{StatsQuery, StressKind};
-use shardlog::fleet::{group, GroupOptions, GroupTable, Key};
 use shardlog::store::{Cause, ComputedResult, Examination, Exposure, Incident, Ply, Stamp, Store};
 use shardlog::tui::harness::{key, render, send, type_str};
+use shardlog_core::fleet::query::{StatsQuery, StressKind};
+use shardlog_core::fleet::{group, GroupOptions, GroupTable, Key};
 
 fn d(y: i32, m: u32, day: u32) -> NaiveDate {
     NaiveDate::from_ymd_opt(y, m, day).unwrap()
@@ -175,7 +175,7 @@ fn expected(db: &Path, app: &App, keys: &[Key]) -> GroupTable {
         stress: StressKind::Applied,
         json: false,
     };
-    let (facts, exposure) = shardlog::cli::stats::load(&store, &q).unwrap();
+    let (facts, exposure) = store.stats_input(&q, &[]).unwrap();
     let window = app.review.data.as_ref().expect("figures").window;
     group(
         &facts,
@@ -471,7 +471,7 @@ fn incidents_without_a_cause_come_last_in_the_cause_bars() {
     assert_eq!(last.count, 20);
     assert_eq!(
         last.key,
-        vec![shardlog::fleet::group::NOT_RECORDED.to_string()]
+        vec![shardlog_core::fleet::group::NOT_RECORDED.to_string()]
     );
     // the counts of the causes found stay largest first
     let counts: Vec<u64> = rows[..rows.len() - 1].iter().map(|r| r.count).collect();

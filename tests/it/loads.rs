@@ -1,13 +1,13 @@
 //! Service-load hypotheses against handbook values. Each check names its source; "from memory"
 //! marks a value not confirmed against the document in hand (with a tolerance to match).
 
-use shardlog::loads::contact::{self, SphereImpact};
-use shardlog::loads::critical;
-use shardlog::loads::impact::{self, Impulse};
-use shardlog::loads::plates::{self, Edges, Plate, PlateLoad, Shape};
-use shardlog::loads::thermal::{self, Thermal};
-use shardlog::loads::verdict::{self, Finding, Measured, SoundPart};
-use shardlog::loads::{Elastic, LoadError};
+use shardlog_core::loads::contact::{self, SphereImpact};
+use shardlog_core::loads::critical;
+use shardlog_core::loads::impact::{self, Impulse};
+use shardlog_core::loads::plates::{self, Edges, Plate, PlateLoad, Shape};
+use shardlog_core::loads::thermal::{self, Thermal};
+use shardlog_core::loads::verdict::{self, Finding, Measured, SoundPart};
+use shardlog_core::loads::{Elastic, LoadError};
 
 fn close(got: f64, want: f64, rel: f64, what: &str) {
     let err = ((got - want) / want).abs();
@@ -940,7 +940,7 @@ fn critical_curve_crosses_toughness_at_the_critical_size() {
 
 #[test]
 fn critical_flaw_curve_with_the_core_geometry_factors() {
-    use shardlog::fracture::flaw::{geometry_factor, FlawGeometry};
+    use shardlog_core::fracture::flaw::{geometry_factor, FlawGeometry};
     // Y values of reference-values.md (sources there): through √π = 1.772, edge 1.988
     // (Tada, Paris & Irwin), penny 2/√π = 1.128 (Sneddon), semicircular Newman–Raju deepest
     // point 1.174 / surface 1.292 (governing: the larger), semi-elliptical a/c 0.8 deepest 1.322.

@@ -13,8 +13,7 @@ use std::os::unix::fs::PermissionsExt;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-mod pty;
-use pty::{Pty, BIN};
+use crate::support::pty::{Pty, BIN};
 
 fn shardlog(db: &Path, args: &[&str]) -> Output {
     Command::new(BIN)

@@ -2,7 +2,6 @@
 //! the screen parsed with vt100, waiting on screen conditions with a generous timeout (never
 //! a fixed sleep). Every look at the screen also fails the test if it ever speaks of a
 //! locked database.
-#![allow(dead_code)]
 
 use std::io::Write;
 use std::path::Path;

@@ -5,7 +5,7 @@ use std::path::{Path, PathBuf};
 
 use chrono::{DateTime, NaiveDate, Utc};
 use shardlog::store::*;
-use shardlog::units::Dimension;
+use shardlog_core::units::Dimension;
 
 fn stamp(s: &str) -> Stamp {
     Stamp::new(

@@ -1,12 +1,10 @@
 //! `shardlog report` from outside: a database made through the store's API, the real
 //! binary, every format read back (PDF through pdftotext).
 
-mod report_common;
-
 use std::path::Path;
 use std::process::Command;
 
-use report_common::*;
+use crate::support::report::*;
 use shardlog::report::canonical;
 use shardlog::report::summary::SummaryJson;
 

@@ -2,12 +2,10 @@
 //! and each kind of edit (a figure, a photo, a removed incident, a PDF, an added file, a
 //! record changed after the export) is found and named.
 
-mod report_common;
-
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-use report_common::*;
+use crate::support::report::*;
 use shardlog::report::bundle::{self, BundleFile};
 use shardlog::report::canonical::{digest, sha256_hex};
 

@@ -1,8 +1,8 @@
 //! Inputs that once broke the core, found by the fuzz targets in fuzz/ and by the hostile
 //! command-line table. Each stays here so the bug cannot come back unnoticed.
 
-use shardlog::fracture::{self, materials, AnalysisInput, Boundary};
-use shardlog::loads::{self, critical, impact, plates, thermal, Elastic, Hypothesis};
+use shardlog_core::fracture::{self, materials, AnalysisInput, Boundary};
+use shardlog_core::loads::{self, critical, impact, plates, thermal, Elastic, Hypothesis};
 
 fn soda_lime() -> fracture::Material {
     materials::find("soda-lime").expect("soda-lime is in the library")

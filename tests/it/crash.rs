@@ -195,7 +195,12 @@ fn kill_loop(mode: &str, rounds: usize) -> (usize, usize) {
             .incident_count()
             .expect("count");
         let mut child = Command::new(&exe)
-            .args(["--exact", "crash_child", "--nocapture", "--test-threads=1"])
+            .args([
+                "--exact",
+                "crash::crash_child",
+                "--nocapture",
+                "--test-threads=1",
+            ])
             .env(CHILD_ENV, mode)
             .env("CRASH_DB", &db)
             .stdout(Stdio::piped())

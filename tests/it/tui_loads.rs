@@ -1,14 +1,14 @@
 //! The load-hypothesis panel of the bench calculator (issue 7), against ratatui's TestBackend,
 //! driven by key events through the key table. Every figure expected here is what
-//! `shardlog::loads` itself gives for the same inputs: the panel must show the core's numbers.
+//! `shardlog_core::loads` itself gives for the same inputs: the panel must show the core's numbers.
 
 use ratatui::crossterm::event::KeyCode;
 use shardlog::app::bench::Outcome;
 use shardlog::app::App;
-use shardlog::fracture::materials;
-use shardlog::loads::{self, critical, plates, verdict, Hypothesis};
 use shardlog::tui::harness::{key, render, send, type_str};
-use shardlog::units::{format, Unit};
+use shardlog_core::fracture::materials;
+use shardlog_core::loads::{self, critical, plates, verdict, Hypothesis};
+use shardlog_core::units::{format, Unit};
 
 fn bench_app() -> App {
     App::new(&std::env::temp_dir().join("shardlog-tui-loads-none.db"))

@@ -11,8 +11,7 @@ use std::path::Path;
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
-mod pty;
-use pty::{Pty, BIN, TIMEOUT};
+use crate::support::pty::{Pty, BIN, TIMEOUT};
 
 fn shardlog(db: &Path, args: &[&str]) -> std::process::Output {
     Command::new(BIN)

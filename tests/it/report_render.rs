@@ -2,12 +2,10 @@
 //! through headless Chromium (print to PDF and a screenshot). scripts/test installs
 //! poppler-utils and chromium when they are missing.
 
-mod report_common;
-
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-use report_common::*;
+use crate::support::report::*;
 use shardlog::report::doc::Paper;
 use shardlog::report::{html, markdown, pdf};
 

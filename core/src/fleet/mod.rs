@@ -8,6 +8,7 @@
 //! - [`special`]: incomplete gamma and beta functions and their quantiles.
 
 pub mod group;
+pub mod query;
 pub mod rates;
 pub mod special;
 pub mod trend;
@@ -17,6 +18,7 @@ pub use group::{
     group, group_trends, histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow,
     GroupTable, GroupTrend, GroupValue, IncidentFacts, Key, Window,
 };
+pub use query::{StatsQuery, StressKind};
 pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
 pub use trend::{monthly_counts, seasonality, trend, MonthCount, Seasonality, Trend};
 pub use weibull::{fit, fit_population, fit_values, Interval, Specimen, WeibullError, WeibullFit};

@@ -127,8 +127,8 @@ fn q_types_into_a_field_and_ctrl_c_quits() {
 mod bench {
     use super::*;
     use shardlog::app::bench::Outcome;
-    use shardlog::fracture::{self, materials, AnalysisInput, Boundary};
-    use shardlog::units::{format, Unit};
+    use shardlog_core::fracture::{self, materials, AnalysisInput, Boundary};
+    use shardlog_core::units::{format, Unit};
 
     /// Tab from the material pick-list to the field with `label`.
     fn focus(app: &mut App, key_name: &str) {
@@ -271,19 +271,23 @@ mod bench {
         assert_eq!(analysis.headline, Boundary::Branching);
         let net = analysis.stress_pa;
         let m = materials::find("soda-lime").unwrap();
-        let expected = shardlog::loads::thermal::edge_stress(&shardlog::loads::thermal::Thermal {
-            youngs_modulus: m.youngs_modulus.as_ref().unwrap().value,
-            expansion: m.expansion.as_ref().unwrap().value,
-            delta_t: 30.0,
-            restraint: 1.0,
-        })
-        .unwrap();
+        let expected =
+            shardlog_core::loads::thermal::edge_stress(&shardlog_core::loads::thermal::Thermal {
+                youngs_modulus: m.youngs_modulus.as_ref().unwrap().value,
+                expansion: m.expansion.as_ref().unwrap().value,
+                delta_t: 30.0,
+                restraint: 1.0,
+            })
+            .unwrap();
         let Some(Ok(t)) = &app.bench.thermal else {
             panic!("{:?}", app.bench.thermal)
         };
         assert_eq!(t.stress_pa, expected.stress);
         let v = t.verdict.as_ref().unwrap();
-        assert_eq!(v.finding, shardlog::loads::verdict::Finding::Consistent);
+        assert_eq!(
+            v.finding,
+            shardlog_core::loads::verdict::Finding::Consistent
+        );
         let text = screen_text(&render(&mut app, 100, 30));
         assert!(
             text.contains(&format(expected.stress, Unit::Megapascal)),

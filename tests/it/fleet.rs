@@ -4,12 +4,12 @@
 //! scripts/fleet-reference.py and copied here; this test does not need python.
 
 use chrono::NaiveDate;
-use shardlog::fleet::rates::{
+use shardlog_core::fleet::rates::{
     binomial_upper_tail, clopper_pearson, holm_adjust, poisson_interval, rate_ratio,
 };
-use shardlog::fleet::special::{beta_i, chi2_quantile, gamma_p, gamma_q};
-use shardlog::fleet::weibull::{fit, fit_population, fit_values, unbiasing_factor, Specimen};
-use shardlog::fleet::{
+use shardlog_core::fleet::special::{beta_i, chi2_quantile, gamma_p, gamma_q};
+use shardlog_core::fleet::weibull::{fit, fit_population, fit_values, unbiasing_factor, Specimen};
+use shardlog_core::fleet::{
     group, seasonality, trend, Exposure, GroupOptions, IncidentFacts, Key, Window,
 };
 
@@ -573,7 +573,7 @@ fn bad_keys_and_windows() {
 
 mod properties {
     use proptest::prelude::*;
-    use shardlog::fleet::weibull::{fit, Specimen, WeibullError};
+    use shardlog_core::fleet::weibull::{fit, Specimen, WeibullError};
 
     proptest! {
         // Any positive sample with at least two distinct failures either fits, satisfying
@@ -639,7 +639,7 @@ fn each_group_gets_its_own_trend() {
         flag_level: 0.05,
     };
     let table = group(&inc, &exposures, &opts(vec![Key::Supplier])).unwrap();
-    let trends = shardlog::fleet::group_trends(&inc, &exposures, &table);
+    let trends = shardlog_core::fleet::group_trends(&inc, &exposures, &table);
     assert_eq!(trends.len(), 2);
     for (row, g) in table.rows.iter().zip(&trends) {
         let g = g.as_ref().unwrap();
@@ -656,7 +656,7 @@ fn each_group_gets_its_own_trend() {
             .filter(|e| e.supplier.as_deref() == Some(row.key[0].as_str()))
             .cloned()
             .collect();
-        let alone = shardlog::fleet::trend(&own, &own_exp, &w).unwrap();
+        let alone = shardlog_core::fleet::trend(&own, &own_exp, &w).unwrap();
         assert_eq!(t, &alone, "{}", row.key[0]);
         assert_eq!(t.months.iter().map(|m| m.count).sum::<u64>(), row.count);
         assert!(g.p_adjusted.unwrap() >= t.p_value);
@@ -680,7 +680,7 @@ fn each_group_gets_its_own_trend() {
     }
     // by cause (not an exposure key): each cause against all the exposure
     let by_cause = group(&inc, &exposures, &opts(vec![Key::Cause])).unwrap();
-    let tc = shardlog::fleet::group_trends(&inc, &exposures, &by_cause);
+    let tc = shardlog_core::fleet::group_trends(&inc, &exposures, &by_cause);
     let thermal = by_cause
         .rows
         .iter()
@@ -689,7 +689,9 @@ fn each_group_gets_its_own_trend() {
     assert!(tc[thermal].as_ref().unwrap().rising);
     // a group that is one month has no trend over the window
     let by_month = group(&inc, &exposures, &opts(vec![Key::Month])).unwrap();
-    assert!(shardlog::fleet::group_trends(&inc, &exposures, &by_month)
-        .iter()
-        .all(Option::is_none));
+    assert!(
+        shardlog_core::fleet::group_trends(&inc, &exposures, &by_month)
+            .iter()
+            .all(Option::is_none)
+    );
 }

@@ -1,6 +1,5 @@
 //! Shared by the report tests: a document that uses every block kind, optionally with the
 //! hostile texts and files of issue 6 (invented names only).
-#![allow(dead_code)]
 
 use std::sync::Arc;
 
@@ -153,7 +152,7 @@ use chrono::{DateTime, Duration, NaiveDate, Utc};
 use shardlog::store::{
     self, ComputedResult, Exposure, Incident, Measured, MirrorReading, Stamp, Store, Supplier,
 };
-use shardlog::units::Dimension;
+use shardlog_core::units::Dimension;
 
 pub fn at(s: &str) -> DateTime<Utc> {
     DateTime::parse_from_rfc3339(s).unwrap().with_timezone(&Utc)

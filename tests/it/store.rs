@@ -3,7 +3,7 @@
 
 use chrono::{DateTime, NaiveDate, TimeZone, Utc};
 use shardlog::store::*;
-use shardlog::units::Dimension;
+use shardlog_core::units::Dimension;
 
 fn at(s: &str) -> DateTime<Utc> {
     DateTime::parse_from_rfc3339(s).unwrap().with_timezone(&Utc)

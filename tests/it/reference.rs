@@ -5,12 +5,12 @@
 use std::f64::consts::PI;
 
 use proptest::prelude::*;
-use shardlog::fracture::flaw::{geometry_factor, geometry_factor_detail, FlawGeometry};
-use shardlog::fracture::materials::{self, Provenance};
-use shardlog::fracture::residual::Temper;
-use shardlog::fracture::uncertainty::t975;
-use shardlog::fracture::{analyze, AnalysisInput, Boundary, Origin};
-use shardlog::units::{self, Dimension, Unit};
+use shardlog_core::fracture::flaw::{geometry_factor, geometry_factor_detail, FlawGeometry};
+use shardlog_core::fracture::materials::{self, Provenance};
+use shardlog_core::fracture::residual::Temper;
+use shardlog_core::fracture::uncertainty::t975;
+use shardlog_core::fracture::{analyze, AnalysisInput, Boundary, Origin};
+use shardlog_core::units::{self, Dimension, Unit};
 
 /// |got − want| ≤ tol, with a message naming the check.
 fn check(what: &str, got: f64, want: f64, tol: f64) {
@@ -20,7 +20,7 @@ fn check(what: &str, got: f64, want: f64, tol: f64) {
     );
 }
 
-fn soda() -> shardlog::fracture::Material {
+fn soda() -> shardlog_core::fracture::Material {
     materials::find("soda-lime").expect("soda-lime in the library")
 }
 
@@ -38,9 +38,9 @@ fn one_mm_mirror_in_soda_lime_is_about_60_mpa() {
     // computed: 2.0 / √0.001 = 63.25 MPa
     let mut i = one_boundary(Boundary::MirrorMist, &[1e-3]);
     i.constant_overrides
-        .push(shardlog::fracture::ConstantOverride {
+        .push(shardlog_core::fracture::ConstantOverride {
             boundary: Boundary::MirrorMist,
-            constant: shardlog::fracture::Constant::user(2.0e6, "test"),
+            constant: shardlog_core::fracture::Constant::user(2.0e6, "test"),
         });
     let a = analyze(&i).unwrap();
     check("σ, R_i 1 mm, A_i 2.0", a.stress_pa / 1e6, 63.25, 0.01);
@@ -90,7 +90,7 @@ fn flaw_behind_a_one_mm_mirror() {
 #[test]
 fn branching_distance_from_stress() {
     // computed: R_b = (A_b / σ)²: 2.3 at 20 MPa → 13.2 mm; at 50 MPa → 2.1 mm
-    use shardlog::fracture::mirror::radius_from_stress;
+    use shardlog_core::fracture::mirror::radius_from_stress;
     check(
         "R_b at 20 MPa, mm",
         radius_from_stress(2.3e6, 20e6) * 1e3,
@@ -131,7 +131,7 @@ fn consistent_boundaries_agree_and_inconsistent_ones_warn() {
         let mut c = b.constant_of(&i.material).unwrap().clone();
         c.spread = Some(0.01e6);
         i.constant_overrides
-            .push(shardlog::fracture::ConstantOverride {
+            .push(shardlog_core::fracture::ConstantOverride {
                 boundary: b,
                 constant: c,
             });
@@ -447,7 +447,7 @@ proptest! {
                 prop_assert!(f.size_low_m.is_finite() && f.size_high_m.is_finite());
             }
             let json = serde_json::to_string(&a).unwrap();
-            let back: shardlog::fracture::Analysis = serde_json::from_str(&json).unwrap();
+            let back: shardlog_core::fracture::Analysis = serde_json::from_str(&json).unwrap();
             prop_assert_eq!(back.warnings, a.warnings);
         }
     }

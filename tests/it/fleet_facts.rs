@@ -2,12 +2,13 @@
 //! from existing incidents, kept in step by triggers on every write, and checked by `verify`.
 //! Everywhere it must give the same facts as the wide incidents table (`fleet_rows`).
 
+use shardlog_core::fleet::StressKind;
 use std::path::Path;
 
 use chrono::{DateTime, Datelike, NaiveDate, Utc};
-use shardlog::fleet::{IncidentFacts, Key};
 use shardlog::store::*;
-use shardlog::units::Dimension;
+use shardlog_core::fleet::{IncidentFacts, Key};
+use shardlog_core::units::Dimension;
 
 fn stamp(s: &str) -> Stamp {
     Stamp::new(
@@ -69,14 +70,14 @@ fn incident(found: NaiveDate, supplier: &str, lot: &str, origin: &str) -> Incide
 }
 
 /// The facts of every incident through the wide table, in a fixed order.
-fn from_rows(s: &Store, stress: FleetStress) -> Vec<String> {
+fn from_rows(s: &Store, stress: StressKind) -> Vec<String> {
     let rows = s.fleet_rows(&Filter::default()).unwrap();
     let mut v: Vec<String> = rows
         .into_iter()
         .map(|r| {
             let st = match stress {
-                FleetStress::Applied => r.applied_stress_pa,
-                FleetStress::Net => r.net_stress_pa,
+                StressKind::Applied => r.applied_stress_pa,
+                StressKind::Net => r.net_stress_pa,
             };
             format!("{:?}", r.into_facts(st))
         })
@@ -85,7 +86,7 @@ fn from_rows(s: &Store, stress: FleetStress) -> Vec<String> {
     v
 }
 
-fn from_facts(s: &Store, stress: FleetStress) -> Vec<String> {
+fn from_facts(s: &Store, stress: StressKind) -> Vec<String> {
     let mut v: Vec<String> = s
         .fleet_facts(None, None, stress, None)
         .unwrap()
@@ -97,7 +98,7 @@ fn from_facts(s: &Store, stress: FleetStress) -> Vec<String> {
 }
 
 fn assert_same(s: &Store, what: &str) {
-    for stress in [FleetStress::Applied, FleetStress::Net] {
+    for stress in [StressKind::Applied, StressKind::Net] {
         assert_eq!(from_facts(s, stress), from_rows(s, stress), "{what}");
     }
     let r = s.verify().unwrap();
@@ -125,7 +126,7 @@ fn migration_fills_the_facts_of_existing_incidents() {
     s.migrate().unwrap();
     assert_eq!(s.schema_version().unwrap(), SCHEMA_VERSION);
     let facts = s
-        .fleet_facts(None, None, FleetStress::Applied, None)
+        .fleet_facts(None, None, StressKind::Applied, None)
         .unwrap();
     assert_eq!(facts.len(), 3);
     assert!(facts
@@ -179,7 +180,7 @@ fn facts_follow_every_write() {
         .unwrap();
     assert_same(&s, "after setting a cause");
     let facts = s
-        .fleet_facts(None, None, FleetStress::Applied, None)
+        .fleet_facts(None, None, StressKind::Applied, None)
         .unwrap();
     assert_eq!(
         facts
@@ -198,7 +199,7 @@ fn facts_follow_every_write() {
     s.update_incident(&edited, &st).unwrap();
     assert_same(&s, "after an edit");
     let facts = s
-        .fleet_facts(None, None, FleetStress::Applied, None)
+        .fleet_facts(None, None, StressKind::Applied, None)
         .unwrap();
     assert!(facts
         .iter()
@@ -210,7 +211,7 @@ fn facts_follow_every_write() {
         .fleet_facts(
             Some(day(2026, 5, 1)),
             Some(day(2026, 5, 31)),
-            FleetStress::Net,
+            StressKind::Net,
             None,
         )
         .unwrap();
@@ -222,12 +223,12 @@ fn facts_follow_every_write() {
         .fleet_facts(
             None,
             None,
-            FleetStress::Applied,
+            StressKind::Applied,
             Some(&[Key::Supplier, Key::Month]),
         )
         .unwrap();
     let all = s
-        .fleet_facts(None, None, FleetStress::Applied, None)
+        .fleet_facts(None, None, StressKind::Applied, None)
         .unwrap();
     let mut want: Vec<String> = all
         .iter()
@@ -252,7 +253,7 @@ fn facts_follow_every_write() {
     s.delete_incident(&b.reference, b.revision, &st).unwrap();
     assert_same(&s, "after a delete");
     assert_eq!(
-        s.fleet_facts(None, None, FleetStress::Applied, None)
+        s.fleet_facts(None, None, StressKind::Applied, None)
             .unwrap()
             .len(),
         1
@@ -322,7 +323,7 @@ fn hand_changed_facts_are_found_by_verify() {
     // stats refuse a number that names no value rather than guess
     let s = Store::open_existing(&path).unwrap();
     let e = s
-        .fleet_facts(None, None, FleetStress::Applied, None)
+        .fleet_facts(None, None, StressKind::Applied, None)
         .unwrap_err();
     assert!(e.to_string().contains("fleet_values"), "{e}");
 
@@ -353,7 +354,7 @@ fn edits_behind_the_stores_back_reach_the_facts_too() {
     assert!(p.contains("listed stress"), "{p}");
     assert_eq!(n, 1, "{p}");
     let s = Store::open_existing(&path).unwrap();
-    let facts = s.fleet_facts(None, None, FleetStress::Net, None).unwrap();
+    let facts = s.fleet_facts(None, None, StressKind::Net, None).unwrap();
     assert!(facts.iter().any(|f| f.stress_pa == Some(123.0)));
 }
 
@@ -367,10 +368,10 @@ fn sample_database_gives_the_same_facts_both_ways() {
     let s = Store::open_existing(&db).unwrap();
     assert_eq!(s.schema_version().unwrap(), SCHEMA_VERSION);
     let facts = s
-        .fleet_facts(None, None, FleetStress::Applied, None)
+        .fleet_facts(None, None, StressKind::Applied, None)
         .unwrap();
     assert!(facts.len() > 100, "{}", facts.len());
-    for stress in [FleetStress::Applied, FleetStress::Net] {
+    for stress in [StressKind::Applied, StressKind::Net] {
         assert_eq!(from_facts(&s, stress), from_rows(&s, stress));
     }
 }

@@ -27,7 +27,7 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("incidents.rs", "FROM {from}", "from: the literal \"incidents i\" or the sqlite::FTS_FROM constant"),
     ("incidents.rs", "SELECT count(*) FROM {from} {}", "from as above; where_clause of fixed condition texts"),
     ("incidents.rs", "i.lot_id IN ({})", "one '?' placeholder per resolved lot id"),
-    ("incidents.rs", "{stress_col}{columns} FROM incident_facts", "stress_col: one of two literal column names by the FleetStress enum; columns: names from the COLUMNS constant; where_clause of fixed condition texts"),
+    ("incidents.rs", "{stress_col}{columns} FROM incident_facts", "stress_col: one of two literal column names by the StressKind enum; columns: names from the COLUMNS constant; where_clause of fixed condition texts"),
     ("demo.rs", "SELECT * FROM \"{n}\"", "test code: n an incident_text_* table name read from sqlite_master"),
     ("incidents.rs", "SELECT count(*) FROM {t}", "test code: t one of the schema's child-table names written in the test"),
     ("demo.rs", "DROP INDEX \"{}\"", "index names read from sqlite_master (the schema's own), quotes removed"),

@@ -1,0 +1,6 @@
+//! Set-up shared by the integration tests.
+
+#![allow(dead_code)]
+
+pub mod pty;
+pub mod report;
