@@ -13,23 +13,23 @@ use std::path::{Path, PathBuf};
 
 /// (file name, a fragment of the format string, what is interpolated and why it is safe)
 const REVIEWED: &[(&str, &str, &str)] = &[
-    ("incidents.rs", "INSERT INTO incidents ({cols}) VALUES", "cols: the COLS constant; the values are ?N placeholders"),
-    ("incidents.rs", "?{i}", "i: a loop counter making ?1..?N placeholders"),
-    ("incidents.rs", "WHERE {}", "conds: fixed condition texts with ? placeholders (filter_sql pushes only literals)"),
-    ("incidents.rs", "{} ORDER BY", "select: a literal; where_clause of fixed condition texts; order_cols and dir from the SortColumn/direction enums; limit an integer"),
-    ("incidents.rs", "ORDER BY i.stress_pa {dir}", "dir from the sort-direction enum, limit an integer"),
-    ("incidents.rs", "UPDATE incidents SET {} WHERE id = ?1", "sets: COLS names with ?N placeholders"),
-    ("incidents.rs", "{c} = ?{}", "c: a name from the COLS constant, then a placeholder number"),
-    ("incidents.rs", "({}) {cmp} ({qs})", "key expressions from the sort column match, cmp '<' or '>' from the direction, qs '?' placeholders"),
-    ("incidents.rs", "(i.stress_pa, i.seq) {cmp} (?, ?)", "cmp '<' or '>' from the direction"),
-    ("incidents.rs", "i.seq {cmp} ?", "cmp '<' or '>' from the direction"),
-    ("incidents.rs", "SELECT count(*) FROM incidents i {}", "where_clause of fixed condition texts"),
-    ("incidents.rs", "FROM {from}", "from: the literal \"incidents i\" or the sqlite::FTS_FROM constant"),
-    ("incidents.rs", "SELECT count(*) FROM {from} {}", "from as above; where_clause of fixed condition texts"),
-    ("incidents.rs", "i.lot_id IN ({})", "one '?' placeholder per resolved lot id"),
-    ("incidents.rs", "{stress_col}{columns} FROM incident_facts", "stress_col: one of two literal column names by the StressKind enum; columns: names from the COLUMNS constant; where_clause of fixed condition texts"),
+    ("incidents/write.rs", "INSERT INTO incidents ({cols}) VALUES", "cols: the COLS constant; the values are ?N placeholders"),
+    ("incidents/write.rs", "?{i}", "i: a loop counter making ?1..?N placeholders"),
+    ("incidents/write.rs", "UPDATE incidents SET {} WHERE id = ?1", "sets: COLS names with ?N placeholders"),
+    ("incidents/write.rs", "{c} = ?{}", "c: a name from the COLS constant, then a placeholder number"),
+    ("incidents/list.rs", "WHERE {}", "conds: fixed condition texts with ? placeholders (filter_sql pushes only literals)"),
+    ("incidents/list.rs", "{} ORDER BY", "select: a literal; where_clause of fixed condition texts; order_cols and dir from the SortColumn/direction enums; limit an integer"),
+    ("incidents/list.rs", "ORDER BY i.stress_pa {dir}", "dir from the sort-direction enum, limit an integer"),
+    ("incidents/list.rs", "({}) {cmp} ({qs})", "key expressions from the sort column match, cmp '<' or '>' from the direction, qs '?' placeholders"),
+    ("incidents/list.rs", "(i.stress_pa, i.seq) {cmp} (?, ?)", "cmp '<' or '>' from the direction"),
+    ("incidents/list.rs", "i.seq {cmp} ?", "cmp '<' or '>' from the direction"),
+    ("incidents/list.rs", "FROM {from}", "from: the literal \"incidents i\" or the sqlite::FTS_FROM constant"),
+    ("incidents/list.rs", "SELECT count(*) FROM {from} {}", "from as above; where_clause of fixed condition texts"),
+    ("incidents/list.rs", "i.lot_id IN ({})", "one '?' placeholder per resolved lot id"),
+    ("incidents/facts.rs", "FROM {from}", "from: the literal \"incidents i\" or the sqlite::FTS_FROM constant (from filter_sql); where_clause of fixed condition texts"),
+    ("incidents/facts.rs", "{stress_col}{columns} FROM incident_facts", "stress_col: one of two literal column names by the StressKind enum; columns: names from the COLUMNS constant; where_clause of fixed condition texts"),
+    ("incidents/children.rs", "SELECT count(*) FROM {t}", "test code: t one of the schema's child-table names written in the test"),
     ("demo.rs", "SELECT * FROM \"{n}\"", "test code: n an incident_text_* table name read from sqlite_master"),
-    ("incidents.rs", "SELECT count(*) FROM {t}", "test code: t one of the schema's child-table names written in the test"),
     ("demo.rs", "DROP INDEX \"{}\"", "index names read from sqlite_master (the schema's own), quotes removed"),
     ("demo.rs", "DROP TRIGGER \"{}\"", "trigger names read from sqlite_master (the schema's own), quotes removed"),
     ("sqlite.rs", "SELECT * FROM {quoted}", "quoted: an incident_text_* table name read from sqlite_master (FTS5's own tables), quotes removed"),
@@ -185,7 +185,7 @@ fn store_sources() -> Vec<(String, String)> {
 fn store_builds_no_sql_from_user_data() {
     let files = store_sources();
     assert!(
-        files.iter().any(|(n, _)| n.ends_with("incidents.rs")),
+        files.iter().any(|(n, _)| n.ends_with("incidents/list.rs")),
         "the scan found the store's sources"
     );
     let sql_sites: usize = files
@@ -216,8 +216,8 @@ fn filter_conditions_are_literal_text() {
     let files = store_sources();
     let (_, src) = files
         .iter()
-        .find(|(n, _)| n.ends_with("incidents.rs"))
-        .expect("incidents.rs");
+        .find(|(n, _)| n.ends_with("incidents/list.rs"))
+        .expect("incidents/list.rs");
     // every fn filter_sql… (the filter and the variants it delegates to)
     let body: String = src
         .match_indices("fn filter_sql")

@@ -1,0 +1,767 @@
+//! Writing incidents: the row and its children, new, changed and deleted, each change
+//! with its audit row in the same transaction.
+
+use chrono::NaiveDate;
+use rusqlite::types::{ToSqlOutput, Value as SqlValue, ValueRef};
+use rusqlite::{params, params_from_iter, Connection, OptionalExtension, TransactionBehavior};
+
+use super::read::{load, load_row, resolve_key};
+use super::refs::{RefCache, Refs};
+use super::validate::{validate, Lookups};
+use super::{derive, search_body, Derived};
+use crate::store::audit::{fmt_time, Bulk, Chain, INCIDENT};
+use crate::store::canon;
+use crate::store::model::*;
+use crate::store::refdata::fmt_date;
+use crate::store::sqlite;
+use crate::store::{IdGen, Store, StoreError};
+
+const COLS: [&str; 39] = [
+    "id",
+    "reference",
+    "revision",
+    "created_at",
+    "updated_at",
+    "asset_id",
+    "position",
+    "site_id",
+    "found_on",
+    "broken_on",
+    "temperature_c",
+    "sun",
+    "weather",
+    "reporter",
+    "how_found",
+    "supplier_id",
+    "product_id",
+    "lot_id",
+    "makeup",
+    "width_m",
+    "height_m",
+    "crack_count",
+    "branching",
+    "fragment_count",
+    "origin_location",
+    "tension_face",
+    "cause_category",
+    "cause_factors",
+    "cause_confidence",
+    "cause_responsibility",
+    "cause_note",
+    "status",
+    "description",
+    "notes",
+    "stress_pa",
+    "applied_stress_pa",
+    "origin_type",
+    "temper",
+    "seq",
+];
+
+fn insert_sql() -> &'static str {
+    static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    SQL.get_or_init(build_insert_sql)
+}
+
+fn update_sql() -> &'static str {
+    static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    SQL.get_or_init(build_update_sql)
+}
+
+fn build_insert_sql() -> String {
+    let cols = COLS[..38].join(", ");
+    let qs: Vec<String> = (1..=38).map(|i| format!("?{i}")).collect();
+    format!("INSERT INTO incidents ({cols}) VALUES ({})", qs.join(", "))
+}
+
+fn build_update_sql() -> String {
+    let sets: Vec<String> = COLS[..38]
+        .iter()
+        .enumerate()
+        .map(|(i, c)| format!("{c} = ?{}", i + 1))
+        .collect();
+    format!(
+        "UPDATE incidents SET {} WHERE id = ?1 AND revision = ?39",
+        sets.join(", ")
+    )
+}
+
+pub(super) fn t(s: &str) -> SqlValue {
+    SqlValue::Text(s.to_string())
+}
+pub(super) fn of(x: Option<f64>) -> SqlValue {
+    x.map_or(SqlValue::Null, SqlValue::Real)
+}
+
+/// Column values of an incident row, in [`COLS`] order, borrowing the incident's text
+/// (the few values that need formatting are held in `owned`).
+struct RowValues<'a> {
+    values: Vec<ToSqlOutput<'a>>,
+}
+
+/// Text values an incident row needs formatted (times, dates, the factor list).
+struct RowText {
+    created_at: String,
+    updated_at: String,
+    found_on: String,
+    broken_on: Option<String>,
+    factors: Option<String>,
+}
+
+fn row_text(inc: &Incident) -> Result<RowText, StoreError> {
+    Ok(RowText {
+        created_at: fmt_time(inc.created_at),
+        updated_at: fmt_time(inc.updated_at),
+        found_on: fmt_date(inc.found_on),
+        broken_on: inc.broken_on.map(fmt_date),
+        factors: match &inc.cause {
+            Some(c) => Some(serde_json::to_string(&c.factors)?),
+            None => None,
+        },
+    })
+}
+
+fn row_values<'a>(
+    inc: &'a Incident,
+    refs: &'a Refs,
+    d: &'a Derived,
+    owned: &'a RowText,
+) -> RowValues<'a> {
+    fn b(v: ValueRef<'_>) -> ToSqlOutput<'_> {
+        ToSqlOutput::Borrowed(v)
+    }
+    fn t(s: &str) -> ToSqlOutput<'_> {
+        b(ValueRef::Text(s.as_bytes()))
+    }
+    fn ot(s: Option<&str>) -> ToSqlOutput<'_> {
+        s.map_or(b(ValueRef::Null), t)
+    }
+    fn ofr(x: Option<f64>) -> ToSqlOutput<'static> {
+        b(x.map_or(ValueRef::Null, ValueRef::Real))
+    }
+    fn oi(x: Option<i64>) -> ToSqlOutput<'static> {
+        b(x.map_or(ValueRef::Null, ValueRef::Integer))
+    }
+    let cause = inc.cause.as_ref();
+    RowValues {
+        values: vec![
+            t(&inc.id),
+            t(&inc.reference),
+            b(ValueRef::Integer(inc.revision)),
+            t(&owned.created_at),
+            t(&owned.updated_at),
+            ot(refs.asset.as_deref()),
+            t(&inc.position),
+            ot(refs.site.as_deref()),
+            t(&owned.found_on),
+            ot(owned.broken_on.as_deref()),
+            ofr(inc.environment.temperature_c),
+            t(&inc.environment.sun),
+            t(&inc.environment.weather),
+            t(&inc.reporter),
+            t(&inc.how_found),
+            ot(refs.supplier.as_deref()),
+            ot(refs.product.as_deref()),
+            ot(refs.lot.as_deref()),
+            t(&inc.glass.makeup),
+            ofr(inc.glass.width_m),
+            ofr(inc.glass.height_m),
+            oi(inc.pattern.crack_count),
+            oi(inc.pattern.branching.map(i64::from)),
+            oi(inc.pattern.fragment_count),
+            ot(inc.pattern.origin_location.as_deref()),
+            t(&inc.pattern.tension_face),
+            ot(cause.map(|c| c.category.as_str())),
+            ot(owned.factors.as_deref()),
+            ot(cause.map(|c| c.confidence.as_str())),
+            ot(cause.map(|c| c.responsibility.as_str())),
+            ot(cause.map(|c| c.note.as_str())),
+            t(&inc.status),
+            t(&inc.description),
+            t(&inc.notes),
+            ofr(d.stress_pa),
+            ofr(d.applied_stress_pa),
+            ot(d.origin_type.as_deref()),
+            ot(d.temper.as_deref()),
+        ],
+    }
+}
+
+fn insert_children(conn: &Connection, inc: &Incident) -> Result<(), StoreError> {
+    {
+        let mut ply = conn.prepare_cached(
+            "INSERT INTO plies (incident_id, ply_no, material, temper, thickness_m, coating, edge_finish)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7)",
+        )?;
+        for (i, p) in inc.glass.plies.iter().enumerate() {
+            ply.execute(params![
+                inc.id,
+                i as i64 + 1,
+                p.material,
+                p.temper,
+                p.thickness_m,
+                p.coating,
+                p.edge_finish
+            ])?;
+        }
+    }
+    for (i, e) in inc.examinations.iter().enumerate() {
+        let flaw = e.flaw.as_ref();
+        let depth = flaw.and_then(|f| f.depth.as_ref());
+        let width = flaw.and_then(|f| f.width.as_ref());
+        conn.prepare_cached(
+            "INSERT INTO examinations (id, incident_id, exam_no, examined_on, analyst, origin_type, material,
+                 flaw_present, flaw_depth_text, flaw_depth_unit, flaw_depth_m, flaw_width_text, flaw_width_unit,
+                 flaw_width_m, flaw_shape, notes)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16)",
+        )?
+        .execute(params![
+            e.id,
+            inc.id,
+            i as i64 + 1,
+            e.examined_on.map(fmt_date),
+            e.analyst,
+            e.origin_type,
+            e.material,
+            flaw.is_some() as i64,
+            depth.map(|m| m.text.as_str()),
+            depth.map(|m| m.unit.as_str()),
+            depth.map(|m| m.si),
+            width.map(|m| m.text.as_str()),
+            width.map(|m| m.unit.as_str()),
+            width.map(|m| m.si),
+            flaw.map_or("", |f| f.shape.as_str()),
+            e.notes
+        ])?;
+        let mut rd = conn.prepare_cached(
+            "INSERT INTO mirror_readings (examination_id, reading_no, boundary, value_text, unit, value_m,
+                 magnification, analyst, note)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
+        )?;
+        for (j, r) in e.readings.iter().enumerate() {
+            rd.execute(params![
+                e.id,
+                j as i64 + 1,
+                r.boundary,
+                r.radius.text,
+                r.radius.unit,
+                r.radius.si,
+                r.magnification,
+                r.analyst,
+                r.note
+            ])?;
+        }
+        if let Some(res) = &e.result {
+            conn.prepare_cached(
+                "INSERT INTO results (examination_id, computed_at, code_version, stress_pa, stress_low_pa,
+                     stress_high_pa, residual_pa, applied_stress_pa, flaw_size_m, constants_json, analysis_json)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)",
+            )?
+            .execute(params![
+                e.id,
+                fmt_time(res.computed_at),
+                res.code_version,
+                res.stress_pa,
+                res.stress_low_pa,
+                res.stress_high_pa,
+                res.residual_pa,
+                res.applied_stress_pa,
+                res.flaw_size_m,
+                serde_json::to_string(&res.constants)?,
+                serde_json::to_string(&res.analysis)?
+            ])?;
+        }
+    }
+    {
+        let mut cu = conn.prepare_cached(
+            "INSERT INTO custody (id, incident_id, entry_no, at, action, who, location, note)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8)",
+        )?;
+        for (i, c) in inc.custody.iter().enumerate() {
+            cu.execute(params![
+                c.id,
+                inc.id,
+                i as i64 + 1,
+                fmt_time(c.at),
+                c.action,
+                c.who,
+                c.location,
+                c.note
+            ])?;
+        }
+    }
+    {
+        let mut at = conn.prepare_cached(
+            "INSERT INTO attachments (id, incident_id, entry_no, sha256, file_name, media_type, size_bytes,
+                 caption, added_at)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
+        )?;
+        for (i, a) in inc.attachments.iter().enumerate() {
+            at.execute(params![
+                a.id,
+                inc.id,
+                i as i64 + 1,
+                a.sha256,
+                a.file_name,
+                a.media_type,
+                a.size_bytes,
+                a.caption,
+                fmt_time(a.added_at)
+            ])?;
+        }
+    }
+    Ok(())
+}
+
+fn delete_children(conn: &Connection, id: &str) -> Result<(), StoreError> {
+    // results and readings go with their examinations (ON DELETE CASCADE is not relied
+    // upon: the portable way is to delete children first)
+    conn.prepare_cached(
+        "DELETE FROM results WHERE examination_id IN (SELECT id FROM examinations WHERE incident_id = ?1)",
+    )?
+    .execute([id])?;
+    conn.prepare_cached(
+        "DELETE FROM mirror_readings WHERE examination_id IN (SELECT id FROM examinations WHERE incident_id = ?1)",
+    )?
+    .execute([id])?;
+    for sql in [
+        "DELETE FROM examinations WHERE incident_id = ?1",
+        "DELETE FROM plies WHERE incident_id = ?1",
+        "DELETE FROM custody WHERE incident_id = ?1",
+        "DELETE FROM attachments WHERE incident_id = ?1",
+    ] {
+        conn.prepare_cached(sql)?.execute([id])?;
+    }
+    Ok(())
+}
+
+/// Insert a complete new incident (ids, reference, revision and times already set) and
+/// its audit row. Returns its seq.
+pub(crate) fn insert_new(
+    conn: &Connection,
+    chain: &mut Chain,
+    inc: &Incident,
+    refs: &Refs,
+    stamp: &Stamp,
+    bulk: Option<&mut Bulk>,
+) -> Result<i64, StoreError> {
+    let seq = write_rows(conn, inc, refs)?;
+    sqlite::fts_insert(conn, seq, &search_body(inc))?;
+    let img = canon::incident_image(inc)?;
+    match bulk {
+        Some(b) => b.add(conn, chain, stamp, &inc.id, &img)?,
+        None => chain.record(conn, stamp, INCIDENT, &inc.id, None, Some(&img))?,
+    }
+    Ok(seq)
+}
+
+/// A new incident made ready for a bulk load away from the database: its audit image digest
+/// and its searchable text computed (the demo computes these on a second thread).
+pub(crate) struct Prepared {
+    pub inc: Incident,
+    pub refs: Refs,
+    pub stamp: Stamp,
+    digest: String,
+    body: String,
+    derived: Derived,
+    text: RowText,
+}
+
+pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepared, StoreError> {
+    let img = canon::incident_image(&inc)?;
+    Ok(Prepared {
+        digest: canon::sha256_hex(img.as_bytes()),
+        body: search_body(&inc),
+        derived: derive(&inc),
+        text: row_text(&inc)?,
+        inc,
+        refs,
+        stamp,
+    })
+}
+
+impl Prepared {
+    /// The searchable text, for a caller that builds the text index itself
+    /// ([`insert_prepared`] leaves it out).
+    pub fn take_body(&mut self) -> String {
+        std::mem::take(&mut self.body)
+    }
+}
+
+/// [`insert_new`] of a [`Prepared`] incident: the same rows and the same audit (in a batch,
+/// or, without one, its own audit row with the full image), except the text index: the
+/// caller adds `(seq, into_body())` to it (the demo builds it on another thread).
+pub(crate) fn insert_prepared(
+    conn: &Connection,
+    chain: &mut Chain,
+    p: &Prepared,
+    bulk: Option<&mut Bulk>,
+) -> Result<i64, StoreError> {
+    let seq = write_rows_with(conn, &p.inc, &p.refs, &p.derived, &p.text)?;
+    match bulk {
+        Some(b) => b.add_digest(conn, chain, &p.stamp, &p.inc.id, p.digest.clone())?,
+        None => {
+            let img = canon::incident_image(&p.inc)?;
+            chain.record(conn, &p.stamp, INCIDENT, &p.inc.id, None, Some(&img))?
+        }
+    }
+    Ok(seq)
+}
+
+/// The incident row and its children; returns the row's seq.
+fn write_rows(conn: &Connection, inc: &Incident, refs: &Refs) -> Result<i64, StoreError> {
+    write_rows_with(conn, inc, refs, &derive(inc), &row_text(inc)?)
+}
+
+/// [`write_rows`] with the derived columns and formatted texts already made (by a
+/// [`Prepared`] incident, on another thread).
+fn write_rows_with(
+    conn: &Connection,
+    inc: &Incident,
+    refs: &Refs,
+    d: &Derived,
+    owned: &RowText,
+) -> Result<i64, StoreError> {
+    let values = row_values(inc, refs, d, owned);
+    conn.prepare_cached(insert_sql())?
+        .execute(params_from_iter(values.values.iter()))
+        .map_err(|e| match e {
+            rusqlite::Error::SqliteFailure(f, _)
+                if f.code == rusqlite::ErrorCode::ConstraintViolation =>
+            {
+                StoreError::Duplicate {
+                    what: "incident".into(),
+                    code: format!("{} ({})", inc.reference, inc.id),
+                }
+            }
+            other => other.into(),
+        })?;
+    let seq = conn.last_insert_rowid();
+    insert_children(conn, inc)?;
+    Ok(seq)
+}
+
+/// Next free reference for a date found: "BR-YYMMDD-NNNN".
+pub(crate) fn next_reference(conn: &Connection, found_on: NaiveDate) -> Result<String, StoreError> {
+    let prefix = reference_prefix(found_on);
+    let upper = format!("{prefix}~");
+    let last: Option<String> = conn
+        .prepare_cached(
+            "SELECT reference FROM incidents WHERE reference >= ?1 AND reference < ?2
+             ORDER BY reference DESC LIMIT 1",
+        )?
+        .query_row([&prefix, &upper], |r| r.get(0))
+        .optional()?;
+    let n = match last {
+        Some(r) => r[prefix.len()..].parse::<u32>().unwrap_or(9999) + 1,
+        None => 1,
+    };
+    format_reference(found_on, n)
+}
+
+pub(crate) fn reference_prefix(found_on: NaiveDate) -> String {
+    format!("BR-{}-", found_on.format("%y%m%d"))
+}
+
+pub(crate) fn format_reference(found_on: NaiveDate, n: u32) -> Result<String, StoreError> {
+    if n > 9999 {
+        return Err(StoreError::invalid(
+            "found_on",
+            format!("more than 9999 incidents found on {found_on}"),
+        ));
+    }
+    Ok(format!("{}{n:04}", reference_prefix(found_on)))
+}
+impl Store {
+    /// Give new children keys and truncate times to milliseconds.
+    pub(crate) fn normalize(ids: &mut IdGen, inc: &mut Incident, stamp: &Stamp) {
+        let ms = stamp.at.timestamp_millis();
+        for e in &mut inc.examinations {
+            if e.id.is_empty() {
+                e.id = ids.uuid_v7(ms);
+            }
+            if let Some(r) = &mut e.result {
+                r.computed_at = truncate_ms(r.computed_at);
+            }
+        }
+        for c in &mut inc.custody {
+            if c.id.is_empty() {
+                c.id = ids.uuid_v7(ms);
+            }
+            c.at = truncate_ms(c.at);
+        }
+        for a in &mut inc.attachments {
+            if a.id.is_empty() {
+                a.id = ids.uuid_v7(ms);
+            }
+            a.added_at = truncate_ms(a.added_at);
+        }
+        inc.created_at = truncate_ms(inc.created_at);
+        inc.updated_at = truncate_ms(inc.updated_at);
+    }
+
+    fn first_problem(lookups: &Lookups, inc: &Incident) -> Result<(), StoreError> {
+        match validate(lookups, inc).into_iter().next() {
+            Some((field, message)) => Err(StoreError::Invalid { field, message }),
+            None => Ok(()),
+        }
+    }
+
+    /// Save a new incident from a draft: the store assigns the id, the reference, revision 1
+    /// and the times. Unknown site, asset, supplier, product and lot codes are created.
+    pub fn create_incident(
+        &mut self,
+        draft: &Incident,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let mut inc = draft.clone();
+        inc.revision = 1;
+        inc.created_at = stamp.at;
+        inc.updated_at = stamp.at;
+        Store::normalize(&mut self.ids, &mut inc, stamp);
+        Store::first_problem(&self.lookups, &inc)?;
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let mut chain = Chain::load(&tx)?;
+        if inc.id.is_empty() {
+            inc.id = self.ids.uuid_v7(stamp.at.timestamp_millis());
+        }
+        inc.reference = next_reference(&tx, inc.found_on)?;
+        let refs = Store::resolve_refs(
+            &tx,
+            &mut chain,
+            &mut self.ids,
+            &inc,
+            stamp,
+            false,
+            &mut RefCache::default(),
+        )?;
+        insert_new(&tx, &mut chain, &inc, &refs, stamp, None)?;
+        chain.finish(&tx)?;
+        tx.commit()?;
+        Ok(inc)
+    }
+
+    /// Save an edited incident. `inc.revision` must be the revision it was loaded at; if the
+    /// stored incident has moved on, [`StoreError::StaleRevision`] and nothing is written.
+    /// The whole aggregate is replaced by `inc` (examinations, custody, attachments too).
+    pub fn update_incident(
+        &mut self,
+        inc: &Incident,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let out = Store::update_in(&tx, &mut self.ids, &self.lookups, inc, stamp)?;
+        tx.commit()?;
+        Ok(out)
+    }
+
+    fn update_in(
+        conn: &Connection,
+        ids: &mut IdGen,
+        lookups: &Lookups,
+        inc: &Incident,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let Some((seq, current, _)) = load_row(conn, &inc.id)? else {
+            return Err(StoreError::NotFound(if inc.reference.is_empty() {
+                inc.id.clone()
+            } else {
+                inc.reference.clone()
+            }));
+        };
+        if current.revision != inc.revision {
+            return Err(StoreError::StaleRevision {
+                reference: current.reference,
+                expected: inc.revision,
+                current: current.revision,
+            });
+        }
+        let mut new = inc.clone();
+        new.reference = current.reference.clone();
+        new.created_at = current.created_at;
+        new.revision = current.revision + 1;
+        new.updated_at = stamp.at;
+        Store::normalize(ids, &mut new, stamp);
+        Store::first_problem(lookups, &new)?;
+        let mut chain = Chain::load(conn)?;
+        let refs = Store::resolve_refs(
+            conn,
+            &mut chain,
+            ids,
+            &new,
+            stamp,
+            false,
+            &mut RefCache::default(),
+        )?;
+        let d = derive(&new);
+        let owned = row_text(&new)?;
+        let mut values = row_values(&new, &refs, &d, &owned);
+        values
+            .values
+            .push(ToSqlOutput::Borrowed(ValueRef::Integer(current.revision)));
+        let n = conn
+            .prepare_cached(update_sql())?
+            .execute(params_from_iter(values.values.iter()))?;
+        if n != 1 {
+            return Err(StoreError::StaleRevision {
+                reference: current.reference,
+                expected: inc.revision,
+                current: current.revision,
+            });
+        }
+        delete_children(conn, &new.id)?;
+        insert_children(conn, &new)?;
+        sqlite::fts_put(conn, seq, &search_body(&new))?;
+        let before = canon::incident_image(&current)?;
+        let after = canon::incident_image(&new)?;
+        chain.record(conn, stamp, INCIDENT, &new.id, Some(&before), Some(&after))?;
+        chain.finish(conn)?;
+        Ok(new)
+    }
+
+    /// Load, change and save in one transaction. `expected` = the revision the caller's
+    /// change was made on (None: apply to whatever is current, for additive changes).
+    pub fn modify_incident(
+        &mut self,
+        key: &str,
+        expected: Option<i64>,
+        stamp: &Stamp,
+        change: impl FnOnce(&mut Incident) -> Result<(), StoreError>,
+    ) -> Result<Incident, StoreError> {
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let id = resolve_key(&tx, key)?;
+        let mut inc = load(&tx, &id)?.ok_or_else(|| StoreError::NotFound(key.to_string()))?;
+        if let Some(rev) = expected {
+            if rev != inc.revision {
+                return Err(StoreError::StaleRevision {
+                    reference: inc.reference,
+                    expected: rev,
+                    current: inc.revision,
+                });
+            }
+        }
+        change(&mut inc)?;
+        let out = Store::update_in(&tx, &mut self.ids, &self.lookups, &inc, stamp)?;
+        tx.commit()?;
+        Ok(out)
+    }
+
+    /// Add or replace an examination (matched by id; an empty id adds a new one).
+    /// Returns the saved incident; the examination keeps its position.
+    pub fn put_examination(
+        &mut self,
+        key: &str,
+        expected: i64,
+        exam: &Examination,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let exam = exam.clone();
+        self.modify_incident(key, Some(expected), stamp, move |inc| {
+            match inc
+                .examinations
+                .iter_mut()
+                .find(|e| !exam.id.is_empty() && e.id == exam.id)
+            {
+                Some(slot) => *slot = exam,
+                None => inc.examinations.push(exam),
+            }
+            Ok(())
+        })
+    }
+
+    /// Set (or clear) the computed result of one examination.
+    pub fn set_result(
+        &mut self,
+        key: &str,
+        expected: i64,
+        examination_id: &str,
+        result: Option<ComputedResult>,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let exam_id = examination_id.to_string();
+        self.modify_incident(key, Some(expected), stamp, move |inc| {
+            let e = inc
+                .examinations
+                .iter_mut()
+                .find(|e| e.id == exam_id)
+                .ok_or_else(|| {
+                    StoreError::invalid("examination", format!("no examination {exam_id}"))
+                })?;
+            e.result = result;
+            Ok(())
+        })
+    }
+
+    /// Set (or clear) the cause, and optionally move the case status.
+    pub fn set_cause(
+        &mut self,
+        key: &str,
+        expected: i64,
+        cause: Option<Cause>,
+        status: Option<&str>,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let status = status.map(str::to_string);
+        self.modify_incident(key, Some(expected), stamp, move |inc| {
+            inc.cause = cause;
+            if let Some(s) = status {
+                inc.status = s;
+            }
+            Ok(())
+        })
+    }
+
+    /// Append a custody entry (an empty id gets a new key). No revision check: entries
+    /// only add.
+    pub fn add_custody(
+        &mut self,
+        key: &str,
+        entry: &CustodyEntry,
+        stamp: &Stamp,
+    ) -> Result<Incident, StoreError> {
+        let entry = entry.clone();
+        self.modify_incident(key, None, stamp, move |inc| {
+            inc.custody.push(entry);
+            Ok(())
+        })
+    }
+
+    /// Delete an incident (the audit log keeps its last image).
+    pub fn delete_incident(
+        &mut self,
+        key: &str,
+        expected: i64,
+        stamp: &Stamp,
+    ) -> Result<(), StoreError> {
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let id = resolve_key(&tx, key)?;
+        let Some((seq, current, _)) = load_row(&tx, &id)? else {
+            return Err(StoreError::NotFound(key.to_string()));
+        };
+        if current.revision != expected {
+            return Err(StoreError::StaleRevision {
+                reference: current.reference,
+                expected,
+                current: current.revision,
+            });
+        }
+        delete_children(&tx, &id)?;
+        sqlite::fts_delete(&tx, seq)?;
+        tx.prepare_cached("DELETE FROM incidents WHERE id = ?1")?
+            .execute([&id])?;
+        let mut chain = Chain::load(&tx)?;
+        let before = canon::incident_image(&current)?;
+        chain.record(&tx, stamp, INCIDENT, &id, Some(&before), None)?;
+        chain.finish(&tx)?;
+        tx.commit()?;
+        Ok(())
+    }
+}
