@@ -11,9 +11,10 @@ use serde::{Deserialize, Serialize};
 use serde_json::Value;
 
 use super::audit::{Bulk, Chain, INCIDENT};
+use super::dates::{fmt_date, parse_date};
 use super::incidents::{self, format_reference, next_reference, reference_prefix, RefCache};
 use super::model::*;
-use super::refdata::{self, fmt_date};
+use super::refdata;
 use super::{Store, StoreError};
 use shardlog_core::units::{self, Dimension};
 
@@ -626,7 +627,7 @@ pub fn parse_csv(bytes: &[u8], stamp: &Stamp) -> Result<Vec<Incident>, Vec<Probl
             if v.is_empty() {
                 return None;
             }
-            match refdata::parse_date(v) {
+            match parse_date(v) {
                 Some(d) => Some(d),
                 None => {
                     bad(

@@ -24,6 +24,7 @@ use rusqlite::{Connection, OptionalExtension, TransactionBehavior};
 mod audit;
 pub mod canon;
 pub mod compute;
+mod dates;
 pub mod demo;
 pub mod exchange;
 mod files;
@@ -31,6 +32,7 @@ mod incidents;
 pub mod model;
 mod refdata;
 mod sqlite;
+mod verify;
 
 pub use files::{sync_dir, temporary_sibling, write_atomically, write_new_synced};
 pub use model::*;
@@ -342,7 +344,7 @@ impl Store {
                 .map_err(|e| StoreError::Database(format!("migration {name}: {e}")))?;
             if version == 0 {
                 sqlite::set_application_id(&tx)?;
-                audit::seed_lookup_audit(&tx)?;
+                refdata::seed_lookup_audit(&tx)?;
             }
             if name == sqlite::FLEET_FACTS_MIGRATION {
                 incidents::fill_fleet_facts(&tx)?;

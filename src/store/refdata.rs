@@ -6,8 +6,9 @@ use rusqlite::{params, Connection, OptionalExtension, TransactionBehavior};
 
 use super::audit::Chain;
 use super::canon;
+use super::dates::{fmt_date, parse_date};
 use super::model::*;
-use super::{Store, StoreError};
+use super::{Store, StoreError, MIGRATION_AT};
 
 pub(crate) const SITE: &str = "site";
 pub(crate) const ASSET: &str = "asset";
@@ -21,30 +22,28 @@ pub(crate) fn lookup_key(e: &LookupEntry) -> String {
     format!("{}/{}", e.kind.as_str(), e.code)
 }
 
-pub(crate) fn fmt_date(d: NaiveDate) -> String {
-    use chrono::Datelike;
-    format!("{:04}-{:02}-{:02}", d.year(), d.month(), d.day())
-}
-
-pub(crate) fn parse_date(s: &str) -> Option<NaiveDate> {
-    // fast path for the form the store writes (YYYY-MM-DD): the format parser is most of
-    // the cost of reading a million dates for fleet statistics
-    let b = s.as_bytes();
-    let digits = |r: std::ops::Range<usize>| {
-        b[r].iter().try_fold(0u32, |n, c| {
-            c.is_ascii_digit().then(|| n * 10 + u32::from(c - b'0'))
-        })
-    };
-    if b.len() == 10 && b[4] == b'-' && b[7] == b'-' {
-        if let (Some(y), Some(m), Some(d)) = (digits(0..4), digits(5..7), digits(8..10)) {
-            return NaiveDate::from_ymd_opt(y as i32, m, d);
-        }
-    }
-    NaiveDate::parse_from_str(s, "%Y-%m-%d").ok()
-}
-
 fn date_col(s: Option<String>) -> Option<NaiveDate> {
     s.as_deref().and_then(parse_date)
+}
+
+/// Audit the lookup entries that migration 0001 seeds, as written by "schema 0001".
+pub(crate) fn seed_lookup_audit(conn: &Connection) -> Result<(), StoreError> {
+    let entries = load_lookups(conn, None)?;
+    let mut chain = Chain::load(conn)?;
+    for e in &entries {
+        let img = canon::canonical(e)?;
+        chain.append(
+            conn,
+            MIGRATION_AT,
+            "schema 0001",
+            LOOKUP,
+            &lookup_key(e),
+            "insert",
+            None,
+            Some(&img),
+        )?;
+    }
+    chain.finish(conn)
 }
 
 pub(crate) fn load_lookups(
@@ -691,38 +690,3 @@ pub type StatsInput = (
     Vec<shardlog_core::fleet::IncidentFacts>,
     Vec<shardlog_core::fleet::Exposure>,
 );
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn parse_date_fast_path_agrees_with_the_format_parser() {
-        for s in [
-            "2024-01-01",
-            "2024-02-29",
-            "2023-02-29",
-            "2026-12-31",
-            "2026-13-01",
-            "2026-00-10",
-            "2026-04-31",
-            "0999-05-05",
-            "2026-1-1",
-            "2026-01-1x",
-            "20x6-01-01",
-            "+2026-01-01",
-            "",
-        ] {
-            assert_eq!(
-                parse_date(s),
-                NaiveDate::parse_from_str(s, "%Y-%m-%d").ok(),
-                "{s}"
-            );
-        }
-        assert_eq!(
-            parse_date("2024-02-29"),
-            NaiveDate::from_ymd_opt(2024, 2, 29)
-        );
-        assert_eq!(parse_date("2023-02-29"), None);
-    }
-}

@@ -399,8 +399,6 @@ fn collapse(
 const PENDING_CIRCLE_EDGES: &[(&str, &str)] = &[
     ("fleet::trend", "fleet::group"),
     ("cli::report", "cli::records"),
-    ("store::incidents", "store::audit"),
-    ("store::refdata", "store::audit"),
     ("tui::view", "tui::screens"),
     ("tui::view", "tui::screens::bench"),
     ("tui::screens::edit", "tui::view"),
@@ -542,7 +540,6 @@ fn files_and_functions_stay_readable() {
         "src/report/chart.rs",
         "src/report/source.rs",
         "src/report/summary.rs",
-        "src/store/audit.rs",
         "src/store/demo.rs",
         "src/store/exchange.rs",
         "src/tui/screens/bench.rs",

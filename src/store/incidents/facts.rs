@@ -11,8 +11,8 @@ use shardlog_core::fleet::StressKind;
 use super::list::{filter_sql, where_clause, TextPlan};
 use super::read::{bad_col, text_ref};
 use super::write::t;
+use crate::store::dates::{fmt_date, parse_date};
 use crate::store::model::*;
-use crate::store::refdata::{fmt_date, parse_date};
 use crate::store::{Store, StoreError};
 
 impl Store {

@@ -6,8 +6,8 @@ use rusqlite::{params, params_from_iter, Connection};
 
 use super::read::bad_col;
 use super::write::{of, t};
+use crate::store::dates::{fmt_date, parse_date};
 use crate::store::model::*;
-use crate::store::refdata::{fmt_date, parse_date};
 use crate::store::sqlite;
 use crate::store::{Store, StoreError};
 

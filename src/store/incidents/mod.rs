@@ -72,6 +72,7 @@ macro_rules! attachment_cols {
 
 mod children;
 mod facts;
+mod history;
 mod list;
 mod read;
 mod refs;
@@ -80,7 +81,7 @@ mod write;
 
 pub(crate) use children::for_each_incident;
 pub(crate) use facts::{fill_fleet_facts, fleet_facts_problems};
-pub(crate) use read::{load, resolve_key};
+pub(crate) use read::load;
 pub(crate) use refs::{RefCache, Refs};
 pub(crate) use validate::validate;
 pub(crate) use write::{

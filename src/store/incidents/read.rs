@@ -4,9 +4,8 @@ use chrono::NaiveDate;
 use rusqlite::{Connection, OptionalExtension};
 
 use super::Derived;
-use crate::store::audit::parse_time;
+use crate::store::dates::{parse_date, parse_time};
 use crate::store::model::*;
-use crate::store::refdata::parse_date;
 use crate::store::{Store, StoreError};
 
 /// The id of an incident given its reference or id.

@@ -9,10 +9,10 @@ use super::read::{load, load_row, resolve_key};
 use super::refs::{RefCache, Refs};
 use super::validate::{validate, Lookups};
 use super::{derive, search_body, Derived};
-use crate::store::audit::{fmt_time, Bulk, Chain, INCIDENT};
+use crate::store::audit::{Bulk, Chain, INCIDENT};
 use crate::store::canon;
+use crate::store::dates::{fmt_date, fmt_time};
 use crate::store::model::*;
-use crate::store::refdata::fmt_date;
 use crate::store::sqlite;
 use crate::store::{IdGen, Store, StoreError};
 
