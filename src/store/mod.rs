@@ -19,7 +19,7 @@
 use std::collections::{HashMap, HashSet};
 use std::path::{Path, PathBuf};
 
-use rusqlite::{Connection, OptionalExtension, TransactionBehavior};
+use rusqlite::{Connection, OptionalExtension};
 
 mod audit;
 pub mod canon;
@@ -250,8 +250,7 @@ impl Store {
     /// A database in memory (tests, dry runs). Attachments are off unless
     /// [`Store::set_files_dir`] is called.
     pub fn open_in_memory() -> Result<Store, StoreError> {
-        let conn = Connection::open_in_memory()?;
-        sqlite::set_memory_pragmas(&conn)?;
+        let conn = sqlite::open_in_memory()?;
         let mut store = Store::from_conn(conn, None, None);
         store.migrate()?;
         store.load_lookups()?;
@@ -261,8 +260,7 @@ impl Store {
     /// Open an in-memory database brought only up to `version` (tests of migrations).
     #[doc(hidden)]
     pub fn open_in_memory_at_version(version: i64) -> Result<Store, StoreError> {
-        let conn = Connection::open_in_memory()?;
-        sqlite::set_memory_pragmas(&conn)?;
+        let conn = sqlite::open_in_memory()?;
         let mut store = Store::from_conn(conn, None, None);
         store.migrate_to(version)?;
         Ok(store)
@@ -325,33 +323,19 @@ impl Store {
     /// Apply migrations up to `target` (tests of upgrades from earlier versions).
     #[doc(hidden)]
     pub fn migrate_to(&mut self, target: i64) -> Result<(), StoreError> {
-        let target = target.min(SCHEMA_VERSION);
-        loop {
-            let tx = self
-                .conn
-                .transaction_with_behavior(TransactionBehavior::Immediate)?;
-            // re-read inside the lock: another process may have migrated meanwhile
-            let version = sqlite::user_version(&tx)?;
-            if version >= target {
-                tx.commit()?;
-                if target >= 1 {
-                    self.load_lookups()?;
-                }
-                return Ok(());
-            }
-            let (name, sql) = sqlite::MIGRATIONS[version as usize];
-            tx.execute_batch(sql)
-                .map_err(|e| StoreError::Database(format!("migration {name}: {e}")))?;
+        sqlite::migrate(&mut self.conn, target, |tx, name, version| {
             if version == 0 {
-                sqlite::set_application_id(&tx)?;
-                refdata::seed_lookup_audit(&tx)?;
+                refdata::seed_lookup_audit(tx)?;
             }
             if name == sqlite::FLEET_FACTS_MIGRATION {
-                incidents::fill_fleet_facts(&tx)?;
+                incidents::fill_fleet_facts(tx)?;
             }
-            sqlite::set_user_version(&tx, version + 1)?;
-            tx.commit()?;
+            Ok(())
+        })?;
+        if target.min(SCHEMA_VERSION) >= 1 {
+            self.load_lookups()?;
         }
+        Ok(())
     }
 
     pub(crate) fn load_lookups(&mut self) -> Result<(), StoreError> {
@@ -414,13 +398,8 @@ impl Store {
                 message: e.to_string(),
             };
             {
-                let (mut target, _) = sqlite::open_checked(&tmp, true)?;
-                let backup = rusqlite::backup::Backup::new(&self.conn, &mut target)?;
-                backup.run_to_completion(256, std::time::Duration::from_millis(0), None)?;
-                drop(backup);
                 // the copy in one file (no WAL beside it), flushed to the disk
-                let _: String =
-                    target.query_row("PRAGMA journal_mode = DELETE", [], |r| r.get(0))?;
+                sqlite::copy_database(&self.conn, &tmp)?;
             }
             std::fs::File::open(&tmp)
                 .and_then(|f| f.sync_all())

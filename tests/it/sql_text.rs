@@ -32,12 +32,12 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("demo.rs", "SELECT * FROM \"{n}\"", "test code: n an incident_text_* table name read from sqlite_master"),
     ("demo.rs", "DROP INDEX \"{}\"", "index names read from sqlite_master (the schema's own), quotes removed"),
     ("demo.rs", "DROP TRIGGER \"{}\"", "trigger names read from sqlite_master (the schema's own), quotes removed"),
-    ("sqlite.rs", "SELECT * FROM {quoted}", "quoted: an incident_text_* table name read from sqlite_master (FTS5's own tables), quotes removed"),
-    ("sqlite.rs", "DELETE FROM {quoted}", "quoted: as above"),
-    ("sqlite.rs", "INSERT INTO {quoted} VALUES ({marks})", "quoted: as above; marks: one '?' per column"),
-    ("sqlite.rs", "PRAGMA user_version = {v}", "v: an i64 schema version from the migration table in the code"),
-    ("sqlite.rs", "PRAGMA application_id = {APPLICATION_ID}", "a constant"),
-    ("sqlite.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),
+    ("sqlite/search.rs", "SELECT * FROM {quoted}", "quoted: an incident_text_* table name read from sqlite_master (FTS5's own tables), quotes removed"),
+    ("sqlite/search.rs", "DELETE FROM {quoted}", "quoted: as above"),
+    ("sqlite/search.rs", "INSERT INTO {quoted} VALUES ({marks})", "quoted: as above; marks: one '?' per column"),
+    ("sqlite/schema.rs", "PRAGMA user_version = {v}", "v: an i64 schema version from the migration table in the code"),
+    ("sqlite/schema.rs", "PRAGMA application_id = {APPLICATION_ID}", "a constant"),
+    ("sqlite/open.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),
 ];
 
 const SQL_WORDS: &[&str] = &[

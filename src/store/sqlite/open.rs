@@ -1,43 +1,14 @@
-//! Everything that is SQLite-only lives here: opening, pragmas, the application id,
-//! migrations by `PRAGMA user_version`, and FTS5 text search. The domain SQL elsewhere in
-//! the store is portable (PostgreSQL later).
+//! Opening a database: a file created owner-only, checked to be ours and not too new, opened
+//! read-only where the file or its folder cannot be written; the pragmas of each kind of
+//! connection; SQLite's failures that come from the machine put in words.
 
 use std::path::Path;
 use std::time::Duration;
 
-use rusqlite::{Connection, OpenFlags, Transaction};
+use rusqlite::{Connection, OpenFlags};
 
-use super::StoreError;
-
-/// `PRAGMA application_id` of a shardlog database: "SHLG".
-pub const APPLICATION_ID: i64 = 0x5348_4C47;
-
-/// The migrations, in order. Migration n brings `user_version` from n-1 to n.
-pub const MIGRATIONS: &[(&str, &str)] = &[
-    (
-        "0001_initial.sql",
-        include_str!("../../schema/0001_initial.sql"),
-    ),
-    (
-        "0002_search.sql",
-        include_str!("../../schema/0002_search.sql"),
-    ),
-    (
-        "0003_fleet_facts.sql",
-        include_str!("../../schema/0003_fleet_facts.sql"),
-    ),
-    (
-        "0004_search_contentless.sql",
-        include_str!("../../schema/0004_search_contentless.sql"),
-    ),
-];
-
-/// The migration that makes `incident_facts`; the store fills it from the incidents
-/// already there, in the migration's transaction.
-pub const FLEET_FACTS_MIGRATION: &str = "0003_fleet_facts.sql";
-
-/// The schema version this build writes.
-pub const SCHEMA_VERSION: i64 = MIGRATIONS.len() as i64;
+use super::schema::{APPLICATION_ID, SCHEMA_VERSION};
+use crate::store::StoreError;
 
 /// How long a writer waits for another process holding the lock.
 pub const BUSY_TIMEOUT: Duration = Duration::from_secs(30);
@@ -186,6 +157,21 @@ fn limit_pages_for_tests(conn: &Connection) -> Result<(), StoreError> {
     let _ = conn;
     Ok(())
 }
+/// Run an integrity check; Ok(()) when SQLite says "ok".
+pub fn integrity_check(conn: &Connection) -> Result<(), StoreError> {
+    let mut stmt = conn.prepare("PRAGMA integrity_check")?;
+    let rows: Vec<String> = stmt
+        .query_map([], |r| r.get::<_, String>(0))?
+        .collect::<Result<_, _>>()?;
+    if rows.len() == 1 && rows[0] == "ok" {
+        Ok(())
+    } else {
+        Err(StoreError::Database(format!(
+            "integrity check failed: {}",
+            rows.join("; ")
+        )))
+    }
+}
 
 /// A sentence for an SQLite failure that comes from the machine, not the data: a full disk,
 /// a failing or refusing disk, another writer holding the lock too long, a read-only file.
@@ -251,7 +237,6 @@ pub fn set_memory_pragmas(conn: &Connection) -> Result<(), StoreError> {
 
 /// Pragmas for a bulk load into a brand-new file (the demo generator): if the process dies
 /// the half-made file is deleted by the caller, so durability is not needed until the end.
-#[allow(dead_code)]
 pub fn set_bulk_pragmas(conn: &Connection) -> Result<(), StoreError> {
     conn.execute_batch(
         "PRAGMA journal_mode = OFF; PRAGMA synchronous = OFF; PRAGMA foreign_keys = OFF;
@@ -260,163 +245,11 @@ pub fn set_bulk_pragmas(conn: &Connection) -> Result<(), StoreError> {
     Ok(())
 }
 
-/// Current schema version of an open connection.
-pub fn user_version(conn: &Connection) -> Result<i64, StoreError> {
-    Ok(conn.query_row("PRAGMA user_version", [], |r| r.get(0))?)
-}
-
-/// Set the schema version inside a migration's transaction (the header change commits
-/// or rolls back with it).
-pub fn set_user_version(tx: &Transaction<'_>, v: i64) -> Result<(), StoreError> {
-    // PRAGMA takes no parameters; v is one of our own constants, never user data.
-    tx.execute_batch(&format!("PRAGMA user_version = {v}"))?;
-    Ok(())
-}
-
-pub fn set_application_id(tx: &Transaction<'_>) -> Result<(), StoreError> {
-    tx.execute_batch(&format!("PRAGMA application_id = {APPLICATION_ID}"))?;
-    Ok(())
-}
-
-/// Run an integrity check; Ok(()) when SQLite says "ok".
-pub fn integrity_check(conn: &Connection) -> Result<(), StoreError> {
-    let mut stmt = conn.prepare("PRAGMA integrity_check")?;
-    let rows: Vec<String> = stmt
-        .query_map([], |r| r.get::<_, String>(0))?
-        .collect::<Result<_, _>>()?;
-    if rows.len() == 1 && rows[0] == "ok" {
-        Ok(())
-    } else {
-        Err(StoreError::Database(format!(
-            "integrity check failed: {}",
-            rows.join("; ")
-        )))
-    }
-}
-
-// ---- free-text search (FTS5) ----
-
-/// Replace the searchable text of one incident.
-pub fn fts_put(tx: &Connection, seq: i64, body: &str) -> Result<(), StoreError> {
-    tx.prepare_cached("DELETE FROM incident_text WHERE rowid = ?1")?
-        .execute([seq])?;
-    tx.prepare_cached("INSERT INTO incident_text (rowid, body) VALUES (?1, ?2)")?
-        .execute(rusqlite::params![seq, body])?;
-    Ok(())
-}
-
-/// Add the searchable text of a new incident (no delete first: bulk loads).
-pub fn fts_insert(tx: &Connection, seq: i64, body: &str) -> Result<(), StoreError> {
-    tx.prepare_cached("INSERT INTO incident_text (rowid, body) VALUES (?1, ?2)")?
-        .execute(rusqlite::params![seq, body])?;
-    Ok(())
-}
-
-pub fn fts_delete(tx: &Connection, seq: i64) -> Result<(), StoreError> {
-    tx.prepare_cached("DELETE FROM incident_text WHERE rowid = ?1")?
-        .execute([seq])?;
-    Ok(())
-}
-
-/// The statement that made the text index, as SQLite keeps it (to build the same index in
-/// another database: [`fts_copy_index`]).
-pub fn fts_create_sql(conn: &Connection) -> Result<String, StoreError> {
-    Ok(conn.query_row(
-        "SELECT sql FROM sqlite_master WHERE type = 'table' AND name = 'incident_text'",
-        [],
-        |r| r.get(0),
-    )?)
-}
-
-/// The tables in which FTS5 keeps the text index (`incident_text_data`, `_idx`, …), by name,
-/// with their columns (name, type, key position).
-type ShadowTable = (String, Vec<(String, String, i64)>);
-pub(crate) fn fts_shadow_tables(conn: &Connection) -> Result<Vec<ShadowTable>, StoreError> {
-    let names: Vec<String> = {
-        let mut stmt = conn.prepare(
-            "SELECT name FROM sqlite_master WHERE type = 'table'
-             AND name LIKE 'incident\\_text\\_%' ESCAPE '\\' ORDER BY name",
-        )?;
-        let rows = stmt.query_map([], |r| r.get(0))?;
-        rows.collect::<Result<_, _>>()?
-    };
-    let mut out = Vec::with_capacity(names.len());
-    for name in names {
-        let mut stmt =
-            conn.prepare("SELECT name, type, pk FROM pragma_table_info(?1) ORDER BY cid")?;
-        let cols = stmt.query_map([&name], |r| Ok((r.get(0)?, r.get(1)?, r.get(2)?)))?;
-        let cols = cols.collect::<Result<_, _>>()?;
-        out.push((name, cols));
-    }
-    Ok(out)
-}
-
-/// Replace the text index of `dst` by the one built in `src` (a database whose text index was
-/// made by the same [`fts_create_sql`] and that holds nothing else of ours): the rows of
-/// FTS5's own tables are copied as they are, which is the same index as inserting every text
-/// into `dst`. Refused when the two indexes are not laid out alike. The connection to `dst`
-/// must not search its text index before it is reopened (FTS5 may keep the old index's
-/// layout in memory).
-pub fn fts_copy_index(src: &Connection, dst: &Connection) -> Result<(), StoreError> {
-    let (from, to) = (fts_shadow_tables(src)?, fts_shadow_tables(dst)?);
-    if from.is_empty() || from != to || fts_create_sql(src)? != fts_create_sql(dst)? {
-        return Err(StoreError::Database(
-            "the text index built aside is not laid out like this database's".into(),
-        ));
-    }
-    for (name, _) in &from {
-        // names come from sqlite_master and match incident_text_*, not from a user
-        let quoted = format!("\"{}\"", name.replace('"', ""));
-        let mut read = src.prepare(&format!("SELECT * FROM {quoted}"))?;
-        let columns = read.column_count();
-        let marks = vec!["?"; columns].join(", ");
-        dst.execute_batch(&format!("DELETE FROM {quoted}"))?;
-        let mut write = dst.prepare(&format!("INSERT INTO {quoted} VALUES ({marks})"))?;
-        let mut rows = read.query([])?;
-        while let Some(r) = rows.next()? {
-            let values: Vec<rusqlite::types::ToSqlOutput<'_>> = (0..columns)
-                .map(|i| r.get_ref(i).map(rusqlite::types::ToSqlOutput::Borrowed))
-                .collect::<Result<_, _>>()?;
-            write.execute(rusqlite::params_from_iter(values))?;
-        }
-    }
-    Ok(())
-}
-
-/// FROM clause for a text match: the text index drives (CROSS JOIN fixes the join order in
-/// SQLite), then the incidents by row number.
-pub const FTS_FROM: &str = "incident_text CROSS JOIN incidents i ON i.seq = incident_text.rowid";
-
-/// SQL condition for a text match with [`FTS_FROM`]; bind [`fts_query`] of the user text.
-pub const FTS_CONDITION: &str = "incident_text MATCH ?";
-
-/// SQL condition for a text match over `incidents i` alone: the set of matching row
-/// numbers, built once; the unary `+` keeps it from driving the query (see
-/// `incidents::TextPlan::LogDrives`). Bind [`fts_query`] of the user text.
-pub const FTS_IN_SET: &str =
-    "+i.seq IN (SELECT rowid FROM incident_text WHERE incident_text MATCH ?)";
-
-/// How many incidents a text query matches (read from the text index alone).
-pub fn fts_count(conn: &Connection, query: &str) -> Result<u64, StoreError> {
-    let n: i64 = conn
-        .prepare_cached("SELECT count(*) FROM incident_text WHERE incident_text MATCH ?1")?
-        .query_row([query], |r| r.get(0))?;
-    Ok(n as u64)
-}
-
-/// Turn what a user typed into an FTS5 query that cannot be a syntax error: every word
-/// becomes a quoted prefix term, all must match. None when nothing searchable is left.
-pub fn fts_query(text: &str) -> Option<String> {
-    let terms: Vec<String> = text
-        .split(|c: char| !c.is_alphanumeric() && c != '_')
-        .filter(|w| !w.is_empty())
-        .map(|w| format!("\"{w}\"*"))
-        .collect();
-    if terms.is_empty() {
-        None
-    } else {
-        Some(terms.join(" "))
-    }
+/// A database in memory, with its pragmas.
+pub fn open_in_memory() -> Result<Connection, StoreError> {
+    let conn = Connection::open_in_memory()?;
+    set_memory_pragmas(&conn)?;
+    Ok(conn)
 }
 
 #[cfg(test)]
@@ -443,40 +276,5 @@ mod tests {
         let ro = environment_failure(&err(ffi::SQLITE_READONLY)).unwrap();
         assert!(ro.contains("read-only"), "{ro}");
         assert_eq!(environment_failure(&err(ffi::SQLITE_CONSTRAINT)), None);
-    }
-
-    #[test]
-    fn a_text_index_laid_out_otherwise_is_not_copied_in() {
-        let make = |sql: &str| {
-            let c = Connection::open_in_memory().unwrap();
-            c.execute_batch(sql).unwrap();
-            fts_insert(&c, 1, "edge chip at the corner").unwrap();
-            c
-        };
-        let ours = "CREATE VIRTUAL TABLE incident_text USING fts5 (body, tokenize = 'unicode61 remove_diacritics 2')";
-        let dst = make(ours);
-        let other = make("CREATE VIRTUAL TABLE incident_text USING fts5 (body)");
-        assert!(fts_copy_index(&other, &dst).is_err());
-        let none = Connection::open_in_memory().unwrap();
-        assert!(fts_copy_index(&none, &dst).is_err());
-        // the same layout copies, and the copy is what is searched
-        let src = make(ours);
-        fts_insert(&src, 2, "thermal break from a shaded edge").unwrap();
-        fts_copy_index(&src, &dst).unwrap();
-        let n: i64 = dst
-            .query_row("SELECT count(*) FROM incident_text_docsize", [], |r| {
-                r.get(0)
-            })
-            .unwrap();
-        assert_eq!(n, 2);
-    }
-
-    #[test]
-    fn fts_query_quotes_everything() {
-        assert_eq!(
-            fts_query("edge \"chip\" OR 1=1; --").as_deref(),
-            Some("\"edge\"* \"chip\"* \"OR\"* \"1\"* \"1\"*")
-        );
-        assert_eq!(fts_query("  ;; "), None);
     }
 }

@@ -1,0 +1,22 @@
+//! Everything that is SQLite-only: opening files and their pragmas, the schema's migrations
+//! by `PRAGMA user_version` (the tables are STRICT), FTS5 text search, the online backup.
+//! The domain SQL elsewhere in the store is plain SQL, so that a PostgreSQL side can sit
+//! beside this folder.
+
+mod backup;
+mod open;
+mod schema;
+mod search;
+
+pub use backup::copy_database;
+pub use open::{
+    environment_failure, integrity_check, is_read_only, open_checked, open_in_memory,
+    set_bulk_pragmas, set_file_pragmas,
+};
+pub use schema::{migrate, user_version, APPLICATION_ID, FLEET_FACTS_MIGRATION, SCHEMA_VERSION};
+#[cfg(test)]
+pub(crate) use search::fts_shadow_tables;
+pub use search::{
+    fts_copy_index, fts_count, fts_create_sql, fts_delete, fts_insert, fts_put, fts_query,
+    FTS_CONDITION, FTS_FROM, FTS_IN_SET,
+};

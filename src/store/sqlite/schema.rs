@@ -1,0 +1,84 @@
+//! The schema and the header that names it: the migrations (schema/*.sql, tables STRICT)
+//! applied in order, each in its own transaction, the version kept in `PRAGMA user_version`
+//! and the program in `PRAGMA application_id`.
+
+use rusqlite::{Connection, Transaction, TransactionBehavior};
+
+use crate::store::StoreError;
+
+/// `PRAGMA application_id` of a shardlog database: "SHLG".
+pub const APPLICATION_ID: i64 = 0x5348_4C47;
+
+/// The migrations, in order. Migration n brings `user_version` from n-1 to n.
+pub const MIGRATIONS: &[(&str, &str)] = &[
+    (
+        "0001_initial.sql",
+        include_str!("../../../schema/0001_initial.sql"),
+    ),
+    (
+        "0002_search.sql",
+        include_str!("../../../schema/0002_search.sql"),
+    ),
+    (
+        "0003_fleet_facts.sql",
+        include_str!("../../../schema/0003_fleet_facts.sql"),
+    ),
+    (
+        "0004_search_contentless.sql",
+        include_str!("../../../schema/0004_search_contentless.sql"),
+    ),
+];
+
+/// The migration that makes `incident_facts`; the store fills it from the incidents
+/// already there, in the migration's transaction.
+pub const FLEET_FACTS_MIGRATION: &str = "0003_fleet_facts.sql";
+
+/// The schema version this build writes.
+pub const SCHEMA_VERSION: i64 = MIGRATIONS.len() as i64;
+
+/// Current schema version of an open connection.
+pub fn user_version(conn: &Connection) -> Result<i64, StoreError> {
+    Ok(conn.query_row("PRAGMA user_version", [], |r| r.get(0))?)
+}
+
+/// Set the schema version inside a migration's transaction (the header change commits
+/// or rolls back with it).
+pub fn set_user_version(tx: &Transaction<'_>, v: i64) -> Result<(), StoreError> {
+    // PRAGMA takes no parameters; v is one of our own constants, never user data.
+    tx.execute_batch(&format!("PRAGMA user_version = {v}"))?;
+    Ok(())
+}
+
+pub fn set_application_id(tx: &Transaction<'_>) -> Result<(), StoreError> {
+    tx.execute_batch(&format!("PRAGMA application_id = {APPLICATION_ID}"))?;
+    Ok(())
+}
+
+/// Apply the migrations from the database's version up to `target`, each in its own
+/// transaction together with `after(tx, name, version_before)`, the store's own steps for
+/// that migration (auditing or filling what it made). The version is read again inside each
+/// transaction's lock: another process may have migrated meanwhile.
+pub fn migrate(
+    conn: &mut Connection,
+    target: i64,
+    mut after: impl FnMut(&Transaction<'_>, &str, i64) -> Result<(), StoreError>,
+) -> Result<(), StoreError> {
+    let target = target.min(SCHEMA_VERSION);
+    loop {
+        let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
+        let version = user_version(&tx)?;
+        if version >= target {
+            tx.commit()?;
+            return Ok(());
+        }
+        let (name, sql) = MIGRATIONS[version as usize];
+        tx.execute_batch(sql)
+            .map_err(|e| StoreError::Database(format!("migration {name}: {e}")))?;
+        if version == 0 {
+            set_application_id(&tx)?;
+        }
+        after(&tx, name, version)?;
+        set_user_version(&tx, version + 1)?;
+        tx.commit()?;
+    }
+}
