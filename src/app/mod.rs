@@ -1189,7 +1189,7 @@ impl App {
                 });
             }
         }
-        let mut result = match crate::store::compute::to_result(analysis, stamp.at) {
+        let mut result = match crate::store::analysis::to_result(analysis, stamp.at) {
             Ok(r) => r,
             Err(e) => {
                 self.error(format!("not saved: storing the analysis: {e}"));

@@ -22,7 +22,7 @@ use chrono::{DateTime, Datelike, Days, NaiveDate, TimeZone, Utc};
 use super::audit::{Bulk, Chain, INCIDENT};
 use super::incidents::{format_reference, insert_prepared, prepare, Prepared, Refs};
 use super::model::*;
-use super::{compute, files, refdata, sqlite, Store, StoreError};
+use super::{analysis, files, refdata, sqlite, Store, StoreError};
 use shardlog_core::fracture::{self, Boundary};
 use shardlog_core::units::Dimension;
 
@@ -1108,7 +1108,7 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
                         },
                     };
                     let computed_at = at_time(exam.examined_on.unwrap_or(plan.found_on), 15 * 60);
-                    exam.result = compute::compute(&inc, &exam, computed_at).ok();
+                    exam.result = analysis::compute(&inc, &exam, computed_at).ok();
                     inc.examinations.push(exam);
                     summary.examinations += 1;
                     inc.custody.push(CustodyEntry {

@@ -1,4 +1,23 @@
-//! The SQLite store. The rest of the code sees domain types ([`model`]), never rusqlite.
+//! The store: the one seam between the program and its database. The rest of the program
+//! sees [`Store`] and the domain types of [`model`], never SQL and never rusqlite.
+//!
+//! What the rest of the program asks of it, by group:
+//! - **open**: [`Store::open`], [`Store::open_existing`], [`Store::open_in_memory`];
+//!   [`Store::path`], [`Store::is_read_only`], [`Store::schema_version`].
+//! - **page the log**: [`Store::list`] (one page in keyset order, with a cursor to the next),
+//!   [`Store::matching_ids`], [`Store::incident_count`].
+//! - **get**: [`Store::get`], [`Store::find`], [`Store::validate_incident`].
+//! - **put**: [`Store::create_incident`], [`Store::update_incident`] (revision-checked),
+//!   [`Store::modify_incident`] and its forms ([`Store::put_examination`],
+//!   [`Store::set_result`], [`Store::set_cause`], [`Store::add_custody`]),
+//!   [`Store::delete_incident`], [`Store::add_attachment`].
+//! - **reference data**: [`Store::lookups`], [`Store::sites`], [`Store::suppliers`],
+//!   [`Store::products`], [`Store::lots`], [`Store::exposure`] and the rest of their kind.
+//! - **history**: [`Store::history`] of one incident.
+//! - **fleet facts**: [`Store::stats_input`], [`Store::fleet_facts`], [`Store::fleet_rows`].
+//! - **audit head and verify**: [`Store::audit_head`], [`Store::verify`].
+//! - **import and export**: [`exchange`] (JSON and CSV documents).
+//! - **backup**: [`Store::backup`].
 //!
 //! ```no_run
 //! use shardlog::store::{Store, Stamp, Incident, Filter, PageRequest, Sort};
@@ -12,22 +31,30 @@
 //! # Ok(()) }
 //! ```
 //!
-//! Every change to a user-visible record (an incident with everything under it, a site,
-//! asset, supplier, product, lot, exposure row or lookup entry) appends one hash-chained
-//! audit row in the same transaction. See DEVELOPERS.md, "store", for the canonical form.
+//! Inside: `incidents/` (write, read, list, validate, facts, history), `refdata` (sites to
+//! lookup lists), `audit/` (the hash chain) and `verify`, `files` (attachments), `backup`,
+//! `analysis` (the analysis as stored), `dates`, `ids`; everything SQLite-only (opening,
+//! pragmas, migrations, FTS5, the online backup) in `sqlite/`, so that a PostgreSQL side can
+//! sit beside it. Every change to a user-visible record (an incident with everything under
+//! it, a site, asset, supplier, product, lot, exposure row or lookup entry) appends one
+//! hash-chained audit row in the same transaction; see DEVELOPERS.md, "store", for the
+//! canonical form.
 
-use std::collections::{HashMap, HashSet};
 use std::path::{Path, PathBuf};
 
-use rusqlite::{Connection, OptionalExtension};
+use rusqlite::Connection;
 
+use refdata::LookupSet;
+
+pub mod analysis;
 mod audit;
+mod backup;
 pub mod canon;
-pub mod compute;
 mod dates;
 pub mod demo;
 pub mod exchange;
 mod files;
+mod ids;
 mod incidents;
 pub mod model;
 mod refdata;
@@ -35,6 +62,7 @@ mod sqlite;
 mod verify;
 
 pub use files::{sync_dir, temporary_sibling, write_atomically, write_new_synced};
+pub(crate) use ids::IdGen;
 pub use model::*;
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
 
@@ -99,112 +127,6 @@ impl From<rusqlite::Error> for StoreError {
 impl From<serde_json::Error> for StoreError {
     fn from(e: serde_json::Error) -> Self {
         StoreError::Database(format!("JSON: {e}"))
-    }
-}
-
-/// Deterministic generator for the random part of UUIDv7 keys (SplitMix64).
-///
-/// In monotonic mode (bulk imports, which stamp every key with the same millisecond) keys
-/// made within one millisecond ascend: the 74 random bits of the previous key plus a random
-/// step of 1 to 2^32 (RFC 9562 section 6.2, method 2, "monotonic random"). New rows then go
-/// to the end of the key indexes instead of to random places in them.
-#[derive(Debug, Clone)]
-pub(crate) struct IdGen {
-    state: u64,
-    monotonic: bool,
-    /// (millisecond, 74 random bits) of the last key made in monotonic mode
-    last: Option<(u64, u128)>,
-}
-
-const RAND_BITS: u32 = 74;
-
-impl IdGen {
-    pub(crate) fn new(seed: u64) -> IdGen {
-        IdGen {
-            state: seed,
-            monotonic: false,
-            last: None,
-        }
-    }
-    pub(crate) fn next_u64(&mut self) -> u64 {
-        self.state = self.state.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.state;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    /// Switch monotonic mode on or off (see the type's description).
-    pub(crate) fn set_monotonic(&mut self, on: bool) {
-        self.monotonic = on;
-        self.last = None;
-    }
-    /// A UUIDv7 for the given time in milliseconds since 1970.
-    pub(crate) fn uuid_v7(&mut self, millis: i64) -> String {
-        let a = self.next_u64().to_le_bytes();
-        let b = self.next_u64().to_le_bytes();
-        let mut rnd = [0u8; 10];
-        rnd[..8].copy_from_slice(&a);
-        rnd[8..].copy_from_slice(&b[..2]);
-        let mut ms = millis.max(0) as u64;
-        if self.monotonic {
-            let fresh = u128::from_le_bytes({
-                let mut x = [0u8; 16];
-                x[..10].copy_from_slice(&rnd);
-                x
-            }) & ((1u128 << RAND_BITS) - 1);
-            let r = match self.last {
-                Some((last_ms, last_r)) if last_ms >= ms => {
-                    let step = 1 + u128::from(u32::from_le_bytes([a[0], a[1], a[2], a[3]]));
-                    let r = last_r + step;
-                    if r >> RAND_BITS == 0 {
-                        ms = last_ms;
-                        r
-                    } else {
-                        // the random field is used up: move on to the next millisecond
-                        ms = last_ms + 1;
-                        fresh >> 1
-                    }
-                }
-                _ => fresh >> 1, // start in the lower half: room to count up
-            };
-            self.last = Some((ms, r));
-            // lay the 74 bits out where the builder takes them: 4 bits of byte 0, byte 1,
-            // 6 bits of byte 2, bytes 3..9
-            rnd[0] = ((r >> 70) & 0x0F) as u8;
-            rnd[1] = ((r >> 62) & 0xFF) as u8;
-            rnd[2] = ((r >> 56) & 0x3F) as u8;
-            for (k, byte) in rnd[3..].iter_mut().enumerate() {
-                *byte = ((r >> (8 * (6 - k))) & 0xFF) as u8;
-            }
-        }
-        uuid::Builder::from_unix_timestamp_millis(ms, &rnd)
-            .into_uuid()
-            .hyphenated()
-            .to_string()
-    }
-}
-
-/// (kind, code) of every lookup entry, asked without building owned keys (validation asks
-/// a dozen times per incident).
-#[derive(Debug, Clone, Default)]
-pub(crate) struct LookupSet(HashMap<String, HashSet<String>>);
-
-impl LookupSet {
-    pub(crate) fn insert(&mut self, (kind, code): (String, String)) {
-        self.0.entry(kind).or_default().insert(code);
-    }
-    pub(crate) fn contains(&self, kind: &str, code: &str) -> bool {
-        self.0.get(kind).is_some_and(|codes| codes.contains(code))
-    }
-}
-
-impl FromIterator<(String, String)> for LookupSet {
-    fn from_iter<I: IntoIterator<Item = (String, String)>>(iter: I) -> Self {
-        let mut set = LookupSet::default();
-        for e in iter {
-            set.insert(e);
-        }
-        set
     }
 }
 
@@ -336,149 +258,5 @@ impl Store {
             self.load_lookups()?;
         }
         Ok(())
-    }
-
-    pub(crate) fn load_lookups(&mut self) -> Result<(), StoreError> {
-        let mut stmt = self.conn.prepare("SELECT kind, code FROM lookup")?;
-        let set = stmt
-            .query_map([], |r| Ok((r.get::<_, String>(0)?, r.get::<_, String>(1)?)))?
-            .collect::<Result<LookupSet, _>>()?;
-        drop(stmt);
-        self.lookups = set;
-        Ok(())
-    }
-
-    pub(crate) fn has_lookup(&self, kind: LookupKind, code: &str) -> bool {
-        self.lookups.contains(kind.as_str(), code)
-    }
-
-    /// The hash of the last audit row (the chain head), or 64 zeros on an empty log.
-    pub fn audit_head(&self) -> Result<String, StoreError> {
-        Ok(self
-            .conn
-            .query_row(
-                "SELECT hash FROM audit ORDER BY seq DESC LIMIT 1",
-                [],
-                |r| r.get::<_, String>(0),
-            )
-            .optional()?
-            .unwrap_or_else(|| canon::GENESIS.to_string()))
-    }
-
-    /// Copy the database with SQLite's online backup to `dest` (which must not exist),
-    /// copy the attachment folder beside it, then run an integrity check and `verify` on
-    /// the copy. Everything is made under temporary names and renamed into place only when
-    /// whole and flushed to the disk: a failure half-way leaves nothing at `dest` and no
-    /// temporary files. The copy is readable by its owner only.
-    pub fn backup(&self, dest: &Path) -> Result<VerifyReport, StoreError> {
-        let shown = dest.display().to_string();
-        let dest_files = files::dir_for(dest);
-        for p in [dest, dest_files.as_path()] {
-            if p.exists() {
-                return Err(StoreError::File {
-                    path: p.display().to_string(),
-                    message: "already exists; choose a new file name".into(),
-                });
-            }
-        }
-        let tmp = files::temporary_sibling(dest);
-        let tmp_files = files::dir_for(&tmp);
-        let clean = || {
-            let _ = std::fs::remove_file(&tmp);
-            for suffix in ["-wal", "-shm", "-journal"] {
-                let mut n = tmp.as_os_str().to_os_string();
-                n.push(suffix);
-                let _ = std::fs::remove_file(PathBuf::from(n));
-            }
-            let _ = std::fs::remove_dir_all(&tmp_files);
-        };
-        let result = (|| -> Result<VerifyReport, StoreError> {
-            let file_err = |e: &dyn std::fmt::Display| StoreError::File {
-                path: shown.clone(),
-                message: e.to_string(),
-            };
-            {
-                // the copy in one file (no WAL beside it), flushed to the disk
-                sqlite::copy_database(&self.conn, &tmp)?;
-            }
-            std::fs::File::open(&tmp)
-                .and_then(|f| f.sync_all())
-                .map_err(|e| file_err(&e))?;
-            if let Some(src) = self.files_dir.as_deref() {
-                if src.is_dir() {
-                    files::copy_dir(src, &tmp_files)?;
-                    files::sync_dir(&tmp_files).map_err(|e| file_err(&e))?;
-                }
-            }
-            let report = {
-                let copy = Store::open_existing(&tmp)?;
-                sqlite::integrity_check(&copy.conn)?;
-                copy.verify()?
-            };
-            if tmp_files.is_dir() {
-                std::fs::rename(&tmp_files, &dest_files).map_err(|e| file_err(&e))?;
-            }
-            std::fs::rename(&tmp, dest).map_err(|e| file_err(&e))?;
-            files::sync_dir(dest.parent().unwrap_or(Path::new("."))).map_err(|e| file_err(&e))?;
-            Ok(report)
-        })();
-        if result.is_err() {
-            clean();
-            if !dest.exists() {
-                let _ = std::fs::remove_dir_all(&dest_files);
-            }
-        }
-        result
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn ids_are_v7_and_deterministic() {
-        let mut a = IdGen::new(7);
-        let mut b = IdGen::new(7);
-        let x = a.uuid_v7(1_767_225_600_000);
-        assert_eq!(x, b.uuid_v7(1_767_225_600_000));
-        let u = uuid::Uuid::parse_str(&x).unwrap();
-        assert_eq!(u.get_version_num(), 7);
-        assert_ne!(x, a.uuid_v7(1_767_225_600_000));
-    }
-
-    #[test]
-    fn monotonic_ids_ascend_within_a_millisecond() {
-        let ms = 1_767_225_600_000;
-        let mut g = IdGen::new(11);
-        g.set_monotonic(true);
-        let mut prev = String::new();
-        for i in 0..5000 {
-            let x = g.uuid_v7(ms);
-            let u = uuid::Uuid::parse_str(&x).unwrap();
-            assert_eq!(u.get_version_num(), 7, "{x}");
-            assert_eq!(u.get_variant(), uuid::Variant::RFC4122, "{x}");
-            // RFC 9562: the first 48 bits are the Unix time in milliseconds
-            let (secs, nanos) = u.get_timestamp().unwrap().to_unix();
-            assert_eq!(secs * 1000 + u64::from(nanos / 1_000_000), ms as u64, "{i}");
-            assert!(x > prev, "{prev} then {x}");
-            prev = x;
-        }
-        // a random field that runs out moves on to the next millisecond, still ascending
-        g.last = Some((ms as u64, (1u128 << RAND_BITS) - 2));
-        let x = g.uuid_v7(ms);
-        assert!(x > prev);
-        let (secs, nanos) = uuid::Uuid::parse_str(&x)
-            .unwrap()
-            .get_timestamp()
-            .unwrap()
-            .to_unix();
-        assert_eq!(secs * 1000 + u64::from(nanos / 1_000_000), ms as u64 + 1);
-        // off again: the plain generator (the demo's keys stay as they were)
-        let mut a = IdGen::new(7);
-        let mut b = IdGen::new(7);
-        b.set_monotonic(true);
-        b.set_monotonic(false);
-        assert_eq!(a.uuid_v7(ms), b.uuid_v7(ms));
     }
 }

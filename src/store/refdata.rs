@@ -1,6 +1,8 @@
 //! Reference data: sites, assets, suppliers, products, lots, exposure and lookup lists.
 //! Codes are fixed once created (records refer to them); names may change.
 
+use std::collections::{HashMap, HashSet};
+
 use chrono::NaiveDate;
 use rusqlite::{params, Connection, OptionalExtension, TransactionBehavior};
 
@@ -549,7 +551,41 @@ pub(crate) fn insert_lookup(
     )
 }
 
+/// (kind, code) of every lookup entry, asked without building owned keys (validation asks
+/// a dozen times per incident).
+#[derive(Debug, Clone, Default)]
+pub(crate) struct LookupSet(HashMap<String, HashSet<String>>);
+
+impl LookupSet {
+    pub(crate) fn insert(&mut self, (kind, code): (String, String)) {
+        self.0.entry(kind).or_default().insert(code);
+    }
+    pub(crate) fn contains(&self, kind: &str, code: &str) -> bool {
+        self.0.get(kind).is_some_and(|codes| codes.contains(code))
+    }
+}
+
+impl FromIterator<(String, String)> for LookupSet {
+    fn from_iter<I: IntoIterator<Item = (String, String)>>(iter: I) -> Self {
+        let mut set = LookupSet::default();
+        for e in iter {
+            set.insert(e);
+        }
+        set
+    }
+}
+
 impl Store {
+    pub(crate) fn load_lookups(&mut self) -> Result<(), StoreError> {
+        let mut stmt = self.conn.prepare("SELECT kind, code FROM lookup")?;
+        let set = stmt
+            .query_map([], |r| Ok((r.get::<_, String>(0)?, r.get::<_, String>(1)?)))?
+            .collect::<Result<LookupSet, _>>()?;
+        drop(stmt);
+        self.lookups = set;
+        Ok(())
+    }
+
     fn write_one<T>(
         &mut self,
         stamp: &Stamp,
@@ -574,27 +610,9 @@ impl Store {
         }
     }
 
-    /// Add a site (an empty `id` gets a new key). Returns the stored site.
-    pub fn add_site(&mut self, site: &Site, stamp: &Stamp) -> Result<Site, StoreError> {
-        let mut s = site.clone();
-        s.id = self.new_id(&s.id, stamp);
-        self.write_one(stamp, |c, ch| insert_site(c, ch, &s, stamp))?;
-        Ok(s)
-    }
-
-    pub fn add_asset(&mut self, asset: &Asset, stamp: &Stamp) -> Result<Asset, StoreError> {
-        let mut a = asset.clone();
-        if !self.has_lookup(LookupKind::AssetType, &a.asset_type) {
-            return Err(StoreError::invalid(
-                "asset type",
-                format!("unknown code {}", a.asset_type),
-            ));
-        }
-        a.id = self.new_id(&a.id, stamp);
-        self.write_one(stamp, |c, ch| insert_asset(c, ch, &a, stamp))?;
-        Ok(a)
-    }
-
+    /// Add a supplier (an empty `id` gets a new key). The program itself adds suppliers by
+    /// import or as codes met on an incident; this one-at-a-time form is kept for the tests
+    /// that set up a fleet without a document to import.
     pub fn add_supplier(&mut self, s: &Supplier, stamp: &Stamp) -> Result<Supplier, StoreError> {
         let mut s = s.clone();
         s.id = self.new_id(&s.id, stamp);
@@ -602,31 +620,14 @@ impl Store {
         Ok(s)
     }
 
-    pub fn add_product(&mut self, p: &Product, stamp: &Stamp) -> Result<Product, StoreError> {
-        let mut p = p.clone();
-        p.id = self.new_id(&p.id, stamp);
-        self.write_one(stamp, |c, ch| insert_product(c, ch, &p, stamp))?;
-        Ok(p)
-    }
-
-    pub fn add_lot(&mut self, l: &Lot, stamp: &Stamp) -> Result<Lot, StoreError> {
-        let mut l = l.clone();
-        l.id = self.new_id(&l.id, stamp);
-        self.write_one(stamp, |c, ch| insert_lot(c, ch, &l, stamp))?;
-        Ok(l)
-    }
-
+    /// Add an exposure row (an empty `id` gets a new key). The program itself adds exposure
+    /// by import; this one-at-a-time form is kept for the tests that set up a fleet's panes
+    /// in service without a document to import.
     pub fn add_exposure(&mut self, e: &Exposure, stamp: &Stamp) -> Result<Exposure, StoreError> {
         let mut e = e.clone();
         e.id = self.new_id(&e.id, stamp);
         self.write_one(stamp, |c, ch| insert_exposure(c, ch, &e, stamp))?;
         Ok(e)
-    }
-
-    /// Add an entry to a lookup list (a lab's own origin type, cause category, ...).
-    pub fn add_lookup(&mut self, e: &LookupEntry, stamp: &Stamp) -> Result<(), StoreError> {
-        self.write_one(stamp, |c, ch| insert_lookup(c, ch, e, stamp))?;
-        self.load_lookups()
     }
 
     /// A lookup list for a pick-list, in its display order.
@@ -664,29 +665,4 @@ impl Store {
     pub fn exposure(&self) -> Result<Vec<Exposure>, StoreError> {
         load_exposure(&self.conn)
     }
-
-    /// The incidents' facts and the exposure a statistics query needs. The query's keys,
-    /// its `only` keys and, with an origin type, the origin type are always read; `extra`
-    /// adds more (the review adds the cause); other keys are left unrecorded.
-    pub fn stats_input(
-        &self,
-        q: &shardlog_core::fleet::StatsQuery,
-        extra: &[shardlog_core::fleet::Key],
-    ) -> Result<StatsInput, StoreError> {
-        let mut keys: Vec<shardlog_core::fleet::Key> =
-            q.keys.iter().chain(extra).copied().collect();
-        keys.extend(q.only.iter().map(|(k, _)| *k));
-        if q.origin_type.is_some() {
-            keys.push(shardlog_core::fleet::Key::OriginType);
-        }
-        let incidents = self.fleet_facts(q.since, q.until, q.stress, Some(&keys))?;
-        let exposures = self.exposure()?.iter().map(|e| e.to_fleet()).collect();
-        Ok((incidents, exposures))
-    }
 }
-
-/// What [`Store::stats_input`] gives: one fact row per incident and the exposure rows.
-pub type StatsInput = (
-    Vec<shardlog_core::fleet::IncidentFacts>,
-    Vec<shardlog_core::fleet::Exposure>,
-);

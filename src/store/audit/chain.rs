@@ -6,7 +6,7 @@ use rusqlite::{params, Connection, OptionalExtension};
 use crate::store::canon::{self, AuditRow, GENESIS};
 use crate::store::dates::fmt_time;
 use crate::store::model::*;
-use crate::store::{IdGen, StoreError};
+use crate::store::{IdGen, Store, StoreError};
 
 /// The running end of the chain inside one transaction.
 pub(crate) struct Chain {
@@ -105,6 +105,21 @@ impl Chain {
         stmt.execute(params!["audit_head_seq", self.seq.to_string()])?;
         stmt.execute(params!["audit_head_hash", self.hash])?;
         Ok(())
+    }
+}
+
+impl Store {
+    /// The hash of the last audit row (the chain head), or 64 zeros on an empty log.
+    pub fn audit_head(&self) -> Result<String, StoreError> {
+        Ok(self
+            .conn
+            .query_row(
+                "SELECT hash FROM audit ORDER BY seq DESC LIMIT 1",
+                [],
+                |r| r.get::<_, String>(0),
+            )
+            .optional()?
+            .unwrap_or_else(|| canon::GENESIS.to_string()))
     }
 }
 

@@ -16,6 +16,25 @@ use crate::store::model::*;
 use crate::store::{Store, StoreError};
 
 impl Store {
+    /// The incidents' facts and the exposure a statistics query needs. The query's keys,
+    /// its `only` keys and, with an origin type, the origin type are always read; `extra`
+    /// adds more (the review adds the cause); other keys are left unrecorded.
+    pub fn stats_input(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        extra: &[shardlog_core::fleet::Key],
+    ) -> Result<StatsInput, StoreError> {
+        let mut keys: Vec<shardlog_core::fleet::Key> =
+            q.keys.iter().chain(extra).copied().collect();
+        keys.extend(q.only.iter().map(|(k, _)| *k));
+        if q.origin_type.is_some() {
+            keys.push(shardlog_core::fleet::Key::OriginType);
+        }
+        let incidents = self.fleet_facts(q.since, q.until, q.stress, Some(&keys))?;
+        let exposures = self.exposure()?.iter().map(|e| e.to_fleet()).collect();
+        Ok((incidents, exposures))
+    }
+
     /// One flat row per matching incident for fleet statistics, in no particular order
     /// (the order SQLite reads them in; callers group and count, none relies on an order).
     ///
@@ -462,6 +481,12 @@ impl ValueTable {
         self.texts.get(i as usize)
     }
 }
+
+/// What [`Store::stats_input`] gives: one fact row per incident and the exposure rows.
+pub type StatsInput = (
+    Vec<shardlog_core::fleet::IncidentFacts>,
+    Vec<shardlog_core::fleet::Exposure>,
+);
 
 #[cfg(test)]
 mod tests {

@@ -45,7 +45,7 @@ fn check_measured(
     }
 }
 
-pub(super) type Lookups = crate::store::LookupSet;
+pub(super) type Lookups = crate::store::refdata::LookupSet;
 
 fn check_code(
     lookups: &Lookups,

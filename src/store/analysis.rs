@@ -1,5 +1,5 @@
-//! From a stored examination to the fracture core's input, and from its `Analysis` to a
-//! stored [`ComputedResult`]. Pure: no database here.
+//! The analysis as stored: a stored examination turned into the fracture core's input, and
+//! the core's `Analysis` into the stored [`ComputedResult`]. Pure: no database here.
 
 use chrono::{DateTime, Utc};
 
@@ -9,7 +9,7 @@ use shardlog_core::fracture::{
 };
 
 /// Temper class lookup code → the core's temper.
-pub fn temper_of(code: &str) -> Option<Temper> {
+fn temper_of(code: &str) -> Option<Temper> {
     match code {
         "annealed" => Some(Temper::Annealed),
         "heat_strengthened" => Some(Temper::HeatStrengthened),
@@ -20,7 +20,7 @@ pub fn temper_of(code: &str) -> Option<Temper> {
 }
 
 /// Whether the origin of an examination sits in the interior (tensile core).
-pub fn interior_origin(inc: &Incident, exam: &Examination) -> bool {
+fn interior_origin(inc: &Incident, exam: &Examination) -> bool {
     inc.pattern.origin_location.as_deref() == Some("interior")
         || matches!(
             exam.origin_type.as_deref(),
@@ -29,7 +29,7 @@ pub fn interior_origin(inc: &Incident, exam: &Examination) -> bool {
 }
 
 /// The core's input for one examination of an incident.
-pub fn analysis_input(inc: &Incident, exam: &Examination) -> Result<AnalysisInput, FractureError> {
+fn analysis_input(inc: &Incident, exam: &Examination) -> Result<AnalysisInput, FractureError> {
     let ply = inc.glass.plies.first();
     let material_code = exam
         .material
@@ -126,30 +126,4 @@ pub fn compute(
     let input = analysis_input(inc, exam)?;
     let analysis = fracture::analyze(&input)?;
     to_result(&analysis, computed_at).map_err(|e| ComputeError::Serialize(e.to_string()))
-}
-
-impl super::Store {
-    /// Compute an examination's result with the fracture core and save it (revision check).
-    pub fn compute_result(
-        &mut self,
-        key: &str,
-        expected: i64,
-        examination_id: &str,
-        stamp: &Stamp,
-    ) -> Result<Incident, super::StoreError> {
-        let inc = self.get(key)?;
-        let exam = inc
-            .examinations
-            .iter()
-            .find(|e| e.id == examination_id)
-            .ok_or_else(|| {
-                super::StoreError::invalid(
-                    "examination",
-                    format!("no examination {examination_id}"),
-                )
-            })?;
-        let result = compute(&inc, exam, stamp.at)
-            .map_err(|e| super::StoreError::invalid("examination", e.to_string()))?;
-        self.set_result(key, expected, examination_id, Some(result), stamp)
-    }
 }
