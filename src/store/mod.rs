@@ -37,8 +37,8 @@
 //! pragmas, migrations, FTS5, the online backup) in `sqlite/`, so that a PostgreSQL side can
 //! sit beside it. Every change to a user-visible record (an incident with everything under
 //! it, a site, asset, supplier, product, lot, exposure row or lookup entry) appends one
-//! hash-chained audit row in the same transaction; see DEVELOPERS.md, "store", for the
-//! canonical form.
+//! hash-chained audit row in the same transaction; see docs/notes.md, "The audit chain",
+//! for the canonical form.
 
 use std::path::{Path, PathBuf};
 

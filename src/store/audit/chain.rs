@@ -111,15 +111,7 @@ impl Chain {
 impl Store {
     /// The hash of the last audit row (the chain head), or 64 zeros on an empty log.
     pub fn audit_head(&self) -> Result<String, StoreError> {
-        Ok(self
-            .conn
-            .query_row(
-                "SELECT hash FROM audit ORDER BY seq DESC LIMIT 1",
-                [],
-                |r| r.get::<_, String>(0),
-            )
-            .optional()?
-            .unwrap_or_else(|| canon::GENESIS.to_string()))
+        Ok(Chain::load(&self.conn)?.hash)
     }
 }
 

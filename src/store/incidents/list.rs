@@ -316,7 +316,7 @@ pub(super) enum TextPlan {
 /// size (about 8 µs each, sorting included); walking the log in its sort order costs about
 /// `limit * rows / hits` index steps (at most `rows`, about 0.8 µs each) after the set of
 /// matches is built (about 0.6 µs a match). Walking wins when its steps are fewer than
-/// about ten per match (measured on the 1,000,000-incident demo database; DEVELOPERS.md,
+/// about ten per match (measured on the 1,000,000-incident demo database; docs/notes.md,
 /// "Text search").
 fn choose_text_plan(hits: u64, rows: u64, limit: u64) -> TextPlan {
     let walk = limit

@@ -1,5 +1,13 @@
-//! Incidents: write and read the whole aggregate, revision checks, the log listing with
-//! keyset pagination, and the flat rows for fleet statistics.
+//! Incidents, the whole aggregate (plies, examinations with readings and results, custody,
+//! attachments), by job:
+//!
+//! - `write`: new, changed (revision-checked) and deleted incidents, each with its audit row;
+//!   `refs`: the codes of site, asset, supplier, product and lot turned into keys.
+//! - `read`: one incident by reference or id; `children`: every incident in one ordered scan.
+//! - `list`: the log, a page at a time in keyset order, and the filter as SQL.
+//! - `validate`: what a valid incident is.
+//! - `facts`: the flat facts the fleet statistics read, and their check.
+//! - `history`: an incident's audit history.
 
 use super::model::*;
 
