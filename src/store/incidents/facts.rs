@@ -8,9 +8,8 @@ use rusqlite::types::ValueRef;
 use rusqlite::{params, params_from_iter, Connection, TransactionBehavior};
 use shardlog_core::fleet::StressKind;
 
-use super::list::{filter_sql, where_clause, TextPlan};
+use super::list::{filter_sql, text_value, where_clause, TextPlan};
 use super::read::{bad_col, text_ref};
-use super::write::t;
 use crate::store::dates::{fmt_date, parse_date};
 use crate::store::model::*;
 use crate::store::{Store, StoreError};
@@ -179,11 +178,11 @@ impl Store {
         let mut args = Vec::new();
         if let Some(d) = since {
             conds.push("found_on >= ?".to_string());
-            args.push(t(&fmt_date(d)));
+            args.push(text_value(&fmt_date(d)));
         }
         if let Some(d) = until {
             conds.push("found_on <= ?".to_string());
-            args.push(t(&fmt_date(d)));
+            args.push(text_value(&fmt_date(d)));
         }
         // fixed SQL text only (column names from the list above); the dates are bound
         let columns: String = wanted.iter().map(|w| format!(", {}", w.1)).collect();

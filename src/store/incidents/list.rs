@@ -5,7 +5,6 @@ use rusqlite::types::Value as SqlValue;
 use rusqlite::{params, params_from_iter, Connection};
 
 use super::read::bad_col;
-use super::write::{of, t};
 use crate::store::dates::{fmt_date, parse_date};
 use crate::store::model::*;
 use crate::store::sqlite;
@@ -108,7 +107,7 @@ impl Store {
             for k in &c.key {
                 match k {
                     CursorKey::Text(s) => params_v.push(SqlValue::Text(s.clone())),
-                    CursorKey::Real(x) => params_v.push(of(*x)),
+                    CursorKey::Real(x) => params_v.push(real_value(*x)),
                 }
             }
             params_v.push(SqlValue::Integer(c.seq));
@@ -293,6 +292,16 @@ impl PageQuery<'_> {
     }
 }
 
+/// A bound text value.
+pub(super) fn text_value(s: &str) -> SqlValue {
+    SqlValue::Text(s.to_string())
+}
+
+/// A bound number, NULL for none.
+fn real_value(x: Option<f64>) -> SqlValue {
+    x.map_or(SqlValue::Null, SqlValue::Real)
+}
+
 pub(super) fn where_clause(conds: &[String]) -> String {
     if conds.is_empty() {
         String::new()
@@ -343,19 +352,19 @@ pub(super) fn filter_sql(
     let mut a = Vec::new();
     if let Some(s) = &f.status {
         c.push("i.status = ?".to_string());
-        a.push(t(s));
+        a.push(text_value(s));
     }
     if let Some(s) = &f.cause {
         c.push("i.cause_category = ?".to_string());
-        a.push(t(s));
+        a.push(text_value(s));
     }
     if let Some(s) = &f.origin_type {
         c.push("i.origin_type = ?".to_string());
-        a.push(t(s));
+        a.push(text_value(s));
     }
     if let Some(s) = &f.supplier {
         c.push("i.supplier_id = (SELECT id FROM suppliers WHERE code = ?)".to_string());
-        a.push(t(s));
+        a.push(text_value(s));
     }
     if let Some(l) = &f.lot {
         let mut stmt = conn.prepare_cached(
@@ -375,15 +384,15 @@ pub(super) fn filter_sql(
     }
     if let Some(s) = &f.site {
         c.push("i.site_id = (SELECT id FROM sites WHERE code = ?)".to_string());
-        a.push(t(s));
+        a.push(text_value(s));
     }
     if let Some(d) = f.since {
         c.push("i.found_on >= ?".to_string());
-        a.push(t(&fmt_date(d)));
+        a.push(text_value(&fmt_date(d)));
     }
     if let Some(d) = f.until {
         c.push("i.found_on <= ?".to_string());
-        a.push(t(&fmt_date(d)));
+        a.push(text_value(&fmt_date(d)));
     }
     if let Some(text) = &f.text {
         match sqlite::fts_query(text) {

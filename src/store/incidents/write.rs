@@ -2,7 +2,7 @@
 //! with its audit row in the same transaction.
 
 use chrono::NaiveDate;
-use rusqlite::types::{ToSqlOutput, Value as SqlValue, ValueRef};
+use rusqlite::types::{ToSqlOutput, ValueRef};
 use rusqlite::{params, params_from_iter, Connection, OptionalExtension, TransactionBehavior};
 
 use super::read::{load, load_row, resolve_key};
@@ -84,13 +84,6 @@ fn build_update_sql() -> String {
         "UPDATE incidents SET {} WHERE id = ?1 AND revision = ?39",
         sets.join(", ")
     )
-}
-
-pub(super) fn t(s: &str) -> SqlValue {
-    SqlValue::Text(s.to_string())
-}
-pub(super) fn of(x: Option<f64>) -> SqlValue {
-    x.map_or(SqlValue::Null, SqlValue::Real)
 }
 
 /// Column values of an incident row, in [`COLS`] order, borrowing the incident's text
