@@ -544,7 +544,6 @@ fn files_and_functions_stay_readable() {
         "src/report/summary.rs",
         "src/store/audit.rs",
         "src/store/demo.rs",
-        "src/store/exchange.rs",
         "src/store/incidents.rs",
         "src/tui/screens/bench.rs",
         "src/tui/screens/incident.rs",
