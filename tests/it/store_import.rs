@@ -448,6 +448,30 @@ fn problems_name_line_and_field() {
 }
 
 #[test]
+fn problems_after_a_multi_line_cell_name_the_physical_line() {
+    // the first record spans lines 2 to 4 (a quoted cell with two newlines), line 5 is
+    // blank, and the bad record (an unknown status, found when the incident is checked)
+    // starts on line 6 of the file
+    let mut s = Store::open_in_memory().unwrap();
+    let bytes = csv(&[
+        GOOD_HEADER,
+        "R1,2026-03-14,,,,reported,,,\"first line",
+        "second line",
+        "third line\"",
+        "",
+        "R2,2026-03-15,,,,no_such_status,,,",
+    ]);
+    let rej = s
+        .import_bytes("x.csv", &bytes, ImportOptions::default(), &stamp())
+        .unwrap()
+        .unwrap_err();
+    let all: Vec<String> = rej.problems.iter().map(|p| p.to_string()).collect();
+    assert_eq!(all.len(), 1, "{all:?}");
+    assert!(all[0].starts_with("line 6: status: "), "{all:?}");
+    assert_eq!(s.incident_count().unwrap(), 0);
+}
+
+#[test]
 fn odd_but_valid_text_is_stored_verbatim() {
     let dir = tempfile::tempdir().unwrap();
     let mut s = Store::open(&dir.path().join("t.db")).unwrap();

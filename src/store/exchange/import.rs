@@ -86,8 +86,7 @@ impl Store {
     ) -> ImportResult {
         let incidents = records
             .into_iter()
-            .enumerate()
-            .map(|(i, r)| (Place::Line(i + 2), r.incident))
+            .map(|r| (Place::Line(r.line), r.incident))
             .collect();
         self.import_placed(ExportDoc::empty(), incidents, options, stamp)
     }
