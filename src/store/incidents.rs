@@ -2663,7 +2663,7 @@ mod tests {
     /// and with other filters, and the same totals as a plain count of the matches.
     #[test]
     fn text_plans_agree_page_by_page() {
-        let (_dir, path) = crate::store::demo::temp_demo(1500, 3);
+        let (_dir, path) = crate::demo::temp_demo(1500, 3);
         let s = Store::open_existing(&path).unwrap();
         let words = [
             "impact",
@@ -2744,7 +2744,7 @@ mod tests {
     #[test]
     fn scan_gives_the_incidents_load_gives() {
         use chrono::TimeZone;
-        let (_dir, path) = crate::store::demo::temp_demo(300, 5);
+        let (_dir, path) = crate::demo::temp_demo(300, 5);
         let mut s = Store::open_existing(&path).unwrap();
         let stamp = Stamp::new(
             "test",
@@ -2908,7 +2908,7 @@ mod tests {
     /// report), one tamper at a time and all together.
     #[test]
     fn fleet_facts_scan_agrees_with_the_sql_join() {
-        let (dir, path) = crate::store::demo::temp_demo(200, 9);
+        let (dir, path) = crate::demo::temp_demo(200, 9);
         let tampers = [
             "UPDATE incident_facts SET supplier_id = (SELECT max(n) FROM fleet_values) WHERE seq = 2",
             "UPDATE incident_facts SET cause_category = 99999 WHERE seq = 3",

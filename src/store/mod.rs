@@ -22,9 +22,9 @@ use std::path::{Path, PathBuf};
 use rusqlite::{Connection, OptionalExtension, TransactionBehavior};
 
 mod audit;
+pub mod bulk;
 pub mod canon;
 pub mod compute;
-pub mod demo;
 pub mod exchange;
 mod files;
 mod incidents;

@@ -543,7 +543,6 @@ fn files_and_functions_stay_readable() {
         "src/report/source.rs",
         "src/report/summary.rs",
         "src/store/audit.rs",
-        "src/store/demo.rs",
         "src/store/incidents.rs",
         "src/tui/screens/bench.rs",
         "src/tui/screens/incident.rs",

@@ -5,7 +5,7 @@
 use std::path::{Path, PathBuf};
 
 use chrono::{DateTime, Utc};
-use shardlog::store::demo::{generate, DemoOptions};
+use shardlog::demo::{generate, DemoOptions};
 use shardlog::store::exchange::{ImportOptions, CSV_COLUMNS};
 use shardlog::store::*;
 
