@@ -22,6 +22,14 @@ use shardlog_core::fracture::materials::Material;
 use shardlog_core::fracture::{self, Boundary};
 use shardlog_core::units::Dimension;
 
+/// The incident being made: its plan, the analyst who enters it, and the millisecond its
+/// keys carry.
+struct Case<'p> {
+    plan: &'p Plan,
+    analyst: &'static str,
+    ms: i64,
+}
+
 /// Makes the planned incidents one by one (on the bulk load's maker thread).
 pub(super) struct Maker<'a> {
     world: &'a World,
@@ -81,7 +89,8 @@ impl<'a> Maker<'a> {
         let sigma = sigma.max(8e6);
         inc.pattern = self.pattern(plan, pdef, sigma, location);
         if plan.life.examined {
-            let exam = self.examination(plan, analyst, sigma, thickness, origin_type, ids, ms);
+            let case = Case { plan, analyst, ms };
+            let exam = self.examination(&case, sigma, thickness, origin_type, ids);
             self.examine(&mut inc, exam, plan, analyst, ids, ms);
         }
         self.assign_cause(&mut inc, plan, analyst, ids, ms);
@@ -208,17 +217,15 @@ impl<'a> Maker<'a> {
     }
 
     /// The lab's examination, its result computed by the fracture core.
-    #[allow(clippy::too_many_arguments)]
     fn examination(
         &mut self,
-        plan: &Plan,
-        analyst: &str,
+        case: &Case<'_>,
         sigma: f64,
         thickness: Option<f64>,
         origin_type: &str,
         ids: &mut IdGen,
-        ms: i64,
     ) -> Examination {
+        let Case { plan, analyst, ms } = *case;
         let readings = self.readings(plan, analyst, sigma, thickness);
         let stone = self.rng.range(0.08e-3, 0.25e-3);
         let flaw = (plan.cause == CauseKind::NickelSulfide).then(|| FlawMeasurement {

@@ -164,44 +164,40 @@ impl<'s> BulkLoad<'s> {
         self.attachments.clone()
     }
 
-    fn wrote(&mut self, stamp: &Stamp) {
+    /// Insert one reference record with its audit row.
+    fn add<T>(
+        &mut self,
+        insert: fn(&rusqlite::Connection, &mut Chain, &T, &Stamp) -> Result<(), StoreError>,
+        record: &T,
+        stamp: &Stamp,
+    ) -> Result<(), StoreError> {
+        insert(&self.tx, &mut self.chain, record, stamp)?;
         self.last_stamp = Some(stamp.clone());
+        Ok(())
     }
 
     pub fn add_site(&mut self, site: &Site, stamp: &Stamp) -> Result<(), StoreError> {
-        refdata::insert_site(&self.tx, &mut self.chain, site, stamp)?;
-        self.wrote(stamp);
-        Ok(())
+        self.add(refdata::insert_site, site, stamp)
     }
 
     pub fn add_supplier(&mut self, supplier: &Supplier, stamp: &Stamp) -> Result<(), StoreError> {
-        refdata::insert_supplier(&self.tx, &mut self.chain, supplier, stamp)?;
-        self.wrote(stamp);
-        Ok(())
+        self.add(refdata::insert_supplier, supplier, stamp)
     }
 
     pub fn add_product(&mut self, product: &Product, stamp: &Stamp) -> Result<(), StoreError> {
-        refdata::insert_product(&self.tx, &mut self.chain, product, stamp)?;
-        self.wrote(stamp);
-        Ok(())
+        self.add(refdata::insert_product, product, stamp)
     }
 
     pub fn add_lot(&mut self, lot: &Lot, stamp: &Stamp) -> Result<(), StoreError> {
-        refdata::insert_lot(&self.tx, &mut self.chain, lot, stamp)?;
-        self.wrote(stamp);
-        Ok(())
+        self.add(refdata::insert_lot, lot, stamp)
     }
 
     pub fn add_asset(&mut self, asset: &Asset, stamp: &Stamp) -> Result<(), StoreError> {
-        refdata::insert_asset(&self.tx, &mut self.chain, asset, stamp)?;
-        self.wrote(stamp);
-        Ok(())
+        self.add(refdata::insert_asset, asset, stamp)
     }
 
     pub fn add_exposure(&mut self, exposure: &Exposure, stamp: &Stamp) -> Result<(), StoreError> {
-        refdata::insert_exposure(&self.tx, &mut self.chain, exposure, stamp)?;
-        self.wrote(stamp);
-        Ok(())
+        self.add(refdata::insert_exposure, exposure, stamp)
     }
 
     /// Write the incidents `make` returns, one call each, until it returns `None`; then
