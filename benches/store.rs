@@ -615,13 +615,13 @@ fn main() {
     let parse = t.elapsed();
     let t = Instant::now();
     let check = Store::open_in_memory().expect("memory");
-    for inc in &parsed {
-        assert!(check.validate_incident(inc).is_empty());
+    for record in &parsed {
+        assert!(check.validate_incident(&record.incident).is_empty());
     }
     let validate = t.elapsed();
     let t = Instant::now();
-    for inc in &parsed {
-        std::hint::black_box(canon::incident_image(inc).expect("image"));
+    for record in &parsed {
+        std::hint::black_box(canon::incident_image(&record.incident).expect("image"));
     }
     let image = t.elapsed();
     println!(

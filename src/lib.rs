@@ -6,6 +6,7 @@
 
 pub mod app;
 pub mod cli;
+pub mod demo;
 pub mod report;
 pub mod store;
 pub mod tui;

@@ -649,10 +649,10 @@ pub struct DemoArgs {
     #[arg(long, value_name = "PATH")]
     pub out: PathBuf,
     /// Number of incidents.
-    #[arg(long, value_name = "N", default_value_t = store::demo::DEFAULT_INCIDENTS)]
+    #[arg(long, value_name = "N", default_value_t = crate::demo::DEFAULT_INCIDENTS)]
     pub incidents: u64,
     /// Seed of the generator.
-    #[arg(long, value_name = "S", default_value_t = store::demo::DEFAULT_SEED)]
+    #[arg(long, value_name = "S", default_value_t = crate::demo::DEFAULT_SEED)]
     pub seed: u64,
 }
 
@@ -669,9 +669,9 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         )));
     }
     let started = std::time::Instant::now();
-    let sum = store::demo::generate(
+    let sum = crate::demo::generate(
         &args.out,
-        &store::demo::DemoOptions {
+        &crate::demo::DemoOptions {
             incidents: args.incidents,
             seed: args.seed,
         },

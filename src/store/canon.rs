@@ -288,9 +288,9 @@ mod tests {
     fn direct_writer_matches_value_path() {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("d.db");
-        crate::store::demo::generate(
+        crate::demo::generate(
             &path,
-            &crate::store::demo::DemoOptions {
+            &crate::demo::DemoOptions {
                 incidents: 120,
                 seed: 5,
             },

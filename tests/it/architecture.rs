@@ -540,8 +540,6 @@ fn files_and_functions_stay_readable() {
         "src/report/chart.rs",
         "src/report/source.rs",
         "src/report/summary.rs",
-        "src/store/demo.rs",
-        "src/store/exchange.rs",
         "src/tui/screens/bench.rs",
         "src/tui/screens/incident.rs",
         "src/tui/screens/review.rs",

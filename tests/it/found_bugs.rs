@@ -61,7 +61,7 @@ fn export_onto_its_own_database_is_refused() {
     assert_eq!(before, after, "database bytes changed");
 }
 
-/// src/store/exchange.rs (JSON import) and src/store/audit.rs (verify): an imported incident
+/// src/store/exchange/import.rs (JSON import) and src/store/audit.rs (verify): an imported incident
 /// may list an attachment whose file is not in the database's attachment folder (any 64-hex
 /// hash, any file name, even "../../../../etc/cron.d/x"); the import succeeds and `verify`
 /// says "ok", so the record claims evidence that does not exist. Expected: the import refuses

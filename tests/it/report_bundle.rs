@@ -448,11 +448,11 @@ fn a_bundle_with_a_hostile_incident_is_safe_and_verifies() {
 fn default_demo() -> (tempfile::TempDir, std::path::PathBuf) {
     let tmp = tempfile::tempdir().unwrap();
     let db = tmp.path().join("demo.db");
-    shardlog::store::demo::generate(
+    shardlog::demo::generate(
         &db,
-        &shardlog::store::demo::DemoOptions {
-            incidents: shardlog::store::demo::DEFAULT_INCIDENTS,
-            seed: shardlog::store::demo::DEFAULT_SEED,
+        &shardlog::demo::DemoOptions {
+            incidents: shardlog::demo::DEFAULT_INCIDENTS,
+            seed: shardlog::demo::DEFAULT_SEED,
         },
     )
     .unwrap();

@@ -261,7 +261,8 @@ fn demo_refuses_bad_arguments() {
 /// compared through the canonical JSON export and the attachment files, not bytes.
 #[test]
 fn sample_db_matches_the_generator() {
-    use shardlog::store::{demo, Filter, Store};
+    use shardlog::demo;
+    use shardlog::store::{Filter, Store};
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("sample-db");
     let dir = tempfile::tempdir().unwrap();
     // copy the committed file so the test never writes into the source tree
@@ -323,7 +324,8 @@ fn sample_db_matches_the_generator() {
 /// 200 K; thermal breakage is an annealed-glass problem — common practice).
 #[test]
 fn demo_history_is_consistent_in_time() {
-    use shardlog::store::{demo, Filter, Store};
+    use shardlog::demo;
+    use shardlog::store::{Filter, Store};
     let dir = tempfile::tempdir().unwrap();
     let db = dir.path().join("d.db");
     demo::generate(
@@ -404,7 +406,8 @@ fn demo_history_is_consistent_in_time() {
 /// matches the incidents (verify), and the triggers are back, so a later edit is followed.
 #[test]
 fn demo_fleet_facts_are_filled_and_kept_after_the_load() {
-    use shardlog::store::{demo, Stamp, Store};
+    use shardlog::demo;
+    use shardlog::store::{Stamp, Store};
     let dir = tempfile::tempdir().unwrap();
     let db = dir.path().join("d.db");
     demo::generate(

@@ -5,7 +5,7 @@
 use std::path::{Path, PathBuf};
 
 use chrono::{DateTime, Utc};
-use shardlog::store::demo::{generate, DemoOptions};
+use shardlog::demo::{generate, DemoOptions};
 use shardlog::store::exchange::{ImportOptions, CSV_COLUMNS};
 use shardlog::store::*;
 
@@ -444,6 +444,30 @@ fn problems_name_line_and_field() {
     assert_eq!(all.len(), 2, "{all:?}");
     assert!(all[0].starts_with("line 3, column mirror_mist"), "{all:?}");
     assert!(all[1].starts_with("line 4, column found_on"), "{all:?}");
+    assert_eq!(s.incident_count().unwrap(), 0);
+}
+
+#[test]
+fn problems_after_a_multi_line_cell_name_the_physical_line() {
+    // the first record spans lines 2 to 4 (a quoted cell with two newlines), line 5 is
+    // blank, and the bad record (an unknown status, found when the incident is checked)
+    // starts on line 6 of the file
+    let mut s = Store::open_in_memory().unwrap();
+    let bytes = csv(&[
+        GOOD_HEADER,
+        "R1,2026-03-14,,,,reported,,,\"first line",
+        "second line",
+        "third line\"",
+        "",
+        "R2,2026-03-15,,,,no_such_status,,,",
+    ]);
+    let rej = s
+        .import_bytes("x.csv", &bytes, ImportOptions::default(), &stamp())
+        .unwrap()
+        .unwrap_err();
+    let all: Vec<String> = rej.problems.iter().map(|p| p.to_string()).collect();
+    assert_eq!(all.len(), 1, "{all:?}");
+    assert!(all[0].starts_with("line 6: status: "), "{all:?}");
     assert_eq!(s.incident_count().unwrap(), 0);
 }
 

@@ -4,6 +4,7 @@
 use std::path::{Path, PathBuf};
 
 use chrono::{DateTime, NaiveDate, Utc};
+use shardlog::demo;
 use shardlog::store::*;
 use shardlog_core::units::Dimension;
 

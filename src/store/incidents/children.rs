@@ -194,7 +194,7 @@ mod tests {
     #[test]
     fn scan_gives_the_incidents_load_gives() {
         use chrono::TimeZone;
-        let (_dir, path) = crate::store::demo::temp_demo(300, 5);
+        let (_dir, path) = crate::demo::temp_demo(300, 5);
         let mut s = Store::open_existing(&path).unwrap();
         let stamp = Stamp::new(
             "test",

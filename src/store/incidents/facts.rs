@@ -551,7 +551,7 @@ mod tests {
     /// report), one tamper at a time and all together.
     #[test]
     fn fleet_facts_scan_agrees_with_the_sql_join() {
-        let (dir, path) = crate::store::demo::temp_demo(200, 9);
+        let (dir, path) = crate::demo::temp_demo(200, 9);
         let tampers = [
             "UPDATE incident_facts SET supplier_id = (SELECT max(n) FROM fleet_values) WHERE seq = 2",
             "UPDATE incident_facts SET cause_category = 99999 WHERE seq = 3",

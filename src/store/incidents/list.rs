@@ -457,7 +457,7 @@ mod tests {
     /// and with other filters, and the same totals as a plain count of the matches.
     #[test]
     fn text_plans_agree_page_by_page() {
-        let (_dir, path) = crate::store::demo::temp_demo(1500, 3);
+        let (_dir, path) = crate::demo::temp_demo(1500, 3);
         let s = Store::open_existing(&path).unwrap();
         let words = [
             "impact",

@@ -1,0 +1,574 @@
+//! Import: records read by a codec are checked as a whole, then written in one transaction.
+//! All or nothing: any problem, and nothing is written.
+
+use std::collections::{HashMap, HashSet};
+
+use chrono::NaiveDate;
+use rusqlite::{Connection, TransactionBehavior};
+
+use super::super::audit::{Bulk, Chain, INCIDENT};
+use super::super::incidents::{self, format_reference, next_reference, reference_prefix, RefCache};
+use super::super::model::*;
+use super::super::refdata;
+use super::super::{IdGen, LookupSet, Store, StoreError};
+use super::csv::{parse_csv, CsvRecord};
+use super::json::parse_json;
+use super::{
+    ExportDoc, FileKind, ImportOptions, ImportRejected, ImportSummary, Problem, MAX_IMPORT_BYTES,
+};
+
+/// What an import returns: a summary, or the problems that refused it (nothing written);
+/// the outer error is the machine's, not the file's.
+type ImportResult = Result<Result<ImportSummary, ImportRejected>, StoreError>;
+
+/// Where an incident sits in the import file.
+#[derive(Debug, Clone, Copy)]
+enum Place {
+    /// The physical line a CSV record starts on.
+    Line(usize),
+    /// The position in a JSON document's `incidents`.
+    Index(usize),
+}
+
+impl Place {
+    fn at(self) -> String {
+        match self {
+            Place::Line(n) => format!("line {n}"),
+            Place::Index(i) => format!("incidents[{i}]"),
+        }
+    }
+
+    /// A problem with one field of the incident: a CSV record names the field in the
+    /// message (its columns are not the model's paths), a JSON path names it in the place.
+    fn field_problem(self, field: &str, message: String) -> Problem {
+        match self {
+            Place::Line(_) => Problem::new(self.at(), format!("{field}: {message}")),
+            Place::Index(_) => Problem::new(format!("{}.{field}", self.at()), message),
+        }
+    }
+}
+
+impl Store {
+    /// Import a file's bytes (JSON or CSV by name or content). All or nothing.
+    pub fn import_bytes(
+        &mut self,
+        name: &str,
+        bytes: &[u8],
+        options: ImportOptions,
+        stamp: &Stamp,
+    ) -> ImportResult {
+        if bytes.len() > MAX_IMPORT_BYTES {
+            return Ok(Err(ImportRejected {
+                problems: vec![Problem::new(
+                    "file",
+                    format!("is larger than {} MB", MAX_IMPORT_BYTES >> 20),
+                )],
+            }));
+        }
+        match FileKind::detect(name, bytes) {
+            FileKind::Json => match parse_json(bytes) {
+                Ok(doc) => self.import_json(doc, options, stamp),
+                Err(problems) => Ok(Err(ImportRejected { problems })),
+            },
+            FileKind::Csv => match parse_csv(bytes, stamp) {
+                Ok(records) => self.import_csv(records, options, stamp),
+                Err(problems) => Ok(Err(ImportRejected { problems })),
+            },
+        }
+    }
+
+    /// Import the records of a CSV file. All or nothing; problems name the record's line.
+    pub fn import_csv(
+        &mut self,
+        records: Vec<CsvRecord>,
+        options: ImportOptions,
+        stamp: &Stamp,
+    ) -> ImportResult {
+        let incidents = records
+            .into_iter()
+            .map(|r| (Place::Line(r.line), r.incident))
+            .collect();
+        self.import_placed(ExportDoc::empty(), incidents, options, stamp)
+    }
+
+    /// Import a JSON export document. All or nothing; problems name the JSON path.
+    pub fn import_json(
+        &mut self,
+        mut doc: ExportDoc,
+        options: ImportOptions,
+        stamp: &Stamp,
+    ) -> ImportResult {
+        let incidents = std::mem::take(&mut doc.incidents)
+            .into_iter()
+            .enumerate()
+            .map(|(i, inc)| (Place::Index(i), inc))
+            .collect();
+        self.import_placed(doc, incidents, options, stamp)
+    }
+
+    /// Check the reference data of `doc` and the incidents, then write them all or nothing.
+    fn import_placed(
+        &mut self,
+        doc: ExportDoc,
+        incidents: Vec<(Place, Incident)>,
+        options: ImportOptions,
+        stamp: &Stamp,
+    ) -> ImportResult {
+        let mut checker = Checker {
+            known: KnownCodes::after_import(self, &doc)?,
+            strict: options.strict,
+            seen_ids: HashSet::new(),
+            seen_refs: HashSet::new(),
+            problems: Vec::new(),
+        };
+        for (i, e) in doc.lookups.iter().enumerate() {
+            if e.code.trim().is_empty() {
+                checker.problems.push(Problem::new(
+                    format!("lookups[{i}].code"),
+                    "must not be empty",
+                ));
+            }
+        }
+        for (place, inc) in &incidents {
+            checker.check(self, *place, inc)?;
+        }
+        for (i, e) in doc.exposure.iter().enumerate() {
+            if e.panes < 0 {
+                checker.problems.push(Problem::new(
+                    format!("exposure[{i}].panes"),
+                    "must not be negative",
+                ));
+            }
+        }
+        if !checker.problems.is_empty() {
+            return Ok(Err(ImportRejected {
+                problems: checker.problems,
+            }));
+        }
+        self.write_import(&doc, incidents, &checker.seen_refs, options, stamp)
+    }
+
+    /// Write what was checked in one transaction (rolled back on a dry run or a refusal).
+    fn write_import(
+        &mut self,
+        doc: &ExportDoc,
+        incidents: Vec<(Place, Incident)>,
+        seen_refs: &HashSet<String>,
+        options: ImportOptions,
+        stamp: &Stamp,
+    ) -> ImportResult {
+        let mut summary = ImportSummary {
+            dry_run: options.dry_run,
+            ..ImportSummary::default()
+        };
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        // keys made by this import ascend (they all carry the import's millisecond)
+        self.ids.set_monotonic(true);
+        let mut writer = Writer {
+            tx: &tx,
+            ids: &mut self.ids,
+            stamp,
+            summary: &mut summary,
+        };
+        let result = writer.write_all(doc, incidents, seen_refs, options.strict);
+        self.ids.set_monotonic(false);
+        match result {
+            // the machine, not a line of the file, refused: say so as such
+            Err((_, e @ StoreError::Storage(_))) => Err(e),
+            Err((place, e)) => {
+                drop(tx); // rolls back
+                Ok(Err(ImportRejected {
+                    problems: vec![Problem::new(place, e.to_string())],
+                }))
+            }
+            Ok(()) => {
+                if options.dry_run {
+                    drop(tx);
+                } else {
+                    tx.commit()?;
+                    self.load_lookups()?;
+                }
+                Ok(Ok(summary))
+            }
+        }
+    }
+}
+
+/// Lookup entries and codes that exist once the import is written: those of the database
+/// and those of the file.
+struct KnownCodes {
+    lookups: LookupSet,
+    sites: HashSet<String>,
+    assets: HashSet<String>,
+    suppliers: HashSet<String>,
+    products: HashSet<(String, String)>,
+    lots: HashSet<(String, String, String)>,
+}
+
+impl KnownCodes {
+    fn after_import(store: &Store, doc: &ExportDoc) -> Result<KnownCodes, StoreError> {
+        let mut lookups = store.lookups.clone();
+        for e in &doc.lookups {
+            lookups.insert((e.kind.as_str().to_string(), e.code.clone()));
+        }
+        let mut sites: HashSet<String> = store.sites()?.into_iter().map(|s| s.code).collect();
+        sites.extend(doc.sites.iter().map(|s| s.code.clone()));
+        let mut assets: HashSet<String> = store.assets()?.into_iter().map(|s| s.code).collect();
+        assets.extend(doc.assets.iter().map(|s| s.code.clone()));
+        let mut suppliers: HashSet<String> =
+            store.suppliers()?.into_iter().map(|s| s.code).collect();
+        suppliers.extend(doc.suppliers.iter().map(|s| s.code.clone()));
+        let mut products: HashSet<(String, String)> = store
+            .products(None)?
+            .into_iter()
+            .map(|p| (p.supplier, p.code))
+            .collect();
+        products.extend(
+            doc.products
+                .iter()
+                .map(|p| (p.supplier.clone(), p.code.clone())),
+        );
+        let mut lots: HashSet<(String, String, String)> = store
+            .lots(None, None)?
+            .into_iter()
+            .map(|l| (l.supplier, l.product, l.code))
+            .collect();
+        lots.extend(
+            doc.lots
+                .iter()
+                .map(|l| (l.supplier.clone(), l.product.clone(), l.code.clone())),
+        );
+        Ok(KnownCodes {
+            lookups,
+            sites,
+            assets,
+            suppliers,
+            products,
+            lots,
+        })
+    }
+}
+
+/// The checks of an import's incidents, before anything is written.
+struct Checker {
+    known: KnownCodes,
+    strict: bool,
+    seen_ids: HashSet<String>,
+    seen_refs: HashSet<String>,
+    problems: Vec<Problem>,
+}
+
+impl Checker {
+    fn push(&mut self, place: String, message: impl Into<String>) {
+        self.problems.push(Problem::new(place, message));
+    }
+
+    /// Validation, keys and references, and in strict mode the codes, of one incident.
+    fn check(&mut self, store: &Store, place: Place, inc: &Incident) -> Result<(), StoreError> {
+        for (field, msg) in incidents::validate(&self.known.lookups, inc) {
+            self.problems.push(place.field_problem(&field, msg));
+        }
+        let at = place.at();
+        if !inc.id.is_empty() {
+            if uuid::Uuid::parse_str(&inc.id).is_err() {
+                self.push(format!("{at}.id"), format!("\"{}\" is not a UUID", inc.id));
+            }
+            if !self.seen_ids.insert(inc.id.clone()) {
+                self.push(
+                    format!("{at}.id"),
+                    format!("{} appears twice in the file", inc.id),
+                );
+            } else if store.find(&inc.id)?.is_some() {
+                self.push(
+                    format!("{at}.id"),
+                    format!("{} is already in the database", inc.id),
+                );
+            }
+        }
+        if !inc.reference.is_empty() {
+            if inc.reference.len() > 64 || inc.reference.chars().any(char::is_control) {
+                self.push(
+                    format!("{at}.reference"),
+                    "is not a usable reference (at most 64 characters, no control characters)",
+                );
+            } else if !self.seen_refs.insert(inc.reference.clone()) {
+                self.push(
+                    format!("{at}.reference"),
+                    format!("{} appears twice in the file", inc.reference),
+                );
+            } else if store.find(&inc.reference)?.is_some() {
+                self.push(
+                    format!("{at}.reference"),
+                    format!("{} is already in the database", inc.reference),
+                );
+            }
+        }
+        if self.strict {
+            self.check_codes(&at, inc);
+        }
+        Ok(())
+    }
+
+    /// Strict mode: every code the incident names exists after the import.
+    fn check_codes(&mut self, at: &str, inc: &Incident) {
+        let g = &inc.glass;
+        if let Some(s) = &inc.site {
+            if !self.known.sites.contains(s) {
+                self.push(
+                    format!("{at}.site"),
+                    format!("unknown site \"{s}\" (strict mode)"),
+                );
+            }
+        }
+        if let Some(a) = &inc.asset {
+            if !self.known.assets.contains(a) {
+                self.push(
+                    format!("{at}.asset"),
+                    format!("unknown asset \"{a}\" (strict mode)"),
+                );
+            }
+        }
+        let Some(s) = &g.supplier else { return };
+        if !self.known.suppliers.contains(s) {
+            self.push(
+                format!("{at}.glass.supplier"),
+                format!("unknown supplier \"{s}\" (strict mode)"),
+            );
+            return;
+        }
+        let Some(pr) = &g.product else { return };
+        if !self.known.products.contains(&(s.clone(), pr.clone())) {
+            self.push(
+                format!("{at}.glass.product"),
+                format!("supplier {s} has no product \"{pr}\" (strict mode)"),
+            );
+            return;
+        }
+        if let Some(l) = &g.lot {
+            if !self
+                .known
+                .lots
+                .contains(&(s.clone(), pr.clone(), l.clone()))
+            {
+                self.push(
+                    format!("{at}.glass.lot"),
+                    format!("product {s}/{pr} has no lot \"{l}\" (strict mode)"),
+                );
+            }
+        }
+    }
+}
+
+/// A failure while writing, with the place in the file it belongs to.
+type WriteError = (String, StoreError);
+
+/// The writing half of an import, inside its transaction.
+struct Writer<'a> {
+    tx: &'a Connection,
+    ids: &'a mut IdGen,
+    stamp: &'a Stamp,
+    summary: &'a mut ImportSummary,
+}
+
+/// Put each item of a reference-data section that is not already present.
+macro_rules! put_new {
+    ($self:ident, $chain:ident, $list:expr, $name:literal, $exists:expr, $insert:path) => {
+        for (i, item) in $list.iter().enumerate() {
+            let mut item = item.clone();
+            if $exists(&item).map_err(|x| (format!("{}[{i}]", $name), x))? {
+                $self.summary.already_present += 1;
+                continue;
+            }
+            if item.id.is_empty() {
+                item.id = $self.ids.uuid_v7($self.stamp.at.timestamp_millis());
+            }
+            $insert($self.tx, $chain, &item, $self.stamp)
+                .map_err(|x| (format!("{}[{i}]", $name), x))?;
+            $self.summary.reference_records += 1;
+        }
+    };
+}
+
+impl Writer<'_> {
+    fn write_all(
+        &mut self,
+        doc: &ExportDoc,
+        incidents: Vec<(Place, Incident)>,
+        seen_refs: &HashSet<String>,
+        strict: bool,
+    ) -> Result<(), WriteError> {
+        let audit = |e: StoreError| ("audit".to_string(), e);
+        let mut chain = Chain::load(self.tx).map_err(audit)?;
+        self.write_lookups(&mut chain, doc)?;
+        self.write_reference_data(&mut chain, doc)?;
+        let mut bulk = Bulk::new(INCIDENT, self.ids.next_u64());
+        self.write_incidents(&mut chain, &mut bulk, incidents, seen_refs, strict)?;
+        bulk.flush(self.tx, &mut chain, self.stamp).map_err(audit)?;
+        chain.finish(self.tx).map_err(audit)
+    }
+
+    fn write_lookups(&mut self, chain: &mut Chain, doc: &ExportDoc) -> Result<(), WriteError> {
+        let existing = refdata::load_lookups(self.tx, None).map_err(|e| ("lookups".into(), e))?;
+        for (i, e) in doc.lookups.iter().enumerate() {
+            if existing
+                .iter()
+                .any(|x| x.kind == e.kind && x.code == e.code)
+            {
+                self.summary.already_present += 1;
+            } else {
+                refdata::insert_lookup(self.tx, chain, e, self.stamp)
+                    .map_err(|x| (format!("lookups[{i}]"), x))?;
+                self.summary.reference_records += 1;
+            }
+        }
+        Ok(())
+    }
+
+    fn write_reference_data(
+        &mut self,
+        chain: &mut Chain,
+        doc: &ExportDoc,
+    ) -> Result<(), WriteError> {
+        let tx = self.tx;
+        put_new!(
+            self,
+            chain,
+            doc.sites,
+            "sites",
+            |s: &Site| refdata::site_id(tx, &s.code).map(|x| x.is_some()),
+            refdata::insert_site
+        );
+        put_new!(
+            self,
+            chain,
+            doc.assets,
+            "assets",
+            |a: &Asset| refdata::asset_id(tx, &a.code).map(|x| x.is_some()),
+            refdata::insert_asset
+        );
+        put_new!(
+            self,
+            chain,
+            doc.suppliers,
+            "suppliers",
+            |s: &Supplier| refdata::supplier_id(tx, &s.code).map(|x| x.is_some()),
+            refdata::insert_supplier
+        );
+        put_new!(
+            self,
+            chain,
+            doc.products,
+            "products",
+            |p: &Product| -> Result<bool, StoreError> {
+                Ok(match refdata::supplier_id(tx, &p.supplier)? {
+                    Some(sid) => refdata::product_id(tx, &sid, &p.code)?.is_some(),
+                    None => false,
+                })
+            },
+            refdata::insert_product
+        );
+        put_new!(
+            self,
+            chain,
+            doc.lots,
+            "lots",
+            |l: &Lot| -> Result<bool, StoreError> {
+                let Some(sid) = refdata::supplier_id(tx, &l.supplier)? else {
+                    return Ok(false);
+                };
+                let Some(pid) = refdata::product_id(tx, &sid, &l.product)? else {
+                    return Ok(false);
+                };
+                Ok(refdata::lot_id(tx, &pid, &l.code)?.is_some())
+            },
+            refdata::insert_lot
+        );
+        let existing_exposure: HashSet<String> = refdata::load_exposure(tx)
+            .map_err(|e| ("exposure".to_string(), e))?
+            .into_iter()
+            .map(|e| e.id)
+            .collect();
+        put_new!(
+            self,
+            chain,
+            doc.exposure,
+            "exposure",
+            |e: &Exposure| -> Result<bool, StoreError> {
+                Ok(!e.id.is_empty() && existing_exposure.contains(&e.id))
+            },
+            refdata::insert_exposure
+        );
+        Ok(())
+    }
+
+    fn write_incidents(
+        &mut self,
+        chain: &mut Chain,
+        bulk: &mut Bulk,
+        incidents: Vec<(Place, Incident)>,
+        seen_refs: &HashSet<String>,
+        strict: bool,
+    ) -> Result<(), WriteError> {
+        let stamp = self.stamp;
+        let mut day_counter: HashMap<NaiveDate, u32> = HashMap::new();
+        let mut ref_cache = RefCache::default();
+        for (place, mut inc) in incidents {
+            let here = |x: StoreError| (place.at(), x);
+            if inc.revision < 1 {
+                inc.revision = 1;
+                inc.created_at = stamp.at;
+                inc.updated_at = stamp.at;
+            }
+            Store::normalize(self.ids, &mut inc, stamp);
+            if inc.id.is_empty() {
+                inc.id = self.ids.uuid_v7(stamp.at.timestamp_millis());
+            }
+            if inc.reference.is_empty() {
+                inc.reference = self
+                    .new_reference(inc.found_on, &mut day_counter, seen_refs)
+                    .map_err(here)?;
+            }
+            let refs = Store::resolve_refs(
+                self.tx,
+                chain,
+                self.ids,
+                &inc,
+                stamp,
+                strict,
+                &mut ref_cache,
+            )
+            .map_err(here)?;
+            incidents::insert_new(self.tx, chain, &inc, &refs, stamp, Some(bulk)).map_err(here)?;
+            self.summary.incidents += 1;
+        }
+        Ok(())
+    }
+
+    /// The next free reference of the day, skipping references taken by other rows of the
+    /// file.
+    fn new_reference(
+        &self,
+        found_on: NaiveDate,
+        day_counter: &mut HashMap<NaiveDate, u32>,
+        seen_refs: &HashSet<String>,
+    ) -> Result<String, StoreError> {
+        let mut n = match day_counter.get(&found_on) {
+            Some(n) => *n + 1,
+            None => {
+                let r = next_reference(self.tx, found_on)?;
+                r[reference_prefix(found_on).len()..]
+                    .parse::<u32>()
+                    .unwrap_or(1)
+            }
+        };
+        let mut r = format_reference(found_on, n)?;
+        while seen_refs.contains(&r) {
+            n += 1;
+            r = format_reference(found_on, n)?;
+        }
+        day_counter.insert(found_on, n);
+        Ok(r)
+    }
+}
