@@ -11,8 +11,8 @@ use shardlog_core::fracture::{
 };
 use shardlog_core::units;
 
-use super::canonical::sha256_hex;
 use super::summary::*;
+use shardlog_core::canonical::sha256_hex;
 
 /// Labels for the codes in the records, loaded once per export.
 pub struct Labels {

@@ -11,6 +11,7 @@ use serde::{Deserialize, Serialize};
 
 use super::doc::{Block, Document, Table, NOT_RECORDED};
 use super::image::Picture;
+use shardlog_core::canonical::{self, Numbers};
 use shardlog_core::fracture::{Analysis, BoundaryResult, ConstantUsed, FlawResult};
 use shardlog_core::units::{self, Unit};
 
@@ -796,7 +797,7 @@ pub fn proof_for(
     exported_at: &str,
 ) -> Result<Proof, serde_json::Error> {
     Ok(Proof {
-        content_sha256: super::canonical::digest(content)?,
+        content_sha256: canonical::digest(content, Numbers::Shortest)?,
         audit_chain_head: chain_head,
         exported_at: exported_at.to_string(),
         generator: generator(),

@@ -95,6 +95,7 @@ fn the_core_crate_depends_on_no_io_crate() {
         "chrono",
         "thiserror",
         "unicode-width",
+        "sha2",
     ];
     let extra: Vec<&String> = deps
         .iter()

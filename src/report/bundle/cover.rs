@@ -1,10 +1,10 @@
 //! The cover document: what the bundle claims, its figures, and how to check it.
 
 use super::{BundleContent, Cover, LotRate};
-use crate::report::canonical::digest;
 use crate::report::chart::{Chart, WeibullSeries};
 use crate::report::doc::{Block, Document, Table};
 use crate::report::summary::CAUTIONS;
+use shardlog_core::canonical::{digest, Numbers};
 use shardlog_core::fleet;
 use shardlog_core::units;
 
@@ -354,7 +354,7 @@ fn contents_section(d: &mut Document, c: &BundleContent) {
     d.proof = vec![
         (
             "Bundle content SHA-256".into(),
-            digest(c).unwrap_or_else(|_| "not computable".into()),
+            digest(c, Numbers::Shortest).unwrap_or_else(|_| "not computable".into()),
         ),
         (
             "Audit-chain head at export".into(),

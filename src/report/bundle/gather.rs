@@ -6,11 +6,11 @@ use super::figures::cover;
 use super::{
     BundleAttachment, BundleContent, BundleError, BundleIncident, DisputeOptions, Selection,
 };
-use crate::report::canonical::digest;
 use crate::report::doc::Paper;
 use crate::report::source::{incident_content, Labels};
 use crate::report::summary::{self, Pictures};
 use crate::store::{self, Filter, Store};
+use shardlog_core::canonical::{digest, Numbers};
 
 /// The extension an attachment gets in the bundle: from what its bytes are for photos, from
 /// its name only for a few inert kinds, else `.bin` — a file named `x.html` or `x.exe` is
@@ -116,7 +116,7 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
         pictures.extend(pics);
         incidents.push(BundleIncident {
             reference: content.reference.clone(),
-            content_sha256: digest(&content)?,
+            content_sha256: digest(&content, Numbers::Shortest)?,
             file: ref_file(&content.reference),
             content,
         });

@@ -9,10 +9,10 @@ use serde::Serialize;
 
 use super::write::{render_files, threads};
 use super::{io, BundleContent, BundleError, BundleFile, BUNDLE_FORMAT};
-use crate::report::canonical::{digest, sha256_hex};
 use crate::report::source::{incident_content, Labels};
 use crate::report::summary::Pictures;
 use crate::store::{Filter, Store};
+use shardlog_core::canonical::{digest, digest_value, sha256_hex, Numbers};
 
 #[derive(Debug, Clone, Default, Serialize)]
 pub struct BundleCheck {
@@ -207,7 +207,7 @@ fn read_bundle_file(
 fn check_digests(value: &serde_json::Value, bf: &BundleFile, check: &mut BundleCheck) {
     let c = &bf.content;
     let content_value = value.get("content").cloned().unwrap_or_default();
-    let recomputed = crate::report::canonical::digest_value(&content_value);
+    let recomputed = digest_value(&content_value, Numbers::Shortest);
     if recomputed != bf.content_sha256 {
         check.problems.push(format!(
             "bundle.json: its content was edited (SHA-256 of the content is {recomputed}, the bundle records {})",
@@ -215,7 +215,7 @@ fn check_digests(value: &serde_json::Value, bf: &BundleFile, check: &mut BundleC
         ));
     }
     for i in &c.incidents {
-        match digest(&i.content) {
+        match digest(&i.content, Numbers::Shortest) {
             Ok(d) if d == i.content_sha256 => {}
             _ => check.problems.push(format!(
                 "incident {}: its content in bundle.json was edited (digest differs from the one recorded)",

@@ -6,10 +6,10 @@ use super::{
     cover_document, gather, io, BundleContent, BundleError, BundleFile, BundleIncident,
     DisputeOptions, FileEntry, Written, BUNDLE_FORMAT,
 };
-use crate::report::canonical::{digest, sha256_hex};
 use crate::report::doc::Paper;
 use crate::report::summary::{self, Pictures, Proof};
 use crate::store::Store;
+use shardlog_core::canonical::{digest, sha256_hex, Numbers};
 
 /// figures.csv: one row per incident.
 pub fn figures_csv(c: &BundleContent) -> String {
@@ -233,7 +233,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
             });
         }
         entries.sort_by(|a, b| a.path.cmp(&b.path));
-        let content_sha256 = digest(&content)?;
+        let content_sha256 = digest(&content, Numbers::Shortest)?;
         let bf = BundleFile {
             format: BUNDLE_FORMAT.into(),
             content_sha256,
@@ -282,7 +282,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
             .filter(|a| a.file.is_some())
             .count(),
         files: entries.len() + 1,
-        content_sha256: digest(&content)?,
+        content_sha256: digest(&content, Numbers::Shortest)?,
         audit_chain_head: content.audit_chain_head.clone(),
     })
 }
