@@ -13,6 +13,7 @@ use super::doc::{Block, Document, Table, NOT_RECORDED};
 use super::image::Picture;
 use shardlog_core::canonical::{self, Numbers};
 use shardlog_core::fracture::{Analysis, BoundaryResult, ConstantUsed, FlawResult};
+use shardlog_core::text;
 use shardlog_core::units::{self, Unit};
 
 /// Attachment bytes by SHA-256 (absent: listed, not shown).
@@ -198,9 +199,6 @@ fn kv(label: &str, v: &Option<String>) -> (String, String) {
     (label.to_string(), or_nr(v))
 }
 
-fn mpa(pa: f64) -> String {
-    units::format(pa, Unit::Megapascal)
-}
 fn mm(m: f64) -> String {
     units::format(m, Unit::Millimetre)
 }
@@ -462,9 +460,9 @@ fn computation_steps(a: &Analysis) -> Table {
         "Net stress at the origin".into(),
         format!(
             "{} (95 % interval {} to {})",
-            mpa(a.stress_pa),
-            mpa(a.stress_low_pa),
-            mpa(a.stress_high_pa)
+            text::stress(a.stress_pa),
+            text::stress(a.stress_low_pa),
+            text::stress(a.stress_high_pa)
         ),
         format!("from the {} boundary", a.headline.label()),
     );
@@ -473,25 +471,32 @@ fn computation_steps(a: &Analysis) -> Table {
         .temper
         .map(|t| t.label().to_string())
         .unwrap_or_else(|| "temper class not recorded".into());
-    let mut comp = format!("surface compression {}", mpa(r.surface_compression_pa));
+    let mut comp = format!(
+        "surface compression {}",
+        text::stress(r.surface_compression_pa)
+    );
     if let Some(sp) = r.surface_compression_spread_pa {
-        comp.push_str(&format!(" (spread ±{})", mpa(sp)));
+        comp.push_str(&format!(" (spread ±{})", text::stress(sp)));
     }
     if let Some(dep) = r.layer_depth_m {
         comp.push_str(&format!(", compressive layer {}", length(dep)));
     }
     steps.add(
         "Residual-stress correction".into(),
-        format!("{} at the {} origin", mpa(r.at_origin_pa), r.origin.label()),
+        format!(
+            "{} at the {} origin",
+            text::stress(r.at_origin_pa),
+            r.origin.label()
+        ),
         format!("{temper}; {comp}; {}", r.basis),
     );
     steps.add(
         "Applied stress (net − residual)".into(),
         format!(
             "{} (95 % interval {} to {})",
-            mpa(a.applied_stress_pa),
-            mpa(a.applied_low_pa),
-            mpa(a.applied_high_pa)
+            text::stress(a.applied_stress_pa),
+            text::stress(a.applied_low_pa),
+            text::stress(a.applied_high_pa)
         ),
         "compression counted negative".into(),
     );
@@ -529,9 +534,9 @@ fn boundary_steps(steps: &mut Steps, b: &BoundaryResult) {
         format!("Stress from the {label} boundary"),
         format!(
             "{} (95 % interval {} to {})",
-            mpa(b.stress_pa),
-            mpa(b.stress_low_pa),
-            mpa(b.stress_high_pa)
+            text::stress(b.stress_pa),
+            text::stress(b.stress_low_pa),
+            text::stress(b.stress_high_pa)
         ),
         format!(
             "σ = {} / √{}; relative expanded uncertainty {} %",

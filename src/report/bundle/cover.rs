@@ -11,21 +11,29 @@ use shardlog_core::units;
 /// "v (a to b)" with the 95 % interval, "v" without one, `missing` without a value.
 fn with_interval(v: Option<f64>, ci: Option<[f64; 2]>, missing: &str) -> String {
     match (v, ci) {
-        (Some(v), Some([a, b])) => format!("{} ({} to {})", fmt3(v), fmt3(a), fmt3(b)),
-        (Some(v), None) => fmt3(v),
+        (Some(v), Some([a, b])) => format!(
+            "{} ({} to {})",
+            three_figures(v),
+            three_figures(a),
+            three_figures(b)
+        ),
+        (Some(v), None) => three_figures(v),
         _ => missing.to_string(),
     }
 }
 
-fn mpa(v: f64) -> String {
-    format!("{} MPa", fmt3(v))
+/// A stress already in MPa, to three significant figures with its unit (the cover's figures
+/// are stored in MPa; [`shardlog_core::text::stress`] takes pascals).
+fn megapascals(v: f64) -> String {
+    format!("{} MPa", three_figures(v))
 }
 
-fn fmt3(v: f64) -> String {
+fn three_figures(v: f64) -> String {
     units::fmt_sig(v, 3)
 }
 
-fn opt<T>(v: Option<T>, f: impl Fn(T) -> String) -> String {
+/// `f` of the value, "not available" without one.
+fn or_not_available<T>(v: Option<T>, f: impl Fn(T) -> String) -> String {
     v.map(f).unwrap_or_else(|| "not available".into())
 }
 
@@ -133,10 +141,10 @@ fn rates_section(d: &mut Document, cv: &Cover) {
         t.row(vec![
             name,
             r.incidents.to_string(),
-            opt(r.pane_years, fmt3),
+            or_not_available(r.pane_years, three_figures),
             with_interval(r.rate_per_1000, r.rate_ci95, "no exposure recorded"),
             with_interval(r.ratio, r.ratio_ci95, "not available"),
-            opt(r.p_adjusted, |p| units::fmt_sig(p, 2)),
+            or_not_available(r.p_adjusted, |p| units::fmt_sig(p, 2)),
             if r.flagged { "yes" } else { "no" }.into(),
         ]);
     }
@@ -154,8 +162,8 @@ fn lot_rate_section(d: &mut Document, lr: &LotRate) {
          supplier × lot together ({} pane-years), for all causes (Holm's adjustment over \
          {} groups) and for each cause found in the lot against the same cause elsewhere \
          (Holm's adjustment over {} cause × lot groups).",
-        fmt3(lr.pane_years),
-        fmt3(lr.rest_pane_years),
+        three_figures(lr.pane_years),
+        three_figures(lr.rest_pane_years),
         lr.compared_all,
         lr.compared_by_cause
     ));
@@ -174,9 +182,13 @@ fn lot_rate_section(d: &mut Document, lr: &LotRate) {
             r.cause.clone(),
             r.incidents.to_string(),
             with_interval(r.rate_per_1000, r.rate_ci95, "no exposure recorded"),
-            format!("{}, {}", r.rest_incidents, opt(r.rest_rate_per_1000, fmt3)),
+            format!(
+                "{}, {}",
+                r.rest_incidents,
+                or_not_available(r.rest_rate_per_1000, three_figures)
+            ),
             with_interval(r.ratio, r.ratio_ci95, "not available"),
-            opt(r.p_adjusted, |p| units::fmt_sig(p, 2)),
+            or_not_available(r.p_adjusted, |p| units::fmt_sig(p, 2)),
             if r.flagged { "yes" } else { "no" }.into(),
         ]);
     }
@@ -207,11 +219,21 @@ fn weibull_section(d: &mut Document, cv: &Cover) {
             },
             w.n.to_string(),
             match (w.modulus, w.modulus_ci95) {
-                (Some(m), Some([a, b])) => format!("{} ({} to {})", fmt3(m), fmt3(a), fmt3(b)),
+                (Some(m), Some([a, b])) => format!(
+                    "{} ({} to {})",
+                    three_figures(m),
+                    three_figures(a),
+                    three_figures(b)
+                ),
                 _ => w.note.clone().unwrap_or_else(|| "no fit".into()),
             },
             match (w.scale_mpa, w.scale_ci95_mpa) {
-                (Some(m), Some([a, b])) => format!("{} ({} to {})", mpa(m), fmt3(a), mpa(b)),
+                (Some(m), Some([a, b])) => format!(
+                    "{} ({} to {})",
+                    megapascals(m),
+                    three_figures(a),
+                    megapascals(b)
+                ),
                 _ => "no fit".into(),
             },
         ]);
@@ -286,9 +308,9 @@ fn incidents_section(d: &mut Document, c: &BundleContent) {
             .map(|a| {
                 format!(
                     "{} ({}–{})",
-                    fmt3(a.applied_stress_pa / 1e6),
-                    fmt3(a.applied_low_pa / 1e6),
-                    fmt3(a.applied_high_pa / 1e6)
+                    three_figures(a.applied_stress_pa / 1e6),
+                    three_figures(a.applied_low_pa / 1e6),
+                    three_figures(a.applied_high_pa / 1e6)
                 )
             })
             .unwrap_or_else(|| "not computed".into());
