@@ -398,137 +398,28 @@ fn weibull(w: f32, h: f32, x_label: &str, series: &[WeibullSeries]) -> Vec<Prim>
         empty_note(&mut p, w, h);
         return p;
     }
-    let mut xlo = pts.iter().map(|p| p.0).fold(f64::INFINITY, f64::min).ln();
-    let mut xhi = pts
-        .iter()
-        .map(|p| p.0)
-        .fold(f64::NEG_INFINITY, f64::max)
-        .ln();
-    if xhi - xlo < 0.2 {
-        xlo -= 0.1;
-        xhi += 0.1;
-    }
-    let pad = (xhi - xlo) * 0.08;
-    let (xlo, xhi) = (xlo - pad, xhi + pad);
-    let ylo = wy(0.01).min(pts.iter().map(|p| wy(p.1)).fold(f64::INFINITY, f64::min));
-    let yhi = wy(0.99).max(
-        pts.iter()
-            .map(|p| wy(p.1))
-            .fold(f64::NEG_INFINITY, f64::max),
-    );
-    let legend_h = 12.0 * series.len().min(6) as f32;
-    let f = Frame {
-        x0: 56.0,
-        y0: 8.0,
-        w: w - 66.0,
-        h: h - 42.0 - legend_h,
-    };
-    let sx = |v: f64| f.x0 + ((v.ln() - xlo) / (xhi - xlo)) as f32 * f.w;
-    let sy = |fp: f64| f.y0 + f.h - ((wy(fp) - ylo) / (yhi - ylo)) as f32 * f.h;
-    for fp in [0.01, 0.02, 0.05, 0.1, 0.2, 0.3, 0.5, 0.632, 0.8, 0.9, 0.99] {
-        let y = sy(fp);
-        if !(f.y0 - 0.1..=f.y0 + f.h + 0.1).contains(&y) {
-            continue;
-        }
-        p.push(Prim::Line {
-            x1: f.x0,
-            y1: y,
-            x2: f.x0 + f.w,
-            y2: y,
-            width: 0.4,
-            color: GRID,
-            dashed: false,
-        });
-        let label = format!("{} %", fmt_tick(fp * 100.0));
-        text(&mut p, f.x0 - 4.0, y + 2.5, 7.0, Anchor::End, &label);
-    }
-    // log ticks: 1, 2, 5 per decade
-    let (lo, hi) = (xlo.exp(), xhi.exp());
-    let mut d = 10f64.powf(lo.log10().floor());
-    let mut n = 0;
-    let mults: &[f64] = if hi / lo < 30.0 {
-        &[1.0, 1.5, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0]
-    } else {
-        &[1.0, 2.0, 5.0]
-    };
-    while d <= hi && n < 40 {
-        for &m in mults {
-            let t = d * m;
-            if t < lo || t > hi {
-                continue;
-            }
-            let x = sx(t);
-            p.push(Prim::Line {
-                x1: x,
-                y1: f.y0,
-                x2: x,
-                y2: f.y0 + f.h,
-                width: 0.4,
-                color: GRID,
-                dashed: false,
-            });
-            text(
-                &mut p,
-                x,
-                f.y0 + f.h + 11.0,
-                7.5,
-                Anchor::Middle,
-                &fmt_tick(t),
-            );
-        }
-        d *= 10.0;
-        n += 1;
-    }
+    let ax = WeibullAxes::new(w, h, &pts, series.len());
+    weibull_grid(&mut p, &ax);
+    let f = &ax.f;
     for (i, s) in series.iter().enumerate() {
         let c = PALETTE[i % PALETTE.len()];
         if let Some((m, s0)) = s.fit {
             if m.is_finite() && m > 0.0 && s0.is_finite() && s0 > 0.0 {
-                // F(x) = 1 − exp(−(x/s0)^m): a straight line on these axes
-                let yv = |x: f64| m * (x.ln() - s0.ln());
-                let (xa, xb) = (lo, hi);
-                let to_y = |v: f64| f.y0 + f.h - ((v - ylo) / (yhi - ylo)) as f32 * f.h;
-                let (mut ya, mut yb) = (to_y(yv(xa)), to_y(yv(xb)));
-                let (mut pxa, mut pxb) = (sx(xa), sx(xb));
-                // clip to the frame vertically
-                let clip = |px1: f32, py1: f32, px2: f32, py2: f32, yc: f32| {
-                    px1 + (px2 - px1) * (yc - py1) / (py2 - py1)
-                };
-                if (ya - yb).abs() > 1e-3 {
-                    let (top, bot) = (f.y0, f.y0 + f.h);
-                    if ya > bot {
-                        pxa = clip(pxa, ya, pxb, yb, bot);
-                        ya = bot;
-                    }
-                    if yb < top {
-                        pxb = clip(pxa, ya, pxb, yb, top);
-                        yb = top;
-                    }
-                }
-                if ya >= f.y0 && yb <= f.y0 + f.h && pxb > pxa {
-                    p.push(Prim::Line {
-                        x1: pxa,
-                        y1: ya,
-                        x2: pxb,
-                        y2: yb,
-                        width: 1.0,
-                        color: c,
-                        dashed: false,
-                    });
-                }
+                weibull_fit_line(&mut p, &ax, m, s0, c);
             }
         }
         for (x, fp) in &s.points {
             if x.is_finite() && *x > 0.0 && *fp > 0.0 && *fp < 1.0 {
                 p.push(Prim::Dot {
-                    x: sx(*x),
-                    y: sy(*fp),
+                    x: ax.sx(*x),
+                    y: ax.sy(*fp),
                     r: 2.2,
                     fill: c,
                 });
             }
         }
     }
-    axes(&mut p, &f);
+    axes(&mut p, f);
     text(
         &mut p,
         f.x0 + f.w / 2.0,
@@ -546,6 +437,169 @@ fn weibull(w: f32, h: f32, x_label: &str, series: &[WeibullSeries]) -> Vec<Prim>
         color: INK,
         text: "failure probability".into(),
     });
+    weibull_legend(&mut p, f, x_label, series);
+    p
+}
+
+/// The frame of a Weibull plot and its scales: ln(stress) across, ln ln (1/(1−F)) up.
+struct WeibullAxes {
+    f: Frame,
+    xlo: f64,
+    xhi: f64,
+    ylo: f64,
+    yhi: f64,
+}
+
+impl WeibullAxes {
+    /// Scales that hold every point (`pts`, none empty) with a margin, and room below the
+    /// frame for the legend of up to six series.
+    fn new(w: f32, h: f32, pts: &[(f64, f64)], series: usize) -> Self {
+        let mut xlo = pts.iter().map(|p| p.0).fold(f64::INFINITY, f64::min).ln();
+        let mut xhi = pts
+            .iter()
+            .map(|p| p.0)
+            .fold(f64::NEG_INFINITY, f64::max)
+            .ln();
+        if xhi - xlo < 0.2 {
+            xlo -= 0.1;
+            xhi += 0.1;
+        }
+        let pad = (xhi - xlo) * 0.08;
+        let (xlo, xhi) = (xlo - pad, xhi + pad);
+        let ylo = wy(0.01).min(pts.iter().map(|p| wy(p.1)).fold(f64::INFINITY, f64::min));
+        let yhi = wy(0.99).max(
+            pts.iter()
+                .map(|p| wy(p.1))
+                .fold(f64::NEG_INFINITY, f64::max),
+        );
+        let legend_h = 12.0 * series.min(6) as f32;
+        let f = Frame {
+            x0: 56.0,
+            y0: 8.0,
+            w: w - 66.0,
+            h: h - 42.0 - legend_h,
+        };
+        WeibullAxes {
+            f,
+            xlo,
+            xhi,
+            ylo,
+            yhi,
+        }
+    }
+
+    /// Page x of a stress.
+    fn sx(&self, v: f64) -> f32 {
+        let f = &self.f;
+        f.x0 + ((v.ln() - self.xlo) / (self.xhi - self.xlo)) as f32 * f.w
+    }
+
+    /// Page y of a failure probability.
+    fn sy(&self, fp: f64) -> f32 {
+        self.sy_of_linear(wy(fp))
+    }
+
+    /// Page y of a value already on the ln ln (1/(1−F)) scale.
+    fn sy_of_linear(&self, v: f64) -> f32 {
+        let f = &self.f;
+        f.y0 + f.h - ((v - self.ylo) / (self.yhi - self.ylo)) as f32 * f.h
+    }
+}
+
+/// Probability grid lines with their labels, and log ticks (1, 2, 5 per decade; finer over a
+/// narrow range) along the stress axis.
+fn weibull_grid(p: &mut Vec<Prim>, ax: &WeibullAxes) {
+    let f = &ax.f;
+    let (xlo, xhi) = (ax.xlo, ax.xhi);
+    for fp in [0.01, 0.02, 0.05, 0.1, 0.2, 0.3, 0.5, 0.632, 0.8, 0.9, 0.99] {
+        let y = ax.sy(fp);
+        if !(f.y0 - 0.1..=f.y0 + f.h + 0.1).contains(&y) {
+            continue;
+        }
+        p.push(Prim::Line {
+            x1: f.x0,
+            y1: y,
+            x2: f.x0 + f.w,
+            y2: y,
+            width: 0.4,
+            color: GRID,
+            dashed: false,
+        });
+        let label = format!("{} %", fmt_tick(fp * 100.0));
+        text(p, f.x0 - 4.0, y + 2.5, 7.0, Anchor::End, &label);
+    }
+    // log ticks: 1, 2, 5 per decade
+    let (lo, hi) = (xlo.exp(), xhi.exp());
+    let mut d = 10f64.powf(lo.log10().floor());
+    let mut n = 0;
+    let mults: &[f64] = if hi / lo < 30.0 {
+        &[1.0, 1.5, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0]
+    } else {
+        &[1.0, 2.0, 5.0]
+    };
+    while d <= hi && n < 40 {
+        for &m in mults {
+            let t = d * m;
+            if t < lo || t > hi {
+                continue;
+            }
+            let x = ax.sx(t);
+            p.push(Prim::Line {
+                x1: x,
+                y1: f.y0,
+                x2: x,
+                y2: f.y0 + f.h,
+                width: 0.4,
+                color: GRID,
+                dashed: false,
+            });
+            text(p, x, f.y0 + f.h + 11.0, 7.5, Anchor::Middle, &fmt_tick(t));
+        }
+        d *= 10.0;
+        n += 1;
+    }
+}
+
+/// The fitted distribution F(x) = 1 − exp(−(x/s0)^m), a straight line on these axes, clipped
+/// to the frame.
+fn weibull_fit_line(p: &mut Vec<Prim>, ax: &WeibullAxes, m: f64, s0: f64, c: Rgb) {
+    let f = &ax.f;
+    let (lo, hi) = (ax.xlo.exp(), ax.xhi.exp());
+    // F(x) = 1 − exp(−(x/s0)^m): a straight line on these axes
+    let yv = |x: f64| m * (x.ln() - s0.ln());
+    let (xa, xb) = (lo, hi);
+    let (mut ya, mut yb) = (ax.sy_of_linear(yv(xa)), ax.sy_of_linear(yv(xb)));
+    let (mut pxa, mut pxb) = (ax.sx(xa), ax.sx(xb));
+    // clip to the frame vertically
+    let clip = |px1: f32, py1: f32, px2: f32, py2: f32, yc: f32| {
+        px1 + (px2 - px1) * (yc - py1) / (py2 - py1)
+    };
+    if (ya - yb).abs() > 1e-3 {
+        let (top, bot) = (f.y0, f.y0 + f.h);
+        if ya > bot {
+            pxa = clip(pxa, ya, pxb, yb, bot);
+            ya = bot;
+        }
+        if yb < top {
+            pxb = clip(pxa, ya, pxb, yb, top);
+            yb = top;
+        }
+    }
+    if ya >= f.y0 && yb <= f.y0 + f.h && pxb > pxa {
+        p.push(Prim::Line {
+            x1: pxa,
+            y1: ya,
+            x2: pxb,
+            y2: yb,
+            width: 1.0,
+            color: c,
+            dashed: false,
+        });
+    }
+}
+
+/// One line per series (at most six): its colour, name, number of points and fit.
+fn weibull_legend(p: &mut Vec<Prim>, f: &Frame, x_label: &str, series: &[WeibullSeries]) {
     for (i, s) in series.iter().take(6).enumerate() {
         let c = PALETTE[i % PALETTE.len()];
         let y = f.y0 + f.h + 34.0 + 12.0 * i as f32;
@@ -565,7 +619,7 @@ fn weibull(w: f32, h: f32, x_label: &str, series: &[WeibullSeries]) -> Vec<Prim>
             None => "too few points for a fit".into(),
         };
         text(
-            &mut p,
+            p,
             f.x0 + 12.0,
             y,
             7.5,
@@ -573,7 +627,6 @@ fn weibull(w: f32, h: f32, x_label: &str, series: &[WeibullSeries]) -> Vec<Prim>
             &format!("{} ({} points; {fit})", s.name, s.points.len()),
         );
     }
-    p
 }
 
 fn bar_chart(w: f32, h: f32, x_label: &str, bars: &[(String, f64)]) -> Vec<Prim> {

@@ -1,11 +1,11 @@
 //! Incident summaries and dispute bundles: PDF, HTML, Markdown, JSON, CSV.
 //!
 //! Builders turn store records and core results into a [`doc::Document`]; renderers
-//! ([`pdf`], [`html`], [`markdown`]) only read it. [`canonical`] gives the digest that proves
-//! a summary or bundle unchanged.
+//! ([`pdf`], [`html`], [`markdown`]) only read it. The digest that proves a summary or bundle
+//! unchanged is the core's canonical JSON with floats in their shortest text
+//! ([`shardlog_core::canonical::Numbers::Shortest`]): anyone can recompute it from the JSON.
 
 pub mod bundle;
-pub mod canonical;
 pub mod chart;
 pub mod doc;
 pub mod font;

@@ -11,8 +11,8 @@ use shardlog_core::fracture::{
 };
 use shardlog_core::units;
 
-use super::canonical::sha256_hex;
 use super::summary::*;
+use shardlog_core::canonical::sha256_hex;
 
 /// Labels for the codes in the records, loaded once per export.
 pub struct Labels {
@@ -109,7 +109,26 @@ pub fn incident_content(
     labels: &Labels,
     inc: &Incident,
 ) -> Result<(IncidentContent, Pictures), StoreError> {
-    let l = labels;
+    let (attachments, pictures) = attachments(s, inc);
+    Ok((
+        IncidentContent {
+            reference: inc.reference.clone(),
+            identification: identification(labels, inc),
+            glass: glass(labels, inc),
+            pattern: pattern(labels, inc),
+            examination: examination(labels, inc),
+            cause: cause(labels, inc),
+            attachments,
+            custody: custody(labels, inc),
+            history: history(s, inc)?,
+            notes: notes(inc),
+        },
+        pictures,
+    ))
+}
+
+/// Asset, position, site, dates, environment and who reported it.
+fn identification(l: &Labels, inc: &Incident) -> Identification {
     let env = &inc.environment;
     let mut envs = Vec::new();
     if let Some(t) = env.temperature_c {
@@ -135,7 +154,7 @@ pub fn incident_content(
         },
         None => (None, None),
     };
-    let identification = Identification {
+    Identification {
         asset,
         asset_kind,
         position: nonempty(&inc.position),
@@ -150,7 +169,11 @@ pub fn incident_content(
         reported_by: nonempty(&inc.reporter),
         how_found: nonempty(&inc.how_found),
         description: nonempty(&inc.description),
-    };
+    }
+}
+
+/// Supplier, product, lot, make-up, size and each ply.
+fn glass(l: &Labels, inc: &Incident) -> Glass {
     let g = &inc.glass;
     let size = match (g.width_m, g.height_m) {
         (Some(w), Some(h)) => Some(format!(
@@ -160,7 +183,7 @@ pub fn incident_content(
         )),
         _ => None,
     };
-    let glass = Glass {
+    Glass {
         supplier: g.supplier.as_deref().map(|c| l.supplier(c)),
         product: g.product.as_deref().map(|c| Labels::named(&l.products, c)),
         lot: g.lot.clone(),
@@ -183,9 +206,13 @@ pub fn incident_content(
                 edge_finish: nonempty(&p.edge_finish),
             })
             .collect(),
-    };
+    }
+}
+
+/// The fracture pattern.
+fn pattern(l: &Labels, inc: &Incident) -> Pattern {
     let p = &inc.pattern;
-    let pattern = Pattern {
+    Pattern {
         crack_count: p.crack_count,
         branching: p
             .branching
@@ -197,9 +224,12 @@ pub fn incident_content(
             .map(|o| l.lookup(LookupKind::OriginLocation, o)),
         tension_face: nonempty(&p.tension_face),
         description: None,
-    };
+    }
+}
 
-    // examinations: every reading; the computation of the current result
+/// Every reading of every examination, the last recorded flaw, origin type and material, and
+/// the computation of the current result.
+fn examination(l: &Labels, inc: &Incident) -> Examination {
     let mut readings = Vec::new();
     let mut flaw_depth = None;
     let mut flaw_width = None;
@@ -236,7 +266,7 @@ pub fn incident_content(
         }
     }
     let (analysis, analysis_note) = computation(inc);
-    let examination = Examination {
+    Examination {
         origin_type,
         material,
         readings,
@@ -244,8 +274,12 @@ pub fn incident_content(
         measured_flaw_width_m: flaw_width,
         analysis,
         analysis_note,
-    };
-    let cause = match &inc.cause {
+    }
+}
+
+/// The cause as assigned (or only the case status when none is).
+fn cause(l: &Labels, inc: &Incident) -> Cause {
+    match &inc.cause {
         Some(c) => Cause {
             category: Some(l.lookup(LookupKind::CauseCategory, &c.category)),
             factors: c.factors.clone(),
@@ -258,7 +292,11 @@ pub fn incident_content(
             status: Some(l.lookup(LookupKind::Status, &inc.status)),
             ..Cause::default()
         },
-    };
+    }
+}
+
+/// The attachments by hash, and the bytes of each stored file that still matches its hash.
+fn attachments(s: &Store, inc: &Incident) -> (Vec<AttachmentRef>, Pictures) {
     let mut pictures = HashMap::new();
     let mut attachments = Vec::new();
     for a in &inc.attachments {
@@ -285,8 +323,12 @@ pub fn incident_content(
             added_by: None,
         });
     }
-    let custody = inc
-        .custody
+    (attachments, pictures)
+}
+
+/// The custody log of the physical specimen.
+fn custody(l: &Labels, inc: &Incident) -> Vec<CustodyEntry> {
+    inc.custody
         .iter()
         .map(|c| {
             let mut detail = Vec::new();
@@ -307,9 +349,12 @@ pub fn incident_content(
                 },
             }
         })
-        .collect();
-    let history = s
-        .history(&inc.id)?
+        .collect()
+}
+
+/// The audit history: who created or changed the record, and which fields.
+fn history(s: &Store, inc: &Incident) -> Result<Vec<HistoryEntry>, StoreError> {
+    Ok(s.history(&inc.id)?
         .into_iter()
         .map(|h| HistoryEntry {
             at: time(&h.at),
@@ -332,7 +377,11 @@ pub fn incident_content(
                 )
             },
         })
-        .collect();
+        .collect())
+}
+
+/// The incident's note and each examination's note.
+fn notes(inc: &Incident) -> Vec<NoteEntry> {
     let mut notes = Vec::new();
     if let Some(n) = nonempty(&inc.notes) {
         notes.push(NoteEntry {
@@ -350,21 +399,7 @@ pub fn incident_content(
             });
         }
     }
-    Ok((
-        IncidentContent {
-            reference: inc.reference.clone(),
-            identification,
-            glass,
-            pattern,
-            examination,
-            cause,
-            attachments,
-            custody,
-            history,
-            notes,
-        },
-        pictures,
-    ))
+    notes
 }
 
 /// The stored computation, when it reads as the core's `Analysis`; otherwise the core run on

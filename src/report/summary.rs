@@ -11,7 +11,9 @@ use serde::{Deserialize, Serialize};
 
 use super::doc::{Block, Document, Table, NOT_RECORDED};
 use super::image::Picture;
-use shardlog_core::fracture::{Analysis, ConstantUsed};
+use shardlog_core::canonical::{self, Numbers};
+use shardlog_core::fracture::{Analysis, BoundaryResult, ConstantUsed, FlawResult};
+use shardlog_core::text;
 use shardlog_core::units::{self, Unit};
 
 /// Attachment bytes by SHA-256 (absent: listed, not shown).
@@ -197,9 +199,6 @@ fn kv(label: &str, v: &Option<String>) -> (String, String) {
     (label.to_string(), or_nr(v))
 }
 
-fn mpa(pa: f64) -> String {
-    units::format(pa, Unit::Megapascal)
-}
 fn mm(m: f64) -> String {
     units::format(m, Unit::Millimetre)
 }
@@ -416,62 +415,54 @@ fn computation_section(d: &mut Document, c: &IncidentContent) {
          the spread of the constant.",
         a.material_name
     ));
-    let mut t = Table::new(&["Step", "Quantity", "Value", "Basis"]);
-    let mut step = 0;
-    let mut add = |t: &mut Table, q: String, v: String, b: String| {
-        step += 1;
-        t.row(vec![step.to_string(), q, v, b]);
+    d.push(Block::Table(computation_steps(a)));
+    let checks = cross_checks(a);
+    if !checks.rows.is_empty() {
+        d.subheading("Cross-checks");
+        d.push(Block::Table(checks));
+    }
+    if !a.warnings.is_empty() {
+        d.subheading("Warnings from the computation");
+        for w in &a.warnings {
+            d.para(format!("• {w}"));
+        }
+    }
+    if let Some(n) = &e.analysis_note {
+        d.note(n.clone());
+    }
+}
+
+/// A table of numbered steps: quantity, value, basis.
+struct Steps {
+    table: Table,
+    step: usize,
+}
+
+impl Steps {
+    fn add(&mut self, quantity: String, value: String, basis: String) {
+        self.step += 1;
+        self.table
+            .row(vec![self.step.to_string(), quantity, value, basis]);
+    }
+}
+
+/// The computation as numbered steps: each boundary, the net stress, the residual-stress
+/// correction, the applied stress, and the flaw size.
+fn computation_steps(a: &Analysis) -> Table {
+    let mut steps = Steps {
+        table: Table::new(&["Step", "Quantity", "Value", "Basis"]),
+        step: 0,
     };
     for b in &a.boundaries {
-        let label = b.boundary.label();
-        let s = &b.stats;
-        let mut spread = String::new();
-        if let Some(sd) = s.sd {
-            spread = format!(", standard deviation {}", mm(sd));
-        }
-        add(
-            &mut t,
-            format!("Mean {label} radius R"),
-            mm(s.mean),
-            format!(
-                "{} reading{}{spread}; standard uncertainty of the mean {} ({})",
-                s.n,
-                if s.n == 1 { "" } else { "s" },
-                mm(s.u_mean),
-                s.method
-            ),
-        );
-        add(
-            &mut t,
-            format!("{label} constant"),
-            constant_text(&b.constant),
-            provenance_text(&b.constant),
-        );
-        add(
-            &mut t,
-            format!("Stress from the {label} boundary"),
-            format!(
-                "{} (95 % interval {} to {})",
-                mpa(b.stress_pa),
-                mpa(b.stress_low_pa),
-                mpa(b.stress_high_pa)
-            ),
-            format!(
-                "σ = {} / √{}; relative expanded uncertainty {} %",
-                b.constant.symbol,
-                mm(s.mean),
-                units::fmt_sig(b.rel_u95 * 100.0, 2)
-            ),
-        );
+        boundary_steps(&mut steps, b);
     }
-    add(
-        &mut t,
+    steps.add(
         "Net stress at the origin".into(),
         format!(
             "{} (95 % interval {} to {})",
-            mpa(a.stress_pa),
-            mpa(a.stress_low_pa),
-            mpa(a.stress_high_pa)
+            text::stress(a.stress_pa),
+            text::stress(a.stress_low_pa),
+            text::stress(a.stress_high_pa)
         ),
         format!("from the {} boundary", a.headline.label()),
     );
@@ -480,68 +471,119 @@ fn computation_section(d: &mut Document, c: &IncidentContent) {
         .temper
         .map(|t| t.label().to_string())
         .unwrap_or_else(|| "temper class not recorded".into());
-    let mut comp = format!("surface compression {}", mpa(r.surface_compression_pa));
+    let mut comp = format!(
+        "surface compression {}",
+        text::stress(r.surface_compression_pa)
+    );
     if let Some(sp) = r.surface_compression_spread_pa {
-        comp.push_str(&format!(" (spread ±{})", mpa(sp)));
+        comp.push_str(&format!(" (spread ±{})", text::stress(sp)));
     }
     if let Some(dep) = r.layer_depth_m {
         comp.push_str(&format!(", compressive layer {}", length(dep)));
     }
-    add(
-        &mut t,
+    steps.add(
         "Residual-stress correction".into(),
-        format!("{} at the {} origin", mpa(r.at_origin_pa), r.origin.label()),
+        format!(
+            "{} at the {} origin",
+            text::stress(r.at_origin_pa),
+            r.origin.label()
+        ),
         format!("{temper}; {comp}; {}", r.basis),
     );
-    add(
-        &mut t,
+    steps.add(
         "Applied stress (net − residual)".into(),
         format!(
             "{} (95 % interval {} to {})",
-            mpa(a.applied_stress_pa),
-            mpa(a.applied_low_pa),
-            mpa(a.applied_high_pa)
+            text::stress(a.applied_stress_pa),
+            text::stress(a.applied_low_pa),
+            text::stress(a.applied_high_pa)
         ),
         "compression counted negative".into(),
     );
     if let Some(f) = &a.flaw {
-        add(
-            &mut t,
-            "Fracture toughness".into(),
-            constant_text(&f.toughness),
-            provenance_text(&f.toughness),
-        );
-        let gb = [
-            f.geometry_basis.as_str(),
-            f.factor.governing_point.as_str(),
-            f.factor.source.as_str(),
-        ]
-        .iter()
-        .map(|s| s.trim())
-        .filter(|s| !s.is_empty())
-        .collect::<Vec<_>>()
-        .join("; ");
-        add(
-            &mut t,
-            format!("Geometry factor Y ({})", f.geometry_label),
-            units::fmt_sig(f.factor.y, 4),
-            gb,
-        );
-        add(
-            &mut t,
-            "Flaw size a".into(),
-            format!(
-                "{} (95 % interval {} to {})",
-                length(f.size_m),
-                length(f.size_low_m),
-                length(f.size_high_m)
-            ),
-            "a = (K_Ic / (Y · σ))², with the net stress at the origin".into(),
-        );
+        flaw_steps(&mut steps, f);
     }
-    d.push(Block::Table(t));
+    steps.table
+}
 
-    // cross-checks
+/// Mean radius, constant and stress of one boundary.
+fn boundary_steps(steps: &mut Steps, b: &BoundaryResult) {
+    let label = b.boundary.label();
+    let s = &b.stats;
+    let mut spread = String::new();
+    if let Some(sd) = s.sd {
+        spread = format!(", standard deviation {}", mm(sd));
+    }
+    steps.add(
+        format!("Mean {label} radius R"),
+        mm(s.mean),
+        format!(
+            "{} reading{}{spread}; standard uncertainty of the mean {} ({})",
+            s.n,
+            if s.n == 1 { "" } else { "s" },
+            mm(s.u_mean),
+            s.method
+        ),
+    );
+    steps.add(
+        format!("{label} constant"),
+        constant_text(&b.constant),
+        provenance_text(&b.constant),
+    );
+    steps.add(
+        format!("Stress from the {label} boundary"),
+        format!(
+            "{} (95 % interval {} to {})",
+            text::stress(b.stress_pa),
+            text::stress(b.stress_low_pa),
+            text::stress(b.stress_high_pa)
+        ),
+        format!(
+            "σ = {} / √{}; relative expanded uncertainty {} %",
+            b.constant.symbol,
+            mm(s.mean),
+            units::fmt_sig(b.rel_u95 * 100.0, 2)
+        ),
+    );
+}
+
+/// Toughness, geometry factor and flaw size.
+fn flaw_steps(steps: &mut Steps, f: &FlawResult) {
+    steps.add(
+        "Fracture toughness".into(),
+        constant_text(&f.toughness),
+        provenance_text(&f.toughness),
+    );
+    let gb = [
+        f.geometry_basis.as_str(),
+        f.factor.governing_point.as_str(),
+        f.factor.source.as_str(),
+    ]
+    .iter()
+    .map(|s| s.trim())
+    .filter(|s| !s.is_empty())
+    .collect::<Vec<_>>()
+    .join("; ");
+    steps.add(
+        format!("Geometry factor Y ({})", f.geometry_label),
+        units::fmt_sig(f.factor.y, 4),
+        gb,
+    );
+    steps.add(
+        "Flaw size a".into(),
+        format!(
+            "{} (95 % interval {} to {})",
+            length(f.size_m),
+            length(f.size_low_m),
+            length(f.size_high_m)
+        ),
+        "a = (K_Ic / (Y · σ))², with the net stress at the origin".into(),
+    );
+}
+
+/// Cross-checks of the computation: radius to flaw ratios, measured against predicted flaw,
+/// the boundaries against each other, the branching distance.
+fn cross_checks(a: &Analysis) -> Table {
     let mut checks = Table::new(&["Cross-check", "Found", "Expected", "Verdict"]);
     if let Some(f) = &a.flaw {
         for r in &f.ratios {
@@ -610,19 +652,7 @@ fn computation_section(d: &mut Document, c: &IncidentContent) {
             },
         ]);
     }
-    if !checks.rows.is_empty() {
-        d.subheading("Cross-checks");
-        d.push(Block::Table(checks));
-    }
-    if !a.warnings.is_empty() {
-        d.subheading("Warnings from the computation");
-        for w in &a.warnings {
-            d.para(format!("• {w}"));
-        }
-    }
-    if let Some(n) = &e.analysis_note {
-        d.note(n.clone());
-    }
+    checks
 }
 
 fn cause_section(d: &mut Document, c: &IncidentContent) {
@@ -772,7 +802,7 @@ pub fn proof_for(
     exported_at: &str,
 ) -> Result<Proof, serde_json::Error> {
     Ok(Proof {
-        content_sha256: super::canonical::digest(content)?,
+        content_sha256: canonical::digest(content, Numbers::Shortest)?,
         audit_chain_head: chain_head,
         exported_at: exported_at.to_string(),
         generator: generator(),

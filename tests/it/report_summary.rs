@@ -5,8 +5,8 @@ use std::path::Path;
 use std::process::Command;
 
 use crate::support::report::*;
-use shardlog::report::canonical;
 use shardlog::report::summary::SummaryJson;
+use shardlog_core::canonical::{self, Numbers};
 
 fn shardlog(db: &Path, args: &[&str]) -> std::process::Output {
     Command::new(env!("CARGO_BIN_EXE_shardlog"))
@@ -97,7 +97,7 @@ fn summaries_of_demo_incidents_in_every_format() {
         if fmt == "json" {
             let j: SummaryJson = serde_json::from_str(&text).unwrap();
             assert_eq!(
-                canonical::digest(&j.content).unwrap(),
+                canonical::digest(&j.content, Numbers::Shortest).unwrap(),
                 j.proof.content_sha256,
                 "the JSON's digest is the digest of its content"
             );

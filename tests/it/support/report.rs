@@ -3,10 +3,10 @@
 
 use std::sync::Arc;
 
-use shardlog::report::canonical::sha256_hex;
 use shardlog::report::chart::{Chart, WeibullSeries};
 use shardlog::report::doc::{Block, Document, Table};
 use shardlog::report::image::Picture;
+use shardlog_core::canonical::sha256_hex;
 
 pub fn fixture(name: &str) -> Vec<u8> {
     std::fs::read(format!(

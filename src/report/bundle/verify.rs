@@ -1,0 +1,444 @@
+//! `verify --bundle`: the digest, every file, a fresh rendering, and (given the database) the
+//! records.
+
+use std::collections::{BTreeSet, HashMap};
+use std::path::Path;
+use std::sync::Arc;
+
+use serde::Serialize;
+
+use super::write::{render_files, threads};
+use super::{io, BundleContent, BundleError, BundleFile, BUNDLE_FORMAT};
+use crate::report::source::{incident_content, Labels};
+use crate::report::summary::Pictures;
+use crate::store::{Filter, Store};
+use shardlog_core::canonical::{digest, digest_value, sha256_hex, Numbers};
+
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct BundleCheck {
+    pub incidents: usize,
+    pub files_checked: usize,
+    /// Whether the records of a database were compared too.
+    pub compared_with_records: bool,
+    pub audit_chain_head: String,
+    /// Every difference found; empty when the bundle is intact.
+    pub problems: Vec<String>,
+    /// Facts worth knowing that are not failures (e.g. records added since the export).
+    pub notes: Vec<String>,
+}
+
+impl BundleCheck {
+    pub fn ok(&self) -> bool {
+        self.problems.is_empty()
+    }
+}
+
+/// The first JSON path where two values differ, with both values (shortened).
+pub fn first_difference(
+    a: &serde_json::Value,
+    b: &serde_json::Value,
+    path: &str,
+) -> Option<String> {
+    use serde_json::Value;
+    if a == b {
+        return None;
+    }
+    match (a, b) {
+        (Value::Object(x), Value::Object(y)) => {
+            let keys: BTreeSet<&String> = x.keys().chain(y.keys()).collect();
+            for k in keys {
+                let p = format!("{path}.{k}");
+                match (x.get(k), y.get(k)) {
+                    (Some(u), Some(v)) => {
+                        if let Some(d) = first_difference(u, v, &p) {
+                            return Some(d);
+                        }
+                    }
+                    (Some(_), None) => return Some(format!("{p}: only in the bundle")),
+                    (None, Some(_)) => return Some(format!("{p}: only in the records")),
+                    (None, None) => {}
+                }
+            }
+            None
+        }
+        (Value::Array(x), Value::Array(y)) => {
+            for (i, (u, v)) in x.iter().zip(y).enumerate() {
+                if let Some(d) = first_difference(u, v, &format!("{path}[{i}]")) {
+                    return Some(d);
+                }
+            }
+            Some(format!(
+                "{path}: {} entries in the bundle, {} in the records",
+                x.len(),
+                y.len()
+            ))
+        }
+        _ => {
+            let short = |v: &serde_json::Value| {
+                let s = v.to_string();
+                if s.chars().count() > 60 {
+                    format!("{}…", s.chars().take(60).collect::<String>())
+                } else {
+                    s
+                }
+            };
+            Some(format!(
+                "{path}: the bundle has {}, the records have {}",
+                short(a),
+                short(b)
+            ))
+        }
+    }
+}
+
+fn rel_files(dir: &Path) -> Result<BTreeSet<String>, BundleError> {
+    let mut out = BTreeSet::new();
+    let mut stack = vec![dir.to_path_buf()];
+    while let Some(d) = stack.pop() {
+        for e in std::fs::read_dir(&d).map_err(|e| io(&d, e))? {
+            let e = e.map_err(|e| io(&d, e))?;
+            let p = e.path();
+            let ft = e.file_type().map_err(|e| io(&p, e))?;
+            if ft.is_dir() {
+                stack.push(p);
+            } else if let Ok(r) = p.strip_prefix(dir) {
+                out.insert(r.to_string_lossy().replace('\\', "/"));
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// Largest file `verify` reads into memory (a bundle's PDFs and photos are far smaller).
+const MAX_FILE: u64 = 512 * 1024 * 1024;
+
+fn read_limited(p: &Path) -> std::io::Result<Vec<u8>> {
+    let meta = std::fs::metadata(p)?;
+    if meta.len() > MAX_FILE {
+        return Err(std::io::Error::other("larger than 512 MB"));
+    }
+    std::fs::read(p)
+}
+
+/// Check a bundle folder: its digest, every file's hash and size, every rendered file against
+/// a fresh rendering of the content, the attachments against their names; and, given the
+/// database, each incident's content against the records and the selection against the
+/// incidents the records hold now.
+pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, BundleError> {
+    if !dir.is_dir() {
+        return Err(BundleError::Usage(format!(
+            "--bundle {}: not a folder",
+            dir.display()
+        )));
+    }
+    let mut check = BundleCheck::default();
+    let Some((value, bf)) = read_bundle_file(dir, &mut check) else {
+        return Ok(check);
+    };
+    if bf.format != BUNDLE_FORMAT {
+        check.problems.push(format!(
+            "bundle.json: format \"{}\" is not \"{BUNDLE_FORMAT}\"",
+            bf.format
+        ));
+    }
+    let c = &bf.content;
+    check.incidents = c.incidents.len();
+    check.audit_chain_head = c.audit_chain_head.clone();
+    // 1. the digest over the content
+    check_digests(&value, &bf, &mut check);
+    // 2. the files on disk against the file list
+    let on_disk = rel_files(dir)?;
+    let listed: BTreeSet<String> = bf.files.iter().map(|f| f.path.clone()).collect();
+    let disk_bytes = check_files(dir, &bf, &on_disk, &listed, &mut check);
+    // 3. attachments are what their names say
+    let pictures = check_attachments(c, &listed, &disk_bytes, &mut check);
+    // every incident has its summary, every summary its incident
+    check_summaries(c, &on_disk, &listed, &mut check);
+    // 4. every rendered file equals a fresh rendering of the content
+    if check.problems.is_empty() {
+        check_rendering(c, &pictures, &disk_bytes, &mut check);
+    }
+    // 5. the records
+    if let Some(s) = store {
+        check.compared_with_records = true;
+        compare_with_records(s, c, &mut check)?;
+    }
+    Ok(check)
+}
+
+/// bundle.json read as JSON and as a bundle file; `None` (with the problem noted) when it
+/// cannot be read or is not a bundle.
+fn read_bundle_file(
+    dir: &Path,
+    check: &mut BundleCheck,
+) -> Option<(serde_json::Value, BundleFile)> {
+    let bj = dir.join("bundle.json");
+    let text = match read_limited(&bj) {
+        Ok(b) => b,
+        Err(e) => {
+            check
+                .problems
+                .push(format!("bundle.json: cannot be read ({e})"));
+            return None;
+        }
+    };
+    let value: serde_json::Value = match serde_json::from_slice(&text) {
+        Ok(v) => v,
+        Err(e) => {
+            check
+                .problems
+                .push(format!("bundle.json: not valid JSON ({e})"));
+            return None;
+        }
+    };
+    let bf: BundleFile = match serde_json::from_value(value.clone()) {
+        Ok(b) => b,
+        Err(e) => {
+            check
+                .problems
+                .push(format!("bundle.json: not a shardlog dispute bundle ({e})"));
+            return None;
+        }
+    };
+    Some((value, bf))
+}
+
+/// The digest over the content, each incident's digest, and the cover's count.
+fn check_digests(value: &serde_json::Value, bf: &BundleFile, check: &mut BundleCheck) {
+    let c = &bf.content;
+    let content_value = value.get("content").cloned().unwrap_or_default();
+    let recomputed = digest_value(&content_value, Numbers::Shortest);
+    if recomputed != bf.content_sha256 {
+        check.problems.push(format!(
+            "bundle.json: its content was edited (SHA-256 of the content is {recomputed}, the bundle records {})",
+            bf.content_sha256
+        ));
+    }
+    for i in &c.incidents {
+        match digest(&i.content, Numbers::Shortest) {
+            Ok(d) if d == i.content_sha256 => {}
+            _ => check.problems.push(format!(
+                "incident {}: its content in bundle.json was edited (digest differs from the one recorded)",
+                i.reference
+            )),
+        }
+    }
+    if c.cover.incidents as usize != c.incidents.len() {
+        check.problems.push(format!(
+            "bundle.json: the cover counts {} incidents but {} are listed",
+            c.cover.incidents,
+            c.incidents.len()
+        ));
+    }
+}
+
+/// Every listed file against its hash and size, and no file added: the bytes read, by path.
+fn check_files(
+    dir: &Path,
+    bf: &BundleFile,
+    on_disk: &BTreeSet<String>,
+    listed: &BTreeSet<String>,
+    check: &mut BundleCheck,
+) -> HashMap<String, Vec<u8>> {
+    let mut disk_bytes: HashMap<String, Vec<u8>> = HashMap::new();
+    for f in &bf.files {
+        if f.path.contains("..") || f.path.starts_with('/') || f.path.contains('\\') {
+            check.problems.push(format!(
+                "bundle.json: file path {} leaves the bundle",
+                f.path
+            ));
+            continue;
+        }
+        let p = dir.join(&f.path);
+        match read_limited(&p) {
+            Ok(b) => {
+                check.files_checked += 1;
+                let h = sha256_hex(&b);
+                if h != f.sha256 || b.len() as u64 != f.bytes {
+                    check.problems.push(format!(
+                        "{}: the file was edited (its SHA-256 is {h}, the bundle records {})",
+                        f.path, f.sha256
+                    ));
+                }
+                disk_bytes.insert(f.path.clone(), b);
+            }
+            Err(_) => check
+                .problems
+                .push(format!("{}: the file is missing", f.path)),
+        }
+    }
+    for extra in on_disk.difference(listed) {
+        if extra != "bundle.json" {
+            check.problems.push(format!(
+                "{extra}: a file that is not part of the bundle was added"
+            ));
+        }
+    }
+    disk_bytes
+}
+
+/// Each attachment is listed and has the hash its name says: the photos that do, by hash.
+fn check_attachments(
+    c: &BundleContent,
+    listed: &BTreeSet<String>,
+    disk_bytes: &HashMap<String, Vec<u8>>,
+    check: &mut BundleCheck,
+) -> Pictures {
+    let mut pictures: Pictures = HashMap::new();
+    for a in &c.attachments {
+        let Some(path) = &a.file else { continue };
+        if !listed.contains(path) {
+            check.problems.push(format!(
+                "{path}: attachment {} is not in the file list",
+                a.name
+            ));
+        }
+        if let Some(b) = disk_bytes.get(path) {
+            if sha256_hex(b) != a.sha256 {
+                check.problems.push(format!(
+                    "{path}: the photo or file was changed (its content no longer has SHA-256 {})",
+                    a.sha256
+                ));
+            } else {
+                pictures.insert(a.sha256.clone(), Arc::new(b.clone()));
+            }
+        }
+    }
+    pictures
+}
+
+/// Every incident has its summary, every summary its incident.
+fn check_summaries(
+    c: &BundleContent,
+    on_disk: &BTreeSet<String>,
+    listed: &BTreeSet<String>,
+    check: &mut BundleCheck,
+) {
+    let expected_pdfs: BTreeSet<String> = c.incidents.iter().map(|i| i.file.clone()).collect();
+    for i in &c.incidents {
+        if !listed.contains(&i.file) {
+            check.problems.push(format!(
+                "incident {}: its summary {} is not in the file list",
+                i.reference, i.file
+            ));
+        }
+    }
+    for f in on_disk.iter().filter(|f| f.starts_with("incidents/")) {
+        if !expected_pdfs.contains(f) {
+            check.problems.push(format!(
+                "{f}: an incident summary with no incident in bundle.json (was an incident removed?)"
+            ));
+        }
+    }
+}
+
+/// Every rendered file equals a fresh rendering of the content.
+fn check_rendering(
+    c: &BundleContent,
+    pictures: &Pictures,
+    disk_bytes: &HashMap<String, Vec<u8>>,
+    check: &mut BundleCheck,
+) {
+    for (path, bytes) in render_files(c, pictures, threads()) {
+        match disk_bytes.get(&path) {
+            Some(b) if *b == bytes => {}
+            Some(_) => check.problems.push(format!(
+                "{path}: differs from what the bundle's content renders to (the file was edited after export)"
+            )),
+            None => check.problems.push(format!("{path}: the file is missing")),
+        }
+    }
+}
+
+fn compare_with_records(
+    s: &Store,
+    c: &BundleContent,
+    check: &mut BundleCheck,
+) -> Result<(), BundleError> {
+    let chain = s.verify()?;
+    if !chain.ok() {
+        check.problems.push(format!(
+            "database: the audit chain is broken ({})",
+            chain.first_problem.clone().unwrap_or_default()
+        ));
+    }
+    let labels = Labels::load(s)?;
+    for i in &c.incidents {
+        let Some(inc) = s.find(&i.reference)? else {
+            check.problems.push(format!(
+                "incident {}: in the bundle but no longer in the database",
+                i.reference
+            ));
+            continue;
+        };
+        let (now, _) = incident_content(s, &labels, &inc)?;
+        if now != i.content {
+            let a = serde_json::to_value(&i.content)?;
+            let b = serde_json::to_value(&now)?;
+            let diff =
+                first_difference(&a, &b, "content").unwrap_or_else(|| "a value differs".into());
+            check.problems.push(format!(
+                "incident {}: the bundle does not match the records: {diff}",
+                i.reference
+            ));
+        }
+    }
+    let filter = Filter {
+        supplier: Some(c.selection.supplier_code.clone()),
+        lot: c.selection.lot.clone(),
+        since: c.selection.since,
+        until: c.selection.until,
+        ..Filter::default()
+    };
+    let in_bundle: BTreeSet<&str> = c.incidents.iter().map(|i| i.reference.as_str()).collect();
+    let mut added_later = 0;
+    for id in s.matching_ids(&filter)? {
+        let inc = s.get(&id)?;
+        if in_bundle.contains(inc.reference.as_str()) {
+            continue;
+        }
+        let created = inc.created_at.format("%Y-%m-%d %H:%M:%S UTC").to_string();
+        if created.as_str() > c.exported_at.as_str() {
+            added_later += 1;
+        } else {
+            check.problems.push(format!(
+                "incident {}: matches the bundle's selection in the records but is missing from the bundle",
+                inc.reference
+            ));
+        }
+    }
+    if added_later > 0 {
+        check.notes.push(format!(
+            "{added_later} incident{} matching the selection were recorded after the export",
+            if added_later == 1 { "" } else { "s" }
+        ));
+    }
+    if chain.head == c.audit_chain_head {
+        check
+            .notes
+            .push("the records have not changed since the export (same audit-chain head)".into());
+    } else {
+        check.notes.push(format!(
+            "the database has changed since the export (audit-chain head now {}); the bundle's incidents were compared one by one",
+            chain.head
+        ));
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use serde_json::json;
+
+    #[test]
+    fn first_difference_names_the_path() {
+        let a = json!({"x": {"y": [1, 2, 3]}, "z": "a"});
+        let b = json!({"x": {"y": [1, 5, 3]}, "z": "a"});
+        assert_eq!(
+            first_difference(&a, &b, "content").unwrap(),
+            "content.x.y[1]: the bundle has 2, the records have 5"
+        );
+        assert!(first_difference(&a, &a, "c").is_none());
+    }
+}
