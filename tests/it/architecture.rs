@@ -397,7 +397,6 @@ fn collapse(
 
 /// Import edges of circles that are being taken apart (from → to); the list only shrinks.
 const PENDING_CIRCLE_EDGES: &[(&str, &str)] = &[
-    ("fleet::trend", "fleet::group"),
     ("cli::report", "cli::records"),
     ("store::incidents", "store::audit"),
     ("store::refdata", "store::audit"),

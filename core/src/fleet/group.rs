@@ -688,38 +688,10 @@ pub fn histogram(values: &[f64], bins: usize) -> (Vec<f64>, Vec<u64>) {
     (edges, counts)
 }
 
-/// The trend of one group of a [`GroupTable`] (see [`group_trends`]).
-#[derive(Debug, Clone, PartialEq)]
-pub struct GroupTrend {
-    pub trend: Result<super::trend::Trend, super::trend::TrendError>,
-    /// Holm-adjusted p-value over the groups whose trend was estimated.
-    pub p_adjusted: Option<f64>,
-    /// Significant (Holm, at the table's `flag_level`) and rising / falling.
-    pub rising: bool,
-    pub falling: bool,
-}
-
-/// Each group's own incidents per month and trend (the same Poisson regression as
-/// [`super::trend::trend`]), against the group's own exposure: the exposure rows that match
-/// its supplier/product/lot/site values; a group keyed only by cause, origin type, asset type
-/// or temper is set against all the exposure, as its rate is. One entry per row of `table`,
-/// in its order; `None` for every row when a key is month or season (a group that is one
-/// month or one season has no trend over the window).
-///
-/// Flags: a group's trend is called rising or falling when its Holm-adjusted p-value (over
-/// all the groups whose trend could be estimated) is below the table's `flag_level`: with
-/// forty groups, one unadjusted p < 0.05 in forty is expected by chance alone.
-pub fn group_trends(
-    incidents: &[IncidentFacts],
-    exposures: &[Exposure],
-    table: &GroupTable,
-) -> Vec<Option<GroupTrend>> {
+/// The found dates of the incidents of each row of `table` inside its window, one list per
+/// row, in its order; the rows are found by the same key values the table was built from.
+pub(super) fn dates_by_row(incidents: &[IncidentFacts], table: &GroupTable) -> Vec<Vec<NaiveDate>> {
     let keys = &table.keys;
-    if keys.iter().any(|k| k.is_time()) {
-        return vec![None; table.rows.len()];
-    }
-    let window = table.window;
-    // the group of each incident, by the same key values the table was built from
     fn as_val(v: &GroupValue) -> Val<'_> {
         match v {
             GroupValue::Text(t) => Val::Text(t.as_deref()),
@@ -737,7 +709,7 @@ pub fn group_trends(
     }
     let mut dates: Vec<Vec<NaiveDate>> = vec![Vec::new(); table.rows.len()];
     for f in incidents {
-        if !window.contains(f.found) {
+        if !table.window.contains(f.found) {
             continue;
         }
         let k = [
@@ -748,51 +720,20 @@ pub fn group_trends(
             dates[i].push(f.found);
         }
     }
-    let mut out: Vec<Option<GroupTrend>> = table
-        .rows
+    dates
+}
+
+/// The exposure rows of one group: those that match its supplier/product/lot/site values (all
+/// of them for a group keyed only by cause, origin type, asset type or temper).
+pub(super) fn row_exposures(exposures: &[Exposure], keys: &[Key], row: &GroupRow) -> Vec<Exposure> {
+    exposures
         .iter()
-        .zip(&dates)
-        .map(|(row, d)| {
-            let own: Vec<Exposure> = exposures
-                .iter()
-                .filter(|e| {
-                    keys.iter().zip(&row.values).all(|(k, v)| match v {
-                        GroupValue::Text(t) if k.is_exposure() => {
-                            exposure_text(e, *k) == t.as_deref()
-                        }
-                        _ => true,
-                    })
-                })
-                .cloned()
-                .collect();
-            Some(GroupTrend {
-                trend: super::trend::trend(d, &own, &window),
-                p_adjusted: None,
-                rising: false,
-                falling: false,
+        .filter(|e| {
+            keys.iter().zip(&row.values).all(|(k, v)| match v {
+                GroupValue::Text(t) if k.is_exposure() => exposure_text(e, *k) == t.as_deref(),
+                _ => true,
             })
         })
-        .collect();
-    let fitted: Vec<usize> = (0..out.len())
-        .filter(|&i| matches!(&out[i], Some(g) if g.trend.is_ok()))
-        .collect();
-    let ps: Vec<f64> = fitted
-        .iter()
-        .filter_map(|&i| match &out[i] {
-            Some(GroupTrend { trend: Ok(t), .. }) => Some(t.p_value),
-            _ => None,
-        })
-        .collect();
-    let adjusted = holm_adjust(&ps);
-    for (j, &i) in fitted.iter().enumerate() {
-        if let Some(g) = out[i].as_mut() {
-            if let Ok(t) = &g.trend {
-                let significant = adjusted[j] < table.flag_level;
-                g.rising = significant && t.slope_per_year > 0.0;
-                g.falling = significant && t.slope_per_year < 0.0;
-            }
-            g.p_adjusted = Some(adjusted[j]);
-        }
-    }
-    out
+        .cloned()
+        .collect()
 }
