@@ -11,7 +11,7 @@ use super::picklist::{PickItem, PickList};
 use super::{Action, Ctx};
 use shardlog_core::fracture::{
     self, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
-    ConstantOverride, FlawGeometry, Origin, Temper,
+    ConstantOverride, FlawGeometry, FlawKind, Origin, OriginLocation, Temper,
 };
 use shardlog_core::units::Dimension;
 
@@ -422,17 +422,12 @@ impl BenchState {
             }
             return Ok(None);
         }
-        input.temper = match self.form.text("temper").as_str() {
-            "annealed" => Some(Temper::Annealed),
-            "heat-strengthened" => Some(Temper::HeatStrengthened),
-            "fully-tempered" => Some(Temper::FullyTempered),
-            "chemically-strengthened" => Some(Temper::ChemicallyStrengthened),
-            _ => None,
-        };
-        input.origin = match self.form.text("origin").as_str() {
-            "interior" => Origin::Interior,
-            _ => Origin::Surface,
-        };
+        input.temper = self.form.text("temper").parse::<Temper>().ok();
+        input.origin = self
+            .form
+            .text("origin")
+            .parse::<Origin>()
+            .unwrap_or(Origin::Surface);
         input.thickness_m = self.opt_quantity("thickness")?;
         input.measured_flaw_m = self.opt_quantity("measured_flaw")?;
         input.surface_compression_pa = self.opt_quantity("surface_compression")?;
@@ -441,20 +436,20 @@ impl BenchState {
             f.value()?;
         }
         let aspect = self.aspect();
-        input.flaw = match self.form.text("geometry").as_str() {
-            "semicircular" => Some(FlawGeometry::Semicircular { a_over_t: 0.0 }),
-            "semi-elliptical" => Some(FlawGeometry::SemiElliptical {
+        input.flaw = match self.form.text("geometry").parse::<FlawKind>() {
+            Ok(FlawKind::Semicircular) => Some(FlawGeometry::Semicircular { a_over_t: 0.0 }),
+            Ok(FlawKind::SemiElliptical) => Some(FlawGeometry::SemiElliptical {
                 a_over_c: aspect,
                 a_over_t: 0.0,
             }),
-            "penny" => Some(FlawGeometry::EmbeddedPenny),
-            "edge" => Some(FlawGeometry::EdgeCrack),
-            "corner" => Some(FlawGeometry::CornerCrack {
+            Ok(FlawKind::EmbeddedPenny) => Some(FlawGeometry::EmbeddedPenny),
+            Ok(FlawKind::EdgeCrack) => Some(FlawGeometry::EdgeCrack),
+            Ok(FlawKind::CornerCrack) => Some(FlawGeometry::CornerCrack {
                 a_over_c: aspect.min(1.0),
                 a_over_t: 0.0,
             }),
-            "through" => Some(FlawGeometry::ThroughCrack),
-            _ => None,
+            Ok(FlawKind::ThroughCrack) => Some(FlawGeometry::ThroughCrack),
+            Ok(FlawKind::SemicircularHand) | Err(_) => None,
         };
         for (k, boundary) in [
             ("a_i", Boundary::MirrorMist),
@@ -507,9 +502,11 @@ impl BenchState {
                 shardlog_core::units::Unit::Millimetre,
             ));
         }
-        if inc.pattern.origin_location.as_deref() == Some("interior") {
+        let location = inc.pattern.origin_location.as_deref();
+        if location.and_then(|l| l.parse::<OriginLocation>().ok()) == Some(OriginLocation::Interior)
+        {
             if let Some(p) = self.form.pick_mut("origin") {
-                p.choose_code("interior");
+                p.choose_code(Origin::Interior.code());
             }
         }
         if let Some(e) = exam {

@@ -23,10 +23,10 @@ mod validate;
 
 use serde::{Deserialize, Serialize};
 
-pub use flaw::{geometry_factor, FlawGeometry, GeometryFactor};
+pub use flaw::{geometry_factor, FlawGeometry, FlawKind, GeometryFactor};
 pub use materials::{Constant, Material, Provenance};
 pub use mirror::{Boundary, BoundaryReadings, BoundaryResult, Consistency, ConstantUsed};
-pub use residual::{Origin, Residual, Temper};
+pub use residual::{Origin, OriginLocation, Residual, Temper};
 
 use crate::units::{fmt_sig, format, Unit};
 
@@ -86,6 +86,34 @@ impl FractureError {
             FractureError::NoReadings => "radius",
         }
     }
+}
+
+/// A word that names none of the values of a vocabulary (temper class, boundary, origin,
+/// origin location, flaw geometry): what [`std::str::FromStr`] gives back for it.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("'{text}' is not a {what}")]
+pub struct UnknownWord {
+    /// What was expected: "temper class", "boundary", …
+    pub what: &'static str,
+    /// The text as given.
+    pub text: String,
+}
+
+impl UnknownWord {
+    pub(crate) fn new(what: &'static str, text: &str) -> Self {
+        UnknownWord {
+            what,
+            text: text.to_string(),
+        }
+    }
+}
+
+/// A word as the vocabularies spell it: trimmed, lower case, with `_`, spaces and en dashes
+/// read as `-` ("Fully_Tempered" → "fully-tempered", "mirror–mist" → "mirror-mist").
+fn spelled(text: &str) -> String {
+    text.trim()
+        .to_ascii_lowercase()
+        .replace(['–', '_', ' '], "-")
 }
 
 /// A constant the user gives for one boundary, replacing the material's.
@@ -874,6 +902,54 @@ mod tests {
         });
         let a = analyze(&i).unwrap();
         assert!(!a.warnings.iter().any(|w| w.contains("below 0.2")));
+    }
+
+    #[test]
+    fn every_word_reads_back_from_its_code_key_and_label() {
+        for t in Temper::ALL {
+            for word in [t.code(), t.key(), t.label()] {
+                assert_eq!(word.parse::<Temper>(), Ok(t), "{word}");
+            }
+        }
+        for b in Boundary::ALL {
+            for word in [b.code(), b.key(), b.label()] {
+                assert_eq!(word.parse::<Boundary>(), Ok(b), "{word}");
+            }
+        }
+        for l in OriginLocation::ALL {
+            assert_eq!(l.code().parse::<OriginLocation>(), Ok(l));
+            assert_eq!(l.label().parse::<OriginLocation>(), Ok(l));
+        }
+        for o in [Origin::Surface, Origin::Interior] {
+            assert_eq!(o.code().parse::<Origin>(), Ok(o));
+        }
+        assert!(
+            "edge".parse::<Origin>().is_err(),
+            "an edge is a location, not an origin"
+        );
+        assert_eq!(OriginLocation::Corner.origin(), Origin::Surface);
+        assert_eq!(
+            "Core".parse::<OriginLocation>(),
+            Ok(OriginLocation::Interior)
+        );
+        for k in FlawKind::ALL {
+            assert_eq!(k.code().parse::<FlawKind>(), Ok(k));
+        }
+        assert_eq!(
+            FlawGeometry::CornerCrack {
+                a_over_c: 0.5,
+                a_over_t: 0.0
+            }
+            .kind(),
+            FlawKind::CornerCrack
+        );
+        assert_eq!(
+            " Fully_Tempered ".parse::<Temper>(),
+            Ok(Temper::FullyTempered)
+        );
+        assert_eq!("ro".parse::<Boundary>(), Ok(Boundary::MistHackle));
+        let e = "glazed".parse::<Temper>().unwrap_err();
+        assert_eq!(e.to_string(), "'glazed' is not a temper class");
     }
 
     #[test]
