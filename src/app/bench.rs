@@ -3,7 +3,7 @@
 //! Every edit rebuilds an [`AnalysisInput`] from the form and calls
 //! [`shardlog_core::fracture::analyze`] (the same call the command line and reports make), so the
 //! figures on screen are the core's figures. Flaw sizes for the other geometries come from
-//! the same call with only the geometry changed.
+//! that one analysis ([`Analysis::flaw_size_for`]), not from a run per geometry.
 
 use super::field::{Field, FieldKind, FieldValue};
 use super::form::{Form, FormEvent};
@@ -306,7 +306,7 @@ impl BenchState {
             Ok(None) => Outcome::Waiting,
             Ok(Some(input)) => match fracture::analyze(&input) {
                 Ok(analysis) => {
-                    let per_geometry = per_geometry(&input, self.aspect());
+                    let per_geometry = per_geometry(&input, &analysis, self.aspect());
                     Outcome::Done {
                         input: Box::new(input),
                         analysis: Box::new(analysis),
@@ -549,15 +549,12 @@ impl BenchState {
     }
 }
 
-/// Flaw size for each geometry of the table, each from the core's own analysis.
-fn per_geometry(input: &AnalysisInput, aspect: f64) -> Vec<GeometryRow> {
+/// Flaw size for each geometry of the table, from the one analysis already made.
+fn per_geometry(input: &AnalysisInput, analysis: &Analysis, aspect: f64) -> Vec<GeometryRow> {
     table_geometries(aspect)
         .into_iter()
         .filter_map(|g| {
-            let mut i = input.clone();
-            i.flaw = Some(g);
-            let a = fracture::analyze(&i).ok()?;
-            let f = a.flaw?;
+            let f = analysis.flaw_size_for(input, g)?;
             Some(GeometryRow {
                 label: f.geometry_label,
                 y: f.factor.y,
