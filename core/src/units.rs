@@ -591,11 +591,6 @@ pub fn to_um(m: f64) -> f64 {
     m * 1e6
 }
 
-/// Convenience: SI length in mm.
-pub fn to_mm(m: f64) -> f64 {
-    m * 1e3
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;

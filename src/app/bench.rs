@@ -3,7 +3,7 @@
 //! Every edit rebuilds an [`AnalysisInput`] from the form and calls
 //! [`shardlog_core::fracture::analyze`] (the same call the command line and reports make), so the
 //! figures on screen are the core's figures. Flaw sizes for the other geometries come from
-//! the same call with only the geometry changed.
+//! that one analysis ([`Analysis::flaw_size_for`]), not from a run per geometry.
 
 use super::field::{Field, FieldKind, FieldValue};
 use super::form::{Form, FormEvent};
@@ -11,7 +11,7 @@ use super::picklist::{PickItem, PickList};
 use super::{Action, Ctx};
 use shardlog_core::fracture::{
     self, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
-    ConstantOverride, FlawGeometry, Origin, Temper,
+    ConstantOverride, FlawGeometry, FlawKind, Origin, OriginLocation, Temper,
 };
 use shardlog_core::units::Dimension;
 
@@ -306,7 +306,7 @@ impl BenchState {
             Ok(None) => Outcome::Waiting,
             Ok(Some(input)) => match fracture::analyze(&input) {
                 Ok(analysis) => {
-                    let per_geometry = per_geometry(&input, self.aspect());
+                    let per_geometry = per_geometry(&input, &analysis, self.aspect());
                     Outcome::Done {
                         input: Box::new(input),
                         analysis: Box::new(analysis),
@@ -422,17 +422,12 @@ impl BenchState {
             }
             return Ok(None);
         }
-        input.temper = match self.form.text("temper").as_str() {
-            "annealed" => Some(Temper::Annealed),
-            "heat-strengthened" => Some(Temper::HeatStrengthened),
-            "fully-tempered" => Some(Temper::FullyTempered),
-            "chemically-strengthened" => Some(Temper::ChemicallyStrengthened),
-            _ => None,
-        };
-        input.origin = match self.form.text("origin").as_str() {
-            "interior" => Origin::Interior,
-            _ => Origin::Surface,
-        };
+        input.temper = self.form.text("temper").parse::<Temper>().ok();
+        input.origin = self
+            .form
+            .text("origin")
+            .parse::<Origin>()
+            .unwrap_or(Origin::Surface);
         input.thickness_m = self.opt_quantity("thickness")?;
         input.measured_flaw_m = self.opt_quantity("measured_flaw")?;
         input.surface_compression_pa = self.opt_quantity("surface_compression")?;
@@ -441,20 +436,20 @@ impl BenchState {
             f.value()?;
         }
         let aspect = self.aspect();
-        input.flaw = match self.form.text("geometry").as_str() {
-            "semicircular" => Some(FlawGeometry::Semicircular { a_over_t: 0.0 }),
-            "semi-elliptical" => Some(FlawGeometry::SemiElliptical {
+        input.flaw = match self.form.text("geometry").parse::<FlawKind>() {
+            Ok(FlawKind::Semicircular) => Some(FlawGeometry::Semicircular { a_over_t: 0.0 }),
+            Ok(FlawKind::SemiElliptical) => Some(FlawGeometry::SemiElliptical {
                 a_over_c: aspect,
                 a_over_t: 0.0,
             }),
-            "penny" => Some(FlawGeometry::EmbeddedPenny),
-            "edge" => Some(FlawGeometry::EdgeCrack),
-            "corner" => Some(FlawGeometry::CornerCrack {
+            Ok(FlawKind::EmbeddedPenny) => Some(FlawGeometry::EmbeddedPenny),
+            Ok(FlawKind::EdgeCrack) => Some(FlawGeometry::EdgeCrack),
+            Ok(FlawKind::CornerCrack) => Some(FlawGeometry::CornerCrack {
                 a_over_c: aspect.min(1.0),
                 a_over_t: 0.0,
             }),
-            "through" => Some(FlawGeometry::ThroughCrack),
-            _ => None,
+            Ok(FlawKind::ThroughCrack) => Some(FlawGeometry::ThroughCrack),
+            Ok(FlawKind::SemicircularHand) | Err(_) => None,
         };
         for (k, boundary) in [
             ("a_i", Boundary::MirrorMist),
@@ -507,9 +502,11 @@ impl BenchState {
                 shardlog_core::units::Unit::Millimetre,
             ));
         }
-        if inc.pattern.origin_location.as_deref() == Some("interior") {
+        let location = inc.pattern.origin_location.as_deref();
+        if location.and_then(|l| l.parse::<OriginLocation>().ok()) == Some(OriginLocation::Interior)
+        {
             if let Some(p) = self.form.pick_mut("origin") {
-                p.choose_code("interior");
+                p.choose_code(Origin::Interior.code());
             }
         }
         if let Some(e) = exam {
@@ -552,15 +549,12 @@ impl BenchState {
     }
 }
 
-/// Flaw size for each geometry of the table, each from the core's own analysis.
-fn per_geometry(input: &AnalysisInput, aspect: f64) -> Vec<GeometryRow> {
+/// Flaw size for each geometry of the table, from the one analysis already made.
+fn per_geometry(input: &AnalysisInput, analysis: &Analysis, aspect: f64) -> Vec<GeometryRow> {
     table_geometries(aspect)
         .into_iter()
         .filter_map(|g| {
-            let mut i = input.clone();
-            i.flaw = Some(g);
-            let a = fracture::analyze(&i).ok()?;
-            let f = a.flaw?;
+            let f = analysis.flaw_size_for(input, g)?;
             Some(GeometryRow {
                 label: f.geometry_label,
                 y: f.factor.y,

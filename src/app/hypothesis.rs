@@ -566,7 +566,7 @@ fn k_chart(stress: f64, a: &Analysis) -> Result<KChart, String> {
         .iter()
         .map(|p| critical::CurvePoint {
             flaw_size: p.flaw_size,
-            k: critical::stress_intensity(a.stress_pa, p.flaw_size, y),
+            stress_intensity: critical::stress_intensity(a.stress_pa, p.flaw_size, y),
         })
         .collect();
     Ok(KChart {

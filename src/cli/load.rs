@@ -839,7 +839,7 @@ fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
     let pts: Vec<Value> = curve
         .points
         .iter()
-        .map(|p| json!({"flaw_um": units::to_um(p.flaw_size), "k_mpa_sqrt_m": units::to_mpa(p.k)}))
+        .map(|p| json!({"flaw_um": units::to_um(p.flaw_size), "k_mpa_sqrt_m": units::to_mpa(p.stress_intensity)}))
         .collect();
     out.object.insert("curve".into(), Value::Array(pts));
     out.lines.push("K(a) at this stress:".into());
@@ -847,8 +847,12 @@ fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
         out.lines.push(format!(
             "  a = {:>10}   K = {}{}",
             units::format(p.flaw_size, Unit::Micrometre),
-            units::format(p.k, Unit::MegapascalRootMetre),
-            if p.k >= toughness { "  (>= K_Ic)" } else { "" }
+            units::format(p.stress_intensity, Unit::MegapascalRootMetre),
+            if p.stress_intensity >= toughness {
+                "  (>= K_Ic)"
+            } else {
+                ""
+            }
         ));
     }
     Ok(out.finish())

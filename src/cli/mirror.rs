@@ -12,7 +12,7 @@ use serde_json::json;
 use super::{CliError, Context};
 use shardlog_core::fracture::{
     self, analyze, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
-    ConstantOverride, FlawGeometry, FractureError, Origin, Temper,
+    ConstantOverride, FlawGeometry, FlawKind, FractureError, Origin, Temper,
 };
 use shardlog_core::units::{self, fmt_sig, format, Dimension, Unit, UnitError};
 
@@ -143,37 +143,26 @@ fn ratio(flag: &str, text: &str, expected: &str) -> Result<f64, CliError> {
 }
 
 fn parse_temper(text: &str) -> Result<Temper, CliError> {
-    let k = text.trim().to_ascii_lowercase().replace(['_', ' '], "-");
-    Ok(match k.as_str() {
-        "annealed" | "an" => Temper::Annealed,
-        "heat-strengthened" | "hs" => Temper::HeatStrengthened,
-        "fully-tempered" | "tempered" | "ft" | "toughened" => Temper::FullyTempered,
-        "chemically-strengthened" | "chemical" | "cs" | "ion-exchanged" => {
-            Temper::ChemicallyStrengthened
-        }
-        _ => {
-            return Err(CliError::usage(format!(
-                "--temper: '{}' is not a temper class; expected annealed, heat-strengthened, \
-                 fully-tempered or chemically-strengthened",
-                text.trim()
-            )))
-        }
+    text.parse().map_err(|_| {
+        CliError::usage(format!(
+            "--temper: '{}' is not a temper class; expected annealed, heat-strengthened, \
+             fully-tempered or chemically-strengthened",
+            text.trim()
+        ))
     })
 }
 
 fn parse_origin(text: &str) -> Result<Origin, CliError> {
-    match text.trim().to_ascii_lowercase().as_str() {
-        "surface" => Ok(Origin::Surface),
-        "interior" | "internal" | "core" => Ok(Origin::Interior),
-        _ => Err(CliError::usage(format!(
+    text.parse().map_err(|_| {
+        CliError::usage(format!(
             "--origin: '{}' is not an origin location; expected surface or interior",
             text.trim()
-        ))),
-    }
+        ))
+    })
 }
 
 fn parse_boundary(text: &str) -> Result<Boundary, CliError> {
-    Boundary::parse(text).ok_or_else(|| {
+    text.parse().map_err(|_| {
         CliError::usage(format!(
             "--boundary: '{}' is not a boundary; expected mirror-mist, mist-hackle or branching",
             text.trim()
@@ -407,9 +396,16 @@ pub(super) fn flaw_by_name(
     aspect: Option<f64>,
     a_over_t: f64,
 ) -> Result<FlawGeometry, CliError> {
-    Ok(match k {
-        "semicircular" | "semi-circular" => FlawGeometry::Semicircular { a_over_t },
-        "semi-elliptical" | "semielliptical" => FlawGeometry::SemiElliptical {
+    let kind: FlawKind = k.parse().map_err(|_| {
+        CliError::usage(format!(
+            "--flaw: '{}' is not a flaw geometry; expected semicircular, semi-elliptical, penny, \
+             edge, corner, through or semicircular-hand",
+            super::sanitize_for_terminal(k, false)
+        ))
+    })?;
+    Ok(match kind {
+        FlawKind::Semicircular => FlawGeometry::Semicircular { a_over_t },
+        FlawKind::SemiElliptical => FlawGeometry::SemiElliptical {
             a_over_c: aspect.ok_or_else(|| {
                 CliError::usage(
                     "--aspect: missing for --flaw semi-elliptical; expected a/c such as \
@@ -418,21 +414,14 @@ pub(super) fn flaw_by_name(
             })?,
             a_over_t,
         },
-        "corner" => FlawGeometry::CornerCrack {
+        FlawKind::CornerCrack => FlawGeometry::CornerCrack {
             a_over_c: aspect.unwrap_or(1.0),
             a_over_t,
         },
-        "penny" | "embedded-penny" | "embedded" => FlawGeometry::EmbeddedPenny,
-        "edge" => FlawGeometry::EdgeCrack,
-        "through" => FlawGeometry::ThroughCrack,
-        "semicircular-hand" => FlawGeometry::SemicircularIrwin,
-        other => {
-            return Err(CliError::usage(format!(
-                "--flaw: '{}' is not a flaw geometry; expected semicircular, \
-                 semi-elliptical, penny, edge, corner, through or semicircular-hand",
-                super::sanitize_for_terminal(other, false)
-            )))
-        }
+        FlawKind::EmbeddedPenny => FlawGeometry::EmbeddedPenny,
+        FlawKind::EdgeCrack => FlawGeometry::EdgeCrack,
+        FlawKind::ThroughCrack => FlawGeometry::ThroughCrack,
+        FlawKind::SemicircularHand => FlawGeometry::SemicircularIrwin,
     })
 }
 

@@ -7,7 +7,7 @@ use std::sync::Arc;
 
 use crate::store::{self, Incident, LookupKind, Store, StoreError};
 use shardlog_core::fracture::{
-    self, Analysis, AnalysisInput, Boundary, BoundaryReadings, Origin, Temper,
+    self, Analysis, AnalysisInput, Boundary, BoundaryReadings, OriginLocation, Temper,
 };
 use shardlog_core::units;
 
@@ -238,9 +238,11 @@ fn examination(l: &Labels, inc: &Incident) -> Examination {
     for e in &inc.examinations {
         for r in &e.readings {
             readings.push(Reading {
-                boundary: Boundary::parse(&r.boundary)
+                boundary: r
+                    .boundary
+                    .parse::<Boundary>()
                     .map(|b| b.label().to_string())
-                    .unwrap_or_else(|| l.lookup(LookupKind::Boundary, &r.boundary)),
+                    .unwrap_or_else(|_| l.lookup(LookupKind::Boundary, &r.boundary)),
                 radius_m: r.radius.si,
                 as_entered: Some(format!(
                     "{} {}",
@@ -476,8 +478,10 @@ pub fn analyze_exam(inc: &Incident, exam: &store::Examination) -> Result<Analysi
     let mut input = AnalysisInput::new(material);
     let mut groups: Vec<BoundaryReadings> = Vec::new();
     for r in &exam.readings {
-        let b = Boundary::parse(&r.boundary)
-            .ok_or_else(|| format!("boundary {} is not known", r.boundary))?;
+        let b: Boundary = r
+            .boundary
+            .parse()
+            .map_err(|_| format!("boundary {} is not known", r.boundary))?;
         match groups.iter_mut().find(|g| g.boundary == b) {
             Some(g) => g.radii_m.push(r.radius.si),
             None => groups.push(BoundaryReadings {
@@ -488,12 +492,13 @@ pub fn analyze_exam(inc: &Incident, exam: &store::Examination) -> Result<Analysi
     }
     input.readings = groups;
     if let Some(t) = ply.and_then(|p| p.temper.as_deref()) {
-        input.temper =
-            serde_json::from_value::<Temper>(serde_json::Value::String(core_key(t))).ok();
+        input.temper = t.parse::<Temper>().ok();
     }
     input.thickness_m = ply.and_then(|p| p.thickness_m);
-    if inc.pattern.origin_location.as_deref() == Some("interior") {
-        input.origin = Origin::Interior;
+    if let Some(location) = inc.pattern.origin_location.as_deref() {
+        if let Ok(location) = location.parse::<OriginLocation>() {
+            input.origin = location.origin();
+        }
     }
     input.measured_flaw_m = exam
         .flaw

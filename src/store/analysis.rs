@@ -5,23 +5,16 @@ use chrono::{DateTime, Utc};
 
 use super::model::*;
 use shardlog_core::fracture::{
-    self, AnalysisInput, Boundary, BoundaryReadings, FractureError, Origin, Temper,
+    self, AnalysisInput, Boundary, BoundaryReadings, FractureError, Origin, OriginLocation, Temper,
 };
-
-/// Temper class lookup code → the core's temper.
-fn temper_of(code: &str) -> Option<Temper> {
-    match code {
-        "annealed" => Some(Temper::Annealed),
-        "heat_strengthened" => Some(Temper::HeatStrengthened),
-        "fully_tempered" => Some(Temper::FullyTempered),
-        "chemically_strengthened" => Some(Temper::ChemicallyStrengthened),
-        _ => None,
-    }
-}
 
 /// Whether the origin of an examination sits in the interior (tensile core).
 fn interior_origin(inc: &Incident, exam: &Examination) -> bool {
-    inc.pattern.origin_location.as_deref() == Some("interior")
+    inc.pattern
+        .origin_location
+        .as_deref()
+        .and_then(|code| code.parse::<OriginLocation>().ok())
+        .is_some_and(|location| location.origin() == Origin::Interior)
         || matches!(
             exam.origin_type.as_deref(),
             Some("interior_core") | Some("inclusion_nis")
@@ -45,7 +38,7 @@ fn analysis_input(inc: &Incident, exam: &Examination) -> Result<AnalysisInput, F
     })?;
     let mut input = AnalysisInput::new(material);
     for r in &exam.readings {
-        let b = Boundary::parse(&r.boundary).ok_or_else(|| {
+        let b: Boundary = r.boundary.parse().map_err(|_| {
             FractureError::invalid(
                 "boundary",
                 format!("\"{}\" is not a boundary", r.boundary),
@@ -60,7 +53,9 @@ fn analysis_input(inc: &Incident, exam: &Examination) -> Result<AnalysisInput, F
             }),
         }
     }
-    input.temper = ply.and_then(|p| p.temper.as_deref()).and_then(temper_of);
+    input.temper = ply
+        .and_then(|p| p.temper.as_deref())
+        .and_then(|code| code.parse::<Temper>().ok());
     input.origin = if interior_origin(inc, exam) {
         Origin::Interior
     } else {

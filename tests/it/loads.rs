@@ -926,8 +926,11 @@ fn critical_curve_crosses_toughness_at_the_critical_size() {
     assert_eq!(c.points.len(), 41);
     let mid = c.points[20];
     close(mid.flaw_size, c.critical_size, 1e-9, "middle point is a_c");
-    close(mid.k, 0.75e6, 1e-9, "K(a_c) = K_Ic");
-    assert!(c.points.windows(2).all(|w| w[1].k > w[0].k));
+    close(mid.stress_intensity, 0.75e6, 1e-9, "K(a_c) = K_Ic");
+    assert!(c
+        .points
+        .windows(2)
+        .all(|w| w[1].stress_intensity > w[0].stress_intensity));
     close(
         c.points[0].flaw_size,
         c.critical_size / 10.0,
@@ -935,7 +938,12 @@ fn critical_curve_crosses_toughness_at_the_critical_size() {
         "low end",
     );
     // K ∝ √a: a factor 10 in size is √10 in K
-    close(c.points[40].k / mid.k, 10f64.sqrt(), 1e-9, "√a");
+    close(
+        c.points[40].stress_intensity / mid.stress_intensity,
+        10f64.sqrt(),
+        1e-9,
+        "√a",
+    );
 }
 
 #[test]
@@ -969,7 +977,7 @@ fn critical_flaw_curve_with_the_core_geometry_factors() {
             0.004,
             &format!("a_c of {}", g.label()),
         );
-        close(c.points[10].k, 0.75e6, 1e-9, "K(a_c) = K_Ic");
+        close(c.points[10].stress_intensity, 0.75e6, 1e-9, "K(a_c) = K_Ic");
     }
     // reference-values.md: a crack of the order of 1 mm is critical at about 60 MPa in a
     // ceramic of K_Ic about 2 MPa·√m (common practice; depends on Y): penny 873 µm, edge 281 µm.

@@ -452,3 +452,64 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn flaw_sizes_for_each_geometry_from_one_analysis_equal_separate_analyses() {
+    use shardlog_core::fracture::{
+        analyze, materials, AnalysisInput, Boundary, FlawGeometry, Origin, Temper,
+    };
+    let geometries = [
+        FlawGeometry::Semicircular { a_over_t: 0.0 },
+        FlawGeometry::SemiElliptical {
+            a_over_c: 0.8,
+            a_over_t: 0.0,
+        },
+        FlawGeometry::SemiElliptical {
+            a_over_c: 0.1,
+            a_over_t: 0.0,
+        },
+        FlawGeometry::SemicircularIrwin,
+        FlawGeometry::EmbeddedPenny,
+        FlawGeometry::EdgeCrack,
+        FlawGeometry::CornerCrack {
+            a_over_c: 0.8,
+            a_over_t: 0.0,
+        },
+        FlawGeometry::ThroughCrack,
+        // refused: a/c above 2
+        FlawGeometry::SemiElliptical {
+            a_over_c: 3.0,
+            a_over_t: 0.0,
+        },
+    ];
+    let soda = materials::find("soda-lime").expect("soda-lime in the library");
+    let plain =
+        AnalysisInput::new(soda.clone()).with_readings(Boundary::MirrorMist, &[0.9e-3, 1.1e-3]);
+    let mut thick = AnalysisInput::new(soda)
+        .with_readings(Boundary::MistHackle, &[2.0e-3])
+        .with_readings(Boundary::MirrorMist, &[1.4e-3, 1.5e-3]);
+    thick.temper = Some(Temper::FullyTempered);
+    thick.thickness_m = Some(4e-3);
+    thick.origin = Origin::Interior;
+    thick.measured_flaw_m = Some(40e-6);
+    let mut no_toughness =
+        AnalysisInput::new(materials::find("glass-ceramic").expect("in the library"))
+            .with_readings(Boundary::MistHackle, &[1e-3]);
+    no_toughness.toughness_override = None;
+    no_toughness.material.k_ic = None;
+    for input in [plain, thick, no_toughness] {
+        let one = analyze(&input).expect("the analysis");
+        for g in geometries {
+            let mut separate = input.clone();
+            separate.flaw = Some(g);
+            let expected = analyze(&separate).ok().and_then(|a| a.flaw);
+            let got = one.flaw_size_for(&input, g);
+            assert_eq!(got, expected, "{g:?}");
+            if let (Some(a), Some(b)) = (&got, &expected) {
+                assert_eq!(a.size_m.to_bits(), b.size_m.to_bits(), "{g:?}");
+                assert_eq!(a.size_low_m.to_bits(), b.size_low_m.to_bits(), "{g:?}");
+                assert_eq!(a.size_high_m.to_bits(), b.size_high_m.to_bits(), "{g:?}");
+            }
+        }
+    }
+}

@@ -466,20 +466,18 @@ fn time_cells(k: Option<Key>, v: Option<&Val<'_>>, window: &Window) -> Vec<(Naiv
     }
 }
 
-/// Group incidents (and exposure) as asked.
-pub fn group(
-    incidents: &[IncidentFacts],
-    exposures: &[Exposure],
+/// The incidents of the window by the values of the keys (with their fracture stresses when
+/// a Weibull fit is asked for), and how many incidents the window holds.
+fn count_groups<'a>(
+    incidents: &'a [IncidentFacts],
     opts: &GroupOptions,
-) -> Result<GroupTable, FleetError> {
-    check_keys(&opts.keys)?;
-    let window = opts.window;
+) -> (FxMap<[Val<'a>; 2], Acc>, u64) {
     let keys = &opts.keys;
     let mut map: FxMap<[Val<'_>; 2], Acc> = FxMap::default();
     let mut total = 0u64;
     let target = opts.origin_type.as_deref();
     for f in incidents {
-        if !window.contains(f.found) {
+        if !opts.window.contains(f.found) {
             continue;
         }
         total += 1;
@@ -502,6 +500,68 @@ pub fn group(
             }
         }
     }
+    (map, total)
+}
+
+/// Pane-years of the exposure cell of one group: the exposure rows that match its
+/// supplier/product/lot/site values, within its month or season when a key is one.
+fn cell_pane_years(
+    k: &[Val<'_>; 2],
+    cell_keys: &[(usize, Key)],
+    exposures: &[Exposure],
+    window: &Window,
+) -> f64 {
+    let time_key = cell_keys.iter().find(|(_, key)| key.is_time());
+    let cells = time_cells(time_key.map(|t| t.1), time_key.map(|t| &k[t.0]), window);
+    let mut py = 0.0;
+    for e in exposures {
+        let matches = cell_keys.iter().all(|(i, key)| {
+            if key.is_time() {
+                return true;
+            }
+            match k[*i] {
+                Val::Text(v) => exposure_text(e, *key) == v,
+                _ => false,
+            }
+        });
+        if matches {
+            py += cells
+                .iter()
+                .map(|(a, b)| pane_years(e, *a, *b))
+                .sum::<f64>();
+        }
+    }
+    py
+}
+
+/// Holm over every group that has a comparison: each such row's adjusted p-value and flag.
+/// Returns how many groups were compared.
+fn flag_rows(rows: &mut [GroupRow], flag_level: f64) -> usize {
+    let idx: Vec<usize> = (0..rows.len())
+        .filter(|&i| rows[i].ratio.is_some())
+        .collect();
+    let ps: Vec<f64> = idx
+        .iter()
+        .filter_map(|&i| rows[i].ratio.map(|r| r.p_above))
+        .collect();
+    let adjusted = holm_adjust(&ps);
+    for (j, &i) in idx.iter().enumerate() {
+        rows[i].p_adjusted = Some(adjusted[j]);
+        rows[i].flagged = adjusted[j] < flag_level && rows[i].ratio.is_some_and(|r| r.ratio > 1.0);
+    }
+    idx.len()
+}
+
+/// Group incidents (and exposure) as asked.
+pub fn group(
+    incidents: &[IncidentFacts],
+    exposures: &[Exposure],
+    opts: &GroupOptions,
+) -> Result<GroupTable, FleetError> {
+    check_keys(&opts.keys)?;
+    let window = opts.window;
+    let keys = &opts.keys;
+    let (map, total) = count_groups(incidents, opts);
 
     let total_pane_years: f64 = exposures
         .iter()
@@ -536,31 +596,7 @@ pub fn group(
 
     let mut rows = Vec::with_capacity(entries.len());
     for (k, acc) in entries {
-        let exposure = if with_rates {
-            let time_key = cell_keys.iter().find(|(_, key)| key.is_time());
-            let cells = time_cells(time_key.map(|t| t.1), time_key.map(|t| &k[t.0]), &window);
-            let mut py = 0.0;
-            for e in exposures {
-                let matches = cell_keys.iter().all(|(i, key)| {
-                    if key.is_time() {
-                        return true;
-                    }
-                    match k[*i] {
-                        Val::Text(v) => exposure_text(e, *key) == v,
-                        _ => false,
-                    }
-                });
-                if matches {
-                    py += cells
-                        .iter()
-                        .map(|(a, b)| pane_years(e, *a, *b))
-                        .sum::<f64>();
-                }
-            }
-            Some(py)
-        } else {
-            None
-        };
+        let exposure = with_rates.then(|| cell_pane_years(&k, &cell_keys, exposures, &window));
         let rate = exposure.and_then(|py| rate_per_1000(acc.count, py));
         let ratio = match (exposure, comparable) {
             (Some(py), true) => {
@@ -597,20 +633,7 @@ pub fn group(
         });
     }
 
-    // Holm over every group that has a comparison.
-    let idx: Vec<usize> = (0..rows.len())
-        .filter(|&i| rows[i].ratio.is_some())
-        .collect();
-    let ps: Vec<f64> = idx
-        .iter()
-        .filter_map(|&i| rows[i].ratio.map(|r| r.p_above))
-        .collect();
-    let adjusted = holm_adjust(&ps);
-    for (j, &i) in idx.iter().enumerate() {
-        rows[i].p_adjusted = Some(adjusted[j]);
-        rows[i].flagged =
-            adjusted[j] < opts.flag_level && rows[i].ratio.is_some_and(|r| r.ratio > 1.0);
-    }
+    let compared = flag_rows(&mut rows, opts.flag_level);
 
     Ok(GroupTable {
         keys: keys.clone(),
@@ -618,7 +641,7 @@ pub fn group(
         total,
         total_pane_years,
         rows,
-        compared: idx.len(),
+        compared,
         flag_level: opts.flag_level,
     })
 }
@@ -665,38 +688,10 @@ pub fn histogram(values: &[f64], bins: usize) -> (Vec<f64>, Vec<u64>) {
     (edges, counts)
 }
 
-/// The trend of one group of a [`GroupTable`] (see [`group_trends`]).
-#[derive(Debug, Clone, PartialEq)]
-pub struct GroupTrend {
-    pub trend: Result<super::trend::Trend, super::trend::TrendError>,
-    /// Holm-adjusted p-value over the groups whose trend was estimated.
-    pub p_adjusted: Option<f64>,
-    /// Significant (Holm, at the table's `flag_level`) and rising / falling.
-    pub rising: bool,
-    pub falling: bool,
-}
-
-/// Each group's own incidents per month and trend (the same Poisson regression as
-/// [`super::trend::trend`]), against the group's own exposure: the exposure rows that match
-/// its supplier/product/lot/site values; a group keyed only by cause, origin type, asset type
-/// or temper is set against all the exposure, as its rate is. One entry per row of `table`,
-/// in its order; `None` for every row when a key is month or season (a group that is one
-/// month or one season has no trend over the window).
-///
-/// Flags: a group's trend is called rising or falling when its Holm-adjusted p-value (over
-/// all the groups whose trend could be estimated) is below the table's `flag_level`: with
-/// forty groups, one unadjusted p < 0.05 in forty is expected by chance alone.
-pub fn group_trends(
-    incidents: &[IncidentFacts],
-    exposures: &[Exposure],
-    table: &GroupTable,
-) -> Vec<Option<GroupTrend>> {
+/// The found dates of the incidents of each row of `table` inside its window, one list per
+/// row, in its order; the rows are found by the same key values the table was built from.
+pub(super) fn dates_by_row(incidents: &[IncidentFacts], table: &GroupTable) -> Vec<Vec<NaiveDate>> {
     let keys = &table.keys;
-    if keys.iter().any(|k| k.is_time()) {
-        return vec![None; table.rows.len()];
-    }
-    let window = table.window;
-    // the group of each incident, by the same key values the table was built from
     fn as_val(v: &GroupValue) -> Val<'_> {
         match v {
             GroupValue::Text(t) => Val::Text(t.as_deref()),
@@ -714,7 +709,7 @@ pub fn group_trends(
     }
     let mut dates: Vec<Vec<NaiveDate>> = vec![Vec::new(); table.rows.len()];
     for f in incidents {
-        if !window.contains(f.found) {
+        if !table.window.contains(f.found) {
             continue;
         }
         let k = [
@@ -725,51 +720,20 @@ pub fn group_trends(
             dates[i].push(f.found);
         }
     }
-    let mut out: Vec<Option<GroupTrend>> = table
-        .rows
+    dates
+}
+
+/// The exposure rows of one group: those that match its supplier/product/lot/site values (all
+/// of them for a group keyed only by cause, origin type, asset type or temper).
+pub(super) fn row_exposures(exposures: &[Exposure], keys: &[Key], row: &GroupRow) -> Vec<Exposure> {
+    exposures
         .iter()
-        .zip(&dates)
-        .map(|(row, d)| {
-            let own: Vec<Exposure> = exposures
-                .iter()
-                .filter(|e| {
-                    keys.iter().zip(&row.values).all(|(k, v)| match v {
-                        GroupValue::Text(t) if k.is_exposure() => {
-                            exposure_text(e, *k) == t.as_deref()
-                        }
-                        _ => true,
-                    })
-                })
-                .cloned()
-                .collect();
-            Some(GroupTrend {
-                trend: super::trend::trend(d, &own, &window),
-                p_adjusted: None,
-                rising: false,
-                falling: false,
+        .filter(|e| {
+            keys.iter().zip(&row.values).all(|(k, v)| match v {
+                GroupValue::Text(t) if k.is_exposure() => exposure_text(e, *k) == t.as_deref(),
+                _ => true,
             })
         })
-        .collect();
-    let fitted: Vec<usize> = (0..out.len())
-        .filter(|&i| matches!(&out[i], Some(g) if g.trend.is_ok()))
-        .collect();
-    let ps: Vec<f64> = fitted
-        .iter()
-        .filter_map(|&i| match &out[i] {
-            Some(GroupTrend { trend: Ok(t), .. }) => Some(t.p_value),
-            _ => None,
-        })
-        .collect();
-    let adjusted = holm_adjust(&ps);
-    for (j, &i) in fitted.iter().enumerate() {
-        if let Some(g) = out[i].as_mut() {
-            if let Ok(t) = &g.trend {
-                let significant = adjusted[j] < table.flag_level;
-                g.rising = significant && t.slope_per_year > 0.0;
-                g.falling = significant && t.slope_per_year < 0.0;
-            }
-            g.p_adjusted = Some(adjusted[j]);
-        }
-    }
-    out
+        .cloned()
+        .collect()
 }

@@ -4,7 +4,8 @@
 //! - [`weibull`]: two-parameter Weibull by maximum likelihood with right-censoring (ASTM C1239).
 //! - [`rates`]: exact Poisson rates, rate ratios against the rest, Holm-adjusted flags.
 //! - [`group`]: counts, shares, rates and fits grouped by one or two keys over a window.
-//! - [`trend`]: incidents per month, Poisson-regression trend test, seasonality.
+//! - [`trend`]: incidents per month, Poisson-regression trend test (of the whole fleet and of
+//!   each group of a table), seasonality.
 //! - [`special`]: incomplete gamma and beta functions and their quantiles.
 
 pub mod group;
@@ -15,10 +16,12 @@ pub mod trend;
 pub mod weibull;
 
 pub use group::{
-    group, group_trends, histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow,
-    GroupTable, GroupTrend, GroupValue, IncidentFacts, Key, Window,
+    group, histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow, GroupTable,
+    GroupValue, IncidentFacts, Key, Window,
 };
 pub use query::{StatsQuery, StressKind};
 pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
-pub use trend::{monthly_counts, seasonality, trend, MonthCount, Seasonality, Trend};
+pub use trend::{
+    group_trends, monthly_counts, seasonality, trend, GroupTrend, MonthCount, Seasonality, Trend,
+};
 pub use weibull::{fit, fit_population, fit_values, Interval, Specimen, WeibullError, WeibullFit};

@@ -154,8 +154,8 @@ pub fn cdf(stress: f64, modulus: f64, scale: f64) -> f64 {
 
 /// ASTM C1239 unbiasing factors for the maximum-likelihood modulus of a complete sample
 /// (from memory, not confirmed against the document; the anchors N = 5, 10, 20, 30, 50, 100 are
-/// those of /work/shared/reference-values.md, and every entry is checked against a Monte Carlo
-/// run in tests/fleet.rs).
+/// those of the project's reference values, and every entry is checked against a Monte Carlo
+/// run in the fleet integration tests).
 const UNBIASING: [(usize, f64); 49] = [
     (5, 0.700),
     (6, 0.752),
@@ -276,8 +276,9 @@ fn sums(ln_y: &[f64], m: f64) -> Sums {
     Sums { s0, s1, s2 }
 }
 
-/// Fit a sample with optional right-censoring.
-pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
+/// The number of failures, or why the sample cannot be fitted: empty, a stress that is not a
+/// positive number, fewer than two failures.
+fn count_failures(samples: &[Specimen]) -> Result<usize, WeibullError> {
     if samples.is_empty() {
         return Err(WeibullError::Empty);
     }
@@ -289,7 +290,6 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
             });
         }
     }
-    let n = samples.len();
     let r = samples.iter().filter(|s| !s.censored).count();
     if r == 0 {
         return Err(WeibullError::AllCensored);
@@ -297,32 +297,20 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
     if r < 2 {
         return Err(WeibullError::TooFewFailures { failures: r });
     }
-    // Sorted once: the plot positions and the Anderson–Darling sum need the order.
-    let mut sorted: Vec<Specimen> = samples.to_vec();
-    sort_specimens(&mut sorted);
-    let samples = &sorted[..];
-    let max = samples[n - 1].stress;
-    let ln_y: Vec<f64> = samples.iter().map(|s| (s.stress / max).ln()).collect();
-    let rf = r as f64;
-    let mean_ln_f: f64 = samples
-        .iter()
-        .zip(&ln_y)
-        .filter(|(s, _)| !s.censored)
-        .map(|(_, l)| *l)
-        .sum::<f64>()
-        / rf;
-    // g(∞) = max ln y − mean over failures = −mean_ln_f (max ln y is 0). Zero means every
-    // failure sits at the largest value: no finite root.
-    let spread = -mean_ln_f;
-    if spread <= 1e-14 {
-        let value = samples
-            .iter()
-            .find(|s| !s.censored)
-            .map_or(max, |s| s.stress);
-        return Err(WeibullError::AllEqual { value });
-    }
+    Ok(r)
+}
+
+/// The maximum-likelihood modulus m and the iterations it took: the root of the profile
+/// score g(m) by safeguarded Newton steps. `ln_y` = ln(σ/σ_max) of every specimen, in the
+/// order of `samples`; `mean_ln_f` its mean over the `rf` failures.
+fn solve_modulus(
+    samples: &[Specimen],
+    ln_y: &[f64],
+    mean_ln_f: f64,
+    rf: f64,
+) -> Result<(f64, u32), WeibullError> {
     let g = |m: f64| -> (f64, f64) {
-        let s = sums(&ln_y, m);
+        let s = sums(ln_y, m);
         let mean = s.s1 / s.s0;
         let var = (s.s2 / s.s0 - mean * mean).max(0.0);
         (mean - mean_ln_f - 1.0 / m, var + 1.0 / (m * m))
@@ -331,7 +319,7 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
     // Start from the Gumbel moment estimate on the failures: sd(ln σ) = π / (m √6).
     let var_f: f64 = samples
         .iter()
-        .zip(&ln_y)
+        .zip(ln_y)
         .filter(|(s, _)| !s.censored)
         .map(|(_, l)| (l - mean_ln_f).powi(2))
         .sum::<f64>()
@@ -377,28 +365,38 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
     if !converged || !m.is_finite() {
         return Err(WeibullError::NoConvergence);
     }
-    let s = sums(&ln_y, m);
-    let scale = max * (s.s0 / rf).powf(1.0 / m);
+    Ok((m, iterations))
+}
 
-    // Observed information at the estimate, parameters (m, σ_θ). With z = σ/σ_θ, t = ln z,
-    // u = z^m and Σu = r at the estimate:
-    //   −∂²ℓ/∂m²    = r/m² + Σ u t²
-    //   −∂²ℓ/∂σ_θ²  = m² r / σ_θ²
-    //   −∂²ℓ/∂m∂σ_θ = −(m/σ_θ) Σ u t
-    let ln_ratio = (max / scale).ln(); // ln z = ln y + ln(max/σ_θ)
+/// Variances of m and σ_θ from the observed information at the estimate, and, for a complete
+/// sample (`complete`), z = (σ/σ_θ)^m of every specimen for the Anderson–Darling test.
+///
+/// Parameters (m, σ_θ). With z = σ/σ_θ, t = ln z, u = z^m and Σu = r at the estimate:
+///   −∂²ℓ/∂m²    = r/m² + Σ u t²
+///   −∂²ℓ/∂σ_θ²  = m² r / σ_θ²
+///   −∂²ℓ/∂m∂σ_θ = −(m/σ_θ) Σ u t
+fn observed_variances(
+    ln_y: &[f64],
+    m: f64,
+    scale: f64,
+    max_over_scale: f64,
+    complete: bool,
+    r: f64,
+) -> (f64, f64, Vec<f64>) {
+    let ln_ratio = max_over_scale.ln(); // ln z = ln y + ln(max/σ_θ)
     let (mut sut, mut sut2) = (0.0, 0.0);
-    let mut z = Vec::with_capacity(if n == r { n } else { 0 });
-    for &l in &ln_y {
+    let mut z = Vec::with_capacity(if complete { ln_y.len() } else { 0 });
+    for &l in ln_y {
         let t = l + ln_ratio;
         let u = (m * t).exp();
         sut += u * t;
         sut2 += u * t * t;
-        if n == r {
+        if complete {
             z.push(u);
         }
     }
-    let i_mm = rf / (m * m) + sut2;
-    let i_ss = m * m * rf / (scale * scale);
+    let i_mm = r / (m * m) + sut2;
+    let i_ss = m * m * r / (scale * scale);
     let i_ms = -(m / scale) * sut;
     let det = i_mm * i_ss - i_ms * i_ms;
     let (var_m, var_s) = if det > 0.0 {
@@ -406,6 +404,42 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
     } else {
         (f64::NAN, f64::NAN)
     };
+    (var_m, var_s, z)
+}
+
+/// Fit a sample with optional right-censoring.
+pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
+    let r = count_failures(samples)?;
+    let n = samples.len();
+    // Sorted once: the plot positions and the Anderson–Darling sum need the order.
+    let mut sorted: Vec<Specimen> = samples.to_vec();
+    sort_specimens(&mut sorted);
+    let samples = &sorted[..];
+    let max = samples[n - 1].stress;
+    let ln_y: Vec<f64> = samples.iter().map(|s| (s.stress / max).ln()).collect();
+    let rf = r as f64;
+    let mean_ln_f: f64 = samples
+        .iter()
+        .zip(&ln_y)
+        .filter(|(s, _)| !s.censored)
+        .map(|(_, l)| *l)
+        .sum::<f64>()
+        / rf;
+    // g(∞) = max ln y − mean over failures = −mean_ln_f (max ln y is 0). Zero means every
+    // failure sits at the largest value: no finite root.
+    let spread = -mean_ln_f;
+    if spread <= 1e-14 {
+        let value = samples
+            .iter()
+            .find(|s| !s.censored)
+            .map_or(max, |s| s.stress);
+        return Err(WeibullError::AllEqual { value });
+    }
+    let (m, iterations) = solve_modulus(samples, &ln_y, mean_ln_f, rf)?;
+    let s = sums(&ln_y, m);
+    let scale = max * (s.s0 / rf).powf(1.0 / m);
+
+    let (var_m, var_s, z) = observed_variances(&ln_y, m, scale, max / scale, n == r, rf);
     let se_ln_m = var_m.sqrt() / m;
     let se_ln_s = var_s.sqrt() / scale;
     let wald = |est: f64, se: f64, level: f64| {

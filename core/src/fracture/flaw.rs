@@ -37,8 +37,9 @@
 
 use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
+use std::str::FromStr;
 
-use super::FractureError;
+use super::{spelled, FractureError, UnknownWord};
 
 /// Where a flaw sits and what shape it has. Ratios: `a_over_c` is depth over half length,
 /// `a_over_t` depth over thickness (0 for a thick part).
@@ -62,7 +63,91 @@ pub enum FlawGeometry {
     ThroughCrack,
 }
 
+/// The kind of a [`FlawGeometry`], without its ratios: what a user picks by name.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FlawKind {
+    Semicircular,
+    SemiElliptical,
+    EmbeddedPenny,
+    EdgeCrack,
+    CornerCrack,
+    ThroughCrack,
+    /// The hand estimate of a semicircular flaw ([`FlawGeometry::SemicircularIrwin`]).
+    SemicircularHand,
+}
+
+impl FlawKind {
+    pub const ALL: [FlawKind; 7] = [
+        FlawKind::Semicircular,
+        FlawKind::SemiElliptical,
+        FlawKind::EmbeddedPenny,
+        FlawKind::EdgeCrack,
+        FlawKind::CornerCrack,
+        FlawKind::ThroughCrack,
+        FlawKind::SemicircularHand,
+    ];
+
+    /// The code of the command line, the bench and the store: semicircular, semi-elliptical,
+    /// penny, edge, corner, through, semicircular-hand.
+    pub fn code(self) -> &'static str {
+        match self {
+            FlawKind::Semicircular => "semicircular",
+            FlawKind::SemiElliptical => "semi-elliptical",
+            FlawKind::EmbeddedPenny => "penny",
+            FlawKind::EdgeCrack => "edge",
+            FlawKind::CornerCrack => "corner",
+            FlawKind::ThroughCrack => "through",
+            FlawKind::SemicircularHand => "semicircular-hand",
+        }
+    }
+
+    /// "semicircular surface flaw", "embedded penny crack", …
+    pub fn label(self) -> &'static str {
+        match self {
+            FlawKind::Semicircular => "semicircular surface flaw",
+            FlawKind::SemiElliptical => "semi-elliptical surface flaw",
+            FlawKind::EmbeddedPenny => "embedded penny crack",
+            FlawKind::EdgeCrack => "edge crack",
+            FlawKind::CornerCrack => "corner crack",
+            FlawKind::ThroughCrack => "through crack",
+            FlawKind::SemicircularHand => "semicircular surface flaw (1.12 × penny)",
+        }
+    }
+}
+
+/// A code in any case, `_` and spaces read as `-`; also semi-circular, semielliptical,
+/// embedded-penny, embedded.
+impl FromStr for FlawKind {
+    type Err = UnknownWord;
+
+    fn from_str(text: &str) -> Result<Self, Self::Err> {
+        Ok(match spelled(text).as_str() {
+            "semicircular" | "semi-circular" => FlawKind::Semicircular,
+            "semi-elliptical" | "semielliptical" => FlawKind::SemiElliptical,
+            "penny" | "embedded-penny" | "embedded" => FlawKind::EmbeddedPenny,
+            "edge" => FlawKind::EdgeCrack,
+            "corner" => FlawKind::CornerCrack,
+            "through" => FlawKind::ThroughCrack,
+            "semicircular-hand" => FlawKind::SemicircularHand,
+            _ => return Err(UnknownWord::new("flaw geometry", text)),
+        })
+    }
+}
+
 impl FlawGeometry {
+    /// The kind of this geometry.
+    pub fn kind(&self) -> FlawKind {
+        match self {
+            FlawGeometry::Semicircular { .. } => FlawKind::Semicircular,
+            FlawGeometry::SemiElliptical { .. } => FlawKind::SemiElliptical,
+            FlawGeometry::SemicircularIrwin => FlawKind::SemicircularHand,
+            FlawGeometry::EmbeddedPenny => FlawKind::EmbeddedPenny,
+            FlawGeometry::EdgeCrack => FlawKind::EdgeCrack,
+            FlawGeometry::CornerCrack { .. } => FlawKind::CornerCrack,
+            FlawGeometry::ThroughCrack => FlawKind::ThroughCrack,
+        }
+    }
+
     /// A short name for tables: "semicircular surface flaw".
     pub fn label(&self) -> String {
         match self {

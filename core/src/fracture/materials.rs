@@ -195,6 +195,7 @@ fn aluminosilicate(key: &str, name: &str, notes: &str) -> Material {
 
 /// The built-in library. Keys: soda-lime, borosilicate, fused-silica, aluminosilicate,
 /// aluminosilicate-chem, glass-ceramic, alumina, aluminum-oxynitride.
+// a table
 pub fn library() -> Vec<Material> {
     vec![
         Material {

@@ -2,9 +2,11 @@
 //! boundaries (Orr; Mecholsky, Rice & Freiman, J. Am. Ceram. Soc. 57 (1974) 440; ASTM C1678).
 
 use serde::{Deserialize, Serialize};
+use std::str::FromStr;
 
 use super::materials::{Constant, Material, Provenance};
 use super::uncertainty::{self, ReadingStats};
+use super::{spelled, UnknownWord};
 
 /// The three boundaries a fractographer measures.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
@@ -49,19 +51,12 @@ impl Boundary {
         }
     }
 
-    /// Parse a key (also accepts "mirror–mist", "inner", "outer", "mirror-hackle").
-    pub fn parse(text: &str) -> Option<Boundary> {
-        let k = text
-            .trim()
-            .to_ascii_lowercase()
-            .replace(['–', '_', ' '], "-");
-        match k.as_str() {
-            "mirror-mist" | "mist" | "inner" | "ri" => Some(Boundary::MirrorMist),
-            "mist-hackle" | "hackle" | "mirror-hackle" | "outer" | "ro" => {
-                Some(Boundary::MistHackle)
-            }
-            "branching" | "branch" | "crack-branching" | "rb" => Some(Boundary::Branching),
-            _ => None,
+    /// The stored lookup code: mirror_mist, mist_hackle, branching.
+    pub fn code(self) -> &'static str {
+        match self {
+            Boundary::MirrorMist => "mirror_mist",
+            Boundary::MistHackle => "mist_hackle",
+            Boundary::Branching => "branching",
         }
     }
 
@@ -82,6 +77,21 @@ impl Boundary {
             Boundary::MistHackle => Some(13.0),
             Boundary::Branching => None,
         }
+    }
+}
+
+/// A key or a code in any case ("mirror-mist", "mirror–mist", "MIRROR_MIST"), or a short
+/// form: mist, inner, ri; hackle, mirror-hackle, outer, ro; branch, crack-branching, rb.
+impl FromStr for Boundary {
+    type Err = UnknownWord;
+
+    fn from_str(text: &str) -> Result<Self, Self::Err> {
+        Ok(match spelled(text).as_str() {
+            "mirror-mist" | "mist" | "inner" | "ri" => Boundary::MirrorMist,
+            "mist-hackle" | "hackle" | "mirror-hackle" | "outer" | "ro" => Boundary::MistHackle,
+            "branching" | "branch" | "crack-branching" | "rb" => Boundary::Branching,
+            _ => return Err(UnknownWord::new("boundary", text)),
+        })
     }
 }
 

@@ -19,13 +19,14 @@ pub mod materials;
 pub mod mirror;
 pub mod residual;
 pub mod uncertainty;
+mod validate;
 
 use serde::{Deserialize, Serialize};
 
-pub use flaw::{geometry_factor, FlawGeometry, GeometryFactor};
+pub use flaw::{geometry_factor, FlawGeometry, FlawKind, GeometryFactor};
 pub use materials::{Constant, Material, Provenance};
 pub use mirror::{Boundary, BoundaryReadings, BoundaryResult, Consistency, ConstantUsed};
-pub use residual::{Origin, Residual, Temper};
+pub use residual::{Origin, OriginLocation, Residual, Temper};
 
 use crate::units::{fmt_sig, format, Unit};
 
@@ -85,6 +86,34 @@ impl FractureError {
             FractureError::NoReadings => "radius",
         }
     }
+}
+
+/// A word that names none of the values of a vocabulary (temper class, boundary, origin,
+/// origin location, flaw geometry): what [`std::str::FromStr`] gives back for it.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("'{text}' is not a {what}")]
+pub struct UnknownWord {
+    /// What was expected: "temper class", "boundary", …
+    pub what: &'static str,
+    /// The text as given.
+    pub text: String,
+}
+
+impl UnknownWord {
+    pub(crate) fn new(what: &'static str, text: &str) -> Self {
+        UnknownWord {
+            what,
+            text: text.to_string(),
+        }
+    }
+}
+
+/// A word as the vocabularies spell it: trimmed, lower case, with `_`, spaces and en dashes
+/// read as `-` ("Fully_Tempered" → "fully-tempered", "mirror–mist" → "mirror-mist").
+fn spelled(text: &str) -> String {
+    text.trim()
+        .to_ascii_lowercase()
+        .replace(['–', '_', ' '], "-")
 }
 
 /// A constant the user gives for one boundary, replacing the material's.
@@ -222,81 +251,6 @@ pub struct Analysis {
     pub warnings: Vec<String>,
 }
 
-/// Upper limits far beyond any real part, so nothing downstream overflows: 10 m for lengths,
-/// 1000 MPa·√m for constants and toughness, 10 GPa for stresses.
-fn upper_limit(unit: Unit) -> f64 {
-    match unit.dimension() {
-        crate::units::Dimension::Length => 10.0,
-        crate::units::Dimension::Toughness => 1e9,
-        _ => 1e10,
-    }
-}
-
-/// Lower limits far below any real part, so nothing downstream underflows to zero or
-/// overflows to infinity (a subnormal radius once gave a stress of 6e161 MPa and a flaw of
-/// 0 µm): 1 nm for lengths, 0.001 MPa·√m for constants and toughness.
-fn lower_limit(unit: Unit) -> f64 {
-    match unit.dimension() {
-        crate::units::Dimension::Length => 1e-9,
-        crate::units::Dimension::Toughness => 1e3,
-        _ => 0.0,
-    }
-}
-
-fn check_positive(field: &str, what: &str, v: f64, unit: Unit) -> Result<(), FractureError> {
-    if !v.is_finite() || v <= 0.0 {
-        return Err(FractureError::invalid(
-            field,
-            format!("{what} must be a finite number greater than zero, got {v}"),
-            format!("a value in {} or another {} unit", unit, unit.dimension()),
-        ));
-    }
-    let max = upper_limit(unit);
-    if v > max {
-        return Err(FractureError::invalid(
-            field,
-            format!("{what} of {} is out of range", format(v, unit)),
-            format!("at most {}", format(max, unit)),
-        ));
-    }
-    let min = lower_limit(unit);
-    if v < min {
-        return Err(FractureError::invalid(
-            field,
-            format!("{what} of {} is out of range", format(v, unit)),
-            format!("at least {}", format(min, unit)),
-        ));
-    }
-    Ok(())
-}
-
-fn check_constant(field: &str, what: &str, c: &Constant, unit: Unit) -> Result<(), FractureError> {
-    check_positive(field, what, c.value, unit)?;
-    if let Some(s) = c.spread {
-        if !s.is_finite() || s < 0.0 {
-            return Err(FractureError::invalid(
-                field,
-                format!("the spread of {what} must be finite and not negative, got {s}"),
-                "a spread of zero or more".to_string(),
-            ));
-        }
-        // one standard deviation larger than the value says nothing about it, and made the
-        // interval of the flaw size overflow to infinity (found by fuzzing)
-        if s > c.value {
-            return Err(FractureError::invalid(
-                field,
-                format!(
-                    "the spread of {what} ({}) is larger than the value ({})",
-                    format(s, unit),
-                    format(c.value, unit)
-                ),
-                "a spread (one standard deviation) no larger than the value itself",
-            ));
-        }
-    }
-    Ok(())
-}
-
 fn mm(m: f64) -> String {
     format(m, Unit::Millimetre)
 }
@@ -309,143 +263,133 @@ fn um(m: f64) -> String {
 
 /// Run the analysis.
 pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
+    validate::validate(input)?;
     let mut warnings = Vec::new();
+    let boundaries = boundary_statistics(input, &mut warnings)?;
+    // The headline (net) stress is the first boundary given that is closed (branching always
+    // counts as closed); if none is, the first one, with a warning about its size.
+    let head_index = boundaries
+        .iter()
+        .position(|b| is_closed(input, b))
+        .unwrap_or(0);
+    let head = &boundaries[head_index];
+    let consistency = consistency_between_boundaries(&boundaries, &mut warnings);
+    let residual = residual_stress(input, &mut warnings)?;
+    mirror_size_warnings(input, &boundaries, head, &residual, &mut warnings);
+    let (applied, applied_low, applied_high) =
+        applied_stress(input, head, &residual, &mut warnings);
+    let flaw = match toughness_used(input) {
+        None => {
+            warnings.push(format!(
+                "{} has no fracture toughness in the library: no flaw size. Give the toughness.",
+                input.material.name
+            ));
+            None
+        }
+        Some(toughness) => Some(flaw_result(
+            input,
+            input.flaw,
+            toughness,
+            &boundaries,
+            head,
+            &mut warnings,
+        )),
+    };
+    let branching = branching_prediction(input, &boundaries, head);
+    Ok(Analysis {
+        material_key: input.material.key.clone(),
+        material_name: input.material.name.clone(),
+        headline: head.boundary,
+        stress_pa: head.stress_pa,
+        stress_low_pa: head.stress_low_pa,
+        stress_high_pa: head.stress_high_pa,
+        residual,
+        applied_stress_pa: applied,
+        applied_low_pa: applied_low,
+        applied_high_pa: applied_high,
+        flaw,
+        branching,
+        consistency,
+        warnings,
+        boundaries,
+    })
+}
+
+impl Analysis {
+    /// The flaw result [`analyze`] gives for `input` with its flaw geometry replaced by
+    /// `geometry`, computed from this analysis of `input` without running it again (only the
+    /// flaw step depends on the geometry). `None` when the geometry is refused or no toughness
+    /// is known: where [`analyze`] would refuse the input or give no flaw.
+    pub fn flaw_size_for(
+        &self,
+        input: &AnalysisInput,
+        geometry: FlawGeometry,
+    ) -> Option<FlawResult> {
+        geometry.validate().ok()?;
+        let toughness = toughness_used(input)?;
+        let head = self
+            .boundaries
+            .iter()
+            .find(|b| b.boundary == self.headline)?;
+        // the warnings of the other geometries are not this analysis's warnings
+        let mut warnings = Vec::new();
+        Some(flaw_result(
+            input,
+            Some(geometry),
+            toughness,
+            &self.boundaries,
+            head,
+            &mut warnings,
+        ))
+    }
+}
+
+/// A mirror boundary as large as the thickness is not closed: σ = A/√R does not hold for it.
+/// Branching always counts as closed.
+fn is_closed(input: &AnalysisInput, b: &BoundaryResult) -> bool {
+    b.boundary == Boundary::Branching || !input.thickness_m.is_some_and(|t| b.stats.mean >= t)
+}
+
+/// The constant used for one boundary: the one typed, else the material's.
+fn boundary_constant(
+    input: &AnalysisInput,
+    boundary: Boundary,
+) -> Result<ConstantUsed, FractureError> {
     let material = &input.material;
-
-    // ---- validation of everything the user typed
-    if input.readings.iter().all(|b| b.radii_m.is_empty()) {
-        return Err(FractureError::NoReadings);
-    }
-    for (i, b) in input.readings.iter().enumerate() {
-        if input.readings[..i].iter().any(|o| o.boundary == b.boundary) {
-            return Err(FractureError::invalid(
-                "boundary",
-                format!("{} is given twice", b.boundary.key()),
-                "each boundary once, with all its radii after it",
-            ));
-        }
-        if b.radii_m.is_empty() {
-            return Err(FractureError::missing(
-                "radius",
-                format!("a radius for the {} boundary", b.boundary.key()),
-                "at least one radius such as 1.0mm after the boundary",
-            ));
-        }
-        for &r in &b.radii_m {
-            check_positive(
-                "radius",
-                &format!("a {} radius", b.boundary.key()),
-                r,
-                Unit::Millimetre,
-            )?;
-        }
-    }
-    // a user's material (kept by the store as JSON) is checked like a typed constant
-    for (symbol, c) in [
-        ("A_i", &material.a_i),
-        ("A_o", &material.a_o),
-        ("A_b", &material.a_b),
-        ("K_Ic", &material.k_ic),
-    ] {
-        if let Some(c) = c {
-            check_constant(
-                "material",
-                &format!("{symbol} of {}", material.key),
-                c,
-                Unit::MegapascalRootMetre,
-            )?;
-        }
-    }
-    for o in &input.constant_overrides {
-        check_constant(
-            "constant",
-            &format!("the {} constant", o.boundary.key()),
+    match input
+        .constant_overrides
+        .iter()
+        .find(|o| o.boundary == boundary)
+    {
+        Some(o) => Ok(ConstantUsed::new(
+            boundary.constant_symbol(),
             &o.constant,
-            Unit::MegapascalRootMetre,
-        )?;
+            true,
+        )),
+        None => match boundary.constant_of(material) {
+            Some(c) => Ok(ConstantUsed::new(boundary.constant_symbol(), c, false)),
+            None => Err(FractureError::missing(
+                "constant",
+                format!(
+                    "a {} constant {} ({} has none in the library)",
+                    boundary.key(),
+                    boundary.constant_symbol(),
+                    material.key
+                ),
+                "a mirror constant such as 2.0MPa√m",
+            )),
+        },
     }
-    if let Some(k) = &input.toughness_override {
-        check_constant("toughness", "the toughness", k, Unit::MegapascalRootMetre)?;
-    }
-    if let Some(cs) = input.surface_compression_pa {
-        if !cs.is_finite() || cs < 0.0 || cs > upper_limit(Unit::Megapascal) {
-            return Err(FractureError::invalid(
-                "surface-compression",
-                format!("surface compression {cs} Pa"),
-                "its magnitude, zero or more, such as 95MPa (compression is understood)",
-            ));
-        }
-        if input.temper == Some(Temper::Annealed) && cs > 0.0 {
-            return Err(FractureError::invalid(
-                "surface-compression",
-                format!("{} given for annealed glass", mpa(cs)),
-                "no surface compression for annealed glass, or another temper class",
-            ));
-        }
-    }
-    if let Some(s) = input.surface_compression_spread_pa {
-        // bounded like the compression itself: a spread of 1e299 Pa made the applied-stress
-        // interval infinite (found by fuzzing)
-        if !s.is_finite() || s < 0.0 || s > upper_limit(Unit::Megapascal) {
-            return Err(FractureError::invalid(
-                "surface-compression",
-                format!("spread {s} Pa"),
-                "a spread of zero or more, at most 10 GPa",
-            ));
-        }
-    }
-    if let Some(d) = input.layer_depth_m {
-        check_positive("layer-depth", "the layer depth", d, Unit::Micrometre)?;
-    }
-    if let Some(t) = input.thickness_m {
-        check_positive("thickness", "the thickness", t, Unit::Millimetre)?;
-    }
-    if let Some(a) = input.measured_flaw_m {
-        check_positive(
-            "measured-flaw",
-            "the measured flaw size",
-            a,
-            Unit::Micrometre,
-        )?;
-    }
-    if let Some(g) = &input.flaw {
-        g.validate()?;
-    }
-    if let (Some(d), Some(t)) = (input.layer_depth_m, input.thickness_m) {
-        if d >= t / 2.0 {
-            return Err(FractureError::invalid(
-                "layer-depth",
-                format!("a layer {} deep in a part {} thick", mm(d), mm(t)),
-                "a compressive layer shallower than half the thickness",
-            ));
-        }
-    }
+}
 
-    // ---- per boundary
+/// Step 1: per boundary, the mean and scatter of the radii, σ = A/√R̄ and its interval.
+fn boundary_statistics(
+    input: &AnalysisInput,
+    warnings: &mut Vec<String>,
+) -> Result<Vec<BoundaryResult>, FractureError> {
     let mut boundaries = Vec::with_capacity(input.readings.len());
     for b in input.readings.iter().filter(|b| !b.radii_m.is_empty()) {
-        let constant = match input
-            .constant_overrides
-            .iter()
-            .find(|o| o.boundary == b.boundary)
-        {
-            Some(o) => ConstantUsed::new(b.boundary.constant_symbol(), &o.constant, true),
-            None => match b.boundary.constant_of(material) {
-                Some(c) => ConstantUsed::new(b.boundary.constant_symbol(), c, false),
-                None => {
-                    return Err(FractureError::missing(
-                        "constant",
-                        format!(
-                            "a {} constant {} ({} has none in the library)",
-                            b.boundary.key(),
-                            b.boundary.constant_symbol(),
-                            material.key
-                        ),
-                        "a mirror constant such as 2.0MPa√m",
-                    ))
-                }
-            },
-        };
+        let constant = boundary_constant(input, b.boundary)?;
         if constant.relative_spread().is_none() {
             warnings.push(format!(
                 "The {} constant {} has no known spread: the interval for the {} stress covers \
@@ -470,17 +414,14 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         }
         boundaries.push(result);
     }
-    // A mirror boundary as large as the thickness is not closed: σ = A/√R does not hold for
-    // it. The headline (net) stress is the first boundary given that is closed (branching
-    // always counts as closed); if none is, the first one, with the warning below.
-    let not_closed = |b: &BoundaryResult| {
-        b.boundary != Boundary::Branching && input.thickness_m.is_some_and(|t| b.stats.mean >= t)
-    };
-    let head_index = boundaries.iter().position(|b| !not_closed(b)).unwrap_or(0);
-    let head = &boundaries[head_index];
-    let net = head.stress_pa;
+    Ok(boundaries)
+}
 
-    // ---- consistency between boundaries (ordered inner to outer)
+/// Consistency between every pair of boundaries, ordered inner to outer.
+fn consistency_between_boundaries(
+    boundaries: &[BoundaryResult],
+    warnings: &mut Vec<String>,
+) -> Vec<Consistency> {
     let mut consistency = Vec::new();
     let mut ordered: Vec<&BoundaryResult> = boundaries.iter().collect();
     ordered.sort_by_key(|b| b.boundary);
@@ -505,15 +446,16 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
             consistency.push(c);
         }
     }
+    consistency
+}
 
-    // ---- residual stress
-    if input.temper.is_some_and(|t| t != Temper::Annealed) && !material.glass {
-        warnings.push(format!(
-            "Temper classes apply to glass; {} is not a glass. Check the temper class.",
-            material.name
-        ));
-    }
-    let (cs, cs_spread, basis) = match (input.surface_compression_pa, input.temper) {
+/// The surface compression used (Pa), its spread and how it was chosen: as given, else the
+/// temper class value.
+fn surface_compression(
+    input: &AnalysisInput,
+    warnings: &mut Vec<String>,
+) -> Result<(f64, Option<f64>, String), FractureError> {
+    Ok(match (input.surface_compression_pa, input.temper) {
         (Some(cs), Some(t)) => (
             cs,
             input.surface_compression_spread_pa,
@@ -550,25 +492,11 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
             None,
             "no temper class given: residual stress taken as zero".into(),
         ),
-    };
-    let at_origin = residual::residual_at_origin(cs, input.origin);
-    let basis = match input.origin {
-        Origin::Interior if cs > 0.0 => format!(
-            "{basis}; interior origin in the tensile core: central tension taken as half the \
-             surface compression (parabolic profile), +{}",
-            mpa(at_origin)
-        ),
-        Origin::Surface if cs > 0.0 => {
-            format!("{basis}; surface origin, in the compressive layer")
-        }
-        _ => basis,
-    };
-    let layer_depth = input
-        .layer_depth_m
-        .or_else(|| match (input.temper, input.thickness_m) {
-            (Some(t), Some(th)) if t.is_thermal() => Some(residual::thermal_layer_fraction() * th),
-            _ => None,
-        });
+    })
+}
+
+/// Warnings about the temper class against the origin and the layer depth.
+fn temper_warnings(input: &AnalysisInput, warnings: &mut Vec<String>) {
     if input.origin == Origin::Interior {
         match input.temper {
             None => warnings.push(
@@ -591,7 +519,41 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
                 .to_string(),
         );
     }
-    let residual = Residual {
+}
+
+/// Step 2: the residual stress at the origin, from the temper class or the surface
+/// compression.
+fn residual_stress(
+    input: &AnalysisInput,
+    warnings: &mut Vec<String>,
+) -> Result<Residual, FractureError> {
+    if input.temper.is_some_and(|t| t != Temper::Annealed) && !input.material.glass {
+        warnings.push(format!(
+            "Temper classes apply to glass; {} is not a glass. Check the temper class.",
+            input.material.name
+        ));
+    }
+    let (cs, cs_spread, basis) = surface_compression(input, warnings)?;
+    let at_origin = residual::residual_at_origin(cs, input.origin);
+    let basis = match input.origin {
+        Origin::Interior if cs > 0.0 => format!(
+            "{basis}; interior origin in the tensile core: central tension taken as half the \
+             surface compression (parabolic profile), +{}",
+            mpa(at_origin)
+        ),
+        Origin::Surface if cs > 0.0 => {
+            format!("{basis}; surface origin, in the compressive layer")
+        }
+        _ => basis,
+    };
+    let layer_depth = input
+        .layer_depth_m
+        .or_else(|| match (input.temper, input.thickness_m) {
+            (Some(t), Some(th)) if t.is_thermal() => Some(residual::thermal_layer_fraction() * th),
+            _ => None,
+        });
+    temper_warnings(input, warnings);
+    Ok(Residual {
         temper: input.temper,
         origin: input.origin,
         surface_compression_pa: cs,
@@ -599,9 +561,17 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         at_origin_pa: at_origin,
         layer_depth_m: layer_depth,
         basis,
-    };
+    })
+}
 
-    // ---- mirror size against the thickness and the compressive layer
+/// Cross-check: the mirror size against the thickness and the compressive layer.
+fn mirror_size_warnings(
+    input: &AnalysisInput,
+    boundaries: &[BoundaryResult],
+    head: &BoundaryResult,
+    residual: &Residual,
+    warnings: &mut Vec<String>,
+) {
     let branching_result = boundaries
         .iter()
         .find(|b| b.boundary == Boundary::Branching);
@@ -646,7 +616,7 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
                 ));
             }
         }
-        if let Some(d) = layer_depth {
+        if let Some(d) = residual.layer_depth_m {
             if r > d && residual.surface_compression_pa > 0.0 {
                 warnings.push(format!(
                     "The {} radius ({}) reaches beyond the compressive layer ({} deep): the \
@@ -659,13 +629,24 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
             }
         }
     }
+}
 
-    // ---- applied stress
-    let applied = net - at_origin;
-    let res_u = cs_spread.map(|s| match input.origin {
-        Origin::Surface => s,
-        Origin::Interior => s / 2.0,
-    });
+/// Step 3: applied stress = net − residual, with its 95 % interval (low, high), which also
+/// carries the spread of the surface compression where it is known.
+fn applied_stress(
+    input: &AnalysisInput,
+    head: &BoundaryResult,
+    residual: &Residual,
+    warnings: &mut Vec<String>,
+) -> (f64, f64, f64) {
+    let net = head.stress_pa;
+    let applied = net - residual.at_origin_pa;
+    let res_u = residual
+        .surface_compression_spread_pa
+        .map(|s| match input.origin {
+            Origin::Surface => s,
+            Origin::Interior => s / 2.0,
+        });
     let res_term = res_u.map(|u| uncertainty::Z95 * u).unwrap_or(0.0);
     let applied_low = applied - ((net - head.stress_low_pa).powi(2) + res_term.powi(2)).sqrt();
     let applied_high = applied + ((head.stress_high_pa - net).powi(2) + res_term.powi(2)).sqrt();
@@ -677,174 +658,192 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
             mpa(applied)
         ));
     }
+    (applied, applied_low, applied_high)
+}
 
-    // ---- flaw size
-    let toughness = match &input.toughness_override {
+/// The toughness used: the one typed, else the material's; `None` when neither is known.
+fn toughness_used(input: &AnalysisInput) -> Option<ConstantUsed> {
+    match &input.toughness_override {
         Some(k) => Some(ConstantUsed::new("K_Ic", k, true)),
-        None => material
+        None => input
+            .material
             .k_ic
             .as_ref()
             .map(|k| ConstantUsed::new("K_Ic", k, false)),
-    };
-    let flaw = match toughness {
-        None => {
+    }
+}
+
+/// The geometry used and how it was chosen: as given, else the default for the origin.
+fn chosen_geometry(geometry: Option<FlawGeometry>, origin: Origin) -> (FlawGeometry, String) {
+    match geometry {
+        Some(g) => (g, "as given".to_string()),
+        None => match origin {
+            Origin::Surface => (
+                FlawGeometry::Semicircular { a_over_t: 0.0 },
+                "default for a surface origin".to_string(),
+            ),
+            Origin::Interior => (
+                FlawGeometry::EmbeddedPenny,
+                "default for an interior origin".to_string(),
+            ),
+        },
+    }
+}
+
+/// Warnings about a geometry that does not suit the origin or its equations.
+fn geometry_warnings(origin: Origin, geometry: FlawGeometry, warnings: &mut Vec<String>) {
+    if origin == Origin::Interior
+        && matches!(
+            geometry,
+            FlawGeometry::Semicircular { .. }
+                | FlawGeometry::SemiElliptical { .. }
+                | FlawGeometry::SemicircularIrwin
+                | FlawGeometry::EdgeCrack
+                | FlawGeometry::CornerCrack { .. }
+        )
+    {
+        warnings.push(
+            "Interior origin with a surface flaw geometry: an embedded penny crack is the usual \
+             choice."
+                .to_string(),
+        );
+    }
+    if let FlawGeometry::SemiElliptical { a_over_c, .. }
+    | FlawGeometry::CornerCrack { a_over_c, .. } = geometry
+    {
+        if a_over_c < 0.2 {
             warnings.push(format!(
-                "{} has no fracture toughness in the library: no flaw size. Give the toughness.",
-                material.name
+                "Flaw aspect ratio a/c = {} is below 0.2, outside the range the Newman–Raju \
+                 equations were fitted over.",
+                fmt_sig(a_over_c, 2)
             ));
-            None
         }
-        Some(k) => {
-            let (geometry, geometry_basis) = match input.flaw {
-                Some(g) => (g, "as given".to_string()),
-                None => match input.origin {
-                    Origin::Surface => (
-                        FlawGeometry::Semicircular { a_over_t: 0.0 },
-                        "default for a surface origin".to_string(),
-                    ),
-                    Origin::Interior => (
-                        FlawGeometry::EmbeddedPenny,
-                        "default for an interior origin".to_string(),
-                    ),
-                },
-            };
-            if input.origin == Origin::Interior
-                && matches!(
-                    geometry,
-                    FlawGeometry::Semicircular { .. }
-                        | FlawGeometry::SemiElliptical { .. }
-                        | FlawGeometry::SemicircularIrwin
-                        | FlawGeometry::EdgeCrack
-                        | FlawGeometry::CornerCrack { .. }
-                )
-            {
-                warnings.push(
-                    "Interior origin with a surface flaw geometry: an embedded penny crack is \
-                     the usual choice."
-                        .to_string(),
-                );
-            }
-            if let FlawGeometry::SemiElliptical { a_over_c, .. }
-            | FlawGeometry::CornerCrack { a_over_c, .. } = geometry
-            {
-                if a_over_c < 0.2 {
-                    warnings.push(format!(
-                        "Flaw aspect ratio a/c = {} is below 0.2, outside the range the \
-                         Newman–Raju equations were fitted over.",
-                        fmt_sig(a_over_c, 2)
-                    ));
-                }
-            }
-            let solved = flaw::solve_flaw(geometry, k.value, net, input.thickness_m);
-            if solved.beyond_range {
+    }
+}
+
+/// Cross-check: the ratio of each closed boundary's radius to the flaw size.
+fn flaw_ratios(
+    input: &AnalysisInput,
+    boundaries: &[BoundaryResult],
+    size: f64,
+    warnings: &mut Vec<String>,
+) -> Vec<FlawRatio> {
+    let mut ratios = Vec::new();
+    for b in boundaries.iter().filter(|b| is_closed(input, b)) {
+        if let Some(expected) = b.boundary.flaw_ratio() {
+            let ratio = b.stats.mean / size;
+            let plausible = ratio >= expected / 2.0 && ratio <= expected * 2.0;
+            if !plausible {
                 warnings.push(format!(
-                    "The flaw comes out deeper than 0.8 of the thickness ({}): beyond the range \
-                     of the Newman–Raju equations.",
-                    um(solved.size)
+                    "The {} radius is {} times the flaw size, far from the usual {} (Mecholsky, \
+                     Rice & Freiman 1974). Check the toughness, the flaw geometry and the \
+                     boundary.",
+                    b.boundary.label(),
+                    fmt_sig(ratio, 3),
+                    expected
                 ));
             }
-            let k_rel = k.relative_spread().unwrap_or(0.0);
-            let rel = 2.0 * (head.rel_u95.powi(2) + (uncertainty::Z95 * k_rel).powi(2)).sqrt();
-            let (lo, hi) = uncertainty::log_interval(solved.size, rel);
-            let mut ratios = Vec::new();
-            for b in boundaries.iter().filter(|b| !not_closed(b)) {
-                if let Some(expected) = b.boundary.flaw_ratio() {
-                    let ratio = b.stats.mean / solved.size;
-                    let plausible = ratio >= expected / 2.0 && ratio <= expected * 2.0;
-                    if !plausible {
-                        warnings.push(format!(
-                            "The {} radius is {} times the flaw size, far from the usual {} \
-                             (Mecholsky, Rice & Freiman 1974). Check the toughness, the flaw \
-                             geometry and the boundary.",
-                            b.boundary.label(),
-                            fmt_sig(ratio, 3),
-                            expected
-                        ));
-                    }
-                    ratios.push(FlawRatio {
-                        boundary: b.boundary,
-                        ratio,
-                        expected,
-                        plausible,
-                    });
-                }
-            }
-            let measured_over_predicted = input.measured_flaw_m.map(|m| m / solved.size);
-            if let (Some(m), Some(q)) = (input.measured_flaw_m, measured_over_predicted) {
-                if !(0.5..=2.0).contains(&q) {
-                    warnings.push(format!(
-                        "The measured flaw ({}) is {} times the predicted size ({}): check the \
-                         flaw geometry, the toughness, or whether this flaw was the origin.",
-                        um(m),
-                        fmt_sig(q, 2),
-                        um(solved.size)
-                    ));
-                }
-            }
-            Some(FlawResult {
-                geometry_label: solved.geometry.label(),
-                geometry: solved.geometry,
-                geometry_basis,
-                factor: solved.factor,
-                toughness: k,
-                size_m: solved.size,
-                size_low_m: lo,
-                size_high_m: hi,
-                ratios,
-                measured_m: input.measured_flaw_m,
-                measured_over_predicted,
-            })
+            ratios.push(FlawRatio {
+                boundary: b.boundary,
+                ratio,
+                expected,
+                plausible,
+            });
         }
-    };
+    }
+    ratios
+}
 
-    // ---- branching distance predicted from the headline stress
-    let branching = if head.boundary == Boundary::Branching {
-        None
-    } else {
-        let c = match input
-            .constant_overrides
-            .iter()
-            .find(|o| o.boundary == Boundary::Branching)
-        {
-            Some(o) => Some(ConstantUsed::new("A_b", &o.constant, true)),
-            None => material
-                .a_b
-                .as_ref()
-                .map(|c| ConstantUsed::new("A_b", c, false)),
-        };
-        c.map(|c| {
-            let d = mirror::radius_from_stress(c.value, net);
-            let rel = 2.0
-                * (head.rel_u95.powi(2)
-                    + (uncertainty::Z95 * c.relative_spread().unwrap_or(0.0)).powi(2))
-                .sqrt();
-            let (lo, hi) = uncertainty::log_interval(d, rel);
-            BranchingPrediction {
-                constant: c,
-                distance_m: d,
-                low_m: lo,
-                high_m: hi,
-                measured_m: branching_result.map(|b| b.stats.mean),
-            }
-        })
-    };
+/// Step 4: the flaw size a = (K_Ic / (Y σ_net))² under `geometry` (the default for the origin
+/// when `None`), its interval and its cross-checks.
+fn flaw_result(
+    input: &AnalysisInput,
+    geometry: Option<FlawGeometry>,
+    toughness: ConstantUsed,
+    boundaries: &[BoundaryResult],
+    head: &BoundaryResult,
+    warnings: &mut Vec<String>,
+) -> FlawResult {
+    let (geometry, geometry_basis) = chosen_geometry(geometry, input.origin);
+    geometry_warnings(input.origin, geometry, warnings);
+    let solved = flaw::solve_flaw(geometry, toughness.value, head.stress_pa, input.thickness_m);
+    if solved.beyond_range {
+        warnings.push(format!(
+            "The flaw comes out deeper than 0.8 of the thickness ({}): beyond the range of the \
+             Newman–Raju equations.",
+            um(solved.size)
+        ));
+    }
+    let k_rel = toughness.relative_spread().unwrap_or(0.0);
+    let rel = 2.0 * (head.rel_u95.powi(2) + (uncertainty::Z95 * k_rel).powi(2)).sqrt();
+    let (lo, hi) = uncertainty::log_interval(solved.size, rel);
+    let ratios = flaw_ratios(input, boundaries, solved.size, warnings);
+    let measured_over_predicted = input.measured_flaw_m.map(|m| m / solved.size);
+    if let (Some(m), Some(q)) = (input.measured_flaw_m, measured_over_predicted) {
+        if !(0.5..=2.0).contains(&q) {
+            warnings.push(format!(
+                "The measured flaw ({}) is {} times the predicted size ({}): check the flaw \
+                 geometry, the toughness, or whether this flaw was the origin.",
+                um(m),
+                fmt_sig(q, 2),
+                um(solved.size)
+            ));
+        }
+    }
+    FlawResult {
+        geometry_label: solved.geometry.label(),
+        geometry: solved.geometry,
+        geometry_basis,
+        factor: solved.factor,
+        toughness,
+        size_m: solved.size,
+        size_low_m: lo,
+        size_high_m: hi,
+        ratios,
+        measured_m: input.measured_flaw_m,
+        measured_over_predicted,
+    }
+}
 
-    Ok(Analysis {
-        material_key: material.key.clone(),
-        material_name: material.name.clone(),
-        headline: head.boundary,
-        stress_pa: net,
-        stress_low_pa: head.stress_low_pa,
-        stress_high_pa: head.stress_high_pa,
-        residual,
-        applied_stress_pa: applied,
-        applied_low_pa: applied_low,
-        applied_high_pa: applied_high,
-        flaw,
-        branching,
-        consistency,
-        warnings,
-        boundaries,
+/// Cross-check: the branching distance predicted from the headline stress, unless the
+/// headline is the branching boundary itself.
+fn branching_prediction(
+    input: &AnalysisInput,
+    boundaries: &[BoundaryResult],
+    head: &BoundaryResult,
+) -> Option<BranchingPrediction> {
+    if head.boundary == Boundary::Branching {
+        return None;
+    }
+    let constant = match input
+        .constant_overrides
+        .iter()
+        .find(|o| o.boundary == Boundary::Branching)
+    {
+        Some(o) => Some(ConstantUsed::new("A_b", &o.constant, true)),
+        None => input
+            .material
+            .a_b
+            .as_ref()
+            .map(|c| ConstantUsed::new("A_b", c, false)),
+    };
+    constant.map(|c| {
+        let d = mirror::radius_from_stress(c.value, head.stress_pa);
+        let rel = 2.0
+            * (head.rel_u95.powi(2)
+                + (uncertainty::Z95 * c.relative_spread().unwrap_or(0.0)).powi(2))
+            .sqrt();
+        let (lo, hi) = uncertainty::log_interval(d, rel);
+        BranchingPrediction {
+            constant: c,
+            distance_m: d,
+            low_m: lo,
+            high_m: hi,
+            measured_m: boundaries
+                .iter()
+                .find(|b| b.boundary == Boundary::Branching)
+                .map(|b| b.stats.mean),
+        }
     })
 }
 
@@ -903,6 +902,54 @@ mod tests {
         });
         let a = analyze(&i).unwrap();
         assert!(!a.warnings.iter().any(|w| w.contains("below 0.2")));
+    }
+
+    #[test]
+    fn every_word_reads_back_from_its_code_key_and_label() {
+        for t in Temper::ALL {
+            for word in [t.code(), t.key(), t.label()] {
+                assert_eq!(word.parse::<Temper>(), Ok(t), "{word}");
+            }
+        }
+        for b in Boundary::ALL {
+            for word in [b.code(), b.key(), b.label()] {
+                assert_eq!(word.parse::<Boundary>(), Ok(b), "{word}");
+            }
+        }
+        for l in OriginLocation::ALL {
+            assert_eq!(l.code().parse::<OriginLocation>(), Ok(l));
+            assert_eq!(l.label().parse::<OriginLocation>(), Ok(l));
+        }
+        for o in [Origin::Surface, Origin::Interior] {
+            assert_eq!(o.code().parse::<Origin>(), Ok(o));
+        }
+        assert!(
+            "edge".parse::<Origin>().is_err(),
+            "an edge is a location, not an origin"
+        );
+        assert_eq!(OriginLocation::Corner.origin(), Origin::Surface);
+        assert_eq!(
+            "Core".parse::<OriginLocation>(),
+            Ok(OriginLocation::Interior)
+        );
+        for k in FlawKind::ALL {
+            assert_eq!(k.code().parse::<FlawKind>(), Ok(k));
+        }
+        assert_eq!(
+            FlawGeometry::CornerCrack {
+                a_over_c: 0.5,
+                a_over_t: 0.0
+            }
+            .kind(),
+            FlawKind::CornerCrack
+        );
+        assert_eq!(
+            " Fully_Tempered ".parse::<Temper>(),
+            Ok(Temper::FullyTempered)
+        );
+        assert_eq!("ro".parse::<Boundary>(), Ok(Boundary::MistHackle));
+        let e = "glazed".parse::<Temper>().unwrap_err();
+        assert_eq!(e.to_string(), "'glazed' is not a temper class");
     }
 
     #[test]

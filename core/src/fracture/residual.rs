@@ -10,6 +10,9 @@
 //! x = 1/√3, so the compressive layer reaches z/t = (1 − 1/√3)/2 ≈ 0.211 from each face.
 
 use serde::{Deserialize, Serialize};
+use std::str::FromStr;
+
+use super::{spelled, UnknownWord};
 
 /// ASTM C1048 classes (plus ion-exchanged glass, which has no C1048 class).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -22,6 +25,36 @@ pub enum Temper {
 }
 
 impl Temper {
+    pub const ALL: [Temper; 4] = [
+        Temper::Annealed,
+        Temper::HeatStrengthened,
+        Temper::FullyTempered,
+        Temper::ChemicallyStrengthened,
+    ];
+
+    /// The stored lookup code: annealed, heat_strengthened, fully_tempered,
+    /// chemically_strengthened.
+    pub fn code(self) -> &'static str {
+        match self {
+            Temper::Annealed => "annealed",
+            Temper::HeatStrengthened => "heat_strengthened",
+            Temper::FullyTempered => "fully_tempered",
+            Temper::ChemicallyStrengthened => "chemically_strengthened",
+        }
+    }
+
+    /// The spelling of the command line, the bench and JSON: annealed, heat-strengthened,
+    /// fully-tempered, chemically-strengthened.
+    pub fn key(self) -> &'static str {
+        match self {
+            Temper::Annealed => "annealed",
+            Temper::HeatStrengthened => "heat-strengthened",
+            Temper::FullyTempered => "fully-tempered",
+            Temper::ChemicallyStrengthened => "chemically-strengthened",
+        }
+    }
+
+    /// "annealed", "heat-strengthened", "fully tempered", "chemically strengthened".
     pub fn label(self) -> &'static str {
         match self {
             Temper::Annealed => "annealed",
@@ -60,6 +93,24 @@ impl Temper {
     }
 }
 
+/// A key or a code in any case ("fully-tempered", "Fully_Tempered"), or a short form: an, hs,
+/// tempered, ft, toughened, chemical, cs, ion-exchanged.
+impl FromStr for Temper {
+    type Err = UnknownWord;
+
+    fn from_str(text: &str) -> Result<Self, Self::Err> {
+        Ok(match spelled(text).as_str() {
+            "annealed" | "an" => Temper::Annealed,
+            "heat-strengthened" | "hs" => Temper::HeatStrengthened,
+            "fully-tempered" | "tempered" | "ft" | "toughened" => Temper::FullyTempered,
+            "chemically-strengthened" | "chemical" | "cs" | "ion-exchanged" => {
+                Temper::ChemicallyStrengthened
+            }
+            _ => return Err(UnknownWord::new("temper class", text)),
+        })
+    }
+}
+
 /// Where the origin sits through the thickness.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case")]
@@ -70,11 +121,90 @@ pub enum Origin {
 }
 
 impl Origin {
+    /// The code of the command line and the bench: surface, interior.
+    pub fn code(self) -> &'static str {
+        self.label()
+    }
+
+    /// "surface", "interior".
     pub fn label(self) -> &'static str {
         match self {
             Origin::Surface => "surface",
             Origin::Interior => "interior",
         }
+    }
+}
+
+/// "surface", or "interior" (also "internal", "core"), in any case.
+impl FromStr for Origin {
+    type Err = UnknownWord;
+
+    fn from_str(text: &str) -> Result<Self, Self::Err> {
+        match OriginLocation::from_str(text) {
+            Ok(OriginLocation::Surface) => Ok(Origin::Surface),
+            Ok(OriginLocation::Interior) => Ok(Origin::Interior),
+            _ => Err(UnknownWord::new("origin location", text)),
+        }
+    }
+}
+
+/// Where on the part an origin was found, as an examination records it. An edge or corner
+/// origin is a surface origin for the residual stress.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum OriginLocation {
+    Surface,
+    Edge,
+    Corner,
+    Interior,
+}
+
+impl OriginLocation {
+    pub const ALL: [OriginLocation; 4] = [
+        OriginLocation::Surface,
+        OriginLocation::Edge,
+        OriginLocation::Corner,
+        OriginLocation::Interior,
+    ];
+
+    /// The stored lookup code: surface, edge, corner, interior.
+    pub fn code(self) -> &'static str {
+        self.label()
+    }
+
+    /// "surface", "edge", "corner", "interior".
+    pub fn label(self) -> &'static str {
+        match self {
+            OriginLocation::Surface => "surface",
+            OriginLocation::Edge => "edge",
+            OriginLocation::Corner => "corner",
+            OriginLocation::Interior => "interior",
+        }
+    }
+
+    /// Where the origin sits through the thickness: only an interior origin is in the core.
+    pub fn origin(self) -> Origin {
+        match self {
+            OriginLocation::Interior => Origin::Interior,
+            OriginLocation::Surface | OriginLocation::Edge | OriginLocation::Corner => {
+                Origin::Surface
+            }
+        }
+    }
+}
+
+/// A code in any case; "internal" and "core" also read as interior.
+impl FromStr for OriginLocation {
+    type Err = UnknownWord;
+
+    fn from_str(text: &str) -> Result<Self, Self::Err> {
+        Ok(match spelled(text).as_str() {
+            "surface" => OriginLocation::Surface,
+            "edge" => OriginLocation::Edge,
+            "corner" => OriginLocation::Corner,
+            "interior" | "internal" | "core" => OriginLocation::Interior,
+            _ => return Err(UnknownWord::new("origin location", text)),
+        })
     }
 }
 

@@ -39,7 +39,7 @@ pub struct CurvePoint {
     /// m
     pub flaw_size: f64,
     /// Pa·√m
-    pub k: f64,
+    pub stress_intensity: f64,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -70,7 +70,7 @@ pub fn curve(stress: f64, toughness: f64, y: f64, span: f64, n: usize) -> Result
             let a = (lo + (hi - lo) * i as f64 / (n - 1) as f64).exp();
             CurvePoint {
                 flaw_size: a,
-                k: stress_intensity(stress, a, y),
+                stress_intensity: stress_intensity(stress, a, y),
             }
         })
         .collect();

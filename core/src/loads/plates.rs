@@ -21,7 +21,7 @@
 //! thickness"). Once it passes about half the thickness, membrane action stiffens a glass pane and this theory over-predicts
 //! the stress (and the deflection): such results are flagged with `large-deflection`.
 
-use super::{positive, within, Elastic, Field, LoadError, Warning};
+use super::{positive, Elastic, Field, LoadError, Warning};
 use std::f64::consts::PI;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -491,9 +491,4 @@ fn navier_centre(a: f64, b: f64, nu: f64, d: f64, load: PlateLoad, t: f64) -> (f
         k * w / (PI.powi(4) * d),
         force,
     )
-}
-
-/// Range-check helper for callers that take an aspect ratio typed by a person.
-pub fn check_aspect(ratio: f64) -> Result<f64, LoadError> {
-    within("aspect", ratio, 1.0, 100.0, "an aspect ratio from 1 to 100")
 }

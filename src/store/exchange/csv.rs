@@ -9,7 +9,6 @@ use serde_json::Value;
 
 use super::super::model::*;
 use super::super::dates::{fmt_date, parse_date};
-use super::super::refdata;
 use super::{decode_utf8, Problem};
 use shardlog_core::units::{self, Dimension};
 

@@ -261,12 +261,12 @@ pub fn draw_chart(buf: &mut ratatui::buffer::Buffer, area: Rect, k: &KChart, th:
         .curve
         .points
         .iter()
-        .map(|p| (lg(p.flaw_size), (p.k / 1e6).min(ymax * 1.5)))
+        .map(|p| (lg(p.flaw_size), (p.stress_intensity / 1e6).min(ymax * 1.5)))
         .collect();
     let meas: Vec<(f64, f64)> = k
         .measured_curve
         .iter()
-        .map(|p| (lg(p.flaw_size), (p.k / 1e6).min(ymax * 1.5)))
+        .map(|p| (lg(p.flaw_size), (p.stress_intensity / 1e6).min(ymax * 1.5)))
         .collect();
     let kic_line = [(x0, kic), (x1, kic)];
     let pred = [(lg(k.predicted_flaw_m), kic)];
