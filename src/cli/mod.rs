@@ -163,6 +163,21 @@ fn data_dir() -> PathBuf {
     }
 }
 
+/// Who is making a change, for the audit log of the interface and the command line alike:
+/// `$SHARDLOG_USER`, else `$USER`, else `$USERNAME`, else "analyst" (the first one set and not
+/// blank, trimmed, with control characters removed).
+pub fn actor() -> String {
+    for var in ["SHARDLOG_USER", "USER", "USERNAME"] {
+        if let Some(v) = std::env::var_os(var) {
+            let s = v.to_string_lossy().trim().to_string();
+            if !s.is_empty() {
+                return sanitize_for_terminal(&s, false);
+            }
+        }
+    }
+    "analyst".to_string()
+}
+
 /// Parse, dispatch, print errors, return the exit code.
 pub fn main_with_args<I, T>(args: I) -> u8
 where

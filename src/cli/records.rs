@@ -4,18 +4,13 @@ use std::path::{Path, PathBuf};
 
 use chrono::{NaiveDate, Utc};
 
-use super::{sanitize_for_terminal, CliError, Context};
+use super::{actor, sanitize_for_terminal, CliError, Context};
 use crate::store::exchange::ImportOptions;
 use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
 
-/// The actor and time of a change, taken here at the edge: `$SHARDLOG_ACTOR`, else
-/// `$USER`/`$USERNAME`, else "unknown"; the system clock.
+/// The actor and time of a change, taken here at the edge: [`actor`] and the system clock.
 pub fn edge_stamp() -> Stamp {
-    let actor = ["SHARDLOG_ACTOR", "USER", "USERNAME"]
-        .iter()
-        .find_map(|k| std::env::var(k).ok().filter(|v| !v.trim().is_empty()))
-        .unwrap_or_else(|| "unknown".into());
-    Stamp::new(actor, Utc::now())
+    Stamp::new(actor(), Utc::now())
 }
 
 fn work(e: StoreError) -> CliError {
