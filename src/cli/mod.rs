@@ -124,6 +124,17 @@ impl From<std::io::Error> for CliError {
     }
 }
 
+/// A dispute bundle's error: a usage error stays one (exit 2), anything else is a failure of
+/// the work (exit 1).
+impl From<crate::report::bundle::BundleError> for CliError {
+    fn from(e: crate::report::bundle::BundleError) -> Self {
+        match e {
+            crate::report::bundle::BundleError::Usage(m) => CliError::usage(m),
+            other => CliError::work(other.to_string()),
+        }
+    }
+}
+
 /// What every subcommand gets: where the database is and where to print.
 pub struct Context<'a> {
     pub db: PathBuf,
@@ -176,6 +187,17 @@ pub fn actor() -> String {
         }
     }
     "analyst".to_string()
+}
+
+/// `text` padded with spaces to `chars` characters; a text that long or longer gets one space
+/// after it, so that the next column never touches it (the tables of `mirror` and `materials`).
+pub(crate) fn pad_right_with_gap(text: &str, chars: usize) -> String {
+    let n = text.chars().count();
+    if n >= chars {
+        format!("{text} ")
+    } else {
+        format!("{text}{}", " ".repeat(chars - n))
+    }
 }
 
 /// Parse, dispatch, print errors, return the exit code.
