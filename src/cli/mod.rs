@@ -189,6 +189,12 @@ pub fn actor() -> String {
     "analyst".to_string()
 }
 
+/// A calendar day as `--since` and `--until` take it: `YYYY-MM-DD`, spaces around it ignored.
+/// `None` when the text is not one (each command words its own message).
+pub(crate) fn parse_day(text: &str) -> Option<chrono::NaiveDate> {
+    chrono::NaiveDate::parse_from_str(text.trim(), "%Y-%m-%d").ok()
+}
+
 /// `text` padded with spaces to `chars` characters; a text that long or longer gets one space
 /// after it, so that the next column never touches it (the tables of `mirror` and `materials`).
 pub(crate) fn pad_right_with_gap(text: &str, chars: usize) -> String {

@@ -4,7 +4,7 @@ use std::path::{Path, PathBuf};
 
 use chrono::{NaiveDate, Utc};
 
-use super::{actor, sanitize_for_terminal, CliError, Context};
+use super::{actor, parse_day, sanitize_for_terminal, CliError, Context};
 use crate::store::exchange::ImportOptions;
 use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
 use shardlog_core::text::{clean, stress_or_dash};
@@ -49,7 +49,7 @@ pub struct FilterArgs {
 }
 
 fn parse_date(flag: &str, v: &str) -> Result<NaiveDate, CliError> {
-    NaiveDate::parse_from_str(v.trim(), "%Y-%m-%d").map_err(|_| {
+    parse_day(v).ok_or_else(|| {
         CliError::usage(format!(
             "--{flag}: \"{v}\" is not a date; expected YYYY-MM-DD such as 2026-03-14"
         ))

@@ -3,7 +3,7 @@
 use std::path::{Path, PathBuf};
 
 use super::records::{open, write_whole};
-use super::{CliError, Context};
+use super::{parse_day, CliError, Context};
 use crate::report::{self, source, summary, Format, Paper};
 
 #[derive(Debug, clap::Args)]
@@ -101,13 +101,11 @@ pub struct DisputeArgs {
 fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>, CliError> {
     match v {
         None => Ok(None),
-        Some(t) => chrono::NaiveDate::parse_from_str(t.trim(), "%Y-%m-%d")
-            .map(Some)
-            .map_err(|_| {
-                CliError::usage(format!(
-                    "--{flag} {t}: expected a date as YYYY-MM-DD, e.g. 2027-03-14"
-                ))
-            }),
+        Some(t) => parse_day(t).map(Some).ok_or_else(|| {
+            CliError::usage(format!(
+                "--{flag} {t}: expected a date as YYYY-MM-DD, e.g. 2027-03-14"
+            ))
+        }),
     }
 }
 

@@ -12,7 +12,7 @@ use chrono::NaiveDate;
 use serde_json::{json, Value};
 
 use super::weibull::fit_json;
-use super::{CliError, Context};
+use super::{parse_day, CliError, Context};
 use shardlog_core::fleet::query::{apply_only, compute, StatsQuery, StatsResult, StressKind};
 use shardlog_core::fleet::query::{
     METHOD_FLAG, METHOD_GROUP_TREND, METHOD_RATE, METHOD_RATIO, METHOD_SEASON, METHOD_TREND,
@@ -58,7 +58,7 @@ pub struct StatsArgs {
 }
 
 fn parse_date(flag: &str, text: &str) -> Result<NaiveDate, CliError> {
-    NaiveDate::parse_from_str(text.trim(), "%Y-%m-%d").map_err(|_| {
+    parse_day(text).ok_or_else(|| {
         CliError::usage(format!(
             "{flag}: '{}' is not a date; expected YYYY-MM-DD such as 2026-03-14",
             text.trim()
