@@ -2,8 +2,9 @@
 
 use serde_json::json;
 
-use super::{CliError, Context};
+use super::{pad_right_with_gap, CliError, Context};
 use shardlog_core::fracture::materials::{self, Constant, Material};
+use shardlog_core::text::clean;
 use shardlog_core::units::{fmt_sig, Unit};
 
 #[derive(Debug, Clone, Default, clap::Args)]
@@ -46,47 +47,33 @@ fn cell(c: &Option<Constant>, unit_factor: f64, sig: usize) -> String {
     }
 }
 
-/// Text that may come from a user-defined material: no terminal control sequences.
-fn clean(s: &str) -> String {
-    super::sanitize_for_terminal(s, false)
-}
-
-fn pad(s: &str, w: usize) -> String {
-    let n = s.chars().count();
-    if n >= w {
-        format!("{s} ")
-    } else {
-        format!("{s}{}", " ".repeat(w - n))
-    }
-}
-
 /// The plain listing: one table of values, then each material's sources.
 pub fn render_plain(lib: &[Material]) -> String {
     let t = Unit::MegapascalRootMetre.symbol();
     let mut o = String::new();
     o.push_str(&format!(
         "{}{}{}{}{}{}{}{}{}\n",
-        pad("key", 22),
-        pad(&format!("A_i {t}"), 14),
-        pad(&format!("A_o {t}"), 14),
-        pad(&format!("A_b {t}"), 14),
-        pad(&format!("K_Ic {t}"), 15),
-        pad("E GPa", 7),
-        pad("ν", 6),
-        pad("α 1e-6/K", 10),
+        pad_right_with_gap("key", 22),
+        pad_right_with_gap(&format!("A_i {t}"), 14),
+        pad_right_with_gap(&format!("A_o {t}"), 14),
+        pad_right_with_gap(&format!("A_b {t}"), 14),
+        pad_right_with_gap(&format!("K_Ic {t}"), 15),
+        pad_right_with_gap("E GPa", 7),
+        pad_right_with_gap("ν", 6),
+        pad_right_with_gap("α 1e-6/K", 10),
         "ρ kg/m³"
     ));
     for m in lib {
         o.push_str(&format!(
             "{}{}{}{}{}{}{}{}{}\n",
-            pad(&clean(&m.key), 22),
-            pad(&cell(&m.a_i, 1e6, 3), 14),
-            pad(&cell(&m.a_o, 1e6, 3), 14),
-            pad(&cell(&m.a_b, 1e6, 3), 14),
-            pad(&cell(&m.k_ic, 1e6, 3), 15),
-            pad(&cell(&m.youngs_modulus, 1e9, 3), 7),
-            pad(&cell(&m.poisson, 1.0, 2), 6),
-            pad(&cell(&m.expansion, 1e-6, 2), 10),
+            pad_right_with_gap(&clean(&m.key), 22),
+            pad_right_with_gap(&cell(&m.a_i, 1e6, 3), 14),
+            pad_right_with_gap(&cell(&m.a_o, 1e6, 3), 14),
+            pad_right_with_gap(&cell(&m.a_b, 1e6, 3), 14),
+            pad_right_with_gap(&cell(&m.k_ic, 1e6, 3), 15),
+            pad_right_with_gap(&cell(&m.youngs_modulus, 1e9, 3), 7),
+            pad_right_with_gap(&cell(&m.poisson, 1.0, 2), 6),
+            pad_right_with_gap(&cell(&m.expansion, 1e-6, 2), 10),
             cell(&m.density, 1.0, 4),
         ));
     }
@@ -107,7 +94,7 @@ pub fn render_plain(lib: &[Material]) -> String {
             if let Some(c) = c {
                 o.push_str(&format!(
                     "  {}{}\n",
-                    pad(sym, 6),
+                    pad_right_with_gap(sym, 6),
                     clean(&c.provenance.to_string())
                 ));
             }

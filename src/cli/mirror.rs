@@ -9,11 +9,12 @@
 use clap::{ArgMatches, FromArgMatches};
 use serde_json::json;
 
-use super::{CliError, Context};
+use super::{pad_right_with_gap, CliError, Context};
 use shardlog_core::fracture::{
     self, analyze, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
     ConstantOverride, FlawGeometry, FlawKind, FractureError, Origin, Temper,
 };
+use shardlog_core::text::clean;
 use shardlog_core::units::{self, fmt_sig, format, Dimension, Unit, UnitError};
 
 /// The flags as clap reads them (strings; checked in [`build_input`]).
@@ -187,109 +188,16 @@ pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
     let material = materials::find(key).ok_or_else(|| {
         CliError::usage(format!(
             "--material: '{}' is not in the library; expected one of {} (see `shardlog materials`)",
-            super::sanitize_for_terminal(key.trim(), false),
+            clean(key.trim()),
             materials::keys().join(", ")
         ))
     })?;
     let mut input = AnalysisInput::new(material);
 
-    // ---- group radii and constants under the boundary before them
-    #[derive(Clone, Copy)]
-    enum Ev {
-        Boundary(usize),
-        Radius(usize),
-        Constant(usize),
-    }
-    let mut events: Vec<(usize, Ev)> = Vec::new();
-    // a flag whose position clap did not give goes last; the sort is stable, so such flags
-    // keep their order (the fallback once was `usize::MAX - 1000 + i`, computed eagerly: it
-    // overflowed with more than 1000 readings)
-    let at = |v: &Vec<usize>, i: usize| v.get(i).copied().unwrap_or(usize::MAX);
-    events.extend((0..raw.boundary.len()).map(|i| (at(&args.boundary_at, i), Ev::Boundary(i))));
-    events.extend((0..raw.radius.len()).map(|i| (at(&args.radius_at, i), Ev::Radius(i))));
-    events.extend((0..raw.constant.len()).map(|i| (at(&args.constant_at, i), Ev::Constant(i))));
-    events.sort_by_key(|(i, _)| *i);
-
-    let implicit = raw.boundary.is_empty();
-    let mut groups: Vec<BoundaryReadings> = Vec::new();
-    if implicit {
-        groups.push(BoundaryReadings {
-            boundary: Boundary::MirrorMist,
-            radii_m: Vec::new(),
-        });
-    }
-    let mut constants: Vec<ConstantOverride> = Vec::new();
-    for (_, ev) in events {
-        match ev {
-            Ev::Boundary(i) => {
-                let b = parse_boundary(&raw.boundary[i])?;
-                if groups.iter().any(|g| g.boundary == b) {
-                    return Err(CliError::usage(format!(
-                        "--boundary: {} is given twice; expected each boundary once, with all \
-                         its --radius flags after it",
-                        b.key()
-                    )));
-                }
-                groups.push(BoundaryReadings {
-                    boundary: b,
-                    radii_m: Vec::new(),
-                });
-            }
-            Ev::Radius(i) => {
-                let r = length("radius", &raw.radius[i])?;
-                match groups.last_mut() {
-                    Some(g) => g.radii_m.push(r),
-                    None => {
-                        return Err(CliError::usage(format!(
-                            "--radius: '{}' comes before any --boundary; expected \
-                             --boundary mirror-mist (or mist-hackle, branching) first",
-                            raw.radius[i].trim()
-                        )))
-                    }
-                }
-            }
-            Ev::Constant(i) => {
-                let a = toughness("constant", &raw.constant[i])?;
-                let boundary = match groups.last() {
-                    Some(g) => g.boundary,
-                    None if raw.boundary.len() == 1 => parse_boundary(&raw.boundary[0])?,
-                    None => {
-                        return Err(CliError::usage(
-                            "--constant: comes before any --boundary while several are given; \
-                             expected it after the --boundary it belongs to",
-                        ))
-                    }
-                };
-                if constants.iter().any(|c| c.boundary == boundary) {
-                    return Err(CliError::usage(format!(
-                        "--constant: given twice for {}; expected one constant per boundary",
-                        boundary.key()
-                    )));
-                }
-                constants.push(ConstantOverride {
-                    boundary,
-                    constant: Constant::user(a, "given on the command line"),
-                });
-            }
-        }
-    }
-    if implicit && groups.iter().all(|g| g.radii_m.is_empty()) {
-        return Err(CliError::usage(
-            "--radius: missing; expected at least one radius with its unit, such as \
-             --radius 1.0mm",
-        ));
-    }
-    if let Some(g) = groups.iter().find(|g| g.radii_m.is_empty()) {
-        return Err(CliError::usage(format!(
-            "--radius: --boundary {} has no radius; expected at least one --radius (e.g. 1.0mm) \
-             after it",
-            g.boundary.key()
-        )));
-    }
-    input.readings = groups;
+    let (readings, constants) = grouped_readings(args)?;
+    input.readings = readings;
     input.constant_overrides = constants;
 
-    // ---- the rest
     if let Some(t) = &raw.toughness {
         input.toughness_override = Some(Constant::user(
             toughness("toughness", t)?,
@@ -328,7 +236,117 @@ pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
         input.measured_flaw_m = Some(length("measured-flaw", a)?);
     }
 
-    // ---- flaw geometry
+    input.flaw = flaw_geometry(raw, input.thickness_m.is_some())?;
+    Ok(input)
+}
+
+/// The `--radius` and `--constant` flags grouped under the `--boundary` before them (all
+/// radii under mirror–mist when no boundary is named), each group checked.
+fn grouped_readings(
+    args: &MirrorArgs,
+) -> Result<(Vec<BoundaryReadings>, Vec<ConstantOverride>), CliError> {
+    let raw = &args.raw;
+    #[derive(Clone, Copy)]
+    enum Flag {
+        Boundary(usize),
+        Radius(usize),
+        Constant(usize),
+    }
+    let mut events: Vec<(usize, Flag)> = Vec::new();
+    // a flag whose position clap did not give goes last; the sort is stable, so such flags
+    // keep their order (the fallback once was `usize::MAX - 1000 + i`, computed eagerly: it
+    // overflowed with more than 1000 readings)
+    let at = |v: &Vec<usize>, i: usize| v.get(i).copied().unwrap_or(usize::MAX);
+    events.extend((0..raw.boundary.len()).map(|i| (at(&args.boundary_at, i), Flag::Boundary(i))));
+    events.extend((0..raw.radius.len()).map(|i| (at(&args.radius_at, i), Flag::Radius(i))));
+    events.extend((0..raw.constant.len()).map(|i| (at(&args.constant_at, i), Flag::Constant(i))));
+    events.sort_by_key(|(i, _)| *i);
+
+    let implicit = raw.boundary.is_empty();
+    let mut groups: Vec<BoundaryReadings> = Vec::new();
+    if implicit {
+        groups.push(BoundaryReadings {
+            boundary: Boundary::MirrorMist,
+            radii_m: Vec::new(),
+        });
+    }
+    let mut constants: Vec<ConstantOverride> = Vec::new();
+    for (_, ev) in events {
+        match ev {
+            Flag::Boundary(i) => {
+                let b = parse_boundary(&raw.boundary[i])?;
+                if groups.iter().any(|g| g.boundary == b) {
+                    return Err(CliError::usage(format!(
+                        "--boundary: {} is given twice; expected each boundary once, with all \
+                         its --radius flags after it",
+                        b.key()
+                    )));
+                }
+                groups.push(BoundaryReadings {
+                    boundary: b,
+                    radii_m: Vec::new(),
+                });
+            }
+            Flag::Radius(i) => {
+                let r = length("radius", &raw.radius[i])?;
+                match groups.last_mut() {
+                    Some(g) => g.radii_m.push(r),
+                    None => {
+                        return Err(CliError::usage(format!(
+                            "--radius: '{}' comes before any --boundary; expected \
+                             --boundary mirror-mist (or mist-hackle, branching) first",
+                            raw.radius[i].trim()
+                        )))
+                    }
+                }
+            }
+            Flag::Constant(i) => {
+                let a = toughness("constant", &raw.constant[i])?;
+                let boundary = match groups.last() {
+                    Some(g) => g.boundary,
+                    None if raw.boundary.len() == 1 => parse_boundary(&raw.boundary[0])?,
+                    None => {
+                        return Err(CliError::usage(
+                            "--constant: comes before any --boundary while several are given; \
+                             expected it after the --boundary it belongs to",
+                        ))
+                    }
+                };
+                if constants.iter().any(|c| c.boundary == boundary) {
+                    return Err(CliError::usage(format!(
+                        "--constant: given twice for {}; expected one constant per boundary",
+                        boundary.key()
+                    )));
+                }
+                constants.push(ConstantOverride {
+                    boundary,
+                    constant: Constant::user(a, "given on the command line"),
+                });
+            }
+        }
+    }
+    if implicit && groups.iter().all(|g| g.radii_m.is_empty()) {
+        return Err(CliError::usage(
+            "--radius: missing; expected at least one radius with its unit, such as \
+             --radius 1.0mm",
+        ));
+    }
+    if let Some(g) = groups.iter().find(|g| g.radii_m.is_empty()) {
+        return Err(CliError::usage(format!(
+            "--radius: --boundary {} has no radius; expected at least one --radius (e.g. 1.0mm) \
+             after it",
+            g.boundary.key()
+        )));
+    }
+    Ok((groups, constants))
+}
+
+/// The flaw geometry `--flaw`, `--aspect` and `--depth-ratio` describe (none when no flag
+/// names one), checked against each other and against `--thickness`.
+fn flaw_geometry(
+    raw: &RawMirrorArgs,
+    thickness_given: bool,
+) -> Result<Option<FlawGeometry>, CliError> {
     let aspect = raw
         .aspect
         .as_deref()
@@ -339,7 +357,7 @@ pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
         .as_deref()
         .map(|a| ratio("depth-ratio", a, "a/t from 0 up to 1, such as 0.1"))
         .transpose()?;
-    if depth_ratio.is_some() && input.thickness_m.is_some() {
+    if depth_ratio.is_some() && thickness_given {
         return Err(CliError::usage(
             "--depth-ratio: given with --thickness; expected one of them (with a thickness the \
              depth ratio is solved with the flaw size)",
@@ -380,8 +398,7 @@ pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
     if let Some(g) = &geometry {
         g.validate().map_err(core_error)?;
     }
-    input.flaw = geometry;
-    Ok(input)
+    Ok(geometry)
 }
 
 /// A `--flaw` value as the names below spell it ("Semi_Elliptical" → "semi-elliptical").
@@ -438,7 +455,8 @@ pub fn run(args: MirrorArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     Ok(())
 }
 
-fn mpa(pa: f64) -> Option<f64> {
+/// A stress in MPa for the JSON output; `None` (null) when it is not a finite number.
+fn finite_megapascals(pa: f64) -> Option<f64> {
     pa.is_finite().then_some(pa / 1e6)
 }
 
@@ -473,9 +491,9 @@ pub fn to_json(a: &Analysis) -> serde_json::Value {
                 "constant_mpa_sqrt_m": b.constant.value / 1e6,
                 "constant_spread_mpa_sqrt_m": b.constant.spread.map(|s| s / 1e6),
                 "constant_provenance": b.constant.provenance.to_string(),
-                "stress_mpa": mpa(b.stress_pa),
-                "stress_low_mpa": mpa(b.stress_low_pa),
-                "stress_high_mpa": mpa(b.stress_high_pa),
+                "stress_mpa": finite_megapascals(b.stress_pa),
+                "stress_low_mpa": finite_megapascals(b.stress_low_pa),
+                "stress_high_mpa": finite_megapascals(b.stress_high_pa),
                 "interval_method": b.stats.method,
             })
         })
@@ -485,14 +503,14 @@ pub fn to_json(a: &Analysis) -> serde_json::Value {
         "material": a.material_key,
         "material_name": a.material_name,
         "stress_from": a.headline.key(),
-        "stress_mpa": mpa(a.stress_pa),
-        "stress_low_mpa": mpa(a.stress_low_pa),
-        "stress_high_mpa": mpa(a.stress_high_pa),
-        "residual_stress_mpa": mpa(a.residual.at_origin_pa),
+        "stress_mpa": finite_megapascals(a.stress_pa),
+        "stress_low_mpa": finite_megapascals(a.stress_low_pa),
+        "stress_high_mpa": finite_megapascals(a.stress_high_pa),
+        "residual_stress_mpa": finite_megapascals(a.residual.at_origin_pa),
         "residual_basis": a.residual.basis,
-        "applied_stress_mpa": mpa(a.applied_stress_pa),
-        "applied_stress_low_mpa": mpa(a.applied_low_pa),
-        "applied_stress_high_mpa": mpa(a.applied_high_pa),
+        "applied_stress_mpa": finite_megapascals(a.applied_stress_pa),
+        "applied_stress_low_mpa": finite_megapascals(a.applied_low_pa),
+        "applied_stress_high_mpa": finite_megapascals(a.applied_high_pa),
         "flaw_size_um": flaw.map(|f| f.size_m * 1e6),
         "flaw_size_low_um": flaw.map(|f| f.size_low_m * 1e6),
         "flaw_size_high_um": flaw.map(|f| f.size_high_m * 1e6),
@@ -517,20 +535,6 @@ pub fn to_json(a: &Analysis) -> serde_json::Value {
         "caution": fracture::CAUTION,
         "analysis": a,
     })
-}
-
-/// Text that may come from a user-defined material: no terminal control sequences.
-fn clean(s: &str) -> String {
-    super::sanitize_for_terminal(s, false)
-}
-
-fn pad(s: &str, w: usize) -> String {
-    let n = s.chars().count();
-    if n >= w {
-        format!("{s} ")
-    } else {
-        format!("{s}{}", " ".repeat(w - n))
-    }
 }
 
 fn readings_text(b: &fracture::BoundaryResult) -> String {
@@ -559,6 +563,41 @@ fn spread_text(c: &fracture::ConstantUsed, unit: Unit) -> String {
 /// The plain table of `mirror`.
 pub fn render_plain(a: &Analysis) -> String {
     let mut o = String::new();
+    boundary_table(&mut o, a);
+    o.push('\n');
+    stress_rows(&mut o, a);
+    match &a.flaw {
+        Some(f) => flaw_rows(&mut o, f),
+        None => row(&mut o, "flaw size", "not computed (no toughness)".into()),
+    }
+    check_rows(&mut o, a);
+    constants_used(&mut o, a);
+    o.push_str(&format!(
+        "\n95 % interval: {}; the constant's spread at 1.96 s.d.; the two combined in quadrature \
+         on relative terms, (Δσ/σ)² = (ΔA/A)² + (ΔR/2R)².\n",
+        a.boundaries
+            .iter()
+            .find(|b| b.boundary == a.headline)
+            .map(|b| b.stats.method.as_str())
+            .unwrap_or("")
+    ));
+    if !a.warnings.is_empty() {
+        o.push_str("\nwarnings\n");
+        for w in &a.warnings {
+            o.push_str(&format!("  - {}\n", clean(w)));
+        }
+    }
+    o.push_str(&format!("\n{}\n", fracture::CAUTION));
+    o
+}
+
+/// One labelled line of the figures below the table.
+fn row(o: &mut String, label: &str, value: String) {
+    o.push_str(&format!("{}{value}\n", pad_right_with_gap(label, 24)));
+}
+
+/// The title and one line per boundary: readings, mean radius, constant, stress.
+fn boundary_table(o: &mut String, a: &Analysis) {
     let t = Unit::MegapascalRootMetre;
     let s = Unit::Megapascal;
     o.push_str(&format!(
@@ -568,34 +607,37 @@ pub fn render_plain(a: &Analysis) -> String {
     ));
     o.push_str(&format!(
         "{}{}{}{}{}{}{}\n",
-        pad("boundary", 13),
-        pad("n", 4),
-        pad("readings", 24),
-        pad("mean R", 10),
-        pad("constant", 17),
-        pad("stress", 11),
+        pad_right_with_gap("boundary", 13),
+        pad_right_with_gap("n", 4),
+        pad_right_with_gap("readings", 24),
+        pad_right_with_gap("mean R", 10),
+        pad_right_with_gap("constant", 17),
+        pad_right_with_gap("stress", 11),
         "95 % interval"
     ));
     for b in &a.boundaries {
         o.push_str(&format!(
             "{}{}{}{}{}{}{} – {}\n",
-            pad(b.boundary.label(), 13),
-            pad(&b.stats.n.to_string(), 4),
-            pad(&readings_text(b), 24),
-            pad(&format(b.stats.mean, Unit::Millimetre), 10),
-            pad(
+            pad_right_with_gap(b.boundary.label(), 13),
+            pad_right_with_gap(&b.stats.n.to_string(), 4),
+            pad_right_with_gap(&readings_text(b), 24),
+            pad_right_with_gap(&format(b.stats.mean, Unit::Millimetre), 10),
+            pad_right_with_gap(
                 &format!("{} {}", b.constant.symbol, format(b.constant.value, t)),
                 17
             ),
-            pad(&format(b.stress_pa, s), 11),
+            pad_right_with_gap(&format(b.stress_pa, s), 11),
             fmt_sig(b.stress_low_pa / 1e6, 3),
             format(b.stress_high_pa, s),
         ));
     }
-    o.push('\n');
-    let row = |o: &mut String, k: &str, v: String| o.push_str(&format!("{}{v}\n", pad(k, 24)));
+}
+
+/// Net, residual and applied stress at the origin.
+fn stress_rows(o: &mut String, a: &Analysis) {
+    let s = Unit::Megapascal;
     row(
-        &mut o,
+        o,
         "net stress at origin",
         format!(
             "{}  (95 %: {} – {}; from the {} boundary)",
@@ -606,7 +648,7 @@ pub fn render_plain(a: &Analysis) -> String {
         ),
     );
     row(
-        &mut o,
+        o,
         "residual at origin",
         format!(
             "{}  ({})",
@@ -615,7 +657,7 @@ pub fn render_plain(a: &Analysis) -> String {
         ),
     );
     row(
-        &mut o,
+        o,
         "applied stress",
         format!(
             "{}  (95 %: {} – {}; net − residual)",
@@ -624,72 +666,76 @@ pub fn render_plain(a: &Analysis) -> String {
             format(a.applied_high_pa, s)
         ),
     );
-    match &a.flaw {
-        Some(f) => {
-            row(
-                &mut o,
-                "toughness",
-                format!("K_Ic {}", format(f.toughness.value, t)),
-            );
-            let point = if f.factor.governing_point.is_empty() {
-                String::new()
-            } else {
-                format!(", {}", f.factor.governing_point)
-            };
-            row(
-                &mut o,
-                "geometry factor",
-                format!(
-                    "Y {} ({}{point}, {}; {})",
-                    fmt_sig(f.factor.y, 4),
-                    f.geometry_label,
-                    f.geometry_basis,
-                    f.factor.source
-                ),
-            );
-            row(
-                &mut o,
-                "flaw size",
-                format!(
-                    "{}  (95 %: {} – {}; a = (K_Ic / (Y σ))²)",
-                    format(f.size_m, Unit::Micrometre),
-                    fmt_sig(f.size_low_m * 1e6, 3),
-                    format(f.size_high_m, Unit::Micrometre)
-                ),
-            );
-            for r in &f.ratios {
-                row(
-                    &mut o,
-                    "mirror / flaw",
-                    format!(
-                        "{} radius / flaw size = {} (usual about {})",
-                        r.boundary.label(),
-                        fmt_sig(r.ratio, 3),
-                        r.expected
-                    ),
-                );
-            }
-            if let (Some(m), Some(q)) = (f.measured_m, f.measured_over_predicted) {
-                row(
-                    &mut o,
-                    "measured flaw",
-                    format!(
-                        "{} = {} × predicted",
-                        format(m, Unit::Micrometre),
-                        fmt_sig(q, 3)
-                    ),
-                );
-            }
-        }
-        None => row(&mut o, "flaw size", "not computed (no toughness)".into()),
+}
+
+/// Toughness, geometry factor, flaw size, mirror-to-flaw ratios, a measured flaw.
+fn flaw_rows(o: &mut String, f: &fracture::FlawResult) {
+    let t = Unit::MegapascalRootMetre;
+    row(
+        o,
+        "toughness",
+        format!("K_Ic {}", format(f.toughness.value, t)),
+    );
+    let point = if f.factor.governing_point.is_empty() {
+        String::new()
+    } else {
+        format!(", {}", f.factor.governing_point)
+    };
+    row(
+        o,
+        "geometry factor",
+        format!(
+            "Y {} ({}{point}, {}; {})",
+            fmt_sig(f.factor.y, 4),
+            f.geometry_label,
+            f.geometry_basis,
+            f.factor.source
+        ),
+    );
+    row(
+        o,
+        "flaw size",
+        format!(
+            "{}  (95 %: {} – {}; a = (K_Ic / (Y σ))²)",
+            format(f.size_m, Unit::Micrometre),
+            fmt_sig(f.size_low_m * 1e6, 3),
+            format(f.size_high_m, Unit::Micrometre)
+        ),
+    );
+    for r in &f.ratios {
+        row(
+            o,
+            "mirror / flaw",
+            format!(
+                "{} radius / flaw size = {} (usual about {})",
+                r.boundary.label(),
+                fmt_sig(r.ratio, 3),
+                r.expected
+            ),
+        );
     }
+    if let (Some(m), Some(q)) = (f.measured_m, f.measured_over_predicted) {
+        row(
+            o,
+            "measured flaw",
+            format!(
+                "{} = {} × predicted",
+                format(m, Unit::Micrometre),
+                fmt_sig(q, 3)
+            ),
+        );
+    }
+}
+
+/// The predicted branching distance and the consistency of the boundaries with each other.
+fn check_rows(o: &mut String, a: &Analysis) {
     if let Some(b) = &a.branching {
         let measured = b
             .measured_m
             .map(|m| format!("; measured {}", format(m, Unit::Millimetre)))
             .unwrap_or_default();
         row(
-            &mut o,
+            o,
             "branching predicted",
             format!(
                 "{}  (95 %: {} – {}; R_b = (A_b / σ)²{measured})",
@@ -701,7 +747,7 @@ pub fn render_plain(a: &Analysis) -> String {
     }
     for c in &a.consistency {
         row(
-            &mut o,
+            o,
             "consistency",
             format!(
                 "R({}) / R({}) = {}, expected ({}/{})² = {}: {}",
@@ -727,7 +773,11 @@ pub fn render_plain(a: &Analysis) -> String {
             ),
         );
     }
+}
 
+/// Each constant used once: its value with its spread, and where it comes from.
+fn constants_used(o: &mut String, a: &Analysis) {
+    let t = Unit::MegapascalRootMetre;
     o.push_str("\nconstants used\n");
     let mut seen: Vec<String> = Vec::new();
     let mut constant_line = |o: &mut String, c: &fracture::ConstantUsed| {
@@ -737,37 +787,20 @@ pub fn render_plain(a: &Analysis) -> String {
         seen.push(c.symbol.clone());
         o.push_str(&format!(
             "  {}{}\n      {}\n",
-            pad(&c.symbol, 6),
+            pad_right_with_gap(&c.symbol, 6),
             spread_text(c, t),
             clean(&c.provenance.to_string())
         ));
     };
     for b in &a.boundaries {
-        constant_line(&mut o, &b.constant);
+        constant_line(o, &b.constant);
     }
     if let Some(f) = &a.flaw {
-        constant_line(&mut o, &f.toughness);
+        constant_line(o, &f.toughness);
     }
     if let Some(b) = &a.branching {
-        constant_line(&mut o, &b.constant);
+        constant_line(o, &b.constant);
     }
-    o.push_str(&format!(
-        "\n95 % interval: {}; the constant's spread at 1.96 s.d.; the two combined in quadrature \
-         on relative terms, (Δσ/σ)² = (ΔA/A)² + (ΔR/2R)².\n",
-        a.boundaries
-            .iter()
-            .find(|b| b.boundary == a.headline)
-            .map(|b| b.stats.method.as_str())
-            .unwrap_or("")
-    ));
-    if !a.warnings.is_empty() {
-        o.push_str("\nwarnings\n");
-        for w in &a.warnings {
-            o.push_str(&format!("  - {}\n", clean(w)));
-        }
-    }
-    o.push_str(&format!("\n{}\n", fracture::CAUTION));
-    o
 }
 
 #[cfg(test)]

@@ -124,6 +124,17 @@ impl From<std::io::Error> for CliError {
     }
 }
 
+/// A dispute bundle's error: a usage error stays one (exit 2), anything else is a failure of
+/// the work (exit 1).
+impl From<crate::report::bundle::BundleError> for CliError {
+    fn from(e: crate::report::bundle::BundleError) -> Self {
+        match e {
+            crate::report::bundle::BundleError::Usage(m) => CliError::usage(m),
+            other => CliError::work(other.to_string()),
+        }
+    }
+}
+
 /// What every subcommand gets: where the database is and where to print.
 pub struct Context<'a> {
     pub db: PathBuf,
@@ -160,6 +171,38 @@ fn data_dir() -> PathBuf {
         home.join("Library").join("Application Support")
     } else {
         home.join(".local").join("share")
+    }
+}
+
+/// Who is making a change, for the audit log of the interface and the command line alike:
+/// `$SHARDLOG_USER`, else `$USER`, else `$USERNAME`, else "analyst" (the first one set and not
+/// blank, trimmed, with control characters removed).
+pub fn actor() -> String {
+    for var in ["SHARDLOG_USER", "USER", "USERNAME"] {
+        if let Some(v) = std::env::var_os(var) {
+            let s = v.to_string_lossy().trim().to_string();
+            if !s.is_empty() {
+                return sanitize_for_terminal(&s, false);
+            }
+        }
+    }
+    "analyst".to_string()
+}
+
+/// A calendar day as `--since` and `--until` take it: `YYYY-MM-DD`, spaces around it ignored.
+/// `None` when the text is not one (each command words its own message).
+pub(crate) fn parse_day(text: &str) -> Option<chrono::NaiveDate> {
+    chrono::NaiveDate::parse_from_str(text.trim(), "%Y-%m-%d").ok()
+}
+
+/// `text` padded with spaces to `chars` characters; a text that long or longer gets one space
+/// after it, so that the next column never touches it (the tables of `mirror` and `materials`).
+pub(crate) fn pad_right_with_gap(text: &str, chars: usize) -> String {
+    let n = text.chars().count();
+    if n >= chars {
+        format!("{text} ")
+    } else {
+        format!("{text}{}", " ".repeat(chars - n))
     }
 }
 

@@ -4,25 +4,21 @@ use std::path::{Path, PathBuf};
 
 use chrono::{NaiveDate, Utc};
 
-use super::{sanitize_for_terminal, CliError, Context};
+use super::{actor, parse_day, sanitize_for_terminal, CliError, Context};
 use crate::store::exchange::ImportOptions;
 use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
+use shardlog_core::text::{clean, stress_or_dash};
 
-/// The actor and time of a change, taken here at the edge: `$SHARDLOG_ACTOR`, else
-/// `$USER`/`$USERNAME`, else "unknown"; the system clock.
+/// The actor and time of a change, taken here at the edge: [`actor`] and the system clock.
 pub fn edge_stamp() -> Stamp {
-    let actor = ["SHARDLOG_ACTOR", "USER", "USERNAME"]
-        .iter()
-        .find_map(|k| std::env::var(k).ok().filter(|v| !v.trim().is_empty()))
-        .unwrap_or_else(|| "unknown".into());
-    Stamp::new(actor, Utc::now())
+    Stamp::new(actor(), Utc::now())
 }
 
 fn work(e: StoreError) -> CliError {
     CliError::work(e.to_string())
 }
 
-fn open(db: &Path) -> Result<Store, CliError> {
+pub(crate) fn open(db: &Path) -> Result<Store, CliError> {
     Store::open_existing(db).map_err(work)
 }
 
@@ -53,7 +49,7 @@ pub struct FilterArgs {
 }
 
 fn parse_date(flag: &str, v: &str) -> Result<NaiveDate, CliError> {
-    NaiveDate::parse_from_str(v.trim(), "%Y-%m-%d").map_err(|_| {
+    parse_day(v).ok_or_else(|| {
         CliError::usage(format!(
             "--{flag}: \"{v}\" is not a date; expected YYYY-MM-DD such as 2026-03-14"
         ))
@@ -301,12 +297,12 @@ pub struct ListArgs {
 }
 
 fn cell(s: &str, width: usize) -> String {
-    let clean = sanitize_for_terminal(s, false);
-    let n = clean.chars().count();
+    let text = clean(s);
+    let n = text.chars().count();
     if n <= width {
-        format!("{clean}{}", " ".repeat(width - n))
+        format!("{text}{}", " ".repeat(width - n))
     } else {
-        let mut t: String = clean.chars().take(width.saturating_sub(1)).collect();
+        let mut t: String = text.chars().take(width.saturating_sub(1)).collect();
         t.push('…');
         t
     }
@@ -405,9 +401,67 @@ pub struct ShowArgs {
     pub json: bool,
 }
 
-fn mpa(x: Option<f64>) -> String {
-    x.map(|v| format!("{} MPa", shardlog_core::units::fmt_sig(v / 1e6, 3)))
-        .unwrap_or_else(|| "—".into())
+/// An optional text for the reader, "—" when there is none.
+fn clean_or_dash(x: &Option<String>) -> String {
+    x.as_deref().map(clean).unwrap_or_else(|| "—".into())
+}
+
+/// One examination of `show`: who and when, the readings, the flaw, the stored result.
+fn write_examination(
+    out: &mut dyn std::io::Write,
+    number: usize,
+    e: &store::Examination,
+) -> Result<(), CliError> {
+    writeln!(
+        out,
+        "  examination {} by {} on {}: origin type {}",
+        number,
+        if e.analyst.is_empty() {
+            "—".into()
+        } else {
+            clean(&e.analyst)
+        },
+        e.examined_on
+            .map(|d| d.to_string())
+            .unwrap_or_else(|| "—".into()),
+        clean_or_dash(&e.origin_type)
+    )?;
+    for r in &e.readings {
+        writeln!(
+            out,
+            "    {:<12} {}{}",
+            clean(&r.boundary),
+            clean(&r.radius.display()),
+            r.magnification
+                .map(|m| format!(" at {}×", shardlog_core::units::fmt_sig(m, 3)))
+                .unwrap_or_default()
+        )?;
+    }
+    if let Some(f) = &e.flaw {
+        if let Some(d) = &f.depth {
+            writeln!(
+                out,
+                "    flaw depth   {} {}",
+                clean(&d.display()),
+                clean(&f.shape)
+            )?;
+        }
+        if let Some(w) = &f.width {
+            writeln!(out, "    flaw width   {}", clean(&w.display()))?;
+        }
+    }
+    if let Some(res) = &e.result {
+        writeln!(
+            out,
+            "    result: net stress {} (95 % {} to {}), applied {}, by {}",
+            stress_or_dash(res.stress_pa),
+            stress_or_dash(res.stress_low_pa),
+            stress_or_dash(res.stress_high_pa),
+            stress_or_dash(res.applied_stress_pa),
+            clean(&res.code_version)
+        )?;
+    }
+    Ok(())
 }
 
 pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -419,17 +473,15 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         writeln!(ctx.out, "{text}")?;
         return Ok(());
     }
-    let t = |x: &str| sanitize_for_terminal(x, false);
-    let o = |x: &Option<String>| x.as_deref().map(t).unwrap_or_else(|| "—".into());
     let out = &mut *ctx.out;
     writeln!(
         out,
         "{}  (revision {}, id {})",
-        t(&inc.reference),
+        clean(&inc.reference),
         inc.revision,
         inc.id
     )?;
-    writeln!(out, "  status      {}", t(&inc.status))?;
+    writeln!(out, "  status      {}", clean(&inc.status))?;
     writeln!(
         out,
         "  found       {}{}",
@@ -441,10 +493,10 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     writeln!(
         out,
         "  asset       {}  position {}",
-        o(&inc.asset),
-        t(&inc.position)
+        clean_or_dash(&inc.asset),
+        clean(&inc.position)
     )?;
-    writeln!(out, "  site        {}", o(&inc.site))?;
+    writeln!(out, "  site        {}", clean_or_dash(&inc.site))?;
     if let Some(tc) = inc.environment.temperature_c {
         writeln!(
             out,
@@ -455,82 +507,39 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     writeln!(
         out,
         "  glass       supplier {}, product {}, lot {}, {}",
-        o(&inc.glass.supplier),
-        o(&inc.glass.product),
-        o(&inc.glass.lot),
-        t(&inc.glass.makeup)
+        clean_or_dash(&inc.glass.supplier),
+        clean_or_dash(&inc.glass.product),
+        clean_or_dash(&inc.glass.lot),
+        clean(&inc.glass.makeup)
     )?;
     for (i, p) in inc.glass.plies.iter().enumerate() {
         writeln!(
             out,
             "    ply {}    {} {} {}",
             i + 1,
-            o(&p.material),
-            o(&p.temper),
+            clean_or_dash(&p.material),
+            clean_or_dash(&p.temper),
             p.thickness_m
                 .map(|x| format!("{} mm", shardlog_core::units::fmt_sig(x * 1e3, 3)))
                 .unwrap_or_default()
         )?;
     }
     if let Some(loc) = &inc.pattern.origin_location {
-        writeln!(out, "  origin at   {}", t(loc))?;
+        writeln!(out, "  origin at   {}", clean(loc))?;
     }
     for (i, e) in inc.examinations.iter().enumerate() {
-        writeln!(
-            out,
-            "  examination {} by {} on {}: origin type {}",
-            i + 1,
-            if e.analyst.is_empty() {
-                "—".into()
-            } else {
-                t(&e.analyst)
-            },
-            e.examined_on
-                .map(|d| d.to_string())
-                .unwrap_or_else(|| "—".into()),
-            o(&e.origin_type)
-        )?;
-        for r in &e.readings {
-            writeln!(
-                out,
-                "    {:<12} {}{}",
-                t(&r.boundary),
-                t(&r.radius.display()),
-                r.magnification
-                    .map(|m| format!(" at {}×", shardlog_core::units::fmt_sig(m, 3)))
-                    .unwrap_or_default()
-            )?;
-        }
-        if let Some(f) = &e.flaw {
-            if let Some(d) = &f.depth {
-                writeln!(out, "    flaw depth   {} {}", t(&d.display()), t(&f.shape))?;
-            }
-            if let Some(w) = &f.width {
-                writeln!(out, "    flaw width   {}", t(&w.display()))?;
-            }
-        }
-        if let Some(res) = &e.result {
-            writeln!(
-                out,
-                "    result: net stress {} (95 % {} to {}), applied {}, by {}",
-                mpa(res.stress_pa),
-                mpa(res.stress_low_pa),
-                mpa(res.stress_high_pa),
-                mpa(res.applied_stress_pa),
-                t(&res.code_version)
-            )?;
-        }
+        write_examination(out, i + 1, e)?;
     }
     if let Some(c) = &inc.cause {
         writeln!(
             out,
             "  cause       {} ({}, responsibility {})",
-            t(&c.category),
-            t(&c.confidence),
-            t(&c.responsibility)
+            clean(&c.category),
+            clean(&c.confidence),
+            clean(&c.responsibility)
         )?;
         for f in &c.factors {
-            writeln!(out, "    factor    {}", t(f))?;
+            writeln!(out, "    factor    {}", clean(f))?;
         }
     }
     for c in &inc.custody {
@@ -538,16 +547,16 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             out,
             "  custody     {} {} by {} {}",
             c.at.format("%Y-%m-%d %H:%M"),
-            t(&c.action),
-            t(&c.who),
-            t(&c.location)
+            clean(&c.action),
+            clean(&c.who),
+            clean(&c.location)
         )?;
     }
     for a in &inc.attachments {
         writeln!(
             out,
             "  attachment  {} ({} bytes) sha256 {}",
-            t(&a.file_name),
+            clean(&a.file_name),
             a.size_bytes,
             a.sha256
         )?;
@@ -581,7 +590,7 @@ pub struct VerifyArgs {
 
 pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(dir) = &args.bundle {
-        return super::report::verify_bundle_cmd(dir, ctx);
+        return verify_bundle(dir, ctx);
     }
     let s = open(&ctx.db)?;
     let r = s.verify().map_err(work)?;
@@ -607,6 +616,51 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             if r.problems == 1 { "" } else { "s" }
         ))),
     }
+}
+
+/// `verify --bundle DIR`: the bundle alone, and against the database when there is one.
+fn verify_bundle(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let store = if ctx.db.exists() {
+        Some(open(&ctx.db)?)
+    } else {
+        None
+    };
+    let check = crate::report::verify_bundle(dir, store.as_ref())?;
+    let shown = clean(&dir.display().to_string());
+    writeln!(
+        ctx.out,
+        "bundle {shown}: {} incidents, {} files checked{}",
+        check.incidents,
+        check.files_checked,
+        if check.compared_with_records {
+            format!(", compared with the records in {}", ctx.db.display())
+        } else {
+            " (no database: the records were not compared)".to_string()
+        }
+    )?;
+    for n in &check.notes {
+        writeln!(ctx.out, "note: {}", clean(n))?;
+    }
+    if check.ok() {
+        writeln!(
+            ctx.out,
+            "ok: every file matches the bundle's digest{}",
+            if check.compared_with_records {
+                " and the bundle matches the records"
+            } else {
+                ""
+            }
+        )?;
+        return Ok(());
+    }
+    for p in &check.problems {
+        writeln!(ctx.out, "DIFFERS: {}", clean(p))?;
+    }
+    Err(CliError::work(format!(
+        "the bundle does not verify: {} difference{} (listed above)",
+        check.problems.len(),
+        if check.problems.len() == 1 { "" } else { "s" }
+    )))
 }
 
 #[derive(Debug, clap::Args)]

@@ -2,9 +2,9 @@
 
 use std::path::{Path, PathBuf};
 
-use super::{CliError, Context};
+use super::records::{open, write_whole};
+use super::{parse_day, CliError, Context};
 use crate::report::{self, source, summary, Format, Paper};
-use crate::store::Store;
 
 #[derive(Debug, clap::Args)]
 pub struct ReportArgs {
@@ -22,10 +22,6 @@ pub struct ReportArgs {
     pub output: Option<PathBuf>,
 }
 
-pub(crate) fn open_store(db: &Path) -> Result<Store, CliError> {
-    Store::open_existing(db).map_err(|e| CliError::work(e.to_string()))
-}
-
 pub(crate) fn now_text() -> String {
     chrono::Utc::now()
         .format("%Y-%m-%d %H:%M:%S UTC")
@@ -41,7 +37,7 @@ pub(crate) fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
             path.display()
         )));
     }
-    super::records::write_whole(path, bytes)
+    write_whole(path, bytes)
 }
 
 pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -50,7 +46,7 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             "--output FILE is needed for PDF and HTML (they are not for the terminal)",
         ));
     }
-    let store = open_store(&ctx.db)?;
+    let store = open(&ctx.db)?;
     let inc = store
         .get(&args.reference)
         .map_err(|e| CliError::work(e.to_string()))?;
@@ -105,27 +101,18 @@ pub struct DisputeArgs {
 fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>, CliError> {
     match v {
         None => Ok(None),
-        Some(t) => chrono::NaiveDate::parse_from_str(t.trim(), "%Y-%m-%d")
-            .map(Some)
-            .map_err(|_| {
-                CliError::usage(format!(
-                    "--{flag} {t}: expected a date as YYYY-MM-DD, e.g. 2027-03-14"
-                ))
-            }),
-    }
-}
-
-fn bundle_err(e: report::bundle::BundleError) -> CliError {
-    match e {
-        report::bundle::BundleError::Usage(m) => CliError::usage(m),
-        other => CliError::work(other.to_string()),
+        Some(t) => parse_day(t).map(Some).ok_or_else(|| {
+            CliError::usage(format!(
+                "--{flag} {t}: expected a date as YYYY-MM-DD, e.g. 2027-03-14"
+            ))
+        }),
     }
 }
 
 pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
-    let store = open_store(&ctx.db)?;
+    let store = open(&ctx.db)?;
     let opts = report::bundle::DisputeOptions {
         supplier: args.supplier.clone(),
         lot: args.lot.clone(),
@@ -135,7 +122,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         exported_at: now_text(),
         today: chrono::Utc::now().date_naive(),
     };
-    let w = report::bundle::write_bundle(&store, &opts, &args.output).map_err(bundle_err)?;
+    let w = report::bundle::write_bundle(&store, &opts, &args.output).map_err(CliError::from)?;
     writeln!(
         ctx.out,
         "wrote {}: {} incident summaries, {} attachments, {} files",
@@ -153,53 +140,4 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         w.dir.display()
     )?;
     Ok(())
-}
-
-/// `verify --bundle DIR`: the bundle alone, and against the database when there is one.
-pub fn verify_bundle_cmd(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let store = if ctx.db.exists() {
-        Some(open_store(&ctx.db)?)
-    } else {
-        None
-    };
-    let check = report::verify_bundle(dir, store.as_ref()).map_err(bundle_err)?;
-    let shown = super::sanitize_for_terminal(&dir.display().to_string(), false);
-    writeln!(
-        ctx.out,
-        "bundle {shown}: {} incidents, {} files checked{}",
-        check.incidents,
-        check.files_checked,
-        if check.compared_with_records {
-            format!(", compared with the records in {}", ctx.db.display())
-        } else {
-            " (no database: the records were not compared)".to_string()
-        }
-    )?;
-    for n in &check.notes {
-        writeln!(ctx.out, "note: {}", super::sanitize_for_terminal(n, false))?;
-    }
-    if check.ok() {
-        writeln!(
-            ctx.out,
-            "ok: every file matches the bundle's digest{}",
-            if check.compared_with_records {
-                " and the bundle matches the records"
-            } else {
-                ""
-            }
-        )?;
-        return Ok(());
-    }
-    for p in &check.problems {
-        writeln!(
-            ctx.out,
-            "DIFFERS: {}",
-            super::sanitize_for_terminal(p, false)
-        )?;
-    }
-    Err(CliError::work(format!(
-        "the bundle does not verify: {} difference{} (listed above)",
-        check.problems.len(),
-        if check.problems.len() == 1 { "" } else { "s" }
-    )))
 }

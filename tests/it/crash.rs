@@ -299,7 +299,7 @@ fn sigkill_during_import_leaves_all_or_nothing() {
             .arg(&db)
             .arg("import")
             .arg(&file)
-            .env("SHARDLOG_ACTOR", "crash-harness")
+            .env("SHARDLOG_USER", "crash-harness")
             .stdout(Stdio::piped())
             .stderr(Stdio::null())
             .spawn()

@@ -20,7 +20,7 @@ fn shardlog(db: &Path, args: &[&str]) -> Output {
         .arg("--db")
         .arg(db)
         .args(args)
-        .env("SHARDLOG_ACTOR", "fault-test")
+        .env("SHARDLOG_USER", "fault-test")
         .output()
         .expect("run shardlog")
 }
@@ -37,7 +37,7 @@ fn shardlog_limited(db: &Path, blocks: u32, args: &[&str]) -> Output {
         .arg("--db")
         .arg(db)
         .args(args)
-        .env("SHARDLOG_ACTOR", "fault-test")
+        .env("SHARDLOG_USER", "fault-test")
         .output()
         .expect("run shardlog under ulimit")
 }

@@ -9,7 +9,7 @@ fn shardlog(db: &Path, args: &[&str]) -> std::process::Output {
         .arg("--db")
         .arg(db)
         .args(args)
-        .env("SHARDLOG_ACTOR", "found-bugs")
+        .env("SHARDLOG_USER", "found-bugs")
         .output()
         .expect("the binary runs")
 }

@@ -21,7 +21,7 @@ fn shardlog(db: &Path, args: &[&str], as_root: bool) -> Output {
     c.arg("--db")
         .arg(db)
         .args(args)
-        .env("SHARDLOG_ACTOR", "readonly-test");
+        .env("SHARDLOG_USER", "readonly-test");
     if as_root {
         c.uid(65534).gid(65534).env("HOME", "/nonexistent");
     }

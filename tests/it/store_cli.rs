@@ -6,7 +6,7 @@ use std::process::{Command, Output};
 
 fn bin() -> Command {
     let mut c = Command::new(env!("CARGO_BIN_EXE_shardlog"));
-    c.env("SHARDLOG_ACTOR", "test-runner");
+    c.env("SHARDLOG_USER", "test-runner");
     c
 }
 
@@ -142,6 +142,44 @@ fn import_is_all_or_nothing_from_the_command_line() {
     let o = run(&["--db", d, "list", "--json"]);
     let rows: Vec<serde_json::Value> = serde_json::from_slice(&o.stdout).unwrap();
     assert_eq!(rows.len(), 1);
+}
+
+#[test]
+fn a_command_line_change_is_audited_under_shardlog_user() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("t.db");
+    let d = db.to_str().unwrap();
+    assert!(run(&["--db", d, "init"]).status.success());
+    let file = dir.path().join("one.csv");
+    std::fs::write(&file, "found_on,supplier\n2026-03-14,ORVALE\n").unwrap();
+    let import = |user: Option<&str>| {
+        let mut c = Command::new(env!("CARGO_BIN_EXE_shardlog"));
+        c.env_remove("SHARDLOG_USER")
+            .env("USER", "login-name")
+            .env("USERNAME", "other-login")
+            // an old name for the setting is not read
+            .env("SHARDLOG_ACTOR", "not-this-one");
+        if let Some(u) = user {
+            c.env("SHARDLOG_USER", u);
+        }
+        let o = c
+            .args(["--db", d, "import", file.to_str().unwrap()])
+            .output()
+            .unwrap();
+        assert!(o.status.success(), "{}", err(&o));
+    };
+    import(Some("  lab analyst 7 "));
+    import(None);
+    let store = shardlog::store::Store::open_existing(&db).unwrap();
+    let o = run(&["--db", d, "list", "--json"]);
+    let rows: Vec<serde_json::Value> = serde_json::from_slice(&o.stdout).unwrap();
+    let mut actors: Vec<String> = rows
+        .iter()
+        .flat_map(|r| store.history(r["ref"].as_str().unwrap()).unwrap())
+        .map(|h| h.actor)
+        .collect();
+    actors.sort();
+    assert_eq!(actors, ["lab analyst 7", "login-name"]);
 }
 
 #[test]
