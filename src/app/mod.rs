@@ -9,13 +9,15 @@ pub mod field;
 pub mod form;
 pub mod hypothesis;
 pub mod incident;
+pub mod key;
 pub mod log;
 pub mod picklist;
 pub mod review;
+pub mod text_input;
 
 use std::path::{Path, PathBuf};
 
-pub use ratatui_textarea::{Input, Key};
+pub use key::{Key, KeyPress};
 
 use bench::{BenchState, Outcome};
 use field::{Field, FieldKind};
@@ -118,7 +120,7 @@ pub enum Action {
     /// Bench: move to the load hypothesis inputs (again: back to the readings).
     JumpHypothesis,
     /// A key for the focused text input.
-    Input(Input),
+    Input(KeyPress),
     /// Pasted text for the focused text input.
     Paste(String),
     ScrollUp,

@@ -4,9 +4,10 @@
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Rect};
-use ratatui::style::Style;
+use ratatui::style::{Modifier, Style};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Row, Table, Widget};
+use ratatui_textarea::{CursorMove, TextArea};
 use unicode_width::{UnicodeWidthChar, UnicodeWidthStr};
 
 use super::theme::Theme;
@@ -258,7 +259,7 @@ fn draw_field(buf: &mut Buffer, area: Rect, f: &Field, focused: bool, th: &Theme
         return;
     }
     if focused {
-        f.textarea().render(area, buf);
+        editor(f).render(area, buf);
         return;
     }
     let lines = f.lines();
@@ -286,6 +287,21 @@ fn draw_field(buf: &mut Buffer, area: Rect, f: &Field, focused: bool, th: &Theme
             mark,
         );
     }
+}
+
+/// The focused field as an editor widget: its lines, the caret in reverse video, the hint
+/// while it is empty.
+fn editor(f: &Field) -> TextArea<'static> {
+    let mut area = TextArea::new(f.lines().to_vec());
+    area.set_cursor_line_style(Style::default());
+    area.set_cursor_style(Style::default().add_modifier(Modifier::REVERSED));
+    if !f.hint.is_empty() {
+        area.set_placeholder_text(f.hint);
+    }
+    let (row, col) = f.caret();
+    let clamp = |n: usize| u16::try_from(n).unwrap_or(u16::MAX);
+    area.move_cursor(CursorMove::Jump(clamp(row), clamp(col)));
+    area
 }
 
 fn draw_pick(buf: &mut Buffer, area: Rect, p: &PickList, focused: bool, th: &Theme) {
