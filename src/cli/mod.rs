@@ -305,11 +305,20 @@ impl Write for TerminalGuard<'_> {
     }
 }
 
+/// Who the audit log records as the author of a change: `$SHARDLOG_USER`, else `$USER`, else
+/// `$USERNAME`, else "analyst". Read once, here at the edge.
+pub fn actor() -> String {
+    ["SHARDLOG_USER", "USER", "USERNAME"]
+        .iter()
+        .find_map(|k| std::env::var(k).ok().filter(|v| !v.trim().is_empty()))
+        .unwrap_or_else(|| "analyst".to_string())
+}
+
 /// Run a parsed command line, printing to `out`.
 pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
     let db = resolve_db(cli.db);
     let Some(command) = cli.command else {
-        return crate::tui::run(&db).map_err(|e| CliError::work(format!("{e:#}")));
+        return crate::tui::run(&db, &actor()).map_err(|e| CliError::work(format!("{e:#}")));
     };
     let mut ctx = Context { db, out };
     match command {

@@ -22,6 +22,7 @@ use std::path::{Path, PathBuf};
 use rusqlite::{Connection, OptionalExtension, TransactionBehavior};
 
 mod audit;
+pub mod bench_record;
 pub mod canon;
 pub mod compute;
 pub mod demo;

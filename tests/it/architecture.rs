@@ -534,7 +534,6 @@ fn files_and_functions_stay_readable() {
         "core/src/fleet/weibull.rs",
         "core/src/fracture/materials.rs",
         "core/src/fracture/mod.rs",
-        "src/app/mod.rs",
         "src/cli/mirror.rs",
         "src/cli/records.rs",
         "src/cli/stats.rs",

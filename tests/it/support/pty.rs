@@ -33,7 +33,7 @@ impl Pty {
             cmd.env(k, v);
         }
         cmd.env("TERM", "xterm-256color");
-        cmd.env("SHARDLOG_ACTOR", "pty-user");
+        cmd.env("SHARDLOG_USER", "pty-user");
         let mut session = Session::spawn(cmd).expect("spawn shardlog in a pty");
         session
             .get_process_mut()
