@@ -1,6 +1,7 @@
 //! The terminal interface: set-up and restore, the event loop, the key table, screens and
 //! widgets. State lives in `crate::app`; this module turns events into actions and draws.
 
+pub mod cautions;
 pub mod keys;
 pub mod screens;
 pub mod theme;

@@ -6,7 +6,8 @@ use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Rect};
 use ratatui::style::{Modifier, Style};
 use ratatui::text::{Line, Span};
-use ratatui::widgets::{Paragraph, Row, Table, Widget};
+use ratatui::widgets::{Block, Borders, Paragraph, Row, Table, Widget};
+use ratatui::Frame;
 use ratatui_textarea::{CursorMove, TextArea};
 use unicode_width::{UnicodeWidthChar, UnicodeWidthStr};
 
@@ -425,6 +426,18 @@ pub fn wrapped_rows(lines: &[Line<'_>], width: u16) -> u16 {
 /// A paragraph that wraps, for messages that must be read whole.
 pub fn para(lines: Vec<Line<'static>>) -> Paragraph<'static> {
     Paragraph::new(lines).wrap(ratatui::widgets::Wrap { trim: false })
+}
+
+/// A titled box; returns the inner area.
+pub fn boxed(f: &mut Frame, area: Rect, title: &str, focused: bool, th: &Theme) -> Rect {
+    let style: Style = if focused { th.focus_border } else { th.border };
+    let block = Block::default()
+        .borders(Borders::ALL)
+        .border_style(style)
+        .title(format!(" {title} "));
+    let inner = block.inner(area);
+    block.render(area, f.buffer_mut());
+    inner
 }
 
 #[cfg(test)]

@@ -401,9 +401,6 @@ const PENDING_CIRCLE_EDGES: &[(&str, &str)] = &[
     ("cli::report", "cli::records"),
     ("store::incidents", "store::audit"),
     ("store::refdata", "store::audit"),
-    ("tui::view", "tui::screens"),
-    ("tui::view", "tui::screens::bench"),
-    ("tui::screens::edit", "tui::view"),
 ];
 
 #[test]

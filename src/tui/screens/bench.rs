@@ -7,8 +7,9 @@ use ratatui::Frame;
 
 use crate::app::bench::Outcome;
 use crate::app::App;
+use crate::tui::cautions::CAUTIONS;
 use crate::tui::theme::Theme;
-use crate::tui::view::{boxed, CAUTIONS};
+use crate::tui::widgets::boxed;
 use crate::tui::widgets::{self, clean};
 use shardlog_core::fracture::Analysis;
 use shardlog_core::units::{fmt_sig, format, Unit};
