@@ -83,7 +83,7 @@ fn draw_title(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
         left
     };
     f.buffer_mut()
-        .set_stringn(area.x, area.y, widgets::pad(&text, w), w, th.title);
+        .set_stringn(area.x, area.y, widgets::fit_left(&text, w), w, th.title);
 }
 
 fn draw_status(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
@@ -167,14 +167,14 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     let kw = 12usize;
     for b in keys::bindings_for(ctx) {
         lines.push(Line::from(vec![
-            Span::styled(widgets::pad(b.label, kw), th.focus_label),
+            Span::styled(widgets::fit_left(b.label, kw), th.focus_label),
             Span::raw(b.desc),
         ]));
     }
     if ctx.has_global() {
         let (k, d) = keys::MOUSE_HELP;
         lines.push(Line::from(vec![
-            Span::styled(widgets::pad(k, kw), th.focus_label),
+            Span::styled(widgets::fit_left(k, kw), th.focus_label),
             Span::raw(d),
         ]));
     }

@@ -15,40 +15,7 @@ use super::theme::Theme;
 use crate::app::field::Field;
 use crate::app::form::{Form, FormItem};
 use crate::app::picklist::PickList;
-
-/// Cut `s` to at most `width` terminal columns, ending with "…" when cut.
-pub fn fit(s: &str, width: usize) -> String {
-    if UnicodeWidthStr::width(s) <= width {
-        return s.to_string();
-    }
-    if width == 0 {
-        return String::new();
-    }
-    let mut out = String::new();
-    let mut used = 0;
-    for ch in s.chars() {
-        let w = UnicodeWidthChar::width(ch).unwrap_or(0);
-        if used + w > width.saturating_sub(1) {
-            break;
-        }
-        out.push(ch);
-        used += w;
-    }
-    out.push('…');
-    out
-}
-
-/// Pad or cut `s` to exactly `width` columns.
-pub fn pad(s: &str, width: usize) -> String {
-    let t = fit(s, width);
-    let w = UnicodeWidthStr::width(t.as_str());
-    format!("{t}{}", " ".repeat(width.saturating_sub(w)))
-}
-
-/// Clean user text for display (no escape sequences, no control characters).
-pub fn clean(s: &str) -> String {
-    shardlog_core::text::sanitize_for_terminal(s, false)
-}
+pub use shardlog_core::text::{clean, fit, fit_left};
 
 /// A rectangle of at most `w`×`h` centred in `area`.
 pub fn centered(area: Rect, w: u16, h: u16) -> Rect {
@@ -216,7 +183,7 @@ fn draw_item(buf: &mut Buffer, area: Rect, item: &FormItem, focused: bool, lw: u
     buf.set_stringn(
         area.x,
         area.y,
-        pad(&fit(&label, lw.saturating_sub(1) as usize), lw as usize),
+        fit_left(&fit(&label, lw.saturating_sub(1) as usize), lw as usize),
         lw as usize,
         label_style,
     );
@@ -349,7 +316,7 @@ fn draw_pick(buf: &mut Buffer, area: Rect, p: &PickList, focused: bool, th: &The
         buf.set_stringn(
             area.x,
             area.y + 1 + row as u16,
-            pad(&format!(" {}", clean(&item.label)), w),
+            fit_left(&format!(" {}", clean(&item.label)), w),
             w,
             style,
         );
@@ -453,7 +420,7 @@ mod tests {
             7
         );
         assert_eq!(fit("abc", 0), "");
-        assert_eq!(UnicodeWidthStr::width(pad("東京", 7).as_str()), 7);
+        assert_eq!(UnicodeWidthStr::width(fit_left("東京", 7).as_str()), 7);
     }
 
     #[test]

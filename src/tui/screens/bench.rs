@@ -86,10 +86,6 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     widgets::para(text).render(caution, f.buffer_mut());
 }
 
-fn mpa(pa: f64) -> String {
-    format(pa, Unit::Megapascal)
-}
-
 fn interval(lo: f64, hi: f64, unit: Unit) -> String {
     format!(
         "{} – {} {}",
@@ -193,7 +189,7 @@ fn analysis_lines(
         &format!("Net stress ({})", a.headline.label()),
         format!(
             "{}  ({})",
-            mpa(a.stress_pa),
+            shardlog_core::text::stress(a.stress_pa),
             interval(a.stress_low_pa, a.stress_high_pa, Unit::Megapascal)
         ),
         th,
@@ -202,7 +198,7 @@ fn analysis_lines(
         "Applied stress",
         format!(
             "{}  ({})",
-            mpa(a.applied_stress_pa),
+            shardlog_core::text::stress(a.applied_stress_pa),
             interval(a.applied_low_pa, a.applied_high_pa, Unit::Megapascal)
         ),
         th,
@@ -242,7 +238,7 @@ fn analysis_lines(
                 b.stats.n,
                 length(b.stats.mean)
             )),
-            Span::styled(mpa(b.stress_pa), th.figure),
+            Span::styled(shardlog_core::text::stress(b.stress_pa), th.figure),
             Span::raw(format!(
                 " ({}) {} {}",
                 interval(b.stress_low_pa, b.stress_high_pa, Unit::Megapascal),
@@ -251,7 +247,11 @@ fn analysis_lines(
             )),
         ]));
     }
-    out.push(kv("Residual at origin", mpa(a.residual.at_origin_pa), th));
+    out.push(kv(
+        "Residual at origin",
+        shardlog_core::text::stress(a.residual.at_origin_pa),
+        th,
+    ));
     out.push(Line::styled(
         format!("  {}", clean(&a.residual.basis)),
         th.muted,
@@ -345,7 +345,7 @@ fn analysis_lines(
         for g in per_geometry {
             out.push(Line::raw(format!(
                 " {} Y {:<5} {}",
-                widgets::pad(&clean(&g.label), lw),
+                widgets::fit_left(&clean(&g.label), lw),
                 fmt_sig(g.y, 3),
                 length(g.size_m)
             )));

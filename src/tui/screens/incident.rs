@@ -66,7 +66,7 @@ fn kv(k: &str, v: impl Into<String>, th: &Theme) -> Line<'static> {
         clean(&v)
     };
     Line::from(vec![
-        Span::styled(format!(" {}", widgets::pad(k, 20)), th.label),
+        Span::styled(format!(" {}", widgets::fit_left(k, 20)), th.label),
         Span::styled(v, th.input),
     ])
 }

@@ -14,9 +14,10 @@ use crate::app::review::{Panel, ReviewData, ReviewState};
 use crate::app::{group_thousands, App};
 use crate::store::model::LookupKind;
 use crate::tui::theme::Theme;
-use crate::tui::widgets::{clean, fit, pad, wrap};
+use crate::tui::widgets::{clean, fit, fit_left, wrap};
 use shardlog_core::fleet::group::NOT_RECORDED;
 use shardlog_core::fleet::Key;
+use shardlog_core::text::pad_left;
 use shardlog_core::units::{fmt_sig, to_mpa};
 
 pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
@@ -55,7 +56,7 @@ fn put(f: &mut Frame, area: Rect, text: &str, w: usize, style: Style) {
         return;
     }
     f.buffer_mut()
-        .set_stringn(area.x, area.y, pad(&fit(text, w), w), w, style);
+        .set_stringn(area.x, area.y, fit_left(&fit(text, w), w), w, style);
 }
 
 /// Text over the rows of `area`, wrapped at words (the last row cut with … if it must be).
@@ -186,7 +187,7 @@ fn bars(
         let lstyle = if sel { th.selected } else { th.label };
         let buf = f.buffer_mut();
         buf.set_stringn(area.x, y, marker, 1, th.focus_label);
-        buf.set_stringn(area.x + 1, y, pad(&fit(label, lw), lw), lw, lstyle);
+        buf.set_stringn(area.x + 1, y, fit_left(&fit(label, lw), lw), lw, lstyle);
         let b = bar(*v, max, bw);
         let bx = area.x + 2 + lw as u16;
         buf.set_stringn(bx, y, &b, bw, th.figure);
@@ -649,7 +650,7 @@ fn groups(
     cols.push(("flag", 4));
     let fixed: usize = cols.iter().map(|c| c.1 + 1).sum();
     let kw = (area.width as usize).saturating_sub(fixed + 2).max(6);
-    let mut header = format!(" {}", pad("group", kw));
+    let mut header = format!(" {}", fit_left("group", kw));
     for (h, cw) in &cols {
         header.push(' ');
         header.push_str(&lpad(h, *cw));
@@ -681,7 +682,7 @@ fn groups(
         cells.push(if g.flagged { "HIGH" } else { "" }.to_string());
         let mut s = String::new();
         s.push(if i == sel { '▶' } else { ' ' });
-        s.push_str(&pad(&fit(&labels.of(&t.keys, &g.key), kw), kw));
+        s.push_str(&fit_left(&fit(&labels.of(&t.keys, &g.key), kw), kw));
         for (c, (_, cw)) in cells.iter().zip(&cols) {
             s.push(' ');
             s.push_str(&lpad(c, *cw));
@@ -695,7 +696,7 @@ fn groups(
         };
         let y = body.y + line as u16;
         f.buffer_mut()
-            .set_stringn(body.x, y, pad(&fit(&s, aw), aw), aw, style);
+            .set_stringn(body.x, y, fit_left(&fit(&s, aw), aw), aw, style);
     }
     if t.rows.is_empty() {
         put(f, body, "  nothing in this window", aw, th.muted);
@@ -703,7 +704,5 @@ fn groups(
 }
 
 fn lpad(s: &str, w: usize) -> String {
-    let s = fit(s, w);
-    let sw = UnicodeWidthStr::width(s.as_str());
-    format!("{}{s}", " ".repeat(w.saturating_sub(sw)))
+    pad_left(&fit(s, w), w)
 }
