@@ -542,22 +542,7 @@ fn weibull(
     // the incidents as whole-cell marks over the line, so they read at any size
     let gpts: Vec<(f64, f64, &str)> = gplot.iter().map(|p| (p.x, p.y, "○")).collect();
     let marks: Vec<(f64, f64, &str)> = pts.iter().map(|(x, y)| (*x, *y, "●")).chain(gpts).collect();
-    for (x, y, mark) in &marks {
-        let style = if *mark == "○" {
-            th.warning
-        } else {
-            th.figure
-        };
-        let cx = ((x - x0) / (x1 - x0) * (plot.width.saturating_sub(1)) as f64).round();
-        let cy = ((y1 - y) / (y1 - y0) * (plot.height.saturating_sub(1)) as f64).round();
-        if cx.is_finite() && cy.is_finite() && cx >= 0.0 && cy >= 0.0 {
-            let (cx, cy) = (cx as u16, cy as u16);
-            if cx < plot.width && cy < plot.height {
-                f.buffer_mut()
-                    .set_stringn(plot.x + cx, plot.y + cy, mark, 1, style);
-            }
-        }
-    }
+    draw_marks(f, plot, [x0, x1], [y0, y1], &marks, th);
     let p_of = |y: f64| 100.0 * -(-(y.exp())).exp_m1();
     let buf = f.buffer_mut();
     buf.set_stringn(
@@ -588,6 +573,33 @@ fn weibull(
         if xw > hw + lo.len() + mw + 6 {
             let mx = xlab.x + ((xw - mw) / 2) as u16;
             buf.set_stringn(mx, xlab.y, mid, mw, th.muted);
+        }
+    }
+}
+
+/// The incidents as whole-cell marks at their place in `plot` (x and y from low to high).
+fn draw_marks(
+    f: &mut Frame,
+    plot: Rect,
+    [x0, x1]: [f64; 2],
+    [y0, y1]: [f64; 2],
+    marks: &[(f64, f64, &str)],
+    th: &Theme,
+) {
+    for (x, y, mark) in marks {
+        let style = if *mark == "○" {
+            th.warning
+        } else {
+            th.figure
+        };
+        let cx = ((x - x0) / (x1 - x0) * (plot.width.saturating_sub(1)) as f64).round();
+        let cy = ((y1 - y) / (y1 - y0) * (plot.height.saturating_sub(1)) as f64).round();
+        if cx.is_finite() && cy.is_finite() && cx >= 0.0 && cy >= 0.0 {
+            let (cx, cy) = (cx as u16, cy as u16);
+            if cx < plot.width && cy < plot.height {
+                f.buffer_mut()
+                    .set_stringn(plot.x + cx, plot.y + cy, mark, 1, style);
+            }
         }
     }
 }
