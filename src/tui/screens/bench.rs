@@ -297,6 +297,19 @@ fn analysis_lines(
         }
         None => out.push(kv("Flaw size", "— (no toughness)".into(), th)),
     }
+    geometry_lines(a, per_geometry, th, width, &mut out);
+    out
+}
+
+/// The branching distance predicted, the boundaries' consistency and the flaw size per
+/// geometry.
+fn geometry_lines(
+    a: &Analysis,
+    per_geometry: &[crate::app::bench::GeometryRow],
+    th: &Theme,
+    width: u16,
+    out: &mut Vec<Line<'static>>,
+) {
     if let Some(b) = &a.branching {
         let measured = b
             .measured_m
@@ -351,5 +364,4 @@ fn analysis_lines(
             )));
         }
     }
-    out
 }
