@@ -534,19 +534,6 @@ impl BenchState {
         }
         self.recompute();
     }
-
-    /// Put readings back into the form (when an incident's saved readings are opened).
-    pub fn set_readings(&mut self, boundary: Boundary, lines: &[String]) {
-        let key = match boundary {
-            Boundary::MirrorMist => "r_mist",
-            Boundary::MistHackle => "r_hackle",
-            Boundary::Branching => "r_branch",
-        };
-        if let Some(f) = self.form.field_mut(key) {
-            f.set_text(&lines.join("\n"));
-        }
-        self.recompute();
-    }
 }
 
 /// Flaw size for each geometry of the table, from the one analysis already made.

@@ -1,11 +1,10 @@
-//! One form field: a ratatui-textarea input with live validation.
+//! One form field: a text input with live validation.
 //!
 //! The field keeps what the user typed exactly as typed (so nothing is lost when it does not
 //! parse) and, after every edit, the reason it is refused, which the screen shows beside it.
 
-use ratatui::style::{Modifier, Style};
-use ratatui_textarea::{CursorMove, Input, Key, TextArea};
-
+use super::key::{Key, KeyPress};
+use super::text_input::TextInput;
 use shardlog_core::units::{self, Dimension};
 
 /// What a field accepts. Validation uses `shardlog::units` for every quantity.
@@ -54,7 +53,7 @@ pub struct Field {
     pub label: &'static str,
     pub kind: FieldKind,
     pub hint: &'static str,
-    area: TextArea<'static>,
+    content: TextInput,
     error: Option<String>,
     dirty: bool,
 }
@@ -71,15 +70,12 @@ impl std::fmt::Debug for Field {
 
 impl Field {
     pub fn new(key: &'static str, label: &'static str, kind: FieldKind) -> Self {
-        let mut area = TextArea::default();
-        area.set_cursor_line_style(Style::default());
-        area.set_cursor_style(Style::default().add_modifier(Modifier::REVERSED));
         let mut f = Field {
             key,
             label,
             kind,
             hint: "",
-            area,
+            content: TextInput::default(),
             error: None,
             dirty: false,
         };
@@ -89,7 +85,6 @@ impl Field {
 
     pub fn with_hint(mut self, hint: &'static str) -> Self {
         self.hint = hint;
-        self.area.set_placeholder_text(hint);
         self
     }
 
@@ -107,39 +102,27 @@ impl Field {
     /// Replace the contents (user text is stripped of control sequences first).
     pub fn set_text(&mut self, text: &str) {
         let clean = shardlog_core::text::sanitize_for_terminal(text, self.multi_line());
-        let lines: Vec<String> = clean.lines().map(str::to_string).collect();
-        let mut area = TextArea::new(lines);
-        area.set_cursor_line_style(self.area.cursor_line_style());
-        area.set_cursor_style(self.area.cursor_style());
-        if !self.hint.is_empty() {
-            area.set_placeholder_text(self.hint);
-        }
-        area.move_cursor(CursorMove::Bottom);
-        area.move_cursor(CursorMove::End);
-        self.area = area;
+        self.content = TextInput::new(&clean);
         self.dirty = true;
         self.revalidate();
     }
 
     /// The text as typed (lines joined with '\n').
     pub fn text(&self) -> String {
-        self.area.lines().join("\n")
+        self.content.lines().join("\n")
     }
 
     pub fn lines(&self) -> &[String] {
-        self.area.lines()
+        self.content.lines()
     }
 
-    pub fn textarea(&self) -> &TextArea<'static> {
-        &self.area
+    /// Where the caret is: line and character position in the line.
+    pub fn caret(&self) -> (usize, usize) {
+        self.content.caret()
     }
 
     pub fn error(&self) -> Option<&str> {
         self.error.as_deref()
-    }
-
-    pub fn is_valid(&self) -> bool {
-        self.error.is_none()
     }
 
     pub fn is_dirty(&self) -> bool {
@@ -152,14 +135,14 @@ impl Field {
 
     /// Feed one key. Returns true when the text changed. Control characters and escape
     /// sequences never reach the text: only printable characters are inserted.
-    pub fn input(&mut self, input: Input) -> bool {
-        let input = match input.key {
+    pub fn input(&mut self, press: KeyPress) -> bool {
+        match press.key {
             Key::Enter if !self.multi_line() => return false,
-            Key::Tab | Key::Esc => return false,
+            Key::Tab | Key::BackTab | Key::Esc => return false,
             Key::Char(c) if c.is_control() => return false,
-            _ => input,
-        };
-        let changed = self.area.input(input);
+            _ => {}
+        }
+        let changed = self.content.edit(press);
         if changed {
             self.dirty = true;
             self.revalidate();
@@ -170,7 +153,7 @@ impl Field {
     /// Insert pasted text, dropping control characters.
     pub fn paste(&mut self, text: &str) {
         let clean = shardlog_core::text::sanitize_for_terminal(text, self.multi_line());
-        if self.area.insert_str(clean) {
+        if self.content.insert_str(&clean) {
             self.dirty = true;
             self.revalidate();
         }
@@ -335,10 +318,7 @@ mod tests {
 
     fn typed(f: &mut Field, s: &str) {
         for c in s.chars() {
-            f.input(Input {
-                key: Key::Char(c),
-                ..Default::default()
-            });
+            f.input(KeyPress::char(c));
         }
     }
 
@@ -382,10 +362,7 @@ mod tests {
         let mut f = Field::new("n", "Note", FieldKind::Text { required: false });
         f.paste("a\u{1b}[31mb\u{7}c");
         assert_eq!(f.text(), "abc");
-        f.input(Input {
-            key: Key::Char('\u{1b}'),
-            ..Default::default()
-        });
+        f.input(KeyPress::char('\u{1b}'));
         assert_eq!(f.text(), "abc");
     }
 

@@ -1,6 +1,7 @@
 //! A form: an ordered list of text fields and pick-lists with one focus.
 
 use super::field::Field;
+use super::key::{Key, KeyPress};
 use super::picklist::PickList;
 use super::{Action, Ctx};
 
@@ -213,10 +214,7 @@ impl Form {
                     }
                 }
                 Some(FormItem::Field(f)) if f.multi_line() => {
-                    f.input(super::Input {
-                        key: super::Key::Enter,
-                        ..Default::default()
-                    });
+                    f.input(KeyPress::plain(Key::Enter));
                     FormEvent::Changed
                 }
                 _ => {
@@ -245,10 +243,7 @@ impl Form {
                 }
                 Some(FormItem::Pick(p)) => {
                     for c in text.chars() {
-                        p.input(super::Input {
-                            key: super::Key::Char(c),
-                            ..Default::default()
-                        });
+                        p.input(KeyPress::char(c));
                     }
                     FormEvent::Moved
                 }
@@ -274,10 +269,7 @@ mod tests {
 
     fn typed(form: &mut Form, text: &str) {
         for c in text.chars() {
-            form.update(Action::Input(crate::app::Input {
-                key: crate::app::Key::Char(c),
-                ..Default::default()
-            }));
+            form.update(Action::Input(KeyPress::char(c)));
         }
     }
 

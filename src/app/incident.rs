@@ -682,7 +682,7 @@ fn apply_examination(form: &Form, inc: &mut Incident) -> Result<(), String> {
     let depth = opt_measured(form, "flaw_depth")?;
     let width = opt_measured(form, "flaw_width")?;
     if inc.examinations.is_empty() {
-        inc.examinations.push(empty_examination());
+        inc.examinations.push(Examination::empty());
     }
     let Some(e) = inc.examinations.last_mut() else {
         return Ok(());
@@ -706,21 +706,6 @@ fn apply_examination(form: &Form, inc: &mut Incident) -> Result<(), String> {
         })
     };
     Ok(())
-}
-
-/// An examination with nothing in it yet (the store assigns the id).
-pub fn empty_examination() -> Examination {
-    Examination {
-        id: String::new(),
-        examined_on: None,
-        analyst: String::new(),
-        origin_type: None,
-        material: None,
-        readings: Vec::new(),
-        flaw: None,
-        result: None,
-        notes: String::new(),
-    }
 }
 
 fn apply_cause(form: &Form, inc: &mut Incident) -> Result<(), String> {

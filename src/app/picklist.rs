@@ -1,7 +1,7 @@
 //! A pick-list with type-to-narrow: the user types, the list keeps only the items whose
 //! code or label contains every typed word (case-insensitive), Up/Down move, Enter picks.
 
-use ratatui_textarea::{Input, Key};
+use super::key::{Key, KeyPress};
 
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct PickItem {
@@ -183,7 +183,7 @@ impl PickList {
     }
 
     /// Typing narrows; Backspace widens; Up/Down move. Returns true when handled.
-    pub fn input(&mut self, input: Input) -> bool {
+    pub fn input(&mut self, input: KeyPress) -> bool {
         match input.key {
             Key::Char(c) if !input.ctrl && !input.alt && !c.is_control() => {
                 self.filter.push(c);
@@ -240,11 +240,8 @@ impl PickList {
 mod tests {
     use super::*;
 
-    fn ch(c: char) -> Input {
-        Input {
-            key: Key::Char(c),
-            ..Default::default()
-        }
+    fn ch(c: char) -> KeyPress {
+        KeyPress::char(c)
     }
 
     #[test]

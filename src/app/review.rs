@@ -54,11 +54,6 @@ impl Panel {
     pub fn prev(self) -> Panel {
         Panel::ALL[(self.index() + Panel::ALL.len() - 1) % Panel::ALL.len()]
     }
-
-    /// Whether the panel has rows to choose with ↑/↓ and open with Enter.
-    pub fn has_rows(self) -> bool {
-        matches!(self, Panel::Causes | Panel::Months | Panel::Groups)
-    }
 }
 
 /// The date window of the review.

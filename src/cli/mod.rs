@@ -352,7 +352,7 @@ impl Write for TerminalGuard<'_> {
 pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
     let db = resolve_db(cli.db);
     let Some(command) = cli.command else {
-        return crate::tui::run(&db).map_err(|e| CliError::work(format!("{e:#}")));
+        return crate::tui::run(&db, &actor()).map_err(|e| CliError::work(format!("{e:#}")));
     };
     let mut ctx = Context { db, out };
     match command {

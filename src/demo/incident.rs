@@ -15,8 +15,8 @@ use super::world::{at_time, Kind, ProductDef, Slot, World, WorldKeys, PRODUCTS, 
 use super::DemoSummary;
 use crate::store::bulk::{format_reference, AttachmentFolder, NewIncident, Refs};
 use crate::store::{
-    analysis, Attachment, Cause, CustodyEntry, Examination, FlawMeasurement, FracturePattern, Glass,
-    IdGen, Incident, Measured, MirrorReading, Ply, Stamp, StoreError,
+    analysis, Attachment, Cause, CustodyEntry, Examination, FlawMeasurement, FracturePattern,
+    Glass, IdGen, Incident, Measured, MirrorReading, Ply, Stamp, StoreError,
 };
 use shardlog_core::fracture::materials::Material;
 use shardlog_core::fracture::{self, Boundary};

@@ -49,6 +49,7 @@ use refdata::LookupSet;
 pub mod analysis;
 mod audit;
 mod backup;
+pub mod bench_record;
 pub mod bulk;
 pub mod canon;
 mod dates;

@@ -232,6 +232,23 @@ pub struct Examination {
     pub notes: String,
 }
 
+impl Examination {
+    /// An examination with nothing in it yet (the store assigns the id).
+    pub fn empty() -> Examination {
+        Examination {
+            id: String::new(),
+            examined_on: None,
+            analyst: String::new(),
+            origin_type: None,
+            material: None,
+            readings: Vec::new(),
+            flaw: None,
+            result: None,
+            notes: String::new(),
+        }
+    }
+}
+
 /// The cause. Lookup codes: `cause_category`, `confidence`, `responsibility`.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Cause {

@@ -4,7 +4,7 @@
 
 use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 
-use crate::app::{Action, Ctx, Input};
+use crate::app::{Action, Ctx, Key, KeyPress};
 
 /// One key: a code and the Ctrl/Alt modifiers that must be held.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -506,10 +506,38 @@ pub fn action_for(ctx: Ctx, ev: &KeyEvent) -> Option<Action> {
         return Some(b.action.clone());
     }
     if ctx.takes_text() {
-        let input = Input::from(*ev);
-        return Some(Action::Input(input));
+        return Some(Action::Input(key_press(ev)));
     }
     None
+}
+
+/// The app's key press for a terminal key event.
+pub fn key_press(ev: &KeyEvent) -> KeyPress {
+    let key = match ev.code {
+        KeyCode::Char(c) => Key::Char(c),
+        KeyCode::F(n) => Key::Function(n),
+        KeyCode::Enter => Key::Enter,
+        KeyCode::Backspace => Key::Backspace,
+        KeyCode::Delete => Key::Delete,
+        KeyCode::Left => Key::Left,
+        KeyCode::Right => Key::Right,
+        KeyCode::Up => Key::Up,
+        KeyCode::Down => Key::Down,
+        KeyCode::Home => Key::Home,
+        KeyCode::End => Key::End,
+        KeyCode::PageUp => Key::PageUp,
+        KeyCode::PageDown => Key::PageDown,
+        KeyCode::Tab => Key::Tab,
+        KeyCode::BackTab => Key::BackTab,
+        KeyCode::Esc => Key::Esc,
+        _ => Key::Other,
+    };
+    KeyPress {
+        key,
+        ctrl: ev.modifiers.contains(KeyModifiers::CONTROL),
+        alt: ev.modifiers.contains(KeyModifiers::ALT),
+        shift: ev.modifiers.contains(KeyModifiers::SHIFT),
+    }
 }
 
 /// The bindings active in `ctx`, in table order, for the help overlay.

@@ -1,6 +1,7 @@
 //! The terminal interface: set-up and restore, the event loop, the key table, screens and
 //! widgets. State lives in `crate::app`; this module turns events into actions and draws.
 
+pub mod cautions;
 pub mod keys;
 pub mod screens;
 pub mod theme;
@@ -19,9 +20,11 @@ use ratatui::{backend::Backend, Terminal};
 
 use crate::app::{Action, App};
 
-/// Open the terminal interface on the database at `db`.
-pub fn run(db: &Path) -> anyhow::Result<()> {
-    let mut app = App::open(db)?;
+/// Open the terminal interface on the database at `db`; `actor` is who the audit log records
+/// as the author of changes.
+pub fn run(db: &Path, actor: &str) -> anyhow::Result<()> {
+    let mut app = App::open(db, actor)?;
+    app.home = std::env::var_os("HOME").map(std::path::PathBuf::from);
     let mut terminal = ratatui::try_init()?;
     install_panic_hook();
     let _ = execute!(io::stdout(), EnableMouseCapture, EnableBracketedPaste);

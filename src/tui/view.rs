@@ -1,11 +1,11 @@
 //! Drawing. Only reads the state; never calls the store.
 
 use ratatui::layout::{Constraint, Layout, Rect};
-use ratatui::style::Style;
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Block, Borders, Clear, Paragraph, Widget};
 use ratatui::Frame;
 
+use super::cautions::CAUTIONS;
 use super::keys;
 use super::theme::{theme, Theme};
 use super::widgets::{self, fit};
@@ -14,15 +14,6 @@ use crate::app::{App, Ctx, Prompt, Screen};
 /// Smallest area that gets the full layout; below it a polite message is shown.
 pub const MIN_WIDTH: u16 = 40;
 pub const MIN_HEIGHT: u16 = 10;
-
-/// The cautions of the design brief (§6), shown on the bench screen and in help.
-pub const CAUTIONS: [&str; 3] = [
-    "Broken glass cuts: handle fragments with cut-resistant gloves and eye protection; \
-     tempered glass can keep breaking.",
-    "Estimates from fracture mirrors carry the uncertainty of the constants and readings.",
-    "This tool supports, and does not replace, a qualified investigator; safety-glazing rules \
-     and conclusions that carry legal weight belong to local codes and licensed practice.",
-];
 
 pub fn screen_title(app: &App) -> &'static str {
     match app.screen() {
@@ -92,7 +83,7 @@ fn draw_title(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
         left
     };
     f.buffer_mut()
-        .set_stringn(area.x, area.y, widgets::pad(&text, w), w, th.title);
+        .set_stringn(area.x, area.y, widgets::fit_left(&text, w), w, th.title);
 }
 
 fn draw_status(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
@@ -176,14 +167,14 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     let kw = 12usize;
     for b in keys::bindings_for(ctx) {
         lines.push(Line::from(vec![
-            Span::styled(widgets::pad(b.label, kw), th.focus_label),
+            Span::styled(widgets::fit_left(b.label, kw), th.focus_label),
             Span::raw(b.desc),
         ]));
     }
     if ctx.has_global() {
         let (k, d) = keys::MOUSE_HELP;
         lines.push(Line::from(vec![
-            Span::styled(widgets::pad(k, kw), th.focus_label),
+            Span::styled(widgets::fit_left(k, kw), th.focus_label),
             Span::raw(d),
         ]));
     }
@@ -233,16 +224,4 @@ fn draw_prompt(p: &Prompt, f: &mut Frame, body: Rect, th: &Theme) {
                 .title(" Unsaved changes "),
         )
         .render(area, f.buffer_mut());
-}
-
-/// A titled box; returns the inner area.
-pub fn boxed(f: &mut Frame, area: Rect, title: &str, focused: bool, th: &Theme) -> Rect {
-    let style: Style = if focused { th.focus_border } else { th.border };
-    let block = Block::default()
-        .borders(Borders::ALL)
-        .border_style(style)
-        .title(format!(" {title} "));
-    let inner = block.inner(area);
-    block.render(area, f.buffer_mut());
-    inner
 }

@@ -4,49 +4,18 @@
 
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Rect};
-use ratatui::style::Style;
+use ratatui::style::{Modifier, Style};
 use ratatui::text::{Line, Span};
-use ratatui::widgets::{Paragraph, Row, Table, Widget};
+use ratatui::widgets::{Block, Borders, Paragraph, Row, Table, Widget};
+use ratatui::Frame;
+use ratatui_textarea::{CursorMove, TextArea};
 use unicode_width::{UnicodeWidthChar, UnicodeWidthStr};
 
 use super::theme::Theme;
 use crate::app::field::Field;
 use crate::app::form::{Form, FormItem};
 use crate::app::picklist::PickList;
-
-/// Cut `s` to at most `width` terminal columns, ending with "…" when cut.
-pub fn fit(s: &str, width: usize) -> String {
-    if UnicodeWidthStr::width(s) <= width {
-        return s.to_string();
-    }
-    if width == 0 {
-        return String::new();
-    }
-    let mut out = String::new();
-    let mut used = 0;
-    for ch in s.chars() {
-        let w = UnicodeWidthChar::width(ch).unwrap_or(0);
-        if used + w > width.saturating_sub(1) {
-            break;
-        }
-        out.push(ch);
-        used += w;
-    }
-    out.push('…');
-    out
-}
-
-/// Pad or cut `s` to exactly `width` columns.
-pub fn pad(s: &str, width: usize) -> String {
-    let t = fit(s, width);
-    let w = UnicodeWidthStr::width(t.as_str());
-    format!("{t}{}", " ".repeat(width.saturating_sub(w)))
-}
-
-/// Clean user text for display (no escape sequences, no control characters).
-pub fn clean(s: &str) -> String {
-    shardlog_core::text::sanitize_for_terminal(s, false)
-}
+pub use shardlog_core::text::{clean, fit, fit_left};
 
 /// A rectangle of at most `w`×`h` centred in `area`.
 pub fn centered(area: Rect, w: u16, h: u16) -> Rect {
@@ -214,7 +183,7 @@ fn draw_item(buf: &mut Buffer, area: Rect, item: &FormItem, focused: bool, lw: u
     buf.set_stringn(
         area.x,
         area.y,
-        pad(&fit(&label, lw.saturating_sub(1) as usize), lw as usize),
+        fit_left(&fit(&label, lw.saturating_sub(1) as usize), lw as usize),
         lw as usize,
         label_style,
     );
@@ -258,7 +227,7 @@ fn draw_field(buf: &mut Buffer, area: Rect, f: &Field, focused: bool, th: &Theme
         return;
     }
     if focused {
-        f.textarea().render(area, buf);
+        editor(f).render(area, buf);
         return;
     }
     let lines = f.lines();
@@ -286,6 +255,21 @@ fn draw_field(buf: &mut Buffer, area: Rect, f: &Field, focused: bool, th: &Theme
             mark,
         );
     }
+}
+
+/// The focused field as an editor widget: its lines, the caret in reverse video, the hint
+/// while it is empty.
+fn editor(f: &Field) -> TextArea<'static> {
+    let mut area = TextArea::new(f.lines().to_vec());
+    area.set_cursor_line_style(Style::default());
+    area.set_cursor_style(Style::default().add_modifier(Modifier::REVERSED));
+    if !f.hint.is_empty() {
+        area.set_placeholder_text(f.hint);
+    }
+    let (row, col) = f.caret();
+    let clamp = |n: usize| u16::try_from(n).unwrap_or(u16::MAX);
+    area.move_cursor(CursorMove::Jump(clamp(row), clamp(col)));
+    area
 }
 
 fn draw_pick(buf: &mut Buffer, area: Rect, p: &PickList, focused: bool, th: &Theme) {
@@ -332,7 +316,7 @@ fn draw_pick(buf: &mut Buffer, area: Rect, p: &PickList, focused: bool, th: &The
         buf.set_stringn(
             area.x,
             area.y + 1 + row as u16,
-            pad(&format!(" {}", clean(&item.label)), w),
+            fit_left(&format!(" {}", clean(&item.label)), w),
             w,
             style,
         );
@@ -411,6 +395,18 @@ pub fn para(lines: Vec<Line<'static>>) -> Paragraph<'static> {
     Paragraph::new(lines).wrap(ratatui::widgets::Wrap { trim: false })
 }
 
+/// A titled box; returns the inner area.
+pub fn boxed(f: &mut Frame, area: Rect, title: &str, focused: bool, th: &Theme) -> Rect {
+    let style: Style = if focused { th.focus_border } else { th.border };
+    let block = Block::default()
+        .borders(Borders::ALL)
+        .border_style(style)
+        .title(format!(" {title} "));
+    let inner = block.inner(area);
+    block.render(area, f.buffer_mut());
+    inner
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -424,7 +420,7 @@ mod tests {
             7
         );
         assert_eq!(fit("abc", 0), "");
-        assert_eq!(UnicodeWidthStr::width(pad("東京", 7).as_str()), 7);
+        assert_eq!(UnicodeWidthStr::width(fit_left("東京", 7).as_str()), 7);
     }
 
     #[test]

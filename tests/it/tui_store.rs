@@ -545,3 +545,55 @@ fn the_log_at_80_columns_keeps_what_matters() {
     assert!(t.contains(" assigned "), "{t}");
     assert!(!t.contains("cause ass…"), "{t}");
 }
+
+#[test]
+fn the_audit_author_is_the_actor_the_interface_was_opened_with() {
+    let (f, app) = fixture(1);
+    drop(app);
+    let mut app = App::open(&f.path, " ines\u{1b}[31m ").unwrap();
+    assert_eq!(app.actor, "ines", "trimmed and cleaned for the terminal");
+    open_first(&mut app);
+    send(&mut app, &key(KeyCode::Char('e')));
+    app.edit.as_mut().unwrap().form.set_focus("position");
+    type_str(&mut app, " (checked)");
+    send(&mut app, &ctrl('s'));
+    assert_eq!(app.screen(), Screen::Incident, "{:?}", app.message);
+    let id = app.incident.as_ref().unwrap().incident.id.clone();
+    let history = Store::open(&f.path).unwrap().history(&id).unwrap();
+    let last = history.last().unwrap();
+    assert_eq!(last.op, "update");
+    assert_eq!(last.actor, "ines");
+}
+
+#[test]
+fn a_field_edits_by_the_usual_keys() {
+    let (_f, mut app) = fixture(1);
+    open_first(&mut app);
+    send(&mut app, &key(KeyCode::Char('e')));
+    app.edit.as_mut().unwrap().form.set_focus("position");
+    // clear the line: to its end, then delete the words before the caret
+    send(&mut app, &key(KeyCode::End));
+    for _ in 0..10 {
+        send(&mut app, &ctrl('w'));
+    }
+    type_str(&mut app, "left bay 3");
+    send(&mut app, &key(KeyCode::Home));
+    send(&mut app, &key(KeyCode::Delete));
+    type_str(&mut app, "L");
+    send(&mut app, &key_mod(KeyCode::Right, KeyModifiers::CONTROL));
+    type_str(&mut app, "side ");
+    send(&mut app, &key(KeyCode::End));
+    send(&mut app, &key(KeyCode::Backspace));
+    type_str(&mut app, "3");
+    send(&mut app, &key(KeyCode::Left));
+    send(&mut app, &key(KeyCode::Left));
+    type_str(&mut app, ",");
+    let edit = app.edit.as_ref().unwrap();
+    assert_eq!(edit.form.text("position"), "Left side bay, 3");
+    let lines = render(&mut app, 100, 30);
+    assert!(
+        text(&lines).contains("Left side bay, 3"),
+        "{}",
+        text(&lines)
+    );
+}

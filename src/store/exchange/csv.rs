@@ -7,8 +7,8 @@ use std::collections::HashMap;
 use chrono::NaiveDate;
 use serde_json::Value;
 
-use super::super::model::*;
 use super::super::dates::{fmt_date, parse_date};
+use super::super::model::*;
 use super::{decode_utf8, Problem};
 use shardlog_core::units::{self, Dimension};
 

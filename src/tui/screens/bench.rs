@@ -7,8 +7,9 @@ use ratatui::Frame;
 
 use crate::app::bench::Outcome;
 use crate::app::App;
+use crate::tui::cautions::CAUTIONS;
 use crate::tui::theme::Theme;
-use crate::tui::view::{boxed, CAUTIONS};
+use crate::tui::widgets::boxed;
 use crate::tui::widgets::{self, clean};
 use shardlog_core::fracture::Analysis;
 use shardlog_core::units::{fmt_sig, format, Unit};
@@ -83,10 +84,6 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         .scroll((app.bench.scroll.min(max_scroll), 0))
         .render(inner, f.buffer_mut());
     widgets::para(text).render(caution, f.buffer_mut());
-}
-
-fn mpa(pa: f64) -> String {
-    format(pa, Unit::Megapascal)
 }
 
 fn interval(lo: f64, hi: f64, unit: Unit) -> String {
@@ -192,7 +189,7 @@ fn analysis_lines(
         &format!("Net stress ({})", a.headline.label()),
         format!(
             "{}  ({})",
-            mpa(a.stress_pa),
+            shardlog_core::text::stress(a.stress_pa),
             interval(a.stress_low_pa, a.stress_high_pa, Unit::Megapascal)
         ),
         th,
@@ -201,7 +198,7 @@ fn analysis_lines(
         "Applied stress",
         format!(
             "{}  ({})",
-            mpa(a.applied_stress_pa),
+            shardlog_core::text::stress(a.applied_stress_pa),
             interval(a.applied_low_pa, a.applied_high_pa, Unit::Megapascal)
         ),
         th,
@@ -241,7 +238,7 @@ fn analysis_lines(
                 b.stats.n,
                 length(b.stats.mean)
             )),
-            Span::styled(mpa(b.stress_pa), th.figure),
+            Span::styled(shardlog_core::text::stress(b.stress_pa), th.figure),
             Span::raw(format!(
                 " ({}) {} {}",
                 interval(b.stress_low_pa, b.stress_high_pa, Unit::Megapascal),
@@ -250,7 +247,11 @@ fn analysis_lines(
             )),
         ]));
     }
-    out.push(kv("Residual at origin", mpa(a.residual.at_origin_pa), th));
+    out.push(kv(
+        "Residual at origin",
+        shardlog_core::text::stress(a.residual.at_origin_pa),
+        th,
+    ));
     out.push(Line::styled(
         format!("  {}", clean(&a.residual.basis)),
         th.muted,
@@ -296,6 +297,19 @@ fn analysis_lines(
         }
         None => out.push(kv("Flaw size", "— (no toughness)".into(), th)),
     }
+    geometry_lines(a, per_geometry, th, width, &mut out);
+    out
+}
+
+/// The branching distance predicted, the boundaries' consistency and the flaw size per
+/// geometry.
+fn geometry_lines(
+    a: &Analysis,
+    per_geometry: &[crate::app::bench::GeometryRow],
+    th: &Theme,
+    width: u16,
+    out: &mut Vec<Line<'static>>,
+) {
     if let Some(b) = &a.branching {
         let measured = b
             .measured_m
@@ -344,11 +358,10 @@ fn analysis_lines(
         for g in per_geometry {
             out.push(Line::raw(format!(
                 " {} Y {:<5} {}",
-                widgets::pad(&clean(&g.label), lw),
+                widgets::fit_left(&clean(&g.label), lw),
                 fmt_sig(g.y, 3),
                 length(g.size_m)
             )));
         }
     }
-    out
 }

@@ -5,8 +5,8 @@ use ratatui::Frame;
 
 use crate::app::App;
 use crate::tui::theme::Theme;
-use crate::tui::view::boxed;
 use crate::tui::widgets;
+use crate::tui::widgets::boxed;
 
 pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     let Some(edit) = &app.edit else {

@@ -15,10 +15,6 @@ use crate::tui::widgets::clean;
 use shardlog_core::loads::verdict::{Finding, SoundPart};
 use shardlog_core::units::{fmt_sig, format, Unit};
 
-fn mpa(pa: f64) -> String {
-    format(pa, Unit::Megapascal)
-}
-
 fn length(m: f64) -> String {
     if m.abs() < 1e-3 {
         format(m, Unit::Micrometre)
@@ -46,7 +42,10 @@ fn finding_style(f: Finding, th: &Theme) -> Style {
 fn figures(c: &Check, th: &Theme) -> Line<'static> {
     let mut spans = vec![Span::styled("Hypothesis ", th.label)];
     match (c.outcome.stress, c.outcome.force) {
-        (Some(s), _) => spans.push(Span::styled(format!("σ {}", mpa(s)), th.figure)),
+        (Some(s), _) => spans.push(Span::styled(
+            format!("σ {}", shardlog_core::text::stress(s)),
+            th.figure,
+        )),
         (None, Some(fo)) => spans.push(Span::styled(
             format!("F {}", format(fo, Unit::Newton)),
             th.figure,
@@ -58,7 +57,7 @@ fn figures(c: &Check, th: &Theme) -> Line<'static> {
         spans.push(Span::styled(
             format!(
                 "{} ({} – {})",
-                mpa(m.stress),
+                shardlog_core::text::stress(m.stress),
                 fmt_sig(m.low / 1e6, 3),
                 fmt_sig(m.high / 1e6, 3)
             ),
@@ -152,7 +151,7 @@ pub fn detail_lines(h: &Result<Check, String>, th: &Theme) -> Vec<Line<'static>>
         v.push(Line::styled(
             format!(
                 "  K(a): net σ {} at the origin reaches K_Ic {} at a = {} (Y {})",
-                mpa(k.hypothesis_net_pa),
+                shardlog_core::text::stress(k.hypothesis_net_pa),
                 format(k.k_ic, Unit::MegapascalRootMetre),
                 length(k.curve.critical_size),
                 fmt_sig(k.y, 3)
@@ -185,7 +184,10 @@ pub fn draw_panel(
         Ok(c) => {
             let mut spans = Vec::new();
             match (c.outcome.stress, c.outcome.force) {
-                (Some(s), _) => spans.push(Span::styled(format!("σ {}", mpa(s)), th.figure)),
+                (Some(s), _) => spans.push(Span::styled(
+                    format!("σ {}", shardlog_core::text::stress(s)),
+                    th.figure,
+                )),
                 (None, Some(fo)) => spans.push(Span::styled(
                     format!("F {}", format(fo, Unit::Newton)),
                     th.figure,
@@ -195,7 +197,10 @@ pub fn draw_panel(
             spans.push(Span::styled(" hypothesis", th.label));
             if let Some(m) = &c.measured {
                 spans.push(Span::styled(" · ", th.label));
-                spans.push(Span::styled(mpa(m.stress), th.figure));
+                spans.push(Span::styled(
+                    shardlog_core::text::stress(m.stress),
+                    th.figure,
+                ));
                 spans.push(Span::styled(" measured", th.label));
             }
             let mut t = vec![Line::from(spans), short_verdict(c, th)];

@@ -5,7 +5,7 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::Widget;
 use ratatui::Frame;
 
-use crate::app::incident::{IncidentState, Section};
+use crate::app::incident::{IncidentState, Lists, Section};
 use crate::app::App;
 use crate::store::model::{Incident, LookupKind};
 use crate::tui::theme::Theme;
@@ -66,7 +66,7 @@ fn kv(k: &str, v: impl Into<String>, th: &Theme) -> Line<'static> {
         clean(&v)
     };
     Line::from(vec![
-        Span::styled(format!(" {}", widgets::pad(k, 20)), th.label),
+        Span::styled(format!(" {}", widgets::fit_left(k, 20)), th.label),
         Span::styled(v, th.input),
     ])
 }
@@ -109,50 +109,7 @@ fn section_lines(app: &App, state: &IncidentState, th: &Theme) -> Vec<Line<'stat
             out.push(kv("Description", inc.description.clone(), th));
             out.push(kv("Status", l.label(LookupKind::Status, &inc.status), th));
         }
-        Section::Glass => {
-            let g = &inc.glass;
-            out.push(kv("Supplier", opt(&g.supplier), th));
-            out.push(kv("Product", opt(&g.product), th));
-            out.push(kv("Lot", opt(&g.lot), th));
-            out.push(kv("Make-up", l.label(LookupKind::Makeup, &g.makeup), th));
-            out.push(kv(
-                "Size",
-                match (g.width_m, g.height_m) {
-                    (Some(w), Some(h)) => format!(
-                        "{} × {}",
-                        format(w, Unit::Millimetre),
-                        format(h, Unit::Millimetre)
-                    ),
-                    _ => String::new(),
-                },
-                th,
-            ));
-            if g.plies.is_empty() {
-                out.push(kv("Plies", "none recorded", th));
-            }
-            for (i, p) in g.plies.iter().enumerate() {
-                out.push(Line::styled(format!(" Ply {}", i + 1), th.header));
-                out.push(kv(
-                    "  Material",
-                    p.material
-                        .as_deref()
-                        .map(|m| l.label(LookupKind::Material, m))
-                        .unwrap_or_default(),
-                    th,
-                ));
-                out.push(kv(
-                    "  Temper class",
-                    p.temper
-                        .as_deref()
-                        .map(|m| l.label(LookupKind::TemperClass, m))
-                        .unwrap_or_default(),
-                    th,
-                ));
-                out.push(kv("  Thickness", length(p.thickness_m), th));
-                out.push(kv("  Coating", p.coating.clone(), th));
-                out.push(kv("  Edge finish", p.edge_finish.clone(), th));
-            }
-        }
+        Section::Glass => glass_lines(inc, l, th, &mut out),
         Section::Pattern => {
             let p = &inc.pattern;
             out.push(kv(
@@ -218,87 +175,139 @@ fn section_lines(app: &App, state: &IncidentState, th: &Theme) -> Vec<Line<'stat
                 th,
             ));
         }
-        Section::Evidence => {
-            out.push(Line::styled(
-                format!(
-                    " Attachments ({}) · a attaches a file",
-                    inc.attachments.len()
-                ),
-                th.header,
-            ));
-            for a in &inc.attachments {
-                out.push(Line::raw(format!(
-                    " {} · {} · {} bytes · {}",
-                    clean(&a.file_name),
-                    a.media_type,
-                    a.size_bytes,
-                    a.added_at.format("%Y-%m-%d %H:%M")
-                )));
-                out.push(Line::styled(format!("   sha256 {}", a.sha256), th.muted));
-                if !a.caption.is_empty() {
-                    out.push(Line::styled(format!("   {}", clean(&a.caption)), th.muted));
-                }
-            }
-            out.push(Line::raw(""));
-            out.push(Line::styled(
-                format!(" Custody log ({}) · c adds an entry", inc.custody.len()),
-                th.header,
-            ));
-            for c in &inc.custody {
-                out.push(Line::raw(format!(
-                    " {} · {} · {} · {}{}",
-                    c.at.format("%Y-%m-%d %H:%M"),
-                    l.label(LookupKind::CustodyAction, &c.action),
-                    clean(&c.who),
-                    clean(&c.location),
-                    if c.note.is_empty() {
-                        String::new()
-                    } else {
-                        format!(" · {}", clean(&c.note))
-                    }
-                )));
-            }
-        }
-        Section::History => {
-            out.push(Line::styled(
-                format!(
-                    " History, newest first ({} {})",
-                    state.history.len(),
-                    if state.history.len() == 1 {
-                        "entry"
-                    } else {
-                        "entries"
-                    }
-                ),
-                th.header,
-            ));
-            for h in &state.history {
-                // a new record's every field is "changed": say what happened instead
-                let changed = if h.changed.is_empty() || h.op != "update" {
-                    String::new()
-                } else {
-                    format!(" · {}", h.changed.join(", "))
-                };
-                out.push(Line::raw(format!(
-                    " #{} {} · {} · {}{changed}",
-                    h.seq,
-                    h.at.format("%Y-%m-%d %H:%M:%S"),
-                    clean(&h.actor),
-                    match h.op.as_str() {
-                        "insert" => "created",
-                        "update" => "changed",
-                        "delete" => "deleted",
-                        other => other,
-                    },
-                )));
-                out.push(Line::styled(
-                    format!("   hash {}", h.hash.chars().take(32).collect::<String>()),
-                    th.muted,
-                ));
-            }
-        }
+        Section::Evidence => evidence_lines(inc, l, th, &mut out),
+        Section::History => history_lines(state, th, &mut out),
     }
     out
+}
+
+/// The lines of the history section.
+fn history_lines(state: &IncidentState, th: &Theme, out: &mut Vec<Line<'static>>) {
+    out.push(Line::styled(
+        format!(
+            " History, newest first ({} {})",
+            state.history.len(),
+            if state.history.len() == 1 {
+                "entry"
+            } else {
+                "entries"
+            }
+        ),
+        th.header,
+    ));
+    for h in &state.history {
+        // a new record's every field is "changed": say what happened instead
+        let changed = if h.changed.is_empty() || h.op != "update" {
+            String::new()
+        } else {
+            format!(" · {}", h.changed.join(", "))
+        };
+        out.push(Line::raw(format!(
+            " #{} {} · {} · {}{changed}",
+            h.seq,
+            h.at.format("%Y-%m-%d %H:%M:%S"),
+            clean(&h.actor),
+            match h.op.as_str() {
+                "insert" => "created",
+                "update" => "changed",
+                "delete" => "deleted",
+                other => other,
+            },
+        )));
+        out.push(Line::styled(
+            format!("   hash {}", h.hash.chars().take(32).collect::<String>()),
+            th.muted,
+        ));
+    }
+}
+
+/// The lines of the evidence section.
+fn evidence_lines(inc: &Incident, l: &Lists, th: &Theme, out: &mut Vec<Line<'static>>) {
+    out.push(Line::styled(
+        format!(
+            " Attachments ({}) · a attaches a file",
+            inc.attachments.len()
+        ),
+        th.header,
+    ));
+    for a in &inc.attachments {
+        out.push(Line::raw(format!(
+            " {} · {} · {} bytes · {}",
+            clean(&a.file_name),
+            a.media_type,
+            a.size_bytes,
+            a.added_at.format("%Y-%m-%d %H:%M")
+        )));
+        out.push(Line::styled(format!("   sha256 {}", a.sha256), th.muted));
+        if !a.caption.is_empty() {
+            out.push(Line::styled(format!("   {}", clean(&a.caption)), th.muted));
+        }
+    }
+    out.push(Line::raw(""));
+    out.push(Line::styled(
+        format!(" Custody log ({}) · c adds an entry", inc.custody.len()),
+        th.header,
+    ));
+    for c in &inc.custody {
+        out.push(Line::raw(format!(
+            " {} · {} · {} · {}{}",
+            c.at.format("%Y-%m-%d %H:%M"),
+            l.label(LookupKind::CustodyAction, &c.action),
+            clean(&c.who),
+            clean(&c.location),
+            if c.note.is_empty() {
+                String::new()
+            } else {
+                format!(" · {}", clean(&c.note))
+            }
+        )));
+    }
+}
+
+/// The lines of the glass section.
+fn glass_lines(inc: &Incident, l: &Lists, th: &Theme, out: &mut Vec<Line<'static>>) {
+    let g = &inc.glass;
+    out.push(kv("Supplier", opt(&g.supplier), th));
+    out.push(kv("Product", opt(&g.product), th));
+    out.push(kv("Lot", opt(&g.lot), th));
+    out.push(kv("Make-up", l.label(LookupKind::Makeup, &g.makeup), th));
+    out.push(kv(
+        "Size",
+        match (g.width_m, g.height_m) {
+            (Some(w), Some(h)) => format!(
+                "{} × {}",
+                format(w, Unit::Millimetre),
+                format(h, Unit::Millimetre)
+            ),
+            _ => String::new(),
+        },
+        th,
+    ));
+    if g.plies.is_empty() {
+        out.push(kv("Plies", "none recorded", th));
+    }
+    for (i, p) in g.plies.iter().enumerate() {
+        out.push(Line::styled(format!(" Ply {}", i + 1), th.header));
+        out.push(kv(
+            "  Material",
+            p.material
+                .as_deref()
+                .map(|m| l.label(LookupKind::Material, m))
+                .unwrap_or_default(),
+            th,
+        ));
+        out.push(kv(
+            "  Temper class",
+            p.temper
+                .as_deref()
+                .map(|m| l.label(LookupKind::TemperClass, m))
+                .unwrap_or_default(),
+            th,
+        ));
+        out.push(kv("  Thickness", length(p.thickness_m), th));
+        out.push(kv("  Coating", p.coating.clone(), th));
+        out.push(kv("  Edge finish", p.edge_finish.clone(), th));
+    }
 }
 
 fn examination_lines(app: &App, inc: &Incident, th: &Theme, out: &mut Vec<Line<'static>>) {

@@ -14,9 +14,10 @@ use crate::app::review::{Panel, ReviewData, ReviewState};
 use crate::app::{group_thousands, App};
 use crate::store::model::LookupKind;
 use crate::tui::theme::Theme;
-use crate::tui::widgets::{clean, fit, pad, wrap};
+use crate::tui::widgets::{clean, fit, fit_left, wrap};
 use shardlog_core::fleet::group::NOT_RECORDED;
 use shardlog_core::fleet::Key;
+use shardlog_core::text::pad_left;
 use shardlog_core::units::{fmt_sig, to_mpa};
 
 pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
@@ -55,7 +56,7 @@ fn put(f: &mut Frame, area: Rect, text: &str, w: usize, style: Style) {
         return;
     }
     f.buffer_mut()
-        .set_stringn(area.x, area.y, pad(&fit(text, w), w), w, style);
+        .set_stringn(area.x, area.y, fit_left(&fit(text, w), w), w, style);
 }
 
 /// Text over the rows of `area`, wrapped at words (the last row cut with … if it must be).
@@ -186,7 +187,7 @@ fn bars(
         let lstyle = if sel { th.selected } else { th.label };
         let buf = f.buffer_mut();
         buf.set_stringn(area.x, y, marker, 1, th.focus_label);
-        buf.set_stringn(area.x + 1, y, pad(&fit(label, lw), lw), lw, lstyle);
+        buf.set_stringn(area.x + 1, y, fit_left(&fit(label, lw), lw), lw, lstyle);
         let b = bar(*v, max, bw);
         let bx = area.x + 2 + lw as u16;
         buf.set_stringn(bx, y, &b, bw, th.figure);
@@ -541,22 +542,7 @@ fn weibull(
     // the incidents as whole-cell marks over the line, so they read at any size
     let gpts: Vec<(f64, f64, &str)> = gplot.iter().map(|p| (p.x, p.y, "○")).collect();
     let marks: Vec<(f64, f64, &str)> = pts.iter().map(|(x, y)| (*x, *y, "●")).chain(gpts).collect();
-    for (x, y, mark) in &marks {
-        let style = if *mark == "○" {
-            th.warning
-        } else {
-            th.figure
-        };
-        let cx = ((x - x0) / (x1 - x0) * (plot.width.saturating_sub(1)) as f64).round();
-        let cy = ((y1 - y) / (y1 - y0) * (plot.height.saturating_sub(1)) as f64).round();
-        if cx.is_finite() && cy.is_finite() && cx >= 0.0 && cy >= 0.0 {
-            let (cx, cy) = (cx as u16, cy as u16);
-            if cx < plot.width && cy < plot.height {
-                f.buffer_mut()
-                    .set_stringn(plot.x + cx, plot.y + cy, mark, 1, style);
-            }
-        }
-    }
+    draw_marks(f, plot, [x0, x1], [y0, y1], &marks, th);
     let p_of = |y: f64| 100.0 * -(-(y.exp())).exp_m1();
     let buf = f.buffer_mut();
     buf.set_stringn(
@@ -587,6 +573,33 @@ fn weibull(
         if xw > hw + lo.len() + mw + 6 {
             let mx = xlab.x + ((xw - mw) / 2) as u16;
             buf.set_stringn(mx, xlab.y, mid, mw, th.muted);
+        }
+    }
+}
+
+/// The incidents as whole-cell marks at their place in `plot` (x and y from low to high).
+fn draw_marks(
+    f: &mut Frame,
+    plot: Rect,
+    [x0, x1]: [f64; 2],
+    [y0, y1]: [f64; 2],
+    marks: &[(f64, f64, &str)],
+    th: &Theme,
+) {
+    for (x, y, mark) in marks {
+        let style = if *mark == "○" {
+            th.warning
+        } else {
+            th.figure
+        };
+        let cx = ((x - x0) / (x1 - x0) * (plot.width.saturating_sub(1)) as f64).round();
+        let cy = ((y1 - y) / (y1 - y0) * (plot.height.saturating_sub(1)) as f64).round();
+        if cx.is_finite() && cy.is_finite() && cx >= 0.0 && cy >= 0.0 {
+            let (cx, cy) = (cx as u16, cy as u16);
+            if cx < plot.width && cy < plot.height {
+                f.buffer_mut()
+                    .set_stringn(plot.x + cx, plot.y + cy, mark, 1, style);
+            }
         }
     }
 }
@@ -649,7 +662,7 @@ fn groups(
     cols.push(("flag", 4));
     let fixed: usize = cols.iter().map(|c| c.1 + 1).sum();
     let kw = (area.width as usize).saturating_sub(fixed + 2).max(6);
-    let mut header = format!(" {}", pad("group", kw));
+    let mut header = format!(" {}", fit_left("group", kw));
     for (h, cw) in &cols {
         header.push(' ');
         header.push_str(&lpad(h, *cw));
@@ -681,7 +694,7 @@ fn groups(
         cells.push(if g.flagged { "HIGH" } else { "" }.to_string());
         let mut s = String::new();
         s.push(if i == sel { '▶' } else { ' ' });
-        s.push_str(&pad(&fit(&labels.of(&t.keys, &g.key), kw), kw));
+        s.push_str(&fit_left(&fit(&labels.of(&t.keys, &g.key), kw), kw));
         for (c, (_, cw)) in cells.iter().zip(&cols) {
             s.push(' ');
             s.push_str(&lpad(c, *cw));
@@ -695,7 +708,7 @@ fn groups(
         };
         let y = body.y + line as u16;
         f.buffer_mut()
-            .set_stringn(body.x, y, pad(&fit(&s, aw), aw), aw, style);
+            .set_stringn(body.x, y, fit_left(&fit(&s, aw), aw), aw, style);
     }
     if t.rows.is_empty() {
         put(f, body, "  nothing in this window", aw, th.muted);
@@ -703,7 +716,5 @@ fn groups(
 }
 
 fn lpad(s: &str, w: usize) -> String {
-    let s = fit(s, w);
-    let sw = UnicodeWidthStr::width(s.as_str());
-    format!("{}{s}", " ".repeat(w.saturating_sub(sw)))
+    pad_left(&fit(s, w), w)
 }

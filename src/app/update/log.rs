@@ -1,0 +1,197 @@
+//! The log screen: moving, sorting, searching, the filter form.
+
+use crate::app::field::{self, Field, FieldKind};
+use crate::app::form::Form;
+use crate::app::incident::{EditKind, EditState};
+use crate::app::picklist::{PickItem, PickList};
+use crate::app::{Action, App, Screen};
+use crate::store::model::LookupKind;
+
+impl App {
+    pub(super) fn update_log(&mut self, action: Action) {
+        if let Some(search) = &mut self.search {
+            match action {
+                Action::Confirm => {
+                    let t = search.text().trim().to_string();
+                    self.search = None;
+                    self.log.filter.text = if t.is_empty() { None } else { Some(t) };
+                    self.reload_log();
+                }
+                Action::Back => {
+                    self.search = None;
+                    self.info("search cancelled");
+                }
+                Action::Input(i) => {
+                    search.input(i);
+                }
+                Action::Paste(p) => search.paste(&p),
+                _ => {}
+            }
+            return;
+        }
+        let Some(store) = self.store.as_ref() else {
+            return;
+        };
+        let r = match action {
+            Action::Down | Action::ScrollDown => self.log.down(store),
+            Action::Up | Action::ScrollUp => self.log.up(store),
+            Action::PageDown => self.log.pg_down(store),
+            Action::PageUp => self.log.pg_up(store),
+            Action::Home => self.log.home(store),
+            Action::End => self.log.end(store),
+            Action::SortNext => {
+                self.log.next_sort();
+                self.log.reload(store)
+            }
+            Action::SortReverse => {
+                self.log.reverse_sort();
+                self.log.reload(store)
+            }
+            Action::ClearFilter => {
+                self.log.filter = Default::default();
+                let r = self.log.reload(store);
+                self.info("filters cleared");
+                r
+            }
+            Action::Search => {
+                let mut f = Field::new("search", "Search", FieldKind::Text { required: false })
+                    .with_hint("words in reference, position, description, notes");
+                if let Some(t) = &self.log.filter.text {
+                    f.set_text(t);
+                }
+                self.search = Some(f);
+                Ok(())
+            }
+            Action::Filter => {
+                self.open_filter();
+                Ok(())
+            }
+            Action::Confirm | Action::Right => {
+                if let Some(row) = self.log.selected_row() {
+                    let id = row.id.clone();
+                    self.open_incident(&id);
+                }
+                Ok(())
+            }
+            Action::NewIncident => {
+                self.open_new();
+                Ok(())
+            }
+            Action::OpenBench => {
+                self.bench_target = None;
+                self.stack.push(Screen::Bench);
+                Ok(())
+            }
+            Action::OpenReview => {
+                self.open_review();
+                Ok(())
+            }
+            _ => Ok(()),
+        };
+        self.report(r);
+    }
+
+    pub(super) fn reload_log(&mut self) {
+        if let Some(store) = self.store.as_ref() {
+            let r = self.log.reload(store);
+            self.report(r);
+        }
+    }
+
+    pub(super) fn open_filter(&mut self) {
+        let f = &self.log.filter;
+        let mut form = Form::default();
+        let any = |items: Vec<PickItem>| {
+            let mut v = vec![PickItem::new("", "any")];
+            v.extend(items);
+            v
+        };
+        let pick = |key, label, items: Vec<PickItem>, cur: &Option<String>| {
+            PickList::new(key, label, any(items)).with_choice(cur.as_deref().unwrap_or(""))
+        };
+        form.push_pick(pick(
+            "status",
+            "Status",
+            self.lists.lookup(LookupKind::Status),
+            &f.status,
+        ));
+        form.push_pick(pick(
+            "cause",
+            "Cause",
+            self.lists.lookup(LookupKind::CauseCategory),
+            &f.cause,
+        ));
+        form.push_pick(pick(
+            "origin_type",
+            "Origin type",
+            self.lists.lookup(LookupKind::OriginType),
+            &f.origin_type,
+        ));
+        form.push_pick(pick(
+            "supplier",
+            "Supplier",
+            self.lists.suppliers.clone(),
+            &f.supplier,
+        ));
+        form.push_pick(pick("lot", "Lot", self.lists.lots.clone(), &f.lot));
+        form.push_pick(pick("site", "Site", self.lists.sites.clone(), &f.site));
+        form.push_field(
+            Field::new("since", "Found since", FieldKind::Date { optional: true })
+                .with_hint("YYYY-MM-DD")
+                .with_text(&f.since.map(|d| d.to_string()).unwrap_or_default()),
+        );
+        form.push_field(
+            Field::new("until", "Found until", FieldKind::Date { optional: true })
+                .with_hint("YYYY-MM-DD")
+                .with_text(&f.until.map(|d| d.to_string()).unwrap_or_default()),
+        );
+        form.push_field(
+            Field::new("text", "Text", FieldKind::Text { required: false })
+                .with_text(f.text.as_deref().unwrap_or("")),
+        );
+        form.mark_clean();
+        self.edit = Some(EditState {
+            kind: EditKind::Filter,
+            form,
+            base: None,
+            conflict: false,
+        });
+        self.stack.push(Screen::Edit);
+    }
+
+    pub(super) fn apply_filter(&mut self) {
+        let Some(edit) = &self.edit else { return };
+        if let Some((_, e)) = edit.form.first_error() {
+            self.error(e);
+            return;
+        }
+        let form = &edit.form;
+        let opt = |k: &str| {
+            let t = form.text(k);
+            if t.is_empty() {
+                None
+            } else {
+                Some(t)
+            }
+        };
+        let date = |k: &str| match form.field(k).map(|f| f.value()) {
+            Some(Ok(field::FieldValue::Date(d))) => Some(d),
+            _ => None,
+        };
+        let filter = crate::store::model::Filter {
+            status: opt("status"),
+            cause: opt("cause"),
+            origin_type: opt("origin_type"),
+            supplier: opt("supplier"),
+            lot: opt("lot"),
+            site: opt("site"),
+            since: date("since"),
+            until: date("until"),
+            text: opt("text"),
+        };
+        self.log.filter = filter;
+        self.edit = None;
+        self.stack.pop();
+        self.reload_log();
+    }
+}

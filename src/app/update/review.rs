@@ -1,0 +1,72 @@
+//! The fleet review: panels, grouping, window, and opening a group in the log.
+
+use crate::app::review;
+use crate::app::{Action, App, Screen};
+
+impl App {
+    /// Open the fleet review (figures computed now, from the store).
+    pub fn open_review(&mut self) {
+        self.reload_review();
+        if self.screen() != Screen::Review {
+            self.stack.push(Screen::Review);
+        }
+    }
+
+    pub(super) fn reload_review(&mut self) {
+        let Some(store) = self.store.as_ref() else {
+            self.error("no database is open: the review needs the incident records");
+            return;
+        };
+        // the window ends today
+        let today = self.stamp().at.date_naive();
+        self.review.load(store, today);
+    }
+
+    pub(super) fn update_review(&mut self, action: Action) {
+        let page = self.height.saturating_sub(8).max(1) as i64;
+        match action {
+            Action::NextSection | Action::Right => self.review.panel = self.review.panel.next(),
+            Action::PrevSection | Action::Left => self.review.panel = self.review.panel.prev(),
+            Action::Down | Action::ScrollDown => self.review.move_by(1),
+            Action::Up | Action::ScrollUp => self.review.move_by(-1),
+            Action::PageDown => self.review.move_by(page),
+            Action::PageUp => self.review.move_by(-page),
+            Action::Home => self.review.home(),
+            Action::End => self.review.end(),
+            Action::GroupFirst => {
+                self.review.next_first_key();
+                self.review.panel = review::Panel::Groups;
+                self.reload_review();
+            }
+            Action::GroupSecond => {
+                self.review.next_second_key();
+                self.review.panel = review::Panel::Groups;
+                self.reload_review();
+            }
+            Action::NextWindow => {
+                self.review.next_window();
+                self.reload_review();
+            }
+            Action::ToggleGroupMonths => {
+                self.review.group_months = !self.review.group_months;
+                self.review.panel = review::Panel::Months;
+            }
+            Action::Confirm => match self.review.selected_filter() {
+                Ok((filter, _, _)) => {
+                    self.log.filter = filter;
+                    // the log sits beneath the review: go back to it, filtered
+                    while self.stack.len() > 1 && self.screen() != Screen::Log {
+                        self.leave_screen();
+                    }
+                    if self.screen() != Screen::Log {
+                        self.stack.push(Screen::Log);
+                    }
+                    // the filter line names the group; the status line gives its count
+                    self.reload_log();
+                }
+                Err(e) => self.error(e),
+            },
+            _ => {}
+        }
+    }
+}
