@@ -79,6 +79,9 @@ pub enum Unit {
     Millimetre,
     Micrometre,
     Inch,
+    Centimetre,
+    Mil,
+    Foot,
     // stress and pressure
     Pascal,
     Kilopascal,
@@ -86,6 +89,7 @@ pub enum Unit {
     Gigapascal,
     Psi,
     Ksi,
+    Bar,
     // fracture toughness
     PascalRootMetre,
     MegapascalRootMetre,
@@ -98,14 +102,17 @@ pub enum Unit {
     MetrePerSecond,
     KilometrePerHour,
     MilePerHour,
+    Knot,
     // time
     Second,
     Millisecond,
     Microsecond,
+    Minute,
     // force
     Newton,
     Kilonewton,
     PoundForce,
+    KilogramForce,
     // temperature difference
     Kelvin,
     CelsiusDifference,
@@ -118,6 +125,7 @@ const INCH: f64 = 0.0254;
 const PSI: f64 = 6_894.757_293_168_361; // 1 lbf/in², exact by the definition of lbf and in
 const POUND: f64 = 0.453_592_37; // exact by definition
 const LBF: f64 = 4.448_221_615_260_5; // exact by definition (pound × standard gravity)
+const STANDARD_GRAVITY: f64 = 9.806_65; // m/s², exact by definition (CGPM 1901)
 
 impl Unit {
     pub const ALL: &'static [Unit] = &[
@@ -150,18 +158,26 @@ impl Unit {
         Unit::CelsiusDifference,
         Unit::FahrenheitDifference,
         Unit::Joule,
+        // plain units practitioners also type, listed after the usual ones
+        Unit::Centimetre,
+        Unit::Mil,
+        Unit::Foot,
+        Unit::Bar,
+        Unit::Knot,
+        Unit::Minute,
+        Unit::KilogramForce,
     ];
 
     pub fn dimension(self) -> Dimension {
         use Unit::*;
         match self {
-            Metre | Millimetre | Micrometre | Inch => Dimension::Length,
-            Pascal | Kilopascal | Megapascal | Gigapascal | Psi | Ksi => Dimension::Stress,
+            Metre | Millimetre | Micrometre | Inch | Centimetre | Mil | Foot => Dimension::Length,
+            Pascal | Kilopascal | Megapascal | Gigapascal | Psi | Ksi | Bar => Dimension::Stress,
             PascalRootMetre | MegapascalRootMetre | KsiRootInch => Dimension::Toughness,
             Kilogram | Gram | Pound => Dimension::Mass,
-            MetrePerSecond | KilometrePerHour | MilePerHour => Dimension::Speed,
-            Second | Millisecond | Microsecond => Dimension::Time,
-            Newton | Kilonewton | PoundForce => Dimension::Force,
+            MetrePerSecond | KilometrePerHour | MilePerHour | Knot => Dimension::Speed,
+            Second | Millisecond | Microsecond | Minute => Dimension::Time,
+            Newton | Kilonewton | PoundForce | KilogramForce => Dimension::Force,
             Kelvin | CelsiusDifference | FahrenheitDifference => Dimension::TemperatureDifference,
             Joule => Dimension::Energy,
         }
@@ -175,12 +191,16 @@ impl Unit {
             Millimetre => 1e-3,
             Micrometre => 1e-6,
             Inch => INCH,
+            Centimetre => 1e-2,
+            Mil => 2.54e-5, // a thousandth of an inch, exact
+            Foot => 0.3048, // twelve inches, exact
             Pascal => 1.0,
             Kilopascal => 1e3,
             Megapascal => 1e6,
             Gigapascal => 1e9,
             Psi => PSI,
             Ksi => PSI * 1e3,
+            Bar => 1e5, // exact by definition
             PascalRootMetre => 1.0,
             MegapascalRootMetre => 1e6,
             KsiRootInch => PSI * 1e3 * 0.159_373_775_392_898_6, // √0.0254 m
@@ -190,12 +210,15 @@ impl Unit {
             MetrePerSecond => 1.0,
             KilometrePerHour => 1.0 / 3.6,
             MilePerHour => 0.447_04, // exact: 1609.344 m / 3600 s
+            Knot => 1852.0 / 3600.0, // exact: one nautical mile (1852 m) per hour
             Second => 1.0,
             Millisecond => 1e-3,
             Microsecond => 1e-6,
+            Minute => 60.0,
             Newton => 1.0,
             Kilonewton => 1e3,
             PoundForce => LBF,
+            KilogramForce => STANDARD_GRAVITY, // exact: one kilogram under standard gravity
             Kelvin => 1.0,
             CelsiusDifference => 1.0,
             FahrenheitDifference => 5.0 / 9.0,
@@ -211,12 +234,16 @@ impl Unit {
             Millimetre => "mm",
             Micrometre => "µm",
             Inch => "in",
+            Centimetre => "cm",
+            Mil => "mil",
+            Foot => "ft",
             Pascal => "Pa",
             Kilopascal => "kPa",
             Megapascal => "MPa",
             Gigapascal => "GPa",
             Psi => "psi",
             Ksi => "ksi",
+            Bar => "bar",
             PascalRootMetre => "Pa·√m",
             MegapascalRootMetre => "MPa·√m",
             KsiRootInch => "ksi·√in",
@@ -226,12 +253,16 @@ impl Unit {
             MetrePerSecond => "m/s",
             KilometrePerHour => "km/h",
             MilePerHour => "mph",
+            // "kn" is the usual symbol, but it differs from kN (kilonewton) by case alone
+            Knot => "knot",
             Second => "s",
             Millisecond => "ms",
             Microsecond => "µs",
+            Minute => "min",
             Newton => "N",
             Kilonewton => "kN",
             PoundForce => "lbf",
+            KilogramForce => "kgf",
             Kelvin => "K",
             CelsiusDifference => "°C",
             FahrenheitDifference => "°F",
@@ -264,46 +295,116 @@ impl Unit {
         value * self.factor()
     }
 
-    /// Recognise a unit as typed. Case matters where it must (mm vs Mm do not clash here,
-    /// but `MPa` and `mpa` are both accepted since nobody means millipascal).
+    /// Recognise a unit as typed. Letters keep their case: SI prefixes are case-sensitive
+    /// (`m` is milli, `M` mega; `K` is kelvin, `k` kilo), so `mPa`, `Mm` or `mS` are not read
+    /// as MPa, mm or ms. Units with no prefix letters (`psi`, `in`, `mph`, …) are read in any
+    /// case. Anything else is `None`; [`Unit::case_hint`] says what was probably meant.
     pub fn lookup(text: &str) -> Option<Unit> {
         let key = normalise_unit(text);
-        use Unit::*;
-        let unit = match key.as_str() {
-            "m" => Metre,
-            "mm" => Millimetre,
-            "um" | "micron" | "microns" | "micrometre" | "micrometer" => Micrometre,
-            "in" | "inch" | "inches" | "\"" => Inch,
-            "pa" => Pascal,
-            "kpa" => Kilopascal,
-            "mpa" | "n/mm2" | "n/mm^2" => Megapascal,
-            "gpa" => Gigapascal,
-            "psi" => Psi,
-            "ksi" => Ksi,
-            "pa√m" | "pam^0.5" | "pam^1/2" | "pasqrt(m)" => PascalRootMetre,
-            "mpa√m" | "mpam^0.5" | "mpam^1/2" | "mpasqrt(m)" | "mn/m^1.5" | "mn/m^3/2"
-            | "mn/m1.5" => MegapascalRootMetre,
-            "ksi√in" | "ksiin^0.5" | "ksiin^1/2" | "ksisqrt(in)" => KsiRootInch,
-            "kg" => Kilogram,
-            "g" => Gram,
-            "lb" | "lbs" | "lbm" => Pound,
-            "m/s" | "mps" => MetrePerSecond,
-            "km/h" | "kmh" | "kph" => KilometrePerHour,
-            "mph" | "mi/h" => MilePerHour,
-            "s" | "sec" => Second,
-            "ms" => Millisecond,
-            "us" => Microsecond,
-            "n" => Newton,
-            "kn" => Kilonewton,
-            "lbf" => PoundForce,
-            "k" => Kelvin,
-            "°c" | "degc" | "c" => CelsiusDifference,
-            "°f" | "degf" | "f" => FahrenheitDifference,
-            "j" => Joule,
-            _ => return None,
-        };
-        Some(unit)
+        if let Some(u) = exact_unit(&key) {
+            return Some(u);
+        }
+        word_unit(&key.to_lowercase())
     }
+
+    /// For a unit text that [`Unit::lookup`] refused: the units it matches when case is
+    /// ignored (e.g. `mpa` → MPa, `1Mm` → mm, `40k` → K, `kn` → kN and knot).
+    pub fn case_hint(text: &str) -> Vec<Unit> {
+        let key = normalise_unit(text).to_lowercase();
+        let mut out: Vec<Unit> = Vec::new();
+        for (spelling, unit) in EXACT_SPELLINGS {
+            if spelling.to_lowercase() == key && !out.contains(unit) {
+                out.push(*unit);
+            }
+        }
+        // knots are typed "kn" in navigation; kilonewtons are kN
+        if key == "kn" && !out.contains(&Unit::Knot) {
+            out.push(Unit::Knot);
+        }
+        out
+    }
+}
+
+/// Spellings read exactly as written (after white space, multiplication dots and micro signs
+/// are folded). Case matters here. A table: the program's own symbols, the ASCII forms it
+/// stores, and the other forms in common use.
+const EXACT_SPELLINGS: &[(&str, Unit)] = &[
+    ("m", Unit::Metre),
+    ("mm", Unit::Millimetre),
+    ("um", Unit::Micrometre),
+    ("cm", Unit::Centimetre),
+    ("Pa", Unit::Pascal),
+    ("kPa", Unit::Kilopascal),
+    ("kN/m^2", Unit::Kilopascal),
+    ("kN/m2", Unit::Kilopascal),
+    ("MPa", Unit::Megapascal),
+    ("N/mm^2", Unit::Megapascal),
+    ("N/mm2", Unit::Megapascal),
+    ("GPa", Unit::Gigapascal),
+    ("Pa√m", Unit::PascalRootMetre),
+    ("Pam^0.5", Unit::PascalRootMetre),
+    ("Pam^1/2", Unit::PascalRootMetre),
+    ("Pasqrt(m)", Unit::PascalRootMetre),
+    ("MPa√m", Unit::MegapascalRootMetre),
+    ("MPam^0.5", Unit::MegapascalRootMetre),
+    ("MPam^1/2", Unit::MegapascalRootMetre),
+    ("MPasqrt(m)", Unit::MegapascalRootMetre),
+    ("MN/m^1.5", Unit::MegapascalRootMetre),
+    ("MN/m^3/2", Unit::MegapascalRootMetre),
+    ("MN/m1.5", Unit::MegapascalRootMetre),
+    ("kg", Unit::Kilogram),
+    ("g", Unit::Gram),
+    ("m/s", Unit::MetrePerSecond),
+    ("km/h", Unit::KilometrePerHour),
+    ("kmh", Unit::KilometrePerHour),
+    ("kph", Unit::KilometrePerHour),
+    ("s", Unit::Second),
+    ("ms", Unit::Millisecond),
+    ("us", Unit::Microsecond),
+    ("N", Unit::Newton),
+    ("kN", Unit::Kilonewton),
+    ("kgf", Unit::KilogramForce),
+    ("K", Unit::Kelvin),
+    ("°C", Unit::CelsiusDifference),
+    ("degC", Unit::CelsiusDifference),
+    ("C", Unit::CelsiusDifference),
+    ("°F", Unit::FahrenheitDifference),
+    ("degF", Unit::FahrenheitDifference),
+    ("F", Unit::FahrenheitDifference),
+    ("J", Unit::Joule),
+];
+
+fn exact_unit(key: &str) -> Option<Unit> {
+    EXACT_SPELLINGS
+        .iter()
+        .find(|(spelling, _)| *spelling == key)
+        .map(|(_, u)| *u)
+}
+
+/// Units whose letters are no SI prefix: case carries no meaning, so any case is read.
+fn word_unit(lower: &str) -> Option<Unit> {
+    use Unit::*;
+    let unit = match lower {
+        "micron" | "microns" | "micrometre" | "micrometer" | "micrometres" | "micrometers" => {
+            Micrometre
+        }
+        "in" | "inch" | "inches" | "\"" => Inch,
+        "mil" | "mils" | "thou" => Mil,
+        "ft" | "foot" | "feet" | "'" => Foot,
+        "psi" => Psi,
+        "ksi" => Ksi,
+        "bar" => Bar,
+        "ksi√in" | "ksiin^0.5" | "ksiin^1/2" | "ksisqrt(in)" => KsiRootInch,
+        "lb" | "lbs" | "lbm" => Pound,
+        "mps" => MetrePerSecond,
+        "mph" | "mi/h" => MilePerHour,
+        "knot" | "knots" | "kt" | "kts" => Knot,
+        "sec" | "secs" | "second" | "seconds" => Second,
+        "min" | "mins" | "minute" | "minutes" => Minute,
+        "lbf" => PoundForce,
+        _ => return None,
+    };
+    Some(unit)
 }
 
 impl fmt::Display for Unit {
@@ -312,8 +413,8 @@ impl fmt::Display for Unit {
     }
 }
 
-/// Fold the many ways of writing a unit into one key: lower case, no spaces or
-/// multiplication dots, micro signs to `u`, `½` to `0.5`.
+/// Fold the many ways of writing a unit into one key: no spaces or multiplication dots,
+/// micro signs to `u`, `½` to `0.5`, `²` to `^2`. Case is kept: it carries meaning.
 fn normalise_unit(text: &str) -> String {
     let mut out = String::with_capacity(text.len());
     for ch in text.trim().chars() {
@@ -324,11 +425,11 @@ fn normalise_unit(text: &str) -> String {
             'µ' | 'μ' => out.push('u'),
             '½' => out.push_str("0.5"),
             '²' => out.push_str("^2"),
-            c => out.extend(c.to_lowercase()),
+            c => out.push(c),
         }
     }
-    // "MPa·m^½" arrives here as "mpam^0.5"; "MPa·√m" as "mpa√m". `m2` after a slash means m².
-    out.replace("n/mm2", "n/mm^2")
+    // "MPa·m^½" arrives here as "MPam^0.5"; "MPa·√m" as "MPa√m".
+    out
 }
 
 /// Why a typed quantity was refused. The caller adds the field name.
@@ -354,6 +455,15 @@ pub enum UnitError {
         unit: String,
         dim: &'static str,
         units: String,
+    },
+    #[error(
+        "'{input}': '{unit}' is not read as {suggestion}: unit letters are case-sensitive \
+         (m is milli, M is mega, k is kilo, K is kelvin); did you mean {suggestion}?"
+    )]
+    CaseChangesMeaning {
+        input: String,
+        unit: String,
+        suggestion: String,
     },
     #[error("'{input}' is not a number; expected a {dim} such as {example}")]
     NotANumber {
@@ -503,6 +613,26 @@ pub fn parse_with_unit(input: &str, dim: Dimension) -> Result<(f64, Unit), UnitE
     }
     let unit = match Unit::lookup(unit_text) {
         Some(u) if u.dimension() == dim => u,
+        None => {
+            let meant: Vec<&str> = Unit::case_hint(unit_text)
+                .into_iter()
+                .filter(|u| u.dimension() == dim)
+                .map(Unit::symbol)
+                .collect();
+            if meant.is_empty() {
+                return Err(UnitError::WrongUnit {
+                    input: text.to_string(),
+                    unit: unit_text.to_string(),
+                    dim: dim.name(),
+                    units: unit_list(dim),
+                });
+            }
+            return Err(UnitError::CaseChangesMeaning {
+                input: text.to_string(),
+                unit: unit_text.to_string(),
+                suggestion: meant.join(" or "),
+            });
+        }
         _ => {
             return Err(UnitError::WrongUnit {
                 input: text.to_string(),
@@ -719,6 +849,107 @@ mod tests {
         assert_eq!(fmt_sig(1234.6, 3), "1235");
         let s = format_exact(0.98e-3, Unit::Millimetre);
         assert!(close(parse(&s, Dimension::Length).unwrap(), 0.98e-3), "{s}");
+    }
+
+    #[test]
+    fn case_that_changes_meaning_is_refused_with_a_hint() {
+        // SI prefixes are case-sensitive (SI Brochure, 9th ed., 2019, §3: "prefix symbols are
+        // printed in roman type… the symbols are case-sensitive"; m = milli, M = mega).
+        for (typed, dim, meant) in [
+            ("95mPa", Dimension::Stress, "MPa"),
+            ("95 mpa", Dimension::Stress, "MPa"),
+            ("95 MPA", Dimension::Stress, "MPa"),
+            ("2 kpa", Dimension::Stress, "kPa"),
+            ("1Mm", Dimension::Length, "mm"),
+            ("1 MM", Dimension::Length, "mm"),
+            ("40mS", Dimension::Time, "ms"),
+            ("40 MS", Dimension::Time, "ms"),
+            ("40k", Dimension::TemperatureDifference, "K"),
+            ("10M/S", Dimension::Speed, "m/s"),
+            ("1.8 KG", Dimension::Mass, "kg"),
+            ("0.75 mpa√m", Dimension::Toughness, "MPa·√m"),
+            ("3 n", Dimension::Force, "N"),
+        ] {
+            match parse(typed, dim) {
+                Err(e @ UnitError::CaseChangesMeaning { .. }) => {
+                    let msg = e.to_string();
+                    assert!(msg.contains(&format!("did you mean {meant}?")), "{typed}: {msg}");
+                    assert!(msg.contains("case-sensitive"), "{typed}: {msg}");
+                }
+                other => panic!("{typed}: expected a refusal with a hint, got {other:?}"),
+            }
+        }
+        // "kn": kilonewton or knot, by case alone: the hint names the one of the dimension
+        let msg = parse("3 kn", Dimension::Force).unwrap_err().to_string();
+        assert!(msg.contains("did you mean kN?"), "{msg}");
+        let msg = parse("3 kn", Dimension::Speed).unwrap_err().to_string();
+        assert!(msg.contains("did you mean knot?"), "{msg}");
+        // a unit of another dimension is still the wrong unit, not a case slip
+        assert!(matches!(
+            parse("95 mpa", Dimension::Length),
+            Err(UnitError::WrongUnit { .. })
+        ));
+    }
+
+    #[test]
+    fn spellings_people_really_type() {
+        for (typed, dim, si) in [
+            ("850 um", Dimension::Length, 850e-6),
+            ("850 µm", Dimension::Length, 850e-6),
+            ("850 μm", Dimension::Length, 850e-6),
+            ("850 microns", Dimension::Length, 850e-6),
+            ("0.25 in", Dimension::Length, 0.25 * 0.0254),
+            ("0.25 IN", Dimension::Length, 0.25 * 0.0254),
+            ("0.25\"", Dimension::Length, 0.25 * 0.0254),
+            ("8700 psi", Dimension::Stress, 8700.0 * PSI),
+            ("8700 PSI", Dimension::Stress, 8700.0 * PSI),
+            ("9 KSI", Dimension::Stress, 9000.0 * PSI),
+            ("60 N/mm²", Dimension::Stress, 60e6),
+            ("26 MPH", Dimension::Speed, 26.0 * 0.447_04),
+            ("30 °C", Dimension::TemperatureDifference, 30.0),
+            ("30 degC", Dimension::TemperatureDifference, 30.0),
+            ("30 K", Dimension::TemperatureDifference, 30.0),
+        ] {
+            let got = parse(typed, dim).unwrap_or_else(|e| panic!("{typed}: {e}"));
+            assert!(close(got, si), "{typed}: {got} against {si}");
+        }
+    }
+
+    #[test]
+    fn plain_units_convert_exactly() {
+        // Exact by definition: 1 in = 0.0254 m (international inch, 1959), so 1 ft = 0.3048 m
+        // and 1 mil = 25.4 µm; 1 bar = 100 kPa; 1 kgf = 9.80665 N (standard gravity, CGPM
+        // 1901); 1 knot = 1852 m per hour (international nautical mile); 1 min = 60 s;
+        // 1 kN/m² = 1 kPa. Source: NIST SP 811 (2008), Appendix B.8, where each of these is
+        // marked exact (cited from memory of the document; the values are the definitions).
+        for (typed, dim, si) in [
+            ("2.5 cm", Dimension::Length, 0.025),
+            ("12 mil", Dimension::Length, 12.0 * 25.4e-6),
+            ("3 ft", Dimension::Length, 3.0 * 0.3048),
+            ("1.5 bar", Dimension::Stress, 1.5e5),
+            ("2 kN/m²", Dimension::Stress, 2000.0),
+            ("2 kN/m2", Dimension::Stress, 2000.0),
+            ("5 kgf", Dimension::Force, 5.0 * 9.806_65),
+            ("2 min", Dimension::Time, 120.0),
+            ("10 knots", Dimension::Speed, 10.0 * 1852.0 / 3600.0),
+        ] {
+            let got = parse(typed, dim).unwrap_or_else(|e| panic!("{typed}: {e}"));
+            assert!(close(got, si), "{typed}: {got} against {si}");
+        }
+        assert_eq!(Unit::Foot.factor(), 0.3048);
+        assert_eq!(Unit::Mil.factor(), 0.0000254);
+        assert_eq!(Unit::KilogramForce.factor(), 9.80665);
+    }
+
+    #[test]
+    fn what_the_store_keeps_reads_back() {
+        // Readings are stored as their number and the unit's ASCII symbol: every stored form
+        // must stay readable under the case rules.
+        for &u in Unit::ALL {
+            let text = format_exact(u.to_si(1.25), u);
+            let back = parse(&text, u.dimension()).unwrap_or_else(|e| panic!("{text}: {e}"));
+            assert!(close(back, u.to_si(1.25)), "{text}");
+        }
     }
 
     #[test]

@@ -20,8 +20,9 @@ pub struct WeibullArgs {
     /// Column that is true/false, yes/no or 1/0; true = the part survived that stress.
     #[arg(long, value_name = "NAME")]
     pub censored_column: Option<String>,
-    /// Unit of bare numbers (default: from the column name's suffix such as _mpa or _psi,
-    /// else MPa). Cells may also carry their own unit, e.g. "36 ksi".
+    /// Unit of bare numbers (default: from the column name's suffix such as _mpa, _kpa, _bar,
+    /// _psi or _ksi, else MPa when the name has no unit; it must agree with a suffix, and an
+    /// unknown suffix needs it). Cells may also carry their own unit, e.g. "36 ksi".
     #[arg(long, value_name = "UNIT")]
     pub unit: Option<String>,
     /// Print JSON instead of a table.
@@ -101,11 +102,100 @@ pub fn parse_flag(text: &str) -> Option<bool> {
     }
 }
 
-fn unit_from_column(name: &str) -> Option<Unit> {
-    let lower = name.to_ascii_lowercase();
-    let suffix = lower.rsplit(['_', ' ', '(', '[']).next()?;
-    let suffix = suffix.trim_end_matches([')', ']']);
-    Unit::lookup(suffix).filter(|u| u.dimension() == Dimension::Stress)
+/// What a strength column's name says about the unit of its bare numbers.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum ColumnUnit {
+    /// A suffix or bracket that names a stress unit: `stress_mpa`, `strength (psi)`.
+    Named(Unit),
+    /// No unit in the name (`stress`, `strength`, `max_stress`).
+    Unnamed,
+    /// A suffix or bracket that is not a stress unit shardlog knows (`stress_furlong`).
+    Unknown,
+}
+
+/// Column-name suffixes and what they mean. Column names are written in lower case by
+/// convention, so a suffix is read in any case (`_mpa` is MPa: nobody heads a column with
+/// millipascals). Each is an exact unit.
+const COLUMN_SUFFIXES: &[(&str, Unit)] = &[
+    ("pa", Unit::Pascal),
+    ("kpa", Unit::Kilopascal),
+    ("mpa", Unit::Megapascal),
+    ("gpa", Unit::Gigapascal),
+    ("bar", Unit::Bar),
+    ("psi", Unit::Psi),
+    ("ksi", Unit::Ksi),
+    ("kpsi", Unit::Ksi),
+    ("n_mm2", Unit::Megapascal),
+    ("mn_m2", Unit::Megapascal),
+    ("kn_m2", Unit::Kilopascal),
+    ("lbf_in2", Unit::Psi),
+    ("klbf_in2", Unit::Ksi),
+];
+
+/// Last words of a column name that say what it holds, not its unit.
+const NOT_A_UNIT: &[&str] = &[
+    "stress", "strength", "strengths", "sigma", "value", "values", "load", "failure", "fracture",
+    "mor", "s", "sf", "observed", "measured",
+];
+
+fn unit_from_column(name: &str) -> ColumnUnit {
+    let trimmed = name.trim();
+    // "strength (MPa)", "stress [psi]": the unit in brackets, read like a typed unit
+    if let Some(open) = trimmed.rfind(['(', '[']) {
+        let inner = trimmed[open + 1..].trim_end_matches([')', ']']).trim();
+        let lower = inner.to_ascii_lowercase().replace(['/', '^', ' '], "_");
+        return match Unit::lookup(inner)
+            .or_else(|| {
+                COLUMN_SUFFIXES
+                    .iter()
+                    .find(|(s, _)| *s == lower.trim_matches('_'))
+                    .map(|(_, u)| *u)
+            })
+            .filter(|u| u.dimension() == Dimension::Stress)
+        {
+            Some(u) => ColumnUnit::Named(u),
+            None => ColumnUnit::Unknown,
+        };
+    }
+    let lower = trimmed.to_ascii_lowercase();
+    // the longest known suffix after an underscore
+    let named = COLUMN_SUFFIXES
+        .iter()
+        .filter(|(suffix, _)| {
+            lower
+                .strip_suffix(suffix)
+                .is_some_and(|rest| rest.ends_with('_'))
+        })
+        .max_by_key(|(suffix, _)| suffix.len());
+    if let Some((_, u)) = named {
+        return ColumnUnit::Named(*u);
+    }
+    match lower.rsplit_once('_') {
+        None => ColumnUnit::Unnamed,
+        Some((_, last)) if NOT_A_UNIT.contains(&last) => ColumnUnit::Unnamed,
+        Some(_) => ColumnUnit::Unknown,
+    }
+}
+
+/// The unit of a column's bare numbers: `--unit` and the column name must agree; a name
+/// with no unit means MPa unless `--unit` says otherwise; an unknown suffix needs `--unit`.
+fn column_unit(col_name: &str, given: Option<Unit>) -> Result<Unit, CliError> {
+    match (unit_from_column(col_name), given) {
+        (ColumnUnit::Named(named), Some(given)) if named != given => Err(CliError::usage(format!(
+            "--unit {} conflicts with column '{col_name}', whose name says {}; \
+             drop --unit or rename the column",
+            given.symbol(),
+            named.symbol()
+        ))),
+        (ColumnUnit::Named(named), _) => Ok(named),
+        (_, Some(given)) => Ok(given),
+        (ColumnUnit::Unnamed, None) => Ok(Unit::Megapascal),
+        (ColumnUnit::Unknown, None) => Err(CliError::usage(format!(
+            "column '{col_name}': its name ends in a unit shardlog does not know; \
+             give the unit of its numbers with --unit (MPa, kPa, Pa, GPa, bar, psi, ksi) \
+             or name the column with a known suffix such as _mpa, _kpa, _bar, _psi, _ksi"
+        ))),
+    }
 }
 
 /// Strengths read from a CSV text, SI (Pa).
@@ -172,9 +262,7 @@ pub fn read_strengths(
         None => None,
     };
     let col_name = names[col].clone();
-    let unit = unit
-        .or_else(|| unit_from_column(&col_name))
-        .unwrap_or(Unit::Megapascal);
+    let unit = column_unit(&col_name, unit)?;
     let mut specimens = Vec::new();
     let mut where_ = Vec::new();
     for (n, line) in lines {
@@ -414,6 +502,27 @@ pub fn fit_table(f: &WeibullFit, unit: Unit, indent: &str) -> String {
     s
 }
 
+/// The `--unit` flag: a unit of stress as typed, with the case rules of every other unit.
+fn stress_unit_flag(typed: &str) -> Result<Unit, CliError> {
+    if let Some(u) = Unit::lookup(typed).filter(|u| u.dimension() == Dimension::Stress) {
+        return Ok(u);
+    }
+    let meant: Vec<&str> = Unit::case_hint(typed)
+        .into_iter()
+        .filter(|u| u.dimension() == Dimension::Stress)
+        .map(Unit::symbol)
+        .collect();
+    if meant.is_empty() {
+        return Err(CliError::usage(format!(
+            "--unit: '{typed}' is not a unit of stress; expected one of MPa, kPa, Pa, GPa, bar, psi, ksi"
+        )));
+    }
+    Err(CliError::usage(format!(
+        "--unit: '{typed}' is not read as {0}: unit letters are case-sensitive; did you mean {0}?",
+        meant.join(" or ")
+    )))
+}
+
 /// Method lines printed under a table.
 pub fn method_notes(indent: &str) -> String {
     format!(
@@ -423,15 +532,7 @@ pub fn method_notes(indent: &str) -> String {
 
 pub fn run(args: WeibullArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let unit = match &args.unit {
-        Some(u) => Some(
-            Unit::lookup(u)
-                .filter(|u| u.dimension() == Dimension::Stress)
-                .ok_or_else(|| {
-                    CliError::usage(format!(
-                        "--unit: '{u}' is not a unit of stress; expected one of MPa, kPa, Pa, psi, ksi"
-                    ))
-                })?,
-        ),
+        Some(u) => Some(stress_unit_flag(u)?),
         None => None,
     };
     let bytes = std::fs::read(&args.input).map_err(|e| {
