@@ -873,7 +873,10 @@ mod tests {
             match parse(typed, dim) {
                 Err(e @ UnitError::CaseChangesMeaning { .. }) => {
                     let msg = e.to_string();
-                    assert!(msg.contains(&format!("did you mean {meant}?")), "{typed}: {msg}");
+                    assert!(
+                        msg.contains(&format!("did you mean {meant}?")),
+                        "{typed}: {msg}"
+                    );
                     assert!(msg.contains("case-sensitive"), "{typed}: {msg}");
                 }
                 other => panic!("{typed}: expected a refusal with a hint, got {other:?}"),

@@ -134,8 +134,20 @@ const COLUMN_SUFFIXES: &[(&str, Unit)] = &[
 
 /// Last words of a column name that say what it holds, not its unit.
 const NOT_A_UNIT: &[&str] = &[
-    "stress", "strength", "strengths", "sigma", "value", "values", "load", "failure", "fracture",
-    "mor", "s", "sf", "observed", "measured",
+    "stress",
+    "strength",
+    "strengths",
+    "sigma",
+    "value",
+    "values",
+    "load",
+    "failure",
+    "fracture",
+    "mor",
+    "s",
+    "sf",
+    "observed",
+    "measured",
 ];
 
 fn unit_from_column(name: &str) -> ColumnUnit {
