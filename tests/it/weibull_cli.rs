@@ -229,3 +229,51 @@ fn usage_errors_exit_2() {
     assert_eq!(r.code, 2);
     assert!(r.stderr.contains("--column"));
 }
+
+#[test]
+fn a_column_suffix_decides_the_unit_and_conflicts_are_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    // 1 bar = 0.1 MPa exactly (definition of the bar): the same strengths in bar give the
+    // same modulus and a scale ten times the MPa one
+    let mut text = String::from("stress_bar\n");
+    for v in REF.split(',') {
+        let mpa: f64 = v.trim().parse().unwrap();
+        text.push_str(&format!("{}\n", mpa * 10.0));
+    }
+    let p = csv(&dir, "bar.csv", &text);
+    let r = run(&["weibull", "--input", p.to_str().unwrap(), "--json"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let v: serde_json::Value = serde_json::from_str(&r.stdout).unwrap();
+    assert!((v["modulus"].as_f64().unwrap() / 1.739_705_077_06 - 1.0).abs() < 1e-6);
+    assert_eq!(v["input_unit"], "bar");
+    // --unit that contradicts the suffix: a usage error naming both
+    let r = run(&["weibull", "--input", p.to_str().unwrap(), "--unit", "psi"]);
+    assert_eq!(r.code, 2, "{}", r.stdout);
+    assert!(
+        r.stderr.contains("conflicts") && r.stderr.contains("bar"),
+        "{}",
+        r.stderr
+    );
+    // an unknown suffix needs --unit, and works with it
+    let q = csv(
+        &dir,
+        "furlong.csv",
+        &text.replace("stress_bar", "stress_furlong"),
+    );
+    let r = run(&["weibull", "--input", q.to_str().unwrap()]);
+    assert_eq!(r.code, 2, "{}", r.stdout);
+    assert!(r.stderr.contains("--unit"), "{}", r.stderr);
+    let r = run(&[
+        "weibull",
+        "--input",
+        q.to_str().unwrap(),
+        "--unit",
+        "bar",
+        "--json",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    // --unit follows the case rules of every unit
+    let r = run(&["weibull", "--input", q.to_str().unwrap(), "--unit", "mpa"]);
+    assert_eq!(r.code, 2);
+    assert!(r.stderr.contains("did you mean MPa?"), "{}", r.stderr);
+}
