@@ -88,10 +88,27 @@ impl Field {
         self
     }
 
+    /// The field holding a saved value: the caret after it, typing adds to it.
     pub fn with_text(mut self, text: &str) -> Self {
         self.set_text(text);
         self.dirty = false;
         self
+    }
+
+    /// The field holding a value the program suggests (today's date, the analyst's name):
+    /// a one-line field shows it selected, so typing replaces it and a move keeps it.
+    pub fn with_suggestion(mut self, text: &str) -> Self {
+        self.suggest(text);
+        self
+    }
+
+    /// Put a suggested value in the field (see `with_suggestion`); the field stays clean.
+    pub fn suggest(&mut self, text: &str) {
+        self.set_text(text);
+        if !self.multi_line() {
+            self.content = TextInput::prefilled(&self.text());
+        }
+        self.dirty = false;
     }
 
     /// Whether this field takes several lines (Enter adds a line instead of moving on).
@@ -119,6 +136,11 @@ impl Field {
     /// Where the caret is: line and character position in the line.
     pub fn caret(&self) -> (usize, usize) {
         self.content.caret()
+    }
+
+    /// The selected part of the text, first and last position (line, character), if any.
+    pub fn selection(&self) -> Option<((usize, usize), (usize, usize))> {
+        self.content.selection()
     }
 
     pub fn error(&self) -> Option<&str> {
@@ -320,6 +342,46 @@ mod tests {
         for c in s.chars() {
             f.input(KeyPress::char(c));
         }
+    }
+
+    #[test]
+    fn a_suggested_value_is_replaced_by_typing_and_a_saved_one_is_added_to() {
+        let date = || Field::new("found_on", "Found on", FieldKind::Date { optional: false });
+        let mut f = date().with_suggestion("2026-12-02");
+        assert!(!f.is_dirty());
+        typed(&mut f, "2026-11-30");
+        assert_eq!(f.text(), "2026-11-30");
+        assert_eq!(
+            f.value(),
+            Ok(FieldValue::Date(
+                chrono::NaiveDate::from_ymd_opt(2026, 11, 30).unwrap()
+            ))
+        );
+        let mut f = date().with_suggestion("2026-12-02");
+        f.input(KeyPress::plain(Key::End));
+        f.input(KeyPress::plain(Key::Backspace));
+        typed(&mut f, "1");
+        assert_eq!(f.text(), "2026-12-01");
+        let mut f = Field::new("position", "Position", FieldKind::Text { required: false })
+            .with_text("left side");
+        typed(&mut f, ", bay 3");
+        assert_eq!(f.text(), "left side, bay 3");
+        // C-u clears a line
+        f.input(KeyPress::ctrl(Key::Char('u')));
+        assert_eq!(f.text(), "");
+    }
+
+    #[test]
+    fn the_new_incident_form_suggests_today_and_typing_replaces_it() {
+        let today = chrono::NaiveDate::from_ymd_opt(2026, 12, 2).unwrap();
+        let mut form =
+            crate::app::incident::new_form(today, &crate::app::incident::Lists::default());
+        let f = form
+            .field_mut("found_on")
+            .expect("the form has a found-on field");
+        assert_eq!(f.text(), "2026-12-02");
+        typed(f, "2026-11-30");
+        assert_eq!(f.text(), "2026-11-30");
     }
 
     #[test]

@@ -516,6 +516,9 @@ pub fn new_form(today: chrono::NaiveDate, lists: &Lists) -> Form {
     let mut form = Form::default();
     intake_items(&mut form, &inc, lists);
     glass_items(&mut form, &inc, lists);
+    if let Some(found_on) = form.field_mut("found_on") {
+        found_on.suggest(&today.to_string());
+    }
     form.mark_clean();
     form
 }
@@ -533,12 +536,12 @@ pub fn custody_form(now: chrono::DateTime<chrono::Utc>, actor: &str, lists: &Lis
     );
     form.push_field(
         Field::new("at", "When (UTC)", FieldKind::DateTime { optional: false })
-            .with_text(&now.format("%Y-%m-%d %H:%M").to_string()),
+            .with_suggestion(&now.format("%Y-%m-%d %H:%M").to_string()),
     );
     form.push_field(
         Field::new("who", "Who", FieldKind::Text { required: true })
             .with_hint("e.g. depot staff")
-            .with_text(actor),
+            .with_suggestion(actor),
     );
     form.push_field(text("location", "Location", "").with_hint("e.g. shelf B"));
     form.push_field(text("note", "Note", ""));

@@ -137,9 +137,10 @@ fn short_desc(desc: &str) -> &str {
 /// What typing does in a text context (shown at the top of help).
 pub fn typing_note(ctx: Ctx) -> Option<&'static str> {
     match ctx {
-        Ctx::Field => {
-            Some("Type to edit. A value that cannot be used is marked ✗ with the reason.")
-        }
+        Ctx::Field => Some(
+            "Type to edit. A value already there shows selected: typing replaces it, an \
+                 arrow key keeps it. A value that cannot be used is marked ✗ with the reason.",
+        ),
         Ctx::MultiField => Some(
             "One reading per line with its unit (1.02 mm, 850 µm). Enter starts a new line; \
              ↑/↓ move between lines.",
@@ -170,6 +171,15 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
             Span::styled(widgets::fit_left(b.label, kw), th.focus_label),
             Span::raw(b.desc),
         ]));
+    }
+    if matches!(ctx, Ctx::Field | Ctx::MultiField) {
+        lines.push(Line::styled("Editing keys in a field", th.header));
+        for (k, d) in crate::app::text_input::EDITING_KEYS {
+            lines.push(Line::from(vec![
+                Span::styled(widgets::fit_left(k, kw + 2), th.focus_label),
+                Span::raw(*d),
+            ]));
+        }
     }
     if ctx.has_global() {
         let (k, d) = keys::MOUSE_HELP;

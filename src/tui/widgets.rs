@@ -15,7 +15,7 @@ use super::theme::Theme;
 use crate::app::field::Field;
 use crate::app::form::{Form, FormItem};
 use crate::app::picklist::PickList;
-pub use shardlog_core::text::{clean, fit, fit_left};
+pub use shardlog_core::text::{clean, fit, fit_left, width};
 
 /// A rectangle of at most `w`×`h` centred in `area`.
 pub fn centered(area: Rect, w: u16, h: u16) -> Rect {
@@ -266,8 +266,17 @@ fn editor(f: &Field) -> TextArea<'static> {
     if !f.hint.is_empty() {
         area.set_placeholder_text(f.hint);
     }
-    let (row, col) = f.caret();
     let clamp = |n: usize| u16::try_from(n).unwrap_or(u16::MAX);
+    let (row, col) = f.caret();
+    if let Some((first, last)) = f.selection() {
+        // the selection underlined and reversed; the caret at its end stays reversed
+        area.set_selection_style(
+            Style::default().add_modifier(Modifier::REVERSED | Modifier::UNDERLINED),
+        );
+        let anchor = if (row, col) == first { last } else { first };
+        area.move_cursor(CursorMove::Jump(clamp(anchor.0), clamp(anchor.1)));
+        area.start_selection();
+    }
     area.move_cursor(CursorMove::Jump(clamp(row), clamp(col)));
     area
 }

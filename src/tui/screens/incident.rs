@@ -50,7 +50,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         head.width as usize,
         th.header,
     );
-    let lines = section_lines(app, state, th);
+    let lines = hang_values(section_lines(app, state, th), content.width);
     let max = widgets::wrapped_rows(&lines, content.width).saturating_sub(content.height);
     state.scroll_max.set(max);
     widgets::para(lines)
@@ -66,9 +66,45 @@ fn kv(k: &str, v: impl Into<String>, th: &Theme) -> Line<'static> {
         clean(&v)
     };
     Line::from(vec![
-        Span::styled(format!(" {}", widgets::fit_left(k, 20)), th.label),
+        Span::styled(
+            format!(" {}", widgets::fit_left(k, LABEL_CELLS - 1)),
+            th.label,
+        ),
         Span::styled(v, th.input),
     ])
+}
+
+/// The width of a label column made by `kv` (a space and 20 cells).
+const LABEL_CELLS: usize = 21;
+
+/// Wrap the value of each label-and-value line under the value column, so a long value
+/// (a description, a note) reads as one block beside its label instead of running back
+/// under the labels.
+fn hang_values(lines: Vec<Line<'static>>, width: u16) -> Vec<Line<'static>> {
+    let room = (width as usize).saturating_sub(LABEL_CELLS);
+    if room < 10 {
+        return lines;
+    }
+    let mut out = Vec::with_capacity(lines.len());
+    for line in lines {
+        let is_pair = line.spans.len() == 2
+            && widgets::width(&line.spans[0].content) == LABEL_CELLS
+            && widgets::width(&line.spans[1].content) > room;
+        if !is_pair {
+            out.push(line);
+            continue;
+        }
+        let (label, value) = (line.spans[0].clone(), line.spans[1].clone());
+        for (i, piece) in widgets::wrap(&value.content, room).into_iter().enumerate() {
+            let head = if i == 0 {
+                label.clone()
+            } else {
+                Span::raw(" ".repeat(LABEL_CELLS))
+            };
+            out.push(Line::from(vec![head, Span::styled(piece, value.style)]));
+        }
+    }
+    out
 }
 
 fn opt(v: &Option<String>) -> String {
@@ -399,5 +435,29 @@ fn examination_lines(app: &App, inc: &Incident, th: &Theme, out: &mut Vec<Line<'
         if !e.notes.is_empty() {
             out.push(kv("Notes", e.notes.clone(), th));
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_long_value_wraps_under_its_own_column() {
+        let th = crate::tui::theme::theme();
+        let long = "Origin at the clamping point of the frame; fixing bolt found over-tightened.";
+        let lines = hang_values(vec![kv("Description", long, th)], 60);
+        let text: Vec<String> = lines.iter().map(|l| l.to_string()).collect();
+        assert!(text.len() >= 2, "{text:?}");
+        assert!(text[0].starts_with(" Description"), "{text:?}");
+        for line in &text[1..] {
+            assert!(line.starts_with(&" ".repeat(LABEL_CELLS)), "{text:?}");
+            assert!(widgets::width(line) <= 60, "{text:?}");
+        }
+        let values: Vec<&str> = text.iter().map(|l| l[LABEL_CELLS..].trim()).collect();
+        assert_eq!(values.join(" "), long);
+        // a short value is left as it was
+        let short = hang_values(vec![kv("Site", "TVL-ASH", th)], 60);
+        assert_eq!(short.len(), 1);
     }
 }
