@@ -19,6 +19,7 @@ mod reference;
 mod report_bundle;
 mod report_render;
 mod report_summary;
+mod residual;
 mod sql_text;
 mod stats_cli;
 mod store;
