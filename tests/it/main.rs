@@ -14,6 +14,7 @@ mod hostile;
 mod loads;
 mod mirror_cli;
 mod packaging;
+mod plausibility;
 mod readonly;
 mod reference;
 mod report_bundle;

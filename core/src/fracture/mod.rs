@@ -656,6 +656,17 @@ fn flaw_result(
 ) -> FlawResult {
     let (geometry, geometry_basis) = chosen_geometry(geometry, input.origin);
     geometry_warnings(input.origin, geometry, warnings);
+    // with a thickness a/t is solved with the flaw size and warned below; without one it is
+    // as given, and it gets the same warning beyond the fitted range
+    if let (None, Some(ratio)) = (input.thickness_m, geometry.a_over_t()) {
+        if ratio > flaw::DEPTH_RATIO_LIMIT {
+            warnings.push(format!(
+                "The flaw depth ratio a/t = {} is beyond 0.8 of the thickness: beyond the range \
+                 of the Newman–Raju equations.",
+                fmt_sig(ratio, 3)
+            ));
+        }
+    }
     let solved = flaw::solve_flaw(geometry, toughness.value, head.stress_pa, input.thickness_m);
     if solved.beyond_range {
         warnings.push(format!(
