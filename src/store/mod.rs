@@ -59,6 +59,7 @@ mod ids;
 mod incidents;
 pub mod model;
 mod refdata;
+pub mod signing;
 mod sqlite;
 mod verify;
 
@@ -66,6 +67,7 @@ pub use files::{sync_dir, temporary_sibling, write_atomically, write_new_synced}
 pub(crate) use ids::IdGen;
 pub use model::*;
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
+pub use verify::Anchor;
 
 /// Code version recorded with computed results and exports.
 pub const CODE_VERSION: &str = concat!("shardlog ", env!("CARGO_PKG_VERSION"));

@@ -104,3 +104,62 @@ fn check_attachment_files(
     }
     Ok(())
 }
+
+/// A head taken earlier (from a signed export, a bundle, a note): the chain must still hold
+/// `hash` at entry `seq`.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Anchor {
+    pub seq: i64,
+    pub hash: String,
+}
+
+impl std::str::FromStr for Anchor {
+    type Err = String;
+
+    /// `SEQ:HASH`, the hash 64 hex digits.
+    fn from_str(s: &str) -> Result<Anchor, String> {
+        let expected = "expected SEQ:HASH (an audit entry number, a colon, 64 hex digits)";
+        let (seq, hash) = s
+            .trim()
+            .split_once(':')
+            .ok_or_else(|| format!("{expected}, got {s:?}"))?;
+        let seq: i64 = seq
+            .parse()
+            .ok()
+            .filter(|n| *n >= 0)
+            .ok_or_else(|| format!("{expected}; {seq:?} is not an entry number"))?;
+        let hash = hash.to_ascii_lowercase();
+        if hash.len() != 64 || !hash.bytes().all(|b| b.is_ascii_hexdigit()) {
+            return Err(format!("{expected}; the hash is not 64 hex digits"));
+        }
+        Ok(Anchor { seq, hash })
+    }
+}
+
+impl Store {
+    /// Each anchor the chain no longer holds, as a sentence: "history was rewritten after
+    /// entry N", N the latest anchor before it that still holds (0: the start). A file
+    /// cannot witness itself: a rewrite that recomputed every hash passes [`Store::verify`];
+    /// only a head kept outside the file finds it.
+    pub fn check_anchors(&self, anchors: &[Anchor]) -> Result<Vec<String>, StoreError> {
+        let mut sorted: Vec<&Anchor> = anchors.iter().collect();
+        sorted.sort_by_key(|a| a.seq);
+        let (last_seq, _) = self.audit_head_entry()?;
+        let mut held_up_to = 0i64;
+        let mut out = Vec::new();
+        for a in sorted {
+            match self.audit_hash_at(a.seq)? {
+                Some(h) if h == a.hash => held_up_to = held_up_to.max(a.seq),
+                Some(h) => out.push(format!(
+                    "history was rewritten after entry {held_up_to}: entry {} now has hash {h}, the anchor holds {}",
+                    a.seq, a.hash
+                )),
+                None => out.push(format!(
+                    "history was rewritten after entry {held_up_to}: entry {} (hash {}) is no longer in the chain, which ends at entry {last_seq}",
+                    a.seq, a.hash
+                )),
+            }
+        }
+        Ok(out)
+    }
+}
