@@ -32,3 +32,4 @@ mod tui_pty;
 mod tui_review;
 mod tui_store;
 mod weibull_cli;
+mod witness;
