@@ -122,6 +122,18 @@ fn dispute(b: &Bench, db: &Path, keys: &Path, name: &str) -> PathBuf {
     out
 }
 
+/// An audit row as text: seq, at, actor, entity, entity id, op, before, after.
+type AuditRowText = (
+    i64,
+    String,
+    String,
+    String,
+    String,
+    String,
+    Option<String>,
+    Option<String>,
+);
+
 /// The attack an opposing party can make on the file: change a reading and a cause with
 /// plain SQL, write the incident's new image into its last audit row, recompute every hash
 /// from there on (SHA-256 over the previous hash and the row's canonical text, as
@@ -163,16 +175,7 @@ fn rewrite_history(db: &Path, reference: &str) {
             r.get(0)
         })
         .unwrap();
-    let rows: Vec<(
-        i64,
-        String,
-        String,
-        String,
-        String,
-        String,
-        Option<String>,
-        Option<String>,
-    )> = {
+    let rows: Vec<AuditRowText> = {
         let mut st = c
             .prepare("SELECT seq, at, actor, entity, entity_id, op, before, after FROM audit WHERE seq >= ?1 ORDER BY seq")
             .unwrap();
