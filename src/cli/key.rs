@@ -2,7 +2,6 @@
 
 use std::path::{Path, PathBuf};
 
-use super::records::open;
 use super::{CliError, Context};
 use crate::store::signing::{KeyStatus, KEY_DIR_VAR};
 use crate::store::Store;
@@ -50,14 +49,16 @@ pub(crate) fn unsigned_note(s: &Store) -> String {
 }
 
 pub fn run(args: KeyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let s = open(&ctx.db)?;
+    let s = Store::open_existing(&ctx.db).map_err(|e| CliError::work(e.to_string()))?;
     let Some(st) = ensure_key(&s)? else {
         return Err(CliError::work(format!(
             "{} has no signing key yet and is read-only here; open it once where it can be written",
             ctx.db.display()
         )));
     };
-    let (seq, hash) = s.audit_head_entry().map_err(super::records::work)?;
+    let (seq, hash) = s
+        .audit_head_entry()
+        .map_err(|e| CliError::work(e.to_string()))?;
     if st.created {
         writeln!(ctx.out, "made a new signing key for {}", ctx.db.display())?;
     }

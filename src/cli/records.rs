@@ -15,7 +15,7 @@ pub fn edge_stamp() -> Stamp {
     Stamp::new(actor(), Utc::now())
 }
 
-pub(crate) fn work(e: StoreError) -> CliError {
+fn work(e: StoreError) -> CliError {
     CliError::work(e.to_string())
 }
 

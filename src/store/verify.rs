@@ -30,6 +30,10 @@ impl Store {
         for msg in incidents::fleet_facts_problems(&self.conn)? {
             v.problem(msg);
         }
+        // the text index holds every incident and nothing else
+        for msg in super::sqlite::fts_out_of_step(&self.conn)? {
+            v.problem(msg);
+        }
         v.report_missing_records();
         // 3. the evidence: every attachment's file is in the attachment folder and still has
         // the content its hash names (skipped for a database with no folder, i.e. in memory)
@@ -48,6 +52,15 @@ fn check_incidents(conn: &Connection, v: &mut Verification) -> Result<(), StoreE
     incidents::for_each_incident(conn, |inc, derived_ok| {
         let img = canon::incident_image(&inc)?;
         v.check_record(INCIDENT, &inc.id, &inc.reference, &img);
+        for (n, exam) in inc.examinations.iter().enumerate() {
+            if let Some(why) = super::analysis::stored_result_differs(&inc, exam) {
+                v.problem(format!(
+                    "incident {}: examination {}: {why}",
+                    inc.reference,
+                    n + 1
+                ));
+            }
+        }
         if !derived_ok {
             n_bad += 1;
             if bad_derived.is_none() {
@@ -82,8 +95,19 @@ fn check_attachment_files(
         v.count_checked();
         let well_formed = sha.len() == 64 && sha.bytes().all(|b| b.is_ascii_hexdigit());
         let path = dir.join(&sha);
+        let kind = std::fs::symlink_metadata(&path).map(|m| m.file_type());
         let msg = if !well_formed {
             Some("its hash is not a SHA-256".to_string())
+        } else if kind.as_ref().is_ok_and(|k| k.is_symlink()) {
+            Some(format!(
+                "its file {sha} in {} is a symbolic link, not a file shardlog wrote",
+                dir.display()
+            ))
+        } else if kind.as_ref().is_ok_and(|k| !k.is_file()) {
+            Some(format!(
+                "its file {sha} in {} is not a regular file",
+                dir.display()
+            ))
         } else {
             match std::fs::read(&path) {
                 Err(_) => Some(format!(

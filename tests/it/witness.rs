@@ -10,14 +10,14 @@ use chrono::{DateTime, NaiveDate, Utc};
 use shardlog::store::*;
 use shardlog_core::units::Dimension;
 
-fn stamp(s: &str) -> Stamp {
+pub(crate) fn stamp(s: &str) -> Stamp {
     Stamp::new(
         "ines",
         DateTime::parse_from_rfc3339(s).unwrap().with_timezone(&Utc),
     )
 }
 
-fn incident(d: u32) -> Incident {
+pub(crate) fn incident(d: u32) -> Incident {
     let mut inc = Incident::draft(NaiveDate::from_ymd_opt(2026, 5, d).unwrap());
     inc.glass.supplier = Some("KESTREL".into());
     inc.glass.product = Some("FT-10".into());
@@ -81,7 +81,7 @@ fn bench() -> Bench {
     }
 }
 
-fn run(db: &Path, keys: &Path, args: &[&str]) -> (i32, String) {
+pub(crate) fn run(db: &Path, keys: &Path, args: &[&str]) -> (i32, String) {
     let o: Output = Command::new(env!("CARGO_BIN_EXE_shardlog"))
         .env("SHARDLOG_KEY_DIR", keys)
         .arg("--db")
@@ -138,7 +138,7 @@ type AuditRowText = (
 /// plain SQL, write the incident's new image into its last audit row, recompute every hash
 /// from there on (SHA-256 over the previous hash and the row's canonical text, as
 /// docs/notes.md describes it) and store the new head.
-fn rewrite_history(db: &Path, reference: &str) {
+pub(crate) fn rewrite_history(db: &Path, reference: &str) {
     let c = rusqlite::Connection::open(db).unwrap();
     let id: String = c
         .query_row(
@@ -170,6 +170,14 @@ fn rewrite_history(db: &Path, reference: &str) {
         rusqlite::params![image, from],
     )
     .unwrap();
+    drop(c);
+    rechain(db, from);
+}
+
+/// Recompute every audit hash from entry `from` on, and store the new head: what a
+/// careful forger does after changing a row.
+pub(crate) fn rechain(db: &Path, from: i64) {
+    let c = rusqlite::Connection::open(db).unwrap();
     let mut prev: String = c
         .query_row("SELECT prev_hash FROM audit WHERE seq = ?1", [from], |r| {
             r.get(0)
