@@ -135,6 +135,15 @@ fn same(a: Option<f64>, b: Option<f64>, unit: f64) -> bool {
     }
 }
 
+/// A figure compared: name, stored, recomputed, its unit in SI, how it is shown.
+type Figure<'a> = (
+    &'a str,
+    Option<f64>,
+    Option<f64>,
+    f64,
+    &'a dyn Fn(Option<f64>) -> String,
+);
+
 /// Whether a stored result still follows from the examination's readings and constants:
 /// None when a recomputation agrees within rounding, else the first figure that differs,
 /// with both values and units.
@@ -150,13 +159,7 @@ pub fn stored_result_differs(inc: &Incident, exam: &Examination) -> Option<Strin
     };
     let mpa = |v: Option<f64>| v.map_or("none".to_string(), |x| format!("{:.3} MPa", x / 1e6));
     let um = |v: Option<f64>| v.map_or("none".to_string(), |x| format!("{:.3} µm", x * 1e6));
-    let figures: [(
-        &str,
-        Option<f64>,
-        Option<f64>,
-        f64,
-        &dyn Fn(Option<f64>) -> String,
-    ); 6] = [
+    let figures: [Figure; 6] = [
         ("net stress", stored.stress_pa, fresh.stress_pa, 1.0, &mpa),
         (
             "net stress low",
