@@ -11,6 +11,7 @@ use std::path::PathBuf;
 
 use clap::{Parser, Subcommand};
 
+pub mod key;
 pub mod load;
 pub mod materials;
 pub mod mirror;
@@ -53,6 +54,8 @@ pub enum Command {
     Show(records::ShowArgs),
     /// Recompute the audit chain (or check a dispute bundle).
     Verify(records::VerifyArgs),
+    /// The database's signing key: fingerprint, public key, where the private key is.
+    Key(key::KeyArgs),
     /// Copy the database with SQLite's online backup, then check the copy.
     Backup(records::BackupArgs),
     /// Generate the invented demo fleet.
@@ -155,7 +158,7 @@ pub fn resolve_db(flag: Option<PathBuf>) -> PathBuf {
     data_dir().join("shardlog").join("shardlog.db")
 }
 
-fn data_dir() -> PathBuf {
+pub(crate) fn data_dir() -> PathBuf {
     if cfg!(windows) {
         if let Some(p) = std::env::var_os("APPDATA") {
             return PathBuf::from(p);
@@ -366,6 +369,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
         Command::Verify(a) => records::verify(a, &mut ctx),
+        Command::Key(a) => key::run(a, &mut ctx),
         Command::Backup(a) => records::backup(a, &mut ctx),
         Command::Demo(a) => records::demo(a, &mut ctx),
         Command::Stats(a) => stats::run(a, &mut ctx),

@@ -5,6 +5,7 @@ use std::path::{Path, PathBuf};
 use chrono::{NaiveDate, Utc};
 
 use super::{actor, parse_day, sanitize_for_terminal, CliError, Context};
+use crate::report::bundle::ExpectedKey;
 use crate::store::exchange::ImportOptions;
 use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
 use shardlog_core::text::{clean, stress_or_dash};
@@ -108,6 +109,14 @@ pub fn init(_args: InitArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
                 .map(|p| p.display().to_string())
                 .unwrap_or_default()
         )?;
+        if let Some(k) = super::key::ensure_key(&s)? {
+            writeln!(
+                ctx.out,
+                "signing key {} (private key in {})",
+                k.public.fingerprint(),
+                k.private_file.display()
+            )?;
+        }
     }
     Ok(())
 }
@@ -586,14 +595,25 @@ pub struct VerifyArgs {
     /// Check a dispute bundle folder instead (and compare it with the database if present).
     #[arg(long, value_name = "DIR")]
     pub bundle: Option<std::path::PathBuf>,
+    /// A head taken earlier (`shardlog key`, a signed export or bundle): the chain must still
+    /// hold HASH at entry SEQ. Repeatable.
+    #[arg(long, value_name = "SEQ:HASH")]
+    pub anchor: Vec<crate::store::Anchor>,
+    /// With --bundle: check the bundle's signature against this key (a fingerprint as
+    /// `shardlog key` prints it, or a public key file), with or without the database.
+    #[arg(long, value_name = "FINGERPRINT|PUBKEYFILE", requires = "bundle")]
+    pub key: Option<String>,
 }
 
 pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(dir) = &args.bundle {
-        return verify_bundle(dir, ctx);
+        return verify_bundle(dir, &args, ctx);
     }
     let s = open(&ctx.db)?;
-    let r = s.verify().map_err(work)?;
+    let mut r = s.verify().map_err(work)?;
+    for p in s.check_anchors(&args.anchor).map_err(work)? {
+        r.add_problem(p);
+    }
     if args.json {
         let text =
             serde_json::to_string_pretty(&r).map_err(|e| CliError::work(format!("JSON: {e}")))?;
@@ -607,6 +627,16 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
                     "ok: {} audit rows chain correctly, {} records match their last audited version; head {}",
                     r.audit_rows, r.records_checked, r.head
                 )?;
+                if args.anchor.is_empty() {
+                    writeln!(ctx.out, "note: this proves the file agrees with itself, not that its history was never rewritten; check a head kept elsewhere with --anchor SEQ:HASH or --bundle DIR")?;
+                } else {
+                    writeln!(
+                        ctx.out,
+                        "ok: the chain still holds {} anchor{} taken earlier",
+                        args.anchor.len(),
+                        if args.anchor.len() == 1 { "" } else { "s" }
+                    )?;
+                }
             }
             Ok(())
         }
@@ -618,14 +648,48 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     }
 }
 
+/// `--key FINGERPRINT|PUBKEYFILE`: an existing file is read as a public key file.
+fn expected_key(text: &str) -> Result<ExpectedKey, CliError> {
+    let path = Path::new(text);
+    let from_file = path.is_file();
+    let parsed = if from_file {
+        let meta =
+            std::fs::metadata(path).map_err(|e| CliError::usage(format!("--key {text}: {e}")))?;
+        if meta.len() > 4096 {
+            return Err(CliError::usage(format!(
+                "--key {text}: not a public key file (larger than 4 KB)"
+            )));
+        }
+        let t = std::fs::read_to_string(path)
+            .map_err(|e| CliError::usage(format!("--key {text}: {e}")))?;
+        ExpectedKey::parse(&t)
+    } else {
+        ExpectedKey::parse(text)
+    };
+    parsed.ok_or_else(|| {
+        CliError::usage(format!(
+            "--key {}: expected a fingerprint as `shardlog key` prints it (32 hex digits, hyphens optional) or a public key file it wrote",
+            clean(text)
+        ))
+    })
+}
+
 /// `verify --bundle DIR`: the bundle alone, and against the database when there is one.
-fn verify_bundle(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
+/// With `--db` or `$SHARDLOG_DB` the database must exist; without them the bundle is
+/// checked alone when the default database is absent.
+fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let key = args.key.as_deref().map(expected_key).transpose()?;
+    if !args.anchor.is_empty() {
+        return Err(CliError::usage(
+            "--anchor checks the database's chain; with --bundle the bundle's own head is the anchor",
+        ));
+    }
     let store = if ctx.db.exists() {
         Some(open(&ctx.db)?)
     } else {
         None
     };
-    let check = crate::report::verify_bundle(dir, store.as_ref())?;
+    let check = crate::report::bundle::verify_bundle_with(dir, store.as_ref(), key.as_ref())?;
     let shown = clean(&dir.display().to_string());
     writeln!(
         ctx.out,
@@ -644,7 +708,12 @@ fn verify_bundle(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if check.ok() {
         writeln!(
             ctx.out,
-            "ok: every file matches the bundle's digest{}",
+            "ok: every file matches the bundle's digest{}{}",
+            if key.is_some() {
+                ", its head is signed with the expected key"
+            } else {
+                ""
+            },
             if check.compared_with_records {
                 " and the bundle matches the records"
             } else {

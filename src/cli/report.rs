@@ -121,6 +121,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         paper: args.paper,
         exported_at: now_text(),
         today: chrono::Utc::now().date_naive(),
+        key_dir: Some(super::key::key_dir()),
     };
     let w = report::bundle::write_bundle(&store, &opts, &args.output).map_err(CliError::from)?;
     writeln!(
@@ -133,6 +134,15 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     )?;
     writeln!(ctx.out, "content SHA-256     {}", w.content_sha256)?;
     writeln!(ctx.out, "audit-chain head    {}", w.audit_chain_head)?;
+    match &w.signed_head {
+        Some(h) => writeln!(
+            ctx.out,
+            "signed with key     {} (anchor {})",
+            h.fingerprint,
+            h.anchor()
+        )?,
+        None => writeln!(ctx.out, "{}", super::key::unsigned_note(&store))?,
+    }
     writeln!(
         ctx.out,
         "check it with: shardlog --db {} verify --bundle {}",

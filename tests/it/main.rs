@@ -33,4 +33,6 @@ mod tui_loads;
 mod tui_pty;
 mod tui_review;
 mod tui_store;
+mod verify_sees;
 mod weibull_cli;
+mod witness;

@@ -380,7 +380,10 @@ fn contents_section(d: &mut Document, c: &BundleContent) {
         ),
         (
             "Audit-chain head at export".into(),
-            c.audit_chain_head.clone(),
+            match c.audit_head_seq {
+                Some(seq) => format!("entry {seq}, {}", c.audit_chain_head),
+                None => c.audit_chain_head.clone(),
+            },
         ),
         ("Exported".into(), c.exported_at.clone()),
         ("Produced by".into(), c.generator.clone()),

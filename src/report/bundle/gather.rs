@@ -84,7 +84,7 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
     }
     let sup = resolve_supplier(s, &opts.supplier)?;
     let labels = Labels::load(s)?;
-    let head = s.audit_head()?;
+    let (head_seq, head) = s.audit_head_entry()?;
     let filter = Filter {
         supplier: Some(sup.code.clone()),
         lot: opts.lot.clone(),
@@ -135,6 +135,7 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
         exported_at: opts.exported_at.clone(),
         generator: summary::generator(),
         audit_chain_head: head,
+        audit_head_seq: Some(head_seq),
         paper: match opts.paper {
             Paper::A4 => "a4".into(),
             Paper::Letter => "letter".into(),

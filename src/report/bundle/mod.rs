@@ -28,11 +28,12 @@ use serde::{Deserialize, Serialize};
 
 use super::doc::Paper;
 use super::summary::IncidentContent;
+use crate::store::signing::SignedHead;
 use crate::store::StoreError;
 
 pub use cover::cover_document;
 pub use gather::gather;
-pub use verify::{first_difference, verify_bundle, BundleCheck};
+pub use verify::{first_difference, verify_bundle, verify_bundle_with, BundleCheck, ExpectedKey};
 pub use write::{figures_csv, render_files, write_bundle};
 
 pub const BUNDLE_FORMAT: &str = "shardlog dispute bundle 1";
@@ -50,6 +51,9 @@ pub struct DisputeOptions {
     /// exposure window when no --until is given). Passed in: the report code reads no clock.
     pub exported_at: String,
     pub today: NaiveDate,
+    /// The folder of the database's private key: the bundle's audit head is signed with it
+    /// when it holds the key. None: not signed.
+    pub key_dir: Option<PathBuf>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -169,6 +173,10 @@ pub struct BundleContent {
     pub exported_at: String,
     pub generator: String,
     pub audit_chain_head: String,
+    /// Sequence number of the audit row `audit_chain_head` is the hash of (bundles made
+    /// before it was recorded have none).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub audit_head_seq: Option<i64>,
     pub paper: String,
     pub cover: Cover,
     pub incidents: Vec<BundleIncident>,
@@ -189,6 +197,9 @@ pub struct BundleFile {
     pub content_sha256: String,
     pub content: BundleContent,
     pub files: Vec<FileEntry>,
+    /// The audit head signed together with `content_sha256` by the database's key.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub signed_head: Option<SignedHead>,
 }
 
 #[derive(Debug, thiserror::Error)]
@@ -219,4 +230,6 @@ pub struct Written {
     pub files: usize,
     pub content_sha256: String,
     pub audit_chain_head: String,
+    /// The signed head, None when this machine does not hold the database's private key.
+    pub signed_head: Option<SignedHead>,
 }

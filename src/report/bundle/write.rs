@@ -208,6 +208,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
                 .unwrap_or_default()
         )));
     }
+    let signed_head = sign(s, opts, &content)?;
     let files = render_files(&content, &pictures, threads());
     let parent = match dir.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
@@ -239,6 +240,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
             content_sha256,
             content: content.clone(),
             files: entries.clone(),
+            signed_head: signed_head.clone(),
         };
         let mut json = serde_json::to_string_pretty(&bf)?;
         json.push('\n');
@@ -284,5 +286,19 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         files: entries.len() + 1,
         content_sha256: digest(&content, Numbers::Shortest)?,
         audit_chain_head: content.audit_chain_head.clone(),
+        signed_head,
     })
+}
+
+/// The bundle's audit head signed with its content digest, when the key is here.
+fn sign(
+    s: &Store,
+    opts: &DisputeOptions,
+    content: &BundleContent,
+) -> Result<Option<crate::store::signing::SignedHead>, BundleError> {
+    let (Some(dir), Some(seq)) = (&opts.key_dir, content.audit_head_seq) else {
+        return Ok(None);
+    };
+    let content_sha256 = digest(content, Numbers::Shortest)?;
+    Ok(s.sign_head_at(dir, seq, &content.audit_chain_head, &content_sha256)?)
 }
