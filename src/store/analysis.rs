@@ -122,3 +122,30 @@ pub fn compute(
     let analysis = fracture::analyze(&input)?;
     to_result(&analysis, computed_at).map_err(|e| ComputeError::Serialize(e.to_string()))
 }
+
+/// What this shardlog computes for a stored examination that has readings and a result:
+/// from what the bench was given when the result carries it (`bench_input`: constants,
+/// temper, geometry as typed there) with the stored readings in place of its own, else from
+/// the record as [`compute`] does. None when there is nothing to recompute.
+pub fn recompute_stored(
+    inc: &Incident,
+    exam: &Examination,
+) -> Option<Result<fracture::Analysis, FractureError>> {
+    let result = exam.result.as_ref()?;
+    if exam.readings.is_empty() {
+        return None;
+    }
+    let from_bench = result
+        .analysis
+        .get("bench_input")
+        .and_then(|v| serde_json::from_value::<AnalysisInput>(v.clone()).ok());
+    let input = match (from_bench, analysis_input(inc, exam)) {
+        (Some(mut bench), Ok(record)) => {
+            bench.readings = record.readings;
+            bench
+        }
+        (None, Ok(record)) => record,
+        (_, Err(e)) => return Some(Err(e)),
+    };
+    Some(fracture::analyze(&input))
+}
