@@ -119,6 +119,38 @@ pub fn read_regular(path: &Path, limit: u64) -> Result<Vec<u8>, SafeReadError> {
     Ok(bytes)
 }
 
+/// A file at `relative` inside `root`, read as [`read_regular`] does, with no folder on the
+/// way below `root` a link either (a bundle's `photos` swapped for a link to elsewhere).
+pub fn read_regular_within(
+    root: &Path,
+    relative: &str,
+    limit: u64,
+) -> Result<Vec<u8>, SafeReadError> {
+    let mut at = root.to_path_buf();
+    let parts: Vec<&str> = relative.split('/').filter(|p| !p.is_empty()).collect();
+    for part in parts.iter().take(parts.len().saturating_sub(1)) {
+        at.push(part);
+        let meta = fs::symlink_metadata(&at).map_err(|e| SafeReadError::Io {
+            path: at.display().to_string(),
+            message: e.to_string(),
+        })?;
+        if meta.file_type().is_symlink() {
+            check_regular(&at)?;
+        } else if !meta.is_dir() {
+            return Err(SafeReadError::NotRegular {
+                path: at.display().to_string(),
+                kind: kind_of(meta.file_type()),
+            });
+        }
+    }
+    read_regular(&root.join(relative), limit)
+}
+
+/// Whether a failed read found nothing at the path at all.
+pub fn is_missing(e: &SafeReadError) -> bool {
+    matches!(e, SafeReadError::Io { message, .. } if message.contains("No such file"))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
