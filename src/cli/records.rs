@@ -132,6 +132,10 @@ pub struct ImportArgs {
     /// Refuse site, asset, supplier, product and lot codes the database and file do not define.
     #[arg(long)]
     pub strict: bool,
+    /// A folder with the files of the attachment rows, named by their SHA-256 (a database's
+    /// `.files` folder); each is checked against its hash and copied in.
+    #[arg(long, value_name = "DIR")]
+    pub attachments: Option<PathBuf>,
 }
 
 pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -157,6 +161,7 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let options = ImportOptions {
         dry_run: args.dry_run,
         strict: args.strict,
+        attachments: args.attachments.clone(),
     };
     match s
         .import_bytes(&name, &bytes, options, &edge_stamp())

@@ -123,6 +123,33 @@ pub fn compute(
     to_result(&analysis, computed_at).map_err(|e| ComputeError::Serialize(e.to_string()))
 }
 
+/// What this shardlog computes for a stored examination that has readings and a result:
+/// from what the bench was given when the result carries it (`bench_input`: constants,
+/// temper, geometry as typed there) with the stored readings in place of its own, else from
+/// the record as [`compute`] does. None when there is nothing to recompute.
+pub fn recompute_stored(
+    inc: &Incident,
+    exam: &Examination,
+) -> Option<Result<fracture::Analysis, FractureError>> {
+    let result = exam.result.as_ref()?;
+    if exam.readings.is_empty() {
+        return None;
+    }
+    let from_bench = result
+        .analysis
+        .get("bench_input")
+        .and_then(|v| serde_json::from_value::<AnalysisInput>(v.clone()).ok());
+    let input = match (from_bench, analysis_input(inc, exam)) {
+        (Some(mut bench), Ok(record)) => {
+            bench.readings = record.readings;
+            bench
+        }
+        (None, Ok(record)) => record,
+        (_, Err(e)) => return Some(Err(e)),
+    };
+    Some(fracture::analyze(&input))
+}
+
 /// How far a stored figure may be from the recomputed one and still be the same: rounding
 /// only (relative 1e-6; an absolute 1e-6 of the unit for figures near zero).
 const SAME_WITHIN: f64 = 1e-6;
@@ -149,8 +176,11 @@ type Figure<'a> = (
 /// with both values and units.
 pub fn stored_result_differs(inc: &Incident, exam: &Examination) -> Option<String> {
     let stored = exam.result.as_ref()?;
-    let fresh = match compute(inc, exam, stored.computed_at) {
-        Ok(r) => r,
+    let fresh = match recompute_stored(inc, exam)? {
+        Ok(analysis) => match to_result(&analysis, stored.computed_at) {
+            Ok(r) => r,
+            Err(e) => return Some(format!("the recomputed result cannot be stored ({e})")),
+        },
         Err(e) => {
             return Some(format!(
                 "a result is stored, but its readings give none ({e})"

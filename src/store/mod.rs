@@ -59,6 +59,7 @@ mod ids;
 mod incidents;
 pub mod model;
 mod refdata;
+pub mod safe_file;
 pub mod signing;
 mod sqlite;
 mod verify;

@@ -11,6 +11,8 @@ mod fleet_facts;
 mod found_bugs;
 mod fuzz_regressions;
 mod hostile;
+mod intake_files;
+mod intake_import;
 mod loads;
 mod mirror_cli;
 mod packaging;

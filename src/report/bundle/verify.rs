@@ -11,6 +11,7 @@ use super::write::{render_files, threads};
 use super::{io, BundleContent, BundleError, BundleFile, BUNDLE_FORMAT};
 use crate::report::source::{incident_content, Labels};
 use crate::report::summary::Pictures;
+use crate::store::safe_file::{is_missing, read_regular_within, SafeReadError};
 use crate::store::signing::{normalise_fingerprint, PublicKey};
 use crate::store::{Anchor, Filter, Store};
 use shardlog_core::canonical::{digest, digest_value, sha256_hex, Numbers};
@@ -113,12 +114,10 @@ fn rel_files(dir: &Path) -> Result<BTreeSet<String>, BundleError> {
 /// Largest file `verify` reads into memory (a bundle's PDFs and photos are far smaller).
 const MAX_FILE: u64 = 512 * 1024 * 1024;
 
-fn read_limited(p: &Path) -> std::io::Result<Vec<u8>> {
-    let meta = std::fs::metadata(p)?;
-    if meta.len() > MAX_FILE {
-        return Err(std::io::Error::other("larger than 512 MB"));
-    }
-    std::fs::read(p)
+/// A file of the bundle: a regular file (no link, no FIFO, no device, no linked folder on
+/// the way), at most [`MAX_FILE`] bytes counted as they are read.
+fn read_limited(dir: &Path, relative: &str) -> Result<Vec<u8>, SafeReadError> {
+    read_regular_within(dir, relative, MAX_FILE)
 }
 
 /// The key a bundle must be signed with (`verify --bundle DIR --key …`).
@@ -283,8 +282,7 @@ fn read_bundle_file(
     dir: &Path,
     check: &mut BundleCheck,
 ) -> Option<(serde_json::Value, BundleFile)> {
-    let bj = dir.join("bundle.json");
-    let text = match read_limited(&bj) {
+    let text = match read_limited(dir, "bundle.json") {
         Ok(b) => b,
         Err(e) => {
             check
@@ -360,8 +358,7 @@ fn check_files(
             ));
             continue;
         }
-        let p = dir.join(&f.path);
-        match read_limited(&p) {
+        match read_limited(dir, &f.path) {
             Ok(b) => {
                 check.files_checked += 1;
                 let h = sha256_hex(&b);
@@ -373,9 +370,10 @@ fn check_files(
                 }
                 disk_bytes.insert(f.path.clone(), b);
             }
-            Err(_) => check
+            Err(e) if is_missing(&e) => check
                 .problems
                 .push(format!("{}: the file is missing", f.path)),
+            Err(e) => check.problems.push(format!("{}: not read: {e}", f.path)),
         }
     }
     for extra in on_disk.difference(listed) {

@@ -11,6 +11,7 @@ use super::super::incidents::{self, format_reference, next_reference, reference_
 use super::super::model::*;
 use super::super::refdata;
 use super::super::{IdGen, LookupSet, Store, StoreError};
+use super::admission::{self, AttachmentFiles, ReferenceCase};
 use super::csv::{parse_csv, CsvRecord};
 use super::json::parse_json;
 use super::{
@@ -110,16 +111,22 @@ impl Store {
     fn import_placed(
         &mut self,
         doc: ExportDoc,
-        incidents: Vec<(Place, Incident)>,
+        mut incidents: Vec<(Place, Incident)>,
         options: ImportOptions,
         stamp: &Stamp,
     ) -> ImportResult {
+        for (_, inc) in &mut incidents {
+            admission::normalize_keys(inc);
+        }
         let mut checker = Checker {
             known: KnownCodes::after_import(self, &doc)?,
             strict: options.strict,
             seen_ids: HashSet::new(),
             seen_refs: HashSet::new(),
-            problems: Vec::new(),
+            reference_case: ReferenceCase::default(),
+            files: AttachmentFiles::new(options.attachments.as_deref(), self.files_dir()),
+            now: stamp.at,
+            problems: admission::reference_dates_out_of_range(&doc),
         };
         for (i, e) in doc.lookups.iter().enumerate() {
             if e.code.trim().is_empty() {
@@ -145,7 +152,42 @@ impl Store {
                 problems: checker.problems,
             }));
         }
+        if !options.dry_run {
+            if let Err(p) = self.copy_attachment_files(&checker.files) {
+                return Ok(Err(ImportRejected { problems: vec![p] }));
+            }
+        }
         self.write_import(&doc, incidents, &checker.seen_refs, options, stamp)
+    }
+
+    /// Copy the checked files of the attachment rows into the attachment folder, before
+    /// the rows are written (a file without a row is harmless; a row without its file is not).
+    fn copy_attachment_files(&self, files: &AttachmentFiles) -> Result<(), Problem> {
+        if files.to_copy.is_empty() {
+            return Ok(());
+        }
+        let Some(dir) = self.files_dir() else {
+            return Err(Problem::new(
+                "attachments",
+                "this database has no attachment folder (in memory)",
+            ));
+        };
+        for (sha, path) in &files.to_copy {
+            let bytes = super::super::safe_file::read_regular(
+                path,
+                super::super::files::MAX_ATTACHMENT_BYTES,
+            )
+            .map_err(|e| Problem::new("attachments", e.to_string()))?;
+            let put = super::super::files::put_bytes(dir, &bytes)
+                .map_err(|e| Problem::new("attachments", e.to_string()))?;
+            if &put != sha {
+                return Err(Problem::new(
+                    path.display().to_string(),
+                    "changed while it was being imported",
+                ));
+            }
+        }
+        Ok(())
     }
 
     /// Write what was checked in one transaction (rolled back on a dry run or a refusal).
@@ -257,6 +299,10 @@ struct Checker {
     strict: bool,
     seen_ids: HashSet<String>,
     seen_refs: HashSet<String>,
+    reference_case: ReferenceCase,
+    files: AttachmentFiles,
+    /// The import's clock.
+    now: chrono::DateTime<chrono::Utc>,
     problems: Vec<Problem>,
 }
 
@@ -268,6 +314,14 @@ impl Checker {
     /// Validation, keys and references, and in strict mode the codes, of one incident.
     fn check(&mut self, store: &Store, place: Place, inc: &Incident) -> Result<(), StoreError> {
         for (field, msg) in incidents::validate(&self.known.lookups, inc) {
+            self.problems.push(place.field_problem(&field, msg));
+        }
+        let mut more = admission::future_times(inc, self.now);
+        more.extend(self.files.check(inc));
+        if matches!(place, Place::Index(_)) {
+            more.extend(admission::results_that_do_not_follow(inc));
+        }
+        for (field, msg) in more {
             self.problems.push(place.field_problem(&field, msg));
         }
         let at = place.at();
@@ -303,6 +357,8 @@ impl Checker {
                     format!("{at}.reference"),
                     format!("{} is already in the database", inc.reference),
                 );
+            } else if let Some(m) = self.reference_case.clash(store, &inc.reference, &at)? {
+                self.push(format!("{at}.reference"), m);
             }
         }
         if self.strict {

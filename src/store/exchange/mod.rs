@@ -11,6 +11,7 @@ use serde::{Deserialize, Serialize};
 
 use super::model::*;
 
+mod admission;
 mod csv;
 mod export;
 mod import;
@@ -91,13 +92,16 @@ impl std::fmt::Display for Problem {
 }
 
 /// How to import.
-#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
 pub struct ImportOptions {
     /// Check and report, write nothing.
     pub dry_run: bool,
     /// Refuse codes (site, asset, supplier, product, lot) that are neither in the database
     /// nor in the file, instead of creating them.
     pub strict: bool,
+    /// A folder holding the files of the attachment rows (named by their SHA-256, as in an
+    /// attachment folder); without it, attachment rows are refused.
+    pub attachments: Option<std::path::PathBuf>,
 }
 
 /// What an import did (or would do, in a dry run).
