@@ -11,6 +11,7 @@ use std::path::PathBuf;
 
 use clap::{Parser, Subcommand};
 
+pub mod codes;
 pub mod load;
 pub mod materials;
 pub mod mirror;
