@@ -95,15 +95,27 @@ pub fn bench_examination(
             "bench_input".to_string(),
             serde_json::to_value(record.input).unwrap_or(serde_json::Value::Null),
         );
-        if let Some(t) = &record.thermal {
+    }
+    attach_hypotheses(&mut result, record.thermal.as_ref(), record.load.as_ref());
+    exam.result = Some(result);
+    Ok(exam)
+}
+
+/// Save the hypotheses tried beside a result into it (`thermal_hypothesis`,
+/// `load_hypothesis`), as the bench does; [`saved_hypotheses`] reads them back.
+pub fn attach_hypotheses(
+    result: &mut super::model::ComputedResult,
+    thermal: Option<&ThermalHypothesis>,
+    load: Option<&LoadHypothesis>,
+) {
+    if let serde_json::Value::Object(map) = &mut result.analysis {
+        if let Some(t) = thermal {
             map.insert("thermal_hypothesis".to_string(), thermal_json(t));
         }
-        if let Some(h) = &record.load {
+        if let Some(h) = load {
             map.insert("load_hypothesis".to_string(), load_json(h));
         }
     }
-    exam.result = Some(result);
-    Ok(exam)
 }
 
 fn readings(record: &BenchRecord) -> Result<Vec<MirrorReading>, String> {

@@ -11,7 +11,7 @@ use super::write::{render_files, threads};
 use super::{io, BundleContent, BundleError, BundleFile, BUNDLE_FORMAT};
 use crate::report::source::{incident_content, Labels};
 use crate::report::summary::Pictures;
-use crate::store::{Filter, Store};
+use crate::store::Store;
 use shardlog_core::canonical::{digest, digest_value, sha256_hex, Numbers};
 
 #[derive(Debug, Clone, Default, Serialize)]
@@ -383,16 +383,10 @@ fn compare_with_records(
             ));
         }
     }
-    let filter = Filter {
-        supplier: Some(c.selection.supplier_code.clone()),
-        lot: c.selection.lot.clone(),
-        since: c.selection.since,
-        until: c.selection.until,
-        ..Filter::default()
-    };
     let in_bundle: BTreeSet<&str> = c.incidents.iter().map(|i| i.reference.as_str()).collect();
     let mut added_later = 0;
-    for id in s.matching_ids(&filter)? {
+    // the bundle's selection run again: every field that chose the incidents is in it
+    for id in super::gather::selected_ids(s, &c.selection)? {
         let inc = s.get(&id)?;
         if in_bundle.contains(inc.reference.as_str()) {
             continue;
