@@ -23,6 +23,8 @@ fn main() {
     let opts = DisputeOptions {
         supplier: report_common::CLAIMED.into(),
         lot: None,
+        causes: Vec::new(),
+        origin_type: None,
         since: None,
         until: None,
         paper: Paper::A4,

@@ -11,6 +11,7 @@ use std::path::PathBuf;
 
 use clap::{Parser, Subcommand};
 
+pub mod codes;
 pub mod key;
 pub mod load;
 pub mod materials;

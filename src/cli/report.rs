@@ -2,6 +2,7 @@
 
 use std::path::{Path, PathBuf};
 
+use super::codes::{resolve, resolve_opt, Field};
 use super::records::{open, write_whole};
 use super::{parse_day, CliError, Context};
 use crate::report::{self, source, summary, Format, Paper};
@@ -84,6 +85,13 @@ pub struct DisputeArgs {
     /// Only this lot.
     #[arg(long, value_name = "LOT")]
     pub lot: Option<String>,
+    /// Only incidents of this cause, code or label (repeatable: any of them); the cover
+    /// leads with it and says how many incidents of other causes were left out.
+    #[arg(long, value_name = "C")]
+    pub cause: Vec<String>,
+    /// Only incidents of this origin type, code or label.
+    #[arg(long, value_name = "T")]
+    pub origin_type: Option<String>,
     /// Incidents found on or after this date (YYYY-MM-DD).
     #[arg(long, value_name = "DATE")]
     pub since: Option<String>,
@@ -113,9 +121,25 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
     let store = open(&ctx.db)?;
+    let lot = resolve_opt(&store, Field::Lot, "--lot", &args.lot)?;
+    let mut causes = Vec::new();
+    for c in &args.cause {
+        let code = resolve(&store, Field::Cause, "--cause", c)?;
+        if !causes.contains(&code) {
+            causes.push(code);
+        }
+    }
+    let origin_type = resolve_opt(
+        &store,
+        Field::OriginType,
+        "--origin-type",
+        &args.origin_type,
+    )?;
     let opts = report::bundle::DisputeOptions {
         supplier: args.supplier.clone(),
-        lot: args.lot.clone(),
+        lot,
+        causes,
+        origin_type,
         since,
         until,
         paper: args.paper,

@@ -492,11 +492,11 @@ fn compare_with_records(
             ));
         }
     }
-    let filter = selection_filter(c);
+    let filters = super::gather::selection_filters(&c.selection);
     if let Some(seq) = c.audit_head_seq {
-        compare_at_head(s, c, &filter, seq, check)?;
+        compare_at_head(s, c, &filters, seq, check)?;
     } else {
-        compare_by_time(s, c, &filter, check)?;
+        compare_by_time(s, c, &filters, check)?;
     }
     if chain.head == c.audit_chain_head {
         check
@@ -511,24 +511,12 @@ fn compare_with_records(
     Ok(())
 }
 
-/// The bundle's selection as a filter of the log. A field the selection gains goes here
-/// (and into the store's `matches` when it is new to the filter).
-fn selection_filter(c: &BundleContent) -> Filter {
-    Filter {
-        supplier: Some(c.selection.supplier_code.clone()),
-        lot: c.selection.lot.clone(),
-        since: c.selection.since,
-        until: c.selection.until,
-        ..Filter::default()
-    }
-}
-
 /// The bundle's head is in the chain, its selection re-run over the records as they stood
 /// then gives exactly its incidents, and none of them was stamped after the export.
 fn compare_at_head(
     s: &Store,
     c: &BundleContent,
-    filter: &Filter,
+    filters: &[Filter],
     seq: i64,
     check: &mut BundleCheck,
 ) -> Result<(), BundleError> {
@@ -541,7 +529,10 @@ fn compare_at_head(
             "the bundle's audit head is not in this database's chain: {p} (or the bundle was made from a rewritten copy)"
         ));
     }
-    let then = s.matching_references_at(filter, seq)?;
+    let mut then = BTreeSet::new();
+    for f in filters {
+        then.extend(s.matching_references_at(f, seq)?);
+    }
     let in_bundle: BTreeSet<String> = c.incidents.iter().map(|i| i.reference.clone()).collect();
     for r in then.difference(&in_bundle) {
         check.problems.push(format!(
@@ -564,7 +555,11 @@ fn compare_at_head(
             ));
         }
     }
-    let later = s.matching_ids(filter)?.len().saturating_sub(then.len());
+    let mut now = 0;
+    for f in filters {
+        now += s.matching_ids(f)?.len();
+    }
+    let later = now.saturating_sub(then.len());
     if later > 0 {
         check.notes.push(format!(
             "the selection matches {later} more incident{} in the records now than at the bundle's head",
@@ -579,12 +574,17 @@ fn compare_at_head(
 fn compare_by_time(
     s: &Store,
     c: &BundleContent,
-    filter: &Filter,
+    filters: &[Filter],
     check: &mut BundleCheck,
 ) -> Result<(), BundleError> {
     let in_bundle: BTreeSet<&str> = c.incidents.iter().map(|i| i.reference.as_str()).collect();
     let mut added_later = 0;
-    for id in s.matching_ids(filter)? {
+    // the bundle's selection run again: every field that chose the incidents is in it
+    let mut ids = Vec::new();
+    for f in filters {
+        ids.extend(s.matching_ids(f)?);
+    }
+    for id in ids {
         let inc = s.get(&id)?;
         if in_bundle.contains(inc.reference.as_str()) {
             continue;

@@ -10,7 +10,7 @@ use rusqlite::params;
 use super::derive;
 use crate::store::audit::{manifest_records, BATCH, INCIDENT};
 use crate::store::canon;
-use crate::store::model::{Filter, Incident};
+use crate::store::model::{Filter, Incident, NO_CAUSE};
 use crate::store::{Store, StoreError};
 
 /// Whether `inc` matches `f` (every field but free text, which the caller refuses).
@@ -19,7 +19,12 @@ pub(crate) fn matches(f: &Filter, inc: &Incident) -> bool {
     let eq =
         |want: &Option<String>, have: Option<&str>| want.as_deref().is_none_or(|w| have == Some(w));
     eq(&f.status, Some(inc.status.as_str()))
-        && eq(&f.cause, inc.cause.as_ref().map(|c| c.category.as_str()))
+        && match (f.cause.as_deref(), inc.cause.as_ref()) {
+            (None, _) => true,
+            (Some(NO_CAUSE), None) => true,
+            (Some(w), Some(c)) => c.category == w,
+            (Some(_), None) => false,
+        }
         && eq(&f.origin_type, derive(inc).origin_type.as_deref())
         && eq(&f.supplier, inc.glass.supplier.as_deref())
         && eq(&f.lot, inc.glass.lot.as_deref())
