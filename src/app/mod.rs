@@ -5,6 +5,7 @@
 //! touches the terminal; the store is called from `update`, never from a draw.
 
 pub mod bench;
+mod bench_restore;
 pub mod field;
 pub mod form;
 pub mod hypothesis;

@@ -27,6 +27,7 @@ mod store_import;
 mod store_tamper;
 mod terminal_output;
 mod tui;
+mod tui_bench;
 mod tui_loads;
 mod tui_pty;
 mod tui_review;
