@@ -570,6 +570,12 @@ fn out_keys(ctx: Ctx) -> Vec<K> {
         .collect()
 }
 
+/// Whether a binding does something on `screen` (the text keys are shared by every form;
+/// F2 only works in the bench calculator).
+pub fn works_on(b: &Binding, screen: crate::app::Screen) -> bool {
+    b.action != Action::JumpHypothesis || screen == crate::app::Screen::Bench
+}
+
 /// The footer entries for `ctx`.
 pub fn footer_for(ctx: Ctx) -> Vec<&'static Binding> {
     bindings_for(ctx).into_iter().filter(|b| b.footer).collect()

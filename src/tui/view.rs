@@ -139,7 +139,8 @@ fn draw_status(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
 
 fn draw_footer(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
     let ctx = app.ctx();
-    let all = keys::footer_for(ctx);
+    let mut all = keys::footer_for(ctx);
+    all.retain(|b| keys::works_on(b, app.screen()));
     // the help key is always shown, at the end; the others as many as fit before it
     let help = all
         .iter()
@@ -206,7 +207,10 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         lines.push(Line::from(n));
     }
     let kw = 12usize;
-    for b in keys::bindings_for(ctx) {
+    for b in keys::bindings_for(ctx)
+        .into_iter()
+        .filter(|b| keys::works_on(b, app.screen()))
+    {
         lines.push(Line::from(vec![
             Span::styled(widgets::fit_left(b.label, kw), th.focus_label),
             Span::raw(b.desc),
