@@ -486,18 +486,9 @@ fn origin_label(location: OriginLocation) -> &'static str {
     }
 }
 
-/// The flaw geometry an origin location implies when none is picked: an edge crack at an
-/// edge, a corner crack at a corner; `None` leaves the core's default for a face (a
-/// semicircular surface flaw) and for the interior (an embedded penny).
+/// The flaw geometry an origin location implies when none is picked (the core's rule).
 pub fn default_geometry(location: OriginLocation, aspect: f64) -> Option<FlawGeometry> {
-    match location {
-        OriginLocation::Surface | OriginLocation::Interior => None,
-        OriginLocation::Edge => Some(FlawGeometry::EdgeCrack),
-        OriginLocation::Corner => Some(FlawGeometry::CornerCrack {
-            a_over_c: aspect.min(1.0),
-            a_over_t: 0.0,
-        }),
-    }
+    location.default_geometry(aspect)
 }
 
 /// Flaw size for each geometry of the table, from the one analysis already made.

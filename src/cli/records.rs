@@ -123,6 +123,9 @@ pub struct ImportArgs {
     /// Refuse site, asset, supplier, product and lot codes the database and file do not define.
     #[arg(long)]
     pub strict: bool,
+    /// Import incidents although one with the same asset, position and date found exists.
+    #[arg(long)]
+    pub allow_duplicates: bool,
 }
 
 pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -148,6 +151,7 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let options = ImportOptions {
         dry_run: args.dry_run,
         strict: args.strict,
+        allow_duplicates: args.allow_duplicates,
     };
     match s
         .import_bytes(&name, &bytes, options, &edge_stamp())

@@ -11,6 +11,7 @@ mod fleet_facts;
 mod found_bugs;
 mod fuzz_regressions;
 mod hostile;
+mod import_onepass;
 mod loads;
 mod mirror_cli;
 mod packaging;

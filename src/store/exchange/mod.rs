@@ -15,6 +15,7 @@ mod csv;
 mod export;
 mod import;
 mod json;
+mod onepass;
 
 pub use csv::{csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS};
 pub use json::parse_json;
@@ -98,6 +99,9 @@ pub struct ImportOptions {
     /// Refuse codes (site, asset, supplier, product, lot) that are neither in the database
     /// nor in the file, instead of creating them.
     pub strict: bool,
+    /// Import an incident although one with the same asset, position and date found is
+    /// already recorded (or earlier in the file); otherwise that is a problem of its line.
+    pub allow_duplicates: bool,
 }
 
 /// What an import did (or would do, in a dry run).
