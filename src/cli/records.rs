@@ -145,6 +145,9 @@ pub struct ImportArgs {
     /// `.files` folder); each is checked against its hash and copied in.
     #[arg(long, value_name = "DIR")]
     pub attachments: Option<PathBuf>,
+    /// Import incidents although one with the same asset, position and date found exists.
+    #[arg(long)]
+    pub allow_duplicates: bool,
 }
 
 pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -171,6 +174,7 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         dry_run: args.dry_run,
         strict: args.strict,
         attachments: args.attachments.clone(),
+        allow_duplicates: args.allow_duplicates,
     };
     match s
         .import_bytes(&name, &bytes, options, &edge_stamp())

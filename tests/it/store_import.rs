@@ -461,7 +461,7 @@ fn problems_after_a_multi_line_cell_name_the_physical_line() {
         .unwrap_err();
     let all: Vec<String> = rej.problems.iter().map(|p| p.to_string()).collect();
     assert_eq!(all.len(), 1, "{all:?}");
-    assert!(all[0].starts_with("line 6: status: "), "{all:?}");
+    assert!(all[0].starts_with("line 6, column status: "), "{all:?}");
     assert_eq!(s.incident_count().unwrap(), 0);
 }
 

@@ -278,7 +278,7 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         .position(|b| is_closed(input, b))
         .unwrap_or(0);
     let head = &boundaries[head_index];
-    let consistency = consistency_between_boundaries(&boundaries, &mut warnings);
+    let consistency = consistency_between_boundaries(input, &boundaries, &mut warnings);
     let residual = residual::residual_stress(input, &mut warnings)?;
     mirror_size_warnings(input, &boundaries, head, &residual, &mut warnings);
     let (applied, applied_low, applied_high) = applied_stress(head, &residual, &mut warnings);
@@ -427,11 +427,14 @@ fn boundary_statistics(
 
 /// Consistency between every pair of boundaries, ordered inner to outer.
 fn consistency_between_boundaries(
+    input: &AnalysisInput,
     boundaries: &[BoundaryResult],
     warnings: &mut Vec<String>,
 ) -> Vec<Consistency> {
     let mut consistency = Vec::new();
-    let mut ordered: Vec<&BoundaryResult> = boundaries.iter().collect();
+    // a boundary that is not closed says nothing about the stress: it is not compared
+    let mut ordered: Vec<&BoundaryResult> =
+        boundaries.iter().filter(|b| is_closed(input, b)).collect();
     ordered.sort_by_key(|b| b.boundary);
     for i in 0..ordered.len() {
         for j in i + 1..ordered.len() {

@@ -194,6 +194,20 @@ impl OriginLocation {
         }
     }
 
+    /// The flaw geometry the location implies when none is chosen: an edge crack at an edge,
+    /// a corner crack (a/c = `aspect`, at most 1) at a corner; `None` leaves the analysis'
+    /// default for a face (semicircular surface flaw) and the interior (embedded penny).
+    pub fn default_geometry(self, aspect: f64) -> Option<super::FlawGeometry> {
+        match self {
+            OriginLocation::Surface | OriginLocation::Interior => None,
+            OriginLocation::Edge => Some(super::FlawGeometry::EdgeCrack),
+            OriginLocation::Corner => Some(super::FlawGeometry::CornerCrack {
+                a_over_c: aspect.min(1.0),
+                a_over_t: 0.0,
+            }),
+        }
+    }
+
     /// Where the origin sits through the thickness: only an interior origin is in the core.
     pub fn origin(self) -> Origin {
         match self {
