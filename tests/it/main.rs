@@ -3,6 +3,7 @@
 mod support;
 
 mod architecture;
+mod calibrate;
 mod concurrent;
 mod crash;
 mod faults;
