@@ -419,14 +419,18 @@ fn write_table(
         writeln!(out)?;
         writeln!(
             out,
-            "{} {} = {}, sd {} (one specimen: {}), 95 % interval {} to {} (n = {}, t = {:.3})",
+            "{} {} = {}, 95 % interval {} to {}",
             f.boundary.label(),
             f.boundary.constant_symbol(),
             units::format_sig(f.constant, k, 4),
-            units::format_sig(f.constant_sd, k, 2),
-            units::format_sig(f.specimen_sd, k, 2),
             units::format_sig(f.constant_low, k, 4),
             units::format_sig(f.constant_high, k, 4),
+        )?;
+        writeln!(
+            out,
+            "  sd {}, one specimen's scatter {}; n = {}, Student's t = {:.3}",
+            units::format_sig(f.constant_sd, k, 2),
+            units::format_sig(f.specimen_sd, k, 2),
             f.n,
             f.coverage
         )?;
@@ -440,8 +444,8 @@ fn write_table(
                 if s.consistent {
                     "consistent with −½"
                 } else {
-                    "NOT consistent with −½: the specimens do not follow σ = A/√R; check the \
-                     boundaries read and the stress at the origin before using this constant"
+                    "NOT consistent with −½\n  the specimens do not follow σ = A/√R: check the \
+                     boundaries read and the\n  stress at the origin before using this constant"
                 }
             )?,
             None => writeln!(
