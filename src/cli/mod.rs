@@ -15,6 +15,7 @@ pub mod calibrate;
 pub mod load;
 pub mod materials;
 pub mod mirror;
+pub mod progress;
 pub mod records;
 pub mod report;
 pub mod stats;

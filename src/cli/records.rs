@@ -149,10 +149,11 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         dry_run: args.dry_run,
         strict: args.strict,
     };
-    match s
-        .import_bytes(&name, &bytes, options, &edge_stamp())
-        .map_err(|e| CliError::work(format!("{name}: import failed: {e}")))?
-    {
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let result = s.import_bytes(&name, &bytes, options, &edge_stamp());
+    drop(meter);
+    match result.map_err(|e| CliError::work(format!("{name}: import failed: {e}")))? {
         Ok(sum) => {
             writeln!(
                 ctx.out,
@@ -593,7 +594,11 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         return verify_bundle(dir, ctx);
     }
     let s = open(&ctx.db)?;
-    let r = s.verify().map_err(work)?;
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let r = s.verify();
+    drop(meter);
+    let r = r.map_err(work)?;
     if args.json {
         let text =
             serde_json::to_string_pretty(&r).map_err(|e| CliError::work(format!("JSON: {e}")))?;
@@ -673,7 +678,11 @@ pub struct BackupArgs {
 pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     refuse_database_files(&args.dest, &ctx.db, "DEST")?;
     let s = open(&ctx.db)?;
-    let r = s.backup(&args.dest).map_err(|e| {
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let r = s.backup(&args.dest);
+    drop(meter);
+    let r = r.map_err(|e| {
         CliError::work(format!(
             "backup to {} failed: {e}; nothing was left at {0}",
             args.dest.display()
@@ -723,14 +732,23 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         )));
     }
     let started = std::time::Instant::now();
-    let sum = crate::demo::generate(
+    let meter = super::progress::Meter::on_stderr();
+    let mut tell = meter.as_ref().map(|m| m.callback());
+    let sum = crate::demo::generate_told(
         &args.out,
         &crate::demo::DemoOptions {
             incidents: args.incidents,
             seed: args.seed,
         },
-    )
-    .map_err(work)?;
+        &mut |p| {
+            if let Some(t) = tell.as_mut() {
+                t(p)
+            }
+        },
+    );
+    drop(tell);
+    drop(meter);
+    let sum = sum.map_err(work)?;
     writeln!(
         ctx.out,
         "wrote {}: {} incidents, {} examinations, {} custody entries, {} attachments, {} exposure rows ({:.1} s)",

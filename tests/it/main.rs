@@ -15,6 +15,7 @@ mod hostile;
 mod loads;
 mod mirror_cli;
 mod packaging;
+mod progress;
 mod readonly;
 mod reference;
 mod report_bundle;
