@@ -11,11 +11,13 @@ use std::path::PathBuf;
 
 use clap::{Parser, Subcommand};
 
+pub mod calibrate;
 pub mod codes;
 pub mod key;
 pub mod load;
 pub mod materials;
 pub mod mirror;
+pub mod progress;
 pub mod records;
 pub mod report;
 pub mod stats;
@@ -43,6 +45,8 @@ pub enum Command {
     Load(load::LoadArgs),
     /// Fit a two-parameter Weibull distribution to a column of strengths.
     Weibull(weibull::WeibullArgs),
+    /// Fit a lab's own mirror constants from specimens broken at a known stress.
+    Calibrate(calibrate::CalibrateArgs),
     /// Create an empty database.
     Init(records::InitArgs),
     /// Import incidents from CSV or JSON (all or nothing).
@@ -393,6 +397,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Materials(a) => materials::run(a, &mut ctx),
         Command::Load(a) => load::run(a, &mut ctx),
         Command::Weibull(a) => weibull::run(a, &mut ctx),
+        Command::Calibrate(a) => calibrate::run(a, &mut ctx),
         Command::Init(a) => records::init(a, &mut ctx),
         Command::Import(a) => records::import(a, &mut ctx),
         Command::Export(a) => records::export(a, &mut ctx),

@@ -176,10 +176,11 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         attachments: args.attachments.clone(),
         allow_duplicates: args.allow_duplicates,
     };
-    match s
-        .import_bytes(&name, &bytes, options, &edge_stamp())
-        .map_err(|e| CliError::work(format!("{name}: import failed: {e}")))?
-    {
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let result = s.import_bytes(&name, &bytes, options, &edge_stamp());
+    drop(meter);
+    match result.map_err(|e| CliError::work(format!("{name}: import failed: {e}")))? {
         Ok(sum) => {
             writeln!(
                 ctx.out,
@@ -745,7 +746,11 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         return verify_bundle(dir, &args, ctx);
     }
     let s = open(&ctx.db)?;
-    let mut r = s.verify().map_err(work)?;
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let r = s.verify();
+    drop(meter);
+    let mut r = r.map_err(work)?;
     for p in s.check_anchors(&args.anchor).map_err(work)? {
         r.add_problem(p);
     }
@@ -877,7 +882,11 @@ pub struct BackupArgs {
 pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     refuse_database_files(&args.dest, &ctx.db, "DEST")?;
     let s = open(&ctx.db)?;
-    let r = s.backup(&args.dest).map_err(|e| {
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let r = s.backup(&args.dest);
+    drop(meter);
+    let r = r.map_err(|e| {
         CliError::work(format!(
             "backup to {} failed: {e}; nothing was left at {0}",
             args.dest.display()
@@ -927,14 +936,23 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         )));
     }
     let started = std::time::Instant::now();
-    let sum = crate::demo::generate(
+    let meter = super::progress::Meter::on_stderr();
+    let mut tell = meter.as_ref().map(|m| m.callback());
+    let sum = crate::demo::generate_told(
         &args.out,
         &crate::demo::DemoOptions {
             incidents: args.incidents,
             seed: args.seed,
         },
-    )
-    .map_err(work)?;
+        &mut |p| {
+            if let Some(t) = tell.as_mut() {
+                t(p)
+            }
+        },
+    );
+    drop(tell);
+    drop(meter);
+    let sum = sum.map_err(work)?;
     writeln!(
         ctx.out,
         "wrote {}: {} incidents, {} examinations, {} custody entries, {} attachments, {} exposure rows ({:.1} s)",

@@ -147,7 +147,11 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         today: chrono::Utc::now().date_naive(),
         key_dir: Some(super::key::key_dir()),
     };
-    let w = report::bundle::write_bundle(&store, &opts, &args.output).map_err(CliError::from)?;
+    let meter = super::progress::Meter::on_stderr();
+    store.set_progress(meter.as_ref().map(|m| m.callback()));
+    let w = report::bundle::write_bundle(&store, &opts, &args.output);
+    drop(meter);
+    let w = w.map_err(CliError::from)?;
     writeln!(
         ctx.out,
         "wrote {}: {} incident summaries, {} attachments, {} files",

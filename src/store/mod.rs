@@ -58,6 +58,7 @@ mod files;
 mod ids;
 mod incidents;
 pub mod model;
+pub mod progress;
 mod refdata;
 pub mod safe_file;
 pub mod signing;
@@ -150,6 +151,8 @@ pub struct Store {
     pub(crate) ids: IdGen,
     /// (kind, code) of every lookup entry, for validating writes.
     pub(crate) lookups: LookupSet,
+    /// Told how far long work (import, verify, backup) has come.
+    progress: progress::ProgressSlot,
 }
 
 /// The fixed time and actor of audit rows written by migrations (seeded lookup entries).
@@ -226,7 +229,19 @@ impl Store {
             files_dir,
             ids: IdGen::new(seed),
             lookups: LookupSet::default(),
+            progress: progress::ProgressSlot::default(),
         }
+    }
+
+    /// Be told how far long work (import, verify, backup, a dispute bundle) has come; `None`
+    /// stops it. Returns the callback that was set before.
+    pub fn set_progress(&self, f: Option<progress::ProgressFn>) -> Option<progress::ProgressFn> {
+        self.progress.set(f)
+    }
+
+    /// Tell the progress callback, if any, that `done` of `total` rows of `stage` are done.
+    pub fn report_progress(&self, stage: &'static str, done: u64, total: Option<u64>) {
+        self.progress.tell(stage, done, total);
     }
 
     /// Make key generation deterministic (tests, the demo generator).

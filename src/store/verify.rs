@@ -7,6 +7,7 @@ use rusqlite::Connection;
 use sha2::{Digest, Sha256};
 
 use super::audit::{Verification, INCIDENT};
+use super::progress::ProgressSlot;
 use super::{canon, incidents, refdata, Store, StoreError, VerifyReport};
 
 impl Store {
@@ -25,7 +26,7 @@ impl Store {
         for (entity, id, shown, img) in refdata::all_images(&self.conn)? {
             v.check_record(entity, &id, &shown, &img);
         }
-        check_incidents(&self.conn, &mut v)?;
+        check_incidents(&self.conn, &mut v, &self.progress)?;
         // the narrow copy the fleet statistics read (schema 3) agrees with the incidents
         for msg in incidents::fleet_facts_problems(&self.conn)? {
             v.problem(msg);
@@ -46,10 +47,19 @@ impl Store {
 
 /// Every incident against its last audited image, and its derived columns against its
 /// examinations.
-fn check_incidents(conn: &Connection, v: &mut Verification) -> Result<(), StoreError> {
+fn check_incidents(
+    conn: &Connection,
+    v: &mut Verification,
+    progress: &ProgressSlot,
+) -> Result<(), StoreError> {
     let mut bad_derived: Option<String> = None;
     let mut n_bad = 0u64;
+    let total: i64 = conn.query_row("SELECT count(*) FROM incidents", [], |r| r.get(0))?;
+    let total = Some(total.max(0) as u64);
+    let mut done = 0u64;
     incidents::for_each_incident(conn, |inc, derived_ok| {
+        progress.tell("verifying", done, total);
+        done += 1;
         let img = canon::incident_image(&inc)?;
         v.check_record(INCIDENT, &inc.id, &inc.reference, &img);
         for (n, exam) in inc.examinations.iter().enumerate() {

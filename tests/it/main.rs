@@ -3,6 +3,7 @@
 mod support;
 
 mod architecture;
+mod calibrate;
 mod concurrent;
 mod crash;
 mod faults;
@@ -18,6 +19,7 @@ mod loads;
 mod mirror_cli;
 mod packaging;
 mod plausibility;
+mod progress;
 mod readonly;
 mod reference;
 mod report_bundle;

@@ -14,6 +14,7 @@
 //! 5. cross-checks: mirror-to-flaw ratios, measured flaw, predicted branching distance,
 //!    consistency between boundaries; warnings in plain sentences.
 
+pub mod calibration;
 pub mod flaw;
 pub mod materials;
 pub mod mirror;

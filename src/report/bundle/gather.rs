@@ -133,7 +133,8 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
     let mut pictures: Pictures = HashMap::new();
     let mut attachments: BTreeMap<String, BundleAttachment> = BTreeMap::new();
     let mut raw = Vec::with_capacity(ids.len());
-    for id in &ids {
+    for (i, id) in ids.iter().enumerate() {
+        s.report_progress("gathering", i as u64, Some(ids.len() as u64));
         let inc = s.get(id)?;
         let (content, pics) = incident_content(s, &labels, &inc)?;
         for a in &content.attachments {

@@ -126,6 +126,17 @@ pub fn render_files(
     pictures: &Pictures,
     threads: usize,
 ) -> Vec<(String, Vec<u8>)> {
+    render_files_told(c, pictures, threads, None)
+}
+
+/// [`render_files`], telling `tell` (done, total) how many summaries are rendered, a few
+/// times a second, from the calling thread.
+pub fn render_files_told(
+    c: &BundleContent,
+    pictures: &Pictures,
+    threads: usize,
+    mut tell: Option<&mut dyn FnMut(u64, u64)>,
+) -> Vec<(String, Vec<u8>)> {
     let paper = paper_of(c);
     let cover = cover_document(c);
     let mut files = vec![
@@ -141,7 +152,10 @@ pub fn render_files(
     ];
     let threads = threads.clamp(1, 16);
     let chunk = c.incidents.len().div_ceil(threads).max(1);
+    let total = c.incidents.len() as u64;
+    let done = std::sync::atomic::AtomicU64::new(0);
     let rendered: Vec<Vec<(String, Vec<u8>)>> = std::thread::scope(|scope| {
+        let done = &done;
         let handles: Vec<_> = c
             .incidents
             .chunks(chunk)
@@ -151,12 +165,20 @@ pub fn render_files(
                         .map(|i| {
                             let doc =
                                 summary::document(&i.content, &incident_proof(c, i), pictures);
-                            (i.file.clone(), crate::report::pdf::render(&doc, paper))
+                            let file = (i.file.clone(), crate::report::pdf::render(&doc, paper));
+                            done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                            file
                         })
                         .collect::<Vec<_>>()
                 })
             })
             .collect();
+        if let Some(tell) = tell.as_mut() {
+            while handles.iter().any(|h| !h.is_finished()) {
+                tell(done.load(std::sync::atomic::Ordering::Relaxed), total);
+                std::thread::sleep(std::time::Duration::from_millis(50));
+            }
+        }
         handles
             .into_iter()
             .map(|h| h.join().unwrap_or_default())
@@ -209,7 +231,8 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         )));
     }
     let signed_head = sign(s, opts, &content)?;
-    let files = render_files(&content, &pictures, threads());
+    let mut tell = |done: u64, total: u64| s.report_progress("rendering", done, Some(total));
+    let files = render_files_told(&content, &pictures, threads(), Some(&mut tell));
     let parent = match dir.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),

@@ -9,6 +9,7 @@ use rusqlite::{Connection, TransactionBehavior};
 use super::super::audit::{Bulk, Chain, INCIDENT};
 use super::super::incidents::{self, format_reference, next_reference, reference_prefix, RefCache};
 use super::super::model::*;
+use super::super::progress::ProgressSlot;
 use super::super::refdata;
 use super::super::{IdGen, LookupSet, Store, StoreError};
 use super::admission::{self, AttachmentFiles, ReferenceCase};
@@ -218,7 +219,9 @@ impl Store {
                 ));
             }
         }
-        for (place, inc) in &incidents {
+        let total = Some(incidents.len() as u64);
+        for (i, (place, inc)) in incidents.iter().enumerate() {
+            self.report_progress("checking", i as u64, total);
             checker.check(self, *place, inc)?;
         }
         for (i, e) in doc.exposure.iter().enumerate() {
@@ -295,6 +298,7 @@ impl Store {
             ids: &mut self.ids,
             stamp,
             summary: &mut summary,
+            progress: &self.progress,
         };
         let result = writer.write_all(doc, incidents, seen_refs, options.strict);
         self.ids.set_monotonic(false);
@@ -525,6 +529,7 @@ struct Writer<'a> {
     ids: &'a mut IdGen,
     stamp: &'a Stamp,
     summary: &'a mut ImportSummary,
+    progress: &'a ProgressSlot,
 }
 
 /// Put each item of a reference-data section that is not already present.
@@ -669,7 +674,9 @@ impl Writer<'_> {
         let stamp = self.stamp;
         let mut day_counter: HashMap<NaiveDate, u32> = HashMap::new();
         let mut ref_cache = RefCache::default();
-        for (place, mut inc) in incidents {
+        let total = Some(incidents.len() as u64);
+        for (i, (place, mut inc)) in incidents.into_iter().enumerate() {
+            self.progress.tell("importing", i as u64, total);
             let here = |x: StoreError| (place.at(), x);
             if inc.revision < 1 {
                 inc.revision = 1;
