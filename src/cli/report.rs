@@ -54,11 +54,14 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let labels = source::Labels::load(&store).map_err(|e| CliError::work(e.to_string()))?;
     let (content, pictures) = source::incident_content(&store, &labels, &inc)
         .map_err(|e| CliError::work(e.to_string()))?;
-    let head = store
-        .audit_head()
+    let (seq, head) = store
+        .audit_head_entry()
         .map_err(|e| CliError::work(e.to_string()))?;
-    let proof = summary::proof_for(&content, Some(head), &now_text())
+    let mut proof = summary::proof_for(&content, Some(head.clone()), &now_text())
         .map_err(|e| CliError::work(format!("summary content: {e}")))?;
+    proof.signed_head = store
+        .sign_head_at(&super::key::key_dir(), seq, &head, &proof.content_sha256)
+        .map_err(|e| CliError::work(e.to_string()))?;
     let bytes = summary::render(&content, &proof, &pictures, args.format, args.paper)
         .map_err(|e| CliError::work(format!("summary content: {e}")))?;
     match &args.output {
@@ -162,13 +165,11 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     )?;
     writeln!(ctx.out, "content SHA-256     {}", w.content_sha256)?;
     writeln!(ctx.out, "audit-chain head    {}", w.audit_chain_head)?;
+    if let Some(seq) = w.audit_head_seq {
+        writeln!(ctx.out, "anchor              {seq}:{}", w.audit_chain_head)?;
+    }
     match &w.signed_head {
-        Some(h) => writeln!(
-            ctx.out,
-            "signed with key     {} (anchor {})",
-            h.fingerprint,
-            h.anchor()
-        )?,
+        Some(h) => writeln!(ctx.out, "signed with key     {}", h.fingerprint)?,
         None => writeln!(ctx.out, "{}", super::key::unsigned_note(&store))?,
     }
     writeln!(

@@ -151,12 +151,15 @@ pub fn recompute_stored(
 }
 
 /// How far a stored figure may be from the recomputed one and still be the same: rounding
-/// only (relative 1e-6; an absolute 1e-6 of the unit for figures near zero).
-const SAME_WITHIN: f64 = 1e-6;
+/// only (relative 1e-5: a CSV keeps six significant digits; for figures near zero, 1e-5 of
+/// the unit).
+const SAME_WITHIN: f64 = 1e-5;
 
-fn same(a: Option<f64>, b: Option<f64>, unit: f64) -> bool {
-    match (a, b) {
-        (None, None) => true,
+/// A stored figure against the recomputed one; a figure not stored (a CSV import keeps only
+/// the headline figures) contradicts nothing.
+fn same(stored: Option<f64>, fresh: Option<f64>, unit: f64) -> bool {
+    match (stored, fresh) {
+        (None, _) => true,
         (Some(x), Some(y)) => (x - y).abs() <= SAME_WITHIN * x.abs().max(y.abs()).max(unit),
         _ => false,
     }
@@ -173,7 +176,8 @@ type Figure<'a> = (
 
 /// Whether a stored result still follows from the examination's readings and constants:
 /// None when a recomputation agrees within rounding, else the first figure that differs,
-/// with both values and units.
+/// with both values and units. An examination without readings has nothing to recompute
+/// from (a figure stated in a CSV import): None.
 pub fn stored_result_differs(inc: &Incident, exam: &Examination) -> Option<String> {
     let stored = exam.result.as_ref()?;
     let fresh = match recompute_stored(inc, exam)? {
@@ -232,7 +236,7 @@ pub fn stored_result_differs(inc: &Incident, exam: &Examination) -> Option<Strin
         .find(|(_, s, f, unit, _)| !same(*s, *f, *unit))
         .map(|(name, s, f, _, show)| {
             format!(
-                "the stored {name} {} does not follow from its readings and constants (recomputed {}; stored by {})",
+                "the stored {name} {} does not follow from its readings and constants (recomputed {}; the stored figure came from {})",
                 show(*s),
                 show(*f),
                 stored.code_version

@@ -31,11 +31,11 @@ impl Store {
         for msg in incidents::fleet_facts_problems(&self.conn)? {
             v.problem(msg);
         }
+        v.report_missing_records();
         // the text index holds every incident and nothing else
         for msg in super::sqlite::fts_out_of_step(&self.conn)? {
             v.problem(msg);
         }
-        v.report_missing_records();
         // 3. the evidence: every attachment's file is in the attachment folder and still has
         // the content its hash names (skipped for a database with no folder, i.e. in memory)
         if let Some(dir) = self.files_dir() {

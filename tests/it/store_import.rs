@@ -91,7 +91,8 @@ fn csv_round_trip_is_identical_for_its_columns() {
     let mut second = Vec::new();
     dst.export_csv(&Filter::default(), &mut second).unwrap();
     assert_eq!(String::from_utf8(second).unwrap(), text);
-    assert!(dst.verify().unwrap().ok());
+    let r = dst.verify().unwrap();
+    assert!(r.ok(), "{:?}", r.first_problem);
 }
 
 /// CSV export guards text cells a spreadsheet would run as a formula with a leading
@@ -190,7 +191,8 @@ fn csv_export_guards_formulas_and_import_undoes_the_guard() {
     let mut second = Vec::new();
     dst.export_csv(&Filter::default(), &mut second).unwrap();
     assert_eq!(String::from_utf8(second).unwrap(), text);
-    assert!(dst.verify().unwrap().ok());
+    let r = dst.verify().unwrap();
+    assert!(r.ok(), "{:?}", r.first_problem);
 }
 
 /// Split one CSV line (quoted fields without newlines) for the test above.

@@ -292,6 +292,8 @@ pub struct Written {
     pub files: usize,
     pub content_sha256: String,
     pub audit_chain_head: String,
+    /// The entry number of that head.
+    pub audit_head_seq: Option<i64>,
     /// The signed head, None when this machine does not hold the database's private key.
     pub signed_head: Option<SignedHead>,
 }

@@ -180,9 +180,8 @@ pub fn verify_bundle_with(
     let c = &bf.content;
     check.incidents = c.incidents.len();
     check.audit_chain_head = c.audit_chain_head.clone();
-    // 1. the digest over the content, and the signature over the digest and the head
+    // 1. the digest over the content
     check_digests(&value, &bf, &mut check);
-    check_signature(&bf, key, &mut check);
     // 2. the files on disk against the file list
     let on_disk = rel_files(dir)?;
     let listed: BTreeSet<String> = bf.files.iter().map(|f| f.path.clone()).collect();
@@ -195,6 +194,9 @@ pub fn verify_bundle_with(
     if check.problems.is_empty() {
         check_rendering(c, &pictures, &disk_bytes, &mut check);
     }
+    // the signature over the digest and the head (after the rendering, which runs only on
+    // a bundle with no problem so far)
+    check_signature(&bf, key, &mut check);
     // 5. the records
     if let Some(s) = store {
         check.compared_with_records = true;

@@ -116,6 +116,7 @@ fn incident_proof(c: &BundleContent, i: &BundleIncident) -> Proof {
         audit_chain_head: Some(c.audit_chain_head.clone()),
         exported_at: c.exported_at.clone(),
         generator: c.generator.clone(),
+        signed_head: None,
     }
 }
 
@@ -309,6 +310,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         files: entries.len() + 1,
         content_sha256: digest(&content, Numbers::Shortest)?,
         audit_chain_head: content.audit_chain_head.clone(),
+        audit_head_seq: content.audit_head_seq,
         signed_head,
     })
 }

@@ -30,6 +30,11 @@ struct LastImage {
     seen: bool,
 }
 
+/// How far a row's time may be before an earlier row's: a writer takes its time before it
+/// waits for another writer's lock (up to the busy timeout), and clocks are set right by
+/// seconds; a row back-dated by more is a problem.
+const BACKWARDS_ALLOWED: chrono::TimeDelta = chrono::TimeDelta::hours(1);
+
 /// One audit row as read for verification.
 struct ReadRow {
     seq: i64,
@@ -160,11 +165,12 @@ impl Verification {
             return;
         }
         match self.latest {
-            Some((before, before_seq)) if at < before => self.problem(format!(
-                "audit row {seq}: its time {} is before that of row {before_seq} ({}): the times run backwards",
+            Some((before, before_seq)) if at < before - BACKWARDS_ALLOWED => self.problem(format!(
+                "audit row {seq}: its time {} is more than an hour before that of row {before_seq} ({}): the times run backwards",
                 row.at,
                 crate::store::dates::fmt_time(before)
             )),
+            Some((before, _)) if at <= before => {}
             _ => self.latest = Some((at, seq)),
         }
     }
