@@ -11,6 +11,7 @@ use std::path::PathBuf;
 
 use clap::{Parser, Subcommand};
 
+pub mod attach;
 pub mod load;
 pub mod materials;
 pub mod mirror;
@@ -51,6 +52,8 @@ pub enum Command {
     List(records::ListArgs),
     /// Show one incident.
     Show(records::ShowArgs),
+    /// Attach files (photos, micrographs) to an incident.
+    Attach(attach::AttachArgs),
     /// Recompute the audit chain (or check a dispute bundle).
     Verify(records::VerifyArgs),
     /// Copy the database with SQLite's online backup, then check the copy.
@@ -365,6 +368,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Export(a) => records::export(a, &mut ctx),
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
+        Command::Attach(a) => attach::attach(a, &mut ctx),
         Command::Verify(a) => records::verify(a, &mut ctx),
         Command::Backup(a) => records::backup(a, &mut ctx),
         Command::Demo(a) => records::demo(a, &mut ctx),

@@ -153,17 +153,22 @@ impl Store {
         caption: &str,
         stamp: &Stamp,
     ) -> Result<Incident, StoreError> {
-        let meta = fs::metadata(file).map_err(|e| io_err(file, e))?;
-        if !meta.is_file() {
-            return Err(io_err(file, "is not a file"));
-        }
-        if meta.len() > MAX_ATTACHMENT_BYTES {
-            return Err(io_err(
-                file,
-                format!("is larger than {} MB", MAX_ATTACHMENT_BYTES / (1024 * 1024)),
-            ));
-        }
-        let bytes = fs::read(file).map_err(|e| io_err(file, e))?;
+        // only a regular file, never what a link points to (a link to a private file would
+        // otherwise be copied in and later handed out in a bundle), never past the limit
+        let bytes =
+            super::safe_file::read_regular(file, MAX_ATTACHMENT_BYTES).map_err(|e| match e {
+                super::safe_file::SafeReadError::TooLarge { .. } => io_err(
+                    file,
+                    format!("is larger than {} MB", MAX_ATTACHMENT_BYTES / (1024 * 1024)),
+                ),
+                other => StoreError::File {
+                    path: file.display().to_string(),
+                    message: other
+                        .to_string()
+                        .trim_start_matches(&format!("{}: ", file.display()))
+                        .to_string(),
+                },
+            })?;
         let name = file
             .file_name()
             .map(|n| n.to_string_lossy().into_owned())

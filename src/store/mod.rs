@@ -162,7 +162,10 @@ impl Store {
     fn open_file(path: &Path, create: bool) -> Result<Store, StoreError> {
         let (conn, version) = sqlite::open_checked(path, create)?;
         sqlite::set_file_pragmas(&conn)?;
-        let files_dir = files::dir_for(path);
+        // beside the database's real file: opened through a link, the folder is still the
+        // one beside the file the records are in
+        let real = path.canonicalize().unwrap_or_else(|_| path.to_path_buf());
+        let files_dir = files::dir_for(&real);
         let mut store = Store::from_conn(conn, Some(path.to_path_buf()), Some(files_dir));
         if version < SCHEMA_VERSION {
             store.migrate()?;
