@@ -96,6 +96,9 @@ pub struct DisputeArgs {
     /// The bundle folder to create (must not exist, or be empty).
     #[arg(short = 'o', long = "output", value_name = "DIR")]
     pub output: PathBuf,
+    /// Write the bundle even if some photos or files are missing; the cover names them.
+    #[arg(long)]
+    pub allow_missing_attachments: bool,
 }
 
 fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>, CliError> {
@@ -121,6 +124,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         paper: args.paper,
         exported_at: now_text(),
         today: chrono::Utc::now().date_naive(),
+        allow_missing_attachments: args.allow_missing_attachments,
     };
     let w = report::bundle::write_bundle(&store, &opts, &args.output).map_err(CliError::from)?;
     writeln!(

@@ -267,3 +267,61 @@ fn a_database_opened_through_a_link_keeps_its_attachments() {
         .count();
     assert!(photos > 0, "the bundle through a link has no photos");
 }
+
+#[test]
+fn dispute_refuses_missing_photos_unless_allowed_and_then_the_cover_names_them() {
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 5, 4, false);
+    let db = demo.db.clone();
+    drop(demo.store);
+    let mut files = db.as_os_str().to_os_string();
+    files.push(".files");
+    let files = PathBuf::from(files);
+    let gone: Vec<String> = std::fs::read_dir(&files)
+        .unwrap()
+        .flatten()
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(!gone.is_empty(), "the demo has photos");
+    std::fs::rename(&files, tmp.path().join("moved-away")).unwrap();
+    let out = tmp.path().join("claim");
+    let o = run(
+        &db,
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "-o",
+            out.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", both(&o));
+    let text = both(&o);
+    assert!(text.contains("--allow-missing-attachments"), "{text}");
+    assert!(!out.exists(), "a refused bundle left a folder");
+    // each missing file of the claimed supplier's incidents is named
+    let named = gone.iter().filter(|h| text.contains(h.as_str())).count();
+    assert!(named > 0, "{text}");
+    let o = run(
+        &db,
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "-o",
+            out.to_str().unwrap(),
+            "--allow-missing-attachments",
+        ],
+    );
+    assert!(o.status.success(), "{}", both(&o));
+    let cover = std::fs::read_to_string(out.join("cover.html")).unwrap();
+    assert!(
+        cover.contains("Attachments not included"),
+        "the cover does not say"
+    );
+    assert!(gone.iter().any(|h| cover.contains(h.as_str())));
+    // with the files back in place, the bundle still checks against the records
+    std::fs::rename(tmp.path().join("moved-away"), &files).unwrap();
+    let o = run(&db, &["verify", "--bundle", out.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", both(&o));
+}

@@ -50,6 +50,9 @@ pub struct DisputeOptions {
     /// exposure window when no --until is given). Passed in: the report code reads no clock.
     pub exported_at: String,
     pub today: NaiveDate,
+    /// Write the bundle even when some attachment's file is missing or no longer matches
+    /// its hash; the cover then names each one. Without it such a bundle is refused.
+    pub allow_missing_attachments: bool,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -208,6 +208,18 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
                 .unwrap_or_default()
         )));
     }
+    let missing = missing_attachments(&content);
+    if !missing.is_empty() && !opts.allow_missing_attachments {
+        return Err(BundleError::Io {
+            path: dir.display().to_string(),
+            message: format!(
+                "not written: {} attachment file{} missing or changed ({}); restore them, or pass --allow-missing-attachments to write the bundle without them (its cover then names each one)",
+                missing.len(),
+                if missing.len() == 1 { " is" } else { "s are" },
+                missing.join("; ")
+            ),
+        });
+    }
     let files = render_files(&content, &pictures, threads());
     let parent = match dir.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
@@ -285,4 +297,13 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         content_sha256: digest(&content, Numbers::Shortest)?,
         audit_chain_head: content.audit_chain_head.clone(),
     })
+}
+
+/// Each attachment of the content whose file is not in the bundle, named with its hash.
+pub(crate) fn missing_attachments(c: &BundleContent) -> Vec<String> {
+    c.attachments
+        .iter()
+        .filter(|a| a.file.is_none())
+        .map(|a| format!("{} (SHA-256 {})", a.name, a.sha256))
+        .collect()
 }
