@@ -116,6 +116,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
     let store = open(&ctx.db)?;
+    super::records::clear_leftovers(&args.output);
     let opts = report::bundle::DisputeOptions {
         supplier: args.supplier.clone(),
         lot: args.lot.clone(),

@@ -61,6 +61,85 @@ pub fn temporary_sibling(path: &Path) -> PathBuf {
     path.with_file_name(format!(".{name}.partial-{}-{n}", std::process::id()))
 }
 
+/// Whether the process `pid` still runs (on Unix; elsewhere every process is taken as
+/// running, so nothing is removed).
+fn process_alive(pid: u32) -> bool {
+    if pid == std::process::id() {
+        return true;
+    }
+    #[cfg(unix)]
+    {
+        let Ok(p) = libc::pid_t::try_from(pid) else {
+            return false;
+        };
+        // signal 0: no signal sent, only the check that the process exists
+        if unsafe { libc::kill(p, 0) } == 0 {
+            return true;
+        }
+        std::io::Error::last_os_error().raw_os_error() == Some(libc::EPERM)
+    }
+    #[cfg(not(unix))]
+    {
+        true
+    }
+}
+
+/// The process id in a temporary name of ours, `.NAME.partial-PID…`.
+fn partial_pid(file_name: &str) -> Option<u32> {
+    let rest = file_name.strip_prefix('.')?;
+    let at = rest.find(".partial-")?;
+    let digits: String = rest[at + ".partial-".len()..]
+        .chars()
+        .take_while(char::is_ascii_digit)
+        .collect();
+    digits.parse().ok()
+}
+
+fn size_of(path: &Path) -> u64 {
+    match fs::symlink_metadata(path) {
+        Ok(m) if m.is_dir() => fs::read_dir(path)
+            .map(|rd| rd.flatten().map(|e| size_of(&e.path())).sum())
+            .unwrap_or(0),
+        Ok(m) => m.len(),
+        Err(_) => 0,
+    }
+}
+
+/// Remove what an interrupted run of shardlog left in the folder `target` is written to:
+/// hidden `.NAME.partial-PID…` files and folders (a backup's copy, a bundle under way, a
+/// demo database, an export) whose process no longer runs. Returns each one removed with
+/// its size in bytes, for the message that says so. Others' leftovers under way are kept.
+pub fn remove_stale_partials(target: &Path) -> Vec<(PathBuf, u64)> {
+    let dir = match target.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let Ok(entries) = fs::read_dir(&dir) else {
+        return Vec::new();
+    };
+    let mut removed = Vec::new();
+    for e in entries.flatten() {
+        let name = e.file_name().to_string_lossy().into_owned();
+        let Some(pid) = partial_pid(&name) else {
+            continue;
+        };
+        if process_alive(pid) {
+            continue;
+        }
+        let p = e.path();
+        let size = size_of(&p);
+        let gone = match e.file_type() {
+            Ok(t) if t.is_dir() => fs::remove_dir_all(&p),
+            _ => fs::remove_file(&p),
+        };
+        if gone.is_ok() {
+            removed.push((p, size));
+        }
+    }
+    removed.sort();
+    removed
+}
+
 /// Flush a folder's entries (a rename in it) to the disk. A no-op where folders cannot be
 /// opened (Windows).
 pub fn sync_dir(dir: &Path) -> std::io::Result<()> {

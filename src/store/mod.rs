@@ -63,7 +63,9 @@ pub mod safe_file;
 mod sqlite;
 mod verify;
 
-pub use files::{sync_dir, temporary_sibling, write_atomically, write_new_synced};
+pub use files::{
+    remove_stale_partials, sync_dir, temporary_sibling, write_atomically, write_new_synced,
+};
 pub(crate) use ids::IdGen;
 pub use model::*;
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};

@@ -325,3 +325,117 @@ fn dispute_refuses_missing_photos_unless_allowed_and_then_the_cover_names_them()
     let o = run(&db, &["verify", "--bundle", out.to_str().unwrap()]);
     assert!(o.status.success(), "{}", both(&o));
 }
+
+/// Hidden leftovers of ours in `dir`.
+fn partials(dir: &Path) -> Vec<String> {
+    std::fs::read_dir(dir)
+        .unwrap()
+        .flatten()
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .filter(|n| n.starts_with('.') && n.contains(".partial-"))
+        .collect()
+}
+
+#[test]
+fn a_killed_demo_leaves_a_partial_copy_that_the_next_run_removes() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = tmp.path().join("fleet.db");
+    let scratch = tmp.path().join("scratch.db");
+    let mut child = shardlog_cmd(&scratch)
+        .args([
+            "demo",
+            "--out",
+            out.to_str().unwrap(),
+            "--incidents",
+            "200000",
+        ])
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    // kill it (SIGKILL) as soon as its temporary copy is on the disk
+    let start = Instant::now();
+    while partials(tmp.path()).is_empty() {
+        assert!(
+            child.try_wait().unwrap().is_none(),
+            "the demo ended before it could be killed"
+        );
+        assert!(
+            start.elapsed() < Duration::from_secs(120),
+            "no partial copy appeared"
+        );
+        std::thread::sleep(Duration::from_millis(5));
+    }
+    child.kill().unwrap();
+    child.wait().unwrap();
+    assert!(!out.exists());
+    let left = partials(tmp.path());
+    assert!(!left.is_empty());
+    let o = run(
+        &scratch,
+        &["demo", "--out", out.to_str().unwrap(), "--incidents", "20"],
+    );
+    assert!(o.status.success(), "{}", both(&o));
+    let err = String::from_utf8_lossy(&o.stderr).into_owned();
+    for l in &left {
+        assert!(err.contains(l.as_str()), "{l} not named in: {err}");
+    }
+    assert!(
+        err.contains("removed the leftover of an interrupted run"),
+        "{err}"
+    );
+    assert!(
+        partials(tmp.path()).is_empty(),
+        "{:?}",
+        partials(tmp.path())
+    );
+}
+
+#[test]
+fn backup_and_dispute_remove_the_leftovers_of_a_run_that_is_gone() {
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 3, 2, false);
+    let db = demo.db.clone();
+    drop(demo.store);
+    let out = tmp.path().join("out");
+    std::fs::create_dir(&out).unwrap();
+    // what a killed backup and a killed dispute leave, under the name of a process that
+    // cannot exist (above the largest process id Linux hands out); simulated, not killed
+    let dead = 2_147_483_000u32;
+    let bak_left = out.join(format!(".bak.db.partial-{dead}-0"));
+    std::fs::write(&bak_left, vec![7u8; 300_000]).unwrap();
+    let bak_files_left = out.join(format!(".bak.db.partial-{dead}-0.files"));
+    std::fs::create_dir(&bak_files_left).unwrap();
+    std::fs::write(bak_files_left.join("x"), b"photo").unwrap();
+    let claim_left = out.join(format!(".claim.partial-{dead}"));
+    std::fs::create_dir_all(claim_left.join("incidents")).unwrap();
+    std::fs::write(claim_left.join("incidents/x.pdf"), b"%PDF").unwrap();
+    // a leftover of a run still going (this test's own process) is kept
+    let live = out.join(format!(".other.db.partial-{}-0", std::process::id()));
+    std::fs::write(&live, b"in use").unwrap();
+
+    let o = run(&db, &["backup", out.join("bak2.db").to_str().unwrap()]);
+    assert!(o.status.success(), "{}", both(&o));
+    let err = String::from_utf8_lossy(&o.stderr).into_owned();
+    assert!(
+        err.contains(".bak.db.partial-") && err.contains("MB"),
+        "{err}"
+    );
+    assert!(!bak_left.exists() && !bak_files_left.exists() && !claim_left.exists());
+    assert!(live.exists());
+    std::fs::create_dir_all(claim_left.join("incidents")).unwrap();
+    let o = run(
+        &db,
+        &[
+            "dispute",
+            "--supplier",
+            CLAIMED,
+            "-o",
+            out.join("claim").to_str().unwrap(),
+        ],
+    );
+    assert!(o.status.success(), "{}", both(&o));
+    assert!(both(&o).contains(".claim.partial-"), "{}", both(&o));
+    assert!(!claim_left.exists());
+    assert!(live.exists());
+}
