@@ -220,7 +220,8 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         None => ctx.out.write_all(&buf)?,
         Some(path) => {
             refuse_database_files(&path, &ctx.db, "-o")?;
-            write_whole(&path, &buf)?
+            // an export is a copy of the records: owner-only
+            write_whole(&path, &buf, true)?
         }
     }
     Ok(())
@@ -262,9 +263,9 @@ pub fn refuse_database_files(out: &Path, db: &Path, flag: &str) -> Result<(), Cl
 
 /// Write a file completely under a temporary name in the same folder, flush it, then rename
 /// it into place: a failed or interrupted write never replaces or truncates a good file, and
-/// leaves no temporary file behind.
-pub fn write_whole(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
-    store::write_atomically(path, bytes, false).map_err(|e| {
+/// leaves no temporary file behind. Owner-only (0600) when `private`, else 0644.
+pub fn write_whole(path: &Path, bytes: &[u8], private: bool) -> Result<(), CliError> {
+    store::write_atomically(path, bytes, private).map_err(|e| {
         CliError::work(format!(
             "{}: not written ({e}); a file already there is unchanged",
             path.display()

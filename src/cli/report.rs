@@ -37,7 +37,9 @@ pub(crate) fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
             path.display()
         )));
     }
-    write_whole(path, bytes)
+    // one incident's summary, made to be handed on: readable by others, writable by no one
+    // but its owner
+    write_whole(path, bytes, false)
 }
 
 pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {

@@ -29,12 +29,7 @@ fn io_err(path: &Path, e: impl std::fmt::Display) -> StoreError {
 
 fn make_private_dir(dir: &Path) -> Result<(), StoreError> {
     fs::create_dir_all(dir).map_err(|e| io_err(dir, e))?;
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::PermissionsExt;
-        fs::set_permissions(dir, fs::Permissions::from_mode(0o700)).map_err(|e| io_err(dir, e))?;
-    }
-    Ok(())
+    make_dir_private(dir).map_err(|e| io_err(dir, e))
 }
 
 /// Write bytes to `dir/<sha256>` unless already there (through [`write_atomically`], so a
@@ -159,20 +154,55 @@ pub fn sync_dir(dir: &Path) -> std::io::Result<()> {
     }
 }
 
-/// Create `path` new (it must not exist), write `bytes`, flush them to the disk. Owner-only
-/// when `private`. On failure the partial file is removed.
+/// The mode of a file the tool writes: owner-only (0600) when `private`, else readable by
+/// all and writable by its owner only (0644). Set on the open file, so the umask cannot
+/// widen it; nothing shardlog writes is ever group- or world-writable.
+pub fn file_mode(private: bool) -> u32 {
+    if private {
+        0o600
+    } else {
+        0o644
+    }
+}
+
+/// Give a folder the tool made the owner-only mode (0700), whatever the umask.
+pub fn make_dir_private(dir: &Path) -> std::io::Result<()> {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        fs::set_permissions(dir, fs::Permissions::from_mode(0o700))
+    }
+    #[cfg(not(unix))]
+    {
+        let _ = dir;
+        Ok(())
+    }
+}
+
+/// Create `path` new (it must not exist), write `bytes`, flush them to the disk. The mode is
+/// [`file_mode`]: owner-only when `private`. On failure the partial file is removed.
 pub fn write_new_synced(path: &Path, bytes: &[u8], private: bool) -> std::io::Result<()> {
     let mut opts = fs::OpenOptions::new();
     opts.write(true).create_new(true);
     #[cfg(unix)]
     {
         use std::os::unix::fs::OpenOptionsExt;
-        opts.mode(if private { 0o600 } else { 0o666 });
+        opts.mode(0o600);
     }
-    #[cfg(not(unix))]
-    let _ = private;
     let mut f = opts.open(path)?;
-    let r = f.write_all(bytes).and_then(|()| f.sync_all());
+    #[cfg(unix)]
+    let r = {
+        use std::os::unix::fs::PermissionsExt;
+        f.set_permissions(fs::Permissions::from_mode(file_mode(private)))
+    };
+    #[cfg(not(unix))]
+    let r = {
+        let _ = private;
+        Ok(())
+    };
+    let r = r
+        .and_then(|()| f.write_all(bytes))
+        .and_then(|()| f.sync_all());
     if r.is_err() {
         drop(f);
         let _ = fs::remove_file(path);

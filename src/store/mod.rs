@@ -64,7 +64,8 @@ mod sqlite;
 mod verify;
 
 pub use files::{
-    remove_stale_partials, sync_dir, temporary_sibling, write_atomically, write_new_synced,
+    file_mode, make_dir_private, remove_stale_partials, sync_dir, temporary_sibling,
+    write_atomically, write_new_synced,
 };
 pub(crate) use ids::IdGen;
 pub use model::*;

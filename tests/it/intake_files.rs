@@ -439,3 +439,98 @@ fn backup_and_dispute_remove_the_leftovers_of_a_run_that_is_gone() {
     assert!(!claim_left.exists());
     assert!(live.exists());
 }
+
+/// The permission bits of a path.
+fn mode(p: &Path) -> u32 {
+    use std::os::unix::fs::PermissionsExt;
+    std::fs::symlink_metadata(p).unwrap().permissions().mode() & 0o777
+}
+
+/// Run the binary under umask 000, the widest a user could set.
+fn run_wide_open(db: &Path, args: &[&str]) -> Output {
+    let mut c = Command::new("sh");
+    c.arg("-c")
+        .arg("umask 000; exec \"$0\" \"$@\"")
+        .arg(env!("CARGO_BIN_EXE_shardlog"))
+        .arg("--db")
+        .arg(db)
+        .args(args)
+        .env("SHARDLOG_USER", "test-runner");
+    c.output().unwrap()
+}
+
+/// Every file and folder under `root`, with its mode.
+fn modes_under(root: &Path) -> Vec<(PathBuf, u32)> {
+    let mut out = vec![(root.to_path_buf(), mode(root))];
+    if root.is_dir() {
+        for e in std::fs::read_dir(root).unwrap().flatten() {
+            out.extend(modes_under(&e.path()));
+        }
+    }
+    out
+}
+
+#[test]
+fn what_the_tool_writes_has_an_explicit_mode_whatever_the_umask() {
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 3, 2, false);
+    let db = demo.db.clone();
+    let reference = demo.claimed[0].clone();
+    drop(demo.store);
+    let out = tmp.path().join("out");
+    std::fs::create_dir(&out).unwrap();
+    let p = |n: &str| out.join(n).to_str().unwrap().to_string();
+    for args in [
+        vec![
+            "export".to_string(),
+            "--format".into(),
+            "json".into(),
+            "-o".into(),
+            p("all.json"),
+        ],
+        vec![
+            "export".into(),
+            "--format".into(),
+            "csv".into(),
+            "-o".into(),
+            p("all.csv"),
+        ],
+        vec![
+            "report".into(),
+            reference.clone(),
+            "--format".into(),
+            "md".into(),
+            "-o".into(),
+            p("one.md"),
+        ],
+        vec![
+            "dispute".into(),
+            "--supplier".into(),
+            CLAIMED.into(),
+            "-o".into(),
+            p("claim"),
+        ],
+        vec!["backup".into(), p("bak.db")],
+    ] {
+        let a: Vec<&str> = args.iter().map(String::as_str).collect();
+        let o = run_wide_open(&db, &a);
+        assert!(o.status.success(), "{args:?}: {}", both(&o));
+    }
+    // copies of the records and photos: owner-only
+    assert_eq!(mode(&out.join("all.json")), 0o600);
+    assert_eq!(mode(&out.join("all.csv")), 0o600);
+    for (path, m) in modes_under(&out.join("claim"))
+        .into_iter()
+        .chain(modes_under(&out.join("bak.db")))
+        .chain(modes_under(&out.join("bak.db.files")))
+    {
+        let want = if path.is_dir() { 0o700 } else { 0o600 };
+        assert_eq!(m, want, "{}: {m:o}", path.display());
+    }
+    // one incident's summary, to hand on: readable, writable by its owner only
+    assert_eq!(mode(&out.join("one.md")), 0o644);
+    // nothing anywhere is group- or world-writable
+    for (path, m) in modes_under(&out) {
+        assert_eq!(m & 0o022, 0, "{} is {m:o}", path.display());
+    }
+}

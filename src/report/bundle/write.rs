@@ -231,13 +231,16 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         .unwrap_or_else(|| "bundle".into());
     let tmp = parent.join(format!(".{name}.partial-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&tmp);
-    std::fs::create_dir_all(tmp.join("incidents")).map_err(|e| io(&tmp, e))?;
-    std::fs::create_dir_all(tmp.join("attachments")).map_err(|e| io(&tmp, e))?;
+    // the bundle holds copies of the records and photos: owner-only, whatever the umask
+    for d in [tmp.clone(), tmp.join("incidents"), tmp.join("attachments")] {
+        std::fs::create_dir_all(&d).map_err(|e| io(&d, e))?;
+        crate::store::make_dir_private(&d).map_err(|e| io(&d, e))?;
+    }
     let mut entries = Vec::with_capacity(files.len());
     let result = (|| -> Result<(), BundleError> {
         for (path, bytes) in &files {
             let p = tmp.join(path);
-            crate::store::write_new_synced(&p, bytes, false).map_err(|e| io(&p, e))?;
+            crate::store::write_new_synced(&p, bytes, true).map_err(|e| io(&p, e))?;
             entries.push(FileEntry {
                 path: path.clone(),
                 sha256: sha256_hex(bytes),
@@ -255,7 +258,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         let mut json = serde_json::to_string_pretty(&bf)?;
         json.push('\n');
         let p = tmp.join("bundle.json");
-        crate::store::write_new_synced(&p, json.as_bytes(), false).map_err(|e| io(&p, e))?;
+        crate::store::write_new_synced(&p, json.as_bytes(), true).map_err(|e| io(&p, e))?;
         for d in [tmp.join("incidents"), tmp.join("attachments"), tmp.clone()] {
             crate::store::sync_dir(&d).map_err(|e| io(&d, e))?;
         }
