@@ -22,6 +22,12 @@ pub(crate) fn open(db: &Path) -> Result<Store, CliError> {
     Store::open_existing(db).map_err(work)
 }
 
+/// Open the database for a command that only reads it (list, show, export, verify, reports,
+/// backup): nothing is written, so it works on a full disk.
+pub(crate) fn open_to_read(db: &Path) -> Result<Store, CliError> {
+    Store::open_for_reading(db).map_err(work)
+}
+
 /// Filters shared by export and list.
 #[derive(Debug, Clone, Default, clap::Args)]
 pub struct FilterArgs {
@@ -206,7 +212,7 @@ pub struct ExportArgs {
 
 pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let filter = args.filter.to_filter()?;
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let mut buf: Vec<u8> = Vec::new();
     match args.format {
         ExportFormat::Json => {
@@ -331,7 +337,7 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         },
         descending: args.desc,
     };
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let page = s
         .list(
             &filter,
@@ -471,7 +477,7 @@ fn write_examination(
 }
 
 pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let inc = s.get(&args.reference).map_err(work)?;
     if args.json {
         let text =
@@ -598,7 +604,7 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(dir) = &args.bundle {
         return verify_bundle(dir, ctx);
     }
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let r = s.verify().map_err(work)?;
     if args.json {
         let text =
@@ -627,7 +633,7 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
 /// `verify --bundle DIR`: the bundle alone, and against the database when there is one.
 fn verify_bundle(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let store = if ctx.db.exists() {
-        Some(open(&ctx.db)?)
+        Some(open_to_read(&ctx.db)?)
     } else {
         None
     };
@@ -691,7 +697,7 @@ pub(crate) fn clear_leftovers(target: &Path) {
 pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     refuse_database_files(&args.dest, &ctx.db, "DEST")?;
     clear_leftovers(&args.dest);
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let r = s.backup(&args.dest).map_err(|e| {
         CliError::work(format!(
             "backup to {} failed: {e}; nothing was left at {0}",

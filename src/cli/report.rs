@@ -2,7 +2,7 @@
 
 use std::path::{Path, PathBuf};
 
-use super::records::{open, write_whole};
+use super::records::{open_to_read, write_whole};
 use super::{parse_day, CliError, Context};
 use crate::report::{self, source, summary, Format, Paper};
 
@@ -48,7 +48,7 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             "--output FILE is needed for PDF and HTML (they are not for the terminal)",
         ));
     }
-    let store = open(&ctx.db)?;
+    let store = open_to_read(&ctx.db)?;
     let inc = store
         .get(&args.reference)
         .map_err(|e| CliError::work(e.to_string()))?;
@@ -117,7 +117,7 @@ fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>
 pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
-    let store = open(&ctx.db)?;
+    let store = open_to_read(&ctx.db)?;
     super::records::clear_leftovers(&args.output);
     let opts = report::bundle::DisputeOptions {
         supplier: args.supplier.clone(),

@@ -162,6 +162,23 @@ impl Store {
         Store::open_file(path, false)
     }
 
+    /// Open an existing database only to read it: nothing is created or written, so a full
+    /// disk does not lock the records away. A file of an older schema is opened as
+    /// [`Store::open_existing`] opens it (and upgraded), since this build reads only its own.
+    pub fn open_for_reading(path: &Path) -> Result<Store, StoreError> {
+        let (conn, version) = sqlite::open_for_reading(path)?;
+        if version < SCHEMA_VERSION {
+            drop(conn);
+            return Store::open_existing(path);
+        }
+        sqlite::set_file_pragmas(&conn)?;
+        let real = path.canonicalize().unwrap_or_else(|_| path.to_path_buf());
+        let files_dir = files::dir_for(&real);
+        let mut store = Store::from_conn(conn, Some(path.to_path_buf()), Some(files_dir));
+        store.load_lookups()?;
+        Ok(store)
+    }
+
     fn open_file(path: &Path, create: bool) -> Result<Store, StoreError> {
         let (conn, version) = sqlite::open_checked(path, create)?;
         sqlite::set_file_pragmas(&conn)?;

@@ -534,3 +534,44 @@ fn what_the_tool_writes_has_an_explicit_mode_whatever_the_umask() {
         assert_eq!(m & 0o022, 0, "{} is {m:o}", path.display());
     }
 }
+
+#[test]
+fn commands_that_only_read_work_when_nothing_can_be_written() {
+    // a file-size limit of zero blocks (ulimit -f 0, SIGXFSZ ignored) refuses every write
+    // that would grow any file, the way a full disk does (the error differs: EFBIG, not
+    // ENOSPC); the database was closed cleanly, so no write is pending in its WAL
+    let tmp = tempfile::tempdir().unwrap();
+    let demo = demo_db(tmp.path(), 4, 3, false);
+    let db = demo.db.clone();
+    let reference = demo.claimed[0].clone();
+    drop(demo.store);
+    let limited = |args: &[&str]| -> Output {
+        Command::new("sh")
+            .arg("-c")
+            .arg("trap '' XFSZ; ulimit -f 0; exec \"$0\" \"$@\"")
+            .arg(env!("CARGO_BIN_EXE_shardlog"))
+            .arg("--db")
+            .arg(&db)
+            .args(args)
+            .env("SHARDLOG_USER", "test-runner")
+            .output()
+            .unwrap()
+    };
+    for args in [
+        &["list"][..],
+        &["show", &reference][..],
+        &["export", "--format", "json"][..],
+        &["export", "--format", "csv"][..],
+        &["verify"][..],
+        &["stats"][..],
+    ] {
+        let o = limited(args);
+        assert!(o.status.success(), "{args:?} on a full disk: {}", both(&o));
+        assert!(!o.stdout.is_empty(), "{args:?} printed nothing");
+    }
+    // a change is still refused, with one line, and the records stay as they were
+    let o = limited(&["attach", &reference, db.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(1), "{}", both(&o));
+    let o = run(&db, &["verify"]);
+    assert!(o.status.success(), "{}", both(&o));
+}
