@@ -11,6 +11,7 @@ use std::path::PathBuf;
 
 use clap::{Parser, Subcommand};
 
+pub mod attach;
 pub mod calibrate;
 pub mod codes;
 pub mod key;
@@ -57,6 +58,8 @@ pub enum Command {
     List(records::ListArgs),
     /// Show one incident.
     Show(records::ShowArgs),
+    /// Attach files (photos, micrographs) to an incident.
+    Attach(attach::AttachArgs),
     /// Recompute the audit chain (or check a dispute bundle).
     Verify(records::VerifyArgs),
     /// The database's signing key: fingerprint, public key, where the private key is.
@@ -403,6 +406,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Export(a) => records::export(a, &mut ctx),
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
+        Command::Attach(a) => attach::attach(a, &mut ctx),
         Command::Verify(a) => records::verify(a, &mut ctx),
         Command::Key(a) => key::run(a, &mut ctx),
         Command::Backup(a) => records::backup(a, &mut ctx),

@@ -24,6 +24,12 @@ pub(crate) fn open(db: &Path) -> Result<Store, CliError> {
     Store::open_existing(db).map_err(work)
 }
 
+/// Open the database for a command that only reads it (list, show, export, verify, reports,
+/// backup): nothing is written, so it works on a full disk.
+pub(crate) fn open_to_read(db: &Path) -> Result<Store, CliError> {
+    Store::open_for_reading(db).map_err(work)
+}
+
 /// Filters shared by export and list. Each code flag takes a code or its label (a
 /// supplier's or site's name), in any case; an unknown one is a usage error listing the valid.
 #[derive(Debug, Clone, Default, clap::Args)]
@@ -228,7 +234,7 @@ pub struct ExportArgs {
 }
 
 pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let filter = args.filter.to_filter(&s)?;
     let mut buf: Vec<u8> = Vec::new();
     match args.format {
@@ -243,7 +249,8 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         None => ctx.out.write_all(&buf)?,
         Some(path) => {
             refuse_database_files(&path, &ctx.db, "-o")?;
-            write_whole(&path, &buf)?
+            // an export is a copy of the records: owner-only
+            write_whole(&path, &buf, true)?
         }
     }
     Ok(())
@@ -285,9 +292,9 @@ pub fn refuse_database_files(out: &Path, db: &Path, flag: &str) -> Result<(), Cl
 
 /// Write a file completely under a temporary name in the same folder, flush it, then rename
 /// it into place: a failed or interrupted write never replaces or truncates a good file, and
-/// leaves no temporary file behind.
-pub fn write_whole(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
-    store::write_atomically(path, bytes, false).map_err(|e| {
+/// leaves no temporary file behind. Owner-only (0600) when `private`, else 0644.
+pub fn write_whole(path: &Path, bytes: &[u8], private: bool) -> Result<(), CliError> {
+    store::write_atomically(path, bytes, private).map_err(|e| {
         CliError::work(format!(
             "{}: not written ({e}); a file already there is unchanged",
             path.display()
@@ -404,7 +411,7 @@ fn list_row_text(r: &store::LogRow, names: &Readable) -> String {
 
 pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let limit = if args.all { 0 } else { args.limit };
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let mut filter = args.filter.to_filter(&s)?;
     filter.text = args.search.clone();
     let sort = Sort {
@@ -601,7 +608,7 @@ fn write_examination(
 }
 
 pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let inc = s.get(&args.reference).map_err(work)?;
     let names = Readable::load(&s)?;
     if args.json {
@@ -745,7 +752,7 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(dir) = &args.bundle {
         return verify_bundle(dir, &args, ctx);
     }
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let meter = super::progress::Meter::on_stderr();
     s.set_progress(meter.as_ref().map(|m| m.callback()));
     let r = s.verify();
@@ -825,7 +832,7 @@ fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result
         ));
     }
     let store = if ctx.db.exists() {
-        Some(open(&ctx.db)?)
+        Some(open_to_read(&ctx.db)?)
     } else {
         None
     };
@@ -879,9 +886,22 @@ pub struct BackupArgs {
     pub dest: PathBuf,
 }
 
+/// Remove what an interrupted run left beside `target` (a killed backup, bundle or demo),
+/// and say so on stderr, with the space given back.
+pub(crate) fn clear_leftovers(target: &Path) {
+    for (p, bytes) in store::remove_stale_partials(target) {
+        eprintln!(
+            "removed the leftover of an interrupted run: {} ({:.1} MB)",
+            sanitize_for_terminal(&p.display().to_string(), false),
+            bytes as f64 / 1_048_576.0
+        );
+    }
+}
+
 pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     refuse_database_files(&args.dest, &ctx.db, "DEST")?;
-    let s = open(&ctx.db)?;
+    clear_leftovers(&args.dest);
+    let s = open_to_read(&ctx.db)?;
     let meter = super::progress::Meter::on_stderr();
     s.set_progress(meter.as_ref().map(|m| m.callback()));
     let r = s.backup(&args.dest);
@@ -935,6 +955,7 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             args.out.display()
         )));
     }
+    clear_leftovers(&args.out);
     let started = std::time::Instant::now();
     let meter = super::progress::Meter::on_stderr();
     let mut tell = meter.as_ref().map(|m| m.callback());

@@ -3,7 +3,7 @@
 use std::path::{Path, PathBuf};
 
 use super::codes::{resolve, resolve_opt, Field};
-use super::records::{open, write_whole};
+use super::records::{open_to_read, write_whole};
 use super::{parse_day, CliError, Context};
 use crate::report::{self, source, summary, Format, Paper};
 
@@ -38,7 +38,9 @@ pub(crate) fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
             path.display()
         )));
     }
-    write_whole(path, bytes)
+    // one incident's summary, made to be handed on: readable by others, writable by no one
+    // but its owner
+    write_whole(path, bytes, false)
 }
 
 pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -47,7 +49,7 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             "--output FILE is needed for PDF and HTML (they are not for the terminal)",
         ));
     }
-    let store = open(&ctx.db)?;
+    let store = open_to_read(&ctx.db)?;
     let inc = store
         .get(&args.reference)
         .map_err(|e| CliError::work(e.to_string()))?;
@@ -107,6 +109,9 @@ pub struct DisputeArgs {
     /// The bundle folder to create (must not exist, or be empty).
     #[arg(short = 'o', long = "output", value_name = "DIR")]
     pub output: PathBuf,
+    /// Write the bundle even if some photos or files are missing; the cover names them.
+    #[arg(long)]
+    pub allow_missing_attachments: bool,
 }
 
 fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>, CliError> {
@@ -123,7 +128,8 @@ fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>
 pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
-    let store = open(&ctx.db)?;
+    let store = open_to_read(&ctx.db)?;
+    super::records::clear_leftovers(&args.output);
     let lot = resolve_opt(&store, Field::Lot, "--lot", &args.lot)?;
     let mut causes = Vec::new();
     for c in &args.cause {
@@ -149,6 +155,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         exported_at: now_text(),
         today: chrono::Utc::now().date_naive(),
         key_dir: Some(super::key::key_dir()),
+        allow_missing_attachments: args.allow_missing_attachments,
     };
     let meter = super::progress::Meter::on_stderr();
     store.set_progress(meter.as_ref().map(|m| m.callback()));

@@ -70,13 +70,9 @@ pub fn generate_told(
             message: "already exists; the demo writes a new file".into(),
         });
     }
-    let mut tmp_name = out
-        .file_name()
-        .map(|n| n.to_os_string())
-        .unwrap_or_default();
-    tmp_name.push(".part");
-    let tmp: PathBuf = out.with_file_name(tmp_name);
-    let _ = std::fs::remove_file(&tmp);
+    // a hidden name of this process beside the target: a killed run's copy is found and
+    // removed by the next one (`store::remove_stale_partials`)
+    let tmp: PathBuf = crate::store::temporary_sibling(out);
     let result = generate_into(&tmp, out, o, progress);
     match result {
         Ok(sum) => {

@@ -65,7 +65,10 @@ pub mod signing;
 mod sqlite;
 mod verify;
 
-pub use files::{sync_dir, temporary_sibling, write_atomically, write_new_synced};
+pub use files::{
+    file_mode, make_dir_private, remove_stale_partials, sync_dir, temporary_sibling,
+    write_atomically, write_new_synced,
+};
 pub(crate) use ids::IdGen;
 pub use model::*;
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
@@ -170,6 +173,23 @@ impl Store {
         Store::open_file(path, false)
     }
 
+    /// Open an existing database only to read it: nothing is created or written, so a full
+    /// disk does not lock the records away. A file of an older schema is opened as
+    /// [`Store::open_existing`] opens it (and upgraded), since this build reads only its own.
+    pub fn open_for_reading(path: &Path) -> Result<Store, StoreError> {
+        let (conn, version) = sqlite::open_for_reading(path)?;
+        if version < SCHEMA_VERSION {
+            drop(conn);
+            return Store::open_existing(path);
+        }
+        sqlite::set_file_pragmas(&conn)?;
+        let real = path.canonicalize().unwrap_or_else(|_| path.to_path_buf());
+        let files_dir = files::dir_for(&real);
+        let mut store = Store::from_conn(conn, Some(path.to_path_buf()), Some(files_dir));
+        store.load_lookups()?;
+        Ok(store)
+    }
+
     fn open_file(path: &Path, create: bool) -> Result<Store, StoreError> {
         let (conn, version) = sqlite::open_checked(path, create)?;
         let altered = sqlite::schema_differences(&conn, version)?;
@@ -186,7 +206,10 @@ impl Store {
             });
         }
         sqlite::set_file_pragmas(&conn)?;
-        let files_dir = files::dir_for(path);
+        // beside the database's real file: opened through a link, the folder is still the
+        // one beside the file the records are in
+        let real = path.canonicalize().unwrap_or_else(|_| path.to_path_buf());
+        let files_dir = files::dir_for(&real);
         let mut store = Store::from_conn(conn, Some(path.to_path_buf()), Some(files_dir));
         if version < SCHEMA_VERSION {
             store.migrate()?;

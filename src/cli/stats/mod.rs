@@ -336,8 +336,8 @@ fn origin_code(store: &crate::store::Store, given: &str) -> Result<String, CliEr
 
 pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let mut q = query_from_args(&args)?;
-    let store =
-        crate::store::Store::open_existing(&ctx.db).map_err(|e| CliError::work(e.to_string()))?;
+    let store = crate::store::Store::open_for_reading(&ctx.db)
+        .map_err(|e| CliError::work(e.to_string()))?;
     if let Some(o) = &q.origin_type {
         q.origin_type = Some(origin_code(&store, o)?);
     }

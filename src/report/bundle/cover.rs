@@ -573,6 +573,19 @@ fn contents_section(d: &mut Document, c: &BundleContent) {
             "shardlog verify --bundle DIR (add --db FILE to compare with the records)".into(),
         ),
     ]);
+    let missing = super::write::missing_attachments(c);
+    if !missing.is_empty() {
+        let mut lines = vec![format!(
+            "{} attachment file{} not in this bundle (missing from the attachment folder, or no longer matching the hash the record names):",
+            missing.len(),
+            if missing.len() == 1 { " is" } else { "s are" }
+        )];
+        lines.extend(missing);
+        d.push(Block::Boxed {
+            title: "Attachments not included".into(),
+            lines,
+        });
+    }
     d.push(Block::Boxed {
         title: "Cautions".into(),
         lines: CAUTIONS.iter().map(|s| s.to_string()).collect(),

@@ -59,6 +59,9 @@ pub struct DisputeOptions {
     /// The folder of the database's private key: the bundle's audit head is signed with it
     /// when it holds the key. None: not signed.
     pub key_dir: Option<PathBuf>,
+    /// Write the bundle even when some attachment's file is missing or no longer matches
+    /// its hash; the cover then names each one. Without it such a bundle is refused.
+    pub allow_missing_attachments: bool,
 }
 
 /// Which incidents the bundle holds: every field that chose them, in one place, so that

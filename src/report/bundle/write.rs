@@ -231,6 +231,18 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
                 .unwrap_or_default()
         )));
     }
+    let missing = missing_attachments(&content);
+    if !missing.is_empty() && !opts.allow_missing_attachments {
+        return Err(BundleError::Io {
+            path: dir.display().to_string(),
+            message: format!(
+                "not written: {} attachment file{} missing or changed ({}); restore them, or pass --allow-missing-attachments to write the bundle without them (its cover then names each one)",
+                missing.len(),
+                if missing.len() == 1 { " is" } else { "s are" },
+                missing.join("; ")
+            ),
+        });
+    }
     let signed_head = sign(s, opts, &content)?;
     let mut tell = |done: u64, total: u64| s.report_progress("rendering", done, Some(total));
     let files = render_files_told(&content, &pictures, threads(), Some(&mut tell));
@@ -244,13 +256,16 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         .unwrap_or_else(|| "bundle".into());
     let tmp = parent.join(format!(".{name}.partial-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&tmp);
-    std::fs::create_dir_all(tmp.join("incidents")).map_err(|e| io(&tmp, e))?;
-    std::fs::create_dir_all(tmp.join("attachments")).map_err(|e| io(&tmp, e))?;
+    // the bundle holds copies of the records and photos: owner-only, whatever the umask
+    for d in [tmp.clone(), tmp.join("incidents"), tmp.join("attachments")] {
+        std::fs::create_dir_all(&d).map_err(|e| io(&d, e))?;
+        crate::store::make_dir_private(&d).map_err(|e| io(&d, e))?;
+    }
     let mut entries = Vec::with_capacity(files.len());
     let result = (|| -> Result<(), BundleError> {
         for (path, bytes) in &files {
             let p = tmp.join(path);
-            crate::store::write_new_synced(&p, bytes, false).map_err(|e| io(&p, e))?;
+            crate::store::write_new_synced(&p, bytes, true).map_err(|e| io(&p, e))?;
             entries.push(FileEntry {
                 path: path.clone(),
                 sha256: sha256_hex(bytes),
@@ -269,7 +284,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         let mut json = serde_json::to_string_pretty(&bf)?;
         json.push('\n');
         let p = tmp.join("bundle.json");
-        crate::store::write_new_synced(&p, json.as_bytes(), false).map_err(|e| io(&p, e))?;
+        crate::store::write_new_synced(&p, json.as_bytes(), true).map_err(|e| io(&p, e))?;
         for d in [tmp.join("incidents"), tmp.join("attachments"), tmp.clone()] {
             crate::store::sync_dir(&d).map_err(|e| io(&d, e))?;
         }
@@ -326,4 +341,13 @@ fn sign(
     };
     let content_sha256 = digest(content, Numbers::Shortest)?;
     Ok(s.sign_head_at(dir, seq, &content.audit_chain_head, &content_sha256)?)
+}
+
+/// Each attachment of the content whose file is not in the bundle, named with its hash.
+pub(crate) fn missing_attachments(c: &BundleContent) -> Vec<String> {
+    c.attachments
+        .iter()
+        .filter(|a| a.file.is_none())
+        .map(|a| format!("{} (SHA-256 {})", a.name, a.sha256))
+        .collect()
 }
