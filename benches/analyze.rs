@@ -4,71 +4,10 @@
 use std::hint::black_box;
 use std::time::Instant;
 
-use shardlog_core::fracture::{
-    analyze, materials, AnalysisInput, Boundary, FlawGeometry, LayerProfile, Origin, Temper,
-};
-use shardlog_core::loads::plates::{self, Edges, Plate, PlateLoad, Shape};
-use shardlog_core::loads::Elastic;
-
-/// Mean time of one plate call over `n` calls.
-fn time_plate(label: &str, plate: &Plate, n: usize) {
-    for _ in 0..3 {
-        black_box(plates::bend(black_box(plate)).ok());
-    }
-    let t0 = Instant::now();
-    for _ in 0..n {
-        black_box(plates::bend(black_box(plate)).ok());
-    }
-    let per = t0.elapsed().as_secs_f64() / n as f64;
-    println!("{label:<48} {:>8.2} µs per call", per * 1e6);
-}
-
-fn plates_timing() {
-    let glass = Elastic {
-        youngs_modulus: 72e9,
-        poisson: 0.22,
-    };
-    let plate = |edges, b: f64, load| Plate {
-        shape: Shape::Rectangular,
-        edges,
-        span: 1.0,
-        span_b: Some(b),
-        thickness: 0.01,
-        material: glass,
-        load,
-    };
-    let patch = PlateLoad::Patch {
-        force: 1000.0,
-        diameter: 0.01,
-    };
-    let q = PlateLoad::Pressure(1000.0);
-    time_plate(
-        "plate: clamped, uniform, b/a 1.5",
-        &plate(Edges::Clamped, 1.5, q),
-        200,
-    );
-    time_plate(
-        "plate: clamped, uniform, b/a 6 (largest series)",
-        &plate(Edges::Clamped, 6.0, q),
-        50,
-    );
-    time_plate(
-        "plate: clamped, 10 mm patch, b/a 2",
-        &plate(Edges::Clamped, 2.0, patch),
-        200,
-    );
-    time_plate(
-        "plate: simply supported, 10 mm patch, b/a 2",
-        &plate(Edges::SimplySupported, 2.0, patch),
-        50,
-    );
-}
+use shardlog_core::fracture::{analyze, materials, AnalysisInput, Boundary, FlawGeometry, Temper};
 
 fn time(label: &str, input: &AnalysisInput) {
-    time_n(label, input, 200_000);
-}
-
-fn time_n(label: &str, input: &AnalysisInput, n: usize) {
+    let n = 200_000;
     // warm up
     for _ in 0..1000 {
         black_box(analyze(black_box(input)).ok());
@@ -99,27 +38,6 @@ fn main() {
         a_over_t: 0.0,
     });
     time("three boundaries, tempered, a/t solved", &full);
-
-    let mut chemical =
-        AnalysisInput::new(materials::find("aluminosilicate-chem").expect("library"))
-            .with_readings(Boundary::MirrorMist, &[0.05e-3]);
-    chemical.temper = Some(Temper::ChemicallyStrengthened);
-    chemical.surface_compression_pa = Some(700e6);
-    chemical.layer_depth_m = Some(40e-6);
-    chemical.thickness_m = Some(0.7e-3);
-    chemical.origin = Origin::Interior;
-    time_n(
-        "chemically strengthened, interior, linear layer",
-        &chemical,
-        20_000,
-    );
-    chemical.layer_profile = Some(LayerProfile::Erfc);
-    time_n(
-        "chemically strengthened, interior, erfc layer",
-        &chemical,
-        2_000,
-    );
-    plates_timing();
 
     let start = Instant::now();
     let lib = materials::library();

@@ -9,6 +9,7 @@
 //! - [`special`]: incomplete gamma and beta functions and their quantiles.
 
 pub mod group;
+pub mod pivotal;
 pub mod query;
 pub mod rates;
 pub mod special;
@@ -24,4 +25,6 @@ pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
 pub use trend::{
     group_trends, monthly_counts, seasonality, trend, GroupTrend, MonthCount, Seasonality, Trend,
 };
-pub use weibull::{fit, fit_population, fit_values, Interval, Specimen, WeibullError, WeibullFit};
+pub use weibull::{
+    fit, fit_population, fit_values, BoundMethod, Interval, Specimen, WeibullError, WeibullFit,
+};

@@ -449,8 +449,8 @@ pub fn disc_mean(x: f64) -> f64 {
         let q = (mu - 1.0) / z - (mu - 1.0) * (mu - 9.0) * (mu - 25.0) / (6.0 * z.powi(3))
             + (mu - 1.0) * (mu - 9.0) * (mu - 25.0) * (mu - 49.0) * (mu - 81.0)
                 / (120.0 * z.powi(5));
-        let chi = x - 0.75 * PI;
-        (2.0 / (PI * x)).sqrt() * (p * chi.cos() - q * chi.sin())
+        let (sin, cos) = (x - 0.75 * PI).sin_cos();
+        (2.0 / (PI * x)).sqrt() * (p * cos - q * sin)
     };
     2.0 * j1 / x
 }
