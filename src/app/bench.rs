@@ -219,7 +219,11 @@ impl BenchState {
             )
             .with_hint("measured, e.g. 95 MPa"),
         );
-        form.push_field(optional_length("layer_depth", "Layer depth", "e.g. 1.2 mm"));
+        form.push_field(optional_length(
+            "layer_depth",
+            "Layer depth",
+            "chemical: e.g. 40 µm",
+        ));
 
         form.push_field(optional_toughness("a_i", "A_i (own)"));
         form.push_field(optional_toughness("a_o", "A_o (own)"));

@@ -344,7 +344,7 @@ fn erfc_mean(delta: f64, thickness: f64) -> f64 {
     use crate::fleet::special::erfc;
     // erfc(10) ≈ 2e-45: beyond ten diffusion lengths the integrand adds nothing
     let span = thickness.min(10.0 * delta);
-    let integral = simpson(|z| erfc(z / delta), span, 400);
+    let integral = simpson(|z| erfc(z / delta), span, 200);
     2.0 * integral / thickness
 }
 
@@ -400,7 +400,7 @@ impl Profile {
         let Some(mut hi) = hi.filter(|_| crossing(lo_start) > 0.0) else {
             return Err("an erfc layer that can reach zero stress at that depth".to_string());
         };
-        for _ in 0..60 {
+        while hi - lo > 1e-10 * hi {
             let mid = 0.5 * (lo + hi);
             if crossing(mid) > 0.0 {
                 lo = mid;
