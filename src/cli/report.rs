@@ -121,6 +121,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
     let store = open(&ctx.db)?;
+    let supplier = resolve(&store, Field::Supplier, "--supplier", &args.supplier)?;
     let lot = resolve_opt(&store, Field::Lot, "--lot", &args.lot)?;
     let mut causes = Vec::new();
     for c in &args.cause {
@@ -136,7 +137,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         &args.origin_type,
     )?;
     let opts = report::bundle::DisputeOptions {
-        supplier: args.supplier.clone(),
+        supplier,
         lot,
         causes,
         origin_type,

@@ -6,6 +6,7 @@ mod architecture;
 mod concurrent;
 mod crash;
 mod faults;
+mod filter_codes;
 mod fleet;
 mod fleet_facts;
 mod found_bugs;

@@ -376,7 +376,8 @@ fn dispute_refuses_bad_input_clearly() {
         ],
     );
     assert_eq!(o.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&o.stderr).contains("--supplier NOBODY"));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("--supplier: 'NOBODY'"), "{err}");
     let o = shardlog(
         &demo.db,
         &[
