@@ -624,3 +624,87 @@ fn enter_on_a_month_of_a_charted_group_opens_only_that_group() {
         "{want}: {screen}"
     );
 }
+
+/// The demo fleet grouped by cause × lot at 80×24: every visible row reads differently
+/// (the lot is kept whole; the cause label gives way), no figure is cut ("…" appears only
+/// in a group name), and the note above the table does not contradict the flags below it.
+#[test]
+fn cause_by_lot_rows_stay_distinguishable_at_80_columns() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("demo.db");
+    shardlog::demo::generate(
+        &db,
+        &shardlog::demo::DemoOptions {
+            incidents: shardlog::demo::DEFAULT_INCIDENTS,
+            seed: shardlog::demo::DEFAULT_SEED,
+        },
+    )
+    .unwrap();
+    let mut app = App::with_store(Store::open(&db).unwrap(), &db).unwrap();
+    open_all(&mut app);
+    send(&mut app, &key(KeyCode::Char('2')));
+    send(&mut app, &key(KeyCode::Char('2')));
+    assert_eq!(app.review.keys, vec![Key::Cause, Key::Lot]);
+    assert_eq!(app.review.panel, Panel::Groups);
+    let rows = app.review.data.as_ref().unwrap().table.rows.len();
+    assert!(rows > 20, "{rows}");
+    let mut seen = std::collections::BTreeSet::new();
+    let mut flagged_seen = false;
+    // page through every row: each screen's rows must differ from all seen before
+    for _ in 0..rows {
+        let lines = render(&mut app, 80, 24);
+        let t = text(&lines);
+        let header = lines
+            .iter()
+            .position(|l| l.contains(" group ") && l.contains("p Holm"))
+            .unwrap_or_else(|| panic!("no table header:\n{t}"));
+        let p_col = lines[header].find("p Holm").unwrap();
+        for l in &lines[header + 1..] {
+            let body = l.trim_start_matches(['▶', ' ']);
+            if body.is_empty() || !l.contains(" · ") || l.contains(" incidents · ") {
+                continue;
+            }
+            // the figures after the name are whole
+            let name_end = l.find("  ").unwrap_or(l.len());
+            assert!(!l[name_end..].contains('…'), "a figure is cut: {l}\n{t}");
+            seen.insert(body.trim_end().to_string());
+            if l.contains("HIGH") {
+                flagged_seen = true;
+                assert!(l.len() > p_col);
+            }
+        }
+        if flagged_seen {
+            assert!(
+                !t.contains("no flags") && t.contains("HIGH: above the rest"),
+                "the note contradicts a flagged row:\n{t}"
+            );
+        }
+        send(&mut app, &key(KeyCode::Down));
+    }
+    assert_eq!(seen.len(), rows, "some rows read the same: {seen:#?}");
+    // the rows of one cause in different lots keep their lot
+    assert!(seen.iter().any(|r| r.contains("· BS-2207")), "{seen:#?}");
+    assert!(flagged_seen);
+    // cause × season is not an exposure key; its note still agrees with its flags
+    for _ in 0..4 {
+        send(&mut app, &key(KeyCode::Char('2')));
+    }
+    assert_eq!(app.review.keys, vec![Key::Cause, Key::Season]);
+    let flagged = app
+        .review
+        .data
+        .as_ref()
+        .unwrap()
+        .table
+        .rows
+        .iter()
+        .any(|r| r.flagged);
+    let t = text(&render(&mut app, 80, 24));
+    assert!(t.contains("not an exposure key"), "{t}");
+    if flagged {
+        assert!(
+            !t.contains("no flags") && t.contains("HIGH: above the rest"),
+            "{t}"
+        );
+    }
+}
