@@ -204,6 +204,9 @@ pub struct App {
     pub bench: BenchState,
     pub bench_target: Option<BenchTarget>,
     pub review: ReviewState,
+    /// The log's filter before the review opened a group in it: Esc from that log goes back
+    /// to the review, and leaving the review gives the log its own filter back.
+    pub log_filter_before_review: Option<crate::store::model::Filter>,
     pub width: u16,
     pub height: u16,
 }
@@ -273,6 +276,7 @@ impl App {
             bench: BenchState::new(),
             bench_target: None,
             review: ReviewState::new(),
+            log_filter_before_review: None,
             width: 80,
             height: 24,
         }

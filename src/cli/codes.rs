@@ -151,6 +151,19 @@ pub fn resolve_in(
         })
         .collect();
     let shown = shardlog_core::text::clean(t);
+    let lower = t.to_lowercase();
+    let containing: Vec<&Choice> = choices
+        .iter()
+        .filter(|c| {
+            !lower.is_empty()
+                && (c.code.to_lowercase().contains(&lower)
+                    || c.label.to_lowercase().contains(&lower))
+        })
+        .collect();
+    let hint = match containing.as_slice() {
+        [one] => format!(" (did you mean {}?)", one.code),
+        _ => String::new(),
+    };
     Err(CliError::usage(if items.is_empty() {
         format!(
             "{flag}: '{shown}' is not a {} of this database, which has none recorded",
@@ -158,14 +171,14 @@ pub fn resolve_in(
         )
     } else if listed.len() < choices.len() {
         format!(
-            "{flag}: '{shown}' is not a {} code or name; the closest of the {} known: {}",
+            "{flag}: '{shown}' is not a {} code or name{hint}; the closest of the {} known: {}",
             field.what(),
             choices.len(),
             items.join(", ")
         )
     } else {
         format!(
-            "{flag}: '{shown}' is not a {} code or name; expected one of: {}",
+            "{flag}: '{shown}' is not a {} code or name{hint}; expected one of: {}",
             field.what(),
             items.join(", ")
         )

@@ -130,6 +130,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     let until = date_flag("until", &args.until)?;
     let store = open_to_read(&ctx.db)?;
     super::records::clear_leftovers(&args.output);
+    let supplier = resolve(&store, Field::Supplier, "--supplier", &args.supplier)?;
     let lot = resolve_opt(&store, Field::Lot, "--lot", &args.lot)?;
     let mut causes = Vec::new();
     for c in &args.cause {
@@ -145,7 +146,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         &args.origin_type,
     )?;
     let opts = report::bundle::DisputeOptions {
-        supplier: args.supplier.clone(),
+        supplier,
         lot,
         causes,
         origin_type,

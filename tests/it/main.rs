@@ -7,6 +7,7 @@ mod calibrate;
 mod concurrent;
 mod crash;
 mod faults;
+mod filter_codes;
 mod fleet;
 mod fleet_facts;
 mod found_bugs;

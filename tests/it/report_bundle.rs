@@ -394,7 +394,8 @@ fn dispute_refuses_bad_input_clearly() {
         ],
     );
     assert_eq!(o.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&o.stderr).contains("--supplier NOBODY"));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("--supplier: 'NOBODY'"), "{err}");
     let o = shardlog(
         &demo.db,
         &[
@@ -836,4 +837,67 @@ fn a_cause_claim_leads_with_its_cause_and_counts_what_it_left_out() {
     }
     let (code, out) = verify(&db, &dir);
     assert_eq!(code, 0, "{out}");
+}
+
+/// An edited figure in figures.csv (its hash in bundle.json made to match) is named by its
+/// row, the incident's reference and the column, with the value in the file and the value
+/// the content gives; the CSV's numbers carry no float noise.
+#[test]
+fn an_edited_csv_figure_is_named_by_row_and_column() {
+    let s = setup();
+    let d = s.copy("csv");
+    let csv = std::fs::read_to_string(d.join("figures.csv")).unwrap();
+    let header: Vec<&str> = csv.lines().next().unwrap().split(',').collect();
+    let col = header
+        .iter()
+        .position(|h| *h == "applied_stress_mpa")
+        .unwrap();
+    let mut lines: Vec<String> = csv.lines().map(String::from).collect();
+    // the second incident row; its reference is the first field
+    let reference = lines[2].split(',').next().unwrap().to_string();
+    // the figures are plain decimals of at most six significant figures
+    for l in &lines[1..] {
+        for field in l.split(',') {
+            if let Ok(v) = field.parse::<f64>() {
+                let significant = field
+                    .trim_start_matches(['-', '0', '.'])
+                    .chars()
+                    .filter(|c| c.is_ascii_digit())
+                    .count();
+                assert!(significant <= 6 || v.fract() == 0.0, "float noise: {field}");
+            }
+        }
+    }
+    // the row's fields (a quoted field may hold commas)
+    let fields: Vec<String> = {
+        let mut out = Vec::new();
+        let mut cur = String::new();
+        let mut quoted = false;
+        for ch in lines[2].chars() {
+            match ch {
+                '"' => {
+                    quoted = !quoted;
+                    cur.push(ch)
+                }
+                ',' if !quoted => out.push(std::mem::take(&mut cur)),
+                _ => cur.push(ch),
+            }
+        }
+        out.push(cur);
+        out
+    };
+    let old = fields[col].clone();
+    assert!(!old.is_empty(), "{}", lines[2]);
+    let mut edited = fields.clone();
+    edited[col] = "99.9".into();
+    lines[2] = edited.join(",");
+    std::fs::write(d.join("figures.csv"), lines.join("\n") + "\n").unwrap();
+    let bf = read_bundle(&d);
+    rewrite_consistently(&d, bf);
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    let want = format!(
+        "figures.csv: row 2 ({reference}), column applied_stress_mpa: the file has '99.9', the content gives '{old}'"
+    );
+    assert!(out.contains(&want), "{want:?} not in:\n{out}");
 }

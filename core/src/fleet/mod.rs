@@ -23,7 +23,8 @@ pub use group::{
 pub use query::{StatsQuery, StressKind};
 pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
 pub use trend::{
-    group_trends, monthly_counts, seasonality, trend, GroupTrend, MonthCount, Seasonality, Trend,
+    group_trends, monthly_counts, seasonality, seasonality_of_months, trend, GroupTrend,
+    MonthCount, Seasonality, Trend,
 };
 pub use weibull::{
     fit, fit_population, fit_values, BoundMethod, Interval, Specimen, WeibullError, WeibullFit,

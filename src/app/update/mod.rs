@@ -167,6 +167,13 @@ impl App {
                 self.bench = BenchState::new();
             }
             Some(Screen::Incident) => self.incident = None,
+            Some(Screen::Review) if self.screen() == Screen::Log => {
+                // the log beneath the review gets its own filter back
+                if let Some(f) = self.log_filter_before_review.take() {
+                    self.log.filter = f;
+                    self.reload_log();
+                }
+            }
             _ => {}
         }
     }

@@ -443,6 +443,84 @@ fn check_summaries(
     }
 }
 
+/// The fields of one CSV line (quoted fields with doubled quotes, as figures.csv writes them).
+fn csv_fields(line: &str) -> Vec<String> {
+    let mut out = Vec::new();
+    let mut cur = String::new();
+    let mut quoted = false;
+    let mut chars = line.chars().peekable();
+    while let Some(c) = chars.next() {
+        match (c, quoted) {
+            ('"', true) if chars.peek() == Some(&'"') => {
+                cur.push('"');
+                chars.next();
+            }
+            ('"', _) => quoted = !quoted,
+            (',', false) => out.push(std::mem::take(&mut cur)),
+            _ => cur.push(c),
+        }
+    }
+    out.push(cur);
+    out
+}
+
+/// Where an edited CSV first differs from its rendering: the row (with its first field, the
+/// reference) and the column by name, with both values.
+fn csv_difference(expected: &[u8], found: &[u8]) -> Option<String> {
+    let e = String::from_utf8_lossy(expected);
+    let f = String::from_utf8_lossy(found);
+    let header = csv_fields(e.lines().next()?);
+    let (mut el, mut fl) = (e.lines(), f.lines());
+    let mut row = 0;
+    loop {
+        match (el.next(), fl.next()) {
+            (None, None) => return None,
+            (Some(_), None) => return Some(format!("row {row} and after are missing")),
+            (None, Some(_)) => return Some(format!("row {row} was added")),
+            (Some(a), Some(b)) if a == b => {}
+            (Some(a), Some(b)) => {
+                let (fa, fb) = (csv_fields(a), csv_fields(b));
+                let col = (0..fa.len().max(fb.len())).find(|i| fa.get(*i) != fb.get(*i))?;
+                let name = header
+                    .get(col)
+                    .cloned()
+                    .unwrap_or_else(|| format!("{}", col + 1));
+                let shown = |v: Option<&String>| {
+                    v.map(|s| format!("'{}'", shardlog_core::text::clean(s)))
+                        .unwrap_or_else(|| "nothing".into())
+                };
+                return Some(if row == 0 {
+                    format!(
+                        "the header, column {}: the file has {}",
+                        col + 1,
+                        shown(fb.get(col))
+                    )
+                } else {
+                    format!(
+                        "row {row} ({}), column {name}: the file has {}, the content gives {}",
+                        shardlog_core::text::clean(fa.first().map(String::as_str).unwrap_or("")),
+                        shown(fb.get(col)),
+                        shown(fa.get(col))
+                    )
+                });
+            }
+        }
+        row += 1;
+    }
+}
+
+/// The first line where an edited text file differs from its rendering.
+fn line_difference(expected: &[u8], found: &[u8]) -> Option<String> {
+    let e = String::from_utf8_lossy(expected);
+    let f = String::from_utf8_lossy(found);
+    let n = e
+        .lines()
+        .zip(f.lines())
+        .position(|(a, b)| a != b)
+        .unwrap_or_else(|| e.lines().count().min(f.lines().count()));
+    Some(format!("line {} differs", n + 1))
+}
+
 /// Every rendered file equals a fresh rendering of the content.
 fn check_rendering(
     c: &BundleContent,
@@ -453,9 +531,23 @@ fn check_rendering(
     for (path, bytes) in render_files(c, pictures, threads()) {
         match disk_bytes.get(&path) {
             Some(b) if *b == bytes => {}
-            Some(_) => check.problems.push(format!(
-                "{path}: differs from what the bundle's content renders to (the file was edited after export)"
-            )),
+            Some(b) => {
+                let where_ = if path.ends_with(".csv") {
+                    csv_difference(&bytes, b)
+                } else if path.ends_with(".html") {
+                    line_difference(&bytes, b)
+                } else {
+                    None
+                };
+                check.problems.push(match where_ {
+                    Some(w) => format!(
+                        "{path}: {w} (the file was edited after export; the bundle's content gives the value shown)"
+                    ),
+                    None => format!(
+                        "{path}: differs from what the bundle's content renders to (the file was edited after export)"
+                    ),
+                })
+            }
             None => check.problems.push(format!("{path}: the file is missing")),
         }
     }

@@ -12,6 +12,33 @@ use crate::store::Store;
 use shardlog_core::canonical::{digest, sha256_hex, Numbers};
 
 /// figures.csv: one row per incident.
+/// A figure of figures.csv: six significant figures in plain decimal, trailing zeros
+/// dropped (1.805, not 1.8050000000000002; 44.7214, not 44.721359549995796). bundle.json
+/// keeps every digit; six figures are far finer than any reading or constant behind them.
+fn csv_number(v: f64) -> String {
+    if !v.is_finite() {
+        return String::new();
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    let magnitude = v.abs().log10().floor() as i32;
+    let decimals = (5 - magnitude).clamp(0, 17) as usize;
+    let mut t = format!("{v:.decimals$}");
+    if t.contains('.') {
+        while t.ends_with('0') {
+            t.pop();
+        }
+        if t.ends_with('.') {
+            t.pop();
+        }
+    }
+    if t == "-0" {
+        t = "0".into();
+    }
+    t
+}
+
 pub fn figures_csv(c: &BundleContent) -> String {
     let header: Vec<String> = [
         "reference",
@@ -47,13 +74,7 @@ pub fn figures_csv(c: &BundleContent) -> String {
     .iter()
     .map(|s| s.to_string())
     .collect();
-    let num = |v: f64| {
-        if v.is_finite() {
-            format!("{v}")
-        } else {
-            String::new()
-        }
-    };
+    let num = csv_number;
     let mut rows = Vec::new();
     for i in &c.incidents {
         let ct = &i.content;
@@ -350,4 +371,22 @@ pub(crate) fn missing_attachments(c: &BundleContent) -> Vec<String> {
         .filter(|a| a.file.is_none())
         .map(|a| format!("{} (SHA-256 {})", a.name, a.sha256))
         .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn csv_numbers_have_no_float_noise() {
+        assert_eq!(csv_number(1.8050000000000002), "1.805");
+        assert_eq!(csv_number(44.721359549995796), "44.7214");
+        assert_eq!(csv_number(332.16281312803267), "332.163");
+        assert_eq!(csv_number(6.0), "6");
+        assert_eq!(csv_number(-3.66), "-3.66");
+        assert_eq!(csv_number(0.000123456789), "0.000123457");
+        assert_eq!(csv_number(123456789.0), "123456789");
+        assert_eq!(csv_number(-0.0000001), "-0.0000001");
+        assert_eq!(csv_number(f64::NAN), "");
+    }
 }
