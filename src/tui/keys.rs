@@ -57,7 +57,7 @@ pub static TABLE: &[Binding] = &[
         ctxs: &[Prompt],
         keys: &[c('y'), c('Y')],
         label: "y",
-        desc: "yes, leave and drop the changes",
+        desc: "yes: leave, quit or save, as the question asks",
         action: Action::Yes,
         footer: true,
     },

@@ -382,3 +382,45 @@ fn f2_is_advertised_only_where_it_works() {
     let help = render(&mut app, 100, 60).join("\n");
     assert!(help.contains("Tab") && !help.contains("F2"), "{help}");
 }
+
+#[test]
+fn saving_a_possible_duplicate_asks_first() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("dup.db");
+    let store = Store::open(&path).unwrap();
+    let mut app = App::with_store(store, &path).unwrap();
+    render(&mut app, 80, 24);
+    let new_incident = |app: &mut App| {
+        send(app, &key(KeyCode::Char('n')));
+        type_str(app, "car 214\n");
+        type_str(app, "left side, bay 3");
+        save_keys(app);
+    };
+    new_incident(&mut app);
+    assert_eq!(app.screen(), Screen::Incident, "{:?}", app.message);
+    send(&mut app, &key(KeyCode::Esc));
+    let count = |app: &App| app.store.as_ref().unwrap().incident_count().unwrap();
+    assert_eq!(count(&app), 1);
+    // the same asset, position and day: asked, and n keeps the form unsaved
+    new_incident(&mut app);
+    assert_eq!(count(&app), 1);
+    let screen = render(&mut app, 80, 24).join("\n");
+    assert!(screen.contains("Possible duplicate"), "{screen}");
+    assert!(screen.contains("BR-"), "{screen}");
+    send(&mut app, &key(KeyCode::Char('n')));
+    assert_eq!(app.screen(), Screen::Edit);
+    assert_eq!(count(&app), 1);
+    // asked again on the next save; y saves it
+    save_keys(&mut app);
+    assert!(app.prompt.is_some());
+    send(&mut app, &key(KeyCode::Char('y')));
+    assert_eq!(count(&app), 2);
+    assert_eq!(app.screen(), Screen::Incident, "{:?}", app.message);
+}
+
+fn save_keys(app: &mut App) {
+    send(
+        app,
+        &Event::Key(KeyEvent::new(KeyCode::Char('s'), KeyModifiers::CONTROL)),
+    );
+}
