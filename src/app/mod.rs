@@ -122,6 +122,8 @@ pub enum Action {
     Attach,
     Yes,
     No,
+    /// Incident history: restore the highlighted revision (as a new change).
+    Revert,
     /// Bench: move to the load hypothesis inputs (again: back to the readings).
     JumpHypothesis,
     /// A key for the focused text input.
@@ -164,6 +166,9 @@ pub enum Prompt {
     /// Save a new incident although one with the same asset, position and date found is
     /// recorded (their references)?
     SaveDuplicate(String),
+    /// Restore the open incident as it was after the history entry `seq` (its revision
+    /// and time in words)?
+    Revert { seq: i64, what: String },
 }
 
 /// The bench calculator's link to an incident.

@@ -422,6 +422,14 @@ pub static TABLE: &[Binding] = &[
         footer: true,
     },
     Binding {
+        ctxs: &[Incident],
+        keys: &[c('v')],
+        label: "v",
+        desc: "History: restore the highlighted revision (written as a new change)",
+        action: Action::Revert,
+        footer: false,
+    },
+    Binding {
         ctxs: &[Incident, Log],
         keys: &[c('b')],
         label: "b",

@@ -266,6 +266,14 @@ fn draw_prompt(p: &Prompt, f: &mut Frame, body: Rect, th: &Theme) {
             "You have unsaved changes. Quit and drop them? y = quit, n or Esc = stay".to_string(),
             " Unsaved changes ",
         ),
+        Prompt::Revert { what, .. } => (
+            format!(
+                "Restore {}? It is written as a new change; the history keeps everything. \
+                 y = restore, n or Esc = keep",
+                widgets::clean(what)
+            ),
+            " Restore a revision ",
+        ),
         Prompt::SaveDuplicate(refs) => (
             format!(
                 "{} has the same asset, position and date found. Save this one as well? \

@@ -424,3 +424,59 @@ fn save_keys(app: &mut App) {
         &Event::Key(KeyEvent::new(KeyCode::Char('s'), KeyModifiers::CONTROL)),
     );
 }
+
+#[test]
+fn a_revision_is_restored_from_the_history_as_a_new_change() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("revert.db");
+    let mut store = Store::open(&path).unwrap();
+    let day = chrono::NaiveDate::from_ymd_opt(2027, 3, 1).unwrap();
+    let mut draft = Incident::draft(day);
+    draft.position = "door left".into();
+    let created = store.create_incident(&draft, &stamp()).unwrap();
+    let mut changed = created.clone();
+    changed.position = "door right".into();
+    changed.status = "examining".into();
+    let changed = store.update_incident(&changed, &stamp()).unwrap();
+    assert_eq!(changed.revision, 2);
+    let mut app = App::with_store(store, &path).unwrap();
+    render(&mut app, 80, 24);
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Incident);
+    // to the History section (the last one)
+    for _ in 0..10 {
+        if app.incident.as_ref().unwrap().section == shardlog::app::incident::Section::History {
+            break;
+        }
+        send(&mut app, &key(KeyCode::Tab));
+    }
+    let screen = render(&mut app, 80, 24).join("\n");
+    assert!(
+        screen.contains("▸#"),
+        "the newest entry is highlighted:\n{screen}"
+    );
+    // v on the newest entry: nothing to restore
+    send(&mut app, &key(KeyCode::Char('v')));
+    assert!(app.prompt.is_none());
+    // down to the creation, v, the question, y
+    send(&mut app, &key(KeyCode::Down));
+    send(&mut app, &key(KeyCode::Char('v')));
+    let screen = render(&mut app, 80, 24).join("\n");
+    assert!(screen.contains("Restore a revision"), "{screen}");
+    assert!(screen.contains("revision 1"), "{screen}");
+    send(&mut app, &key(KeyCode::Char('y')));
+    let msg = app.message.clone().unwrap();
+    assert!(!msg.error, "{}", msg.text);
+    let state = app.incident.as_ref().unwrap();
+    assert_eq!(state.incident.position, "door left");
+    assert_eq!(state.incident.status, created.status);
+    assert_eq!(state.incident.revision, 3, "a new revision");
+    // the history keeps all three, the newest by this analyst
+    assert_eq!(state.history.len(), 3);
+    assert_eq!(state.history[0].op, "update");
+    let store = app.store.as_ref().unwrap();
+    let again = store.get(&created.id).unwrap();
+    assert_eq!(again.position, "door left");
+    let report = store.verify().unwrap();
+    assert!(report.ok(), "{:?}", report.first_problem);
+}

@@ -39,6 +39,7 @@ impl App {
                             self.duplicate_confirmed = true;
                             self.save_edit();
                         }
+                        Prompt::Revert { seq, .. } => self.revert_incident(seq),
                     }
                 }
                 Action::No | Action::Back => {

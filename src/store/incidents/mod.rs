@@ -84,6 +84,7 @@ mod history;
 mod list;
 mod read;
 mod refs;
+mod revert;
 mod validate;
 mod write;
 
