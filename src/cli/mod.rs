@@ -11,6 +11,7 @@ use std::path::PathBuf;
 
 use clap::{Parser, Subcommand};
 
+pub mod exposure;
 pub mod load;
 pub mod materials;
 pub mod mirror;
@@ -47,6 +48,8 @@ pub enum Command {
     Import(records::ImportArgs),
     /// Export incidents as CSV or JSON.
     Export(records::ExportArgs),
+    /// Panes in service (the denominator of rates): import from CSV, list.
+    Exposure(exposure::ExposureArgs),
     /// List incidents.
     List(records::ListArgs),
     /// Show one incident.
@@ -392,6 +395,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Init(a) => records::init(a, &mut ctx),
         Command::Import(a) => records::import(a, &mut ctx),
         Command::Export(a) => records::export(a, &mut ctx),
+        Command::Exposure(a) => exposure::run(a, &mut ctx),
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
         Command::Verify(a) => records::verify(a, &mut ctx),

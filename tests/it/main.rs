@@ -5,6 +5,7 @@ mod support;
 mod architecture;
 mod concurrent;
 mod crash;
+mod exposure_cli;
 mod faults;
 mod fleet;
 mod fleet_facts;
