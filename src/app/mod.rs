@@ -122,6 +122,8 @@ pub enum Action {
     Attach,
     Yes,
     No,
+    /// Incident history: restore the highlighted revision (as a new change).
+    Revert,
     /// Bench: move to the load hypothesis inputs (again: back to the readings).
     JumpHypothesis,
     /// A key for the focused text input.
@@ -161,6 +163,12 @@ pub enum Prompt {
     DiscardChanges,
     /// Quit and drop unsaved changes?
     QuitDiscard,
+    /// Save a new incident although one with the same asset, position and date found is
+    /// recorded (their references)?
+    SaveDuplicate(String),
+    /// Restore the open incident as it was after the history entry `seq` (its revision
+    /// and time in words)?
+    Revert { seq: i64, what: String },
 }
 
 /// The bench calculator's link to an incident.
@@ -186,6 +194,8 @@ pub struct App {
     pub name_entry: Option<Field>,
     /// A name the analyst has just given, for the terminal layer to keep for next time.
     pub name_to_keep: Option<String>,
+    /// The analyst answered yes to saving a possible duplicate (for the next save only).
+    pub duplicate_confirmed: bool,
     /// The user's home folder, for a path typed as `~/…` (none: such a path is taken as typed).
     pub home: Option<PathBuf>,
     pub stack: Vec<Screen>,
@@ -261,6 +271,7 @@ impl App {
             actor: "analyst".to_string(),
             name_entry: None,
             name_to_keep: None,
+            duplicate_confirmed: false,
             home: None,
             stack: vec![Screen::Bench],
             help_open: false,

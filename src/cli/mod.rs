@@ -14,6 +14,7 @@ use clap::{Parser, Subcommand};
 pub mod attach;
 pub mod calibrate;
 pub mod codes;
+pub mod exposure;
 pub mod key;
 pub mod load;
 pub mod materials;
@@ -54,6 +55,8 @@ pub enum Command {
     Import(records::ImportArgs),
     /// Export incidents as CSV or JSON.
     Export(records::ExportArgs),
+    /// Panes in service (the denominator of rates): import from CSV, list.
+    Exposure(exposure::ExposureArgs),
     /// List incidents.
     List(records::ListArgs),
     /// Show one incident.
@@ -404,6 +407,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Init(a) => records::init(a, &mut ctx),
         Command::Import(a) => records::import(a, &mut ctx),
         Command::Export(a) => records::export(a, &mut ctx),
+        Command::Exposure(a) => exposure::run(a, &mut ctx),
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
         Command::Attach(a) => attach::attach(a, &mut ctx),

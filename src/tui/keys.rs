@@ -57,7 +57,7 @@ pub static TABLE: &[Binding] = &[
         ctxs: &[Prompt],
         keys: &[c('y'), c('Y')],
         label: "y",
-        desc: "yes, leave and drop the changes",
+        desc: "yes: leave, quit or save, as the question asks",
         action: Action::Yes,
         footer: true,
     },
@@ -420,6 +420,14 @@ pub static TABLE: &[Binding] = &[
         desc: "add a specimen custody entry",
         action: Action::AddCustody,
         footer: true,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[c('v')],
+        label: "v",
+        desc: "History: restore the highlighted revision (written as a new change)",
+        action: Action::Revert,
+        footer: false,
     },
     Binding {
         ctxs: &[Incident, Log],

@@ -257,13 +257,31 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
 }
 
 fn draw_prompt(p: &Prompt, f: &mut Frame, body: Rect, th: &Theme) {
-    let text = match p {
-        Prompt::DiscardChanges => {
-            "You have unsaved changes. Leave and drop them? y = leave, n or Esc = stay"
-        }
-        Prompt::QuitDiscard => {
-            "You have unsaved changes. Quit and drop them? y = quit, n or Esc = stay"
-        }
+    let (text, title) = match p {
+        Prompt::DiscardChanges => (
+            "You have unsaved changes. Leave and drop them? y = leave, n or Esc = stay".to_string(),
+            " Unsaved changes ",
+        ),
+        Prompt::QuitDiscard => (
+            "You have unsaved changes. Quit and drop them? y = quit, n or Esc = stay".to_string(),
+            " Unsaved changes ",
+        ),
+        Prompt::Revert { what, .. } => (
+            format!(
+                "Restore {}? It is written as a new change; the history keeps everything. \
+                 y = restore, n or Esc = keep",
+                widgets::clean(what)
+            ),
+            " Restore a revision ",
+        ),
+        Prompt::SaveDuplicate(refs) => (
+            format!(
+                "{} has the same asset, position and date found. Save this one as well? \
+                 y = save, n or Esc = back to the form",
+                widgets::clean(refs)
+            ),
+            " Possible duplicate ",
+        ),
     };
     let area = widgets::centered(body, 50, 5);
     if area.width < 6 || area.height < 3 {
@@ -275,7 +293,7 @@ fn draw_prompt(p: &Prompt, f: &mut Frame, body: Rect, th: &Theme) {
             Block::default()
                 .borders(Borders::ALL)
                 .border_style(th.focus_border)
-                .title(" Unsaved changes "),
+                .title(title),
         )
         .render(area, f.buffer_mut());
 }

@@ -6,6 +6,7 @@ mod architecture;
 mod calibrate;
 mod concurrent;
 mod crash;
+mod exposure_cli;
 mod faults;
 mod filter_codes;
 mod fleet;

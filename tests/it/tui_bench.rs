@@ -382,3 +382,101 @@ fn f2_is_advertised_only_where_it_works() {
     let help = render(&mut app, 100, 60).join("\n");
     assert!(help.contains("Tab") && !help.contains("F2"), "{help}");
 }
+
+#[test]
+fn saving_a_possible_duplicate_asks_first() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("dup.db");
+    let store = Store::open(&path).unwrap();
+    let mut app = App::with_store(store, &path).unwrap();
+    render(&mut app, 80, 24);
+    let new_incident = |app: &mut App| {
+        send(app, &key(KeyCode::Char('n')));
+        type_str(app, "car 214\n");
+        type_str(app, "left side, bay 3");
+        save_keys(app);
+    };
+    new_incident(&mut app);
+    assert_eq!(app.screen(), Screen::Incident, "{:?}", app.message);
+    send(&mut app, &key(KeyCode::Esc));
+    let count = |app: &App| app.store.as_ref().unwrap().incident_count().unwrap();
+    assert_eq!(count(&app), 1);
+    // the same asset, position and day: asked, and n keeps the form unsaved
+    new_incident(&mut app);
+    assert_eq!(count(&app), 1);
+    let screen = render(&mut app, 80, 24).join("\n");
+    assert!(screen.contains("Possible duplicate"), "{screen}");
+    assert!(screen.contains("BR-"), "{screen}");
+    send(&mut app, &key(KeyCode::Char('n')));
+    assert_eq!(app.screen(), Screen::Edit);
+    assert_eq!(count(&app), 1);
+    // asked again on the next save; y saves it
+    save_keys(&mut app);
+    assert!(app.prompt.is_some());
+    send(&mut app, &key(KeyCode::Char('y')));
+    assert_eq!(count(&app), 2);
+    assert_eq!(app.screen(), Screen::Incident, "{:?}", app.message);
+}
+
+fn save_keys(app: &mut App) {
+    send(
+        app,
+        &Event::Key(KeyEvent::new(KeyCode::Char('s'), KeyModifiers::CONTROL)),
+    );
+}
+
+#[test]
+fn a_revision_is_restored_from_the_history_as_a_new_change() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("revert.db");
+    let mut store = Store::open(&path).unwrap();
+    let day = chrono::NaiveDate::from_ymd_opt(2027, 3, 1).unwrap();
+    let mut draft = Incident::draft(day);
+    draft.position = "door left".into();
+    let created = store.create_incident(&draft, &stamp()).unwrap();
+    let mut changed = created.clone();
+    changed.position = "door right".into();
+    changed.status = "examining".into();
+    let changed = store.update_incident(&changed, &stamp()).unwrap();
+    assert_eq!(changed.revision, 2);
+    let mut app = App::with_store(store, &path).unwrap();
+    render(&mut app, 80, 24);
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Incident);
+    // to the History section (the last one)
+    for _ in 0..10 {
+        if app.incident.as_ref().unwrap().section == shardlog::app::incident::Section::History {
+            break;
+        }
+        send(&mut app, &key(KeyCode::Tab));
+    }
+    let screen = render(&mut app, 80, 24).join("\n");
+    assert!(
+        screen.contains("▸#"),
+        "the newest entry is highlighted:\n{screen}"
+    );
+    // v on the newest entry: nothing to restore
+    send(&mut app, &key(KeyCode::Char('v')));
+    assert!(app.prompt.is_none());
+    // down to the creation, v, the question, y
+    send(&mut app, &key(KeyCode::Down));
+    send(&mut app, &key(KeyCode::Char('v')));
+    let screen = render(&mut app, 80, 24).join("\n");
+    assert!(screen.contains("Restore a revision"), "{screen}");
+    assert!(screen.contains("revision 1"), "{screen}");
+    send(&mut app, &key(KeyCode::Char('y')));
+    let msg = app.message.clone().unwrap();
+    assert!(!msg.error, "{}", msg.text);
+    let state = app.incident.as_ref().unwrap();
+    assert_eq!(state.incident.position, "door left");
+    assert_eq!(state.incident.status, created.status);
+    assert_eq!(state.incident.revision, 3, "a new revision");
+    // the history keeps all three, the newest by this analyst
+    assert_eq!(state.history.len(), 3);
+    assert_eq!(state.history[0].op, "update");
+    let store = app.store.as_ref().unwrap();
+    let again = store.get(&created.id).unwrap();
+    assert_eq!(again.position, "door left");
+    let report = store.verify().unwrap();
+    assert!(report.ok(), "{:?}", report.first_problem);
+}

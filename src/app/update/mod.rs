@@ -35,11 +35,21 @@ impl App {
                     match prompt {
                         Prompt::DiscardChanges => self.leave_screen(),
                         Prompt::QuitDiscard => self.quit = true,
+                        Prompt::SaveDuplicate(_) => {
+                            self.duplicate_confirmed = true;
+                            self.save_edit();
+                        }
+                        Prompt::Revert { seq, .. } => self.revert_incident(seq),
                     }
                 }
                 Action::No | Action::Back => {
                     self.prompt = None;
-                    self.info("kept your changes");
+                    match prompt {
+                        Prompt::SaveDuplicate(_) => {
+                            self.info("not saved; your input is kept (Esc leaves it)")
+                        }
+                        _ => self.info("kept your changes"),
+                    }
                 }
                 _ => {}
             }

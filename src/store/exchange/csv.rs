@@ -229,7 +229,7 @@ pub fn csv_header() -> String {
 // ------------------------------------------------------------------ reading
 
 /// Split CSV text into records of fields, each with the line it starts on.
-fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
+pub(super) fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
     // A byte scanner: every character that ends a run (quote, comma, CR, LF) is ASCII, so
     // the runs between them are copied as whole slices on character boundaries.
     let mut records = Vec::new();

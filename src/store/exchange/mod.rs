@@ -14,11 +14,13 @@ use super::model::*;
 mod admission;
 mod csv;
 mod export;
+mod exposure;
 mod import;
 mod json;
 mod onepass;
 
 pub use csv::{csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS};
+pub use exposure::{exposure_csv_row, EXPOSURE_COLUMNS};
 pub use json::parse_json;
 
 /// The `format` field of a JSON export.

@@ -85,6 +85,7 @@ mod history;
 mod list;
 mod read;
 mod refs;
+mod revert;
 mod validate;
 mod write;
 
