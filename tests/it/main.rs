@@ -20,6 +20,7 @@ mod readonly;
 mod reference;
 mod report_bundle;
 mod report_render;
+mod report_shaping;
 mod report_summary;
 mod sql_text;
 mod stats_cli;
