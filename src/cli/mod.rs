@@ -12,6 +12,8 @@ use std::path::PathBuf;
 use clap::{Parser, Subcommand};
 
 pub mod calibrate;
+pub mod codes;
+pub mod key;
 pub mod load;
 pub mod materials;
 pub mod mirror;
@@ -57,6 +59,8 @@ pub enum Command {
     Show(records::ShowArgs),
     /// Recompute the audit chain (or check a dispute bundle).
     Verify(records::VerifyArgs),
+    /// The database's signing key: fingerprint, public key, where the private key is.
+    Key(key::KeyArgs),
     /// Copy the database with SQLite's online backup, then check the copy.
     Backup(records::BackupArgs),
     /// Generate the invented demo fleet.
@@ -159,7 +163,7 @@ pub fn resolve_db(flag: Option<PathBuf>) -> PathBuf {
     data_dir().join("shardlog").join("shardlog.db")
 }
 
-fn data_dir() -> PathBuf {
+pub(crate) fn data_dir() -> PathBuf {
     if cfg!(windows) {
         if let Some(p) = std::env::var_os("APPDATA") {
             return PathBuf::from(p);
@@ -179,18 +183,40 @@ fn data_dir() -> PathBuf {
 }
 
 /// Who is making a change, for the audit log of the interface and the command line alike:
-/// `$SHARDLOG_USER`, else `$USER`, else `$USERNAME`, else "analyst" (the first one set and not
-/// blank, trimmed, with control characters removed).
+/// `$SHARDLOG_USER`, else the name the analyst gave the interface on first use, else `$USER`,
+/// else `$USERNAME`, else "analyst" (the first one set and not blank, trimmed, with control
+/// characters removed).
 pub fn actor() -> String {
-    for var in ["SHARDLOG_USER", "USER", "USERNAME"] {
+    chosen_name()
+        .or_else(|| env_name(&["USER", "USERNAME"]))
+        .unwrap_or_else(|| "analyst".to_string())
+}
+
+/// The name set on purpose: `$SHARDLOG_USER`, else the one kept from the interface's first use.
+fn chosen_name() -> Option<String> {
+    env_name(&["SHARDLOG_USER"]).or_else(|| {
+        let text = std::fs::read_to_string(name_file()).ok()?;
+        let s = sanitize_for_terminal(text.trim(), false);
+        (!s.is_empty()).then_some(s)
+    })
+}
+
+fn env_name(vars: &[&str]) -> Option<String> {
+    for var in vars {
         if let Some(v) = std::env::var_os(var) {
             let s = v.to_string_lossy().trim().to_string();
             if !s.is_empty() {
-                return sanitize_for_terminal(&s, false);
+                return Some(sanitize_for_terminal(&s, false));
             }
         }
     }
-    "analyst".to_string()
+    None
+}
+
+/// Where the interface keeps the name the analyst gave on first use (beside the default
+/// database, in the platform data folder).
+pub fn name_file() -> PathBuf {
+    data_dir().join("shardlog").join("analyst-name")
 }
 
 /// A calendar day as `--since` and `--until` take it: `YYYY-MM-DD`, spaces around it ignored.
@@ -356,7 +382,14 @@ impl Write for TerminalGuard<'_> {
 pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
     let db = resolve_db(cli.db);
     let Some(command) = cli.command else {
-        return crate::tui::run(&db, &actor()).map_err(|e| CliError::work(format!("{e:#}")));
+        let who = match chosen_name() {
+            Some(name) => crate::tui::Analyst::Known(name),
+            None => crate::tui::Analyst::Ask {
+                suggestion: env_name(&["USER", "USERNAME"]),
+                keep_in: name_file(),
+            },
+        };
+        return crate::tui::run(&db, who).map_err(|e| CliError::work(format!("{e:#}")));
     };
     let mut ctx = Context { db, out };
     match command {
@@ -371,6 +404,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
         Command::Verify(a) => records::verify(a, &mut ctx),
+        Command::Key(a) => key::run(a, &mut ctx),
         Command::Backup(a) => records::backup(a, &mut ctx),
         Command::Demo(a) => records::demo(a, &mut ctx),
         Command::Stats(a) => stats::run(a, &mut ctx),

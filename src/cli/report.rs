@@ -2,6 +2,7 @@
 
 use std::path::{Path, PathBuf};
 
+use super::codes::{resolve, resolve_opt, Field};
 use super::records::{open, write_whole};
 use super::{parse_day, CliError, Context};
 use crate::report::{self, source, summary, Format, Paper};
@@ -84,6 +85,13 @@ pub struct DisputeArgs {
     /// Only this lot.
     #[arg(long, value_name = "LOT")]
     pub lot: Option<String>,
+    /// Only incidents of this cause, code or label (repeatable: any of them); the cover
+    /// leads with it and says how many incidents of other causes were left out.
+    #[arg(long, value_name = "C")]
+    pub cause: Vec<String>,
+    /// Only incidents of this origin type, code or label.
+    #[arg(long, value_name = "T")]
+    pub origin_type: Option<String>,
     /// Incidents found on or after this date (YYYY-MM-DD).
     #[arg(long, value_name = "DATE")]
     pub since: Option<String>,
@@ -113,14 +121,31 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
     let store = open(&ctx.db)?;
+    let lot = resolve_opt(&store, Field::Lot, "--lot", &args.lot)?;
+    let mut causes = Vec::new();
+    for c in &args.cause {
+        let code = resolve(&store, Field::Cause, "--cause", c)?;
+        if !causes.contains(&code) {
+            causes.push(code);
+        }
+    }
+    let origin_type = resolve_opt(
+        &store,
+        Field::OriginType,
+        "--origin-type",
+        &args.origin_type,
+    )?;
     let opts = report::bundle::DisputeOptions {
         supplier: args.supplier.clone(),
-        lot: args.lot.clone(),
+        lot,
+        causes,
+        origin_type,
         since,
         until,
         paper: args.paper,
         exported_at: now_text(),
         today: chrono::Utc::now().date_naive(),
+        key_dir: Some(super::key::key_dir()),
     };
     let meter = super::progress::Meter::on_stderr();
     store.set_progress(meter.as_ref().map(|m| m.callback()));
@@ -137,6 +162,15 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     )?;
     writeln!(ctx.out, "content SHA-256     {}", w.content_sha256)?;
     writeln!(ctx.out, "audit-chain head    {}", w.audit_chain_head)?;
+    match &w.signed_head {
+        Some(h) => writeln!(
+            ctx.out,
+            "signed with key     {} (anchor {})",
+            h.fingerprint,
+            h.anchor()
+        )?,
+        None => writeln!(ctx.out, "{}", super::key::unsigned_note(&store))?,
+    }
     writeln!(
         ctx.out,
         "check it with: shardlog --db {} verify --bundle {}",

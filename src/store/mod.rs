@@ -60,6 +60,8 @@ mod incidents;
 pub mod model;
 pub mod progress;
 mod refdata;
+pub mod safe_file;
+pub mod signing;
 mod sqlite;
 mod verify;
 
@@ -67,6 +69,7 @@ pub use files::{sync_dir, temporary_sibling, write_atomically, write_new_synced}
 pub(crate) use ids::IdGen;
 pub use model::*;
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
+pub use verify::Anchor;
 
 /// Code version recorded with computed results and exports.
 pub const CODE_VERSION: &str = concat!("shardlog ", env!("CARGO_PKG_VERSION"));
@@ -85,6 +88,12 @@ pub enum StoreError {
         path: String,
         found: i64,
         supported: i64,
+    },
+    #[error("{path}: its schema was altered outside shardlog (schema {version}: {found}); it was left untouched and is not opened, migrated or written until the schema is as shardlog made it (restore a backup)")]
+    Altered {
+        path: String,
+        version: i64,
+        found: String,
     },
     #[error("incident {reference} was changed meanwhile (it is at revision {current}, the edit was made on revision {expected}); nothing was saved, reload and edit again")]
     StaleRevision {
@@ -163,6 +172,19 @@ impl Store {
 
     fn open_file(path: &Path, create: bool) -> Result<Store, StoreError> {
         let (conn, version) = sqlite::open_checked(path, create)?;
+        let altered = sqlite::schema_differences(&conn, version)?;
+        if !altered.is_empty() {
+            let n = altered.len();
+            let mut found = altered.into_iter().take(3).collect::<Vec<_>>().join("; ");
+            if n > 3 {
+                found.push_str(&format!("; and {} more", n - 3));
+            }
+            return Err(StoreError::Altered {
+                path: path.display().to_string(),
+                version,
+                found,
+            });
+        }
         sqlite::set_file_pragmas(&conn)?;
         let files_dir = files::dir_for(path);
         let mut store = Store::from_conn(conn, Some(path.to_path_buf()), Some(files_dir));

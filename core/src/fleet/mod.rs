@@ -16,8 +16,8 @@ pub mod trend;
 pub mod weibull;
 
 pub use group::{
-    group, histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow, GroupTable,
-    GroupValue, IncidentFacts, Key, Window,
+    group, histogram, round_histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow,
+    GroupTable, GroupValue, IncidentFacts, Key, Window,
 };
 pub use query::{StatsQuery, StressKind};
 pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
@@ -25,3 +25,7 @@ pub use trend::{
     group_trends, monthly_counts, seasonality, trend, GroupTrend, MonthCount, Seasonality, Trend,
 };
 pub use weibull::{fit, fit_population, fit_values, Interval, Specimen, WeibullError, WeibullFit};
+
+/// The one word that marks a group significantly above the rest of the fleet (exact test,
+/// Holm-adjusted), in the command line, the interface and the reports alike.
+pub const FLAG_WORD: &str = "HIGH";

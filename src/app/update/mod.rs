@@ -24,6 +24,10 @@ impl App {
         }
         // a message lasts until the next key
         self.message = None;
+        if self.name_entry.is_some() {
+            self.update_name_entry(action);
+            return;
+        }
         if let Some(prompt) = self.prompt.clone() {
             match action {
                 Action::Yes => {
@@ -109,6 +113,36 @@ impl App {
             Screen::Edit => self.update_edit(action),
             Screen::Bench => self.update_bench(action),
             Screen::Review => self.update_review(action),
+        }
+    }
+
+    fn update_name_entry(&mut self, action: Action) {
+        let Some(entry) = self.name_entry.as_mut() else {
+            return;
+        };
+        match action {
+            Action::Confirm => {
+                let name = shardlog_core::text::sanitize_for_terminal(entry.text().trim(), false);
+                if name.is_empty() {
+                    self.error(
+                        "Your name: type it; every change and reading you make is recorded \
+                         under it",
+                    );
+                    return;
+                }
+                self.name_entry = None;
+                self.actor = name.clone();
+                self.info(format!(
+                    "changes and readings are recorded as {name} (SHARDLOG_USER overrides)"
+                ));
+                self.name_to_keep = Some(name);
+            }
+            Action::QuitAll => self.quit = true,
+            Action::Input(i) => {
+                entry.input(i);
+            }
+            Action::Paste(p) => entry.paste(&p),
+            _ => {}
         }
     }
 

@@ -442,7 +442,7 @@ mod tests {
             s.contains("Incidents found 2025-01-01 to 2025-12-31: 40"),
             "{s}"
         );
-        assert!(s.contains("ABOVE"), "{s}");
+        assert!(s.contains(shardlog_core::fleet::FLAG_WORD), "{s}");
         assert!(s.contains("Holm"), "{s}");
         assert!(s.contains("σθ MPa"), "{s}");
         assert!(s.contains("Poisson regression"), "{s}");

@@ -230,6 +230,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
                 .unwrap_or_default()
         )));
     }
+    let signed_head = sign(s, opts, &content)?;
     let mut tell = |done: u64, total: u64| s.report_progress("rendering", done, Some(total));
     let files = render_files_told(&content, &pictures, threads(), Some(&mut tell));
     let parent = match dir.parent() {
@@ -262,6 +263,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
             content_sha256,
             content: content.clone(),
             files: entries.clone(),
+            signed_head: signed_head.clone(),
         };
         let mut json = serde_json::to_string_pretty(&bf)?;
         json.push('\n');
@@ -307,5 +309,19 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         files: entries.len() + 1,
         content_sha256: digest(&content, Numbers::Shortest)?,
         audit_chain_head: content.audit_chain_head.clone(),
+        signed_head,
     })
+}
+
+/// The bundle's audit head signed with its content digest, when the key is here.
+fn sign(
+    s: &Store,
+    opts: &DisputeOptions,
+    content: &BundleContent,
+) -> Result<Option<crate::store::signing::SignedHead>, BundleError> {
+    let (Some(dir), Some(seq)) = (&opts.key_dir, content.audit_head_seq) else {
+        return Ok(None);
+    };
+    let content_sha256 = digest(content, Numbers::Shortest)?;
+    Ok(s.sign_head_at(dir, seq, &content.audit_chain_head, &content_sha256)?)
 }

@@ -78,6 +78,7 @@ macro_rules! attachment_cols {
     };
 }
 
+mod as_of;
 mod children;
 mod facts;
 mod history;

@@ -16,7 +16,7 @@ use crate::store::model::LookupKind;
 use crate::tui::theme::Theme;
 use crate::tui::widgets::{clean, fit, fit_left, wrap};
 use shardlog_core::fleet::group::NOT_RECORDED;
-use shardlog_core::fleet::Key;
+use shardlog_core::fleet::{Key, FLAG_WORD};
 use shardlog_core::text::pad_left;
 use shardlog_core::units::{fmt_sig, to_mpa};
 
@@ -691,7 +691,7 @@ fn groups(
             cells.push(g.ratio.map(|x| fmt_sig(x.ratio, 2)).unwrap_or("—".into()));
         }
         cells.push(g.p_adjusted.map(|p| fmt_sig(p, 2)).unwrap_or("—".into()));
-        cells.push(if g.flagged { "HIGH" } else { "" }.to_string());
+        cells.push(if g.flagged { FLAG_WORD } else { "" }.to_string());
         let mut s = String::new();
         s.push(if i == sel { '▶' } else { ' ' });
         s.push_str(&fit_left(&fit(&labels.of(&t.keys, &g.key), kw), kw));
