@@ -26,6 +26,7 @@ mod readonly;
 mod reference;
 mod report_bundle;
 mod report_render;
+mod report_shaping;
 mod report_summary;
 mod residual;
 mod sql_text;
