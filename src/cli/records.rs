@@ -87,11 +87,23 @@ impl FilterArgs {
 }
 
 #[derive(Debug, clap::Args)]
-pub struct InitArgs {}
+pub struct InitArgs {
+    /// This bench's code in the fleet (2 to 8 letters or digits): new references carry it.
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
+}
 
-pub fn init(_args: InitArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+pub fn init(args: InitArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let code = match &args.bench {
+        Some(c) => Some(crate::store::fleet::check_bench_code(c).map_err(CliError::usage)?),
+        None => None,
+    };
     let existed = ctx.db.exists();
-    let s = Store::open(&ctx.db).map_err(work)?;
+    let mut s = Store::open(&ctx.db).map_err(work)?;
+    if let Some(code) = &code {
+        s.set_bench_code(code).map_err(work)?;
+        writeln!(ctx.out, "bench code {code}")?;
+    }
     let v = s.schema_version().map_err(work)?;
     if existed {
         writeln!(
@@ -586,11 +598,17 @@ pub struct VerifyArgs {
     /// Check a dispute bundle folder instead (and compare it with the database if present).
     #[arg(long, value_name = "DIR")]
     pub bundle: Option<std::path::PathBuf>,
+    /// Check this bench's history against what the fleet database witnessed.
+    #[arg(long, value_name = "URL", conflicts_with = "bundle")]
+    pub fleet: Option<String>,
 }
 
 pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(dir) = &args.bundle {
         return verify_bundle(dir, ctx);
+    }
+    if let Some(url) = args.fleet {
+        return super::fleet::verify_fleet(url, args.json, ctx);
     }
     let s = open(&ctx.db)?;
     let r = s.verify().map_err(work)?;
@@ -708,6 +726,9 @@ pub struct DemoArgs {
     /// Seed of the generator.
     #[arg(long, value_name = "S", default_value_t = crate::demo::DEFAULT_SEED)]
     pub seed: u64,
+    /// Make it a bench with this code (its references carry it; its keys are its own).
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
 }
 
 pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -723,12 +744,16 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         )));
     }
     let started = std::time::Instant::now();
-    let sum = crate::demo::generate(
+    if let Some(code) = &args.bench {
+        crate::store::fleet::check_bench_code(code).map_err(CliError::usage)?;
+    }
+    let sum = crate::demo::generate_for_bench(
         &args.out,
         &crate::demo::DemoOptions {
             incidents: args.incidents,
             seed: args.seed,
         },
+        args.bench.as_deref(),
     )
     .map_err(work)?;
     writeln!(

@@ -54,6 +54,34 @@ pub struct DemoSummary {
 }
 /// Generate the demo database at `out` (which must not exist).
 pub fn generate(out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> {
+    generate_for_bench(out, o, None)
+}
+
+/// [`generate`] for a bench with a code: its references carry the code, and the code is mixed
+/// into the seed, so that benches made from one seed still have keys of their own (and the
+/// same seed and code make the same file).
+pub fn generate_for_bench(
+    out: &Path,
+    o: &DemoOptions,
+    bench: Option<&str>,
+) -> Result<DemoSummary, StoreError> {
+    let bench = match bench {
+        Some(b) => Some(
+            crate::store::fleet::check_bench_code(b)
+                .map_err(|m| StoreError::invalid("bench code", m))?,
+        ),
+        None => None,
+    };
+    let o = &DemoOptions {
+        incidents: o.incidents,
+        seed: match &bench {
+            // FNV-1a over the code's bytes (a fixed mix, not a secret)
+            Some(code) => code.bytes().fold(o.seed ^ 0xcbf2_9ce4_8422_2325, |h, b| {
+                (h ^ u64::from(b)).wrapping_mul(0x0100_0000_01b3)
+            }),
+            None => o.seed,
+        },
+    };
     if out.exists() {
         return Err(StoreError::File {
             path: out.display().to_string(),
@@ -67,7 +95,7 @@ pub fn generate(out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> 
     tmp_name.push(".part");
     let tmp: PathBuf = out.with_file_name(tmp_name);
     let _ = std::fs::remove_file(&tmp);
-    let result = generate_into(&tmp, out, o);
+    let result = generate_into(&tmp, out, o, bench.as_deref());
     match result {
         Ok(sum) => {
             std::fs::rename(&tmp, out).map_err(|e| StoreError::File {
@@ -83,7 +111,12 @@ pub fn generate(out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> 
     }
 }
 
-fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> {
+fn generate_into(
+    tmp: &Path,
+    out: &Path,
+    o: &DemoOptions,
+    bench: Option<&str>,
+) -> Result<DemoSummary, StoreError> {
     let mut file = BulkFile::create(tmp, out, o.seed ^ 0x5EED_0000_0000_0001)?;
     let mut rng = Rng(o.seed);
     let world = build_world(&mut rng, o.incidents);
@@ -104,12 +137,16 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     };
     let attachments = load.attachments();
     let mut maker = Maker::new(&world, &keys, &mut rng, &mut summary, attachments);
+    maker.bench = bench.map(String::from);
     let mut next = plans.iter();
     // the incidents are made on the load's second thread, in the order they were entered
     let written =
         load.write_incidents(audit, |ids| next.next().map(|plan| maker.make(plan, ids)))?;
     summary.incidents += written;
     file.finish()?;
+    if let Some(code) = bench {
+        crate::store::Store::open_existing(tmp)?.set_bench_code(code)?;
+    }
     Ok(summary)
 }
 

@@ -55,9 +55,11 @@ pub mod canon;
 mod dates;
 pub mod exchange;
 mod files;
+pub mod fleet;
 mod ids;
 mod incidents;
 pub mod model;
+mod outbox;
 mod refdata;
 mod sqlite;
 mod verify;
@@ -65,6 +67,7 @@ mod verify;
 pub use files::{sync_dir, temporary_sibling, write_atomically, write_new_synced};
 pub(crate) use ids::IdGen;
 pub use model::*;
+pub use outbox::{ChainRow, Receipt, PULL_ACTOR};
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
 
 /// Code version recorded with computed results and exports.

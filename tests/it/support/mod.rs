@@ -2,5 +2,6 @@
 
 #![allow(dead_code)]
 
+pub mod fleet;
 pub mod pty;
 pub mod report;
