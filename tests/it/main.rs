@@ -8,6 +8,7 @@ mod crash;
 mod faults;
 mod fleet;
 mod fleet_facts;
+mod fleet_sync;
 mod found_bugs;
 mod fuzz_regressions;
 mod hostile;

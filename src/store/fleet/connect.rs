@@ -37,6 +37,9 @@ impl Fleet {
         }
         .map_err(|e| match classify(&e) {
             FleetError::Unreachable(m) => FleetError::Unreachable(format!("{shown}: {m}")),
+            FleetError::Database(m) if m.starts_with("invalid configuration") => {
+                FleetError::Usage(format!("fleet URL: {m}"))
+            }
             other => other,
         })?;
         Ok(Fleet { client, shown })
