@@ -338,3 +338,275 @@ fn the_bench_role_cannot_change_or_delete_fleet_history() {
     assert!(stderr.contains("permission denied"), "{stderr}");
     assert_eq!(fleet.state(), before);
 }
+
+/// Rewrite a bench's history the way someone with the file and plain SQL could: change the
+/// actor of audit row `seq`, then re-hash every row from there so the chain is whole again.
+pub(crate) fn rewrite_history(db: &Path, seq: i64) {
+    use shardlog::store::canon::AuditRow;
+    let c = rusqlite::Connection::open(db).unwrap();
+    c.execute(
+        "UPDATE audit SET actor = 'someone else' WHERE seq = ?1",
+        [seq],
+    )
+    .unwrap();
+    let mut prev: String = c
+        .query_row("SELECT prev_hash FROM audit WHERE seq = ?1", [seq], |r| {
+            r.get(0)
+        })
+        .unwrap();
+    type Row = (
+        i64,
+        String,
+        String,
+        String,
+        String,
+        String,
+        Option<String>,
+        Option<String>,
+    );
+    let rows: Vec<Row> = c
+        .prepare("SELECT seq, at, actor, entity, entity_id, op, before, after FROM audit WHERE seq >= ?1 ORDER BY seq")
+        .unwrap()
+        .query_map([seq], |r| {
+            Ok((r.get(0)?, r.get(1)?, r.get(2)?, r.get(3)?, r.get(4)?, r.get(5)?, r.get(6)?, r.get(7)?))
+        })
+        .unwrap()
+        .collect::<Result<_, _>>()
+        .unwrap();
+    for (s, at, actor, entity, entity_id, op, before, after) in rows {
+        let row = AuditRow {
+            seq: s,
+            at: &at,
+            actor: &actor,
+            entity: &entity,
+            entity_id: &entity_id,
+            op: &op,
+            before: before.as_deref(),
+            after: after.as_deref(),
+        };
+        let hash = row.hash(&prev);
+        c.execute(
+            "UPDATE audit SET prev_hash = ?1, hash = ?2 WHERE seq = ?3",
+            rusqlite::params![prev, hash, s],
+        )
+        .unwrap();
+        prev = hash;
+    }
+    c.execute(
+        "UPDATE meta SET value = ?1 WHERE key = 'audit_head_hash'",
+        [&prev],
+    )
+    .unwrap();
+}
+
+/// A new incident at a bench, through the store (its audit row goes with it).
+pub(crate) fn add_incident(db: &Path, notes: &str) -> shardlog::store::Incident {
+    let mut s = shardlog::store::Store::open_existing(db).unwrap();
+    let mut draft =
+        shardlog::store::Incident::draft(chrono::NaiveDate::from_ymd_opt(2026, 11, 30).unwrap());
+    draft.position = "rear window".into();
+    draft.notes = notes.into();
+    s.create_incident(
+        &draft,
+        &shardlog::store::Stamp::new("test-runner", chrono::Utc::now()),
+    )
+    .unwrap()
+}
+
+#[test]
+fn a_rewritten_history_is_refused_as_a_fork_and_the_fleet_is_unchanged() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let db = demo_bench(dir.path(), "NORTH", 30);
+    sync_ok(&db, &fleet.bench_url());
+    let before = fleet.state();
+    // the rewritten chain is whole: the bench's own verify cannot see it
+    rewrite_history(&db, 10);
+    add_incident(&db, "made after the rewrite");
+    let o = run(&["--db", db.to_str().unwrap(), "verify"]);
+    assert!(o.status.success(), "{}", err(&o));
+    // the fleet can
+    let o = sync(&db, &fleet.bench_url());
+    assert_eq!(o.status.code(), Some(1), "{}", out(&o));
+    assert!(err(&o).contains("refused the push (fork)"), "{}", err(&o));
+    assert_eq!(
+        fleet.state(),
+        before,
+        "nothing of a refused push is applied"
+    );
+    let o = run(&["fleet", "status", "--url", &fleet.owner_url(), "--json"]);
+    let s: serde_json::Value = serde_json::from_str(&out(&o)).unwrap();
+    let b = &s["benches"][0];
+    assert_eq!(b["refused_pushes"], 1);
+    assert!(
+        b["last_refusal"].as_str().unwrap().starts_with("fork:"),
+        "{b}"
+    );
+    let o = run(&["fleet", "status", "--url", &fleet.owner_url()]);
+    assert!(
+        out(&o).contains("NORTH: last refused push: fork:"),
+        "{}",
+        out(&o)
+    );
+    // verify --fleet names the first rewritten row
+    let o = run(&[
+        "--db",
+        db.to_str().unwrap(),
+        "verify",
+        "--fleet",
+        &fleet.bench_url(),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(
+        err(&o).contains("audit row 10: the fleet witnessed"),
+        "{}",
+        err(&o)
+    );
+}
+
+#[test]
+fn a_hand_made_push_through_the_bench_role_is_checked_inside_the_server() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let db = demo_bench(dir.path(), "NORTH", 20);
+    sync_ok(&db, &fleet.bench_url());
+    let before = fleet.state();
+    let chain = bench_chain(&db);
+    let (head_seq, head_hash) = chain.last().cloned().unwrap();
+    let mut c = postgres::Client::connect(&fleet.bench_url(), postgres::NoTls).unwrap();
+    let push = |c: &mut postgres::Client, seq: i64, prev: &str, hash: &str| -> (String, String) {
+        let mut tx = c.transaction().unwrap();
+        tx.execute(
+            "INSERT INTO push_entries (seq, at, actor, entity, entity_id, op, before, after, prev_hash, hash)
+             VALUES ($1, '2026-12-01T00:00:00.000Z', 'mallory', 'incident', '0190aaaa-0000-7000-8000-000000000000',
+                     'insert', NULL, '{}', $2, $3)",
+            &[&seq, &prev, &hash],
+        )
+        .unwrap();
+        let r = tx
+            .query_one("SELECT status, detail FROM fleet_push('NORTH')", &[])
+            .unwrap();
+        tx.commit().unwrap();
+        (r.get(0), r.get(1))
+    };
+    // a new row whose hash is not its content
+    let wrong = "ab".repeat(32);
+    assert_eq!(
+        push(&mut c, head_seq + 1, &head_hash, &wrong),
+        ("refused".to_string(), "forged".to_string())
+    );
+    // a row the fleet holds, sent again with another hash
+    let (seq5, _) = chain[4].clone();
+    assert_eq!(
+        push(&mut c, seq5, &chain[3].1, &wrong),
+        ("refused".to_string(), "fork".to_string())
+    );
+    // a row that does not start where the fleet's head is
+    assert_eq!(
+        push(&mut c, head_seq + 2, &head_hash, &wrong),
+        ("refused".to_string(), "gap".to_string())
+    );
+    // the fleet unchanged, the refusals kept and shown
+    assert_eq!(fleet.state(), before);
+    assert_eq!(
+        fleet.count("SELECT count(*) FROM fleet_refusals WHERE bench = 'NORTH'"),
+        3
+    );
+    // the bench role cannot read what others staged, nor empty the refusals
+    let (ok, _, stderr) = cluster.psql(
+        &fleet.name,
+        &fleet.bench_role(),
+        "SELECT * FROM push_entries",
+    );
+    assert!(!ok && stderr.contains("permission denied"), "{stderr}");
+    // and the bench itself still syncs
+    let r = sync_ok(&db, &fleet.bench_url());
+    assert_eq!(r["push"]["status"], "unchanged");
+}
+
+#[test]
+fn a_nul_character_in_a_note_is_stored_encoded_and_reads_back() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let db = demo_bench(dir.path(), "NORTH", 10);
+    let inc = add_incident(&db, "before\0after");
+    sync_ok(&db, &fleet.bench_url());
+    let image: String = fleet
+        .admin()
+        .query_one(
+            "SELECT image FROM fleet_records WHERE entity = 'incident' AND id = $1",
+            &[&inc.id],
+        )
+        .unwrap()
+        .get(0);
+    assert!(image.contains(r"before\u0000after"), "{image}");
+    let back = shardlog::store::canon::decanonical(&image).unwrap();
+    assert_eq!(back["notes"], "before\0after");
+    assert_eq!(
+        shardlog::store::canon::incident_image(&inc).unwrap(),
+        image,
+        "the fleet holds the bench's image byte for byte"
+    );
+    let o = run(&[
+        "--db",
+        db.to_str().unwrap(),
+        "verify",
+        "--fleet",
+        &fleet.bench_url(),
+    ]);
+    assert!(o.status.success(), "{}", err(&o));
+}
+
+#[test]
+fn four_benches_syncing_at_once_lose_nothing() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let codes = ["EAST", "WEST", "NORTH", "SOUTH"];
+    let dbs: Vec<PathBuf> = codes
+        .iter()
+        .map(|c| demo_bench(dir.path(), c, 40))
+        .collect();
+    for round in 0..2 {
+        let children: Vec<_> = dbs
+            .iter()
+            .map(|db| {
+                bin()
+                    .args([
+                        "--db",
+                        db.to_str().unwrap(),
+                        "sync",
+                        "--fleet",
+                        &fleet.bench_url(),
+                    ])
+                    .stdout(std::process::Stdio::piped())
+                    .stderr(std::process::Stdio::piped())
+                    .spawn()
+                    .unwrap()
+            })
+            .collect();
+        for child in children {
+            let o = child.wait_with_output().unwrap();
+            assert!(o.status.success(), "round {round}: {}", err(&o));
+        }
+        // new work at each bench for the second round
+        for db in &dbs {
+            add_incident(db, &format!("round {round}"));
+        }
+    }
+    for (code, db) in codes.iter().zip(&dbs) {
+        let mut local = bench_chain(db);
+        // the incident added after the last round is not synced yet
+        local.pop();
+        assert_eq!(fleet_chain(&fleet, code), local, "{code}");
+    }
+    assert_eq!(
+        fleet.count("SELECT count(*) FROM fleet_records WHERE entity = 'incident'"),
+        4 * 41
+    );
+    assert_eq!(fleet.count("SELECT count(*) FROM fleet_receipts"), 8);
+    assert_eq!(fleet.count("SELECT count(*) FROM fleet_refusals"), 0);
+}
