@@ -195,5 +195,7 @@ END $$;
 CREATE FUNCTION fleet_reference(origin text, image text) RETURNS text
 LANGUAGE sql IMMUTABLE PARALLEL SAFE AS $$
     SELECT CASE WHEN r ~ '^BR-[0-9]{6}-[0-9]+$' THEN origin || '/' || r ELSE r END
-    FROM (SELECT substring(image from '"reference":"([^"\\]*)"') AS r) x
+    -- the key "reference" with its quotes can only stand as a key: inside a string value
+    -- every quote is escaped
+    FROM (SELECT split_part(split_part(image, '"reference":"', 2), '"', 1) AS r) x
 $$;

@@ -144,8 +144,10 @@ BEGIN
         UNION ALL
         SELECT e.seq, 'insert', m.entity, r.item->>0, NULL, NULL, r.item->>1, true
         FROM push_entries e
-        CROSS JOIN LATERAL (SELECT (e.after::jsonb)->>'entity' AS entity,
-                                   (e.after::jsonb)->'records' AS list) m
+        -- each manifest parsed once (OFFSET 0 keeps the planner from copying the parse
+        -- into every listed record)
+        CROSS JOIN LATERAL (SELECT x.j->>'entity' AS entity, x.j->'records' AS list
+                            FROM (SELECT e.after::jsonb AS j OFFSET 0) x OFFSET 0) m
         CROSS JOIN LATERAL jsonb_array_elements(m.list) AS r(item)
         WHERE e.push = v_push AND e.seq > v_head_seq AND e.entity = 'batch'
           AND e.actor <> 'fleet:pull';
@@ -159,6 +161,8 @@ BEGIN
               ORDER BY t.entity, t.id, t.seq DESC) l
         JOIN (SELECT DISTINCT ON (t.entity, t.id) t.* FROM fleet_touch t
               ORDER BY t.entity, t.id, t.seq) f ON f.entity = l.entity AND f.id = l.id;
+    CREATE UNIQUE INDEX ON fleet_apply (entity, id);
+    ANALYZE fleet_apply;
     -- a bulk-loaded record's image is the staged one with the digest its row lists
     UPDATE fleet_apply a SET image = p.image
         FROM push_records p
@@ -198,8 +202,7 @@ BEGIN
     -- lookup entries: one per origin, always this bench's own
     INSERT INTO fleet_records AS r (entity, id, origin, owner, image, digest, reference,
                                     bench_seq, fleet_seq)
-        SELECT a.entity, a.id, p_bench, p_bench, a.image,
-               encode(sha256(convert_to(a.image, 'UTF8')), 'hex'), NULL, a.last_seq, v_fleet_seq
+        SELECT a.entity, a.id, p_bench, p_bench, a.image, a.digest, NULL, a.last_seq, v_fleet_seq
         FROM fleet_apply a WHERE a.entity = 'lookup'
         ON CONFLICT (entity, id, origin) DO UPDATE
             SET image = excluded.image, digest = excluded.digest,
@@ -218,9 +221,7 @@ BEGIN
         WHERE c.entity = a.entity AND c.record_id = a.id AND c.resolved_at IS NULL
           AND c.bench_seq <> a.last_seq AND r.owner = p_bench
           AND (a.first_op = 'insert' OR r.digest IS NOT DISTINCT FROM a.base);
-    UPDATE fleet_records r SET image = a.image,
-            digest = CASE WHEN a.image IS NULL THEN NULL
-                          ELSE encode(sha256(convert_to(a.image, 'UTF8')), 'hex') END,
+    UPDATE fleet_records r SET image = a.image, digest = a.digest,
             reference = CASE WHEN a.entity = 'incident' AND a.image IS NOT NULL
                              THEN fleet_reference(r.origin, a.image) END,
             bench_seq = a.last_seq, fleet_seq = v_fleet_seq
@@ -231,9 +232,7 @@ BEGIN
     v_records := v_n;
     INSERT INTO fleet_records (entity, id, origin, owner, image, digest, reference, bench_seq,
                                fleet_seq)
-        SELECT a.entity, a.id, p_bench, p_bench, a.image,
-               CASE WHEN a.image IS NULL THEN NULL
-                    ELSE encode(sha256(convert_to(a.image, 'UTF8')), 'hex') END,
+        SELECT a.entity, a.id, p_bench, p_bench, a.image, a.digest,
                CASE WHEN a.entity = 'incident' AND a.image IS NOT NULL
                     THEN fleet_reference(p_bench, a.image) END,
                a.last_seq, v_fleet_seq

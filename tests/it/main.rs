@@ -7,6 +7,7 @@ mod concurrent;
 mod crash;
 mod faults;
 mod fleet;
+mod fleet_crash;
 mod fleet_facts;
 mod fleet_sync;
 mod found_bugs;
