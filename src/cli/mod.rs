@@ -15,6 +15,7 @@ pub mod attach;
 pub mod calibrate;
 pub mod codes;
 pub mod exposure;
+pub mod fleet;
 pub mod key;
 pub mod load;
 pub mod materials;
@@ -77,6 +78,12 @@ pub enum Command {
     Report(report::ReportArgs),
     /// A dispute bundle for one supplier (and lot).
     Dispute(report::DisputeArgs),
+    /// Push this bench's changes to the fleet database, then pull reference data.
+    Sync(fleet::SyncArgs),
+    /// The fleet database: init, status.
+    Fleet(fleet::FleetArgs),
+    /// This bench: its code.
+    Bench(fleet::BenchArgs),
     /// Print a shell completion script (bash, zsh, fish, elvish, powershell).
     Completions(CompletionsArgs),
     /// Print the manual page (roff), generated from the same argument definitions.
@@ -418,6 +425,9 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Stats(a) => stats::run(a, &mut ctx),
         Command::Report(a) => report::report(a, &mut ctx),
         Command::Dispute(a) => report::dispute(a, &mut ctx),
+        Command::Sync(a) => fleet::sync(a, &mut ctx),
+        Command::Fleet(a) => fleet::fleet(a, &mut ctx),
+        Command::Bench(a) => fleet::bench(a, &mut ctx),
         Command::Completions(a) => {
             use clap::CommandFactory;
             let mut cmd = Cli::command();

@@ -103,11 +103,23 @@ impl FilterArgs {
 }
 
 #[derive(Debug, clap::Args)]
-pub struct InitArgs {}
+pub struct InitArgs {
+    /// This bench's code in the fleet (2 to 8 letters or digits): new references carry it.
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
+}
 
-pub fn init(_args: InitArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+pub fn init(args: InitArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let code = match &args.bench {
+        Some(c) => Some(crate::store::fleet::check_bench_code(c).map_err(CliError::usage)?),
+        None => None,
+    };
     let existed = ctx.db.exists();
-    let s = Store::open(&ctx.db).map_err(work)?;
+    let mut s = Store::open(&ctx.db).map_err(work)?;
+    if let Some(code) = &code {
+        s.set_bench_code(code).map_err(work)?;
+        writeln!(ctx.out, "bench code {code}")?;
+    }
     let v = s.schema_version().map_err(work)?;
     if existed {
         writeln!(
@@ -746,11 +758,17 @@ pub struct VerifyArgs {
     /// `shardlog key` prints it, or a public key file), with or without the database.
     #[arg(long, value_name = "FINGERPRINT|PUBKEYFILE", requires = "bundle")]
     pub key: Option<String>,
+    /// Check this bench's history against what the fleet database witnessed.
+    #[arg(long, value_name = "URL", conflicts_with = "bundle")]
+    pub fleet: Option<String>,
 }
 
 pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(dir) = &args.bundle {
         return verify_bundle(dir, &args, ctx);
+    }
+    if let Some(url) = args.fleet {
+        return super::fleet::verify_fleet(url, args.json, ctx);
     }
     let s = open_to_read(&ctx.db)?;
     let meter = super::progress::Meter::on_stderr();
@@ -941,6 +959,9 @@ pub struct DemoArgs {
     /// Seed of the generator.
     #[arg(long, value_name = "S", default_value_t = crate::demo::DEFAULT_SEED)]
     pub seed: u64,
+    /// Make it a bench with this code (its references carry it; its keys are its own).
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
 }
 
 pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -957,14 +978,18 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     }
     clear_leftovers(&args.out);
     let started = std::time::Instant::now();
+    if let Some(code) = &args.bench {
+        crate::store::fleet::check_bench_code(code).map_err(CliError::usage)?;
+    }
     let meter = super::progress::Meter::on_stderr();
     let mut tell = meter.as_ref().map(|m| m.callback());
-    let sum = crate::demo::generate_told(
+    let sum = crate::demo::generate_for_bench(
         &args.out,
         &crate::demo::DemoOptions {
             incidents: args.incidents,
             seed: args.seed,
         },
+        args.bench.as_deref(),
         &mut |p| {
             if let Some(t) = tell.as_mut() {
                 t(p)

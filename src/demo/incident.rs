@@ -42,6 +42,8 @@ pub(super) struct Maker<'a> {
     /// Photographs still to attach.
     attachments_left: u32,
     materials: Option<Material>,
+    /// The bench's code, carried by the references.
+    pub(super) bench: Option<String>,
 }
 
 impl<'a> Maker<'a> {
@@ -61,6 +63,7 @@ impl<'a> Maker<'a> {
             per_day: HashMap::new(),
             attachments_left: 8,
             materials: fracture::materials::find("soda-lime"),
+            bench: None,
         }
     }
 
@@ -70,7 +73,7 @@ impl<'a> Maker<'a> {
         let pdef = &PRODUCTS[slot.product];
         let n = self.per_day.entry(plan.found_on).or_insert(0);
         *n += 1;
-        let reference = format_reference(plan.found_on, *n)?;
+        let reference = format_reference(self.bench.as_deref(), plan.found_on, *n)?;
         let analyst = *self.rng.pick(&ANALYSTS);
         let stamp = Stamp::new(analyst, plan.life.entered);
         let ms = stamp.at.timestamp_millis();

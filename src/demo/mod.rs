@@ -64,6 +64,35 @@ pub fn generate_told(
     o: &DemoOptions,
     progress: &mut (dyn FnMut(Progress) + Send),
 ) -> Result<DemoSummary, StoreError> {
+    generate_for_bench(out, o, None, progress)
+}
+
+/// [`generate_told`] for a bench with a code: its references carry the code, and the code is
+/// mixed into the seed, so that benches made from one seed still have keys of their own (and
+/// the same seed and code make the same file).
+pub fn generate_for_bench(
+    out: &Path,
+    o: &DemoOptions,
+    bench: Option<&str>,
+    progress: &mut (dyn FnMut(Progress) + Send),
+) -> Result<DemoSummary, StoreError> {
+    let bench = match bench {
+        Some(b) => Some(
+            crate::store::fleet::check_bench_code(b)
+                .map_err(|m| StoreError::invalid("bench code", m))?,
+        ),
+        None => None,
+    };
+    let o = &DemoOptions {
+        incidents: o.incidents,
+        seed: match &bench {
+            // FNV-1a over the code's bytes (a fixed mix, not a secret)
+            Some(code) => code.bytes().fold(o.seed ^ 0xcbf2_9ce4_8422_2325, |h, b| {
+                (h ^ u64::from(b)).wrapping_mul(0x0100_0000_01b3)
+            }),
+            None => o.seed,
+        },
+    };
     if out.exists() {
         return Err(StoreError::File {
             path: out.display().to_string(),
@@ -73,7 +102,7 @@ pub fn generate_told(
     // a hidden name of this process beside the target: a killed run's copy is found and
     // removed by the next one (`store::remove_stale_partials`)
     let tmp: PathBuf = crate::store::temporary_sibling(out);
-    let result = generate_into(&tmp, out, o, progress);
+    let result = generate_into(&tmp, out, o, bench.as_deref(), progress);
     match result {
         Ok(sum) => {
             std::fs::rename(&tmp, out).map_err(|e| StoreError::File {
@@ -93,6 +122,7 @@ fn generate_into(
     tmp: &Path,
     out: &Path,
     o: &DemoOptions,
+    bench: Option<&str>,
     progress: &mut (dyn FnMut(Progress) + Send),
 ) -> Result<DemoSummary, StoreError> {
     let mut file = BulkFile::create(tmp, out, o.seed ^ 0x5EED_0000_0000_0001)?;
@@ -115,6 +145,7 @@ fn generate_into(
     };
     let attachments = load.attachments();
     let mut maker = Maker::new(&world, &keys, &mut rng, &mut summary, attachments);
+    maker.bench = bench.map(String::from);
     let mut next = plans.iter();
     let total = Some(plans.len() as u64);
     let mut made = 0u64;
@@ -130,6 +161,9 @@ fn generate_into(
     })?;
     summary.incidents += written;
     file.finish()?;
+    if let Some(code) = bench {
+        crate::store::Store::open_existing(tmp)?.set_bench_code(code)?;
+    }
     Ok(summary)
 }
 

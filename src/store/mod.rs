@@ -55,9 +55,11 @@ pub mod canon;
 mod dates;
 pub mod exchange;
 mod files;
+pub mod fleet;
 mod ids;
 mod incidents;
 pub mod model;
+mod outbox;
 pub mod progress;
 mod refdata;
 pub mod safe_file;
@@ -71,6 +73,7 @@ pub use files::{
 };
 pub(crate) use ids::IdGen;
 pub use model::*;
+pub use outbox::{ChainRow, Receipt, PULL_ACTOR};
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
 pub use verify::Anchor;
 

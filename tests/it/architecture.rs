@@ -188,6 +188,29 @@ fn only_the_store_names_the_database_crates() {
     );
 }
 
+#[test]
+fn only_the_fleet_side_of_the_store_names_postgres() {
+    let files: Vec<PathBuf> = rust_files(&root().join("src/store"))
+        .into_iter()
+        .filter(|f| !f.starts_with(root().join("src/store/fleet")))
+        .collect();
+    assert!(files.len() > 10, "found the store's files");
+    let hits = offending(
+        &files,
+        &["postgres::", "use postgres", "tokio_postgres", "rustls"],
+    );
+    assert!(
+        hits.is_empty(),
+        "PostgreSQL is reached only from src/store/fleet:\n{}",
+        hits.join("\n")
+    );
+    let fleet = rust_files(&root().join("src/store/fleet"));
+    assert!(
+        !offending(&fleet, &["use postgres"]).is_empty(),
+        "src/store/fleet is where the PostgreSQL client is used"
+    );
+}
+
 /// The module path of a source file: `src/store/audit/chain.rs` → `crate::store::audit::chain`.
 fn module_of(file: &Path, src: &Path) -> Vec<String> {
     let r = file

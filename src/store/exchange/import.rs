@@ -716,19 +716,21 @@ impl Writer<'_> {
         day_counter: &mut HashMap<NaiveDate, u32>,
         seen_refs: &HashSet<String>,
     ) -> Result<String, StoreError> {
+        let code = crate::store::outbox::bench_code(self.tx)?;
+        let code = code.as_deref();
         let mut n = match day_counter.get(&found_on) {
             Some(n) => *n + 1,
             None => {
                 let r = next_reference(self.tx, found_on)?;
-                r[reference_prefix(found_on).len()..]
+                r[reference_prefix(code, found_on).len()..]
                     .parse::<u32>()
                     .unwrap_or(1)
             }
         };
-        let mut r = format_reference(found_on, n)?;
+        let mut r = format_reference(code, found_on, n)?;
         while seen_refs.contains(&r) {
             n += 1;
-            r = format_reference(found_on, n)?;
+            r = format_reference(code, found_on, n)?;
         }
         day_counter.insert(found_on, n);
         Ok(r)

@@ -434,9 +434,11 @@ fn write_rows_with(
     Ok(seq)
 }
 
-/// Next free reference for a date found: "BR-YYMMDD-NNNN".
+/// Next free reference for a date found: "BR-YYMMDD-NNNN", or "BR-CODE-YYMMDD-NNNN" on a
+/// bench with a code (so that no two incidents of a fleet share one).
 pub(crate) fn next_reference(conn: &Connection, found_on: NaiveDate) -> Result<String, StoreError> {
-    let prefix = reference_prefix(found_on);
+    let code = crate::store::outbox::bench_code(conn)?;
+    let prefix = reference_prefix(code.as_deref(), found_on);
     let upper = format!("{prefix}~");
     let last: Option<String> = conn
         .prepare_cached(
@@ -449,21 +451,28 @@ pub(crate) fn next_reference(conn: &Connection, found_on: NaiveDate) -> Result<S
         Some(r) => r[prefix.len()..].parse::<u32>().unwrap_or(9999) + 1,
         None => 1,
     };
-    format_reference(found_on, n)
+    format_reference(code.as_deref(), found_on, n)
 }
 
-pub(crate) fn reference_prefix(found_on: NaiveDate) -> String {
-    format!("BR-{}-", found_on.format("%y%m%d"))
+pub(crate) fn reference_prefix(code: Option<&str>, found_on: NaiveDate) -> String {
+    match code {
+        Some(c) => format!("BR-{c}-{}-", found_on.format("%y%m%d")),
+        None => format!("BR-{}-", found_on.format("%y%m%d")),
+    }
 }
 
-pub(crate) fn format_reference(found_on: NaiveDate, n: u32) -> Result<String, StoreError> {
+pub(crate) fn format_reference(
+    code: Option<&str>,
+    found_on: NaiveDate,
+    n: u32,
+) -> Result<String, StoreError> {
     if n > 9999 {
         return Err(StoreError::invalid(
             "found_on",
             format!("more than 9999 incidents found on {found_on}"),
         ));
     }
-    Ok(format!("{}{n:04}", reference_prefix(found_on)))
+    Ok(format!("{}{n:04}", reference_prefix(code, found_on)))
 }
 impl Store {
     /// Give new children keys and truncate times to milliseconds.

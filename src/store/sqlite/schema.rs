@@ -27,6 +27,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0004_search_contentless.sql",
         include_str!("../../../schema/0004_search_contentless.sql"),
     ),
+    (
+        "0006_fleet_sync.sql",
+        include_str!("../../../schema/0006_fleet_sync.sql"),
+    ),
 ];
 
 /// The migration that makes `incident_facts`; the store fills it from the incidents

@@ -1,4 +1,5 @@
 //! Set-up shared by the integration tests.
 
+pub mod fleet;
 pub mod pty;
 pub mod report;

@@ -1,0 +1,96 @@
+//! The fleet database on PostgreSQL: what only the fleet side has. Benches push their audit
+//! chain into it (the outbox), the fleet witnesses every row inside PostgreSQL
+//! (`fleet_push()`, schema/fleet/), keeps its own chain of receipts, refusals and conflicts,
+//! and hands reference data back.
+//!
+//! - `connect`: the URL, TLS (rustls) for `sslmode=require`, a clear message when the server
+//!   cannot be reached.
+//! - `schema`: the fleet's numbered migrations and its two roles.
+//! - `push`: a bench's chain, records and files staged by binary COPY, then `fleet_push()`.
+//! - `pull`: reference data of other benches merged into this bench by code.
+//! - `status`: per bench its witnessed head, last sync, incidents, conflicts, refusals.
+//! - `sync`: push then pull, with the bench's receipts and `verify --fleet`.
+
+mod connect;
+mod pull;
+mod push;
+mod schema;
+mod status;
+mod sync;
+
+pub use connect::Fleet;
+pub use pull::PullReport;
+pub use push::PushOutcome;
+pub use schema::{FleetInit, FLEET_SCHEMA_VERSION};
+pub use status::{BenchStatus, FleetStatus};
+pub use sync::{sync, verify_fleet, FleetVerify, SyncReport};
+
+/// Why a fleet operation failed. The message names what to do.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum FleetError {
+    /// The server could not be reached or went away: nothing was applied.
+    #[error("the fleet database cannot be reached ({0}); nothing was changed on either side, sync again when it is back")]
+    Unreachable(String),
+    /// The URL or a setting cannot be used.
+    #[error("{0}")]
+    Usage(String),
+    /// The fleet refused the push (fork, forged rows, gap, collision, missing record).
+    #[error("the fleet refused the push ({kind}): {detail}")]
+    Refused { kind: String, detail: String },
+    /// The bench cannot sync as it is (no code, a NUL in its history, a fork seen here).
+    #[error("{0}")]
+    Bench(String),
+    #[error("fleet database: {0}")]
+    Database(String),
+}
+
+impl From<postgres::Error> for FleetError {
+    fn from(e: postgres::Error) -> Self {
+        connect::classify(&e)
+    }
+}
+
+impl From<crate::store::StoreError> for FleetError {
+    fn from(e: crate::store::StoreError) -> Self {
+        FleetError::Bench(format!("this bench's database: {e}"))
+    }
+}
+
+impl From<serde_json::Error> for FleetError {
+    fn from(e: serde_json::Error) -> Self {
+        FleetError::Database(format!("JSON: {e}"))
+    }
+}
+
+/// A bench code: 2 to 8 capital letters or digits, starting with a letter (the fleet's
+/// `fleet_benches` checks the same). Lower case is taken and made upper case.
+pub fn check_bench_code(text: &str) -> Result<String, String> {
+    let code = text.trim().to_ascii_uppercase();
+    let ok = (2..=8).contains(&code.len())
+        && code.starts_with(|c: char| c.is_ascii_uppercase())
+        && code
+            .chars()
+            .all(|c| c.is_ascii_uppercase() || c.is_ascii_digit());
+    if ok {
+        Ok(code)
+    } else {
+        Err(format!(
+            "bench code \"{}\": expected 2 to 8 letters or digits, starting with a letter (e.g. NORTH, LAB2)",
+            text.trim()
+        ))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn bench_codes() {
+        assert_eq!(check_bench_code(" north ").unwrap(), "NORTH");
+        assert_eq!(check_bench_code("LAB2").unwrap(), "LAB2");
+        for bad in ["", "N", "2LAB", "NORTH-1", "ABCDEFGHI", "NÖRD"] {
+            assert!(check_bench_code(bad).is_err(), "{bad}");
+        }
+    }
+}

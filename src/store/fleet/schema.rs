@@ -1,0 +1,149 @@
+//! The fleet's schema: numbered migrations of its own (schema/fleet/*.sql), each applied in a
+//! transaction under an advisory lock (two `fleet init` at once apply each migration once),
+//! recorded in `fleet_schema`; then the two roles and what each may do.
+
+use super::{Fleet, FleetError};
+
+/// The fleet migrations, in order. Migration n brings the fleet from version n-1 to n.
+const MIGRATIONS: &[(&str, &str)] = &[
+    (
+        "0001_fleet.sql",
+        include_str!("../../../schema/fleet/0001_fleet.sql"),
+    ),
+    (
+        "0002_push.sql",
+        include_str!("../../../schema/fleet/0002_push.sql"),
+    ),
+];
+
+/// The fleet schema version this build writes.
+pub const FLEET_SCHEMA_VERSION: i64 = MIGRATIONS.len() as i64;
+
+/// What `fleet init` did.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct FleetInit {
+    pub version_before: i64,
+    pub version: i64,
+    /// The role benches push with: may add through fleet_push(), never update or delete.
+    pub bench_role: String,
+    /// The role fleet users read with.
+    pub reader_role: String,
+}
+
+/// Roles and grants, by the database's name (so that two fleets on one server keep apart).
+/// Lookup of the names in SQL: nothing of the user's text is put into a statement here.
+const ROLES: &str = r#"
+DO $roles$
+DECLARE
+    b text := current_database() || '_bench';
+    r text := current_database() || '_reader';
+BEGIN
+    BEGIN
+        EXECUTE format('CREATE ROLE %I LOGIN', b);
+    EXCEPTION WHEN duplicate_object OR unique_violation THEN NULL;
+    END;
+    BEGIN
+        EXECUTE format('CREATE ROLE %I LOGIN', r);
+    EXCEPTION WHEN duplicate_object OR unique_violation THEN NULL;
+    END;
+    EXECUTE format('REVOKE ALL ON ALL TABLES IN SCHEMA public FROM %I, %I', b, r);
+    EXECUTE format('GRANT CONNECT ON DATABASE %I TO %I, %I', current_database(), b, r);
+    EXECUTE format('GRANT USAGE ON SCHEMA public TO %I, %I', b, r);
+    EXECUTE format('GRANT SELECT ON fleet_schema, fleet_benches, bench_chain, fleet_receipts,
+        fleet_records, fleet_refusals, fleet_conflicts TO %I, %I', b, r);
+    EXECUTE format('GRANT SELECT (sha256) ON fleet_files TO %I', b);
+    EXECUTE format('GRANT SELECT ON fleet_files TO %I', r);
+    EXECUTE format('GRANT INSERT ON push_entries, push_records, push_files TO %I', b);
+    REVOKE EXECUTE ON ALL FUNCTIONS IN SCHEMA public FROM PUBLIC;
+    EXECUTE format('GRANT EXECUTE ON FUNCTION fleet_push(text) TO %I', b);
+    EXECUTE format('GRANT EXECUTE ON FUNCTION fleet_row_text(bigint, text, text, text, text,
+        text, text, text), fleet_link_hash(text, text), fleet_receipt_text(bigint, text, text,
+        bigint, bigint, text, bigint), fleet_reference(text, text) TO %I, %I', b, r);
+END
+$roles$;
+"#;
+
+/// The version in `fleet_schema` (0 when the table is not there: a statement naming a table
+/// that does not exist fails as a whole, so the two are asked apart).
+fn version_in(c: &mut impl postgres::GenericClient) -> Result<i64, FleetError> {
+    let there: bool = c
+        .query_one("SELECT to_regclass('public.fleet_schema') IS NOT NULL", &[])?
+        .get(0);
+    if !there {
+        return Ok(0);
+    }
+    Ok(c.query_one(
+        "SELECT coalesce(max(version), 0)::bigint FROM fleet_schema",
+        &[],
+    )?
+    .get(0))
+}
+
+impl Fleet {
+    /// The fleet schema version of this database (0: none yet).
+    pub fn schema_version(&mut self) -> Result<i64, FleetError> {
+        version_in(&mut self.client)
+    }
+
+    /// Create or upgrade the fleet schema and its roles. Running it again changes nothing.
+    pub fn init(&mut self) -> Result<FleetInit, FleetError> {
+        let before = self.schema_version()?;
+        if before > FLEET_SCHEMA_VERSION {
+            return Err(FleetError::Usage(format!(
+                "the fleet database has schema version {before}, newer than this shardlog understands ({FLEET_SCHEMA_VERSION}); use a newer shardlog"
+            )));
+        }
+        for (k, (name, sql)) in MIGRATIONS.iter().enumerate() {
+            let version = k as i64 + 1;
+            let mut tx = self.client.transaction()?;
+            tx.execute("SELECT pg_advisory_xact_lock(1397247048)", &[])?;
+            let now = version_in(&mut tx)?;
+            if now >= version {
+                tx.commit()?;
+                continue;
+            }
+            tx.batch_execute(sql).map_err(|e| {
+                FleetError::Database(format!(
+                    "fleet migration {name}: {}",
+                    super::connect::classify(&e)
+                ))
+            })?;
+            tx.execute(
+                "INSERT INTO fleet_schema (version, name) VALUES ($1, $2)",
+                &[&(version as i32), name],
+            )?;
+            tx.commit()?;
+        }
+        let mut tx = self.client.transaction()?;
+        tx.execute("SELECT pg_advisory_xact_lock(1397247048)", &[])?;
+        tx.batch_execute(ROLES)?;
+        let row = tx.query_one(
+            "SELECT current_database() || '_bench', current_database() || '_reader'",
+            &[],
+        )?;
+        tx.commit()?;
+        Ok(FleetInit {
+            version_before: before,
+            version: FLEET_SCHEMA_VERSION,
+            bench_role: row.get(0),
+            reader_role: row.get(1),
+        })
+    }
+
+    /// Refuse to work on a database that `fleet init` has not prepared (or a newer one).
+    pub(crate) fn check_schema(&mut self) -> Result<(), FleetError> {
+        match self.schema_version()? {
+            0 => Err(FleetError::Usage(format!(
+                "{} is not a shardlog fleet database yet; run `shardlog fleet init --url URL` as its owner first",
+                self.shown
+            ))),
+            v if v > FLEET_SCHEMA_VERSION => Err(FleetError::Usage(format!(
+                "the fleet database has schema version {v}, newer than this shardlog understands ({FLEET_SCHEMA_VERSION}); use a newer shardlog"
+            ))),
+            v if v < FLEET_SCHEMA_VERSION => Err(FleetError::Usage(format!(
+                "the fleet database has schema version {v}; its owner must run `shardlog fleet init --url URL` to upgrade it to {FLEET_SCHEMA_VERSION}"
+            ))),
+            _ => Ok(()),
+        }
+    }
+}
