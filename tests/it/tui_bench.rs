@@ -480,3 +480,38 @@ fn a_revision_is_restored_from_the_history_as_a_new_change() {
     let report = store.verify().unwrap();
     assert!(report.ok(), "{:?}", report.first_problem);
 }
+
+#[test]
+fn exposure_is_entered_from_the_review() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut app = one_incident(dir.path(), None);
+    send(&mut app, &key(KeyCode::Esc));
+    send(&mut app, &key(KeyCode::Char('r')));
+    assert_eq!(app.screen(), Screen::Review);
+    let footer = render(&mut app, 100, 30).last().unwrap().clone();
+    assert!(footer.contains("x "), "{footer}");
+    send(&mut app, &key(KeyCode::Char('x')));
+    assert_eq!(app.screen(), Screen::Edit);
+    type_str(&mut app, "NORTHPANE\n");
+    type_str(&mut app, "FLOAT6\n");
+    type_str(&mut app, "L10\n");
+    type_str(&mut app, "DEPOT-A\n");
+    type_str(&mut app, "2024-01-01");
+    send(&mut app, &key(KeyCode::Tab));
+    send(&mut app, &key(KeyCode::Tab));
+    type_str(&mut app, "1200");
+    save_keys(&mut app);
+    let msg = app.message.clone().unwrap();
+    assert!(!msg.error, "{}", msg.text);
+    assert_eq!(app.screen(), Screen::Review);
+    let rows = app.store.as_ref().unwrap().exposure().unwrap();
+    assert_eq!(rows.len(), 1, "{rows:?}");
+    let e = &rows[0];
+    assert_eq!(e.supplier, "NORTHPANE");
+    assert_eq!(e.product.as_deref(), Some("FLOAT6"));
+    assert_eq!(e.lot.as_deref(), Some("L10"));
+    assert_eq!(e.site.as_deref(), Some("DEPOT-A"));
+    assert_eq!(e.installed_on.to_string(), "2024-01-01");
+    assert_eq!(e.removed_on, None);
+    assert_eq!(e.panes, 1200);
+}
