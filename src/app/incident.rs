@@ -88,6 +88,8 @@ pub enum EditKind {
     Attach,
     /// The log's filters (no incident).
     Filter,
+    /// Panes in service (from the review; no incident).
+    Exposure,
 }
 
 /// A form open over an incident (or a new one).
@@ -114,6 +116,7 @@ impl EditState {
             EditKind::Custody => format!("Add custody entry · {r}"),
             EditKind::Attach => format!("Attach a file · {r}"),
             EditKind::Filter => "Filter the log".to_string(),
+            EditKind::Exposure => "Panes in service (exposure)".to_string(),
         }
     }
 }
@@ -549,6 +552,74 @@ pub fn custody_form(now: chrono::DateTime<chrono::Utc>, actor: &str, lists: &Lis
     form.push_field(text("note", "Note", ""));
     form.mark_clean();
     form
+}
+
+/// Panes in service of a supplier (product, lot, site) from a day: the denominator of rates.
+pub fn exposure_form(today: chrono::NaiveDate, lists: &Lists) -> Form {
+    let mut form = Form::default();
+    form.push_pick(
+        pick("supplier", "Supplier", lists.suppliers.clone(), None)
+            .required()
+            .open_ended(),
+    );
+    form.push_pick(pick("product", "Product", lists.products.clone(), None).open_ended());
+    form.push_pick(pick("lot", "Lot", lists.lots.clone(), None).open_ended());
+    form.push_pick(pick("site", "Site", lists.sites.clone(), None).open_ended());
+    form.push_field(
+        Field::new(
+            "installed_on",
+            "Installed on",
+            FieldKind::Date { optional: false },
+        )
+        .with_suggestion(&today.to_string()),
+    );
+    form.push_field(
+        Field::new(
+            "removed_on",
+            "Removed on",
+            FieldKind::Date { optional: true },
+        )
+        .with_hint("empty: still in service"),
+    );
+    form.push_field(
+        Field::new("panes", "Panes", FieldKind::Count { optional: false })
+            .with_hint("how many, e.g. 1200"),
+    );
+    form.mark_clean();
+    form
+}
+
+/// The exposure row a filled [`exposure_form`] describes.
+pub fn exposure_entry(form: &Form) -> Result<crate::store::model::Exposure, String> {
+    let code = |k: &str| {
+        let t = form.text(k).trim().to_string();
+        (!t.is_empty()).then_some(t)
+    };
+    let supplier = code("supplier").ok_or("Supplier: pick or type one")?;
+    let date = |k: &str| match form.field(k).map(|f| f.value()) {
+        Some(Ok(FieldValue::Date(d))) => Ok(Some(d)),
+        Some(Err(e)) => Err(e),
+        _ => Ok(None),
+    };
+    let installed_on = date("installed_on")?.ok_or("Installed on: a date is needed")?;
+    let removed_on = date("removed_on")?;
+    let panes = match form.field("panes").map(|f| f.value()) {
+        Some(Ok(FieldValue::Count(n))) => {
+            i64::try_from(n).map_err(|_| "Panes: too many".to_string())?
+        }
+        Some(Err(e)) => return Err(e),
+        _ => return Err("Panes: a whole number, 0 or more".into()),
+    };
+    Ok(crate::store::model::Exposure {
+        id: String::new(),
+        supplier,
+        product: code("product"),
+        lot: code("lot"),
+        site: code("site"),
+        installed_on,
+        removed_on,
+        panes,
+    })
 }
 
 pub fn attach_form() -> Form {

@@ -124,6 +124,8 @@ pub enum Action {
     No,
     /// Incident history: restore the highlighted revision (as a new change).
     Revert,
+    /// Review: enter panes in service (exposure).
+    AddExposure,
     /// Bench: move to the load hypothesis inputs (again: back to the readings).
     JumpHypothesis,
     /// A key for the focused text input.
@@ -221,7 +223,7 @@ pub struct App {
     pub height: u16,
 }
 
-fn load_lists(store: &Store) -> Result<Lists, StoreError> {
+pub(crate) fn load_lists(store: &Store) -> Result<Lists, StoreError> {
     let mut lists = Lists::default();
     for kind in LookupKind::ALL {
         let items = store

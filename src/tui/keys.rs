@@ -348,6 +348,14 @@ pub static TABLE: &[Binding] = &[
     },
     Binding {
         ctxs: &[Review],
+        keys: &[c('x')],
+        label: "x",
+        desc: "enter exposure: panes in service of a supplier, product, lot, site",
+        action: Action::AddExposure,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Review],
         keys: &[c('g')],
         label: "g",
         desc: "per month: the whole fleet or the group highlighted on Groups",

@@ -148,6 +148,8 @@ fn the_interface_saves_while_an_import_runs_in_another_process() {
         .arg("--db")
         .arg(&db)
         .arg("import")
+        // the same rows again on purpose: not possible duplicates to stop at
+        .arg("--allow-duplicates")
         .arg(&file)
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())

@@ -298,6 +298,8 @@ fn sigkill_during_import_leaves_all_or_nothing() {
             .arg("--db")
             .arg(&db)
             .arg("import")
+            // the same rows again on purpose: not possible duplicates to stop at
+            .arg("--allow-duplicates")
             .arg(&file)
             .env("SHARDLOG_USER", "crash-harness")
             .stdout(Stdio::piped())

@@ -480,3 +480,96 @@ fn a_revision_is_restored_from_the_history_as_a_new_change() {
     let report = store.verify().unwrap();
     assert!(report.ok(), "{:?}", report.first_problem);
 }
+
+#[test]
+fn exposure_is_entered_from_the_review() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut app = one_incident(dir.path(), None);
+    send(&mut app, &key(KeyCode::Esc));
+    send(&mut app, &key(KeyCode::Char('r')));
+    assert_eq!(app.screen(), Screen::Review);
+    let footer = render(&mut app, 100, 30).last().unwrap().clone();
+    assert!(footer.contains("x "), "{footer}");
+    send(&mut app, &key(KeyCode::Char('x')));
+    assert_eq!(app.screen(), Screen::Edit);
+    type_str(&mut app, "NORTHPANE\n");
+    type_str(&mut app, "FLOAT6\n");
+    type_str(&mut app, "L10\n");
+    type_str(&mut app, "DEPOT-A\n");
+    type_str(&mut app, "2024-01-01");
+    send(&mut app, &key(KeyCode::Tab));
+    send(&mut app, &key(KeyCode::Tab));
+    type_str(&mut app, "1200");
+    save_keys(&mut app);
+    let msg = app.message.clone().unwrap();
+    assert!(!msg.error, "{}", msg.text);
+    assert_eq!(app.screen(), Screen::Review);
+    let rows = app.store.as_ref().unwrap().exposure().unwrap();
+    assert_eq!(rows.len(), 1, "{rows:?}");
+    let e = &rows[0];
+    assert_eq!(e.supplier, "NORTHPANE");
+    assert_eq!(e.product.as_deref(), Some("FLOAT6"));
+    assert_eq!(e.lot.as_deref(), Some("L10"));
+    assert_eq!(e.site.as_deref(), Some("DEPOT-A"));
+    assert_eq!(e.installed_on.to_string(), "2024-01-01");
+    assert_eq!(e.removed_on, None);
+    assert_eq!(e.panes, 1200);
+}
+
+#[test]
+fn reverting_past_a_removed_examination_brings_back_its_figures_and_pin() {
+    use shardlog::store::bench_record::{bench_examination, BenchRecord, BoundaryLines};
+    use shardlog_core::fracture::{analyze, materials, AnalysisInput, Boundary};
+    let mut store = Store::open_in_memory().unwrap();
+    let day = chrono::NaiveDate::from_ymd_opt(2027, 3, 1).unwrap();
+    let inc = store
+        .create_incident(&Incident::draft(day), &stamp())
+        .unwrap();
+    let input = AnalysisInput::new(materials::find("soda-lime").unwrap())
+        .with_readings(Boundary::MirrorMist, &[1e-3]);
+    let analysis = analyze(&input).unwrap();
+    let lines = vec!["1 mm".to_string()];
+    let record = BenchRecord {
+        analyst: "Vera Okonkwo-Lind",
+        at: stamp().at,
+        readings: vec![BoundaryLines {
+            boundary: "mirror_mist",
+            label: "Mirror–mist R",
+            lines: &lines,
+        }],
+        input: &input,
+        analysis: &analysis,
+        thermal: None,
+        load: None,
+    };
+    let exam = bench_examination(None, &record).unwrap();
+    let with_exam = store
+        .put_examination(&inc.id, inc.revision, &exam, &stamp())
+        .unwrap();
+    let saved = with_exam.current_result().unwrap().1.clone();
+    // restoring the current revision's own image keeps the whole analysis
+    let history = store.history(&inc.id).unwrap();
+    let last = history.last().unwrap().seq;
+    let same = store
+        .revert(&inc.id, last, with_exam.revision, &stamp())
+        .unwrap();
+    assert_eq!(same.current_result().unwrap().1.analysis, saved.analysis);
+    // drop the examination, then restore the revision that had it
+    let mut without = same.clone();
+    without.examinations.clear();
+    let without = store.update_incident(&without, &stamp()).unwrap();
+    assert!(without.current_result().is_none());
+    let back = store
+        .revert(&inc.id, last, without.revision, &stamp())
+        .unwrap();
+    let (_, result) = back.current_result().expect("the examination is back");
+    assert_eq!(result.stress_pa, saved.stress_pa);
+    assert_eq!(result.applied_stress_pa, saved.applied_stress_pa);
+    let pin = result.analysis["restored_from_history"].as_str().unwrap();
+    assert!(pin.starts_with("sha256:"), "{pin}");
+    // a stale revision is refused
+    assert!(store
+        .revert(&inc.id, last, without.revision, &stamp())
+        .is_err());
+    assert!(store.verify().unwrap().ok());
+}

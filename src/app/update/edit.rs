@@ -120,6 +120,23 @@ impl App {
                     .add_attachment(&base.id, &path, &caption, &stamp)
                     .map_err(|e| e.to_string())
             }
+            EditKind::Exposure => {
+                match incident::exposure_entry(&edit.form)
+                    .and_then(|e| store.enter_exposure(e, &stamp))
+                {
+                    Ok(()) => {
+                        self.edit = None;
+                        self.stack.pop();
+                        if let Ok(l) = super::super::load_lists(store) {
+                            self.lists = l;
+                        }
+                        self.reload_review();
+                        self.info("exposure saved: rates use it from now on");
+                    }
+                    Err(e) => self.error(format!("not saved: {e}")),
+                }
+                return;
+            }
             EditKind::Filter => return,
         };
         match result {
@@ -138,7 +155,7 @@ impl App {
                             .unwrap_or_default();
                         format!("attached to {} (sha256 {h}…)", saved.reference)
                     }
-                    EditKind::Filter => String::new(),
+                    EditKind::Filter | EditKind::Exposure => String::new(),
                 };
                 self.edit = None;
                 self.stack.pop();

@@ -31,6 +31,16 @@ impl App {
     pub(super) fn update_review(&mut self, action: Action) {
         let page = self.height.saturating_sub(8).max(1) as i64;
         match action {
+            Action::AddExposure => {
+                let today = self.stamp().at.date_naive();
+                self.edit = Some(crate::app::incident::EditState {
+                    kind: crate::app::incident::EditKind::Exposure,
+                    form: crate::app::incident::exposure_form(today, &self.lists),
+                    base: None,
+                    conflict: false,
+                });
+                self.stack.push(Screen::Edit);
+            }
             Action::NextSection | Action::Right => self.review.panel = self.review.panel.next(),
             Action::PrevSection | Action::Left => self.review.panel = self.review.panel.prev(),
             Action::Down | Action::ScrollDown => self.review.move_by(1),

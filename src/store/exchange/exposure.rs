@@ -200,6 +200,30 @@ impl Store {
             Ok(rows) => rows,
             Err(problems) => return Ok(Err(ImportRejected { problems })),
         };
+        self.import_exposure_rows(rows, options, stamp)
+    }
+
+    /// Add one exposure row (the interface's form); codes it names are created. The error
+    /// says what was refused.
+    pub fn enter_exposure(&mut self, e: Exposure, stamp: &Stamp) -> Result<(), String> {
+        match self.import_exposure_rows(vec![(0, e)], ImportOptions::default(), stamp) {
+            Ok(Ok(_)) => Ok(()),
+            Ok(Err(rej)) => Err(rej
+                .problems
+                .iter()
+                .map(|p| p.message.clone())
+                .collect::<Vec<_>>()
+                .join("; ")),
+            Err(e) => Err(e.to_string()),
+        }
+    }
+
+    fn import_exposure_rows(
+        &mut self,
+        rows: Vec<(usize, Exposure)>,
+        options: ImportOptions,
+        stamp: &Stamp,
+    ) -> Result<Result<ImportSummary, ImportRejected>, StoreError> {
         let mut doc = ExportDoc::empty();
         let suppliers: HashSet<String> = self.suppliers()?.into_iter().map(|s| s.code).collect();
         let products: HashSet<(String, String)> = self
