@@ -28,8 +28,8 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         include_str!("../../../schema/0004_search_contentless.sql"),
     ),
     (
-        "0006_fleet_sync.sql",
-        include_str!("../../../schema/0006_fleet_sync.sql"),
+        "0005_fleet_sync.sql",
+        include_str!("../../../schema/0005_fleet_sync.sql"),
     ),
 ];
 
