@@ -13,6 +13,7 @@ pub mod html;
 pub mod image;
 pub mod markdown;
 pub mod pdf;
+mod pdf_font;
 pub mod source;
 pub mod summary;
 

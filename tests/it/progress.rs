@@ -85,11 +85,15 @@ fn a_terminal_sees_progress_and_a_pipe_does_not() {
     );
     let db2 = dir.path().join("again.db");
     init(&db2);
+    // the photos travel beside the export, in the source database's attachment folder
+    let files = dir.path().join("demo.db.files");
     let out = Command::new(BIN)
         .arg("--db")
         .arg(&db2)
         .arg("import")
         .arg(&export)
+        .arg("--attachments")
+        .arg(&files)
         .output()
         .unwrap();
     assert!(
@@ -122,6 +126,8 @@ fn a_terminal_sees_progress_and_a_pipe_does_not() {
         db3.to_str().unwrap(),
         "import",
         export.to_str().unwrap(),
+        "--attachments",
+        files.to_str().unwrap(),
     ]);
     assert_eq!(code, 0, "{text}");
     assert!(
