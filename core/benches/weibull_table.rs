@@ -4,7 +4,8 @@
 //! Run: `cargo bench -p shardlog-core --bench weibull_table`; paste the rows
 //! between the TABLE-START and TABLE-END markers.
 
-use shardlog_core::fleet::pivotal::{tabulate, REPLICATES, SEED, SIZES};
+use shardlog_core::fleet::pivotal::{REPLICATES, SEED, SIZES};
+use shardlog_core::fleet::pivotal_sim::tabulate;
 
 fn main() {
     for n in SIZES {

@@ -10,6 +10,7 @@
 
 pub mod group;
 pub mod pivotal;
+pub mod pivotal_sim;
 pub mod query;
 pub mod rates;
 pub mod special;

@@ -674,13 +674,15 @@ pub(super) fn layer_cover_warnings(
     if input.origin != Origin::Surface || residual.surface_compression_pa <= 0.0 {
         return;
     }
+    // millimetres for a thermal layer and a large mirror, micrometres for an ion-exchanged one
+    let length = |m: f64| if m >= 1e-3 { mm(m) } else { um(m) };
     for &(what, size) in radii.iter().filter(|(_, size)| *size > d) {
         warnings.push(format!(
             "The {what} ({}) is deeper than the compressive layer ({} deep): the layer does not \
              cover it, so part of it grew through the tensile core and the surface compression \
              overstates the residual stress it felt.",
-            um(size),
-            um(d)
+            length(size),
+            length(d)
         ));
     }
 }
