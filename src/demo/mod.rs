@@ -78,8 +78,7 @@ pub fn generate_for_bench(
 ) -> Result<DemoSummary, StoreError> {
     let bench = match bench {
         Some(b) => Some(
-            crate::store::fleet::check_bench_code(b)
-                .map_err(|m| StoreError::invalid("bench code", m))?,
+            crate::store::check_bench_code(b).map_err(|m| StoreError::invalid("bench code", m))?,
         ),
         None => None,
     };

@@ -72,6 +72,7 @@ pub use files::{
     write_atomically, write_new_synced,
 };
 pub(crate) use ids::IdGen;
+pub use incidents::check_bench_code;
 pub use model::*;
 pub use outbox::{ChainRow, Receipt, PULL_ACTOR};
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
@@ -244,11 +245,21 @@ impl Store {
         // the write path uses a few dozen distinct statements; the default cache (16) would
         // re-prepare them on every incident
         conn.set_prepared_statement_cache_capacity(128);
-        let seed = std::time::SystemTime::now()
-            .duration_since(std::time::UNIX_EPOCH)
-            .map(|d| d.as_nanos() as u64)
-            .unwrap_or(0)
-            ^ ((std::process::id() as u64) << 32);
+        // the random bits of new keys: std's RandomState takes its keys from the operating
+        // system's generator, so keys made at different benches never meet (the demo and the
+        // tests fix the seed with set_id_seed and stay reproducible)
+        let seed = {
+            use std::hash::{BuildHasher, Hasher};
+            let mut h = std::collections::hash_map::RandomState::new().build_hasher();
+            h.write_u128(
+                std::time::SystemTime::now()
+                    .duration_since(std::time::UNIX_EPOCH)
+                    .map(|d| d.as_nanos())
+                    .unwrap_or(0),
+            );
+            h.write_u32(std::process::id());
+            h.finish()
+        };
         Store {
             conn,
             path,

@@ -40,31 +40,23 @@ pub const PULL_ACTOR: &str = "fleet:pull";
 
 const BENCH_CODE: &str = "bench_code";
 
-pub(crate) fn bench_code(conn: &Connection) -> Result<Option<String>, StoreError> {
-    Ok(conn
-        .query_row("SELECT value FROM meta WHERE key = ?1", [BENCH_CODE], |r| {
-            r.get(0)
-        })
-        .optional()?)
-}
-
 impl Store {
     /// This bench's code (`init --bench`, `bench code`), None before one is set.
     pub fn bench_code(&self) -> Result<Option<String>, StoreError> {
-        bench_code(&self.conn)
+        incidents::bench_code(&self.conn)
     }
 
     /// Set this bench's code. New references carry it; references made before keep theirs.
     /// Refused once the bench has synced (the fleet knows it by its code).
     pub fn set_bench_code(&mut self, code: &str) -> Result<(), StoreError> {
-        let code = super::fleet::check_bench_code(code)
-            .map_err(|m| StoreError::invalid("bench code", m))?;
+        let code =
+            incidents::check_bench_code(code).map_err(|m| StoreError::invalid("bench code", m))?;
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
         let synced: i64 = tx.query_row("SELECT count(*) FROM fleet_receipts", [], |r| r.get(0))?;
         if synced > 0 {
-            let old = bench_code(&tx)?.unwrap_or_default();
+            let old = incidents::bench_code(&tx)?.unwrap_or_default();
             if old != code {
                 return Err(StoreError::invalid(
                     "bench code",

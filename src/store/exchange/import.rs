@@ -716,7 +716,7 @@ impl Writer<'_> {
         day_counter: &mut HashMap<NaiveDate, u32>,
         seen_refs: &HashSet<String>,
     ) -> Result<String, StoreError> {
-        let code = crate::store::outbox::bench_code(self.tx)?;
+        let code = incidents::bench_code(self.tx)?;
         let code = code.as_deref();
         let mut n = match day_counter.get(&found_on) {
             Some(n) => *n + 1,

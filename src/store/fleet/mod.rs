@@ -62,24 +62,7 @@ impl From<serde_json::Error> for FleetError {
     }
 }
 
-/// A bench code: 2 to 8 capital letters or digits, starting with a letter (the fleet's
-/// `fleet_benches` checks the same). Lower case is taken and made upper case.
-pub fn check_bench_code(text: &str) -> Result<String, String> {
-    let code = text.trim().to_ascii_uppercase();
-    let ok = (2..=8).contains(&code.len())
-        && code.starts_with(|c: char| c.is_ascii_uppercase())
-        && code
-            .chars()
-            .all(|c| c.is_ascii_uppercase() || c.is_ascii_digit());
-    if ok {
-        Ok(code)
-    } else {
-        Err(format!(
-            "bench code \"{}\": expected 2 to 8 letters or digits, starting with a letter (e.g. NORTH, LAB2)",
-            text.trim()
-        ))
-    }
-}
+pub use crate::store::check_bench_code;
 
 #[cfg(test)]
 mod tests {

@@ -94,9 +94,10 @@ pub(crate) use facts::{fill_fleet_facts, fleet_facts_problems};
 pub(crate) use read::load;
 pub(crate) use refs::{RefCache, Refs};
 pub(crate) use validate::validate;
+pub use write::check_bench_code;
 pub(crate) use write::{
-    format_reference, insert_new, insert_prepared, next_reference, prepare, reference_prefix,
-    Prepared,
+    bench_code, format_reference, insert_new, insert_prepared, next_reference, prepare,
+    reference_prefix, Prepared,
 };
 
 /// Columns kept for the log and statistics, derived from the aggregate.

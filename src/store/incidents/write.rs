@@ -434,10 +434,38 @@ fn write_rows_with(
     Ok(seq)
 }
 
+/// A bench code: 2 to 8 capital letters or digits, starting with a letter (the fleet's
+/// `fleet_benches` checks the same). Lower case is taken and made upper case.
+pub fn check_bench_code(text: &str) -> Result<String, String> {
+    let code = text.trim().to_ascii_uppercase();
+    let ok = (2..=8).contains(&code.len())
+        && code.starts_with(|c: char| c.is_ascii_uppercase())
+        && code
+            .chars()
+            .all(|c| c.is_ascii_uppercase() || c.is_ascii_digit());
+    if ok {
+        Ok(code)
+    } else {
+        Err(format!(
+            "bench code \"{}\": expected 2 to 8 letters or digits, starting with a letter (e.g. NORTH, LAB2)",
+            text.trim()
+        ))
+    }
+}
+
+/// This bench's code (kept in `meta`), None before one is set.
+pub(crate) fn bench_code(conn: &Connection) -> Result<Option<String>, StoreError> {
+    Ok(conn
+        .query_row("SELECT value FROM meta WHERE key = 'bench_code'", [], |r| {
+            r.get(0)
+        })
+        .optional()?)
+}
+
 /// Next free reference for a date found: "BR-YYMMDD-NNNN", or "BR-CODE-YYMMDD-NNNN" on a
 /// bench with a code (so that no two incidents of a fleet share one).
 pub(crate) fn next_reference(conn: &Connection, found_on: NaiveDate) -> Result<String, StoreError> {
-    let code = crate::store::outbox::bench_code(conn)?;
+    let code = bench_code(conn)?;
     let prefix = reference_prefix(code.as_deref(), found_on);
     let upper = format!("{prefix}~");
     let last: Option<String> = conn
