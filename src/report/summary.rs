@@ -477,7 +477,15 @@ fn hypothesis_section(d: &mut Document, c: &IncidentContent) {
             (
                 "Verdict".to_string(),
                 h.verdict
-                    .clone()
+                    .as_deref()
+                    .map(|v| {
+                        let v = v.trim_end();
+                        if v.ends_with('.') {
+                            v.to_string()
+                        } else {
+                            format!("{v}.")
+                        }
+                    })
                     .unwrap_or_else(|| "no verdict (no measured stress to compare)".into()),
             ),
         ];
