@@ -30,6 +30,8 @@ fn main() {
         paper: Paper::A4,
         exported_at: "2027-03-14 10:00:00 UTC".into(),
         today: report_common::day(2027, 3, 14),
+        key_dir: None,
+        allow_missing_attachments: false,
     };
     let mut best = f64::INFINITY;
     for run in 0..3 {

@@ -6,6 +6,7 @@ use chrono::{NaiveDate, Utc};
 
 use super::codes::{resolve_opt, Field};
 use super::{actor, parse_day, sanitize_for_terminal, CliError, Context};
+use crate::report::bundle::ExpectedKey;
 use crate::store::exchange::ImportOptions;
 use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
 use shardlog_core::text::{clean, stress_or_dash};
@@ -21,6 +22,12 @@ fn work(e: StoreError) -> CliError {
 
 pub(crate) fn open(db: &Path) -> Result<Store, CliError> {
     Store::open_existing(db).map_err(work)
+}
+
+/// Open the database for a command that only reads it (list, show, export, verify, reports,
+/// backup): nothing is written, so it works on a full disk.
+pub(crate) fn open_to_read(db: &Path) -> Result<Store, CliError> {
+    Store::open_for_reading(db).map_err(work)
 }
 
 /// Filters shared by export and list. Each code flag takes a code or its label (a
@@ -117,6 +124,14 @@ pub fn init(_args: InitArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
                 .map(|p| p.display().to_string())
                 .unwrap_or_default()
         )?;
+        if let Some(k) = super::key::ensure_key(&s)? {
+            writeln!(
+                ctx.out,
+                "signing key {} (private key in {})",
+                k.public.fingerprint(),
+                k.private_file.display()
+            )?;
+        }
     }
     Ok(())
 }
@@ -132,6 +147,13 @@ pub struct ImportArgs {
     /// Refuse site, asset, supplier, product and lot codes the database and file do not define.
     #[arg(long)]
     pub strict: bool,
+    /// A folder with the files of the attachment rows, named by their SHA-256 (a database's
+    /// `.files` folder); each is checked against its hash and copied in.
+    #[arg(long, value_name = "DIR")]
+    pub attachments: Option<PathBuf>,
+    /// Import incidents although one with the same asset, position and date found exists.
+    #[arg(long)]
+    pub allow_duplicates: bool,
 }
 
 pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -157,11 +179,14 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let options = ImportOptions {
         dry_run: args.dry_run,
         strict: args.strict,
+        attachments: args.attachments.clone(),
+        allow_duplicates: args.allow_duplicates,
     };
-    match s
-        .import_bytes(&name, &bytes, options, &edge_stamp())
-        .map_err(|e| CliError::work(format!("{name}: import failed: {e}")))?
-    {
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let result = s.import_bytes(&name, &bytes, options, &edge_stamp());
+    drop(meter);
+    match result.map_err(|e| CliError::work(format!("{name}: import failed: {e}")))? {
         Ok(sum) => {
             writeln!(
                 ctx.out,
@@ -209,7 +234,7 @@ pub struct ExportArgs {
 }
 
 pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let filter = args.filter.to_filter(&s)?;
     let mut buf: Vec<u8> = Vec::new();
     match args.format {
@@ -224,7 +249,8 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         None => ctx.out.write_all(&buf)?,
         Some(path) => {
             refuse_database_files(&path, &ctx.db, "-o")?;
-            write_whole(&path, &buf)?
+            // an export is a copy of the records: owner-only
+            write_whole(&path, &buf, true)?
         }
     }
     Ok(())
@@ -266,9 +292,9 @@ pub fn refuse_database_files(out: &Path, db: &Path, flag: &str) -> Result<(), Cl
 
 /// Write a file completely under a temporary name in the same folder, flush it, then rename
 /// it into place: a failed or interrupted write never replaces or truncates a good file, and
-/// leaves no temporary file behind.
-pub fn write_whole(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
-    store::write_atomically(path, bytes, false).map_err(|e| {
+/// leaves no temporary file behind. Owner-only (0600) when `private`, else 0644.
+pub fn write_whole(path: &Path, bytes: &[u8], private: bool) -> Result<(), CliError> {
+    store::write_atomically(path, bytes, private).map_err(|e| {
         CliError::work(format!(
             "{}: not written ({e}); a file already there is unchanged",
             path.display()
@@ -385,7 +411,7 @@ fn list_row_text(r: &store::LogRow, names: &Readable) -> String {
 
 pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let limit = if args.all { 0 } else { args.limit };
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let mut filter = args.filter.to_filter(&s)?;
     filter.text = args.search.clone();
     let sort = Sort {
@@ -582,7 +608,7 @@ fn write_examination(
 }
 
 pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let s = open(&ctx.db)?;
+    let s = open_to_read(&ctx.db)?;
     let inc = s.get(&args.reference).map_err(work)?;
     let names = Readable::load(&s)?;
     if args.json {
@@ -712,14 +738,29 @@ pub struct VerifyArgs {
     /// Check a dispute bundle folder instead (and compare it with the database if present).
     #[arg(long, value_name = "DIR")]
     pub bundle: Option<std::path::PathBuf>,
+    /// A head taken earlier (`shardlog key`, a signed export or bundle): the chain must still
+    /// hold HASH at entry SEQ. Repeatable.
+    #[arg(long, value_name = "SEQ:HASH")]
+    pub anchor: Vec<crate::store::Anchor>,
+    /// With --bundle: check the bundle's signature against this key (a fingerprint as
+    /// `shardlog key` prints it, or a public key file), with or without the database.
+    #[arg(long, value_name = "FINGERPRINT|PUBKEYFILE", requires = "bundle")]
+    pub key: Option<String>,
 }
 
 pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(dir) = &args.bundle {
-        return verify_bundle(dir, ctx);
+        return verify_bundle(dir, &args, ctx);
     }
-    let s = open(&ctx.db)?;
-    let r = s.verify().map_err(work)?;
+    let s = open_to_read(&ctx.db)?;
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let r = s.verify();
+    drop(meter);
+    let mut r = r.map_err(work)?;
+    for p in s.check_anchors(&args.anchor).map_err(work)? {
+        r.add_problem(p);
+    }
     if args.json {
         let text =
             serde_json::to_string_pretty(&r).map_err(|e| CliError::work(format!("JSON: {e}")))?;
@@ -733,6 +774,16 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
                     "ok: {} audit rows chain correctly, {} records match their last audited version; head {}",
                     r.audit_rows, r.records_checked, r.head
                 )?;
+                if args.anchor.is_empty() {
+                    writeln!(ctx.out, "note: this proves the file agrees with itself, not that its history was never rewritten; check a head kept elsewhere with --anchor SEQ:HASH or --bundle DIR")?;
+                } else {
+                    writeln!(
+                        ctx.out,
+                        "ok: the chain still holds {} anchor{} taken earlier",
+                        args.anchor.len(),
+                        if args.anchor.len() == 1 { "" } else { "s" }
+                    )?;
+                }
             }
             Ok(())
         }
@@ -744,14 +795,48 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     }
 }
 
+/// `--key FINGERPRINT|PUBKEYFILE`: an existing file is read as a public key file.
+fn expected_key(text: &str) -> Result<ExpectedKey, CliError> {
+    let path = Path::new(text);
+    let from_file = path.is_file();
+    let parsed = if from_file {
+        let meta =
+            std::fs::metadata(path).map_err(|e| CliError::usage(format!("--key {text}: {e}")))?;
+        if meta.len() > 4096 {
+            return Err(CliError::usage(format!(
+                "--key {text}: not a public key file (larger than 4 KB)"
+            )));
+        }
+        let t = std::fs::read_to_string(path)
+            .map_err(|e| CliError::usage(format!("--key {text}: {e}")))?;
+        ExpectedKey::parse(&t)
+    } else {
+        ExpectedKey::parse(text)
+    };
+    parsed.ok_or_else(|| {
+        CliError::usage(format!(
+            "--key {}: expected a fingerprint as `shardlog key` prints it (32 hex digits, hyphens optional) or a public key file it wrote",
+            clean(text)
+        ))
+    })
+}
+
 /// `verify --bundle DIR`: the bundle alone, and against the database when there is one.
-fn verify_bundle(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
+/// With `--db` or `$SHARDLOG_DB` the database must exist; without them the bundle is
+/// checked alone when the default database is absent.
+fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let key = args.key.as_deref().map(expected_key).transpose()?;
+    if !args.anchor.is_empty() {
+        return Err(CliError::usage(
+            "--anchor checks the database's chain; with --bundle the bundle's own head is the anchor",
+        ));
+    }
     let store = if ctx.db.exists() {
-        Some(open(&ctx.db)?)
+        Some(open_to_read(&ctx.db)?)
     } else {
         None
     };
-    let check = crate::report::verify_bundle(dir, store.as_ref())?;
+    let check = crate::report::bundle::verify_bundle_with(dir, store.as_ref(), key.as_ref())?;
     let shown = clean(&dir.display().to_string());
     writeln!(
         ctx.out,
@@ -770,7 +855,12 @@ fn verify_bundle(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if check.ok() {
         writeln!(
             ctx.out,
-            "ok: every file matches the bundle's digest{}",
+            "ok: every file matches the bundle's digest{}{}",
+            if key.is_some() {
+                ", its head is signed with the expected key"
+            } else {
+                ""
+            },
             if check.compared_with_records {
                 " and the bundle matches the records"
             } else {
@@ -796,10 +886,27 @@ pub struct BackupArgs {
     pub dest: PathBuf,
 }
 
+/// Remove what an interrupted run left beside `target` (a killed backup, bundle or demo),
+/// and say so on stderr, with the space given back.
+pub(crate) fn clear_leftovers(target: &Path) {
+    for (p, bytes) in store::remove_stale_partials(target) {
+        eprintln!(
+            "removed the leftover of an interrupted run: {} ({:.1} MB)",
+            sanitize_for_terminal(&p.display().to_string(), false),
+            bytes as f64 / 1_048_576.0
+        );
+    }
+}
+
 pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     refuse_database_files(&args.dest, &ctx.db, "DEST")?;
-    let s = open(&ctx.db)?;
-    let r = s.backup(&args.dest).map_err(|e| {
+    clear_leftovers(&args.dest);
+    let s = open_to_read(&ctx.db)?;
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let r = s.backup(&args.dest);
+    drop(meter);
+    let r = r.map_err(|e| {
         CliError::work(format!(
             "backup to {} failed: {e}; nothing was left at {0}",
             args.dest.display()
@@ -848,15 +955,25 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             args.out.display()
         )));
     }
+    clear_leftovers(&args.out);
     let started = std::time::Instant::now();
-    let sum = crate::demo::generate(
+    let meter = super::progress::Meter::on_stderr();
+    let mut tell = meter.as_ref().map(|m| m.callback());
+    let sum = crate::demo::generate_told(
         &args.out,
         &crate::demo::DemoOptions {
             incidents: args.incidents,
             seed: args.seed,
         },
-    )
-    .map_err(work)?;
+        &mut |p| {
+            if let Some(t) = tell.as_mut() {
+                t(p)
+            }
+        },
+    );
+    drop(tell);
+    drop(meter);
+    let sum = sum.map_err(work)?;
     writeln!(
         ctx.out,
         "wrote {}: {} incidents, {} examinations, {} custody entries, {} attachments, {} exposure rows ({:.1} s)",

@@ -3,7 +3,7 @@
 use std::path::{Path, PathBuf};
 
 use super::codes::{resolve, resolve_opt, Field};
-use super::records::{open, write_whole};
+use super::records::{open_to_read, write_whole};
 use super::{parse_day, CliError, Context};
 use crate::report::{self, source, summary, Format, Paper};
 
@@ -38,7 +38,9 @@ pub(crate) fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), CliError> {
             path.display()
         )));
     }
-    write_whole(path, bytes)
+    // one incident's summary, made to be handed on: readable by others, writable by no one
+    // but its owner
+    write_whole(path, bytes, false)
 }
 
 pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -47,18 +49,21 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             "--output FILE is needed for PDF and HTML (they are not for the terminal)",
         ));
     }
-    let store = open(&ctx.db)?;
+    let store = open_to_read(&ctx.db)?;
     let inc = store
         .get(&args.reference)
         .map_err(|e| CliError::work(e.to_string()))?;
     let labels = source::Labels::load(&store).map_err(|e| CliError::work(e.to_string()))?;
     let (content, pictures) = source::incident_content(&store, &labels, &inc)
         .map_err(|e| CliError::work(e.to_string()))?;
-    let head = store
-        .audit_head()
+    let (seq, head) = store
+        .audit_head_entry()
         .map_err(|e| CliError::work(e.to_string()))?;
-    let proof = summary::proof_for(&content, Some(head), &now_text())
+    let mut proof = summary::proof_for(&content, Some(head.clone()), &now_text())
         .map_err(|e| CliError::work(format!("summary content: {e}")))?;
+    proof.signed_head = store
+        .sign_head_at(&super::key::key_dir(), seq, &head, &proof.content_sha256)
+        .map_err(|e| CliError::work(e.to_string()))?;
     let bytes = summary::render(&content, &proof, &pictures, args.format, args.paper)
         .map_err(|e| CliError::work(format!("summary content: {e}")))?;
     match &args.output {
@@ -104,6 +109,9 @@ pub struct DisputeArgs {
     /// The bundle folder to create (must not exist, or be empty).
     #[arg(short = 'o', long = "output", value_name = "DIR")]
     pub output: PathBuf,
+    /// Write the bundle even if some photos or files are missing; the cover names them.
+    #[arg(long)]
+    pub allow_missing_attachments: bool,
 }
 
 fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>, CliError> {
@@ -120,7 +128,8 @@ fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>
 pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
-    let store = open(&ctx.db)?;
+    let store = open_to_read(&ctx.db)?;
+    super::records::clear_leftovers(&args.output);
     let supplier = resolve(&store, Field::Supplier, "--supplier", &args.supplier)?;
     let lot = resolve_opt(&store, Field::Lot, "--lot", &args.lot)?;
     let mut causes = Vec::new();
@@ -146,8 +155,14 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         paper: args.paper,
         exported_at: now_text(),
         today: chrono::Utc::now().date_naive(),
+        key_dir: Some(super::key::key_dir()),
+        allow_missing_attachments: args.allow_missing_attachments,
     };
-    let w = report::bundle::write_bundle(&store, &opts, &args.output).map_err(CliError::from)?;
+    let meter = super::progress::Meter::on_stderr();
+    store.set_progress(meter.as_ref().map(|m| m.callback()));
+    let w = report::bundle::write_bundle(&store, &opts, &args.output);
+    drop(meter);
+    let w = w.map_err(CliError::from)?;
     writeln!(
         ctx.out,
         "wrote {}: {} incident summaries, {} attachments, {} files",
@@ -158,6 +173,13 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     )?;
     writeln!(ctx.out, "content SHA-256     {}", w.content_sha256)?;
     writeln!(ctx.out, "audit-chain head    {}", w.audit_chain_head)?;
+    if let Some(seq) = w.audit_head_seq {
+        writeln!(ctx.out, "anchor              {seq}:{}", w.audit_chain_head)?;
+    }
+    match &w.signed_head {
+        Some(h) => writeln!(ctx.out, "signed with key     {}", h.fingerprint)?,
+        None => writeln!(ctx.out, "{}", super::key::unsigned_note(&store))?,
+    }
     writeln!(
         ctx.out,
         "check it with: shardlog --db {} verify --bundle {}",

@@ -163,6 +163,10 @@ pub struct Proof {
     pub audit_chain_head: Option<String>,
     pub exported_at: String,
     pub generator: String,
+    /// The audit head signed with the database's key together with `content_sha256`
+    /// (a summary made alone; in a bundle, bundle.json carries the signature).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub signed_head: Option<crate::store::signing::SignedHead>,
 }
 
 impl Proof {
@@ -177,13 +181,29 @@ impl Proof {
             ),
             ("Exported".into(), self.exported_at.clone()),
             ("Produced by".into(), self.generator.clone()),
-            (
-                "How to check".into(),
-                "the SHA-256 is taken over the canonical JSON of this summary's content \
-                 (attachments by their hash); `shardlog verify --bundle` recomputes it"
-                    .into(),
-            ),
         ]
+        .into_iter()
+        .chain(self.signed_head.iter().flat_map(|h| {
+            [
+                ("Anchor (entry:hash)".to_string(), h.anchor()),
+                ("Signed with key".to_string(), h.fingerprint.clone()),
+                (
+                    "Signature (Ed25519)".to_string(),
+                    format!(
+                        "{} {}",
+                        &h.signature[..64.min(h.signature.len())],
+                        h.signature.get(64..).unwrap_or("")
+                    ),
+                ),
+            ]
+        }))
+        .chain([(
+            "How to check".into(),
+            "the SHA-256 is taken over the canonical JSON of this summary's content \
+                 (attachments by their hash); `shardlog verify --bundle` recomputes it"
+                .into(),
+        )])
+        .collect()
     }
 }
 
@@ -880,6 +900,7 @@ pub fn proof_for(
         audit_chain_head: chain_head,
         exported_at: exported_at.to_string(),
         generator: generator(),
+        signed_head: None,
     })
 }
 

@@ -38,6 +38,8 @@ pub struct LoadHypothesis<'a> {
     pub outcome: &'a loads::Outcome,
     /// The verdict against the measured stress, in words, when there is one.
     pub verdict: Option<String>,
+    /// Its inputs as typed, by form key (so that reopening the bench shows them again).
+    pub fields: Vec<(String, String)>,
 }
 
 /// Everything the bench saves into an incident.
@@ -156,6 +158,11 @@ fn load_json(h: &LoadHypothesis) -> serde_json::Value {
         "deflection_m": h.outcome.deflection,
         "warnings": h.outcome.warnings.iter().map(|w| w.message.clone()).collect::<Vec<_>>(),
         "verdict": h.verdict,
+        "fields": h
+            .fields
+            .iter()
+            .map(|(k, v)| (k.clone(), serde_json::Value::String(v.clone())))
+            .collect::<serde_json::Map<String, serde_json::Value>>(),
     })
 }
 

@@ -3,6 +3,22 @@
 
 use chrono::{DateTime, NaiveDate, Utc};
 
+/// The first and last year of the dates shardlog keeps. Every date it writes has four digits
+/// and reads back; a year outside this range is a typing slip, not a breakage on record.
+pub const FIRST_YEAR: i32 = 1900;
+pub const LAST_YEAR: i32 = 2199;
+
+/// Whether a date lies in the range shardlog keeps ([`FIRST_YEAR`] to [`LAST_YEAR`]).
+pub fn date_in_range(d: NaiveDate) -> bool {
+    use chrono::Datelike;
+    (FIRST_YEAR..=LAST_YEAR).contains(&d.year())
+}
+
+/// Why a date outside the range is refused, naming it and the range.
+pub fn out_of_range_message(shown: impl std::fmt::Display) -> String {
+    format!("{shown} is outside the dates shardlog keeps ({FIRST_YEAR}-01-01 to {LAST_YEAR}-12-31)")
+}
+
 /// A time as stored.
 pub(crate) fn fmt_time(at: DateTime<Utc>) -> String {
     use chrono::{Datelike, Timelike};

@@ -29,12 +29,7 @@ fn io_err(path: &Path, e: impl std::fmt::Display) -> StoreError {
 
 fn make_private_dir(dir: &Path) -> Result<(), StoreError> {
     fs::create_dir_all(dir).map_err(|e| io_err(dir, e))?;
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::PermissionsExt;
-        fs::set_permissions(dir, fs::Permissions::from_mode(0o700)).map_err(|e| io_err(dir, e))?;
-    }
-    Ok(())
+    make_dir_private(dir).map_err(|e| io_err(dir, e))
 }
 
 /// Write bytes to `dir/<sha256>` unless already there (through [`write_atomically`], so a
@@ -61,6 +56,85 @@ pub fn temporary_sibling(path: &Path) -> PathBuf {
     path.with_file_name(format!(".{name}.partial-{}-{n}", std::process::id()))
 }
 
+/// Whether the process `pid` still runs (on Unix; elsewhere every process is taken as
+/// running, so nothing is removed).
+fn process_alive(pid: u32) -> bool {
+    if pid == std::process::id() {
+        return true;
+    }
+    #[cfg(unix)]
+    {
+        let Ok(p) = libc::pid_t::try_from(pid) else {
+            return false;
+        };
+        // signal 0: no signal sent, only the check that the process exists
+        if unsafe { libc::kill(p, 0) } == 0 {
+            return true;
+        }
+        std::io::Error::last_os_error().raw_os_error() == Some(libc::EPERM)
+    }
+    #[cfg(not(unix))]
+    {
+        true
+    }
+}
+
+/// The process id in a temporary name of ours, `.NAME.partial-PID…`.
+fn partial_pid(file_name: &str) -> Option<u32> {
+    let rest = file_name.strip_prefix('.')?;
+    let at = rest.find(".partial-")?;
+    let digits: String = rest[at + ".partial-".len()..]
+        .chars()
+        .take_while(char::is_ascii_digit)
+        .collect();
+    digits.parse().ok()
+}
+
+fn size_of(path: &Path) -> u64 {
+    match fs::symlink_metadata(path) {
+        Ok(m) if m.is_dir() => fs::read_dir(path)
+            .map(|rd| rd.flatten().map(|e| size_of(&e.path())).sum())
+            .unwrap_or(0),
+        Ok(m) => m.len(),
+        Err(_) => 0,
+    }
+}
+
+/// Remove what an interrupted run of shardlog left in the folder `target` is written to:
+/// hidden `.NAME.partial-PID…` files and folders (a backup's copy, a bundle under way, a
+/// demo database, an export) whose process no longer runs. Returns each one removed with
+/// its size in bytes, for the message that says so. Others' leftovers under way are kept.
+pub fn remove_stale_partials(target: &Path) -> Vec<(PathBuf, u64)> {
+    let dir = match target.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let Ok(entries) = fs::read_dir(&dir) else {
+        return Vec::new();
+    };
+    let mut removed = Vec::new();
+    for e in entries.flatten() {
+        let name = e.file_name().to_string_lossy().into_owned();
+        let Some(pid) = partial_pid(&name) else {
+            continue;
+        };
+        if process_alive(pid) {
+            continue;
+        }
+        let p = e.path();
+        let size = size_of(&p);
+        let gone = match e.file_type() {
+            Ok(t) if t.is_dir() => fs::remove_dir_all(&p),
+            _ => fs::remove_file(&p),
+        };
+        if gone.is_ok() {
+            removed.push((p, size));
+        }
+    }
+    removed.sort();
+    removed
+}
+
 /// Flush a folder's entries (a rename in it) to the disk. A no-op where folders cannot be
 /// opened (Windows).
 pub fn sync_dir(dir: &Path) -> std::io::Result<()> {
@@ -80,20 +154,55 @@ pub fn sync_dir(dir: &Path) -> std::io::Result<()> {
     }
 }
 
-/// Create `path` new (it must not exist), write `bytes`, flush them to the disk. Owner-only
-/// when `private`. On failure the partial file is removed.
+/// The mode of a file the tool writes: owner-only (0600) when `private`, else readable by
+/// all and writable by its owner only (0644). Set on the open file, so the umask cannot
+/// widen it; nothing shardlog writes is ever group- or world-writable.
+pub fn file_mode(private: bool) -> u32 {
+    if private {
+        0o600
+    } else {
+        0o644
+    }
+}
+
+/// Give a folder the tool made the owner-only mode (0700), whatever the umask.
+pub fn make_dir_private(dir: &Path) -> std::io::Result<()> {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        fs::set_permissions(dir, fs::Permissions::from_mode(0o700))
+    }
+    #[cfg(not(unix))]
+    {
+        let _ = dir;
+        Ok(())
+    }
+}
+
+/// Create `path` new (it must not exist), write `bytes`, flush them to the disk. The mode is
+/// [`file_mode`]: owner-only when `private`. On failure the partial file is removed.
 pub fn write_new_synced(path: &Path, bytes: &[u8], private: bool) -> std::io::Result<()> {
     let mut opts = fs::OpenOptions::new();
     opts.write(true).create_new(true);
     #[cfg(unix)]
     {
         use std::os::unix::fs::OpenOptionsExt;
-        opts.mode(if private { 0o600 } else { 0o666 });
+        opts.mode(0o600);
     }
-    #[cfg(not(unix))]
-    let _ = private;
     let mut f = opts.open(path)?;
-    let r = f.write_all(bytes).and_then(|()| f.sync_all());
+    #[cfg(unix)]
+    let r = {
+        use std::os::unix::fs::PermissionsExt;
+        f.set_permissions(fs::Permissions::from_mode(file_mode(private)))
+    };
+    #[cfg(not(unix))]
+    let r = {
+        let _ = private;
+        Ok(())
+    };
+    let r = r
+        .and_then(|()| f.write_all(bytes))
+        .and_then(|()| f.sync_all());
     if r.is_err() {
         drop(f);
         let _ = fs::remove_file(path);
@@ -153,17 +262,22 @@ impl Store {
         caption: &str,
         stamp: &Stamp,
     ) -> Result<Incident, StoreError> {
-        let meta = fs::metadata(file).map_err(|e| io_err(file, e))?;
-        if !meta.is_file() {
-            return Err(io_err(file, "is not a file"));
-        }
-        if meta.len() > MAX_ATTACHMENT_BYTES {
-            return Err(io_err(
-                file,
-                format!("is larger than {} MB", MAX_ATTACHMENT_BYTES / (1024 * 1024)),
-            ));
-        }
-        let bytes = fs::read(file).map_err(|e| io_err(file, e))?;
+        // only a regular file, never what a link points to (a link to a private file would
+        // otherwise be copied in and later handed out in a bundle), never past the limit
+        let bytes =
+            super::safe_file::read_regular(file, MAX_ATTACHMENT_BYTES).map_err(|e| match e {
+                super::safe_file::SafeReadError::TooLarge { .. } => io_err(
+                    file,
+                    format!("is larger than {} MB", MAX_ATTACHMENT_BYTES / (1024 * 1024)),
+                ),
+                other => StoreError::File {
+                    path: file.display().to_string(),
+                    message: other
+                        .to_string()
+                        .trim_start_matches(&format!("{}: ", file.display()))
+                        .to_string(),
+                },
+            })?;
         let name = file
             .file_name()
             .map(|n| n.to_string_lossy().into_owned())

@@ -608,6 +608,14 @@ impl VerifyReport {
     pub fn ok(&self) -> bool {
         self.first_problem.is_none()
     }
+
+    /// Count one more problem (found outside the store's own checks, e.g. an anchor).
+    pub fn add_problem(&mut self, msg: String) {
+        if self.first_problem.is_none() {
+            self.first_problem = Some(msg);
+        }
+        self.problems += 1;
+    }
 }
 
 impl FleetRow {

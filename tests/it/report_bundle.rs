@@ -295,17 +295,35 @@ fn each_kind_of_edit_is_found() {
     for (path, bytes) in bundle::render_files(&bf.content, &pictures, 2) {
         std::fs::write(d.join(&path), bytes).unwrap();
     }
+    // the forger cannot sign the new content: with the signature kept it fails alone
+    rewrite_consistently(&d, bf.clone());
+    let signed = bundle::verify_bundle(&d, None).unwrap();
+    assert!(
+        signed
+            .problems
+            .iter()
+            .any(|p| p.contains("the signature was made for other content")),
+        "{:?}",
+        signed.problems
+    );
+    // so it drops the signature
+    bf.signed_head = None;
     rewrite_consistently(&d, bf);
     let alone = bundle::verify_bundle(&d, None).unwrap();
     assert!(
         alone.ok(),
-        "a consistent forgery passes without the records: {:?}",
+        "a consistent, unsigned forgery passes without the records: {:?}",
         alone.problems
+    );
+    assert!(
+        alone.notes.iter().any(|n| n.contains("not signed")),
+        "{:?}",
+        alone.notes
     );
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
     assert!(
-        out.contains(&format!("incident {victim}: matches the bundle's selection in the records but is missing from the bundle")),
+        out.contains(&format!("incident {victim}: matched the bundle's selection in the records as they stood at its head")),
         "{out}"
     );
 

@@ -201,7 +201,19 @@ fn export_round_trip_verify_tamper_and_backup() {
     let copy = dir.path().join("copy.db");
     let c = copy.to_str().unwrap();
     assert!(run(&["--db", c, "init"]).status.success());
+    // the attachment rows need their files: refused without them, checked and copied with
     let o = run(&["--db", c, "import", out.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(err(&o).contains("--attachments"), "{}", err(&o));
+    let files = format!("{d}.files");
+    let o = run(&[
+        "--db",
+        c,
+        "import",
+        out.to_str().unwrap(),
+        "--attachments",
+        &files,
+    ]);
     assert!(o.status.success(), "{}", err(&o));
     let again = run(&["--db", c, "export", "--format", "json"]);
     assert_eq!(again.stdout, std::fs::read(&out).unwrap());

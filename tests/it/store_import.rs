@@ -41,7 +41,9 @@ fn json_round_trip_is_identical() {
     assert!(first.contains("\"custody\""));
     assert!(first.contains("\"sha256\""));
     let mut dst = Store::open(&dir.path().join("copy.db")).unwrap();
-    let sum = dst
+    // JSON carries attachments by hash: without their files the import is refused, with
+    // the source's attachment folder they are checked and copied in
+    let refused = dst
         .import_bytes(
             "x.json",
             first.as_bytes(),
@@ -49,29 +51,21 @@ fn json_round_trip_is_identical() {
             &stamp(),
         )
         .unwrap()
+        .unwrap_err();
+    assert!(refused.to_string().contains("--attachments"), "{refused}");
+    let mut src_files = src_path.as_os_str().to_os_string();
+    src_files.push(".files");
+    let with_files = ImportOptions {
+        attachments: Some(std::path::PathBuf::from(src_files)),
+        ..ImportOptions::default()
+    };
+    let sum = dst
+        .import_bytes("x.json", first.as_bytes(), with_files, &stamp())
+        .unwrap()
         .unwrap();
     assert_eq!(sum.incidents, 80);
     let second = dst.export_json(&Filter::default()).unwrap();
     assert!(first == second, "export after import differs");
-    // JSON carries attachments by hash; until their files are copied beside the new
-    // database, verify reports the evidence as missing
-    let missing = dst.verify().unwrap();
-    assert!(!missing.ok());
-    assert!(
-        missing
-            .first_problem
-            .as_deref()
-            .is_some_and(|p| p.contains("attachment")),
-        "{missing:?}"
-    );
-    let mut src_files = src_path.as_os_str().to_os_string();
-    src_files.push(".files");
-    let dst_files = dir.path().join("copy.db.files");
-    std::fs::create_dir_all(&dst_files).unwrap();
-    for e in std::fs::read_dir(std::path::PathBuf::from(src_files)).unwrap() {
-        let e = e.unwrap();
-        std::fs::copy(e.path(), dst_files.join(e.file_name())).unwrap();
-    }
     assert!(dst.verify().unwrap().ok());
     // the imported records carry the importer in their history
     let any = &dst
@@ -97,7 +91,8 @@ fn csv_round_trip_is_identical_for_its_columns() {
     let mut second = Vec::new();
     dst.export_csv(&Filter::default(), &mut second).unwrap();
     assert_eq!(String::from_utf8(second).unwrap(), text);
-    assert!(dst.verify().unwrap().ok());
+    let r = dst.verify().unwrap();
+    assert!(r.ok(), "{:?}", r.first_problem);
 }
 
 /// CSV export guards text cells a spreadsheet would run as a formula with a leading
@@ -196,7 +191,8 @@ fn csv_export_guards_formulas_and_import_undoes_the_guard() {
     let mut second = Vec::new();
     dst.export_csv(&Filter::default(), &mut second).unwrap();
     assert_eq!(String::from_utf8(second).unwrap(), text);
-    assert!(dst.verify().unwrap().ok());
+    let r = dst.verify().unwrap();
+    assert!(r.ok(), "{:?}", r.first_problem);
 }
 
 /// Split one CSV line (quoted fields without newlines) for the test above.
@@ -467,7 +463,7 @@ fn problems_after_a_multi_line_cell_name_the_physical_line() {
         .unwrap_err();
     let all: Vec<String> = rej.problems.iter().map(|p| p.to_string()).collect();
     assert_eq!(all.len(), 1, "{all:?}");
-    assert!(all[0].starts_with("line 6: status: "), "{all:?}");
+    assert!(all[0].starts_with("line 6, column status: "), "{all:?}");
     assert_eq!(s.incident_count().unwrap(), 0);
 }
 

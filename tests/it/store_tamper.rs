@@ -325,7 +325,8 @@ fn bulk_loaded_records_are_checked_and_have_history() {
         "demo.json",
         json.as_bytes(),
         shardlog::store::exchange::ImportOptions::default(),
-        &stamp("2026-10-01T10:00:00Z"),
+        // after the demo's last record: an import refuses records made after its own time
+        &stamp("2026-12-01T10:00:00Z"),
     )
     .unwrap()
     .unwrap();

@@ -9,6 +9,7 @@
 //! - [`special`]: incomplete gamma and beta functions and their quantiles.
 
 pub mod group;
+pub mod pivotal;
 pub mod query;
 pub mod rates;
 pub mod special;
@@ -25,7 +26,9 @@ pub use trend::{
     group_trends, monthly_counts, seasonality, seasonality_of_months, trend, GroupTrend,
     MonthCount, Seasonality, Trend,
 };
-pub use weibull::{fit, fit_population, fit_values, Interval, Specimen, WeibullError, WeibullFit};
+pub use weibull::{
+    fit, fit_population, fit_values, BoundMethod, Interval, Specimen, WeibullError, WeibullFit,
+};
 
 /// The one word that marks a group significantly above the rest of the fleet (exact test,
 /// Holm-adjusted), in the command line, the interface and the reports alike.

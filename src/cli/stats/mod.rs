@@ -404,8 +404,8 @@ fn readable(
 
 pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let mut q = query_from_args(&args)?;
-    let store =
-        crate::store::Store::open_existing(&ctx.db).map_err(|e| CliError::work(e.to_string()))?;
+    let store = crate::store::Store::open_for_reading(&ctx.db)
+        .map_err(|e| CliError::work(e.to_string()))?;
     resolve_codes(&store, &mut q)?;
     let (mut incidents, mut exposures) = store
         .stats_input(&q, &[])

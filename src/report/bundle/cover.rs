@@ -584,6 +584,19 @@ fn contents_section(d: &mut Document, c: &BundleContent) {
             "shardlog verify --bundle DIR (add --db FILE to compare with the records)".into(),
         ),
     ]);
+    let missing = super::write::missing_attachments(c);
+    if !missing.is_empty() {
+        let mut lines = vec![format!(
+            "{} attachment file{} not in this bundle (missing from the attachment folder, or no longer matching the hash the record names):",
+            missing.len(),
+            if missing.len() == 1 { " is" } else { "s are" }
+        )];
+        lines.extend(missing);
+        d.push(Block::Boxed {
+            title: "Attachments not included".into(),
+            lines,
+        });
+    }
     d.push(Block::Boxed {
         title: "Cautions".into(),
         lines: CAUTIONS.iter().map(|s| s.to_string()).collect(),
@@ -595,7 +608,10 @@ fn contents_section(d: &mut Document, c: &BundleContent) {
         ),
         (
             "Audit-chain head at export".into(),
-            c.audit_chain_head.clone(),
+            match c.audit_head_seq {
+                Some(seq) => format!("entry {seq}, {}", c.audit_chain_head),
+                None => c.audit_chain_head.clone(),
+            },
         ),
         ("Exported".into(), c.exported_at.clone()),
         ("Produced by".into(), c.generator.clone()),

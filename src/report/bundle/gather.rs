@@ -75,7 +75,7 @@ fn resolve_supplier(s: &Store, wanted: &str) -> Result<store::Supplier, BundleEr
 
 /// The store filters a selection stands for: one per claimed cause (an incident has one
 /// cause, so their matches never overlap), else one.
-fn selection_filters(sel: &Selection) -> Vec<Filter> {
+pub(super) fn selection_filters(sel: &Selection) -> Vec<Filter> {
     let base = Filter {
         supplier: Some(sel.supplier_code.clone()),
         lot: sel.lot.clone(),
@@ -118,7 +118,7 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
     }
     let sup = resolve_supplier(s, &opts.supplier)?;
     let labels = Labels::load(s)?;
-    let head = s.audit_head()?;
+    let (head_seq, head) = s.audit_head_entry()?;
     let selection = Selection {
         supplier_code: sup.code.clone(),
         supplier_name: sup.name.clone(),
@@ -133,7 +133,8 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
     let mut pictures: Pictures = HashMap::new();
     let mut attachments: BTreeMap<String, BundleAttachment> = BTreeMap::new();
     let mut raw = Vec::with_capacity(ids.len());
-    for id in &ids {
+    for (i, id) in ids.iter().enumerate() {
+        s.report_progress("gathering", i as u64, Some(ids.len() as u64));
         let inc = s.get(id)?;
         let (content, pics) = incident_content(s, &labels, &inc)?;
         for a in &content.attachments {
@@ -165,6 +166,7 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
         exported_at: opts.exported_at.clone(),
         generator: summary::generator(),
         audit_chain_head: head,
+        audit_head_seq: Some(head_seq),
         paper: match opts.paper {
             Paper::A4 => "a4".into(),
             Paper::Letter => "letter".into(),

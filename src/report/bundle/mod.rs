@@ -28,11 +28,12 @@ use serde::{Deserialize, Serialize};
 
 use super::doc::Paper;
 use super::summary::IncidentContent;
+use crate::store::signing::SignedHead;
 use crate::store::StoreError;
 
 pub use cover::cover_document;
 pub use gather::{gather, selected_ids};
-pub use verify::{first_difference, verify_bundle, BundleCheck};
+pub use verify::{first_difference, verify_bundle, verify_bundle_with, BundleCheck, ExpectedKey};
 pub use write::{figures_csv, render_files, write_bundle};
 
 pub const BUNDLE_FORMAT: &str = "shardlog dispute bundle 1";
@@ -55,6 +56,12 @@ pub struct DisputeOptions {
     /// exposure window when no --until is given). Passed in: the report code reads no clock.
     pub exported_at: String,
     pub today: NaiveDate,
+    /// The folder of the database's private key: the bundle's audit head is signed with it
+    /// when it holds the key. None: not signed.
+    pub key_dir: Option<PathBuf>,
+    /// Write the bundle even when some attachment's file is missing or no longer matches
+    /// its hash; the cover then names each one. Without it such a bundle is refused.
+    pub allow_missing_attachments: bool,
 }
 
 /// Which incidents the bundle holds: every field that chose them, in one place, so that
@@ -231,6 +238,10 @@ pub struct BundleContent {
     pub exported_at: String,
     pub generator: String,
     pub audit_chain_head: String,
+    /// Sequence number of the audit row `audit_chain_head` is the hash of (bundles made
+    /// before it was recorded have none).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub audit_head_seq: Option<i64>,
     pub paper: String,
     pub cover: Cover,
     pub incidents: Vec<BundleIncident>,
@@ -251,6 +262,9 @@ pub struct BundleFile {
     pub content_sha256: String,
     pub content: BundleContent,
     pub files: Vec<FileEntry>,
+    /// The audit head signed together with `content_sha256` by the database's key.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub signed_head: Option<SignedHead>,
 }
 
 #[derive(Debug, thiserror::Error)]
@@ -281,4 +295,8 @@ pub struct Written {
     pub files: usize,
     pub content_sha256: String,
     pub audit_chain_head: String,
+    /// The entry number of that head.
+    pub audit_head_seq: Option<i64>,
+    /// The signed head, None when this machine does not hold the database's private key.
+    pub signed_head: Option<SignedHead>,
 }

@@ -137,6 +137,7 @@ fn incident_proof(c: &BundleContent, i: &BundleIncident) -> Proof {
         audit_chain_head: Some(c.audit_chain_head.clone()),
         exported_at: c.exported_at.clone(),
         generator: c.generator.clone(),
+        signed_head: None,
     }
 }
 
@@ -146,6 +147,17 @@ pub fn render_files(
     c: &BundleContent,
     pictures: &Pictures,
     threads: usize,
+) -> Vec<(String, Vec<u8>)> {
+    render_files_told(c, pictures, threads, None)
+}
+
+/// [`render_files`], telling `tell` (done, total) how many summaries are rendered, a few
+/// times a second, from the calling thread.
+pub fn render_files_told(
+    c: &BundleContent,
+    pictures: &Pictures,
+    threads: usize,
+    mut tell: Option<&mut dyn FnMut(u64, u64)>,
 ) -> Vec<(String, Vec<u8>)> {
     let paper = paper_of(c);
     let cover = cover_document(c);
@@ -162,7 +174,10 @@ pub fn render_files(
     ];
     let threads = threads.clamp(1, 16);
     let chunk = c.incidents.len().div_ceil(threads).max(1);
+    let total = c.incidents.len() as u64;
+    let done = std::sync::atomic::AtomicU64::new(0);
     let rendered: Vec<Vec<(String, Vec<u8>)>> = std::thread::scope(|scope| {
+        let done = &done;
         let handles: Vec<_> = c
             .incidents
             .chunks(chunk)
@@ -172,12 +187,20 @@ pub fn render_files(
                         .map(|i| {
                             let doc =
                                 summary::document(&i.content, &incident_proof(c, i), pictures);
-                            (i.file.clone(), crate::report::pdf::render(&doc, paper))
+                            let file = (i.file.clone(), crate::report::pdf::render(&doc, paper));
+                            done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                            file
                         })
                         .collect::<Vec<_>>()
                 })
             })
             .collect();
+        if let Some(tell) = tell.as_mut() {
+            while handles.iter().any(|h| !h.is_finished()) {
+                tell(done.load(std::sync::atomic::Ordering::Relaxed), total);
+                std::thread::sleep(std::time::Duration::from_millis(50));
+            }
+        }
         handles
             .into_iter()
             .map(|h| h.join().unwrap_or_default())
@@ -229,7 +252,21 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
                 .unwrap_or_default()
         )));
     }
-    let files = render_files(&content, &pictures, threads());
+    let missing = missing_attachments(&content);
+    if !missing.is_empty() && !opts.allow_missing_attachments {
+        return Err(BundleError::Io {
+            path: dir.display().to_string(),
+            message: format!(
+                "not written: {} attachment file{} missing or changed ({}); restore them, or pass --allow-missing-attachments to write the bundle without them (its cover then names each one)",
+                missing.len(),
+                if missing.len() == 1 { " is" } else { "s are" },
+                missing.join("; ")
+            ),
+        });
+    }
+    let signed_head = sign(s, opts, &content)?;
+    let mut tell = |done: u64, total: u64| s.report_progress("rendering", done, Some(total));
+    let files = render_files_told(&content, &pictures, threads(), Some(&mut tell));
     let parent = match dir.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),
@@ -240,13 +277,16 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         .unwrap_or_else(|| "bundle".into());
     let tmp = parent.join(format!(".{name}.partial-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&tmp);
-    std::fs::create_dir_all(tmp.join("incidents")).map_err(|e| io(&tmp, e))?;
-    std::fs::create_dir_all(tmp.join("attachments")).map_err(|e| io(&tmp, e))?;
+    // the bundle holds copies of the records and photos: owner-only, whatever the umask
+    for d in [tmp.clone(), tmp.join("incidents"), tmp.join("attachments")] {
+        std::fs::create_dir_all(&d).map_err(|e| io(&d, e))?;
+        crate::store::make_dir_private(&d).map_err(|e| io(&d, e))?;
+    }
     let mut entries = Vec::with_capacity(files.len());
     let result = (|| -> Result<(), BundleError> {
         for (path, bytes) in &files {
             let p = tmp.join(path);
-            crate::store::write_new_synced(&p, bytes, false).map_err(|e| io(&p, e))?;
+            crate::store::write_new_synced(&p, bytes, true).map_err(|e| io(&p, e))?;
             entries.push(FileEntry {
                 path: path.clone(),
                 sha256: sha256_hex(bytes),
@@ -260,11 +300,12 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
             content_sha256,
             content: content.clone(),
             files: entries.clone(),
+            signed_head: signed_head.clone(),
         };
         let mut json = serde_json::to_string_pretty(&bf)?;
         json.push('\n');
         let p = tmp.join("bundle.json");
-        crate::store::write_new_synced(&p, json.as_bytes(), false).map_err(|e| io(&p, e))?;
+        crate::store::write_new_synced(&p, json.as_bytes(), true).map_err(|e| io(&p, e))?;
         for d in [tmp.join("incidents"), tmp.join("attachments"), tmp.clone()] {
             crate::store::sync_dir(&d).map_err(|e| io(&d, e))?;
         }
@@ -305,7 +346,31 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         files: entries.len() + 1,
         content_sha256: digest(&content, Numbers::Shortest)?,
         audit_chain_head: content.audit_chain_head.clone(),
+        audit_head_seq: content.audit_head_seq,
+        signed_head,
     })
+}
+
+/// The bundle's audit head signed with its content digest, when the key is here.
+fn sign(
+    s: &Store,
+    opts: &DisputeOptions,
+    content: &BundleContent,
+) -> Result<Option<crate::store::signing::SignedHead>, BundleError> {
+    let (Some(dir), Some(seq)) = (&opts.key_dir, content.audit_head_seq) else {
+        return Ok(None);
+    };
+    let content_sha256 = digest(content, Numbers::Shortest)?;
+    Ok(s.sign_head_at(dir, seq, &content.audit_chain_head, &content_sha256)?)
+}
+
+/// Each attachment of the content whose file is not in the bundle, named with its hash.
+pub(crate) fn missing_attachments(c: &BundleContent) -> Vec<String> {
+    c.attachments
+        .iter()
+        .filter(|a| a.file.is_none())
+        .map(|a| format!("{} (SHA-256 {})", a.name, a.sha256))
+        .collect()
 }
 
 #[cfg(test)]

@@ -28,6 +28,10 @@ pub fn parse_json(bytes: &[u8]) -> Result<ExportDoc, Vec<Problem>> {
             "is empty; expected a shardlog JSON export",
         )]);
     }
+    let repeated = repeated_keys(text);
+    if !repeated.is_empty() {
+        return Err(repeated);
+    }
     let v: Value = serde_json::from_str(text).map_err(|e| {
         vec![Problem::new(
             format!("line {}, column {}", e.line(), e.column()),
@@ -118,4 +122,96 @@ fn section<T: serde::de::DeserializeOwned>(
         Some(_) => problems.push(Problem::new(name, "expected an array")),
     }
     out
+}
+
+/// Every key that appears twice in one object, by its JSON path. A JSON reader keeps only
+/// one of them (serde keeps the last), so a repeated key could hide a record or a section
+/// from whoever reads the file by eye; such a file is refused rather than guessed at.
+/// Text that is not JSON at all gives nothing here (the parser after this names the place).
+fn repeated_keys(text: &str) -> Vec<Problem> {
+    let found = std::cell::RefCell::new(Vec::new());
+    let mut de = serde_json::Deserializer::from_str(text);
+    let _ = serde::de::DeserializeSeed::deserialize(
+        KeyWalk {
+            path: String::new(),
+            found: &found,
+        },
+        &mut de,
+    );
+    found.into_inner()
+}
+
+/// A walk over a JSON value that notes repeated keys, keeping nothing else.
+struct KeyWalk<'a> {
+    path: String,
+    found: &'a std::cell::RefCell<Vec<Problem>>,
+}
+
+impl KeyWalk<'_> {
+    fn child(&self, step: String) -> KeyWalk<'_> {
+        KeyWalk {
+            path: step,
+            found: self.found,
+        }
+    }
+}
+
+impl<'de> serde::de::DeserializeSeed<'de> for KeyWalk<'_> {
+    type Value = ();
+    fn deserialize<D: serde::Deserializer<'de>>(self, d: D) -> Result<(), D::Error> {
+        d.deserialize_any(self)
+    }
+}
+
+impl<'de> serde::de::Visitor<'de> for KeyWalk<'_> {
+    type Value = ();
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        f.write_str("any JSON value")
+    }
+    fn visit_bool<E>(self, _: bool) -> Result<(), E> {
+        Ok(())
+    }
+    fn visit_i64<E>(self, _: i64) -> Result<(), E> {
+        Ok(())
+    }
+    fn visit_u64<E>(self, _: u64) -> Result<(), E> {
+        Ok(())
+    }
+    fn visit_f64<E>(self, _: f64) -> Result<(), E> {
+        Ok(())
+    }
+    fn visit_str<E>(self, _: &str) -> Result<(), E> {
+        Ok(())
+    }
+    fn visit_unit<E>(self) -> Result<(), E> {
+        Ok(())
+    }
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut seq: A) -> Result<(), A::Error> {
+        let mut i = 0usize;
+        while seq
+            .next_element_seed(self.child(format!("{}[{i}]", self.path)))?
+            .is_some()
+        {
+            i += 1;
+        }
+        Ok(())
+    }
+    fn visit_map<A: serde::de::MapAccess<'de>>(self, mut map: A) -> Result<(), A::Error> {
+        let mut keys = std::collections::HashSet::new();
+        while let Some(key) = map.next_key::<String>()? {
+            let path = if self.path.is_empty() {
+                key.clone()
+            } else {
+                format!("{}.{key}", self.path)
+            };
+            if !keys.insert(key.clone()) {
+                self.found.borrow_mut().push(Problem::new(
+                    path.clone(),
+                    format!("the key \"{key}\" appears twice in one object; a file must say each thing once"),
+                ));
+            }
+            map.next_value_seed(self.child(path))?;
+        }
+        Ok(())
+    }
 }

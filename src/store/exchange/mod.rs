@@ -11,12 +11,16 @@ use serde::{Deserialize, Serialize};
 
 use super::model::*;
 
+mod admission;
 mod csv;
 mod export;
+mod exposure;
 mod import;
 mod json;
+mod onepass;
 
 pub use csv::{csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS};
+pub use exposure::{exposure_csv_row, EXPOSURE_COLUMNS};
 pub use json::parse_json;
 
 /// The `format` field of a JSON export.
@@ -91,13 +95,19 @@ impl std::fmt::Display for Problem {
 }
 
 /// How to import.
-#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
 pub struct ImportOptions {
     /// Check and report, write nothing.
     pub dry_run: bool,
     /// Refuse codes (site, asset, supplier, product, lot) that are neither in the database
     /// nor in the file, instead of creating them.
     pub strict: bool,
+    /// A folder holding the files of the attachment rows (named by their SHA-256, as in an
+    /// attachment folder); without it, attachment rows are refused.
+    pub attachments: Option<std::path::PathBuf>,
+    /// Import an incident although one with the same asset, position and date found is
+    /// already recorded (or earlier in the file); otherwise that is a problem of its line.
+    pub allow_duplicates: bool,
 }
 
 /// What an import did (or would do, in a dry run).

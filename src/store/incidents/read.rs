@@ -332,6 +332,13 @@ impl Store {
         }
     }
 
+    /// Every incident's reference (the checks of an import).
+    pub(crate) fn all_references(&self) -> Result<Vec<String>, StoreError> {
+        let mut stmt = self.conn.prepare("SELECT reference FROM incidents")?;
+        let rows = stmt.query_map([], |r| r.get::<_, String>(0))?;
+        Ok(rows.collect::<Result<_, _>>()?)
+    }
+
     /// Number of incidents in the database.
     pub fn incident_count(&self) -> Result<u64, StoreError> {
         Ok(self

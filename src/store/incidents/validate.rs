@@ -3,8 +3,27 @@
 
 use std::collections::HashSet;
 
+use chrono::{DateTime, NaiveDate, Utc};
+
+use crate::store::dates::{date_in_range, out_of_range_message};
 use crate::store::model::*;
 use crate::store::Store;
+
+/// A date within the range the store keeps (what it writes, it must read back).
+fn in_range(problems: &mut Vec<(String, String)>, field: &str, d: Option<NaiveDate>) {
+    if let Some(d) = d {
+        if !date_in_range(d) {
+            problems.push((field.to_string(), out_of_range_message(d)));
+        }
+    }
+}
+
+/// A time whose day is within the range the store keeps.
+fn time_in_range(problems: &mut Vec<(String, String)>, field: &str, t: DateTime<Utc>) {
+    if !date_in_range(t.date_naive()) {
+        problems.push((field.to_string(), out_of_range_message(t.to_rfc3339())));
+    }
+}
 
 fn finite(problems: &mut Vec<(String, String)>, field: &str, x: Option<f64>) {
     if let Some(v) = x {
@@ -85,6 +104,10 @@ fn check_record(lookups: &Lookups, p: &mut Vec<(String, String)>, inc: &Incident
         LookupKind::Makeup,
         Some(&inc.glass.makeup),
     );
+    in_range(p, "found_on", Some(inc.found_on));
+    in_range(p, "broken_on", inc.broken_on);
+    time_in_range(p, "created_at", inc.created_at);
+    time_in_range(p, "updated_at", inc.updated_at);
     if let Some(b) = inc.broken_on {
         if b > inc.found_on {
             p.push(("broken_on".into(), "is after the date found".into()));
@@ -177,6 +200,10 @@ fn check_examinations(
         if !e.id.is_empty() && !ids.insert(e.id.clone()) {
             p.push((format!("{f}.id"), "is used twice".into()));
         }
+        in_range(p, &format!("{f}.examined_on"), e.examined_on);
+        if let Some(r) = &e.result {
+            time_in_range(p, &format!("{f}.result.computed_at"), r.computed_at);
+        }
         check_code(
             lookups,
             p,
@@ -239,6 +266,7 @@ fn check_custody_and_attachments(
         if !c.id.is_empty() && !ids.insert(c.id.clone()) {
             p.push((format!("{f}.id"), "is used twice".into()));
         }
+        time_in_range(p, &format!("{f}.at"), c.at);
         check_code(
             lookups,
             p,
@@ -269,6 +297,7 @@ fn check_custody_and_attachments(
                 "must be 64 lower-case hex digits".into(),
             ));
         }
+        time_in_range(p, &format!("{f}.added_at"), a.added_at);
         if a.size_bytes < 0 {
             p.push((format!("{f}.size_bytes"), "must not be negative".into()));
         }

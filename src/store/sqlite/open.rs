@@ -97,6 +97,74 @@ pub fn open_checked(path: &Path, create: bool) -> Result<(Connection, i64), Stor
     Ok((conn, version))
 }
 
+/// Open an existing file for reading only: nothing is created, switched or written, so a
+/// full disk (or a file-size limit) does not stop `list`, `show`, `export` or `verify`.
+/// Where SQLite cannot even size its shared-memory index beside the file, and no write is
+/// pending in the WAL, the file is read as it is on disk (immutable). Returns the
+/// connection and the schema version found.
+pub fn open_for_reading(path: &Path) -> Result<(Connection, i64), StoreError> {
+    let shown = path.display().to_string();
+    if !path.exists() {
+        return Err(StoreError::Missing { path: shown });
+    }
+    let open_err = |e: rusqlite::Error| StoreError::Open {
+        path: shown.clone(),
+        message: describe(&e),
+    };
+    let plain = Connection::open_with_flags(
+        path,
+        OpenFlags::SQLITE_OPEN_READ_ONLY
+            | OpenFlags::SQLITE_OPEN_URI
+            | OpenFlags::SQLITE_OPEN_NO_MUTEX,
+    )
+    .and_then(|c| {
+        c.busy_timeout(BUSY_TIMEOUT)?;
+        c.query_row("PRAGMA application_id", [], |r| r.get::<_, i64>(0))?;
+        Ok(c)
+    });
+    let conn = match plain {
+        Ok(c) => c,
+        Err(e) => {
+            let mut wal = path.as_os_str().to_os_string();
+            wal.push("-wal");
+            let pending = std::fs::metadata(std::path::PathBuf::from(wal))
+                .map(|m| m.len() > 0)
+                .unwrap_or(false);
+            if pending {
+                return Err(open_err(e));
+            }
+            open_immutable(path).map_err(open_err)?
+        }
+    };
+    let header = |e: rusqlite::Error| match e.sqlite_error_code() {
+        Some(rusqlite::ErrorCode::NotADatabase) => StoreError::NotOurs {
+            path: shown.clone(),
+            why: "it is not an SQLite database".into(),
+        },
+        _ => open_err(e),
+    };
+    let app_id: i64 = conn
+        .query_row("PRAGMA application_id", [], |r| r.get(0))
+        .map_err(header)?;
+    let version: i64 = conn
+        .query_row("PRAGMA user_version", [], |r| r.get(0))
+        .map_err(header)?;
+    if app_id != APPLICATION_ID {
+        return Err(StoreError::NotOurs {
+            path: shown,
+            why: "its application id is not shardlog's".into(),
+        });
+    }
+    if version > SCHEMA_VERSION {
+        return Err(StoreError::TooNew {
+            path: shown,
+            found: version,
+            supported: SCHEMA_VERSION,
+        });
+    }
+    Ok((conn, version))
+}
+
 /// Create an empty file readable by its owner only (SQLite then writes the database into it).
 fn create_owner_only(path: &Path) -> std::io::Result<()> {
     let mut o = std::fs::OpenOptions::new();

@@ -515,10 +515,11 @@ fn weibull(
         });
     let one = |w: &shardlog_core::fleet::WeibullFit| {
         format!(
-            "m = {} (95\u{a0}% {}–{}), σθ = {} MPa, n = {}",
+            "m = {} (95\u{a0}% {}–{} {}), σθ = {} MPa, n = {}",
             fmt_sig(w.modulus, 3),
             fmt_sig(w.modulus_ci95.low, 2),
             fmt_sig(w.modulus_ci95.high, 2),
+            w.modulus_bounds_method.short(),
             fmt_sig(to_mpa(w.scale), 3),
             w.n
         )
