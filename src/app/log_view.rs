@@ -271,42 +271,48 @@ impl LogState {
         self.sort.descending = !self.sort.descending;
     }
 
-    /// Words for the status line: what is filtered (lookup codes shown by their labels).
-    pub fn filter_summary(&self, lists: &super::incident::Lists) -> String {
-        use crate::store::model::LookupKind;
-        let f = &self.filter;
-        let mut parts = Vec::new();
-        let mut add = |k: &str, v: &Option<String>, kind: Option<LookupKind>| {
-            if let Some(v) = v {
-                let shown = match kind {
-                    Some(kind) => lists.label(kind, v),
-                    None => v.clone(),
-                };
-                parts.push(format!("{k} {shown}"));
-            }
+    /// [`LogState::filter_summary`] in at most `width` cells when it can be: the dates as one
+    /// range, then each value shortened with "…" in turn (the dates are never cut).
+    pub fn filter_summary_within(&self, lists: &super::incident::Lists, width: usize) -> String {
+        use shardlog_core::text::{fit, width as cells};
+        let full = self.filter_summary(lists);
+        if cells(&full) <= width {
+            return full;
+        }
+        let undated = Filter {
+            since: None,
+            until: None,
+            ..self.filter.clone()
         };
-        add("status", &f.status, Some(LookupKind::Status));
-        if f.cause.as_deref() == Some(crate::store::model::NO_CAUSE) {
-            add("cause", &Some("none".into()), None);
-        } else {
-            add("cause", &f.cause, Some(LookupKind::CauseCategory));
+        let values = summary_of(&undated, lists);
+        let dates = match (self.filter.since, self.filter.until) {
+            (Some(a), Some(b)) => Some(format!("{a} to {b}")),
+            (Some(a), None) => Some(format!("since {a}")),
+            (None, Some(b)) => Some(format!("until {b}")),
+            (None, None) => None,
+        };
+        let join = |s: &str| match &dates {
+            Some(d) if s.is_empty() => d.clone(),
+            Some(d) => format!("{s}, {d}"),
+            None => s.to_string(),
+        };
+        let mut short = values.clone();
+        let mut limit = 24usize;
+        while cells(&join(&short)) > width && limit > 6 {
+            short = values
+                .split(", ")
+                .map(|p| fit(p, limit))
+                .collect::<Vec<_>>()
+                .join(", ");
+            limit -= 2;
         }
-        add("origin", &f.origin_type, Some(LookupKind::OriginType));
-        add("supplier", &f.supplier, None);
-        add("lot", &f.lot, None);
-        add("site", &f.site, None);
-        if let Some(d) = f.since {
-            parts.push(format!("since {d}"));
-        }
-        if let Some(d) = f.until {
-            parts.push(format!("until {d}"));
-        }
-        if let Some(t) = &f.text {
-            parts.push(format!("text \"{t}\""));
-        }
-        parts.join(", ")
+        join(&short)
     }
 
+    /// Words for the status line: what is filtered (lookup codes shown by their labels).
+    pub fn filter_summary(&self, lists: &super::incident::Lists) -> String {
+        summary_of(&self.filter, lists)
+    }
     pub fn sort_label(&self) -> String {
         let col = match self.sort.column {
             SortColumn::Found => "date found",
@@ -321,4 +327,40 @@ impl LogState {
         };
         format!("{col} {dir}")
     }
+}
+
+/// Words for a filter: what is filtered (lookup codes shown by their labels).
+fn summary_of(f: &Filter, lists: &super::incident::Lists) -> String {
+    use crate::store::model::LookupKind;
+
+    let mut parts = Vec::new();
+    let mut add = |k: &str, v: &Option<String>, kind: Option<LookupKind>| {
+        if let Some(v) = v {
+            let shown = match kind {
+                Some(kind) => lists.label(kind, v),
+                None => v.clone(),
+            };
+            parts.push(format!("{k} {shown}"));
+        }
+    };
+    add("status", &f.status, Some(LookupKind::Status));
+    if f.cause.as_deref() == Some(crate::store::model::NO_CAUSE) {
+        add("cause", &Some("none".into()), None);
+    } else {
+        add("cause", &f.cause, Some(LookupKind::CauseCategory));
+    }
+    add("origin", &f.origin_type, Some(LookupKind::OriginType));
+    add("supplier", &f.supplier, None);
+    add("lot", &f.lot, None);
+    add("site", &f.site, None);
+    if let Some(d) = f.since {
+        parts.push(format!("since {d}"));
+    }
+    if let Some(d) = f.until {
+        parts.push(format!("until {d}"));
+    }
+    if let Some(t) = &f.text {
+        parts.push(format!("text \"{t}\""));
+    }
+    parts.join(", ")
 }

@@ -274,7 +274,11 @@ fn histogram(
     let lo = bins.iter().map(|b| b.0).fold(f64::INFINITY, f64::min);
     let hi = bins.iter().map(|b| b.1).fold(f64::NEG_INFINITY, f64::max);
     let max = bins.iter().map(|b| b.2).max().unwrap_or(1).max(1);
-    let yt = nice_ticks(0.0, f64::from(max), 4);
+    // counts are whole: no tick at 0.5
+    let yt: Vec<f64> = nice_ticks(0.0, f64::from(max), 4)
+        .into_iter()
+        .filter(|t| t.fract() == 0.0)
+        .collect();
     let ymax = yt.last().copied().unwrap_or(1.0).max(1.0);
     let f = Frame {
         x0: 40.0,

@@ -497,7 +497,15 @@ fn hypothesis_section(d: &mut Document, c: &IncidentContent) {
             (
                 "Verdict".to_string(),
                 h.verdict
-                    .clone()
+                    .as_deref()
+                    .map(|v| {
+                        let v = v.trim_end();
+                        if v.ends_with('.') {
+                            v.to_string()
+                        } else {
+                            format!("{v}.")
+                        }
+                    })
                     .unwrap_or_else(|| "no verdict (no measured stress to compare)".into()),
             ),
         ];
@@ -799,7 +807,7 @@ fn attachments_section(d: &mut Document, c: &IncidentContent, pictures: &Picture
         d.para("No photos or files are attached to this incident.");
         return;
     }
-    let mut t = Table::new(&["File and its SHA-256", "Caption", "Size, added"]);
+    let mut t = Table::new(&["File", "Caption", "Size, added"]);
     for a in &c.attachments {
         let mut added = human_bytes(a.bytes);
         if let Some(x) = &a.added_at {
@@ -809,12 +817,14 @@ fn attachments_section(d: &mut Document, c: &IncidentContent, pictures: &Picture
             added.push_str(&format!("\n{y}"));
         }
         t.row(vec![
-            format!("{}\n{}", a.name, a.sha256),
+            a.name.clone(),
             a.caption.clone().unwrap_or_default(),
             added,
         ]);
     }
     d.push(Block::Table(t));
+    // each file's SHA-256 is printed at full width under its picture (or in its note): a
+    // 64-character word in a table column would squeeze the captions into a one-word column
     for a in &c.attachments {
         let caption = a.caption.clone().unwrap_or_default();
         match pictures.get(&a.sha256) {

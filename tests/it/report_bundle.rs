@@ -824,6 +824,17 @@ fn a_cause_claim_leads_with_its_cause_and_counts_what_it_left_out() {
     }
     // the lead comes before the tables
     assert!(text.find("This claim concerns") < text.find("Incidents by cause"));
+    // kept to look at (pdftoppm), as the other report tests keep theirs
+    let keep = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join("report")
+        .join("bundle");
+    std::fs::create_dir_all(&keep).unwrap();
+    std::fs::copy(dir.join("cover.pdf"), keep.join("cause-claim-cover.pdf")).unwrap();
+    std::fs::copy(
+        dir.join(format!("incidents/{with_hypothesis}.pdf")),
+        keep.join("cause-claim-summary.pdf"),
+    )
+    .unwrap();
     let summary = pdf_words(&dir.join(format!("incidents/{with_hypothesis}.pdf")));
     for want in [
         "Load hypothesis and verdict",
@@ -837,6 +848,34 @@ fn a_cause_claim_leads_with_its_cause_and_counts_what_it_left_out() {
     }
     let (code, out) = verify(&db, &dir);
     assert_eq!(code, 0, "{out}");
+    // the same hypothesis in show's text and in the Markdown and HTML summaries
+    let shown = shardlog(&db, &["show", &with_hypothesis]);
+    let shown = String::from_utf8_lossy(&shown.stdout);
+    assert!(
+        shown.contains("hypothesis   thermal: temperature difference ΔT 8.00 K")
+            && shown.contains("verdict      too weak"),
+        "{shown}"
+    );
+    for fmt in ["md", "html"] {
+        let file = tmp.path().join(format!("summary.{fmt}"));
+        let o = shardlog(
+            &db,
+            &[
+                "report",
+                &with_hypothesis,
+                "--format",
+                fmt,
+                "-o",
+                file.to_str().unwrap(),
+            ],
+        );
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let t = std::fs::read_to_string(&file).unwrap();
+        assert!(
+            t.contains("Load hypothesis and verdict") && t.contains("should have survived"),
+            "{fmt}: {t}"
+        );
+    }
 }
 
 /// An edited figure in figures.csv (its hash in bundle.json made to match) is named by its

@@ -295,7 +295,9 @@ fn plain_output_with_trend_and_strength() {
         s.contains("Incidents found 2025-01-01 to 2025-12-31: 30"),
         "{s}"
     );
-    assert!(s.contains("nickel_sulfide"), "{s}");
+    // labels in the text (the JSON keeps the codes)
+    assert!(s.contains("nickel sulfide inclusion"), "{s}");
+    assert!(!s.contains("nickel_sulfide"), "{s}");
     assert!(s.contains("Incidents per month"), "{s}");
     assert!(s.contains("2025-12"), "{s}");
     assert!(s.contains("σθ MPa"), "{s}");

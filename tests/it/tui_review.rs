@@ -685,6 +685,30 @@ fn cause_by_lot_rows_stay_distinguishable_at_80_columns() {
     // the rows of one cause in different lots keep their lot
     assert!(seen.iter().any(|r| r.contains("· BS-2207")), "{seen:#?}");
     assert!(flagged_seen);
+    // Enter on a group: the log's filter line at 80 columns keeps the lot and both dates
+    send(&mut app, &key(KeyCode::Home));
+    let lot = app.review.data.as_ref().unwrap().table.rows[0].key[1].clone();
+    let window = app.review.data.as_ref().unwrap().window;
+    send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Log);
+    let lines = render(&mut app, 80, 24);
+    let filter_line = lines
+        .iter()
+        .find(|l| l.contains("Filter:"))
+        .unwrap_or_else(|| panic!("no filter line:\n{}", text(&lines)));
+    for want in [
+        format!("lot {lot}"),
+        window.since.to_string(),
+        window.until.to_string(),
+        "(x clears)".to_string(),
+    ] {
+        assert!(
+            filter_line.contains(&want),
+            "{want:?} cut from {filter_line:?}"
+        );
+    }
+    send(&mut app, &key(KeyCode::Esc));
+    assert_eq!(app.screen(), Screen::Review);
     // cause × season is not an exposure key; its note still agrees with its flags
     for _ in 0..4 {
         send(&mut app, &key(KeyCode::Char('2')));

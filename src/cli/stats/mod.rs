@@ -364,6 +364,44 @@ fn resolve_codes(store: &crate::store::Store, q: &mut StatsQuery) -> Result<(), 
     Ok(())
 }
 
+/// Lookup codes of the facts (cause, origin type, temper, asset type) replaced by their
+/// labels, for the text output; `--origin-type` with them.
+fn readable(
+    store: &crate::store::Store,
+    q: &mut StatsQuery,
+    incidents: &mut [IncidentFacts],
+) -> Result<(), CliError> {
+    use crate::store::LookupKind;
+    use std::collections::HashMap;
+    use std::rc::Rc;
+    let mut labels: HashMap<(LookupKind, String), Rc<str>> = HashMap::new();
+    for e in store
+        .all_lookups()
+        .map_err(|e| CliError::work(e.to_string()))?
+    {
+        labels.insert((e.kind, e.code), Rc::from(e.label.as_str()));
+    }
+    let swap = |kind: LookupKind, v: &mut Option<Rc<str>>| {
+        if let Some(code) = v.as_deref() {
+            if let Some(l) = labels.get(&(kind, code.to_string())) {
+                *v = Some(l.clone());
+            }
+        }
+    };
+    for f in incidents.iter_mut() {
+        swap(LookupKind::CauseCategory, &mut f.cause);
+        swap(LookupKind::OriginType, &mut f.origin_type);
+        swap(LookupKind::TemperClass, &mut f.temper);
+        swap(LookupKind::AssetType, &mut f.asset_type);
+    }
+    if let Some(o) = &q.origin_type {
+        if let Some(l) = labels.get(&(LookupKind::OriginType, o.clone())) {
+            q.origin_type = Some(l.to_string());
+        }
+    }
+    Ok(())
+}
+
 pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let mut q = query_from_args(&args)?;
     let store = crate::store::Store::open_for_reading(&ctx.db)
@@ -373,6 +411,10 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         .stats_input(&q, &[])
         .map_err(|e| CliError::work(e.to_string()))?;
     apply_only(&q, &mut incidents, &mut exposures);
+    if !q.json {
+        // the text shows the labels people read; --json keeps the codes
+        readable(&store, &mut q, &mut incidents)?;
+    }
     // The clock is read here, at the edge: the default end of the window is today.
     let today = chrono::Utc::now().date_naive();
     let text = render(&q, &incidents, &exposures, today)?;

@@ -429,6 +429,17 @@ fn weibull_section(d: &mut Document, cv: &Cover) {
         ]);
     }
     d.push(Block::Table(t));
+    if !cv.weibull.iter().any(|w| !w.claimed) {
+        d.note(format!(
+            "No other supplier has {} or more stresses of the same cause{} to fit for a comparison.",
+            super::figures::MIN_FIT,
+            if cv.weibull.iter().filter(|w| w.claimed).count() > 1 {
+                "s"
+            } else {
+                ""
+            }
+        ));
+    }
     d.push(Block::Figure {
         chart: Chart::Weibull {
             x_label: "Applied stress (MPa)".into(),

@@ -149,7 +149,9 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
             Span::styled("  Enter search · Esc cancel", th.muted),
         ]),
         None => {
-            let filt = app.log.filter_summary(&app.lists);
+            // " Filter: " and " (x clears)" around it; the values give way, never the dates
+            let room = (top.width as usize).saturating_sub(20);
+            let filt = app.log.filter_summary_within(&app.lists, room);
             if filt.is_empty() {
                 Line::styled(
                     " All incidents · / search · f filter · s sort · n new · r review · ? help",
