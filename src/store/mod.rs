@@ -195,8 +195,8 @@ impl Store {
     }
 
     fn open_file(path: &Path, create: bool) -> Result<Store, StoreError> {
-        let (conn, version) = sqlite::open_checked(path, create)?;
-        let altered = sqlite::schema_differences(&conn, version)?;
+        let (conn, _) = sqlite::open_checked(path, create)?;
+        let (version, altered) = sqlite::schema_differences(&conn)?;
         if !altered.is_empty() {
             let n = altered.len();
             let mut found = altered.into_iter().take(3).collect::<Vec<_>>().join("; ");

@@ -10,6 +10,8 @@ use shardlog_core::canonical::{self, Numbers};
 
 fn shardlog(db: &Path, args: &[&str]) -> std::process::Output {
     Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        // the signing key of a test database stays beside it, not in the user's data folder
+        .env("SHARDLOG_KEY_DIR", db.with_extension("keys"))
         .arg("--db")
         .arg(db)
         .args(args)

@@ -125,13 +125,18 @@ fn expected_objects(version: i64) -> Result<Objects, StoreError> {
     objects(&conn)
 }
 
-/// Every way the file's schema differs from what the migrations up to its `user_version`
-/// make: an object added (a trigger, a view, an index, a table), one missing, one whose
-/// SQL was changed. A lowered or raised `user_version` shows as objects missing or added.
-/// Empty for a schema as shardlog made it.
-pub fn schema_differences(conn: &Connection, version: i64) -> Result<Vec<String>, StoreError> {
+/// The file's `user_version` and every way its schema differs from what the migrations up
+/// to that version make: an object added (a trigger, a view, an index, a table), one
+/// missing, one whose SQL was changed. A lowered or raised `user_version` shows as objects
+/// missing or added. Both are read in one transaction, so that a migration committed by
+/// another process meanwhile is seen whole or not at all.
+pub fn schema_differences(conn: &Connection) -> Result<(i64, Vec<String>), StoreError> {
+    conn.execute_batch("BEGIN")?;
+    let read = user_version(conn).and_then(|v| Ok((v, objects(conn)?)));
+    let end = conn.execute_batch(if read.is_ok() { "COMMIT" } else { "ROLLBACK" });
+    let (version, have) = read?;
+    end?;
     let want = expected_objects(version)?;
-    let have = objects(conn)?;
     let mut out = Vec::new();
     for ((kind, name), sql) in &have {
         match want.get(&(kind.clone(), name.clone())) {
@@ -147,5 +152,5 @@ pub fn schema_differences(conn: &Connection, version: i64) -> Result<Vec<String>
             out.push(format!("{kind} {name} missing"));
         }
     }
-    Ok(out)
+    Ok((version, out))
 }
