@@ -5,7 +5,7 @@
 
 use std::collections::{HashMap, HashSet};
 
-use rusqlite::{params, Connection, OptionalExtension, TransactionBehavior};
+use rusqlite::{params, Connection, TransactionBehavior};
 
 use super::audit::{manifest_records, BATCH, INCIDENT};
 use super::{canon, incidents, refdata, Store, StoreError};
