@@ -7,7 +7,15 @@ use chrono::{NaiveDate, Utc};
 use super::{actor, parse_day, sanitize_for_terminal, CliError, Context};
 use crate::store::exchange::ImportOptions;
 use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
-use shardlog_core::text::{clean, stress_or_dash};
+use shardlog_core::text::stress_or_dash;
+
+/// One field of `list` or `show` on its line: a newline or tab inside it becomes a space, so
+/// that the table keeps its shape; every other character is written as stored. On a
+/// terminal the output passes [`super::TerminalGuard`], which shows control characters as
+/// visible symbols and says so on stderr; to a pipe or a file the bytes are the record's.
+fn clean(s: &str) -> String {
+    s.replace(['\n', '\t'], " ")
+}
 
 /// The actor and time of a change, taken here at the edge: [`actor`] and the system clock.
 pub fn edge_stamp() -> Stamp {
@@ -574,18 +582,10 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         )?;
     }
     if !inc.description.is_empty() {
-        writeln!(
-            out,
-            "  description {}",
-            sanitize_for_terminal(&inc.description, true)
-        )?;
+        writeln!(out, "  description {}", &inc.description)?;
     }
     if !inc.notes.is_empty() {
-        writeln!(
-            out,
-            "  notes       {}",
-            sanitize_for_terminal(&inc.notes, true)
-        )?;
+        writeln!(out, "  notes       {}", &inc.notes)?;
     }
     Ok(())
 }
