@@ -222,14 +222,15 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let filter = args.filter.to_filter()?;
     let s = open_to_read(&ctx.db)?;
     let mut buf: Vec<u8> = Vec::new();
-    match args.format {
+    // an incident whose row cannot be read is left out and named; the others are exported
+    let damaged = match args.format {
         ExportFormat::Json => {
-            buf.extend_from_slice(s.export_json(&filter).map_err(work)?.as_bytes())
+            let (text, damaged) = s.export_json_readable(&filter).map_err(work)?;
+            buf.extend_from_slice(text.as_bytes());
+            damaged
         }
-        ExportFormat::Csv => {
-            s.export_csv(&filter, &mut buf).map_err(work)?;
-        }
-    }
+        ExportFormat::Csv => s.export_csv_readable(&filter, &mut buf).map_err(work)?.1,
+    };
     match args.output {
         None => ctx.out.write_all(&buf)?,
         Some(path) => {
@@ -238,7 +239,16 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             write_whole(&path, &buf, true)?
         }
     }
-    Ok(())
+    if damaged.is_empty() {
+        return Ok(());
+    }
+    let names: Vec<String> = damaged.iter().map(|d| d.to_string()).collect();
+    Err(CliError::work(format!(
+        "{} damaged incident{} left out of the export, the others were written: {}",
+        damaged.len(),
+        if damaged.len() == 1 { "" } else { "s" },
+        names.join("; ")
+    )))
 }
 
 /// An output path must never be the database itself, its journal files or its attachment
@@ -390,7 +400,13 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             ctx.out,
             "{} {} {} {} {} {} {} {} {:>10}",
             cell(&r.reference, 14),
-            cell(&r.occurred.to_string(), 10),
+            cell(
+                &match &r.damaged {
+                    Some(_) => "DAMAGED".to_string(),
+                    None => r.occurred.to_string(),
+                },
+                10
+            ),
             cell(&where_, 24),
             cell(r.product.as_deref().unwrap_or("—"), 10),
             cell(r.supplier.as_deref().unwrap_or("—"), 10),
@@ -399,6 +415,13 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             cell(r.cause.as_deref().unwrap_or("—"), 14),
             stress
         )?;
+    }
+    for r in page.rows.iter().filter(|r| r.damaged.is_some()) {
+        eprintln!(
+            "shardlog: incident {}: damaged, its date found ({}) cannot be read; listed as DAMAGED",
+            sanitize_for_terminal(&r.reference, false),
+            sanitize_for_terminal(r.damaged.as_deref().unwrap_or(""), false)
+        );
     }
     let total = page.total.unwrap_or(page.rows.len() as u64);
     writeln!(

@@ -45,17 +45,30 @@ impl Store {
 fn check_incidents(conn: &Connection, v: &mut Verification) -> Result<(), StoreError> {
     let mut bad_derived: Option<String> = None;
     let mut n_bad = 0u64;
-    incidents::for_each_incident(conn, |inc, derived_ok| {
-        let img = canon::incident_image(&inc)?;
-        v.check_record(INCIDENT, &inc.id, &inc.reference, &img);
-        if !derived_ok {
-            n_bad += 1;
-            if bad_derived.is_none() {
-                bad_derived = Some(inc.reference.clone());
+    let mut unreadable = Vec::new();
+    incidents::for_each_readable_incident(
+        conn,
+        |inc, derived_ok| {
+            let img = canon::incident_image(&inc)?;
+            v.check_record(INCIDENT, &inc.id, &inc.reference, &img);
+            if !derived_ok {
+                n_bad += 1;
+                if bad_derived.is_none() {
+                    bad_derived = Some(inc.reference.clone());
+                }
             }
-        }
-        Ok(())
-    })?;
+            Ok(())
+        },
+        |reference, why| {
+            unreadable.push(format!(
+                "incident {reference}: damaged, its row cannot be read ({why}); the other records were checked"
+            ));
+            Ok(())
+        },
+    )?;
+    for m in unreadable {
+        v.problem(m);
+    }
     if let Some(r) = bad_derived {
         for _ in 0..n_bad {
             v.problem(format!("incident {r}: its listed stress, origin type or temper does not follow from its examinations (changed behind shardlog's back)"));

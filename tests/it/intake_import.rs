@@ -406,3 +406,65 @@ fn attachment_rows_need_their_files() {
     );
     assert_eq!(t.incident_count().unwrap(), 0);
 }
+
+#[test]
+fn one_unreadable_row_never_stops_the_others() {
+    // a date the tool would refuse, put in by plain SQL (as an older build or another tool
+    // could have written it); the other incidents must still be listed, exported, verified
+    let dir = tempfile::tempdir().unwrap();
+    let (db, doc) = demo_export(dir.path(), 6);
+    let victim = doc["incidents"][2]["reference"]
+        .as_str()
+        .unwrap()
+        .to_string();
+    let others: Vec<String> = doc["incidents"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|i| i["reference"].as_str().unwrap().to_string())
+        .filter(|r| *r != victim)
+        .collect();
+    rusqlite::Connection::open(&db)
+        .unwrap()
+        .execute(
+            "UPDATE incidents SET found_on = '10000-01-01' WHERE reference = ?1",
+            [&victim],
+        )
+        .unwrap();
+    let bin = env!("CARGO_BIN_EXE_shardlog");
+    let run = |args: &[&str]| {
+        std::process::Command::new(bin)
+            .arg("--db")
+            .arg(&db)
+            .args(args)
+            .output()
+            .unwrap()
+    };
+    let text = |b: &[u8]| String::from_utf8_lossy(b).into_owned();
+    let o = run(&["list", "--limit", "100"]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    assert!(text(&o.stdout).contains("DAMAGED") && text(&o.stderr).contains(&victim));
+    assert!(others.iter().all(|r| text(&o.stdout).contains(r.as_str())));
+    let o = run(&["list", "--json", "--limit", "100"]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    for format in ["json", "csv"] {
+        let o = run(&["export", "--format", format]);
+        assert_eq!(o.status.code(), Some(1), "{format}");
+        assert!(text(&o.stderr).contains(&victim), "{}", text(&o.stderr));
+        let out = text(&o.stdout);
+        assert!(others.iter().all(|r| out.contains(r.as_str())), "{format}");
+        assert!(
+            !out.contains(&victim),
+            "{format}: the damaged incident was exported"
+        );
+    }
+    let o = run(&["verify", "--json"]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = text(&o.stderr);
+    assert!(err.contains(&victim) && err.contains("damaged"), "{err}");
+    let report: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert!(
+        report["records_checked"].as_u64().unwrap() > others.len() as u64,
+        "{report}"
+    );
+}

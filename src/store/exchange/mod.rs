@@ -18,6 +18,7 @@ mod import;
 mod json;
 
 pub use csv::{csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS};
+pub use export::Damaged;
 pub use json::parse_json;
 
 /// The `format` field of a JSON export.
