@@ -468,3 +468,122 @@ fn one_unreadable_row_never_stops_the_others() {
         "{report}"
     );
 }
+
+mod written_records_read_back {
+    use super::*;
+    use chrono::{Duration, NaiveDate, TimeZone};
+    use proptest::prelude::*;
+    use shardlog_core::units::Dimension;
+
+    /// Any text a person could type or paste: letters of several scripts, digits,
+    /// punctuation, control characters, escape sequences, quotes and separators.
+    fn text() -> impl Strategy<Value = String> {
+        proptest::collection::vec(
+            prop_oneof![
+                proptest::char::range(' ', '~'),
+                proptest::char::range('\u{0}', '\u{1f}'),
+                Just('\u{1b}'),
+                Just('é'),
+                Just('日'),
+                Just('\u{202e}'),
+                Just('"'),
+                Just(','),
+                Just(';'),
+            ],
+            0..24,
+        )
+        .prop_map(|v| v.into_iter().collect())
+    }
+
+    /// A day within the range the store keeps (1900-01-01 to 2199-12-31).
+    fn day() -> impl Strategy<Value = NaiveDate> {
+        let first = NaiveDate::from_ymd_opt(1900, 1, 1).unwrap();
+        let span = (NaiveDate::from_ymd_opt(2199, 12, 31).unwrap() - first).num_days();
+        (0..=span).prop_map(move |d| first + Duration::days(d))
+    }
+
+    fn draft() -> impl Strategy<Value = Incident> {
+        (
+            (day(), proptest::option::of(0i64..20_000), text(), text()),
+            (text(), text(), proptest::option::of(-60.0f64..60.0)),
+            (
+                proptest::option::of(0i64..1000),
+                proptest::option::of(any::<bool>()),
+                proptest::option::of(1u32..5000),
+                day(),
+            ),
+            (proptest::option::of(day()), text(), 0i64..3_000_000_000),
+        )
+            .prop_map(
+                |(
+                    (found, before, position, notes),
+                    (description, reporter, temperature),
+                    (cracks, branching, radius_um, examined),
+                    (_, who, seconds),
+                )| {
+                    let mut d = Incident::draft(found);
+                    d.broken_on =
+                        before.and_then(|n| found.checked_sub_signed(Duration::days(n % 400)));
+                    d.broken_on = d.broken_on.filter(|b| chrono::Datelike::year(b) >= 1900);
+                    d.position = position;
+                    d.notes = notes;
+                    d.description = description;
+                    d.reporter = reporter;
+                    d.environment.temperature_c = temperature;
+                    d.pattern.crack_count = cracks;
+                    d.pattern.branching = branching;
+                    if let Some(r) = radius_um {
+                        let mut e = Examination::empty();
+                        e.examined_on = Some(examined);
+                        e.readings.push(MirrorReading {
+                            boundary: "mirror_mist".into(),
+                            radius: Measured::parse(&format!("{r} um"), Dimension::Length).unwrap(),
+                            magnification: None,
+                            analyst: who.clone(),
+                            note: String::new(),
+                        });
+                        d.examinations.push(e);
+                    }
+                    if !who.trim().is_empty() {
+                        d.custody.push(CustodyEntry {
+                            id: String::new(),
+                            at: Utc.timestamp_opt(seconds, 0).unwrap(),
+                            action: "received".into(),
+                            who,
+                            location: String::new(),
+                            note: String::new(),
+                        });
+                    }
+                    d
+                },
+            )
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
+
+        /// What the store accepts it reads back equal: by reference, in the log, and
+        /// through a JSON export imported into another database.
+        #[test]
+        fn every_accepted_record_reads_back_equal(d in draft()) {
+            let mut s = Store::open_in_memory().unwrap();
+            prop_assume!(s.validate_incident(&d).is_empty());
+            let saved = s.create_incident(&d, &stamp()).unwrap();
+            let back = s.get(&saved.reference).unwrap();
+            prop_assert_eq!(&back, &saved);
+            let page = s
+                .list(&Filter::default(), Sort::default(), &PageRequest::default())
+                .unwrap();
+            prop_assert_eq!(page.rows.len(), 1);
+            prop_assert_eq!(page.rows[0].occurred, d.found_on);
+            prop_assert!(page.rows[0].damaged.is_none());
+            let json = s.export_json(&Filter::default()).unwrap();
+            let mut t = Store::open_in_memory().unwrap();
+            t.import_bytes("x.json", json.as_bytes(), ImportOptions::default(), &stamp())
+                .unwrap()
+                .unwrap();
+            prop_assert_eq!(t.get(&saved.reference).unwrap(), saved);
+            prop_assert!(s.verify().unwrap().ok());
+        }
+    }
+}
