@@ -23,11 +23,14 @@ fn main() {
     let opts = DisputeOptions {
         supplier: report_common::CLAIMED.into(),
         lot: None,
+        causes: Vec::new(),
+        origin_type: None,
         since: None,
         until: None,
         paper: Paper::A4,
         exported_at: "2027-03-14 10:00:00 UTC".into(),
         today: report_common::day(2027, 3, 14),
+        key_dir: None,
         allow_missing_attachments: false,
     };
     let mut best = f64::INFINITY;

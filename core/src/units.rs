@@ -7,9 +7,14 @@
 //! - a number, optional white space, then a unit: `1.2 mm`, `850um`, `8700 psi`;
 //! - a decimal comma (`1,2 mm`) is refused with a hint, never read as 12 or 1.2;
 //! - a bare number is refused where a unit is needed (lengths, stresses, …);
-//! - NaN and infinities are refused; `parse_positive` also refuses zero and negatives.
+//! - NaN and infinities are refused; `parse_positive` also refuses zero and negatives;
+//! - a value outside the physical range of its quantity is refused with the range
+//!   (the table is in `range.rs`, beside this parser).
 
 use std::fmt;
+
+mod range;
+pub use range::{physical_range, PhysicalRange};
 
 /// What a quantity measures. Stress and pressure share one dimension (Pa).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -477,6 +482,15 @@ pub enum UnitError {
     NotPositive { input: String },
     #[error("'{input}' must not be negative")]
     Negative { input: String },
+    #[error(
+        "'{input}' is outside the physical range of a {dim}; expected {range} (check the \
+         decimal point, the exponent and the unit)"
+    )]
+    OutOfRange {
+        input: String,
+        dim: &'static str,
+        range: String,
+    },
 }
 
 fn unit_list(dim: Dimension) -> String {
@@ -646,6 +660,14 @@ pub fn parse_with_unit(input: &str, dim: Dimension) -> Result<(f64, Unit), UnitE
     if !si.is_finite() {
         return Err(UnitError::NotFinite {
             input: text.to_string(),
+        });
+    }
+    let range = physical_range(dim);
+    if !range.contains(si) {
+        return Err(UnitError::OutOfRange {
+            input: text.to_string(),
+            dim: dim.name(),
+            range: range.text(),
         });
     }
     Ok((si, unit))

@@ -2,6 +2,11 @@
 //! after a 0xFF 0x00 separator, a second file named by the bundle's first listed path when
 //! that is a plain name). Properties: never panics; a folder whose bundle.json is not a
 //! bundle is never reported intact; every problem is a non-empty sentence.
+//!
+//! The last byte of an input (when there are two or more) shapes the folder further: bit 0
+//! makes the listed file a symbolic link to bundle.json, bit 1 adds a link to a folder
+//! outside, bit 2 makes the listed file sparse and past the size limit, bit 3 checks the
+//! signature against a key taken from the input (an invented fingerprint).
 #![no_main]
 
 use std::path::PathBuf;
@@ -18,6 +23,10 @@ thread_local! {
 }
 
 fuzz_target!(|data: &[u8]| {
+    let (shape, data) = match data.split_last() {
+        Some((s, rest)) if !rest.is_empty() => (*s, rest),
+        _ => (0, data),
+    };
     DIR.with(|dir| {
         // a clean folder for every input
         let _ = std::fs::remove_dir_all(dir);
@@ -40,11 +49,15 @@ fuzz_target!(|data: &[u8]| {
                     if let Some(parent) = p.parent() {
                         let _ = std::fs::create_dir_all(parent);
                     }
-                    let _ = std::fs::write(p, rest);
+                    let _ = std::fs::write(&p, rest);
+                    hostile_shapes(dir, &p, shape);
                 }
             }
         }
-        match bundle::verify_bundle(dir, None) {
+        let key = (shape & 8 != 0)
+            .then(|| bundle::ExpectedKey::parse("0123-4567-89ab-cdef-0123-4567-89ab-cdef"))
+            .flatten();
+        match bundle::verify_bundle_with(dir, None, key.as_ref()) {
             Ok(check) => {
                 for p in &check.problems {
                     assert!(!p.trim().is_empty());
@@ -52,8 +65,29 @@ fuzz_target!(|data: &[u8]| {
                 if parsed.as_ref().is_none_or(|v| !v.is_object()) {
                     assert!(!check.ok(), "a folder without a bundle passed: {check:?}");
                 }
+                // no bundle made here is signed with that invented key
+                assert!(key.is_none() || !check.ok(), "passed as signed: {check:?}");
             }
             Err(e) => assert!(!e.to_string().is_empty()),
         }
     });
 });
+
+/// The listed file at `p` made hostile as `shape` says (links and sizes; see the top).
+fn hostile_shapes(dir: &std::path::Path, p: &std::path::Path, shape: u8) {
+    #[cfg(unix)]
+    {
+        if shape & 1 != 0 {
+            let _ = std::fs::remove_file(p);
+            let _ = std::os::unix::fs::symlink(dir.join("bundle.json"), p);
+        }
+        if shape & 2 != 0 {
+            let _ = std::os::unix::fs::symlink(std::env::temp_dir(), dir.join("outside"));
+        }
+    }
+    if shape & 4 != 0 && shape & 1 == 0 {
+        if let Ok(f) = std::fs::OpenOptions::new().write(true).open(p) {
+            let _ = f.set_len(600 * 1024 * 1024);
+        }
+    }
+}

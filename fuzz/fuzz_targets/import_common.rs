@@ -18,6 +18,7 @@ pub fn check(name: &str, data: &[u8], dry_run: bool) {
         strict: data.first().is_some_and(|b| b & 1 == 1),
         // no files come with a fuzzed file: attachment rows must be refused, never accepted
         attachments: None,
+        ..ImportOptions::default()
     };
     let result = store.import_bytes(name, data, options, &stamp);
     if let Ok(Err(rejected)) = &result {

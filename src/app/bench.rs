@@ -11,7 +11,7 @@ use super::picklist::{PickItem, PickList};
 use super::{Action, Ctx};
 use shardlog_core::fracture::{
     self, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
-    ConstantOverride, FlawGeometry, FlawKind, Origin, OriginLocation, Temper,
+    ConstantOverride, FlawGeometry, FlawKind, OriginLocation, Temper,
 };
 use shardlog_core::units::Dimension;
 
@@ -171,10 +171,10 @@ impl BenchState {
             PickList::new(
                 "origin",
                 "Origin",
-                vec![
-                    PickItem::new("surface", "surface (or edge, corner)"),
-                    PickItem::new("interior", "interior (tensile core)"),
-                ],
+                OriginLocation::ALL
+                    .iter()
+                    .map(|l| PickItem::new(l.code(), origin_label(*l)))
+                    .collect(),
             )
             .with_choice("surface"),
         );
@@ -219,7 +219,11 @@ impl BenchState {
             )
             .with_hint("measured, e.g. 95 MPa"),
         );
-        form.push_field(optional_length("layer_depth", "Layer depth", "e.g. 1.2 mm"));
+        form.push_field(optional_length(
+            "layer_depth",
+            "Layer depth",
+            "chemical: e.g. 40 µm",
+        ));
 
         form.push_field(optional_toughness("a_i", "A_i (own)"));
         form.push_field(optional_toughness("a_o", "A_o (own)"));
@@ -378,6 +382,14 @@ impl BenchState {
         }))
     }
 
+    /// Where the origin sits, as picked (surface when nothing is picked).
+    pub fn origin_location(&self) -> OriginLocation {
+        self.form
+            .text("origin")
+            .parse::<OriginLocation>()
+            .unwrap_or(OriginLocation::Surface)
+    }
+
     fn aspect(&self) -> f64 {
         match self.form.field("aspect").map(|f| f.value()) {
             Some(Ok(FieldValue::Number(x))) if x > 0.0 && x <= 2.0 => x,
@@ -423,11 +435,8 @@ impl BenchState {
             return Ok(None);
         }
         input.temper = self.form.text("temper").parse::<Temper>().ok();
-        input.origin = self
-            .form
-            .text("origin")
-            .parse::<Origin>()
-            .unwrap_or(Origin::Surface);
+        let location = self.origin_location();
+        input.origin = location.origin();
         input.thickness_m = self.opt_quantity("thickness")?;
         input.measured_flaw_m = self.opt_quantity("measured_flaw")?;
         input.surface_compression_pa = self.opt_quantity("surface_compression")?;
@@ -449,7 +458,8 @@ impl BenchState {
                 a_over_t: 0.0,
             }),
             Ok(FlawKind::ThroughCrack) => Some(FlawGeometry::ThroughCrack),
-            Ok(FlawKind::SemicircularHand) | Err(_) => None,
+            Ok(FlawKind::SemicircularHand) => None,
+            Err(_) => default_geometry(location, aspect),
         };
         for (k, boundary) in [
             ("a_i", Boundary::MirrorMist),
@@ -468,72 +478,21 @@ impl BenchState {
         }
         Ok(Some(input))
     }
+}
 
-    /// Fill the form from an incident: material, temper, thickness, origin and the readings
-    /// of its latest examination that has any.
-    pub fn prefill(&mut self, inc: &crate::store::model::Incident) {
-        let ply = inc.glass.plies.first();
-        let exam = inc
-            .examinations
-            .iter()
-            .rev()
-            .find(|e| !e.readings.is_empty());
-        let material = exam
-            .and_then(|e| e.material.clone())
-            .or_else(|| ply.and_then(|p| p.material.clone()))
-            .map(|m| m.replace('_', "-"));
-        if let (Some(m), Some(p)) = (material, self.form.pick_mut("material")) {
-            if materials::find(&m).is_some() {
-                p.choose_code(&m);
-            }
-        }
-        if let (Some(t), Some(p)) = (
-            ply.and_then(|p| p.temper.clone()),
-            self.form.pick_mut("temper"),
-        ) {
-            p.choose_code(&t.replace('_', "-"));
-        }
-        if let (Some(t), Some(f)) = (
-            ply.and_then(|p| p.thickness_m),
-            self.form.field_mut("thickness"),
-        ) {
-            f.set_text(&shardlog_core::units::format(
-                t,
-                shardlog_core::units::Unit::Millimetre,
-            ));
-        }
-        let location = inc.pattern.origin_location.as_deref();
-        if location.and_then(|l| l.parse::<OriginLocation>().ok()) == Some(OriginLocation::Interior)
-        {
-            if let Some(p) = self.form.pick_mut("origin") {
-                p.choose_code(Origin::Interior.code());
-            }
-        }
-        if let Some(e) = exam {
-            for (code, key) in [
-                ("mirror_mist", "r_mist"),
-                ("mist_hackle", "r_hackle"),
-                ("branching", "r_branch"),
-            ] {
-                let lines: Vec<String> = e
-                    .readings
-                    .iter()
-                    .filter(|r| r.boundary == code)
-                    .map(|r| r.radius.display())
-                    .collect();
-                if let Some(f) = self.form.field_mut(key) {
-                    f.set_text(&lines.join("\n"));
-                }
-            }
-            if let (Some(d), Some(f)) = (
-                e.flaw.as_ref().and_then(|f| f.depth.as_ref()),
-                self.form.field_mut("measured_flaw"),
-            ) {
-                f.set_text(&d.display());
-            }
-        }
-        self.recompute();
+/// The origin pick-list's words for a location.
+fn origin_label(location: OriginLocation) -> &'static str {
+    match location {
+        OriginLocation::Surface => "surface (semicircular flaw)",
+        OriginLocation::Edge => "edge (edge crack)",
+        OriginLocation::Corner => "corner (corner crack)",
+        OriginLocation::Interior => "interior (tensile core, penny)",
     }
+}
+
+/// The flaw geometry an origin location implies when none is picked (the core's rule).
+pub fn default_geometry(location: OriginLocation, aspect: f64) -> Option<FlawGeometry> {
+    location.default_geometry(aspect)
 }
 
 /// Flaw size for each geometry of the table, from the one analysis already made.

@@ -72,6 +72,8 @@ pub struct IncidentState {
     pub history: Vec<HistoryEntry>,
     pub section: Section,
     pub scroll: u16,
+    /// The history entry highlighted in the History section (0: the newest).
+    pub history_cursor: usize,
     /// The largest useful `scroll` for the section shown, as the last frame measured it.
     pub scroll_max: std::cell::Cell<u16>,
 }

@@ -286,7 +286,11 @@ impl LogState {
             }
         };
         add("status", &f.status, Some(LookupKind::Status));
-        add("cause", &f.cause, Some(LookupKind::CauseCategory));
+        if f.cause.as_deref() == Some(crate::store::model::NO_CAUSE) {
+            add("cause", &Some("none".into()), None);
+        } else {
+            add("cause", &f.cause, Some(LookupKind::CauseCategory));
+        }
         add("origin", &f.origin_type, Some(LookupKind::OriginType));
         add("supplier", &f.supplier, None);
         add("lot", &f.lot, None);
@@ -307,7 +311,7 @@ impl LogState {
         let col = match self.sort.column {
             SortColumn::Found => "date found",
             SortColumn::Reference => "reference",
-            SortColumn::Stress => "stress",
+            SortColumn::Stress => "net stress",
             SortColumn::Status => "status",
         };
         let dir = if self.sort.descending {

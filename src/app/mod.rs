@@ -5,6 +5,7 @@
 //! touches the terminal; the store is called from `update`, never from a draw.
 
 pub mod bench;
+mod bench_restore;
 pub mod field;
 pub mod form;
 pub mod hypothesis;
@@ -56,6 +57,8 @@ pub enum Ctx {
     Incident,
     /// The log's search line has the focus.
     Search,
+    /// The analyst's name is asked (first use).
+    Name,
     /// The help overlay is open.
     Help,
     /// A yes/no question is asked.
@@ -73,7 +76,10 @@ pub enum Ctx {
 impl Ctx {
     /// Whether unbound keys are typed into a text input in this context.
     pub fn takes_text(self) -> bool {
-        matches!(self, Ctx::Field | Ctx::MultiField | Ctx::Pick | Ctx::Search)
+        matches!(
+            self,
+            Ctx::Field | Ctx::MultiField | Ctx::Pick | Ctx::Search | Ctx::Name
+        )
     }
 
     /// Whether the shared moving keys (Global) also apply.
@@ -116,6 +122,8 @@ pub enum Action {
     Attach,
     Yes,
     No,
+    /// Incident history: restore the highlighted revision (as a new change).
+    Revert,
     /// Bench: move to the load hypothesis inputs (again: back to the readings).
     JumpHypothesis,
     /// A key for the focused text input.
@@ -155,6 +163,12 @@ pub enum Prompt {
     DiscardChanges,
     /// Quit and drop unsaved changes?
     QuitDiscard,
+    /// Save a new incident although one with the same asset, position and date found is
+    /// recorded (their references)?
+    SaveDuplicate(String),
+    /// Restore the open incident as it was after the history entry `seq` (its revision
+    /// and time in words)?
+    Revert { seq: i64, what: String },
 }
 
 /// The bench calculator's link to an incident.
@@ -176,6 +190,12 @@ pub struct App {
     pub lists: Lists,
     /// Who the audit log records as the author of changes.
     pub actor: String,
+    /// The analyst's name being asked for (first use), before anything else.
+    pub name_entry: Option<Field>,
+    /// A name the analyst has just given, for the terminal layer to keep for next time.
+    pub name_to_keep: Option<String>,
+    /// The analyst answered yes to saving a possible duplicate (for the next save only).
+    pub duplicate_confirmed: bool,
     /// The user's home folder, for a path typed as `~/…` (none: such a path is taken as typed).
     pub home: Option<PathBuf>,
     pub stack: Vec<Screen>,
@@ -194,6 +214,9 @@ pub struct App {
     pub bench: BenchState,
     pub bench_target: Option<BenchTarget>,
     pub review: ReviewState,
+    /// The log's filter before the review opened a group in it: Esc from that log goes back
+    /// to the review, and leaving the review gives the log its own filter back.
+    pub log_filter_before_review: Option<crate::store::model::Filter>,
     pub width: u16,
     pub height: u16,
 }
@@ -246,6 +269,9 @@ impl App {
             store: None,
             lists: Lists::default(),
             actor: "analyst".to_string(),
+            name_entry: None,
+            name_to_keep: None,
+            duplicate_confirmed: false,
             home: None,
             stack: vec![Screen::Bench],
             help_open: false,
@@ -261,6 +287,7 @@ impl App {
             bench: BenchState::new(),
             bench_target: None,
             review: ReviewState::new(),
+            log_filter_before_review: None,
             width: 80,
             height: 24,
         }
@@ -285,6 +312,21 @@ impl App {
         Ok(app)
     }
 
+    /// Ask for the analyst's name before anything else (first use); `suggestion` (e.g. the
+    /// login name) is shown and replaced by typing.
+    pub fn ask_name(&mut self, suggestion: Option<&str>) {
+        let mut f = Field::new(
+            "analyst_name",
+            "Your name",
+            field::FieldKind::Text { required: true },
+        )
+        .with_hint("as the history and the readings should show it");
+        if let Some(s) = suggestion.map(str::trim).filter(|s| !s.is_empty()) {
+            f.suggest(s);
+        }
+        self.name_entry = Some(f);
+    }
+
     /// Whether the open database can only be read (the file or its folder is not writable).
     pub fn read_only(&self) -> bool {
         self.store.as_ref().is_some_and(|s| s.is_read_only())
@@ -300,6 +342,9 @@ impl App {
 
     /// The key context for the current focus.
     pub fn ctx(&self) -> Ctx {
+        if self.name_entry.is_some() {
+            return Ctx::Name;
+        }
         if self.prompt.is_some() {
             return Ctx::Prompt;
         }

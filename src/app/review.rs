@@ -10,7 +10,7 @@ use crate::store::model::Filter;
 use crate::store::Store;
 use shardlog_core::fleet::query::{self, StatsQuery, StressKind};
 use shardlog_core::fleet::{
-    histogram, monthly_counts, GroupOptions, GroupTable, GroupValue, Key, MonthCount, Trend,
+    monthly_counts, round_histogram, GroupOptions, GroupTable, GroupValue, Key, MonthCount, Trend,
     WeibullFit, Window,
 };
 
@@ -331,6 +331,11 @@ fn apply_row<'a>(
 /// Narrow a log filter to one group value.
 fn apply_value(f: &mut Filter, key: Key, v: &GroupValue, window: &Window) -> Result<(), String> {
     match v {
+        // the backlog: the log filters to the incidents with no cause recorded yet
+        GroupValue::Text(None) if key == Key::Cause => {
+            f.cause = Some(crate::store::model::NO_CAUSE.to_string());
+            Ok(())
+        }
         GroupValue::Text(None) => Err(format!(
             "the log cannot filter to incidents with no {} recorded",
             key.name()
@@ -431,18 +436,23 @@ fn compute(
         .map(|f| f.found)
         .filter(|d| window.contains(*d))
         .collect();
-    let months = monthly_counts(&dates, &exposures, &window);
+    let mut months = monthly_counts(&dates, &exposures, &window);
+    if choice == WindowChoice::All {
+        // "all records" starts with the exposure; the list starts at the first incident
+        let first = months.iter().position(|m| m.count > 0).unwrap_or(0);
+        months.drain(..first);
+    }
     let in_window: Vec<&shardlog_core::fleet::IncidentFacts> = incidents
         .iter()
         .filter(|f| window.contains(f.found))
         .collect();
     let stresses: Vec<f64> = in_window.iter().filter_map(|f| f.stress_pa).collect();
     let without_stress = in_window.len() - stresses.len();
-    let (edges, counts) = histogram(&stresses, HISTOGRAM_BINS);
-    let width = match (edges.first(), edges.get(1)) {
-        (Some(a), Some(b)) => b - a,
-        _ => 0.0,
-    };
+    // round bins (1, 2, 2.5 or 5 × a power of ten in pascals: round in MPa too)
+    let bins = round_histogram(&stresses, HISTOGRAM_BINS);
+    let edges: Vec<f64> = bins.iter().map(|b| b.0).collect();
+    let counts: Vec<u64> = bins.iter().map(|b| b.2).collect();
+    let width = bins.first().map_or(0.0, |b| b.1 - b.0);
     let trend = r
         .trend
         .unwrap_or_else(|| Err("no trend was computed".to_string()));

@@ -12,7 +12,7 @@ use serde_json::json;
 use super::{pad_right_with_gap, CliError, Context};
 use shardlog_core::fracture::{
     self, analyze, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
-    ConstantOverride, FlawGeometry, FlawKind, FractureError, Origin, Temper,
+    ConstantOverride, FlawGeometry, FlawKind, FractureError, LayerProfile, Origin, Temper,
 };
 use shardlog_core::text::clean;
 use shardlog_core::units::{self, fmt_sig, format, Dimension, Unit, UnitError};
@@ -41,9 +41,14 @@ pub struct RawMirrorArgs {
     /// Measured surface compression (its magnitude), e.g. 95MPa.
     #[arg(long, value_name = "STRESS", allow_hyphen_values = true)]
     pub surface_compression: Option<String>,
-    /// Depth of the compressive layer, e.g. 40um (chemically strengthened glass).
+    /// Depth of the compressive layer, e.g. 40um (chemically strengthened glass; with
+    /// --thickness it gives the central tension an interior origin needs).
     #[arg(long, value_name = "LENGTH", allow_hyphen_values = true)]
     pub layer_depth: Option<String>,
+    /// Shape of the compressive layer of chemically strengthened glass: linear (default) or
+    /// erfc.
+    #[arg(long, value_name = "SHAPE")]
+    pub layer_profile: Option<String>,
     /// Where the origin sits: surface (default) or interior.
     #[arg(long, value_name = "WHERE")]
     pub origin: Option<String>,
@@ -225,6 +230,14 @@ pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
     }
     if let Some(d) = &raw.layer_depth {
         input.layer_depth_m = Some(length("layer-depth", d)?);
+    }
+    if let Some(p) = &raw.layer_profile {
+        input.layer_profile = Some(p.parse::<LayerProfile>().map_err(|_| {
+            CliError::usage(format!(
+                "--layer-profile: '{}' is not a layer profile; expected linear or erfc",
+                clean(p.trim())
+            ))
+        })?);
     }
     if let Some(o) = &raw.origin {
         input.origin = parse_origin(o)?;

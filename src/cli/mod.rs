@@ -12,9 +12,14 @@ use std::path::PathBuf;
 use clap::{Parser, Subcommand};
 
 pub mod attach;
+pub mod calibrate;
+pub mod codes;
+pub mod exposure;
+pub mod key;
 pub mod load;
 pub mod materials;
 pub mod mirror;
+pub mod progress;
 pub mod records;
 pub mod report;
 pub mod stats;
@@ -42,12 +47,16 @@ pub enum Command {
     Load(load::LoadArgs),
     /// Fit a two-parameter Weibull distribution to a column of strengths.
     Weibull(weibull::WeibullArgs),
+    /// Fit a lab's own mirror constants from specimens broken at a known stress.
+    Calibrate(calibrate::CalibrateArgs),
     /// Create an empty database.
     Init(records::InitArgs),
     /// Import incidents from CSV or JSON (all or nothing).
     Import(records::ImportArgs),
     /// Export incidents as CSV or JSON.
     Export(records::ExportArgs),
+    /// Panes in service (the denominator of rates): import from CSV, list.
+    Exposure(exposure::ExposureArgs),
     /// List incidents.
     List(records::ListArgs),
     /// Show one incident.
@@ -56,6 +65,8 @@ pub enum Command {
     Attach(attach::AttachArgs),
     /// Recompute the audit chain (or check a dispute bundle).
     Verify(records::VerifyArgs),
+    /// The database's signing key: fingerprint, public key, where the private key is.
+    Key(key::KeyArgs),
     /// Copy the database with SQLite's online backup, then check the copy.
     Backup(records::BackupArgs),
     /// Generate the invented demo fleet.
@@ -158,7 +169,7 @@ pub fn resolve_db(flag: Option<PathBuf>) -> PathBuf {
     data_dir().join("shardlog").join("shardlog.db")
 }
 
-fn data_dir() -> PathBuf {
+pub(crate) fn data_dir() -> PathBuf {
     if cfg!(windows) {
         if let Some(p) = std::env::var_os("APPDATA") {
             return PathBuf::from(p);
@@ -178,18 +189,40 @@ fn data_dir() -> PathBuf {
 }
 
 /// Who is making a change, for the audit log of the interface and the command line alike:
-/// `$SHARDLOG_USER`, else `$USER`, else `$USERNAME`, else "analyst" (the first one set and not
-/// blank, trimmed, with control characters removed).
+/// `$SHARDLOG_USER`, else the name the analyst gave the interface on first use, else `$USER`,
+/// else `$USERNAME`, else "analyst" (the first one set and not blank, trimmed, with control
+/// characters removed).
 pub fn actor() -> String {
-    for var in ["SHARDLOG_USER", "USER", "USERNAME"] {
+    chosen_name()
+        .or_else(|| env_name(&["USER", "USERNAME"]))
+        .unwrap_or_else(|| "analyst".to_string())
+}
+
+/// The name set on purpose: `$SHARDLOG_USER`, else the one kept from the interface's first use.
+fn chosen_name() -> Option<String> {
+    env_name(&["SHARDLOG_USER"]).or_else(|| {
+        let text = std::fs::read_to_string(name_file()).ok()?;
+        let s = sanitize_for_terminal(text.trim(), false);
+        (!s.is_empty()).then_some(s)
+    })
+}
+
+fn env_name(vars: &[&str]) -> Option<String> {
+    for var in vars {
         if let Some(v) = std::env::var_os(var) {
             let s = v.to_string_lossy().trim().to_string();
             if !s.is_empty() {
-                return sanitize_for_terminal(&s, false);
+                return Some(sanitize_for_terminal(&s, false));
             }
         }
     }
-    "analyst".to_string()
+    None
+}
+
+/// Where the interface keeps the name the analyst gave on first use (beside the default
+/// database, in the platform data folder).
+pub fn name_file() -> PathBuf {
+    data_dir().join("shardlog").join("analyst-name")
 }
 
 /// A calendar day as `--since` and `--until` take it: `YYYY-MM-DD`, spaces around it ignored.
@@ -355,7 +388,14 @@ impl Write for TerminalGuard<'_> {
 pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
     let db = resolve_db(cli.db);
     let Some(command) = cli.command else {
-        return crate::tui::run(&db, &actor()).map_err(|e| CliError::work(format!("{e:#}")));
+        let who = match chosen_name() {
+            Some(name) => crate::tui::Analyst::Known(name),
+            None => crate::tui::Analyst::Ask {
+                suggestion: env_name(&["USER", "USERNAME"]),
+                keep_in: name_file(),
+            },
+        };
+        return crate::tui::run(&db, who).map_err(|e| CliError::work(format!("{e:#}")));
     };
     let mut ctx = Context { db, out };
     match command {
@@ -363,13 +403,16 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Materials(a) => materials::run(a, &mut ctx),
         Command::Load(a) => load::run(a, &mut ctx),
         Command::Weibull(a) => weibull::run(a, &mut ctx),
+        Command::Calibrate(a) => calibrate::run(a, &mut ctx),
         Command::Init(a) => records::init(a, &mut ctx),
         Command::Import(a) => records::import(a, &mut ctx),
         Command::Export(a) => records::export(a, &mut ctx),
+        Command::Exposure(a) => exposure::run(a, &mut ctx),
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
         Command::Attach(a) => attach::attach(a, &mut ctx),
         Command::Verify(a) => records::verify(a, &mut ctx),
+        Command::Key(a) => key::run(a, &mut ctx),
         Command::Backup(a) => records::backup(a, &mut ctx),
         Command::Demo(a) => records::demo(a, &mut ctx),
         Command::Stats(a) => stats::run(a, &mut ctx),

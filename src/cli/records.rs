@@ -4,7 +4,9 @@ use std::path::{Path, PathBuf};
 
 use chrono::{NaiveDate, Utc};
 
+use super::codes::{resolve_opt, Field};
 use super::{actor, parse_day, sanitize_for_terminal, CliError, Context};
+use crate::report::bundle::ExpectedKey;
 use crate::store::exchange::ImportOptions;
 use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
 use shardlog_core::text::stress_or_dash;
@@ -36,22 +38,27 @@ pub(crate) fn open_to_read(db: &Path) -> Result<Store, CliError> {
     Store::open_for_reading(db).map_err(work)
 }
 
-/// Filters shared by export and list.
+/// Filters shared by export and list. Each code flag takes a code or its label (a
+/// supplier's or site's name), in any case; an unknown one is a usage error listing the valid.
 #[derive(Debug, Clone, Default, clap::Args)]
 pub struct FilterArgs {
-    /// Case status code (e.g. cause_assigned).
+    /// Case status, code or label (e.g. cause_assigned or "cause assigned").
     #[arg(long, value_name = "S")]
     pub status: Option<String>,
-    /// Cause category code (e.g. thermal, impact, nickel_sulfide).
+    /// Cause, code or label (e.g. thermal, nickel_sulfide, "impact"); `none` for the
+    /// incidents with no cause recorded yet.
     #[arg(long, value_name = "C")]
     pub cause: Option<String>,
-    /// Supplier code.
+    /// Origin type of the last examination, code or label (e.g. inclusion_nis).
+    #[arg(long, value_name = "T")]
+    pub origin_type: Option<String>,
+    /// Supplier, code or name.
     #[arg(long, value_name = "S")]
     pub supplier: Option<String>,
     /// Lot code.
     #[arg(long, value_name = "L")]
     pub lot: Option<String>,
-    /// Site code.
+    /// Site, code or name.
     #[arg(long, value_name = "S")]
     pub site: Option<String>,
     /// Found on or after (YYYY-MM-DD).
@@ -71,7 +78,8 @@ fn parse_date(flag: &str, v: &str) -> Result<NaiveDate, CliError> {
 }
 
 impl FilterArgs {
-    fn to_filter(&self) -> Result<Filter, CliError> {
+    /// The checked filter: dates parsed, every code resolved against the database.
+    fn to_filter(&self, store: &Store) -> Result<Filter, CliError> {
         let since = self
             .since
             .as_deref()
@@ -87,12 +95,14 @@ impl FilterArgs {
                 return Err(CliError::usage(format!("--since {a} is after --until {b}")));
             }
         }
+        let code = |field, flag, v: &Option<String>| resolve_opt(store, field, flag, v);
         Ok(Filter {
-            status: self.status.clone(),
-            cause: self.cause.clone(),
-            supplier: self.supplier.clone(),
-            lot: self.lot.clone(),
-            site: self.site.clone(),
+            status: code(Field::Status, "--status", &self.status)?,
+            cause: code(Field::Cause, "--cause", &self.cause)?,
+            origin_type: code(Field::OriginType, "--origin-type", &self.origin_type)?,
+            supplier: code(Field::Supplier, "--supplier", &self.supplier)?,
+            lot: code(Field::Lot, "--lot", &self.lot)?,
+            site: code(Field::Site, "--site", &self.site)?,
             since,
             until,
             ..Filter::default()
@@ -122,6 +132,14 @@ pub fn init(_args: InitArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
                 .map(|p| p.display().to_string())
                 .unwrap_or_default()
         )?;
+        if let Some(k) = super::key::ensure_key(&s)? {
+            writeln!(
+                ctx.out,
+                "signing key {} (private key in {})",
+                k.public.fingerprint(),
+                k.private_file.display()
+            )?;
+        }
     }
     Ok(())
 }
@@ -141,6 +159,9 @@ pub struct ImportArgs {
     /// `.files` folder); each is checked against its hash and copied in.
     #[arg(long, value_name = "DIR")]
     pub attachments: Option<PathBuf>,
+    /// Import incidents although one with the same asset, position and date found exists.
+    #[arg(long)]
+    pub allow_duplicates: bool,
 }
 
 pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -167,11 +188,13 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         dry_run: args.dry_run,
         strict: args.strict,
         attachments: args.attachments.clone(),
+        allow_duplicates: args.allow_duplicates,
     };
-    match s
-        .import_bytes(&name, &bytes, options, &edge_stamp())
-        .map_err(|e| CliError::work(format!("{name}: import failed: {e}")))?
-    {
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let result = s.import_bytes(&name, &bytes, options, &edge_stamp());
+    drop(meter);
+    match result.map_err(|e| CliError::work(format!("{name}: import failed: {e}")))? {
         Ok(sum) => {
             writeln!(
                 ctx.out,
@@ -219,8 +242,8 @@ pub struct ExportArgs {
 }
 
 pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let filter = args.filter.to_filter()?;
     let s = open_to_read(&ctx.db)?;
+    let filter = args.filter.to_filter(&s)?;
     let mut buf: Vec<u8> = Vec::new();
     // an incident whose row cannot be read is left out and named; the others are exported
     let damaged = match args.format {
@@ -312,16 +335,23 @@ pub struct ListArgs {
     /// Free text over references, positions, descriptions and notes.
     #[arg(long, value_name = "TEXT")]
     pub search: Option<String>,
-    /// At most N incidents.
-    #[arg(long, value_name = "N", default_value_t = 50)]
-    pub limit: u32,
-    /// Sort column.
+    /// At most N incidents; 0 lists every match (read page by page, at constant memory).
+    #[arg(long, value_name = "N", default_value_t = 50, conflicts_with = "all")]
+    pub limit: u64,
+    /// Every match (the same as --limit 0).
+    #[arg(long)]
+    pub all: bool,
+    /// Sort column (found: the date found, as the interface sorts).
     #[arg(long, value_enum, default_value_t = SortArg::Found)]
     pub sort: SortArg,
-    /// Largest / newest first.
-    #[arg(long)]
+    /// Newest / largest first (the default, as in the interface).
+    #[arg(long, conflicts_with = "asc")]
     pub desc: bool,
-    /// Print a JSON array instead of a table.
+    /// Oldest / smallest first.
+    #[arg(long)]
+    pub asc: bool,
+    /// Print a JSON array instead of a table (codes, not labels; `stress_mpa` is the net
+    /// stress at the origin).
     #[arg(long)]
     pub json: bool,
 }
@@ -338,13 +368,75 @@ fn cell(s: &str, width: usize) -> String {
     }
 }
 
-pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    if args.limit == 0 || args.limit > 10_000 {
-        return Err(CliError::usage(
-            "--limit: expected a number from 1 to 10000",
-        ));
+/// Rows read from the database at a time when listing more than one page.
+const LIST_PAGE: u32 = 1000;
+
+/// Codes to labels for the text output of `list` and `show` (`--json` keeps the codes).
+pub(crate) struct Readable {
+    labels: std::collections::HashMap<(store::LookupKind, String), String>,
+}
+
+impl Readable {
+    pub(crate) fn load(s: &Store) -> Result<Self, CliError> {
+        let mut labels = std::collections::HashMap::new();
+        for e in s.all_lookups().map_err(work)? {
+            labels.insert((e.kind, e.code), e.label);
+        }
+        Ok(Readable { labels })
     }
-    let mut filter = args.filter.to_filter()?;
+
+    /// The label of a code, the code itself when the list has no label for it.
+    pub(crate) fn label(&self, kind: store::LookupKind, code: &str) -> String {
+        self.labels
+            .get(&(kind, code.to_string()))
+            .cloned()
+            .unwrap_or_else(|| code.to_string())
+    }
+
+    fn label_or_dash(&self, kind: store::LookupKind, code: &Option<String>) -> String {
+        code.as_deref()
+            .map(|c| clean(&self.label(kind, c)))
+            .unwrap_or_else(|| "—".into())
+    }
+}
+
+fn list_row_text(r: &store::LogRow, names: &Readable) -> String {
+    let where_ = match (&r.asset, r.position.is_empty()) {
+        (Some(a), false) => format!("{a} / {}", r.position),
+        (Some(a), true) => a.clone(),
+        (None, _) => r.position.clone(),
+    };
+    let stress = r
+        .stress_mpa
+        .map(|m| format!("{} MPa", shardlog_core::units::fmt_sig(m, 3)))
+        .unwrap_or_else(|| "—".into());
+    format!(
+        "{} {} {} {} {} {} {} {} {:>10}",
+        cell(&r.reference, 14),
+        cell(
+            &match &r.damaged {
+                Some(_) => "DAMAGED".to_string(),
+                None => r.occurred.to_string(),
+            },
+            10
+        ),
+        cell(&where_, 24),
+        cell(r.product.as_deref().unwrap_or("—"), 10),
+        cell(r.supplier.as_deref().unwrap_or("—"), 10),
+        cell(r.lot.as_deref().unwrap_or("—"), 8),
+        cell(&names.label(store::LookupKind::Status, &r.status), 17),
+        cell(
+            &names.label_or_dash(store::LookupKind::CauseCategory, &r.cause),
+            24
+        ),
+        stress
+    )
+}
+
+pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let limit = if args.all { 0 } else { args.limit };
+    let s = open_to_read(&ctx.db)?;
+    let mut filter = args.filter.to_filter(&s)?;
     filter.text = args.search.clone();
     let sort = Sort {
         column: match args.sort {
@@ -353,83 +445,95 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             SortArg::Stress => SortColumn::Stress,
             SortArg::Status => SortColumn::Status,
         },
-        descending: args.desc,
+        descending: !args.asc,
     };
-    let s = open_to_read(&ctx.db)?;
-    let page = s
-        .list(
-            &filter,
-            sort,
-            &PageRequest {
-                limit: args.limit,
-                after: None,
-                with_total: !args.json,
-            },
-        )
-        .map_err(work)?;
-    if args.json {
-        let text = serde_json::to_string_pretty(&page.rows)
-            .map_err(|e| CliError::work(format!("JSON: {e}")))?;
-        writeln!(ctx.out, "{text}")?;
-        return Ok(());
-    }
-    writeln!(
-        ctx.out,
-        "{} {} {} {} {} {} {} {} {:>10}",
-        cell("ref", 14),
-        cell("found", 10),
-        cell("asset / position", 24),
-        cell("product", 10),
-        cell("supplier", 10),
-        cell("lot", 8),
-        cell("status", 14),
-        cell("cause", 14),
-        "stress"
-    )?;
-    for r in &page.rows {
-        let where_ = match (&r.asset, r.position.is_empty()) {
-            (Some(a), false) => format!("{a} / {}", r.position),
-            (Some(a), true) => a.clone(),
-            (None, _) => r.position.clone(),
-        };
-        let stress = r
-            .stress_mpa
-            .map(|m| format!("{} MPa", shardlog_core::units::fmt_sig(m, 3)))
-            .unwrap_or_else(|| "—".into());
+    let names = Readable::load(&s)?;
+    if !args.json {
         writeln!(
             ctx.out,
             "{} {} {} {} {} {} {} {} {:>10}",
-            cell(&r.reference, 14),
-            cell(
-                &match &r.damaged {
-                    Some(_) => "DAMAGED".to_string(),
-                    None => r.occurred.to_string(),
-                },
-                10
-            ),
-            cell(&where_, 24),
-            cell(r.product.as_deref().unwrap_or("—"), 10),
-            cell(r.supplier.as_deref().unwrap_or("—"), 10),
-            cell(r.lot.as_deref().unwrap_or("—"), 8),
-            cell(&r.status, 14),
-            cell(r.cause.as_deref().unwrap_or("—"), 14),
-            stress
+            cell("ref", 14),
+            cell("found", 10),
+            cell("asset / position", 24),
+            cell("product", 10),
+            cell("supplier", 10),
+            cell("lot", 8),
+            cell("status", 17),
+            cell("cause", 24),
+            "net stress"
         )?;
+    } else {
+        write!(ctx.out, "[")?;
     }
-    for r in page.rows.iter().filter(|r| r.damaged.is_some()) {
-        eprintln!(
-            "shardlog: incident {}: damaged, its date found ({}) cannot be read; listed as DAMAGED",
-            sanitize_for_terminal(&r.reference, false),
-            sanitize_for_terminal(r.damaged.as_deref().unwrap_or(""), false)
-        );
+    // page by page: only one page is held at a time, whatever the number of matches
+    let mut shown: u64 = 0;
+    let mut total = None;
+    let mut after = None;
+    loop {
+        let want = match limit {
+            0 => u64::from(LIST_PAGE),
+            n => (n - shown).min(u64::from(LIST_PAGE)),
+        };
+        let page = s
+            .list(
+                &filter,
+                sort,
+                &PageRequest {
+                    limit: want as u32,
+                    after: after.take(),
+                    with_total: !args.json && shown == 0,
+                },
+            )
+            .map_err(work)?;
+        if shown == 0 {
+            total = page.total;
+        }
+        for r in &page.rows {
+            if let Some(found) = &r.damaged {
+                eprintln!(
+                    "shardlog: incident {}: damaged, its date found ({}) cannot be read; listed as DAMAGED",
+                    sanitize_for_terminal(&r.reference, false),
+                    sanitize_for_terminal(found, false)
+                );
+            }
+            if args.json {
+                let text = serde_json::to_string_pretty(r)
+                    .map_err(|e| CliError::work(format!("JSON: {e}")))?;
+                let indented = text.replace('\n', "\n  ");
+                write!(
+                    ctx.out,
+                    "{}\n  {indented}",
+                    if shown == 0 { "" } else { "," }
+                )?;
+            } else {
+                writeln!(ctx.out, "{}", list_row_text(r, &names))?;
+            }
+            shown += 1;
+        }
+        match page.next {
+            Some(n) if limit == 0 || shown < limit => after = Some(n),
+            _ => break,
+        }
     }
-    let total = page.total.unwrap_or(page.rows.len() as u64);
+    if args.json {
+        writeln!(ctx.out, "{}]", if shown == 0 { "" } else { "\n" })?;
+        return Ok(());
+    }
+    let total = total.unwrap_or(shown);
     writeln!(
         ctx.out,
-        "{} of {} incident{} shown",
-        page.rows.len(),
+        "{} of {} incident{} shown, {}",
+        shown,
         total,
-        if total == 1 { "" } else { "s" }
+        if total == 1 { "" } else { "s" },
+        match (args.sort, args.asc) {
+            (SortArg::Found, false) => "newest first",
+            (SortArg::Found, true) => "oldest first",
+            (SortArg::Stress, false) => "largest net stress first",
+            (SortArg::Stress, true) => "smallest net stress first",
+            (_, false) => "in reverse order",
+            (_, true) => "in order",
+        }
     )?;
     Ok(())
 }
@@ -452,6 +556,7 @@ fn clean_or_dash(x: &Option<String>) -> String {
 /// One examination of `show`: who and when, the readings, the flaw, the stored result.
 fn write_examination(
     out: &mut dyn std::io::Write,
+    names: &Readable,
     number: usize,
     e: &store::Examination,
 ) -> Result<(), CliError> {
@@ -467,13 +572,13 @@ fn write_examination(
         e.examined_on
             .map(|d| d.to_string())
             .unwrap_or_else(|| "—".into()),
-        clean_or_dash(&e.origin_type)
+        names.label_or_dash(store::LookupKind::OriginType, &e.origin_type)
     )?;
     for r in &e.readings {
         writeln!(
             out,
             "    {:<12} {}{}",
-            clean(&r.boundary),
+            clean(&names.label(store::LookupKind::Boundary, &r.boundary)),
             clean(&r.radius.display()),
             r.magnification
                 .map(|m| format!(" at {}×", shardlog_core::units::fmt_sig(m, 3)))
@@ -496,13 +601,39 @@ fn write_examination(
     if let Some(res) = &e.result {
         writeln!(
             out,
-            "    result: net stress {} (95 % {} to {}), applied {}, by {}",
+            "    result: net stress at the origin {} (95 % {} to {}), applied stress {}, by {}",
             stress_or_dash(res.stress_pa),
             stress_or_dash(res.stress_low_pa),
             stress_or_dash(res.stress_high_pa),
             stress_or_dash(res.applied_stress_pa),
             clean(&res.code_version)
         )?;
+        for h in store::bench_record::saved_hypotheses(res) {
+            writeln!(
+                out,
+                "    hypothesis   {}: {}; {} by {}",
+                clean(&h.kind),
+                if h.inputs.is_empty() {
+                    "inputs not recorded".into()
+                } else {
+                    clean(&h.inputs)
+                },
+                stress_or_dash(h.stress_pa),
+                if h.method.is_empty() {
+                    "a method not recorded".into()
+                } else {
+                    clean(&h.method)
+                }
+            )?;
+            writeln!(
+                out,
+                "    verdict      {}",
+                h.verdict
+                    .as_deref()
+                    .map(clean)
+                    .unwrap_or_else(|| "none (no measured stress to compare)".into())
+            )?;
+        }
     }
     Ok(())
 }
@@ -510,6 +641,7 @@ fn write_examination(
 pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let s = open_to_read(&ctx.db)?;
     let inc = s.get(&args.reference).map_err(work)?;
+    let names = Readable::load(&s)?;
     if args.json {
         let text =
             serde_json::to_string_pretty(&inc).map_err(|e| CliError::work(format!("JSON: {e}")))?;
@@ -524,7 +656,11 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         inc.revision,
         inc.id
     )?;
-    writeln!(out, "  status      {}", clean(&inc.status))?;
+    writeln!(
+        out,
+        "  status      {}",
+        clean(&names.label(store::LookupKind::Status, &inc.status))
+    )?;
     writeln!(
         out,
         "  found       {}{}",
@@ -553,33 +689,37 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         clean_or_dash(&inc.glass.supplier),
         clean_or_dash(&inc.glass.product),
         clean_or_dash(&inc.glass.lot),
-        clean(&inc.glass.makeup)
+        clean(&names.label(store::LookupKind::Makeup, &inc.glass.makeup))
     )?;
     for (i, p) in inc.glass.plies.iter().enumerate() {
         writeln!(
             out,
             "    ply {}    {} {} {}",
             i + 1,
-            clean_or_dash(&p.material),
-            clean_or_dash(&p.temper),
+            names.label_or_dash(store::LookupKind::Material, &p.material),
+            names.label_or_dash(store::LookupKind::TemperClass, &p.temper),
             p.thickness_m
                 .map(|x| format!("{} mm", shardlog_core::units::fmt_sig(x * 1e3, 3)))
                 .unwrap_or_default()
         )?;
     }
     if let Some(loc) = &inc.pattern.origin_location {
-        writeln!(out, "  origin at   {}", clean(loc))?;
+        writeln!(
+            out,
+            "  origin at   {}",
+            clean(&names.label(store::LookupKind::OriginLocation, loc))
+        )?;
     }
     for (i, e) in inc.examinations.iter().enumerate() {
-        write_examination(out, i + 1, e)?;
+        write_examination(out, &names, i + 1, e)?;
     }
     if let Some(c) = &inc.cause {
         writeln!(
             out,
             "  cause       {} ({}, responsibility {})",
-            clean(&c.category),
-            clean(&c.confidence),
-            clean(&c.responsibility)
+            clean(&names.label(store::LookupKind::CauseCategory, &c.category)),
+            clean(&names.label(store::LookupKind::Confidence, &c.confidence)),
+            clean(&names.label(store::LookupKind::Responsibility, &c.responsibility))
         )?;
         for f in &c.factors {
             writeln!(out, "    factor    {}", clean(f))?;
@@ -590,7 +730,7 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             out,
             "  custody     {} {} by {} {}",
             c.at.format("%Y-%m-%d %H:%M"),
-            clean(&c.action),
+            clean(&names.label(store::LookupKind::CustodyAction, &c.action)),
             clean(&c.who),
             clean(&c.location)
         )?;
@@ -621,14 +761,29 @@ pub struct VerifyArgs {
     /// Check a dispute bundle folder instead (and compare it with the database if present).
     #[arg(long, value_name = "DIR")]
     pub bundle: Option<std::path::PathBuf>,
+    /// A head taken earlier (`shardlog key`, a signed export or bundle): the chain must still
+    /// hold HASH at entry SEQ. Repeatable.
+    #[arg(long, value_name = "SEQ:HASH")]
+    pub anchor: Vec<crate::store::Anchor>,
+    /// With --bundle: check the bundle's signature against this key (a fingerprint as
+    /// `shardlog key` prints it, or a public key file), with or without the database.
+    #[arg(long, value_name = "FINGERPRINT|PUBKEYFILE", requires = "bundle")]
+    pub key: Option<String>,
 }
 
 pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(dir) = &args.bundle {
-        return verify_bundle(dir, ctx);
+        return verify_bundle(dir, &args, ctx);
     }
     let s = open_to_read(&ctx.db)?;
-    let r = s.verify().map_err(work)?;
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let r = s.verify();
+    drop(meter);
+    let mut r = r.map_err(work)?;
+    for p in s.check_anchors(&args.anchor).map_err(work)? {
+        r.add_problem(p);
+    }
     if args.json {
         let text =
             serde_json::to_string_pretty(&r).map_err(|e| CliError::work(format!("JSON: {e}")))?;
@@ -642,6 +797,16 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
                     "ok: {} audit rows chain correctly, {} records match their last audited version; head {}",
                     r.audit_rows, r.records_checked, r.head
                 )?;
+                if args.anchor.is_empty() {
+                    writeln!(ctx.out, "note: this proves the file agrees with itself, not that its history was never rewritten; check a head kept elsewhere with --anchor SEQ:HASH or --bundle DIR")?;
+                } else {
+                    writeln!(
+                        ctx.out,
+                        "ok: the chain still holds {} anchor{} taken earlier",
+                        args.anchor.len(),
+                        if args.anchor.len() == 1 { "" } else { "s" }
+                    )?;
+                }
             }
             Ok(())
         }
@@ -653,14 +818,48 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     }
 }
 
+/// `--key FINGERPRINT|PUBKEYFILE`: an existing file is read as a public key file.
+fn expected_key(text: &str) -> Result<ExpectedKey, CliError> {
+    let path = Path::new(text);
+    let from_file = path.is_file();
+    let parsed = if from_file {
+        let meta =
+            std::fs::metadata(path).map_err(|e| CliError::usage(format!("--key {text}: {e}")))?;
+        if meta.len() > 4096 {
+            return Err(CliError::usage(format!(
+                "--key {text}: not a public key file (larger than 4 KB)"
+            )));
+        }
+        let t = std::fs::read_to_string(path)
+            .map_err(|e| CliError::usage(format!("--key {text}: {e}")))?;
+        ExpectedKey::parse(&t)
+    } else {
+        ExpectedKey::parse(text)
+    };
+    parsed.ok_or_else(|| {
+        CliError::usage(format!(
+            "--key {}: expected a fingerprint as `shardlog key` prints it (32 hex digits, hyphens optional) or a public key file it wrote",
+            clean(text)
+        ))
+    })
+}
+
 /// `verify --bundle DIR`: the bundle alone, and against the database when there is one.
-fn verify_bundle(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
+/// With `--db` or `$SHARDLOG_DB` the database must exist; without them the bundle is
+/// checked alone when the default database is absent.
+fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let key = args.key.as_deref().map(expected_key).transpose()?;
+    if !args.anchor.is_empty() {
+        return Err(CliError::usage(
+            "--anchor checks the database's chain; with --bundle the bundle's own head is the anchor",
+        ));
+    }
     let store = if ctx.db.exists() {
         Some(open_to_read(&ctx.db)?)
     } else {
         None
     };
-    let check = crate::report::verify_bundle(dir, store.as_ref())?;
+    let check = crate::report::bundle::verify_bundle_with(dir, store.as_ref(), key.as_ref())?;
     let shown = clean(&dir.display().to_string());
     writeln!(
         ctx.out,
@@ -679,7 +878,12 @@ fn verify_bundle(dir: &Path, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if check.ok() {
         writeln!(
             ctx.out,
-            "ok: every file matches the bundle's digest{}",
+            "ok: every file matches the bundle's digest{}{}",
+            if key.is_some() {
+                ", its head is signed with the expected key"
+            } else {
+                ""
+            },
             if check.compared_with_records {
                 " and the bundle matches the records"
             } else {
@@ -721,7 +925,11 @@ pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     refuse_database_files(&args.dest, &ctx.db, "DEST")?;
     clear_leftovers(&args.dest);
     let s = open_to_read(&ctx.db)?;
-    let r = s.backup(&args.dest).map_err(|e| {
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let r = s.backup(&args.dest);
+    drop(meter);
+    let r = r.map_err(|e| {
         CliError::work(format!(
             "backup to {} failed: {e}; nothing was left at {0}",
             args.dest.display()
@@ -772,14 +980,23 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     }
     clear_leftovers(&args.out);
     let started = std::time::Instant::now();
-    let sum = crate::demo::generate(
+    let meter = super::progress::Meter::on_stderr();
+    let mut tell = meter.as_ref().map(|m| m.callback());
+    let sum = crate::demo::generate_told(
         &args.out,
         &crate::demo::DemoOptions {
             incidents: args.incidents,
             seed: args.seed,
         },
-    )
-    .map_err(work)?;
+        &mut |p| {
+            if let Some(t) = tell.as_mut() {
+                t(p)
+            }
+        },
+    );
+    drop(tell);
+    drop(meter);
+    let sum = sum.map_err(work)?;
     writeln!(
         ctx.out,
         "wrote {}: {} incidents, {} examinations, {} custody entries, {} attachments, {} exposure rows ({:.1} s)",

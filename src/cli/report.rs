@@ -2,6 +2,7 @@
 
 use std::path::{Path, PathBuf};
 
+use super::codes::{resolve, resolve_opt, Field};
 use super::records::{open_to_read, write_whole};
 use super::{parse_day, CliError, Context};
 use crate::report::{self, source, summary, Format, Paper};
@@ -55,11 +56,14 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let labels = source::Labels::load(&store).map_err(|e| CliError::work(e.to_string()))?;
     let (content, pictures) = source::incident_content(&store, &labels, &inc)
         .map_err(|e| CliError::work(e.to_string()))?;
-    let head = store
-        .audit_head()
+    let (seq, head) = store
+        .audit_head_entry()
         .map_err(|e| CliError::work(e.to_string()))?;
-    let proof = summary::proof_for(&content, Some(head), &now_text())
+    let mut proof = summary::proof_for(&content, Some(head.clone()), &now_text())
         .map_err(|e| CliError::work(format!("summary content: {e}")))?;
+    proof.signed_head = store
+        .sign_head_at(&super::key::key_dir(), seq, &head, &proof.content_sha256)
+        .map_err(|e| CliError::work(e.to_string()))?;
     let bytes = summary::render(&content, &proof, &pictures, args.format, args.paper)
         .map_err(|e| CliError::work(format!("summary content: {e}")))?;
     match &args.output {
@@ -86,6 +90,13 @@ pub struct DisputeArgs {
     /// Only this lot.
     #[arg(long, value_name = "LOT")]
     pub lot: Option<String>,
+    /// Only incidents of this cause, code or label (repeatable: any of them); the cover
+    /// leads with it and says how many incidents of other causes were left out.
+    #[arg(long, value_name = "C")]
+    pub cause: Vec<String>,
+    /// Only incidents of this origin type, code or label.
+    #[arg(long, value_name = "T")]
+    pub origin_type: Option<String>,
     /// Incidents found on or after this date (YYYY-MM-DD).
     #[arg(long, value_name = "DATE")]
     pub since: Option<String>,
@@ -119,17 +130,39 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     let until = date_flag("until", &args.until)?;
     let store = open_to_read(&ctx.db)?;
     super::records::clear_leftovers(&args.output);
+    let supplier = resolve(&store, Field::Supplier, "--supplier", &args.supplier)?;
+    let lot = resolve_opt(&store, Field::Lot, "--lot", &args.lot)?;
+    let mut causes = Vec::new();
+    for c in &args.cause {
+        let code = resolve(&store, Field::Cause, "--cause", c)?;
+        if !causes.contains(&code) {
+            causes.push(code);
+        }
+    }
+    let origin_type = resolve_opt(
+        &store,
+        Field::OriginType,
+        "--origin-type",
+        &args.origin_type,
+    )?;
     let opts = report::bundle::DisputeOptions {
-        supplier: args.supplier.clone(),
-        lot: args.lot.clone(),
+        supplier,
+        lot,
+        causes,
+        origin_type,
         since,
         until,
         paper: args.paper,
         exported_at: now_text(),
         today: chrono::Utc::now().date_naive(),
+        key_dir: Some(super::key::key_dir()),
         allow_missing_attachments: args.allow_missing_attachments,
     };
-    let w = report::bundle::write_bundle(&store, &opts, &args.output).map_err(CliError::from)?;
+    let meter = super::progress::Meter::on_stderr();
+    store.set_progress(meter.as_ref().map(|m| m.callback()));
+    let w = report::bundle::write_bundle(&store, &opts, &args.output);
+    drop(meter);
+    let w = w.map_err(CliError::from)?;
     writeln!(
         ctx.out,
         "wrote {}: {} incident summaries, {} attachments, {} files",
@@ -140,6 +173,13 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     )?;
     writeln!(ctx.out, "content SHA-256     {}", w.content_sha256)?;
     writeln!(ctx.out, "audit-chain head    {}", w.audit_chain_head)?;
+    if let Some(seq) = w.audit_head_seq {
+        writeln!(ctx.out, "anchor              {seq}:{}", w.audit_chain_head)?;
+    }
+    match &w.signed_head {
+        Some(h) => writeln!(ctx.out, "signed with key     {}", h.fingerprint)?,
+        None => writeln!(ctx.out, "{}", super::key::unsigned_note(&store))?,
+    }
     writeln!(
         ctx.out,
         "check it with: shardlog --db {} verify --bundle {}",

@@ -33,10 +33,10 @@ pub struct WeibullArgs {
 /// Methods, named in every output.
 pub const METHOD_FIT: &str =
     "two-parameter Weibull, maximum likelihood (ASTM C1239 / ISO 20501 equations), right-censoring allowed";
-pub const METHOD_BOUNDS: &str =
-    "Wald intervals on ln m and ln sigma_theta from the observed information (large-sample)";
+pub const METHOD_BOUNDS: &str = "complete samples: pivotal quantities (ASTM C1239) with quantiles from a Monte Carlo table (fixed seed, 200 000 samples per N); censored samples or N over 200: Wald intervals on ln m and ln sigma_theta from the observed information (large-sample)";
 pub const METHOD_PLOT: &str = "Johnson's adjusted ranks, P = (rank - 0.5) / N";
-pub const METHOD_UNBIASED: &str = "ASTM C1239 unbiasing factor (complete samples of 5 or more)";
+pub const METHOD_UNBIASED: &str =
+    "unbiasing factor 1 / E[m_hat / m] from the same Monte Carlo table (complete samples)";
 
 /// Why a censored fit has no unbiased modulus. ASTM C1239 (scope: 1.1 of C1239-00, 1.4 of
 /// C1239-07) gives its bias correction and confidence bounds for samples whose failures all
@@ -44,8 +44,7 @@ pub const METHOD_UNBIASED: &str = "ASTM C1239 unbiasing factor (complete samples
 /// populations; its unbiasing factors are tabulated by the number of specimens of a complete
 /// sample.
 pub const NOTE_UNBIASED_CENSORED: &str = "not given: ASTM C1239 tabulates its unbiasing factors for complete samples from one flaw population and says its bias correction does not apply to competing flaw populations; no factor for censored samples is given there, and none is made up here";
-pub const NOTE_UNBIASED_SMALL: &str =
-    "not given: the ASTM C1239 unbiasing factors start at 5 specimens";
+pub const NOTE_UNBIASED_SMALL: &str = "not given: the unbiasing table starts at 3 specimens";
 /// Why a censored fit has no Anderson-Darling statistic.
 pub const NOTE_AD_CENSORED: &str = "not given: the Anderson-Darling statistic and its 5 % critical value (modified A* against 0.757) are for complete samples; with censored values they do not apply and no censored-sample critical values are used";
 /// What the bounds of a censored fit are.
@@ -346,11 +345,11 @@ pub fn explain(e: &WeibullError, col: &StrengthColumn) -> String {
             col.lines.get(*index).copied().unwrap_or(0)
         ),
         WeibullError::AllCensored => format!(
-            "column '{c}': all {} values are censored (survived); a fit needs at least two failures",
+            "column '{c}': all {} values are censored (survived); a fit needs at least three failures",
             col.specimens.len()
         ),
         WeibullError::TooFewFailures { failures } => format!(
-            "column '{c}': only {failures} failure value(s); a Weibull fit needs at least two"
+            "column '{c}': only {failures} failure value(s); a Weibull fit needs at least three (two points always lie on a line; ASTM C1239 asks for 30)"
         ),
         WeibullError::AllEqual { value } => format!(
             "column '{c}': all failure values are equal ({}); the Weibull modulus is unbounded",
@@ -382,6 +381,9 @@ pub fn fit_json(f: &WeibullFit) -> Value {
         "modulus_ci95": f.modulus_ci95.as_array(),
         "scale_ci90": interval_mpa(f.scale_ci90),
         "scale_ci95": interval_mpa(f.scale_ci95),
+        "modulus_bounds_method": f.modulus_bounds_method,
+        "scale_bounds_method": f.scale_bounds_method,
+        "warnings": f.warnings,
         "anderson_darling": ad.map(|a| a.a2),
         "anderson_darling_modified": ad.map(|a| a.a2_modified),
         "anderson_darling_critical_5pct": ad.map(|a| a.critical_5pct),
@@ -448,11 +450,21 @@ pub fn fit_table(f: &WeibullFit, unit: Unit, indent: &str) -> String {
     line(&mut s, "Weibull modulus m", fmt_sig(f.modulus, 4));
     line(&mut s, "  90 % bounds", iv(f.modulus_ci90, Unit::Pascal));
     line(&mut s, "  95 % bounds", iv(f.modulus_ci95, Unit::Pascal));
+    line(
+        &mut s,
+        "  bounds by",
+        f.modulus_bounds_method.label().to_string(),
+    );
     match (f.modulus_unbiased, f.unbiasing_factor) {
         (Some(m), Some(b)) => line(
             &mut s,
             "unbiased modulus",
-            format!("{} (C1239 factor {:.3} for N = {})", fmt_sig(m, 4), b, f.n),
+            format!(
+                "{} (factor {:.4} for N = {}, 1/E[m̂/m] by Monte Carlo)",
+                fmt_sig(m, 4),
+                b,
+                f.n
+            ),
         ),
         _ => line(
             &mut s,
@@ -461,7 +473,7 @@ pub fn fit_table(f: &WeibullFit, unit: Unit, indent: &str) -> String {
                 "not given: C1239's factors are for complete samples from one flaw population"
                     .to_string()
             } else {
-                "not given: C1239's factors start at N = 5".to_string()
+                "not given: the factors start at N = 3".to_string()
             },
         ),
     }
@@ -479,6 +491,11 @@ pub fn fit_table(f: &WeibullFit, unit: Unit, indent: &str) -> String {
         &mut s,
         "  95 % bounds",
         format!("{} {u}", iv(f.scale_ci95, unit)),
+    );
+    line(
+        &mut s,
+        "  bounds by",
+        f.scale_bounds_method.label().to_string(),
     );
     match f.anderson_darling {
         Some(a) => line(
@@ -510,6 +527,9 @@ pub fn fit_table(f: &WeibullFit, unit: Unit, indent: &str) -> String {
             "large-sample Wald, approximate: C1239's bounds do not cover censored samples"
                 .to_string(),
         );
+    }
+    for w in &f.warnings {
+        line(&mut s, "warning", w.clone());
     }
     s
 }

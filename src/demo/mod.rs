@@ -20,6 +20,7 @@
 use std::path::{Path, PathBuf};
 
 use crate::store::bulk::{AuditRows, BulkFile};
+use crate::store::progress::Progress;
 use crate::store::{Stamp, StoreError};
 
 mod incident;
@@ -54,6 +55,15 @@ pub struct DemoSummary {
 }
 /// Generate the demo database at `out` (which must not exist).
 pub fn generate(out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> {
+    generate_told(out, o, &mut |_| {})
+}
+
+/// [`generate`], telling `progress` how many incidents have been made.
+pub fn generate_told(
+    out: &Path,
+    o: &DemoOptions,
+    progress: &mut (dyn FnMut(Progress) + Send),
+) -> Result<DemoSummary, StoreError> {
     if out.exists() {
         return Err(StoreError::File {
             path: out.display().to_string(),
@@ -63,7 +73,7 @@ pub fn generate(out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> 
     // a hidden name of this process beside the target: a killed run's copy is found and
     // removed by the next one (`store::remove_stale_partials`)
     let tmp: PathBuf = crate::store::temporary_sibling(out);
-    let result = generate_into(&tmp, out, o);
+    let result = generate_into(&tmp, out, o, progress);
     match result {
         Ok(sum) => {
             std::fs::rename(&tmp, out).map_err(|e| StoreError::File {
@@ -79,7 +89,12 @@ pub fn generate(out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> 
     }
 }
 
-fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary, StoreError> {
+fn generate_into(
+    tmp: &Path,
+    out: &Path,
+    o: &DemoOptions,
+    progress: &mut (dyn FnMut(Progress) + Send),
+) -> Result<DemoSummary, StoreError> {
     let mut file = BulkFile::create(tmp, out, o.seed ^ 0x5EED_0000_0000_0001)?;
     let mut rng = Rng(o.seed);
     let world = build_world(&mut rng, o.incidents);
@@ -101,9 +116,18 @@ fn generate_into(tmp: &Path, out: &Path, o: &DemoOptions) -> Result<DemoSummary,
     let attachments = load.attachments();
     let mut maker = Maker::new(&world, &keys, &mut rng, &mut summary, attachments);
     let mut next = plans.iter();
+    let total = Some(plans.len() as u64);
+    let mut made = 0u64;
     // the incidents are made on the load's second thread, in the order they were entered
-    let written =
-        load.write_incidents(audit, |ids| next.next().map(|plan| maker.make(plan, ids)))?;
+    let written = load.write_incidents(audit, |ids| {
+        progress(Progress {
+            stage: "generating",
+            done: made,
+            total,
+        });
+        made += 1;
+        next.next().map(|plan| maker.make(plan, ids))
+    })?;
     summary.incidents += written;
     file.finish()?;
     Ok(summary)

@@ -16,7 +16,7 @@ use subsetter::GlyphRemapper;
 
 use super::chart::{Anchor, Prim, Rgb, GRID, INK};
 use super::doc::{Block, Document, Paper, Table};
-use super::font::{is_invisible, visual, wrap, Font, Weight};
+use super::font::{is_invisible, needs_shaping, visual, wrap, Font, Shaped, Weight};
 use super::image::{decode_png, png_passthrough, Picture, PictureKind};
 
 const MARGIN_X: f32 = 50.0;
@@ -34,7 +34,7 @@ struct FontUse {
     font: Font,
     remap: GlyphRemapper,
     /// new glyph id -> (text it stands for, advance in 1/1000 em)
-    used: BTreeMap<u16, (char, f32)>,
+    used: BTreeMap<u16, (String, f32)>,
 }
 
 /// Characters every subset carries, in a fixed order: with them most documents of a bundle
@@ -62,11 +62,50 @@ impl FontUse {
             };
             let shown = if self.font.has(c) { c } else { '\u{fffd}' };
             let new = self.remap.remap(gid);
-            self.used.entry(new).or_insert((shown, adv * 1000.0));
+            self.used
+                .entry(new)
+                .or_insert_with(|| (shown.to_string(), adv * 1000.0));
             out.extend_from_slice(&new.to_be_bytes());
         }
         out
     }
+
+    /// The TJ items of shaped glyphs: glyph codes, with a position adjustment (thousandths
+    /// of an em, positive to the left) wherever the shaper's advance or offset differs from
+    /// the face's own advance that the PDF's width table carries.
+    fn encode_shaped(&mut self, glyphs: &[Shaped]) -> Vec<Item> {
+        let mut items: Vec<Item> = Vec::new();
+        let push_glyph = |items: &mut Vec<Item>, code: [u8; 2]| match items.last_mut() {
+            Some(Item::Glyphs(b)) => b.extend_from_slice(&code),
+            _ => items.push(Item::Glyphs(code.to_vec())),
+        };
+        for g in glyphs {
+            let own = self.font.advance(g.glyph);
+            let new = self.remap.remap(g.glyph);
+            let entry = self
+                .used
+                .entry(new)
+                .or_insert_with(|| (String::new(), own * 1000.0));
+            if entry.0.is_empty() {
+                entry.0 = g.text.clone();
+            }
+            if g.offset.abs() > 1e-4 {
+                items.push(Item::Adjust(-g.offset * 1000.0));
+            }
+            push_glyph(&mut items, new.to_be_bytes());
+            let rest = own - g.advance + g.offset;
+            if rest.abs() > 1e-4 {
+                items.push(Item::Adjust(rest * 1000.0));
+            }
+        }
+        items
+    }
+}
+
+/// One item of a TJ array.
+enum Item {
+    Glyphs(Vec<u8>),
+    Adjust(f32),
 }
 
 struct ImageRes {
@@ -142,6 +181,9 @@ impl<'d> Writer<'d> {
         anchor: Anchor,
         line: &str,
     ) {
+        if needs_shaping(line) {
+            return self.shaped_text_at(x, baseline, size, w, color, anchor, line);
+        }
         let vis = visual(line);
         if vis.chars().all(|c| c == ' ' || is_invisible(c)) {
             return;
@@ -162,6 +204,41 @@ impl<'d> Writer<'d> {
             .next_line(x, self.ph - baseline)
             .show(Str(&bytes))
             .end_text();
+    }
+
+    /// [`Self::text_at`] for a line that must be shaped (right-to-left or joining scripts).
+    #[allow(clippy::too_many_arguments)]
+    fn shaped_text_at(
+        &mut self,
+        x: f32,
+        baseline: f32,
+        size: f32,
+        w: Weight,
+        color: Rgb,
+        anchor: Anchor,
+        line: &str,
+    ) {
+        let fu = &mut self.fonts[fi(w)];
+        let glyphs = fu.font.shape_line(line);
+        if glyphs.is_empty() {
+            return;
+        }
+        let width = glyphs.iter().map(|g| g.advance).sum::<f32>() * size;
+        let x = match anchor {
+            Anchor::Start => x,
+            Anchor::Middle => x - width / 2.0,
+            Anchor::End => x - width,
+        };
+        let items = fu.encode_shaped(&glyphs);
+        let (r, g, b) = color.f();
+        let fname = if w == Weight::Bold { "F1" } else { "F0" };
+        self.cur
+            .begin_text()
+            .set_fill_rgb(r, g, b)
+            .set_font(Name(fname.as_bytes()), size)
+            .next_line(x, self.ph - baseline);
+        show_items(&mut self.cur, &items);
+        self.cur.end_text();
     }
 
     fn rule(&mut self, x1: f32, y: f32, x2: f32, width: f32, color: Rgb) {
@@ -652,6 +729,17 @@ impl<'d> Writer<'d> {
     }
 }
 
+fn show_items(content: &mut Content, items: &[Item]) {
+    let mut tj = content.show_positioned();
+    let mut list = tj.items();
+    for item in items {
+        match item {
+            Item::Glyphs(bytes) => list.show(Str(bytes)),
+            Item::Adjust(a) => list.adjust(*a),
+        };
+    }
+}
+
 fn deflate(data: &[u8]) -> Vec<u8> {
     miniz_oxide::deflate::compress_to_vec_zlib(data, 6)
 }
@@ -854,7 +942,6 @@ fn write_font(pdf: &mut Pdf, alloc: &mut impl FnMut() -> Ref, type0: Ref, fu: &F
     let desc = alloc();
     let file = alloc();
     let cmap_ref = alloc();
-    let face = &fu.font.face;
     let scale = 1000.0 / fu.font.units_per_em();
     let (sub_tag, data) = subset_cached(fu);
     let name = format!("{}+{}", sub_tag, fu.font.postscript_name);
@@ -899,26 +986,33 @@ fn write_font(pdf: &mut Pdf, alloc: &mut impl FnMut() -> Ref, type0: Ref, fu: &F
             ws.consecutive(s, run.drain(..));
         }
     }
-    let bb = face.global_bounding_box();
+    let bb = fu.font.bounding_box();
+    let (ascender, descender) = fu.font.ascender_descender();
     pdf.font_descriptor(desc)
         .name(Name(name.as_bytes()))
         .flags(FontFlags::SYMBOLIC)
         .bbox(Rect::new(
-            f32::from(bb.x_min) * scale,
-            f32::from(bb.y_min) * scale,
-            f32::from(bb.x_max) * scale,
-            f32::from(bb.y_max) * scale,
+            bb[0] * scale,
+            bb[1] * scale,
+            bb[2] * scale,
+            bb[3] * scale,
         ))
         .italic_angle(0.0)
-        .ascent(f32::from(face.ascender()) * scale)
-        .descent(f32::from(face.descender()) * scale)
-        .cap_height(f32::from(face.capital_height().unwrap_or(face.ascender())) * scale)
-        .stem_v(if fu.font.face.is_bold() { 140.0 } else { 80.0 })
+        .ascent(ascender * scale)
+        .descent(descender * scale)
+        .cap_height(fu.font.cap_height() * scale)
+        .stem_v(if fu.font.weight == Weight::Bold {
+            140.0
+        } else {
+            80.0
+        })
         .font_file2(file);
     pdf.stream(file, &data).filter(Filter::FlateDecode);
     let mut cmap = pdf_writer::types::UnicodeCmap::new(Name(b"Custom"), info);
-    for (&g, &(c, _)) in &fu.used {
-        cmap.pair(g, c);
+    for (&g, (text, _)) in &fu.used {
+        if !text.is_empty() {
+            cmap.pair_with_multiple(g, text.chars());
+        }
     }
     let cmap_data = cmap.finish();
     pdf.stream(cmap_ref, &cmap_data);

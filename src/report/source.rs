@@ -268,7 +268,12 @@ fn examination(l: &Labels, inc: &Incident) -> Examination {
         }
     }
     let (analysis, analysis_note) = computation(inc);
+    let hypotheses = inc
+        .current_result()
+        .map(|(_, r)| store::bench_record::saved_hypotheses(r))
+        .unwrap_or_default();
     Examination {
+        hypotheses,
         origin_type,
         material,
         readings,

@@ -96,6 +96,9 @@ pub struct Examination {
     pub analysis: Option<Analysis>,
     /// Why there is no computation, or where it came from (code version).
     pub analysis_note: Option<String>,
+    /// The load hypotheses saved with the examination, with their verdicts.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub hypotheses: Vec<crate::store::bench_record::SavedHypothesis>,
 }
 
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
@@ -160,6 +163,10 @@ pub struct Proof {
     pub audit_chain_head: Option<String>,
     pub exported_at: String,
     pub generator: String,
+    /// The audit head signed with the database's key together with `content_sha256`
+    /// (a summary made alone; in a bundle, bundle.json carries the signature).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub signed_head: Option<crate::store::signing::SignedHead>,
 }
 
 impl Proof {
@@ -174,13 +181,29 @@ impl Proof {
             ),
             ("Exported".into(), self.exported_at.clone()),
             ("Produced by".into(), self.generator.clone()),
-            (
-                "How to check".into(),
-                "the SHA-256 is taken over the canonical JSON of this summary's content \
-                 (attachments by their hash); `shardlog verify --bundle` recomputes it"
-                    .into(),
-            ),
         ]
+        .into_iter()
+        .chain(self.signed_head.iter().flat_map(|h| {
+            [
+                ("Anchor (entry:hash)".to_string(), h.anchor()),
+                ("Signed with key".to_string(), h.fingerprint.clone()),
+                (
+                    "Signature (Ed25519)".to_string(),
+                    format!(
+                        "{} {}",
+                        &h.signature[..64.min(h.signature.len())],
+                        h.signature.get(64..).unwrap_or("")
+                    ),
+                ),
+            ]
+        }))
+        .chain([(
+            "How to check".into(),
+            "the SHA-256 is taken over the canonical JSON of this summary's content \
+                 (attachments by their hash); `shardlog verify --bundle` recomputes it"
+                .into(),
+        )])
+        .collect()
     }
 }
 
@@ -429,6 +452,67 @@ fn computation_section(d: &mut Document, c: &IncidentContent) {
     }
     if let Some(n) = &e.analysis_note {
         d.note(n.clone());
+    }
+    hypothesis_section(d, c);
+}
+
+/// The load hypotheses saved with the examination: inputs, method, stress and verdict.
+fn hypothesis_section(d: &mut Document, c: &IncidentContent) {
+    let hs = &c.examination.hypotheses;
+    if hs.is_empty() {
+        return;
+    }
+    d.subheading("Load hypothesis and verdict");
+    d.para(
+        "Would the load believed to have acted explain the break, and should a sound pane \
+         have survived it? The hypothesis' stress is compared with the measured stress (its \
+         95 % interval, allowing a factor 1.5 for the load model) and, when a strength lower \
+         bound of a sound pane was given, with that bound.",
+    );
+    for h in hs {
+        let mut rows = vec![
+            ("Load".to_string(), h.kind.clone()),
+            (
+                "Inputs".to_string(),
+                if h.inputs.is_empty() {
+                    "not recorded".into()
+                } else {
+                    h.inputs.clone()
+                },
+            ),
+            (
+                "Method".to_string(),
+                if h.method.is_empty() {
+                    "not recorded".into()
+                } else {
+                    h.method.clone()
+                },
+            ),
+            (
+                "Stress from the hypothesis".to_string(),
+                h.stress_pa
+                    .map(shardlog_core::text::stress)
+                    .unwrap_or_else(|| "not computed".into()),
+            ),
+            (
+                "Verdict".to_string(),
+                h.verdict
+                    .clone()
+                    .unwrap_or_else(|| "no verdict (no measured stress to compare)".into()),
+            ),
+        ];
+        if let Some(s) = h.sound_part_survives {
+            rows.push((
+                "A sound pane under this load".to_string(),
+                if s {
+                    "should have survived: the break needs a flaw, damage or another stress"
+                } else {
+                    "should have broken"
+                }
+                .into(),
+            ));
+        }
+        d.kv(rows);
     }
 }
 
@@ -806,6 +890,7 @@ pub fn proof_for(
         audit_chain_head: chain_head,
         exported_at: exported_at.to_string(),
         generator: generator(),
+        signed_head: None,
     })
 }
 

@@ -149,3 +149,97 @@ pub fn recompute_stored(
     };
     Some(fracture::analyze(&input))
 }
+
+/// How far a stored figure may be from the recomputed one and still be the same: rounding
+/// only (relative 1e-5: a CSV keeps six significant digits; for figures near zero, 1e-5 of
+/// the unit).
+const SAME_WITHIN: f64 = 1e-5;
+
+/// A stored figure against the recomputed one; a figure not stored (a CSV import keeps only
+/// the headline figures) contradicts nothing.
+fn same(stored: Option<f64>, fresh: Option<f64>, unit: f64) -> bool {
+    match (stored, fresh) {
+        (None, _) => true,
+        (Some(x), Some(y)) => (x - y).abs() <= SAME_WITHIN * x.abs().max(y.abs()).max(unit),
+        _ => false,
+    }
+}
+
+/// A figure compared: name, stored, recomputed, its unit in SI, how it is shown.
+type Figure<'a> = (
+    &'a str,
+    Option<f64>,
+    Option<f64>,
+    f64,
+    &'a dyn Fn(Option<f64>) -> String,
+);
+
+/// Whether a stored result still follows from the examination's readings and constants:
+/// None when a recomputation agrees within rounding, else the first figure that differs,
+/// with both values and units. An examination without readings has nothing to recompute
+/// from (a figure stated in a CSV import): None.
+pub fn stored_result_differs(inc: &Incident, exam: &Examination) -> Option<String> {
+    let stored = exam.result.as_ref()?;
+    let fresh = match recompute_stored(inc, exam)? {
+        Ok(analysis) => match to_result(&analysis, stored.computed_at) {
+            Ok(r) => r,
+            Err(e) => return Some(format!("the recomputed result cannot be stored ({e})")),
+        },
+        Err(e) => {
+            return Some(format!(
+                "a result is stored, but its readings give none ({e})"
+            ))
+        }
+    };
+    let mpa = |v: Option<f64>| v.map_or("none".to_string(), |x| format!("{:.3} MPa", x / 1e6));
+    let um = |v: Option<f64>| v.map_or("none".to_string(), |x| format!("{:.3} µm", x * 1e6));
+    let figures: [Figure; 6] = [
+        ("net stress", stored.stress_pa, fresh.stress_pa, 1.0, &mpa),
+        (
+            "net stress low",
+            stored.stress_low_pa,
+            fresh.stress_low_pa,
+            1.0,
+            &mpa,
+        ),
+        (
+            "net stress high",
+            stored.stress_high_pa,
+            fresh.stress_high_pa,
+            1.0,
+            &mpa,
+        ),
+        (
+            "residual stress",
+            stored.residual_pa,
+            fresh.residual_pa,
+            1.0,
+            &mpa,
+        ),
+        (
+            "applied stress",
+            stored.applied_stress_pa,
+            fresh.applied_stress_pa,
+            1.0,
+            &mpa,
+        ),
+        (
+            "flaw size",
+            stored.flaw_size_m,
+            fresh.flaw_size_m,
+            1e-9,
+            &um,
+        ),
+    ];
+    figures
+        .iter()
+        .find(|(_, s, f, unit, _)| !same(*s, *f, *unit))
+        .map(|(name, s, f, _, show)| {
+            format!(
+                "the stored {name} {} does not follow from its readings and constants (recomputed {}; the stored figure came from {})",
+                show(*s),
+                show(*f),
+                stored.code_version
+            )
+        })
+}

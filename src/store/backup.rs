@@ -40,6 +40,7 @@ impl Store {
             };
             {
                 // the copy in one file (no WAL beside it), flushed to the disk
+                self.report_progress("copying", 0, None);
                 sqlite::copy_database(&self.conn, &tmp)?;
             }
             std::fs::File::open(&tmp)
@@ -53,8 +54,13 @@ impl Store {
             }
             let report = {
                 let copy = Store::open_existing(&tmp)?;
+                self.report_progress("checking the copy", 0, None);
                 sqlite::integrity_check(&copy.conn)?;
-                copy.verify()?
+                // the copy's verify tells this store's callback how far it has come
+                copy.set_progress(self.progress.take());
+                let report = copy.verify();
+                self.progress.set(copy.set_progress(None));
+                report?
             };
             if tmp_files.is_dir() {
                 std::fs::rename(&tmp_files, &dest_files).map_err(|e| file_err(&e))?;

@@ -58,8 +58,10 @@ mod files;
 mod ids;
 mod incidents;
 pub mod model;
+pub mod progress;
 mod refdata;
 pub mod safe_file;
+pub mod signing;
 mod sqlite;
 mod verify;
 
@@ -70,6 +72,7 @@ pub use files::{
 pub(crate) use ids::IdGen;
 pub use model::*;
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
+pub use verify::Anchor;
 
 /// Code version recorded with computed results and exports.
 pub const CODE_VERSION: &str = concat!("shardlog ", env!("CARGO_PKG_VERSION"));
@@ -88,6 +91,12 @@ pub enum StoreError {
         path: String,
         found: i64,
         supported: i64,
+    },
+    #[error("{path}: its schema was altered outside shardlog (schema {version}: {found}); it was left untouched and is not opened, migrated or written until the schema is as shardlog made it (restore a backup)")]
+    Altered {
+        path: String,
+        version: i64,
+        found: String,
     },
     #[error("incident {reference} was changed meanwhile (it is at revision {current}, the edit was made on revision {expected}); nothing was saved, reload and edit again")]
     StaleRevision {
@@ -145,6 +154,8 @@ pub struct Store {
     pub(crate) ids: IdGen,
     /// (kind, code) of every lookup entry, for validating writes.
     pub(crate) lookups: LookupSet,
+    /// Told how far long work (import, verify, backup) has come.
+    progress: progress::ProgressSlot,
 }
 
 /// The fixed time and actor of audit rows written by migrations (seeded lookup entries).
@@ -181,6 +192,19 @@ impl Store {
 
     fn open_file(path: &Path, create: bool) -> Result<Store, StoreError> {
         let (conn, version) = sqlite::open_checked(path, create)?;
+        let altered = sqlite::schema_differences(&conn, version)?;
+        if !altered.is_empty() {
+            let n = altered.len();
+            let mut found = altered.into_iter().take(3).collect::<Vec<_>>().join("; ");
+            if n > 3 {
+                found.push_str(&format!("; and {} more", n - 3));
+            }
+            return Err(StoreError::Altered {
+                path: path.display().to_string(),
+                version,
+                found,
+            });
+        }
         sqlite::set_file_pragmas(&conn)?;
         // beside the database's real file: opened through a link, the folder is still the
         // one beside the file the records are in
@@ -228,7 +252,19 @@ impl Store {
             files_dir,
             ids: IdGen::new(seed),
             lookups: LookupSet::default(),
+            progress: progress::ProgressSlot::default(),
         }
+    }
+
+    /// Be told how far long work (import, verify, backup, a dispute bundle) has come; `None`
+    /// stops it. Returns the callback that was set before.
+    pub fn set_progress(&self, f: Option<progress::ProgressFn>) -> Option<progress::ProgressFn> {
+        self.progress.set(f)
+    }
+
+    /// Tell the progress callback, if any, that `done` of `total` rows of `stage` are done.
+    pub fn report_progress(&self, stage: &'static str, done: u64, total: Option<u64>) {
+        self.progress.tell(stage, done, total);
     }
 
     /// Make key generation deterministic (tests, the demo generator).

@@ -442,10 +442,15 @@ pub struct LookupEntry {
     pub note: String,
 }
 
+/// The cause filter's value for the incidents with no cause recorded yet (the review's
+/// backlog). No cause code is this word: the lookup codes are checked against it.
+pub const NO_CAUSE: &str = "none";
+
 /// Filters for [`crate::store::Store::list`] and exports. All given filters must match.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 pub struct Filter {
     pub status: Option<String>,
+    /// A cause code, or [`NO_CAUSE`] for incidents with no cause recorded.
     pub cause: Option<String>,
     pub origin_type: Option<String>,
     /// Supplier code.
@@ -606,6 +611,14 @@ pub struct VerifyReport {
 impl VerifyReport {
     pub fn ok(&self) -> bool {
         self.first_problem.is_none()
+    }
+
+    /// Count one more problem (found outside the store's own checks, e.g. an anchor).
+    pub fn add_problem(&mut self, msg: String) {
+        if self.first_problem.is_none() {
+            self.first_problem = Some(msg);
+        }
+        self.problems += 1;
     }
 }
 

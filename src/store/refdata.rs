@@ -521,6 +521,12 @@ pub(crate) fn insert_lookup(
     stamp: &Stamp,
 ) -> Result<(), StoreError> {
     check_code("lookup code", &e.code)?;
+    if e.kind == LookupKind::CauseCategory && e.code.eq_ignore_ascii_case(NO_CAUSE) {
+        return Err(StoreError::Invalid {
+            field: "cause code".into(),
+            message: format!("'{NO_CAUSE}' is kept for the filter of incidents with no cause"),
+        });
+    }
     let exists: Option<i64> = conn
         .prepare_cached("SELECT 1 FROM lookup WHERE kind = ?1 AND code = ?2")?
         .query_row(params![e.kind.as_str(), e.code], |r| r.get(0))

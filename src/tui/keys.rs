@@ -57,7 +57,7 @@ pub static TABLE: &[Binding] = &[
         ctxs: &[Prompt],
         keys: &[c('y'), c('Y')],
         label: "y",
-        desc: "yes, leave and drop the changes",
+        desc: "yes: leave, quit or save, as the question asks",
         action: Action::Yes,
         footer: true,
     },
@@ -371,6 +371,15 @@ pub static TABLE: &[Binding] = &[
         action: Action::Back,
         footer: true,
     },
+    // --- the analyst's name, asked on first use ---
+    Binding {
+        ctxs: &[Name],
+        keys: &[k(KeyCode::Enter)],
+        label: "Enter",
+        desc: "use this name for the history and the readings",
+        action: Action::Confirm,
+        footer: true,
+    },
     // --- one incident ---
     Binding {
         ctxs: &[Incident],
@@ -411,6 +420,14 @@ pub static TABLE: &[Binding] = &[
         desc: "add a specimen custody entry",
         action: Action::AddCustody,
         footer: true,
+    },
+    Binding {
+        ctxs: &[Incident],
+        keys: &[c('v')],
+        label: "v",
+        desc: "History: restore the highlighted revision (written as a new change)",
+        action: Action::Revert,
+        footer: false,
     },
     Binding {
         ctxs: &[Incident, Log],
@@ -462,7 +479,7 @@ pub static TABLE: &[Binding] = &[
         footer: true,
     },
     Binding {
-        ctxs: &[Global, Help, Field, MultiField, Pick, Prompt, Search],
+        ctxs: &[Global, Help, Field, MultiField, Pick, Prompt, Search, Name],
         keys: &[ctrl('c')],
         label: "C-c",
         desc: "quit from any screen (asks first if there are unsaved changes)",
@@ -559,6 +576,12 @@ fn out_keys(ctx: Ctx) -> Vec<K> {
         .filter(|b| b.ctxs.contains(&ctx))
         .flat_map(|b| b.keys.iter().copied())
         .collect()
+}
+
+/// Whether a binding does something on `screen` (the text keys are shared by every form;
+/// F2 only works in the bench calculator).
+pub fn works_on(b: &Binding, screen: crate::app::Screen) -> bool {
+    b.action != Action::JumpHypothesis || screen == crate::app::Screen::Bench
 }
 
 /// The footer entries for `ctx`.

@@ -20,17 +20,52 @@ use ratatui::{backend::Backend, Terminal};
 
 use crate::app::{Action, App};
 
-/// Open the terminal interface on the database at `db`; `actor` is who the audit log records
-/// as the author of changes.
-pub fn run(db: &Path, actor: &str) -> anyhow::Result<()> {
-    let mut app = App::open(db, actor)?;
+/// Who the audit log records as the author of changes.
+pub enum Analyst {
+    /// Set on purpose (`SHARDLOG_USER`, or kept from an earlier first use).
+    Known(String),
+    /// Not known yet: ask before anything else, offering `suggestion`, and keep the answer in
+    /// the file `keep_in`.
+    Ask {
+        suggestion: Option<String>,
+        keep_in: std::path::PathBuf,
+    },
+}
+
+/// Open the terminal interface on the database at `db`.
+pub fn run(db: &Path, who: Analyst) -> anyhow::Result<()> {
+    let (mut app, keep_in) = match who {
+        Analyst::Known(name) => (App::open(db, &name)?, None),
+        Analyst::Ask {
+            suggestion,
+            keep_in,
+        } => {
+            let mut app = App::open(db, suggestion.as_deref().unwrap_or("analyst"))?;
+            app.ask_name(suggestion.as_deref());
+            (app, Some(keep_in))
+        }
+    };
     app.home = std::env::var_os("HOME").map(std::path::PathBuf::from);
     let mut terminal = ratatui::try_init()?;
     install_panic_hook();
     let _ = execute!(io::stdout(), EnableMouseCapture, EnableBracketedPaste);
     let result = event_loop(&mut terminal, &mut app);
     restore();
+    if let (Some(path), Some(name)) = (keep_in, app.name_to_keep.take()) {
+        keep_name(&path, &name)?;
+    }
     result
+}
+
+/// Keep the analyst's name for the next start (a file of one line).
+fn keep_name(path: &Path, name: &str) -> anyhow::Result<()> {
+    use anyhow::Context;
+    if let Some(dir) = path.parent() {
+        std::fs::create_dir_all(dir)
+            .with_context(|| format!("keeping your name: cannot create {}", dir.display()))?;
+    }
+    crate::store::write_atomically(path, format!("{name}\n").as_bytes(), false)
+        .with_context(|| format!("keeping your name in {}", path.display()))
 }
 
 /// Turn mouse capture and bracketed paste off, then give the terminal back.

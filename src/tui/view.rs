@@ -64,10 +64,50 @@ pub fn draw(app: &App, f: &mut Frame) {
     if let Some(p) = &app.prompt {
         draw_prompt(p, f, body, th);
     }
+    if let Some(entry) = &app.name_entry {
+        draw_name_entry(entry, f, body, th);
+    }
+}
+
+/// The first-use question: the analyst's name, in a box over the screen.
+fn draw_name_entry(entry: &crate::app::field::Field, f: &mut Frame, body: Rect, th: &Theme) {
+    let area = widgets::centered(body, 60, 7);
+    if area.width < 10 || area.height < 5 {
+        return;
+    }
+    Clear.render(area, f.buffer_mut());
+    let inner_w = area.width.saturating_sub(2) as usize;
+    let (_, col) = entry.caret();
+    let text = entry.text();
+    let before: String = text.chars().take(col).collect();
+    let after: String = text.chars().skip(col).collect();
+    let lines = vec![
+        Line::from("Who is at the bench? Your name goes into the history of every"),
+        Line::from("change and beside every reading (SHARDLOG_USER sets it too)."),
+        Line::from(""),
+        Line::from(vec![
+            Span::styled("Your name: ", th.label),
+            Span::raw(fit(&widgets::clean(&before), inner_w.saturating_sub(13))),
+            Span::styled("▏", th.focus_border),
+            Span::raw(widgets::clean(&after)),
+        ]),
+    ];
+    widgets::para(lines)
+        .block(
+            Block::default()
+                .borders(Borders::ALL)
+                .border_style(th.focus_border)
+                .title(" First use "),
+        )
+        .render(area, f.buffer_mut());
 }
 
 fn draw_title(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
-    let left = format!(" shardlog · {}", screen_title(app));
+    let left = format!(
+        " shardlog · {} · {}",
+        screen_title(app),
+        fit(&widgets::clean(&app.actor), 24)
+    );
     let mut right = widgets::clean(&app.db_path.display().to_string());
     if app.read_only() {
         right.push_str(" (read-only)");
@@ -99,7 +139,8 @@ fn draw_status(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
 
 fn draw_footer(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
     let ctx = app.ctx();
-    let all = keys::footer_for(ctx);
+    let mut all = keys::footer_for(ctx);
+    all.retain(|b| keys::works_on(b, app.screen()));
     // the help key is always shown, at the end; the others as many as fit before it
     let help = all
         .iter()
@@ -166,7 +207,10 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         lines.push(Line::from(n));
     }
     let kw = 12usize;
-    for b in keys::bindings_for(ctx) {
+    for b in keys::bindings_for(ctx)
+        .into_iter()
+        .filter(|b| keys::works_on(b, app.screen()))
+    {
         lines.push(Line::from(vec![
             Span::styled(widgets::fit_left(b.label, kw), th.focus_label),
             Span::raw(b.desc),
@@ -213,13 +257,31 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
 }
 
 fn draw_prompt(p: &Prompt, f: &mut Frame, body: Rect, th: &Theme) {
-    let text = match p {
-        Prompt::DiscardChanges => {
-            "You have unsaved changes. Leave and drop them? y = leave, n or Esc = stay"
-        }
-        Prompt::QuitDiscard => {
-            "You have unsaved changes. Quit and drop them? y = quit, n or Esc = stay"
-        }
+    let (text, title) = match p {
+        Prompt::DiscardChanges => (
+            "You have unsaved changes. Leave and drop them? y = leave, n or Esc = stay".to_string(),
+            " Unsaved changes ",
+        ),
+        Prompt::QuitDiscard => (
+            "You have unsaved changes. Quit and drop them? y = quit, n or Esc = stay".to_string(),
+            " Unsaved changes ",
+        ),
+        Prompt::Revert { what, .. } => (
+            format!(
+                "Restore {}? It is written as a new change; the history keeps everything. \
+                 y = restore, n or Esc = keep",
+                widgets::clean(what)
+            ),
+            " Restore a revision ",
+        ),
+        Prompt::SaveDuplicate(refs) => (
+            format!(
+                "{} has the same asset, position and date found. Save this one as well? \
+                 y = save, n or Esc = back to the form",
+                widgets::clean(refs)
+            ),
+            " Possible duplicate ",
+        ),
     };
     let area = widgets::centered(body, 50, 5);
     if area.width < 6 || area.height < 3 {
@@ -231,7 +293,7 @@ fn draw_prompt(p: &Prompt, f: &mut Frame, body: Rect, th: &Theme) {
             Block::default()
                 .borders(Borders::ALL)
                 .border_style(th.focus_border)
-                .title(" Unsaved changes "),
+                .title(title),
         )
         .render(area, f.buffer_mut());
 }

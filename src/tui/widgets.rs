@@ -399,6 +399,85 @@ pub fn wrapped_rows(lines: &[Line<'_>], width: u16) -> u16 {
     u16::try_from(rows).unwrap_or(u16::MAX)
 }
 
+const NO_BREAK: &str = "\u{a0}";
+
+/// Unit symbols a number is never parted from.
+const UNITS: &[&str] = &[
+    "MPa",
+    "kPa",
+    "GPa",
+    "Pa",
+    "mm",
+    "µm",
+    "m",
+    "K",
+    "N",
+    "kN",
+    "ms",
+    "s",
+    "kg",
+    "m/s",
+    "%",
+    "MPa·√m",
+    "psi",
+    "ksi",
+    "in",
+];
+
+/// The results' lines with no-break spaces between a number and its unit and inside an
+/// interval ("51.1 – 70.7 MPa"), so that wrapping moves a figure whole to the next line.
+pub fn keep_figures_whole(lines: Vec<Line<'static>>) -> Vec<Line<'static>> {
+    lines
+        .into_iter()
+        .map(|mut l| {
+            for span in &mut l.spans {
+                let glued = glue(&span.content);
+                if glued != span.content {
+                    span.content = glued.into();
+                }
+            }
+            l
+        })
+        .collect()
+}
+
+fn glue(text: &str) -> String {
+    let chars: Vec<char> = text.chars().collect();
+    let mut out = String::with_capacity(text.len());
+    for (i, &c) in chars.iter().enumerate() {
+        if c == ' ' && i > 0 && i + 1 < chars.len() {
+            let prev = chars[i - 1];
+            let next = chars[i + 1];
+            let word: String = chars[i + 1..]
+                .iter()
+                .take_while(|c| !matches!(c, ' ' | ')' | ',' | ';'))
+                .collect();
+            let unit_follows = prev.is_ascii_digit() && UNITS.contains(&word.as_str());
+            let dash_follows = prev.is_ascii_digit() && next == '–';
+            let after_dash = prev == '–' && next.is_ascii_digit();
+            if unit_follows || dash_follows || after_dash {
+                out.push('\u{a0}');
+                continue;
+            }
+        }
+        out.push(c);
+    }
+    out
+}
+
+/// Draw the no-break spaces that kept figures whole (see [`keep_figures_whole`]) as spaces.
+pub fn spaces_for_no_breaks(buf: &mut ratatui::buffer::Buffer, area: Rect) {
+    let area = area.intersection(buf.area);
+    for row in area.y..area.y + area.height {
+        for col in area.x..area.x + area.width {
+            let cell = &mut buf[(col, row)];
+            if cell.symbol() == NO_BREAK {
+                cell.set_symbol(" ");
+            }
+        }
+    }
+}
+
 /// A paragraph that wraps, for messages that must be read whole.
 pub fn para(lines: Vec<Line<'static>>) -> Paragraph<'static> {
     Paragraph::new(lines).wrap(ratatui::widgets::Wrap { trim: false })

@@ -44,28 +44,25 @@ fn incident(found: NaiveDate, supplier: &str, lot: &str, origin: &str) -> Incide
         material: Some("soda_lime".into()),
         readings: vec![MirrorReading {
             boundary: "mirror_mist".into(),
-            radius: Measured::parse("0.82 mm", Dimension::Length).unwrap(),
+            // a radius for each day, so that each incident has its own stress
+            radius: Measured::parse(
+                &format!("{:.2} mm", 0.6 + 0.02 * found.day() as f64),
+                Dimension::Length,
+            )
+            .unwrap(),
             magnification: Some(40.0),
             analyst: "ines".into(),
             note: String::new(),
         }],
         flaw: None,
-        result: Some(ComputedResult {
-            computed_at: DateTime::parse_from_rfc3339("2026-05-20T10:00:00Z")
-                .unwrap()
-                .with_timezone(&Utc),
-            code_version: "shardlog 0.1.0".into(),
-            stress_pa: Some(found.day() as f64 * 1e6 + 150e6),
-            stress_low_pa: None,
-            stress_high_pa: None,
-            residual_pa: Some(-100e6),
-            applied_stress_pa: Some(found.day() as f64 * 1e6 + 50e6),
-            flaw_size_m: None,
-            constants: serde_json::json!({}),
-            analysis: serde_json::json!({"note": "invented for a test"}),
-        }),
+        result: None,
         notes: String::new(),
     });
+    let at = DateTime::parse_from_rfc3339("2026-05-20T10:00:00Z")
+        .unwrap()
+        .with_timezone(&Utc);
+    let r = analysis::compute(&inc, &inc.examinations[0], at).unwrap();
+    inc.examinations[0].result = Some(r);
     inc
 }
 
@@ -196,6 +193,9 @@ fn facts_follow_every_write() {
     edited.glass.supplier = Some("ORVALE".into());
     edited.glass.lot = Some("L2291".into());
     edited.examinations[0].origin_type = Some("edge_chip".into());
+    // a surface origin changes the residual stress: the result is computed again
+    let r = analysis::compute(&edited, &edited.examinations[0], st.at).unwrap();
+    edited.examinations[0].result = Some(r);
     s.update_incident(&edited, &st).unwrap();
     assert_same(&s, "after an edit");
     let facts = s

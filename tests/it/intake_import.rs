@@ -606,7 +606,7 @@ fn the_import_fuzz_seeds_pass_the_targets_checks() {
         let options = ImportOptions {
             dry_run: data[0] & 2 == 2,
             strict: data[0] & 1 == 1,
-            attachments: None,
+            ..ImportOptions::default()
         };
         match s
             .import_bytes("fuzz.json", &data[1..], options, &stamp())

@@ -114,7 +114,10 @@ fn the_interface_reads_a_read_only_database_and_refuses_saves() {
     std::fs::set_permissions(dir.path(), std::fs::Permissions::from_mode(0o555)).expect("chmod");
 
     let mut cmd = Command::new(env!("CARGO_BIN_EXE_shardlog"));
-    cmd.arg("--db").arg(&db).env("TERM", "xterm-256color");
+    cmd.arg("--db")
+        .arg(&db)
+        .env("TERM", "xterm-256color")
+        .env("SHARDLOG_USER", "Ines Varga-Holm");
     if as_root {
         cmd.uid(65534).gid(65534).env("HOME", "/nonexistent");
     }

@@ -513,3 +513,286 @@ fn flaw_sizes_for_each_geometry_from_one_analysis_equal_separate_analyses() {
         }
     }
 }
+
+// ---------------------------------------------------------------- published values, one table
+
+/// One check against a published value: what, the source named, what the program gives,
+/// the published figure and the relative tolerance (the published figure's last digit, or
+/// the stated reason).
+struct Published {
+    what: &'static str,
+    source: &'static str,
+    got: f64,
+    want: f64,
+    rel: f64,
+}
+
+const SP811: &str = "NIST SP 811 (2008), Appendix B (exact by definition)";
+const AS: &str = "Abramowitz & Stegun, Handbook of Mathematical Functions (1964)";
+const GARWOOD: &str = "Garwood, Biometrika 28 (1936) 437, exact Poisson limits";
+const TWK: &str = "Timoshenko & Woinowsky-Krieger, Theory of Plates and Shells (1959)";
+
+fn unit(text: &str, dim: Dimension) -> f64 {
+    units::parse(text, dim).expect("a unit of the table")
+}
+
+fn unit_checks() -> Vec<Published> {
+    use Dimension::*;
+    let p = |what, got, want| Published {
+        what,
+        source: SP811,
+        got,
+        want,
+        rel: 1e-6,
+    };
+    vec![
+        p("1 in", unit("1in", Length), 0.0254),
+        p("1 ft", unit("1ft", Length), 0.3048),
+        p("1 mil", unit("1mil", Length), 2.54e-5),
+        p("1 cm", unit("1cm", Length), 0.01),
+        p("1 µm", unit("1um", Length), 1e-6),
+        p("1 psi", unit("1psi", Stress), 6_894.757),
+        p("1 ksi", unit("1ksi", Stress), 6.894_757e6),
+        p("1 bar", unit("1bar", Stress), 1e5),
+        p("1 kN/m²", unit("1kN/m²", Stress), 1e3),
+        p("1 N/mm²", unit("1N/mm²", Stress), 1e6),
+        p("1 lbf", unit("1lbf", Force), 4.448_222),
+        p("1 kgf", unit("1kgf", Force), 9.806_65),
+        p("1 lb", unit("1lb", Mass), 0.453_592_37),
+        p("1 knot", unit("1knot", Speed), 0.514_444_4),
+        p("1 mph", unit("1mph", Speed), 0.447_04),
+        p("1 km/h", unit("1km/h", Speed), 0.277_777_8),
+        p("1 min", unit("1min", Time), 60.0),
+        p("1 °F difference", unit("9°F", TemperatureDifference), 5.0),
+        // ASTM E399 lists 1 ksi·√in = 1.0988 MPa·√m
+        Published {
+            what: "1 ksi√in",
+            source: "ASTM E399, units note: 1 ksi·in^½ = 1.0988 MPa·m^½",
+            got: unit("1ksi√in", Toughness),
+            want: 1.0988e6,
+            rel: 5e-5,
+        },
+    ]
+}
+
+fn special_function_checks() -> Vec<Published> {
+    use shardlog_core::fleet::special::{
+        chi2_quantile, erfc, ln_gamma, normal_cdf, normal_quantile,
+    };
+    use shardlog_core::fracture::uncertainty::t975;
+    use shardlog_core::loads::plates::disc_mean;
+    let p = |what, source, got, want, rel| Published {
+        what,
+        source,
+        got,
+        want,
+        rel,
+    };
+    vec![
+        p("erfc(0.5)", AS, erfc(0.5), 0.479_500_122_2, 1e-9),
+        p("erfc(1)", AS, erfc(1.0), 0.157_299_207_1, 1e-9),
+        p("erfc(2)", AS, erfc(2.0), 0.004_677_734_981, 1e-8),
+        p("erfc(3)", AS, erfc(3.0), 2.209_049_699e-5, 1e-7),
+        p("z(0.975)", AS, normal_quantile(0.975), 1.959_964, 1e-6),
+        p("z(0.95)", AS, normal_quantile(0.95), 1.644_854, 1e-6),
+        p("Φ(1.96)", AS, normal_cdf(1.96), 0.975_002_1, 1e-6),
+        p("ln Γ(½) = ln √π", AS, ln_gamma(0.5), 0.572_364_942_9, 1e-9),
+        p("χ²₀.₉₅(1)", AS, chi2_quantile(1.0, 0.95), 3.841_459, 1e-6),
+        p("χ²₀.₉₅(10)", AS, chi2_quantile(10.0, 0.95), 18.307_04, 1e-6),
+        p("2J₁(1)/1", AS, disc_mean(1.0), 2.0 * 0.440_050_585_7, 1e-9),
+        p("2J₁(2)/2", AS, disc_mean(2.0), 0.576_724_807_8, 1e-9),
+        p(
+            "2J₁(5)/5",
+            AS,
+            disc_mean(5.0),
+            2.0 * -0.327_579_137_6 / 5.0,
+            1e-8,
+        ),
+        p(
+            "2J₁(10)/10",
+            AS,
+            disc_mean(10.0),
+            2.0 * 0.043_472_746_2 / 10.0,
+            1e-7,
+        ),
+        p("t₀.₉₇₅(1)", AS, t975(1), 12.706, 1e-4),
+        p("t₀.₉₇₅(5)", AS, t975(5), 2.571, 2e-4),
+        p("t₀.₉₇₅(10)", AS, t975(10), 2.228, 2e-4),
+    ]
+}
+
+fn poisson_checks() -> Vec<Published> {
+    use shardlog_core::fleet::poisson_interval;
+    let p = |what, got, want| Published {
+        what,
+        source: GARWOOD,
+        got,
+        want,
+        rel: 1e-6,
+    };
+    vec![
+        p("k = 0, upper", poisson_interval(0, 0.95).high, 3.688_879),
+        p("k = 1, lower", poisson_interval(1, 0.95).low, 0.025_317_8),
+        p("k = 1, upper", poisson_interval(1, 0.95).high, 5.571_643),
+        p("k = 5, lower", poisson_interval(5, 0.95).low, 1.623_486),
+        p("k = 5, upper", poisson_interval(5, 0.95).high, 11.668_33),
+        p("k = 10, lower", poisson_interval(10, 0.95).low, 4.795_389),
+        p("k = 10, upper", poisson_interval(10, 0.95).high, 18.390_36),
+    ]
+}
+
+fn plate_checks() -> Vec<Published> {
+    use shardlog_core::loads::plates::{self, Edges, Plate, PlateLoad, Shape};
+    use shardlog_core::loads::Elastic;
+    let mat = Elastic {
+        youngs_modulus: 70e9,
+        poisson: 0.3,
+    };
+    let (q, t) = (1000.0, 0.01);
+    let d = plates::rigidity(mat.youngs_modulus, 0.3, t);
+    let bend = |shape, edges, b: Option<f64>| {
+        plates::bend(&Plate {
+            shape,
+            edges,
+            span: 1.0,
+            span_b: b,
+            thickness: t,
+            material: mat,
+            load: PlateLoad::Pressure(q),
+        })
+        .expect("plate")
+    };
+    let six_beta =
+        |edges, ratio: f64| bend(Shape::Rectangular, edges, Some(ratio)).stress * t * t / q;
+    let mut v = Vec::new();
+    // clamped, middle of the long edge, 6β (β of Table 35 printed to three figures)
+    for (what, ratio, want) in [
+        ("clamped 6β, b/a 1.0", 1.0, 0.3078),
+        ("clamped 6β, b/a 1.2", 1.2, 0.3834),
+        ("clamped 6β, b/a 1.4", 1.4, 0.4356),
+        ("clamped 6β, b/a 1.6", 1.6, 0.4680),
+        ("clamped 6β, b/a 1.8", 1.8, 0.4872),
+        ("clamped 6β, b/a 2.0", 2.0, 0.4974),
+    ] {
+        v.push(Published {
+            what,
+            source: "Timoshenko & Woinowsky-Krieger, Table 35 (ν = 0.3)",
+            got: six_beta(Edges::Clamped, ratio),
+            want,
+            rel: 1e-3,
+        });
+    }
+    v.push(Published {
+        what: "clamped square, centre deflection / (q a⁴/D)",
+        source: "Timoshenko & Woinowsky-Krieger, Table 35",
+        got: bend(Shape::Rectangular, Edges::Clamped, Some(1.0)).deflection * d / q,
+        want: 0.00126,
+        rel: 5e-3,
+    });
+    for (what, ratio, want) in [
+        ("simply supported β, b/a 1.0", 1.0, 0.2874),
+        ("simply supported β, b/a 2.0", 2.0, 0.6102),
+        ("simply supported β, b/a 3.0", 3.0, 0.7134),
+    ] {
+        v.push(Published {
+            what,
+            source:
+                "Roark's Formulas for Stress and Strain, 7th ed., Table 11.4 case 1a; TWK Table 8",
+            got: six_beta(Edges::SimplySupported, ratio),
+            want,
+            rel: 3e-3,
+        });
+    }
+    // circular plates of radius a = 0.5 (span is the diameter)
+    let a: f64 = 0.5;
+    let circ = |edges| bend(Shape::Circular, edges, None);
+    v.push(Published {
+        what: "clamped circle, edge σ = 3qa²/4t²",
+        source: TWK,
+        got: circ(Edges::Clamped).stress,
+        want: 0.75 * q * a * a / (t * t),
+        rel: 1e-9,
+    });
+    v.push(Published {
+        what: "clamped circle, w = qa⁴/64D",
+        source: TWK,
+        got: circ(Edges::Clamped).deflection,
+        want: q * a.powi(4) / (64.0 * d),
+        rel: 1e-9,
+    });
+    v.push(Published {
+        what: "simply supported circle, centre σ = 3(3+ν)qa²/8t²",
+        source: TWK,
+        got: circ(Edges::SimplySupported).stress,
+        want: 3.0 * 3.3 * q * a * a / (8.0 * t * t),
+        rel: 1e-9,
+    });
+    v.push(Published {
+        what: "simply supported circle, w = (5+ν)qa⁴/64(1+ν)D",
+        source: TWK,
+        got: circ(Edges::SimplySupported).deflection,
+        want: 5.3 * q * a.powi(4) / (64.0 * 1.3 * d),
+        rel: 1e-9,
+    });
+    v.push(Published {
+        what: "clamped long plate, edge σ → 6·qa²/12t² (the strip)",
+        source: "Roark's Formulas for Stress and Strain, Table 11.4 case 8a, b/a = ∞: β₁ = 0.5",
+        got: six_beta(Edges::Clamped, 10.0),
+        want: 0.5,
+        rel: 1e-4,
+    });
+    v
+}
+
+fn fracture_checks() -> Vec<Published> {
+    use shardlog_core::fracture::residual::{linear_central_tension, thermal_layer_fraction};
+    vec![
+        Published {
+            what: "ion-exchanged CT, CS 700 MPa, DOL 40 µm, t 0.7 mm",
+            source: "Varshneya, Int. J. Appl. Glass Sci. 1 (2010) 131: CT = CS·DOL/(t − 2·DOL)",
+            got: linear_central_tension(700e6, 40e-6, 0.7e-3) / 1e6,
+            want: 700.0 * 0.04 / 0.62,
+            rel: 1e-12,
+        },
+        Published {
+            what: "thermally tempered compressive layer depth / thickness",
+            source: "Gardon, parabolic tempering profile (Glass: Science and Technology 5, 1980): zero at x = 1/√3",
+            got: thermal_layer_fraction(),
+            want: 0.211_325,
+            rel: 1e-5,
+        },
+        Published {
+            what: "embedded penny crack Y",
+            source: "Sneddon, Proc. R. Soc. A 187 (1946) 229: K = 2σ√(a/π)",
+            got: geometry_factor(&FlawGeometry::EmbeddedPenny),
+            want: 2.0 / PI.sqrt(),
+            rel: 1e-12,
+        },
+    ]
+}
+
+#[test]
+fn published_values_table() {
+    let all: Vec<Published> = [
+        unit_checks(),
+        special_function_checks(),
+        poisson_checks(),
+        plate_checks(),
+        fracture_checks(),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
+    let mut failed = Vec::new();
+    for c in &all {
+        assert!(!c.source.trim().is_empty(), "{} names no source", c.what);
+        if (c.got - c.want).abs() > c.rel * c.want.abs() {
+            failed.push(format!(
+                "{}: got {}, published {} ± {} relative ({})",
+                c.what, c.got, c.want, c.rel, c.source
+            ));
+        }
+    }
+    assert!(failed.is_empty(), "{}", failed.join("\n"));
+    assert!(all.len() >= 60, "{} published checks", all.len());
+}

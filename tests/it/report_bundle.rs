@@ -295,17 +295,35 @@ fn each_kind_of_edit_is_found() {
     for (path, bytes) in bundle::render_files(&bf.content, &pictures, 2) {
         std::fs::write(d.join(&path), bytes).unwrap();
     }
+    // the forger cannot sign the new content: with the signature kept it fails alone
+    rewrite_consistently(&d, bf.clone());
+    let signed = bundle::verify_bundle(&d, None).unwrap();
+    assert!(
+        signed
+            .problems
+            .iter()
+            .any(|p| p.contains("the signature was made for other content")),
+        "{:?}",
+        signed.problems
+    );
+    // so it drops the signature
+    bf.signed_head = None;
     rewrite_consistently(&d, bf);
     let alone = bundle::verify_bundle(&d, None).unwrap();
     assert!(
         alone.ok(),
-        "a consistent forgery passes without the records: {:?}",
+        "a consistent, unsigned forgery passes without the records: {:?}",
         alone.problems
+    );
+    assert!(
+        alone.notes.iter().any(|n| n.contains("not signed")),
+        "{:?}",
+        alone.notes
     );
     let (code, out) = verify(&s.db, &d);
     assert_eq!(code, 1, "{out}");
     assert!(
-        out.contains(&format!("incident {victim}: matches the bundle's selection in the records but is missing from the bundle")),
+        out.contains(&format!("incident {victim}: matched the bundle's selection in the records as they stood at its head")),
         "{out}"
     );
 
@@ -376,7 +394,8 @@ fn dispute_refuses_bad_input_clearly() {
         ],
     );
     assert_eq!(o.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&o.stderr).contains("--supplier NOBODY"));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("--supplier: 'NOBODY'"), "{err}");
     let o = shardlog(
         &demo.db,
         &[
@@ -654,4 +673,231 @@ fn the_cover_comparison_matches_stats_and_list_over_the_window() {
             assert_eq!(Some(all.rest_incidents), g["rest_count"].as_u64(), "{what}");
         }
     }
+}
+
+/// Text of a PDF as pdftotext reads it, with runs of white space made one space (a phrase
+/// may wrap at a line end).
+fn pdf_words(path: &Path) -> String {
+    let o = Command::new("pdftotext")
+        .arg(path)
+        .arg("-")
+        .output()
+        .expect("pdftotext runs (poppler-utils)");
+    assert!(o.status.success(), "pdftotext {}", path.display());
+    String::from_utf8_lossy(&o.stdout)
+        .split_whitespace()
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+/// A claim on a lot for one failure mode: `--cause nickel_sulfide` on the demo lot BS-2207.
+/// The cover leads with that cause and flags the lot for it, says how many incidents of the
+/// lot's other causes were left out (and which), fits one Weibull population per cause
+/// (never fewer than 3 stresses), and counts the saved hypothesis verdicts; the incident
+/// summary's PDF text holds the hypothesis, and `verify --bundle` passes.
+#[test]
+fn a_cause_claim_leads_with_its_cause_and_counts_what_it_left_out() {
+    use shardlog::store::bench_record::{attach_hypotheses, ThermalHypothesis};
+    use shardlog_core::loads::verdict::{judge, Measured};
+    let (tmp, db) = default_demo();
+    let listed = |args: &[&str]| -> Vec<serde_json::Value> {
+        let mut a = vec![
+            "list",
+            "--all",
+            "--json",
+            "--supplier",
+            "BRELLIN",
+            "--lot",
+            "BS-2207",
+        ];
+        a.extend_from_slice(args);
+        let o = shardlog(&db, &a);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        serde_json::from_slice::<serde_json::Value>(&o.stdout)
+            .unwrap()
+            .as_array()
+            .unwrap()
+            .clone()
+    };
+    let whole_lot = listed(&[]).len() as u64;
+    let nis = listed(&["--cause", "nickel_sulfide"]);
+    let no_cause = listed(&["--cause", "none"]).len() as u64;
+    assert!(nis.len() >= 3 && no_cause > 0, "{} {no_cause}", nis.len());
+    // one nickel sulfide incident gets a thermal hypothesis, judged as the bench judges it:
+    // 5 MPa against the measured stress and a sound-pane bound of 45 MPa
+    let with_hypothesis = {
+        let mut s = shardlog::store::Store::open_existing(&db).unwrap();
+        let (inc, mut exam) = nis
+            .iter()
+            .map(|r| s.get(r["id"].as_str().unwrap()).unwrap())
+            .find_map(|inc| {
+                let e = inc.examinations.iter().rev().find(|e| e.result.is_some())?;
+                Some((inc.clone(), e.clone()))
+            })
+            .expect("a nickel sulfide incident with a result");
+        let r = exam.result.as_mut().unwrap();
+        let measured = Measured {
+            stress: r.stress_pa.unwrap(),
+            low: r.stress_low_pa.unwrap(),
+            high: r.stress_high_pa.unwrap(),
+        };
+        let v = judge(&measured, 5e6, Some(45e6)).unwrap();
+        let thermal = ThermalHypothesis {
+            delta_t_k: 8.0,
+            restraint: 1.0,
+            stress_pa: 5e6,
+            verdict: Some(v.explanation.clone()),
+        };
+        attach_hypotheses(r, Some(&thermal), None);
+        let stamp = shardlog::store::Stamp::new("test", chrono::Utc::now());
+        s.put_examination(&inc.id, inc.revision, &exam, &stamp)
+            .unwrap();
+        inc.reference
+    };
+    let dir = tmp.path().join("nis-claim");
+    let o = shardlog(
+        &db,
+        &[
+            "dispute",
+            "--supplier",
+            "Brellin Safety Glass",
+            "--lot",
+            "bs-2207",
+            "--cause",
+            "NICKEL_SULFIDE",
+            "-o",
+            dir.to_str().unwrap(),
+        ],
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let bf = read_bundle(&dir);
+    assert_eq!(
+        bf.content.selection.causes,
+        vec!["nickel_sulfide".to_string()]
+    );
+    let cover = &bf.content.cover;
+    assert_eq!(cover.incidents as usize, nis.len());
+    // what was left out, by cause, adds up to the rest of the lot
+    let x = cover.excluded.as_ref().expect("the exclusions are stated");
+    assert_eq!(
+        x.claimed_causes,
+        vec!["nickel sulfide inclusion".to_string()]
+    );
+    assert_eq!(x.before, whole_lot);
+    let left: u64 = x.left_out.iter().map(|c| c.count).sum();
+    assert_eq!(left, whole_lot - nis.len() as u64);
+    let backlog = x
+        .left_out
+        .iter()
+        .find(|c| c.label == "no cause recorded yet")
+        .expect("the incidents without a cause are counted as left out");
+    assert_eq!(backlog.count, no_cause);
+    // the lot is flagged for the claimed cause, and that row leads
+    let lr = cover.lot_rate.as_ref().expect("a lot rate");
+    assert!(lr.rows[0].claimed, "{:?}", lr.rows[0]);
+    assert_eq!(lr.rows[0].cause, "nickel sulfide inclusion");
+    assert!(lr.rows[0].flagged, "{:?}", lr.rows[0]);
+    // one population per cause: the claim's rows are all nickel sulfide, no fit below 3
+    let claimed: Vec<_> = cover.weibull.iter().filter(|w| w.claimed).collect();
+    assert_eq!(claimed.len(), 1, "{claimed:?}");
+    assert!(claimed[0].group.ends_with("nickel sulfide inclusion"));
+    assert!(claimed[0].modulus.is_some());
+    for w in &cover.weibull {
+        assert!(w.group.ends_with("nickel sulfide inclusion"), "{}", w.group);
+        assert!(w.n >= 3 || w.modulus.is_none(), "{w:?}");
+    }
+    // the verdicts, counted
+    assert_eq!(cover.verdicts.with_hypothesis, 1);
+    assert_eq!(cover.verdicts.sound_pane_survives, 1);
+    assert_eq!(cover.verdicts.consistent + cover.verdicts.too_weak, 1);
+    let text = pdf_words(&dir.join("cover.pdf"));
+    for want in [
+        "This claim concerns nickel sulfide inclusion only.",
+        &format!(
+            "Left out: {left} of the {whole_lot} incidents of this selection are of another kind"
+        ),
+        &format!("{no_cause} no cause recorded yet"),
+        "1 broke under a load a sound pane should have survived",
+        "below 1 in 100 million",
+    ] {
+        assert!(text.contains(want), "{want:?} not in the cover: {text}");
+    }
+    // the lead comes before the tables
+    assert!(text.find("This claim concerns") < text.find("Incidents by cause"));
+    let summary = pdf_words(&dir.join(format!("incidents/{with_hypothesis}.pdf")));
+    for want in [
+        "Load hypothesis and verdict",
+        "temperature difference ΔT 8.00 K, restraint k = 1.00",
+        "a sound part should have survived",
+    ] {
+        assert!(
+            summary.contains(want),
+            "{want:?} not in the summary: {summary}"
+        );
+    }
+    let (code, out) = verify(&db, &dir);
+    assert_eq!(code, 0, "{out}");
+}
+
+/// An edited figure in figures.csv (its hash in bundle.json made to match) is named by its
+/// row, the incident's reference and the column, with the value in the file and the value
+/// the content gives; the CSV's numbers carry no float noise.
+#[test]
+fn an_edited_csv_figure_is_named_by_row_and_column() {
+    let s = setup();
+    let d = s.copy("csv");
+    let csv = std::fs::read_to_string(d.join("figures.csv")).unwrap();
+    let header: Vec<&str> = csv.lines().next().unwrap().split(',').collect();
+    let col = header
+        .iter()
+        .position(|h| *h == "applied_stress_mpa")
+        .unwrap();
+    let mut lines: Vec<String> = csv.lines().map(String::from).collect();
+    // the second incident row; its reference is the first field
+    let reference = lines[2].split(',').next().unwrap().to_string();
+    // the figures are plain decimals of at most six significant figures
+    for l in &lines[1..] {
+        for field in l.split(',') {
+            if let Ok(v) = field.parse::<f64>() {
+                let significant = field
+                    .trim_start_matches(['-', '0', '.'])
+                    .chars()
+                    .filter(|c| c.is_ascii_digit())
+                    .count();
+                assert!(significant <= 6 || v.fract() == 0.0, "float noise: {field}");
+            }
+        }
+    }
+    // the row's fields (a quoted field may hold commas)
+    let fields: Vec<String> = {
+        let mut out = Vec::new();
+        let mut cur = String::new();
+        let mut quoted = false;
+        for ch in lines[2].chars() {
+            match ch {
+                '"' => {
+                    quoted = !quoted;
+                    cur.push(ch)
+                }
+                ',' if !quoted => out.push(std::mem::take(&mut cur)),
+                _ => cur.push(ch),
+            }
+        }
+        out.push(cur);
+        out
+    };
+    let old = fields[col].clone();
+    assert!(!old.is_empty(), "{}", lines[2]);
+    let mut edited = fields.clone();
+    edited[col] = "99.9".into();
+    lines[2] = edited.join(",");
+    std::fs::write(d.join("figures.csv"), lines.join("\n") + "\n").unwrap();
+    let bf = read_bundle(&d);
+    rewrite_consistently(&d, bf);
+    let (code, out) = verify(&s.db, &d);
+    assert_eq!(code, 1, "{out}");
+    let want = format!(
+        "figures.csv: row 2 ({reference}), column applied_stress_mpa: the file has '99.9', the content gives '{old}'"
+    );
+    assert!(out.contains(&want), "{want:?} not in:\n{out}");
 }

@@ -49,20 +49,13 @@ fn sample(found: NaiveDate) -> Incident {
             note: String::new(),
         }],
         flaw: None,
-        result: Some(ComputedResult {
-            computed_at: at("2026-03-14T10:00:00Z"),
-            code_version: "shardlog 0.1.0".into(),
-            stress_pa: Some(18.78e6),
-            stress_low_pa: Some(16.1e6),
-            stress_high_pa: Some(21.3e6),
-            residual_pa: Some(0.0),
-            applied_stress_pa: Some(18.78e6),
-            flaw_size_m: None,
-            constants: serde_json::json!({"A_b": 2.3e6}),
-            analysis: serde_json::json!({"note": "test", "values": [0.1, 2.5e-7]}),
-        }),
+        result: None,
         notes: "thermal pattern".into(),
     });
+    // the stored result is what the readings give (computed 2.3 / √0.015 = 18.78 MPa);
+    // verify recomputes it
+    let r = analysis::compute(&inc, &inc.examinations[0], at("2026-03-14T10:00:00Z")).unwrap();
+    inc.examinations[0].result = Some(r);
     inc
 }
 

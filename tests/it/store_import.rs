@@ -91,7 +91,8 @@ fn csv_round_trip_is_identical_for_its_columns() {
     let mut second = Vec::new();
     dst.export_csv(&Filter::default(), &mut second).unwrap();
     assert_eq!(String::from_utf8(second).unwrap(), text);
-    assert!(dst.verify().unwrap().ok());
+    let r = dst.verify().unwrap();
+    assert!(r.ok(), "{:?}", r.first_problem);
 }
 
 /// CSV export guards text cells a spreadsheet would run as a formula with a leading
@@ -190,7 +191,8 @@ fn csv_export_guards_formulas_and_import_undoes_the_guard() {
     let mut second = Vec::new();
     dst.export_csv(&Filter::default(), &mut second).unwrap();
     assert_eq!(String::from_utf8(second).unwrap(), text);
-    assert!(dst.verify().unwrap().ok());
+    let r = dst.verify().unwrap();
+    assert!(r.ok(), "{:?}", r.first_problem);
 }
 
 /// Split one CSV line (quoted fields without newlines) for the test above.
@@ -461,7 +463,7 @@ fn problems_after_a_multi_line_cell_name_the_physical_line() {
         .unwrap_err();
     let all: Vec<String> = rej.problems.iter().map(|p| p.to_string()).collect();
     assert_eq!(all.len(), 1, "{all:?}");
-    assert!(all[0].starts_with("line 6: status: "), "{all:?}");
+    assert!(all[0].starts_with("line 6, column status: "), "{all:?}");
     assert_eq!(s.incident_count().unwrap(), 0);
 }
 

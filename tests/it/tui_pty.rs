@@ -28,8 +28,18 @@ impl Pty {
     fn spawn_with(db: &Path, env: &[(&str, &str)]) -> Pty {
         let mut cmd = Command::new(env!("CARGO_BIN_EXE_shardlog"));
         cmd.arg("--db").arg(db);
+        // a named analyst and a data folder of the test's own, unless the test says otherwise
+        // (an empty value removes the variable)
+        cmd.env("SHARDLOG_USER", "Ines Varga-Holm");
+        if let Some(dir) = db.parent() {
+            cmd.env("XDG_DATA_HOME", dir.join("data"));
+        }
         for (k, v) in env {
-            cmd.env(k, v);
+            if v.is_empty() {
+                cmd.env_remove(k);
+            } else {
+                cmd.env(k, v);
+            }
         }
         cmd.env("TERM", "xterm-256color");
         cmd.env_remove("NO_COLOR");
@@ -200,6 +210,8 @@ fn no_color_turns_colour_off() {
     cmd.arg("--db").arg(&db);
     cmd.env("TERM", "xterm-256color");
     cmd.env("NO_COLOR", "1");
+    cmd.env("SHARDLOG_USER", "Ines Varga-Holm");
+    cmd.env("XDG_DATA_HOME", dir.path().join("data"));
     let mut session = Session::spawn(cmd).expect("spawn");
     session
         .get_process_mut()
@@ -261,4 +273,55 @@ fn a_panic_restores_the_terminal() {
         "the panic message is readable:\n{}",
         pty.screen()
     );
+}
+
+#[test]
+fn the_analysts_name_is_asked_on_first_use_kept_and_written_in_the_history() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("pty-name.db");
+    let env = [("SHARDLOG_USER", ""), ("USER", "ivh")];
+    let mut pty = Pty::spawn_with(&db, &env);
+    pty.wait_text("Your name");
+    // the login name is offered; typing replaces it
+    assert!(pty.screen().contains("ivh"), "{}", pty.screen());
+    pty.send("Ines Varga-Holm\r");
+    pty.wait_text("recorded as Ines Varga-Holm");
+    // the header names the analyst
+    let header = pty.screen().lines().next().unwrap_or("").to_string();
+    assert!(header.contains("Ines Varga-Holm"), "{header}");
+    pty.send("n");
+    pty.wait_text("New incident");
+    pty.send("car 77\r");
+    pty.wait_text("car 77 (new)");
+    pty.send("\u{13}");
+    pty.wait_text("created BR-");
+    pty.send("\u{3}");
+    assert_eq!(pty.finish(), 0, "{}", pty.screen());
+
+    // the next start does not ask again, and the history says the name
+    let mut pty = Pty::spawn_with(&db, &env);
+    pty.wait_text("1 incident matches");
+    assert!(!pty.screen().contains("Your name"), "{}", pty.screen());
+    assert!(pty
+        .screen()
+        .lines()
+        .next()
+        .unwrap_or("")
+        .contains("Ines Varga-Holm"));
+    pty.send("\u{3}");
+    assert_eq!(pty.finish(), 0);
+    let out = Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        .arg("--db")
+        .arg(&db)
+        .args(["list", "--json"])
+        .output()
+        .unwrap();
+    let rows: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let reference = rows[0]["ref"].as_str().unwrap().to_string();
+    let store = shardlog::store::Store::open(&db).unwrap();
+    let history = store.history(&reference).unwrap();
+    assert!(!history.is_empty());
+    for h in &history {
+        assert_eq!(h.actor, "Ines Varga-Holm");
+    }
 }

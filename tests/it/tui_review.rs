@@ -9,7 +9,7 @@ use ratatui::crossterm::event::KeyCode;
 use shardlog::app::review::Panel;
 use shardlog::app::{App, Screen};
 use shardlog::store::{Cause, ComputedResult, Examination, Exposure, Incident, Ply, Stamp, Store};
-use shardlog::tui::harness::{key, render, send, type_str};
+use shardlog::tui::harness::{key, key_mod, render, send, type_str};
 use shardlog_core::fleet::query::{StatsQuery, StressKind};
 use shardlog_core::fleet::{group, GroupOptions, GroupTable, Key};
 
@@ -451,8 +451,8 @@ fn an_empty_database_opens_the_review_without_figures_to_fail_on() {
 }
 
 /// Incidents with no cause yet are a backlog, not a cause: the bar chart puts them last
-/// whatever their count (Pareto practice); Enter on that bar says the log cannot filter
-/// to them (the log's filters select a recorded value).
+/// whatever their count (Pareto practice); Enter on that bar opens the log filtered to the
+/// incidents with no cause recorded (the same count), and Esc goes back to the review.
 #[test]
 fn incidents_without_a_cause_come_last_in_the_cause_bars() {
     let dir = tempfile::tempdir().unwrap();
@@ -484,13 +484,64 @@ fn incidents_without_a_cause_come_last_in_the_cause_bars() {
         send(&mut app, &key(KeyCode::Down));
     }
     send(&mut app, &key(KeyCode::Enter));
+    assert_eq!(app.screen(), Screen::Log);
+    assert_eq!(app.log.filter.cause.as_deref(), Some("none"));
+    let t = text(&render(&mut app, 80, 24));
+    assert_eq!(app.log.total, Some(20));
+    assert!(t.contains("20 incidents match"), "{t}");
+    assert!(t.contains("cause none"), "the filter line names it:\n{t}");
+    // Esc: back to the review, on the same bar
+    send(&mut app, &key(KeyCode::Esc));
     assert_eq!(app.screen(), Screen::Review);
-    let msg = &app.message.as_ref().unwrap().text;
-    assert!(msg.contains("no cause recorded"), "{msg}");
-    // the bar above it, the smallest cause found, still opens its incidents
+    assert_eq!(app.review.selected(), n - 1);
+    let t = text(&render(&mut app, 80, 24));
+    assert!(t.contains("20 ("), "{t}");
+    // the bar above it, the smallest cause found, opens its incidents too
     send(&mut app, &key(KeyCode::Up));
     send(&mut app, &key(KeyCode::Enter));
     assert_eq!(app.screen(), Screen::Log);
+    assert_ne!(app.log.filter.cause.as_deref(), Some("none"));
+    // leaving the review gives the log beneath it its own (empty) filter back
+    send(&mut app, &key(KeyCode::Esc));
+    send(&mut app, &key(KeyCode::Esc));
+    assert_eq!(app.screen(), Screen::Log);
+    assert!(app.at_top());
+    assert_eq!(app.log.filter, Default::default());
+    render(&mut app, 80, 24);
+    assert_eq!(app.log.total, Some(50));
+}
+
+/// The log's own filter form offers "no cause recorded yet" beside the causes.
+#[test]
+fn the_log_filter_offers_no_cause_recorded() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = build(dir.path());
+    let mut store = Store::open(&db).unwrap();
+    let stamp = Stamp::new("test", Utc.with_ymd_and_hms(2026, 1, 6, 9, 0, 0).unwrap());
+    for i in 0..3 {
+        let inc = Incident::draft(d(2025, 6, 1) + chrono::Days::new(i));
+        store.create_incident(&inc, &stamp).unwrap();
+    }
+    let mut app = App::with_store(Store::open(&db).unwrap(), &db).unwrap();
+    render(&mut app, 80, 24);
+    send(&mut app, &key(KeyCode::Char('f')));
+    // status, then cause: type to narrow the pick-list, Enter chooses
+    send(&mut app, &key(KeyCode::Tab));
+    type_str(&mut app, "no cause");
+    let t = text(&render(&mut app, 80, 24));
+    assert!(t.contains("no cause recorded yet"), "{t}");
+    send(&mut app, &key(KeyCode::Enter));
+    send(
+        &mut app,
+        &key_mod(
+            KeyCode::Char('s'),
+            ratatui::crossterm::event::KeyModifiers::CONTROL,
+        ),
+    );
+    assert_eq!(app.screen(), Screen::Log);
+    assert_eq!(app.log.filter.cause.as_deref(), Some("none"));
+    render(&mut app, 80, 24);
+    assert_eq!(app.log.total, Some(3));
 }
 
 #[test]
@@ -572,4 +623,88 @@ fn enter_on_a_month_of_a_charted_group_opens_only_that_group() {
         screen.contains(&format!(" {want} {word} match")),
         "{want}: {screen}"
     );
+}
+
+/// The demo fleet grouped by cause × lot at 80×24: every visible row reads differently
+/// (the lot is kept whole; the cause label gives way), no figure is cut ("…" appears only
+/// in a group name), and the note above the table does not contradict the flags below it.
+#[test]
+fn cause_by_lot_rows_stay_distinguishable_at_80_columns() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("demo.db");
+    shardlog::demo::generate(
+        &db,
+        &shardlog::demo::DemoOptions {
+            incidents: shardlog::demo::DEFAULT_INCIDENTS,
+            seed: shardlog::demo::DEFAULT_SEED,
+        },
+    )
+    .unwrap();
+    let mut app = App::with_store(Store::open(&db).unwrap(), &db).unwrap();
+    open_all(&mut app);
+    send(&mut app, &key(KeyCode::Char('2')));
+    send(&mut app, &key(KeyCode::Char('2')));
+    assert_eq!(app.review.keys, vec![Key::Cause, Key::Lot]);
+    assert_eq!(app.review.panel, Panel::Groups);
+    let rows = app.review.data.as_ref().unwrap().table.rows.len();
+    assert!(rows > 20, "{rows}");
+    let mut seen = std::collections::BTreeSet::new();
+    let mut flagged_seen = false;
+    // page through every row: each screen's rows must differ from all seen before
+    for _ in 0..rows {
+        let lines = render(&mut app, 80, 24);
+        let t = text(&lines);
+        let header = lines
+            .iter()
+            .position(|l| l.contains(" group ") && l.contains("p Holm"))
+            .unwrap_or_else(|| panic!("no table header:\n{t}"));
+        let p_col = lines[header].find("p Holm").unwrap();
+        for l in &lines[header + 1..] {
+            let body = l.trim_start_matches(['▶', ' ']);
+            if body.is_empty() || !l.contains(" · ") || l.contains(" incidents · ") {
+                continue;
+            }
+            // the figures after the name are whole
+            let name_end = l.find("  ").unwrap_or(l.len());
+            assert!(!l[name_end..].contains('…'), "a figure is cut: {l}\n{t}");
+            seen.insert(body.trim_end().to_string());
+            if l.contains("HIGH") {
+                flagged_seen = true;
+                assert!(l.len() > p_col);
+            }
+        }
+        if flagged_seen {
+            assert!(
+                !t.contains("no flags") && t.contains("HIGH: above the rest"),
+                "the note contradicts a flagged row:\n{t}"
+            );
+        }
+        send(&mut app, &key(KeyCode::Down));
+    }
+    assert_eq!(seen.len(), rows, "some rows read the same: {seen:#?}");
+    // the rows of one cause in different lots keep their lot
+    assert!(seen.iter().any(|r| r.contains("· BS-2207")), "{seen:#?}");
+    assert!(flagged_seen);
+    // cause × season is not an exposure key; its note still agrees with its flags
+    for _ in 0..4 {
+        send(&mut app, &key(KeyCode::Char('2')));
+    }
+    assert_eq!(app.review.keys, vec![Key::Cause, Key::Season]);
+    let flagged = app
+        .review
+        .data
+        .as_ref()
+        .unwrap()
+        .table
+        .rows
+        .iter()
+        .any(|r| r.flagged);
+    let t = text(&render(&mut app, 80, 24));
+    assert!(t.contains("not an exposure key"), "{t}");
+    if flagged {
+        assert!(
+            !t.contains("no flags") && t.contains("HIGH: above the rest"),
+            "{t}"
+        );
+    }
 }

@@ -230,7 +230,10 @@ fn edit_validate_save_and_see_the_history_entry() {
     }
     assert_eq!(app.incident.as_ref().unwrap().section, Section::History);
     let lines = render(&mut app, 100, 30);
-    let first_entry = lines.iter().find(|l| l.contains(" #")).unwrap();
+    let first_entry = lines
+        .iter()
+        .find(|l| l.contains("▸#") || l.contains(" #"))
+        .unwrap();
     assert!(first_entry.contains("changed"), "{first_entry}");
     assert!(first_entry.contains("position"), "{first_entry}");
     assert!(text(&lines).contains(&reference));

@@ -9,6 +9,7 @@
 //! - [`special`]: incomplete gamma and beta functions and their quantiles.
 
 pub mod group;
+pub mod pivotal;
 pub mod query;
 pub mod rates;
 pub mod special;
@@ -16,12 +17,19 @@ pub mod trend;
 pub mod weibull;
 
 pub use group::{
-    group, histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow, GroupTable,
-    GroupValue, IncidentFacts, Key, Window,
+    group, histogram, round_histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow,
+    GroupTable, GroupValue, IncidentFacts, Key, Window,
 };
 pub use query::{StatsQuery, StressKind};
 pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
 pub use trend::{
-    group_trends, monthly_counts, seasonality, trend, GroupTrend, MonthCount, Seasonality, Trend,
+    group_trends, monthly_counts, seasonality, seasonality_of_months, trend, GroupTrend,
+    MonthCount, Seasonality, Trend,
 };
-pub use weibull::{fit, fit_population, fit_values, Interval, Specimen, WeibullError, WeibullFit};
+pub use weibull::{
+    fit, fit_population, fit_values, BoundMethod, Interval, Specimen, WeibullError, WeibullFit,
+};
+
+/// The one word that marks a group significantly above the rest of the fleet (exact test,
+/// Holm-adjusted), in the command line, the interface and the reports alike.
+pub const FLAG_WORD: &str = "HIGH";

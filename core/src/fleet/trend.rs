@@ -265,6 +265,11 @@ pub struct Seasonality {
 /// Seasonality of the incidents over the window.
 pub fn seasonality(dates: &[NaiveDate], exposures: &[Exposure], window: &Window) -> Seasonality {
     let months = monthly_counts(dates, exposures, window);
+    seasonality_of_months(&months)
+}
+
+/// Seasonality of monthly counts already made (a group's own months, from its trend).
+pub fn seasonality_of_months(months: &[MonthCount]) -> Seasonality {
     let basis = if !months.is_empty() && months.iter().all(|m| m.pane_years > 0.0) {
         ExposureBasis::PaneYears
     } else {
@@ -272,7 +277,7 @@ pub fn seasonality(dates: &[NaiveDate], exposures: &[Exposure], window: &Window)
     };
     let mut observed = [0u64; 12];
     let mut weight = [0.0f64; 12];
-    for m in &months {
+    for m in months {
         let i = (m.month - 1) as usize;
         observed[i] += m.count;
         weight[i] += match basis {

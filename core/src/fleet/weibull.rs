@@ -14,10 +14,14 @@
 //! inside a bracket (bisection when a step leaves it). Values are divided by the largest one
 //! first, so σ^m never overflows.
 //!
-//! Confidence bounds: Wald intervals on ln m and ln σ_θ, with the variances taken from the
-//! inverse of the observed information matrix at the estimate (large-sample theory; C1239's
-//! tabulated factors are exact for complete samples and give somewhat wider bounds when N is
-//! small). Probability-plot positions: Johnson's adjusted ranks, then C1239's estimator
+//! Confidence bounds: for a complete sample, from the pivotal quantities m̂/m and
+//! m̂·ln(σ̂_θ/σ_θ) as ASTM C1239 gives them, with quantiles from this program's Monte Carlo
+//! table ([`super::pivotal`]); the unbiasing factor 1/E[m̂/m] comes from the same table.
+//! For a censored sample (or one larger than the table), Wald intervals on ln m and ln σ_θ
+//! with the variances from the inverse of the observed information matrix at the estimate
+//! (large-sample theory: at N = 5 a nominal 90 % Wald interval on m covers about 78 %).
+//! [`BoundMethod`] says which made each bound. A fit needs three failures; below ten values
+//! it carries a warning. Probability-plot positions: Johnson's adjusted ranks, then C1239's estimator
 //! P = (rank − 0.5) / N (for complete samples this is exactly C1239's (i − 0.5)/N).
 //! Goodness of fit: the Anderson–Darling statistic against the fitted distribution, with
 //! Stephens' small-sample modification for estimated parameters (complete samples only).
@@ -25,6 +29,13 @@
 //! Units: whatever the caller passes (Pa inside shardlog); the modulus has none.
 
 use super::special::normal_quantile;
+
+/// The fewest failures a fit is made on: two points always lie on a line, so a modulus from
+/// them says nothing.
+pub const MIN_FAILURES: usize = 3;
+
+/// Below this many values the result carries a warning: ASTM C1239 asks for at least 30.
+pub const FEW_VALUES: usize = 10;
 
 /// One specimen: its stress, and whether it survived that stress (right-censored) instead of
 /// breaking at it.
@@ -58,7 +69,10 @@ pub enum WeibullError {
     NotPositive { index: usize, value: f64 },
     #[error("every value is censored (survived); at least two failures are needed")]
     AllCensored,
-    #[error("only {failures} failure(s); at least two are needed for a Weibull fit")]
+    #[error(
+        "only {failures} failure(s); at least three are needed for a Weibull fit (ASTM C1239 \
+         asks for 30)"
+    )]
     TooFewFailures { failures: usize },
     #[error("all failure stresses are equal ({value}); the Weibull modulus is unbounded")]
     AllEqual { value: f64 },
@@ -115,7 +129,7 @@ pub struct WeibullFit {
     pub n_censored: usize,
     /// Maximum-likelihood Weibull modulus m̂.
     pub modulus: f64,
-    /// m̂ × the C1239 unbiasing factor (complete samples of 5 or more only).
+    /// m̂ × the unbiasing factor (complete samples only).
     pub modulus_unbiased: Option<f64>,
     pub unbiasing_factor: Option<f64>,
     /// Characteristic strength σ_θ (63.2 % failure), in the caller's unit.
@@ -124,6 +138,13 @@ pub struct WeibullFit {
     pub modulus_ci95: Interval,
     pub scale_ci90: Interval,
     pub scale_ci95: Interval,
+    /// The large-sample Wald bounds, also when the bounds above are pivotal (for comparison).
+    pub wald: WaldBounds,
+    /// How the bounds on the modulus and on σ_θ were made.
+    pub modulus_bounds_method: BoundMethod,
+    pub scale_bounds_method: BoundMethod,
+    /// Plain sentences about the fit's footing (few values).
+    pub warnings: Vec<String>,
     /// None for censored samples (the plain statistic does not apply to them).
     pub anderson_darling: Option<AndersonDarling>,
     /// Failures only, in rising order of stress.
@@ -152,87 +173,61 @@ pub fn cdf(stress: f64, modulus: f64, scale: f64) -> f64 {
     -(-(stress / scale).powf(modulus)).exp_m1()
 }
 
-/// ASTM C1239 unbiasing factors for the maximum-likelihood modulus of a complete sample
-/// (from memory, not confirmed against the document; the anchors N = 5, 10, 20, 30, 50, 100 are
-/// those of the project's reference values, and every entry is checked against a Monte Carlo
-/// run in the fleet integration tests).
-const UNBIASING: [(usize, f64); 49] = [
-    (5, 0.700),
-    (6, 0.752),
-    (7, 0.792),
-    (8, 0.820),
-    (9, 0.842),
-    (10, 0.859),
-    (11, 0.872),
-    (12, 0.883),
-    (13, 0.893),
-    (14, 0.901),
-    (15, 0.908),
-    (16, 0.914),
-    (18, 0.923),
-    (20, 0.931),
-    (22, 0.938),
-    (24, 0.943),
-    (26, 0.947),
-    (28, 0.951),
-    (30, 0.955),
-    (32, 0.958),
-    (34, 0.960),
-    (36, 0.962),
-    (38, 0.964),
-    (40, 0.966),
-    (42, 0.968),
-    (44, 0.969),
-    (46, 0.971),
-    (48, 0.972),
-    (50, 0.973),
-    (52, 0.974),
-    (54, 0.975),
-    (56, 0.976),
-    (58, 0.977),
-    (60, 0.978),
-    (62, 0.979),
-    (64, 0.980),
-    (66, 0.980),
-    (68, 0.981),
-    (70, 0.982),
-    (72, 0.982),
-    (74, 0.983),
-    (76, 0.983),
-    (78, 0.984),
-    (80, 0.984),
-    (85, 0.985),
-    (90, 0.986),
-    (95, 0.987),
-    (100, 0.987),
-    (120, 0.989),
-];
+/// Wald intervals on ln m and ln σ_θ from the observed information.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WaldBounds {
+    pub modulus_ci90: Interval,
+    pub modulus_ci95: Interval,
+    pub scale_ci90: Interval,
+    pub scale_ci95: Interval,
+}
 
-/// The unbiasing factor for a complete sample of `n` (None below 5). Between table rows the
-/// factor is interpolated linearly in 1/N; beyond 120 it follows 1 − 1.32/N, the table's own
-/// tail (0.989 at 120).
+/// How a confidence bound was made.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum BoundMethod {
+    /// Pivotal quantities of a complete sample (ASTM C1239), quantiles by this project's
+    /// Monte Carlo table ([`super::pivotal`]): exact coverage up to the table's precision.
+    Pivotal,
+    /// Wald bounds on ln m and ln σ_θ from the observed information: large-sample, used for
+    /// censored samples and beyond the table's largest N.
+    Wald,
+}
+
+impl BoundMethod {
+    /// "pivotal", "Wald": for a screen line.
+    pub fn short(self) -> &'static str {
+        match self {
+            BoundMethod::Pivotal => "pivotal",
+            BoundMethod::Wald => "Wald",
+        }
+    }
+
+    pub fn label(self) -> &'static str {
+        match self {
+            BoundMethod::Pivotal => {
+                "pivotal quantities (ASTM C1239), quantiles from this program's Monte Carlo \
+                 table for a complete sample"
+            }
+            BoundMethod::Wald => {
+                "large-sample Wald bounds from the observed information (censored sample, or \
+                 more values than the pivotal table holds)"
+            }
+        }
+    }
+}
+
+/// The unbiasing factor 1 / E[m̂/m] for a complete sample of `n` (None below the table's
+/// smallest N): from the Monte Carlo table of [`super::pivotal`], interpolated in 1/N;
+/// beyond its largest N as 1 − c/N with c from that last row.
 pub fn unbiasing_factor(n: usize) -> Option<f64> {
-    let first = UNBIASING[0].0;
-    let (last_n, _) = UNBIASING[UNBIASING.len() - 1];
-    if n < first {
-        return None;
+    if let Some(row) = super::pivotal::row(n) {
+        return Some(row.unbiasing);
     }
-    if n > last_n {
-        return Some(1.0 - 1.32 / n as f64);
-    }
-    for w in UNBIASING.windows(2) {
-        let (n0, f0) = w[0];
-        let (n1, f1) = w[1];
-        if n == n0 {
-            return Some(f0);
-        }
-        if n == n1 {
-            return Some(f1);
-        }
-        if n > n0 && n < n1 {
-            let (u0, u1, u) = (1.0 / n0 as f64, 1.0 / n1 as f64, 1.0 / n as f64);
-            return Some(f0 + (f1 - f0) * (u - u0) / (u1 - u0));
-        }
+    let last = super::pivotal::TABLE.last()?;
+    if n > last.n {
+        let c = (1.0 - last.unbiasing) * last.n as f64;
+        return Some(1.0 - c / n as f64);
     }
     None
 }
@@ -294,7 +289,7 @@ fn count_failures(samples: &[Specimen]) -> Result<usize, WeibullError> {
     if r == 0 {
         return Err(WeibullError::AllCensored);
     }
-    if r < 2 {
+    if r < MIN_FAILURES {
         return Err(WeibullError::TooFewFailures { failures: r });
     }
     Ok(r)
@@ -366,6 +361,28 @@ fn solve_modulus(
         return Err(WeibullError::NoConvergence);
     }
     Ok((m, iterations))
+}
+
+/// The maximum-likelihood modulus and characteristic strength alone (what the pivotal
+/// Monte Carlo needs: no plot, no bounds).
+pub fn modulus_and_scale(samples: &[Specimen]) -> Result<(f64, f64), WeibullError> {
+    let r = count_failures(samples)?;
+    let max = samples.iter().map(|s| s.stress).fold(0.0, f64::max);
+    let ln_y: Vec<f64> = samples.iter().map(|s| (s.stress / max).ln()).collect();
+    let rf = r as f64;
+    let mean_ln_f = samples
+        .iter()
+        .zip(&ln_y)
+        .filter(|(s, _)| !s.censored)
+        .map(|(_, l)| *l)
+        .sum::<f64>()
+        / rf;
+    if -mean_ln_f <= 1e-14 {
+        return Err(WeibullError::AllEqual { value: max });
+    }
+    let (m, _) = solve_modulus(samples, &ln_y, mean_ln_f, rf)?;
+    let s = sums(&ln_y, m);
+    Ok((m, max * (s.s0 / rf).powf(1.0 / m)))
 }
 
 /// Variances of m and σ_θ from the observed information at the estimate, and, for a complete
@@ -451,6 +468,32 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
     };
 
     let n_censored = n - r;
+    let pivotal_row = if n_censored == 0 {
+        super::pivotal::row(n)
+    } else {
+        None
+    };
+    // indices of the quantiles at 0.025, 0.05, 0.95, 0.975
+    let bounds = |lo: usize, hi: usize, level: f64| match &pivotal_row {
+        Some(row) => (
+            Interval {
+                low: m / row.q[hi],
+                high: m / row.q[lo],
+            },
+            Interval {
+                low: scale * (-row.t[hi] / m).exp(),
+                high: scale * (-row.t[lo] / m).exp(),
+            },
+        ),
+        None => (wald(m, se_ln_m, level), wald(scale, se_ln_s, level)),
+    };
+    let (modulus_ci90, scale_ci90) = bounds(1, 2, 0.90);
+    let (modulus_ci95, scale_ci95) = bounds(0, 3, 0.95);
+    let method = if pivotal_row.is_some() {
+        BoundMethod::Pivotal
+    } else {
+        BoundMethod::Wald
+    };
     let unbiasing_factor = if n_censored == 0 {
         unbiasing_factor(n)
     } else {
@@ -461,6 +504,13 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
     } else {
         None
     };
+    let mut warnings = Vec::new();
+    if n < FEW_VALUES {
+        warnings.push(format!(
+            "Only {n} values: a Weibull modulus from so few is very uncertain (see the bounds); \
+             ASTM C1239 asks for at least 30."
+        ));
+    }
 
     Ok(WeibullFit {
         n,
@@ -470,10 +520,19 @@ pub fn fit(samples: &[Specimen]) -> Result<WeibullFit, WeibullError> {
         modulus_unbiased: unbiasing_factor.map(|f| f * m),
         unbiasing_factor,
         scale,
-        modulus_ci90: wald(m, se_ln_m, 0.90),
-        modulus_ci95: wald(m, se_ln_m, 0.95),
-        scale_ci90: wald(scale, se_ln_s, 0.90),
-        scale_ci95: wald(scale, se_ln_s, 0.95),
+        modulus_ci90,
+        modulus_ci95,
+        scale_ci90,
+        scale_ci95,
+        wald: WaldBounds {
+            modulus_ci90: wald(m, se_ln_m, 0.90),
+            modulus_ci95: wald(m, se_ln_m, 0.95),
+            scale_ci90: wald(scale, se_ln_s, 0.90),
+            scale_ci95: wald(scale, se_ln_s, 0.95),
+        },
+        modulus_bounds_method: method,
+        scale_bounds_method: method,
+        warnings,
         anderson_darling,
         plot: plot_points_sorted(samples),
         iterations,
@@ -577,6 +636,10 @@ mod tests {
         assert!(matches!(
             fit_values(&[1.0]),
             Err(WeibullError::TooFewFailures { failures: 1 })
+        ));
+        assert!(matches!(
+            fit_values(&[1.0, 2.0]),
+            Err(WeibullError::TooFewFailures { failures: 2 })
         ));
         assert!(matches!(
             fit_values(&[2.0, 2.0, 2.0]),

@@ -368,6 +368,10 @@ pub struct SolvedFlaw {
     pub beyond_range: bool,
 }
 
+/// The deepest a/t the Newman–Raju equations were fitted over (Newman & Raju, Eng. Fract.
+/// Mech. 15 (1981) 185: 0 ≤ a/t < 0.8).
+pub const DEPTH_RATIO_LIMIT: f64 = 0.8;
+
 /// Solve for the flaw depth. With a thickness, a/t is found by fixed-point iteration
 /// (Y changes slowly with a/t, so a few steps converge); without, the geometry's own a/t is used.
 pub fn solve_flaw(
@@ -384,7 +388,7 @@ pub fn solve_flaw(
         g = g.with_a_over_t(0.0);
         a = flaw_size(toughness, geometry_factor(&g), stress);
         for _ in 0..60 {
-            let next_g = g.with_a_over_t((a / t).min(0.8));
+            let next_g = g.with_a_over_t((a / t).min(DEPTH_RATIO_LIMIT));
             let next_a = flaw_size(toughness, geometry_factor(&next_g), stress);
             // damped update keeps the iteration from oscillating
             let damped = 0.5 * (a + next_a);
@@ -395,8 +399,8 @@ pub fn solve_flaw(
                 break;
             }
         }
-        beyond = a / t > 0.8;
-        g = g.with_a_over_t((a / t).min(0.8));
+        beyond = a / t > DEPTH_RATIO_LIMIT;
+        g = g.with_a_over_t((a / t).min(DEPTH_RATIO_LIMIT));
         factor = geometry_factor_detail(&g);
         if !beyond {
             // final value consistent with the reported geometry

@@ -14,6 +14,7 @@
 //! 5. cross-checks: mirror-to-flaw ratios, measured flaw, predicted branching distance,
 //!    consistency between boundaries; warnings in plain sentences.
 
+pub mod calibration;
 pub mod flaw;
 pub mod materials;
 pub mod mirror;
@@ -26,7 +27,7 @@ use serde::{Deserialize, Serialize};
 pub use flaw::{geometry_factor, FlawGeometry, FlawKind, GeometryFactor};
 pub use materials::{Constant, Material, Provenance};
 pub use mirror::{Boundary, BoundaryReadings, BoundaryResult, Consistency, ConstantUsed};
-pub use residual::{Origin, OriginLocation, Residual, Temper};
+pub use residual::{LayerProfile, Origin, OriginLocation, Profile, Residual, Temper};
 
 use crate::units::{fmt_sig, format, Unit};
 
@@ -142,9 +143,13 @@ pub struct AnalysisInput {
     /// One standard deviation of the measured surface compression (Pa), if known.
     #[serde(default)]
     pub surface_compression_spread_pa: Option<f64>,
-    /// Depth of the compressive layer (m); estimated as 0.21 t for thermal temper.
+    /// Depth of the compressive layer (m); estimated as 0.21 t for thermal temper. With the
+    /// thickness it gives the central tension of chemically strengthened glass.
     #[serde(default)]
     pub layer_depth_m: Option<f64>,
+    /// Shape of the layer of chemically strengthened glass; `None`: linear.
+    #[serde(default)]
+    pub layer_profile: Option<LayerProfile>,
     #[serde(default)]
     pub origin: Origin,
     /// `None`: semicircular surface flaw for a surface origin, embedded penny for an interior one.
@@ -167,6 +172,7 @@ impl AnalysisInput {
             surface_compression_pa: None,
             surface_compression_spread_pa: None,
             layer_depth_m: None,
+            layer_profile: None,
             origin: Origin::Surface,
             flaw: None,
             measured_flaw_m: None,
@@ -273,11 +279,10 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
         .position(|b| is_closed(input, b))
         .unwrap_or(0);
     let head = &boundaries[head_index];
-    let consistency = consistency_between_boundaries(&boundaries, &mut warnings);
-    let residual = residual_stress(input, &mut warnings)?;
+    let consistency = consistency_between_boundaries(input, &boundaries, &mut warnings);
+    let residual = residual::residual_stress(input, &mut warnings)?;
     mirror_size_warnings(input, &boundaries, head, &residual, &mut warnings);
-    let (applied, applied_low, applied_high) =
-        applied_stress(input, head, &residual, &mut warnings);
+    let (applied, applied_low, applied_high) = applied_stress(head, &residual, &mut warnings);
     let flaw = match toughness_used(input) {
         None => {
             warnings.push(format!(
@@ -295,6 +300,10 @@ pub fn analyze(input: &AnalysisInput) -> Result<Analysis, FractureError> {
             &mut warnings,
         )),
     };
+    let depths: Vec<(&str, f64)> = (flaw.as_ref().map(|f| ("flaw size", f.size_m)).into_iter())
+        .chain(input.measured_flaw_m.map(|m| ("measured flaw", m)))
+        .collect();
+    residual::layer_cover_warnings(input, &residual, &depths, &mut warnings);
     let branching = branching_prediction(input, &boundaries, head);
     Ok(Analysis {
         material_key: input.material.key.clone(),
@@ -419,11 +428,14 @@ fn boundary_statistics(
 
 /// Consistency between every pair of boundaries, ordered inner to outer.
 fn consistency_between_boundaries(
+    input: &AnalysisInput,
     boundaries: &[BoundaryResult],
     warnings: &mut Vec<String>,
 ) -> Vec<Consistency> {
     let mut consistency = Vec::new();
-    let mut ordered: Vec<&BoundaryResult> = boundaries.iter().collect();
+    // a boundary that is not closed says nothing about the stress: it is not compared
+    let mut ordered: Vec<&BoundaryResult> =
+        boundaries.iter().filter(|b| is_closed(input, b)).collect();
     ordered.sort_by_key(|b| b.boundary);
     for i in 0..ordered.len() {
         for j in i + 1..ordered.len() {
@@ -447,121 +459,6 @@ fn consistency_between_boundaries(
         }
     }
     consistency
-}
-
-/// The surface compression used (Pa), its spread and how it was chosen: as given, else the
-/// temper class value.
-fn surface_compression(
-    input: &AnalysisInput,
-    warnings: &mut Vec<String>,
-) -> Result<(f64, Option<f64>, String), FractureError> {
-    Ok(match (input.surface_compression_pa, input.temper) {
-        (Some(cs), Some(t)) => (
-            cs,
-            input.surface_compression_spread_pa,
-            format!("{}: surface compression {} as given", t.label(), mpa(cs)),
-        ),
-        (Some(cs), None) => (
-            cs,
-            input.surface_compression_spread_pa,
-            format!("surface compression {} as given", mpa(cs)),
-        ),
-        (None, Some(t)) => match t.default_surface_compression() {
-            Some((v, spread, basis)) => {
-                if t != Temper::Annealed {
-                    warnings.push(format!(
-                        "No surface compression was measured: the {} class value {} was used. \
-                         A measured value is better.",
-                        t.label(),
-                        mpa(v)
-                    ));
-                }
-                (v, spread, basis.to_string())
-            }
-            None => {
-                return Err(FractureError::missing(
-                    "surface-compression",
-                    "the surface compression of chemically strengthened glass (it has no \
-                     class value)",
-                    "a stress such as 600MPa",
-                ))
-            }
-        },
-        (None, None) => (
-            0.0,
-            None,
-            "no temper class given: residual stress taken as zero".into(),
-        ),
-    })
-}
-
-/// Warnings about the temper class against the origin and the layer depth.
-fn temper_warnings(input: &AnalysisInput, warnings: &mut Vec<String>) {
-    if input.origin == Origin::Interior {
-        match input.temper {
-            None => warnings.push(
-                "Interior origin but no temper class: residual stress taken as zero. Interior \
-                 origins usually sit in the tensile core of tempered glass; give the temper class."
-                    .to_string(),
-            ),
-            Some(Temper::Annealed) => warnings.push(
-                "Interior origin in annealed glass: there is no tensile core. Check the temper \
-                 class (an inclusion can still start an interior break)."
-                    .to_string(),
-            ),
-            _ => {}
-        }
-    }
-    if input.temper == Some(Temper::ChemicallyStrengthened) && input.layer_depth_m.is_none() {
-        warnings.push(
-            "Chemically strengthened glass without a layer depth: the mirror cannot be compared \
-             with the compressive layer."
-                .to_string(),
-        );
-    }
-}
-
-/// Step 2: the residual stress at the origin, from the temper class or the surface
-/// compression.
-fn residual_stress(
-    input: &AnalysisInput,
-    warnings: &mut Vec<String>,
-) -> Result<Residual, FractureError> {
-    if input.temper.is_some_and(|t| t != Temper::Annealed) && !input.material.glass {
-        warnings.push(format!(
-            "Temper classes apply to glass; {} is not a glass. Check the temper class.",
-            input.material.name
-        ));
-    }
-    let (cs, cs_spread, basis) = surface_compression(input, warnings)?;
-    let at_origin = residual::residual_at_origin(cs, input.origin);
-    let basis = match input.origin {
-        Origin::Interior if cs > 0.0 => format!(
-            "{basis}; interior origin in the tensile core: central tension taken as half the \
-             surface compression (parabolic profile), +{}",
-            mpa(at_origin)
-        ),
-        Origin::Surface if cs > 0.0 => {
-            format!("{basis}; surface origin, in the compressive layer")
-        }
-        _ => basis,
-    };
-    let layer_depth = input
-        .layer_depth_m
-        .or_else(|| match (input.temper, input.thickness_m) {
-            (Some(t), Some(th)) if t.is_thermal() => Some(residual::thermal_layer_fraction() * th),
-            _ => None,
-        });
-    temper_warnings(input, warnings);
-    Ok(Residual {
-        temper: input.temper,
-        origin: input.origin,
-        surface_compression_pa: cs,
-        surface_compression_spread_pa: cs_spread,
-        at_origin_pa: at_origin,
-        layer_depth_m: layer_depth,
-        basis,
-    })
 }
 
 /// Cross-check: the mirror size against the thickness and the compressive layer.
@@ -616,37 +513,34 @@ fn mirror_size_warnings(
                 ));
             }
         }
-        if let Some(d) = residual.layer_depth_m {
-            if r > d && residual.surface_compression_pa > 0.0 {
-                warnings.push(format!(
-                    "The {} radius ({}) reaches beyond the compressive layer ({} deep): the \
-                     residual stress changes across the mirror, so one residual value at the \
-                     origin is approximate.",
-                    b.boundary.label(),
-                    mm(r),
-                    mm(d)
-                ));
-            }
-        }
+        residual::layer_cover_warnings(
+            input,
+            residual,
+            &[(&format!("{} radius", b.boundary.label()), r)],
+            warnings,
+        );
     }
 }
 
 /// Step 3: applied stress = net − residual, with its 95 % interval (low, high), which also
 /// carries the spread of the surface compression where it is known.
 fn applied_stress(
-    input: &AnalysisInput,
     head: &BoundaryResult,
     residual: &Residual,
     warnings: &mut Vec<String>,
 ) -> (f64, f64, f64) {
     let net = head.stress_pa;
     let applied = net - residual.at_origin_pa;
+    // the residual at the origin is proportional to the surface compression in every
+    // profile, so its spread scales the same way (1 at a face, ½ in a thermal core)
+    let per_compression = if residual.surface_compression_pa > 0.0 {
+        residual.at_origin_pa.abs() / residual.surface_compression_pa
+    } else {
+        1.0
+    };
     let res_u = residual
         .surface_compression_spread_pa
-        .map(|s| match input.origin {
-            Origin::Surface => s,
-            Origin::Interior => s / 2.0,
-        });
+        .map(|s| s * per_compression);
     let res_term = res_u.map(|u| uncertainty::Z95 * u).unwrap_or(0.0);
     let applied_low = applied - ((net - head.stress_low_pa).powi(2) + res_term.powi(2)).sqrt();
     let applied_high = applied + ((head.stress_high_pa - net).powi(2) + res_term.powi(2)).sqrt();
@@ -766,6 +660,17 @@ fn flaw_result(
 ) -> FlawResult {
     let (geometry, geometry_basis) = chosen_geometry(geometry, input.origin);
     geometry_warnings(input.origin, geometry, warnings);
+    // with a thickness a/t is solved with the flaw size and warned below; without one it is
+    // as given, and it gets the same warning beyond the fitted range
+    if let (None, Some(ratio)) = (input.thickness_m, geometry.a_over_t()) {
+        if ratio > flaw::DEPTH_RATIO_LIMIT {
+            warnings.push(format!(
+                "The flaw depth ratio a/t = {} is beyond 0.8 of the thickness: beyond the range \
+                 of the Newman–Raju equations.",
+                fmt_sig(ratio, 3)
+            ));
+        }
+    }
     let solved = flaw::solve_flaw(geometry, toughness.value, head.stress_pa, input.thickness_m);
     if solved.beyond_range {
         warnings.push(format!(

@@ -12,6 +12,7 @@
 //! Every function is cheap (microseconds, the rectangular patch series a few milliseconds at
 //! most), so an interface may call them on every keystroke.
 
+pub mod clamped;
 pub mod contact;
 pub mod critical;
 pub mod impact;

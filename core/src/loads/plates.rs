@@ -7,21 +7,23 @@
 //!   Stress and Strain* (Table 11.2), with Roark's equivalent radius for a patch smaller than about
 //!   half the thickness: r′ = √(1.6r² + t²) − 0.675t when r < 0.5t;
 //! - rectangular plates, simply supported: Navier's double sine series (Timoshenko &
-//!   Woinowsky-Krieger §28–§30), summed here for the actual Poisson's ratio; a circular patch is
-//!   replaced by the square of the same area;
-//! - rectangular plates, clamped, uniform pressure: the coefficients of Timoshenko &
-//!   Woinowsky-Krieger Table 35 (the same as Roark Table 11.4 case 8a), interpolated linearly in
-//!   the aspect ratio. A clamped plate's deflection and edge moment do not depend on Poisson's
-//!   ratio, so the table holds for glass too;
+//!   Woinowsky-Krieger §28–§30), summed here for the actual Poisson's ratio; a
+//!   circular patch enters by its own load terms (the disc's Fourier transform, 2J₁(kc)/kc);
+//! - rectangular plates, clamped, uniform pressure: a Ritz series ([`super::clamped`]) with the
+//!   material's Poisson's ratio, checked against Timoshenko & Woinowsky-Krieger Table 35 (the
+//!   same as Roark Table 11.4 case 8a); it follows the overshoot of the edge moment above the
+//!   strip limit near b/a = 2.5 and reaches the strip by b/a = 5;
 //! - rectangular plates, clamped, small central patch: Roark Table 11.4 (all edges fixed, load
-//!   over a small concentric circle), tabulated for ν = 0.3, interpolated by aspect ratio.
+//!   over a small concentric circle), tabulated for ν = 0.3, interpolated by aspect ratio and
+//!   carried to the material's ν exactly (deflection by 1 − ν², the centre moment through the
+//!   ν-free parts of the curvature, the anisotropic one from the Ritz series).
 //!
 //! Small-deflection theory assumes the deflection is small against the thickness (Roark, 8th ed.,
 //! §11.1, states the limit: "the maximum deflection is not more than about one-half the
 //! thickness"). Once it passes about half the thickness, membrane action stiffens a glass pane and this theory over-predicts
 //! the stress (and the deflection): such results are flagged with `large-deflection`.
 
-use super::{positive, Elastic, Field, LoadError, Warning};
+use super::{clamped, positive, Elastic, Field, LoadError, Warning};
 use std::f64::consts::PI;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -283,8 +285,9 @@ fn rectangular(
                     }
                     PlateLoad::Patch { .. } => {
                         "rectangular plate, simply supported, central patch: Navier series \
-                         (Timoshenko & Woinowsky-Krieger 30; Roark Table 11.4 case 1b), \
-                         equivalent radius for small patches"
+                         with the circular patch's own load terms (Timoshenko & \
+                         Woinowsky-Krieger 30; Roark Table 11.4 case 1b), equivalent radius for \
+                         small patches"
                     }
                 },
                 warnings: Vec::new(),
@@ -292,36 +295,64 @@ fn rectangular(
         }
         (Edges::Clamped, PlateLoad::Pressure(q)) => {
             let ratio = b / a;
-            let mut warnings = Vec::new();
-            let (alpha, beta) = clamped_uniform_coefficients(ratio);
+            let (stress, deflection, at) = if ratio <= clamped::LONGEST_SOLVED {
+                let r = clamped::solve(a, b, d, nu, clamped::ClampedLoad::Pressure(q));
+                let (cx, cy) = r.centre_moments;
+                let edge = r.long_edge_moment;
+                let centre = cx.abs().max(cy.abs());
+                if edge >= centre {
+                    (
+                        6.0 * edge / (t * t),
+                        r.deflection,
+                        "middle of the long edges",
+                    )
+                } else {
+                    (6.0 * centre / (t * t), r.deflection, "centre")
+                }
+            } else {
+                // the clamped strip: edge effects of the short sides have died out
+                (
+                    6.0 * CLAMPED_STRIP.1 * q * a * a / (t * t),
+                    CLAMPED_STRIP.0 * q * a.powi(4) / d,
+                    "middle of the long edges",
+                )
+            };
             Ok(PlateResult {
-                stress: 6.0 * beta * q * a * a / (t * t),
-                stress_at: "middle of the long edges",
-                deflection: alpha * q * a.powi(4) / d,
+                stress,
+                stress_at: at,
+                deflection,
                 force: q * a * b,
-                method: "rectangular plate, clamped, uniform pressure: coefficients of \
-                         Timoshenko & Woinowsky-Krieger Table 35 (Roark Table 11.4 case 8a), \
-                         interpolated by aspect ratio",
-                warnings: {
-                    if ratio > 2.0 {
-                        warnings.push(Warning::new(
-                            "long-plate",
-                            "aspect ratio over 2: interpolated between 2 and the long-strip limit",
-                        ));
-                    }
-                    warnings
-                },
+                method: "rectangular plate, clamped, uniform pressure: Ritz series with the \
+                         material's Poisson's ratio (checked against Timoshenko & \
+                         Woinowsky-Krieger Table 35); the clamped strip beyond b/a = 6",
+                warnings: Vec::new(),
             })
         }
         (Edges::Clamped, PlateLoad::Patch { force, diameter }) => {
             // Roark Table 11.4, rectangular plate with all edges fixed, load W uniform over a
-            // small central circle: centre σ = 3W/2πt² [(1+ν) ln(2b/πr′) + β₁], middle of the
-            // long edge σ = β₂ W/t², y = α W b²/(E t³), b the short side.
+            // small central circle (ν = 0.3): centre σ = 3W/2πt² [(1+ν) ln(2b/πr′) + β₁],
+            // middle of the long edge σ = β₂ W/t², y = α W b²/(E t³), b the short side.
+            // A clamped plate's deflection in units of 1/D and its edge moment do not depend
+            // on ν, so α scales with (1 − ν²)/(1 − 0.3²) and β₂ holds for any ν. The centre
+            // moment is M_x = (1+ν)/2·S + (1−ν)/2·Δ with S = −D∇²w and Δ = −D(w,xx − w,yy),
+            // both free of ν: S follows from the table at ν = 0.3 and Δ (bounded under the
+            // patch) from the Ritz series, which gives M_x for this material's ν.
             let ratio = b / a;
             let (beta1, beta2, alpha) = clamped_patch_coefficients(ratio);
             let rp = equivalent_radius(diameter / 2.0, t);
-            let centre = 3.0 * force / (2.0 * PI * t * t)
-                * ((1.0 + nu) * (2.0 * a / (PI * rp)).ln() + beta1);
+            let table_moment = force / (4.0 * PI) * (1.3 * (2.0 * a / (PI * rp)).ln() + beta1);
+            let series = clamped::solve(
+                a,
+                b.min(a * clamped::LONGEST_SOLVED),
+                d,
+                nu,
+                clamped::ClampedLoad::Patch { force, radius: rp },
+            );
+            let (cx, cy) = series.centre_moments;
+            // Δ = (M_x − M_y)/(1 − ν) for any ν
+            let delta = (cx - cy) / (1.0 - nu);
+            let laplacian = (table_moment - 0.35 * delta) / 0.65;
+            let centre = 6.0 * ((1.0 + nu) / 2.0 * laplacian + (1.0 - nu) / 2.0 * delta) / (t * t);
             let edge = beta2 * force / (t * t);
             let (stress, at) = if centre >= edge {
                 (centre, "centre")
@@ -329,13 +360,6 @@ fn rectangular(
                 (edge, "middle of the long edges")
             };
             let mut warnings = Vec::new();
-            if (nu - 0.3).abs() > 0.02 {
-                warnings.push(Warning::new(
-                    "table-poisson",
-                    "the clamped patch coefficients are tabulated for Poisson's ratio 0.3; the \
-                     (1+ν) term is taken with this material's value, the small remainder is not",
-                ));
-            }
             if 2.0 * rp > 0.25 * a {
                 warnings.push(Warning::new(
                     "patch-not-small",
@@ -343,14 +367,17 @@ fn rectangular(
                      coefficients are stretched beyond their use",
                 ));
             }
+            let scale = (1.0 - nu * nu) / (1.0 - 0.09);
             Ok(PlateResult {
                 stress,
                 stress_at: at,
-                deflection: alpha * force * a * a / (mat.youngs_modulus * t.powi(3)),
+                deflection: scale * alpha * force * a * a / (mat.youngs_modulus * t.powi(3)),
                 force,
                 method: "rectangular plate, clamped, central patch: Roark Table 11.4 (all edges \
                          fixed, uniform load over a small concentric circle), coefficients \
-                         interpolated by aspect ratio, equivalent radius for small patches",
+                         interpolated by aspect ratio and carried to this material's Poisson's \
+                         ratio (deflection by 1 − ν², centre moment with the Ritz series), \
+                         equivalent radius for small patches",
                 warnings,
             })
         }
@@ -391,46 +418,41 @@ pub fn clamped_patch_coefficients(ratio: f64) -> (f64, f64, f64) {
     (p2 + f * (pi - p2), q2 + f * (qi - q2), s2 + f * (si - s2))
 }
 
-/// Timoshenko & Woinowsky-Krieger Table 35 (ν-independent): b/a, α with w_max = α q a⁴ / D,
-/// β with |M| at the middle of the long edge = β q a². Values from memory (they agree with
-/// Roark Table 11.4 case 8a, also from memory: 6β and 12(1 − 0.3²)α).
-const CLAMPED_UNIFORM: &[(f64, f64, f64)] = &[
-    (1.0, 0.00126, 0.0513),
-    (1.1, 0.00150, 0.0581),
-    (1.2, 0.00172, 0.0639),
-    (1.3, 0.00191, 0.0687),
-    (1.4, 0.00207, 0.0726),
-    (1.5, 0.00220, 0.0757),
-    (1.6, 0.00230, 0.0780),
-    (1.7, 0.00238, 0.0799),
-    (1.8, 0.00245, 0.0812),
-    (1.9, 0.00249, 0.0822),
-    (2.0, 0.00254, 0.0829),
-];
 /// The long-strip limit (b/a → ∞): a clamped-clamped beam strip, w = qa⁴/384D, M = qa²/12.
 const CLAMPED_STRIP: (f64, f64) = (1.0 / 384.0, 1.0 / 12.0);
 
-/// (α, β) for a clamped plate under uniform pressure, ratio = long side / short side ≥ 1.
-pub fn clamped_uniform_coefficients(ratio: f64) -> (f64, f64) {
-    let tab = CLAMPED_UNIFORM;
-    if ratio <= tab[0].0 {
-        return (tab[0].1, tab[0].2);
+/// 2J₁(x)/x: the mean of cos(αu)·cos(βv) over a disc of radius c, x = c√(α² + β²).
+/// J₁ by its power series up to x = 20 and by Hankel's asymptotic expansion beyond
+/// (Abramowitz & Stegun 9.1.10 and 9.2.5; the next term of the expansion is below 1e-9).
+pub fn disc_mean(x: f64) -> f64 {
+    if x.abs() < 1e-8 {
+        return 1.0;
     }
-    for w in tab.windows(2) {
-        let (r0, a0, b0) = w[0];
-        let (r1, a1, b1) = w[1];
-        if ratio <= r1 {
-            let f = (ratio - r0) / (r1 - r0);
-            return (a0 + f * (a1 - a0), b0 + f * (b1 - b0));
+    let j1 = if x <= 20.0 {
+        let h = x / 2.0;
+        let mut term = h;
+        let mut sum = h;
+        for k in 1..80 {
+            let kf = k as f64;
+            term *= -h * h / (kf * (kf + 1.0));
+            sum += term;
+            if term.abs() < 1e-17 * sum.abs().max(1e-300) {
+                break;
+            }
         }
-    }
-    // Beyond 2: blend towards the strip limit in 1/ratio (reaches it as ratio → ∞).
-    let (r2, a2, b2) = tab[tab.len() - 1];
-    let f = 1.0 - r2 / ratio;
-    (
-        a2 + f * (CLAMPED_STRIP.0 - a2),
-        b2 + f * (CLAMPED_STRIP.1 - b2),
-    )
+        sum
+    } else {
+        let mu = 4.0;
+        let z = 8.0 * x;
+        let p = 1.0 - (mu - 1.0) * (mu - 9.0) / (2.0 * z * z)
+            + (mu - 1.0) * (mu - 9.0) * (mu - 25.0) * (mu - 49.0) / (24.0 * z.powi(4));
+        let q = (mu - 1.0) / z - (mu - 1.0) * (mu - 9.0) * (mu - 25.0) / (6.0 * z.powi(3))
+            + (mu - 1.0) * (mu - 9.0) * (mu - 25.0) * (mu - 49.0) * (mu - 81.0)
+                / (120.0 * z.powi(5));
+        let (sin, cos) = (x - 0.75 * PI).sin_cos();
+        (2.0 / (PI * x)).sqrt() * (p * cos - q * sin)
+    };
+    2.0 * j1 / x
 }
 
 /// Navier series for a simply supported a×b plate (a ≤ b): centre moments Mx (along the short
@@ -440,33 +462,30 @@ fn navier_centre(a: f64, b: f64, nu: f64, d: f64, load: PlateLoad, t: f64) -> (f
         PlateLoad::Pressure(q) => (99usize, q * a * b, None),
         PlateLoad::Patch { force, diameter } => {
             let r = equivalent_radius(diameter / 2.0, t);
-            let side = r * PI.sqrt(); // square of the same area as the circle
-                                      // enough terms for the patch to be resolved: about 25 half-waves across it,
-                                      // capped so that one call stays within milliseconds
+            // enough terms for the patch to be resolved: about 25 half-waves across the
+            // square of its area, capped so that one call stays within milliseconds
+            let side = r * PI.sqrt();
             let n = ((25.0 * b / side).ceil() as usize).clamp(99, 1201);
-            (n | 1, force, Some(side))
+            (n | 1, force, Some(r))
         }
     };
     // Centre value of each term: the load coefficient q_mn times sin(mπ/2)·sin(nπ/2).
     // Uniform q:   q_mn = 16q / (π² m n)                       → centre factor ±1/(m n)·16q/π²
-    // Patch u×u:   q_mn = 16P/(π² m n u²) sin(mπ/2) sin(nπ/2) sin(mπu/2a) sin(nπu/2b)
-    //            = 4P/(ab) · sin(mπ/2) sin(nπ/2) · sinc(mπu/2a) · sinc(nπu/2b)  → centre factor
-    //              4P/(ab) · sinc · sinc (the two signs square away).
+    // Patch, a circle of radius c at the centre: q_mn = 4/(ab) ∫∫ p sin(mπx/a) sin(nπy/b) dA
+    //            = 4P/(ab) · sin(mπ/2) sin(nπ/2) · 2J₁(kc)/(kc), k² = (mπ/a)² + (nπ/b)²
+    //              (the mean of cos(αu)·cos(βv) over the disc)  → centre factor
+    //              4P/(ab) · 2J₁(kc)/(kc) (the two signs square away).
     let mut sa = Vec::with_capacity(n_terms / 2 + 1);
     let mut sb = Vec::with_capacity(n_terms / 2 + 1);
     for k in (1..=n_terms).step_by(2) {
         let kf = k as f64;
         let sign = if (k / 2) % 2 == 0 { 1.0 } else { -1.0 };
-        let (fa, fb) = match patch {
-            None => (sign / kf, sign / kf),
-            Some(s) => {
-                let xa = kf * PI * s / (2.0 * a);
-                let xb = kf * PI * s / (2.0 * b);
-                (xa.sin() / xa, xb.sin() / xb)
-            }
+        let f = match patch {
+            None => sign / kf,
+            Some(_) => 1.0,
         };
-        sa.push((kf / a, fa));
-        sb.push((kf / b, fb));
+        sa.push((kf / a, f));
+        sb.push((kf / b, f));
     }
     let qbar = force / (a * b);
     let k = match patch {
@@ -479,7 +498,11 @@ fn navier_centre(a: f64, b: f64, nu: f64, d: f64, load: PlateLoad, t: f64) -> (f
     for &(ma, ca) in &sa {
         for &(nb, cb) in &sb {
             let s = ma * ma + nb * nb;
-            let c = ca * cb / (s * s);
+            let shape = match patch {
+                None => ca * cb,
+                Some(radius) => disc_mean(PI * s.sqrt() * radius),
+            };
+            let c = shape / (s * s);
             w += c;
             mx += c * (ma * ma + nu * nb * nb);
             my += c * (nu * ma * ma + nb * nb);

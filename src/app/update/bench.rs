@@ -103,6 +103,7 @@ impl App {
                         .as_ref()
                         .and_then(|v| v.as_ref().ok())
                         .map(|v| v.explanation.clone()),
+                    fields: self.bench.hypothesis_fields(),
                 }),
                 _ => None,
             },

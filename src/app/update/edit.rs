@@ -5,7 +5,7 @@ use std::path::{Path, PathBuf};
 use crate::app::form::{self, Form};
 use crate::app::incident::{self, EditKind};
 use crate::app::picklist::PickItem;
-use crate::app::{Action, App};
+use crate::app::{Action, App, Prompt};
 use crate::store::model::Incident;
 use crate::store::{Store, StoreError};
 
@@ -55,11 +55,26 @@ impl App {
         let result: Result<Incident, String> = match kind {
             EditKind::New => {
                 let mut draft = Incident::draft(stamp.at.date_naive());
-                incident::apply(kind, &edit.form, &mut draft).and_then(|_| {
-                    store
-                        .create_incident(&draft, &stamp)
-                        .map_err(|e| e.to_string())
-                })
+                let confirmed = std::mem::take(&mut self.duplicate_confirmed);
+                match incident::apply(kind, &edit.form, &mut draft) {
+                    Err(e) => Err(e),
+                    Ok(()) => {
+                        let same = match store.possible_duplicates(&draft) {
+                            Ok(same) => same,
+                            Err(e) => {
+                                self.error(format!("not saved: {e}"));
+                                return;
+                            }
+                        };
+                        if !same.is_empty() && !confirmed {
+                            self.prompt = Some(Prompt::SaveDuplicate(same.join(", ")));
+                            return;
+                        }
+                        store
+                            .create_incident(&draft, &stamp)
+                            .map_err(|e| e.to_string())
+                    }
+                }
             }
             EditKind::Section(_) => {
                 let Some(base) = edit.base.clone() else {

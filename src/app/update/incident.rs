@@ -25,6 +25,7 @@ impl App {
                     history,
                     section,
                     scroll: 0,
+                    history_cursor: 0,
                     scroll_max: std::cell::Cell::new(u16::MAX),
                 });
                 if self.screen() != Screen::Incident {
@@ -55,7 +56,55 @@ impl App {
         let Some(state) = &mut self.incident else {
             return;
         };
+        if state.section == Section::History {
+            let last = state.history.len().saturating_sub(1);
+            match action {
+                Action::Down | Action::ScrollDown => {
+                    state.history_cursor = (state.history_cursor + 1).min(last);
+                    state.scroll = history_scroll(state.history_cursor);
+                    return;
+                }
+                Action::Up | Action::ScrollUp => {
+                    state.history_cursor = state.history_cursor.saturating_sub(1);
+                    state.scroll = history_scroll(state.history_cursor);
+                    return;
+                }
+                _ => {}
+            }
+        }
         match action {
+            Action::Revert => {
+                if state.section != Section::History {
+                    self.info("v restores a revision: go to the History section first (Tab)");
+                    return;
+                }
+                let Some(h) = state.history.get(state.history_cursor) else {
+                    return;
+                };
+                if state.history_cursor == 0 {
+                    self.info("the highlighted entry is the current revision: nothing to restore");
+                    return;
+                }
+                let Some(revision) = h
+                    .after
+                    .as_ref()
+                    .and_then(|a| a.get("revision"))
+                    .and_then(|r| r.as_i64())
+                else {
+                    let msg = format!("entry #{} keeps no record to restore", h.seq);
+                    self.error(msg);
+                    return;
+                };
+                self.prompt = Some(crate::app::Prompt::Revert {
+                    seq: h.seq,
+                    what: format!(
+                        "revision {revision} of {} ({}, {})",
+                        h.at.format("%Y-%m-%d %H:%M"),
+                        state.incident.reference,
+                        h.actor
+                    ),
+                });
+            }
             Action::NextSection | Action::Right => {
                 state.section = state.section.next();
                 state.scroll = 0;
@@ -78,7 +127,7 @@ impl App {
                 let section = if state.section.editable() {
                     state.section
                 } else {
-                    self.info("Evidence: a attaches a file, c adds a custody entry. History is read-only.");
+                    self.info("Evidence: a attaches a file, c adds a custody entry. History: ↑/↓ pick a revision, v restores it.");
                     return;
                 };
                 let form = incident::section_form(section, &state.incident, &self.lists);
@@ -104,6 +153,27 @@ impl App {
                 self.open_bench_for(&inc);
             }
             _ => {}
+        }
+    }
+
+    /// Restore the open incident as it was after history entry `seq`, as a new change.
+    pub(super) fn revert_incident(&mut self, seq: i64) {
+        let stamp = self.stamp();
+        let (Some(state), Some(store)) = (self.incident.as_ref(), self.store.as_mut()) else {
+            return;
+        };
+        let (id, revision) = (state.incident.id.clone(), state.incident.revision);
+        match store.revert(&id, seq, revision, &stamp) {
+            Ok(saved) => {
+                let msg = format!(
+                    "restored {} as it was after entry #{seq} (now revision {}); the history keeps \
+                     every revision",
+                    saved.reference, saved.revision
+                );
+                self.reopen_incident();
+                self.info(msg);
+            }
+            Err(e) => self.error(format!("not restored: {e}")),
         }
     }
 
@@ -133,4 +203,10 @@ impl App {
         });
         self.stack.push(Screen::Edit);
     }
+}
+
+/// The scroll of the History section that shows entry `cursor` near the top (a heading
+/// line, then two lines per entry).
+fn history_scroll(cursor: usize) -> u16 {
+    u16::try_from(cursor.saturating_sub(1) * 2).unwrap_or(u16::MAX)
 }

@@ -115,12 +115,12 @@ impl App {
             self.lists.lookup(LookupKind::Status),
             &f.status,
         ));
-        form.push_pick(pick(
-            "cause",
-            "Cause",
-            self.lists.lookup(LookupKind::CauseCategory),
-            &f.cause,
+        let mut causes = self.lists.lookup(LookupKind::CauseCategory);
+        causes.push(PickItem::new(
+            crate::store::model::NO_CAUSE,
+            "no cause recorded yet",
         ));
+        form.push_pick(pick("cause", "Cause", causes, &f.cause));
         form.push_pick(pick(
             "origin_type",
             "Origin type",

@@ -24,6 +24,10 @@ impl App {
         }
         // a message lasts until the next key
         self.message = None;
+        if self.name_entry.is_some() {
+            self.update_name_entry(action);
+            return;
+        }
         if let Some(prompt) = self.prompt.clone() {
             match action {
                 Action::Yes => {
@@ -31,11 +35,21 @@ impl App {
                     match prompt {
                         Prompt::DiscardChanges => self.leave_screen(),
                         Prompt::QuitDiscard => self.quit = true,
+                        Prompt::SaveDuplicate(_) => {
+                            self.duplicate_confirmed = true;
+                            self.save_edit();
+                        }
+                        Prompt::Revert { seq, .. } => self.revert_incident(seq),
                     }
                 }
                 Action::No | Action::Back => {
                     self.prompt = None;
-                    self.info("kept your changes");
+                    match prompt {
+                        Prompt::SaveDuplicate(_) => {
+                            self.info("not saved; your input is kept (Esc leaves it)")
+                        }
+                        _ => self.info("kept your changes"),
+                    }
                 }
                 _ => {}
             }
@@ -112,6 +126,36 @@ impl App {
         }
     }
 
+    fn update_name_entry(&mut self, action: Action) {
+        let Some(entry) = self.name_entry.as_mut() else {
+            return;
+        };
+        match action {
+            Action::Confirm => {
+                let name = shardlog_core::text::sanitize_for_terminal(entry.text().trim(), false);
+                if name.is_empty() {
+                    self.error(
+                        "Your name: type it; every change and reading you make is recorded \
+                         under it",
+                    );
+                    return;
+                }
+                self.name_entry = None;
+                self.actor = name.clone();
+                self.info(format!(
+                    "changes and readings are recorded as {name} (SHARDLOG_USER overrides)"
+                ));
+                self.name_to_keep = Some(name);
+            }
+            Action::QuitAll => self.quit = true,
+            Action::Input(i) => {
+                entry.input(i);
+            }
+            Action::Paste(p) => entry.paste(&p),
+            _ => {}
+        }
+    }
+
     pub(super) fn report<T>(&mut self, r: Result<T, StoreError>) -> Option<T> {
         match r {
             Ok(v) => Some(v),
@@ -133,6 +177,13 @@ impl App {
                 self.bench = BenchState::new();
             }
             Some(Screen::Incident) => self.incident = None,
+            Some(Screen::Review) if self.screen() == Screen::Log => {
+                // the log beneath the review gets its own filter back
+                if let Some(f) = self.log_filter_before_review.take() {
+                    self.log.filter = f;
+                    self.reload_log();
+                }
+            }
             _ => {}
         }
     }

@@ -6,6 +6,12 @@ use crate::app::{Action, App, Screen};
 impl App {
     /// Open the fleet review (figures computed now, from the store).
     pub fn open_review(&mut self) {
+        // from a log the review opened: back to that review, not a second one on top
+        if self.stack.contains(&Screen::Review) {
+            while self.screen() != Screen::Review && self.stack.len() > 1 {
+                self.leave_screen();
+            }
+        }
         self.reload_review();
         if self.screen() != Screen::Review {
             self.stack.push(Screen::Review);
@@ -53,14 +59,12 @@ impl App {
             }
             Action::Confirm => match self.review.selected_filter() {
                 Ok((filter, _, _)) => {
+                    if self.log_filter_before_review.is_none() {
+                        self.log_filter_before_review = Some(self.log.filter.clone());
+                    }
                     self.log.filter = filter;
-                    // the log sits beneath the review: go back to it, filtered
-                    while self.stack.len() > 1 && self.screen() != Screen::Log {
-                        self.leave_screen();
-                    }
-                    if self.screen() != Screen::Log {
-                        self.stack.push(Screen::Log);
-                    }
+                    // the filtered log opens over the review: Esc comes back to it
+                    self.stack.push(Screen::Log);
                     // the filter line names the group; the status line gives its count
                     self.reload_log();
                 }

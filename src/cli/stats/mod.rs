@@ -314,33 +314,61 @@ pub fn render(
     }
 }
 
-/// Accept an origin-type code or its label ("inclusion_nis" or "inclusion: nickel sulfide
-/// stone"); anything else is a usage error listing the codes.
-fn origin_code(store: &crate::store::Store, given: &str) -> Result<String, CliError> {
-    let list = store
-        .lookups(crate::store::LookupKind::OriginType)
-        .map_err(|e| CliError::work(e.to_string()))?;
-    let g = given.trim();
-    if let Some(e) = list
-        .iter()
-        .find(|e| e.code.eq_ignore_ascii_case(g) || e.label.eq_ignore_ascii_case(g))
-    {
-        return Ok(e.code.clone());
+/// The filter field of a `--only` key (month and season are refused before this).
+fn only_field(key: Key) -> Option<super::codes::Field> {
+    use super::codes::Field;
+    Some(match key {
+        Key::Cause => Field::Cause,
+        Key::OriginType => Field::OriginType,
+        Key::Supplier => Field::Supplier,
+        Key::Product => Field::Product,
+        Key::Lot => Field::Lot,
+        Key::Site => Field::Site,
+        Key::AssetType => Field::AssetType,
+        Key::Temper => Field::Temper,
+        Key::Month | Key::Season => return None,
+    })
+}
+
+/// Every code the user typed, resolved against the database: `--origin-type` and each
+/// `--only KEY=VALUE` take a code or its label in any case (`cause=none` or
+/// `cause=(not recorded)` for the incidents without one); anything else is a usage error
+/// listing the valid values.
+fn resolve_codes(store: &crate::store::Store, q: &mut StatsQuery) -> Result<(), CliError> {
+    use super::codes::{resolve, resolve_in, Field};
+    if let Some(o) = &q.origin_type {
+        q.origin_type = Some(resolve(store, Field::OriginType, "--origin-type", o)?);
     }
-    let codes: Vec<&str> = list.iter().map(|e| e.code.as_str()).collect();
-    Err(CliError::usage(format!(
-        "--origin-type: '{g}' is not an origin type; expected one of {}",
-        codes.join(", ")
-    )))
+    for (key, value) in &mut q.only {
+        let Some(field) = only_field(*key) else {
+            continue;
+        };
+        if value.as_str() == shardlog_core::fleet::group::NOT_RECORDED {
+            continue;
+        }
+        let mut choices = field.choices(store)?;
+        if field != Field::Cause {
+            choices.push(super::codes::Choice {
+                code: shardlog_core::fleet::group::NOT_RECORDED.into(),
+                label: "none".into(),
+            });
+        }
+        let flag = format!("--only {}", key.name());
+        let code = resolve_in(&choices, field, &flag, value)?;
+        *value = if code == crate::store::NO_CAUSE && field == Field::Cause {
+            shardlog_core::fleet::group::NOT_RECORDED.to_string()
+        } else {
+            code
+        };
+    }
+    Ok(())
 }
 
 pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let mut q = query_from_args(&args)?;
     let store = crate::store::Store::open_for_reading(&ctx.db)
         .map_err(|e| CliError::work(e.to_string()))?;
-    if let Some(o) = &q.origin_type {
-        q.origin_type = Some(origin_code(&store, o)?);
-    }
+    resolve_codes(&store, &mut q)?;
     let (mut incidents, mut exposures) = store
         .stats_input(&q, &[])
         .map_err(|e| CliError::work(e.to_string()))?;
@@ -442,7 +470,7 @@ mod tests {
             s.contains("Incidents found 2025-01-01 to 2025-12-31: 40"),
             "{s}"
         );
-        assert!(s.contains("ABOVE"), "{s}");
+        assert!(s.contains(shardlog_core::fleet::FLAG_WORD), "{s}");
         assert!(s.contains("Holm"), "{s}");
         assert!(s.contains("σθ MPa"), "{s}");
         assert!(s.contains("Poisson regression"), "{s}");

@@ -161,7 +161,7 @@ fn count_table(q: &StatsQuery, t: &GroupTable, by: &[&str]) -> String {
                         ));
                         c.push(fmt_p(rr.p_two_sided));
                         c.push(if row.flagged {
-                            "ABOVE".into()
+                            shardlog_core::fleet::FLAG_WORD.into()
                         } else {
                             "".into()
                         });
@@ -193,7 +193,11 @@ fn rate_notes(t: &GroupTable) -> String {
             "  rates: {METHOD_RATE}\n  vs rest: {METHOD_RATIO}\n"
         ));
         if t.compared > 0 {
-            s.push_str(&format!("  ABOVE: {METHOD_FLAG} ({} groups)\n", t.compared));
+            s.push_str(&format!(
+                "  {}: {METHOD_FLAG} ({} groups)\n",
+                shardlog_core::fleet::FLAG_WORD,
+                t.compared
+            ));
         } else {
             s.push_str(
                 "  vs rest: not given when no key is supplier, product, lot, site, month or season (every group has the same exposure)\n",

@@ -1,6 +1,6 @@
 //! The cover document: what the bundle claims, its figures, and how to check it.
 
-use super::{BundleContent, Cover, LotRate};
+use super::{BundleContent, Cover, Excluded, LotRate};
 use crate::report::chart::{Chart, WeibullSeries};
 use crate::report::doc::{Block, Document, Table};
 use crate::report::summary::CAUTIONS;
@@ -19,6 +19,64 @@ fn with_interval(v: Option<f64>, ci: Option<[f64; 2]>, missing: &str) -> String 
         ),
         (Some(v), None) => three_figures(v),
         _ => missing.to_string(),
+    }
+}
+
+/// A ratio in words with its interval: "about 127 times (95 % interval 18.1 to 5,520 times)".
+/// A rate ratio cannot be negative, and its exact interval never is.
+pub(crate) fn times_in_words(v: Option<f64>, ci: Option<[f64; 2]>) -> String {
+    match (v, ci) {
+        (Some(v), Some([a, b])) => format!(
+            "about {} times (95 % interval {} to {} times)",
+            figure(v),
+            figure(a),
+            figure(b)
+        ),
+        (Some(v), None) => format!("about {} times", figure(v)),
+        _ => "not available".into(),
+    }
+}
+
+/// A number to three significant figures, thousands grouped ("5,520", "0.882").
+fn figure(v: f64) -> String {
+    if v.abs() >= 1000.0 {
+        let unit = 10f64.powi(v.abs().log10().floor() as i32 - 2);
+        group_thousands((v / unit).round() * unit)
+    } else {
+        three_figures(v)
+    }
+}
+
+fn group_thousands(v: f64) -> String {
+    let neg = v < 0.0;
+    let digits = format!("{:.0}", v.abs());
+    let mut out = String::new();
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i) % 3 == 0 {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    if neg {
+        format!("−{out}")
+    } else {
+        out
+    }
+}
+
+/// The chance of a result at least this far above the rest by luck alone, in words: a
+/// p-value of 0.01 or more as a number, smaller ones as "about 1 in 2,900", and below one in
+/// a hundred million as that.
+pub(crate) fn chance_in_words(p: Option<f64>) -> String {
+    match p {
+        None => "not available".into(),
+        Some(p) if p >= 0.01 => units::fmt_sig(p, 2),
+        Some(p) if p < 1e-8 => "below 1 in 100 million".into(),
+        Some(p) => {
+            let n = 1.0 / p;
+            let unit = 10f64.powi(n.log10().floor() as i32 - 1);
+            format!("about 1 in {}", group_thousands((n / unit).round() * unit))
+        }
     }
 }
 
@@ -53,14 +111,20 @@ pub fn cover_document(c: &BundleContent) -> Document {
 /// The title block and the summary: what was selected, incidents by cause and by lot.
 fn summary_section(c: &BundleContent) -> Document {
     let sel = &c.selection;
+    let cv = &c.cover;
     let mut reference = format!("{} ({})", sel.supplier_name, sel.supplier_code);
     if let Some(l) = &sel.lot {
         reference.push_str(&format!(", lot {l}"));
     }
+    if let Some(x) = &cv.excluded {
+        reference.push_str(&format!(": {}", claim_words(x)));
+    }
     let subtitle = format!("exported {} · {}", c.exported_at, c.generator);
     let mut d = Document::new("Dispute bundle", &reference, &subtitle);
-    let cv = &c.cover;
     d.heading("Summary");
+    if let Some(x) = &cv.excluded {
+        claim_lead(&mut d, cv, x);
+    }
     let mut scope = format!(
         "{} incident{} attributed to products of {}",
         cv.incidents,
@@ -70,6 +134,9 @@ fn summary_section(c: &BundleContent) -> Document {
     if let Some(l) = &sel.lot {
         scope.push_str(&format!(", lot {l}"));
     }
+    if let Some(x) = &cv.excluded {
+        scope.push_str(&format!(", of {}", claim_words(x)));
+    }
     scope.push_str(&match (sel.since, sel.until) {
         (Some(a), Some(b)) => format!(", found from {a} to {b}."),
         (Some(a), None) => format!(", found on or after {a}."),
@@ -77,6 +144,7 @@ fn summary_section(c: &BundleContent) -> Document {
         (None, None) => ", found on any date up to the export.".to_string(),
     });
     d.para(scope);
+    verdicts_para(&mut d, cv);
     let mut t = Table::new(&["Cause", "Incidents"]).numeric(&[1]);
     for x in &cv.by_cause {
         t.row(vec![x.label.clone(), x.count.to_string()]);
@@ -111,27 +179,131 @@ fn summary_section(c: &BundleContent) -> Document {
     d
 }
 
+/// What the claim is about, in words: "nickel sulfide inclusion" or "impact or vandalism,
+/// origin type impact site".
+fn claim_words(x: &Excluded) -> String {
+    let mut w = x.claimed_causes.join(" or ");
+    if let Some(o) = &x.origin_type {
+        if !w.is_empty() {
+            w.push_str(", ");
+        }
+        w.push_str(&format!("origin type {o}"));
+    }
+    w
+}
+
+/// The claim's first lines: its cause, how the lot compares for it, and what was left out.
+fn claim_lead(d: &mut Document, cv: &Cover, x: &Excluded) {
+    let mut lead = format!("This claim concerns {} only.", claim_words(x));
+    if let Some(lr) = &cv.lot_rate {
+        for r in lr.rows.iter().filter(|r| r.claimed) {
+            lead.push_str(&format!(
+                " For {}, lot {} broke at {} the rate of the rest of the fleet; the chance of \
+                 this by luck alone is {}{}.",
+                r.cause,
+                lr.lot,
+                times_in_words(r.ratio, r.ratio_ci95),
+                chance_in_words(r.p_adjusted),
+                if r.flagged {
+                    format!(" ({}: significantly above the rest)", fleet::FLAG_WORD)
+                } else {
+                    " (not significantly above the rest)".into()
+                }
+            ));
+        }
+    } else if let Some(r) = cv.rates.iter().find(|r| r.claimed) {
+        lead.push_str(&format!(
+            " For this, the supplier's rate is {} that of the other suppliers; the chance of \
+             this by luck alone is {}{}.",
+            times_in_words(r.ratio, r.ratio_ci95),
+            chance_in_words(r.p_adjusted),
+            if r.flagged {
+                format!(" ({}: significantly above the rest)", fleet::FLAG_WORD)
+            } else {
+                " (not significantly above the rest)".into()
+            }
+        ));
+    }
+    d.para(lead);
+    let left: u64 = x.left_out.iter().map(|c| c.count).sum();
+    if left == 0 {
+        d.para(format!(
+            "All {} incidents of the selection are of the claimed kind; none was left out.",
+            x.before
+        ));
+    } else {
+        let parts: Vec<String> = x
+            .left_out
+            .iter()
+            .map(|c| format!("{} {}", c.count, c.label))
+            .collect();
+        d.para(format!(
+            "Left out: {left} of the {} incidents of this selection are of another kind and are \
+             not in this bundle ({}). They are excluded by the cause recorded in each incident \
+             (and the origin type of its last examination) at the time of export; incidents \
+             with no cause recorded yet are never counted for the claim.",
+            x.before,
+            parts.join(", ")
+        ));
+    }
+}
+
+/// The verdicts of the load hypotheses saved with the incidents.
+fn verdicts_para(d: &mut Document, cv: &Cover) {
+    let v = &cv.verdicts;
+    if v.with_hypothesis == 0 {
+        d.para(format!(
+            "Load hypotheses: none of the {} incidents has a load hypothesis saved with its \
+             examination, so no verdict says whether a sound pane should have survived.",
+            cv.incidents
+        ));
+        return;
+    }
+    d.para(format!(
+        "Load hypotheses: {} of the {} incidents have one saved with their examination. Against \
+         the measured stress: {} consistent, {} too weak, {} far too strong. Against the \
+         strength of a sound pane: {} broke under a load a sound pane should have survived \
+         (below what a sound pane survives), {} under a load that would break a sound pane, \
+         {} with no strength bound given. Each incident's summary gives the inputs, method \
+         and verdict.",
+        v.with_hypothesis,
+        cv.incidents,
+        v.consistent,
+        v.too_weak,
+        v.far_too_strong,
+        v.sound_pane_survives,
+        v.sound_pane_breaks,
+        v.with_hypothesis - v.sound_pane_survives - v.sound_pane_breaks
+    ));
+}
+
 /// The rate of each supplier against the rest of the fleet.
 fn rates_section(d: &mut Document, cv: &Cover) {
     d.heading("Rate against the other suppliers");
     d.para(format!(
-        "Incidents per 1,000 pane-years from {} to {}, with exact Poisson (Garwood) 95 % \
+        "Incidents{} per 1,000 pane-years from {} to {}, with exact Poisson (Garwood) 95 % \
          intervals; each supplier's rate against the rest of the fleet as a rate ratio with \
-         its exact conditional 95 % interval and one-sided p-value, adjusted with Holm's \
-         method over the {} suppliers compared. Exposure: the panes in service recorded in \
-         the database for this window.",
-        cv.window_since, cv.window_until, cv.rates_compared
+         its exact conditional 95 % interval, and the one-sided chance of a rate this far \
+         above the rest by luck alone, adjusted with Holm's method over the {} suppliers \
+         compared. Exposure: the panes in service recorded in the database for this window.",
+        cv.excluded
+            .as_ref()
+            .map(|x| format!(" of {}", claim_words(x)))
+            .unwrap_or_default(),
+        cv.window_since,
+        cv.window_until,
+        cv.rates_compared
     ));
     let mut t = Table::new(&[
         "Supplier",
         "Incidents",
         "Pane-years",
         "Rate per 1,000 pane-years (95 % interval)",
-        "Rate ratio against the rest (95 % interval)",
-        "p (Holm)",
-        "Significantly above the rest",
+        "Rate against the rest",
+        "Chance by luck alone (Holm)",
+        "Flag",
     ])
-    .numeric(&[1, 2, 5]);
+    .numeric(&[1, 2]);
     for r in &cv.rates {
         let name = if r.claimed {
             format!("{} (this claim)", r.supplier)
@@ -143,12 +315,17 @@ fn rates_section(d: &mut Document, cv: &Cover) {
             r.incidents.to_string(),
             or_not_available(r.pane_years, three_figures),
             with_interval(r.rate_per_1000, r.rate_ci95, "no exposure recorded"),
-            with_interval(r.ratio, r.ratio_ci95, "not available"),
-            or_not_available(r.p_adjusted, |p| units::fmt_sig(p, 2)),
-            if r.flagged { "yes" } else { "no" }.into(),
+            times_in_words(r.ratio, r.ratio_ci95),
+            chance_in_words(r.p_adjusted),
+            flag(r.flagged),
         ]);
     }
     d.push(Block::Table(t));
+}
+
+/// The flag word of a group significantly above the rest, a dash otherwise.
+fn flag(flagged: bool) -> String {
+    if flagged { fleet::FLAG_WORD } else { "—" }.to_string()
 }
 
 /// The claimed lot against every other supplier × lot.
@@ -172,14 +349,18 @@ fn lot_rate_section(d: &mut Document, lr: &LotRate) {
         "In the lot",
         "Rate per 1,000 pane-years (95 % interval)",
         "Elsewhere: incidents, rate",
-        "Rate ratio (95 % interval)",
-        "p (Holm)",
-        "Significantly above the rest",
+        "Rate against the rest",
+        "Chance by luck alone (Holm)",
+        "Flag",
     ])
-    .numeric(&[1, 5]);
+    .numeric(&[1]);
     for r in &lr.rows {
         t.row(vec![
-            r.cause.clone(),
+            if r.claimed {
+                format!("{} (this claim)", r.cause)
+            } else {
+                r.cause.clone()
+            },
             r.incidents.to_string(),
             with_interval(r.rate_per_1000, r.rate_ci95, "no exposure recorded"),
             format!(
@@ -187,22 +368,31 @@ fn lot_rate_section(d: &mut Document, lr: &LotRate) {
                 r.rest_incidents,
                 or_not_available(r.rest_rate_per_1000, three_figures)
             ),
-            with_interval(r.ratio, r.ratio_ci95, "not available"),
-            or_not_available(r.p_adjusted, |p| units::fmt_sig(p, 2)),
-            if r.flagged { "yes" } else { "no" }.into(),
+            times_in_words(r.ratio, r.ratio_ci95),
+            chance_in_words(r.p_adjusted),
+            flag(r.flagged),
         ]);
     }
     d.push(Block::Table(t));
+    d.note(format!(
+        "{}: significantly above the rest of the fleet (exact conditional test, Holm's \
+         adjustment at 5 %).",
+        fleet::FLAG_WORD
+    ));
 }
 
 /// The Weibull comparison of strengths, the stress histogram and the cover's notes.
 fn weibull_section(d: &mut Document, cv: &Cover) {
     d.heading("Strength: Weibull comparison");
-    d.para(
+    d.para(format!(
         "Two-parameter Weibull fits by maximum likelihood (ASTM C1239) of the applied stress \
-         back-calculated for each incident, for this claim's panes and for each other \
-         supplier's. A group whose line sits to the left broke at lower stresses.",
-    );
+         back-calculated for each incident: one population per cause, since each cause is its \
+         own flaw population (a nickel sulfide stone and handling damage fitted together give \
+         a meaningless modulus), for this claim's panes and, for the same causes, each other \
+         supplier's. A population with fewer than {} stresses is not fitted. A line to the \
+         left broke at lower stresses.",
+        super::figures::MIN_FIT
+    ));
     let mut t = Table::new(&[
         "Group",
         "Stresses",
@@ -234,7 +424,7 @@ fn weibull_section(d: &mut Document, cv: &Cover) {
                     three_figures(a),
                     megapascals(b)
                 ),
-                _ => "no fit".into(),
+                _ => "—".into(),
             },
         ]);
     }
@@ -245,6 +435,7 @@ fn weibull_section(d: &mut Document, cv: &Cover) {
             series: cv
                 .weibull
                 .iter()
+                .filter(|w| w.modulus.is_some())
                 .take(6)
                 .map(|w| WeibullSeries {
                     name: w.group.clone(),
@@ -258,23 +449,15 @@ fn weibull_section(d: &mut Document, cv: &Cover) {
         },
         caption: "Weibull probability plot of the applied stress at fracture".into(),
     });
-    let (lo, hi) = cv
-        .stresses_mpa
-        .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
-            (a.min(*v), b.max(*v))
-        });
-    if lo.is_finite() && hi.is_finite() {
-        let (edges, cnt) = fleet::histogram(&cv.stresses_mpa, 10);
-        let width = if hi > lo { (hi - lo) / 10.0 } else { 1.0 };
+    let bins = fleet::round_histogram(&cv.stresses_mpa, 10);
+    if !bins.is_empty() {
         d.push(Block::Figure {
             chart: Chart::Histogram {
                 x_label: "Applied stress (MPa)".into(),
                 y_label: "incidents".into(),
-                bins: edges
+                bins: bins
                     .iter()
-                    .zip(&cnt)
-                    .map(|(e, c)| (*e, e + width, u32::try_from(*c).unwrap_or(u32::MAX)))
+                    .map(|(a, b, c)| (*a, *b, u32::try_from(*c).unwrap_or(u32::MAX)))
                     .collect(),
                 marker: None,
             },
@@ -299,6 +482,7 @@ fn incidents_section(d: &mut Document, c: &BundleContent) {
         "Applied stress, MPa (95 % interval)",
     ])
     .numeric(&[6]);
+    let mut below_zero = 0;
     for i in &c.incidents {
         let ct = &i.content;
         let stress = ct
@@ -306,11 +490,14 @@ fn incidents_section(d: &mut Document, c: &BundleContent) {
             .analysis
             .as_ref()
             .map(|a| {
+                if a.applied_low_pa < 0.0 {
+                    below_zero += 1;
+                }
                 format!(
-                    "{} ({}–{})",
-                    three_figures(a.applied_stress_pa / 1e6),
-                    three_figures(a.applied_low_pa / 1e6),
-                    three_figures(a.applied_high_pa / 1e6)
+                    "{} ({} to {})",
+                    signed(a.applied_stress_pa / 1e6),
+                    signed(a.applied_low_pa / 1e6),
+                    signed(a.applied_high_pa / 1e6)
                 )
             })
             .unwrap_or_else(|| "not computed".into());
@@ -338,6 +525,23 @@ fn incidents_section(d: &mut Document, c: &BundleContent) {
         ]);
     }
     d.push(Block::Table(t));
+    if below_zero > 0 {
+        d.note(format!(
+            "{below_zero} interval{} of the applied stress reach{} below zero. The applied \
+             stress is the net stress at the origin minus the residual stress there; at an \
+             interior origin of tempered glass the residual stress is tension, and a value \
+             below zero means that tension alone can account for the break (spontaneous \
+             breakage, as from a nickel sulfide stone). The interval is the net stress's \
+             interval shifted by the residual stress, so its ends keep their sign.",
+            if below_zero == 1 { "" } else { "s" },
+            if below_zero == 1 { "es" } else { "" }
+        ));
+    }
+}
+
+/// A figure with a true minus sign, to three significant figures.
+fn signed(v: f64) -> String {
+    three_figures(v).replace('-', "−")
 }
 
 /// What the bundle holds, how to check it, the cautions and the proof.
@@ -393,7 +597,10 @@ fn contents_section(d: &mut Document, c: &BundleContent) {
         ),
         (
             "Audit-chain head at export".into(),
-            c.audit_chain_head.clone(),
+            match c.audit_head_seq {
+                Some(seq) => format!("entry {seq}, {}", c.audit_chain_head),
+                None => c.audit_chain_head.clone(),
+            },
         ),
         ("Exported".into(), c.exported_at.clone()),
         ("Produced by".into(), c.generator.clone()),

@@ -73,6 +73,40 @@ fn resolve_supplier(s: &Store, wanted: &str) -> Result<store::Supplier, BundleEr
     )))
 }
 
+/// The store filters a selection stands for: one per claimed cause (an incident has one
+/// cause, so their matches never overlap), else one.
+pub(super) fn selection_filters(sel: &Selection) -> Vec<Filter> {
+    let base = Filter {
+        supplier: Some(sel.supplier_code.clone()),
+        lot: sel.lot.clone(),
+        since: sel.since,
+        until: sel.until,
+        origin_type: sel.origin_type.clone(),
+        ..Filter::default()
+    };
+    if sel.causes.is_empty() {
+        return vec![base];
+    }
+    sel.causes
+        .iter()
+        .map(|c| Filter {
+            cause: Some(c.clone()),
+            ..base.clone()
+        })
+        .collect()
+}
+
+/// The ids of the incidents a selection chooses, in the order of their dates found: what
+/// `dispute` put in the bundle, and what a later check runs again against the database.
+pub fn selected_ids(s: &Store, sel: &Selection) -> Result<Vec<String>, BundleError> {
+    let mut ids = Vec::new();
+    for f in selection_filters(sel) {
+        ids.extend(s.matching_ids(&f)?);
+    }
+    ids.dedup();
+    Ok(ids)
+}
+
 /// Everything the bundle's files are rendered from, gathered from the store.
 pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictures), BundleError> {
     if let (Some(a), Some(b)) = (opts.since, opts.until) {
@@ -84,20 +118,23 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
     }
     let sup = resolve_supplier(s, &opts.supplier)?;
     let labels = Labels::load(s)?;
-    let head = s.audit_head()?;
-    let filter = Filter {
-        supplier: Some(sup.code.clone()),
+    let (head_seq, head) = s.audit_head_entry()?;
+    let selection = Selection {
+        supplier_code: sup.code.clone(),
+        supplier_name: sup.name.clone(),
         lot: opts.lot.clone(),
         since: opts.since,
         until: opts.until,
-        ..Filter::default()
+        causes: opts.causes.clone(),
+        origin_type: opts.origin_type.clone(),
     };
-    let ids = s.matching_ids(&filter)?;
+    let ids = selected_ids(s, &selection)?;
     let mut incidents = Vec::with_capacity(ids.len());
     let mut pictures: Pictures = HashMap::new();
     let mut attachments: BTreeMap<String, BundleAttachment> = BTreeMap::new();
     let mut raw = Vec::with_capacity(ids.len());
-    for id in &ids {
+    for (i, id) in ids.iter().enumerate() {
+        s.report_progress("gathering", i as u64, Some(ids.len() as u64));
         let inc = s.get(id)?;
         let (content, pics) = incident_content(s, &labels, &inc)?;
         for a in &content.attachments {
@@ -125,16 +162,11 @@ pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictur
     incidents.sort_by(|a, b| a.reference.cmp(&b.reference));
     let cover = cover(s, &labels, &sup, opts, &raw)?;
     let content = BundleContent {
-        selection: Selection {
-            supplier_code: sup.code.clone(),
-            supplier_name: sup.name.clone(),
-            lot: opts.lot.clone(),
-            since: opts.since,
-            until: opts.until,
-        },
+        selection,
         exported_at: opts.exported_at.clone(),
         generator: summary::generator(),
         audit_chain_head: head,
+        audit_head_seq: Some(head_seq),
         paper: match opts.paper {
             Paper::A4 => "a4".into(),
             Paper::Letter => "letter".into(),

@@ -28,11 +28,12 @@ use serde::{Deserialize, Serialize};
 
 use super::doc::Paper;
 use super::summary::IncidentContent;
+use crate::store::signing::SignedHead;
 use crate::store::StoreError;
 
 pub use cover::cover_document;
-pub use gather::gather;
-pub use verify::{first_difference, verify_bundle, BundleCheck};
+pub use gather::{gather, selected_ids};
+pub use verify::{first_difference, verify_bundle, verify_bundle_with, BundleCheck, ExpectedKey};
 pub use write::{figures_csv, render_files, write_bundle};
 
 pub const BUNDLE_FORMAT: &str = "shardlog dispute bundle 1";
@@ -43,6 +44,11 @@ pub struct DisputeOptions {
     /// Supplier code or name.
     pub supplier: String,
     pub lot: Option<String>,
+    /// Cause codes the claim is about (empty: every cause); `store::NO_CAUSE` stands for the
+    /// incidents with no cause recorded.
+    pub causes: Vec<String>,
+    /// Origin type code the claim is about.
+    pub origin_type: Option<String>,
     pub since: Option<NaiveDate>,
     pub until: Option<NaiveDate>,
     pub paper: Paper,
@@ -50,11 +56,16 @@ pub struct DisputeOptions {
     /// exposure window when no --until is given). Passed in: the report code reads no clock.
     pub exported_at: String,
     pub today: NaiveDate,
+    /// The folder of the database's private key: the bundle's audit head is signed with it
+    /// when it holds the key. None: not signed.
+    pub key_dir: Option<PathBuf>,
     /// Write the bundle even when some attachment's file is missing or no longer matches
     /// its hash; the cover then names each one. Without it such a bundle is refused.
     pub allow_missing_attachments: bool,
 }
 
+/// Which incidents the bundle holds: every field that chose them, in one place, so that
+/// [`gather::selected_ids`] can run the same choice again against a database.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Selection {
     pub supplier_code: String,
@@ -62,6 +73,53 @@ pub struct Selection {
     pub lot: Option<String>,
     pub since: Option<NaiveDate>,
     pub until: Option<NaiveDate>,
+    /// Cause codes (any of them; empty: every cause).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub causes: Vec<String>,
+    /// Origin type code of the last examination.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub origin_type: Option<String>,
+}
+
+/// Incidents of the supplier (and lot, and window) that a cause or origin type selection
+/// left out, by cause.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Excluded {
+    /// Labels of the claimed causes, in the order given.
+    pub claimed_causes: Vec<String>,
+    /// Label of the claimed origin type.
+    pub origin_type: Option<String>,
+    /// Incidents of the supplier (lot, window) before the selection by cause and origin.
+    pub before: u64,
+    /// Those left out, by cause label, largest first.
+    pub left_out: Vec<Count>,
+}
+
+/// Fields added to the bundle are left out when empty, so that the digest of a bundle made
+/// before them is unchanged.
+fn is_false(b: &bool) -> bool {
+    !*b
+}
+
+impl VerdictCounts {
+    fn is_none(&self) -> bool {
+        *self == VerdictCounts::default()
+    }
+}
+
+/// The saved load-hypothesis verdicts of the bundle's incidents.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+pub struct VerdictCounts {
+    /// Incidents with at least one saved hypothesis.
+    pub with_hypothesis: u64,
+    pub consistent: u64,
+    pub too_weak: u64,
+    pub far_too_strong: u64,
+    /// Incidents whose hypothesis says a sound pane should have survived the load: they
+    /// broke below what a sound pane survives.
+    pub sound_pane_survives: u64,
+    /// Incidents whose hypothesis says the load alone would break a sound pane.
+    pub sound_pane_breaks: u64,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -105,6 +163,9 @@ pub struct LotRate {
 pub struct LotRateRow {
     /// "all causes" or the cause's label.
     pub cause: String,
+    /// One of the causes the claim is about (`--cause`).
+    #[serde(default, skip_serializing_if = "is_false")]
+    pub claimed: bool,
     pub incidents: u64,
     pub rate_per_1000: Option<f64>,
     pub rate_ci95: Option<[f64; 2]>,
@@ -146,6 +207,11 @@ pub struct Cover {
     pub weibull: Vec<WeibullRow>,
     /// Applied stress of the selected incidents, MPa.
     pub stresses_mpa: Vec<f64>,
+    /// With `--cause` or `--origin-type`: what the claim is about and what was left out.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub excluded: Option<Excluded>,
+    #[serde(default, skip_serializing_if = "VerdictCounts::is_none")]
+    pub verdicts: VerdictCounts,
     pub notes: Vec<String>,
 }
 
@@ -172,6 +238,10 @@ pub struct BundleContent {
     pub exported_at: String,
     pub generator: String,
     pub audit_chain_head: String,
+    /// Sequence number of the audit row `audit_chain_head` is the hash of (bundles made
+    /// before it was recorded have none).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub audit_head_seq: Option<i64>,
     pub paper: String,
     pub cover: Cover,
     pub incidents: Vec<BundleIncident>,
@@ -192,6 +262,9 @@ pub struct BundleFile {
     pub content_sha256: String,
     pub content: BundleContent,
     pub files: Vec<FileEntry>,
+    /// The audit head signed together with `content_sha256` by the database's key.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub signed_head: Option<SignedHead>,
 }
 
 #[derive(Debug, thiserror::Error)]
@@ -222,4 +295,8 @@ pub struct Written {
     pub files: usize,
     pub content_sha256: String,
     pub audit_chain_head: String,
+    /// The entry number of that head.
+    pub audit_head_seq: Option<i64>,
+    /// The signed head, None when this machine does not hold the database's private key.
+    pub signed_head: Option<SignedHead>,
 }

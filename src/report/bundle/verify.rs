@@ -12,7 +12,8 @@ use super::{io, BundleContent, BundleError, BundleFile, BUNDLE_FORMAT};
 use crate::report::source::{incident_content, Labels};
 use crate::report::summary::Pictures;
 use crate::store::safe_file::{is_missing, read_regular_within, SafeReadError};
-use crate::store::{Filter, Store};
+use crate::store::signing::{normalise_fingerprint, PublicKey};
+use crate::store::{Anchor, Filter, Store};
 use shardlog_core::canonical::{digest, digest_value, sha256_hex, Numbers};
 
 #[derive(Debug, Clone, Default, Serialize)]
@@ -119,11 +120,47 @@ fn read_limited(dir: &Path, relative: &str) -> Result<Vec<u8>, SafeReadError> {
     read_regular_within(dir, relative, MAX_FILE)
 }
 
-/// Check a bundle folder: its digest, every file's hash and size, every rendered file against
-/// a fresh rendering of the content, the attachments against their names; and, given the
-/// database, each incident's content against the records and the selection against the
-/// incidents the records hold now.
+/// The key a bundle must be signed with (`verify --bundle DIR --key …`).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum ExpectedKey {
+    /// A fingerprint as `shardlog key` prints it.
+    Fingerprint(String),
+    /// A public key (read from a public key file).
+    Public(PublicKey),
+}
+
+impl ExpectedKey {
+    /// A fingerprint, or the text of a public key file; None when it is neither.
+    pub fn parse(fingerprint_or_file_text: &str) -> Option<ExpectedKey> {
+        if let Some(k) = PublicKey::parse_file_text(fingerprint_or_file_text) {
+            return Some(ExpectedKey::Public(k));
+        }
+        normalise_fingerprint(fingerprint_or_file_text).map(ExpectedKey::Fingerprint)
+    }
+
+    fn fingerprint(&self) -> String {
+        match self {
+            ExpectedKey::Fingerprint(f) => f.clone(),
+            ExpectedKey::Public(k) => k.fingerprint(),
+        }
+    }
+}
+
+/// [`verify_bundle_with`] without an expected key.
 pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, BundleError> {
+    verify_bundle_with(dir, store, None)
+}
+
+/// Check a bundle folder: its digest, every file's hash and size, every rendered file against
+/// a fresh rendering of the content, the attachments against their names, the signature of
+/// its audit head (against `key` when given); and, given the database, the head against the
+/// chain, each incident's content against the records and the selection re-run over the
+/// records as they stood at the bundle's head.
+pub fn verify_bundle_with(
+    dir: &Path,
+    store: Option<&Store>,
+    key: Option<&ExpectedKey>,
+) -> Result<BundleCheck, BundleError> {
     if !dir.is_dir() {
         return Err(BundleError::Usage(format!(
             "--bundle {}: not a folder",
@@ -157,12 +194,88 @@ pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, B
     if check.problems.is_empty() {
         check_rendering(c, &pictures, &disk_bytes, &mut check);
     }
+    // the signature over the digest and the head (after the rendering, which runs only on
+    // a bundle with no problem so far)
+    check_signature(&bf, key, &mut check);
     // 5. the records
     if let Some(s) = store {
         check.compared_with_records = true;
+        check_signer(s, &bf, &mut check)?;
         compare_with_records(s, c, &mut check)?;
     }
     Ok(check)
+}
+
+/// The signed head: it checks, it names the bundle's own head and digest, and (given `key`)
+/// it was made with that key.
+fn check_signature(bf: &BundleFile, key: Option<&ExpectedKey>, check: &mut BundleCheck) {
+    let c = &bf.content;
+    let Some(h) = &bf.signed_head else {
+        match key {
+            Some(k) => check.problems.push(format!(
+                "bundle.json: not signed, so it cannot be checked against key {}",
+                k.fingerprint()
+            )),
+            None => check.notes.push(
+                "the bundle is not signed (made where the database's private key was not at hand)"
+                    .into(),
+            ),
+        }
+        return;
+    };
+    match h.check() {
+        Err(e) => check.problems.push(format!(
+            "bundle.json: the signed audit head does not check: {e}"
+        )),
+        Ok(signer) => {
+            if let Some(k) = key {
+                let ok = match k {
+                    ExpectedKey::Fingerprint(f) => signer.fingerprint() == *f,
+                    ExpectedKey::Public(p) => signer == *p,
+                };
+                if !ok {
+                    check.problems.push(format!(
+                        "bundle.json: signed with key {}, not with the expected key {}",
+                        signer.fingerprint(),
+                        k.fingerprint()
+                    ));
+                }
+            }
+            check.notes.push(format!(
+                "signed with key {}: audit head entry {}, {}",
+                signer.fingerprint(),
+                h.seq,
+                h.hash
+            ));
+        }
+    }
+    if h.hash != c.audit_chain_head || Some(h.seq) != c.audit_head_seq {
+        check.problems.push(format!(
+            "bundle.json: the signed head (entry {}, {}) is not the head the content records",
+            h.seq, h.hash
+        ));
+    }
+    if h.content_sha256 != bf.content_sha256 {
+        check.problems.push(
+            "bundle.json: the signature was made for other content (its content digest differs)"
+                .into(),
+        );
+    }
+}
+
+/// A signed bundle was signed with the database's own key.
+fn check_signer(s: &Store, bf: &BundleFile, check: &mut BundleCheck) -> Result<(), BundleError> {
+    let (Some(h), Some(db_key)) = (&bf.signed_head, s.public_key()?) else {
+        return Ok(());
+    };
+    if h.public_key != db_key.hex() {
+        check.problems.push(format!(
+            "bundle.json: signed with key {}, but this database's key is {}",
+            h.fingerprint,
+            db_key.fingerprint()
+        ));
+    }
+    Ok(())
 }
 
 /// bundle.json read as JSON and as a bundle file; `None` (with the problem noted) when it
@@ -330,6 +443,84 @@ fn check_summaries(
     }
 }
 
+/// The fields of one CSV line (quoted fields with doubled quotes, as figures.csv writes them).
+fn csv_fields(line: &str) -> Vec<String> {
+    let mut out = Vec::new();
+    let mut cur = String::new();
+    let mut quoted = false;
+    let mut chars = line.chars().peekable();
+    while let Some(c) = chars.next() {
+        match (c, quoted) {
+            ('"', true) if chars.peek() == Some(&'"') => {
+                cur.push('"');
+                chars.next();
+            }
+            ('"', _) => quoted = !quoted,
+            (',', false) => out.push(std::mem::take(&mut cur)),
+            _ => cur.push(c),
+        }
+    }
+    out.push(cur);
+    out
+}
+
+/// Where an edited CSV first differs from its rendering: the row (with its first field, the
+/// reference) and the column by name, with both values.
+fn csv_difference(expected: &[u8], found: &[u8]) -> Option<String> {
+    let e = String::from_utf8_lossy(expected);
+    let f = String::from_utf8_lossy(found);
+    let header = csv_fields(e.lines().next()?);
+    let (mut el, mut fl) = (e.lines(), f.lines());
+    let mut row = 0;
+    loop {
+        match (el.next(), fl.next()) {
+            (None, None) => return None,
+            (Some(_), None) => return Some(format!("row {row} and after are missing")),
+            (None, Some(_)) => return Some(format!("row {row} was added")),
+            (Some(a), Some(b)) if a == b => {}
+            (Some(a), Some(b)) => {
+                let (fa, fb) = (csv_fields(a), csv_fields(b));
+                let col = (0..fa.len().max(fb.len())).find(|i| fa.get(*i) != fb.get(*i))?;
+                let name = header
+                    .get(col)
+                    .cloned()
+                    .unwrap_or_else(|| format!("{}", col + 1));
+                let shown = |v: Option<&String>| {
+                    v.map(|s| format!("'{}'", shardlog_core::text::clean(s)))
+                        .unwrap_or_else(|| "nothing".into())
+                };
+                return Some(if row == 0 {
+                    format!(
+                        "the header, column {}: the file has {}",
+                        col + 1,
+                        shown(fb.get(col))
+                    )
+                } else {
+                    format!(
+                        "row {row} ({}), column {name}: the file has {}, the content gives {}",
+                        shardlog_core::text::clean(fa.first().map(String::as_str).unwrap_or("")),
+                        shown(fb.get(col)),
+                        shown(fa.get(col))
+                    )
+                });
+            }
+        }
+        row += 1;
+    }
+}
+
+/// The first line where an edited text file differs from its rendering.
+fn line_difference(expected: &[u8], found: &[u8]) -> Option<String> {
+    let e = String::from_utf8_lossy(expected);
+    let f = String::from_utf8_lossy(found);
+    let n = e
+        .lines()
+        .zip(f.lines())
+        .position(|(a, b)| a != b)
+        .unwrap_or_else(|| e.lines().count().min(f.lines().count()));
+    Some(format!("line {} differs", n + 1))
+}
+
 /// Every rendered file equals a fresh rendering of the content.
 fn check_rendering(
     c: &BundleContent,
@@ -340,9 +531,23 @@ fn check_rendering(
     for (path, bytes) in render_files(c, pictures, threads()) {
         match disk_bytes.get(&path) {
             Some(b) if *b == bytes => {}
-            Some(_) => check.problems.push(format!(
-                "{path}: differs from what the bundle's content renders to (the file was edited after export)"
-            )),
+            Some(b) => {
+                let where_ = if path.ends_with(".csv") {
+                    csv_difference(&bytes, b)
+                } else if path.ends_with(".html") {
+                    line_difference(&bytes, b)
+                } else {
+                    None
+                };
+                check.problems.push(match where_ {
+                    Some(w) => format!(
+                        "{path}: {w} (the file was edited after export; the bundle's content gives the value shown)"
+                    ),
+                    None => format!(
+                        "{path}: differs from what the bundle's content renders to (the file was edited after export)"
+                    ),
+                })
+            }
             None => check.problems.push(format!("{path}: the file is missing")),
         }
     }
@@ -381,16 +586,99 @@ fn compare_with_records(
             ));
         }
     }
-    let filter = Filter {
-        supplier: Some(c.selection.supplier_code.clone()),
-        lot: c.selection.lot.clone(),
-        since: c.selection.since,
-        until: c.selection.until,
-        ..Filter::default()
+    let filters = super::gather::selection_filters(&c.selection);
+    if let Some(seq) = c.audit_head_seq {
+        compare_at_head(s, c, &filters, seq, check)?;
+    } else {
+        compare_by_time(s, c, &filters, check)?;
+    }
+    if chain.head == c.audit_chain_head {
+        check
+            .notes
+            .push("the records have not changed since the export (same audit-chain head)".into());
+    } else {
+        check.notes.push(format!(
+            "the database has changed since the export (audit-chain head now {}); the bundle's incidents were compared one by one",
+            chain.head
+        ));
+    }
+    Ok(())
+}
+
+/// The bundle's head is in the chain, its selection re-run over the records as they stood
+/// then gives exactly its incidents, and none of them was stamped after the export.
+fn compare_at_head(
+    s: &Store,
+    c: &BundleContent,
+    filters: &[Filter],
+    seq: i64,
+    check: &mut BundleCheck,
+) -> Result<(), BundleError> {
+    let anchor = Anchor {
+        seq,
+        hash: c.audit_chain_head.clone(),
     };
+    for p in s.check_anchors(&[anchor])? {
+        check.problems.push(format!(
+            "the bundle's audit head is not in this database's chain: {p} (or the bundle was made from a rewritten copy)"
+        ));
+    }
+    let mut then = BTreeSet::new();
+    for f in filters {
+        then.extend(s.matching_references_at(f, seq)?);
+    }
+    let in_bundle: BTreeSet<String> = c.incidents.iter().map(|i| i.reference.clone()).collect();
+    for r in then.difference(&in_bundle) {
+        check.problems.push(format!(
+            "incident {r}: matched the bundle's selection in the records as they stood at its head (entry {seq}) but is missing from the bundle"
+        ));
+    }
+    for r in in_bundle.difference(&then) {
+        check.problems.push(format!(
+            "incident {r}: in the bundle but did not match its selection in the records as they stood at its head (entry {seq})"
+        ));
+    }
+    // in the chain before the head, yet recorded after the export: a clock or a stamp lies
+    for r in &then {
+        let Some(inc) = s.find(r)? else { continue };
+        let stamped = inc.created_at.format("%Y-%m-%d %H:%M:%S UTC").to_string();
+        if stamped.as_str() > c.exported_at.as_str() {
+            check.problems.push(format!(
+                "incident {r}: recorded {stamped}, after the bundle's own export time {}, although it is in the chain before the bundle's head",
+                c.exported_at
+            ));
+        }
+    }
+    let mut now = 0;
+    for f in filters {
+        now += s.matching_ids(f)?.len();
+    }
+    let later = now.saturating_sub(then.len());
+    if later > 0 {
+        check.notes.push(format!(
+            "the selection matches {later} more incident{} in the records now than at the bundle's head",
+            if later == 1 { "" } else { "s" }
+        ));
+    }
+    Ok(())
+}
+
+/// A bundle without the sequence number of its head (made by an earlier shardlog): the
+/// incidents that match the selection now and are missing, by the time they were recorded.
+fn compare_by_time(
+    s: &Store,
+    c: &BundleContent,
+    filters: &[Filter],
+    check: &mut BundleCheck,
+) -> Result<(), BundleError> {
     let in_bundle: BTreeSet<&str> = c.incidents.iter().map(|i| i.reference.as_str()).collect();
     let mut added_later = 0;
-    for id in s.matching_ids(&filter)? {
+    // the bundle's selection run again: every field that chose the incidents is in it
+    let mut ids = Vec::new();
+    for f in filters {
+        ids.extend(s.matching_ids(f)?);
+    }
+    for id in ids {
         let inc = s.get(&id)?;
         if in_bundle.contains(inc.reference.as_str()) {
             continue;
@@ -409,16 +697,6 @@ fn compare_with_records(
         check.notes.push(format!(
             "{added_later} incident{} matching the selection were recorded after the export",
             if added_later == 1 { "" } else { "s" }
-        ));
-    }
-    if chain.head == c.audit_chain_head {
-        check
-            .notes
-            .push("the records have not changed since the export (same audit-chain head)".into());
-    } else {
-        check.notes.push(format!(
-            "the database has changed since the export (audit-chain head now {}); the bundle's incidents were compared one by one",
-            chain.head
         ));
     }
     Ok(())

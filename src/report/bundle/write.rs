@@ -12,6 +12,33 @@ use crate::store::Store;
 use shardlog_core::canonical::{digest, sha256_hex, Numbers};
 
 /// figures.csv: one row per incident.
+/// A figure of figures.csv: six significant figures in plain decimal, trailing zeros
+/// dropped (1.805, not 1.8050000000000002; 44.7214, not 44.721359549995796). bundle.json
+/// keeps every digit; six figures are far finer than any reading or constant behind them.
+fn csv_number(v: f64) -> String {
+    if !v.is_finite() {
+        return String::new();
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    let magnitude = v.abs().log10().floor() as i32;
+    let decimals = (5 - magnitude).clamp(0, 17) as usize;
+    let mut t = format!("{v:.decimals$}");
+    if t.contains('.') {
+        while t.ends_with('0') {
+            t.pop();
+        }
+        if t.ends_with('.') {
+            t.pop();
+        }
+    }
+    if t == "-0" {
+        t = "0".into();
+    }
+    t
+}
+
 pub fn figures_csv(c: &BundleContent) -> String {
     let header: Vec<String> = [
         "reference",
@@ -47,13 +74,7 @@ pub fn figures_csv(c: &BundleContent) -> String {
     .iter()
     .map(|s| s.to_string())
     .collect();
-    let num = |v: f64| {
-        if v.is_finite() {
-            format!("{v}")
-        } else {
-            String::new()
-        }
-    };
+    let num = csv_number;
     let mut rows = Vec::new();
     for i in &c.incidents {
         let ct = &i.content;
@@ -116,6 +137,7 @@ fn incident_proof(c: &BundleContent, i: &BundleIncident) -> Proof {
         audit_chain_head: Some(c.audit_chain_head.clone()),
         exported_at: c.exported_at.clone(),
         generator: c.generator.clone(),
+        signed_head: None,
     }
 }
 
@@ -125,6 +147,17 @@ pub fn render_files(
     c: &BundleContent,
     pictures: &Pictures,
     threads: usize,
+) -> Vec<(String, Vec<u8>)> {
+    render_files_told(c, pictures, threads, None)
+}
+
+/// [`render_files`], telling `tell` (done, total) how many summaries are rendered, a few
+/// times a second, from the calling thread.
+pub fn render_files_told(
+    c: &BundleContent,
+    pictures: &Pictures,
+    threads: usize,
+    mut tell: Option<&mut dyn FnMut(u64, u64)>,
 ) -> Vec<(String, Vec<u8>)> {
     let paper = paper_of(c);
     let cover = cover_document(c);
@@ -141,7 +174,10 @@ pub fn render_files(
     ];
     let threads = threads.clamp(1, 16);
     let chunk = c.incidents.len().div_ceil(threads).max(1);
+    let total = c.incidents.len() as u64;
+    let done = std::sync::atomic::AtomicU64::new(0);
     let rendered: Vec<Vec<(String, Vec<u8>)>> = std::thread::scope(|scope| {
+        let done = &done;
         let handles: Vec<_> = c
             .incidents
             .chunks(chunk)
@@ -151,12 +187,20 @@ pub fn render_files(
                         .map(|i| {
                             let doc =
                                 summary::document(&i.content, &incident_proof(c, i), pictures);
-                            (i.file.clone(), crate::report::pdf::render(&doc, paper))
+                            let file = (i.file.clone(), crate::report::pdf::render(&doc, paper));
+                            done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                            file
                         })
                         .collect::<Vec<_>>()
                 })
             })
             .collect();
+        if let Some(tell) = tell.as_mut() {
+            while handles.iter().any(|h| !h.is_finished()) {
+                tell(done.load(std::sync::atomic::Ordering::Relaxed), total);
+                std::thread::sleep(std::time::Duration::from_millis(50));
+            }
+        }
         handles
             .into_iter()
             .map(|h| h.join().unwrap_or_default())
@@ -220,7 +264,9 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
             ),
         });
     }
-    let files = render_files(&content, &pictures, threads());
+    let signed_head = sign(s, opts, &content)?;
+    let mut tell = |done: u64, total: u64| s.report_progress("rendering", done, Some(total));
+    let files = render_files_told(&content, &pictures, threads(), Some(&mut tell));
     let parent = match dir.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),
@@ -254,6 +300,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
             content_sha256,
             content: content.clone(),
             files: entries.clone(),
+            signed_head: signed_head.clone(),
         };
         let mut json = serde_json::to_string_pretty(&bf)?;
         json.push('\n');
@@ -299,7 +346,22 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         files: entries.len() + 1,
         content_sha256: digest(&content, Numbers::Shortest)?,
         audit_chain_head: content.audit_chain_head.clone(),
+        audit_head_seq: content.audit_head_seq,
+        signed_head,
     })
+}
+
+/// The bundle's audit head signed with its content digest, when the key is here.
+fn sign(
+    s: &Store,
+    opts: &DisputeOptions,
+    content: &BundleContent,
+) -> Result<Option<crate::store::signing::SignedHead>, BundleError> {
+    let (Some(dir), Some(seq)) = (&opts.key_dir, content.audit_head_seq) else {
+        return Ok(None);
+    };
+    let content_sha256 = digest(content, Numbers::Shortest)?;
+    Ok(s.sign_head_at(dir, seq, &content.audit_chain_head, &content_sha256)?)
 }
 
 /// Each attachment of the content whose file is not in the bundle, named with its hash.
@@ -309,4 +371,22 @@ pub(crate) fn missing_attachments(c: &BundleContent) -> Vec<String> {
         .filter(|a| a.file.is_none())
         .map(|a| format!("{} (SHA-256 {})", a.name, a.sha256))
         .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn csv_numbers_have_no_float_noise() {
+        assert_eq!(csv_number(1.8050000000000002), "1.805");
+        assert_eq!(csv_number(44.721359549995796), "44.7214");
+        assert_eq!(csv_number(332.16281312803267), "332.163");
+        assert_eq!(csv_number(6.0), "6");
+        assert_eq!(csv_number(-3.66), "-3.66");
+        assert_eq!(csv_number(0.000123456789), "0.000123457");
+        assert_eq!(csv_number(123456789.0), "123456789");
+        assert_eq!(csv_number(-0.0000001), "-0.0000001");
+        assert_eq!(csv_number(f64::NAN), "");
+    }
 }

@@ -113,6 +113,24 @@ impl Store {
     pub fn audit_head(&self) -> Result<String, StoreError> {
         Ok(Chain::load(&self.conn)?.hash)
     }
+
+    /// The last audit row: its sequence number and hash (0 and 64 zeros on an empty log).
+    pub fn audit_head_entry(&self) -> Result<(i64, String), StoreError> {
+        let c = Chain::load(&self.conn)?;
+        Ok((c.seq, c.hash))
+    }
+
+    /// The hash the log holds at entry `seq` (None when there is no such entry; 64 zeros
+    /// for entry 0, the start of every chain).
+    pub fn audit_hash_at(&self, seq: i64) -> Result<Option<String>, StoreError> {
+        if seq == 0 {
+            return Ok(Some(GENESIS.to_string()));
+        }
+        Ok(self
+            .conn
+            .query_row("SELECT hash FROM audit WHERE seq = ?1", [seq], |r| r.get(0))
+            .optional()?)
+    }
 }
 
 /// Entity name of a bulk-load audit row: its `after` is a manifest of the records it

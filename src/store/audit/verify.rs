@@ -3,11 +3,13 @@
 
 use std::collections::HashMap;
 
+use chrono::{DateTime, Utc};
 use rusqlite::{Connection, OptionalExtension};
 
 use super::chain::BATCH;
 use super::image::{digest, manifest_records, Entities, RecordKey};
 use crate::store::canon::{AuditRow, GENESIS};
+use crate::store::dates::parse_time;
 use crate::store::model::VerifyReport;
 use crate::store::StoreError;
 
@@ -17,6 +19,8 @@ pub(crate) struct Verification {
     report: VerifyReport,
     entities: Entities,
     last: HashMap<RecordKey, LastImage>,
+    /// The latest time of the rows so far, with its row (times never run backwards).
+    latest: Option<(DateTime<Utc>, i64)>,
 }
 
 /// What verify knows of one record: the digest of its last audited image (`None`: last
@@ -25,6 +29,11 @@ struct LastImage {
     digest: Option<[u8; 16]>,
     seen: bool,
 }
+
+/// How far a row's time may be before an earlier row's: a writer takes its time before it
+/// waits for another writer's lock (up to the busy timeout), and clocks are set right by
+/// seconds; a row back-dated by more is a problem.
+const BACKWARDS_ALLOWED: chrono::TimeDelta = chrono::TimeDelta::hours(1);
 
 /// One audit row as read for verification.
 struct ReadRow {
@@ -53,6 +62,7 @@ impl Verification {
             },
             entities: Entities::default(),
             last: HashMap::new(),
+            latest: None,
         };
         let mut prev = GENESIS.to_string();
         let mut expect_seq = 1i64;
@@ -76,6 +86,7 @@ impl Verification {
                     hash: r.get(9)?,
                 };
                 v.check_row(&row, &prev, expect_seq);
+                v.check_time_and_actor(&row);
                 v.remember_images(&row);
                 prev = row.hash;
                 expect_seq = row.seq + 1;
@@ -129,6 +140,38 @@ impl Verification {
             let (entity, entity_id, op, actor, at) =
                 (&row.entity, &row.entity_id, &row.op, &row.actor, &row.at);
             self.problem(format!("audit row {seq} ({entity} {entity_id}, {op} by {actor} at {at}): its content does not match its hash; it was changed"));
+        }
+    }
+
+    /// A row's time can be read and is not before the rows before it; its actor can be read.
+    /// Rows written by a migration carry one fixed time and are not compared.
+    fn check_time_and_actor(&mut self, row: &ReadRow) {
+        let seq = row.seq;
+        let actor = row.actor.trim();
+        if actor.is_empty() || row.actor.chars().any(char::is_control) {
+            self.problem(format!(
+                "audit row {seq}: its actor {:?} cannot be read (empty or with control characters)",
+                row.actor
+            ));
+        }
+        let Some(at) = parse_time(&row.at) else {
+            self.problem(format!(
+                "audit row {seq}: its time {:?} cannot be read (expected RFC 3339 UTC with milliseconds)",
+                row.at
+            ));
+            return;
+        };
+        if row.at == crate::store::MIGRATION_AT {
+            return;
+        }
+        match self.latest {
+            Some((before, before_seq)) if at < before - BACKWARDS_ALLOWED => self.problem(format!(
+                "audit row {seq}: its time {} is more than an hour before that of row {before_seq} ({}): the times run backwards",
+                row.at,
+                crate::store::dates::fmt_time(before)
+            )),
+            Some((before, _)) if at <= before => {}
+            _ => self.latest = Some((at, seq)),
         }
     }
 

@@ -229,7 +229,7 @@ pub fn csv_header() -> String {
 // ------------------------------------------------------------------ reading
 
 /// Split CSV text into records of fields, each with the line it starts on.
-fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
+pub(super) fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
     // A byte scanner: every character that ends a run (quote, comma, CR, LF) is ASCII, so
     // the runs between them are copied as whole slices on character boundaries.
     let mut records = Vec::new();
@@ -316,8 +316,23 @@ fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
 }
 
 /// Parse a CSV import into incidents (drafts where `id`/`ref` are empty), each with the line
-/// its record starts on.
+/// its record starts on; any problem refuses the file.
 pub fn parse_csv(bytes: &[u8], stamp: &Stamp) -> Result<Vec<CsvRecord>, Vec<Problem>> {
+    let (records, problems) = parse_csv_all(bytes, stamp)?;
+    if problems.is_empty() {
+        Ok(records)
+    } else {
+        Err(problems)
+    }
+}
+
+/// [`parse_csv`] that keeps going: the records that could be read and the problems of every
+/// line (so that the import's checks can add theirs and report them all at once). `Err` only
+/// when the file as a whole cannot be read (encoding, header, an open quote).
+pub fn parse_csv_all(
+    bytes: &[u8],
+    stamp: &Stamp,
+) -> Result<(Vec<CsvRecord>, Vec<Problem>), Vec<Problem>> {
     let text = decode_utf8(bytes).map_err(|e| vec![e])?;
     if text.trim().is_empty() {
         return Err(vec![Problem::new(
@@ -361,10 +376,7 @@ pub fn parse_csv(bytes: &[u8], stamp: &Stamp) -> Result<Vec<CsvRecord>, Vec<Prob
             out.push(CsvRecord { line, incident });
         }
     }
-    if !problems.is_empty() {
-        return Err(problems);
-    }
-    Ok(out)
+    Ok((out, problems))
 }
 
 /// The header line: each known column's position, or every problem with it.

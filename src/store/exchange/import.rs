@@ -9,11 +9,13 @@ use rusqlite::{Connection, TransactionBehavior};
 use super::super::audit::{Bulk, Chain, INCIDENT};
 use super::super::incidents::{self, format_reference, next_reference, reference_prefix, RefCache};
 use super::super::model::*;
+use super::super::progress::ProgressSlot;
 use super::super::refdata;
 use super::super::{IdGen, LookupSet, Store, StoreError};
 use super::admission::{self, AttachmentFiles, ReferenceCase};
-use super::csv::{parse_csv, CsvRecord};
+use super::csv::{parse_csv_all, CsvRecord};
 use super::json::parse_json;
+use super::onepass::{self, Vocabulary};
 use super::{
     ExportDoc, FileKind, ImportOptions, ImportRejected, ImportSummary, Problem, MAX_IMPORT_BYTES,
 };
@@ -39,11 +41,15 @@ impl Place {
         }
     }
 
-    /// A problem with one field of the incident: a CSV record names the field in the
-    /// message (its columns are not the model's paths), a JSON path names it in the place.
+    /// A problem with one field of the incident: a CSV record names its column (the
+    /// model's path only for a field the flat view has no column for), a JSON path names
+    /// the field in the place.
     fn field_problem(self, field: &str, message: String) -> Problem {
         match self {
-            Place::Line(_) => Problem::new(self.at(), format!("{field}: {message}")),
+            Place::Line(n) => match onepass::csv_column(field) {
+                Some(column) => Problem::new(format!("line {n}, column {column}"), message),
+                None => Problem::new(self.at(), format!("{field}: {message}")),
+            },
             Place::Index(_) => Problem::new(format!("{}.{field}", self.at()), message),
         }
     }
@@ -71,25 +77,89 @@ impl Store {
                 Ok(doc) => self.import_json(doc, options, stamp),
                 Err(problems) => Ok(Err(ImportRejected { problems })),
             },
-            FileKind::Csv => match parse_csv(bytes, stamp) {
-                Ok(records) => self.import_csv(records, options, stamp),
+            FileKind::Csv => match parse_csv_all(bytes, stamp) {
+                Ok((records, problems)) => {
+                    self.import_csv_reporting(records, problems, options, stamp)
+                }
                 Err(problems) => Ok(Err(ImportRejected { problems })),
             },
         }
     }
 
-    /// Import the records of a CSV file. All or nothing; problems name the record's line.
+    /// Import the records of a CSV file. All or nothing; problems name the record's line
+    /// and the CSV column.
     pub fn import_csv(
         &mut self,
         records: Vec<CsvRecord>,
         options: ImportOptions,
         stamp: &Stamp,
     ) -> ImportResult {
-        let incidents = records
-            .into_iter()
-            .map(|r| (Place::Line(r.line), r.incident))
-            .collect();
-        self.import_placed(ExportDoc::empty(), incidents, options, stamp)
+        self.import_csv_reporting(records, Vec::new(), options, stamp)
+    }
+
+    /// [`Store::import_csv`] with the problems the reading already found: lookup cells are
+    /// read as codes or labels, results are computed from the readings, possible duplicates
+    /// are found, and every problem of the file is reported at once, in line order.
+    fn import_csv_reporting(
+        &mut self,
+        records: Vec<CsvRecord>,
+        mut early: Vec<Problem>,
+        options: ImportOptions,
+        stamp: &Stamp,
+    ) -> ImportResult {
+        let vocabulary = Vocabulary::new(self.all_lookups()?);
+        let mut seen: HashMap<(String, String, NaiveDate), String> = HashMap::new();
+        let mut incidents = Vec::with_capacity(records.len());
+        for CsvRecord { line, mut incident } in records {
+            vocabulary.resolve(&mut incident);
+            early.extend(onepass::compute_results(&mut incident, line, stamp.at));
+            if !options.allow_duplicates {
+                self.note_duplicates(Place::Line(line), &incident, &mut seen, &mut early)?;
+            }
+            incidents.push((Place::Line(line), incident));
+        }
+        let result = self.import_placed(ExportDoc::empty(), incidents, early, options, stamp);
+        match result {
+            Ok(Err(mut rejected)) => {
+                for p in &mut rejected.problems {
+                    list_valid_codes(&vocabulary, p);
+                }
+                rejected.problems.sort_by_key(onepass::line_of);
+                Ok(Err(rejected))
+            }
+            other => other,
+        }
+    }
+
+    /// A problem for a record with the same asset, position and date found as one recorded
+    /// or one earlier in the file.
+    fn note_duplicates(
+        &self,
+        place: Place,
+        inc: &Incident,
+        seen: &mut HashMap<(String, String, NaiveDate), String>,
+        problems: &mut Vec<Problem>,
+    ) -> Result<(), StoreError> {
+        let Some(key) = onepass::duplicate_key(inc) else {
+            return Ok(());
+        };
+        let mut same: Vec<String> = self.possible_duplicates(inc)?;
+        if let Some(first) = seen.get(&key) {
+            same.push(format!("{first} of this file"));
+        } else {
+            seen.insert(key, place.at());
+        }
+        if !same.is_empty() {
+            problems.push(Problem::new(
+                place.at(),
+                format!(
+                    "possible duplicate of {} (same asset, position and date found); \
+                     --allow-duplicates imports it anyway",
+                    same.join(", ")
+                ),
+            ));
+        }
+        Ok(())
     }
 
     /// Import a JSON export document. All or nothing; problems name the JSON path.
@@ -99,19 +169,28 @@ impl Store {
         options: ImportOptions,
         stamp: &Stamp,
     ) -> ImportResult {
-        let incidents = std::mem::take(&mut doc.incidents)
+        let incidents: Vec<(Place, Incident)> = std::mem::take(&mut doc.incidents)
             .into_iter()
             .enumerate()
             .map(|(i, inc)| (Place::Index(i), inc))
             .collect();
-        self.import_placed(doc, incidents, options, stamp)
+        let mut early = Vec::new();
+        if !options.allow_duplicates {
+            let mut seen = HashMap::new();
+            for (place, inc) in &incidents {
+                self.note_duplicates(*place, inc, &mut seen, &mut early)?;
+            }
+        }
+        self.import_placed(doc, incidents, early, options, stamp)
     }
 
-    /// Check the reference data of `doc` and the incidents, then write them all or nothing.
+    /// Check the reference data of `doc` and the incidents, then write them all or nothing;
+    /// `early` holds the problems found before the checks (reported with theirs).
     fn import_placed(
         &mut self,
         doc: ExportDoc,
         mut incidents: Vec<(Place, Incident)>,
+        early: Vec<Problem>,
         options: ImportOptions,
         stamp: &Stamp,
     ) -> ImportResult {
@@ -126,7 +205,11 @@ impl Store {
             reference_case: ReferenceCase::default(),
             files: AttachmentFiles::new(options.attachments.as_deref(), self.files_dir()),
             now: stamp.at,
-            problems: admission::reference_dates_out_of_range(&doc),
+            problems: {
+                let mut problems = early;
+                problems.extend(admission::reference_dates_out_of_range(&doc));
+                problems
+            },
         };
         for (i, e) in doc.lookups.iter().enumerate() {
             if e.code.trim().is_empty() {
@@ -136,7 +219,9 @@ impl Store {
                 ));
             }
         }
-        for (place, inc) in &incidents {
+        let total = Some(incidents.len() as u64);
+        for (i, (place, inc)) in incidents.iter().enumerate() {
+            self.report_progress("checking", i as u64, total);
             checker.check(self, *place, inc)?;
         }
         for (i, e) in doc.exposure.iter().enumerate() {
@@ -213,6 +298,7 @@ impl Store {
             ids: &mut self.ids,
             stamp,
             summary: &mut summary,
+            progress: &self.progress,
         };
         let result = writer.write_all(doc, incidents, seen_refs, options.strict);
         self.ids.set_monotonic(false);
@@ -235,6 +321,23 @@ impl Store {
                 Ok(Ok(summary))
             }
         }
+    }
+}
+
+/// A refusal of an unknown code in a CSV column says which codes (and labels) it takes.
+fn list_valid_codes(vocabulary: &Vocabulary, p: &mut Problem) {
+    let Some(column) = p.place.split(", column ").nth(1) else {
+        return;
+    };
+    let Some(kind) = onepass::column_kind(column) else {
+        return;
+    };
+    if p.message.starts_with("unknown ") && p.message.contains(" code ") {
+        p.message = format!(
+            "{}; expected a code or label (any case) of: {}",
+            p.message,
+            vocabulary.listing(kind)
+        );
     }
 }
 
@@ -426,6 +529,7 @@ struct Writer<'a> {
     ids: &'a mut IdGen,
     stamp: &'a Stamp,
     summary: &'a mut ImportSummary,
+    progress: &'a ProgressSlot,
 }
 
 /// Put each item of a reference-data section that is not already present.
@@ -570,7 +674,9 @@ impl Writer<'_> {
         let stamp = self.stamp;
         let mut day_counter: HashMap<NaiveDate, u32> = HashMap::new();
         let mut ref_cache = RefCache::default();
-        for (place, mut inc) in incidents {
+        let total = Some(incidents.len() as u64);
+        for (i, (place, mut inc)) in incidents.into_iter().enumerate() {
+            self.progress.tell("importing", i as u64, total);
             let here = |x: StoreError| (place.at(), x);
             if inc.revision < 1 {
                 inc.revision = 1;

@@ -14,11 +14,14 @@ use super::model::*;
 mod admission;
 mod csv;
 mod export;
+mod exposure;
 mod import;
 mod json;
+mod onepass;
 
 pub use csv::{csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS};
 pub use export::Damaged;
+pub use exposure::{exposure_csv_row, EXPOSURE_COLUMNS};
 pub use json::parse_json;
 
 /// The `format` field of a JSON export.
@@ -103,6 +106,9 @@ pub struct ImportOptions {
     /// A folder holding the files of the attachment rows (named by their SHA-256, as in an
     /// attachment folder); without it, attachment rows are refused.
     pub attachments: Option<std::path::PathBuf>,
+    /// Import an incident although one with the same asset, position and date found is
+    /// already recorded (or earlier in the file); otherwise that is a problem of its line.
+    pub allow_duplicates: bool,
 }
 
 /// What an import did (or would do, in a dry run).

@@ -362,9 +362,13 @@ pub(super) fn filter_sql(
         c.push("i.status = ?".to_string());
         a.push(text_value(s));
     }
-    if let Some(s) = &f.cause {
-        c.push("i.cause_category = ?".to_string());
-        a.push(text_value(s));
+    match f.cause.as_deref() {
+        Some(NO_CAUSE) => c.push("i.cause_category IS NULL".to_string()),
+        Some(s) => {
+            c.push("i.cause_category = ?".to_string());
+            a.push(text_value(s));
+        }
+        None => {}
     }
     if let Some(s) = &f.origin_type {
         c.push("i.origin_type = ?".to_string());

@@ -78,12 +78,14 @@ macro_rules! attachment_cols {
     };
 }
 
+mod as_of;
 mod children;
 mod facts;
 mod history;
 mod list;
 mod read;
 mod refs;
+mod revert;
 mod validate;
 mod write;
 

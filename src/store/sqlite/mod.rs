@@ -13,10 +13,13 @@ pub use open::{
     environment_failure, integrity_check, is_read_only, open_checked, open_for_reading,
     open_in_memory, set_bulk_pragmas, set_file_pragmas,
 };
-pub use schema::{migrate, user_version, APPLICATION_ID, FLEET_FACTS_MIGRATION, SCHEMA_VERSION};
+pub use schema::{
+    migrate, schema_differences, user_version, APPLICATION_ID, FLEET_FACTS_MIGRATION,
+    SCHEMA_VERSION,
+};
 #[cfg(test)]
 pub(crate) use search::fts_shadow_tables;
 pub use search::{
-    fts_copy_index, fts_count, fts_create_sql, fts_delete, fts_insert, fts_put, fts_query,
-    FTS_CONDITION, FTS_FROM, FTS_IN_SET,
+    fts_copy_index, fts_count, fts_create_sql, fts_delete, fts_insert, fts_out_of_step, fts_put,
+    fts_query, FTS_CONDITION, FTS_FROM, FTS_IN_SET,
 };

@@ -82,3 +82,66 @@ pub fn migrate(
         tx.commit()?;
     }
 }
+
+/// One schema object as `sqlite_master` lists it: type and name, and for triggers, views
+/// and indexes their SQL with runs of white space made one space.
+type Objects = std::collections::BTreeMap<(String, String), Option<String>>;
+
+fn objects(conn: &Connection) -> Result<Objects, StoreError> {
+    let mut stmt = conn.prepare(
+        "SELECT type, name, sql FROM main.sqlite_master WHERE name NOT LIKE 'sqlite\\_%' ESCAPE '\\'",
+    )?;
+    let rows = stmt.query_map([], |r| {
+        Ok((
+            r.get::<_, String>(0)?,
+            r.get::<_, String>(1)?,
+            r.get::<_, Option<String>>(2)?,
+        ))
+    })?;
+    let mut out = Objects::new();
+    for row in rows {
+        let (kind, name, sql) = row?;
+        let body = matches!(kind.as_str(), "trigger" | "view" | "index")
+            .then(|| sql.map(|s| s.split_whitespace().collect::<Vec<_>>().join(" ")))
+            .flatten();
+        out.insert((kind, name), body);
+    }
+    Ok(out)
+}
+
+/// The objects migrations 1 to `version` make, built in a database in memory.
+fn expected_objects(version: i64) -> Result<Objects, StoreError> {
+    let conn = Connection::open_in_memory()?;
+    for (_, sql) in MIGRATIONS
+        .iter()
+        .take(version.clamp(0, SCHEMA_VERSION) as usize)
+    {
+        conn.execute_batch(sql)?;
+    }
+    objects(&conn)
+}
+
+/// Every way the file's schema differs from what the migrations up to its `user_version`
+/// make: an object added (a trigger, a view, an index, a table), one missing, one whose
+/// SQL was changed. A lowered or raised `user_version` shows as objects missing or added.
+/// Empty for a schema as shardlog made it.
+pub fn schema_differences(conn: &Connection, version: i64) -> Result<Vec<String>, StoreError> {
+    let want = expected_objects(version)?;
+    let have = objects(conn)?;
+    let mut out = Vec::new();
+    for ((kind, name), sql) in &have {
+        match want.get(&(kind.clone(), name.clone())) {
+            None => out.push(format!("{kind} {name} that the migrations did not make")),
+            Some(w) if w != sql => out.push(format!(
+                "{kind} {name} changed from what the migrations made"
+            )),
+            Some(_) => {}
+        }
+    }
+    for (kind, name) in want.keys() {
+        if !have.contains_key(&(kind.clone(), name.clone())) {
+            out.push(format!("{kind} {name} missing"));
+        }
+    }
+    Ok(out)
+}

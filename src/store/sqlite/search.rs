@@ -113,6 +113,57 @@ pub fn fts_count(conn: &Connection, query: &str) -> Result<u64, StoreError> {
     Ok(n as u64)
 }
 
+/// Where the text index is out of step with the incidents: rows in it with no incident, and
+/// incidents with no row in it (one ordered walk of each).
+pub fn fts_out_of_step(conn: &Connection) -> Result<Vec<String>, StoreError> {
+    let mut idx = conn.prepare("SELECT rowid FROM incident_text ORDER BY rowid")?;
+    let mut inc = conn.prepare("SELECT seq FROM incidents ORDER BY seq")?;
+    let mut a = idx.query([])?;
+    let mut b = inc.query([])?;
+    let (mut extra, mut missing) = (Vec::<i64>::new(), Vec::<i64>::new());
+    let mut x: Option<i64> = a.next()?.map(|r| r.get(0)).transpose()?;
+    let mut y: Option<i64> = b.next()?.map(|r| r.get(0)).transpose()?;
+    loop {
+        match (x, y) {
+            (None, None) => break,
+            (Some(i), Some(s)) if i == s => {
+                x = a.next()?.map(|r| r.get(0)).transpose()?;
+                y = b.next()?.map(|r| r.get(0)).transpose()?;
+            }
+            (Some(i), Some(s)) if i < s => {
+                extra.push(i);
+                x = a.next()?.map(|r| r.get(0)).transpose()?;
+            }
+            (Some(i), None) => {
+                extra.push(i);
+                x = a.next()?.map(|r| r.get(0)).transpose()?;
+            }
+            (_, Some(s)) => {
+                missing.push(s);
+                y = b.next()?.map(|r| r.get(0)).transpose()?;
+            }
+        }
+    }
+    let mut out = Vec::new();
+    if !extra.is_empty() {
+        out.push(format!(
+            "the text index has {} entr{} with no incident (first: row {}); rows were inserted in it behind shardlog's back",
+            extra.len(),
+            if extra.len() == 1 { "y" } else { "ies" },
+            extra[0]
+        ));
+    }
+    if !missing.is_empty() {
+        out.push(format!(
+            "the text index lacks {} incident{} (first: row {}); rows were deleted from it behind shardlog's back, so searches miss them",
+            missing.len(),
+            if missing.len() == 1 { "" } else { "s" },
+            missing[0]
+        ));
+    }
+    Ok(out)
+}
+
 /// Turn what a user typed into an FTS5 query that cannot be a syntax error: every word
 /// becomes a quoted prefix term, all must match. None when nothing searchable is left.
 pub fn fts_query(text: &str) -> Option<String> {

@@ -61,9 +61,12 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     // room; otherwise its lines are in the results pane only
     let results = match &app.bench.hypothesis {
         Some(h)
-            if results.height >= 6 + super::hypothesis::PANEL_MIN_ROWS && results.width >= 34 =>
+            if results.height >= RESULTS_MIN_ROWS + super::hypothesis::PANEL_MIN_ROWS
+                && results.width >= 34 =>
         {
-            let mut panel_h = (results.height * 3 / 5).clamp(super::hypothesis::PANEL_MIN_ROWS, 22);
+            let mut panel_h = (results.height * 3 / 5)
+                .clamp(super::hypothesis::PANEL_MIN_ROWS, 22)
+                .min(results.height - RESULTS_MIN_ROWS);
             if !matches!(h, Ok(c) if c.chart.is_ok()) {
                 // no chart to draw: the panel holds its few lines only
                 panel_h = 6;
@@ -77,14 +80,19 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         _ => results,
     };
     let inner = boxed(f, results, "Results (live) · PgUp/PgDn scroll", false, th);
-    let lines = result_lines(app, th, inner.width);
+    let lines = widgets::keep_figures_whole(result_lines(app, th, inner.width));
     let max_scroll = widgets::wrapped_rows(&lines, inner.width).saturating_sub(inner.height);
     app.bench.scroll_max.set(max_scroll);
     widgets::para(lines)
         .scroll((app.bench.scroll.min(max_scroll), 0))
         .render(inner, f.buffer_mut());
+    widgets::spaces_for_no_breaks(f.buffer_mut(), inner);
     widgets::para(text).render(caution, f.buffer_mut());
 }
+
+/// Rows the results pane keeps when the hypothesis panel is beside it (the headline figures
+/// stay in view at 80×24).
+pub const RESULTS_MIN_ROWS: u16 = 9;
 
 fn interval(lo: f64, hi: f64, unit: Unit) -> String {
     format!(
@@ -326,8 +334,13 @@ fn geometry_lines(
         ));
     }
     if a.consistency.is_empty() {
+        let why = if a.boundaries.len() > 1 {
+            "not checked: a mirror that is not closed says nothing of the stress"
+        } else {
+            "one boundary only"
+        };
         out.push(Line::styled(
-            "Boundary consistency: one boundary only",
+            format!("Boundary consistency: {why}"),
             th.muted,
         ));
     }

@@ -3,11 +3,11 @@
 //! measured flaw marked. Figures come from `app::hypothesis::Check` (loads::evaluate,
 //! loads::verdict::judge, loads::critical::curve); nothing is computed here.
 
-use ratatui::layout::{Constraint, Rect};
+use ratatui::layout::Rect;
 use ratatui::style::Style;
 use ratatui::symbols::Marker;
 use ratatui::text::{Line, Span};
-use ratatui::widgets::{Axis, Chart, Dataset, GraphType, LegendPosition, Widget};
+use ratatui::widgets::{Axis, Chart, Dataset, GraphType, Widget};
 
 use crate::app::hypothesis::{Check, KChart, KINDS};
 use crate::tui::theme::Theme;
@@ -56,7 +56,7 @@ fn figures(c: &Check, th: &Theme) -> Line<'static> {
         spans.push(Span::styled(" · measured ", th.label));
         spans.push(Span::styled(
             format!(
-                "{} ({} – {})",
+                "{} ({} – {} MPa)",
                 shardlog_core::text::stress(m.stress),
                 fmt_sig(m.low / 1e6, 3),
                 fmt_sig(m.high / 1e6, 3)
@@ -167,7 +167,16 @@ pub fn detail_lines(h: &Result<Check, String>, th: &Theme) -> Vec<Line<'static>>
 }
 
 /// Rows the panel wants at least (text and a useful chart).
-pub const PANEL_MIN_ROWS: u16 = 12;
+pub const PANEL_MIN_ROWS: u16 = 11;
+
+/// The chart's glyphs, one per curve or mark, so that it reads without colour (NO_COLOR):
+/// the hypothesis' K(a) in braille dots, the measured stress' K(a) in bullets, the K_Ic line
+/// dashed, the measured flaw a dotted vertical line, the mirror-predicted flaw a diamond.
+pub const GLYPH_HYPOTHESIS: char = '⠤';
+pub const GLYPH_MEASURED: char = '•';
+pub const GLYPH_TOUGHNESS: char = '┄';
+pub const GLYPH_FLAW: char = '┆';
+pub const GLYPH_MIRROR: char = '◆';
 
 /// Draw the panel's inside: the figures, the verdict, the chart when there is room.
 pub fn draw_panel(
@@ -207,15 +216,15 @@ pub fn draw_panel(
             match &c.chart {
                 Ok(k) => {
                     let mut l = vec![
-                        Span::styled("K(a) ", th.label),
-                        Span::styled("━hyp ", th.figure),
-                        Span::styled("━meas ", th.muted),
-                        Span::styled("━K_Ic ", th.error),
+                        Span::styled("K/MPa·√m ", th.label),
+                        Span::styled(format!("{GLYPH_HYPOTHESIS}hyp "), th.figure),
+                        Span::styled(format!("{GLYPH_MEASURED}meas "), th.muted),
+                        Span::styled(format!("{GLYPH_TOUGHNESS}K_Ic "), th.error),
                     ];
                     if k.measured_flaw_m.is_some() {
-                        l.push(Span::styled("│flaw ", th.warning));
+                        l.push(Span::styled(format!("{GLYPH_FLAW}flaw "), th.warning));
                     }
-                    l.push(Span::styled("•mirror a", th.ok));
+                    l.push(Span::styled(format!("{GLYPH_MIRROR}mirror"), th.ok));
                     t.push(Line::from(l));
                 }
                 Err(e) => t.push(Line::styled(format!("K(a): {}", clean(e)), th.muted)),
@@ -223,12 +232,14 @@ pub fn draw_panel(
             t
         }
     };
+    let text = crate::tui::widgets::keep_figures_whole(text);
     let rows = crate::tui::widgets::wrapped_rows(&text, area.width).min(area.height);
     let text_area = Rect {
         height: rows,
         ..area
     };
     crate::tui::widgets::para(text).render(text_area, buf);
+    crate::tui::widgets::spaces_for_no_breaks(buf, text_area);
     let chart_area = Rect {
         y: area.y + rows,
         height: area.height - rows,
@@ -273,51 +284,18 @@ pub fn draw_chart(buf: &mut ratatui::buffer::Buffer, area: Rect, k: &KChart, th:
         .iter()
         .map(|p| (lg(p.flaw_size), (p.stress_intensity / 1e6).min(ymax * 1.5)))
         .collect();
-    let kic_line = [(x0, kic), (x1, kic)];
-    let pred = [(lg(k.predicted_flaw_m), kic)];
-    let flaw: Vec<(f64, f64)> = k
-        .measured_flaw_m
-        .map(|m| {
-            let x = lg(m).clamp(x0, x1);
-            (0..=20).map(|i| (x, ymax * i as f64 / 20.0)).collect()
-        })
-        .unwrap_or_default();
-    let mut sets = vec![
+    let sets = vec![
         Dataset::default()
-            .name("K_Ic")
-            .marker(Marker::Braille)
-            .graph_type(GraphType::Line)
-            .style(th.error)
-            .data(&kic_line),
-        Dataset::default()
-            .name("K meas. σ")
-            .marker(Marker::Braille)
-            .graph_type(GraphType::Line)
+            .marker(Marker::Dot)
+            .graph_type(GraphType::Scatter)
             .style(th.muted)
             .data(&meas),
         Dataset::default()
-            .name("K hyp.")
             .marker(Marker::Braille)
             .graph_type(GraphType::Line)
             .style(th.figure)
             .data(&hyp),
-        Dataset::default()
-            .name("mirror a")
-            .marker(Marker::Dot)
-            .graph_type(GraphType::Scatter)
-            .style(th.ok)
-            .data(&pred),
     ];
-    if !flaw.is_empty() {
-        sets.push(
-            Dataset::default()
-                .name("measured flaw")
-                .marker(Marker::Braille)
-                .graph_type(GraphType::Scatter)
-                .style(th.warning)
-                .data(&flaw),
-        );
-    }
     let xm = (x0 + x1) / 2.0;
     let chart = Chart::new(sets)
         .x_axis(
@@ -332,7 +310,56 @@ pub fn draw_chart(buf: &mut ratatui::buffer::Buffer, area: Rect, k: &KChart, th:
                 .style(th.muted)
                 .labels(vec!["0".to_string(), fmt_sig(kic, 2), fmt_sig(ymax, 2)]),
         )
-        .legend_position(Some(LegendPosition::TopLeft))
-        .hidden_legend_constraints((Constraint::Ratio(1, 2), Constraint::Ratio(1, 2)));
+        .legend_position(None);
     chart.render(area, buf);
+    let Some(plot) = plot_area(buf, area) else {
+        return;
+    };
+    let to_col = |x: f64| {
+        let f = ((x - x0) / (x1 - x0)).clamp(0.0, 1.0);
+        plot.x + (f * f64::from(plot.width.saturating_sub(1))).round() as u16
+    };
+    let to_row = |y: f64| {
+        let f = (y / ymax).clamp(0.0, 1.0);
+        // as the axis places its labels: the middle label of an even span sits low
+        plot.y + plot.height.saturating_sub(1)
+            - (f * f64::from(plot.height.saturating_sub(1))).floor() as u16
+    };
+    let kic_row = to_row(kic);
+    for col in plot.x..plot.x + plot.width {
+        if buf[(col, kic_row)].symbol() == " " {
+            buf[(col, kic_row)]
+                .set_char(GLYPH_TOUGHNESS)
+                .set_style(th.error);
+        }
+    }
+    if let Some(m) = k.measured_flaw_m {
+        let col = to_col(lg(m));
+        for row in plot.y..plot.y + plot.height {
+            buf[(col, row)].set_char(GLYPH_FLAW).set_style(th.warning);
+        }
+    }
+    buf[(to_col(lg(k.predicted_flaw_m)), kic_row)]
+        .set_char(GLYPH_MIRROR)
+        .set_style(th.ok);
+}
+
+/// The chart's plotting area inside `area`: right of the y axis, above the x axis (found by
+/// the axes' corner that the chart drew).
+pub fn plot_area(buf: &ratatui::buffer::Buffer, area: Rect) -> Option<Rect> {
+    for row in (area.y..area.y + area.height).rev() {
+        for col in area.x..area.x + area.width {
+            if buf[(col, row)].symbol() == "└" {
+                let width = (area.x + area.width).checked_sub(col + 1)?;
+                let height = row.checked_sub(area.y)?;
+                return (width > 0 && height > 0).then_some(Rect {
+                    x: col + 1,
+                    y: area.y,
+                    width,
+                    height,
+                });
+            }
+        }
+    }
+    None
 }

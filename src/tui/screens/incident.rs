@@ -231,25 +231,38 @@ fn history_lines(state: &IncidentState, th: &Theme, out: &mut Vec<Line<'static>>
         ),
         th.header,
     ));
-    for h in &state.history {
+    for (i, h) in state.history.iter().enumerate() {
+        let mark = if i == state.history_cursor {
+            "▸"
+        } else {
+            " "
+        };
         // a new record's every field is "changed": say what happened instead
         let changed = if h.changed.is_empty() || h.op != "update" {
             String::new()
         } else {
             format!(" · {}", h.changed.join(", "))
         };
-        out.push(Line::raw(format!(
-            " #{} {} · {} · {}{changed}",
-            h.seq,
-            h.at.format("%Y-%m-%d %H:%M:%S"),
-            clean(&h.actor),
-            match h.op.as_str() {
-                "insert" => "created",
-                "update" => "changed",
-                "delete" => "deleted",
-                other => other,
-            },
-        )));
+        let style = if i == state.history_cursor {
+            th.focus_label
+        } else {
+            ratatui::style::Style::default()
+        };
+        out.push(Line::styled(
+            format!(
+                "{mark}#{} {} · {} · {}{changed}",
+                h.seq,
+                h.at.format("%Y-%m-%d %H:%M:%S"),
+                clean(&h.actor),
+                match h.op.as_str() {
+                    "insert" => "created",
+                    "update" => "changed",
+                    "delete" => "deleted",
+                    other => other,
+                },
+            ),
+            style,
+        ));
         out.push(Line::styled(
             format!("   hash {}", h.hash.chars().take(32).collect::<String>()),
             th.muted,

@@ -70,7 +70,7 @@ const COLS: &[Col] = &[
         min_screen: 0,
     },
     Col {
-        header: "Stress",
+        header: "Net σ",
         width: 9,
         sort: Some(SortColumn::Stress),
         min_screen: 0,

@@ -16,7 +16,7 @@ use crate::store::model::LookupKind;
 use crate::tui::theme::Theme;
 use crate::tui::widgets::{clean, fit, fit_left, wrap};
 use shardlog_core::fleet::group::NOT_RECORDED;
-use shardlog_core::fleet::Key;
+use shardlog_core::fleet::{Key, FLAG_WORD};
 use shardlog_core::text::pad_left;
 use shardlog_core::units::{fmt_sig, to_mpa};
 
@@ -103,6 +103,7 @@ impl Labels<'_> {
                 };
                 match kind {
                     Some(kind) if v != NOT_RECORDED => self.0.label(kind, v),
+                    Some(LookupKind::CauseCategory) => "no cause recorded yet".to_string(),
                     _ => v.clone(),
                 }
             })
@@ -322,6 +323,25 @@ fn group_months<'a>(
     })
 }
 
+/// The season of the group highlighted on the Groups panel, from its own months, when the
+/// per-month panel charts that group.
+fn group_season(
+    r: &ReviewState,
+    d: &ReviewData,
+    labels: &Labels<'_>,
+) -> Option<(String, shardlog_core::fleet::Seasonality)> {
+    if !r.group_months {
+        return None;
+    }
+    let i = r.selected_in(Panel::Groups);
+    let row = d.table.rows.get(i)?;
+    let t = d.group_trends.get(i)?.as_ref()?.trend.as_ref().ok()?;
+    Some((
+        labels.of(&d.table.keys, &row.key),
+        shardlog_core::fleet::seasonality_of_months(&t.months),
+    ))
+}
+
 fn months(
     r: &ReviewState,
     d: &ReviewData,
@@ -364,7 +384,20 @@ fn months(
         })
         .collect();
     let mut area = area;
-    if let (Some(sz), true) = (&d.seasonality, area.height >= 6) {
+    // the season of what the panel charts: the highlighted group's own months, or the fleet's
+    let own = group_season(r, d, labels);
+    let season = match &own {
+        Some((name, sz)) => Some((format!("Season of {name}"), sz)),
+        None => d.seasonality.as_ref().map(|sz| {
+            let title = if r.group_months {
+                "Season (whole fleet)"
+            } else {
+                "Season"
+            };
+            (title.to_string(), sz)
+        }),
+    };
+    if let (Some((title, sz)), true) = (season, area.height >= 7) {
         const NAMES: [&str; 12] = [
             "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec",
         ];
@@ -379,18 +412,31 @@ fn months(
             peaks.join(", ")
         };
         let text = format!(
-            "Season{}: peaks {peaks} · p = {} · χ² of counts per month of year against its {}",
-            if r.group_months { " (whole fleet)" } else { "" },
+            "{title}: peaks {peaks} · p = {} · χ² of counts per month of year against its {}",
             fmt_sig(sz.p_value, 2),
             sz.basis.name()
         );
-        area.height -= 1;
+        let counts: Vec<String> = NAMES
+            .iter()
+            .zip(sz.observed)
+            .map(|(m, n)| format!("{m} {n}"))
+            .collect();
+        let mut per_month = format!(" {}", counts.join(" "));
+        if UnicodeWidthStr::width(per_month.as_str()) > area.width as usize {
+            per_month = format!(" {}", counts.join(" ").replace(' ', ""));
+        }
+        area.height -= 2;
         let last = Rect {
             y: area.y + area.height,
             height: 1,
             ..area
         };
         put(f, last, &format!(" {text}"), last.width as usize, th.muted);
+        let below = Rect {
+            y: last.y + 1,
+            ..last
+        };
+        put(f, below, &per_month, below.width as usize, th.muted);
     }
     bars(f, area, &rows, Some(r.selected()), th);
 }
@@ -469,10 +515,11 @@ fn weibull(
         });
     let one = |w: &shardlog_core::fleet::WeibullFit| {
         format!(
-            "m = {} (95\u{a0}% {}–{}), σθ = {} MPa, n = {}",
+            "m = {} (95\u{a0}% {}–{} {}), σθ = {} MPa, n = {}",
             fmt_sig(w.modulus, 3),
             fmt_sig(w.modulus_ci95.low, 2),
             fmt_sig(w.modulus_ci95.high, 2),
+            w.modulus_bounds_method.short(),
             fmt_sig(to_mpa(w.scale), 3),
             w.n
         )
@@ -627,18 +674,23 @@ fn groups(
     th: &Theme,
 ) {
     let t = &d.table;
+    let flags = t.rows.iter().any(|g| g.p_adjusted.is_some());
     let note_text = if d.exposure_rows == 0 {
         "No exposure recorded (panes in service with install dates): counts only, no rates."
             .to_string()
     } else {
-        let rest = if t.keys.iter().any(|k| k.is_exposure()) {
-            "HIGH: above the rest, exact test, Holm 5 %."
+        let basis = if t.keys.iter().any(|k| k.is_exposure()) {
+            "each group against its own panes in service"
         } else {
-            "Not an exposure key: whole-fleet exposure, no flags."
+            "not an exposure key: each group against the whole fleet's panes"
+        };
+        let rest = if flags {
+            format!("{FLAG_WORD}: above the rest, exact test, Holm 5 %.")
+        } else {
+            "No group is tested against the rest.".to_string()
         };
         format!(
-            "Rate per 1,000 pane-years; exposure = pane-yr column (panes in service × years \
-             in window; {} in all). {rest}",
+            "Rate per 1,000 pane-years ({basis}; pane-yr column, {} in all). {rest}",
             fmt_sig(t.total_pane_years, 3)
         )
     };
@@ -647,19 +699,43 @@ fn groups(
         return;
     }
     let wide = area.width >= 96;
-    // columns after the group name: (header, width)
+    // every cell first: the number columns take the width their figures need, so a number
+    // is never cut; the group name gets what is left
+    let cells_of = |g: &shardlog_core::fleet::GroupRow| {
+        let mut cells: Vec<String> = vec![
+            group_thousands(g.count),
+            pct(g.share),
+            g.rate.map(|x| fmt_sig(x.rate, 3)).unwrap_or("—".into()),
+            g.rate
+                .map(|x| format!("{}–{}", fmt_sig(x.ci95.low, 2), fmt_sig(x.ci95.high, 2)))
+                .unwrap_or("—".into()),
+            g.rate.map(|x| fmt_sig(x.exposure, 3)).unwrap_or("—".into()),
+        ];
+        if wide {
+            cells.push(g.ratio.map(|x| fmt_sig(x.ratio, 2)).unwrap_or("—".into()));
+        }
+        cells.push(g.p_adjusted.map(p_short).unwrap_or("—".into()));
+        cells.push(if g.flagged { FLAG_WORD } else { "" }.to_string());
+        cells
+    };
+    let all_cells: Vec<Vec<String>> = t.rows.iter().map(cells_of).collect();
     let mut cols: Vec<(&str, usize)> = vec![
-        ("n", 5),
+        ("n", 3),
         ("share", 5),
-        ("rate", 6),
-        ("95 % CI", 11),
+        ("rate", 4),
+        ("95 % CI", 7),
         ("pane-yr", 7),
     ];
     if wide {
-        cols.push(("ratio", 6));
+        cols.push(("ratio", 5));
     }
     cols.push(("p Holm", 6));
     cols.push(("flag", 4));
+    for cells in &all_cells {
+        for (c, col) in cells.iter().zip(cols.iter_mut()) {
+            col.1 = col.1.max(UnicodeWidthStr::width(c.as_str()));
+        }
+    }
     let fixed: usize = cols.iter().map(|c| c.1 + 1).sum();
     let kw = (area.width as usize).saturating_sub(fixed + 2).max(6);
     let mut header = format!(" {}", fit_left("group", kw));
@@ -678,24 +754,16 @@ fn groups(
     let sel = r.selected();
     let start = scroll_start(sel, h);
     for (line, (i, g)) in t.rows.iter().enumerate().skip(start).take(h).enumerate() {
-        let mut cells: Vec<String> = vec![
-            group_thousands(g.count),
-            pct(g.share),
-            g.rate.map(|x| fmt_sig(x.rate, 3)).unwrap_or("—".into()),
-            g.rate
-                .map(|x| format!("{}–{}", fmt_sig(x.ci95.low, 2), fmt_sig(x.ci95.high, 2)))
-                .unwrap_or("—".into()),
-            g.rate.map(|x| fmt_sig(x.exposure, 3)).unwrap_or("—".into()),
-        ];
-        if wide {
-            cells.push(g.ratio.map(|x| fmt_sig(x.ratio, 2)).unwrap_or("—".into()));
-        }
-        cells.push(g.p_adjusted.map(|p| fmt_sig(p, 2)).unwrap_or("—".into()));
-        cells.push(if g.flagged { "HIGH" } else { "" }.to_string());
         let mut s = String::new();
         s.push(if i == sel { '▶' } else { ' ' });
-        s.push_str(&fit_left(&fit(&labels.of(&t.keys, &g.key), kw), kw));
-        for (c, (_, cw)) in cells.iter().zip(&cols) {
+        let parts: Vec<String> = t
+            .keys
+            .iter()
+            .zip(&g.key)
+            .map(|(k, v)| labels.of(std::slice::from_ref(k), std::slice::from_ref(v)))
+            .collect();
+        s.push_str(&fit_left(&fit_parts(&parts, kw), kw));
+        for (c, (_, cw)) in all_cells[i].iter().zip(&cols) {
             s.push(' ');
             s.push_str(&lpad(c, *cw));
         }
@@ -713,6 +781,38 @@ fn groups(
     if t.rows.is_empty() {
         put(f, body, "  nothing in this window", aw, th.muted);
     }
+}
+
+/// A p-value short enough for its column, never cut: below 0.001 it reads "<0.001".
+fn p_short(p: f64) -> String {
+    if p < 0.001 {
+        "<0.001".to_string()
+    } else {
+        fmt_sig(p, 2)
+    }
+}
+
+/// The values of a two-key group joined by " · " in `width` cells. When they do not fit, the
+/// first values give way (each shortened with "…" in turn) and the last is kept whole as long
+/// as it fits alone, so that rows differing only in the last key stay distinguishable.
+fn fit_parts(parts: &[String], width: usize) -> String {
+    let joined = parts.join(" · ");
+    if UnicodeWidthStr::width(joined.as_str()) <= width || parts.len() < 2 {
+        return fit(&joined, width);
+    }
+    let last = &parts[parts.len() - 1];
+    let last_w = UnicodeWidthStr::width(last.as_str());
+    let sep = 3 * (parts.len() - 1);
+    if last_w + sep + 2 > width {
+        return fit(&joined, width);
+    }
+    let room = width - last_w - sep;
+    let each = room / (parts.len() - 1);
+    let firsts: Vec<String> = parts[..parts.len() - 1]
+        .iter()
+        .map(|p| fit(p, each.max(1)))
+        .collect();
+    format!("{} · {last}", firsts.join(" · "))
 }
 
 fn lpad(s: &str, w: usize) -> String {

@@ -1,6 +1,4 @@
 //! Set-up shared by the integration tests.
 
-#![allow(dead_code)]
-
 pub mod pty;
 pub mod report;

@@ -1,0 +1,135 @@
+//! `shardlog exposure import FILE.csv` and `shardlog exposure list`: panes in service, the
+//! denominator of every rate, from their own CSV file.
+
+use std::path::PathBuf;
+
+use super::records::{edge_stamp, open};
+use super::{CliError, Context};
+use crate::store::exchange::{exposure_csv_row, ImportOptions, EXPOSURE_COLUMNS};
+
+#[derive(Debug, clap::Args)]
+pub struct ExposureArgs {
+    #[command(subcommand)]
+    pub command: ExposureCommand,
+}
+
+#[derive(Debug, clap::Subcommand)]
+pub enum ExposureCommand {
+    /// Import panes in service from CSV (columns supplier, product, lot, site, installed_on,
+    /// removed_on, panes); all or nothing, every problem listed at once.
+    Import(ImportArgs),
+    /// List the exposure rows (as a table, or as CSV that `exposure import` reads).
+    List(ListArgs),
+}
+
+#[derive(Debug, clap::Args)]
+pub struct ImportArgs {
+    #[arg(value_name = "FILE")]
+    pub file: PathBuf,
+    /// Check and report without writing anything.
+    #[arg(long)]
+    pub dry_run: bool,
+    /// Refuse supplier, product, lot and site codes the database does not define.
+    #[arg(long)]
+    pub strict: bool,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct ListArgs {
+    /// Print CSV (the columns `exposure import` reads) instead of a table.
+    #[arg(long)]
+    pub csv: bool,
+}
+
+pub fn run(args: ExposureArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    match args.command {
+        ExposureCommand::Import(a) => import(a, ctx),
+        ExposureCommand::List(a) => list(a, ctx),
+    }
+}
+
+fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let name = args.file.display().to_string();
+    let bytes = std::fs::read(&args.file).map_err(|e| CliError::work(format!("{name}: {e}")))?;
+    let mut store = open(&ctx.db)?;
+    let options = ImportOptions {
+        dry_run: args.dry_run,
+        strict: args.strict,
+        ..ImportOptions::default()
+    };
+    match store
+        .import_exposure_csv(&bytes, options, &edge_stamp())
+        .map_err(|e| CliError::work(format!("{name}: import failed: {e}")))?
+    {
+        Ok(sum) => {
+            writeln!(
+                ctx.out,
+                "{} {} reference record{} ({} already present){}",
+                if sum.dry_run {
+                    "would import"
+                } else {
+                    "imported"
+                },
+                sum.reference_records,
+                if sum.reference_records == 1 { "" } else { "s" },
+                sum.already_present,
+                if sum.dry_run {
+                    "; nothing was written (dry run)"
+                } else {
+                    ""
+                }
+            )?;
+            Ok(())
+        }
+        Err(rej) => Err(CliError::work(format!(
+            "{name}: {}",
+            rej.to_string().trim_end()
+        ))),
+    }
+}
+
+fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let store = open(&ctx.db)?;
+    let rows = store
+        .exposure()
+        .map_err(|e| CliError::work(e.to_string()))?;
+    if args.csv {
+        writeln!(ctx.out, "{}", EXPOSURE_COLUMNS.join(","))?;
+        for e in &rows {
+            writeln!(ctx.out, "{}", exposure_csv_row(e))?;
+        }
+        return Ok(());
+    }
+    if rows.is_empty() {
+        writeln!(
+            ctx.out,
+            "no exposure recorded; `shardlog exposure import FILE.csv` adds panes in service"
+        )?;
+        return Ok(());
+    }
+    let clean = |s: &str| shardlog_core::text::sanitize_for_terminal(s, false);
+    writeln!(
+        ctx.out,
+        "{:<12} {:<12} {:<10} {:<10} {:<10} {:<10} {:>8}",
+        "supplier", "product", "lot", "site", "installed", "removed", "panes"
+    )?;
+    let mut total = 0i64;
+    for e in &rows {
+        total += e.panes;
+        writeln!(
+            ctx.out,
+            "{:<12} {:<12} {:<10} {:<10} {:<10} {:<10} {:>8}",
+            clean(&e.supplier),
+            clean(e.product.as_deref().unwrap_or("—")),
+            clean(e.lot.as_deref().unwrap_or("—")),
+            clean(e.site.as_deref().unwrap_or("—")),
+            e.installed_on,
+            e.removed_on
+                .map(|d| d.to_string())
+                .unwrap_or_else(|| "in service".into()),
+            e.panes
+        )?;
+    }
+    writeln!(ctx.out, "{} rows, {total} panes", rows.len())?;
+    Ok(())
+}

@@ -1,0 +1,288 @@
+//! What a CSV import does before its checks, so that one run reports every problem of the
+//! file by its CSV column: lookup cells given by label as well as code (any case), each
+//! examination's results computed from its readings as the bench computes them, and possible
+//! duplicates of incidents already recorded (same asset, position and date found).
+
+use std::collections::HashMap;
+
+use chrono::{DateTime, NaiveDate, Utc};
+
+use super::super::model::*;
+use super::super::StoreError;
+use super::Problem;
+use shardlog_core::fracture::{self, materials, AnalysisInput, Boundary, OriginLocation, Temper};
+
+/// The CSV column that holds a field of the model (its path as validation names it), when
+/// the flat view has one.
+pub fn csv_column(path: &str) -> Option<&'static str> {
+    let tail = path.rsplit('.').next().unwrap_or(path);
+    Some(match path {
+        "status" => "status",
+        "glass.makeup" => "makeup",
+        "glass.supplier" => "supplier",
+        "glass.product" => "product",
+        "glass.lot" => "lot",
+        "pattern.origin_location" => "origin_location",
+        "cause.category" => "cause",
+        "cause.confidence" => "confidence",
+        "cause.responsibility" => "responsibility",
+        "broken_on" => "broken_on",
+        "found_on" => "found_on",
+        "site" => "site",
+        "asset" => "asset",
+        "reference" => "ref",
+        "id" => "id",
+        p if p.starts_with("glass.plies[") => match tail {
+            "material" => "material",
+            "temper" => "temper",
+            "thickness_m" => "thickness",
+            _ => return None,
+        },
+        p if p.starts_with("examinations[") && p.contains(".readings[") => match tail {
+            "magnification" => "magnification",
+            "analyst" => "analyst",
+            // the boundary is the column itself; the radius is in that column
+            _ => return None,
+        },
+        p if p.starts_with("examinations[") => match tail {
+            "origin_type" => "origin_type",
+            "analyst" => "analyst",
+            "examined_on" => "examined_on",
+            "material" => "material",
+            "depth" => "flaw_depth",
+            _ => return None,
+        },
+        _ => return None,
+    })
+}
+
+/// The lookup entries of the database by kind, to read labels and list the valid codes.
+pub struct Vocabulary {
+    by_kind: HashMap<LookupKind, Vec<LookupEntry>>,
+}
+
+fn squash(text: &str) -> String {
+    text.trim()
+        .to_lowercase()
+        .replace(['-', '_'], " ")
+        .split_whitespace()
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+impl Vocabulary {
+    pub fn new(entries: Vec<LookupEntry>) -> Vocabulary {
+        let mut by_kind: HashMap<LookupKind, Vec<LookupEntry>> = HashMap::new();
+        for e in entries {
+            by_kind.entry(e.kind).or_default().push(e);
+        }
+        for list in by_kind.values_mut() {
+            list.sort_by(|a, b| a.sort_order.cmp(&b.sort_order).then(a.code.cmp(&b.code)));
+        }
+        Vocabulary { by_kind }
+    }
+
+    /// The code a cell means: the code itself, or a code or label in any case (spaces,
+    /// `-` and `_` alike). The text unchanged when nothing matches (validation then says so).
+    pub fn code(&self, kind: LookupKind, text: &str) -> String {
+        let Some(list) = self.by_kind.get(&kind) else {
+            return text.to_string();
+        };
+        if list.iter().any(|e| e.code == text) {
+            return text.to_string();
+        }
+        let wanted = squash(text);
+        list.iter()
+            .find(|e| squash(&e.code) == wanted || squash(&e.label) == wanted)
+            .map(|e| e.code.clone())
+            .unwrap_or_else(|| text.to_string())
+    }
+
+    /// "code (label), …" of one kind, for a refusal.
+    pub fn listing(&self, kind: LookupKind) -> String {
+        self.by_kind
+            .get(&kind)
+            .map(|list| {
+                list.iter()
+                    .map(|e| {
+                        if squash(&e.code) == squash(&e.label) {
+                            e.code.clone()
+                        } else {
+                            format!("{} ({})", e.code, e.label)
+                        }
+                    })
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            })
+            .unwrap_or_default()
+    }
+
+    /// Every lookup cell of a CSV incident read as a code.
+    pub fn resolve(&self, inc: &mut Incident) {
+        inc.status = self.code(LookupKind::Status, &inc.status);
+        inc.glass.makeup = self.code(LookupKind::Makeup, &inc.glass.makeup);
+        for ply in &mut inc.glass.plies {
+            if let Some(m) = &ply.material {
+                ply.material = Some(self.code(LookupKind::Material, m));
+            }
+            if let Some(t) = &ply.temper {
+                ply.temper = Some(self.code(LookupKind::TemperClass, t));
+            }
+        }
+        if let Some(l) = &inc.pattern.origin_location {
+            inc.pattern.origin_location = Some(self.code(LookupKind::OriginLocation, l));
+        }
+        for e in &mut inc.examinations {
+            if let Some(o) = &e.origin_type {
+                e.origin_type = Some(self.code(LookupKind::OriginType, o));
+            }
+        }
+        if let Some(c) = &mut inc.cause {
+            c.category = self.code(LookupKind::CauseCategory, &c.category);
+            c.confidence = self.code(LookupKind::Confidence, &c.confidence);
+            c.responsibility = self.code(LookupKind::Responsibility, &c.responsibility);
+        }
+    }
+}
+
+/// The lookup kind of a CSV column, for listing its valid codes.
+pub fn column_kind(column: &str) -> Option<LookupKind> {
+    Some(match column {
+        "status" => LookupKind::Status,
+        "makeup" => LookupKind::Makeup,
+        "material" => LookupKind::Material,
+        "temper" => LookupKind::TemperClass,
+        "origin_location" => LookupKind::OriginLocation,
+        "origin_type" => LookupKind::OriginType,
+        "cause" => LookupKind::CauseCategory,
+        "confidence" => LookupKind::Confidence,
+        "responsibility" => LookupKind::Responsibility,
+        _ => return None,
+    })
+}
+
+/// The analysis input the bench would build from an incident's first ply and an
+/// examination's readings; `None` when the material is not one of the library's.
+fn analysis_input(inc: &Incident, exam: &Examination) -> Option<AnalysisInput> {
+    let ply = inc.glass.plies.first();
+    let key = exam
+        .material
+        .clone()
+        .or_else(|| ply.and_then(|p| p.material.clone()))?
+        .replace('_', "-");
+    let mut input = AnalysisInput::new(materials::find(&key)?);
+    for (code, boundary) in [
+        ("mirror_mist", Boundary::MirrorMist),
+        ("mist_hackle", Boundary::MistHackle),
+        ("branching", Boundary::Branching),
+    ] {
+        let radii: Vec<f64> = exam
+            .readings
+            .iter()
+            .filter(|r| r.boundary == code)
+            .map(|r| r.radius.si)
+            .collect();
+        if !radii.is_empty() {
+            input = input.with_readings(boundary, &radii);
+        }
+    }
+    input.temper = ply
+        .and_then(|p| p.temper.as_deref())
+        .and_then(|t| t.parse::<Temper>().ok());
+    input.thickness_m = ply.and_then(|p| p.thickness_m);
+    input.measured_flaw_m = exam
+        .flaw
+        .as_ref()
+        .and_then(|f| f.depth.as_ref())
+        .map(|d| d.si);
+    let location = inc
+        .pattern
+        .origin_location
+        .as_deref()
+        .and_then(|l| l.parse::<OriginLocation>().ok())
+        .unwrap_or(OriginLocation::Surface);
+    input.origin = location.origin();
+    input.flaw = location.default_geometry(0.8);
+    Some(input)
+}
+
+/// Compute each examination's results from its readings, as the bench does, replacing
+/// figures typed in the file's stress columns. A refusal of the calculation is a problem of
+/// the record's line.
+pub fn compute_results(inc: &mut Incident, line: usize, at: DateTime<Utc>) -> Vec<Problem> {
+    let mut problems = Vec::new();
+    let snapshot = inc.clone();
+    for exam in &mut inc.examinations {
+        if exam.readings.is_empty() {
+            continue;
+        }
+        let Some(input) = analysis_input(&snapshot, exam) else {
+            continue;
+        };
+        match fracture::analyze(&input) {
+            Ok(analysis) => match super::super::analysis::to_result(&analysis, at) {
+                Ok(mut result) => {
+                    if let serde_json::Value::Object(map) = &mut result.analysis {
+                        map.insert(
+                            "source".to_string(),
+                            "computed from the readings of a CSV import".into(),
+                        );
+                    }
+                    exam.material = Some(input.material.key.replace('-', "_"));
+                    exam.result = Some(result);
+                }
+                Err(e) => problems.push(Problem::new(
+                    format!("line {line}"),
+                    format!("storing the computed results: {e}"),
+                )),
+            },
+            Err(e) => problems.push(Problem::new(
+                format!("line {line}, column mirror_mist"),
+                format!("the readings cannot be computed: {e}"),
+            )),
+        }
+    }
+    problems
+}
+
+/// An incident's key for the duplicate check: asset, position and date found (none
+/// without an asset).
+pub fn duplicate_key(inc: &Incident) -> Option<(String, String, NaiveDate)> {
+    let asset = inc.asset.as_deref()?.trim().to_lowercase();
+    Some((asset, squash(&inc.position), inc.found_on))
+}
+
+/// The line number of a problem's place ("line 12, column x" → 12), for sorting.
+pub fn line_of(p: &Problem) -> usize {
+    p.place
+        .strip_prefix("line ")
+        .and_then(|r| r.split(|c: char| !c.is_ascii_digit()).next())
+        .and_then(|n| n.parse().ok())
+        .unwrap_or(0)
+}
+
+impl crate::store::Store {
+    /// References of incidents already recorded with the same asset, position and date
+    /// found as `inc` (position compared without case, spaces, `-` or `_` differences).
+    pub fn possible_duplicates(&self, inc: &Incident) -> Result<Vec<String>, StoreError> {
+        let Some((asset, position, found_on)) = duplicate_key(inc) else {
+            return Ok(Vec::new());
+        };
+        let mut stmt = self.conn.prepare_cached(
+            "SELECT i.reference, i.position FROM incidents i JOIN assets a ON a.id = i.asset_id
+             WHERE lower(a.code) = ?1 AND i.found_on = ?2 AND i.id <> ?3 ORDER BY i.seq",
+        )?;
+        let rows = stmt.query_map(
+            rusqlite::params![asset, super::super::dates::fmt_date(found_on), inc.id],
+            |r| Ok((r.get::<_, String>(0)?, r.get::<_, String>(1)?)),
+        )?;
+        let mut out = Vec::new();
+        for row in rows {
+            let (reference, pos) = row?;
+            if squash(&pos) == position {
+                out.push(reference);
+            }
+        }
+        Ok(out)
+    }
+}
