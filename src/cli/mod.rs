@@ -16,6 +16,7 @@ pub mod calibrate;
 pub mod codes;
 pub mod exposure;
 pub mod key;
+pub mod leftovers;
 pub mod load;
 pub mod materials;
 pub mod mirror;

@@ -909,21 +909,9 @@ pub struct BackupArgs {
     pub dest: PathBuf,
 }
 
-/// Remove what an interrupted run left beside `target` (a killed backup, bundle or demo),
-/// and say so on stderr, with the space given back.
-pub(crate) fn clear_leftovers(target: &Path) {
-    for (p, bytes) in store::remove_stale_partials(target) {
-        eprintln!(
-            "removed the leftover of an interrupted run: {} ({:.1} MB)",
-            sanitize_for_terminal(&p.display().to_string(), false),
-            bytes as f64 / 1_048_576.0
-        );
-    }
-}
-
 pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     refuse_database_files(&args.dest, &ctx.db, "DEST")?;
-    clear_leftovers(&args.dest);
+    super::leftovers::clear_leftovers(&args.dest);
     let s = open_to_read(&ctx.db)?;
     let meter = super::progress::Meter::on_stderr();
     s.set_progress(meter.as_ref().map(|m| m.callback()));
@@ -978,7 +966,7 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             args.out.display()
         )));
     }
-    clear_leftovers(&args.out);
+    super::leftovers::clear_leftovers(&args.out);
     let started = std::time::Instant::now();
     let meter = super::progress::Meter::on_stderr();
     let mut tell = meter.as_ref().map(|m| m.callback());
