@@ -16,6 +16,9 @@ pub fn check(name: &str, data: &[u8], dry_run: bool) {
     let options = ImportOptions {
         dry_run,
         strict: data.first().is_some_and(|b| b & 1 == 1),
+        // no files come with a fuzzed file: attachment rows must be refused, never accepted
+        attachments: None,
+        ..ImportOptions::default()
     };
     let result = store.import_bytes(name, data, options, &stamp);
     if let Ok(Err(rejected)) = &result {

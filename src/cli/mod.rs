@@ -17,6 +17,7 @@ pub mod codes;
 pub mod exposure;
 pub mod fleet;
 pub mod key;
+pub mod leftovers;
 pub mod load;
 pub mod materials;
 pub mod mirror;

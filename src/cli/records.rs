@@ -9,7 +9,15 @@ use super::{actor, parse_day, sanitize_for_terminal, CliError, Context};
 use crate::report::bundle::ExpectedKey;
 use crate::store::exchange::ImportOptions;
 use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
-use shardlog_core::text::{clean, stress_or_dash};
+use shardlog_core::text::stress_or_dash;
+
+/// One field of `list` or `show` on its line: a newline or tab inside it becomes a space, so
+/// that the table keeps its shape; every other character is written as stored. On a
+/// terminal the output passes [`super::TerminalGuard`], which shows control characters as
+/// visible symbols and says so on stderr; to a pipe or a file the bytes are the record's.
+fn clean(s: &str) -> String {
+    s.replace(['\n', '\t'], " ")
+}
 
 /// The actor and time of a change, taken here at the edge: [`actor`] and the system clock.
 pub fn edge_stamp() -> Stamp {
@@ -249,14 +257,15 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let s = open_to_read(&ctx.db)?;
     let filter = args.filter.to_filter(&s)?;
     let mut buf: Vec<u8> = Vec::new();
-    match args.format {
+    // an incident whose row cannot be read is left out and named; the others are exported
+    let damaged = match args.format {
         ExportFormat::Json => {
-            buf.extend_from_slice(s.export_json(&filter).map_err(work)?.as_bytes())
+            let (text, damaged) = s.export_json_readable(&filter).map_err(work)?;
+            buf.extend_from_slice(text.as_bytes());
+            damaged
         }
-        ExportFormat::Csv => {
-            s.export_csv(&filter, &mut buf).map_err(work)?;
-        }
-    }
+        ExportFormat::Csv => s.export_csv_readable(&filter, &mut buf).map_err(work)?.1,
+    };
     match args.output {
         None => ctx.out.write_all(&buf)?,
         Some(path) => {
@@ -265,7 +274,16 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             write_whole(&path, &buf, true)?
         }
     }
-    Ok(())
+    if damaged.is_empty() {
+        return Ok(());
+    }
+    let names: Vec<String> = damaged.iter().map(|d| d.to_string()).collect();
+    Err(CliError::work(format!(
+        "{} damaged incident{} left out of the export, the others were written: {}",
+        damaged.len(),
+        if damaged.len() == 1 { "" } else { "s" },
+        names.join("; ")
+    )))
 }
 
 /// An output path must never be the database itself, its journal files or its attachment
@@ -407,7 +425,13 @@ fn list_row_text(r: &store::LogRow, names: &Readable) -> String {
     format!(
         "{} {} {} {} {} {} {} {} {:>10}",
         cell(&r.reference, 14),
-        cell(&r.occurred.to_string(), 10),
+        cell(
+            &match &r.damaged {
+                Some(_) => "DAMAGED".to_string(),
+                None => r.occurred.to_string(),
+            },
+            10
+        ),
         cell(&where_, 24),
         cell(r.product.as_deref().unwrap_or("—"), 10),
         cell(r.supplier.as_deref().unwrap_or("—"), 10),
@@ -477,6 +501,13 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             total = page.total;
         }
         for r in &page.rows {
+            if let Some(found) = &r.damaged {
+                eprintln!(
+                    "shardlog: incident {}: damaged, its date found ({}) cannot be read; listed as DAMAGED",
+                    sanitize_for_terminal(&r.reference, false),
+                    sanitize_for_terminal(found, false)
+                );
+            }
             if args.json {
                 let text = serde_json::to_string_pretty(r)
                     .map_err(|e| CliError::work(format!("JSON: {e}")))?;
@@ -726,18 +757,10 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         )?;
     }
     if !inc.description.is_empty() {
-        writeln!(
-            out,
-            "  description {}",
-            sanitize_for_terminal(&inc.description, true)
-        )?;
+        writeln!(out, "  description {}", &inc.description)?;
     }
     if !inc.notes.is_empty() {
-        writeln!(
-            out,
-            "  notes       {}",
-            sanitize_for_terminal(&inc.notes, true)
-        )?;
+        writeln!(out, "  notes       {}", &inc.notes)?;
     }
     Ok(())
 }
@@ -904,21 +927,9 @@ pub struct BackupArgs {
     pub dest: PathBuf,
 }
 
-/// Remove what an interrupted run left beside `target` (a killed backup, bundle or demo),
-/// and say so on stderr, with the space given back.
-pub(crate) fn clear_leftovers(target: &Path) {
-    for (p, bytes) in store::remove_stale_partials(target) {
-        eprintln!(
-            "removed the leftover of an interrupted run: {} ({:.1} MB)",
-            sanitize_for_terminal(&p.display().to_string(), false),
-            bytes as f64 / 1_048_576.0
-        );
-    }
-}
-
 pub fn backup(args: BackupArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     refuse_database_files(&args.dest, &ctx.db, "DEST")?;
-    clear_leftovers(&args.dest);
+    super::leftovers::clear_leftovers(&args.dest);
     let s = open_to_read(&ctx.db)?;
     let meter = super::progress::Meter::on_stderr();
     s.set_progress(meter.as_ref().map(|m| m.callback()));
@@ -976,7 +987,7 @@ pub fn demo(args: DemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             args.out.display()
         )));
     }
-    clear_leftovers(&args.out);
+    super::leftovers::clear_leftovers(&args.out);
     let started = std::time::Instant::now();
     if let Some(code) = &args.bench {
         crate::store::fleet::check_bench_code(code).map_err(CliError::usage)?;

@@ -129,7 +129,7 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
     let store = open_to_read(&ctx.db)?;
-    super::records::clear_leftovers(&args.output);
+    super::leftovers::clear_leftovers(&args.output);
     let supplier = resolve(&store, Field::Supplier, "--supplier", &args.supplier)?;
     let lot = resolve_opt(&store, Field::Lot, "--lot", &args.lot)?;
     let mut causes = Vec::new();

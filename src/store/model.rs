@@ -537,6 +537,10 @@ pub struct LogRow {
     pub cause: Option<String>,
     /// Net stress at the origin in MPa, if computed.
     pub stress_mpa: Option<f64>,
+    /// The stored date found as it is, when it cannot be read (a damaged row: `occurred` is
+    /// then 1970-01-01 and means nothing); the row is still listed, so that it can be found.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub damaged: Option<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -57,28 +57,41 @@ fn check_incidents(
     let total: i64 = conn.query_row("SELECT count(*) FROM incidents", [], |r| r.get(0))?;
     let total = Some(total.max(0) as u64);
     let mut done = 0u64;
-    incidents::for_each_incident(conn, |inc, derived_ok| {
-        progress.tell("verifying", done, total);
-        done += 1;
-        let img = canon::incident_image(&inc)?;
-        v.check_record(INCIDENT, &inc.id, &inc.reference, &img);
-        for (n, exam) in inc.examinations.iter().enumerate() {
-            if let Some(why) = super::analysis::stored_result_differs(&inc, exam) {
-                v.problem(format!(
-                    "incident {}: examination {}: {why}",
-                    inc.reference,
-                    n + 1
-                ));
+    let mut unreadable = Vec::new();
+    incidents::for_each_readable_incident(
+        conn,
+        |inc, derived_ok| {
+            progress.tell("verifying", done, total);
+            done += 1;
+            let img = canon::incident_image(&inc)?;
+            v.check_record(INCIDENT, &inc.id, &inc.reference, &img);
+            for (n, exam) in inc.examinations.iter().enumerate() {
+                if let Some(why) = super::analysis::stored_result_differs(&inc, exam) {
+                    v.problem(format!(
+                        "incident {}: examination {}: {why}",
+                        inc.reference,
+                        n + 1
+                    ));
+                }
             }
-        }
-        if !derived_ok {
-            n_bad += 1;
-            if bad_derived.is_none() {
-                bad_derived = Some(inc.reference.clone());
+            if !derived_ok {
+                n_bad += 1;
+                if bad_derived.is_none() {
+                    bad_derived = Some(inc.reference.clone());
+                }
             }
-        }
-        Ok(())
-    })?;
+            Ok(())
+        },
+        |reference, why| {
+            unreadable.push(format!(
+                "incident {reference}: damaged, its row cannot be read ({why}); the other records were checked"
+            ));
+            Ok(())
+        },
+    )?;
+    for m in unreadable {
+        v.problem(m);
+    }
     if let Some(r) = bad_derived {
         for _ in 0..n_bad {
             v.problem(format!("incident {r}: its listed stress, origin type or temper does not follow from its examinations (changed behind shardlog's back)"));

@@ -175,3 +175,83 @@ fn report_markdown_and_list_json_to_a_terminal_stay_inert() {
         }
     }
 }
+
+#[test]
+fn show_and_list_write_the_stored_bytes_to_a_pipe_and_symbols_to_a_terminal() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("esc.db");
+    let o = Command::new(BIN)
+        .arg("--db")
+        .arg(&db)
+        .arg("init")
+        .output()
+        .unwrap();
+    assert!(o.status.success());
+    let f = dir.path().join("esc.csv");
+    std::fs::write(
+        &f,
+        format!("found_on,position,notes\n2026-03-14,\"{HOSTILE}\",\"{HOSTILE}\"\n"),
+    )
+    .unwrap();
+    let o = Command::new(BIN)
+        .arg("--db")
+        .arg(&db)
+        .arg("import")
+        .arg(&f)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let o = Command::new(BIN)
+        .arg("--db")
+        .arg(&db)
+        .args(["list", "--json"])
+        .output()
+        .unwrap();
+    let rows: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let reference = rows[0]["ref"].as_str().unwrap().to_string();
+    // to a pipe: the stored bytes, escape sequences and all, and no note
+    for args in [
+        vec!["show", reference.as_str()],
+        vec!["list", "--limit", "5"],
+    ] {
+        let o = Command::new(BIN)
+            .arg("--db")
+            .arg(&db)
+            .args(&args)
+            .output()
+            .unwrap();
+        assert!(o.status.success());
+        assert!(
+            find(&o.stdout, "\u{1b}]0;owned\u{7}".as_bytes())
+                && find(&o.stdout, "\u{1b}[2J".as_bytes()),
+            "{args:?} to a pipe: {:?}",
+            String::from_utf8_lossy(&o.stdout)
+        );
+        assert!(o.stderr.is_empty(), "{args:?}: a note for a pipe");
+    }
+    let o = Command::new(BIN)
+        .arg("--db")
+        .arg(&db)
+        .args(["show", reference.as_str()])
+        .output()
+        .unwrap();
+    assert!(
+        find(&o.stdout, HOSTILE.as_bytes()),
+        "show keeps the notes whole"
+    );
+    // on a terminal: every control shown as a symbol, with the note
+    for args in [
+        vec!["show", reference.as_str()],
+        vec!["list", "--limit", "5"],
+    ] {
+        let (code, bytes) = run_in_pty(&db, &args);
+        assert_eq!(code, 0);
+        assert!(
+            !find(&bytes, b"\x1b]0;owned"),
+            "{args:?}: the title escape reached the terminal"
+        );
+        let text = String::from_utf8_lossy(&bytes);
+        assert!(text.contains("␛]0;owned␇"), "{args:?}: {text}");
+        assert!(text.contains("note: "), "{args:?}: {text}");
+    }
+}

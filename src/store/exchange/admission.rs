@@ -95,7 +95,9 @@ impl ReferenceCase {
     }
 }
 
-/// Recorded times of an incident that lie in the future of the import's clock.
+/// Times the tool itself stamps on an incident (created, updated, computed, attached) that
+/// lie in the future of the import's clock. A custody entry's time is typed by a person and
+/// accepted as typed, here as in the interface.
 pub(crate) fn future_times(inc: &Incident, now: DateTime<Utc>) -> Vec<(String, String)> {
     let limit = now + Duration::minutes(CLOCK_SKEW_MINUTES);
     let mut times = vec![
@@ -109,9 +111,6 @@ pub(crate) fn future_times(inc: &Incident, now: DateTime<Utc>) -> Vec<(String, S
                 r.computed_at,
             ));
         }
-    }
-    for (i, c) in inc.custody.iter().enumerate() {
-        times.push((format!("custody[{i}].at"), c.at));
     }
     for (i, a) in inc.attachments.iter().enumerate() {
         times.push((format!("attachments[{i}].added_at"), a.added_at));

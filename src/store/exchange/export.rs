@@ -6,16 +6,64 @@ use super::super::{Store, StoreError};
 use super::csv::{csv_header, csv_row};
 use super::{ExportDoc, JSON_FORMAT, JSON_VERSION};
 
+/// An incident an export left out because its stored rows cannot be read: its reference
+/// (or key) and why.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Damaged {
+    pub reference: String,
+    pub why: String,
+}
+
+impl std::fmt::Display for Damaged {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "incident {}: damaged, cannot be read ({}); left out",
+            self.reference, self.why
+        )
+    }
+}
+
 impl Store {
-    /// The full export document for incidents matching `filter` (all reference data).
-    pub fn export_doc(&self, filter: &Filter) -> Result<ExportDoc, StoreError> {
-        let mut incidents = Vec::new();
+    /// The incidents matching `filter` that can be read, and those that cannot.
+    fn readable_incidents(
+        &self,
+        filter: &Filter,
+    ) -> Result<(Vec<Incident>, Vec<Damaged>), StoreError> {
+        let mut good = Vec::new();
+        let mut damaged = Vec::new();
         for id in self.matching_ids(filter)? {
-            if let Some(inc) = incidents::load(&self.conn, &id)? {
-                incidents.push(inc);
+            match incidents::load(&self.conn, &id) {
+                Ok(Some(inc)) => good.push(inc),
+                Ok(None) => {}
+                Err(e @ StoreError::Storage(_)) => return Err(e),
+                Err(e) => damaged.push(Damaged {
+                    reference: self.reference_of(&id).unwrap_or(id),
+                    why: e.to_string(),
+                }),
             }
         }
-        Ok(ExportDoc {
+        Ok((good, damaged))
+    }
+
+    /// The full export document for incidents matching `filter` (all reference data). An
+    /// incident that cannot be read fails it; [`Store::export_doc_readable`] leaves it out.
+    pub fn export_doc(&self, filter: &Filter) -> Result<ExportDoc, StoreError> {
+        let (doc, damaged) = self.export_doc_readable(filter)?;
+        match damaged.first() {
+            Some(d) => Err(StoreError::Database(d.to_string())),
+            None => Ok(doc),
+        }
+    }
+
+    /// The export document of every incident that can be read, and the damaged ones left
+    /// out (named by reference): one unreadable row does not keep the others from export.
+    pub fn export_doc_readable(
+        &self,
+        filter: &Filter,
+    ) -> Result<(ExportDoc, Vec<Damaged>), StoreError> {
+        let (incidents, damaged) = self.readable_incidents(filter)?;
+        let doc = ExportDoc {
             format: JSON_FORMAT.into(),
             version: JSON_VERSION,
             lookups: self.all_lookups()?,
@@ -26,7 +74,38 @@ impl Store {
             lots: self.lots(None, None)?,
             exposure: self.exposure()?,
             incidents,
-        })
+        };
+        Ok((doc, damaged))
+    }
+
+    /// [`Store::export_json`] of the incidents that can be read, and the damaged ones.
+    pub fn export_json_readable(
+        &self,
+        filter: &Filter,
+    ) -> Result<(String, Vec<Damaged>), StoreError> {
+        let (doc, damaged) = self.export_doc_readable(filter)?;
+        let mut s = serde_json::to_string_pretty(&doc)?;
+        s.push('\n');
+        Ok((s, damaged))
+    }
+
+    /// [`Store::export_csv`] of the incidents that can be read: the lines written, and the
+    /// damaged incidents left out.
+    pub fn export_csv_readable(
+        &self,
+        filter: &Filter,
+        out: &mut dyn std::io::Write,
+    ) -> Result<(usize, Vec<Damaged>), StoreError> {
+        let io = |e: std::io::Error| StoreError::File {
+            path: "output".into(),
+            message: e.to_string(),
+        };
+        writeln!(out, "{}", csv_header()).map_err(io)?;
+        let (incidents, damaged) = self.readable_incidents(filter)?;
+        for inc in &incidents {
+            writeln!(out, "{}", csv_row(inc)).map_err(io)?;
+        }
+        Ok((incidents.len(), damaged))
     }
 
     /// JSON export text (pretty, stable order, ends with a newline).

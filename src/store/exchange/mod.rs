@@ -20,6 +20,7 @@ mod json;
 mod onepass;
 
 pub use csv::{csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS};
+pub use export::Damaged;
 pub use exposure::{exposure_csv_row, EXPOSURE_COLUMNS};
 pub use json::parse_json;
 

@@ -4,7 +4,6 @@
 use rusqlite::types::Value as SqlValue;
 use rusqlite::{params, params_from_iter, Connection};
 
-use super::read::bad_col;
 use crate::store::dates::{fmt_date, parse_date};
 use crate::store::model::*;
 use crate::store::sqlite;
@@ -177,11 +176,11 @@ impl Store {
         let next = if rows.len() as i64 == limit {
             rows.last().map(|(seq, row)| Cursor {
                 key: match sort.column {
-                    SortColumn::Found => vec![CursorKey::Text(fmt_date(row.occurred))],
+                    SortColumn::Found => vec![CursorKey::Text(found_text(row))],
                     SortColumn::Reference => vec![CursorKey::Text(row.reference.clone())],
                     SortColumn::Status => vec![
                         CursorKey::Text(row.status.clone()),
-                        CursorKey::Text(fmt_date(row.occurred)),
+                        CursorKey::Text(found_text(row)),
                     ],
                     SortColumn::Stress => vec![CursorKey::Real(None)],
                 },
@@ -233,12 +232,13 @@ impl Store {
         let mut stmt = self.conn.prepare_cached(sql)?;
         let rows = stmt.query_map(params_from_iter(args.iter()), |r| {
             let found: String = r.get(3)?;
+            let occurred = parse_date(&found);
             Ok((
                 r.get::<_, i64>(0)?,
                 LogRow {
                     id: r.get(1)?,
                     reference: r.get(2)?,
-                    occurred: parse_date(&found).ok_or_else(|| bad_col(3, "date", &found))?,
+                    occurred: occurred.unwrap_or_default(),
                     asset: r.get(4)?,
                     position: r.get(5)?,
                     site: r.get(6)?,
@@ -248,6 +248,7 @@ impl Store {
                     status: r.get(10)?,
                     cause: r.get(11)?,
                     stress_mpa: r.get::<_, Option<f64>>(12)?.map(|x| x / 1e6),
+                    damaged: occurred.is_none().then_some(found),
                 },
             ))
         })?;
@@ -293,6 +294,13 @@ impl PageQuery<'_> {
 }
 
 /// A bound text value.
+/// The date found as stored: the text of a damaged row, so that paging goes on past it.
+fn found_text(row: &LogRow) -> String {
+    row.damaged
+        .clone()
+        .unwrap_or_else(|| fmt_date(row.occurred))
+}
+
 pub(super) fn text_value(s: &str) -> SqlValue {
     SqlValue::Text(s.to_string())
 }

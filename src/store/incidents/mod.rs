@@ -89,7 +89,9 @@ mod revert;
 mod validate;
 mod write;
 
+#[cfg(test)]
 pub(crate) use children::for_each_incident;
+pub(crate) use children::for_each_readable_incident;
 pub(crate) use facts::{fill_fleet_facts, fleet_facts_problems};
 pub(crate) use read::load;
 pub(crate) use refs::{RefCache, Refs};

@@ -332,6 +332,15 @@ impl Store {
         }
     }
 
+    /// The reference of the incident with this key, if any.
+    pub(crate) fn reference_of(&self, id: &str) -> Option<String> {
+        self.conn
+            .query_row("SELECT reference FROM incidents WHERE id = ?1", [id], |r| {
+                r.get(0)
+            })
+            .ok()
+    }
+
     /// Every incident's reference (the checks of an import).
     pub(crate) fn all_references(&self) -> Result<Vec<String>, StoreError> {
         let mut stmt = self.conn.prepare("SELECT reference FROM incidents")?;

@@ -102,6 +102,7 @@ fn status_text(app: &App, code: &str, width: u16) -> String {
 fn cell(app: &App, row: &LogRow, col: usize, screen: u16) -> String {
     let t = match col {
         0 => row.reference.clone(),
+        1 if row.damaged.is_some() => "damaged".to_string(),
         1 => row.occurred.to_string(),
         2 => {
             let a = row.asset.clone().unwrap_or_default();
