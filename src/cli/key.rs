@@ -34,6 +34,17 @@ pub(crate) fn ensure_key(s: &Store) -> Result<Option<KeyStatus>, CliError> {
     })
 }
 
+/// Before a command that only reads (a report, a dispute bundle) opens the database: a
+/// database without a key yet gets one when its file can be written, as `key` would make it;
+/// when it cannot be written the command goes on and leaves unsigned, with its note.
+pub(crate) fn make_key_if_missing(db: &std::path::Path) {
+    if let Ok(s) = Store::open_existing(db) {
+        if matches!(s.public_key(), Ok(None)) {
+            let _ = ensure_key(&s);
+        }
+    }
+}
+
 /// A line for stderr when an export leaves unsigned.
 pub(crate) fn unsigned_note(s: &Store) -> String {
     let fp = s

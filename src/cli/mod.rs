@@ -25,6 +25,7 @@ pub mod progress;
 pub mod records;
 pub mod report;
 pub mod stats;
+pub mod verify;
 pub mod weibull;
 
 /// Fractography and breakage incident log for glass and ceramic parts.
@@ -66,7 +67,7 @@ pub enum Command {
     /// Attach files (photos, micrographs) to an incident.
     Attach(attach::AttachArgs),
     /// Recompute the audit chain (or check a dispute bundle).
-    Verify(records::VerifyArgs),
+    Verify(verify::VerifyArgs),
     /// The database's signing key: fingerprint, public key, where the private key is.
     Key(key::KeyArgs),
     /// Copy the database with SQLite's online backup, then check the copy.
@@ -419,7 +420,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
         Command::Attach(a) => attach::attach(a, &mut ctx),
-        Command::Verify(a) => records::verify(a, &mut ctx),
+        Command::Verify(a) => verify::verify(a, &mut ctx),
         Command::Key(a) => key::run(a, &mut ctx),
         Command::Backup(a) => records::backup(a, &mut ctx),
         Command::Demo(a) => records::demo(a, &mut ctx),

@@ -49,6 +49,7 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             "--output FILE is needed for PDF and HTML (they are not for the terminal)",
         ));
     }
+    super::key::make_key_if_missing(&ctx.db);
     let store = open_to_read(&ctx.db)?;
     let inc = store
         .get(&args.reference)
@@ -128,6 +129,7 @@ fn date_flag(flag: &str, v: &Option<String>) -> Result<Option<chrono::NaiveDate>
 pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let since = date_flag("since", &args.since)?;
     let until = date_flag("until", &args.until)?;
+    super::key::make_key_if_missing(&ctx.db);
     let store = open_to_read(&ctx.db)?;
     super::leftovers::clear_leftovers(&args.output);
     let supplier = resolve(&store, Field::Supplier, "--supplier", &args.supplier)?;

@@ -21,8 +21,13 @@ fn interior_origin(inc: &Incident, exam: &Examination) -> bool {
         )
 }
 
-/// The core's input for one examination of an incident.
-fn analysis_input(inc: &Incident, exam: &Examination) -> Result<AnalysisInput, FractureError> {
+/// The core's input for one examination of an incident: the bench's rules (the material of
+/// the examination, else of the first ply; the origin location of the pattern chooses the
+/// origin and the default flaw geometry), shared by `compute`, the import and `verify`.
+pub(crate) fn analysis_input(
+    inc: &Incident,
+    exam: &Examination,
+) -> Result<AnalysisInput, FractureError> {
     let ply = inc.glass.plies.first();
     let material_code = exam
         .material
@@ -61,6 +66,13 @@ fn analysis_input(inc: &Incident, exam: &Examination) -> Result<AnalysisInput, F
     } else {
         Origin::Surface
     };
+    // an edge or corner origin implies an edge or corner crack unless one is chosen
+    input.flaw = inc
+        .pattern
+        .origin_location
+        .as_deref()
+        .and_then(|code| code.parse::<OriginLocation>().ok())
+        .and_then(|location| location.default_geometry(0.8));
     input.thickness_m = ply.and_then(|p| p.thickness_m);
     input.measured_flaw_m = exam
         .flaw

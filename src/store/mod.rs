@@ -165,6 +165,25 @@ pub struct Store {
 /// The fixed time and actor of audit rows written by migrations (seeded lookup entries).
 pub(crate) const MIGRATION_AT: &str = "2026-01-01T00:00:00.000Z";
 
+/// The file's schema version, or [`StoreError::Altered`] when its schema objects are not
+/// those the migrations made (checked before anything reads, migrates or writes).
+fn refuse_altered_schema(conn: &rusqlite::Connection, path: &Path) -> Result<i64, StoreError> {
+    let (version, altered) = sqlite::schema_differences(conn)?;
+    if altered.is_empty() {
+        return Ok(version);
+    }
+    let n = altered.len();
+    let mut found = altered.into_iter().take(3).collect::<Vec<_>>().join("; ");
+    if n > 3 {
+        found.push_str(&format!("; and {} more", n - 3));
+    }
+    Err(StoreError::Altered {
+        path: path.display().to_string(),
+        version,
+        found,
+    })
+}
+
 impl Store {
     /// Open a database file, creating it (and its schema) if it does not exist. A file
     /// that is not a shardlog database, or is newer than this build, is refused untouched.
@@ -186,6 +205,7 @@ impl Store {
             drop(conn);
             return Store::open_existing(path);
         }
+        refuse_altered_schema(&conn, path)?;
         sqlite::set_file_pragmas(&conn)?;
         let real = path.canonicalize().unwrap_or_else(|_| path.to_path_buf());
         let files_dir = files::dir_for(&real);
@@ -196,19 +216,7 @@ impl Store {
 
     fn open_file(path: &Path, create: bool) -> Result<Store, StoreError> {
         let (conn, _) = sqlite::open_checked(path, create)?;
-        let (version, altered) = sqlite::schema_differences(&conn)?;
-        if !altered.is_empty() {
-            let n = altered.len();
-            let mut found = altered.into_iter().take(3).collect::<Vec<_>>().join("; ");
-            if n > 3 {
-                found.push_str(&format!("; and {} more", n - 3));
-            }
-            return Err(StoreError::Altered {
-                path: path.display().to_string(),
-                version,
-                found,
-            });
-        }
+        let version = refuse_altered_schema(&conn, path)?;
         sqlite::set_file_pragmas(&conn)?;
         // beside the database's real file: opened through a link, the folder is still the
         // one beside the file the records are in

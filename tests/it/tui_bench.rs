@@ -12,7 +12,7 @@ use shardlog::tui::harness::{key, render, send, type_str};
 fn stamp() -> Stamp {
     Stamp::new(
         "Vera Okonkwo-Lind",
-        chrono::TimeZone::with_ymd_and_hms(&chrono::Utc, 2027, 3, 14, 9, 10, 0).unwrap(),
+        chrono::TimeZone::with_ymd_and_hms(&chrono::Utc, 2026, 3, 14, 9, 10, 0).unwrap(),
     )
 }
 
@@ -21,7 +21,7 @@ fn stamp() -> Stamp {
 fn one_incident(dir: &std::path::Path, location: Option<&str>) -> App {
     let path = dir.join("bench.db");
     let mut store = Store::open(&path).unwrap();
-    let day = chrono::NaiveDate::from_ymd_opt(2027, 3, 1).unwrap();
+    let day = chrono::NaiveDate::from_ymd_opt(2026, 3, 1).unwrap();
     let mut draft = Incident::draft(day);
     draft.pattern.origin_location = location.map(str::to_string);
     store.create_incident(&draft, &stamp()).unwrap();
@@ -125,7 +125,7 @@ fn a_thermal_hypothesis_saved_without_its_typed_inputs_comes_back_from_its_figur
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("old.db");
     let mut store = Store::open(&path).unwrap();
-    let day = chrono::NaiveDate::from_ymd_opt(2027, 3, 1).unwrap();
+    let day = chrono::NaiveDate::from_ymd_opt(2026, 3, 1).unwrap();
     let inc = store
         .create_incident(&Incident::draft(day), &stamp())
         .unwrap();
@@ -430,7 +430,7 @@ fn a_revision_is_restored_from_the_history_as_a_new_change() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("revert.db");
     let mut store = Store::open(&path).unwrap();
-    let day = chrono::NaiveDate::from_ymd_opt(2027, 3, 1).unwrap();
+    let day = chrono::NaiveDate::from_ymd_opt(2026, 3, 1).unwrap();
     let mut draft = Incident::draft(day);
     draft.position = "door left".into();
     let created = store.create_incident(&draft, &stamp()).unwrap();
@@ -521,7 +521,7 @@ fn reverting_past_a_removed_examination_brings_back_its_figures_and_pin() {
     use shardlog::store::bench_record::{bench_examination, BenchRecord, BoundaryLines};
     use shardlog_core::fracture::{analyze, materials, AnalysisInput, Boundary};
     let mut store = Store::open_in_memory().unwrap();
-    let day = chrono::NaiveDate::from_ymd_opt(2027, 3, 1).unwrap();
+    let day = chrono::NaiveDate::from_ymd_opt(2026, 3, 1).unwrap();
     let inc = store
         .create_incident(&Incident::draft(day), &stamp())
         .unwrap();

@@ -10,7 +10,7 @@ use chrono::{DateTime, NaiveDate, Utc};
 use super::super::model::*;
 use super::super::StoreError;
 use super::Problem;
-use shardlog_core::fracture::{self, materials, AnalysisInput, Boundary, OriginLocation, Temper};
+use shardlog_core::fracture;
 
 /// The CSV column that holds a field of the model (its path as validation names it), when
 /// the flat view has one.
@@ -161,51 +161,6 @@ pub fn column_kind(column: &str) -> Option<LookupKind> {
     })
 }
 
-/// The analysis input the bench would build from an incident's first ply and an
-/// examination's readings; `None` when the material is not one of the library's.
-fn analysis_input(inc: &Incident, exam: &Examination) -> Option<AnalysisInput> {
-    let ply = inc.glass.plies.first();
-    let key = exam
-        .material
-        .clone()
-        .or_else(|| ply.and_then(|p| p.material.clone()))?
-        .replace('_', "-");
-    let mut input = AnalysisInput::new(materials::find(&key)?);
-    for (code, boundary) in [
-        ("mirror_mist", Boundary::MirrorMist),
-        ("mist_hackle", Boundary::MistHackle),
-        ("branching", Boundary::Branching),
-    ] {
-        let radii: Vec<f64> = exam
-            .readings
-            .iter()
-            .filter(|r| r.boundary == code)
-            .map(|r| r.radius.si)
-            .collect();
-        if !radii.is_empty() {
-            input = input.with_readings(boundary, &radii);
-        }
-    }
-    input.temper = ply
-        .and_then(|p| p.temper.as_deref())
-        .and_then(|t| t.parse::<Temper>().ok());
-    input.thickness_m = ply.and_then(|p| p.thickness_m);
-    input.measured_flaw_m = exam
-        .flaw
-        .as_ref()
-        .and_then(|f| f.depth.as_ref())
-        .map(|d| d.si);
-    let location = inc
-        .pattern
-        .origin_location
-        .as_deref()
-        .and_then(|l| l.parse::<OriginLocation>().ok())
-        .unwrap_or(OriginLocation::Surface);
-    input.origin = location.origin();
-    input.flaw = location.default_geometry(0.8);
-    Some(input)
-}
-
 /// Compute each examination's results from its readings, as the bench does, replacing
 /// figures typed in the file's stress columns. A refusal of the calculation is a problem of
 /// the record's line.
@@ -216,7 +171,8 @@ pub fn compute_results(inc: &mut Incident, line: usize, at: DateTime<Utc>) -> Ve
         if exam.readings.is_empty() {
             continue;
         }
-        let Some(input) = analysis_input(&snapshot, exam) else {
+        // a material outside the library, or a boundary it does not know: no result
+        let Ok(input) = super::super::analysis::analysis_input(&snapshot, exam) else {
             continue;
         };
         match fracture::analyze(&input) {

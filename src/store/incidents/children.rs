@@ -68,7 +68,6 @@ impl<'s, T> ChildScan<'s, T> {
 /// `incidents` merged with one ordered scan of each child table (a query per incident
 /// costs a statement re-preparation each with the planner's sample statistics, about
 /// a third of a millisecond: minutes on a million incidents).
-#[cfg(test)]
 pub(crate) fn for_each_incident(
     conn: &Connection,
     f: impl FnMut(Incident, bool) -> Result<(), StoreError>,

@@ -89,7 +89,6 @@ mod revert;
 mod validate;
 mod write;
 
-#[cfg(test)]
 pub(crate) use children::for_each_incident;
 pub(crate) use children::for_each_readable_incident;
 pub(crate) use facts::{fill_fleet_facts, fleet_facts_problems};

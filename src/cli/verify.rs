@@ -1,0 +1,163 @@
+//! `verify`: the audit chain of the database (with anchors), a dispute bundle (with or
+//! without the database, and against a key), or this bench against the fleet.
+
+use std::path::Path;
+
+use super::records::{clean, open_to_read, work};
+use super::{CliError, Context};
+use crate::report::bundle::ExpectedKey;
+
+#[derive(Debug, clap::Args)]
+pub struct VerifyArgs {
+    /// Print the report as JSON.
+    #[arg(long)]
+    pub json: bool,
+    /// Check a dispute bundle folder instead (and compare it with the database if present).
+    #[arg(long, value_name = "DIR")]
+    pub bundle: Option<std::path::PathBuf>,
+    /// A head taken earlier (`shardlog key`, a signed export or bundle): the chain must still
+    /// hold HASH at entry SEQ. Repeatable.
+    #[arg(long, value_name = "SEQ:HASH")]
+    pub anchor: Vec<crate::store::Anchor>,
+    /// With --bundle: check the bundle's signature against this key (a fingerprint as
+    /// `shardlog key` prints it, or a public key file), with or without the database.
+    #[arg(long, value_name = "FINGERPRINT|PUBKEYFILE", requires = "bundle")]
+    pub key: Option<String>,
+    /// Check this bench's history against what the fleet database witnessed.
+    #[arg(long, value_name = "URL", conflicts_with = "bundle")]
+    pub fleet: Option<String>,
+}
+
+pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    if let Some(dir) = &args.bundle {
+        return verify_bundle(dir, &args, ctx);
+    }
+    if let Some(url) = args.fleet {
+        return super::fleet::verify_fleet(url, args.json, ctx);
+    }
+    let s = open_to_read(&ctx.db)?;
+    let meter = super::progress::Meter::on_stderr();
+    s.set_progress(meter.as_ref().map(|m| m.callback()));
+    let r = s.verify();
+    drop(meter);
+    let mut r = r.map_err(work)?;
+    for p in s.check_anchors(&args.anchor).map_err(work)? {
+        r.add_problem(p);
+    }
+    if args.json {
+        let text =
+            serde_json::to_string_pretty(&r).map_err(|e| CliError::work(format!("JSON: {e}")))?;
+        writeln!(ctx.out, "{text}")?;
+    }
+    match &r.first_problem {
+        None => {
+            if !args.json {
+                writeln!(
+                    ctx.out,
+                    "ok: {} audit rows chain correctly, {} records match their last audited version; head {}",
+                    r.audit_rows, r.records_checked, r.head
+                )?;
+                if args.anchor.is_empty() {
+                    writeln!(ctx.out, "note: this proves the file agrees with itself, not that its history was never rewritten; check a head kept elsewhere with --anchor SEQ:HASH or --bundle DIR")?;
+                } else {
+                    writeln!(
+                        ctx.out,
+                        "ok: the chain still holds {} anchor{} taken earlier",
+                        args.anchor.len(),
+                        if args.anchor.len() == 1 { "" } else { "s" }
+                    )?;
+                }
+            }
+            Ok(())
+        }
+        Some(p) => Err(CliError::work(format!(
+            "verify failed: {} problem{}; the first: {p}",
+            r.problems,
+            if r.problems == 1 { "" } else { "s" }
+        ))),
+    }
+}
+
+/// `--key FINGERPRINT|PUBKEYFILE`: an existing file is read as a public key file.
+fn expected_key(text: &str) -> Result<ExpectedKey, CliError> {
+    let path = Path::new(text);
+    let from_file = path.is_file();
+    let parsed = if from_file {
+        let meta =
+            std::fs::metadata(path).map_err(|e| CliError::usage(format!("--key {text}: {e}")))?;
+        if meta.len() > 4096 {
+            return Err(CliError::usage(format!(
+                "--key {text}: not a public key file (larger than 4 KB)"
+            )));
+        }
+        let t = std::fs::read_to_string(path)
+            .map_err(|e| CliError::usage(format!("--key {text}: {e}")))?;
+        ExpectedKey::parse(&t)
+    } else {
+        ExpectedKey::parse(text)
+    };
+    parsed.ok_or_else(|| {
+        CliError::usage(format!(
+            "--key {}: expected a fingerprint as `shardlog key` prints it (32 hex digits, hyphens optional) or a public key file it wrote",
+            clean(text)
+        ))
+    })
+}
+
+/// `verify --bundle DIR`: the bundle alone, and against the database when there is one.
+/// With `--db` or `$SHARDLOG_DB` the database must exist; without them the bundle is
+/// checked alone when the default database is absent.
+fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let key = args.key.as_deref().map(expected_key).transpose()?;
+    if !args.anchor.is_empty() {
+        return Err(CliError::usage(
+            "--anchor checks the database's chain; with --bundle the bundle's own head is the anchor",
+        ));
+    }
+    let store = if ctx.db.exists() {
+        Some(open_to_read(&ctx.db)?)
+    } else {
+        None
+    };
+    let check = crate::report::bundle::verify_bundle_with(dir, store.as_ref(), key.as_ref())?;
+    let shown = clean(&dir.display().to_string());
+    writeln!(
+        ctx.out,
+        "bundle {shown}: {} incidents, {} files checked{}",
+        check.incidents,
+        check.files_checked,
+        if check.compared_with_records {
+            format!(", compared with the records in {}", ctx.db.display())
+        } else {
+            " (no database: the records were not compared)".to_string()
+        }
+    )?;
+    for n in &check.notes {
+        writeln!(ctx.out, "note: {}", clean(n))?;
+    }
+    if check.ok() {
+        writeln!(
+            ctx.out,
+            "ok: every file matches the bundle's digest{}{}",
+            if key.is_some() {
+                ", its head is signed with the expected key"
+            } else {
+                ""
+            },
+            if check.compared_with_records {
+                " and the bundle matches the records"
+            } else {
+                ""
+            }
+        )?;
+        return Ok(());
+    }
+    for p in &check.problems {
+        writeln!(ctx.out, "DIFFERS: {}", clean(p))?;
+    }
+    Err(CliError::work(format!(
+        "the bundle does not verify: {} difference{} (listed above)",
+        check.problems.len(),
+        if check.problems.len() == 1 { "" } else { "s" }
+    )))
+}
