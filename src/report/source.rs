@@ -6,9 +6,7 @@ use std::collections::HashMap;
 use std::sync::Arc;
 
 use crate::store::{self, Incident, LookupKind, Store, StoreError};
-use shardlog_core::fracture::{
-    self, Analysis, AnalysisInput, Boundary, BoundaryReadings, OriginLocation, Temper,
-};
+use shardlog_core::fracture::{self, Analysis, Boundary};
 use shardlog_core::units;
 
 use super::summary::*;
@@ -464,51 +462,10 @@ fn field_label(key: &str) -> String {
     }
 }
 
-fn core_key(code: &str) -> String {
-    code.replace('_', "-")
-}
-
 /// Run the core on one examination's readings (material from the examination or the first
 /// ply, temper class and thickness from the first ply).
 pub fn analyze_exam(inc: &Incident, exam: &store::Examination) -> Result<Analysis, String> {
-    let ply = inc.glass.plies.first();
-    let mat_code = exam
-        .material
-        .clone()
-        .or_else(|| ply.and_then(|p| p.material.clone()))
-        .unwrap_or_else(|| "soda-lime".into());
-    let material = fracture::materials::find(&core_key(&mat_code))
-        .or_else(|| fracture::materials::find(&mat_code))
-        .ok_or_else(|| format!("material {mat_code} is not in the library"))?;
-    let mut input = AnalysisInput::new(material);
-    let mut groups: Vec<BoundaryReadings> = Vec::new();
-    for r in &exam.readings {
-        let b: Boundary = r
-            .boundary
-            .parse()
-            .map_err(|_| format!("boundary {} is not known", r.boundary))?;
-        match groups.iter_mut().find(|g| g.boundary == b) {
-            Some(g) => g.radii_m.push(r.radius.si),
-            None => groups.push(BoundaryReadings {
-                boundary: b,
-                radii_m: vec![r.radius.si],
-            }),
-        }
-    }
-    input.readings = groups;
-    if let Some(t) = ply.and_then(|p| p.temper.as_deref()) {
-        input.temper = t.parse::<Temper>().ok();
-    }
-    input.thickness_m = ply.and_then(|p| p.thickness_m);
-    if let Some(location) = inc.pattern.origin_location.as_deref() {
-        if let Ok(location) = location.parse::<OriginLocation>() {
-            input.origin = location.origin();
-        }
-    }
-    input.measured_flaw_m = exam
-        .flaw
-        .as_ref()
-        .and_then(|f| f.depth.as_ref())
-        .map(|m| m.si);
+    // the same input as the store computes and verify recomputes from
+    let input = store::analysis::analysis_input(inc, exam).map_err(|e| e.to_string())?;
     fracture::analyze(&input).map_err(|e| e.to_string())
 }

@@ -24,10 +24,7 @@ fn interior_origin(inc: &Incident, exam: &Examination) -> bool {
 /// The core's input for one examination of an incident: the bench's rules (the material of
 /// the examination, else of the first ply; the origin location of the pattern chooses the
 /// origin and the default flaw geometry), shared by `compute`, the import and `verify`.
-pub(crate) fn analysis_input(
-    inc: &Incident,
-    exam: &Examination,
-) -> Result<AnalysisInput, FractureError> {
+pub fn analysis_input(inc: &Incident, exam: &Examination) -> Result<AnalysisInput, FractureError> {
     let ply = inc.glass.plies.first();
     let material_code = exam
         .material
