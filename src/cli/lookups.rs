@@ -60,6 +60,9 @@ pub enum LookupsCommand {
     List {
         #[arg(value_enum, value_name = "LIST")]
         list: Option<ListName>,
+        /// Print JSON (kind, code, label, sort_order, note, retired) instead of a table.
+        #[arg(long)]
+        json: bool,
     },
     /// Add an entry at the end of a list. The code is kept for good; choose it with care.
     Add {
@@ -102,7 +105,7 @@ fn refused(e: StoreError) -> CliError {
 pub fn run(args: LookupsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let stamp = edge_stamp();
     let (verb, entry) = match args.command {
-        LookupsCommand::List { list } => return list_entries(list, ctx),
+        LookupsCommand::List { list, json } => return list_entries(list, json, ctx),
         LookupsCommand::Add { list, code, label } => {
             let mut store = open(&ctx.db)?;
             let e = store
@@ -174,12 +177,37 @@ fn row(e: &LookupEntry) -> String {
     )
 }
 
-fn list_entries(list: Option<ListName>, ctx: &mut Context<'_>) -> Result<(), CliError> {
+fn list_entries(list: Option<ListName>, json: bool, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let store = open_to_read(&ctx.db)?;
     let lists = match list {
         Some(l) => vec![l],
         None => ListName::ALL.to_vec(),
     };
+    if json {
+        let mut all = Vec::new();
+        for l in &lists {
+            all.extend(
+                store
+                    .lookups(l.kind())
+                    .map_err(|e| CliError::work(e.to_string()))?
+                    .into_iter()
+                    .map(|e| {
+                        serde_json::json!({
+                            "kind": e.kind.as_str(),
+                            "code": e.code,
+                            "label": e.label,
+                            "sort_order": e.sort_order,
+                            "note": e.note,
+                            "retired": e.retired,
+                        })
+                    }),
+            );
+        }
+        let text =
+            serde_json::to_string_pretty(&all).map_err(|e| CliError::work(format!("json: {e}")))?;
+        writeln!(ctx.out, "{text}")?;
+        return Ok(());
+    }
     for (i, l) in lists.iter().enumerate() {
         if i > 0 {
             writeln!(ctx.out)?;

@@ -136,6 +136,16 @@ fn retire_and_restore_are_audited_and_listed() {
     assert!(o.status.success(), "{}", text(&o));
     let listed = text(&run(&db, &["lookups", "list", "custody-event"]));
     assert!(!listed.contains("(retired)"), "{listed}");
+    let json = run(&db, &["lookups", "list", "custody-event", "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    let disposed = v
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|e| e["code"] == "disposed")
+        .unwrap();
+    assert_eq!(disposed["retired"], false, "{v}");
+    assert_eq!(disposed["kind"], "custody_action", "{v}");
     let rows = audit_of(&db, "custody_action/disposed");
     let ops: Vec<_> = rows.iter().map(|r| r.1.as_str()).collect();
     assert_eq!(ops, ["insert", "update", "update"], "{rows:?}");
