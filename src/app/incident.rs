@@ -124,7 +124,11 @@ impl EditState {
 /// Pick-list contents loaded from the store when the interface opens (small tables).
 #[derive(Debug, Default, Clone)]
 pub struct Lists {
+    /// The entries in use, per lookup kind: what pick-lists of new work offer.
     pub lookups: HashMap<String, Vec<PickItem>>,
+    /// Retired entries, per lookup kind: not offered, but still named on the records that
+    /// hold them and offered by the log's filter.
+    pub retired: HashMap<String, Vec<PickItem>>,
     pub suppliers: Vec<PickItem>,
     pub products: Vec<PickItem>,
     pub lots: Vec<PickItem>,
@@ -137,11 +141,41 @@ impl Lists {
         self.lookups.get(kind.as_str()).cloned().unwrap_or_default()
     }
 
-    /// The label of a lookup code, or the code itself.
-    pub fn label(&self, kind: LookupKind, code: &str) -> String {
-        self.lookups
+    /// The entries in use, and the record's own value when it is a retired one (marked so):
+    /// editing an old record neither loses its value nor offers the retired entry to others.
+    pub fn lookup_keeping(&self, kind: LookupKind, current: Option<&str>) -> Vec<PickItem> {
+        let mut items = self.lookup(kind);
+        if let Some(old) = current.and_then(|c| self.retired_item(kind, c)) {
+            items.push(old);
+        }
+        items
+    }
+
+    /// Every entry, the retired ones last and marked: what a filter of old records offers.
+    pub fn lookup_with_retired(&self, kind: LookupKind) -> Vec<PickItem> {
+        let mut items = self.lookup(kind);
+        if let Some(old) = self.retired.get(kind.as_str()) {
+            items.extend(
+                old.iter()
+                    .map(|i| PickItem::new(i.code.clone(), format!("{} (retired)", i.label))),
+            );
+        }
+        items
+    }
+
+    fn retired_item(&self, kind: LookupKind, code: &str) -> Option<PickItem> {
+        self.retired
             .get(kind.as_str())
             .and_then(|v| v.iter().find(|i| i.code == code))
+            .map(|i| PickItem::new(i.code.clone(), format!("{} (retired)", i.label)))
+    }
+
+    /// The label of a lookup code (retired ones included), or the code itself.
+    pub fn label(&self, kind: LookupKind, code: &str) -> String {
+        [&self.lookups, &self.retired]
+            .iter()
+            .filter_map(|m| m.get(kind.as_str()))
+            .find_map(|v| v.iter().find(|i| i.code == code))
             .map(|i| i.label.clone())
             .unwrap_or_else(|| code.to_string())
     }
@@ -394,7 +428,10 @@ fn examination_items(form: &mut Form, inc: &Incident, lists: &Lists) {
     form.push_pick(pick(
         "origin_type",
         "Origin type",
-        lists.lookup(LookupKind::OriginType),
+        lists.lookup_keeping(
+            LookupKind::OriginType,
+            e.and_then(|e| e.origin_type.as_deref()),
+        ),
         e.and_then(|e| e.origin_type.as_deref()),
     ));
     form.push_field(text(
@@ -450,7 +487,7 @@ fn cause_items(form: &mut Form, inc: &Incident, lists: &Lists) {
         pick(
             "cause",
             "Cause",
-            lists.lookup(LookupKind::CauseCategory),
+            lists.lookup_keeping(LookupKind::CauseCategory, c.map(|c| c.category.as_str())),
             c.map(|c| c.category.as_str()),
         )
         .required(),
@@ -493,7 +530,7 @@ fn cause_items(form: &mut Form, inc: &Incident, lists: &Lists) {
         pick(
             "status",
             "Case status",
-            lists.lookup(LookupKind::Status),
+            lists.lookup_keeping(LookupKind::Status, Some(inc.status.as_str())),
             Some(inc.status.as_str()),
         )
         .required(),

@@ -226,12 +226,19 @@ pub struct App {
 pub(crate) fn load_lists(store: &Store) -> Result<Lists, StoreError> {
     let mut lists = Lists::default();
     for kind in LookupKind::ALL {
-        let items = store
-            .lookups(kind)?
-            .into_iter()
-            .map(|e| PickItem::new(e.code, e.label))
-            .collect();
-        lists.lookups.insert(kind.as_str().to_string(), items);
+        let (retired, in_use): (Vec<_>, Vec<_>) =
+            store.lookups(kind)?.into_iter().partition(|e| e.retired);
+        let items = |v: Vec<crate::store::LookupEntry>| -> Vec<PickItem> {
+            v.into_iter()
+                .map(|e| PickItem::new(e.code, e.label))
+                .collect()
+        };
+        lists
+            .lookups
+            .insert(kind.as_str().to_string(), items(in_use));
+        lists
+            .retired
+            .insert(kind.as_str().to_string(), items(retired));
     }
     lists.suppliers = store
         .suppliers()?

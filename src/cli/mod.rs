@@ -19,6 +19,7 @@ pub mod fleet;
 pub mod key;
 pub mod leftovers;
 pub mod load;
+pub mod lookups;
 pub mod materials;
 pub mod mirror;
 pub mod progress;
@@ -60,6 +61,9 @@ pub enum Command {
     Export(records::ExportArgs),
     /// Panes in service (the denominator of rates): import from CSV, list.
     Exposure(exposure::ExposureArgs),
+    /// The lab's own lists (causes, origin types, custody events, statuses): list, add,
+    /// rename, retire, restore.
+    Lookups(lookups::LookupsArgs),
     /// List incidents.
     List(records::ListArgs),
     /// Show one incident.
@@ -417,6 +421,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Import(a) => records::import(a, &mut ctx),
         Command::Export(a) => records::export(a, &mut ctx),
         Command::Exposure(a) => exposure::run(a, &mut ctx),
+        Command::Lookups(a) => lookups::run(a, &mut ctx),
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
         Command::Attach(a) => attach::attach(a, &mut ctx),

@@ -58,6 +58,7 @@ mod files;
 pub mod fleet;
 mod ids;
 mod incidents;
+mod lookup_upkeep;
 pub mod model;
 mod outbox;
 pub mod progress;

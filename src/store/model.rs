@@ -440,6 +440,15 @@ pub struct LookupEntry {
     pub sort_order: i64,
     #[serde(default)]
     pub note: String,
+    /// Hidden from the pick-lists of new work, kept for the records that hold the code. Left
+    /// out of the audit image while false, so that the images of entries written before
+    /// retiring existed stay the same bytes.
+    #[serde(default, skip_serializing_if = "is_false")]
+    pub retired: bool,
+}
+
+fn is_false(b: &bool) -> bool {
+    !*b
 }
 
 /// The cause filter's value for the incidents with no cause recorded yet (the review's

@@ -28,9 +28,36 @@ fn date_col(s: Option<String>) -> Option<NaiveDate> {
     s.as_deref().and_then(parse_date)
 }
 
-/// Audit the lookup entries that migration 0001 seeds, as written by "schema 0001".
+/// Audit the lookup entries that migration 0001 seeds, as written by "schema 0001". Runs in
+/// that migration's transaction, before the `retired` column exists (none is retired then).
 pub(crate) fn seed_lookup_audit(conn: &Connection) -> Result<(), StoreError> {
-    let entries = load_lookups(conn, None)?;
+    let mut stmt = conn.prepare(
+        "SELECT kind, code, label, sort_order, note FROM lookup ORDER BY kind, sort_order, code",
+    )?;
+    let rows = stmt.query_map([], |r| {
+        Ok((
+            r.get::<_, String>(0)?,
+            r.get::<_, String>(1)?,
+            r.get::<_, String>(2)?,
+            r.get::<_, i64>(3)?,
+            r.get::<_, String>(4)?,
+        ))
+    })?;
+    let mut entries = Vec::new();
+    for row in rows {
+        let (k, code, label, sort_order, note) = row?;
+        if let Some(kind) = LookupKind::parse(&k) {
+            entries.push(LookupEntry {
+                kind,
+                code,
+                label,
+                sort_order,
+                note,
+                retired: false,
+            });
+        }
+    }
+    drop(stmt);
     let mut chain = Chain::load(conn)?;
     for e in &entries {
         let img = canon::canonical(e)?;
@@ -53,7 +80,7 @@ pub(crate) fn load_lookups(
     kind: Option<LookupKind>,
 ) -> Result<Vec<LookupEntry>, StoreError> {
     let mut stmt = conn.prepare_cached(
-        "SELECT kind, code, label, sort_order, note FROM lookup
+        "SELECT kind, code, label, sort_order, note, retired FROM lookup
          WHERE ?1 IS NULL OR kind = ?1 ORDER BY kind, sort_order, code",
     )?;
     let rows = stmt.query_map(params![kind.map(LookupKind::as_str)], |r| {
@@ -63,11 +90,12 @@ pub(crate) fn load_lookups(
             r.get::<_, String>(2)?,
             r.get::<_, i64>(3)?,
             r.get::<_, String>(4)?,
+            r.get::<_, i64>(5)?,
         ))
     })?;
     let mut out = Vec::new();
     for row in rows {
-        let (k, code, label, sort_order, note) = row?;
+        let (k, code, label, sort_order, note, retired) = row?;
         // an unknown kind (added by a newer build) is skipped, not an error
         if let Some(kind) = LookupKind::parse(&k) {
             out.push(LookupEntry {
@@ -76,6 +104,7 @@ pub(crate) fn load_lookups(
                 label,
                 sort_order,
                 note,
+                retired: retired != 0,
             });
         }
     }
@@ -279,7 +308,7 @@ pub(crate) fn lot_id(
         .optional()?)
 }
 
-fn check_code(field: &str, code: &str) -> Result<(), StoreError> {
+pub(crate) fn check_code(field: &str, code: &str) -> Result<(), StoreError> {
     if code.trim().is_empty() {
         return Err(StoreError::invalid(field, "must not be empty"));
     }
@@ -538,14 +567,16 @@ pub(crate) fn insert_lookup(
         });
     }
     conn.prepare_cached(
-        "INSERT INTO lookup (kind, code, label, sort_order, note) VALUES (?1, ?2, ?3, ?4, ?5)",
+        "INSERT INTO lookup (kind, code, label, sort_order, note, retired)
+         VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
     )?
     .execute(params![
         e.kind.as_str(),
         e.code,
         e.label,
         e.sort_order,
-        e.note
+        e.note,
+        i64::from(e.retired)
     ])?;
     chain.record(
         conn,
@@ -592,7 +623,7 @@ impl Store {
         Ok(())
     }
 
-    fn write_one<T>(
+    pub(crate) fn write_one<T>(
         &mut self,
         stamp: &Stamp,
         f: impl FnOnce(&Connection, &mut Chain) -> Result<T, StoreError>,

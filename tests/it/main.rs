@@ -20,6 +20,7 @@ mod import_onepass;
 mod intake_files;
 mod intake_import;
 mod loads;
+mod lookups_cli;
 mod mirror_cli;
 mod packaging;
 mod plausibility;

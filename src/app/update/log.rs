@@ -112,10 +112,10 @@ impl App {
         form.push_pick(pick(
             "status",
             "Status",
-            self.lists.lookup(LookupKind::Status),
+            self.lists.lookup_with_retired(LookupKind::Status),
             &f.status,
         ));
-        let mut causes = self.lists.lookup(LookupKind::CauseCategory);
+        let mut causes = self.lists.lookup_with_retired(LookupKind::CauseCategory);
         causes.push(PickItem::new(
             crate::store::model::NO_CAUSE,
             "no cause recorded yet",
@@ -124,7 +124,7 @@ impl App {
         form.push_pick(pick(
             "origin_type",
             "Origin type",
-            self.lists.lookup(LookupKind::OriginType),
+            self.lists.lookup_with_retired(LookupKind::OriginType),
             &f.origin_type,
         ));
         form.push_pick(pick(

@@ -429,6 +429,17 @@ fn weibull_section(d: &mut Document, cv: &Cover) {
         ]);
     }
     d.push(Block::Table(t));
+    let methods: std::collections::BTreeSet<&str> =
+        cv.weibull.iter().filter_map(|w| w.bounds_by.as_deref()).collect();
+    if !methods.is_empty() {
+        d.note(format!(
+            "Bounds by: {}. Pivotal: the pivotal quantities of ASTM C1239 for a complete sample, \
+             their quantiles from this program's Monte Carlo table (a nominal 95 % covers 95 %); \
+             Wald: large-sample bounds from the observed information, which cover less than \
+             they claim in small samples.",
+            methods.into_iter().collect::<Vec<_>>().join("; ")
+        ));
+    }
     if !cv.weibull.iter().any(|w| !w.claimed) {
         d.note(format!(
             "No other supplier has {} or more stresses of the same cause{} to fit for a comparison.",

@@ -370,6 +370,7 @@ fn population_row(group: String, claimed: bool, values: &[f64]) -> WeibullRow {
                 values.len(),
                 if values.len() == 1 { "" } else { "es" }
             )),
+            bounds_by: None,
         };
     }
     weibull_row(group, claimed, &fleet::fit_values(values), values.len())
@@ -481,6 +482,15 @@ fn weibull_row(
                 .map(|p| [p.stress / 1e6, p.probability])
                 .collect(),
             note: None,
+            bounds_by: Some(if f.modulus_bounds_method == f.scale_bounds_method {
+                f.modulus_bounds_method.short().to_string()
+            } else {
+                format!(
+                    "{} (modulus), {} (strength)",
+                    f.modulus_bounds_method.short(),
+                    f.scale_bounds_method.short()
+                )
+            }),
         },
         Err(e) => WeibullRow {
             group: name,
@@ -492,6 +502,7 @@ fn weibull_row(
             scale_ci95_mpa: None,
             points: Vec::new(),
             note: Some(format!("no fit: {e}")),
+            bounds_by: None,
         },
     }
 }

@@ -189,6 +189,10 @@ pub struct WeibullRow {
     /// (applied stress MPa, failure probability)
     pub points: Vec<[f64; 2]>,
     pub note: Option<String>,
+    /// The method of the modulus and strength bounds ("pivotal", "Wald"); absent in bundles
+    /// made before the method was recorded (their digests stay as they were).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bounds_by: Option<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -31,6 +31,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0005_fleet_sync.sql",
         include_str!("../../../schema/0005_fleet_sync.sql"),
     ),
+    (
+        "0006_lookup_retired.sql",
+        include_str!("../../../schema/0006_lookup_retired.sql"),
+    ),
 ];
 
 /// The migration that makes `incident_facts`; the store fills it from the incidents
