@@ -805,7 +805,11 @@ fn a_cause_claim_leads_with_its_cause_and_counts_what_it_left_out() {
     assert!(claimed[0].group.ends_with("nickel sulfide inclusion"));
     assert!(claimed[0].modulus.is_some());
     // a complete sample inside the pivotal table's range: its bounds say so (ASTM C1239)
-    assert_eq!(claimed[0].bounds_by.as_deref(), Some("pivotal"), "{claimed:?}");
+    assert_eq!(
+        claimed[0].bounds_by.as_deref(),
+        Some("pivotal"),
+        "{claimed:?}"
+    );
     for w in &cover.weibull {
         assert!(w.group.ends_with("nickel sulfide inclusion"), "{}", w.group);
         assert!(w.n >= 3 || w.modulus.is_none(), "{w:?}");

@@ -429,8 +429,11 @@ fn weibull_section(d: &mut Document, cv: &Cover) {
         ]);
     }
     d.push(Block::Table(t));
-    let methods: std::collections::BTreeSet<&str> =
-        cv.weibull.iter().filter_map(|w| w.bounds_by.as_deref()).collect();
+    let methods: std::collections::BTreeSet<&str> = cv
+        .weibull
+        .iter()
+        .filter_map(|w| w.bounds_by.as_deref())
+        .collect();
     if !methods.is_empty() {
         d.note(format!(
             "Bounds by: {}. Pivotal: the pivotal quantities of ASTM C1239 for a complete sample, \

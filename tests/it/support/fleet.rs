@@ -152,8 +152,12 @@ impl Cluster {
         } else {
             ""
         };
+        // fsync off (a test cluster: only an operating-system crash would lose data), but
+        // commits wait for their WAL write: a private cluster is stopped with an immediate
+        // shutdown mid-test, and with synchronous_commit off that loses the last commits
+        // (a role made just before, say)
         let options = format!(
-            "-k {} -c listen_addresses= -c fsync=off -c synchronous_commit=off -c full_page_writes=off -c max_connections=200",
+            "-k {} -c listen_addresses= -c fsync=off -c full_page_writes=off -c max_connections=200",
             self.host.display()
         );
         // `read` returns "keep" from [`Cluster::stop`] (a restart follows) and nothing at the
