@@ -57,35 +57,8 @@ fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         strict: args.strict,
         ..ImportOptions::default()
     };
-    match store
-        .import_exposure_csv(&bytes, options, &edge_stamp())
-        .map_err(|e| CliError::work(format!("{name}: import failed: {e}")))?
-    {
-        Ok(sum) => {
-            writeln!(
-                ctx.out,
-                "{} {} reference record{} ({} already present){}",
-                if sum.dry_run {
-                    "would import"
-                } else {
-                    "imported"
-                },
-                sum.reference_records,
-                if sum.reference_records == 1 { "" } else { "s" },
-                sum.already_present,
-                if sum.dry_run {
-                    "; nothing was written (dry run)"
-                } else {
-                    ""
-                }
-            )?;
-            Ok(())
-        }
-        Err(rej) => Err(CliError::work(format!(
-            "{name}: {}",
-            rej.to_string().trim_end()
-        ))),
-    }
+    let result = store.import_exposure_csv(&bytes, options, &edge_stamp());
+    super::records::report_import(ctx, &name, result, false)
 }
 
 fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {

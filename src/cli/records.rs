@@ -205,18 +205,44 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     s.set_progress(meter.as_ref().map(|m| m.callback()));
     let result = s.import_bytes(&name, &bytes, options, &edge_stamp());
     drop(meter);
+    report_import(ctx, &name, result, true)
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ExportFormat {
+    Csv,
+    Json,
+}
+
+/// The one line an import prints (incidents only for a records import), or its refusal.
+pub(crate) fn report_import(
+    ctx: &mut Context<'_>,
+    name: &str,
+    result: Result<
+        Result<store::exchange::ImportSummary, store::exchange::ImportRejected>,
+        StoreError,
+    >,
+    with_incidents: bool,
+) -> Result<(), CliError> {
     match result.map_err(|e| CliError::work(format!("{name}: import failed: {e}")))? {
         Ok(sum) => {
+            let incidents = if with_incidents {
+                format!(
+                    "{} incident{}, ",
+                    sum.incidents,
+                    if sum.incidents == 1 { "" } else { "s" }
+                )
+            } else {
+                String::new()
+            };
             writeln!(
                 ctx.out,
-                "{}{} incident{}, {} reference record{} ({} already present){}",
+                "{} {incidents}{} reference record{} ({} already present){}",
                 if sum.dry_run {
-                    "would import "
+                    "would import"
                 } else {
-                    "imported "
+                    "imported"
                 },
-                sum.incidents,
-                if sum.incidents == 1 { "" } else { "s" },
                 sum.reference_records,
                 if sum.reference_records == 1 { "" } else { "s" },
                 sum.already_present,
@@ -233,12 +259,6 @@ pub fn import(args: ImportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             rej.to_string().trim_end()
         ))),
     }
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
-pub enum ExportFormat {
-    Csv,
-    Json,
 }
 
 #[derive(Debug, clap::Args)]
