@@ -342,61 +342,14 @@ fn the_bench_role_cannot_change_or_delete_fleet_history() {
 /// Rewrite a bench's history the way someone with the file and plain SQL could: change the
 /// actor of audit row `seq`, then re-hash every row from there so the chain is whole again.
 pub(crate) fn rewrite_history(db: &Path, seq: i64) {
-    use shardlog::store::canon::AuditRow;
     let c = rusqlite::Connection::open(db).unwrap();
     c.execute(
         "UPDATE audit SET actor = 'someone else' WHERE seq = ?1",
         [seq],
     )
     .unwrap();
-    let mut prev: String = c
-        .query_row("SELECT prev_hash FROM audit WHERE seq = ?1", [seq], |r| {
-            r.get(0)
-        })
-        .unwrap();
-    type Row = (
-        i64,
-        String,
-        String,
-        String,
-        String,
-        String,
-        Option<String>,
-        Option<String>,
-    );
-    let rows: Vec<Row> = c
-        .prepare("SELECT seq, at, actor, entity, entity_id, op, before, after FROM audit WHERE seq >= ?1 ORDER BY seq")
-        .unwrap()
-        .query_map([seq], |r| {
-            Ok((r.get(0)?, r.get(1)?, r.get(2)?, r.get(3)?, r.get(4)?, r.get(5)?, r.get(6)?, r.get(7)?))
-        })
-        .unwrap()
-        .collect::<Result<_, _>>()
-        .unwrap();
-    for (s, at, actor, entity, entity_id, op, before, after) in rows {
-        let row = AuditRow {
-            seq: s,
-            at: &at,
-            actor: &actor,
-            entity: &entity,
-            entity_id: &entity_id,
-            op: &op,
-            before: before.as_deref(),
-            after: after.as_deref(),
-        };
-        let hash = row.hash(&prev);
-        c.execute(
-            "UPDATE audit SET prev_hash = ?1, hash = ?2 WHERE seq = ?3",
-            rusqlite::params![prev, hash, s],
-        )
-        .unwrap();
-        prev = hash;
-    }
-    c.execute(
-        "UPDATE meta SET value = ?1 WHERE key = 'audit_head_hash'",
-        [&prev],
-    )
-    .unwrap();
+    drop(c);
+    crate::support::audit::rechain(db, seq);
 }
 
 /// A new incident at a bench, through the store (its audit row goes with it).

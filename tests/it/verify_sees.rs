@@ -6,7 +6,8 @@
 
 use std::path::{Path, PathBuf};
 
-use crate::witness::{incident, rechain, rewrite_history, run, stamp};
+use crate::support::audit::rechain;
+use crate::witness::{incident, rewrite_history, run, stamp};
 use shardlog::store::*;
 
 /// A database with three incidents, the second with a computed result.

@@ -122,18 +122,6 @@ fn dispute(b: &Bench, db: &Path, keys: &Path, name: &str) -> PathBuf {
     out
 }
 
-/// An audit row as text: seq, at, actor, entity, entity id, op, before, after.
-type AuditRowText = (
-    i64,
-    String,
-    String,
-    String,
-    String,
-    String,
-    Option<String>,
-    Option<String>,
-);
-
 /// The attack an opposing party can make on the file: change a reading and a cause with
 /// plain SQL, write the incident's new image into its last audit row, recompute every hash
 /// from there on (SHA-256 over the previous hash and the row's canonical text, as
@@ -171,62 +159,7 @@ pub(crate) fn rewrite_history(db: &Path, reference: &str) {
     )
     .unwrap();
     drop(c);
-    rechain(db, from);
-}
-
-/// Recompute every audit hash from entry `from` on, and store the new head: what a
-/// careful forger does after changing a row.
-pub(crate) fn rechain(db: &Path, from: i64) {
-    let c = rusqlite::Connection::open(db).unwrap();
-    let mut prev: String = c
-        .query_row("SELECT prev_hash FROM audit WHERE seq = ?1", [from], |r| {
-            r.get(0)
-        })
-        .unwrap();
-    let rows: Vec<AuditRowText> = {
-        let mut st = c
-            .prepare("SELECT seq, at, actor, entity, entity_id, op, before, after FROM audit WHERE seq >= ?1 ORDER BY seq")
-            .unwrap();
-        st.query_map([from], |r| {
-            Ok((
-                r.get(0)?,
-                r.get(1)?,
-                r.get(2)?,
-                r.get(3)?,
-                r.get(4)?,
-                r.get(5)?,
-                r.get(6)?,
-                r.get(7)?,
-            ))
-        })
-        .unwrap()
-        .collect::<Result<_, _>>()
-        .unwrap()
-    };
-    for (seq, at, actor, entity, entity_id, op, before, after) in rows {
-        let row = canon::AuditRow {
-            seq,
-            at: &at,
-            actor: &actor,
-            entity: &entity,
-            entity_id: &entity_id,
-            op: &op,
-            before: before.as_deref(),
-            after: after.as_deref(),
-        };
-        let hash = row.hash(&prev);
-        c.execute(
-            "UPDATE audit SET prev_hash = ?1, hash = ?2 WHERE seq = ?3",
-            rusqlite::params![prev, hash, seq],
-        )
-        .unwrap();
-        prev = hash;
-    }
-    c.execute(
-        "UPDATE meta SET value = ?1 WHERE key = 'audit_head_hash'",
-        [&prev],
-    )
-    .unwrap();
+    crate::support::audit::rechain(db, from);
 }
 
 #[test]
