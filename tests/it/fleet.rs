@@ -284,14 +284,14 @@ fn pivotal_table_meets_the_large_sample_limit() {
     let mean_q = 1.0 / row.unbiasing;
     // standard normal quantiles at 0.025, 0.05, 0.95, 0.975
     let z = [-1.959_964, -1.644_854, 1.644_854, 1.959_964];
-    for i in 0..4 {
-        let q = mean_q + z[i] * sd_q;
+    for (i, zi) in z.iter().enumerate() {
+        let q = mean_q + zi * sd_q;
         assert!(
             (row.q[i] / q - 1.0).abs() < 0.01,
             "q[{i}] {} against the normal limit {q}",
             row.q[i]
         );
-        let t = z[i] * sd_t;
+        let t = zi * sd_t;
         assert!(
             (row.t[i] / t - 1.0).abs() < 0.02,
             "t[{i}] {} against the normal limit {t}",
