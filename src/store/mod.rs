@@ -161,6 +161,8 @@ pub struct Store {
     pub(crate) lookups: LookupSet,
     /// Told how far long work (import, verify, backup) has come.
     progress: progress::ProgressSlot,
+    /// Imports of more incidents than this take the bulk path.
+    bulk_import_above: usize,
 }
 
 /// The fixed time and actor of audit rows written by migrations (seeded lookup entries).
@@ -297,6 +299,7 @@ impl Store {
             ids: IdGen::new(seed),
             lookups: LookupSet::default(),
             progress: progress::ProgressSlot::default(),
+            bulk_import_above: exchange::BULK_IMPORT_ABOVE,
         }
     }
 

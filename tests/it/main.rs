@@ -16,6 +16,7 @@ mod fleet_sync;
 mod found_bugs;
 mod fuzz_regressions;
 mod hostile;
+mod import_bulk;
 mod import_onepass;
 mod intake_files;
 mod intake_import;

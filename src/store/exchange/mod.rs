@@ -12,6 +12,7 @@ use serde::{Deserialize, Serialize};
 use super::model::*;
 
 mod admission;
+mod bulk_import;
 mod csv;
 mod export;
 mod exposure;
@@ -19,6 +20,7 @@ mod import;
 mod json;
 mod onepass;
 
+pub use bulk_import::BULK_IMPORT_ABOVE;
 pub use csv::{csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS};
 pub use export::Damaged;
 pub use exposure::{exposure_csv_row, EXPOSURE_COLUMNS};

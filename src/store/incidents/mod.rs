@@ -91,7 +91,7 @@ mod write;
 
 pub(crate) use children::for_each_incident;
 pub(crate) use children::for_each_readable_incident;
-pub(crate) use facts::{fill_fleet_facts, fleet_facts_problems};
+pub(crate) use facts::{fill_fleet_facts, fill_fleet_facts_after, fleet_facts_problems};
 pub(crate) use read::load;
 pub(crate) use refs::{RefCache, Refs};
 pub(crate) use validate::validate;
