@@ -58,6 +58,7 @@ fn check_incidents(
     let total = Some(total.max(0) as u64);
     let mut done = 0u64;
     let mut unreadable = Vec::new();
+    let mut unreadable_ids = Vec::new();
     incidents::for_each_readable_incident(
         conn,
         |inc, derived_ok| {
@@ -82,7 +83,8 @@ fn check_incidents(
             }
             Ok(())
         },
-        |reference, why| {
+        |id, reference, why| {
+            unreadable_ids.push(id);
             unreadable.push(format!(
                 "incident {reference}: damaged, its row cannot be read ({why}); the other records were checked"
             ));
@@ -90,7 +92,11 @@ fn check_incidents(
         },
     )?;
     for m in unreadable {
-        v.problem(m);
+        v.damaged(m);
+    }
+    // there, though not comparable: not also called missing
+    for id in unreadable_ids {
+        v.mark_seen(INCIDENT, &id);
     }
     if let Some(r) = bad_derived {
         for _ in 0..n_bad {

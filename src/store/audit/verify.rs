@@ -59,6 +59,7 @@ impl Verification {
                 head: GENESIS.to_string(),
                 first_problem: None,
                 problems: 0,
+                damaged: Vec::new(),
             },
             entities: Entities::default(),
             last: HashMap::new(),
@@ -213,6 +214,23 @@ impl Verification {
             self.report.first_problem = Some(msg);
         }
         self.report.problems += 1;
+    }
+
+    /// A record that cannot be read: a problem, and listed by itself.
+    pub(crate) fn damaged(&mut self, msg: String) {
+        self.report.damaged.push(msg.clone());
+        self.problem(msg);
+    }
+
+    /// A record that is there but cannot be compared (it cannot be read): not missing.
+    pub(crate) fn mark_seen(&mut self, entity: &str, id: &str) {
+        if let Some(l) = self
+            .entities
+            .existing_key(entity, id)
+            .and_then(|k| self.last.get_mut(&k))
+        {
+            l.seen = true;
+        }
     }
 
     /// Count one more record checked (one whose check is not [`Verification::check_record`]).
