@@ -241,6 +241,17 @@ impl Verification {
     /// Compare a record as it is stored (`image`, canonical) with its last audited image.
     /// `shown` names it in a message.
     pub(crate) fn check_record(&mut self, entity: &str, id: &str, shown: &str, image: &str) {
+        self.check_record_digest(entity, id, shown, digest(image));
+    }
+
+    /// [`Verification::check_record`] of an image already hashed ([`digest`]).
+    pub(crate) fn check_record_digest(
+        &mut self,
+        entity: &str,
+        id: &str,
+        shown: &str,
+        image_digest: [u8; 16],
+    ) {
         self.report.records_checked += 1;
         let last = self
             .entities
@@ -252,7 +263,7 @@ impl Verification {
                 l.seen = true;
                 match l.digest {
                     None => Some(format!("{entity} {shown}: present in the records although the audit log says it was deleted")),
-                    Some(d) if d != digest(image) => Some(format!("{entity} {shown}: differs from its last audited version (changed behind shardlog's back)")),
+                    Some(d) if d != image_digest => Some(format!("{entity} {shown}: differs from its last audited version (changed behind shardlog's back)")),
                     Some(_) => None,
                 }
             }

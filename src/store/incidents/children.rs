@@ -24,10 +24,11 @@ struct ChildScan<'s, T> {
 impl<'s, T> ChildScan<'s, T> {
     fn new(
         stmt: &'s mut rusqlite::Statement<'_>,
+        range: (i64, i64),
         read: fn(&rusqlite::Row<'_>) -> rusqlite::Result<(i64, T)>,
     ) -> Result<Self, StoreError> {
         let mut scan = ChildScan {
-            rows: stmt.query([])?,
+            rows: stmt.query([range.0, range.1])?,
             next: None,
             read,
         };
@@ -84,7 +85,7 @@ pub(crate) fn for_each_incident(
     conn: &Connection,
     f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
 ) -> Result<(), StoreError> {
-    for_each_readable_incident(conn, f, |_, reference, why| {
+    for_each_readable_incident(conn, (i64::MIN, i64::MAX), f, |_, reference, why| {
         Err(StoreError::Database(format!(
             "incident {reference} cannot be read: {why}"
         )))
@@ -93,9 +94,10 @@ pub(crate) fn for_each_incident(
 
 /// [`for_each_incident`], handing an incident whose row or one of whose child rows cannot be
 /// read (a date or time that is not one) to `damaged` with its id, reference and why, and
-/// going on with the others.
+/// going on with the others. Only the incidents whose seq is in `range` (both ends in).
 pub(crate) fn for_each_readable_incident(
     conn: &Connection,
+    range: (i64, i64),
     mut f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
     mut damaged: impl FnMut(String, String, String) -> Result<(), StoreError>,
 ) -> Result<(), StoreError> {
@@ -121,72 +123,72 @@ pub(crate) fn for_each_readable_incident(
                 i.fragment_count, i.origin_location, i.tension_face, i.cause_category, i.cause_factors,
                 i.cause_confidence, i.cause_responsibility, i.cause_note, i.status, i.description, i.notes,
                 i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper
-         FROM incidents i ORDER BY i.seq",
+         FROM incidents i WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq",
     )?;
     let mut plies = conn.prepare(concat!(
         "SELECT ",
         ply_cols!(),
         ", i.seq, p.ply_no FROM incidents i JOIN plies p ON p.incident_id = i.id
-         ORDER BY i.seq, p.ply_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, p.ply_no"
     ))?;
     let mut exams = conn.prepare(concat!(
         "SELECT ",
         exam_cols!(),
         ", i.seq FROM incidents i JOIN examinations e ON e.incident_id = i.id
-         ORDER BY i.seq, e.exam_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no"
     ))?;
     let mut readings = conn.prepare(concat!(
         "SELECT ",
         reading_cols!(),
         ", i.seq, e.id, m.reading_no FROM incidents i JOIN examinations e ON e.incident_id = i.id
          JOIN mirror_readings m ON m.examination_id = e.id
-         ORDER BY i.seq, e.exam_no, m.reading_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no, m.reading_no"
     ))?;
     let mut results = conn.prepare(concat!(
         "SELECT ",
         result_cols!(),
         ", i.seq, e.id FROM incidents i JOIN examinations e ON e.incident_id = i.id
          JOIN results r ON r.examination_id = e.id
-         ORDER BY i.seq, e.exam_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no"
     ))?;
     let mut custody = conn.prepare(concat!(
         "SELECT ",
         custody_cols!(),
         ", i.seq FROM incidents i JOIN custody c ON c.incident_id = i.id
-         ORDER BY i.seq, c.entry_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, c.entry_no"
     ))?;
     let mut attachments = conn.prepare(concat!(
         "SELECT ",
         attachment_cols!(),
         ", i.seq FROM incidents i JOIN attachments t ON t.incident_id = i.id
-         ORDER BY i.seq, t.entry_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, t.entry_no"
     ))?;
     // every scan starts before any is stepped to its end, so they share one read snapshot
-    let mut rows = incidents.query([])?;
+    let mut rows = incidents.query([range.0, range.1])?;
     // each child decoded, or the message that names the row and field it cannot read
-    let mut plies = ChildScan::new(&mut plies, |r| {
+    let mut plies = ChildScan::new(&mut plies, range, |r| {
         let row = || format!("ply {}", number_at(r, 6));
         Ok((r.get(5)?, decode(r, "plies", row, ply_row)?))
     })?;
-    let mut exams = ChildScan::new(&mut exams, |r| {
+    let mut exams = ChildScan::new(&mut exams, range, |r| {
         let row = || format!("id {}", text_at(r, 0));
         Ok((r.get(14)?, decode(r, "examinations", row, exam_row)?))
     })?;
-    let mut readings = ChildScan::new(&mut readings, |r| {
+    let mut readings = ChildScan::new(&mut readings, range, |r| {
         let row = || format!("examination {}, reading {}", text_at(r, 8), number_at(r, 9));
         let m = decode(r, "mirror_readings", row, reading_row)?;
         Ok((r.get(7)?, (r.get::<_, String>(8)?, m)))
     })?;
-    let mut results = ChildScan::new(&mut results, |r| {
+    let mut results = ChildScan::new(&mut results, range, |r| {
         let row = || format!("examination {}", text_at(r, 11));
         let res = decode(r, "results", row, result_row)?;
         Ok((r.get(10)?, (r.get::<_, String>(11)?, res)))
     })?;
-    let mut custody = ChildScan::new(&mut custody, |r| {
+    let mut custody = ChildScan::new(&mut custody, range, |r| {
         let row = || format!("id {}", text_at(r, 0));
         Ok((r.get(6)?, decode(r, "custody", row, custody_row)?))
     })?;
-    let mut attachments = ChildScan::new(&mut attachments, |r| {
+    let mut attachments = ChildScan::new(&mut attachments, range, |r| {
         let row = || format!("id {}", text_at(r, 0));
         Ok((r.get(7)?, decode(r, "attachments", row, attachment_row)?))
     })?;
