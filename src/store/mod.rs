@@ -67,6 +67,7 @@ pub mod safe_file;
 pub mod signing;
 mod sqlite;
 mod verify;
+mod verify_scan;
 
 pub use files::{
     file_mode, make_dir_private, remove_stale_partials, sync_dir, temporary_sibling,

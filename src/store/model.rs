@@ -615,6 +615,10 @@ pub struct VerifyReport {
     pub first_problem: Option<String>,
     /// How many problems were found in all.
     pub problems: u64,
+    /// Each record that could not be read (damaged), named by its table, row and field; the
+    /// others were checked. Also counted in `problems`.
+    #[serde(default)]
+    pub damaged: Vec<String>,
 }
 
 impl VerifyReport {

@@ -6,6 +6,8 @@ mod architecture;
 mod calibrate;
 mod concurrent;
 mod crash;
+mod damaged_rows;
+mod export_witness;
 mod exposure_cli;
 mod faults;
 mod filter_codes;

@@ -230,13 +230,18 @@ pub fn csv_header() -> String {
 
 /// Split CSV text into records of fields, each with the line it starts on.
 pub(super) fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
+    csv_records_from(text, 1)
+}
+
+/// [`csv_records`] of text that starts on line `first_line` of its file.
+fn csv_records_from(text: &str, first_line: usize) -> Result<Vec<(usize, Vec<String>)>, Problem> {
     // A byte scanner: every character that ends a run (quote, comma, CR, LF) is ASCII, so
     // the runs between them are copied as whole slices on character boundaries.
     let mut records = Vec::new();
     let mut field = String::new();
     let mut record: Vec<String> = Vec::new();
-    let mut line = 1usize;
-    let mut start_line = 1usize;
+    let mut line = first_line;
+    let mut start_line = first_line;
     let mut in_quotes = false;
     let b = text.as_bytes();
     let mut i = 0usize;
@@ -340,12 +345,17 @@ pub fn parse_csv_all(
             format!("is empty; expected a header line: {}", csv_header()),
         )]);
     }
-    let records = csv_records(text).map_err(|e| vec![e])?;
+    // a signed export's first line (its signed audit head, checked by `verify --export`)
+    let records = match super::witness::split_csv_signed_line(text) {
+        Some((_, body)) => csv_records_from(body, 2),
+        None => csv_records(text),
+    }
+    .map_err(|e| vec![e])?;
     let mut iter = records.into_iter();
-    let Some((_, header)) = iter.next() else {
+    let Some((header_line, header)) = iter.next() else {
         return Err(vec![Problem::new("file", "is empty")]);
     };
-    let columns = read_header(&header)?;
+    let columns = read_header(&header, header_line)?;
     let width = header.len();
     let mut problems = Vec::new();
     let mut out = Vec::with_capacity(iter.len());
@@ -380,7 +390,10 @@ pub fn parse_csv_all(
 }
 
 /// The header line: each known column's position, or every problem with it.
-fn read_header(header: &[String]) -> Result<HashMap<&'static str, usize>, Vec<Problem>> {
+fn read_header(
+    header: &[String],
+    line: usize,
+) -> Result<HashMap<&'static str, usize>, Vec<Problem>> {
     let mut problems = Vec::new();
     let mut columns: HashMap<&'static str, usize> = HashMap::new();
     for (i, h) in header.iter().enumerate() {
@@ -389,13 +402,13 @@ fn read_header(header: &[String]) -> Result<HashMap<&'static str, usize>, Vec<Pr
             Some(c) => {
                 if columns.insert(c, i).is_some() {
                     problems.push(Problem::new(
-                        format!("line 1, column {}", i + 1),
+                        format!("line {line}, column {}", i + 1),
                         format!("column \"{h}\" appears twice"),
                     ));
                 }
             }
             None => problems.push(Problem::new(
-                format!("line 1, column {}", i + 1),
+                format!("line {line}, column {}", i + 1),
                 format!(
                     "unknown column \"{h}\"; the columns are: {}",
                     CSV_COLUMNS.join(", ")
@@ -405,7 +418,7 @@ fn read_header(header: &[String]) -> Result<HashMap<&'static str, usize>, Vec<Pr
     }
     if !columns.contains_key("found_on") {
         problems.push(Problem::new(
-            "line 1",
+            format!("line {line}"),
             "the column \"found_on\" is required",
         ));
     }

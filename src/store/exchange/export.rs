@@ -74,6 +74,7 @@ impl Store {
             lots: self.lots(None, None)?,
             exposure: self.exposure()?,
             incidents,
+            signed_head: None,
         };
         Ok((doc, damaged))
     }

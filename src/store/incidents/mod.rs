@@ -80,6 +80,7 @@ macro_rules! attachment_cols {
 
 mod as_of;
 mod children;
+mod damage;
 mod facts;
 mod history;
 mod list;

@@ -3,6 +3,7 @@
 use chrono::NaiveDate;
 use rusqlite::{Connection, OptionalExtension};
 
+use super::damage::{decode, number_at, text_at};
 use super::Derived;
 use crate::store::dates::{parse_date, parse_time};
 use crate::store::model::*;
@@ -259,39 +260,62 @@ pub(super) fn attachment_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Attachme
     })
 }
 
+/// The values of a child query, or the first row that cannot be read, as the damage of the
+/// incident (named by table, row and field).
+fn all_read<T>(
+    rows: impl Iterator<Item = rusqlite::Result<Result<T, String>>>,
+) -> Result<Vec<T>, StoreError> {
+    let mut out = Vec::new();
+    for r in rows {
+        out.push(r?.map_err(StoreError::Database)?);
+    }
+    Ok(out)
+}
+
 fn load_children(conn: &Connection, inc: &mut Incident) -> Result<(), StoreError> {
     let mut stmt = conn.prepare_cached(concat!(
         "SELECT ",
         ply_cols!(),
-        " FROM plies p WHERE p.incident_id = ?1 ORDER BY p.ply_no"
+        ", p.ply_no FROM plies p WHERE p.incident_id = ?1 ORDER BY p.ply_no"
     ))?;
-    inc.glass.plies = stmt
-        .query_map([&inc.id], ply_row)?
-        .collect::<Result<_, _>>()?;
+    inc.glass.plies = all_read(stmt.query_map([&inc.id], |r| {
+        decode(r, "plies", || format!("ply {}", number_at(r, 5)), ply_row)
+    })?)?;
 
     let mut stmt = conn.prepare_cached(concat!(
         "SELECT ",
         exam_cols!(),
         " FROM examinations e WHERE e.incident_id = ?1 ORDER BY e.exam_no"
     ))?;
-    inc.examinations = stmt
-        .query_map([&inc.id], exam_row)?
-        .collect::<Result<_, _>>()?;
+    inc.examinations = all_read(stmt.query_map([&inc.id], |r| {
+        decode(
+            r,
+            "examinations",
+            || format!("id {}", text_at(r, 0)),
+            exam_row,
+        )
+    })?)?;
     for e in &mut inc.examinations {
         let mut stmt = conn.prepare_cached(concat!(
             "SELECT ",
             reading_cols!(),
-            " FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
+            ", m.reading_no FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
         ))?;
-        e.readings = stmt
-            .query_map([&e.id], reading_row)?
-            .collect::<Result<_, _>>()?;
+        let exam = e.id.clone();
+        e.readings = all_read(stmt.query_map([&e.id], |r| {
+            let row = || format!("examination {exam}, reading {}", number_at(r, 7));
+            decode(r, "mirror_readings", row, reading_row)
+        })?)?;
         let mut stmt = conn.prepare_cached(concat!(
             "SELECT ",
             result_cols!(),
             " FROM results r WHERE r.examination_id = ?1"
         ))?;
-        e.result = stmt.query_row([&e.id], result_row).optional()?;
+        e.result = all_read(stmt.query_map([&e.id], |r| {
+            decode(r, "results", || format!("examination {exam}"), result_row)
+        })?)?
+        .into_iter()
+        .next();
     }
 
     let mut stmt = conn.prepare_cached(concat!(
@@ -299,17 +323,27 @@ fn load_children(conn: &Connection, inc: &mut Incident) -> Result<(), StoreError
         custody_cols!(),
         " FROM custody c WHERE c.incident_id = ?1 ORDER BY c.entry_no"
     ))?;
-    inc.custody = stmt
-        .query_map([&inc.id], custody_row)?
-        .collect::<Result<_, _>>()?;
+    inc.custody = all_read(stmt.query_map([&inc.id], |r| {
+        decode(
+            r,
+            "custody",
+            || format!("id {}", text_at(r, 0)),
+            custody_row,
+        )
+    })?)?;
     let mut stmt = conn.prepare_cached(concat!(
         "SELECT ",
         attachment_cols!(),
         " FROM attachments t WHERE t.incident_id = ?1 ORDER BY t.entry_no"
     ))?;
-    inc.attachments = stmt
-        .query_map([&inc.id], attachment_row)?
-        .collect::<Result<_, _>>()?;
+    inc.attachments = all_read(stmt.query_map([&inc.id], |r| {
+        decode(
+            r,
+            "attachments",
+            || format!("id {}", text_at(r, 0)),
+            attachment_row,
+        )
+    })?)?;
     Ok(())
 }
 
