@@ -45,7 +45,7 @@ pub struct Cli {
 pub enum Command {
     /// Back-calculate stress and flaw size from fracture-mirror readings.
     Mirror(mirror::MirrorArgs),
-    /// List the material library.
+    /// The material library and the lab's own materials: list, show, add, edit.
     Materials(materials::MaterialsArgs),
     /// Service-load hypotheses: impact, plate, thermal, critical-flaw.
     Load(load::LoadArgs),

@@ -25,6 +25,9 @@ pub enum Provenance {
     FromMemory { note: String },
     /// Given by the user (an in-house calibration, a value typed for one calculation).
     User { note: String },
+    /// Fitted by `calibrate` from a lab's own specimens: what, by whom, from how many, when
+    /// (`note`), and the SHA-256 of the data file it was fitted from.
+    Calibrated { note: String, sha256: String },
 }
 
 impl Provenance {
@@ -35,6 +38,7 @@ impl Provenance {
             Provenance::CommonPractice { .. } => "common practice",
             Provenance::FromMemory { .. } => "from memory",
             Provenance::User { .. } => "user",
+            Provenance::Calibrated { .. } => "calibrated",
         }
     }
 
@@ -44,7 +48,8 @@ impl Provenance {
             Provenance::Published { source } => source,
             Provenance::CommonPractice { note }
             | Provenance::FromMemory { note }
-            | Provenance::User { note } => note,
+            | Provenance::User { note }
+            | Provenance::Calibrated { note, .. } => note,
         }
     }
 }
@@ -52,10 +57,14 @@ impl Provenance {
 impl fmt::Display for Provenance {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         if self.text().is_empty() {
-            f.write_str(self.mark())
+            f.write_str(self.mark())?;
         } else {
-            write!(f, "{}: {}", self.mark(), self.text())
+            write!(f, "{}: {}", self.mark(), self.text())?;
         }
+        if let Provenance::Calibrated { sha256, .. } = self {
+            write!(f, "; data SHA-256 {sha256}")?;
+        }
+        Ok(())
     }
 }
 
@@ -365,17 +374,45 @@ pub fn library() -> Vec<Material> {
     ]
 }
 
-/// Look a material up by key (case-insensitive; `_` and spaces read as `-`).
-pub fn find(key: &str) -> Option<Material> {
-    let want: String = key
-        .trim()
+/// A key as compared: trimmed, lower case, `_` and spaces read as `-`.
+pub fn normal_key(key: &str) -> String {
+    key.trim()
         .chars()
         .map(|c| match c {
             '_' | ' ' => '-',
             c => c.to_ascii_lowercase(),
         })
-        .collect();
+        .collect()
+}
+
+/// Look a material up by key (case-insensitive; `_` and spaces read as `-`).
+pub fn find(key: &str) -> Option<Material> {
+    let want = normal_key(key);
     library().into_iter().find(|m| m.key == want)
+}
+
+/// Look a material up in the library, then among a lab's own materials (`own`), by the same
+/// rule as [`find`]. Codes are unique across both, so the order only matters for a code that
+/// is not.
+pub fn find_in(own: &[Material], key: &str) -> Option<Material> {
+    find(key).or_else(|| {
+        let want = normal_key(key);
+        own.iter().find(|m| normal_key(&m.key) == want).cloned()
+    })
+}
+
+/// The constants of a material, with their symbols, in the order tables show them.
+pub fn constants(m: &Material) -> [(&'static str, &Option<Constant>); 8] {
+    [
+        ("A_i", &m.a_i),
+        ("A_o", &m.a_o),
+        ("A_b", &m.a_b),
+        ("K_Ic", &m.k_ic),
+        ("E", &m.youngs_modulus),
+        ("ν", &m.poisson),
+        ("α", &m.expansion),
+        ("ρ", &m.density),
+    ]
 }
 
 /// The keys of the library, for error messages.
@@ -397,6 +434,33 @@ mod tests {
         }
         assert!(find("Soda_Lime").is_some());
         assert!(find("unobtainium").is_none());
+        let mut own = find("soda-lime").unwrap();
+        own.key = "lab_float".into();
+        assert_eq!(find_in(&[own.clone()], "Lab-Float"), Some(own.clone()));
+        assert_eq!(
+            find_in(&[own], "soda_lime").map(|m| m.key),
+            Some("soda-lime".into())
+        );
+    }
+
+    #[test]
+    fn calibrated_provenance_names_its_data() {
+        let p = Provenance::Calibrated {
+            note: "calibrated by Tarn Lab from 12 specimens on 2026-11-30".into(),
+            sha256: "ab".repeat(32),
+        };
+        assert_eq!(p.mark(), "calibrated");
+        let shown = p.to_string();
+        assert!(
+            shown.starts_with("calibrated: calibrated by Tarn Lab from 12"),
+            "{shown}"
+        );
+        assert!(
+            shown.ends_with(&format!("data SHA-256 {}", "ab".repeat(32))),
+            "{shown}"
+        );
+        let json = serde_json::to_string(&p).unwrap();
+        assert_eq!(serde_json::from_str::<Provenance>(&json).unwrap(), p);
     }
 
     #[test]
