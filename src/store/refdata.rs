@@ -262,7 +262,6 @@ pub(crate) fn all_images(
     for e in load_exposure(conn)? {
         out.push((EXPOSURE, e.id.clone(), e.id.clone(), canon::canonical(&e)?));
     }
-    out.extend(super::own_materials::images(conn)?);
     Ok(out)
 }
 

@@ -23,7 +23,8 @@ impl Store {
             let key = refdata::lookup_key(&e);
             v.check_record(refdata::LOOKUP, &key, &key, &img);
         }
-        for (entity, id, shown, img) in refdata::all_images(&self.conn)? {
+        let own = super::own_materials::images(&self.conn)?;
+        for (entity, id, shown, img) in refdata::all_images(&self.conn)?.into_iter().chain(own) {
             v.check_record(entity, &id, &shown, &img);
         }
         let book = self.material_book()?;

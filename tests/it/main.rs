@@ -21,6 +21,7 @@ mod intake_files;
 mod intake_import;
 mod loads;
 mod lookups_cli;
+mod materials_cli;
 mod mirror_cli;
 mod packaging;
 mod plausibility;
