@@ -13,6 +13,7 @@ use clap::{Parser, Subcommand};
 
 pub mod attach;
 pub mod calibrate;
+mod calibrate_save;
 pub mod codes;
 pub mod exposure;
 pub mod fleet;
