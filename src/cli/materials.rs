@@ -11,7 +11,7 @@ use super::{pad_right_with_gap, CliError, Context};
 use crate::store::{MaterialBook, OwnMaterial, StoreError};
 use shardlog_core::fracture::materials::{self, Constant, Material, Provenance};
 use shardlog_core::text::clean;
-use shardlog_core::units::{self, fmt_sig, Dimension, Unit, UnitError};
+use shardlog_core::units::{fmt_sig, Unit};
 
 #[derive(Debug, Clone, Default, clap::Args)]
 pub struct MaterialsArgs {
@@ -124,80 +124,7 @@ pub enum YesNo {
     No,
 }
 
-/// How one constant is typed: its flag, how its text is read, its display unit.
-#[derive(Clone, Copy)]
-pub enum Kind {
-    Toughness,
-    Modulus,
-    Ratio,
-    Expansion,
-    Density,
-}
-
-impl Kind {
-    pub fn parse(self, text: &str) -> Result<f64, UnitError> {
-        match self {
-            Kind::Toughness => units::parse_positive(text, Dimension::Toughness),
-            Kind::Modulus => units::parse_positive(text, Dimension::Stress),
-            Kind::Ratio => units::parse_poisson(text),
-            Kind::Expansion => units::parse_expansion(text),
-            Kind::Density => units::parse_density(text),
-        }
-    }
-
-    /// A spread: the same reading, zero or more.
-    fn parse_spread(self, text: &str) -> Result<f64, UnitError> {
-        let v = match self {
-            Kind::Density => units::parse_density(text),
-            Kind::Toughness => units::parse_non_negative(text, Dimension::Toughness),
-            Kind::Modulus => units::parse_non_negative(text, Dimension::Stress),
-            other => other.parse(text),
-        }?;
-        if v < 0.0 {
-            return Err(UnitError::Negative {
-                input: text.trim().to_string(),
-            });
-        }
-        Ok(v)
-    }
-
-    /// The value in its display unit, with the unit.
-    pub fn show(self, si: f64) -> String {
-        match self {
-            Kind::Toughness => units::format_sig(si, Unit::MegapascalRootMetre, 3),
-            Kind::Modulus => units::format_sig(si, Unit::Gigapascal, 3),
-            Kind::Ratio => fmt_sig(si, 3),
-            Kind::Expansion => format!("{} ppm/K", fmt_sig(si * 1e6, 3)),
-            Kind::Density => format!("{} kg/m³", fmt_sig(si, 4)),
-        }
-    }
-}
-
-/// The eight constants: symbol, flag, kind.
-pub const CONSTANTS: [(&str, &str, Kind); 8] = [
-    ("A_i", "a-i", Kind::Toughness),
-    ("A_o", "a-o", Kind::Toughness),
-    ("A_b", "a-b", Kind::Toughness),
-    ("K_Ic", "k-ic", Kind::Toughness),
-    ("E", "youngs-modulus", Kind::Modulus),
-    ("ν", "poisson", Kind::Ratio),
-    ("α", "expansion", Kind::Expansion),
-    ("ρ", "density", Kind::Density),
-];
-
-/// The slot of a material that holds the constant at `i` of [`CONSTANTS`].
-pub fn slot(m: &mut Material, i: usize) -> &mut Option<Constant> {
-    match i {
-        0 => &mut m.a_i,
-        1 => &mut m.a_o,
-        2 => &mut m.a_b,
-        3 => &mut m.k_ic,
-        4 => &mut m.youngs_modulus,
-        5 => &mut m.poisson,
-        6 => &mut m.expansion,
-        _ => &mut m.density,
-    }
-}
+pub use materials::{slot, Quantity as Kind, CONSTANTS};
 
 impl ConstantFlags {
     fn typed(&self) -> [(Option<&String>, Option<&String>); 8] {

@@ -13,6 +13,8 @@
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
+use crate::units::{self, Dimension, Unit, UnitError};
+
 /// Where a value comes from.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "kebab-case")]
@@ -418,6 +420,98 @@ pub fn constants(m: &Material) -> [(&'static str, &Option<Constant>); 8] {
 /// The keys of the library, for error messages.
 pub fn keys() -> Vec<String> {
     library().into_iter().map(|m| m.key).collect()
+}
+
+/// How a constant is typed and shown: the quantity it is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Quantity {
+    /// A mirror constant or K_Ic (Pa·√m).
+    Toughness,
+    /// Young's modulus (Pa).
+    Modulus,
+    /// Poisson's ratio (plain number).
+    Ratio,
+    /// Expansion coefficient (1/K).
+    Expansion,
+    /// Density (kg/m³).
+    Density,
+}
+
+impl Quantity {
+    /// Read a value as typed, with its unit, within its physical range.
+    pub fn parse(self, text: &str) -> Result<f64, UnitError> {
+        match self {
+            Quantity::Toughness => units::parse_positive(text, Dimension::Toughness),
+            Quantity::Modulus => units::parse_positive(text, Dimension::Stress),
+            Quantity::Ratio => units::parse_poisson(text),
+            Quantity::Expansion => units::parse_expansion(text),
+            Quantity::Density => units::parse_density(text),
+        }
+    }
+
+    /// Read a spread (one standard deviation): as a value, zero or more.
+    pub fn parse_spread(self, text: &str) -> Result<f64, UnitError> {
+        let v = match self {
+            Quantity::Toughness => units::parse_non_negative(text, Dimension::Toughness),
+            Quantity::Modulus => units::parse_non_negative(text, Dimension::Stress),
+            Quantity::Density => units::parse_density(text),
+            other => other.parse(text),
+        }?;
+        if v < 0.0 {
+            return Err(UnitError::Negative {
+                input: text.trim().to_string(),
+            });
+        }
+        Ok(v)
+    }
+
+    /// A value in its display unit, with the unit.
+    pub fn show(self, si: f64) -> String {
+        match self {
+            Quantity::Toughness => units::format_sig(si, Unit::MegapascalRootMetre, 3),
+            Quantity::Modulus => units::format_sig(si, Unit::Gigapascal, 3),
+            Quantity::Ratio => units::fmt_sig(si, 3),
+            Quantity::Expansion => format!("{} ppm/K", units::fmt_sig(si * 1e6, 3)),
+            Quantity::Density => format!("{} kg/m³", units::fmt_sig(si, 4)),
+        }
+    }
+
+    /// The value as it would be typed back (exact enough to read again the same).
+    pub fn typed(self, si: f64) -> String {
+        match self {
+            Quantity::Toughness => units::format_exact(si, Unit::MegapascalRootMetre),
+            Quantity::Modulus => units::format_exact(si, Unit::Gigapascal),
+            Quantity::Ratio => format!("{si}"),
+            Quantity::Expansion => format!("{} ppm/K", si * 1e6),
+            Quantity::Density => format!("{si} kg/m³"),
+        }
+    }
+}
+
+/// The eight constants in table order: symbol, flag name, quantity.
+pub const CONSTANTS: [(&str, &str, Quantity); 8] = [
+    ("A_i", "a-i", Quantity::Toughness),
+    ("A_o", "a-o", Quantity::Toughness),
+    ("A_b", "a-b", Quantity::Toughness),
+    ("K_Ic", "k-ic", Quantity::Toughness),
+    ("E", "youngs-modulus", Quantity::Modulus),
+    ("ν", "poisson", Quantity::Ratio),
+    ("α", "expansion", Quantity::Expansion),
+    ("ρ", "density", Quantity::Density),
+];
+
+/// The slot of a material that holds the constant at `i` of [`CONSTANTS`].
+pub fn slot(m: &mut Material, i: usize) -> &mut Option<Constant> {
+    match i {
+        0 => &mut m.a_i,
+        1 => &mut m.a_o,
+        2 => &mut m.a_b,
+        3 => &mut m.k_ic,
+        4 => &mut m.youngs_modulus,
+        5 => &mut m.poisson,
+        6 => &mut m.expansion,
+        _ => &mut m.density,
+    }
 }
 
 #[cfg(test)]
