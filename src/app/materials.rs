@@ -100,7 +100,7 @@ fn build_form(m: &Material, with_code: bool) -> Form {
     form.push_field(name);
     let mut copy = m.clone();
     for (i, key) in CONSTANT_KEYS.iter().enumerate() {
-        let mut f = Field::new(*key, field_label(i), FieldKind::Text { required: false })
+        let mut f = Field::new(key, field_label(i), FieldKind::Text { required: false })
             .with_hint("value with unit, ± spread; empty: none");
         f.set_text(&typed_constant(i, slot(&mut copy, i)));
         form.push_field(f);
