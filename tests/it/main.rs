@@ -43,6 +43,7 @@ mod terminal_output;
 mod tui;
 mod tui_bench;
 mod tui_loads;
+mod tui_materials;
 mod tui_pty;
 mod tui_review;
 mod tui_store;
