@@ -356,7 +356,15 @@ pub fn run(args: CalibrateArgs, ctx: &mut Context) -> Result<(), CliError> {
         write_table(ctx.out, &file, &breaks, &fits)?;
     }
     if let Some(code) = &args.save {
-        super::calibrate_save::save(code, &args, &breaks, &fits, ctx)?;
+        let req = super::calibrate_save::SaveRequest {
+            code,
+            from: args.from.as_deref(),
+            lab: args.lab.as_deref(),
+            accept_slope: args.accept_slope,
+            json: args.json,
+            sha256: &breaks.sha256,
+        };
+        super::calibrate_save::save(&req, &fits, ctx)?;
     }
     Ok(())
 }

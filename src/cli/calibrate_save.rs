@@ -3,7 +3,6 @@
 //! An own material is updated as its next revision; a new one is made from `--from`, a
 //! library material whose other constants it keeps.
 
-use super::calibrate::{Breaks, CalibrateArgs};
 use super::materials::slot;
 use super::records::{edge_stamp, open};
 use super::{CliError, Context};
@@ -55,13 +54,22 @@ fn constant(f: &BoundaryFit, lab: &str, on: chrono::NaiveDate, sha256: &str) -> 
 }
 
 /// Store the fits into the own material `code` and print what was saved.
+/// What `calibrate` was asked to save, and the file's digest.
+pub struct SaveRequest<'a> {
+    pub code: &'a str,
+    pub from: Option<&'a str>,
+    pub lab: Option<&'a str>,
+    pub accept_slope: bool,
+    pub json: bool,
+    pub sha256: &'a str,
+}
+
 pub fn save(
-    code: &str,
-    args: &CalibrateArgs,
-    breaks: &Breaks,
+    req: &SaveRequest<'_>,
     fits: &[BoundaryFit],
     ctx: &mut Context<'_>,
 ) -> Result<(), CliError> {
+    let code = req.code;
     if let Some(m) = materials::find(code) {
         return Err(CliError::usage(format!(
             "--save: {} is a library material and cannot be changed; save into a new code with --from {} (e.g. --save lab_{} --from {})",
@@ -76,7 +84,7 @@ pub fn save(
         .filter(|f| f.slope_flagged())
         .map(|f| f.boundary.label())
         .collect();
-    if !flagged.is_empty() && !args.accept_slope {
+    if !flagged.is_empty() && !req.accept_slope {
         return Err(CliError::work(format!(
             "--save: nothing was saved: the {} specimens do not follow σ = A/√R (slope not consistent with −½); check the boundaries read and the stresses, or save anyway with --accept-slope",
             flagged.join(" and ")
@@ -84,7 +92,7 @@ pub fn save(
     }
     let stamp = edge_stamp();
     let mut store = open(&ctx.db)?;
-    let lab = match &args.lab {
+    let lab = match req.lab {
         Some(l) => l.trim().to_string(),
         None => store
             .bench_code()
@@ -99,11 +107,11 @@ pub fn save(
     let on = stamp.at.date_naive();
     let apply = |m: &mut Material| {
         for f in fits {
-            *slot(m, slot_of(f.boundary)) = Some(constant(f, &lab, on, &breaks.sha256));
+            *slot(m, slot_of(f.boundary)) = Some(constant(f, &lab, on, req.sha256));
         }
     };
     let existing = store.own_material(code).map_err(refused)?;
-    let saved = match (existing, &args.from) {
+    let saved = match (existing, req.from) {
         (Some(_), Some(_)) => {
             return Err(CliError::usage(format!(
                 "--from: {code} exists already; --from names the library material a new own material is made from (leave it out to update {code})"
@@ -139,7 +147,7 @@ pub fn save(
     };
     // after --json's object, what was saved goes to stderr, so that stdout stays one object
     let mut stderr = std::io::stderr();
-    let out: &mut dyn std::io::Write = if args.json { &mut stderr } else { ctx.out };
+    let out: &mut dyn std::io::Write = if req.json { &mut stderr } else { ctx.out };
     for f in fits {
         writeln!(
             out,
