@@ -429,3 +429,38 @@ fn the_csv_import_computes_with_an_own_material_and_accepts_its_name() {
     }
     assert!(s.verify().unwrap().ok());
 }
+
+#[test]
+fn an_own_material_reaches_the_fleet_as_an_audited_record() {
+    use crate::fleet_sync::{demo_bench, sync_ok, TestFleet};
+    let cluster = crate::support::fleet::Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let db = demo_bench(dir.path(), "LARKSPUR", 2);
+    add_lab_float(&db);
+    let o = run(
+        &db,
+        &["materials", "edit", "lab_float", "--density", "2490 kg/m³"],
+    );
+    assert!(o.status.success(), "{}", text(&o));
+    sync_ok(&db, &fleet.bench_url());
+    let mut c = fleet.admin();
+    let rows = c
+        .query(
+            "SELECT image, origin FROM fleet_records WHERE entity = 'material'",
+            &[],
+        )
+        .unwrap();
+    assert_eq!(rows.len(), 1);
+    let image: String = rows[0].get(0);
+    let origin: String = rows[0].get(1);
+    assert_eq!(origin, "LARKSPUR");
+    let v: serde_json::Value = serde_json::from_str(&image).unwrap();
+    assert_eq!(v["code"], "lab_float");
+    assert_eq!(v["revision"], 2);
+    // both revisions are in the chain the fleet witnessed
+    assert_eq!(
+        fleet.count("SELECT count(*) FROM bench_chain WHERE entity = 'material'"),
+        2
+    );
+}
