@@ -72,6 +72,10 @@ pub struct BenchState {
     pub scroll_max: std::cell::Cell<u16>,
     /// The materials the pick-list offers: the library, then the database's own.
     pub materials: MaterialBook,
+    /// The constants a reopened examination was saved with, when it used an own material:
+    /// used while that material stays picked, so the figures are the saved ones even after
+    /// the material was changed.
+    pub saved_material: Option<materials::Material>,
 }
 
 /// The material pick-list's items: the library, then the own materials marked "own".
@@ -254,6 +258,7 @@ impl BenchState {
             scroll: 0,
             scroll_max: std::cell::Cell::new(u16::MAX),
             materials: MaterialBook::library_only(),
+            saved_material: None,
         };
         b.recompute();
         b
@@ -278,7 +283,11 @@ impl BenchState {
 
     /// The material picked, from the library or the own materials.
     pub fn material(&self) -> Option<materials::Material> {
-        self.materials.find(&self.form.text("material"))
+        let picked = self.form.text("material");
+        match &self.saved_material {
+            Some(m) if m.key == picked => Some(m.clone()),
+            _ => self.materials.find(&picked),
+        }
     }
 
     pub fn ctx(&self) -> Ctx {

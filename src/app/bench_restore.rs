@@ -95,6 +95,9 @@ impl BenchState {
     }
 
     fn restore_input(&mut self, input: &AnalysisInput, location: Option<OriginLocation>) {
+        if self.materials.own(&input.material.key).is_some() {
+            self.saved_material = Some(input.material.clone());
+        }
         self.choose("temper", input.temper.map(|t| t.key()).unwrap_or(""));
         if let Some(t) = input.thickness_m {
             self.set_text("thickness", &format_exact(t, Unit::Millimetre));
