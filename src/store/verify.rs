@@ -26,6 +26,8 @@ impl Store {
             false => None,
         };
         let head = verify_scan::head_seen(&self.conn)?;
+        let book = self.material_book()?;
+        let book = &book;
         let second = verify_scan::second_reader(self.path.as_deref(), &head);
         let total: i64 = self
             .conn
@@ -37,7 +39,7 @@ impl Store {
             let (first, second_half) = verify_scan::halves(&self.conn)?;
             let (tx, rx) = std::sync::mpsc::channel();
             let worker =
-                second.map(|c| scope.spawn(move || verify_scan::scan_to(c, second_half, tx)));
+                second.map(|c| scope.spawn(move || verify_scan::scan_to(c, second_half, book, tx)));
             let mine = if worker.is_some() {
                 first
             } else {
@@ -51,11 +53,13 @@ impl Store {
                 let key = refdata::lookup_key(&e);
                 v.check_record(refdata::LOOKUP, &key, &key, &img);
             }
-            for (entity, id, shown, img) in refdata::all_images(&self.conn)? {
+            let own = super::own_materials::images(&self.conn)?;
+            for (entity, id, shown, img) in refdata::all_images(&self.conn)?.into_iter().chain(own)
+            {
                 v.check_record(entity, &id, &shown, &img);
             }
             let mut merge = verify_scan::Merge::default();
-            verify_scan::scan(&self.conn, mine, |c| {
+            verify_scan::scan(&self.conn, mine, book, |c| {
                 merge.take(&mut v, c, &self.progress, total);
                 Ok(())
             })?;

@@ -43,6 +43,7 @@ pub(super) const ALL: (i64, i64) = (i64::MIN, i64::MAX);
 pub(super) fn scan(
     conn: &Connection,
     range: (i64, i64),
+    book: &super::MaterialBook,
     mut sink: impl FnMut(Checked) -> Result<(), StoreError>,
 ) -> Result<(), StoreError> {
     let mut damaged = Vec::new();
@@ -53,7 +54,7 @@ pub(super) fn scan(
             let img = canon::incident_image(&inc)?;
             let mut exams = Vec::new();
             for (n, exam) in inc.examinations.iter().enumerate() {
-                if let Some(why) = super::analysis::stored_result_differs(&inc, exam) {
+                if let Some(why) = super::analysis::stored_result_differs(&inc, exam, book) {
                     exams.push(format!(
                         "incident {}: examination {}: {why}",
                         inc.reference,
@@ -174,10 +175,11 @@ pub(super) fn second_reader(
 pub(super) fn scan_to(
     conn: Connection,
     range: (i64, i64),
+    book: &super::MaterialBook,
     tx: mpsc::Sender<Vec<Checked>>,
 ) -> Result<Vec<String>, StoreError> {
     let mut chunk = Vec::with_capacity(CHUNK);
-    scan(&conn, range, |c| {
+    scan(&conn, range, book, |c| {
         chunk.push(c);
         if chunk.len() == CHUNK {
             // a closed receiver means the other thread stopped on an error of its own

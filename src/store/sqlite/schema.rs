@@ -35,6 +35,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0006_lookup_retired.sql",
         include_str!("../../../schema/0006_lookup_retired.sql"),
     ),
+    (
+        "0007_own_materials.sql",
+        include_str!("../../../schema/0007_own_materials.sql"),
+    ),
 ];
 
 /// The migration that makes `incident_facts`; the store fills it from the incidents
