@@ -90,6 +90,10 @@ pub enum EditKind {
     Filter,
     /// Panes in service (from the review; no incident).
     Exposure,
+    /// A new entry of a lookup list.
+    LookupAdd(crate::store::model::LookupKind),
+    /// A new label for the highlighted entry of a lookup list.
+    LookupRename(crate::store::model::LookupKind),
 }
 
 /// A form open over an incident (or a new one).
@@ -117,6 +121,10 @@ impl EditState {
             EditKind::Attach => format!("Attach a file · {r}"),
             EditKind::Filter => "Filter the log".to_string(),
             EditKind::Exposure => "Panes in service (exposure)".to_string(),
+            EditKind::LookupAdd(k) => format!("Add to the {} list", k.as_str().replace('_', " ")),
+            EditKind::LookupRename(k) => {
+                format!("Rename in the {} list", k.as_str().replace('_', " "))
+            }
         }
     }
 }

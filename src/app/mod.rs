@@ -12,6 +12,7 @@ pub mod hypothesis;
 pub mod incident;
 pub mod key;
 pub mod log_view;
+pub mod lookups;
 pub mod picklist;
 pub mod review;
 pub mod text_input;
@@ -44,6 +45,8 @@ pub enum Screen {
     Bench,
     /// The fleet review: causes, months, stress, Weibull, groups with rates.
     Review,
+    /// The lookup lists a lab keeps (causes, origin types, custody events, statuses).
+    Lookups,
 }
 
 /// Which set of keys is active: the key table is keyed by this.
@@ -71,6 +74,8 @@ pub enum Ctx {
     Pick,
     /// The fleet review.
     Review,
+    /// The lookup lists.
+    Lookups,
 }
 
 impl Ctx {
@@ -84,7 +89,10 @@ impl Ctx {
 
     /// Whether the shared moving keys (Global) also apply.
     pub fn has_global(self) -> bool {
-        matches!(self, Ctx::Log | Ctx::Incident | Ctx::Review | Ctx::Global)
+        matches!(
+            self,
+            Ctx::Log | Ctx::Incident | Ctx::Review | Ctx::Lookups | Ctx::Global
+        )
     }
 }
 
@@ -144,6 +152,12 @@ pub enum Action {
     NextWindow,
     /// Review: per month for the whole fleet or for the highlighted group.
     ToggleGroupMonths,
+    /// Open the lookup lists.
+    OpenLookups,
+    /// Lookup lists: add an entry to the list shown.
+    AddEntry,
+    /// Lookup lists: retire the highlighted entry, or restore a retired one.
+    RetireOrRestore,
     /// The drawing area changed.
     Resize {
         width: u16,
@@ -216,6 +230,7 @@ pub struct App {
     pub bench: BenchState,
     pub bench_target: Option<BenchTarget>,
     pub review: ReviewState,
+    pub lookups: lookups::LookupsState,
     /// The log's filter before the review opened a group in it: Esc from that log goes back
     /// to the review, and leaving the review gives the log its own filter back.
     pub log_filter_before_review: Option<crate::store::model::Filter>,
@@ -296,6 +311,7 @@ impl App {
             bench: BenchState::new(),
             bench_target: None,
             review: ReviewState::new(),
+            lookups: lookups::LookupsState::default(),
             log_filter_before_review: None,
             width: 80,
             height: 24,
@@ -376,6 +392,7 @@ impl App {
                 .unwrap_or(Ctx::Global),
             Screen::Bench => self.bench.ctx(),
             Screen::Review => Ctx::Review,
+            Screen::Lookups => Ctx::Lookups,
         }
     }
 
@@ -437,6 +454,11 @@ impl App {
                     .to_string(),
             },
             Screen::Review => self.review.status_line(),
+            Screen::Lookups => format!(
+                "{} · {} entries · codes never change; retired ones stay on old records",
+                self.lookups.title(),
+                self.lookups.entries.len()
+            ),
         }
     }
 

@@ -132,6 +132,7 @@ fn readings(record: &BenchRecord) -> Result<Vec<MirrorReading>, String> {
                 magnification: None,
                 analyst: record.analyst.to_string(),
                 note: String::new(),
+                viewing: None,
             });
         }
     }

@@ -61,6 +61,7 @@ mod incidents;
 mod lookup_upkeep;
 pub mod model;
 mod outbox;
+pub mod practice;
 pub mod progress;
 mod refdata;
 pub mod safe_file;
@@ -335,6 +336,9 @@ impl Store {
             }
             if name == sqlite::FLEET_FACTS_MIGRATION {
                 incidents::fill_fleet_facts(tx)?;
+            }
+            if name == sqlite::BENCH_PRACTICE_MIGRATION {
+                practice::audit_seeded(tx)?;
             }
             Ok(())
         })?;

@@ -23,7 +23,9 @@ impl Store {
             let key = refdata::lookup_key(&e);
             v.check_record(refdata::LOOKUP, &key, &key, &img);
         }
-        for (entity, id, shown, img) in refdata::all_images(&self.conn)? {
+        let practice = super::practice::minimum_images(&self.conn)?;
+        for (entity, id, shown, img) in refdata::all_images(&self.conn)?.into_iter().chain(practice)
+        {
             v.check_record(entity, &id, &shown, &img);
         }
         check_incidents(&self.conn, &mut v, &self.progress)?;

@@ -42,6 +42,7 @@ mod terminal_output;
 mod tui;
 mod tui_bench;
 mod tui_loads;
+mod tui_lookups;
 mod tui_pty;
 mod tui_review;
 mod tui_store;

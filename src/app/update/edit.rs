@@ -39,6 +39,13 @@ impl App {
             self.apply_filter();
             return;
         }
+        if matches!(
+            edit.kind,
+            EditKind::LookupAdd(_) | EditKind::LookupRename(_)
+        ) {
+            self.save_lookup_edit();
+            return;
+        }
         if let Some((i, e)) = edit.form.first_error() {
             if let Some(edit) = self.edit.as_mut() {
                 edit.form.focus = i;
@@ -137,7 +144,7 @@ impl App {
                 }
                 return;
             }
-            EditKind::Filter => return,
+            _ => return,
         };
         match result {
             Ok(saved) => {
@@ -155,7 +162,7 @@ impl App {
                             .unwrap_or_default();
                         format!("attached to {} (sha256 {h}…)", saved.reference)
                     }
-                    EditKind::Filter | EditKind::Exposure => String::new(),
+                    _ => String::new(),
                 };
                 self.edit = None;
                 self.stack.pop();

@@ -86,6 +86,10 @@ impl App {
                 self.open_review();
                 Ok(())
             }
+            Action::OpenLookups => {
+                self.open_lookups();
+                Ok(())
+            }
             _ => Ok(()),
         };
         self.report(r);

@@ -5,6 +5,7 @@ mod bench;
 mod edit;
 mod incident;
 mod log;
+mod lookups;
 mod review;
 
 use crate::app::bench::BenchState;
@@ -123,6 +124,7 @@ impl App {
             Screen::Edit => self.update_edit(action),
             Screen::Bench => self.update_bench(action),
             Screen::Review => self.update_review(action),
+            Screen::Lookups => self.update_lookups(action),
         }
     }
 

@@ -569,6 +569,7 @@ impl Row<'_> {
                         magnification,
                         analyst: analyst.to_string(),
                         note: String::new(),
+                        viewing: None,
                     }),
                     Ok(_) => self.bad(boundary, format!("\"{part}\" must be greater than zero")),
                     Err(e) => self.bad(boundary, e),
