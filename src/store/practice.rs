@@ -301,3 +301,100 @@ impl Store {
         })
     }
 }
+
+/// The nickel sulfide comparison's view of the incidents found within the window (both
+/// ends included; None: open) and the heat-soak class of every lot.
+pub type SoakInput = (
+    Vec<shardlog_core::fleet::heat_soak::SoakFacts>,
+    Vec<((String, String, String), shardlog_core::fleet::heat_soak::SoakClass)>,
+);
+
+fn soak_class(v: Option<i64>) -> shardlog_core::fleet::heat_soak::SoakClass {
+    use shardlog_core::fleet::heat_soak::SoakClass;
+    match v {
+        Some(0) => SoakClass::NotSoaked,
+        Some(_) => SoakClass::Soaked,
+        None => SoakClass::Unknown,
+    }
+}
+
+impl Store {
+    /// The incidents and lots the heat-soak comparison reads. An incident counts as a
+    /// nickel sulfide failure when its cause or its origin type says so.
+    pub fn soak_input(
+        &self,
+        since: Option<chrono::NaiveDate>,
+        until: Option<chrono::NaiveDate>,
+    ) -> Result<SoakInput, StoreError> {
+        use super::dates::parse_date;
+        use shardlog_core::fleet::heat_soak::SoakFacts;
+        let mut stmt = self.conn.prepare_cached(
+            "SELECT l.heat_soaked, i.cause_category, i.origin_type, i.installed_on, i.broken_on,
+                    i.found_on
+             FROM incidents i LEFT JOIN lots l ON l.id = i.lot_id
+             WHERE (?1 IS NULL OR i.found_on >= ?1) AND (?2 IS NULL OR i.found_on <= ?2)",
+        )?;
+        let rows = stmt.query_map(
+            params![since.map(fmt_date), until.map(fmt_date)],
+            |r| {
+                Ok((
+                    r.get::<_, Option<i64>>(0)?,
+                    r.get::<_, Option<String>>(1)?,
+                    r.get::<_, Option<String>>(2)?,
+                    r.get::<_, Option<String>>(3)?,
+                    r.get::<_, Option<String>>(4)?,
+                    r.get::<_, String>(5)?,
+                ))
+            },
+        )?;
+        let mut facts = Vec::new();
+        for row in rows {
+            let (soaked, cause, origin, installed, broken, found) = row?;
+            let Some(found) = parse_date(&found) else {
+                continue;
+            };
+            facts.push(SoakFacts {
+                class: soak_class(soaked),
+                nickel_sulfide: cause.as_deref() == Some("nickel_sulfide")
+                    || origin.as_deref() == Some("inclusion_nis"),
+                installed_on: installed.as_deref().and_then(parse_date),
+                broke_on: broken.as_deref().and_then(parse_date).unwrap_or(found),
+            });
+        }
+        let lots = refdata::load_lots(&self.conn, None, None)?
+            .into_iter()
+            .map(|l| {
+                let class = soak_class(l.heat_soak.as_ref().map(|h| i64::from(h.soaked)));
+                ((l.supplier, l.product, l.code), class)
+            })
+            .collect();
+        Ok((facts, lots))
+    }
+}
+
+/// The fragmentation check of an incident: its fragment count against the table's minimum
+/// for the thickness of its thermally toughened (fully tempered) ply. None when no count is
+/// recorded or no ply is fully tempered with a thickness.
+pub fn fragmentation_check(
+    inc: &Incident,
+    table: &[FragmentationMinimum],
+) -> Option<shardlog_core::fracture::fragmentation::FragmentationCheck> {
+    let count = inc.pattern.fragment_count?;
+    let thickness = inc
+        .glass
+        .plies
+        .iter()
+        .find(|p| p.temper.as_deref() == Some("fully_tempered"))
+        .and_then(|p| p.thickness_m)?;
+    Some(shardlog_core::fracture::fragmentation::check(
+        count, thickness, table,
+    ))
+}
+
+/// Whole days from the install date to the breakage (else the day found), when both are
+/// known and in order.
+pub fn days_in_service(inc: &Incident) -> Option<i64> {
+    let installed = inc.installed_on?;
+    let broke = inc.broken_on.unwrap_or(inc.found_on);
+    (installed <= broke).then(|| (broke - installed).num_days())
+}

@@ -13,6 +13,7 @@ use super::model::*;
 
 mod admission;
 mod csv;
+mod csv_practice;
 mod export;
 mod exposure;
 mod import;
@@ -52,6 +53,10 @@ pub struct ExportDoc {
     pub exposure: Vec<Exposure>,
     #[serde(default)]
     pub incidents: Vec<Incident>,
+    /// Heat-soak records to set on lots once the incidents are written (the rows of a CSV
+    /// import carry them; a JSON document's `lots` carry theirs). Never written out.
+    #[serde(skip)]
+    pub lot_heat_soak: Vec<Lot>,
 }
 
 impl ExportDoc {
@@ -68,6 +73,7 @@ impl ExportDoc {
             lots: vec![],
             exposure: vec![],
             incidents: vec![],
+            lot_heat_soak: vec![],
         }
     }
 }
