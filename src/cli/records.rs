@@ -616,7 +616,10 @@ fn write_examination(
                 .unwrap_or_default()
                 + &r.viewing
                     .as_ref()
-                    .map(|v| format!(", {}", clean(&names.label(store::LookupKind::ViewingMode, v))))
+                    .map(|v| format!(
+                        ", {}",
+                        clean(&names.label(store::LookupKind::ViewingMode, v))
+                    ))
                     .unwrap_or_default()
         )?;
     }

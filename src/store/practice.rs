@@ -306,7 +306,10 @@ impl Store {
 /// ends included; None: open) and the heat-soak class of every lot.
 pub type SoakInput = (
     Vec<shardlog_core::fleet::heat_soak::SoakFacts>,
-    Vec<((String, String, String), shardlog_core::fleet::heat_soak::SoakClass)>,
+    Vec<(
+        (String, String, String),
+        shardlog_core::fleet::heat_soak::SoakClass,
+    )>,
 );
 
 fn soak_class(v: Option<i64>) -> shardlog_core::fleet::heat_soak::SoakClass {
@@ -334,19 +337,16 @@ impl Store {
              FROM incidents i LEFT JOIN lots l ON l.id = i.lot_id
              WHERE (?1 IS NULL OR i.found_on >= ?1) AND (?2 IS NULL OR i.found_on <= ?2)",
         )?;
-        let rows = stmt.query_map(
-            params![since.map(fmt_date), until.map(fmt_date)],
-            |r| {
-                Ok((
-                    r.get::<_, Option<i64>>(0)?,
-                    r.get::<_, Option<String>>(1)?,
-                    r.get::<_, Option<String>>(2)?,
-                    r.get::<_, Option<String>>(3)?,
-                    r.get::<_, Option<String>>(4)?,
-                    r.get::<_, String>(5)?,
-                ))
-            },
-        )?;
+        let rows = stmt.query_map(params![since.map(fmt_date), until.map(fmt_date)], |r| {
+            Ok((
+                r.get::<_, Option<i64>>(0)?,
+                r.get::<_, Option<String>>(1)?,
+                r.get::<_, Option<String>>(2)?,
+                r.get::<_, Option<String>>(3)?,
+                r.get::<_, Option<String>>(4)?,
+                r.get::<_, String>(5)?,
+            ))
+        })?;
         let mut facts = Vec::new();
         for row in rows {
             let (soaked, cause, origin, installed, broken, found) = row?;

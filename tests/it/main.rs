@@ -24,6 +24,7 @@ mod lookups_cli;
 mod mirror_cli;
 mod packaging;
 mod plausibility;
+mod practice_cli;
 mod progress;
 mod readonly;
 mod reference;

@@ -430,8 +430,8 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             .map_err(CliError::usage)?;
         let c = soak::comparison(&store, &exposures, &window)?;
         if q.json {
-            let mut v: Value = serde_json::from_str(&text)
-                .map_err(|e| CliError::work(format!("json: {e}")))?;
+            let mut v: Value =
+                serde_json::from_str(&text).map_err(|e| CliError::work(format!("json: {e}")))?;
             v["heat_soak"] = soak::to_json(&c, &window);
             text = serde_json::to_string_pretty(&v)
                 .map_err(|e| CliError::work(format!("json: {e}")))?;

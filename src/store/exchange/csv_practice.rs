@@ -79,7 +79,10 @@ impl Row<'_> {
             return;
         };
         let Some(exam) = inc.examinations.last_mut() else {
-            self.bad("viewing", "gives a viewing mode but the row has no readings");
+            self.bad(
+                "viewing",
+                "gives a viewing mode but the row has no readings",
+            );
             return;
         };
         let parts: Vec<&str> = cell.split(';').map(str::trim).collect();

@@ -589,12 +589,21 @@ impl Writer<'_> {
 
     /// The heat-soak records of lots, set once the lots exist (an unchanged one writes
     /// nothing).
-    fn write_lot_heat_soak(&mut self, chain: &mut Chain, doc: &ExportDoc) -> Result<(), WriteError> {
+    fn write_lot_heat_soak(
+        &mut self,
+        chain: &mut Chain,
+        doc: &ExportDoc,
+    ) -> Result<(), WriteError> {
         let given = doc
             .lot_heat_soak
             .iter()
             .map(|l| ("lot heat-soak", l))
-            .chain(doc.lots.iter().filter(|l| l.heat_soak.is_some()).map(|l| ("lots", l)));
+            .chain(
+                doc.lots
+                    .iter()
+                    .filter(|l| l.heat_soak.is_some())
+                    .map(|l| ("lots", l)),
+            );
         for (i, (place, l)) in given.enumerate() {
             crate::store::practice::put_lot_heat_soak(
                 self.tx,
