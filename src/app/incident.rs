@@ -140,6 +140,10 @@ pub struct Lists {
     pub suppliers: Vec<PickItem>,
     pub products: Vec<PickItem>,
     pub lots: Vec<PickItem>,
+    /// The heat-soak records of the lots that have one.
+    pub lot_heat_soak: crate::app::practice::LotHeatSoak,
+    /// The least fragment counts of thermally toughened glass, per thickness.
+    pub fragmentation: Vec<crate::store::practice::FragmentationMinimum>,
     pub sites: Vec<PickItem>,
     pub assets: Vec<PickItem>,
 }
@@ -307,6 +311,7 @@ fn glass_items(form: &mut Form, inc: &Incident, lists: &Lists) {
     }
     form.push_field(length("width", "Width", g.width_m, "e.g. 1200 mm"));
     form.push_field(length("height", "Height", g.height_m, "e.g. 800 mm"));
+    crate::app::practice::glass_items(form, inc, &lists.lot_heat_soak);
 }
 
 /// Plies the Glass form edits (a triple laminate has three; a fourth covers an insulating
@@ -774,7 +779,9 @@ fn apply_glass(form: &Form, inc: &mut Incident) -> Result<(), String> {
         plies.pop();
     }
     g.plies = plies;
-    Ok(())
+    crate::app::practice::apply_installed(form, inc)?;
+    // the lot's heat-soak record is written after the incident; its typing is checked now
+    crate::app::practice::heat_soak_of(form, inc).map(|_| ())
 }
 
 fn ply_is_empty(p: &Ply) -> bool {

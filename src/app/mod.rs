@@ -14,6 +14,7 @@ pub mod key;
 pub mod log_view;
 pub mod lookups;
 pub mod picklist;
+pub mod practice;
 pub mod review;
 pub mod text_input;
 mod update;
@@ -152,7 +153,7 @@ pub enum Action {
     NextWindow,
     /// Review: per month for the whole fleet or for the highlighted group.
     ToggleGroupMonths,
-    /// Open the lookup lists.
+    /// Open the lookup lists (from the review).
     OpenLookups,
     /// Lookup lists: add an entry to the list shown.
     AddEntry,
@@ -271,6 +272,12 @@ pub(crate) fn load_lists(store: &Store) -> Result<Lists, StoreError> {
         .into_iter()
         .map(|l| PickItem::new(l.code.clone(), format!("{} · {}", l.code, l.supplier)))
         .collect();
+    lists.lot_heat_soak = store
+        .lots(None, None)?
+        .into_iter()
+        .filter_map(|l| Some(((l.supplier, l.product, l.code), l.heat_soak?)))
+        .collect();
+    lists.fragmentation = store.fragmentation_minimums()?;
     lists.lots.dedup_by(|a, b| a.code == b.code);
     lists.sites = store
         .sites()?

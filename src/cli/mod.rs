@@ -16,6 +16,7 @@ pub mod calibrate;
 pub mod codes;
 pub mod exposure;
 pub mod fleet;
+pub mod fragmentation;
 pub mod key;
 pub mod leftovers;
 pub mod load;
@@ -66,7 +67,7 @@ pub enum Command {
     /// list, add, rename, retire, restore.
     Lookups(lookups::LookupsArgs),
     /// The least fragment counts of thermally toughened glass per thickness: list, set, remove.
-    Fragmentation(practice::FragmentationArgs),
+    Fragmentation(fragmentation::FragmentationArgs),
     /// List incidents.
     List(records::ListArgs),
     /// Show one incident.
@@ -425,7 +426,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Export(a) => records::export(a, &mut ctx),
         Command::Exposure(a) => exposure::run(a, &mut ctx),
         Command::Lookups(a) => lookups::run(a, &mut ctx),
-        Command::Fragmentation(a) => practice::run(a, &mut ctx),
+        Command::Fragmentation(a) => fragmentation::run(a, &mut ctx),
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
         Command::Attach(a) => attach::attach(a, &mut ctx),

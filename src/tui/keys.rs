@@ -363,10 +363,10 @@ pub static TABLE: &[Binding] = &[
         footer: false,
     },
     Binding {
-        ctxs: &[Log],
+        ctxs: &[Review],
         keys: &[c('L')],
         label: "L",
-        desc: "lookup lists: causes, origin types, custody events, statuses",
+        desc: "lookup lists: causes, origin types, custody events, statuses, viewing",
         action: Action::OpenLookups,
         footer: false,
     },

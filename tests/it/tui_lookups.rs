@@ -24,6 +24,13 @@ fn audit_of(db: &std::path::Path, key: &str) -> Vec<(String, String)> {
         .unwrap()
 }
 
+/// From the log: the review (r), then the lookup lists (L).
+fn open_lists(app: &mut App) {
+    send(app, &key(KeyCode::Char('r')));
+    send(app, &key(KeyCode::Char('L')));
+    assert_eq!(app.screen(), Screen::Lookups, "{:?}", app.message);
+}
+
 fn screen_text(app: &mut App) -> String {
     render(app, 80, 24).join("\n")
 }
@@ -53,7 +60,7 @@ fn fixture() -> (tempfile::TempDir, std::path::PathBuf, App, String) {
 #[test]
 fn the_lists_open_from_the_log_and_show_codes_labels_and_state_at_80x24() {
     let (_d, _db, mut app, _) = fixture();
-    send(&mut app, &key(KeyCode::Char('L')));
+    open_lists(&mut app);
     assert_eq!(app.screen(), Screen::Lookups);
     let s = screen_text(&mut app);
     assert!(s.contains("Lookup lists"), "{s}");
@@ -75,7 +82,9 @@ fn the_lists_open_from_the_log_and_show_codes_labels_and_state_at_80x24() {
     assert_eq!(app.lookups.kind(), LookupKind::Status);
     let s = screen_text(&mut app);
     assert!(s.contains("claim_open"), "{s}");
-    // Esc goes back to the log
+    // Esc goes back to the review, and again to the log
+    send(&mut app, &key(KeyCode::Esc));
+    assert_eq!(app.screen(), Screen::Review);
     send(&mut app, &key(KeyCode::Esc));
     assert_eq!(app.screen(), Screen::Log);
 }
@@ -83,7 +92,7 @@ fn the_lists_open_from_the_log_and_show_codes_labels_and_state_at_80x24() {
 #[test]
 fn add_then_rename_writes_the_entry_with_its_audit_rows_under_the_analyst() {
     let (_d, db, mut app, _) = fixture();
-    send(&mut app, &key(KeyCode::Char('L')));
+    open_lists(&mut app);
     send(&mut app, &key(KeyCode::Char('a')));
     assert_eq!(app.screen(), Screen::Edit);
     let s = screen_text(&mut app);
@@ -131,7 +140,7 @@ fn add_then_rename_writes_the_entry_with_its_audit_rows_under_the_analyst() {
 #[test]
 fn a_refused_code_says_why_and_writes_nothing() {
     let (_d, db, mut app, _) = fixture();
-    send(&mut app, &key(KeyCode::Char('L')));
+    open_lists(&mut app);
     send(&mut app, &key(KeyCode::Char('a')));
     type_str(&mut app, "thermal");
     send(&mut app, &key(KeyCode::Tab));
@@ -147,7 +156,7 @@ fn a_refused_code_says_why_and_writes_nothing() {
 #[test]
 fn retire_hides_from_pick_lists_keeps_the_old_record_and_restore_brings_it_back() {
     let (_d, db, mut app, reference) = fixture();
-    send(&mut app, &key(KeyCode::Char('L')));
+    open_lists(&mut app);
     for _ in 0..3 {
         send(&mut app, &key(KeyCode::Tab));
     }
@@ -175,6 +184,8 @@ fn retire_hides_from_pick_lists_keeps_the_old_record_and_restore_brings_it_back(
         "claim open"
     );
     send(&mut app, &key(KeyCode::Esc));
+    send(&mut app, &key(KeyCode::Esc));
+    assert_eq!(app.screen(), Screen::Log);
     send(&mut app, &key(KeyCode::Enter));
     assert_eq!(app.screen(), Screen::Incident);
     let s = screen_text(&mut app);
@@ -202,7 +213,7 @@ fn retire_hides_from_pick_lists_keeps_the_old_record_and_restore_brings_it_back(
     send(&mut app, &key(KeyCode::Esc));
 
     // restore
-    send(&mut app, &key(KeyCode::Char('L')));
+    open_lists(&mut app);
     assert_eq!(app.lookups.selected().unwrap().code, "claim_open");
     send(&mut app, &key(KeyCode::Char('r')));
     assert!(!app.lookups.selected().unwrap().retired);

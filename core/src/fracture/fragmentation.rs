@@ -41,6 +41,35 @@ impl FragmentationCheck {
         }
     }
 
+    /// The verdict with the count and the minimum used, without the provenance:
+    /// "pass: 52 fragments, minimum 40 for 4 – 12 mm".
+    pub fn summary(&self) -> String {
+        match self {
+            FragmentationCheck::Pass { count, row } | FragmentationCheck::Fail { count, row } => {
+                format!(
+                    "{}: {count} fragments, minimum {} for {}",
+                    self.verdict(),
+                    row.min_count,
+                    range_text(row)
+                )
+            }
+            FragmentationCheck::NoMinimum { count, thickness_m } => format!(
+                "{count} fragments; no minimum for {} mm in the table",
+                trim_mm(*thickness_m)
+            ),
+        }
+    }
+
+    /// The table row used, if any.
+    pub fn row(&self) -> Option<&FragmentationMinimum> {
+        match self {
+            FragmentationCheck::Pass { row, .. } | FragmentationCheck::Fail { row, .. } => {
+                Some(row)
+            }
+            FragmentationCheck::NoMinimum { .. } => None,
+        }
+    }
+
     /// One line for a screen or report: the count, the minimum used with its thickness range
     /// and provenance, and the verdict.
     pub fn describe(&self) -> String {

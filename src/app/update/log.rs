@@ -86,10 +86,7 @@ impl App {
                 self.open_review();
                 Ok(())
             }
-            Action::OpenLookups => {
-                self.open_lookups();
-                Ok(())
-            }
+
             _ => Ok(()),
         };
         self.report(r);

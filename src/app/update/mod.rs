@@ -6,6 +6,7 @@ mod edit;
 mod incident;
 mod log;
 mod lookups;
+mod practice;
 mod review;
 
 use crate::app::bench::BenchState;

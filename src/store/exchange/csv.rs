@@ -12,6 +12,9 @@ use super::super::model::*;
 use super::{decode_utf8, Problem};
 use shardlog_core::units::{self, Dimension};
 
+mod practice;
+pub(super) use practice::gather_heat_soak;
+
 /// The CSV columns, in export order. Documented in README ("CSV columns").
 pub const CSV_COLUMNS: &[&str] = &[
     "ref",
@@ -219,7 +222,7 @@ pub fn csv_row(inc: &Incident, heat_soak: Option<&HeatSoak>) -> String {
         inc.description.clone(),
         inc.notes.clone(),
     ]);
-    cells.extend(super::csv_practice::cells(inc, heat_soak));
+    cells.extend(practice::cells(inc, heat_soak));
     debug_assert_eq!(cells.len(), CSV_COLUMNS.len());
     let mut out = String::new();
     for (i, (c, column)) in cells.iter().zip(CSV_COLUMNS).enumerate() {

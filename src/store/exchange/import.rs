@@ -119,7 +119,7 @@ impl Store {
         } in records
         {
             if let Some(h) = lot_heat_soak {
-                super::csv_practice::gather_heat_soak(
+                super::csv::gather_heat_soak(
                     line,
                     &incident,
                     h,

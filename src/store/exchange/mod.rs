@@ -13,7 +13,6 @@ use super::model::*;
 
 mod admission;
 mod csv;
-mod csv_practice;
 mod export;
 mod exposure;
 mod import;

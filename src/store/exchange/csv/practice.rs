@@ -3,9 +3,9 @@
 //! readings (one code for all of a row's readings, or one per reading, `;`-separated, in
 //! the order of the boundary columns).
 
-use super::super::dates::fmt_date;
-use super::super::model::*;
-use super::csv::Row;
+use super::super::super::dates::fmt_date;
+use super::super::super::model::*;
+use super::Row;
 
 /// The cells of a row, in the order of the last six CSV columns.
 pub fn cells(inc: &Incident, heat_soak: Option<&HeatSoak>) -> [String; 6] {
@@ -59,7 +59,7 @@ fn viewing_cell(readings: &[MirrorReading]) -> String {
 impl Row<'_> {
     /// Read the install date, the fragment count and the viewing modes into `inc` (its
     /// readings already read); return the lot's heat-soak record the row gives.
-    pub(super) fn practice(&mut self, inc: &mut Incident) -> Option<HeatSoak> {
+    pub(in crate::store::exchange) fn practice(&mut self, inc: &mut Incident) -> Option<HeatSoak> {
         inc.installed_on = self.date("installed_on");
         if let Some(n) = self.opt("fragment_count") {
             match n.parse::<i64>() {
@@ -159,17 +159,17 @@ impl Row<'_> {
 
 /// Gather a row's heat-soak record of its lot: one record per lot, and a row that says
 /// otherwise than an earlier row of the same lot is a problem of that row.
-pub(super) fn gather_heat_soak(
+pub(in crate::store::exchange) fn gather_heat_soak(
     line: usize,
     inc: &Incident,
     h: HeatSoak,
     lots: &mut Vec<Lot>,
     first_line: &mut std::collections::HashMap<(String, String, String), usize>,
-    problems: &mut Vec<super::Problem>,
+    problems: &mut Vec<super::super::Problem>,
 ) {
     let g = &inc.glass;
     let (Some(s), Some(p), Some(l)) = (&g.supplier, &g.product, &g.lot) else {
-        problems.push(super::Problem::new(
+        problems.push(super::super::Problem::new(
             format!("line {line}, column heat_soaked"),
             "a heat-soak record belongs to a lot: give the supplier, product and lot",
         ));
@@ -182,7 +182,7 @@ pub(super) fn gather_heat_soak(
             .find(|x| x.supplier == *s && x.product == *p && x.code == *l)
             .is_some_and(|x| x.heat_soak.as_ref() == Some(&h));
         if !same {
-            problems.push(super::Problem::new(
+            problems.push(super::super::Problem::new(
                 format!("line {line}, column heat_soaked"),
                 format!("lot {s}/{p}/{l} has another heat-soak record on line {first}"),
             ));
