@@ -521,6 +521,7 @@ mod tests {
             origin_type: None,
             only: vec![],
             stress: "applied".into(),
+            heat_soak: false,
             json: false,
         })
         .unwrap()
@@ -614,6 +615,7 @@ mod tests {
             origin_type: origin.map(String::from),
             only: vec![],
             stress: "applied".into(),
+            heat_soak: false,
             json: false,
         };
         for args in [

@@ -479,6 +479,18 @@ fn examination_lines(app: &App, inc: &Incident, th: &Theme, out: &mut Vec<Line<'
     }
 }
 
+/// The fragmentation check of a thermally toughened pane: verdict, count and the minimum
+/// used, then where the minimum comes from.
+fn fragmentation_lines(inc: &Incident, l: &Lists, th: &Theme, out: &mut Vec<Line<'static>>) {
+    let Some(c) = crate::store::practice::fragmentation_check(inc, &l.fragmentation) else {
+        return;
+    };
+    out.push(kv("Fragmentation", clean(&c.summary()), th));
+    if let Some(row) = c.row() {
+        out.push(kv("Minimum from", clean(&row.provenance), th));
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -500,17 +512,5 @@ mod tests {
         // a short value is left as it was
         let short = hang_values(vec![kv("Site", "TVL-ASH", th)], 60);
         assert_eq!(short.len(), 1);
-    }
-}
-
-/// The fragmentation check of a thermally toughened pane: verdict, count and the minimum
-/// used, then where the minimum comes from.
-fn fragmentation_lines(inc: &Incident, l: &Lists, th: &Theme, out: &mut Vec<Line<'static>>) {
-    let Some(c) = crate::store::practice::fragmentation_check(inc, &l.fragmentation) else {
-        return;
-    };
-    out.push(kv("Fragmentation", clean(&c.summary()), th));
-    if let Some(row) = c.row() {
-        out.push(kv("Minimum from", clean(&row.provenance), th));
     }
 }
