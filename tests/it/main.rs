@@ -44,6 +44,7 @@ mod tui;
 mod tui_bench;
 mod tui_loads;
 mod tui_lookups;
+mod tui_practice;
 mod tui_pty;
 mod tui_review;
 mod tui_store;

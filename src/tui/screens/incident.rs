@@ -420,7 +420,14 @@ fn examination_lines(app: &App, inc: &Incident, th: &Theme, out: &mut Vec<Line<'
                 .readings
                 .iter()
                 .filter(|r| r.boundary == code)
-                .map(|r| r.radius.display())
+                .map(|r| match &r.viewing {
+                    Some(v) => format!(
+                        "{} ({})",
+                        r.radius.display(),
+                        l.label(LookupKind::ViewingMode, v)
+                    ),
+                    None => r.radius.display(),
+                })
                 .collect();
             if !r.is_empty() {
                 out.push(kv(
