@@ -295,3 +295,47 @@ fn the_fragmentation_table_is_seeded_from_memory_and_editable_with_its_audit() {
         .unwrap();
     assert_eq!(actors, vec!["schema 0008", "Oriane Velasquez-Tamm"]);
 }
+
+#[test]
+fn viewing_modes_import_by_label_or_code_one_per_reading_and_come_back_on_export() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("x.db");
+    assert!(run(&db, &["init"]).status.success());
+    let f = dir.path().join("v.csv");
+    std::fs::write(
+        &f,
+        "found_on,asset,position,material,mirror_mist,branching,viewing\n\
+         2026-02-01,tram 4,door 1,soda_lime,0.61 mm;0.64 mm,,Stereo Microscope\n\
+         2026-02-02,tram 4,door 2,soda_lime,0.61 mm,14 mm,stereo;hand lens\n",
+    )
+    .unwrap();
+    let o = run(&db, &["import", f.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", text(&o));
+    let out = String::from_utf8_lossy(&run(&db, &["export", "--format", "csv"]).stdout).to_string();
+    let door1 = out.lines().find(|l| l.contains("door 1")).unwrap();
+    assert!(door1.ends_with(",stereo"), "{door1}");
+    let door2 = out.lines().find(|l| l.contains("door 2")).unwrap();
+    assert!(door2.ends_with(",stereo;hand_lens"), "{door2}");
+    let json =
+        String::from_utf8_lossy(&run(&db, &["export", "--format", "json"]).stdout).to_string();
+    assert!(json.contains("\"viewing\": \"hand_lens\""), "{json}");
+
+    // the wrong number of modes, and a mode the list does not hold, are refused by line
+    let bad = dir.path().join("bad.csv");
+    std::fs::write(
+        &bad,
+        "found_on,asset,position,mirror_mist,viewing\n\
+         2026-02-03,tram 5,door 1,0.61 mm;0.64 mm;0.66 mm,stereo;oblique\n\
+         2026-02-04,tram 5,door 2,0.61 mm,x-ray\n",
+    )
+    .unwrap();
+    let o = run(&db, &["import", bad.to_str().unwrap()]);
+    let t = text(&o);
+    assert!(!o.status.success(), "{t}");
+    assert!(
+        t.contains("line 2, column viewing: gives 2 modes for 3 readings"),
+        "{t}"
+    );
+    assert!(t.contains("line 3, column viewing"), "{t}");
+    assert!(t.contains("unknown viewing mode code \"x-ray\""), "{t}");
+}
