@@ -310,7 +310,7 @@ pub static TABLE: &[Binding] = &[
         ctxs: &[Review],
         keys: &[k(KeyCode::Tab), k(KeyCode::Right), c('l')],
         label: "Tab/→",
-        desc: "next panel (causes, per month, stress, Weibull, groups)",
+        desc: "next panel (causes, per month, stress, Weibull, groups, heat-soak)",
         action: Action::NextSection,
         footer: true,
     },

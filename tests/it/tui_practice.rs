@@ -178,3 +178,98 @@ fn the_bench_records_the_viewing_mode_of_its_readings() {
         .map(|i| i.code.clone());
     assert_eq!(chosen.as_deref(), Some("stereo"));
 }
+
+#[test]
+fn the_review_compares_soaked_and_unsoaked_lots_at_80x24() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("fleet.db");
+    let mut store = Store::open(&db).unwrap();
+    let st = Stamp::new("test-analyst", Utc::now());
+    let today = Utc::now().date_naive();
+    // lot SK-1 soaked: one impact; lot UN-2 not soaked: three nickel sulfide breaks,
+    // 200, 500 and 900 days after their install dates (all within the last twelve months)
+    let specs: [(&str, &str, i64); 4] = [
+        ("SK-1", "impact", 0),
+        ("UN-2", "nickel_sulfide", 200),
+        ("UN-2", "nickel_sulfide", 500),
+        ("UN-2", "nickel_sulfide", 900),
+    ];
+    for (i, (lot, cause, days)) in specs.iter().enumerate() {
+        let found = today - chrono::Days::new(10 + i as u64 * 20);
+        let mut d = Incident::draft(found);
+        d.asset = Some(format!("block {i}"));
+        d.glass = Glass {
+            supplier: Some("FERNLEIGH".into()),
+            product: Some("T10".into()),
+            lot: Some(lot.to_string()),
+            makeup: "monolithic".into(),
+            ..Glass::default()
+        };
+        if *days > 0 {
+            d.installed_on = Some(found - chrono::Days::new(*days as u64));
+        }
+        d.cause = Some(shardlog::store::model::Cause {
+            category: cause.to_string(),
+            factors: vec![],
+            confidence: "probable".into(),
+            responsibility: "undetermined".into(),
+            note: String::new(),
+        });
+        store.create_incident(&d, &st).unwrap();
+    }
+    let soaked = HeatSoak {
+        soaked: true,
+        on: None,
+        reference: String::new(),
+    };
+    let not = HeatSoak {
+        soaked: false,
+        on: None,
+        reference: String::new(),
+    };
+    store
+        .set_lot_heat_soak("FERNLEIGH", "T10", "SK-1", Some(&soaked), &st)
+        .unwrap();
+    store
+        .set_lot_heat_soak("FERNLEIGH", "T10", "UN-2", Some(&not), &st)
+        .unwrap();
+    let mut app = App::with_store(store, &db).unwrap();
+    send(&mut app, &key(KeyCode::Char('r')));
+    while app.review.panel != shardlog::app::review::Panel::HeatSoak {
+        send(&mut app, &key(KeyCode::Tab));
+    }
+    let lines = render(&mut app, 80, 24);
+    let s = lines.join("\n");
+    let row = |label: &str| {
+        lines
+            .iter()
+            .find(|l| l.contains(label))
+            .unwrap_or_else(|| panic!("{label}: {s}"))
+            .split_whitespace()
+            .map(str::to_string)
+            .collect::<Vec<_>>()
+    };
+    // lots, incidents, NiS
+    assert_eq!(&row("heat-soaked lots")[2..5], ["1", "1", "0"], "{s}");
+    assert_eq!(&row("lots not soaked")[3..6], ["1", "3", "3"], "{s}");
+    assert!(s.contains("no exposure of these lots"), "{s}");
+    // computed: 200, 500, 900 days → median 500 / 365.25 = 1.37 years; one break in each of
+    // years 1, 2 and 3 of service
+    assert!(
+        s.contains("3 with an install date, median 1.37 years"),
+        "{s}"
+    );
+    for y in [
+        "year  1 (0 to 1 years)",
+        "year  2 (1 to 2 years)",
+        "year  3 (2 to 3 years)",
+    ] {
+        assert!(s.contains(y), "{y}: {s}");
+    }
+    for l in &lines {
+        assert!(
+            unicode_width::UnicodeWidthStr::width(l.as_str()) <= 80,
+            "{l}"
+        );
+    }
+}

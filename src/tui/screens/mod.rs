@@ -7,3 +7,4 @@ pub mod incident;
 pub mod log;
 pub mod lookups;
 pub mod review;
+pub mod review_soak;
