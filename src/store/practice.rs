@@ -12,13 +12,16 @@ use super::refdata::{self, LOT};
 use super::{Store, StoreError, MIGRATION_AT};
 pub use shardlog_core::fracture::fragmentation::FragmentationMinimum;
 
-/// The audit entity of a row of the fragmentation table.
-pub(crate) const FRAGMENTATION_MINIMUM: &str = "fragmentation_minimum";
+/// The audit entity of a row of the fragmentation table. The rows are audited as entries of a
+/// lookup list (key `fragmentation_minimum/…`): every bench seeds the same rows, and the fleet
+/// keeps lookup entries per bench, where records of any other kind must have one origin.
+pub(crate) const FRAGMENTATION_MINIMUM: &str = refdata::LOOKUP;
 
-/// The audit key of a row: its thickness range in micrometres ("4000-12000").
+/// The audit key of a row: its thickness range in micrometres
+/// ("fragmentation_minimum/4000-12000").
 fn minimum_key(m: &FragmentationMinimum) -> String {
     format!(
-        "{}-{}",
+        "fragmentation_minimum/{}-{}",
         (m.thickness_from_m * 1e6).round() as i64,
         (m.thickness_to_m * 1e6).round() as i64
     )

@@ -287,7 +287,7 @@ fn the_fragmentation_table_is_seeded_from_memory_and_editable_with_its_audit() {
     assert!(run(&db, &["verify"]).status.success());
     let c = rusqlite::Connection::open(&db).unwrap();
     let actors: Vec<String> = c
-        .prepare("SELECT actor FROM audit WHERE entity = 'fragmentation_minimum' AND entity_id = '4000-12000' ORDER BY seq")
+        .prepare("SELECT actor FROM audit WHERE entity = 'lookup' AND entity_id = 'fragmentation_minimum/4000-12000' ORDER BY seq")
         .unwrap()
         .query_map([], |r| r.get(0))
         .unwrap()
