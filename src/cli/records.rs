@@ -625,6 +625,13 @@ fn write_examination(
             r.magnification
                 .map(|m| format!(" at {}×", shardlog_core::units::fmt_sig(m, 3)))
                 .unwrap_or_default()
+                + &r.viewing
+                    .as_ref()
+                    .map(|v| format!(
+                        ", {}",
+                        clean(&names.label(store::LookupKind::ViewingMode, v))
+                    ))
+                    .unwrap_or_default()
         )?;
     }
     if let Some(f) = &e.flaw {
@@ -752,6 +759,7 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             clean(&names.label(store::LookupKind::OriginLocation, loc))
         )?;
     }
+    super::practice::write_practice(out, &s, &inc)?;
     for (i, e) in inc.examinations.iter().enumerate() {
         write_examination(out, &names, i + 1, e)?;
     }

@@ -64,6 +64,7 @@ mod lookup_upkeep;
 pub mod model;
 mod outbox;
 mod own_materials;
+pub mod practice;
 pub mod progress;
 mod refdata;
 pub mod safe_file;
@@ -364,6 +365,9 @@ impl Store {
             }
             if name == sqlite::FLEET_FACTS_MIGRATION {
                 incidents::fill_fleet_facts(tx)?;
+            }
+            if name == sqlite::BENCH_PRACTICE_MIGRATION {
+                practice::audit_seeded(tx)?;
             }
             Ok(())
         })?;

@@ -54,7 +54,11 @@ impl Store {
                 v.check_record(refdata::LOOKUP, &key, &key, &img);
             }
             let own = super::own_materials::images(&self.conn)?;
-            for (entity, id, shown, img) in refdata::all_images(&self.conn)?.into_iter().chain(own)
+            let practice = super::practice::minimum_images(&self.conn)?;
+            for (entity, id, shown, img) in refdata::all_images(&self.conn)?
+                .into_iter()
+                .chain(own)
+                .chain(practice)
             {
                 v.check_record(entity, &id, &shown, &img);
             }

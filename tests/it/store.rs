@@ -47,6 +47,7 @@ fn sample(found: NaiveDate) -> Incident {
             magnification: Some(10.0),
             analyst: "mira".into(),
             note: String::new(),
+            viewing: None,
         }],
         flaw: None,
         result: None,

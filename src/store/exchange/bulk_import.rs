@@ -121,6 +121,8 @@ fn write_bulk(
                 stamp: stamp.clone(),
             });
         }
+        // the lots the rows named exist now (made ready above): their heat-soak records
+        writer.write_lot_heat_soak(chain, doc)?;
         (ready, seed)
     };
     if options.dry_run {

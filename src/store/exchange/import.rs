@@ -113,7 +113,24 @@ impl Store {
         let book = self.material_book()?;
         let mut seen: HashMap<(String, String, NaiveDate), String> = HashMap::new();
         let mut incidents = Vec::with_capacity(records.len());
-        for CsvRecord { line, mut incident } in records {
+        let mut doc = ExportDoc::empty();
+        let mut soak_lines: HashMap<(String, String, String), usize> = HashMap::new();
+        for CsvRecord {
+            line,
+            mut incident,
+            lot_heat_soak,
+        } in records
+        {
+            if let Some(h) = lot_heat_soak {
+                super::csv::gather_heat_soak(
+                    line,
+                    &incident,
+                    h,
+                    &mut doc.lot_heat_soak,
+                    &mut soak_lines,
+                    &mut early,
+                );
+            }
             vocabulary.resolve(&mut incident);
             early.extend(onepass::compute_results(
                 &mut incident,
@@ -126,7 +143,7 @@ impl Store {
             }
             incidents.push((Place::Line(line), incident));
         }
-        let result = self.import_placed(ExportDoc::empty(), incidents, early, options, stamp);
+        let result = self.import_placed(doc, incidents, early, options, stamp);
         match result {
             Ok(Err(mut rejected)) => {
                 for p in &mut rejected.problems {
@@ -588,7 +605,40 @@ impl Writer<'_> {
         let mut bulk = Bulk::new(INCIDENT, self.ids.next_u64());
         self.write_incidents(&mut chain, &mut bulk, incidents, seen_refs, strict)?;
         bulk.flush(self.tx, &mut chain, self.stamp).map_err(audit)?;
+        self.write_lot_heat_soak(&mut chain, doc)?;
         chain.finish(self.tx).map_err(audit)
+    }
+
+    /// The heat-soak records of lots, set once the lots exist (an unchanged one writes
+    /// nothing).
+    pub(super) fn write_lot_heat_soak(
+        &mut self,
+        chain: &mut Chain,
+        doc: &ExportDoc,
+    ) -> Result<(), WriteError> {
+        let given = doc
+            .lot_heat_soak
+            .iter()
+            .map(|l| ("lot heat-soak", l))
+            .chain(
+                doc.lots
+                    .iter()
+                    .filter(|l| l.heat_soak.is_some())
+                    .map(|l| ("lots", l)),
+            );
+        for (i, (place, l)) in given.enumerate() {
+            crate::store::practice::put_lot_heat_soak(
+                self.tx,
+                chain,
+                &l.supplier,
+                &l.product,
+                &l.code,
+                l.heat_soak.as_ref(),
+                self.stamp,
+            )
+            .map_err(|e| (format!("{place}[{i}]"), e))?;
+        }
+        Ok(())
     }
 
     pub(super) fn write_lookups(

@@ -60,6 +60,10 @@ pub struct ExportDoc {
     /// the private key was not at hand). Import does not need it; `verify --export` checks it.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub signed_head: Option<super::signing::SignedHead>,
+    /// Heat-soak records to set on lots once the incidents are written (the rows of a CSV
+    /// import carry them; a JSON document's `lots` carry theirs). Never written out.
+    #[serde(skip)]
+    pub lot_heat_soak: Vec<Lot>,
 }
 
 impl ExportDoc {
@@ -77,6 +81,7 @@ impl ExportDoc {
             exposure: vec![],
             incidents: vec![],
             signed_head: None,
+            lot_heat_soak: vec![],
         }
     }
 }

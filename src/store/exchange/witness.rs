@@ -314,6 +314,7 @@ fn compare_with_records(
         None => HashSet::new(),
     };
     let mut later = 0usize;
+    let soak = s.lot_heat_soaks()?;
     for (reference, exported) in &read.incidents {
         let inc = match s.find(reference) {
             Ok(Some(inc)) => inc,
@@ -337,7 +338,7 @@ fn compare_with_records(
         }
         let now = match read.kind {
             FileKind::Json => serde_json::to_value(&inc)?,
-            FileKind::Csv => csv_value(&inc),
+            FileKind::Csv => csv_value(&inc, super::export::heat_soak_of(&soak, &inc)),
         };
         if let Some(field) = first_differing_field(exported, &now) {
             check.problems.push(format!(
@@ -366,8 +367,8 @@ fn incidents_changed_after(s: &Store, seq: i64) -> Result<HashSet<String>, Store
 }
 
 /// An incident's CSV row as the check reads an exported one: column name to cell text.
-fn csv_value(inc: &Incident) -> serde_json::Value {
-    let text = format!("{}\n{}\n", csv_header(), csv_row(inc));
+fn csv_value(inc: &Incident, heat_soak: Option<&HeatSoak>) -> serde_json::Value {
+    let text = format!("{}\n{}\n", csv_header(), csv_row(inc, heat_soak));
     let mut rows = csv_records(&text).unwrap_or_default().into_iter();
     let header = rows.next().map(|(_, h)| h).unwrap_or_default();
     let cells = rows.next().map(|(_, c)| c).unwrap_or_default();

@@ -116,15 +116,18 @@ pub(crate) fn for_each_readable_incident(
         (18, code_map("SELECT id, code FROM lots")?),
     ];
     // the columns of `incident_select`, with the keys in place of the codes
-    let mut incidents = conn.prepare(
+    let legacy = !crate::store::sqlite::columns_present(conn);
+    let mut incidents = conn.prepare(&[
         "SELECT i.seq, i.id, i.reference, i.revision, i.created_at, i.updated_at, i.asset_id, i.position, i.site_id,
                 i.found_on, i.broken_on, i.temperature_c, i.sun, i.weather, i.reporter, i.how_found,
                 i.supplier_id, i.product_id, i.lot_id, i.makeup, i.width_m, i.height_m, i.crack_count, i.branching,
                 i.fragment_count, i.origin_location, i.tension_face, i.cause_category, i.cause_factors,
                 i.cause_confidence, i.cause_responsibility, i.cause_note, i.status, i.description, i.notes,
-                i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper
-         FROM incidents i WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq",
-    )?;
+                i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper, ",
+        if legacy { "NULL" } else { "i.installed_on" },
+        " FROM incidents i WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq",
+    ]
+    .concat())?;
     let mut plies = conn.prepare(concat!(
         "SELECT ",
         ply_cols!(),
@@ -137,13 +140,20 @@ pub(crate) fn for_each_readable_incident(
         ", i.seq FROM incidents i JOIN examinations e ON e.incident_id = i.id
          WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no"
     ))?;
-    let mut readings = conn.prepare(concat!(
-        "SELECT ",
-        reading_cols!(),
-        ", i.seq, e.id, m.reading_no FROM incidents i JOIN examinations e ON e.incident_id = i.id
+    let mut readings = conn.prepare(
+        &[
+            "SELECT ",
+            if legacy {
+                reading_cols!(legacy)
+            } else {
+                reading_cols!()
+            },
+            ", i.seq, e.id, m.reading_no FROM incidents i JOIN examinations e ON e.incident_id = i.id
          JOIN mirror_readings m ON m.examination_id = e.id
-         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no, m.reading_no"
-    ))?;
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no, m.reading_no",
+        ]
+        .concat(),
+    )?;
     let mut results = conn.prepare(concat!(
         "SELECT ",
         result_cols!(),
@@ -175,9 +185,15 @@ pub(crate) fn for_each_readable_incident(
         Ok((r.get(14)?, decode(r, "examinations", row, exam_row)?))
     })?;
     let mut readings = ChildScan::new(&mut readings, range, |r| {
-        let row = || format!("examination {}, reading {}", text_at(r, 8), number_at(r, 9));
+        let row = || {
+            format!(
+                "examination {}, reading {}",
+                text_at(r, 9),
+                number_at(r, 10)
+            )
+        };
         let m = decode(r, "mirror_readings", row, reading_row)?;
-        Ok((r.get(7)?, (r.get::<_, String>(8)?, m)))
+        Ok((r.get(8)?, (r.get::<_, String>(9)?, m)))
     })?;
     let mut results = ChildScan::new(&mut results, range, |r| {
         let row = || format!("examination {}", text_at(r, 11));

@@ -78,6 +78,7 @@ pub(super) fn incident_row_with(
         site: code(8)?,
         found_on: date(9)?.unwrap_or_default(),
         broken_on: date(10)?,
+        installed_on: date(39)?,
         environment: Environment {
             temperature_c: r.get(11)?,
             sun: r.get(12)?,
@@ -122,7 +123,12 @@ pub(super) fn load_row(
     conn: &Connection,
     id: &str,
 ) -> Result<Option<(i64, Incident, Derived)>, StoreError> {
-    let mut stmt = conn.prepare_cached(concat!(incident_select!(), " WHERE i.id = ?1"))?;
+    let legacy = !crate::store::sqlite::columns_present(conn);
+    let mut stmt = conn.prepare_cached(if legacy {
+        concat!(incident_select!(legacy), " WHERE i.id = ?1")
+    } else {
+        concat!(incident_select!(), " WHERE i.id = ?1")
+    })?;
     let row = stmt.query_row([id], incident_row).optional()?;
     let Some((seq, mut inc, d)) = row else {
         return Ok(None);
@@ -212,6 +218,7 @@ pub(super) fn reading_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<MirrorReadi
         magnification: r.get(4)?,
         analyst: r.get(5)?,
         note: r.get(6)?,
+        viewing: r.get(7)?,
     })
 }
 
@@ -296,14 +303,22 @@ fn load_children(conn: &Connection, inc: &mut Incident) -> Result<(), StoreError
         )
     })?)?;
     for e in &mut inc.examinations {
-        let mut stmt = conn.prepare_cached(concat!(
-            "SELECT ",
-            reading_cols!(),
-            ", m.reading_no FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
-        ))?;
+        let mut stmt = conn.prepare_cached(if crate::store::sqlite::columns_present(conn) {
+            concat!(
+                "SELECT ",
+                reading_cols!(),
+                ", m.reading_no FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
+            )
+        } else {
+            concat!(
+                "SELECT ",
+                reading_cols!(legacy),
+                ", m.reading_no FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
+            )
+        })?;
         let exam = e.id.clone();
         e.readings = all_read(stmt.query_map([&e.id], |r| {
-            let row = || format!("examination {exam}, reading {}", number_at(r, 7));
+            let row = || format!("examination {exam}, reading {}", number_at(r, 8));
             decode(r, "mirror_readings", row, reading_row)
         })?)?;
         let mut stmt = conn.prepare_cached(concat!(
