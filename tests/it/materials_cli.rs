@@ -309,6 +309,7 @@ fn incident_on(material: &str) -> Incident {
             magnification: None,
             analyst: "Ilse Marrow-Quint".into(),
             note: String::new(),
+            viewing: None,
         }],
         ..Examination::empty()
     });
