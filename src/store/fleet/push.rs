@@ -55,13 +55,16 @@ pub(crate) fn push(
     let (head_seq, _) = witnessed_head(fleet, bench)?;
     let (local_seq, _) = store.audit_head_entry()?;
     let from_seq = head_seq.min(local_seq).max(1);
+    // the fleet applies only the rows after its head: the records and files of the head row
+    // (a bulk load lists a thousand) went with the push that brought it
+    let new_from = head_seq.max(0) + 1;
     let files_dir = store.files_dir().map(Path::to_path_buf);
     store.in_snapshot(|conn| {
         let mut tx = fleet.client.transaction()?;
         let rows_sent = stage_rows(&mut tx, conn, from_seq)?;
-        let listed = outbox::batch_listed(conn, from_seq)?;
+        let listed = outbox::batch_listed(conn, new_from)?;
         stage_images(&mut tx, conn, &listed)?;
-        let files = stage_files(&mut tx, conn, from_seq, &listed, files_dir.as_deref())?;
+        let files = stage_files(&mut tx, conn, new_from, &listed, files_dir.as_deref())?;
         let row = tx.query_one(
             "SELECT status, detail, receipt_seq, receipt_hash, head_seq, head_hash, records,
                     conflicts FROM fleet_push($1)",

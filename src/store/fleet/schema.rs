@@ -14,6 +14,10 @@ const MIGRATIONS: &[(&str, &str)] = &[
         "0002_push.sql",
         include_str!("../../../schema/fleet/0002_push.sql"),
     ),
+    (
+        "0003_push_speed.sql",
+        include_str!("../../../schema/fleet/0003_push_speed.sql"),
+    ),
 ];
 
 /// The fleet schema version this build writes.
