@@ -61,11 +61,15 @@ fn taken(r: Result<(), StoreError>) -> Result<bool, StoreError> {
     }
 }
 
+/// Pull reference data. `pushed_to` is the last audit row the push sent; the answer's
+/// second part is the bench's last row after the pull when nothing else wrote to the bench
+/// since the push (None when something did).
 pub(crate) fn pull(
     store: &mut Store,
     fleet: &mut Fleet,
     bench: &str,
-) -> Result<PullReport, FleetError> {
+    pushed_to: i64,
+) -> Result<(PullReport, Option<i64>), FleetError> {
     let lookups = images(fleet, bench, refdata::LOOKUP)?;
     let sites = images(fleet, bench, refdata::SITE)?;
     let assets = images(fleet, bench, refdata::ASSET)?;
@@ -79,6 +83,7 @@ pub(crate) fn pull(
         .transaction_with_behavior(TransactionBehavior::Immediate)
         .map_err(StoreError::from)?;
     let mut chain = Chain::load(&tx)?;
+    let untouched = chain.seq() == pushed_to;
     for e in lookups.iter().filter_map(|i| decode::<LookupEntry>(i)) {
         report.lookups += u64::from(taken(refdata::insert_lookup(&tx, &mut chain, &e, &stamp))?);
     }
@@ -110,5 +115,5 @@ pub(crate) fn pull(
         tx.commit().map_err(StoreError::from)?;
         store.load_lookups()?;
     }
-    Ok(report)
+    Ok((report, untouched.then_some(chain.seq())))
 }

@@ -46,19 +46,60 @@ pub(crate) fn witnessed_head(fleet: &mut Fleet, bench: &str) -> Result<(i64, Str
         .unwrap_or((0, crate::store::canon::GENESIS.to_string())))
 }
 
-/// Push this bench's new history to the fleet.
+/// Push this bench's new history to the fleet: up to the first transfer and, while
+/// there is more, again from there (each push one fleet transaction with its receipt,
+/// kept by `keep`). The outcomes are added up; the last receipt is the fleet's head.
 pub(crate) fn push(
     store: &Store,
     fleet: &mut Fleet,
     bench: &str,
+    mut keep: impl FnMut(&Receipt) -> Result<(), FleetError>,
 ) -> Result<PushOutcome, FleetError> {
-    let (head_seq, _) = witnessed_head(fleet, bench)?;
+    let mut total: Option<PushOutcome> = None;
+    loop {
+        let (head_seq, _) = witnessed_head(fleet, bench)?;
+        let cut = store.push_cut_after(head_seq)?;
+        let one = push_once(store, fleet, bench, head_seq, cut)?;
+        if let Some(r) = &one.receipt {
+            keep(r)?;
+        }
+        total = Some(match total {
+            None => one,
+            Some(t) => PushOutcome {
+                status: if t.status == "accepted" || one.status == "accepted" {
+                    "accepted".into()
+                } else {
+                    one.status
+                },
+                rows_sent: t.rows_sent + one.rows_sent,
+                records: t.records + one.records,
+                conflicts: t.conflicts + one.conflicts,
+                files: t.files + one.files,
+                receipt: one.receipt.or(t.receipt),
+            },
+        });
+        if cut.is_none() {
+            break;
+        }
+    }
+    total.ok_or_else(|| FleetError::Database("no push was made".into()))
+}
+
+/// One push: the rows from the fleet's head to `cut` (to the end when None).
+fn push_once(
+    store: &Store,
+    fleet: &mut Fleet,
+    bench: &str,
+    head_seq: i64,
+    cut: Option<i64>,
+) -> Result<PushOutcome, FleetError> {
     let (local_seq, _) = store.audit_head_entry()?;
     let from_seq = head_seq.min(local_seq).max(1);
+    let to_seq = cut.unwrap_or(i64::MAX);
     let files_dir = store.files_dir().map(Path::to_path_buf);
     store.in_snapshot(|conn| {
         let mut tx = fleet.client.transaction()?;
-        let rows_sent = stage_rows(&mut tx, conn, from_seq)?;
+        let rows_sent = stage_rows(&mut tx, conn, from_seq, to_seq)?;
         let listed = outbox::batch_listed(conn, from_seq)?;
         stage_images(&mut tx, conn, &listed)?;
         let files = stage_files(&mut tx, conn, from_seq, &listed, files_dir.as_deref())?;
@@ -139,6 +180,7 @@ fn stage_rows(
     tx: &mut Transaction<'_>,
     conn: &Connection,
     from_seq: i64,
+    to_seq: i64,
 ) -> Result<u64, FleetError> {
     let sink = tx.copy_in(
         "COPY push_entries (seq, at, actor, entity, entity_id, op, before, after, prev_hash, hash)
@@ -159,7 +201,7 @@ fn stage_rows(
     let mut writer = BinaryCopyInWriter::new(sink, &types);
     let mut n = 0u64;
     let mut failure: Option<FleetError> = None;
-    outbox::for_each_row(conn, from_seq, |row| {
+    outbox::for_each_row_until(conn, from_seq, to_seq, |row| {
         if let Err(e) = check_storable(&row) {
             failure = Some(e);
             return Err(crate::store::StoreError::Invalid {
