@@ -77,6 +77,43 @@ fn fetch_files(
     Ok(n)
 }
 
+/// Put back each result's stored analysis, which the fleet's image holds only as
+/// "sha256:<hex>" of its canonical text, from the fleet's files (the sending bench sent them
+/// with the transfer). Some(why) when one is missing or does not read.
+fn fetch_analyses(fleet: &mut Fleet, inc: &mut Incident) -> Result<Option<String>, FleetError> {
+    for result in inc
+        .examinations
+        .iter_mut()
+        .filter_map(|e| e.result.as_mut())
+    {
+        let Some(sha) = result
+            .analysis
+            .as_str()
+            .and_then(|t| t.strip_prefix("sha256:"))
+            .map(str::to_string)
+        else {
+            continue;
+        };
+        let bytes: Option<Vec<u8>> = fleet
+            .client
+            .query_opt("SELECT bytes FROM fleet_files WHERE sha256 = $1", &[&sha])?
+            .map(|r| r.get(0));
+        let value = bytes
+            .and_then(|b| String::from_utf8(b).ok())
+            .and_then(|t| canon::decanonical(&t));
+        match value {
+            Some(v) => result.analysis = v,
+            None => {
+                return Ok(Some(format!(
+                    "the fleet lacks the stored analysis {} of one of its results",
+                    &sha[..16.min(sha.len())]
+                )))
+            }
+        }
+    }
+    Ok(None)
+}
+
 /// Pull the incidents sent to `bench`. `expected_head` is the bench's last audit row after
 /// the push and the pull of reference data (None when something else wrote to the bench
 /// meanwhile): when the bench has written since, nothing is replaced now (the next sync
@@ -102,7 +139,10 @@ pub(crate) fn pull_incidents(
         let decoded =
             canon::decanonical(&image).and_then(|v| serde_json::from_value::<Incident>(v).ok());
         match decoded {
-            Some(inc) if inc.id == id => wanted.push(inc),
+            Some(mut inc) if inc.id == id => match fetch_analyses(fleet, &mut inc)? {
+                None => wanted.push(inc),
+                Some(why) => report.kept_out.push(format!("{}: {why}", inc.reference)),
+            },
             _ => report.kept_out.push(format!(
                 "incident {id}: the fleet's version cannot be read here"
             )),

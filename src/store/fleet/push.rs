@@ -29,7 +29,8 @@ pub struct PushOutcome {
     pub records: i64,
     /// Edits the fleet kept as conflicts.
     pub conflicts: i64,
-    /// Attachment files sent.
+    /// Files sent: attachments, and the stored analyses of incidents sent to another bench
+    /// (the record's image holds only their SHA-256; the receiving bench needs them whole).
     pub files: u64,
     /// The fleet's receipt (None while the fleet has accepted nothing of this bench).
     pub receipt: Option<Receipt>,
@@ -102,7 +103,8 @@ fn push_once(
         let rows_sent = stage_rows(&mut tx, conn, from_seq, to_seq)?;
         let listed = outbox::batch_listed(conn, from_seq)?;
         stage_images(&mut tx, conn, &listed)?;
-        let files = stage_files(&mut tx, conn, from_seq, &listed, files_dir.as_deref())?;
+        let files = stage_files(&mut tx, conn, from_seq, &listed, files_dir.as_deref())?
+            + stage_analyses(&mut tx, conn, from_seq, to_seq)?;
         let row = tx.query_one(
             "SELECT status, detail, receipt_seq, receipt_hash, head_seq, head_hash, records,
                     conflicts FROM fleet_push($1)",
@@ -293,6 +295,64 @@ fn stage_files(
         tx.execute(
             "INSERT INTO push_files (sha256, bytes) VALUES ($1, $2)",
             &[sha, &bytes],
+        )?;
+        n += 1;
+    }
+    Ok(n)
+}
+
+/// The stored analyses of the incidents this push sends to another bench, as files named by
+/// the SHA-256 of their canonical text (the digest the incident's image holds in their
+/// place), those the fleet lacks.
+fn stage_analyses(
+    tx: &mut Transaction<'_>,
+    conn: &Connection,
+    from_seq: i64,
+    to_seq: i64,
+) -> Result<u64, FleetError> {
+    let mut sent: Vec<String> = Vec::new();
+    outbox::for_each_row_until(conn, from_seq, to_seq, |row| {
+        if row.entity == crate::store::moves::TRANSFER && row.op == "insert" {
+            let incident = row
+                .after
+                .as_deref()
+                .and_then(|a| serde_json::from_str::<serde_json::Value>(a).ok())
+                .and_then(|v| v.get("incident")?.as_str().map(str::to_string));
+            sent.extend(incident);
+        }
+        Ok(())
+    })?;
+    let mut blobs: Vec<(String, String)> = Vec::new();
+    for id in &sent {
+        let Some(inc) = crate::store::incidents::load(conn, id)? else {
+            continue;
+        };
+        for result in inc.examinations.iter().filter_map(|e| e.result.as_ref()) {
+            let text = crate::store::canon::canonical_value(&result.analysis);
+            blobs.push((crate::store::canon::sha256_hex(text.as_bytes()), text));
+        }
+    }
+    if blobs.is_empty() {
+        return Ok(0);
+    }
+    let hashes: Vec<&String> = blobs.iter().map(|(h, _)| h).collect();
+    let present: HashSet<String> = tx
+        .query(
+            "SELECT sha256 FROM fleet_files WHERE sha256 = ANY($1)",
+            &[&hashes],
+        )?
+        .into_iter()
+        .map(|r| r.get(0))
+        .collect();
+    let mut n = 0;
+    let mut staged = HashSet::new();
+    for (sha, text) in &blobs {
+        if present.contains(sha) || !staged.insert(sha.clone()) {
+            continue;
+        }
+        tx.execute(
+            "INSERT INTO push_files (sha256, bytes) VALUES ($1, $2)",
+            &[sha, &text.as_bytes()],
         )?;
         n += 1;
     }
