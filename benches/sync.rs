@@ -7,7 +7,8 @@
 //!
 //! Run through `scripts/bench-sync N [M]`, which starts a throwaway PostgreSQL cluster (fsync
 //! off: the figures leave out the server's disk flushes) and hands this bench the fleet's
-//! URLs in `SHARDLOG_BENCH_OWNER_URL` and `SHARDLOG_BENCH_URL`. N is the big bench's incident
+//! URLs in `SHARDLOG_BENCH_OWNER_URL` and `SHARDLOG_BENCH_URL` (the bench role's; each bench
+//! is enrolled and pushes as its own login, that name with `_code` appended). N is the big bench's incident
 //! count, M each of the four benches' (default the smaller of N and 20,000).
 
 use std::path::{Path, PathBuf};
@@ -42,6 +43,10 @@ fn check(o: &Output, what: &str) {
 
 fn demo(dir: &Path, code: &str, n: u64) -> PathBuf {
     let db = dir.join(format!("{code}.db"));
+    enrol(
+        &std::env::var("SHARDLOG_BENCH_OWNER_URL").unwrap_or_default(),
+        code,
+    );
     let o = exe()
         .args(["demo", "--bench", code, "--incidents", &n.to_string()])
         .args(["--seed", "11", "--out"])
@@ -52,11 +57,31 @@ fn demo(dir: &Path, code: &str, n: u64) -> PathBuf {
     db
 }
 
+/// Bench `code` pushes with its own login, `fleet enrol` makes it: the fleet's bench URL with
+/// the code appended to the user name (the throwaway cluster trusts its socket).
+fn enrol(owner: &str, code: &str) {
+    let o = exe()
+        .args(["fleet", "enrol", code, "--url", owner])
+        .output()
+        .expect("shardlog runs");
+    check(&o, &format!("fleet enrol {code}"));
+}
+
+fn url_for(url: &str, db: &Path) -> String {
+    let code = db
+        .file_stem()
+        .and_then(|s| s.to_str())
+        .unwrap_or_default()
+        .to_lowercase();
+    format!("{url}_{code}")
+}
+
 fn sync_cmd(db: &Path, url: &str) -> Command {
     let mut c = exe();
+    let url = url_for(url, db);
     c.arg("--db")
         .arg(db)
-        .args(["sync", "--fleet", url, "--json"]);
+        .args(["sync", "--fleet", &url, "--json"]);
     c.stdout(Stdio::piped()).stderr(Stdio::piped());
     c
 }

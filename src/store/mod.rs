@@ -60,6 +60,7 @@ mod ids;
 mod incidents;
 mod lookup_upkeep;
 pub mod model;
+pub(crate) mod moves;
 mod outbox;
 pub mod progress;
 mod refdata;
@@ -75,6 +76,7 @@ pub use files::{
 pub(crate) use ids::IdGen;
 pub use incidents::check_bench_code;
 pub use model::*;
+pub use moves::{Resolution, Transfer};
 pub use outbox::{ChainRow, Receipt, PULL_ACTOR};
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
 pub use verify::Anchor;

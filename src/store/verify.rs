@@ -26,6 +26,9 @@ impl Store {
         for (entity, id, shown, img) in refdata::all_images(&self.conn)? {
             v.check_record(entity, &id, &shown, &img);
         }
+        for (entity, id, shown, img) in super::moves::all_images(&self.conn)? {
+            v.check_record(entity, &id, &shown, &img);
+        }
         check_incidents(&self.conn, &mut v, &self.progress)?;
         // the narrow copy the fleet statistics read (schema 3) agrees with the incidents
         for msg in incidents::fleet_facts_problems(&self.conn)? {

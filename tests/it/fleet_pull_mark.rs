@@ -11,7 +11,7 @@ fn a_pull_takes_later_what_it_could_not_take_yet_and_asks_no_more_once_taken() {
     let fleet = TestFleet::new(cluster);
     let dir = tempfile::tempdir().unwrap();
     let north = demo_bench(dir.path(), "NORTH", 20);
-    sync_ok(&north, &fleet.bench_url());
+    sync_ok(&north, &fleet.bench_url("NORTH"));
     let products = fleet.count("SELECT count(*) FROM fleet_records WHERE entity = 'product'");
     assert!(products > 0, "the demo bench has products");
 
@@ -26,7 +26,7 @@ fn a_pull_takes_later_what_it_could_not_take_yet_and_asks_no_more_once_taken() {
              DELETE FROM fleet_records WHERE entity = 'supplier';",
         )
         .unwrap();
-    let r = sync_ok(&south, &fleet.bench_url());
+    let r = sync_ok(&south, &fleet.bench_url("SOUTH"));
     assert_eq!(r["pulled"]["suppliers"], 0, "{r}");
     assert_eq!(
         r["pulled"]["products"], 0,
@@ -37,13 +37,13 @@ fn a_pull_takes_later_what_it_could_not_take_yet_and_asks_no_more_once_taken() {
     admin
         .batch_execute("INSERT INTO fleet_records SELECT * FROM held; DROP TABLE held;")
         .unwrap();
-    let r = sync_ok(&south, &fleet.bench_url());
+    let r = sync_ok(&south, &fleet.bench_url("SOUTH"));
     assert!(r["pulled"]["suppliers"].as_u64().unwrap() > 0, "{r}");
     assert_eq!(r["pulled"]["products"].as_i64().unwrap(), products, "{r}");
 
     // everything taken: the next pulls bring nothing
     for _ in 0..2 {
-        let r = sync_ok(&south, &fleet.bench_url());
+        let r = sync_ok(&south, &fleet.bench_url("SOUTH"));
         assert_eq!(r["pulled"]["suppliers"], 0, "{r}");
         assert_eq!(r["pulled"]["products"], 0, "{r}");
         assert_eq!(r["pulled"]["lots"], 0, "{r}");

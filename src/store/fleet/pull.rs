@@ -89,11 +89,15 @@ fn taken(r: Result<(), StoreError>, seq: i64, retry: &mut i64) -> Result<bool, S
     }
 }
 
+/// Pull reference data. `pushed_to` is the last audit row the push sent; the answer's
+/// second part is the bench's last row after the pull when nothing else wrote to the bench
+/// since the push (None when something did).
 pub(crate) fn pull(
     store: &mut Store,
     fleet: &mut Fleet,
     bench: &str,
-) -> Result<PullReport, FleetError> {
+    pushed_to: i64,
+) -> Result<(PullReport, Option<i64>), FleetError> {
     let mark = pulled_mark(&store.conn)?;
     let top: i64 = fleet
         .client
@@ -104,7 +108,8 @@ pub(crate) fn pull(
         .get(0);
     let mut report = PullReport::default();
     if top <= mark {
-        return Ok(report);
+        let (seq, _) = store.audit_head_entry()?;
+        return Ok((report, (seq == pushed_to).then_some(seq)));
     }
     let lookups = images(fleet, bench, refdata::LOOKUP, mark)?;
     let sites = images(fleet, bench, refdata::SITE, mark)?;
@@ -120,6 +125,7 @@ pub(crate) fn pull(
         .transaction_with_behavior(TransactionBehavior::Immediate)
         .map_err(StoreError::from)?;
     let mut chain = Chain::load(&tx)?;
+    let untouched = chain.seq() == pushed_to;
     for (seq, i) in &lookups {
         let Some(e) = decode::<LookupEntry>(i) else {
             continue;
@@ -197,5 +203,5 @@ pub(crate) fn pull(
     if report.total() > 0 {
         store.load_lookups()?;
     }
-    Ok(report)
+    Ok((report, untouched.then_some(chain.seq())))
 }

@@ -35,6 +35,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0006_lookup_retired.sql",
         include_str!("../../../schema/0006_lookup_retired.sql"),
     ),
+    (
+        "0010_fleet_moves.sql",
+        include_str!("../../../schema/0010_fleet_moves.sql"),
+    ),
 ];
 
 /// The migration that makes `incident_facts`; the store fills it from the incidents
