@@ -1,5 +1,5 @@
-//! The fleet commands: `sync`, `fleet init`, `fleet status`, `bench code`, and the fleet
-//! parts of `init --bench`, `demo --bench` and `verify --fleet`.
+//! The fleet commands: `sync`, `fleet init|enrol|status|resolve`, `bench code`, `transfer`,
+//! and the fleet parts of `init --bench`, `demo --bench` and `verify --fleet`.
 
 use super::{CliError, Context};
 use crate::store::fleet::{self, Fleet, FleetError};
@@ -75,6 +75,7 @@ pub fn sync(args: SyncArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             r.bench, r.fleet
         )?,
     }
+    print_received(ctx, &r.received)?;
     let q = &r.pulled;
     writeln!(
         ctx.out,
@@ -86,6 +87,57 @@ pub fn sync(args: SyncArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         q.suppliers,
         q.products,
         q.lots
+    )?;
+    Ok(())
+}
+
+fn print_received(ctx: &mut Context<'_>, r: &fleet::IncidentPull) -> Result<(), CliError> {
+    if r.incidents > 0 || r.files > 0 {
+        writeln!(
+            ctx.out,
+            "received {} incidents sent to this bench ({} attachment files)",
+            r.incidents, r.files
+        )?;
+    }
+    for why in &r.kept_out {
+        writeln!(ctx.out, "not received: {}", super::records::clean(why))?;
+    }
+    Ok(())
+}
+
+#[derive(Debug, clap::Args)]
+pub struct TransferArgs {
+    /// The incident (reference or key).
+    #[arg(value_name = "REF")]
+    pub reference: String,
+    /// The code of the bench the specimen goes to.
+    #[arg(long, value_name = "CODE")]
+    pub to: String,
+    /// A note for the custody entry.
+    #[arg(long, default_value = "")]
+    pub note: String,
+}
+
+/// `transfer REF --to CODE`: custody "sent" and the transfer record; the fleet moves the
+/// incident's ownership when it witnesses the transfer.
+pub fn transfer(args: TransferArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let to = fleet::check_bench_code(&args.to).map_err(CliError::usage)?;
+    let mut store = open_bench(ctx)?;
+    let t = store
+        .transfer_incident(
+            &args.reference,
+            &to,
+            &args.note,
+            &super::records::edge_stamp(),
+        )
+        .map_err(|e| match e {
+            crate::store::StoreError::Invalid { .. } => CliError::usage(e.to_string()),
+            other => CliError::work(other.to_string()),
+        })?;
+    writeln!(
+        ctx.out,
+        "{}: specimen sent from bench {} to bench {} (custody \"sent\"); once both benches have synced, {} owns the incident and this bench's later edits of it become conflicts",
+        t.reference, t.from, t.to, t.to
     )?;
     Ok(())
 }
@@ -104,7 +156,36 @@ pub enum FleetCommand {
         #[arg(long, value_name = "URL")]
         url: Option<String>,
     },
-    /// Per bench: code, witnessed head, last sync, incidents, open conflicts, refused pushes.
+    /// Give a bench its own login (run as the fleet's owner); again gives it a new password.
+    Enrol {
+        /// The bench's code.
+        #[arg(value_name = "CODE")]
+        code: String,
+        /// The fleet database (else $SHARDLOG_FLEET_URL).
+        #[arg(long, value_name = "URL")]
+        url: Option<String>,
+        /// Print as JSON.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Settle conflict N at the bench that owns its incident (`--db`): a new edit that names
+    /// it, keeping the fleet's version (or with --take-other the version kept aside), then sync.
+    Resolve {
+        /// The conflict's number, as `fleet status` lists it.
+        #[arg(value_name = "N")]
+        conflict: i64,
+        /// The fleet database (else $SHARDLOG_FLEET_URL).
+        #[arg(long, value_name = "URL")]
+        url: Option<String>,
+        /// Take the version the fleet kept aside instead of the one it holds.
+        #[arg(long)]
+        take_other: bool,
+        /// Print as JSON.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Per bench: code, witnessed head, last sync, incidents, open conflicts, refused pushes;
+    /// then every open conflict with what differs between its two versions.
     Status {
         /// The fleet database (else $SHARDLOG_FLEET_URL).
         #[arg(long, value_name = "URL")]
@@ -142,6 +223,70 @@ pub fn fleet(args: FleetArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
                 "roles: {} (benches push with it: add only, never update or delete history), {} (fleet users read with it); give each a password with ALTER ROLE … PASSWORD",
                 r.bench_role, r.reader_role
             )?;
+            Ok(())
+        }
+        FleetCommand::Enrol {
+            code,
+            url,
+            json: as_json,
+        } => {
+            let code = fleet::check_bench_code(&code).map_err(CliError::usage)?;
+            let url = fleet_url(url, "--url")?;
+            let mut f = Fleet::connect(&url).map_err(fleet_error)?;
+            let login = f.enrol(&code).map_err(fleet_error)?;
+            if as_json {
+                return json(ctx, &login);
+            }
+            writeln!(
+                ctx.out,
+                "bench {} pushes as login {} with password {} (shown once; enrol again for a new one). Only this login can push as {}.",
+                login.bench, login.login, login.password, login.bench
+            )?;
+            Ok(())
+        }
+        FleetCommand::Resolve {
+            conflict,
+            url,
+            take_other,
+            json: as_json,
+        } => {
+            let url = fleet_url(url, "--url")?;
+            let mut store = open_bench(ctx)?;
+            let r = fleet::resolve(
+                &mut store,
+                &url,
+                conflict,
+                take_other,
+                &super::records::edge_stamp(),
+            )
+            .map_err(fleet_error)?;
+            if as_json {
+                return json(ctx, &r);
+            }
+            let kept = if r.kept == "bench" {
+                "the version the fleet kept aside"
+            } else {
+                "the fleet's version"
+            };
+            writeln!(
+                ctx.out,
+                "conflict {}: {} revision {} keeps {}; {}",
+                r.conflict,
+                r.reference,
+                r.revision,
+                kept,
+                if r.closed {
+                    "the fleet applied the edit and closed the conflict"
+                } else {
+                    "the fleet did not close it (see `fleet status`)"
+                }
+            )?;
+            if !r.closed {
+                return Err(CliError::work(format!(
+                    "conflict {} is still open in the fleet",
+                    r.conflict
+                )));
+            }
             Ok(())
         }
         FleetCommand::Status { url, json: as_json } => {
@@ -192,7 +337,69 @@ fn print_status(ctx: &mut Context<'_>, s: &fleet::FleetStatus) -> Result<(), Cli
             b.last_refusal.as_deref().unwrap_or_default()
         )?;
     }
+    for c in &s.conflicts {
+        print_conflict(ctx, c)?;
+    }
     Ok(())
+}
+
+/// One open conflict: what it is on, whose row was kept aside, and both versions in brief.
+fn print_conflict(ctx: &mut Context<'_>, c: &fleet::Conflict) -> Result<(), CliError> {
+    let record = c.reference.clone().unwrap_or_else(|| c.record_id.clone());
+    let why = match c.kind.as_str() {
+        "transfer" => "sent to another bench by a bench that does not own it",
+        _ if c.owner.as_deref() != Some(c.bench.as_str()) => {
+            "edited by a bench that does not own it"
+        }
+        _ => "edited on a version the fleet had moved past",
+    };
+    writeln!(
+        ctx.out,
+        "conflict {} ({} {}): {} (row {} of bench {}; owner {}), opened {}",
+        c.id,
+        c.entity,
+        super::records::clean(&record),
+        why,
+        c.bench_seq,
+        c.bench,
+        c.owner.as_deref().unwrap_or("none"),
+        c.opened_at
+    )?;
+    for (name, image) in [
+        ("fleet's version", &c.fleet_image),
+        ("kept aside", &c.bench_image),
+    ] {
+        writeln!(
+            ctx.out,
+            "  {name}: {}",
+            image
+                .as_deref()
+                .map(version_brief)
+                .unwrap_or_else(|| "none (deleted)".into())
+        )?;
+    }
+    if !c.differs_in.is_empty() {
+        writeln!(ctx.out, "  they differ in: {}", c.differs_in.join(", "))?;
+    }
+    Ok(())
+}
+
+/// A version in one line: its revision, when it was saved, its status and its notes.
+fn version_brief(image: &str) -> String {
+    let v: serde_json::Value = serde_json::from_str(image).unwrap_or_default();
+    let text = |k: &str| v.get(k).and_then(|x| x.as_str()).unwrap_or("").to_string();
+    let mut notes = super::records::clean(&text("notes"));
+    if notes.chars().count() > 60 {
+        notes = notes.chars().take(59).collect::<String>() + "…";
+    }
+    match v.get("revision").and_then(|r| r.as_i64()) {
+        Some(rev) => format!(
+            "revision {rev}, saved {}, status {}, notes \"{notes}\"",
+            text("updated_at"),
+            text("status")
+        ),
+        None => format!("{} bytes of canonical JSON", image.len()),
+    }
 }
 
 #[derive(Debug, clap::Args)]

@@ -91,10 +91,13 @@ pub enum Command {
     Dispute(report::DisputeArgs),
     /// Push this bench's changes to the fleet database, then pull reference data.
     Sync(fleet::SyncArgs),
-    /// The fleet database: init, status.
+    /// The fleet database: init, enrol a bench, status, resolve a conflict.
     Fleet(fleet::FleetArgs),
     /// This bench: its code.
     Bench(fleet::BenchArgs),
+    /// Send an incident's specimen to another bench of the fleet (it owns the incident once
+    /// both have synced).
+    Transfer(fleet::TransferArgs),
     /// Print a shell completion script (bash, zsh, fish, elvish, powershell).
     Completions(CompletionsArgs),
     /// Print the manual page (roff), generated from the same argument definitions.
@@ -441,6 +444,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Sync(a) => fleet::sync(a, &mut ctx),
         Command::Fleet(a) => fleet::fleet(a, &mut ctx),
         Command::Bench(a) => fleet::bench(a, &mut ctx),
+        Command::Transfer(a) => fleet::transfer(a, &mut ctx),
         Command::Completions(a) => {
             use clap::CommandFactory;
             let mut cmd = Cli::command();

@@ -62,6 +62,7 @@ mod ids;
 mod incidents;
 mod lookup_upkeep;
 pub mod model;
+pub(crate) mod moves;
 mod outbox;
 mod own_materials;
 pub mod practice;
@@ -80,6 +81,7 @@ pub use files::{
 pub(crate) use ids::IdGen;
 pub use incidents::check_bench_code;
 pub use model::*;
+pub use moves::{Resolution, Transfer};
 pub use outbox::{ChainRow, Receipt, PULL_ACTOR};
 pub use own_materials::{check_material, check_material_code, MaterialBook, OwnMaterial};
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};

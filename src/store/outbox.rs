@@ -94,7 +94,7 @@ impl Store {
     }
 
     /// Keep a receipt (again is fine: the same receipt changes nothing).
-    pub fn save_receipt(&mut self, r: &Receipt) -> Result<(), StoreError> {
+    pub fn save_receipt(&self, r: &Receipt) -> Result<(), StoreError> {
         self.conn.execute(
             "INSERT INTO fleet_receipts (fleet_seq, fleet_hash, bench_seq, bench_hash, received_at)
              VALUES (?1, ?2, ?3, ?4, ?5) ON CONFLICT (fleet_seq) DO NOTHING",
@@ -107,6 +107,18 @@ impl Store {
             ],
         )?;
         Ok(())
+    }
+
+    /// The first transfer row after `after_seq` that is not this bench's last row: a push
+    /// ends there (the fleet moves the incident's owner before it takes the rows after).
+    pub(crate) fn push_cut_after(&self, after_seq: i64) -> Result<Option<i64>, StoreError> {
+        let cut: Option<i64> = self.conn.query_row(
+            "SELECT min(seq) FROM audit WHERE seq > ?1 AND entity = ?2 AND actor <> ?3",
+            params![after_seq, super::moves::TRANSFER, PULL_ACTOR],
+            |r| r.get(0),
+        )?;
+        let (last, _) = self.audit_head_entry()?;
+        Ok(cut.filter(|c| *c < last))
     }
 
     /// Run `f` inside one read transaction: everything it reads is one moment of the bench.
@@ -127,13 +139,23 @@ impl Store {
 pub(crate) fn for_each_row(
     conn: &Connection,
     from_seq: i64,
+    f: impl FnMut(ChainRow) -> Result<(), StoreError>,
+) -> Result<(), StoreError> {
+    for_each_row_until(conn, from_seq, i64::MAX, f)
+}
+
+/// The audit rows from `from_seq` to `to_seq` (both included), in order.
+pub(crate) fn for_each_row_until(
+    conn: &Connection,
+    from_seq: i64,
+    to_seq: i64,
     mut f: impl FnMut(ChainRow) -> Result<(), StoreError>,
 ) -> Result<(), StoreError> {
     let mut stmt = conn.prepare(
         "SELECT seq, at, actor, entity, entity_id, op, before, after, prev_hash, hash
-         FROM audit WHERE seq >= ?1 ORDER BY seq",
+         FROM audit WHERE seq >= ?1 AND seq <= ?2 ORDER BY seq",
     )?;
-    let mut rows = stmt.query([from_seq])?;
+    let mut rows = stmt.query([from_seq, to_seq])?;
     while let Some(r) = rows.next()? {
         f(ChainRow {
             seq: r.get(0)?,
@@ -212,9 +234,23 @@ pub(crate) fn attachment_hashes(
     conn: &Connection,
     ids: Option<&HashSet<String>>,
 ) -> Result<Vec<String>, StoreError> {
+    let mut out = HashSet::new();
+    // a few incidents (an incremental push): through the index, not a pass over every file
+    if let Some(set) = ids.filter(|set| set.len() < 5000) {
+        let mut stmt =
+            conn.prepare_cached("SELECT DISTINCT sha256 FROM attachments WHERE incident_id = ?1")?;
+        for id in set {
+            let rows = stmt.query_map([id], |r| r.get::<_, String>(0))?;
+            for sha in rows {
+                out.insert(sha?);
+            }
+        }
+        let mut out: Vec<String> = out.into_iter().collect();
+        out.sort();
+        return Ok(out);
+    }
     let mut stmt = conn.prepare("SELECT DISTINCT incident_id, sha256 FROM attachments")?;
     let rows = stmt.query_map([], |r| Ok((r.get::<_, String>(0)?, r.get::<_, String>(1)?)))?;
-    let mut out = HashSet::new();
     for row in rows {
         let (incident, sha) = row?;
         if ids.is_none_or(|set| set.contains(&incident)) {

@@ -59,6 +59,7 @@ impl Store {
                 .into_iter()
                 .chain(own)
                 .chain(practice)
+                .chain(super::moves::all_images(&self.conn)?)
             {
                 v.check_record(entity, &id, &shown, &img);
             }

@@ -61,7 +61,7 @@ fn a_push_killed_or_cut_off_leaves_the_fleet_before_or_after_it() {
     let reference = TestFleet::new(&cluster);
     let copy = copy_bench(&big, "reference");
     let started = Instant::now();
-    let o = sync(&copy, &reference.bench_url());
+    let o = sync(&copy, &reference.bench_url("BIG"));
     assert!(o.status.success(), "{}", err(&o));
     let whole = started.elapsed();
     let expected = content(&reference);
@@ -73,7 +73,7 @@ fn a_push_killed_or_cut_off_leaves_the_fleet_before_or_after_it() {
     let bench = copy_bench(&big, "killed");
     let mut before_it = 0;
     for k in 0..20u32 {
-        let mut child = sync_child(&bench, &killed.bench_url());
+        let mut child = sync_child(&bench, &killed.bench_url("BIG"));
         std::thread::sleep(whole.mul_f64((f64::from(k) + 0.5) / 20.0));
         let _ = child.kill(); // SIGKILL
         let _ = child.wait();
@@ -88,10 +88,10 @@ fn a_push_killed_or_cut_off_leaves_the_fleet_before_or_after_it() {
         before_it > 0,
         "no kill landed inside a push ({whole:?} per push)"
     );
-    let o = sync(&bench, &killed.bench_url());
+    let o = sync(&bench, &killed.bench_url("BIG"));
     assert!(o.status.success(), "{}", err(&o));
     assert_eq!(content(&killed), expected);
-    let o = sync(&bench, &killed.bench_url());
+    let o = sync(&bench, &killed.bench_url("BIG"));
     assert!(o.status.success(), "{}", err(&o));
     assert_eq!(
         content(&killed),
@@ -104,7 +104,7 @@ fn a_push_killed_or_cut_off_leaves_the_fleet_before_or_after_it() {
             bench.to_str().unwrap(),
             "verify",
             "--fleet",
-            &killed.bench_url(),
+            &killed.bench_url("BIG"),
         ])
         .output()
         .unwrap();
@@ -113,7 +113,7 @@ fn a_push_killed_or_cut_off_leaves_the_fleet_before_or_after_it() {
     // 2. the server stopped in the middle of a sync
     let stopped = TestFleet::new(&cluster);
     let bench = copy_bench(&big, "stopped");
-    let child = sync_child(&bench, &stopped.bench_url());
+    let child = sync_child(&bench, &stopped.bench_url("BIG"));
     // wait until the push is under way in the server, then stop it (immediate shutdown)
     let mut admin = stopped.admin();
     let deadline = Instant::now() + Duration::from_secs(120);
@@ -122,7 +122,7 @@ fn a_push_killed_or_cut_off_leaves_the_fleet_before_or_after_it() {
             .query_one(
                 "SELECT count(*) FROM pg_stat_activity
                  WHERE usename = $1 AND state = 'active' AND query ILIKE '%push%'",
-                &[&stopped.bench_role()],
+                &[&stopped.bench_login("BIG")],
             )
             .unwrap()
             .get(0);
@@ -150,7 +150,7 @@ fn a_push_killed_or_cut_off_leaves_the_fleet_before_or_after_it() {
     // nor in the fleet
     cluster.start();
     assert_eq!(content(&stopped), empty);
-    let o = sync(&bench, &stopped.bench_url());
+    let o = sync(&bench, &stopped.bench_url("BIG"));
     assert!(o.status.success(), "{}", err(&o));
     assert_eq!(content(&stopped), expected);
 }

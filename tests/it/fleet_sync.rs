@@ -29,12 +29,17 @@ pub(crate) fn err(o: &Output) -> String {
 pub(crate) struct TestFleet<'a> {
     pub cluster: &'a Cluster,
     pub name: String,
+    enrolled: std::sync::Mutex<std::collections::HashSet<String>>,
 }
 
 impl<'a> TestFleet<'a> {
     pub(crate) fn new(cluster: &'a Cluster) -> TestFleet<'a> {
         let name = fresh_database(cluster);
-        let f = TestFleet { cluster, name };
+        let f = TestFleet {
+            cluster,
+            name,
+            enrolled: Default::default(),
+        };
         let o = run(&["fleet", "init", "--url", &f.owner_url()]);
         assert!(o.status.success(), "fleet init: {}", err(&o));
         f
@@ -42,11 +47,24 @@ impl<'a> TestFleet<'a> {
     pub(crate) fn owner_url(&self) -> String {
         self.cluster.url(&self.name)
     }
-    pub(crate) fn bench_role(&self) -> String {
-        format!("{}_bench", self.name)
+    /// The login of bench `code`, made by `fleet enrol` the first time it is asked for.
+    pub(crate) fn bench_login(&self, code: &str) -> String {
+        let mut enrolled = self.enrolled.lock().unwrap_or_else(|e| e.into_inner());
+        if !enrolled.contains(code) {
+            let o = run(&["fleet", "enrol", code, "--url", &self.owner_url(), "--json"]);
+            assert!(o.status.success(), "fleet enrol {code}: {}", err(&o));
+            let v: serde_json::Value = serde_json::from_str(&out(&o)).expect("enrol --json");
+            assert_eq!(
+                v["login"],
+                format!("{}_bench_{}", self.name, code.to_lowercase())
+            );
+            enrolled.insert(code.to_string());
+        }
+        format!("{}_bench_{}", self.name, code.to_lowercase())
     }
-    pub(crate) fn bench_url(&self) -> String {
-        self.cluster.url_as(&self.name, &self.bench_role())
+    /// A connection URL as bench `code`'s own login (the test cluster trusts its socket).
+    pub(crate) fn bench_url(&self, code: &str) -> String {
+        self.cluster.url_as(&self.name, &self.bench_login(code))
     }
     pub(crate) fn admin(&self) -> postgres::Client {
         self.cluster.admin(&self.name)
@@ -163,7 +181,7 @@ fn three_demo_benches_sync_into_one_fleet_once() {
         .map(|(code, n)| (code, demo_bench(dir.path(), code, n)))
         .collect();
     for (code, db) in &benches {
-        let r = sync_ok(db, &fleet.bench_url());
+        let r = sync_ok(db, &fleet.bench_url(code));
         assert_eq!(r["bench"], *code);
         assert_eq!(r["push"]["status"], "accepted", "{r}");
     }
@@ -206,8 +224,8 @@ fn three_demo_benches_sync_into_one_fleet_once() {
     );
     // again: nothing changes, the fleet says so
     let before = fleet.state();
-    for (_, db) in &benches {
-        let r = sync_ok(db, &fleet.bench_url());
+    for (code, db) in &benches {
+        let r = sync_ok(db, &fleet.bench_url(code));
         assert_eq!(r["push"]["status"], "unchanged", "{r}");
         assert_eq!(r["pulled"]["lookups"], 0);
     }
@@ -236,7 +254,7 @@ fn three_demo_benches_sync_into_one_fleet_once() {
             db.to_str().unwrap(),
             "verify",
             "--fleet",
-            &fleet.bench_url(),
+            &fleet.bench_url(code),
         ]);
         assert!(o.status.success(), "verify --fleet {code}: {}", err(&o));
         assert!(
@@ -255,7 +273,7 @@ fn a_bench_without_a_code_or_a_server_is_told_why() {
     assert!(o.status.success(), "{}", err(&o));
     let cluster = Cluster::shared();
     let fleet = TestFleet::new(cluster);
-    let o = sync(&db, &fleet.bench_url());
+    let o = sync(&db, &fleet.bench_url("EAST"));
     assert_eq!(o.status.code(), Some(1));
     assert!(err(&o).contains("no code"), "{}", err(&o));
     // a code, then a server that is not there
@@ -279,7 +297,7 @@ fn a_bench_without_a_code_or_a_server_is_told_why() {
     assert_eq!(o.status.code(), Some(2));
     assert!(err(&o).contains("bench code"), "{}", err(&o));
     // once synced, the code stays
-    let o = sync(&db, &fleet.bench_url());
+    let o = sync(&db, &fleet.bench_url("EAST"));
     assert!(o.status.success(), "{}", err(&o));
     let o = run(&["--db", db.to_str().unwrap(), "bench", "code", "WEST"]);
     assert_eq!(o.status.code(), Some(1));
@@ -294,9 +312,9 @@ fn the_bench_role_cannot_change_or_delete_fleet_history() {
     let fleet = TestFleet::new(cluster);
     let dir = tempfile::tempdir().unwrap();
     let db = demo_bench(dir.path(), "NORTH", 20);
-    sync_ok(&db, &fleet.bench_url());
+    sync_ok(&db, &fleet.bench_url("NORTH"));
     let before = fleet.state();
-    let role = fleet.bench_role();
+    let role = fleet.bench_login("NORTH");
     for sql in [
         "UPDATE bench_chain SET actor = 'someone else'",
         "DELETE FROM bench_chain",
@@ -372,7 +390,7 @@ fn a_rewritten_history_is_refused_as_a_fork_and_the_fleet_is_unchanged() {
     let fleet = TestFleet::new(cluster);
     let dir = tempfile::tempdir().unwrap();
     let db = demo_bench(dir.path(), "NORTH", 30);
-    sync_ok(&db, &fleet.bench_url());
+    sync_ok(&db, &fleet.bench_url("NORTH"));
     let before = fleet.state();
     // the rewritten chain is whole: the bench's own verify cannot see it
     rewrite_history(&db, 10);
@@ -380,7 +398,7 @@ fn a_rewritten_history_is_refused_as_a_fork_and_the_fleet_is_unchanged() {
     let o = run(&["--db", db.to_str().unwrap(), "verify"]);
     assert!(o.status.success(), "{}", err(&o));
     // the fleet can
-    let o = sync(&db, &fleet.bench_url());
+    let o = sync(&db, &fleet.bench_url("NORTH"));
     assert_eq!(o.status.code(), Some(1), "{}", out(&o));
     assert!(err(&o).contains("refused the push (fork)"), "{}", err(&o));
     assert_eq!(
@@ -408,7 +426,7 @@ fn a_rewritten_history_is_refused_as_a_fork_and_the_fleet_is_unchanged() {
         db.to_str().unwrap(),
         "verify",
         "--fleet",
-        &fleet.bench_url(),
+        &fleet.bench_url("NORTH"),
     ]);
     assert_eq!(o.status.code(), Some(1));
     assert!(
@@ -424,11 +442,11 @@ fn a_hand_made_push_through_the_bench_role_is_checked_inside_the_server() {
     let fleet = TestFleet::new(cluster);
     let dir = tempfile::tempdir().unwrap();
     let db = demo_bench(dir.path(), "NORTH", 20);
-    sync_ok(&db, &fleet.bench_url());
+    sync_ok(&db, &fleet.bench_url("NORTH"));
     let before = fleet.state();
     let chain = bench_chain(&db);
     let (head_seq, head_hash) = chain.last().cloned().unwrap();
-    let mut c = postgres::Client::connect(&fleet.bench_url(), postgres::NoTls).unwrap();
+    let mut c = postgres::Client::connect(&fleet.bench_url("NORTH"), postgres::NoTls).unwrap();
     let push = |c: &mut postgres::Client, seq: i64, prev: &str, hash: &str| -> (String, String) {
         let mut tx = c.transaction().unwrap();
         tx.execute(
@@ -470,12 +488,12 @@ fn a_hand_made_push_through_the_bench_role_is_checked_inside_the_server() {
     // the bench role cannot read what others staged, nor empty the refusals
     let (ok, _, stderr) = cluster.psql(
         &fleet.name,
-        &fleet.bench_role(),
+        &fleet.bench_login("NORTH"),
         "SELECT * FROM push_entries",
     );
     assert!(!ok && stderr.contains("permission denied"), "{stderr}");
     // and the bench itself still syncs
-    let r = sync_ok(&db, &fleet.bench_url());
+    let r = sync_ok(&db, &fleet.bench_url("NORTH"));
     assert_eq!(r["push"]["status"], "unchanged");
 }
 
@@ -486,7 +504,7 @@ fn a_nul_character_in_a_note_is_stored_encoded_and_reads_back() {
     let dir = tempfile::tempdir().unwrap();
     let db = demo_bench(dir.path(), "NORTH", 10);
     let inc = add_incident(&db, "before\0after");
-    sync_ok(&db, &fleet.bench_url());
+    sync_ok(&db, &fleet.bench_url("NORTH"));
     let image: String = fleet
         .admin()
         .query_one(
@@ -508,7 +526,7 @@ fn a_nul_character_in_a_note_is_stored_encoded_and_reads_back() {
         db.to_str().unwrap(),
         "verify",
         "--fleet",
-        &fleet.bench_url(),
+        &fleet.bench_url("NORTH"),
     ]);
     assert!(o.status.success(), "{}", err(&o));
 }
@@ -524,16 +542,17 @@ fn four_benches_syncing_at_once_lose_nothing() {
         .map(|c| demo_bench(dir.path(), c, 40))
         .collect();
     for round in 0..2 {
-        let children: Vec<_> = dbs
+        let children: Vec<_> = codes
             .iter()
-            .map(|db| {
+            .zip(&dbs)
+            .map(|(code, db)| {
                 bin()
                     .args([
                         "--db",
                         db.to_str().unwrap(),
                         "sync",
                         "--fleet",
-                        &fleet.bench_url(),
+                        &fleet.bench_url(code),
                     ])
                     .stdout(std::process::Stdio::piped())
                     .stderr(std::process::Stdio::piped())

@@ -15,6 +15,11 @@ pub(crate) struct Chain {
 }
 
 impl Chain {
+    /// The sequence number of the last row.
+    pub(crate) fn seq(&self) -> i64 {
+        self.seq
+    }
+
     pub(crate) fn load(conn: &Connection) -> Result<Chain, StoreError> {
         let last = conn
             .query_row(

@@ -5,24 +5,31 @@
 //!
 //! - `connect`: the URL, TLS (rustls) for `sslmode=require`, a clear message when the server
 //!   cannot be reached.
-//! - `schema`: the fleet's numbered migrations and its two roles.
+//! - `schema`: the fleet's numbered migrations, its two roles and a login per bench.
 //! - `push`: a bench's chain, records and files staged by binary COPY, then `fleet_push()`.
 //! - `pull`: reference data of other benches merged into this bench by code.
 //! - `status`: per bench its witnessed head, last sync, incidents, conflicts, refusals.
+//! - `pull_incidents`: the incidents other benches sent to this one, as the fleet holds them.
+//! - `status`: also the open conflicts with both versions.
+//! - `resolve`: the owning bench settles a conflict with a new edit that names it.
 //! - `sync`: push then pull, with the bench's receipts and `verify --fleet`.
 
 mod connect;
 mod pull;
+mod pull_incidents;
 mod push;
+mod resolve;
 mod schema;
 mod status;
 mod sync;
 
 pub use connect::Fleet;
 pub use pull::PullReport;
+pub use pull_incidents::IncidentPull;
 pub use push::PushOutcome;
-pub use schema::{FleetInit, FLEET_SCHEMA_VERSION};
-pub use status::{BenchStatus, FleetStatus};
+pub use resolve::{resolve, ResolveReport};
+pub use schema::{FleetInit, FleetLogin, FLEET_SCHEMA_VERSION};
+pub use status::{BenchStatus, Conflict, FleetStatus};
 pub use sync::{sync, verify_fleet, FleetVerify, SyncReport};
 
 /// Why a fleet operation failed. The message names what to do.

@@ -29,7 +29,8 @@ pub struct PushOutcome {
     pub records: i64,
     /// Edits the fleet kept as conflicts.
     pub conflicts: i64,
-    /// Attachment files sent.
+    /// Files sent: attachments, and the stored analyses of incidents sent to another bench
+    /// (the record's image holds only their SHA-256; the receiving bench needs them whole).
     pub files: u64,
     /// The fleet's receipt (None while the fleet has accepted nothing of this bench).
     pub receipt: Option<Receipt>,
@@ -46,22 +47,67 @@ pub(crate) fn witnessed_head(fleet: &mut Fleet, bench: &str) -> Result<(i64, Str
         .unwrap_or((0, crate::store::canon::GENESIS.to_string())))
 }
 
-/// Push this bench's new history to the fleet.
+/// Push this bench's new history to the fleet: up to the first transfer and, while
+/// there is more, again from there (each push one fleet transaction with its receipt,
+/// kept by `keep`). The outcomes are added up; the last receipt is the fleet's head.
 pub(crate) fn push(
     store: &Store,
     fleet: &mut Fleet,
     bench: &str,
+    mut keep: impl FnMut(&Receipt) -> Result<(), FleetError>,
 ) -> Result<PushOutcome, FleetError> {
-    let (head_seq, _) = witnessed_head(fleet, bench)?;
+    let mut total: Option<PushOutcome> = None;
+    loop {
+        let (head_seq, _) = witnessed_head(fleet, bench)?;
+        let cut = store.push_cut_after(head_seq)?;
+        let one = push_once(store, fleet, bench, head_seq, cut)?;
+        if let Some(r) = &one.receipt {
+            keep(r)?;
+        }
+        total = Some(match total {
+            None => one,
+            Some(t) => PushOutcome {
+                status: if t.status == "accepted" || one.status == "accepted" {
+                    "accepted".into()
+                } else {
+                    one.status
+                },
+                rows_sent: t.rows_sent + one.rows_sent,
+                records: t.records + one.records,
+                conflicts: t.conflicts + one.conflicts,
+                files: t.files + one.files,
+                receipt: one.receipt.or(t.receipt),
+            },
+        });
+        if cut.is_none() {
+            break;
+        }
+    }
+    total.ok_or_else(|| FleetError::Database("no push was made".into()))
+}
+
+/// One push: the rows from the fleet's head to `cut` (to the end when None).
+fn push_once(
+    store: &Store,
+    fleet: &mut Fleet,
+    bench: &str,
+    head_seq: i64,
+    cut: Option<i64>,
+) -> Result<PushOutcome, FleetError> {
     let (local_seq, _) = store.audit_head_entry()?;
     let from_seq = head_seq.min(local_seq).max(1);
+    let to_seq = cut.unwrap_or(i64::MAX);
+    // the fleet applies only the rows after its head: the records and files of the head row
+    // (a bulk load lists a thousand) went with the push that brought it
+    let new_from = head_seq.max(0) + 1;
     let files_dir = store.files_dir().map(Path::to_path_buf);
     store.in_snapshot(|conn| {
         let mut tx = fleet.client.transaction()?;
-        let rows_sent = stage_rows(&mut tx, conn, from_seq)?;
-        let listed = outbox::batch_listed(conn, from_seq)?;
+        let rows_sent = stage_rows(&mut tx, conn, from_seq, to_seq)?;
+        let listed = outbox::batch_listed(conn, new_from)?;
         stage_images(&mut tx, conn, &listed)?;
-        let files = stage_files(&mut tx, conn, from_seq, &listed, files_dir.as_deref())?;
+        let files = stage_files(&mut tx, conn, new_from, &listed, files_dir.as_deref())?
+            + stage_analyses(&mut tx, conn, from_seq, to_seq)?;
         let row = tx.query_one(
             "SELECT status, detail, receipt_seq, receipt_hash, head_seq, head_hash, records,
                     conflicts FROM fleet_push($1)",
@@ -139,6 +185,7 @@ fn stage_rows(
     tx: &mut Transaction<'_>,
     conn: &Connection,
     from_seq: i64,
+    to_seq: i64,
 ) -> Result<u64, FleetError> {
     let sink = tx.copy_in(
         "COPY push_entries (seq, at, actor, entity, entity_id, op, before, after, prev_hash, hash)
@@ -159,7 +206,7 @@ fn stage_rows(
     let mut writer = BinaryCopyInWriter::new(sink, &types);
     let mut n = 0u64;
     let mut failure: Option<FleetError> = None;
-    outbox::for_each_row(conn, from_seq, |row| {
+    outbox::for_each_row_until(conn, from_seq, to_seq, |row| {
         if let Err(e) = check_storable(&row) {
             failure = Some(e);
             return Err(crate::store::StoreError::Invalid {
@@ -251,6 +298,64 @@ fn stage_files(
         tx.execute(
             "INSERT INTO push_files (sha256, bytes) VALUES ($1, $2)",
             &[sha, &bytes],
+        )?;
+        n += 1;
+    }
+    Ok(n)
+}
+
+/// The stored analyses of the incidents this push sends to another bench, as files named by
+/// the SHA-256 of their canonical text (the digest the incident's image holds in their
+/// place), those the fleet lacks.
+fn stage_analyses(
+    tx: &mut Transaction<'_>,
+    conn: &Connection,
+    from_seq: i64,
+    to_seq: i64,
+) -> Result<u64, FleetError> {
+    let mut sent: Vec<String> = Vec::new();
+    outbox::for_each_row_until(conn, from_seq, to_seq, |row| {
+        if row.entity == crate::store::moves::TRANSFER && row.op == "insert" {
+            let incident = row
+                .after
+                .as_deref()
+                .and_then(|a| serde_json::from_str::<serde_json::Value>(a).ok())
+                .and_then(|v| v.get("incident")?.as_str().map(str::to_string));
+            sent.extend(incident);
+        }
+        Ok(())
+    })?;
+    let mut blobs: Vec<(String, String)> = Vec::new();
+    for id in &sent {
+        let Some(inc) = crate::store::incidents::load(conn, id)? else {
+            continue;
+        };
+        for result in inc.examinations.iter().filter_map(|e| e.result.as_ref()) {
+            let text = crate::store::canon::canonical_value(&result.analysis);
+            blobs.push((crate::store::canon::sha256_hex(text.as_bytes()), text));
+        }
+    }
+    if blobs.is_empty() {
+        return Ok(0);
+    }
+    let hashes: Vec<&String> = blobs.iter().map(|(h, _)| h).collect();
+    let present: HashSet<String> = tx
+        .query(
+            "SELECT sha256 FROM fleet_files WHERE sha256 = ANY($1)",
+            &[&hashes],
+        )?
+        .into_iter()
+        .map(|r| r.get(0))
+        .collect();
+    let mut n = 0;
+    let mut staged = HashSet::new();
+    for (sha, text) in &blobs {
+        if present.contains(sha) || !staged.insert(sha.clone()) {
+            continue;
+        }
+        tx.execute(
+            "INSERT INTO push_files (sha256, bytes) VALUES ($1, $2)",
+            &[sha, &text.as_bytes()],
         )?;
         n += 1;
     }

@@ -14,6 +14,14 @@ const MIGRATIONS: &[(&str, &str)] = &[
         "0002_push.sql",
         include_str!("../../../schema/fleet/0002_push.sql"),
     ),
+    (
+        "0003_push_speed.sql",
+        include_str!("../../../schema/fleet/0003_push_speed.sql"),
+    ),
+    (
+        "0004_moves.sql",
+        include_str!("../../../schema/fleet/0004_moves.sql"),
+    ),
 ];
 
 /// The fleet schema version this build writes.
@@ -30,6 +38,14 @@ pub struct FleetInit {
     pub reader_role: String,
 }
 
+/// A bench's own login, as `fleet enrol` made it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct FleetLogin {
+    pub bench: String,
+    pub login: String,
+    pub password: String,
+}
+
 /// Roles and grants, by the database's name (so that two fleets on one server keep apart).
 /// Lookup of the names in SQL: nothing of the user's text is put into a statement here.
 const ROLES: &str = r#"
@@ -38,10 +54,12 @@ DECLARE
     b text := current_database() || '_bench';
     r text := current_database() || '_reader';
 BEGIN
+    -- the benches' group: each bench logs in with its own member of it (fleet_enrol)
     BEGIN
-        EXECUTE format('CREATE ROLE %I LOGIN', b);
+        EXECUTE format('CREATE ROLE %I NOLOGIN', b);
     EXCEPTION WHEN duplicate_object OR unique_violation THEN NULL;
     END;
+    EXECUTE format('ALTER ROLE %I NOLOGIN', b);
     BEGIN
         EXECUTE format('CREATE ROLE %I LOGIN', r);
     EXCEPTION WHEN duplicate_object OR unique_violation THEN NULL;
@@ -51,8 +69,8 @@ BEGIN
     EXECUTE format('GRANT USAGE ON SCHEMA public TO %I, %I', b, r);
     EXECUTE format('GRANT SELECT ON fleet_schema, fleet_benches, bench_chain, fleet_receipts,
         fleet_records, fleet_refusals, fleet_conflicts TO %I, %I', b, r);
-    EXECUTE format('GRANT SELECT (sha256) ON fleet_files TO %I', b);
-    EXECUTE format('GRANT SELECT ON fleet_files TO %I', r);
+    -- a bench pulls the files of the incidents sent to it
+    EXECUTE format('GRANT SELECT ON fleet_files TO %I, %I', b, r);
     EXECUTE format('GRANT INSERT ON push_entries, push_records, push_files TO %I', b);
     REVOKE EXECUTE ON ALL FUNCTIONS IN SCHEMA public FROM PUBLIC;
     EXECUTE format('GRANT EXECUTE ON FUNCTION fleet_push(text) TO %I', b);
@@ -127,6 +145,27 @@ impl Fleet {
             version: FLEET_SCHEMA_VERSION,
             bench_role: row.get(0),
             reader_role: row.get(1),
+        })
+    }
+
+    /// Give bench `code` its own login (a member of the bench role) with a new random
+    /// password, or a new password to the login it has. Returns (login, password); the
+    /// password is not kept anywhere else.
+    pub fn enrol(&mut self, code: &str) -> Result<FleetLogin, FleetError> {
+        self.check_schema()?;
+        let code = crate::store::check_bench_code(code).map_err(FleetError::Usage)?;
+        let mut secret = [0u8; 18];
+        getrandom::fill(&mut secret)
+            .map_err(|e| FleetError::Database(format!("the system's random generator: {e}")))?;
+        let password = crate::store::canon::hex(&secret);
+        let role: String = self
+            .client
+            .query_one("SELECT fleet_enrol($1, $2)", &[&code, &password])?
+            .get(0);
+        Ok(FleetLogin {
+            bench: code,
+            login: role,
+            password,
         })
     }
 

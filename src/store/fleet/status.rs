@@ -22,6 +22,86 @@ pub struct BenchStatus {
     pub last_refusal: Option<String>,
 }
 
+/// A conflict the fleet keeps open: the version it holds and the one it did not apply.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Conflict {
+    /// The fleet's number of the conflict (`fleet resolve N`).
+    pub id: i64,
+    /// "edit" (a change the fleet did not apply) or "transfer" (a bench sent an incident it
+    /// did not own).
+    pub kind: String,
+    pub entity: String,
+    pub record_id: String,
+    /// The incident's reference as the fleet shows it, when it is one.
+    pub reference: Option<String>,
+    /// The bench whose row was not applied, and that row.
+    pub bench: String,
+    pub bench_seq: i64,
+    /// The bench that owns the record in the fleet.
+    pub owner: Option<String>,
+    /// RFC 3339 UTC.
+    pub opened_at: String,
+    /// The version the fleet holds, and the version it kept aside (canonical JSON).
+    pub fleet_image: Option<String>,
+    pub bench_image: Option<String>,
+    /// Top-level fields in which the two versions differ.
+    pub differs_in: Vec<String>,
+    /// RFC 3339 UTC, None while open.
+    pub resolved_at: Option<String>,
+}
+
+/// The top-level keys whose values differ between two JSON object texts.
+fn differing_keys(a: Option<&str>, b: Option<&str>) -> Vec<String> {
+    let parse = |t: Option<&str>| {
+        t.and_then(|t| serde_json::from_str::<serde_json::Map<String, serde_json::Value>>(t).ok())
+            .unwrap_or_default()
+    };
+    let (a, b) = (parse(a), parse(b));
+    let mut keys: Vec<String> = a
+        .keys()
+        .chain(b.keys())
+        .filter(|k| a.get(*k) != b.get(*k))
+        .cloned()
+        .collect();
+    keys.sort();
+    keys.dedup();
+    keys
+}
+
+/// The columns `conflict_row` reads (a macro so that the queries can `concat!` it).
+macro_rules! conflict_select {
+    () => {
+        "SELECT c.id, c.kind, c.entity, c.record_id, r.reference, c.bench,
+        c.bench_seq, r.owner,
+        to_char(c.opened_at AT TIME ZONE 'UTC', 'YYYY-MM-DD\"T\"HH24:MI:SS\"Z\"'),
+        c.fleet_image, c.bench_image,
+        to_char(c.resolved_at AT TIME ZONE 'UTC', 'YYYY-MM-DD\"T\"HH24:MI:SS\"Z\"')
+     FROM fleet_conflicts c
+     LEFT JOIN fleet_records r ON r.entity = c.entity AND r.id = c.record_id
+          AND c.entity <> 'lookup'"
+    };
+}
+
+fn conflict_row(r: &postgres::Row) -> Conflict {
+    let fleet_image: Option<String> = r.get(9);
+    let bench_image: Option<String> = r.get(10);
+    Conflict {
+        id: r.get(0),
+        kind: r.get(1),
+        entity: r.get(2),
+        record_id: r.get(3),
+        reference: r.get(4),
+        bench: r.get(5),
+        bench_seq: r.get(6),
+        owner: r.get(7),
+        opened_at: r.get(8),
+        differs_in: differing_keys(fleet_image.as_deref(), bench_image.as_deref()),
+        fleet_image,
+        bench_image,
+        resolved_at: r.get(11),
+    }
+}
+
 /// The whole fleet.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct FleetStatus {
@@ -32,6 +112,8 @@ pub struct FleetStatus {
     pub head_hash: String,
     pub incidents: i64,
     pub benches: Vec<BenchStatus>,
+    /// The open conflicts, oldest first, each with both versions.
+    pub conflicts: Vec<Conflict>,
 }
 
 impl Fleet {
@@ -81,6 +163,18 @@ impl Fleet {
                 last_refusal: r.get(7),
             })
             .collect();
+        let conflicts = self
+            .client
+            .query(
+                concat!(
+                    conflict_select!(),
+                    " WHERE c.resolved_at IS NULL ORDER BY c.id"
+                ),
+                &[],
+            )?
+            .iter()
+            .map(conflict_row)
+            .collect();
         Ok(FleetStatus {
             database: self.shown.clone(),
             schema_version,
@@ -88,6 +182,17 @@ impl Fleet {
             head_hash,
             incidents,
             benches,
+            conflicts,
         })
+    }
+
+    /// One conflict, open or resolved.
+    pub fn conflict(&mut self, id: i64) -> Result<Option<Conflict>, FleetError> {
+        self.check_schema()?;
+        Ok(self
+            .client
+            .query_opt(concat!(conflict_select!(), " WHERE c.id = $1"), &[&id])?
+            .as_ref()
+            .map(conflict_row))
     }
 }

@@ -5,6 +5,7 @@
 use sha2::{Digest, Sha256};
 
 use super::pull::{self, PullReport};
+use super::pull_incidents::{self, IncidentPull};
 use super::push::{self, witnessed_head, PushOutcome};
 use super::{Fleet, FleetError};
 use crate::store::canon::{self, GENESIS};
@@ -18,10 +19,12 @@ pub struct SyncReport {
     pub fleet: String,
     pub push: PushOutcome,
     pub pulled: PullReport,
+    /// Incidents other benches sent here.
+    pub received: IncidentPull,
 }
 
 /// The bench's code, or the message that says how to set one.
-fn code_of(store: &Store) -> Result<String, FleetError> {
+pub(crate) fn code_of(store: &Store) -> Result<String, FleetError> {
     store.bench_code()?.ok_or_else(|| {
         FleetError::Bench(
             "this bench has no code, so the fleet cannot know it; set one with `shardlog bench code CODE` (2 to 8 letters or digits) and sync again".into(),
@@ -34,10 +37,7 @@ pub fn sync(store: &mut Store, url: &str) -> Result<SyncReport, FleetError> {
     let bench = code_of(store)?;
     let mut fleet = Fleet::connect(url)?;
     fleet.check_schema()?;
-    let outcome = push::push(store, &mut fleet, &bench)?;
-    if let Some(r) = &outcome.receipt {
-        store.save_receipt(r)?;
-    }
+    let outcome = push::push(store, &mut fleet, &bench, |r| Ok(store.save_receipt(r)?))?;
     // the fleet witnessed more of this bench than the bench now holds: an old copy
     let (head_seq, head_hash) = witnessed_head(&mut fleet, &bench)?;
     let (local_seq, _) = store.audit_head_entry()?;
@@ -50,12 +50,14 @@ pub fn sync(store: &mut Store, url: &str) -> Result<SyncReport, FleetError> {
             ),
         });
     }
-    let pulled = pull::pull(store, &mut fleet, &bench)?;
+    let (pulled, head) = pull::pull(store, &mut fleet, &bench, local_seq)?;
+    let received = pull_incidents::pull_incidents(store, &mut fleet, &bench, head)?;
     Ok(SyncReport {
         bench,
         fleet: fleet.shown().to_string(),
         push: outcome,
         pulled,
+        received,
     })
 }
 

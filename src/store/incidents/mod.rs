@@ -105,13 +105,13 @@ mod write;
 pub(crate) use children::for_each_incident;
 pub(crate) use children::for_each_readable_incident;
 pub(crate) use facts::{fill_fleet_facts, fill_fleet_facts_after, fleet_facts_problems};
-pub(crate) use read::load;
+pub(crate) use read::{load, resolve_key};
 pub(crate) use refs::{RefCache, Refs};
 pub(crate) use validate::validate;
 pub use write::check_bench_code;
 pub(crate) use write::{
     bench_code, format_reference, insert_new, insert_prepared, next_reference, prepare,
-    reference_prefix, Prepared,
+    put_from_fleet, reference_prefix, Prepared,
 };
 
 /// Columns kept for the log and statistics, derived from the aggregate.

@@ -622,7 +622,7 @@ impl Store {
         Ok(out)
     }
 
-    fn update_in(
+    pub(crate) fn update_in(
         conn: &Connection,
         ids: &mut IdGen,
         lookups: &Lookups,
@@ -829,4 +829,50 @@ impl Store {
         tx.commit()?;
         Ok(())
     }
+}
+
+/// Put an incident exactly as the fleet holds it (a pull): inserted when this bench lacks
+/// it, else its row and children replaced, its reference, revision and times kept as they
+/// came, so that its image here is the fleet's byte for byte. One audit row, by `stamp`.
+/// Returns whether anything changed.
+pub(crate) fn put_from_fleet(
+    conn: &Connection,
+    chain: &mut Chain,
+    ids: &mut IdGen,
+    inc: &Incident,
+    stamp: &Stamp,
+) -> Result<bool, StoreError> {
+    let refs = Store::resolve_refs(
+        conn,
+        chain,
+        ids,
+        inc,
+        stamp,
+        false,
+        &mut RefCache::default(),
+    )?;
+    let Some((seq, current, _)) = load_row(conn, &inc.id)? else {
+        insert_new(conn, chain, inc, &refs, stamp, None)?;
+        return Ok(true);
+    };
+    let before = canon::incident_image(&current)?;
+    let after = canon::incident_image(inc)?;
+    if before == after {
+        return Ok(false);
+    }
+    let d = derive(inc);
+    let owned = row_text(inc)?;
+    let mut values = row_values(inc, &refs, &d, &owned);
+    let legacy = !crate::store::sqlite::columns_present(conn);
+    values.values.truncate(written(legacy));
+    values
+        .values
+        .push(ToSqlOutput::Borrowed(ValueRef::Integer(current.revision)));
+    conn.prepare_cached(update_sql(legacy))?
+        .execute(params_from_iter(values.values.iter()))?;
+    delete_children(conn, &inc.id)?;
+    insert_children(conn, inc)?;
+    sqlite::fts_put(conn, seq, &search_body(inc))?;
+    chain.record(conn, stamp, INCIDENT, &inc.id, Some(&before), Some(&after))?;
+    Ok(true)
 }

@@ -43,6 +43,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0008_bench_practice.sql",
         include_str!("../../../schema/0008_bench_practice.sql"),
     ),
+    (
+        "0010_fleet_moves.sql",
+        include_str!("../../../schema/0010_fleet_moves.sql"),
+    ),
 ];
 
 /// The migration that adds the viewing modes (lookup rows the store audits) and the
