@@ -13,7 +13,9 @@
 
 use std::fmt;
 
+mod property;
 mod range;
+pub use property::{parse_density, parse_expansion, parse_poisson};
 pub use range::{physical_range, PhysicalRange};
 
 /// What a quantity measures. Stress and pressure share one dimension (Pa).

@@ -9,6 +9,7 @@ use super::field::{Field, FieldKind, FieldValue};
 use super::form::{Form, FormEvent};
 use super::picklist::{PickItem, PickList};
 use super::{Action, Ctx};
+use crate::store::MaterialBook;
 use shardlog_core::fracture::{
     self, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
     ConstantOverride, FlawGeometry, FlawKind, OriginLocation, Temper,
@@ -69,6 +70,22 @@ pub struct BenchState {
     /// The largest useful `scroll`, as the last frame measured it (the view sets it; the
     /// state only uses it to keep scrolling in range).
     pub scroll_max: std::cell::Cell<u16>,
+    /// The materials the pick-list offers: the library, then the database's own.
+    pub materials: MaterialBook,
+}
+
+/// The material pick-list's items: the library, then the own materials marked "own".
+fn material_items(book: &MaterialBook) -> Vec<PickItem> {
+    materials::library()
+        .into_iter()
+        .map(|m| PickItem::new(m.key.clone(), format!("{} ({})", m.name, m.key)))
+        .chain(book.own_materials().iter().map(|o| {
+            PickItem::new(
+                o.code.clone(),
+                format!("{} ({}, own)", o.material.name, o.code),
+            )
+        }))
+        .collect()
 }
 
 impl std::fmt::Debug for BenchState {
@@ -139,10 +156,7 @@ pub const DEFAULT_ASPECT: f64 = 0.8;
 
 impl BenchState {
     pub fn new() -> Self {
-        let mats: Vec<PickItem> = materials::library()
-            .into_iter()
-            .map(|m| PickItem::new(m.key.clone(), format!("{} ({})", m.name, m.key)))
-            .collect();
+        let mats = material_items(&MaterialBook::library_only());
         let mut form = Form::default();
         form.push_pick(
             PickList::new("material", "Material", mats)
@@ -239,9 +253,32 @@ impl BenchState {
             hypothesis_stash: std::collections::HashMap::new(),
             scroll: 0,
             scroll_max: std::cell::Cell::new(u16::MAX),
+            materials: MaterialBook::library_only(),
         };
         b.recompute();
         b
+    }
+
+    /// A fresh calculator offering the library and these own materials.
+    pub fn with_materials(book: MaterialBook) -> Self {
+        let mut b = BenchState::new();
+        b.set_materials(book);
+        b
+    }
+
+    /// Offer the library and these own materials (the choice stays when it is still
+    /// offered), and recompute.
+    pub fn set_materials(&mut self, book: MaterialBook) {
+        if let Some(p) = self.form.pick_mut("material") {
+            p.set_items(material_items(&book));
+        }
+        self.materials = book;
+        self.recompute();
+    }
+
+    /// The material picked, from the library or the own materials.
+    pub fn material(&self) -> Option<materials::Material> {
+        self.materials.find(&self.form.text("material"))
     }
 
     pub fn ctx(&self) -> Ctx {
@@ -326,7 +363,8 @@ impl BenchState {
             Outcome::Done { analysis, .. } => Some(analysis.as_ref()),
             _ => None,
         };
-        self.hypothesis = super::hypothesis::check(&self.form, analysis);
+        let material = self.material();
+        self.hypothesis = super::hypothesis::check(&self.form, analysis, material.as_ref());
     }
 
     /// Thermal edge stress for the typed ΔT with the material's E and α (restraint k as typed,
@@ -337,7 +375,7 @@ impl BenchState {
             Ok(None) => return None,
             Err(e) => return Some(Err(e)),
         };
-        let material = materials::find(&self.form.text("material"))?;
+        let material = self.material()?;
         let (Some(e), Some(a)) = (&material.youngs_modulus, &material.expansion) else {
             return Some(Err(format!(
                 "{} has no Young's modulus or expansion coefficient in the library",
@@ -407,9 +445,9 @@ impl BenchState {
 
     /// The analysis input the form describes; `Ok(None)` when no reading is typed yet.
     pub fn input(&self) -> Result<Option<AnalysisInput>, String> {
-        let key = self.form.text("material");
-        let material =
-            materials::find(&key).ok_or_else(|| "Material: pick one from the list".to_string())?;
+        let material = self
+            .material()
+            .ok_or_else(|| "Material: pick one from the list".to_string())?;
         let mut input = AnalysisInput::new(material);
         for (k, boundary) in [
             ("r_mist", Boundary::MirrorMist),

@@ -6,7 +6,7 @@
 use super::bench::BenchState;
 use super::form::FormItem;
 use crate::store::model::{Examination, Incident};
-use shardlog_core::fracture::{materials, AnalysisInput, Boundary, FlawGeometry, OriginLocation};
+use shardlog_core::fracture::{AnalysisInput, Boundary, FlawGeometry, OriginLocation};
 use shardlog_core::units::{format_exact, Unit};
 
 impl BenchState {
@@ -23,10 +23,9 @@ impl BenchState {
             .and_then(|e| e.material.clone())
             .or_else(|| ply.and_then(|p| p.material.clone()))
             .map(|m| m.replace('_', "-"));
-        if let (Some(m), Some(p)) = (material, self.form.pick_mut("material")) {
-            if materials::find(&m).is_some() {
-                p.choose_code(&m);
-            }
+        let found = material.and_then(|m| self.materials.find(&m));
+        if let (Some(m), Some(p)) = (found, self.form.pick_mut("material")) {
+            p.choose_code(&m.key);
         }
         if let (Some(t), Some(p)) = (
             ply.and_then(|p| p.temper.clone()),

@@ -320,7 +320,11 @@ fn label_of(form: &Form, key: &str) -> &'static str {
 }
 
 /// Evaluate the hypothesis the form describes. `None` while none of its inputs is typed.
-pub fn check(form: &Form, analysis: Option<&Analysis>) -> Option<Result<Check, String>> {
+pub fn check(
+    form: &Form,
+    analysis: Option<&Analysis>,
+    material: Option<&materials::Material>,
+) -> Option<Result<Check, String>> {
     let kind = kind_code(&form.text("hypothesis"));
     let typed: Vec<&str> = match kind {
         "impulse" => vec!["h_mass", "h_speed", "h_time"],
@@ -332,7 +336,7 @@ pub fn check(form: &Form, analysis: Option<&Analysis>) -> Option<Result<Check, S
     if typed.iter().all(|k| form.text(k).is_empty()) {
         return None;
     }
-    Some(build(form, kind).and_then(|(h, summary)| {
+    Some(build(form, kind, material).and_then(|(h, summary)| {
         let strength = value(form, "h_strength")?;
         let outcome = loads::evaluate(&h).map_err(|e| e.to_string())?;
         Ok(judge(kind, summary, outcome, analysis, strength))
@@ -348,8 +352,11 @@ fn need(form: &Form, key: &str) -> Result<f64, String> {
     })
 }
 
-fn elastic(form: &Form) -> Result<(materials::Material, loads::Elastic), String> {
-    let m = materials::find(&form.text("material"))
+fn elastic(
+    material: Option<&materials::Material>,
+) -> Result<(materials::Material, loads::Elastic), String> {
+    let m = material
+        .cloned()
         .ok_or_else(|| "Material: pick one from the list".to_string())?;
     let (Some(e), Some(nu)) = (&m.youngs_modulus, &m.poisson) else {
         return Err(format!(
@@ -364,7 +371,11 @@ fn elastic(form: &Form) -> Result<(materials::Material, loads::Elastic), String>
     Ok((m, el))
 }
 
-fn build(form: &Form, kind: &str) -> Result<(Hypothesis, String), String> {
+fn build(
+    form: &Form,
+    kind: &str,
+    material: Option<&materials::Material>,
+) -> Result<(Hypothesis, String), String> {
     use shardlog_core::units::{format, Unit};
     match kind {
         "impulse" => {
@@ -389,7 +400,7 @@ fn build(form: &Form, kind: &str) -> Result<(Hypothesis, String), String> {
             ))
         }
         "sphere" => {
-            let (_, target) = elastic(form)?;
+            let (_, target) = elastic(material)?;
             let imp = shardlog_core::loads::contact::find_impactor(&form.text("h_impactor"))
                 .ok_or_else(|| "Sphere of: pick a material from the list".to_string())?;
             let d = need(form, "h_sphere_d")?;
@@ -420,7 +431,7 @@ fn build(form: &Form, kind: &str) -> Result<(Hypothesis, String), String> {
             ))
         }
         "plate-pressure" | "plate-patch" => {
-            let (_, material) = elastic(form)?;
+            let (_, material) = elastic(material)?;
             let shape = match form.text("h_shape").as_str() {
                 "circular" => plates::Shape::Circular,
                 _ => plates::Shape::Rectangular,
@@ -481,7 +492,8 @@ fn build(form: &Form, kind: &str) -> Result<(Hypothesis, String), String> {
             ))
         }
         _ => {
-            let m = materials::find(&form.text("material"))
+            let m = material
+                .cloned()
                 .ok_or_else(|| "Material: pick one from the list".to_string())?;
             let (Some(e), Some(a)) = (&m.youngs_modulus, &m.expansion) else {
                 return Err(format!(

@@ -12,6 +12,7 @@ pub mod hypothesis;
 pub mod incident;
 pub mod key;
 pub mod log_view;
+pub mod materials;
 pub mod picklist;
 pub mod review;
 pub mod text_input;
@@ -44,6 +45,8 @@ pub enum Screen {
     Bench,
     /// The fleet review: causes, months, stress, Weibull, groups with rates.
     Review,
+    /// The material library and the own materials.
+    Materials,
 }
 
 /// Which set of keys is active: the key table is keyed by this.
@@ -71,6 +74,8 @@ pub enum Ctx {
     Pick,
     /// The fleet review.
     Review,
+    /// The materials list.
+    Materials,
 }
 
 impl Ctx {
@@ -84,7 +89,10 @@ impl Ctx {
 
     /// Whether the shared moving keys (Global) also apply.
     pub fn has_global(self) -> bool {
-        matches!(self, Ctx::Log | Ctx::Incident | Ctx::Review | Ctx::Global)
+        matches!(
+            self,
+            Ctx::Log | Ctx::Incident | Ctx::Review | Ctx::Materials | Ctx::Global
+        )
     }
 }
 
@@ -136,6 +144,12 @@ pub enum Action {
     ScrollDown,
     /// Open the fleet review.
     OpenReview,
+    /// Open the materials screen.
+    OpenMaterials,
+    /// Materials: a new own material.
+    AddMaterial,
+    /// Materials: an own copy of the highlighted material.
+    CopyMaterial,
     /// Review: the next first grouping key.
     GroupFirst,
     /// Review: the next second grouping key (or none).
@@ -216,6 +230,7 @@ pub struct App {
     pub bench: BenchState,
     pub bench_target: Option<BenchTarget>,
     pub review: ReviewState,
+    pub materials: materials::MaterialsState,
     /// The log's filter before the review opened a group in it: Esc from that log goes back
     /// to the review, and leaving the review gives the log its own filter back.
     pub log_filter_before_review: Option<crate::store::model::Filter>,
@@ -296,6 +311,7 @@ impl App {
             bench: BenchState::new(),
             bench_target: None,
             review: ReviewState::new(),
+            materials: materials::MaterialsState::default(),
             log_filter_before_review: None,
             width: 80,
             height: 24,
@@ -315,6 +331,7 @@ impl App {
     pub fn with_store(store: Store, db: &Path) -> anyhow::Result<Self> {
         let mut app = App::new(db);
         app.lists = load_lists(&store)?;
+        app.bench.set_materials(store.material_book()?);
         app.log.reload(&store)?;
         app.store = Some(store);
         app.stack = vec![Screen::Log];
@@ -376,6 +393,12 @@ impl App {
                 .unwrap_or(Ctx::Global),
             Screen::Bench => self.bench.ctx(),
             Screen::Review => Ctx::Review,
+            Screen::Materials => self
+                .materials
+                .form
+                .as_ref()
+                .map(|f| f.form.ctx())
+                .unwrap_or(Ctx::Materials),
         }
     }
 
@@ -437,6 +460,14 @@ impl App {
                     .to_string(),
             },
             Screen::Review => self.review.status_line(),
+            Screen::Materials if self.materials.form.is_some() => {
+                "type each constant with its unit, ± spread · Ctrl-S saves · Esc leaves the form"
+                    .to_string()
+            }
+            Screen::Materials => format!(
+                "{} materials · library read-only (c copies) · own: e edits",
+                self.materials.rows.len()
+            ),
         }
     }
 
@@ -459,6 +490,7 @@ impl App {
         match self.screen() {
             Screen::Edit => self.edit.as_ref().is_some_and(|e| e.form.is_dirty()),
             Screen::Bench => self.bench_target.is_some() && self.bench.form.is_dirty(),
+            Screen::Materials => self.materials.is_dirty(),
             _ => false,
         }
     }

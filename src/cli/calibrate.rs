@@ -22,6 +22,20 @@ pub struct CalibrateArgs {
     /// Print JSON instead of a table.
     #[arg(long)]
     pub json: bool,
+    /// Store the fitted constants into this own material (updated as its next revision, or
+    /// made from --from), with their provenance and the data's SHA-256.
+    #[arg(long, value_name = "CODE")]
+    pub save: Option<String>,
+    /// With --save, the library material a new own material is made from (its other
+    /// constants are kept).
+    #[arg(long, value_name = "LIBRARY-KEY", requires = "save")]
+    pub from: Option<String>,
+    /// With --save, who calibrated (default: this bench's code, else the analyst).
+    #[arg(long, value_name = "NAME", requires = "save")]
+    pub lab: Option<String>,
+    /// With --save, save even when the slope check fails (the provenance says so).
+    #[arg(long, requires = "save")]
+    pub accept_slope: bool,
 }
 
 /// How the constant and the slope are fitted, named in every output.
@@ -340,6 +354,17 @@ pub fn run(args: CalibrateArgs, ctx: &mut Context) -> Result<(), CliError> {
         )?;
     } else {
         write_table(ctx.out, &file, &breaks, &fits)?;
+    }
+    if let Some(code) = &args.save {
+        let req = super::calibrate_save::SaveRequest {
+            code,
+            from: args.from.as_deref(),
+            lab: args.lab.as_deref(),
+            accept_slope: args.accept_slope,
+            json: args.json,
+            sha256: &breaks.sha256,
+        };
+        super::calibrate_save::save(&req, &fits, ctx)?;
     }
     Ok(())
 }

@@ -9,6 +9,7 @@ use clap::{Args, Subcommand, ValueEnum};
 use serde_json::{json, Map, Value};
 
 use super::{CliError, Context};
+use crate::store::MaterialBook;
 use shardlog_core::fracture::flaw::{self, FlawGeometry};
 use shardlog_core::fracture::materials;
 use shardlog_core::loads::{
@@ -87,7 +88,7 @@ pub struct ImpactArgs {
     /// Sphere material (steel, aluminium, granite, tungsten-carbide, or a library material).
     #[arg(long, allow_hyphen_values = true, requires = "sphere_diameter")]
     pub sphere_material: Option<String>,
-    /// Material of the struck pane (library key, e.g. soda-lime).
+    /// Material of the struck pane (library key or own material code, e.g. soda-lime).
     #[arg(long, allow_hyphen_values = true, default_value = "soda-lime")]
     pub target: String,
     /// Thickness of the struck pane, e.g. 5mm.
@@ -138,7 +139,7 @@ pub struct PlateArgs {
     /// Diameter of the central loaded circle, e.g. 10mm.
     #[arg(long, allow_hyphen_values = true, requires = "force")]
     pub patch: Option<String>,
-    /// Plate material (library key).
+    /// Plate material (library key or own material code).
     #[arg(long, allow_hyphen_values = true, default_value = "soda-lime")]
     pub material: String,
     #[command(flatten)]
@@ -150,7 +151,7 @@ pub struct PlateArgs {
 
 #[derive(Debug, Args)]
 pub struct ThermalArgs {
-    /// Material (library key), e.g. soda-lime.
+    /// Material (library key or own material code), e.g. soda-lime.
     #[arg(long, allow_hyphen_values = true, default_value = "soda-lime")]
     pub material: String,
     /// Temperature difference between the hot centre and the cold edge, e.g. 40K.
@@ -215,11 +216,26 @@ pub struct CriticalArgs {
 }
 
 pub fn run(args: LoadArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    // the database's own materials are read only when a key is not in the library
+    let keys: Vec<&str> = match &*args.kind {
+        LoadKind::Impact(a) => vec![
+            a.target.as_str(),
+            a.sphere_material.as_deref().unwrap_or(""),
+        ],
+        LoadKind::Plate(a) => vec![a.material.as_str()],
+        LoadKind::Thermal(a) => vec![a.material.as_str()],
+        LoadKind::CriticalFlaw(a) => vec![a.material.as_str()],
+    };
+    let keys: Vec<&str> = keys
+        .into_iter()
+        .filter(|k| !k.is_empty() && contact::find_impactor(k).is_none())
+        .collect();
+    let book = super::materials::book_for(&ctx.db, &keys)?;
     let out = match *args.kind {
-        LoadKind::Impact(a) => impact_cmd(a)?,
-        LoadKind::Plate(a) => plate_cmd(a)?,
-        LoadKind::Thermal(a) => thermal_cmd(a)?,
-        LoadKind::CriticalFlaw(a) => critical_cmd(a)?,
+        LoadKind::Impact(a) => impact_cmd(a, &book)?,
+        LoadKind::Plate(a) => plate_cmd(a, &book)?,
+        LoadKind::Thermal(a) => thermal_cmd(a, &book)?,
+        LoadKind::CriticalFlaw(a) => critical_cmd(a, &book)?,
     };
     if out.json {
         let text = serde_json::to_string_pretty(&out.object)
@@ -312,14 +328,15 @@ struct GlassProps {
     density: Option<f64>,
 }
 
-/// A material of the core library (`fracture::materials`), with the constants the load models
-/// use. A missing elastic constant is a failure of the work (the library lacks it).
-fn library_material(flag: &str, key: &str) -> Result<GlassProps, CliError> {
-    let Some(m) = materials::find(key) else {
+/// A material of the core library (`fracture::materials`) or an own material of the
+/// database, with the constants the load models use. A missing elastic constant is a failure
+/// of the work (the material lacks it).
+fn library_material(flag: &str, key: &str, book: &MaterialBook) -> Result<GlassProps, CliError> {
+    let Some(m) = book.find(key) else {
         return Err(CliError::usage(format!(
-            "--{flag}: no material '{}' in the library; expected one of {}",
+            "--{flag}: no material '{}' in the library or the own materials; expected one of {}",
             super::sanitize_for_terminal(key, false),
-            materials::keys().join(", ")
+            book.keys().join(", ")
         )));
     };
     let need = |c: &Option<materials::Constant>, what: &str| {
@@ -477,7 +494,7 @@ fn sound_part_out(out: &mut Output, v: &verdict::Verdict) {
 
 // ---- commands ----
 
-fn impact_cmd(a: ImpactArgs) -> Result<Output, CliError> {
+fn impact_cmd(a: ImpactArgs, book: &MaterialBook) -> Result<Output, CliError> {
     let speed = positive("speed", &a.speed, Dimension::Speed)?;
     let mass = match &a.mass {
         Some(t) => Some(positive("mass", t, Dimension::Mass)?),
@@ -494,7 +511,7 @@ fn impact_cmd(a: ImpactArgs) -> Result<Output, CliError> {
         let (sphere, density, sphere_name) = match contact::find_impactor(sm) {
             Some(i) => (i.elastic, i.density, i.name.to_string()),
             None => {
-                let g = library_material("sphere-material", sm).map_err(|_| {
+                let g = library_material("sphere-material", sm, book).map_err(|_| {
                     CliError::usage(format!(
                         "--sphere-material: no impactor or library material '{sm}'; impactors: {}",
                         contact::IMPACTORS
@@ -512,7 +529,7 @@ fn impact_cmd(a: ImpactArgs) -> Result<Output, CliError> {
                 (g.elastic, g.density.unwrap_or(0.0), g.name)
             }
         };
-        let target = library_material("target", &a.target)?;
+        let target = library_material("target", &a.target, book)?;
         let r = contact::sphere_impact(&contact::SphereImpact {
             sphere_diameter: d,
             sphere,
@@ -604,7 +621,7 @@ fn impact_cmd(a: ImpactArgs) -> Result<Output, CliError> {
     Ok(out.finish())
 }
 
-fn plate_cmd(a: PlateArgs) -> Result<Output, CliError> {
+fn plate_cmd(a: PlateArgs, book: &MaterialBook) -> Result<Output, CliError> {
     let span = positive("span", &a.span, Dimension::Length)?;
     let span_b = match &a.span_b {
         Some(t) => Some(positive("span-b", t, Dimension::Length)?),
@@ -636,7 +653,7 @@ fn plate_cmd(a: PlateArgs) -> Result<Output, CliError> {
         EdgesArg::SimplySupported => plates::Edges::SimplySupported,
         EdgesArg::Clamped => plates::Edges::Clamped,
     };
-    let mat = library_material("material", &a.material)?;
+    let mat = library_material("material", &a.material, book)?;
     let r = plates::bend(&plates::Plate {
         shape,
         edges,
@@ -667,7 +684,7 @@ fn plate_cmd(a: PlateArgs) -> Result<Output, CliError> {
     Ok(out.finish())
 }
 
-fn thermal_cmd(a: ThermalArgs) -> Result<Output, CliError> {
+fn thermal_cmd(a: ThermalArgs, book: &MaterialBook) -> Result<Output, CliError> {
     let dt = positive("delta-t", &a.delta_t, Dimension::TemperatureDifference)?;
     let k = number_in(
         "restraint",
@@ -676,7 +693,7 @@ fn thermal_cmd(a: ThermalArgs) -> Result<Output, CliError> {
         2.0,
         "a restraint factor above 0 and at most 2 (1 = fully restrained edge strip)",
     )?;
-    let mat = library_material("material", &a.material)?;
+    let mat = library_material("material", &a.material, book)?;
     let alpha = match mat.expansion {
         Some(x) if x > 0.0 => x,
         Some(_) => {
@@ -727,7 +744,7 @@ fn thermal_cmd(a: ThermalArgs) -> Result<Output, CliError> {
     Ok(out.finish())
 }
 
-fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
+fn critical_cmd(a: CriticalArgs, book: &MaterialBook) -> Result<Output, CliError> {
     let (y, geometry) = match (&a.y, &a.flaw) {
         (Some(t), _) => (
             number_in("y", t, 0.1, 10.0, "a geometry factor from 0.1 to 10")?,
@@ -759,7 +776,7 @@ fn critical_cmd(a: CriticalArgs) -> Result<Output, CliError> {
     };
     let toughness = match &a.toughness {
         Some(t) => positive("toughness", t, Dimension::Toughness)?,
-        None => library_material("material", &a.material)?
+        None => library_material("material", &a.material, book)?
             .toughness
             .ok_or_else(|| {
                 CliError::work(format!(

@@ -10,9 +10,10 @@ use clap::{ArgMatches, FromArgMatches};
 use serde_json::json;
 
 use super::{pad_right_with_gap, CliError, Context};
+use crate::store::MaterialBook;
 use shardlog_core::fracture::{
-    self, analyze, materials, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant,
-    ConstantOverride, FlawGeometry, FlawKind, FractureError, LayerProfile, Origin, Temper,
+    self, analyze, Analysis, AnalysisInput, Boundary, BoundaryReadings, Constant, ConstantOverride,
+    FlawGeometry, FlawKind, FractureError, LayerProfile, Origin, Temper,
 };
 use shardlog_core::text::clean;
 use shardlog_core::units::{self, fmt_sig, format, Dimension, Unit, UnitError};
@@ -20,7 +21,7 @@ use shardlog_core::units::{self, fmt_sig, format, Dimension, Unit, UnitError};
 /// The flags as clap reads them (strings; checked in [`build_input`]).
 #[derive(Debug, Clone, Default, clap::Args)]
 pub struct RawMirrorArgs {
-    /// Material key from `shardlog materials`, e.g. soda-lime.
+    /// Material key or own material code from `shardlog materials`, e.g. soda-lime.
     #[arg(long, value_name = "KEY")]
     pub material: Option<String>,
     /// Start a group of readings: mirror-mist, mist-hackle or branching.
@@ -182,19 +183,19 @@ pub fn core_error(e: FractureError) -> CliError {
 }
 
 /// Check every flag and build the core's input.
-pub fn build_input(args: &MirrorArgs) -> Result<AnalysisInput, CliError> {
+pub fn build_input(args: &MirrorArgs, book: &MaterialBook) -> Result<AnalysisInput, CliError> {
     let raw = &args.raw;
     let key = raw.material.as_deref().ok_or_else(|| {
         CliError::usage(format!(
             "--material: missing; expected a material key ({})",
-            materials::keys().join(", ")
+            book.keys().join(", ")
         ))
     })?;
-    let material = materials::find(key).ok_or_else(|| {
+    let material = book.find(key).ok_or_else(|| {
         CliError::usage(format!(
-            "--material: '{}' is not in the library; expected one of {} (see `shardlog materials`)",
+            "--material: '{}' is not in the library or the own materials; expected one of {} (see `shardlog materials`)",
             clean(key.trim()),
-            materials::keys().join(", ")
+            book.keys().join(", ")
         ))
     })?;
     let mut input = AnalysisInput::new(material);
@@ -456,7 +457,9 @@ pub(super) fn flaw_by_name(
 }
 
 pub fn run(args: MirrorArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let input = build_input(&args)?;
+    let keys: Vec<&str> = args.raw.material.as_deref().into_iter().collect();
+    let book = super::materials::book_for(&ctx.db, &keys)?;
+    let input = build_input(&args, &book)?;
     let analysis = analyze(&input).map_err(core_error)?;
     if args.raw.json {
         let text = serde_json::to_string_pretty(&to_json(&analysis))
@@ -826,7 +829,7 @@ mod tests {
         v.extend_from_slice(args);
         let cli = crate::cli::Cli::try_parse_from(v).expect("clap accepts");
         match cli.command {
-            Some(crate::cli::Command::Mirror(m)) => build_input(&m),
+            Some(crate::cli::Command::Mirror(m)) => build_input(&m, &MaterialBook::library_only()),
             _ => panic!("not mirror"),
         }
     }
@@ -877,7 +880,7 @@ mod tests {
 
     #[test]
     fn user_material_text_is_sanitized() {
-        let mut m = materials::find("soda-lime").unwrap();
+        let mut m = shardlog_core::fracture::materials::find("soda-lime").unwrap();
         m.name = "lab glass \u{1b}[2J\u{1b}]0;title\u{7}".into();
         let a =
             analyze(&AnalysisInput::new(m).with_readings(Boundary::MirrorMist, &[1e-3])).unwrap();

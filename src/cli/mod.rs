@@ -13,6 +13,7 @@ use clap::{Parser, Subcommand};
 
 pub mod attach;
 pub mod calibrate;
+mod calibrate_save;
 pub mod codes;
 pub mod exposure;
 pub mod fleet;
@@ -45,7 +46,7 @@ pub struct Cli {
 pub enum Command {
     /// Back-calculate stress and flaw size from fracture-mirror readings.
     Mirror(mirror::MirrorArgs),
-    /// List the material library.
+    /// The material library and the lab's own materials: list, show, add, edit.
     Materials(materials::MaterialsArgs),
     /// Service-load hypotheses: impact, plate, thermal, critical-flaw.
     Load(load::LoadArgs),

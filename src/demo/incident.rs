@@ -16,7 +16,7 @@ use super::DemoSummary;
 use crate::store::bulk::{format_reference, AttachmentFolder, NewIncident, Refs};
 use crate::store::{
     analysis, Attachment, Cause, CustodyEntry, Examination, FlawMeasurement, FracturePattern,
-    Glass, IdGen, Incident, Measured, MirrorReading, Ply, Stamp, StoreError,
+    Glass, IdGen, Incident, MaterialBook, Measured, MirrorReading, Ply, Stamp, StoreError,
 };
 use shardlog_core::fracture::materials::Material;
 use shardlog_core::fracture::{self, Boundary};
@@ -265,7 +265,8 @@ impl<'a> Maker<'a> {
         ms: i64,
     ) {
         let computed_at = at_time(exam.examined_on.unwrap_or(plan.found_on), 15 * 60);
-        exam.result = analysis::compute(inc, &exam, computed_at).ok();
+        exam.result =
+            analysis::compute(inc, &exam, computed_at, &MaterialBook::library_only()).ok();
         inc.examinations.push(exam);
         self.summary.examinations += 1;
         let received = at_time(plan.found_on + Days::new(1), plan.life.received_min);

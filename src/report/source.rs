@@ -19,6 +19,8 @@ pub struct Labels {
     products: HashMap<String, String>,
     sites: HashMap<String, String>,
     assets: HashMap<String, (String, String)>,
+    /// The library and the bench's own materials, for a computation made for the report.
+    materials: store::MaterialBook,
 }
 
 impl Labels {
@@ -50,6 +52,7 @@ impl Labels {
             products,
             sites,
             assets,
+            materials: s.material_book()?,
         })
     }
 
@@ -265,7 +268,7 @@ fn examination(l: &Labels, inc: &Incident) -> Examination {
             material = Some(l.lookup(LookupKind::Material, m));
         }
     }
-    let (analysis, analysis_note) = computation(inc);
+    let (analysis, analysis_note) = computation(inc, &l.materials);
     let hypotheses = inc
         .current_result()
         .map(|(_, r)| store::bench_record::saved_hypotheses(r))
@@ -409,7 +412,7 @@ fn notes(inc: &Incident) -> Vec<NoteEntry> {
 
 /// The stored computation, when it reads as the core's `Analysis`; otherwise the core run on
 /// the recorded readings, saying so.
-fn computation(inc: &Incident) -> (Option<Analysis>, Option<String>) {
+fn computation(inc: &Incident, book: &store::MaterialBook) -> (Option<Analysis>, Option<String>) {
     if let Some((_, r)) = inc.current_result() {
         if let Ok(a) = serde_json::from_value::<Analysis>(r.analysis.clone()) {
             return (
@@ -430,7 +433,7 @@ fn computation(inc: &Incident) -> (Option<Analysis>, Option<String>) {
     else {
         return (None, None);
     };
-    match analyze_exam(inc, exam) {
+    match analyze_exam(inc, exam, book) {
         Ok(a) => (
             Some(a),
             Some(format!(
@@ -464,8 +467,12 @@ fn field_label(key: &str) -> String {
 
 /// Run the core on one examination's readings (material from the examination or the first
 /// ply, temper class and thickness from the first ply).
-pub fn analyze_exam(inc: &Incident, exam: &store::Examination) -> Result<Analysis, String> {
+pub fn analyze_exam(
+    inc: &Incident,
+    exam: &store::Examination,
+    book: &store::MaterialBook,
+) -> Result<Analysis, String> {
     // the same input as the store computes and verify recomputes from
-    let input = store::analysis::analysis_input(inc, exam).map_err(|e| e.to_string())?;
+    let input = store::analysis::analysis_input(inc, exam, book).map_err(|e| e.to_string())?;
     fracture::analyze(&input).map_err(|e| e.to_string())
 }

@@ -4,6 +4,7 @@
 use chrono::{DateTime, Utc};
 
 use super::model::*;
+use super::own_materials::MaterialBook;
 use shardlog_core::fracture::{
     self, AnalysisInput, Boundary, BoundaryReadings, FractureError, Origin, OriginLocation, Temper,
 };
@@ -22,20 +23,25 @@ fn interior_origin(inc: &Incident, exam: &Examination) -> bool {
 }
 
 /// The core's input for one examination of an incident: the bench's rules (the material of
-/// the examination, else of the first ply; the origin location of the pattern chooses the
-/// origin and the default flaw geometry), shared by `compute`, the import and `verify`.
-pub fn analysis_input(inc: &Incident, exam: &Examination) -> Result<AnalysisInput, FractureError> {
+/// the examination, else of the first ply, from the library or the bench's own materials in
+/// `book`; the origin location of the pattern chooses the origin and the default flaw
+/// geometry), shared by `compute`, the import, the report and `verify`.
+pub fn analysis_input(
+    inc: &Incident,
+    exam: &Examination,
+    book: &MaterialBook,
+) -> Result<AnalysisInput, FractureError> {
     let ply = inc.glass.plies.first();
     let material_code = exam
         .material
         .clone()
         .or_else(|| ply.and_then(|p| p.material.clone()))
         .unwrap_or_else(|| "soda_lime".to_string());
-    let material = fracture::materials::find(&material_code).ok_or_else(|| {
+    let material = book.find(&material_code).ok_or_else(|| {
         FractureError::invalid(
             "material",
-            format!("\"{material_code}\" is not in the material library"),
-            format!("one of {}", fracture::materials::keys().join(", ")),
+            format!("\"{material_code}\" is neither in the material library nor an own material"),
+            format!("one of {}", book.keys().join(", ")),
         )
     })?;
     let mut input = AnalysisInput::new(material);
@@ -126,10 +132,45 @@ pub fn compute(
     inc: &Incident,
     exam: &Examination,
     computed_at: DateTime<Utc>,
+    book: &MaterialBook,
 ) -> Result<ComputedResult, ComputeError> {
-    let input = analysis_input(inc, exam)?;
+    let input = analysis_input(inc, exam, book)?;
     let analysis = fracture::analyze(&input)?;
-    to_result(&analysis, computed_at).map_err(|e| ComputeError::Serialize(e.to_string()))
+    let mut result =
+        to_result(&analysis, computed_at).map_err(|e| ComputeError::Serialize(e.to_string()))?;
+    keep_own_material(&mut result, &input, book);
+    Ok(result)
+}
+
+/// Where a result computed with an own material keeps the constants it was computed with.
+pub const OWN_MATERIAL: &str = "own_material";
+
+/// Keep the own material a result was computed with beside its analysis (code, revision and
+/// every constant), so that recomputing it later uses those constants even after the
+/// material was changed. Library materials are not copied: they change only with the build.
+pub fn keep_own_material(result: &mut ComputedResult, input: &AnalysisInput, book: &MaterialBook) {
+    let Some(own) = book.own(&input.material.key) else {
+        return;
+    };
+    if let serde_json::Value::Object(map) = &mut result.analysis {
+        map.insert(
+            OWN_MATERIAL.to_string(),
+            serde_json::json!({
+                "code": own.code,
+                "revision": own.revision,
+                "material": input.material,
+            }),
+        );
+    }
+}
+
+/// The own material a stored result says it was computed with, if any.
+pub fn kept_own_material(result: &ComputedResult) -> Option<fracture::materials::Material> {
+    result
+        .analysis
+        .get(OWN_MATERIAL)
+        .and_then(|v| v.get("material"))
+        .and_then(|v| serde_json::from_value(v.clone()).ok())
 }
 
 /// What this shardlog computes for a stored examination that has readings and a result:
@@ -139,6 +180,7 @@ pub fn compute(
 pub fn recompute_stored(
     inc: &Incident,
     exam: &Examination,
+    book: &MaterialBook,
 ) -> Option<Result<fracture::Analysis, FractureError>> {
     let result = exam.result.as_ref()?;
     if exam.readings.is_empty() {
@@ -148,12 +190,23 @@ pub fn recompute_stored(
         .analysis
         .get("bench_input")
         .and_then(|v| serde_json::from_value::<AnalysisInput>(v.clone()).ok());
-    let input = match (from_bench, analysis_input(inc, exam)) {
+    // the constants kept with the result, when it was computed with an own material
+    let kept = kept_own_material(result);
+    let record = match (analysis_input(inc, exam, book), &kept) {
+        (Err(_), Some(m)) => analysis_input(inc, exam, &MaterialBook::holding(m.clone())),
+        (r, _) => r,
+    };
+    let input = match (from_bench, record) {
         (Some(mut bench), Ok(record)) => {
             bench.readings = record.readings;
             bench
         }
-        (None, Ok(record)) => record,
+        (None, Ok(mut record)) => {
+            if let Some(m) = kept {
+                record.material = m;
+            }
+            record
+        }
         (_, Err(e)) => return Some(Err(e)),
     };
     Some(fracture::analyze(&input))
@@ -187,9 +240,13 @@ type Figure<'a> = (
 /// None when a recomputation agrees within rounding, else the first figure that differs,
 /// with both values and units. An examination without readings has nothing to recompute
 /// from (a figure stated in a CSV import): None.
-pub fn stored_result_differs(inc: &Incident, exam: &Examination) -> Option<String> {
+pub fn stored_result_differs(
+    inc: &Incident,
+    exam: &Examination,
+    book: &MaterialBook,
+) -> Option<String> {
     let stored = exam.result.as_ref()?;
-    let fresh = match recompute_stored(inc, exam)? {
+    let fresh = match recompute_stored(inc, exam, book)? {
         Ok(analysis) => match to_result(&analysis, stored.computed_at) {
             Ok(r) => r,
             Err(e) => return Some(format!("the recomputed result cannot be stored ({e})")),

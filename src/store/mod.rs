@@ -11,6 +11,8 @@
 //!   [`Store::modify_incident`] and its forms ([`Store::put_examination`],
 //!   [`Store::set_result`], [`Store::set_cause`], [`Store::add_custody`]),
 //!   [`Store::delete_incident`], [`Store::add_attachment`].
+//! - **own materials**: [`Store::own_materials`], [`Store::material_book`] (library and own,
+//!   for a calculation), [`Store::add_own_material`], [`Store::update_own_material`].
 //! - **reference data**: [`Store::lookups`], [`Store::sites`], [`Store::suppliers`],
 //!   [`Store::products`], [`Store::lots`], [`Store::exposure`] and the rest of their kind.
 //! - **history**: [`Store::history`] of one incident.
@@ -62,6 +64,7 @@ mod lookup_upkeep;
 pub mod model;
 pub(crate) mod moves;
 mod outbox;
+mod own_materials;
 pub mod progress;
 mod refdata;
 pub mod safe_file;
@@ -78,6 +81,7 @@ pub use incidents::check_bench_code;
 pub use model::*;
 pub use moves::{Resolution, Transfer};
 pub use outbox::{ChainRow, Receipt, PULL_ACTOR};
+pub use own_materials::{check_material, check_material_code, MaterialBook, OwnMaterial};
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
 pub use verify::Anchor;
 

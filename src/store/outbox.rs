@@ -219,7 +219,8 @@ pub(crate) fn for_each_listed_image(
     }
     let others: Vec<&String> = listed.keys().filter(|e| *e != INCIDENT).collect();
     if !others.is_empty() {
-        for (entity, id, _, image) in refdata::all_images(conn)? {
+        let own = super::own_materials::images(conn)?;
+        for (entity, id, _, image) in refdata::all_images(conn)?.into_iter().chain(own) {
             if listed.get(entity).is_some_and(|ids| ids.contains(&id)) {
                 f(entity, &id, &image)?;
             }

@@ -23,13 +23,15 @@ impl Store {
             let key = refdata::lookup_key(&e);
             v.check_record(refdata::LOOKUP, &key, &key, &img);
         }
-        for (entity, id, shown, img) in refdata::all_images(&self.conn)? {
+        let own = super::own_materials::images(&self.conn)?;
+        for (entity, id, shown, img) in refdata::all_images(&self.conn)?.into_iter().chain(own) {
             v.check_record(entity, &id, &shown, &img);
         }
         for (entity, id, shown, img) in super::moves::all_images(&self.conn)? {
             v.check_record(entity, &id, &shown, &img);
         }
-        check_incidents(&self.conn, &mut v, &self.progress)?;
+        let book = self.material_book()?;
+        check_incidents(&self.conn, &mut v, &self.progress, &book)?;
         // the narrow copy the fleet statistics read (schema 3) agrees with the incidents
         for msg in incidents::fleet_facts_problems(&self.conn)? {
             v.problem(msg);
@@ -54,6 +56,7 @@ fn check_incidents(
     conn: &Connection,
     v: &mut Verification,
     progress: &ProgressSlot,
+    book: &super::MaterialBook,
 ) -> Result<(), StoreError> {
     let mut bad_derived: Option<String> = None;
     let mut n_bad = 0u64;
@@ -69,7 +72,7 @@ fn check_incidents(
             let img = canon::incident_image(&inc)?;
             v.check_record(INCIDENT, &inc.id, &inc.reference, &img);
             for (n, exam) in inc.examinations.iter().enumerate() {
-                if let Some(why) = super::analysis::stored_result_differs(&inc, exam) {
+                if let Some(why) = super::analysis::stored_result_differs(&inc, exam, book) {
                     v.problem(format!(
                         "incident {}: examination {}: {why}",
                         inc.reference,

@@ -297,6 +297,39 @@ pub static TABLE: &[Binding] = &[
         action: Action::OpenReview,
         footer: true,
     },
+    Binding {
+        ctxs: &[Log],
+        keys: &[c('m')],
+        label: "m",
+        desc: "materials: the library and the lab's own (add, copy, edit)",
+        action: Action::OpenMaterials,
+        footer: false,
+    },
+    // --- materials ---
+    Binding {
+        ctxs: &[Materials],
+        keys: &[k(KeyCode::Enter), c('e')],
+        label: "e/Enter",
+        desc: "edit (own only)",
+        action: Action::Edit,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Materials],
+        keys: &[c('c')],
+        label: "c",
+        desc: "copy into an own one",
+        action: Action::CopyMaterial,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Materials],
+        keys: &[c('a')],
+        label: "a",
+        desc: "new own",
+        action: Action::AddMaterial,
+        footer: true,
+    },
     // --- the fleet review ---
     Binding {
         ctxs: &[Review],

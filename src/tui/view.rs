@@ -22,6 +22,7 @@ pub fn screen_title(app: &App) -> &'static str {
         Screen::Edit => "Edit",
         Screen::Bench => "Bench calculator",
         Screen::Review => "Fleet review",
+        Screen::Materials => "Materials",
     }
 }
 
@@ -55,6 +56,7 @@ pub fn draw(app: &App, f: &mut Frame) {
         Screen::Edit => super::screens::edit::draw(app, f, body, th),
         Screen::Bench => super::screens::bench::draw(app, f, body, th),
         Screen::Review => super::screens::review::draw(app, f, body, th),
+        Screen::Materials => super::screens::materials::draw(app, f, body, th),
     }
     draw_status(app, f, status, th);
     draw_footer(app, f, footer, th);

@@ -301,3 +301,170 @@ fn too_few_specimens_and_unreadable_input_are_refused() {
     let r = run(&["calibrate"]);
     assert_eq!(r.code, 2);
 }
+
+// ---- --save: the fitted constants into an own material
+
+fn run_on(db: &std::path::Path, args: &[&str]) -> Run {
+    let out = Command::new(env!("CARGO_BIN_EXE_shardlog"))
+        .arg("--db")
+        .arg(db)
+        .args(args)
+        .env("SHARDLOG_USER", "Odile Farrant")
+        .env("SHARDLOG_KEY_DIR", db.with_extension("keys"))
+        .output()
+        .unwrap();
+    Run {
+        code: out.status.code().unwrap_or(-1),
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+    }
+}
+
+fn own_json(db: &std::path::Path, code: &str) -> serde_json::Value {
+    let r = run_on(db, &["materials", "show", code, "--json"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    serde_json::from_str::<serde_json::Value>(&r.stdout).unwrap()["own_material"].clone()
+}
+
+#[test]
+fn save_makes_an_own_material_with_provenance_and_the_data_digest() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("lab.db");
+    assert_eq!(run_on(&db, &["init"]).code, 0);
+    let p = csv(&dir, HAND);
+    let input = p.to_str().unwrap();
+    let r = run_on(
+        &db,
+        &[
+            "calibrate",
+            "--input",
+            input,
+            "--save",
+            "lab_glass",
+            "--from",
+            "soda-lime",
+            "--lab",
+            "Tarn Lab",
+        ],
+    );
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(
+        r.stdout.contains("saved A_i = 1.929 MPa·√m ± 0.018 MPa·√m into own material lab_glass (revision 1), calibrated by Tarn Lab from 3 specimens on"),
+        "{}",
+        r.stdout
+    );
+    let own = own_json(&db, "lab_glass");
+    assert_eq!(own["base"], "soda-lime");
+    assert_eq!(own["revision"], 1);
+    let a_i = &own["material"]["a_i"];
+    // the hand arithmetic above: A = mean of σ·√R = 61 × √0.001 MPa·√m
+    let expected = 61.0 * 0.001f64.sqrt() * MPA;
+    assert!(
+        (a_i["value"].as_f64().unwrap() - expected).abs() < 1e-6,
+        "{a_i}"
+    );
+    assert_eq!(a_i["provenance"]["kind"], "calibrated");
+    let digest = shardlog_core::canonical::sha256_hex(HAND.as_bytes());
+    assert_eq!(a_i["provenance"]["sha256"], digest.as_str());
+    let note = a_i["provenance"]["note"].as_str().unwrap();
+    assert!(
+        note.starts_with("calibrated by Tarn Lab from 3 specimens on 20"),
+        "{note}"
+    );
+    // what the file did not fit keeps the library's value and source
+    assert_eq!(own["material"]["a_o"]["value"], 2.2e6);
+    assert_eq!(own["material"]["a_o"]["provenance"]["kind"], "published");
+
+    // the saved constant is the one `mirror` uses: 61 × √0.001 MPa·√m / √(1 mm) = 61.0 MPa
+    let r = run_on(
+        &db,
+        &[
+            "mirror",
+            "--material",
+            "lab_glass",
+            "--boundary",
+            "mirror-mist",
+            "--radius",
+            "1mm",
+        ],
+    );
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.contains("61.0 MPa"), "{}", r.stdout);
+    assert_eq!(run_on(&db, &["verify"]).code, 0);
+}
+
+#[test]
+fn save_updates_an_own_material_and_refuses_what_it_must() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("lab.db");
+    assert_eq!(run_on(&db, &["init"]).code, 0);
+    let p = csv(&dir, HAND);
+    let input = p.to_str().unwrap().to_string();
+    let save = |extra: &[&str]| {
+        let mut args = vec!["calibrate", "--input", input.as_str()];
+        args.extend_from_slice(extra);
+        run_on(&db, &args)
+    };
+    // nothing to update and no base named
+    let r = save(&["--save", "lab_glass"]);
+    assert_eq!(r.code, 2);
+    assert!(
+        r.stderr
+            .contains("there is no own material lab_glass; give --from"),
+        "{}",
+        r.stderr
+    );
+    // a library material is never changed
+    let r = save(&["--save", "soda-lime"]);
+    assert_eq!(r.code, 2);
+    assert!(
+        r.stderr
+            .contains("soda-lime is a library material and cannot be changed"),
+        "{}",
+        r.stderr
+    );
+    assert_eq!(
+        save(&["--save", "lab_glass", "--from", "borosilicate"]).code,
+        0
+    );
+    // an update is the next revision; --from is for making one
+    let r = save(&["--save", "lab_glass", "--lab", "Harrow bench"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert_eq!(own_json(&db, "lab_glass")["revision"], 2);
+    assert_eq!(
+        save(&["--save", "lab_glass", "--from", "soda-lime"]).code,
+        2
+    );
+
+    // a set whose slope is not −½ is not saved unless accepted, and then it says so
+    let mut text = String::from("stress,mirror_mist\n");
+    for r in [0.5, 1.0, 2.0, 4.0] {
+        text.push_str(&format!("{} MPa,{r} mm\n", 100.0 * f64::powf(r, -0.3)));
+    }
+    let bad = dir.path().join("slope.csv");
+    std::fs::write(&bad, text).unwrap();
+    let bad = bad.to_str().unwrap();
+    let r = run_on(&db, &["calibrate", "--input", bad, "--save", "lab_glass"]);
+    assert_eq!(r.code, 1);
+    assert!(r.stderr.contains("nothing was saved"), "{}", r.stderr);
+    assert_eq!(own_json(&db, "lab_glass")["revision"], 2);
+    let r = run_on(
+        &db,
+        &[
+            "calibrate",
+            "--input",
+            bad,
+            "--save",
+            "lab_glass",
+            "--accept-slope",
+        ],
+    );
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let own = own_json(&db, "lab_glass");
+    assert_eq!(own["revision"], 3);
+    let note = own["material"]["a_i"]["provenance"]["note"]
+        .as_str()
+        .unwrap();
+    assert!(note.contains("NOT consistent with −½"), "{note}");
+    assert_eq!(run_on(&db, &["verify"]).code, 0);
+}

@@ -61,7 +61,13 @@ fn incident(found: NaiveDate, supplier: &str, lot: &str, origin: &str) -> Incide
     let at = DateTime::parse_from_rfc3339("2026-05-20T10:00:00Z")
         .unwrap()
         .with_timezone(&Utc);
-    let r = analysis::compute(&inc, &inc.examinations[0], at).unwrap();
+    let r = analysis::compute(
+        &inc,
+        &inc.examinations[0],
+        at,
+        &shardlog::store::MaterialBook::library_only(),
+    )
+    .unwrap();
     inc.examinations[0].result = Some(r);
     inc
 }
@@ -194,7 +200,13 @@ fn facts_follow_every_write() {
     edited.glass.lot = Some("L2291".into());
     edited.examinations[0].origin_type = Some("edge_chip".into());
     // a surface origin changes the residual stress: the result is computed again
-    let r = analysis::compute(&edited, &edited.examinations[0], st.at).unwrap();
+    let r = analysis::compute(
+        &edited,
+        &edited.examinations[0],
+        st.at,
+        &shardlog::store::MaterialBook::library_only(),
+    )
+    .unwrap();
     edited.examinations[0].result = Some(r);
     s.update_incident(&edited, &st).unwrap();
     assert_same(&s, "after an edit");

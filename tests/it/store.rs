@@ -54,7 +54,13 @@ fn sample(found: NaiveDate) -> Incident {
     });
     // the stored result is what the readings give (computed 2.3 / √0.015 = 18.78 MPa);
     // verify recomputes it
-    let r = analysis::compute(&inc, &inc.examinations[0], at("2026-03-14T10:00:00Z")).unwrap();
+    let r = analysis::compute(
+        &inc,
+        &inc.examinations[0],
+        at("2026-03-14T10:00:00Z"),
+        &shardlog::store::MaterialBook::library_only(),
+    )
+    .unwrap();
     inc.examinations[0].result = Some(r);
     inc
 }

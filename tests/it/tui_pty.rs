@@ -139,6 +139,8 @@ fn help_opens_and_the_terminal_is_restored_on_quit() {
     // F1 works in every context (ESC O P)
     pty.send("\u{1b}OP");
     pty.wait_text("Cautions");
+    // the cautions follow the keys: scroll to them (PgDn)
+    pty.send("\u{1b}[6~");
     pty.wait_text("cut-resistant gloves");
     // Esc closes help (crossterm needs a moment to tell a lone Esc from a sequence)
     pty.send("\u{1b}");

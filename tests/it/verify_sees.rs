@@ -20,7 +20,13 @@ fn setup() -> (tempfile::TempDir, PathBuf, Vec<String>) {
         let mut inc = incident(d);
         if d == 2 {
             let at = stamp("2026-05-20T10:00:00Z").at;
-            let r = analysis::compute(&inc, &inc.examinations[0], at).unwrap();
+            let r = analysis::compute(
+                &inc,
+                &inc.examinations[0],
+                at,
+                &shardlog::store::MaterialBook::library_only(),
+            )
+            .unwrap();
             inc.examinations[0].result = Some(r);
         }
         refs.push(

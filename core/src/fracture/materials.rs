@@ -13,6 +13,8 @@
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
+use crate::units::{self, Dimension, Unit, UnitError};
+
 /// Where a value comes from.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "kebab-case")]
@@ -25,6 +27,9 @@ pub enum Provenance {
     FromMemory { note: String },
     /// Given by the user (an in-house calibration, a value typed for one calculation).
     User { note: String },
+    /// Fitted by `calibrate` from a lab's own specimens: what, by whom, from how many, when
+    /// (`note`), and the SHA-256 of the data file it was fitted from.
+    Calibrated { note: String, sha256: String },
 }
 
 impl Provenance {
@@ -35,6 +40,7 @@ impl Provenance {
             Provenance::CommonPractice { .. } => "common practice",
             Provenance::FromMemory { .. } => "from memory",
             Provenance::User { .. } => "user",
+            Provenance::Calibrated { .. } => "calibrated",
         }
     }
 
@@ -44,7 +50,8 @@ impl Provenance {
             Provenance::Published { source } => source,
             Provenance::CommonPractice { note }
             | Provenance::FromMemory { note }
-            | Provenance::User { note } => note,
+            | Provenance::User { note }
+            | Provenance::Calibrated { note, .. } => note,
         }
     }
 }
@@ -52,10 +59,14 @@ impl Provenance {
 impl fmt::Display for Provenance {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         if self.text().is_empty() {
-            f.write_str(self.mark())
+            f.write_str(self.mark())?;
         } else {
-            write!(f, "{}: {}", self.mark(), self.text())
+            write!(f, "{}: {}", self.mark(), self.text())?;
         }
+        if let Provenance::Calibrated { sha256, .. } = self {
+            write!(f, "; data SHA-256 {sha256}")?;
+        }
+        Ok(())
     }
 }
 
@@ -365,22 +376,142 @@ pub fn library() -> Vec<Material> {
     ]
 }
 
-/// Look a material up by key (case-insensitive; `_` and spaces read as `-`).
-pub fn find(key: &str) -> Option<Material> {
-    let want: String = key
-        .trim()
+/// A key as compared: trimmed, lower case, `_` and spaces read as `-`.
+pub fn normal_key(key: &str) -> String {
+    key.trim()
         .chars()
         .map(|c| match c {
             '_' | ' ' => '-',
             c => c.to_ascii_lowercase(),
         })
-        .collect();
+        .collect()
+}
+
+/// Look a material up by key (case-insensitive; `_` and spaces read as `-`).
+pub fn find(key: &str) -> Option<Material> {
+    let want = normal_key(key);
     library().into_iter().find(|m| m.key == want)
+}
+
+/// Look a material up in the library, then among a lab's own materials (`own`), by the same
+/// rule as [`find`]. Codes are unique across both, so the order only matters for a code that
+/// is not.
+pub fn find_in(own: &[Material], key: &str) -> Option<Material> {
+    find(key).or_else(|| {
+        let want = normal_key(key);
+        own.iter().find(|m| normal_key(&m.key) == want).cloned()
+    })
+}
+
+/// The constants of a material, with their symbols, in the order tables show them.
+pub fn constants(m: &Material) -> [(&'static str, &Option<Constant>); 8] {
+    [
+        ("A_i", &m.a_i),
+        ("A_o", &m.a_o),
+        ("A_b", &m.a_b),
+        ("K_Ic", &m.k_ic),
+        ("E", &m.youngs_modulus),
+        ("ν", &m.poisson),
+        ("α", &m.expansion),
+        ("ρ", &m.density),
+    ]
 }
 
 /// The keys of the library, for error messages.
 pub fn keys() -> Vec<String> {
     library().into_iter().map(|m| m.key).collect()
+}
+
+/// How a constant is typed and shown: the quantity it is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Quantity {
+    /// A mirror constant or K_Ic (Pa·√m).
+    Toughness,
+    /// Young's modulus (Pa).
+    Modulus,
+    /// Poisson's ratio (plain number).
+    Ratio,
+    /// Expansion coefficient (1/K).
+    Expansion,
+    /// Density (kg/m³).
+    Density,
+}
+
+impl Quantity {
+    /// Read a value as typed, with its unit, within its physical range.
+    pub fn parse(self, text: &str) -> Result<f64, UnitError> {
+        match self {
+            Quantity::Toughness => units::parse_positive(text, Dimension::Toughness),
+            Quantity::Modulus => units::parse_positive(text, Dimension::Stress),
+            Quantity::Ratio => units::parse_poisson(text),
+            Quantity::Expansion => units::parse_expansion(text),
+            Quantity::Density => units::parse_density(text),
+        }
+    }
+
+    /// Read a spread (one standard deviation): as a value, zero or more.
+    pub fn parse_spread(self, text: &str) -> Result<f64, UnitError> {
+        let v = match self {
+            Quantity::Toughness => units::parse_non_negative(text, Dimension::Toughness),
+            Quantity::Modulus => units::parse_non_negative(text, Dimension::Stress),
+            Quantity::Density => units::parse_density(text),
+            other => other.parse(text),
+        }?;
+        if v < 0.0 {
+            return Err(UnitError::Negative {
+                input: text.trim().to_string(),
+            });
+        }
+        Ok(v)
+    }
+
+    /// A value in its display unit, with the unit.
+    pub fn show(self, si: f64) -> String {
+        match self {
+            Quantity::Toughness => units::format_sig(si, Unit::MegapascalRootMetre, 3),
+            Quantity::Modulus => units::format_sig(si, Unit::Gigapascal, 3),
+            Quantity::Ratio => units::fmt_sig(si, 3),
+            Quantity::Expansion => format!("{} ppm/K", units::fmt_sig(si * 1e6, 3)),
+            Quantity::Density => format!("{} kg/m³", units::fmt_sig(si, 4)),
+        }
+    }
+
+    /// The value as it would be typed back (exact enough to read again the same).
+    pub fn typed(self, si: f64) -> String {
+        match self {
+            Quantity::Toughness => units::format_exact(si, Unit::MegapascalRootMetre),
+            Quantity::Modulus => units::format_exact(si, Unit::Gigapascal),
+            Quantity::Ratio => format!("{si}"),
+            Quantity::Expansion => format!("{} ppm/K", si * 1e6),
+            Quantity::Density => format!("{si} kg/m³"),
+        }
+    }
+}
+
+/// The eight constants in table order: symbol, flag name, quantity.
+pub const CONSTANTS: [(&str, &str, Quantity); 8] = [
+    ("A_i", "a-i", Quantity::Toughness),
+    ("A_o", "a-o", Quantity::Toughness),
+    ("A_b", "a-b", Quantity::Toughness),
+    ("K_Ic", "k-ic", Quantity::Toughness),
+    ("E", "youngs-modulus", Quantity::Modulus),
+    ("ν", "poisson", Quantity::Ratio),
+    ("α", "expansion", Quantity::Expansion),
+    ("ρ", "density", Quantity::Density),
+];
+
+/// The slot of a material that holds the constant at `i` of [`CONSTANTS`].
+pub fn slot(m: &mut Material, i: usize) -> &mut Option<Constant> {
+    match i {
+        0 => &mut m.a_i,
+        1 => &mut m.a_o,
+        2 => &mut m.a_b,
+        3 => &mut m.k_ic,
+        4 => &mut m.youngs_modulus,
+        5 => &mut m.poisson,
+        6 => &mut m.expansion,
+        _ => &mut m.density,
+    }
 }
 
 #[cfg(test)]
@@ -397,6 +528,33 @@ mod tests {
         }
         assert!(find("Soda_Lime").is_some());
         assert!(find("unobtainium").is_none());
+        let mut own = find("soda-lime").unwrap();
+        own.key = "lab_float".into();
+        assert_eq!(find_in(&[own.clone()], "Lab-Float"), Some(own.clone()));
+        assert_eq!(
+            find_in(&[own], "soda_lime").map(|m| m.key),
+            Some("soda-lime".into())
+        );
+    }
+
+    #[test]
+    fn calibrated_provenance_names_its_data() {
+        let p = Provenance::Calibrated {
+            note: "calibrated by Tarn Lab from 12 specimens on 2026-11-30".into(),
+            sha256: "ab".repeat(32),
+        };
+        assert_eq!(p.mark(), "calibrated");
+        let shown = p.to_string();
+        assert!(
+            shown.starts_with("calibrated: calibrated by Tarn Lab from 12"),
+            "{shown}"
+        );
+        assert!(
+            shown.ends_with(&format!("data SHA-256 {}", "ab".repeat(32))),
+            "{shown}"
+        );
+        let json = serde_json::to_string(&p).unwrap();
+        assert_eq!(serde_json::from_str::<Provenance>(&json).unwrap(), p);
     }
 
     #[test]

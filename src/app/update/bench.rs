@@ -9,7 +9,7 @@ use crate::store::model::Incident;
 
 impl App {
     pub(super) fn open_bench_for(&mut self, inc: &Incident) {
-        let mut bench = BenchState::new();
+        let mut bench = BenchState::with_materials(self.bench.materials.clone());
         bench.prefill(inc);
         bench.form.mark_clean();
         self.bench = bench;

@@ -86,6 +86,10 @@ impl App {
                 self.open_review();
                 Ok(())
             }
+            Action::OpenMaterials => {
+                self.open_materials();
+                Ok(())
+            }
             _ => Ok(()),
         };
         self.report(r);

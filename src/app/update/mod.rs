@@ -123,6 +123,7 @@ impl App {
             Screen::Edit => self.update_edit(action),
             Screen::Bench => self.update_bench(action),
             Screen::Review => self.update_review(action),
+            Screen::Materials => self.update_materials(action),
         }
     }
 
@@ -167,6 +168,10 @@ impl App {
     }
 
     pub(super) fn leave_screen(&mut self) {
+        // a materials form closes back to the materials list
+        if self.screen() == Screen::Materials && self.materials.form.take().is_some() {
+            return;
+        }
         if self.stack.len() <= 1 {
             return;
         }
@@ -174,7 +179,7 @@ impl App {
         match left {
             Some(Screen::Edit) => self.edit = None,
             Some(Screen::Bench) if self.bench_target.take().is_some() => {
-                self.bench = BenchState::new();
+                self.bench = BenchState::with_materials(std::mem::take(&mut self.bench.materials));
             }
             Some(Screen::Incident) => self.incident = None,
             Some(Screen::Review) if self.screen() == Screen::Log => {

@@ -146,11 +146,14 @@ fn differs(stored: f64, computed: f64) -> bool {
 
 /// Each stored result of an incident that does not follow from its readings and constants:
 /// (field, message naming the incident and both figures).
-pub(crate) fn results_that_do_not_follow(inc: &Incident) -> Vec<(String, String)> {
+pub(crate) fn results_that_do_not_follow(
+    inc: &Incident,
+    book: &super::super::MaterialBook,
+) -> Vec<(String, String)> {
     let mut out = Vec::new();
     for (i, e) in inc.examinations.iter().enumerate() {
         let Some(stored) = &e.result else { continue };
-        let Some(recomputed) = analysis::recompute_stored(inc, e) else {
+        let Some(recomputed) = analysis::recompute_stored(inc, e, book) else {
             continue;
         };
         let field = format!("examinations[{i}].result");

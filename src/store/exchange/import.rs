@@ -11,7 +11,7 @@ use super::super::incidents::{self, format_reference, next_reference, reference_
 use super::super::model::*;
 use super::super::progress::ProgressSlot;
 use super::super::refdata;
-use super::super::{IdGen, LookupSet, Store, StoreError};
+use super::super::{IdGen, LookupSet, MaterialBook, Store, StoreError};
 use super::admission::{self, AttachmentFiles, ReferenceCase};
 use super::csv::{parse_csv_all, CsvRecord};
 use super::json::parse_json;
@@ -108,11 +108,17 @@ impl Store {
         stamp: &Stamp,
     ) -> ImportResult {
         let vocabulary = Vocabulary::new(self.all_lookups()?);
+        let book = self.material_book()?;
         let mut seen: HashMap<(String, String, NaiveDate), String> = HashMap::new();
         let mut incidents = Vec::with_capacity(records.len());
         for CsvRecord { line, mut incident } in records {
             vocabulary.resolve(&mut incident);
-            early.extend(onepass::compute_results(&mut incident, line, stamp.at));
+            early.extend(onepass::compute_results(
+                &mut incident,
+                line,
+                stamp.at,
+                &book,
+            ));
             if !options.allow_duplicates {
                 self.note_duplicates(Place::Line(line), &incident, &mut seen, &mut early)?;
             }
@@ -199,6 +205,7 @@ impl Store {
         }
         let mut checker = Checker {
             known: KnownCodes::after_import(self, &doc)?,
+            book: self.material_book()?,
             strict: options.strict,
             seen_ids: HashSet::new(),
             seen_refs: HashSet::new(),
@@ -399,6 +406,8 @@ impl KnownCodes {
 /// The checks of an import's incidents, before anything is written.
 struct Checker {
     known: KnownCodes,
+    /// The library and this bench's own materials, for recomputing stored results.
+    book: MaterialBook,
     strict: bool,
     seen_ids: HashSet<String>,
     seen_refs: HashSet<String>,
@@ -422,7 +431,7 @@ impl Checker {
         let mut more = admission::future_times(inc, self.now);
         more.extend(self.files.check(inc));
         if matches!(place, Place::Index(_)) {
-            more.extend(admission::results_that_do_not_follow(inc));
+            more.extend(admission::results_that_do_not_follow(inc, &self.book));
         }
         for (field, msg) in more {
             self.problems.push(place.field_problem(&field, msg));

@@ -164,20 +164,26 @@ pub fn column_kind(column: &str) -> Option<LookupKind> {
 /// Compute each examination's results from its readings, as the bench does, replacing
 /// figures typed in the file's stress columns. A refusal of the calculation is a problem of
 /// the record's line.
-pub fn compute_results(inc: &mut Incident, line: usize, at: DateTime<Utc>) -> Vec<Problem> {
+pub fn compute_results(
+    inc: &mut Incident,
+    line: usize,
+    at: DateTime<Utc>,
+    book: &crate::store::MaterialBook,
+) -> Vec<Problem> {
     let mut problems = Vec::new();
     let snapshot = inc.clone();
     for exam in &mut inc.examinations {
         if exam.readings.is_empty() {
             continue;
         }
-        // a material outside the library, or a boundary it does not know: no result
-        let Ok(input) = super::super::analysis::analysis_input(&snapshot, exam) else {
+        // a material neither in the library nor own, or a boundary it does not know: no result
+        let Ok(input) = super::super::analysis::analysis_input(&snapshot, exam, book) else {
             continue;
         };
         match fracture::analyze(&input) {
             Ok(analysis) => match super::super::analysis::to_result(&analysis, at) {
                 Ok(mut result) => {
+                    super::super::analysis::keep_own_material(&mut result, &input, book);
                     if let serde_json::Value::Object(map) = &mut result.analysis {
                         map.insert(
                             "source".to_string(),

@@ -36,6 +36,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         include_str!("../../../schema/0006_lookup_retired.sql"),
     ),
     (
+        "0007_own_materials.sql",
+        include_str!("../../../schema/0007_own_materials.sql"),
+    ),
+    (
         "0010_fleet_moves.sql",
         include_str!("../../../schema/0010_fleet_moves.sql"),
     ),

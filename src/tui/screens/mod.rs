@@ -5,4 +5,5 @@ pub mod edit;
 pub mod hypothesis;
 pub mod incident;
 pub mod log;
+pub mod materials;
 pub mod review;

@@ -293,7 +293,12 @@ pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile:
         if hostile && i == 0 {
             exam.notes = HOSTILE_NOTE.to_string();
         }
-        let a = shardlog::report::source::analyze_exam(&inc, &exam).unwrap();
+        let a = shardlog::report::source::analyze_exam(
+            &inc,
+            &exam,
+            &shardlog::store::MaterialBook::library_only(),
+        )
+        .unwrap();
         exam.result = Some(ComputedResult {
             computed_at: at("2026-03-14T10:00:00Z"),
             code_version: store::CODE_VERSION.into(),
