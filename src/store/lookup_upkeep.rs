@@ -97,7 +97,7 @@ fn check_label(
     Ok(())
 }
 
-fn replace(
+pub(crate) fn replace(
     conn: &Connection,
     chain: &mut Chain,
     before: &LookupEntry,

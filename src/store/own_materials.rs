@@ -459,3 +459,32 @@ impl Store {
         })
     }
 }
+
+/// Take another bench's own material from the fleet (a pull): added when its code names
+/// nothing here yet, or brought to the fleet's revision when this bench holds the same
+/// material (same key, so it came by an earlier pull) at an older one. A material this bench
+/// made itself under that code keeps its own. Returns whether anything was written.
+pub(crate) fn put_pulled(
+    conn: &Connection,
+    chain: &mut Chain,
+    pulled: &OwnMaterial,
+    stamp: &Stamp,
+) -> Result<bool, StoreError> {
+    check_material_code(&pulled.code)?;
+    check_material(&pulled.material)?;
+    let here = load_one(conn, &pulled.code)?;
+    match here {
+        None => {
+            check_code_is_free(conn, &pulled.code)?;
+            write_row(conn, chain, None, pulled, stamp)?;
+            write_lookup(conn, chain, &pulled.code, &pulled.material.name, stamp)?;
+            Ok(true)
+        }
+        Some(h) if h.id == pulled.id && h.revision < pulled.revision => {
+            write_row(conn, chain, Some(&h), pulled, stamp)?;
+            write_lookup(conn, chain, &pulled.code, &pulled.material.name, stamp)?;
+            Ok(true)
+        }
+        Some(_) => Ok(false),
+    }
+}

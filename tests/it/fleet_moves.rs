@@ -440,3 +440,184 @@ fn a_bench_login_cannot_push_as_another_bench() {
     let o = run(&["fleet", "enrol", "WEST", "--url", &fleet.bench_url("NORTH")]);
     assert_eq!(o.status.code(), Some(1), "{}", out(&o));
 }
+
+/// One row of a bench's own SQLite file (a count or a text).
+fn bench_value<T: rusqlite::types::FromSql>(db: &Path, sql: &str) -> T {
+    rusqlite::Connection::open(db)
+        .unwrap()
+        .query_row(sql, [], |r| r.get(0))
+        .unwrap_or_else(|e| panic!("{sql}: {e}"))
+}
+
+#[test]
+fn own_materials_and_lookup_edits_follow_the_fleet_and_exposure_stays_home() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let north = demo_bench(dir.path(), "NORTH", 6);
+    let south = demo_bench(dir.path(), "SOUTH", 6);
+    let bench = |db: &Path, args: &[&str]| {
+        let mut all = vec!["--db", db_arg(db)];
+        all.extend_from_slice(args);
+        let o = run(&all);
+        assert!(o.status.success(), "{args:?}: {}", err(&o));
+    };
+    // at NORTH: an own material, a cause of its own, a relabelled seeded cause, and panes in
+    // service
+    bench(
+        &north,
+        &[
+            "materials",
+            "add",
+            "north_float",
+            "--from",
+            "soda-lime",
+            "--a-i",
+            "2.05 MPa√m",
+        ],
+    );
+    bench(
+        &north,
+        &[
+            "lookups",
+            "add",
+            "cause",
+            "sealant_attack",
+            "sealant attack on the edge",
+        ],
+    );
+    bench(
+        &north,
+        &[
+            "lookups",
+            "rename",
+            "cause",
+            "impact",
+            "impact (north wording)",
+        ],
+    );
+    let mut s = shardlog::store::Store::open_existing(&north).unwrap();
+    let stamp = shardlog::store::Stamp::new("test-runner", chrono::Utc::now());
+    let supplier = s.suppliers().unwrap()[0].code.clone();
+    let panes = s
+        .add_exposure(
+            &shardlog::store::Exposure {
+                id: String::new(),
+                supplier,
+                product: None,
+                lot: None,
+                site: None,
+                installed_on: chrono::NaiveDate::from_ymd_opt(2025, 4, 1).unwrap(),
+                removed_on: None,
+                panes: 317,
+            },
+            &stamp,
+        )
+        .unwrap();
+    drop(s);
+    let south_exposure: i64 = bench_value(&south, "SELECT count(*) FROM exposure");
+    sync_ok(&north, &fleet.bench_url("NORTH"));
+    let r = sync_ok(&south, &fleet.bench_url("SOUTH"));
+    let p = &r["pulled"];
+    assert_eq!(p["materials"], 1, "{r}");
+    assert_eq!(
+        p["lookups"], 1,
+        "the cause (the material brought its own entry): {r}"
+    );
+    // panes in service stay at their bench: another bench's would inflate this one's rates
+    assert_eq!(
+        bench_value::<i64>(&south, "SELECT count(*) FROM exposure"),
+        south_exposure
+    );
+    assert_eq!(
+        bench_value::<i64>(
+            &south,
+            &format!("SELECT count(*) FROM exposure WHERE id = '{}'", panes.id)
+        ),
+        0
+    );
+    let got = shardlog::store::Store::open_existing(&south).unwrap();
+    let m = got
+        .own_material("north_float")
+        .unwrap()
+        .expect("the material arrived");
+    assert_eq!(m.revision, 1);
+    drop(got);
+    assert_eq!(
+        bench_value::<String>(
+            &south,
+            "SELECT label FROM lookup WHERE kind = 'cause_category' AND code = 'sealant_attack'"
+        ),
+        "sealant attack on the edge"
+    );
+    // SOUTH's own seeded label stays its own
+    let impact = "SELECT label FROM lookup WHERE kind = 'cause_category' AND code = 'impact'";
+    let south_impact: String = bench_value(&south, impact);
+    assert_ne!(south_impact, "impact (north wording)");
+    verify_ok(&south);
+
+    // NORTH changes what SOUTH took from it: SOUTH follows
+    bench(
+        &north,
+        &[
+            "materials",
+            "edit",
+            "north_float",
+            "--density",
+            "2490 kg/m³",
+        ],
+    );
+    bench(
+        &north,
+        &[
+            "lookups",
+            "rename",
+            "cause",
+            "sealant_attack",
+            "sealant attack (edge seal)",
+        ],
+    );
+    bench(&north, &["lookups", "retire", "cause", "sealant_attack"]);
+    sync_ok(&north, &fleet.bench_url("NORTH"));
+    let r = sync_ok(&south, &fleet.bench_url("SOUTH"));
+    assert_eq!(
+        (
+            r["pulled"]["materials"].as_i64(),
+            r["pulled"]["lookup_edits"].as_i64()
+        ),
+        (Some(1), Some(1)),
+        "{r}"
+    );
+    let got = shardlog::store::Store::open_existing(&south).unwrap();
+    assert_eq!(
+        got.own_material("north_float").unwrap().unwrap().revision,
+        2
+    );
+    drop(got);
+    assert_eq!(
+        bench_value::<String>(
+            &south,
+            "SELECT label || ' / ' || retired FROM lookup WHERE kind = 'cause_category' AND code = 'sealant_attack'"
+        ),
+        "sealant attack (edge seal) / 1"
+    );
+    assert_eq!(bench_value::<String>(&south, impact), south_impact);
+    verify_ok(&south);
+    // the pulled rows are witnessed, never applied as SOUTH's: NORTH keeps the fleet's image
+    let before = fleet.count("SELECT count(*) FROM fleet_records WHERE origin = 'SOUTH'");
+    let r = sync_ok(&south, &fleet.bench_url("SOUTH"));
+    assert_eq!(
+        r["pulled"]
+            .as_object()
+            .unwrap()
+            .values()
+            .filter(|v| v.as_i64() != Some(0))
+            .count(),
+        0,
+        "{r}"
+    );
+    assert_eq!(
+        fleet.count("SELECT count(*) FROM fleet_records WHERE origin = 'SOUTH'"),
+        before
+    );
+}

@@ -444,7 +444,7 @@ fn an_own_material_reaches_the_fleet_as_an_audited_record() {
         &["materials", "edit", "lab_float", "--density", "2490 kg/m³"],
     );
     assert!(o.status.success(), "{}", text(&o));
-    sync_ok(&db, &fleet.bench_url());
+    sync_ok(&db, &fleet.bench_url("LARKSPUR"));
     let mut c = fleet.admin();
     let rows = c
         .query(
