@@ -7,7 +7,9 @@ use chrono::{NaiveDate, Utc};
 use super::codes::{resolve_opt, Field};
 use super::{actor, parse_day, sanitize_for_terminal, CliError, Context};
 use crate::store::exchange::ImportOptions;
-use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
+use crate::store::{
+    self, Filter, PageRequest, RecordSource, Sort, SortColumn, Stamp, Store, StoreError,
+};
 use shardlog_core::text::stress_or_dash;
 
 /// One field of `list` or `show` on its line: a newline or tab inside it becomes a space, so
@@ -35,6 +37,18 @@ pub(crate) fn open(db: &Path) -> Result<Store, CliError> {
 /// backup): nothing is written, so it works on a full disk.
 pub(crate) fn open_to_read(db: &Path) -> Result<Store, CliError> {
     Store::open_for_reading(db).map_err(work)
+}
+
+/// Open the records `--db` names only to read them: a bench file, or the fleet database for
+/// a `postgres://` URL (read-only). `bench`: one bench's records of the fleet.
+pub(crate) fn open_records(
+    db: &Path,
+    bench: Option<&str>,
+) -> Result<Box<dyn RecordSource>, CliError> {
+    store::open_records(db, bench).map_err(|e| match e {
+        StoreError::Invalid { .. } => CliError::usage(e.to_string()),
+        other => work(other),
+    })
 }
 
 /// Filters shared by export and list. Each code flag takes a code or its label (a
@@ -78,7 +92,7 @@ fn parse_date(flag: &str, v: &str) -> Result<NaiveDate, CliError> {
 
 impl FilterArgs {
     /// The checked filter: dates parsed, every code resolved against the database.
-    fn to_filter(&self, store: &Store) -> Result<Filter, CliError> {
+    fn to_filter(&self, store: &dyn RecordSource) -> Result<Filter, CliError> {
         let since = self
             .since
             .as_deref()
@@ -366,6 +380,10 @@ pub struct ListArgs {
     /// Free text over references, positions, descriptions and notes.
     #[arg(long, value_name = "TEXT")]
     pub search: Option<String>,
+    /// Only the incidents this bench owns (on the fleet database; a bench file takes only
+    /// its own code).
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
     /// At most N incidents; 0 lists every match (read page by page, at constant memory).
     #[arg(long, value_name = "N", default_value_t = 50, conflicts_with = "all")]
     pub limit: u64,
@@ -408,7 +426,7 @@ pub(crate) struct Readable {
 }
 
 impl Readable {
-    pub(crate) fn load(s: &Store) -> Result<Self, CliError> {
+    pub(crate) fn load(s: &dyn RecordSource) -> Result<Self, CliError> {
         let mut labels = std::collections::HashMap::new();
         for e in s.all_lookups().map_err(work)? {
             labels.insert((e.kind, e.code), e.label);
@@ -466,8 +484,9 @@ fn list_row_text(r: &store::LogRow, names: &Readable) -> String {
 
 pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let limit = if args.all { 0 } else { args.limit };
-    let s = open_to_read(&ctx.db)?;
-    let mut filter = args.filter.to_filter(&s)?;
+    let s = open_records(&ctx.db, args.bench.as_deref())?;
+    let s = s.as_ref();
+    let mut filter = args.filter.to_filter(s)?;
     filter.text = args.search.clone();
     let sort = Sort {
         column: match args.sort {
@@ -478,7 +497,7 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         },
         descending: !args.asc,
     };
-    let names = Readable::load(&s)?;
+    let names = Readable::load(s)?;
     if !args.json {
         writeln!(
             ctx.out,
@@ -670,9 +689,10 @@ fn write_examination(
 }
 
 pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let s = open_to_read(&ctx.db)?;
+    let s = open_records(&ctx.db, None)?;
+    let s = s.as_ref();
     let inc = s.get(&args.reference).map_err(work)?;
-    let names = Readable::load(&s)?;
+    let names = Readable::load(s)?;
     if args.json {
         let text =
             serde_json::to_string_pretty(&inc).map_err(|e| CliError::work(format!("JSON: {e}")))?;

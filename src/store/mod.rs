@@ -62,6 +62,7 @@ mod lookup_upkeep;
 pub mod model;
 mod outbox;
 pub mod progress;
+pub mod read;
 mod refdata;
 pub mod safe_file;
 pub mod signing;
@@ -76,6 +77,7 @@ pub(crate) use ids::IdGen;
 pub use incidents::check_bench_code;
 pub use model::*;
 pub use outbox::{ChainRow, Receipt, PULL_ACTOR};
+pub use read::{is_fleet_url, open_records, RecordSource};
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
 pub use verify::Anchor;
 

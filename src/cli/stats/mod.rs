@@ -52,6 +52,10 @@ pub struct StatsArgs {
     /// stress: the service load at fracture) or net (the mirror's stress at the origin).
     #[arg(long, value_name = "applied|net", default_value = "applied")]
     pub stress: String,
+    /// Only the incidents (and panes in service) of this bench (on the fleet database; a
+    /// bench file takes only its own code).
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
     /// Print JSON instead of tables.
     #[arg(long)]
     pub json: bool,
@@ -334,7 +338,10 @@ fn only_field(key: Key) -> Option<super::codes::Field> {
 /// `--only KEY=VALUE` take a code or its label in any case (`cause=none` or
 /// `cause=(not recorded)` for the incidents without one); anything else is a usage error
 /// listing the valid values.
-fn resolve_codes(store: &crate::store::Store, q: &mut StatsQuery) -> Result<(), CliError> {
+fn resolve_codes(
+    store: &dyn crate::store::RecordSource,
+    q: &mut StatsQuery,
+) -> Result<(), CliError> {
     use super::codes::{resolve, resolve_in, Field};
     if let Some(o) = &q.origin_type {
         q.origin_type = Some(resolve(store, Field::OriginType, "--origin-type", o)?);
@@ -367,7 +374,7 @@ fn resolve_codes(store: &crate::store::Store, q: &mut StatsQuery) -> Result<(), 
 /// Lookup codes of the facts (cause, origin type, temper, asset type) replaced by their
 /// labels, for the text output; `--origin-type` with them.
 fn readable(
-    store: &crate::store::Store,
+    store: &dyn crate::store::RecordSource,
     q: &mut StatsQuery,
     incidents: &mut [IncidentFacts],
 ) -> Result<(), CliError> {
@@ -404,16 +411,16 @@ fn readable(
 
 pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let mut q = query_from_args(&args)?;
-    let store = crate::store::Store::open_for_reading(&ctx.db)
-        .map_err(|e| CliError::work(e.to_string()))?;
-    resolve_codes(&store, &mut q)?;
+    let store = super::records::open_records(&ctx.db, args.bench.as_deref())?;
+    let store = store.as_ref();
+    resolve_codes(store, &mut q)?;
     let (mut incidents, mut exposures) = store
         .stats_input(&q, &[])
         .map_err(|e| CliError::work(e.to_string()))?;
     apply_only(&q, &mut incidents, &mut exposures);
     if !q.json {
         // the text shows the labels people read; --json keeps the codes
-        readable(&store, &mut q, &mut incidents)?;
+        readable(store, &mut q, &mut incidents)?;
     }
     // The clock is read here, at the edge: the default end of the window is today.
     let today = chrono::Utc::now().date_naive();
@@ -499,6 +506,7 @@ mod tests {
             origin_type: None,
             only: vec![],
             stress: "applied".into(),
+            bench: None,
             json: false,
         })
         .unwrap()
@@ -592,6 +600,7 @@ mod tests {
             origin_type: origin.map(String::from),
             only: vec![],
             stress: "applied".into(),
+            bench: None,
             json: false,
         };
         for args in [

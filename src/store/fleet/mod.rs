@@ -8,12 +8,14 @@
 //! - `schema`: the fleet's numbered migrations and its two roles.
 //! - `push`: a bench's chain, records and files staged by binary COPY, then `fleet_push()`.
 //! - `pull`: reference data of other benches merged into this bench by code.
+//! - `read`: the fleet as its users read it (`--db postgres://…`), read-only.
 //! - `status`: per bench its witnessed head, last sync, incidents, conflicts, refusals.
 //! - `sync`: push then pull, with the bench's receipts and `verify --fleet`.
 
 mod connect;
 mod pull;
 mod push;
+mod read;
 mod schema;
 mod status;
 mod sync;
@@ -21,6 +23,7 @@ mod sync;
 pub use connect::Fleet;
 pub use pull::PullReport;
 pub use push::PushOutcome;
+pub use read::FleetReader;
 pub use schema::{FleetInit, FLEET_SCHEMA_VERSION};
 pub use status::{BenchStatus, FleetStatus};
 pub use sync::{sync, verify_fleet, FleetVerify, SyncReport};

@@ -482,10 +482,7 @@ impl ValueTable {
 }
 
 /// What [`Store::stats_input`] gives: one fact row per incident and the exposure rows.
-pub type StatsInput = (
-    Vec<shardlog_core::fleet::IncidentFacts>,
-    Vec<shardlog_core::fleet::Exposure>,
-);
+pub(crate) use crate::store::read::StatsInput;
 
 #[cfg(test)]
 mod tests {
