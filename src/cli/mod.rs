@@ -397,9 +397,49 @@ impl Write for TerminalGuard<'_> {
     }
 }
 
+/// The name of a command that cannot work on the fleet database (it writes, or works on one
+/// bench file only), None for those that read it or never open a database.
+fn fleet_refuses(command: Option<&Command>) -> Option<&'static str> {
+    let Some(command) = command else {
+        return Some("the interface (not yet on the fleet)");
+    };
+    Some(match command {
+        Command::List(_) | Command::Show(_) | Command::Stats(_) => return None,
+        Command::Mirror(_)
+        | Command::Materials(_)
+        | Command::Load(_)
+        | Command::Weibull(_)
+        | Command::Calibrate(_)
+        | Command::Demo(_)
+        | Command::Fleet(_)
+        | Command::Completions(_)
+        | Command::Manpage => return None,
+        Command::Init(_) => "`init`",
+        Command::Import(_) => "`import`",
+        Command::Export(_) => "`export` (not yet on the fleet)",
+        Command::Exposure(_) => "`exposure`",
+        Command::Lookups(_) => "`lookups`",
+        Command::Attach(_) => "`attach`",
+        Command::Verify(_) => "`verify` (not yet on the fleet; `verify --fleet URL` on a bench)",
+        Command::Key(_) => "`key`",
+        Command::Backup(_) => "`backup`",
+        Command::Report(_) => "`report` (not yet on the fleet)",
+        Command::Dispute(_) => "`dispute` (not yet on the fleet)",
+        Command::Sync(_) => "`sync` (run it with --db naming the bench file)",
+        Command::Bench(_) => "`bench`",
+    })
+}
+
 /// Run a parsed command line, printing to `out`.
 pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
     let db = resolve_db(cli.db);
+    if crate::store::is_fleet_url(&db) {
+        if let Some(name) = fleet_refuses(cli.command.as_ref()) {
+            return Err(CliError::usage(format!(
+                "--db names the fleet database, which {name} cannot use: the fleet is read-only for its users (an edit is made at the bench that owns the incident, and reaches the fleet when that bench syncs); on the fleet database: list, show, stats"
+            )));
+        }
+    }
     let Some(command) = cli.command else {
         let who = match chosen_name() {
             Some(name) => crate::tui::Analyst::Known(name),

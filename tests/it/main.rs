@@ -12,6 +12,7 @@ mod filter_codes;
 mod fleet;
 mod fleet_crash;
 mod fleet_facts;
+mod fleet_read;
 mod fleet_sync;
 mod found_bugs;
 mod fuzz_regressions;

@@ -1,0 +1,186 @@
+//! The fleet database read with the commands a bench uses (`--db postgres://…`), against a
+//! real PostgreSQL server (support::fleet): for the same records the same bytes as the bench
+//! file gives, once a reference the bench made before it had a code is shown without the
+//! bench qualifier the fleet puts on it.
+
+use std::path::Path;
+
+use crate::fleet_sync::{demo_bench, err, out, run, sync_ok, TestFleet};
+use crate::support::fleet::Cluster;
+
+/// Incidents per bench: three benches give the 2,000 or more the comparison asks for.
+const PER_BENCH: u64 = 700;
+
+fn text(args: &[&str]) -> String {
+    let o = run(args);
+    assert!(o.status.success(), "{args:?} failed: {}", err(&o));
+    out(&o)
+}
+
+/// A demo bench made before it had a code (references `BR-YYMMDD-NNNN`), given one after.
+fn bench_coded_late(dir: &Path, code: &str) -> std::path::PathBuf {
+    let db = dir.join(format!("{code}.db"));
+    let path = db.to_str().expect("a UTF-8 path");
+    let o = run(&[
+        "demo",
+        "--incidents",
+        &PER_BENCH.to_string(),
+        "--seed",
+        "29",
+        "--out",
+        path,
+    ]);
+    assert!(o.status.success(), "demo: {}", err(&o));
+    let o = run(&["--db", path, "bench", "code", code]);
+    assert!(o.status.success(), "bench code: {}", err(&o));
+    db
+}
+
+/// The references of a `list --json`, in order.
+fn references(list_json: &str) -> Vec<String> {
+    let v: serde_json::Value = serde_json::from_str(list_json).expect("list --json is JSON");
+    v.as_array()
+        .expect("an array")
+        .iter()
+        .map(|r| r["ref"].as_str().expect("a ref").to_string())
+        .collect()
+}
+
+#[test]
+fn list_show_and_stats_give_the_bench_files_bytes_from_the_fleet() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let benches = [
+        ("NORTH", demo_bench(dir.path(), "NORTH", PER_BENCH)),
+        ("SOUTH", demo_bench(dir.path(), "SOUTH", PER_BENCH)),
+        ("WEST", bench_coded_late(dir.path(), "WEST")),
+    ];
+    for (_, db) in &benches {
+        sync_ok(db, &fleet.owner_url());
+    }
+    // fleet users read with the reader role
+    let url = cluster.url_as(&fleet.name, &format!("{}_reader", fleet.name));
+
+    // the whole fleet: every incident once, read in keyset pages of 1,000
+    let all = text(&["--db", &url, "list", "--json", "--all"]);
+    let refs = references(&all);
+    assert_eq!(refs.len() as u64, 3 * PER_BENCH);
+    let unique: std::collections::BTreeSet<&String> = refs.iter().collect();
+    assert_eq!(unique.len(), refs.len(), "a reference listed twice");
+    assert!(
+        refs.iter().any(|r| r.starts_with("WEST/BR-")),
+        "{:?}",
+        &refs[..5]
+    );
+
+    let mut shown_with_results = 0;
+    for (code, db) in &benches {
+        let file = db.to_str().unwrap();
+        // the fleet's qualifier of the references the bench made before its code
+        let unqualify = |s: String| s.replace(&format!("\"{code}/BR-"), "\"BR-");
+        for extra in [
+            &[][..],
+            &["--sort", "stress", "--asc"][..],
+            &["--sort", "ref"][..],
+            &["--sort", "status", "--asc"][..],
+            &["--search", "inspection"][..],
+            &["--supplier", "KESTREL", "--since", "2025-01-01"][..],
+            &["--cause", "none"][..],
+        ] {
+            let mut args = vec!["list", "--json", "--all"];
+            args.extend_from_slice(extra);
+            let at_bench = text(&[&["--db", file][..], &args[..]].concat());
+            let mut fleet_args = args.clone();
+            fleet_args.extend_from_slice(&["--bench", code]);
+            let at_fleet = text(&[&["--db", &url][..], &fleet_args[..]].concat());
+            assert!(
+                references(&at_bench).len() > 1,
+                "{code} {extra:?}: too few to compare"
+            );
+            assert_eq!(unqualify(at_fleet), at_bench, "{code}: list {extra:?}");
+        }
+        for by in [
+            &["--by", "cause,supplier", "--rates"][..],
+            &["--by", "origin-type", "--weibull", "--stress", "net"][..],
+            &[
+                "--by",
+                "asset-type,temper",
+                "--trend",
+                "--since",
+                "2024-06-01",
+            ][..],
+            &["--by", "lot", "--weibull", "--only", "supplier=BRELLIN"][..],
+        ] {
+            let mut args = vec!["stats", "--json"];
+            args.extend_from_slice(by);
+            let at_bench = text(&[&["--db", file][..], &args[..]].concat());
+            let mut fleet_args = args.clone();
+            fleet_args.extend_from_slice(&["--bench", code]);
+            let at_fleet = text(&[&["--db", &url][..], &fleet_args[..]].concat());
+            assert_eq!(at_fleet, at_bench, "{code}: stats {by:?}");
+        }
+        // one incident in ten, by its reference as the fleet shows it
+        let listed = references(&text(&["--db", file, "list", "--json", "--all"]));
+        for reference in listed.iter().step_by(10) {
+            let at_bench = text(&["--db", file, "show", reference, "--json"]);
+            let in_fleet = if reference.starts_with("BR-") && !reference.contains(code) {
+                format!("{code}/{reference}")
+            } else {
+                reference.clone()
+            };
+            let at_fleet = text(&["--db", &url, "show", &in_fleet, "--json"]);
+            assert_eq!(unqualify(at_fleet), at_bench, "show {reference}");
+            if at_bench.contains("\"result\": {") {
+                shown_with_results += 1;
+            }
+        }
+    }
+    // analyses (the fleet holds their digests) were among those compared
+    assert!(shown_with_results > 15, "{shown_with_results}");
+}
+
+#[test]
+fn the_fleet_refuses_what_writes_and_names_where_the_edit_is_made() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let db = demo_bench(dir.path(), "NORTH", 40);
+    sync_ok(&db, &fleet.owner_url());
+    let before = fleet.state();
+    let url = fleet.owner_url();
+    // even as the fleet's owner: the commands that write refuse before touching anything
+    for args in [
+        vec!["init"],
+        vec!["lookups", "add", "cause", "frost", "frost damage"],
+        vec!["bench", "code", "EAST"],
+    ] {
+        let o = run(&[&["--db", url.as_str()][..], &args[..]].concat());
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {}", err(&o));
+        assert!(
+            err(&o).contains("an edit is made at the bench that owns the incident"),
+            "{args:?}: {}",
+            err(&o)
+        );
+    }
+    assert_eq!(fleet.state(), before);
+    // nothing was made in the working folder under the URL's name
+    assert!(!Path::new("postgresql:").exists());
+    // a bench the fleet does not know is a usage error naming the ones it does
+    let o = run(&["--db", &url, "list", "--bench", "EAST"]);
+    assert_eq!(o.status.code(), Some(2), "{}", err(&o));
+    assert!(
+        err(&o).contains("no bench EAST") && err(&o).contains("NORTH"),
+        "{}",
+        err(&o)
+    );
+    // and on a bench file, --bench is its own code only
+    let file = db.to_str().unwrap();
+    let o = run(&["--db", file, "list", "--bench", "SOUTH"]);
+    assert_eq!(o.status.code(), Some(2), "{}", err(&o));
+    assert!(err(&o).contains("bench NORTH, not SOUTH"), "{}", err(&o));
+    assert_eq!(
+        text(&["--db", file, "list", "--bench", "north", "--json", "--all"]),
+        text(&["--db", file, "list", "--json", "--all"])
+    );
+}
