@@ -122,7 +122,9 @@ CREATE VIEW fleet_facts_source AS
                    CASE WHEN jsonb_typeof(j->'attachments') = 'array'
                         THEN j->'attachments' ELSE '[]' END) a))) AS doc
     FROM fleet_records r
-    CROSS JOIN LATERAL (SELECT r.image::jsonb AS j OFFSET 0) img
+    -- jsonb holds no NUL character: an escaped one (a note may carry it) is read as the
+    -- symbol that shows it
+    CROSS JOIN LATERAL (SELECT replace(r.image, '\u0000', '\u2400')::jsonb AS j OFFSET 0) img
     -- the examination whose result counts: the last one with a result
     LEFT JOIN LATERAL (
         SELECT e AS cur

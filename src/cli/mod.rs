@@ -404,7 +404,9 @@ fn fleet_refuses(command: Option<&Command>) -> Option<&'static str> {
         return Some("the interface (not yet on the fleet)");
     };
     Some(match command {
-        Command::List(_) | Command::Show(_) | Command::Stats(_) => return None,
+        Command::List(_) | Command::Show(_) | Command::Stats(_) | Command::Export(_) => {
+            return None
+        }
         Command::Mirror(_)
         | Command::Materials(_)
         | Command::Load(_)
@@ -416,7 +418,6 @@ fn fleet_refuses(command: Option<&Command>) -> Option<&'static str> {
         | Command::Manpage => return None,
         Command::Init(_) => "`init`",
         Command::Import(_) => "`import`",
-        Command::Export(_) => "`export` (not yet on the fleet)",
         Command::Exposure(_) => "`exposure`",
         Command::Lookups(_) => "`lookups`",
         Command::Attach(_) => "`attach`",
@@ -436,7 +437,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
     if crate::store::is_fleet_url(&db) {
         if let Some(name) = fleet_refuses(cli.command.as_ref()) {
             return Err(CliError::usage(format!(
-                "--db names the fleet database, which {name} cannot use: the fleet is read-only for its users (an edit is made at the bench that owns the incident, and reaches the fleet when that bench syncs); on the fleet database: list, show, stats"
+                "--db names the fleet database, which {name} cannot use: the fleet is read-only for its users (an edit is made at the bench that owns the incident, and reaches the fleet when that bench syncs); on the fleet database: list, show, stats, export"
             )));
         }
     }

@@ -284,11 +284,16 @@ pub struct ExportArgs {
     /// Write to FILE instead of standard output (written whole, then renamed into place).
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
+    /// Only the incidents and reference data of this bench (on the fleet database; a bench
+    /// file takes only its own code).
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
 }
 
 pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let s = open_to_read(&ctx.db)?;
-    let filter = args.filter.to_filter(&s)?;
+    let s = open_records(&ctx.db, args.bench.as_deref())?;
+    let s = s.as_ref();
+    let filter = args.filter.to_filter(s)?;
     let mut buf: Vec<u8> = Vec::new();
     // an incident whose row cannot be read is left out and named; the others are exported
     let damaged = match args.format {

@@ -9,11 +9,7 @@ use super::model::{
 };
 use super::{Store, StoreError};
 
-/// The stats input: one row of facts per incident and the panes in service.
-pub type StatsInput = (
-    Vec<shardlog_core::fleet::IncidentFacts>,
-    Vec<shardlog_core::fleet::Exposure>,
-);
+pub use super::incidents::StatsInput;
 
 /// What the read-only commands ask of the records, answered the same way by a bench file
 /// and by the fleet database (for the same records, the same values in the same order).
@@ -38,6 +34,19 @@ pub trait RecordSource {
     fn list(&self, filter: &Filter, sort: Sort, page: &PageRequest) -> Result<Page, StoreError>;
     /// The full incident by reference or id.
     fn get(&self, key: &str) -> Result<Incident, StoreError>;
+    /// The export document (JSON, pretty, ending with a newline) of the incidents matching
+    /// `filter` that can be read, in the order found, and those that cannot.
+    fn export_json_readable(
+        &self,
+        filter: &Filter,
+    ) -> Result<(String, Vec<super::exchange::Damaged>), StoreError>;
+    /// The CSV export of the incidents matching `filter` that can be read (header first): the
+    /// lines written, and the incidents left out.
+    fn export_csv_readable(
+        &self,
+        filter: &Filter,
+        out: &mut dyn std::io::Write,
+    ) -> Result<(usize, Vec<super::exchange::Damaged>), StoreError>;
     /// The facts and exposure `stats` works on.
     fn stats_input(
         &self,
@@ -81,6 +90,19 @@ impl RecordSource for Store {
     }
     fn get(&self, key: &str) -> Result<Incident, StoreError> {
         Store::get(self, key)
+    }
+    fn export_json_readable(
+        &self,
+        filter: &Filter,
+    ) -> Result<(String, Vec<super::exchange::Damaged>), StoreError> {
+        Store::export_json_readable(self, filter)
+    }
+    fn export_csv_readable(
+        &self,
+        filter: &Filter,
+        out: &mut dyn std::io::Write,
+    ) -> Result<(usize, Vec<super::exchange::Damaged>), StoreError> {
+        Store::export_csv_readable(self, filter, out)
     }
     fn stats_input(
         &self,

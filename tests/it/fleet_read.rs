@@ -47,7 +47,7 @@ fn references(list_json: &str) -> Vec<String> {
 }
 
 #[test]
-fn list_show_and_stats_give_the_bench_files_bytes_from_the_fleet() {
+fn list_show_stats_and_export_give_the_bench_files_bytes_from_the_fleet() {
     let cluster = Cluster::shared();
     let fleet = TestFleet::new(cluster);
     let dir = tempfile::tempdir().unwrap();
@@ -119,6 +119,30 @@ fn list_show_and_stats_give_the_bench_files_bytes_from_the_fleet() {
             fleet_args.extend_from_slice(&["--bench", code]);
             let at_fleet = text(&[&["--db", &url][..], &fleet_args[..]].concat());
             assert_eq!(at_fleet, at_bench, "{code}: stats {by:?}");
+        }
+        for args in [
+            &["export", "--format", "json"][..],
+            &["export", "--format", "csv"][..],
+            &[
+                "export",
+                "--format",
+                "json",
+                "--cause",
+                "impact",
+                "--until",
+                "2025-06-30",
+            ][..],
+        ] {
+            let at_bench = text(&[&["--db", file][..], args].concat());
+            let at_fleet = text(&[&["--db", &url][..], args, &["--bench", code][..]].concat());
+            assert!(
+                at_bench.len() > 10_000,
+                "{args:?}: {} bytes",
+                at_bench.len()
+            );
+            // the CSV's reference column is unquoted
+            let at_fleet = unqualify(at_fleet).replace(&format!("\n{code}/BR-"), "\nBR-");
+            assert_eq!(at_fleet, at_bench, "{code}: {args:?}");
         }
         // one incident in ten, by its reference as the fleet shows it
         let listed = references(&text(&["--db", file, "list", "--json", "--all"]));

@@ -37,6 +37,7 @@ struct RefData {
     products: Vec<Product>,
     lots: Vec<Lot>,
     exposure: Vec<Exposure>,
+    assets: Vec<Asset>,
     /// (bench, asset code) -> asset type
     asset_types: HashMap<(String, String), String>,
 }
@@ -164,6 +165,7 @@ impl FleetReader {
         let mut suppliers = BTreeMap::new();
         let mut products = BTreeMap::new();
         let mut lots = BTreeMap::new();
+        let mut assets = BTreeMap::new();
         for r in &rows {
             let entity: &str = r.get(0);
             let origin: String = r.get(1);
@@ -187,7 +189,9 @@ impl FleetReader {
                 }
                 "asset" => {
                     let a: Asset = serde_json::from_value(value).map_err(bad)?;
-                    out.asset_types.insert((origin, a.code), a.asset_type);
+                    out.asset_types
+                        .insert((origin, a.code.clone()), a.asset_type.clone());
+                    assets.entry(a.code.clone()).or_insert(a);
                 }
                 "supplier" => {
                     let s: Supplier = serde_json::from_value(value).map_err(bad)?;
@@ -220,6 +224,7 @@ impl FleetReader {
             ))
         });
         out.sites = sites.into_values().collect();
+        out.assets = assets.into_values().collect();
         out.suppliers = suppliers.into_values().collect();
         out.products = products.into_values().collect();
         out.lots = lots.into_values().collect();
@@ -512,17 +517,79 @@ impl FleetReader {
                 ))
             }
         };
-        let reference: String = row.get(0);
-        let image: &str = row.get(1);
-        let mut inc: Incident = canon::decanonical(image)
-            .and_then(|v| serde_json::from_value(v).ok())
-            .ok_or_else(|| {
-                StoreError::Database(format!("the fleet's image of {reference} cannot be read"))
-            })?;
-        inc.reference = reference;
-        restore_analyses(&mut inc);
-        Ok(inc)
+        incident_from(row.get(0), row.get(1)).map_err(|reference| {
+            StoreError::Database(format!("the fleet's image of {reference} cannot be read"))
+        })
     }
+
+    /// The incidents matching `filter` in the order found (the bench's export order), and
+    /// those whose image cannot be read.
+    fn matching_incidents(
+        &self,
+        filter: &Filter,
+    ) -> Result<(Vec<Incident>, Vec<crate::store::exchange::Damaged>), StoreError> {
+        let mut args = Vec::new();
+        let conds = self.conditions(filter, &mut args);
+        let sql = format!(
+            "SELECT r.reference, r.image FROM fleet_facts f
+             JOIN fleet_records r ON r.entity = 'incident' AND r.id = f.id {} ORDER BY f.found_on, f.ord",
+            where_clause(&conds)
+        );
+        let rows = self
+            .client
+            .borrow_mut()
+            .query(&sql, &refs(&args))
+            .map_err(pg)?;
+        let mut good = Vec::with_capacity(rows.len());
+        let mut damaged = Vec::new();
+        for r in &rows {
+            match incident_from(r.get(0), r.get(1)) {
+                Ok(inc) => good.push(inc),
+                Err(reference) => damaged.push(crate::store::exchange::Damaged {
+                    reference,
+                    why: "the fleet's image of it cannot be read".into(),
+                }),
+            }
+        }
+        Ok((good, damaged))
+    }
+
+    fn export_doc(
+        &self,
+        filter: &Filter,
+    ) -> Result<
+        (
+            crate::store::exchange::ExportDoc,
+            Vec<crate::store::exchange::Damaged>,
+        ),
+        StoreError,
+    > {
+        let (incidents, damaged) = self.matching_incidents(filter)?;
+        let refdata = self.refdata()?;
+        let mut doc = crate::store::exchange::ExportDoc::empty();
+        doc.lookups = refdata.lookups.clone();
+        doc.sites = refdata.sites.clone();
+        doc.assets = refdata.assets.clone();
+        doc.suppliers = refdata.suppliers.clone();
+        doc.products = refdata.products.clone();
+        doc.lots = refdata.lots.clone();
+        doc.exposure = refdata.exposure.clone();
+        doc.incidents = incidents;
+        Ok((doc, damaged))
+    }
+}
+
+/// An incident from its fleet image, shown by the fleet's reference; the reference when the
+/// image cannot be read.
+fn incident_from(reference: String, image: &str) -> Result<Incident, String> {
+    let Some(mut inc) =
+        canon::decanonical(image).and_then(|v| serde_json::from_value::<Incident>(v).ok())
+    else {
+        return Err(reference);
+    };
+    inc.reference = reference;
+    restore_analyses(&mut inc);
+    Ok(inc)
 }
 
 /// The fleet holds each result's analysis as the digest its image pins ("sha256:…"), not the
@@ -611,6 +678,31 @@ impl RecordSource for FleetReader {
     }
     fn get(&self, key: &str) -> Result<Incident, StoreError> {
         self.incident(key)
+    }
+    fn export_json_readable(
+        &self,
+        filter: &Filter,
+    ) -> Result<(String, Vec<crate::store::exchange::Damaged>), StoreError> {
+        let (doc, damaged) = self.export_doc(filter)?;
+        let mut s = serde_json::to_string_pretty(&doc)?;
+        s.push('\n');
+        Ok((s, damaged))
+    }
+    fn export_csv_readable(
+        &self,
+        filter: &Filter,
+        out: &mut dyn std::io::Write,
+    ) -> Result<(usize, Vec<crate::store::exchange::Damaged>), StoreError> {
+        let io = |e: std::io::Error| StoreError::File {
+            path: "output".into(),
+            message: e.to_string(),
+        };
+        let (incidents, damaged) = self.matching_incidents(filter)?;
+        writeln!(out, "{}", crate::store::exchange::csv_header()).map_err(io)?;
+        for inc in &incidents {
+            writeln!(out, "{}", crate::store::exchange::csv_row(inc)).map_err(io)?;
+        }
+        Ok((incidents.len(), damaged))
     }
     fn stats_input(
         &self,

@@ -482,7 +482,10 @@ impl ValueTable {
 }
 
 /// What [`Store::stats_input`] gives: one fact row per incident and the exposure rows.
-pub(crate) use crate::store::read::StatsInput;
+pub type StatsInput = (
+    Vec<shardlog_core::fleet::IncidentFacts>,
+    Vec<shardlog_core::fleet::Exposure>,
+);
 
 #[cfg(test)]
 mod tests {

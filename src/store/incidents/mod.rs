@@ -91,6 +91,7 @@ mod write;
 
 pub(crate) use children::for_each_incident;
 pub(crate) use children::for_each_readable_incident;
+pub use facts::StatsInput;
 pub(crate) use facts::{fill_fleet_facts, fleet_facts_problems};
 pub(crate) use read::load;
 pub(crate) use refs::{RefCache, Refs};
