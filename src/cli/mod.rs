@@ -404,9 +404,11 @@ fn fleet_refuses(command: Option<&Command>) -> Option<&'static str> {
         return Some("the interface (not yet on the fleet)");
     };
     Some(match command {
-        Command::List(_) | Command::Show(_) | Command::Stats(_) | Command::Export(_) => {
-            return None
-        }
+        Command::List(_)
+        | Command::Show(_)
+        | Command::Stats(_)
+        | Command::Export(_)
+        | Command::Verify(_) => return None,
         Command::Mirror(_)
         | Command::Materials(_)
         | Command::Load(_)
@@ -421,7 +423,6 @@ fn fleet_refuses(command: Option<&Command>) -> Option<&'static str> {
         Command::Exposure(_) => "`exposure`",
         Command::Lookups(_) => "`lookups`",
         Command::Attach(_) => "`attach`",
-        Command::Verify(_) => "`verify` (not yet on the fleet; `verify --fleet URL` on a bench)",
         Command::Key(_) => "`key`",
         Command::Backup(_) => "`backup`",
         Command::Report(_) => "`report` (not yet on the fleet)",
@@ -437,7 +438,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
     if crate::store::is_fleet_url(&db) {
         if let Some(name) = fleet_refuses(cli.command.as_ref()) {
             return Err(CliError::usage(format!(
-                "--db names the fleet database, which {name} cannot use: the fleet is read-only for its users (an edit is made at the bench that owns the incident, and reaches the fleet when that bench syncs); on the fleet database: list, show, stats, export"
+                "--db names the fleet database, which {name} cannot use: the fleet is read-only for its users (an edit is made at the bench that owns the incident, and reaches the fleet when that bench syncs); on the fleet database: list, show, stats, export, verify"
             )));
         }
     }

@@ -165,6 +165,60 @@ fn list_show_stats_and_export_give_the_bench_files_bytes_from_the_fleet() {
 }
 
 #[test]
+fn verify_on_the_fleet_checks_every_witnessed_chain_the_receipts_and_the_read_tables() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    for code in ["NORTH", "SOUTH"] {
+        sync_ok(&demo_bench(dir.path(), code, 60), &fleet.owner_url());
+    }
+    let url = cluster.url_as(&fleet.name, &format!("{}_reader", fleet.name));
+    let ok = text(&["--db", &url, "verify"]);
+    assert!(
+        ok.contains("ok: bench NORTH:") && ok.contains("ok: bench SOUTH:"),
+        "{ok}"
+    );
+    assert!(ok.contains("2 receipts link correctly"), "{ok}");
+    assert!(ok.contains("120 incidents' facts and words match"), "{ok}");
+    // the owner changes what the read tables say of one incident, behind the triggers' back
+    let mut admin = fleet.admin();
+    admin
+        .batch_execute(
+            "UPDATE fleet_facts SET cause = 'vandalism'
+             WHERE id = (SELECT min(id) FROM fleet_facts WHERE origin = 'SOUTH')",
+        )
+        .unwrap();
+    let o = run(&["--db", &url, "verify"]);
+    assert_eq!(o.status.code(), Some(1), "{}", out(&o));
+    assert!(
+        err(&o).contains("BR-SOUTH-") && err(&o).contains("read tables"),
+        "{}",
+        err(&o)
+    );
+    // and rewrites a witnessed row of NORTH (the append-only trigger switched off first)
+    admin
+        .batch_execute(
+            "ALTER TABLE bench_chain DISABLE TRIGGER bench_chain_append_only;
+             UPDATE bench_chain SET actor = 'someone else' WHERE bench = 'NORTH' AND seq = 3;
+             ALTER TABLE bench_chain ENABLE TRIGGER bench_chain_append_only;",
+        )
+        .unwrap();
+    let o = run(&["--db", &url, "verify", "--json"]);
+    assert_eq!(o.status.code(), Some(1));
+    let report: serde_json::Value = serde_json::from_str(&out(&o)).expect("JSON");
+    let problems: Vec<&str> = report["problems"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p.as_str().unwrap())
+        .collect();
+    assert!(
+        problems.contains(&"bench NORTH: witnessed row 3 has a hash that is not its content"),
+        "{problems:?}"
+    );
+}
+
+#[test]
 fn the_fleet_refuses_what_writes_and_names_where_the_edit_is_made() {
     let cluster = Cluster::shared();
     let fleet = TestFleet::new(cluster);

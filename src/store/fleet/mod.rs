@@ -8,10 +8,12 @@
 //! - `schema`: the fleet's numbered migrations and its two roles.
 //! - `push`: a bench's chain, records and files staged by binary COPY, then `fleet_push()`.
 //! - `pull`: reference data of other benches merged into this bench by code.
+//! - `check`: `verify` on the fleet: the witnessed chains, receipts, records, read tables.
 //! - `read`: the fleet as its users read it (`--db postgres://…`), read-only.
 //! - `status`: per bench its witnessed head, last sync, incidents, conflicts, refusals.
 //! - `sync`: push then pull, with the bench's receipts and `verify --fleet`.
 
+mod check;
 mod connect;
 mod pull;
 mod push;
@@ -20,6 +22,7 @@ mod schema;
 mod status;
 mod sync;
 
+pub use check::{BenchChainCheck, FleetCheck};
 pub use connect::Fleet;
 pub use pull::PullReport;
 pub use push::PushOutcome;

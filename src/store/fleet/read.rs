@@ -137,6 +137,11 @@ impl FleetReader {
         })
     }
 
+    /// The rows of a fixed statement without parameters.
+    pub(super) fn query(&self, sql: &str) -> Result<Vec<postgres::Row>, StoreError> {
+        self.client.borrow_mut().query(sql, &[]).map_err(pg)
+    }
+
     fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
         if let Some(r) = self.refdata.borrow().as_ref() {
             return Ok(r.clone());

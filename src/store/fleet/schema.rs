@@ -80,7 +80,8 @@ DECLARE
     b text := current_database() || '_bench';
     r text := current_database() || '_reader';
 BEGIN
-    EXECUTE format('GRANT SELECT ON fleet_facts, fleet_search, fleet_incident_order TO %I, %I',
+    EXECUTE format('GRANT SELECT ON fleet_facts, fleet_search, fleet_incident_order, fleet_facts_source
+        TO %I, %I',
         b, r);
     EXECUTE format('GRANT EXECUTE ON FUNCTION fleet_f64(text) TO %I, %I', b, r);
 END
