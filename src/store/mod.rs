@@ -188,6 +188,27 @@ fn refuse_altered_schema(conn: &rusqlite::Connection, path: &Path) -> Result<i64
 }
 
 impl Store {
+    /// Run `f` on one read snapshot of the database: every read inside sees the file as it
+    /// was at the first one, even if another program writes meanwhile (a bundle's head and
+    /// its incidents must come from the same moment). Nested calls share the outer snapshot.
+    pub fn consistent_read<T, E: From<StoreError>>(
+        &self,
+        f: impl FnOnce(&Store) -> Result<T, E>,
+    ) -> Result<T, E> {
+        let _snapshot = if self.conn.is_autocommit() {
+            Some(
+                rusqlite::Transaction::new_unchecked(
+                    &self.conn,
+                    rusqlite::TransactionBehavior::Deferred,
+                )
+                .map_err(StoreError::from)?,
+            )
+        } else {
+            None
+        };
+        f(self)
+    }
+
     /// Open a database file, creating it (and its schema) if it does not exist. A file
     /// that is not a shardlog database, or is newer than this build, is refused untouched.
     pub fn open(path: &Path) -> Result<Store, StoreError> {
