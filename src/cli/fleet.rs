@@ -6,7 +6,7 @@ use crate::store::fleet::{self, Fleet, FleetError};
 use crate::store::Store;
 
 /// The fleet URL from the flag, else `$SHARDLOG_FLEET_URL`.
-fn fleet_url(flag: Option<String>, name: &str) -> Result<String, CliError> {
+pub(super) fn fleet_url(flag: Option<String>, name: &str) -> Result<String, CliError> {
     flag.or_else(|| {
         std::env::var("SHARDLOG_FLEET_URL")
             .ok()
@@ -19,7 +19,7 @@ fn fleet_url(flag: Option<String>, name: &str) -> Result<String, CliError> {
     })
 }
 
-fn fleet_error(e: FleetError) -> CliError {
+pub(super) fn fleet_error(e: FleetError) -> CliError {
     match e {
         FleetError::Usage(m) => CliError::usage(m),
         other => CliError::work(other.to_string()),
@@ -113,6 +113,9 @@ pub enum FleetCommand {
         #[arg(long)]
         json: bool,
     },
+    /// Fill a fleet database with the invented demo story over several benches (trying the
+    /// fleet, benchmarks).
+    Demo(super::fleet_demo::FleetDemoArgs),
 }
 
 pub fn fleet(args: FleetArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -144,6 +147,7 @@ pub fn fleet(args: FleetArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             )?;
             Ok(())
         }
+        FleetCommand::Demo(a) => super::fleet_demo::run(a, ctx),
         FleetCommand::Status { url, json: as_json } => {
             let url = fleet_url(url, "--url")?;
             let mut f = Fleet::connect(&url).map_err(fleet_error)?;

@@ -16,6 +16,7 @@ pub mod calibrate;
 pub mod codes;
 pub mod exposure;
 pub mod fleet;
+pub mod fleet_demo;
 pub mod key;
 pub mod leftovers;
 pub mod load;

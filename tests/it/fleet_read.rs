@@ -262,3 +262,51 @@ fn the_fleet_refuses_what_writes_and_names_where_the_edit_is_made() {
         text(&["--db", file, "list", "--json", "--all"])
     );
 }
+
+#[test]
+fn fleet_demo_fills_a_fleet_through_the_benches_push() {
+    let cluster = Cluster::shared();
+    let name = crate::support::fleet::fresh_database(cluster);
+    let url = cluster.url(&name);
+    let dir = tempfile::tempdir().unwrap();
+    let keep = dir.path().join("benches");
+    let said = text(&[
+        "fleet",
+        "demo",
+        "--url",
+        &url,
+        "--incidents",
+        "301",
+        "--benches",
+        "3",
+        "--keep-benches",
+        keep.to_str().unwrap(),
+    ]);
+    assert!(said.contains("301 incidents over 3 benches"), "{said}");
+    // 101 + 100 + 100, each bench's incidents owned by it in the fleet
+    for (code, n) in [("B01", 101), ("B02", 100), ("B03", 100)] {
+        let listed = references(&text(&[
+            "--db", &url, "list", "--json", "--all", "--bench", code,
+        ]));
+        assert_eq!(listed.len(), n, "{code}");
+        let file = keep.join(format!("{code}.db"));
+        assert_eq!(
+            text(&["--db", &url, "list", "--json", "--all", "--bench", code]),
+            text(&["--db", file.to_str().unwrap(), "list", "--json", "--all"])
+        );
+    }
+    let ok = text(&["--db", &url, "verify"]);
+    assert!(ok.contains("3 receipts link correctly"), "{ok}");
+    // a usage error for a number of benches it cannot make
+    let o = run(&[
+        "fleet",
+        "demo",
+        "--url",
+        &url,
+        "--incidents",
+        "2",
+        "--benches",
+        "3",
+    ]);
+    assert_eq!(o.status.code(), Some(2), "{}", err(&o));
+}
