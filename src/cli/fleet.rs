@@ -1,31 +1,11 @@
 //! The fleet commands: `sync`, `fleet init`, `fleet status`, `bench code`, and the fleet
 //! parts of `init --bench`, `demo --bench` and `verify --fleet`.
 
-use super::{CliError, Context};
-use crate::store::fleet::{self, Fleet, FleetError};
+use super::{fleet_error, fleet_url, CliError, Context};
+use crate::store::fleet::{self, Fleet};
 use crate::store::Store;
 
 /// The fleet URL from the flag, else `$SHARDLOG_FLEET_URL`.
-pub(super) fn fleet_url(flag: Option<String>, name: &str) -> Result<String, CliError> {
-    flag.or_else(|| {
-        std::env::var("SHARDLOG_FLEET_URL")
-            .ok()
-            .filter(|v| !v.trim().is_empty())
-    })
-    .ok_or_else(|| {
-        CliError::usage(format!(
-            "{name}: expected the fleet database's URL, e.g. postgresql://USER@HOST/DATABASE?sslmode=require (or set SHARDLOG_FLEET_URL)"
-        ))
-    })
-}
-
-pub(super) fn fleet_error(e: FleetError) -> CliError {
-    match e {
-        FleetError::Usage(m) => CliError::usage(m),
-        other => CliError::work(other.to_string()),
-    }
-}
-
 fn json(ctx: &mut Context<'_>, value: &impl serde::Serialize) -> Result<(), CliError> {
     let text =
         serde_json::to_string_pretty(value).map_err(|e| CliError::work(format!("JSON: {e}")))?;

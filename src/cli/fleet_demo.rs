@@ -5,9 +5,8 @@
 
 use std::path::PathBuf;
 
-use super::fleet::{fleet_error, fleet_url};
 use super::records::work;
-use super::{CliError, Context};
+use super::{fleet_error, fleet_url, CliError, Context};
 use crate::store::fleet::Fleet;
 use crate::store::Store;
 

@@ -239,6 +239,28 @@ pub fn name_file() -> PathBuf {
     data_dir().join("shardlog").join("analyst-name")
 }
 
+/// The fleet database's URL: the flag, else `$SHARDLOG_FLEET_URL`.
+pub(crate) fn fleet_url(flag: Option<String>, name: &str) -> Result<String, CliError> {
+    flag.or_else(|| {
+        std::env::var("SHARDLOG_FLEET_URL")
+            .ok()
+            .filter(|v| !v.trim().is_empty())
+    })
+    .ok_or_else(|| {
+        CliError::usage(format!(
+            "{name}: expected the fleet database's URL, e.g. postgresql://USER@HOST/DATABASE?sslmode=require (or set SHARDLOG_FLEET_URL)"
+        ))
+    })
+}
+
+/// A fleet failure as the command line reports it (a usage error stays one).
+pub(crate) fn fleet_error(e: crate::store::fleet::FleetError) -> CliError {
+    match e {
+        crate::store::fleet::FleetError::Usage(m) => CliError::usage(m),
+        other => CliError::work(other.to_string()),
+    }
+}
+
 /// A calendar day as `--since` and `--until` take it: `YYYY-MM-DD`, spaces around it ignored.
 /// `None` when the text is not one (each command words its own message).
 pub(crate) fn parse_day(text: &str) -> Option<chrono::NaiveDate> {

@@ -310,3 +310,65 @@ fn fleet_demo_fills_a_fleet_through_the_benches_push() {
     ]);
     assert_eq!(o.status.code(), Some(2), "{}", err(&o));
 }
+
+/// The fleet reads the numbers of the audit images ("f64:" and the 16 hex digits of the IEEE
+/// 754 bits) in SQL; every pattern must come back as the very same double (IEEE 754-2008
+/// binary64: sign, 11-bit biased exponent, 52-bit fraction; subnormals at exponent 0).
+#[test]
+fn the_fleets_reading_of_an_image_number_is_bit_exact() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let mut admin = fleet.admin();
+    let mut patterns: Vec<u64> = [
+        0.0f64,
+        -0.0,
+        1.0,
+        -1.0,
+        0.1,
+        2.9198258091608927e7,
+        -6.9e7,
+        1e-300,
+        1e300,
+        f64::MIN_POSITIVE,
+        f64::MAX,
+        f64::MIN,
+        f64::EPSILON,
+    ]
+    .iter()
+    .map(|x| x.to_bits())
+    .collect();
+    // subnormals: the smallest, the largest, one between
+    patterns.extend([1u64, 0x000f_ffff_ffff_ffff, 0x0000_0000_dead_beef]);
+    // and a spread of other patterns (splitmix64 from a fixed seed)
+    let mut state = 0x5eed_u64;
+    for _ in 0..2000 {
+        state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = state;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        let bits = z ^ (z >> 31);
+        if !f64::from_bits(bits).is_nan() {
+            patterns.push(bits);
+        }
+    }
+    for bits in patterns {
+        let text = format!("f64:{bits:016x}");
+        let back: f64 = admin
+            .query_one("SELECT fleet_f64($1)", &[&text])
+            .unwrap()
+            .get(0);
+        assert_eq!(back.to_bits(), bits, "{text} read as {back:e}");
+    }
+    for not_a_pattern in [
+        "1.5",
+        "f64:3ff",
+        "f64:3FF0000000000000",
+        "f64:3ff000000000000g",
+    ] {
+        let none: Option<f64> = admin
+            .query_one("SELECT fleet_f64($1)", &[&not_a_pattern])
+            .unwrap()
+            .get(0);
+        assert_eq!(none, None, "{not_a_pattern} reads as nothing");
+    }
+}
