@@ -7,7 +7,7 @@
 //! a filter never returns nothing silently because of a typing mistake.
 
 use super::CliError;
-use crate::store::{LookupKind, Store, NO_CAUSE};
+use crate::store::{LookupKind, RecordSource, NO_CAUSE};
 
 /// What a filter flag selects on.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -50,7 +50,7 @@ impl Field {
     }
 
     /// The valid values of this field in the database.
-    pub fn choices(self, store: &Store) -> Result<Vec<Choice>, CliError> {
+    pub fn choices(self, store: &dyn RecordSource) -> Result<Vec<Choice>, CliError> {
         let work = |e: crate::store::StoreError| CliError::work(e.to_string());
         let lookup = |kind| -> Result<Vec<Choice>, CliError> {
             Ok(store
@@ -79,7 +79,7 @@ impl Field {
                 })
                 .collect(),
             Field::Product => store
-                .products(None)
+                .products()
                 .map_err(work)?
                 .into_iter()
                 .map(|p| Choice {
@@ -88,7 +88,7 @@ impl Field {
                 })
                 .collect(),
             Field::Lot => store
-                .lots(None, None)
+                .lots()
                 .map_err(work)?
                 .into_iter()
                 .map(|l| Choice {
@@ -186,13 +186,18 @@ pub fn resolve_in(
 }
 
 /// [`resolve_in`] over the database's values of `field`.
-pub fn resolve(store: &Store, field: Field, flag: &str, typed: &str) -> Result<String, CliError> {
+pub fn resolve(
+    store: &dyn RecordSource,
+    field: Field,
+    flag: &str,
+    typed: &str,
+) -> Result<String, CliError> {
     resolve_in(&field.choices(store)?, field, flag, typed)
 }
 
 /// `resolve` for an optional flag.
 pub fn resolve_opt(
-    store: &Store,
+    store: &dyn RecordSource,
     field: Field,
     flag: &str,
     typed: &Option<String>,

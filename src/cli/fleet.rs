@@ -1,31 +1,11 @@
 //! The fleet commands: `sync`, `fleet init|enrol|status|resolve`, `bench code`, `transfer`,
 //! and the fleet parts of `init --bench`, `demo --bench` and `verify --fleet`.
 
-use super::{CliError, Context};
-use crate::store::fleet::{self, Fleet, FleetError};
+use super::{fleet_error, fleet_url, CliError, Context};
+use crate::store::fleet::{self, Fleet};
 use crate::store::Store;
 
 /// The fleet URL from the flag, else `$SHARDLOG_FLEET_URL`.
-fn fleet_url(flag: Option<String>, name: &str) -> Result<String, CliError> {
-    flag.or_else(|| {
-        std::env::var("SHARDLOG_FLEET_URL")
-            .ok()
-            .filter(|v| !v.trim().is_empty())
-    })
-    .ok_or_else(|| {
-        CliError::usage(format!(
-            "{name}: expected the fleet database's URL, e.g. postgresql://USER@HOST/DATABASE?sslmode=require (or set SHARDLOG_FLEET_URL)"
-        ))
-    })
-}
-
-fn fleet_error(e: FleetError) -> CliError {
-    match e {
-        FleetError::Usage(m) => CliError::usage(m),
-        other => CliError::work(other.to_string()),
-    }
-}
-
 fn json(ctx: &mut Context<'_>, value: &impl serde::Serialize) -> Result<(), CliError> {
     let text =
         serde_json::to_string_pretty(value).map_err(|e| CliError::work(format!("JSON: {e}")))?;
@@ -194,6 +174,9 @@ pub enum FleetCommand {
         #[arg(long)]
         json: bool,
     },
+    /// Fill a fleet database with the invented demo story over several benches (trying the
+    /// fleet, benchmarks).
+    Demo(super::fleet_demo::FleetDemoArgs),
 }
 
 pub fn fleet(args: FleetArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
@@ -289,6 +272,7 @@ pub fn fleet(args: FleetArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             }
             Ok(())
         }
+        FleetCommand::Demo(a) => super::fleet_demo::run(a, ctx),
         FleetCommand::Status { url, json: as_json } => {
             let url = fleet_url(url, "--url")?;
             let mut f = Fleet::connect(&url).map_err(fleet_error)?;

@@ -17,6 +17,7 @@ mod calibrate_save;
 pub mod codes;
 pub mod exposure;
 pub mod fleet;
+pub mod fleet_demo;
 pub mod fragmentation;
 pub mod key;
 pub mod leftovers;
@@ -246,6 +247,28 @@ pub fn name_file() -> PathBuf {
     data_dir().join("shardlog").join("analyst-name")
 }
 
+/// The fleet database's URL: the flag, else `$SHARDLOG_FLEET_URL`.
+pub(crate) fn fleet_url(flag: Option<String>, name: &str) -> Result<String, CliError> {
+    flag.or_else(|| {
+        std::env::var("SHARDLOG_FLEET_URL")
+            .ok()
+            .filter(|v| !v.trim().is_empty())
+    })
+    .ok_or_else(|| {
+        CliError::usage(format!(
+            "{name}: expected the fleet database's URL, e.g. postgresql://USER@HOST/DATABASE?sslmode=require (or set SHARDLOG_FLEET_URL)"
+        ))
+    })
+}
+
+/// A fleet failure as the command line reports it (a usage error stays one).
+pub(crate) fn fleet_error(e: crate::store::fleet::FleetError) -> CliError {
+    match e {
+        crate::store::fleet::FleetError::Usage(m) => CliError::usage(m),
+        other => CliError::work(other.to_string()),
+    }
+}
+
 /// A calendar day as `--since` and `--until` take it: `YYYY-MM-DD`, spaces around it ignored.
 /// `None` when the text is not one (each command words its own message).
 pub(crate) fn parse_day(text: &str) -> Option<chrono::NaiveDate> {
@@ -405,9 +428,53 @@ impl Write for TerminalGuard<'_> {
     }
 }
 
+/// The name of a command that cannot work on the fleet database (it writes, or works on one
+/// bench file only), None for those that read it or never open a database.
+fn fleet_refuses(command: Option<&Command>) -> Option<&'static str> {
+    let Some(command) = command else {
+        return Some("the interface (not yet on the fleet)");
+    };
+    Some(match command {
+        Command::List(_)
+        | Command::Show(_)
+        | Command::Stats(_)
+        | Command::Export(_)
+        | Command::Verify(_) => return None,
+        Command::Mirror(_)
+        | Command::Materials(_)
+        | Command::Load(_)
+        | Command::Weibull(_)
+        | Command::Calibrate(_)
+        | Command::Demo(_)
+        | Command::Fleet(_)
+        | Command::Completions(_)
+        | Command::Manpage => return None,
+        Command::Init(_) => "`init`",
+        Command::Import(_) => "`import`",
+        Command::Exposure(_) => "`exposure`",
+        Command::Lookups(_) => "`lookups`",
+        Command::Attach(_) => "`attach`",
+        Command::Key(_) => "`key`",
+        Command::Backup(_) => "`backup`",
+        Command::Report(_) => "`report` (not yet on the fleet)",
+        Command::Dispute(_) => "`dispute` (not yet on the fleet)",
+        Command::Sync(_) => "`sync` (run it with --db naming the bench file)",
+        Command::Bench(_) => "`bench`",
+        Command::Fragmentation(_) => "`fragmentation`",
+        Command::Transfer(_) => "`transfer` (run it with --db naming the bench file)",
+    })
+}
+
 /// Run a parsed command line, printing to `out`.
 pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
     let db = resolve_db(cli.db);
+    if crate::store::is_fleet_url(&db) {
+        if let Some(name) = fleet_refuses(cli.command.as_ref()) {
+            return Err(CliError::usage(format!(
+                "--db names the fleet database, which {name} cannot use: the fleet is read-only for its users (an edit is made at the bench that owns the incident, and reaches the fleet when that bench syncs); on the fleet database: list, show, stats, export, verify"
+            )));
+        }
+    }
     let Some(command) = cli.command else {
         let who = match chosen_name() {
             Some(name) => crate::tui::Analyst::Known(name),

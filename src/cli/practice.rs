@@ -5,7 +5,7 @@ use std::io::Write;
 
 use super::CliError;
 use crate::store::practice::{days_in_service, fragmentation_check};
-use crate::store::{Incident, Store};
+use crate::store::Incident;
 use shardlog_core::text::sanitize_for_terminal as clean_text;
 use shardlog_core::units::fmt_sig;
 
@@ -14,7 +14,11 @@ fn work(e: crate::store::StoreError) -> CliError {
 }
 
 /// Write the lines; nothing for what is not recorded.
-pub fn write_practice(out: &mut dyn Write, s: &Store, inc: &Incident) -> Result<(), CliError> {
+pub fn write_practice(
+    out: &mut dyn Write,
+    s: &dyn crate::store::RecordSource,
+    inc: &Incident,
+) -> Result<(), CliError> {
     if let Some(i) = inc.installed_on {
         let service = days_in_service(inc)
             .map(|d| {
@@ -30,10 +34,10 @@ pub fn write_practice(out: &mut dyn Write, s: &Store, inc: &Incident) -> Result<
         (&inc.glass.supplier, &inc.glass.product, &inc.glass.lot)
     {
         let lot = s
-            .lots(Some(sup), Some(prod))
+            .lots()
             .map_err(work)?
             .into_iter()
-            .find(|l| &l.code == code);
+            .find(|l| &l.supplier == sup && &l.product == prod && &l.code == code);
         if let Some(h) = lot.and_then(|l| l.heat_soak) {
             let text = if h.soaked {
                 let on = h.on.map(|d| format!(" on {d}")).unwrap_or_default();

@@ -7,7 +7,9 @@ use chrono::{NaiveDate, Utc};
 use super::codes::{resolve_opt, Field};
 use super::{actor, parse_day, sanitize_for_terminal, CliError, Context};
 use crate::store::exchange::ImportOptions;
-use crate::store::{self, Filter, PageRequest, Sort, SortColumn, Stamp, Store, StoreError};
+use crate::store::{
+    self, Filter, PageRequest, RecordSource, Sort, SortColumn, Stamp, Store, StoreError,
+};
 use shardlog_core::text::stress_or_dash;
 
 /// One field of `list` or `show` on its line: a newline or tab inside it becomes a space, so
@@ -35,6 +37,18 @@ pub(crate) fn open(db: &Path) -> Result<Store, CliError> {
 /// backup): nothing is written, so it works on a full disk.
 pub(crate) fn open_to_read(db: &Path) -> Result<Store, CliError> {
     Store::open_for_reading(db).map_err(work)
+}
+
+/// Open the records `--db` names only to read them: a bench file, or the fleet database for
+/// a `postgres://` URL (read-only). `bench`: one bench's records of the fleet.
+pub(crate) fn open_records(
+    db: &Path,
+    bench: Option<&str>,
+) -> Result<Box<dyn RecordSource>, CliError> {
+    store::open_records(db, bench).map_err(|e| match e {
+        StoreError::Invalid { .. } => CliError::usage(e.to_string()),
+        other => work(other),
+    })
 }
 
 /// Filters shared by export and list. Each code flag takes a code or its label (a
@@ -78,7 +92,7 @@ fn parse_date(flag: &str, v: &str) -> Result<NaiveDate, CliError> {
 
 impl FilterArgs {
     /// The checked filter: dates parsed, every code resolved against the database.
-    fn to_filter(&self, store: &Store) -> Result<Filter, CliError> {
+    fn to_filter(&self, store: &dyn RecordSource) -> Result<Filter, CliError> {
         let since = self
             .since
             .as_deref()
@@ -270,9 +284,20 @@ pub struct ExportArgs {
     /// Write to FILE instead of standard output (written whole, then renamed into place).
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
+    /// Only the incidents and reference data of this bench (on the fleet database; a bench
+    /// file takes only its own code).
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
 }
 
 pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    if store::is_fleet_url(&ctx.db) {
+        return export_from_fleet(args, ctx);
+    }
+    if args.bench.is_some() {
+        // a bench file takes only its own code: refused here as on the other commands
+        open_records(&ctx.db, args.bench.as_deref())?;
+    }
     super::key::make_key_if_missing(&ctx.db);
     let s = open_to_read(&ctx.db)?;
     let filter = args.filter.to_filter(&s)?;
@@ -303,7 +328,37 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         ),
         None => eprintln!("{}", super::key::unsigned_note(&s)),
     }
-    let damaged = out.damaged;
+    damaged_left_out(out.damaged)
+}
+
+/// `export` on the fleet database: the same documents as the bench file's, unsigned (the
+/// fleet holds no bench's key; its witnessed heads are checked by `verify` on the fleet).
+fn export_from_fleet(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let s = open_records(&ctx.db, args.bench.as_deref())?;
+    let s = s.as_ref();
+    let filter = args.filter.to_filter(s)?;
+    let mut buf: Vec<u8> = Vec::new();
+    // an incident whose row cannot be read is left out and named; the others are exported
+    let damaged = match args.format {
+        ExportFormat::Json => {
+            let (text, damaged) = s.export_json_readable(&filter).map_err(work)?;
+            buf.extend_from_slice(text.as_bytes());
+            damaged
+        }
+        ExportFormat::Csv => s.export_csv_readable(&filter, &mut buf).map_err(work)?.1,
+    };
+    match args.output {
+        None => ctx.out.write_all(&buf)?,
+        Some(path) => {
+            refuse_database_files(&path, &ctx.db, "-o")?;
+            // an export is a copy of the records: owner-only
+            write_whole(&path, &buf, true)?
+        }
+    }
+    damaged_left_out(damaged)
+}
+
+fn damaged_left_out<D: std::fmt::Display>(damaged: Vec<D>) -> Result<(), CliError> {
     if damaged.is_empty() {
         return Ok(());
     }
@@ -377,6 +432,10 @@ pub struct ListArgs {
     /// Free text over references, positions, descriptions and notes.
     #[arg(long, value_name = "TEXT")]
     pub search: Option<String>,
+    /// Only the incidents this bench owns (on the fleet database; a bench file takes only
+    /// its own code).
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
     /// At most N incidents; 0 lists every match (read page by page, at constant memory).
     #[arg(long, value_name = "N", default_value_t = 50, conflicts_with = "all")]
     pub limit: u64,
@@ -419,7 +478,7 @@ pub(crate) struct Readable {
 }
 
 impl Readable {
-    pub(crate) fn load(s: &Store) -> Result<Self, CliError> {
+    pub(crate) fn load(s: &dyn RecordSource) -> Result<Self, CliError> {
         let mut labels = std::collections::HashMap::new();
         for e in s.all_lookups().map_err(work)? {
             labels.insert((e.kind, e.code), e.label);
@@ -477,8 +536,9 @@ fn list_row_text(r: &store::LogRow, names: &Readable) -> String {
 
 pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let limit = if args.all { 0 } else { args.limit };
-    let s = open_to_read(&ctx.db)?;
-    let mut filter = args.filter.to_filter(&s)?;
+    let s = open_records(&ctx.db, args.bench.as_deref())?;
+    let s = s.as_ref();
+    let mut filter = args.filter.to_filter(s)?;
     filter.text = args.search.clone();
     let sort = Sort {
         column: match args.sort {
@@ -489,7 +549,7 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         },
         descending: !args.asc,
     };
-    let names = Readable::load(&s)?;
+    let names = Readable::load(s)?;
     if !args.json {
         writeln!(
             ctx.out,
@@ -688,9 +748,10 @@ fn write_examination(
 }
 
 pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
-    let s = open_to_read(&ctx.db)?;
+    let s = open_records(&ctx.db, None)?;
+    let s = s.as_ref();
     let inc = s.get(&args.reference).map_err(work)?;
-    let names = Readable::load(&s)?;
+    let names = Readable::load(s)?;
     if args.json {
         let text =
             serde_json::to_string_pretty(&inc).map_err(|e| CliError::work(format!("JSON: {e}")))?;
@@ -759,7 +820,7 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             clean(&names.label(store::LookupKind::OriginLocation, loc))
         )?;
     }
-    super::practice::write_practice(out, &s, &inc)?;
+    super::practice::write_practice(out, s, &inc)?;
     for (i, e) in inc.examinations.iter().enumerate() {
         write_examination(out, &names, i + 1, e)?;
     }

@@ -48,6 +48,9 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(url) = args.fleet {
         return super::fleet::verify_fleet(url, args.json, ctx);
     }
+    if crate::store::is_fleet_url(&ctx.db) {
+        return verify_fleet_database(&args, ctx);
+    }
     let s = open_to_read(&ctx.db)?;
     let meter = super::progress::Meter::on_stderr();
     s.set_progress(meter.as_ref().map(|m| m.callback()));
@@ -245,4 +248,52 @@ fn verify_export(file: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Resul
         check.problems.len(),
         if check.problems.len() == 1 { "" } else { "s" }
     )))
+}
+
+/// `verify` with `--db` naming the fleet database: every bench's witnessed chain, the fleet's
+/// own chain of receipts, every record against its digest, the read tables against the images.
+fn verify_fleet_database(args: &VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    if !args.anchor.is_empty() {
+        return Err(CliError::usage(
+            "--anchor checks a bench's own chain; on the fleet database every bench's head is checked against its witnessed rows",
+        ));
+    }
+    let url = ctx.db.to_string_lossy().into_owned();
+    let reader = crate::store::fleet::FleetReader::open(&url, None).map_err(work)?;
+    let r = reader.check().map_err(work)?;
+    if args.json {
+        let text =
+            serde_json::to_string_pretty(&r).map_err(|e| CliError::work(format!("JSON: {e}")))?;
+        writeln!(ctx.out, "{text}")?;
+    } else if r.problems.is_empty() {
+        for b in &r.benches {
+            writeln!(
+                ctx.out,
+                "ok: bench {}: {} witnessed rows chain correctly; head {} ({})",
+                clean(&b.bench),
+                b.rows,
+                b.head_seq,
+                b.head_hash.get(..16).unwrap_or(&b.head_hash)
+            )?;
+        }
+        writeln!(
+            ctx.out,
+            "ok: the fleet's own chain: {} receipts link correctly; head {}",
+            r.receipts,
+            r.fleet_head.as_deref().unwrap_or("none yet")
+        )?;
+        writeln!(
+            ctx.out,
+            "ok: {} records match their digests; {} incidents' facts and words match their images",
+            r.records, r.incidents
+        )?;
+    }
+    match r.problems.first() {
+        None => Ok(()),
+        Some(p) => Err(CliError::work(format!(
+            "verify failed: {} problem{} on the fleet database; the first: {p}",
+            r.problems.len(),
+            if r.problems.len() == 1 { "" } else { "s" }
+        ))),
+    }
 }

@@ -32,6 +32,22 @@ pub fn incident_image(inc: &crate::store::model::Incident) -> Result<String, ser
     core_canonical::to_canonical_with_digested_field(inc, Numbers::BitPattern, "analysis")
 }
 
+/// `v` with every negative zero made zero. The canonical form writes -0.0 as 0.0, so the
+/// audit image (and a digest of it) pins a zero without its sign; a value read back from a
+/// stored JSON text is shown as the image pins it, the same at the bench and in the fleet.
+pub fn unsigned_zeros(v: Value) -> Value {
+    match v {
+        Value::Number(n) if n.as_f64() == Some(0.0) && n.is_f64() => {
+            serde_json::Number::from_f64(0.0).map_or(Value::Number(n), Value::Number)
+        }
+        Value::Array(a) => Value::Array(a.into_iter().map(unsigned_zeros).collect()),
+        Value::Object(m) => {
+            Value::Object(m.into_iter().map(|(k, v)| (k, unsigned_zeros(v))).collect())
+        }
+        other => other,
+    }
+}
+
 /// [`incident_image`] built through a `serde_json::Value` (test reference).
 #[cfg(test)]
 pub fn incident_image_via_value(

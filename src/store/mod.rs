@@ -67,6 +67,7 @@ mod outbox;
 mod own_materials;
 pub mod practice;
 pub mod progress;
+pub mod read;
 mod refdata;
 pub mod safe_file;
 pub mod signing;
@@ -84,6 +85,7 @@ pub use model::*;
 pub use moves::{Resolution, Transfer};
 pub use outbox::{ChainRow, Receipt, PULL_ACTOR};
 pub use own_materials::{check_material, check_material_code, MaterialBook, OwnMaterial};
+pub use read::RecordSource;
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
 pub use verify::Anchor;
 
@@ -378,4 +380,43 @@ impl Store {
         }
         Ok(())
     }
+}
+
+/// Whether `--db` names the fleet database (a `postgres://` or `postgresql://` URL) rather
+/// than a bench file.
+pub fn is_fleet_url(db: &Path) -> bool {
+    let text = db.to_string_lossy();
+    let lower = text.trim_start().to_ascii_lowercase();
+    lower.starts_with("postgres://") || lower.starts_with("postgresql://")
+}
+
+/// Open the records `db` names, only to read them: a bench file (as
+/// [`Store::open_for_reading`]) or, for a URL, the fleet database in a read-only session.
+/// `bench`: only the records of this bench (the fleet's incidents it owns and the reference
+/// data it pushed); on a bench file it must be the file's own code.
+pub fn open_records(db: &Path, bench: Option<&str>) -> Result<Box<dyn RecordSource>, StoreError> {
+    if is_fleet_url(db) {
+        let url = db.to_string_lossy();
+        let reader = fleet::FleetReader::open(&url, bench)?;
+        return Ok(Box::new(reader));
+    }
+    let store = Store::open_for_reading(db)?;
+    if let Some(code) = bench {
+        let code = check_bench_code(code).map_err(|m| StoreError::invalid("--bench", m))?;
+        let own = store.bench_code()?;
+        if own.as_deref() != Some(code.as_str()) {
+            return Err(StoreError::invalid(
+                "--bench",
+                format!(
+                    "{} is {}; --bench chooses one bench of the fleet database",
+                    db.display(),
+                    match own {
+                        Some(c) => format!("bench {c}, not {code}"),
+                        None => "a bench without a code".to_string(),
+                    }
+                ),
+            ));
+        }
+    }
+    Ok(Box::new(store))
 }

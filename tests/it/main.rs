@@ -16,6 +16,7 @@ mod fleet_crash;
 mod fleet_facts;
 mod fleet_moves;
 mod fleet_pull_mark;
+mod fleet_read;
 mod fleet_sync;
 mod found_bugs;
 mod fuzz_regressions;

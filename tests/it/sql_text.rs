@@ -37,6 +37,17 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("sqlite/search.rs", "INSERT INTO {quoted} VALUES ({marks})", "quoted: as above; marks: one '?' per column"),
     ("sqlite/schema.rs", "PRAGMA user_version = {v}", "v: an i64 schema version from the migration table in the code"),
     ("sqlite/schema.rs", "PRAGMA application_id = {APPLICATION_ID}", "a constant"),
+    ("fleet/read.rs", "to_tsquery('simple', ${})", "a $n placeholder number; the query text is bound"),
+    ("fleet/read.rs", "WHERE {}", "conds: fixed condition texts with $n placeholders (conditions pushes only literals)"),
+    ("fleet/read.rs", "(f.stress_pa, f.ord) {cmp} (${}, ${})", "cmp '<' or '>' from the direction; placeholder numbers"),
+    ("fleet/read.rs", "ORDER BY f.stress_pa {dir}", "LOG_COLUMNS a constant; where_clause of fixed texts; dir from the direction; limit an integer"),
+    ("fleet/read.rs", "f.ord {cmp} ${}", "cmp '<' or '>' from the direction; a placeholder number"),
+    ("fleet/read.rs", "ORDER BY f.ord {dir} LIMIT {}", "LOG_COLUMNS a constant; where_clause of fixed texts; dir from the direction; an integer"),
+    ("fleet/read.rs", "({}) {cmp} ({})", "key columns from the sort column match, cmp from the direction, $n placeholders"),
+    ("fleet/read.rs", "{LOG_COLUMNS} {} ORDER BY {} LIMIT {limit}", "LOG_COLUMNS a constant; where_clause of fixed texts; the order from the SortColumn match; limit an integer"),
+    ("fleet/read.rs", "JOIN fleet_records r ON r.entity = 'incident' AND r.id = f.id {}", "where_clause of fixed condition texts"),
+    ("fleet/read.rs", "SELECT count(*) FROM fleet_facts f {}", "where_clause of fixed condition texts"),
+    ("fleet/read.rs", "SELECT f.found_on, {stress}", "stress: one of two literal column names by the StressKind enum; where_clause of fixed texts"),
     ("sqlite/open.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),
 ];
 

@@ -58,6 +58,10 @@ pub struct StatsArgs {
     /// nickel sulfide failures (by year in service, with the median).
     #[arg(long)]
     pub heat_soak: bool,
+    /// Only the incidents (and panes in service) of this bench (on the fleet database; a
+    /// bench file takes only its own code).
+    #[arg(long, value_name = "CODE")]
+    pub bench: Option<String>,
     /// Print JSON instead of tables.
     #[arg(long)]
     pub json: bool,
@@ -340,7 +344,10 @@ fn only_field(key: Key) -> Option<super::codes::Field> {
 /// `--only KEY=VALUE` take a code or its label in any case (`cause=none` or
 /// `cause=(not recorded)` for the incidents without one); anything else is a usage error
 /// listing the valid values.
-fn resolve_codes(store: &crate::store::Store, q: &mut StatsQuery) -> Result<(), CliError> {
+fn resolve_codes(
+    store: &dyn crate::store::RecordSource,
+    q: &mut StatsQuery,
+) -> Result<(), CliError> {
     use super::codes::{resolve, resolve_in, Field};
     if let Some(o) = &q.origin_type {
         q.origin_type = Some(resolve(store, Field::OriginType, "--origin-type", o)?);
@@ -373,7 +380,7 @@ fn resolve_codes(store: &crate::store::Store, q: &mut StatsQuery) -> Result<(), 
 /// Lookup codes of the facts (cause, origin type, temper, asset type) replaced by their
 /// labels, for the text output; `--origin-type` with them.
 fn readable(
-    store: &crate::store::Store,
+    store: &dyn crate::store::RecordSource,
     q: &mut StatsQuery,
     incidents: &mut [IncidentFacts],
 ) -> Result<(), CliError> {
@@ -410,16 +417,16 @@ fn readable(
 
 pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let mut q = query_from_args(&args)?;
-    let store = crate::store::Store::open_for_reading(&ctx.db)
-        .map_err(|e| CliError::work(e.to_string()))?;
-    resolve_codes(&store, &mut q)?;
+    let store = super::records::open_records(&ctx.db, args.bench.as_deref())?;
+    let store = store.as_ref();
+    resolve_codes(store, &mut q)?;
     let (mut incidents, mut exposures) = store
         .stats_input(&q, &[])
         .map_err(|e| CliError::work(e.to_string()))?;
     apply_only(&q, &mut incidents, &mut exposures);
     if !q.json {
         // the text shows the labels people read; --json keeps the codes
-        readable(&store, &mut q, &mut incidents)?;
+        readable(store, &mut q, &mut incidents)?;
     }
     // The clock is read here, at the edge: the default end of the window is today.
     let today = chrono::Utc::now().date_naive();
@@ -428,7 +435,12 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         let window = q
             .window(&incidents, &exposures, today)
             .map_err(CliError::usage)?;
-        let c = soak::comparison(&store, &exposures, &window)?;
+        let Some(bench) = store.as_bench() else {
+            return Err(CliError::usage(
+                "--heat-soak is not yet on the fleet database; run it on a bench file",
+            ));
+        };
+        let c = soak::comparison(bench, &exposures, &window)?;
         if q.json {
             let mut v: Value =
                 serde_json::from_str(&text).map_err(|e| CliError::work(format!("json: {e}")))?;
@@ -522,6 +534,7 @@ mod tests {
             only: vec![],
             stress: "applied".into(),
             heat_soak: false,
+            bench: None,
             json: false,
         })
         .unwrap()
@@ -616,6 +629,7 @@ mod tests {
             only: vec![],
             stress: "applied".into(),
             heat_soak: false,
+            bench: None,
             json: false,
         };
         for args in [

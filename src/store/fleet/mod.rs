@@ -8,25 +8,31 @@
 //! - `schema`: the fleet's numbered migrations, its two roles and a login per bench.
 //! - `push`: a bench's chain, records and files staged by binary COPY, then `fleet_push()`.
 //! - `pull`: reference data of other benches merged into this bench by code.
+//! - `check`: `verify` on the fleet: the witnessed chains, receipts, records, read tables.
+//! - `read`: the fleet as its users read it (`--db postgres://…`), read-only.
 //! - `status`: per bench its witnessed head, last sync, incidents, conflicts, refusals.
 //! - `pull_incidents`: the incidents other benches sent to this one, as the fleet holds them.
 //! - `status`: also the open conflicts with both versions.
 //! - `resolve`: the owning bench settles a conflict with a new edit that names it.
 //! - `sync`: push then pull, with the bench's receipts and `verify --fleet`.
 
+mod check;
 mod connect;
 mod pull;
 mod pull_incidents;
 mod push;
+mod read;
 mod resolve;
 mod schema;
 mod status;
 mod sync;
 
+pub use check::{BenchChainCheck, FleetCheck};
 pub use connect::Fleet;
 pub use pull::PullReport;
 pub use pull_incidents::IncidentPull;
 pub use push::PushOutcome;
+pub use read::FleetReader;
 pub use resolve::{resolve, ResolveReport};
 pub use schema::{FleetInit, FleetLogin, FLEET_SCHEMA_VERSION};
 pub use status::{BenchStatus, Conflict, FleetStatus};

@@ -4,28 +4,39 @@
 
 use super::{Fleet, FleetError};
 
-/// The fleet migrations, in order. Migration n brings the fleet from version n-1 to n.
-const MIGRATIONS: &[(&str, &str)] = &[
+/// The fleet migrations, in order, each with its number (the start of its file name). A
+/// migration is applied once, when `fleet_schema` lacks its number; the version of a fleet is
+/// the highest number applied.
+const MIGRATIONS: &[(i64, &str, &str)] = &[
     (
+        1,
         "0001_fleet.sql",
         include_str!("../../../schema/fleet/0001_fleet.sql"),
     ),
     (
+        2,
         "0002_push.sql",
         include_str!("../../../schema/fleet/0002_push.sql"),
     ),
     (
+        3,
         "0003_push_speed.sql",
         include_str!("../../../schema/fleet/0003_push_speed.sql"),
     ),
     (
+        4,
         "0004_moves.sql",
         include_str!("../../../schema/fleet/0004_moves.sql"),
     ),
+    (
+        5,
+        "0005_read.sql",
+        include_str!("../../../schema/fleet/0005_read.sql"),
+    ),
 ];
 
-/// The fleet schema version this build writes.
-pub const FLEET_SCHEMA_VERSION: i64 = MIGRATIONS.len() as i64;
+/// The fleet schema version this build writes: the number of its last migration.
+pub const FLEET_SCHEMA_VERSION: i64 = MIGRATIONS[MIGRATIONS.len() - 1].0;
 
 /// What `fleet init` did.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -81,6 +92,22 @@ END
 $roles$;
 "#;
 
+/// What both roles may read beside the history: the facts, words and order kept on ingest
+/// (schema/fleet/0005_read.sql).
+const READ_GRANTS: &str = r#"
+DO $grants$
+DECLARE
+    b text := current_database() || '_bench';
+    r text := current_database() || '_reader';
+BEGIN
+    EXECUTE format('GRANT SELECT ON fleet_facts, fleet_search, fleet_incident_order, fleet_facts_source
+        TO %I, %I',
+        b, r);
+    EXECUTE format('GRANT EXECUTE ON FUNCTION fleet_f64(text) TO %I, %I', b, r);
+END
+$grants$;
+"#;
+
 /// The version in `fleet_schema` (0 when the table is not there: a statement naming a table
 /// that does not exist fails as a whole, so the two are asked apart).
 fn version_in(c: &mut impl postgres::GenericClient) -> Result<i64, FleetError> {
@@ -93,6 +120,18 @@ fn version_in(c: &mut impl postgres::GenericClient) -> Result<i64, FleetError> {
     Ok(c.query_one(
         "SELECT coalesce(max(version), 0)::bigint FROM fleet_schema",
         &[],
+    )?
+    .get(0))
+}
+
+/// Whether migration `version` is recorded in `fleet_schema`.
+fn applied(c: &mut impl postgres::GenericClient, version: i64) -> Result<bool, FleetError> {
+    if version_in(c)? == 0 {
+        return Ok(false);
+    }
+    Ok(c.query_one(
+        "SELECT EXISTS (SELECT 1 FROM fleet_schema WHERE version = $1)",
+        &[&(version as i32)],
     )?
     .get(0))
 }
@@ -111,12 +150,10 @@ impl Fleet {
                 "the fleet database has schema version {before}, newer than this shardlog understands ({FLEET_SCHEMA_VERSION}); use a newer shardlog"
             )));
         }
-        for (k, (name, sql)) in MIGRATIONS.iter().enumerate() {
-            let version = k as i64 + 1;
+        for &(version, name, sql) in MIGRATIONS {
             let mut tx = self.client.transaction()?;
             tx.execute("SELECT pg_advisory_xact_lock(1397247048)", &[])?;
-            let now = version_in(&mut tx)?;
-            if now >= version {
+            if applied(&mut tx, version)? {
                 tx.commit()?;
                 continue;
             }
@@ -128,13 +165,14 @@ impl Fleet {
             })?;
             tx.execute(
                 "INSERT INTO fleet_schema (version, name) VALUES ($1, $2)",
-                &[&(version as i32), name],
+                &[&(version as i32), &name],
             )?;
             tx.commit()?;
         }
         let mut tx = self.client.transaction()?;
         tx.execute("SELECT pg_advisory_xact_lock(1397247048)", &[])?;
         tx.batch_execute(ROLES)?;
+        tx.batch_execute(READ_GRANTS)?;
         let row = tx.query_one(
             "SELECT current_database() || '_bench', current_database() || '_reader'",
             &[],
@@ -169,6 +207,16 @@ impl Fleet {
         })
     }
 
+    /// Whether every migration of this build is applied.
+    fn has_every_migration(&mut self) -> Result<bool, FleetError> {
+        for &(version, _, _) in MIGRATIONS {
+            if !applied(&mut self.client, version)? {
+                return Ok(false);
+            }
+        }
+        Ok(true)
+    }
+
     /// Refuse to work on a database that `fleet init` has not prepared (or a newer one).
     pub(crate) fn check_schema(&mut self) -> Result<(), FleetError> {
         match self.schema_version()? {
@@ -179,7 +227,7 @@ impl Fleet {
             v if v > FLEET_SCHEMA_VERSION => Err(FleetError::Usage(format!(
                 "the fleet database has schema version {v}, newer than this shardlog understands ({FLEET_SCHEMA_VERSION}); use a newer shardlog"
             ))),
-            v if v < FLEET_SCHEMA_VERSION => Err(FleetError::Usage(format!(
+            v if v < FLEET_SCHEMA_VERSION || !self.has_every_migration()? => Err(FleetError::Usage(format!(
                 "the fleet database has schema version {v}; its owner must run `shardlog fleet init --url URL` to upgrade it to {FLEET_SCHEMA_VERSION}"
             ))),
             _ => Ok(()),

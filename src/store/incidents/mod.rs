@@ -104,6 +104,7 @@ mod write;
 
 pub(crate) use children::for_each_incident;
 pub(crate) use children::for_each_readable_incident;
+pub use facts::StatsInput;
 pub(crate) use facts::{fill_fleet_facts, fill_fleet_facts_after, fleet_facts_problems};
 pub(crate) use read::{load, resolve_key};
 pub(crate) use refs::{RefCache, Refs};

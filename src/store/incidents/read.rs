@@ -235,9 +235,12 @@ pub(super) fn result_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<ComputedResu
         residual_pa: r.get(5)?,
         applied_stress_pa: r.get(6)?,
         flaw_size_m: r.get(7)?,
+        // as the audit image pins them: a zero without its sign
         constants: serde_json::from_str(&constants)
+            .map(crate::store::canon::unsigned_zeros)
             .map_err(|_| bad_col(8, "JSON value", &constants))?,
         analysis: serde_json::from_str(&analysis)
+            .map(crate::store::canon::unsigned_zeros)
             .map_err(|_| bad_col(9, "JSON value", "analysis"))?,
     })
 }

@@ -1,0 +1,106 @@
+//! `shardlog fleet demo`: a fleet database filled with the invented demo story, spread over
+//! several benches, for trying the fleet and for benchmarks. Each bench is made as
+//! `shardlog demo --bench` makes one and pushed through the same path as `sync`, so the fleet
+//! holds the rows and chains real benches would give it.
+
+use std::path::PathBuf;
+
+use super::records::work;
+use super::{fleet_error, fleet_url, CliError, Context};
+use crate::store::fleet::Fleet;
+use crate::store::Store;
+
+#[derive(Debug, clap::Args)]
+pub struct FleetDemoArgs {
+    /// The fleet database (else $SHARDLOG_FLEET_URL), as its owner: its schema is made or
+    /// upgraded first.
+    #[arg(long, value_name = "URL")]
+    pub url: Option<String>,
+    /// Incidents in all, shared out over the benches.
+    #[arg(long, value_name = "N", default_value_t = 2000)]
+    pub incidents: u64,
+    /// How many benches (codes B01, B02, …).
+    #[arg(long, value_name = "K", default_value_t = 3)]
+    pub benches: u32,
+    /// Seed of the first bench (the next ones take the following seeds).
+    #[arg(long, value_name = "S", default_value_t = crate::demo::DEFAULT_SEED)]
+    pub seed: u64,
+    /// Keep the bench files in this folder (which must not exist) instead of removing them.
+    #[arg(long, value_name = "DIR")]
+    pub keep_benches: Option<PathBuf>,
+}
+
+pub fn run(args: FleetDemoArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    if args.benches == 0 || args.benches > 99 {
+        return Err(CliError::usage("--benches: expected a number from 1 to 99"));
+    }
+    let per_bench_max = 5_000_000u64;
+    if args.incidents < u64::from(args.benches)
+        || args.incidents > per_bench_max * u64::from(args.benches)
+    {
+        return Err(CliError::usage(format!(
+            "--incidents: expected at least one per bench and at most {per_bench_max} per bench"
+        )));
+    }
+    let url = fleet_url(args.url.clone(), "--url")?;
+    let started = std::time::Instant::now();
+    let mut fleet = Fleet::connect(&url).map_err(fleet_error)?;
+    fleet.init().map_err(fleet_error)?;
+    drop(fleet);
+    let (dir, keep) = match &args.keep_benches {
+        Some(d) if d.exists() => {
+            return Err(CliError::usage(format!(
+                "--keep-benches: {} already exists; name a new folder",
+                d.display()
+            )))
+        }
+        Some(d) => (d.clone(), true),
+        None => (
+            std::env::temp_dir().join(format!("shardlog-fleet-demo.{}", std::process::id())),
+            false,
+        ),
+    };
+    std::fs::create_dir_all(&dir).map_err(|e| CliError::work(format!("{}: {e}", dir.display())))?;
+    let result = fill(&args, &url, &dir, ctx);
+    if !keep {
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+    let total = result?;
+    writeln!(
+        ctx.out,
+        "filled the fleet: {total} incidents over {} benches ({:.1} s)",
+        args.benches,
+        started.elapsed().as_secs_f64()
+    )?;
+    Ok(())
+}
+
+/// Make each bench, push it, and say so; the number of incidents pushed.
+fn fill(
+    args: &FleetDemoArgs,
+    url: &str,
+    dir: &std::path::Path,
+    ctx: &mut Context<'_>,
+) -> Result<u64, CliError> {
+    let k = u64::from(args.benches);
+    let mut total = 0;
+    for b in 0..k {
+        let code = format!("B{:02}", b + 1);
+        let n = args.incidents / k + u64::from(b < args.incidents % k);
+        let path = dir.join(format!("{code}.db"));
+        let options = crate::demo::DemoOptions {
+            incidents: n,
+            seed: args.seed.wrapping_add(b),
+        };
+        crate::demo::generate_for_bench(&path, &options, Some(&code), &mut |_| {}).map_err(work)?;
+        let mut store = Store::open_existing(&path).map_err(work)?;
+        let report = crate::store::fleet::sync(&mut store, url).map_err(fleet_error)?;
+        writeln!(
+            ctx.out,
+            "bench {code}: {n} incidents, {} records pushed",
+            report.push.records
+        )?;
+        total += n;
+    }
+    Ok(total)
+}

@@ -1,0 +1,849 @@
+//! The fleet database as fleet users read it: the same answers as a bench file gives for
+//! the same records ([`RecordSource`]), from the tables schema/fleet/0005_read.sql keeps on
+//! ingest (the log and the statistics from `fleet_facts`, text search from `fleet_search`)
+//! and the pushed images themselves (one incident, reference data). The session is
+//! read-only: nothing a fleet user does writes to the fleet.
+
+use std::cell::RefCell;
+use std::collections::{BTreeMap, HashMap};
+use std::rc::Rc;
+
+use postgres::types::ToSql;
+use postgres::Client;
+
+use super::{Fleet, FleetError};
+use crate::store::canon;
+use crate::store::model::*;
+use crate::store::read::{RecordSource, StatsInput};
+use crate::store::StoreError;
+use shardlog_core::fracture::fragmentation::FragmentationMinimum;
+
+/// A read-only view of the fleet database, of every bench or of one.
+pub struct FleetReader {
+    client: RefCell<Client>,
+    shown: String,
+    /// Only this bench's incidents and reference data.
+    scope: Option<String>,
+    /// The reference data, read once.
+    refdata: RefCell<Option<Rc<RefData>>>,
+}
+
+/// The benches' reference data, one entry per code (the first bench in code order gives
+/// an entry several benches hold).
+#[derive(Default)]
+struct RefData {
+    lookups: Vec<LookupEntry>,
+    sites: Vec<Site>,
+    suppliers: Vec<Supplier>,
+    products: Vec<Product>,
+    lots: Vec<Lot>,
+    exposure: Vec<Exposure>,
+    assets: Vec<Asset>,
+    /// The fragmentation table (audited as lookup entries keyed `fragmentation_minimum/…`).
+    fragmentation: Vec<FragmentationMinimum>,
+    /// (bench, asset code) -> asset type
+    asset_types: HashMap<(String, String), String>,
+}
+
+fn store_error(e: FleetError) -> StoreError {
+    match e {
+        FleetError::Unreachable(m) | FleetError::Usage(m) | FleetError::Bench(m) => {
+            StoreError::Open {
+                path: "the fleet database".into(),
+                message: m,
+            }
+        }
+        other => StoreError::Database(other.to_string()),
+    }
+}
+
+fn pg(e: postgres::Error) -> StoreError {
+    store_error(FleetError::from(e))
+}
+
+/// A value bound to a statement.
+enum Bound {
+    Text(String),
+    Real(f64),
+    Int(i64),
+}
+
+impl Bound {
+    fn as_sql(&self) -> &(dyn ToSql + Sync) {
+        match self {
+            Bound::Text(s) => s,
+            Bound::Real(x) => x,
+            Bound::Int(n) => n,
+        }
+    }
+}
+
+fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
+    args.iter().map(Bound::as_sql).collect()
+}
+
+/// The columns of a log row, in the order `log_row` reads them.
+const LOG_COLUMNS: &str =
+    "SELECT f.ord, f.id, f.reference, f.found_on, f.asset, f.position, f.site, \
+     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa FROM fleet_facts f";
+
+impl FleetReader {
+    /// Connect to the fleet at `url` in a read-only session; `scope`: one bench's records.
+    pub fn open(url: &str, scope: Option<&str>) -> Result<FleetReader, StoreError> {
+        let mut fleet = Fleet::connect(url).map_err(store_error)?;
+        fleet.check_schema().map_err(store_error)?;
+        fleet
+            .client
+            .batch_execute("SET default_transaction_read_only = on")
+            .map_err(pg)?;
+        let scope = match scope {
+            None => None,
+            Some(code) => {
+                let code = crate::store::check_bench_code(code)
+                    .map_err(|m| StoreError::invalid("--bench", m))?;
+                let known: bool = fleet
+                    .client
+                    .query_one(
+                        "SELECT EXISTS (SELECT 1 FROM fleet_benches WHERE code = $1)",
+                        &[&code],
+                    )
+                    .map_err(pg)?
+                    .get(0);
+                if !known {
+                    let benches: Vec<String> = fleet
+                        .client
+                        .query("SELECT code FROM fleet_benches ORDER BY code", &[])
+                        .map_err(pg)?
+                        .iter()
+                        .map(|r| r.get(0))
+                        .collect();
+                    return Err(StoreError::invalid(
+                        "--bench",
+                        format!(
+                            "no bench {code} in the fleet database; its benches: {}",
+                            if benches.is_empty() {
+                                "none yet".to_string()
+                            } else {
+                                benches.join(", ")
+                            }
+                        ),
+                    ));
+                }
+                Some(code)
+            }
+        };
+        Ok(FleetReader {
+            shown: format!("fleet {}", fleet.shown),
+            client: RefCell::new(fleet.client),
+            scope,
+            refdata: RefCell::new(None),
+        })
+    }
+
+    /// The rows of a fixed statement without parameters.
+    pub(super) fn query(&self, sql: &str) -> Result<Vec<postgres::Row>, StoreError> {
+        self.client.borrow_mut().query(sql, &[]).map_err(pg)
+    }
+
+    fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
+        if let Some(r) = self.refdata.borrow().as_ref() {
+            return Ok(r.clone());
+        }
+        let loaded = Rc::new(self.load_refdata()?);
+        *self.refdata.borrow_mut() = Some(loaded.clone());
+        Ok(loaded)
+    }
+
+    fn load_refdata(&self) -> Result<RefData, StoreError> {
+        let rows = self
+            .client
+            .borrow_mut()
+            .query(
+                "SELECT entity, origin, image, id FROM fleet_records
+                 WHERE entity IN ('lookup', 'site', 'asset', 'supplier', 'product', 'lot', 'exposure')
+                   AND image IS NOT NULL AND ($1::text IS NULL OR origin = $1)
+                 ORDER BY origin, entity, id",
+                &[&self.scope],
+            )
+            .map_err(pg)?;
+        let mut out = RefData::default();
+        // first bench (in code order) wins a code several hold
+        let mut lookups = BTreeMap::new();
+        let mut sites = BTreeMap::new();
+        let mut suppliers = BTreeMap::new();
+        let mut products = BTreeMap::new();
+        let mut lots = BTreeMap::new();
+        let mut assets = BTreeMap::new();
+        let mut fragmentation = BTreeMap::new();
+        for r in &rows {
+            let entity: &str = r.get(0);
+            let origin: String = r.get(1);
+            let image: &str = r.get(2);
+            let value = canon::decanonical(image).ok_or_else(|| {
+                StoreError::Database(format!("a {entity} image of bench {origin} is not JSON"))
+            })?;
+            let bad = |e: serde_json::Error| {
+                StoreError::Database(format!("a {entity} image of bench {origin}: {e}"))
+            };
+            let id: &str = r.get(3);
+            match entity {
+                "lookup" if id.starts_with("fragmentation_minimum/") => {
+                    let m: FragmentationMinimum = serde_json::from_value(value).map_err(bad)?;
+                    fragmentation.entry(id.to_string()).or_insert(m);
+                }
+                "lookup" => {
+                    let e: LookupEntry = serde_json::from_value(value).map_err(bad)?;
+                    lookups
+                        .entry((kind_name(e.kind), e.code.clone()))
+                        .or_insert(e);
+                }
+                "site" => {
+                    let s: Site = serde_json::from_value(value).map_err(bad)?;
+                    sites.entry(s.code.clone()).or_insert(s);
+                }
+                "asset" => {
+                    let a: Asset = serde_json::from_value(value).map_err(bad)?;
+                    out.asset_types
+                        .insert((origin, a.code.clone()), a.asset_type.clone());
+                    assets.entry(a.code.clone()).or_insert(a);
+                }
+                "supplier" => {
+                    let s: Supplier = serde_json::from_value(value).map_err(bad)?;
+                    suppliers.entry(s.code.clone()).or_insert(s);
+                }
+                "product" => {
+                    let p: Product = serde_json::from_value(value).map_err(bad)?;
+                    products
+                        .entry((p.supplier.clone(), p.code.clone()))
+                        .or_insert(p);
+                }
+                "lot" => {
+                    let l: Lot = serde_json::from_value(value).map_err(bad)?;
+                    lots.entry((l.supplier.clone(), l.product.clone(), l.code.clone()))
+                        .or_insert(l);
+                }
+                _ => {
+                    let e: Exposure = serde_json::from_value(value).map_err(bad)?;
+                    out.exposure.push(e);
+                }
+            }
+        }
+        out.lookups = lookups.into_values().collect();
+        // the bench's order: kind, sort order, code
+        out.lookups.sort_by(|a, b| {
+            (kind_name(a.kind), a.sort_order, &a.code).cmp(&(
+                kind_name(b.kind),
+                b.sort_order,
+                &b.code,
+            ))
+        });
+        out.sites = sites.into_values().collect();
+        out.assets = assets.into_values().collect();
+        out.suppliers = suppliers.into_values().collect();
+        out.products = products.into_values().collect();
+        out.lots = lots.into_values().collect();
+        out.fragmentation = fragmentation.into_values().collect();
+        out.fragmentation.sort_by(|a, b| {
+            (a.thickness_from_m, a.thickness_to_m)
+                .partial_cmp(&(b.thickness_from_m, b.thickness_to_m))
+                .unwrap_or(std::cmp::Ordering::Equal)
+        });
+        out.exposure.sort_by(|a, b| {
+            (
+                &a.supplier,
+                &a.product,
+                &a.lot,
+                &a.site,
+                a.installed_on,
+                &a.id,
+            )
+                .cmp(&(
+                    &b.supplier,
+                    &b.product,
+                    &b.lot,
+                    &b.site,
+                    b.installed_on,
+                    &b.id,
+                ))
+        });
+        Ok(out)
+    }
+
+    /// The conditions of a filter on `fleet_facts f`, with `$n` placeholders from `args`.
+    fn conditions(&self, filter: &Filter, args: &mut Vec<Bound>) -> Vec<String> {
+        let mut conds = Vec::new();
+        let mut bind = |column: &str, value: Option<&str>, conds: &mut Vec<String>| {
+            if let Some(v) = value {
+                args.push(Bound::Text(v.to_string()));
+                conds.push(format!("{column} = ${}", args.len()));
+            }
+        };
+        bind("f.owner", self.scope.as_deref(), &mut conds);
+        bind("f.status", filter.status.as_deref(), &mut conds);
+        match filter.cause.as_deref() {
+            Some(NO_CAUSE) => conds.push("f.cause IS NULL".into()),
+            other => bind("f.cause", other, &mut conds),
+        }
+        bind("f.origin_type", filter.origin_type.as_deref(), &mut conds);
+        bind("f.supplier", filter.supplier.as_deref(), &mut conds);
+        bind("f.lot", filter.lot.as_deref(), &mut conds);
+        bind("f.site", filter.site.as_deref(), &mut conds);
+        if let Some(d) = filter.since {
+            args.push(Bound::Text(d.format("%Y-%m-%d").to_string()));
+            conds.push(format!("f.found_on >= ${}", args.len()));
+        }
+        if let Some(d) = filter.until {
+            args.push(Bound::Text(d.format("%Y-%m-%d").to_string()));
+            conds.push(format!("f.found_on <= ${}", args.len()));
+        }
+        if let Some(q) = filter.text.as_deref().map(text_query) {
+            match q {
+                Some(q) => {
+                    args.push(Bound::Text(q));
+                    conds.push(format!(
+                        "f.id IN (SELECT s.id FROM fleet_search s WHERE s.doc @@ to_tsquery('simple', ${}))",
+                        args.len()
+                    ));
+                }
+                // nothing to search for matches nothing, as on the bench
+                None => conds.push("false".into()),
+            }
+        }
+        conds
+    }
+}
+
+/// A lookup kind's name as the bench's table holds it (its sort key there).
+fn kind_name(kind: LookupKind) -> String {
+    serde_json::to_value(kind)
+        .ok()
+        .and_then(|v| v.as_str().map(str::to_string))
+        .unwrap_or_default()
+}
+
+/// The words of a free-text filter as a tsquery: every word, each as a prefix, all required
+/// (the bench's FTS5 query is the same: quoted prefix terms, all required). None when the
+/// text has no word.
+fn text_query(text: &str) -> Option<String> {
+    let terms: Vec<String> = text
+        .split(|c: char| !c.is_alphanumeric() && c != '_')
+        .filter(|w| !w.is_empty())
+        .map(|w| format!("'{}':*", w.to_lowercase()))
+        .collect();
+    (!terms.is_empty()).then(|| terms.join(" & "))
+}
+
+fn where_clause(conds: &[String]) -> String {
+    if conds.is_empty() {
+        String::new()
+    } else {
+        format!("WHERE {}", conds.join(" AND "))
+    }
+}
+
+fn log_row(r: &postgres::Row) -> (i64, LogRow) {
+    let found: String = r.get(3);
+    let occurred = crate::store::dates::parse_date(&found);
+    (
+        r.get(0),
+        LogRow {
+            id: r.get(1),
+            reference: r.get(2),
+            occurred: occurred.unwrap_or_default(),
+            asset: r.get(4),
+            position: r.get(5),
+            site: r.get(6),
+            product: r.get(7),
+            supplier: r.get(8),
+            lot: r.get(9),
+            status: r.get(10),
+            cause: r.get(11),
+            stress_mpa: r.get::<_, Option<f64>>(12).map(|x| x / 1e6),
+            damaged: occurred.is_none().then_some(found),
+        },
+    )
+}
+
+impl FleetReader {
+    fn page(&self, filter: &Filter, sort: Sort, page: &PageRequest) -> Result<Page, StoreError> {
+        let limit = i64::from(page.limit.clamp(1, 10_000));
+        let mut args = Vec::new();
+        let conds = self.conditions(filter, &mut args);
+        let (dir, cmp) = if sort.descending {
+            ("DESC", "<")
+        } else {
+            ("ASC", ">")
+        };
+        let mut client = self.client.borrow_mut();
+        let mut tx = client
+            .build_transaction()
+            .read_only(true)
+            .isolation_level(postgres::IsolationLevel::RepeatableRead)
+            .start()
+            .map_err(pg)?;
+        let mut rows: Vec<(i64, LogRow)> = Vec::new();
+        let after = page.after.as_ref();
+        if sort.column == SortColumn::Stress {
+            let in_nulls =
+                matches!(after, Some(c) if matches!(c.key.first(), Some(CursorKey::Real(None))));
+            if !in_nulls {
+                let mut c2 = conds.clone();
+                let mut a2 = copy(&args);
+                c2.push("f.stress_pa IS NOT NULL".into());
+                if let Some(c) = after {
+                    if let Some(CursorKey::Real(Some(x))) = c.key.first() {
+                        a2.push(Bound::Real(*x));
+                        a2.push(Bound::Int(c.seq));
+                        c2.push(format!(
+                            "(f.stress_pa, f.ord) {cmp} (${}, ${})",
+                            a2.len() - 1,
+                            a2.len()
+                        ));
+                    }
+                }
+                let sql = format!(
+                    "{LOG_COLUMNS} {} ORDER BY f.stress_pa {dir}, f.ord {dir} LIMIT {limit}",
+                    where_clause(&c2)
+                );
+                rows.extend(tx.query(&sql, &refs(&a2)).map_err(pg)?.iter().map(log_row));
+            }
+            if (rows.len() as i64) < limit {
+                let mut c2 = conds.clone();
+                let mut a2 = copy(&args);
+                c2.push("f.stress_pa IS NULL".into());
+                if let (true, Some(c)) = (in_nulls, after) {
+                    a2.push(Bound::Int(c.seq));
+                    c2.push(format!("f.ord {cmp} ${}", a2.len()));
+                }
+                let sql = format!(
+                    "{LOG_COLUMNS} {} ORDER BY f.ord {dir} LIMIT {}",
+                    where_clause(&c2),
+                    limit - rows.len() as i64
+                );
+                rows.extend(tx.query(&sql, &refs(&a2)).map_err(pg)?.iter().map(log_row));
+            }
+        } else {
+            let (order, keys): (&str, &[&str]) = match sort.column {
+                SortColumn::Reference => ("f.reference {d}, f.ord {d}", &["f.reference"]),
+                SortColumn::Status => (
+                    "f.status {d}, f.found_on {d}, f.ord {d}",
+                    &["f.status", "f.found_on"],
+                ),
+                _ => ("f.found_on {d}, f.ord {d}", &["f.found_on"]),
+            };
+            let mut c2 = conds.clone();
+            let mut a2 = copy(&args);
+            if let Some(c) = after {
+                let mut lhs: Vec<&str> = keys.to_vec();
+                lhs.push("f.ord");
+                for k in &c.key {
+                    a2.push(match k {
+                        CursorKey::Text(s) => Bound::Text(s.clone()),
+                        CursorKey::Real(x) => Bound::Real(x.unwrap_or(f64::NAN)),
+                    });
+                }
+                a2.push(Bound::Int(c.seq));
+                let first = a2.len() - lhs.len() + 1;
+                let marks: Vec<String> = (first..=a2.len()).map(|n| format!("${n}")).collect();
+                c2.push(format!("({}) {cmp} ({})", lhs.join(", "), marks.join(", ")));
+            }
+            let sql = format!(
+                "{LOG_COLUMNS} {} ORDER BY {} LIMIT {limit}",
+                where_clause(&c2),
+                order.replace("{d}", dir)
+            );
+            rows.extend(tx.query(&sql, &refs(&a2)).map_err(pg)?.iter().map(log_row));
+        }
+        let next = match rows.last() {
+            Some((ord, row)) if rows.len() as i64 == limit => Some(Cursor {
+                key: match sort.column {
+                    SortColumn::Found => vec![CursorKey::Text(found_text(row))],
+                    SortColumn::Reference => vec![CursorKey::Text(row.reference.clone())],
+                    SortColumn::Status => vec![
+                        CursorKey::Text(row.status.clone()),
+                        CursorKey::Text(found_text(row)),
+                    ],
+                    SortColumn::Stress => {
+                        let stress: Option<f64> = tx
+                            .query_one("SELECT stress_pa FROM fleet_facts WHERE ord = $1", &[ord])
+                            .map_err(pg)?
+                            .get(0);
+                        vec![CursorKey::Real(stress)]
+                    }
+                },
+                seq: *ord,
+            }),
+            _ => None,
+        };
+        let total = if page.with_total {
+            let sql = format!(
+                "SELECT count(*) FROM fleet_facts f {}",
+                where_clause(&conds)
+            );
+            let n: i64 = tx.query_one(&sql, &refs(&args)).map_err(pg)?.get(0);
+            Some(n as u64)
+        } else {
+            None
+        };
+        tx.commit().map_err(pg)?;
+        Ok(Page {
+            rows: rows.into_iter().map(|(_, r)| r).collect(),
+            next,
+            total,
+        })
+    }
+}
+
+fn copy(args: &[Bound]) -> Vec<Bound> {
+    args.iter()
+        .map(|a| match a {
+            Bound::Text(s) => Bound::Text(s.clone()),
+            Bound::Real(x) => Bound::Real(*x),
+            Bound::Int(n) => Bound::Int(*n),
+        })
+        .collect()
+}
+
+/// The date found as the log's cursor holds it (the stored text of a damaged row).
+fn found_text(row: &LogRow) -> String {
+    match &row.damaged {
+        Some(text) => text.clone(),
+        None => row.occurred.format("%Y-%m-%d").to_string(),
+    }
+}
+
+impl FleetReader {
+    fn incident(&self, key: &str) -> Result<Incident, StoreError> {
+        let key = key.trim();
+        let rows = self
+            .client
+            .borrow_mut()
+            .query(
+                "SELECT r.reference, r.image FROM fleet_records r
+                 WHERE r.entity = 'incident' AND r.image IS NOT NULL
+                   AND (r.reference = $1 OR r.id = $1 OR lower(r.id) = lower($1))
+                   AND ($2::text IS NULL OR r.owner = $2)
+                 LIMIT 2",
+                &[&key, &self.scope],
+            )
+            .map_err(pg)?;
+        let row = match rows.as_slice() {
+            [one] => one,
+            [] => return Err(StoreError::NotFound(key.to_string())),
+            _ => {
+                return Err(StoreError::invalid(
+                    "reference",
+                    format!("{key} names more than one incident in the fleet"),
+                ))
+            }
+        };
+        incident_from(row.get(0), row.get(1)).map_err(|reference| {
+            StoreError::Database(format!("the fleet's image of {reference} cannot be read"))
+        })
+    }
+
+    /// The incidents matching `filter` in the order found (the bench's export order), and
+    /// those whose image cannot be read.
+    fn matching_incidents(
+        &self,
+        filter: &Filter,
+    ) -> Result<(Vec<Incident>, Vec<crate::store::exchange::Damaged>), StoreError> {
+        let mut args = Vec::new();
+        let conds = self.conditions(filter, &mut args);
+        let sql = format!(
+            "SELECT r.reference, r.image FROM fleet_facts f
+             JOIN fleet_records r ON r.entity = 'incident' AND r.id = f.id {} ORDER BY f.found_on, f.ord",
+            where_clause(&conds)
+        );
+        let rows = self
+            .client
+            .borrow_mut()
+            .query(&sql, &refs(&args))
+            .map_err(pg)?;
+        let mut good = Vec::with_capacity(rows.len());
+        let mut damaged = Vec::new();
+        for r in &rows {
+            match incident_from(r.get(0), r.get(1)) {
+                Ok(inc) => good.push(inc),
+                Err(reference) => damaged.push(crate::store::exchange::Damaged {
+                    reference,
+                    why: "the fleet's image of it cannot be read".into(),
+                }),
+            }
+        }
+        Ok((good, damaged))
+    }
+
+    fn export_doc(
+        &self,
+        filter: &Filter,
+    ) -> Result<
+        (
+            crate::store::exchange::ExportDoc,
+            Vec<crate::store::exchange::Damaged>,
+        ),
+        StoreError,
+    > {
+        let (incidents, damaged) = self.matching_incidents(filter)?;
+        let refdata = self.refdata()?;
+        let mut doc = crate::store::exchange::ExportDoc::empty();
+        doc.lookups = refdata.lookups.clone();
+        doc.sites = refdata.sites.clone();
+        doc.assets = refdata.assets.clone();
+        doc.suppliers = refdata.suppliers.clone();
+        doc.products = refdata.products.clone();
+        doc.lots = refdata.lots.clone();
+        doc.exposure = refdata.exposure.clone();
+        doc.incidents = incidents;
+        Ok((doc, damaged))
+    }
+}
+
+/// An incident from its fleet image, shown by the fleet's reference; the reference when the
+/// image cannot be read.
+fn incident_from(reference: String, image: &str) -> Result<Incident, String> {
+    let Some(mut inc) =
+        canon::decanonical(image).and_then(|v| serde_json::from_value::<Incident>(v).ok())
+    else {
+        return Err(reference);
+    };
+    inc.reference = reference;
+    restore_analyses(&mut inc);
+    Ok(inc)
+}
+
+/// The fleet holds each result's analysis as the digest its image pins ("sha256:…"), not the
+/// analysis itself. Where this build recomputes an analysis whose canonical text has that
+/// digest, it is the very analysis the bench stored, and is put back; any other stays the
+/// pinned digest, as the fleet holds it.
+fn restore_analyses(inc: &mut Incident) {
+    let snapshot = inc.clone();
+    for (k, exam) in inc.examinations.iter_mut().enumerate() {
+        let Some(result) = exam.result.as_mut() else {
+            continue;
+        };
+        let Some(pinned) = result
+            .analysis
+            .as_str()
+            .and_then(|s| s.strip_prefix("sha256:"))
+            .map(str::to_string)
+        else {
+            continue;
+        };
+        let Some(Ok(analysis)) = crate::store::analysis::recompute_stored(
+            &snapshot,
+            &snapshot.examinations[k],
+            &crate::store::MaterialBook::library_only(),
+        ) else {
+            continue;
+        };
+        let Ok(fresh) = crate::store::analysis::to_result(&analysis, result.computed_at) else {
+            continue;
+        };
+        let analysis = canon::unsigned_zeros(fresh.analysis);
+        let text = canon::canonical_value(&analysis);
+        if canon::sha256_hex(text.as_bytes()) == pinned {
+            result.analysis = analysis;
+        }
+    }
+}
+
+impl RecordSource for FleetReader {
+    fn shown(&self) -> String {
+        match &self.scope {
+            Some(code) => format!("{} (bench {code})", self.shown),
+            None => self.shown.clone(),
+        }
+    }
+    fn is_fleet(&self) -> bool {
+        true
+    }
+    fn bench_codes(&self) -> Result<Vec<String>, StoreError> {
+        if let Some(code) = &self.scope {
+            return Ok(vec![code.clone()]);
+        }
+        Ok(self
+            .client
+            .borrow_mut()
+            .query("SELECT code FROM fleet_benches ORDER BY code", &[])
+            .map_err(pg)?
+            .iter()
+            .map(|r| r.get(0))
+            .collect())
+    }
+    fn lookups(&self, kind: LookupKind) -> Result<Vec<LookupEntry>, StoreError> {
+        Ok(self
+            .refdata()?
+            .lookups
+            .iter()
+            .filter(|e| e.kind == kind)
+            .cloned()
+            .collect())
+    }
+    fn all_lookups(&self) -> Result<Vec<LookupEntry>, StoreError> {
+        Ok(self.refdata()?.lookups.clone())
+    }
+    fn sites(&self) -> Result<Vec<Site>, StoreError> {
+        Ok(self.refdata()?.sites.clone())
+    }
+    fn suppliers(&self) -> Result<Vec<Supplier>, StoreError> {
+        Ok(self.refdata()?.suppliers.clone())
+    }
+    fn products(&self) -> Result<Vec<Product>, StoreError> {
+        Ok(self.refdata()?.products.clone())
+    }
+    fn fragmentation_minimums(&self) -> Result<Vec<FragmentationMinimum>, StoreError> {
+        Ok(self.refdata()?.fragmentation.clone())
+    }
+    fn as_bench(&self) -> Option<&crate::store::Store> {
+        None
+    }
+    fn lots(&self) -> Result<Vec<Lot>, StoreError> {
+        Ok(self.refdata()?.lots.clone())
+    }
+    fn list(&self, filter: &Filter, sort: Sort, page: &PageRequest) -> Result<Page, StoreError> {
+        self.page(filter, sort, page)
+    }
+    fn get(&self, key: &str) -> Result<Incident, StoreError> {
+        self.incident(key)
+    }
+    fn export_json_readable(
+        &self,
+        filter: &Filter,
+    ) -> Result<(String, Vec<crate::store::exchange::Damaged>), StoreError> {
+        let (doc, damaged) = self.export_doc(filter)?;
+        let mut s = serde_json::to_string_pretty(&doc)?;
+        s.push('\n');
+        Ok((s, damaged))
+    }
+    fn export_csv_readable(
+        &self,
+        filter: &Filter,
+        out: &mut dyn std::io::Write,
+    ) -> Result<(usize, Vec<crate::store::exchange::Damaged>), StoreError> {
+        let io = |e: std::io::Error| StoreError::File {
+            path: "output".into(),
+            message: e.to_string(),
+        };
+        let (incidents, damaged) = self.matching_incidents(filter)?;
+        writeln!(out, "{}", crate::store::exchange::csv_header()).map_err(io)?;
+        // each row carries its lot's heat-soak record, as the bench's export does
+        let refdata = self.refdata()?;
+        let soak = |inc: &Incident| {
+            let g = &inc.glass;
+            refdata
+                .lots
+                .iter()
+                .find(|l| {
+                    Some(&l.supplier) == g.supplier.as_ref()
+                        && Some(&l.product) == g.product.as_ref()
+                        && Some(&l.code) == g.lot.as_ref()
+                })
+                .and_then(|l| l.heat_soak.as_ref())
+        };
+        for inc in &incidents {
+            writeln!(out, "{}", crate::store::exchange::csv_row(inc, soak(inc))).map_err(io)?;
+        }
+        Ok((incidents.len(), damaged))
+    }
+    fn stats_input(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        extra: &[shardlog_core::fleet::Key],
+    ) -> Result<StatsInput, StoreError> {
+        self.facts(q, extra)
+    }
+}
+
+impl FleetReader {
+    /// One row of facts per incident in the bench's order (the order the bench's own table
+    /// gives them), with the keys the query groups or filters by; the exposure rows.
+    fn facts(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        extra: &[shardlog_core::fleet::Key],
+    ) -> Result<StatsInput, StoreError> {
+        use shardlog_core::fleet::{IncidentFacts, Key, StressKind};
+        let mut keys: Vec<Key> = q.keys.iter().chain(extra).copied().collect();
+        keys.extend(q.only.iter().map(|(k, _)| *k));
+        if q.origin_type.is_some() {
+            keys.push(Key::OriginType);
+        }
+        let refdata = self.refdata()?;
+        let mut args = Vec::new();
+        let filter = Filter {
+            since: q.since,
+            until: q.until,
+            ..Filter::default()
+        };
+        let conds = self.conditions(&filter, &mut args);
+        let stress = match q.stress {
+            StressKind::Applied => "f.applied_stress_pa",
+            StressKind::Net => "f.stress_pa",
+        };
+        let sql = format!(
+            "SELECT f.found_on, {stress}, f.cause, f.origin_type, f.temper, f.supplier, f.product, \
+             f.lot, f.site, f.origin, f.asset FROM fleet_facts f {} ORDER BY f.ord",
+            where_clause(&conds)
+        );
+        let rows = self
+            .client
+            .borrow_mut()
+            .query(&sql, &refs(&args))
+            .map_err(pg)?;
+        // texts repeat: one shared copy of each
+        let mut texts: HashMap<String, Rc<str>> = HashMap::new();
+        let mut shared = |v: Option<String>| -> Option<Rc<str>> {
+            v.map(|s| {
+                texts
+                    .entry(s.clone())
+                    .or_insert_with(|| Rc::from(s.as_str()))
+                    .clone()
+            })
+        };
+        let wanted = |k: Key| keys.contains(&k);
+        let mut out = Vec::with_capacity(rows.len());
+        for r in &rows {
+            let found: String = r.get(0);
+            let found = crate::store::dates::parse_date(&found).ok_or_else(|| {
+                StoreError::Database(format!("a fleet fact with the date found {found:?}"))
+            })?;
+            let mut f = IncidentFacts {
+                found,
+                stress_pa: r.get(1),
+                ..Default::default()
+            };
+            let col = |k: usize| r.get::<_, Option<String>>(k);
+            if wanted(Key::Cause) {
+                f.cause = shared(col(2));
+            }
+            if wanted(Key::OriginType) {
+                f.origin_type = shared(col(3));
+            }
+            if wanted(Key::Temper) {
+                f.temper = shared(col(4));
+            }
+            if wanted(Key::Supplier) {
+                f.supplier = shared(col(5));
+            }
+            if wanted(Key::Product) {
+                f.product = shared(col(6));
+            }
+            if wanted(Key::Lot) {
+                f.lot = shared(col(7));
+            }
+            if wanted(Key::Site) {
+                f.site = shared(col(8));
+            }
+            if wanted(Key::AssetType) {
+                // the asset as the bench that made the incident knows it
+                let origin: String = r.get(9);
+                f.asset_type =
+                    shared(col(10).and_then(|a| refdata.asset_types.get(&(origin, a)).cloned()));
+            }
+            out.push(f);
+        }
+        let exposure = refdata.exposure.iter().map(Exposure::to_fleet).collect();
+        Ok((out, exposure))
+    }
+}

@@ -1,0 +1,129 @@
+//! Reading the records, whoever holds them: a bench's SQLite file or the fleet database.
+//! The commands that only read (`list`, `show`, `stats`) ask a [`RecordSource`] and do not
+//! know which one answers; `store::open_records` picks it from what `--db` names (a file, or a
+//! `postgres://` / `postgresql://` URL).
+
+use super::model::{
+    Filter, Incident, LookupEntry, LookupKind, Lot, Page, PageRequest, Product, Site, Sort,
+    Supplier,
+};
+use super::{Store, StoreError};
+
+pub use super::incidents::StatsInput;
+
+/// What the read-only commands ask of the records, answered the same way by a bench file
+/// and by the fleet database (for the same records, the same values in the same order).
+pub trait RecordSource {
+    /// Where the records are, for messages: a file path, or the fleet's host and database.
+    fn shown(&self) -> String;
+    /// The fleet database (read-only for its users: edits are made at the owning bench).
+    fn is_fleet(&self) -> bool;
+    /// The codes of the benches these records come from (a bench file: its own code, if any).
+    fn bench_codes(&self) -> Result<Vec<String>, StoreError>;
+    /// A lookup list in its display order.
+    fn lookups(&self, kind: LookupKind) -> Result<Vec<LookupEntry>, StoreError>;
+    /// Every lookup entry, all kinds.
+    fn all_lookups(&self) -> Result<Vec<LookupEntry>, StoreError>;
+    fn sites(&self) -> Result<Vec<Site>, StoreError>;
+    fn suppliers(&self) -> Result<Vec<Supplier>, StoreError>;
+    /// Every product, by supplier code then code.
+    fn products(&self) -> Result<Vec<Product>, StoreError>;
+    /// Every lot, by supplier, product and code.
+    fn lots(&self) -> Result<Vec<Lot>, StoreError>;
+    /// One page of the incident log.
+    fn list(&self, filter: &Filter, sort: Sort, page: &PageRequest) -> Result<Page, StoreError>;
+    /// The full incident by reference or id.
+    fn get(&self, key: &str) -> Result<Incident, StoreError>;
+    /// The export document (JSON, pretty, ending with a newline) of the incidents matching
+    /// `filter` that can be read, in the order found, and those that cannot.
+    fn export_json_readable(
+        &self,
+        filter: &Filter,
+    ) -> Result<(String, Vec<super::exchange::Damaged>), StoreError>;
+    /// The CSV export of the incidents matching `filter` that can be read (header first): the
+    /// lines written, and the incidents left out.
+    fn export_csv_readable(
+        &self,
+        filter: &Filter,
+        out: &mut dyn std::io::Write,
+    ) -> Result<(usize, Vec<super::exchange::Damaged>), StoreError>;
+    /// The table of least fragment counts by thickness, thinnest first (on the fleet: the
+    /// first bench's row, in code order, where several hold one range).
+    fn fragmentation_minimums(
+        &self,
+    ) -> Result<Vec<shardlog_core::fracture::fragmentation::FragmentationMinimum>, StoreError>;
+    /// The bench file itself, for the work not yet done on the fleet database (None there).
+    fn as_bench(&self) -> Option<&Store>;
+    /// The facts and exposure `stats` works on.
+    fn stats_input(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        extra: &[shardlog_core::fleet::Key],
+    ) -> Result<StatsInput, StoreError>;
+}
+
+impl RecordSource for Store {
+    fn shown(&self) -> String {
+        self.path()
+            .map(|p| p.display().to_string())
+            .unwrap_or_else(|| "(in memory)".into())
+    }
+    fn is_fleet(&self) -> bool {
+        false
+    }
+    fn bench_codes(&self) -> Result<Vec<String>, StoreError> {
+        Ok(self.bench_code()?.into_iter().collect())
+    }
+    fn lookups(&self, kind: LookupKind) -> Result<Vec<LookupEntry>, StoreError> {
+        Store::lookups(self, kind)
+    }
+    fn all_lookups(&self) -> Result<Vec<LookupEntry>, StoreError> {
+        Store::all_lookups(self)
+    }
+    fn sites(&self) -> Result<Vec<Site>, StoreError> {
+        Store::sites(self)
+    }
+    fn suppliers(&self) -> Result<Vec<Supplier>, StoreError> {
+        Store::suppliers(self)
+    }
+    fn products(&self) -> Result<Vec<Product>, StoreError> {
+        Store::products(self, None)
+    }
+    fn lots(&self) -> Result<Vec<Lot>, StoreError> {
+        Store::lots(self, None, None)
+    }
+    fn fragmentation_minimums(
+        &self,
+    ) -> Result<Vec<shardlog_core::fracture::fragmentation::FragmentationMinimum>, StoreError> {
+        Store::fragmentation_minimums(self)
+    }
+    fn as_bench(&self) -> Option<&Store> {
+        Some(self)
+    }
+    fn list(&self, filter: &Filter, sort: Sort, page: &PageRequest) -> Result<Page, StoreError> {
+        Store::list(self, filter, sort, page)
+    }
+    fn get(&self, key: &str) -> Result<Incident, StoreError> {
+        Store::get(self, key)
+    }
+    fn export_json_readable(
+        &self,
+        filter: &Filter,
+    ) -> Result<(String, Vec<super::exchange::Damaged>), StoreError> {
+        Store::export_json_readable(self, filter)
+    }
+    fn export_csv_readable(
+        &self,
+        filter: &Filter,
+        out: &mut dyn std::io::Write,
+    ) -> Result<(usize, Vec<super::exchange::Damaged>), StoreError> {
+        Store::export_csv_readable(self, filter, out)
+    }
+    fn stats_input(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        extra: &[shardlog_core::fleet::Key],
+    ) -> Result<StatsInput, StoreError> {
+        Store::stats_input(self, q, extra)
+    }
+}
