@@ -317,8 +317,10 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             write_whole(path, &out.bytes, true)?
         }
     }
-    // to stderr: the export itself may be on standard output
+    // to stderr, and only beside a file: the export itself may be on standard output, and
+    // a pipe gets nothing but the data
     match &out.signed_head {
+        Some(_) if args.output.is_none() => {}
         Some(h) => eprintln!(
             "{} incident{} exported; audit head {} signed with key {} (a recipient checks it with: shardlog verify --export FILE)",
             out.incidents,

@@ -244,6 +244,20 @@ pub fn csv_header() -> String {
 
 // ------------------------------------------------------------------ reading
 
+/// The first characters of a signed CSV export's first line (`# shardlog signed head {…}`:
+/// the signed audit head as one line of JSON; see `witness`).
+pub const CSV_SIGNED_PREFIX: &str = "# shardlog signed head ";
+
+/// The signed line of a CSV export, if the text starts with one: the head's JSON text (not
+/// yet read) and the rest of the text.
+pub(crate) fn split_csv_signed_line(text: &str) -> Option<(&str, &str)> {
+    let rest = text.strip_prefix(CSV_SIGNED_PREFIX)?;
+    match rest.split_once('\n') {
+        Some((line, body)) => Some((line.trim_end_matches('\r'), body)),
+        None => Some((rest, "")),
+    }
+}
+
 /// Split CSV text into records of fields, each with the line it starts on.
 pub(super) fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
     csv_records_from(text, 1)
@@ -362,7 +376,7 @@ pub fn parse_csv_all(
         )]);
     }
     // a signed export's first line (its signed audit head, checked by `verify --export`)
-    let records = match super::witness::split_csv_signed_line(text) {
+    let records = match split_csv_signed_line(text) {
         Some((_, body)) => csv_records_from(body, 2),
         None => csv_records(text),
     }

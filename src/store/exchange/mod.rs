@@ -22,11 +22,14 @@ mod onepass;
 mod witness;
 
 pub use bulk_import::BULK_IMPORT_ABOVE;
-pub use csv::{csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS};
+pub use csv::{
+    csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS,
+    CSV_SIGNED_PREFIX,
+};
 pub use export::Damaged;
 pub use exposure::{exposure_csv_row, EXPOSURE_COLUMNS};
 pub use json::parse_json;
-pub use witness::{check_export, ExportCheck, SignedExport, CSV_SIGNED_PREFIX, JSON_SIGNED_FIELD};
+pub use witness::{check_export, ExportCheck, SignedExport, JSON_SIGNED_FIELD};
 
 /// The `format` field of a JSON export.
 pub const JSON_FORMAT: &str = "shardlog-export";

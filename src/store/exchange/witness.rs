@@ -20,12 +20,9 @@ use super::super::audit::INCIDENT;
 use super::super::model::*;
 use super::super::signing::SignedHead;
 use super::super::{Anchor, Store, StoreError};
-use super::csv::{csv_header, csv_records, csv_row};
+use super::csv::{csv_header, csv_records, csv_row, split_csv_signed_line, CSV_SIGNED_PREFIX};
 use super::export::Damaged;
 use super::FileKind;
-
-/// The first characters of a signed CSV export's first line.
-pub const CSV_SIGNED_PREFIX: &str = "# shardlog signed head ";
 
 /// The JSON field that holds an export's signed head.
 pub const JSON_SIGNED_FIELD: &str = "signed_head";
@@ -106,16 +103,6 @@ impl Store {
             signed_head,
             damaged,
         })
-    }
-}
-
-/// The signed line of a CSV export, if the text starts with one: the head (or why it cannot
-/// be read) and the rest of the text.
-pub(crate) fn split_csv_signed_line(text: &str) -> Option<(&str, &str)> {
-    let rest = text.strip_prefix(CSV_SIGNED_PREFIX)?;
-    match rest.split_once('\n') {
-        Some((line, body)) => Some((line.trim_end_matches('\r'), body)),
-        None => Some((rest, "")),
     }
 }
 
