@@ -41,6 +41,12 @@ impl BenchState {
             let first = e.readings.first().and_then(|r| r.viewing.clone());
             if first.is_some() && e.readings.iter().all(|r| r.viewing == first) {
                 if let (Some(v), Some(p)) = (first, self.form.pick_mut("viewing")) {
+                    if !p.items().iter().any(|i| i.code == v) {
+                        // not offered for new work (retired): kept for these readings
+                        let mut items = p.items().to_vec();
+                        items.push(crate::app::picklist::PickItem::new(v.clone(), v.clone()));
+                        p.set_items(items);
+                    }
                     p.choose_code(&v);
                 }
             }
@@ -225,7 +231,17 @@ impl BenchState {
     /// chosen). Nothing changes when the list already holds them.
     pub fn set_viewing_modes(&mut self, lists: &crate::app::incident::Lists) {
         let mut items = vec![crate::app::picklist::PickItem::new("", "not recorded")];
-        items.extend(lists.lookup(crate::store::model::LookupKind::ViewingMode));
+        let chosen = self
+            .form
+            .pick("viewing")
+            .and_then(|p| p.chosen_item())
+            .map(|i| i.code.clone())
+            .filter(|c| !c.is_empty());
+        // a retired mode the saved readings hold stays offered, marked
+        items.extend(lists.lookup_keeping(
+            crate::store::model::LookupKind::ViewingMode,
+            chosen.as_deref(),
+        ));
         if let Some(p) = self.form.pick_mut("viewing") {
             if p.items() != items.as_slice() {
                 p.set_items(items);

@@ -273,3 +273,39 @@ fn the_review_compares_soaked_and_unsoaked_lots_at_80x24() {
         );
     }
 }
+
+#[test]
+fn a_retired_viewing_mode_stays_chosen_when_the_bench_reopens_its_readings() {
+    let (_d, mut app) = fixture();
+    send(&mut app, &key(KeyCode::Char('b')));
+    app.bench.form.set_focus("r_mist");
+    type_str(&mut app, "0.52 mm");
+    app.bench.form.set_focus("viewing");
+    type_str(&mut app, "dark field\n");
+    ctrl_s(&mut app);
+    send(&mut app, &key(KeyCode::Esc));
+    let st = Stamp::new("test-analyst", Utc::now());
+    app.store
+        .as_mut()
+        .unwrap()
+        .retire_lookup(
+            shardlog::store::model::LookupKind::ViewingMode,
+            "dark_field",
+            &st,
+        )
+        .unwrap();
+    // the interface as a fresh start reads its lists
+    let db = app.db_path.clone();
+    let store = app.store.take().unwrap();
+    let mut app = App::with_store(store, &db).unwrap();
+    send(&mut app, &key(KeyCode::Enter));
+    send(&mut app, &key(KeyCode::Char('b')));
+    send(&mut app, &key(KeyCode::Down));
+    let p = app.bench.form.pick("viewing").unwrap();
+    assert_eq!(
+        p.chosen_item().map(|i| (i.code.as_str(), i.label.as_str())),
+        Some(("dark_field", "dark field (retired)"))
+    );
+    // not offered to new work otherwise: the other modes are there, it is the one marked
+    assert!(p.items().iter().any(|i| i.code == "stereo"));
+}
