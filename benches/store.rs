@@ -168,46 +168,9 @@ fn time_list(s: &Store, label: &str, f: &Filter, sort: Sort, with_total: bool, d
     );
 }
 
-/// One synthetic incident row: the values both the CSV and the plain-insert baseline use.
-struct Row {
-    found_on: String,
-    asset: String,
-    position: String,
-    lot: String,
-    readings: [(&'static str, String); 3],
-    description: String,
-}
-
-fn synthetic_row(i: usize) -> Row {
-    let start = NaiveDate::from_ymd_opt(2024, 1, 1).unwrap();
-    let d = start + chrono::Days::new((i % 1000) as u64);
-    Row {
-        found_on: d.to_string(),
-        asset: format!("car {}", 100 + i % 300),
-        position: format!("left side bay {}", i % 8),
-        lot: format!("OS-22{:02}", i % 12),
-        readings: [
-            ("mirror_mist", format!("0.{:02} mm", 40 + i % 50)),
-            ("mirror_mist", format!("0.{:02} mm", 41 + i % 50)),
-            ("mist_hackle", format!("0.{:02} mm", 55 + i % 40)),
-        ],
-        description: format!("crack from the edge number {i}"),
-    }
-}
-
-fn synthetic_csv(n: usize) -> Vec<u8> {
-    let mut s = String::from(
-        "found_on,site,asset,position,supplier,product,lot,makeup,material,temper,thickness,status,origin_location,origin_type,analyst,mirror_mist,mist_hackle,cause,confidence,responsibility,description\n",
-    );
-    for i in 0..n {
-        let r = synthetic_row(i);
-        s.push_str(&format!(
-            "{},TVL-CEN,{},{},ORVALE,SW6-FT,{},monolithic,soda_lime,fully_tempered,6 mm,cause_assigned,edge,edge_chip,mira,{}; {},{},thermal,probable,undetermined,{}\n",
-            r.found_on, r.asset, r.position, r.lot, r.readings[0].1, r.readings[1].1, r.readings[2].1, r.description
-        ));
-    }
-    s.into_bytes()
-}
+#[path = "support/synthetic.rs"]
+mod synthetic;
+use synthetic::{csv as synthetic_csv, row as synthetic_row, Row};
 
 /// THE BASELINE of the import goal: the same rows written with plain prepared statements
 /// into the same schema (the store's migrations: same tables, indexes and text index), with

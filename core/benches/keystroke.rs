@@ -1,4 +1,4 @@
-//! How long the calls added for chemically strengthened glass and the plate series take: the
+//! How long the calls added for chemically strengthened glass and the plate calls take: the
 //! bench calculator and the hypothesis panel call them on every keystroke.
 //! Run: `cargo bench -p shardlog-core --bench keystroke` (the core alone, in release).
 
@@ -20,7 +20,7 @@ fn report(label: &str, n: usize, f: impl Fn()) {
         f();
     }
     let per = t0.elapsed().as_secs_f64() / n as f64;
-    println!("{label:<52} {:>9.1} µs per call", per * 1e6);
+    println!("{label:<52} {:>9.2} µs per call", per * 1e6);
 }
 
 fn main() {
@@ -67,22 +67,42 @@ fn main() {
         (
             "plate: clamped, uniform, b/a 1.5",
             plate(Edges::Clamped, 1.5, q),
-            200,
+            2000,
         ),
         (
-            "plate: clamped, uniform, b/a 6 (largest series)",
+            "plate: clamped, uniform, b/a 6 (longest tabulated)",
             plate(Edges::Clamped, 6.0, q),
-            30,
+            2000,
         ),
         (
             "plate: clamped, 10 mm patch, b/a 2",
             plate(Edges::Clamped, 2.0, patch),
-            100,
+            2000,
+        ),
+        (
+            "plate: simply supported, uniform, b/a 1.5",
+            plate(Edges::SimplySupported, 1.5, q),
+            200,
         ),
         (
             "plate: simply supported, 10 mm patch, b/a 2",
             plate(Edges::SimplySupported, 2.0, patch),
-            30,
+            300,
+        ),
+        (
+            "plate: simply supported, 10 mm patch, b/a 6",
+            plate(Edges::SimplySupported, 6.0, patch),
+            300,
+        ),
+        (
+            "plate: simply supported, 10 mm patch, b/a 20",
+            plate(Edges::SimplySupported, 20.0, patch),
+            300,
+        ),
+        (
+            "plate: clamped, 10 mm patch, b/a 4.25",
+            plate(Edges::Clamped, 4.25, patch),
+            2000,
         ),
     ] {
         report(label, n, || {

@@ -53,6 +53,31 @@ pub fn sanitize_for_terminal(text: &str, keep_newlines: bool) -> String {
     out
 }
 
+/// One line of user text made visible rather than cut: every control character becomes a
+/// symbol that is printed, not obeyed (C0 controls their Unicode control picture, so ESC is
+/// `␛` and BEL `␇`; DEL `␡`; C1 controls and bidirectional overrides and isolates U+FFFD),
+/// so an escape sequence is seen whole, payload and all. A newline or tab becomes a space so
+/// that the line keeps its shape. The same symbols the command line writes to a terminal.
+pub fn visible(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        out.push(visible_char(c));
+    }
+    out
+}
+
+/// The symbol [`visible`] shows for one character (the character itself when it prints).
+pub fn visible_char(c: char) -> char {
+    match c {
+        '\n' | '\t' => ' ',
+        '\u{7f}' => '\u{2421}',
+        c if (c as u32) < 0x20 => char::from_u32(0x2400 + c as u32).unwrap_or('\u{fffd}'),
+        c if c.is_control() => '\u{fffd}',
+        '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}' => '\u{fffd}',
+        c => c,
+    }
+}
+
 /// One line of user text, safe to show: [`sanitize_for_terminal`] without newlines.
 pub fn clean(s: &str) -> String {
     sanitize_for_terminal(s, false)
@@ -116,6 +141,14 @@ pub fn stress_or_dash(pa: Option<f64>) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn visible_shows_every_control_as_a_symbol_of_one_cell() {
+        let s = visible("a\u{1b}]0;owned\u{7}b\u{9b}c\u{202e}d\u{7f}e\nf\tg\r");
+        assert_eq!(s, "a␛]0;owned␇b\u{fffd}c\u{fffd}d␡e f g␍");
+        assert_eq!(width(&s), s.chars().count());
+        assert_eq!(visible("plain é 湖"), "plain é 湖");
+    }
 
     #[test]
     fn escape_sequences_go_with_their_payload() {

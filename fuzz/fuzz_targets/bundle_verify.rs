@@ -6,7 +6,10 @@
 //! The last byte of an input (when there are two or more) shapes the folder further: bit 0
 //! makes the listed file a symbolic link to bundle.json, bit 1 adds a link to a folder
 //! outside, bit 2 makes the listed file sparse and past the size limit, bit 3 checks the
-//! signature against a key taken from the input (an invented fingerprint).
+//! signature against a key taken from the input (an invented fingerprint), bit 4 makes the
+//! listed file a named pipe (FIFO), bit 5 makes bundle.json a link to /dev/zero, bit 6 makes
+//! the listed file a link to /dev/zero. None of them may hang the verifier or read past its
+//! size limit, and a folder with any of them is never reported intact.
 #![no_main]
 
 use std::path::PathBuf;
@@ -54,6 +57,11 @@ fuzz_target!(|data: &[u8]| {
                 }
             }
         }
+        #[cfg(unix)]
+        if shape & 32 != 0 {
+            let _ = std::fs::remove_file(dir.join("bundle.json"));
+            let _ = std::os::unix::fs::symlink("/dev/zero", dir.join("bundle.json"));
+        }
         let key = (shape & 8 != 0)
             .then(|| bundle::ExpectedKey::parse("0123-4567-89ab-cdef-0123-4567-89ab-cdef"))
             .flatten();
@@ -67,6 +75,8 @@ fuzz_target!(|data: &[u8]| {
                 }
                 // no bundle made here is signed with that invented key
                 assert!(key.is_none() || !check.ok(), "passed as signed: {check:?}");
+                // bundle.json that is not a regular file is never read as a bundle
+                assert!(shape & 32 == 0 || !check.ok(), "/dev/zero passed: {check:?}");
             }
             Err(e) => assert!(!e.to_string().is_empty()),
         }
@@ -85,7 +95,17 @@ fn hostile_shapes(dir: &std::path::Path, p: &std::path::Path, shape: u8) {
             let _ = std::os::unix::fs::symlink(std::env::temp_dir(), dir.join("outside"));
         }
     }
-    if shape & 4 != 0 && shape & 1 == 0 {
+    #[cfg(unix)]
+    if shape & 1 == 0 {
+        if shape & 16 != 0 {
+            let _ = std::fs::remove_file(p);
+            let _ = std::process::Command::new("mkfifo").arg(p).status();
+        } else if shape & 64 != 0 {
+            let _ = std::fs::remove_file(p);
+            let _ = std::os::unix::fs::symlink("/dev/zero", p);
+        }
+    }
+    if shape & (4 | 16 | 64) == 4 && shape & 1 == 0 {
         if let Ok(f) = std::fs::OpenOptions::new().write(true).open(p) {
             let _ = f.set_len(600 * 1024 * 1024);
         }

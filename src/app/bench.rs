@@ -170,6 +170,12 @@ impl BenchState {
         form.push_field(readings("r_mist", "Mirror–mist R"));
         form.push_field(readings("r_hackle", "Mist–hackle R"));
         form.push_field(readings("r_branch", "Branching R"));
+        // the modes are the database's lookup list (set when the bench opens over one)
+        form.push_pick(PickList::new(
+            "viewing",
+            "Viewing",
+            vec![PickItem::new("", "not recorded")],
+        ));
         form.push_pick(
             PickList::new(
                 "temper",

@@ -36,6 +36,15 @@ impl BenchState {
         if let Some(t) = ply.and_then(|p| p.thickness_m) {
             self.set_text("thickness", &format_exact(t, Unit::Millimetre));
         }
+        // the viewing mode of the saved readings, when they share one
+        if let Some(e) = exam {
+            let first = e.readings.first().and_then(|r| r.viewing.clone());
+            if first.is_some() && e.readings.iter().all(|r| r.viewing == first) {
+                if let (Some(v), Some(p)) = (first, self.form.pick_mut("viewing")) {
+                    p.choose_code(&v);
+                }
+            }
+        }
         let location = inc
             .pattern
             .origin_location
@@ -208,5 +217,19 @@ impl BenchState {
                 FormItem::Pick(p) => (p.key.to_string(), p.chosen_code().unwrap_or("").to_string()),
             })
             .collect()
+    }
+}
+
+impl BenchState {
+    /// Offer the viewing modes of the database (in use; a retired one the bench holds stays
+    /// chosen). Nothing changes when the list already holds them.
+    pub fn set_viewing_modes(&mut self, lists: &crate::app::incident::Lists) {
+        let mut items = vec![crate::app::picklist::PickItem::new("", "not recorded")];
+        items.extend(lists.lookup(crate::store::model::LookupKind::ViewingMode));
+        if let Some(p) = self.form.pick_mut("viewing") {
+            if p.items() != items.as_slice() {
+                p.set_items(items);
+            }
+        }
     }
 }

@@ -90,6 +90,10 @@ pub enum EditKind {
     Filter,
     /// Panes in service (from the review; no incident).
     Exposure,
+    /// A new entry of a lookup list.
+    LookupAdd(crate::store::model::LookupKind),
+    /// A new label for the highlighted entry of a lookup list.
+    LookupRename(crate::store::model::LookupKind),
 }
 
 /// A form open over an incident (or a new one).
@@ -117,6 +121,10 @@ impl EditState {
             EditKind::Attach => format!("Attach a file · {r}"),
             EditKind::Filter => "Filter the log".to_string(),
             EditKind::Exposure => "Panes in service (exposure)".to_string(),
+            EditKind::LookupAdd(k) => format!("Add to the {} list", k.as_str().replace('_', " ")),
+            EditKind::LookupRename(k) => {
+                format!("Rename in the {} list", k.as_str().replace('_', " "))
+            }
         }
     }
 }
@@ -132,6 +140,10 @@ pub struct Lists {
     pub suppliers: Vec<PickItem>,
     pub products: Vec<PickItem>,
     pub lots: Vec<PickItem>,
+    /// The heat-soak records of the lots that have one.
+    pub lot_heat_soak: crate::app::practice::LotHeatSoak,
+    /// The least fragment counts of thermally toughened glass, per thickness.
+    pub fragmentation: Vec<crate::store::practice::FragmentationMinimum>,
     pub sites: Vec<PickItem>,
     pub assets: Vec<PickItem>,
 }
@@ -299,6 +311,7 @@ fn glass_items(form: &mut Form, inc: &Incident, lists: &Lists) {
     }
     form.push_field(length("width", "Width", g.width_m, "e.g. 1200 mm"));
     form.push_field(length("height", "Height", g.height_m, "e.g. 800 mm"));
+    crate::app::practice::glass_items(form, inc, &lists.lot_heat_soak);
 }
 
 /// Plies the Glass form edits (a triple laminate has three; a fourth covers an insulating
@@ -766,7 +779,9 @@ fn apply_glass(form: &Form, inc: &mut Incident) -> Result<(), String> {
         plies.pop();
     }
     g.plies = plies;
-    Ok(())
+    crate::app::practice::apply_installed(form, inc)?;
+    // the lot's heat-soak record is written after the incident; its typing is checked now
+    crate::app::practice::heat_soak_of(form, inc).map(|_| ())
 }
 
 fn ply_is_empty(p: &Ply) -> bool {

@@ -12,8 +12,10 @@ pub mod hypothesis;
 pub mod incident;
 pub mod key;
 pub mod log_view;
+pub mod lookups;
 pub mod materials;
 pub mod picklist;
+pub mod practice;
 pub mod review;
 pub mod text_input;
 mod update;
@@ -47,6 +49,8 @@ pub enum Screen {
     Review,
     /// The material library and the own materials.
     Materials,
+    /// The lookup lists a lab keeps (causes, origin types, custody events, statuses).
+    Lookups,
 }
 
 /// Which set of keys is active: the key table is keyed by this.
@@ -76,6 +80,8 @@ pub enum Ctx {
     Review,
     /// The materials list.
     Materials,
+    /// The lookup lists.
+    Lookups,
 }
 
 impl Ctx {
@@ -91,7 +97,7 @@ impl Ctx {
     pub fn has_global(self) -> bool {
         matches!(
             self,
-            Ctx::Log | Ctx::Incident | Ctx::Review | Ctx::Materials | Ctx::Global
+            Ctx::Log | Ctx::Incident | Ctx::Review | Ctx::Materials | Ctx::Lookups | Ctx::Global
         )
     }
 }
@@ -158,6 +164,12 @@ pub enum Action {
     NextWindow,
     /// Review: per month for the whole fleet or for the highlighted group.
     ToggleGroupMonths,
+    /// Open the lookup lists (from the review).
+    OpenLookups,
+    /// Lookup lists: add an entry to the list shown.
+    AddEntry,
+    /// Lookup lists: retire the highlighted entry, or restore a retired one.
+    RetireOrRestore,
     /// The drawing area changed.
     Resize {
         width: u16,
@@ -231,6 +243,7 @@ pub struct App {
     pub bench_target: Option<BenchTarget>,
     pub review: ReviewState,
     pub materials: materials::MaterialsState,
+    pub lookups: lookups::LookupsState,
     /// The log's filter before the review opened a group in it: Esc from that log goes back
     /// to the review, and leaving the review gives the log its own filter back.
     pub log_filter_before_review: Option<crate::store::model::Filter>,
@@ -271,6 +284,12 @@ pub(crate) fn load_lists(store: &Store) -> Result<Lists, StoreError> {
         .into_iter()
         .map(|l| PickItem::new(l.code.clone(), format!("{} · {}", l.code, l.supplier)))
         .collect();
+    lists.lot_heat_soak = store
+        .lots(None, None)?
+        .into_iter()
+        .filter_map(|l| Some(((l.supplier, l.product, l.code), l.heat_soak?)))
+        .collect();
+    lists.fragmentation = store.fragmentation_minimums()?;
     lists.lots.dedup_by(|a, b| a.code == b.code);
     lists.sites = store
         .sites()?
@@ -312,6 +331,7 @@ impl App {
             bench_target: None,
             review: ReviewState::new(),
             materials: materials::MaterialsState::default(),
+            lookups: lookups::LookupsState::default(),
             log_filter_before_review: None,
             width: 80,
             height: 24,
@@ -399,6 +419,7 @@ impl App {
                 .as_ref()
                 .map(|f| f.form.ctx())
                 .unwrap_or(Ctx::Materials),
+            Screen::Lookups => Ctx::Lookups,
         }
     }
 
@@ -467,6 +488,11 @@ impl App {
             Screen::Materials => format!(
                 "{} materials · library read-only (c copies) · own: e edits",
                 self.materials.rows.len()
+            ),
+            Screen::Lookups => format!(
+                "{} · {} entries · codes never change; retired ones stay on old records",
+                self.lookups.title(),
+                self.lookups.entries.len()
             ),
         }
     }

@@ -22,15 +22,18 @@ pub enum Panel {
     Stress,
     Weibull,
     Groups,
+    /// Nickel sulfide practice: heat-soaked lots against lots not soaked, time in service.
+    HeatSoak,
 }
 
 impl Panel {
-    pub const ALL: [Panel; 5] = [
+    pub const ALL: [Panel; 6] = [
         Panel::Causes,
         Panel::Months,
         Panel::Stress,
         Panel::Weibull,
         Panel::Groups,
+        Panel::HeatSoak,
     ];
 
     pub fn title(self) -> &'static str {
@@ -40,6 +43,7 @@ impl Panel {
             Panel::Stress => "Stress",
             Panel::Weibull => "Weibull",
             Panel::Groups => "Groups",
+            Panel::HeatSoak => "Heat-soak",
         }
     }
 
@@ -111,6 +115,9 @@ pub struct ReviewData {
     /// Each group's own months and trend, aligned with `table.rows` (empty when a key is
     /// month or season).
     pub group_trends: Vec<Option<shardlog_core::fleet::GroupTrend>>,
+    /// Heat-soaked lots against lots not soaked, and the nickel sulfide failures' time in
+    /// service (over the window, whatever the grouping).
+    pub soak: Result<shardlog_core::fleet::heat_soak::SoakComparison, String>,
 }
 
 /// The review screen's state.
@@ -120,7 +127,7 @@ pub struct ReviewState {
     pub window: WindowChoice,
     pub panel: Panel,
     /// Selected row per panel (index of [`Panel::ALL`]).
-    pub selected: [usize; 5],
+    pub selected: [usize; 6],
     pub data: Option<ReviewData>,
     /// Why the figures could not be computed.
     pub error: Option<String>,
@@ -140,7 +147,7 @@ impl ReviewState {
             keys: vec![Key::Cause],
             window: WindowChoice::Last12,
             panel: Panel::Causes,
-            selected: [0; 5],
+            selected: [0; 6],
             data: None,
             error: None,
             group_months: false,
@@ -163,7 +170,7 @@ impl ReviewState {
             Panel::Causes => d.causes.rows.len(),
             Panel::Months => d.months.len(),
             Panel::Groups => d.table.rows.len(),
-            Panel::Stress | Panel::Weibull => 0,
+            Panel::Stress | Panel::Weibull | Panel::HeatSoak => 0,
         }
     }
 
@@ -304,7 +311,7 @@ impl ReviewState {
                     .map_or(0, |x| x.count);
                 Ok((f, count, format!("{} · {}", row.key.join(" · "), m.label())))
             }
-            Panel::Stress | Panel::Weibull => Err(
+            Panel::Stress | Panel::Weibull | Panel::HeatSoak => Err(
                 "Enter opens a group from the Causes, Per month or Groups panel (Tab moves)"
                     .to_string(),
             ),
@@ -471,6 +478,12 @@ fn compute(
         weibull,
         exposure_rows: exposures.len(),
         group_trends: r.group_trends.unwrap_or_default(),
+        soak: store
+            .soak_input(Some(window.since), Some(window.until))
+            .map(|(facts, lots)| {
+                shardlog_core::fleet::heat_soak::compare(&facts, &lots, &exposures, &window)
+            })
+            .map_err(|e| e.to_string()),
     })
 }
 

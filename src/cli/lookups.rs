@@ -25,14 +25,17 @@ pub enum ListName {
     CustodyEvent,
     /// Case statuses.
     Status,
+    /// How a mirror boundary was viewed (reflected light, stereo microscope…).
+    ViewingMode,
 }
 
 impl ListName {
-    const ALL: [ListName; 4] = [
+    const ALL: [ListName; 5] = [
         ListName::Cause,
         ListName::OriginType,
         ListName::CustodyEvent,
         ListName::Status,
+        ListName::ViewingMode,
     ];
 
     fn kind(self) -> LookupKind {
@@ -41,6 +44,7 @@ impl ListName {
             ListName::OriginType => LookupKind::OriginType,
             ListName::CustodyEvent => LookupKind::CustodyAction,
             ListName::Status => LookupKind::Status,
+            ListName::ViewingMode => LookupKind::ViewingMode,
         }
     }
 
@@ -50,13 +54,14 @@ impl ListName {
             ListName::OriginType => "origin-type",
             ListName::CustodyEvent => "custody-event",
             ListName::Status => "status",
+            ListName::ViewingMode => "viewing-mode",
         }
     }
 }
 
 #[derive(Debug, clap::Subcommand)]
 pub enum LookupsCommand {
-    /// Show a list (or all four): code, label, and whether it is retired.
+    /// Show a list (or all five): code, label, and whether it is retired.
     List {
         #[arg(value_enum, value_name = "LIST")]
         list: Option<ListName>,

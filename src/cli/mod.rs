@@ -17,12 +17,14 @@ mod calibrate_save;
 pub mod codes;
 pub mod exposure;
 pub mod fleet;
+pub mod fragmentation;
 pub mod key;
 pub mod leftovers;
 pub mod load;
 pub mod lookups;
 pub mod materials;
 pub mod mirror;
+pub mod practice;
 pub mod progress;
 pub mod records;
 pub mod report;
@@ -62,9 +64,11 @@ pub enum Command {
     Export(records::ExportArgs),
     /// Panes in service (the denominator of rates): import from CSV, list.
     Exposure(exposure::ExposureArgs),
-    /// The lab's own lists (causes, origin types, custody events, statuses): list, add,
-    /// rename, retire, restore.
+    /// The lab's own lists (causes, origin types, custody events, statuses, viewing modes):
+    /// list, add, rename, retire, restore.
     Lookups(lookups::LookupsArgs),
+    /// The least fragment counts of thermally toughened glass per thickness: list, set, remove.
+    Fragmentation(fragmentation::FragmentationArgs),
     /// List incidents.
     List(records::ListArgs),
     /// Show one incident.
@@ -423,6 +427,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Export(a) => records::export(a, &mut ctx),
         Command::Exposure(a) => exposure::run(a, &mut ctx),
         Command::Lookups(a) => lookups::run(a, &mut ctx),
+        Command::Fragmentation(a) => fragmentation::run(a, &mut ctx),
         Command::List(a) => records::list(a, &mut ctx),
         Command::Show(a) => records::show(a, &mut ctx),
         Command::Attach(a) => attach::attach(a, &mut ctx),

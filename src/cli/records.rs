@@ -273,26 +273,37 @@ pub struct ExportArgs {
 }
 
 pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    super::key::make_key_if_missing(&ctx.db);
     let s = open_to_read(&ctx.db)?;
     let filter = args.filter.to_filter(&s)?;
-    let mut buf: Vec<u8> = Vec::new();
-    // an incident whose row cannot be read is left out and named; the others are exported
-    let damaged = match args.format {
-        ExportFormat::Json => {
-            let (text, damaged) = s.export_json_readable(&filter).map_err(work)?;
-            buf.extend_from_slice(text.as_bytes());
-            damaged
-        }
-        ExportFormat::Csv => s.export_csv_readable(&filter, &mut buf).map_err(work)?.1,
-    };
-    match args.output {
-        None => ctx.out.write_all(&buf)?,
+    let key_dir = super::key::key_dir();
+    // an incident whose row cannot be read is left out and named; the others are exported;
+    // the head the records were read at goes with them, signed
+    let out = match args.format {
+        ExportFormat::Json => s.export_json_signed(&filter, &key_dir),
+        ExportFormat::Csv => s.export_csv_signed(&filter, &key_dir),
+    }
+    .map_err(work)?;
+    match &args.output {
+        None => ctx.out.write_all(&out.bytes)?,
         Some(path) => {
-            refuse_database_files(&path, &ctx.db, "-o")?;
+            refuse_database_files(path, &ctx.db, "-o")?;
             // an export is a copy of the records: owner-only
-            write_whole(&path, &buf, true)?
+            write_whole(path, &out.bytes, true)?
         }
     }
+    // to stderr: the export itself may be on standard output
+    match &out.signed_head {
+        Some(h) => eprintln!(
+            "{} incident{} exported; audit head {} signed with key {} (a recipient checks it with: shardlog verify --export FILE)",
+            out.incidents,
+            if out.incidents == 1 { "" } else { "s" },
+            h.anchor(),
+            h.fingerprint
+        ),
+        None => eprintln!("{}", super::key::unsigned_note(&s)),
+    }
+    let damaged = out.damaged;
     if damaged.is_empty() {
         return Ok(());
     }
@@ -614,6 +625,13 @@ fn write_examination(
             r.magnification
                 .map(|m| format!(" at {}×", shardlog_core::units::fmt_sig(m, 3)))
                 .unwrap_or_default()
+                + &r.viewing
+                    .as_ref()
+                    .map(|v| format!(
+                        ", {}",
+                        clean(&names.label(store::LookupKind::ViewingMode, v))
+                    ))
+                    .unwrap_or_default()
         )?;
     }
     if let Some(f) = &e.flaw {
@@ -741,6 +759,7 @@ pub fn show(args: ShowArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             clean(&names.label(store::LookupKind::OriginLocation, loc))
         )?;
     }
+    super::practice::write_practice(out, &s, &inc)?;
     for (i, e) in inc.examinations.iter().enumerate() {
         write_examination(out, &names, i + 1, e)?;
     }

@@ -51,15 +51,22 @@ pub fn report(args: ReportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     }
     super::key::make_key_if_missing(&ctx.db);
     let store = open_to_read(&ctx.db)?;
-    let inc = store
-        .get(&args.reference)
-        .map_err(|e| CliError::work(e.to_string()))?;
-    let labels = source::Labels::load(&store).map_err(|e| CliError::work(e.to_string()))?;
-    let (content, pictures) = source::incident_content(&store, &labels, &inc)
-        .map_err(|e| CliError::work(e.to_string()))?;
-    let (seq, head) = store
-        .audit_head_entry()
-        .map_err(|e| CliError::work(e.to_string()))?;
+    // the incident and the head printed under it come from one snapshot
+    let read = |store: &crate::store::Store| -> Result<_, CliError> {
+        let inc = store
+            .get(&args.reference)
+            .map_err(|e| CliError::work(e.to_string()))?;
+        let labels = source::Labels::load(store).map_err(|e| CliError::work(e.to_string()))?;
+        let (content, pictures) = source::incident_content(store, &labels, &inc)
+            .map_err(|e| CliError::work(e.to_string()))?;
+        let (seq, head) = store
+            .audit_head_entry()
+            .map_err(|e| CliError::work(e.to_string()))?;
+        Ok((content, pictures, seq, head))
+    };
+    let (content, pictures, seq, head) = store
+        .consistent_read(|s| Ok::<_, crate::store::StoreError>(read(s)))
+        .map_err(|e| CliError::work(e.to_string()))??;
     let mut proof = summary::proof_for(&content, Some(head.clone()), &now_text())
         .map_err(|e| CliError::work(format!("summary content: {e}")))?;
     proof.signed_head = store

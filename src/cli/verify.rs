@@ -6,6 +6,7 @@ use std::path::Path;
 use super::records::{clean, open_to_read, work};
 use super::{CliError, Context};
 use crate::report::bundle::ExpectedKey;
+use crate::store::exchange::MAX_IMPORT_BYTES;
 
 #[derive(Debug, clap::Args)]
 pub struct VerifyArgs {
@@ -19,10 +20,14 @@ pub struct VerifyArgs {
     /// hold HASH at entry SEQ. Repeatable.
     #[arg(long, value_name = "SEQ:HASH")]
     pub anchor: Vec<crate::store::Anchor>,
-    /// With --bundle: check the bundle's signature against this key (a fingerprint as
+    /// With --bundle or --export: check the signature against this key (a fingerprint as
     /// `shardlog key` prints it, or a public key file), with or without the database.
-    #[arg(long, value_name = "FINGERPRINT|PUBKEYFILE", requires = "bundle")]
+    #[arg(long, value_name = "FINGERPRINT|PUBKEYFILE")]
     pub key: Option<String>,
+    /// Check a JSON or CSV export (its signed head and content), and compare it with the
+    /// database if present.
+    #[arg(long, value_name = "FILE", conflicts_with_all = ["bundle", "fleet"])]
+    pub export: Option<std::path::PathBuf>,
     /// Check this bench's history against what the fleet database witnessed.
     #[arg(long, value_name = "URL", conflicts_with = "bundle")]
     pub fleet: Option<String>,
@@ -31,6 +36,14 @@ pub struct VerifyArgs {
 pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     if let Some(dir) = &args.bundle {
         return verify_bundle(dir, &args, ctx);
+    }
+    if let Some(file) = &args.export {
+        return verify_export(file, &args, ctx);
+    }
+    if args.key.is_some() {
+        return Err(CliError::usage(
+            "--key checks the signature of a bundle or an export: give --bundle DIR or --export FILE",
+        ));
     }
     if let Some(url) = args.fleet {
         return super::fleet::verify_fleet(url, args.json, ctx);
@@ -70,11 +83,18 @@ pub fn verify(args: VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             }
             Ok(())
         }
-        Some(p) => Err(CliError::work(format!(
-            "verify failed: {} problem{}; the first: {p}",
-            r.problems,
-            if r.problems == 1 { "" } else { "s" }
-        ))),
+        Some(p) => {
+            if !args.json {
+                for d in &r.damaged {
+                    writeln!(ctx.out, "DAMAGED: {}", clean(d))?;
+                }
+            }
+            Err(CliError::work(format!(
+                "verify failed: {} problem{}; the first: {p}",
+                r.problems,
+                if r.problems == 1 { "" } else { "s" }
+            )))
+        }
     }
 }
 
@@ -157,6 +177,71 @@ fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result
     }
     Err(CliError::work(format!(
         "the bundle does not verify: {} difference{} (listed above)",
+        check.problems.len(),
+        if check.problems.len() == 1 { "" } else { "s" }
+    )))
+}
+
+/// `verify --export FILE`: a signed JSON or CSV export, alone and against the database when
+/// there is one (as for a bundle).
+fn verify_export(file: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let key = args.key.as_deref().map(expected_key).transpose()?;
+    if !args.anchor.is_empty() {
+        return Err(CliError::usage(
+            "--anchor checks the database's chain; with --export the export's own head is the anchor",
+        ));
+    }
+    let shown = clean(&file.display().to_string());
+    let bytes = crate::store::safe_file::read_regular(file, MAX_IMPORT_BYTES as u64)
+        .map_err(|e| CliError::work(format!("--export: {}", clean(&e.to_string()))))?;
+    let store = if ctx.db.exists() {
+        Some(open_to_read(&ctx.db)?)
+    } else {
+        None
+    };
+    let fingerprint = key.as_ref().map(|k| k.fingerprint());
+    let check = crate::store::exchange::check_export(
+        &file.display().to_string(),
+        &bytes,
+        store.as_ref(),
+        fingerprint.as_deref(),
+    )
+    .map_err(work)?;
+    writeln!(
+        ctx.out,
+        "export {shown}: {} incidents{}",
+        check.incidents,
+        if check.compared_with_records {
+            format!(", compared with the records in {}", ctx.db.display())
+        } else {
+            " (no database: the records were not compared)".to_string()
+        }
+    )?;
+    for n in &check.notes {
+        writeln!(ctx.out, "note: {}", clean(n))?;
+    }
+    if check.ok() {
+        writeln!(
+            ctx.out,
+            "ok: the content is what was signed{}{}",
+            if key.is_some() {
+                ", with the expected key"
+            } else {
+                ""
+            },
+            if check.compared_with_records {
+                ", its head is in the chain and it matches the records"
+            } else {
+                ""
+            }
+        )?;
+        return Ok(());
+    }
+    for p in &check.problems {
+        writeln!(ctx.out, "DIFFERS: {}", clean(p))?;
+    }
+    Err(CliError::work(format!(
+        "the export does not verify: {} difference{} (listed above)",
         check.problems.len(),
         if check.problems.len() == 1 { "" } else { "s" }
     )))

@@ -213,6 +213,7 @@ impl<'a> Maker<'a> {
                     }),
                     analyst: analyst.into(),
                     note: String::new(),
+                    viewing: None,
                 });
             }
         }

@@ -342,6 +342,7 @@ impl World {
                 product: p.code.into(),
                 code: code.clone(),
                 made_on: Some(*made),
+                heat_soak: None,
             };
             load.add_lot(&l, stamp)?;
             lot_ids.insert((*pi, code.clone()), l.id);

@@ -116,7 +116,7 @@ pub fn incident_content(
             reference: inc.reference.clone(),
             identification: identification(labels, inc),
             glass: glass(labels, inc),
-            pattern: pattern(labels, inc),
+            pattern: pattern(labels, inc, &s.fragmentation_minimums()?),
             examination: examination(labels, inc),
             cause: cause(labels, inc),
             attachments,
@@ -211,9 +211,19 @@ fn glass(l: &Labels, inc: &Incident) -> Glass {
 }
 
 /// The fracture pattern.
-fn pattern(l: &Labels, inc: &Incident) -> Pattern {
+fn pattern(
+    l: &Labels,
+    inc: &Incident,
+    table: &[crate::store::practice::FragmentationMinimum],
+) -> Pattern {
     let p = &inc.pattern;
+    let check = crate::store::practice::fragmentation_check(inc, table);
     Pattern {
+        fragmentation: check.as_ref().map(|c| c.summary()),
+        fragmentation_source: check
+            .as_ref()
+            .and_then(|c| c.row())
+            .map(|r| r.provenance.clone()),
         crack_count: p.crack_count,
         branching: p
             .branching
@@ -255,6 +265,10 @@ fn examination(l: &Labels, inc: &Incident) -> Examination {
                 magnification: r.magnification.map(|m| format!("×{}", trim_num(m))),
                 analyst: nonempty(&r.analyst).or_else(|| nonempty(&e.analyst)),
                 taken_at: e.examined_on.map(|d| d.to_string()),
+                viewing: r
+                    .viewing
+                    .as_deref()
+                    .map(|v| l.lookup(LookupKind::ViewingMode, v)),
             });
         }
         if let Some(f) = &e.flaw {

@@ -83,6 +83,12 @@ pub struct Pattern {
     pub origin_location: Option<String>,
     pub tension_face: Option<String>,
     pub description: Option<String>,
+    /// The fragmentation check of a thermally toughened pane: verdict, count and minimum.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fragmentation: Option<String>,
+    /// Where the minimum used comes from.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fragmentation_source: Option<String>,
 }
 
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
@@ -110,6 +116,9 @@ pub struct Reading {
     pub magnification: Option<String>,
     pub analyst: Option<String>,
     pub taken_at: Option<String>,
+    /// How the boundary was viewed (its label), when recorded.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub viewing: Option<String>,
 }
 
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
@@ -360,6 +369,13 @@ pub fn document(c: &IncidentContent, proof: &Proof, pictures: &Pictures) -> Docu
         kv("Origin type", &c.examination.origin_type),
         kv("Tension face", &p.tension_face),
     ]);
+    if let Some(f) = &p.fragmentation {
+        let mut rows = vec![("Fragmentation (EN 12150-1)".to_string(), f.clone())];
+        if let Some(s) = &p.fragmentation_source {
+            rows.push(("Minimum from".to_string(), s.clone()));
+        }
+        d.kv(rows);
+    }
     if let Some(t) = p.description.as_ref().filter(|t| !t.is_empty()) {
         d.para(t.clone());
     }
@@ -401,7 +417,13 @@ fn readings_section(d: &mut Document, c: &IncidentContent) {
                 r.boundary.clone(),
                 or_nr(&r.as_entered),
                 mm(r.radius_m),
-                or_nr(&r.magnification),
+                // the viewing mode joins the magnification only when recorded, so that
+                // reports of readings without one render as they always did
+                match (&r.magnification, &r.viewing) {
+                    (Some(m), Some(v)) => format!("{m}, {v}"),
+                    (None, Some(v)) => v.clone(),
+                    _ => or_nr(&r.magnification),
+                },
                 or_nr(&r.analyst),
                 or_nr(&r.taken_at),
             ]);

@@ -49,6 +49,8 @@ pub struct BenchRecord<'a> {
     pub analyst: &'a str,
     pub at: DateTime<Utc>,
     pub readings: Vec<BoundaryLines<'a>>,
+    /// How the readings were viewed: a `viewing_mode` lookup code, None when not recorded.
+    pub viewing: Option<&'a str>,
     pub input: &'a AnalysisInput,
     pub analysis: &'a Analysis,
     pub thermal: Option<ThermalHypothesis>,
@@ -132,6 +134,7 @@ fn readings(record: &BenchRecord) -> Result<Vec<MirrorReading>, String> {
                 magnification: None,
                 analyst: record.analyst.to_string(),
                 note: String::new(),
+                viewing: record.viewing.map(str::to_string),
             });
         }
     }

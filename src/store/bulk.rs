@@ -1,16 +1,17 @@
-//! Bulk loading of a new database file (the demo generator): indexes and the fleet
-//! statistics' triggers are dropped for the load and put back after it; the incidents are
-//! made ready on a second thread while this one writes them; the text index is built on a
-//! third thread in a database of its own and copied in at the end. Everything that names
-//! SQLite stays here; the caller hands over domain records.
+//! Bulk loading of a new database file (the demo generator), and of a large import into an
+//! existing one: indexes and the fleet statistics' triggers are dropped for the load and put
+//! back after it; the incidents are made ready on a second thread while this one writes
+//! them; the text index of an empty database is built on a third thread in a database of its
+//! own and copied in at the end. Everything that names SQLite stays here; the caller hands
+//! over domain records.
 
 use std::path::{Path, PathBuf};
 use std::sync::mpsc;
 
-use rusqlite::Transaction;
+use rusqlite::{Transaction, TransactionBehavior};
 
 use super::audit::{Bulk, Chain, INCIDENT};
-use super::incidents::{fill_fleet_facts, insert_prepared, prepare, Prepared};
+use super::incidents::{fill_fleet_facts_after, insert_prepared, prepare, Prepared};
 use super::model::*;
 use super::{files, refdata, sqlite, IdGen, Store, StoreError};
 
@@ -79,40 +80,93 @@ impl BulkFile {
     /// Start the load's one transaction, with the indexes and the fleet statistics'
     /// triggers dropped (they are put back by [`BulkLoad::write_incidents`]).
     pub fn begin(&mut self) -> Result<BulkLoad<'_>, StoreError> {
-        let conn = &mut self.store.conn;
-        let indexes = schema_objects(
+        let attachments = self.attachments.clone();
+        begin_load(
+            &mut self.store.conn,
+            &mut self.store.ids,
+            attachments,
+            TransactionBehavior::Deferred,
+            true,
+        )
+    }
+}
+
+/// A bulk load into a store's database (a large import), on its connection and key
+/// generator, in one immediate transaction that [`BulkLoad::write_incidents`] commits (or
+/// rolls back, after [`BulkLoad::roll_back_at_end`]). The fleet statistics' triggers are
+/// dropped and their copy filled for the new incidents at the end; the indexes are dropped
+/// and rebuilt only when `drop_indexes` (rebuilding costs the whole table, worth it when the
+/// load is at least as large as what is there); the text index is built aside only while the
+/// database has no incident, else written row by row.
+pub(crate) fn begin_bulk<'s>(
+    conn: &'s mut rusqlite::Connection,
+    ids: &'s mut IdGen,
+    files_dir: Option<&Path>,
+    drop_indexes: bool,
+) -> Result<BulkLoad<'s>, StoreError> {
+    let attachments = AttachmentFolder(files_dir.map(Path::to_path_buf).unwrap_or_default());
+    begin_load(
+        conn,
+        ids,
+        attachments,
+        TransactionBehavior::Immediate,
+        drop_indexes,
+    )
+}
+
+/// The transaction of a bulk load, with the triggers (and, when `drop_indexes`, the
+/// indexes) of the incident tables dropped.
+fn begin_load<'s>(
+    conn: &'s mut rusqlite::Connection,
+    ids: &'s mut IdGen,
+    attachments: AttachmentFolder,
+    behavior: TransactionBehavior,
+    drop_indexes: bool,
+) -> Result<BulkLoad<'s>, StoreError> {
+    let indexes = if drop_indexes {
+        schema_objects(
             conn,
             "SELECT name, sql FROM sqlite_master WHERE type = 'index' AND sql IS NOT NULL
              AND tbl_name IN ('incidents', 'plies', 'examinations', 'mirror_readings', 'custody', 'attachments', 'audit')",
-        )?;
-        // the fleet statistics' copy (incident_facts) is kept by triggers on every write; the
-        // bulk load drops them and fills the copy in one pass at the end, as the migration does
-        let triggers = schema_objects(
-            conn,
-            "SELECT name, sql FROM sqlite_master WHERE type = 'trigger' AND sql IS NOT NULL
-             AND tbl_name = 'incidents'",
-        )?;
-        let tx = conn.transaction()?;
-        for (name, _) in &indexes {
-            // names come from sqlite_master, not from a user
-            tx.execute_batch(&format!("DROP INDEX \"{}\"", name.replace('"', "")))?;
-        }
-        for (name, _) in &triggers {
-            // names come from sqlite_master, not from a user
-            tx.execute_batch(&format!("DROP TRIGGER \"{}\"", name.replace('"', "")))?;
-        }
-        let chain = Chain::load(&tx)?;
-        Ok(BulkLoad {
-            tx,
-            ids: &mut self.store.ids,
-            chain,
-            indexes,
-            triggers,
-            attachments: self.attachments.clone(),
-            last_stamp: None,
-        })
+        )?
+    } else {
+        Vec::new()
+    };
+    // the fleet statistics' copy (incident_facts) is kept by triggers on every write; the
+    // bulk load drops them and fills the copy in one pass at the end, as the migration does
+    let triggers = schema_objects(
+        conn,
+        "SELECT name, sql FROM sqlite_master WHERE type = 'trigger' AND sql IS NOT NULL
+         AND tbl_name = 'incidents'",
+    )?;
+    let tx = conn.transaction_with_behavior(behavior)?;
+    for (name, _) in &indexes {
+        // names come from sqlite_master, not from a user
+        tx.execute_batch(&format!("DROP INDEX \"{}\"", name.replace('"', "")))?;
     }
+    for (name, _) in &triggers {
+        // names come from sqlite_master, not from a user
+        tx.execute_batch(&format!("DROP TRIGGER \"{}\"", name.replace('"', "")))?;
+    }
+    let last_seq: i64 = tx.query_row("SELECT COALESCE(MAX(seq), 0) FROM incidents", [], |r| {
+        r.get(0)
+    })?;
+    let chain = Chain::load(&tx)?;
+    Ok(BulkLoad {
+        tx,
+        ids,
+        chain,
+        indexes,
+        triggers,
+        attachments,
+        last_stamp: None,
+        facts_after: last_seq,
+        text_aside: last_seq == 0,
+        commit: true,
+    })
+}
 
+impl BulkFile {
     /// After the load: statistics for the query planner, then the file's own settings.
     pub fn finish(self) -> Result<(), StoreError> {
         // a fresh connection: this one may hold the text index's layout from before the copy
@@ -151,6 +205,12 @@ pub struct BulkLoad<'s> {
     attachments: AttachmentFolder,
     /// The stamp of the last record written (batch audit rows carry it).
     last_stamp: Option<Stamp>,
+    /// The last incident row before the load: the fleet statistics' copy is filled after it.
+    facts_after: i64,
+    /// Build the text index aside and copy it in (only into a database without incidents).
+    text_aside: bool,
+    /// Commit at the end (else roll back: a dry run).
+    commit: bool,
 }
 
 impl<'s> BulkLoad<'s> {
@@ -162,6 +222,17 @@ impl<'s> BulkLoad<'s> {
     /// Where the load keeps attachment files.
     pub fn attachments(&self) -> AttachmentFolder {
         self.attachments.clone()
+    }
+
+    /// Roll the whole load back at the end instead of committing it (a dry run).
+    pub(crate) fn roll_back_at_end(&mut self) {
+        self.commit = false;
+    }
+
+    /// The load's transaction, audit chain and key generator, for records the caller writes
+    /// itself before the incidents (an import's reference data).
+    pub(crate) fn writing(&mut self) -> (&rusqlite::Connection, &mut Chain, &mut IdGen) {
+        (&self.tx, &mut self.chain, &mut *self.ids)
     }
 
     /// Insert one reference record with its audit row.
@@ -218,6 +289,9 @@ impl<'s> BulkLoad<'s> {
             indexes,
             triggers,
             mut last_stamp,
+            facts_after,
+            text_aside,
+            commit,
             ..
         } = self;
         let mut bulk = match audit {
@@ -245,7 +319,11 @@ impl<'s> BulkLoad<'s> {
                     for p in prepared.iter_mut() {
                         let seq = insert_prepared(&tx, &mut chain, p, bulk.as_mut())?;
                         written += 1;
-                        texts.push((seq, p.take_body()));
+                        if text_aside {
+                            texts.push((seq, p.take_body()));
+                        } else {
+                            sqlite::fts_insert(&tx, seq, &p.take_body())?;
+                        }
                     }
                     if let Some(p) = prepared.last() {
                         last_stamp = Some(p.stamp.clone());
@@ -269,7 +347,7 @@ impl<'s> BulkLoad<'s> {
                 bulk.flush(&tx, &mut chain, stamp)?;
             }
             chain.finish(&tx)?;
-            fill_fleet_facts(&tx)?;
+            fill_fleet_facts_after(&tx, facts_after)?;
             for (_, sql) in &triggers {
                 tx.execute_batch(sql)?;
             }
@@ -279,9 +357,14 @@ impl<'s> BulkLoad<'s> {
             let text_index = texter.join().map_err(|_| {
                 StoreError::Database("the demo text-index thread panicked".into())
             })??;
-            sqlite::fts_copy_index(&text_index, &tx)
+            if text_aside {
+                sqlite::fts_copy_index(&text_index, &tx)?;
+            }
+            Ok(())
         })?;
-        tx.commit()?;
+        if commit {
+            tx.commit()?;
+        }
         Ok(written)
     }
 }

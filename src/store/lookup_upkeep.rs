@@ -19,11 +19,12 @@ impl LookupKind {
     /// The lists a lab keeps itself. The others (temper, material, origin location, boundary)
     /// stand for types the computations know, and asset type, make-up, confidence and
     /// responsibility are fixed vocabularies of the record.
-    pub const EDITABLE: [LookupKind; 4] = [
+    pub const EDITABLE: [LookupKind; 5] = [
         LookupKind::CauseCategory,
         LookupKind::OriginType,
         LookupKind::CustodyAction,
         LookupKind::Status,
+        LookupKind::ViewingMode,
     ];
 
     pub fn is_editable(self) -> bool {

@@ -64,12 +64,14 @@ mod lookup_upkeep;
 pub mod model;
 mod outbox;
 mod own_materials;
+pub mod practice;
 pub mod progress;
 mod refdata;
 pub mod safe_file;
 pub mod signing;
 mod sqlite;
 mod verify;
+mod verify_scan;
 
 pub use files::{
     file_mode, make_dir_private, remove_stale_partials, sync_dir, temporary_sibling,
@@ -165,6 +167,8 @@ pub struct Store {
     pub(crate) lookups: LookupSet,
     /// Told how far long work (import, verify, backup) has come.
     progress: progress::ProgressSlot,
+    /// Imports of more incidents than this take the bulk path.
+    bulk_import_above: usize,
 }
 
 /// The fixed time and actor of audit rows written by migrations (seeded lookup entries).
@@ -190,6 +194,27 @@ fn refuse_altered_schema(conn: &rusqlite::Connection, path: &Path) -> Result<i64
 }
 
 impl Store {
+    /// Run `f` on one read snapshot of the database: every read inside sees the file as it
+    /// was at the first one, even if another program writes meanwhile (a bundle's head and
+    /// its incidents must come from the same moment). Nested calls share the outer snapshot.
+    pub fn consistent_read<T, E: From<StoreError>>(
+        &self,
+        f: impl FnOnce(&Store) -> Result<T, E>,
+    ) -> Result<T, E> {
+        let _snapshot = if self.conn.is_autocommit() {
+            Some(
+                rusqlite::Transaction::new_unchecked(
+                    &self.conn,
+                    rusqlite::TransactionBehavior::Deferred,
+                )
+                .map_err(StoreError::from)?,
+            )
+        } else {
+            None
+        };
+        f(self)
+    }
+
     /// Open a database file, creating it (and its schema) if it does not exist. A file
     /// that is not a shardlog database, or is newer than this build, is refused untouched.
     pub fn open(path: &Path) -> Result<Store, StoreError> {
@@ -280,6 +305,7 @@ impl Store {
             ids: IdGen::new(seed),
             lookups: LookupSet::default(),
             progress: progress::ProgressSlot::default(),
+            bulk_import_above: exchange::BULK_IMPORT_ABOVE,
         }
     }
 
@@ -339,6 +365,9 @@ impl Store {
             }
             if name == sqlite::FLEET_FACTS_MIGRATION {
                 incidents::fill_fleet_facts(tx)?;
+            }
+            if name == sqlite::BENCH_PRACTICE_MIGRATION {
+                practice::audit_seeded(tx)?;
             }
             Ok(())
         })?;

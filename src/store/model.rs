@@ -102,6 +102,21 @@ pub struct Lot {
     pub product: String,
     pub code: String,
     pub made_on: Option<NaiveDate>,
+    /// Whether the lot was heat-soak tested (EN 14179-1); None: not known. Left out of the
+    /// audit image while unknown, so that lots written before it existed keep their bytes.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub heat_soak: Option<HeatSoak>,
+}
+
+/// The heat-soak record of a lot: tested or not, and when and under which certificate.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct HeatSoak {
+    pub soaked: bool,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub on: Option<NaiveDate>,
+    /// The certificate or report reference (free text).
+    #[serde(default, skip_serializing_if = "String::is_empty")]
+    pub reference: String,
 }
 
 /// Panes in service, for rates per 1,000 pane-years. `removed_on` None = still in service.
@@ -177,6 +192,10 @@ pub struct MirrorReading {
     pub analyst: String,
     #[serde(default)]
     pub note: String,
+    /// How the boundary was viewed: a lookup code (`viewing_mode`), None when not recorded
+    /// (and then left out of the audit image, so older images keep their bytes).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub viewing: Option<String>,
 }
 
 /// A flaw measured on the fracture surface.
@@ -306,6 +325,10 @@ pub struct Incident {
     pub site: Option<String>,
     pub found_on: NaiveDate,
     pub broken_on: Option<NaiveDate>,
+    /// The day the broken pane was installed: its time in service runs from here. Left
+    /// out of the audit image while unknown.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub installed_on: Option<NaiveDate>,
     #[serde(default)]
     pub environment: Environment,
     #[serde(default)]
@@ -346,6 +369,7 @@ impl Incident {
             site: None,
             found_on,
             broken_on: None,
+            installed_on: None,
             environment: Environment::default(),
             reporter: String::new(),
             how_found: String::new(),
@@ -390,10 +414,12 @@ pub enum LookupKind {
     Boundary,
     AssetType,
     Makeup,
+    /// How a mirror boundary was viewed (reflected light, stereo microscope…).
+    ViewingMode,
 }
 
 impl LookupKind {
-    pub const ALL: [LookupKind; 12] = [
+    pub const ALL: [LookupKind; 13] = [
         LookupKind::OriginType,
         LookupKind::OriginLocation,
         LookupKind::CauseCategory,
@@ -406,6 +432,7 @@ impl LookupKind {
         LookupKind::Boundary,
         LookupKind::AssetType,
         LookupKind::Makeup,
+        LookupKind::ViewingMode,
     ];
 
     /// The name stored in the `lookup.kind` column.
@@ -423,6 +450,7 @@ impl LookupKind {
             LookupKind::Boundary => "boundary",
             LookupKind::AssetType => "asset_type",
             LookupKind::Makeup => "makeup",
+            LookupKind::ViewingMode => "viewing_mode",
         }
     }
 
@@ -615,6 +643,10 @@ pub struct VerifyReport {
     pub first_problem: Option<String>,
     /// How many problems were found in all.
     pub problems: u64,
+    /// Each record that could not be read (damaged), named by its table, row and field; the
+    /// others were checked. Also counted in `problems`.
+    #[serde(default)]
+    pub damaged: Vec<String>,
 }
 
 impl VerifyReport {

@@ -177,12 +177,19 @@ pub(crate) fn load_lots(
     supplier: Option<&str>,
     product: Option<&str>,
 ) -> Result<Vec<Lot>, StoreError> {
-    let mut stmt = conn.prepare_cached(
-        "SELECT l.id, s.code, p.code, l.code, l.made_on FROM lots l
+    // a database held before schema 0008 (the upgrade tests) has no heat-soak columns
+    let mut stmt = conn.prepare_cached(if super::sqlite::columns_present(conn) {
+        "SELECT l.id, s.code, p.code, l.code, l.made_on, l.heat_soaked, l.heat_soak_on,
+                l.heat_soak_ref FROM lots l
          JOIN products p ON p.id = l.product_id JOIN suppliers s ON s.id = p.supplier_id
          WHERE (?1 IS NULL OR s.code = ?1) AND (?2 IS NULL OR p.code = ?2)
-         ORDER BY s.code, p.code, l.code",
-    )?;
+         ORDER BY s.code, p.code, l.code"
+    } else {
+        "SELECT l.id, s.code, p.code, l.code, l.made_on, NULL, NULL, '' FROM lots l
+         JOIN products p ON p.id = l.product_id JOIN suppliers s ON s.id = p.supplier_id
+         WHERE (?1 IS NULL OR s.code = ?1) AND (?2 IS NULL OR p.code = ?2)
+         ORDER BY s.code, p.code, l.code"
+    })?;
     let rows = stmt.query_map(params![supplier, product], |r| {
         Ok(Lot {
             id: r.get(0)?,
@@ -190,6 +197,18 @@ pub(crate) fn load_lots(
             product: r.get(2)?,
             code: r.get(3)?,
             made_on: date_col(r.get(4)?),
+            heat_soak: r.get::<_, Option<i64>>(5)?.map(|s| HeatSoak {
+                soaked: s != 0,
+                on: None,
+                reference: String::new(),
+            }),
+        })
+        .and_then(|mut lot: Lot| {
+            if let Some(h) = lot.heat_soak.as_mut() {
+                h.on = date_col(r.get(6)?);
+                h.reference = r.get(7)?;
+            }
+            Ok(lot)
         })
     })?;
     Ok(rows.collect::<Result<_, _>>()?)
@@ -459,10 +478,28 @@ pub(crate) fn insert_lot(
             code: format!("{}/{}/{}", l.supplier, l.product, l.code),
         });
     }
+    if l.heat_soak.is_none() {
+        // no heat-soak record: the columns keep their defaults (and a database held before
+        // schema 0008, as the upgrade tests hold one, can take the row)
+        conn.prepare_cached(
+            "INSERT INTO lots (id, product_id, code, made_on) VALUES (?1, ?2, ?3, ?4)",
+        )?
+        .execute(params![l.id, pid, l.code, l.made_on.map(fmt_date)])?;
+        return chain.record(conn, stamp, LOT, &l.id, None, Some(&canon::canonical(l)?));
+    }
     conn.prepare_cached(
-        "INSERT INTO lots (id, product_id, code, made_on) VALUES (?1, ?2, ?3, ?4)",
+        "INSERT INTO lots (id, product_id, code, made_on, heat_soaked, heat_soak_on, heat_soak_ref)
+         VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7)",
     )?
-    .execute(params![l.id, pid, l.code, l.made_on.map(fmt_date)])?;
+    .execute(params![
+        l.id,
+        pid,
+        l.code,
+        l.made_on.map(fmt_date),
+        l.heat_soak.as_ref().map(|h| i64::from(h.soaked)),
+        l.heat_soak.as_ref().and_then(|h| h.on).map(fmt_date),
+        l.heat_soak.as_ref().map_or("", |h| h.reference.as_str())
+    ])?;
     chain.record(conn, stamp, LOT, &l.id, None, Some(&canon::canonical(l)?))
 }
 

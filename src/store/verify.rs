@@ -6,33 +6,97 @@ use std::path::Path;
 use rusqlite::Connection;
 use sha2::{Digest, Sha256};
 
-use super::audit::{Verification, INCIDENT};
-use super::progress::ProgressSlot;
-use super::{canon, incidents, refdata, Store, StoreError, VerifyReport};
+use super::audit::Verification;
+use super::{canon, incidents, refdata, verify_scan, Store, StoreError, VerifyReport};
 
 impl Store {
     /// Recompute the audit chain and compare every record with its last audited image.
     /// Finds audit rows changed, deleted or inserted, and record rows changed, deleted or
     /// inserted without going through the store.
+    ///
+    /// One read snapshot throughout. Half the incidents are read and hashed on a second
+    /// thread (its own read-only connection, seeing the same audit head) while this one
+    /// recomputes the chain and reads the other half; the problems are reported in the order
+    /// one thread finds them. A database in memory, or one written in between, is read on
+    /// one thread.
     pub fn verify(&self) -> Result<VerifyReport, StoreError> {
-        // 1. the chain
-        let mut v = Verification::read_chain(&self.conn)?;
-        // 2. the records against their last images
-        for e in refdata::load_lookups(&self.conn, None)? {
-            let img = canon::canonical(&e)?;
-            let key = refdata::lookup_key(&e);
-            v.check_record(refdata::LOOKUP, &key, &key, &img);
-        }
-        let own = super::own_materials::images(&self.conn)?;
-        for (entity, id, shown, img) in refdata::all_images(&self.conn)?.into_iter().chain(own) {
-            v.check_record(entity, &id, &shown, &img);
-        }
+        // (inside a caller's transaction, that one is the snapshot)
+        let snapshot = match self.conn.is_autocommit() {
+            true => Some(self.conn.unchecked_transaction()?),
+            false => None,
+        };
+        let head = verify_scan::head_seen(&self.conn)?;
         let book = self.material_book()?;
-        check_incidents(&self.conn, &mut v, &self.progress, &book)?;
-        // the narrow copy the fleet statistics read (schema 3) agrees with the incidents
-        for msg in incidents::fleet_facts_problems(&self.conn)? {
-            v.problem(msg);
+        let book = &book;
+        let second = verify_scan::second_reader(self.path.as_deref(), &head);
+        let total: i64 = self
+            .conn
+            .query_row("SELECT count(*) FROM incidents", [], |r| r.get(0))?;
+        let total = Some(total.max(0) as u64);
+        let report = std::thread::scope(|scope| -> Result<VerifyReport, StoreError> {
+            // the second half of the incidents (and the fleet-statistics copy) on the other
+            // thread; the chain, the reference data and the first half here
+            let (first, second_half) = verify_scan::halves(&self.conn)?;
+            let (tx, rx) = std::sync::mpsc::channel();
+            let worker =
+                second.map(|c| scope.spawn(move || verify_scan::scan_to(c, second_half, book, tx)));
+            let mine = if worker.is_some() {
+                first
+            } else {
+                verify_scan::ALL
+            };
+            // 1. the chain
+            let mut v = Verification::read_chain(&self.conn)?;
+            // 2. the records against their last images
+            for e in refdata::load_lookups(&self.conn, None)? {
+                let img = canon::canonical(&e)?;
+                let key = refdata::lookup_key(&e);
+                v.check_record(refdata::LOOKUP, &key, &key, &img);
+            }
+            let own = super::own_materials::images(&self.conn)?;
+            let practice = super::practice::minimum_images(&self.conn)?;
+            for (entity, id, shown, img) in refdata::all_images(&self.conn)?
+                .into_iter()
+                .chain(own)
+                .chain(practice)
+            {
+                v.check_record(entity, &id, &shown, &img);
+            }
+            let mut merge = verify_scan::Merge::default();
+            verify_scan::scan(&self.conn, mine, book, |c| {
+                merge.take(&mut v, c, &self.progress, total);
+                Ok(())
+            })?;
+            let facts = match worker {
+                Some(w) => {
+                    for chunk in rx {
+                        for c in chunk {
+                            merge.take(&mut v, c, &self.progress, total);
+                        }
+                    }
+                    w.join().map_err(|_| {
+                        StoreError::Database("verify: the incident scan stopped".into())
+                    })??
+                }
+                None => incidents::fleet_facts_problems(&self.conn)?,
+            };
+            merge.finish(&mut v);
+            // the narrow copy the fleet statistics read (schema 3) agrees with the incidents
+            for msg in facts {
+                v.problem(msg);
+            }
+            self.verify_rest(&mut v)?;
+            Ok(v.into_report())
+        })?;
+        if let Some(t) = snapshot {
+            t.rollback()?;
         }
+        Ok(report)
+    }
+
+    /// The checks after the records': the records the log names that are gone, the text
+    /// index, the attachment files.
+    fn verify_rest(&self, v: &mut Verification) -> Result<(), StoreError> {
         v.report_missing_records();
         // the text index holds every incident and nothing else
         for msg in super::sqlite::fts_out_of_step(&self.conn)? {
@@ -41,66 +105,10 @@ impl Store {
         // 3. the evidence: every attachment's file is in the attachment folder and still has
         // the content its hash names (skipped for a database with no folder, i.e. in memory)
         if let Some(dir) = self.files_dir() {
-            check_attachment_files(&self.conn, dir, &mut v)?;
+            check_attachment_files(&self.conn, dir, v)?;
         }
-        Ok(v.into_report())
+        Ok(())
     }
-}
-
-/// Every incident against its last audited image, and its derived columns against its
-/// examinations.
-fn check_incidents(
-    conn: &Connection,
-    v: &mut Verification,
-    progress: &ProgressSlot,
-    book: &super::MaterialBook,
-) -> Result<(), StoreError> {
-    let mut bad_derived: Option<String> = None;
-    let mut n_bad = 0u64;
-    let total: i64 = conn.query_row("SELECT count(*) FROM incidents", [], |r| r.get(0))?;
-    let total = Some(total.max(0) as u64);
-    let mut done = 0u64;
-    let mut unreadable = Vec::new();
-    incidents::for_each_readable_incident(
-        conn,
-        |inc, derived_ok| {
-            progress.tell("verifying", done, total);
-            done += 1;
-            let img = canon::incident_image(&inc)?;
-            v.check_record(INCIDENT, &inc.id, &inc.reference, &img);
-            for (n, exam) in inc.examinations.iter().enumerate() {
-                if let Some(why) = super::analysis::stored_result_differs(&inc, exam, book) {
-                    v.problem(format!(
-                        "incident {}: examination {}: {why}",
-                        inc.reference,
-                        n + 1
-                    ));
-                }
-            }
-            if !derived_ok {
-                n_bad += 1;
-                if bad_derived.is_none() {
-                    bad_derived = Some(inc.reference.clone());
-                }
-            }
-            Ok(())
-        },
-        |reference, why| {
-            unreadable.push(format!(
-                "incident {reference}: damaged, its row cannot be read ({why}); the other records were checked"
-            ));
-            Ok(())
-        },
-    )?;
-    for m in unreadable {
-        v.problem(m);
-    }
-    if let Some(r) = bad_derived {
-        for _ in 0..n_bad {
-            v.problem(format!("incident {r}: its listed stress, origin type or temper does not follow from its examinations (changed behind shardlog's back)"));
-        }
-    }
-    Ok(())
 }
 
 /// Every attachment's file is in `dir` and still has the content its hash names.

@@ -23,6 +23,7 @@ pub fn screen_title(app: &App) -> &'static str {
         Screen::Bench => "Bench calculator",
         Screen::Review => "Fleet review",
         Screen::Materials => "Materials",
+        Screen::Lookups => "Lookup lists",
     }
 }
 
@@ -57,6 +58,7 @@ pub fn draw(app: &App, f: &mut Frame) {
         Screen::Bench => super::screens::bench::draw(app, f, body, th),
         Screen::Review => super::screens::review::draw(app, f, body, th),
         Screen::Materials => super::screens::materials::draw(app, f, body, th),
+        Screen::Lookups => super::screens::lookups::draw(app, f, body, th),
     }
     draw_status(app, f, status, th);
     draw_footer(app, f, footer, th);

@@ -15,7 +15,14 @@ use super::theme::Theme;
 use crate::app::field::Field;
 use crate::app::form::{Form, FormItem};
 use crate::app::picklist::PickList;
-pub use shardlog_core::text::{clean, fit, fit_left, width};
+pub use shardlog_core::text::{fit, fit_left, width};
+
+/// One line of user text as the interface shows it: control characters and escape sequences
+/// as visible symbols (`␛`, `␇`, U+FFFD; see `shardlog_core::text::visible`), never obeyed and
+/// never silently dropped, as the command line shows them on a terminal.
+pub fn clean(s: &str) -> String {
+    shardlog_core::text::visible(s)
+}
 
 /// A rectangle of at most `w`×`h` centred in `area`.
 pub fn centered(area: Rect, w: u16, h: u16) -> Rect {

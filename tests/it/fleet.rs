@@ -263,6 +263,46 @@ fn pivotal_bounds_cover_what_they_claim() {
 }
 
 #[test]
+fn pivotal_table_meets_the_large_sample_limit() {
+    // No printed table of these quantiles was at hand to cite (Thoman, Bain & Antle 1969 and
+    // ASTM C1239 print them; neither could be found in a citable copy). What can be checked
+    // without one: for large N the two pivots are normal with the variances of the inverse
+    // Fisher information of the smallest-extreme-value distribution (the log of a Weibull
+    // sample), which Thoman, Bain & Antle compare their tables with (computed):
+    //   Var(m̂/m) → 6/π² / N = 0.6079/N,
+    //   Var(m̂·ln(σ̂_θ/σ_θ)) → (1 + 6(1 − γ)²/π²) / N = 1.1087/N (γ = 0.5772, Euler's constant).
+    // At N = 200: sd 0.05513 and 0.07446. The m̂/m quantiles are centred on E[m̂/m] =
+    // 1/unbiasing. Skewness remains at N = 200 (0.5 % on the m̂/m tails, 1.2 % on the scale
+    // pivot's 97.5 % point), so 1 % and 2 %.
+    let gamma = 0.577_215_664_9_f64;
+    let pi2 = std::f64::consts::PI.powi(2);
+    let n = 200.0;
+    let row = pivotal::row(200).unwrap();
+    let sd_q = (6.0 / pi2 / n).sqrt();
+    let sd_t = ((1.0 + 6.0 * (1.0 - gamma).powi(2) / pi2) / n).sqrt();
+    assert!((sd_q - 0.05513).abs() < 1e-5 && (sd_t - 0.07446).abs() < 1e-5);
+    let mean_q = 1.0 / row.unbiasing;
+    // standard normal quantiles at 0.025, 0.05, 0.95, 0.975
+    let z = [-1.959_964, -1.644_854, 1.644_854, 1.959_964];
+    for (i, zi) in z.iter().enumerate() {
+        let q = mean_q + zi * sd_q;
+        assert!(
+            (row.q[i] / q - 1.0).abs() < 0.01,
+            "q[{i}] {} against the normal limit {q}",
+            row.q[i]
+        );
+        let t = zi * sd_t;
+        assert!(
+            (row.t[i] / t - 1.0).abs() < 0.02,
+            "t[{i}] {} against the normal limit {t}",
+            row.t[i]
+        );
+    }
+    // and the unbiasing factor tends to 1 (the estimate is consistent)
+    assert!(row.unbiasing > 0.99 && row.unbiasing < 1.0);
+}
+
+#[test]
 fn pivotal_table_regenerates() {
     // The table in core/src/fleet/pivotal.rs was printed by core/benches/weibull_table.rs
     // (200,000 samples per N, fixed seed). Rerun three rows with 20,000 samples: each entry

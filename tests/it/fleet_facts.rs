@@ -53,6 +53,7 @@ fn incident(found: NaiveDate, supplier: &str, lot: &str, origin: &str) -> Incide
             magnification: Some(40.0),
             analyst: "ines".into(),
             note: String::new(),
+            viewing: None,
         }],
         flaw: None,
         result: None,

@@ -541,6 +541,7 @@ mod written_records_read_back {
                             magnification: None,
                             analyst: who.clone(),
                             note: String::new(),
+                            viewing: None,
                         });
                         d.examinations.push(e);
                     }

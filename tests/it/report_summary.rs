@@ -325,3 +325,83 @@ fn summaries_of_the_shipped_demo_fleet_in_every_format() {
     }
     assert_eq!(n, 5);
 }
+
+#[test]
+fn the_fragmentation_check_and_the_viewing_mode_reach_every_format() {
+    // a fully tempered 6 mm pane with 31 fragments in the 50 mm × 50 mm square: below the
+    // minimum of 40 the table holds for 4 – 12 mm (EN 12150-1, from memory); one reading
+    // viewed with the stereo microscope
+    let tmp = tempfile::tempdir().unwrap();
+    let db = tmp.path().join("frag.db");
+    let mut s = shardlog::store::Store::open(&db).unwrap();
+    let mut inc = shardlog::store::Incident::draft(day(2027, 3, 14));
+    inc.glass.plies.push(shardlog::store::Ply {
+        material: Some("soda_lime".into()),
+        temper: Some("fully_tempered".into()),
+        thickness_m: Some(0.006),
+        coating: String::new(),
+        edge_finish: String::new(),
+    });
+    inc.pattern.fragment_count = Some(31);
+    let mut exam = shardlog::store::Examination::empty();
+    exam.readings.push(shardlog::store::MirrorReading {
+        boundary: "mirror_mist".into(),
+        radius: shardlog::store::Measured::parse(
+            "0.42 mm",
+            shardlog_core::units::Dimension::Length,
+        )
+        .unwrap(),
+        magnification: Some(20.0),
+        analyst: "mira".into(),
+        note: String::new(),
+        viewing: Some("stereo".into()),
+    });
+    inc.examinations.push(exam);
+    let saved = s
+        .create_incident(
+            &inc,
+            &shardlog::store::Stamp::new("mira", at("2027-03-14T09:10:00Z")),
+        )
+        .unwrap();
+    drop(s);
+    for fmt in ["pdf", "html", "md"] {
+        let file = tmp.path().join(format!("frag.{fmt}"));
+        let o = shardlog(
+            &db,
+            &[
+                "report",
+                &saved.reference,
+                "--format",
+                fmt,
+                "-o",
+                file.to_str().unwrap(),
+            ],
+        );
+        assert!(
+            o.status.success(),
+            "{fmt}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        let text = if fmt == "pdf" {
+            pdftotext(&file)
+        } else {
+            std::fs::read_to_string(&file).unwrap()
+        };
+        // pdftotext may break a long cell across lines: compare with the spaces squeezed
+        let flat = text.split_whitespace().collect::<Vec<_>>().join(" ");
+        for must in [
+            "Fragmentation (EN 12150-1)",
+            "fail: 31 fragments, minimum 40 for 4 – 12 mm",
+            "from memory",
+            "×20, stereo microscope",
+        ] {
+            assert!(flat.contains(must), "{fmt}: {must} missing:\n{text}");
+        }
+    }
+    let t = String::from_utf8_lossy(&shardlog(&db, &["show", &saved.reference]).stdout).to_string();
+    assert!(
+        t.contains("fragments   31 fragments in 50 mm × 50 mm; minimum 40 for 4 – 12 mm (EN 12150-1, soda-lime float, from memory: check against your edition): fail"),
+        "{t}"
+    );
+    assert!(t.contains("0.42 mm at 20.0×, stereo microscope"), "{t}");
+}

@@ -47,6 +47,7 @@ fn sample(found: NaiveDate) -> Incident {
             magnification: Some(10.0),
             analyst: "mira".into(),
             note: String::new(),
+            viewing: None,
         }],
         flaw: None,
         result: None,
@@ -579,4 +580,27 @@ fn ids_are_deterministic_with_a_seed() {
     };
     assert_eq!(make(), make());
     let _ = Utc.timestamp_opt(0, 0);
+}
+
+/// A bundle's head and the incidents it vouches for come from one moment: inside
+/// `consistent_read` a write by another connection is not seen, after it it is.
+#[test]
+fn a_consistent_read_does_not_see_a_write_made_during_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("snap.db");
+    let mut writer = Store::open(&path).unwrap();
+    writer
+        .create_incident(&sample(day(2026, 3, 14)), &stamp("2026-03-14T10:00:00Z"))
+        .unwrap();
+    let reader = Store::open_existing(&path).unwrap();
+    let (before, after_inside) = reader
+        .consistent_read(|r| -> Result<_, StoreError> {
+            let before = r.audit_head_entry()?;
+            writer.create_incident(&sample(day(2026, 3, 15)), &stamp("2026-03-15T10:00:00Z"))?;
+            Ok((before, r.audit_head_entry()?))
+        })
+        .unwrap();
+    assert_eq!(before, after_inside, "a write leaked into the snapshot");
+    let outside = reader.audit_head_entry().unwrap();
+    assert!(outside.0 > before.0, "the write is seen once the read ends");
 }

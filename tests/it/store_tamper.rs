@@ -33,6 +33,7 @@ fn incident(d: u32) -> Incident {
                 magnification: Some(40.0),
                 analyst: "ines".into(),
                 note: String::new(),
+                viewing: None,
             },
             MirrorReading {
                 boundary: "mist_hackle".into(),
@@ -40,6 +41,7 @@ fn incident(d: u32) -> Incident {
                 magnification: Some(40.0),
                 analyst: "ines".into(),
                 note: String::new(),
+                viewing: None,
             },
         ],
         flaw: None,

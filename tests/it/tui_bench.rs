@@ -141,6 +141,7 @@ fn a_thermal_hypothesis_saved_without_its_typed_inputs_comes_back_from_its_figur
             label: "Mirror–mist R",
             lines: &lines,
         }],
+        viewing: None,
         input: &input,
         analysis: &analysis,
         thermal: Some(ThermalHypothesis {
@@ -537,6 +538,7 @@ fn reverting_past_a_removed_examination_brings_back_its_figures_and_pin() {
             label: "Mirror–mist R",
             lines: &lines,
         }],
+        viewing: None,
         input: &input,
         analysis: &analysis,
         thermal: None,

@@ -364,7 +364,7 @@ fn every_panel_draws_its_figures_at_80x24_and_100x30() {
     open_all(&mut app);
     for (w, h) in [(80, 24), (100, 30)] {
         let mut seen = Vec::new();
-        for _ in 0..5 {
+        for _ in 0..Panel::ALL.len() {
             let t = text(&render(&mut app, w, h));
             seen.push((app.review.panel, t));
             send(&mut app, &key(KeyCode::Tab));

@@ -600,3 +600,26 @@ fn a_field_edits_by_the_usual_keys() {
         text(&lines)
     );
 }
+
+#[test]
+fn escape_sequences_in_stored_text_show_as_symbols_not_dropped() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("bench.db");
+    let mut store = Store::open(&path).unwrap();
+    let mut d = Incident::draft(NaiveDate::from_ymd_opt(2027, 2, 1).unwrap());
+    d.asset = Some("car 7".into());
+    d.position = "door\u{1b}[2Jleft".into();
+    d.description = "edge chip\u{1b}]0;owned\u{7} then a bell\u{7}".into();
+    store.create_incident(&d, &stamp()).unwrap();
+    let mut app = App::with_store(store, &path).unwrap();
+    // the log row: the screen-clearing sequence is shown, not obeyed nor cut
+    let t = text(&render(&mut app, 100, 30));
+    assert!(t.contains("door␛[2Jleft"), "{t}");
+    open_first(&mut app);
+    for (w, h) in [(80, 24), (100, 30)] {
+        let t = text(&render(&mut app, w, h));
+        assert!(!t.contains('\u{1b}') && !t.contains('\u{7}'), "{t}");
+        assert!(t.contains("␛]0;owned␇"), "{w}×{h}: {t}");
+        assert!(t.contains("then a bell␇"), "{w}×{h}: {t}");
+    }
+}

@@ -35,6 +35,7 @@ pub(crate) fn incident(d: u32) -> Incident {
         magnification: Some(40.0),
         analyst: "ines".into(),
         note: String::new(),
+        viewing: None,
     };
     inc.examinations.push(Examination {
         id: String::new(),

@@ -9,6 +9,7 @@
 //! - [`special`]: incomplete gamma and beta functions and their quantiles.
 
 pub mod group;
+pub mod heat_soak;
 pub mod pivotal;
 pub mod pivotal_sim;
 pub mod query;

@@ -16,6 +16,7 @@
 
 pub mod calibration;
 pub mod flaw;
+pub mod fragmentation;
 pub mod materials;
 pub mod mirror;
 pub mod residual;

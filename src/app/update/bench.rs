@@ -10,6 +10,7 @@ use crate::store::model::Incident;
 impl App {
     pub(super) fn open_bench_for(&mut self, inc: &Incident) {
         let mut bench = BenchState::with_materials(self.bench.materials.clone());
+        bench.set_viewing_modes(&self.lists);
         bench.prefill(inc);
         bench.form.mark_clean();
         self.bench = bench;
@@ -22,6 +23,8 @@ impl App {
     }
 
     pub(super) fn update_bench(&mut self, action: Action) {
+        // a bench opened from the log (or made afresh) learns the database's viewing modes
+        self.bench.set_viewing_modes(&self.lists);
         if action == Action::Save {
             self.save_bench();
             return;
@@ -78,10 +81,18 @@ impl App {
             })
         })
         .collect();
+        let viewing = self
+            .bench
+            .form
+            .pick("viewing")
+            .and_then(|p| p.chosen_item())
+            .map(|i| i.code.clone())
+            .filter(|c| !c.is_empty());
         let record = BenchRecord {
             analyst: &self.actor,
             at: stamp.at,
             readings,
+            viewing: viewing.as_deref(),
             input,
             analysis,
             thermal: match &self.bench.thermal {

@@ -39,6 +39,13 @@ impl App {
             self.apply_filter();
             return;
         }
+        if matches!(
+            edit.kind,
+            EditKind::LookupAdd(_) | EditKind::LookupRename(_)
+        ) {
+            self.save_lookup_edit();
+            return;
+        }
         if let Some((i, e)) = edit.form.first_error() {
             if let Some(edit) = self.edit.as_mut() {
                 edit.form.focus = i;
@@ -121,26 +128,14 @@ impl App {
                     .map_err(|e| e.to_string())
             }
             EditKind::Exposure => {
-                match incident::exposure_entry(&edit.form)
-                    .and_then(|e| store.enter_exposure(e, &stamp))
-                {
-                    Ok(()) => {
-                        self.edit = None;
-                        self.stack.pop();
-                        if let Ok(l) = super::super::load_lists(store) {
-                            self.lists = l;
-                        }
-                        self.reload_review();
-                        self.info("exposure saved: rates use it from now on");
-                    }
-                    Err(e) => self.error(format!("not saved: {e}")),
-                }
+                self.save_exposure();
                 return;
             }
-            EditKind::Filter => return,
+            _ => return,
         };
         match result {
             Ok(saved) => {
+                let lot_note = self.save_lot_heat_soak(&saved);
                 let what = match kind {
                     EditKind::New => format!("created {}", saved.reference),
                     EditKind::Section(s) => {
@@ -155,7 +150,7 @@ impl App {
                             .unwrap_or_default();
                         format!("attached to {} (sha256 {h}…)", saved.reference)
                     }
-                    EditKind::Filter | EditKind::Exposure => String::new(),
+                    _ => String::new(),
                 };
                 self.edit = None;
                 self.stack.pop();
@@ -169,7 +164,7 @@ impl App {
                     let r = self.log.refresh(store);
                     self.report(r);
                 }
-                self.info(what);
+                self.info(format!("{what}{lot_note}"));
             }
             Err(e) => self.error(format!("not saved: {e}")),
         }

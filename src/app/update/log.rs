@@ -90,6 +90,7 @@ impl App {
                 self.open_materials();
                 Ok(())
             }
+
             _ => Ok(()),
         };
         self.report(r);

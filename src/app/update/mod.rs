@@ -5,6 +5,8 @@ mod bench;
 mod edit;
 mod incident;
 mod log;
+mod lookups;
+mod practice;
 mod review;
 
 use crate::app::bench::BenchState;
@@ -124,6 +126,7 @@ impl App {
             Screen::Bench => self.update_bench(action),
             Screen::Review => self.update_review(action),
             Screen::Materials => self.update_materials(action),
+            Screen::Lookups => self.update_lookups(action),
         }
     }
 

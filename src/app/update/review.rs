@@ -41,6 +41,7 @@ impl App {
                 });
                 self.stack.push(Screen::Edit);
             }
+            Action::OpenLookups => self.open_lookups(),
             Action::NextSection | Action::Right => self.review.panel = self.review.panel.next(),
             Action::PrevSection | Action::Left => self.review.panel = self.review.panel.prev(),
             Action::Down | Action::ScrollDown => self.review.move_by(1),

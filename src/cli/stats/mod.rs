@@ -4,6 +4,7 @@
 //! `shardlog_core::fleet` (pure). `render` turns the figures into a table or JSON, so it can be
 //! tested without a database.
 
+mod soak;
 mod text;
 
 pub use text::to_text;
@@ -52,6 +53,11 @@ pub struct StatsArgs {
     /// stress: the service load at fracture) or net (the mirror's stress at the origin).
     #[arg(long, value_name = "applied|net", default_value = "applied")]
     pub stress: String,
+    /// Nickel sulfide practice: heat-soaked lots against lots not soaked (counts, and rates
+    /// where exposure of the lots is recorded), and the time in service to breakage of the
+    /// nickel sulfide failures (by year in service, with the median).
+    #[arg(long)]
+    pub heat_soak: bool,
     /// Print JSON instead of tables.
     #[arg(long)]
     pub json: bool,
@@ -417,7 +423,23 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     }
     // The clock is read here, at the edge: the default end of the window is today.
     let today = chrono::Utc::now().date_naive();
-    let text = render(&q, &incidents, &exposures, today)?;
+    let mut text = render(&q, &incidents, &exposures, today)?;
+    if args.heat_soak {
+        let window = q
+            .window(&incidents, &exposures, today)
+            .map_err(CliError::usage)?;
+        let c = soak::comparison(&store, &exposures, &window)?;
+        if q.json {
+            let mut v: Value =
+                serde_json::from_str(&text).map_err(|e| CliError::work(format!("json: {e}")))?;
+            v["heat_soak"] = soak::to_json(&c, &window);
+            text = serde_json::to_string_pretty(&v)
+                .map_err(|e| CliError::work(format!("json: {e}")))?;
+            text.push('\n');
+        } else {
+            text.push_str(&soak::to_text(&c, &window));
+        }
+    }
     ctx.out.write_all(text.as_bytes())?;
     Ok(())
 }
@@ -499,6 +521,7 @@ mod tests {
             origin_type: None,
             only: vec![],
             stress: "applied".into(),
+            heat_soak: false,
             json: false,
         })
         .unwrap()
@@ -592,6 +615,7 @@ mod tests {
             origin_type: origin.map(String::from),
             only: vec![],
             stress: "applied".into(),
+            heat_soak: false,
             json: false,
         };
         for args in [

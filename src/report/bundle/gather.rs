@@ -109,6 +109,11 @@ pub fn selected_ids(s: &Store, sel: &Selection) -> Result<Vec<String>, BundleErr
 
 /// Everything the bundle's files are rendered from, gathered from the store.
 pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictures), BundleError> {
+    // the head and the incidents it vouches for are read from one snapshot
+    s.consistent_read(|s| gather_in(s, opts))
+}
+
+fn gather_in(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictures), BundleError> {
     if let (Some(a), Some(b)) = (opts.since, opts.until) {
         if a > b {
             return Err(BundleError::Usage(format!(

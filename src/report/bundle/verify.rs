@@ -138,7 +138,7 @@ impl ExpectedKey {
         normalise_fingerprint(fingerprint_or_file_text).map(ExpectedKey::Fingerprint)
     }
 
-    fn fingerprint(&self) -> String {
+    pub fn fingerprint(&self) -> String {
         match self {
             ExpectedKey::Fingerprint(f) => f.clone(),
             ExpectedKey::Public(k) => k.fingerprint(),

@@ -59,6 +59,7 @@ impl Verification {
                 head: GENESIS.to_string(),
                 first_problem: None,
                 problems: 0,
+                damaged: Vec::new(),
             },
             entities: Entities::default(),
             last: HashMap::new(),
@@ -215,6 +216,23 @@ impl Verification {
         self.report.problems += 1;
     }
 
+    /// A record that cannot be read: a problem, and listed by itself.
+    pub(crate) fn damaged(&mut self, msg: String) {
+        self.report.damaged.push(msg.clone());
+        self.problem(msg);
+    }
+
+    /// A record that is there but cannot be compared (it cannot be read): not missing.
+    pub(crate) fn mark_seen(&mut self, entity: &str, id: &str) {
+        if let Some(l) = self
+            .entities
+            .existing_key(entity, id)
+            .and_then(|k| self.last.get_mut(&k))
+        {
+            l.seen = true;
+        }
+    }
+
     /// Count one more record checked (one whose check is not [`Verification::check_record`]).
     pub(crate) fn count_checked(&mut self) {
         self.report.records_checked += 1;
@@ -223,6 +241,17 @@ impl Verification {
     /// Compare a record as it is stored (`image`, canonical) with its last audited image.
     /// `shown` names it in a message.
     pub(crate) fn check_record(&mut self, entity: &str, id: &str, shown: &str, image: &str) {
+        self.check_record_digest(entity, id, shown, digest(image));
+    }
+
+    /// [`Verification::check_record`] of an image already hashed ([`digest`]).
+    pub(crate) fn check_record_digest(
+        &mut self,
+        entity: &str,
+        id: &str,
+        shown: &str,
+        image_digest: [u8; 16],
+    ) {
         self.report.records_checked += 1;
         let last = self
             .entities
@@ -234,7 +263,7 @@ impl Verification {
                 l.seen = true;
                 match l.digest {
                     None => Some(format!("{entity} {shown}: present in the records although the audit log says it was deleted")),
-                    Some(d) if d != digest(image) => Some(format!("{entity} {shown}: differs from its last audited version (changed behind shardlog's back)")),
+                    Some(d) if d != image_digest => Some(format!("{entity} {shown}: differs from its last audited version (changed behind shardlog's back)")),
                     Some(_) => None,
                 }
             }

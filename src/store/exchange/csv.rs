@@ -12,6 +12,9 @@ use super::super::model::*;
 use super::{decode_utf8, Problem};
 use shardlog_core::units::{self, Dimension};
 
+mod practice;
+pub(super) use practice::gather_heat_soak;
+
 /// The CSV columns, in export order. Documented in README ("CSV columns").
 pub const CSV_COLUMNS: &[&str] = &[
     "ref",
@@ -45,6 +48,13 @@ pub const CSV_COLUMNS: &[&str] = &[
     "responsibility",
     "description",
     "notes",
+    // the bench-practice columns (csv_practice.rs)
+    "installed_on",
+    "fragment_count",
+    "heat_soaked",
+    "heat_soak_on",
+    "heat_soak_ref",
+    "viewing",
 ];
 
 /// Columns whose cells are numbers or dates written by the tool: never formula-guarded (a
@@ -61,6 +71,9 @@ const CSV_NUMERIC: &[&str] = &[
     "flaw_depth",
     "stress_mpa",
     "applied_stress_mpa",
+    "installed_on",
+    "fragment_count",
+    "heat_soak_on",
 ];
 
 /// The mirror boundaries, each a column of `;`-separated radii.
@@ -73,6 +86,8 @@ pub struct CsvRecord {
     pub line: usize,
     /// A draft where `id`/`ref` are empty.
     pub incident: Incident,
+    /// The heat-soak record the row gives for its lot (None: the row says nothing).
+    pub lot_heat_soak: Option<HeatSoak>,
 }
 
 // ------------------------------------------------------------------ writing
@@ -174,8 +189,8 @@ fn examination_cells(exam: Option<&Examination>) -> Vec<String> {
     ]
 }
 
-/// One CSV line (without the newline) for an incident.
-pub fn csv_row(inc: &Incident) -> String {
+/// One CSV line (without the newline) for an incident, with its lot's heat-soak record.
+pub fn csv_row(inc: &Incident, heat_soak: Option<&HeatSoak>) -> String {
     let ply = inc.glass.plies.first();
     let opt = |s: &Option<String>| s.clone().unwrap_or_default();
     let mut cells: Vec<String> = vec![
@@ -207,6 +222,7 @@ pub fn csv_row(inc: &Incident) -> String {
         inc.description.clone(),
         inc.notes.clone(),
     ]);
+    cells.extend(practice::cells(inc, heat_soak));
     debug_assert_eq!(cells.len(), CSV_COLUMNS.len());
     let mut out = String::new();
     for (i, (c, column)) in cells.iter().zip(CSV_COLUMNS).enumerate() {
@@ -230,13 +246,18 @@ pub fn csv_header() -> String {
 
 /// Split CSV text into records of fields, each with the line it starts on.
 pub(super) fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Problem> {
+    csv_records_from(text, 1)
+}
+
+/// [`csv_records`] of text that starts on line `first_line` of its file.
+fn csv_records_from(text: &str, first_line: usize) -> Result<Vec<(usize, Vec<String>)>, Problem> {
     // A byte scanner: every character that ends a run (quote, comma, CR, LF) is ASCII, so
     // the runs between them are copied as whole slices on character boundaries.
     let mut records = Vec::new();
     let mut field = String::new();
     let mut record: Vec<String> = Vec::new();
-    let mut line = 1usize;
-    let mut start_line = 1usize;
+    let mut line = first_line;
+    let mut start_line = first_line;
     let mut in_quotes = false;
     let b = text.as_bytes();
     let mut i = 0usize;
@@ -340,12 +361,17 @@ pub fn parse_csv_all(
             format!("is empty; expected a header line: {}", csv_header()),
         )]);
     }
-    let records = csv_records(text).map_err(|e| vec![e])?;
+    // a signed export's first line (its signed audit head, checked by `verify --export`)
+    let records = match super::witness::split_csv_signed_line(text) {
+        Some((_, body)) => csv_records_from(body, 2),
+        None => csv_records(text),
+    }
+    .map_err(|e| vec![e])?;
     let mut iter = records.into_iter();
-    let Some((_, header)) = iter.next() else {
+    let Some((header_line, header)) = iter.next() else {
         return Err(vec![Problem::new("file", "is empty")]);
     };
-    let columns = read_header(&header)?;
+    let columns = read_header(&header, header_line)?;
     let width = header.len();
     let mut problems = Vec::new();
     let mut out = Vec::with_capacity(iter.len());
@@ -372,15 +398,23 @@ pub fn parse_csv_all(
             columns: &columns,
             problems: &mut problems,
         };
-        if let Some(incident) = row.incident(stamp) {
-            out.push(CsvRecord { line, incident });
+        if let Some(mut incident) = row.incident(stamp) {
+            let lot_heat_soak = row.practice(&mut incident);
+            out.push(CsvRecord {
+                line,
+                incident,
+                lot_heat_soak,
+            });
         }
     }
     Ok((out, problems))
 }
 
 /// The header line: each known column's position, or every problem with it.
-fn read_header(header: &[String]) -> Result<HashMap<&'static str, usize>, Vec<Problem>> {
+fn read_header(
+    header: &[String],
+    line: usize,
+) -> Result<HashMap<&'static str, usize>, Vec<Problem>> {
     let mut problems = Vec::new();
     let mut columns: HashMap<&'static str, usize> = HashMap::new();
     for (i, h) in header.iter().enumerate() {
@@ -389,13 +423,13 @@ fn read_header(header: &[String]) -> Result<HashMap<&'static str, usize>, Vec<Pr
             Some(c) => {
                 if columns.insert(c, i).is_some() {
                     problems.push(Problem::new(
-                        format!("line 1, column {}", i + 1),
+                        format!("line {line}, column {}", i + 1),
                         format!("column \"{h}\" appears twice"),
                     ));
                 }
             }
             None => problems.push(Problem::new(
-                format!("line 1, column {}", i + 1),
+                format!("line {line}, column {}", i + 1),
                 format!(
                     "unknown column \"{h}\"; the columns are: {}",
                     CSV_COLUMNS.join(", ")
@@ -405,7 +439,7 @@ fn read_header(header: &[String]) -> Result<HashMap<&'static str, usize>, Vec<Pr
     }
     if !columns.contains_key("found_on") {
         problems.push(Problem::new(
-            "line 1",
+            format!("line {line}"),
             "the column \"found_on\" is required",
         ));
     }
@@ -418,7 +452,7 @@ fn read_header(header: &[String]) -> Result<HashMap<&'static str, usize>, Vec<Pr
 
 /// One data record being read: its cells by column name, and where its problems go (each
 /// named by the record's line and the column).
-struct Row<'a> {
+pub(super) struct Row<'a> {
     line: usize,
     cells: &'a [String],
     columns: &'a HashMap<&'static str, usize>,
@@ -427,25 +461,25 @@ struct Row<'a> {
 
 impl Row<'_> {
     /// The cell of a column as written ("" when the file has no such column).
-    fn get(&self, name: &str) -> &str {
+    pub(super) fn get(&self, name: &str) -> &str {
         self.columns
             .get(name)
             .map_or("", |&i| self.cells[i].as_str())
     }
 
     /// The trimmed cell of a column, if it is not empty.
-    fn opt(&self, name: &str) -> Option<String> {
+    pub(super) fn opt(&self, name: &str) -> Option<String> {
         let v = self.get(name).trim();
         (!v.is_empty()).then(|| v.to_string())
     }
 
-    fn bad(&mut self, name: &str, message: impl Into<String>) {
+    pub(super) fn bad(&mut self, name: &str, message: impl Into<String>) {
         let line = self.line;
         self.problems
             .push(Problem::new(format!("line {line}, column {name}"), message));
     }
 
-    fn date(&mut self, name: &str) -> Option<NaiveDate> {
+    pub(super) fn date(&mut self, name: &str) -> Option<NaiveDate> {
         let v = self.get(name).trim().to_string();
         if v.is_empty() {
             return None;
@@ -569,6 +603,7 @@ impl Row<'_> {
                         magnification,
                         analyst: analyst.to_string(),
                         note: String::new(),
+                        viewing: None,
                     }),
                     Ok(_) => self.bad(boundary, format!("\"{part}\" must be greater than zero")),
                     Err(e) => self.bad(boundary, e),

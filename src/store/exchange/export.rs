@@ -74,6 +74,8 @@ impl Store {
             lots: self.lots(None, None)?,
             exposure: self.exposure()?,
             incidents,
+            signed_head: None,
+            lot_heat_soak: vec![],
         };
         Ok((doc, damaged))
     }
@@ -102,8 +104,9 @@ impl Store {
         };
         writeln!(out, "{}", csv_header()).map_err(io)?;
         let (incidents, damaged) = self.readable_incidents(filter)?;
+        let soak = self.lot_heat_soaks()?;
         for inc in &incidents {
-            writeln!(out, "{}", csv_row(inc)).map_err(io)?;
+            writeln!(out, "{}", csv_row(inc, heat_soak_of(&soak, inc))).map_err(io)?;
         }
         Ok((incidents.len(), damaged))
     }
@@ -127,13 +130,36 @@ impl Store {
             message: e.to_string(),
         };
         writeln!(out, "{}", csv_header()).map_err(io)?;
+        let soak = self.lot_heat_soaks()?;
         let mut n = 0;
         for id in self.matching_ids(filter)? {
             if let Some(inc) = incidents::load(&self.conn, &id)? {
-                writeln!(out, "{}", csv_row(&inc)).map_err(io)?;
+                writeln!(out, "{}", csv_row(&inc, heat_soak_of(&soak, &inc))).map_err(io)?;
                 n += 1;
             }
         }
         Ok(n)
     }
+}
+
+/// The heat-soak records of the lots, by (supplier, product, lot).
+pub(super) type SoakMap = std::collections::HashMap<(String, String, String), HeatSoak>;
+
+impl Store {
+    pub(super) fn lot_heat_soaks(&self) -> Result<SoakMap, StoreError> {
+        Ok(self
+            .lots(None, None)?
+            .into_iter()
+            .filter_map(|l| {
+                let h = l.heat_soak?;
+                Some(((l.supplier, l.product, l.code), h))
+            })
+            .collect())
+    }
+}
+
+pub(super) fn heat_soak_of<'a>(map: &'a SoakMap, inc: &Incident) -> Option<&'a HeatSoak> {
+    let g = &inc.glass;
+    let key = (g.supplier.clone()?, g.product.clone()?, g.lot.clone()?);
+    map.get(&key)
 }

@@ -281,6 +281,7 @@ impl Store {
                             product: key.1,
                             code: key.2,
                             made_on: None,
+                            heat_soak: None,
                         });
                     }
                 }

@@ -7,7 +7,9 @@ use chrono::NaiveDate;
 use rusqlite::{Connection, TransactionBehavior};
 
 use super::super::audit::{Bulk, Chain, INCIDENT};
-use super::super::incidents::{self, format_reference, next_reference, reference_prefix, RefCache};
+use super::super::incidents::{
+    self, format_reference, next_reference, reference_prefix, RefCache, Refs,
+};
 use super::super::model::*;
 use super::super::progress::ProgressSlot;
 use super::super::refdata;
@@ -22,11 +24,11 @@ use super::{
 
 /// What an import returns: a summary, or the problems that refused it (nothing written);
 /// the outer error is the machine's, not the file's.
-type ImportResult = Result<Result<ImportSummary, ImportRejected>, StoreError>;
+pub(super) type ImportResult = Result<Result<ImportSummary, ImportRejected>, StoreError>;
 
 /// Where an incident sits in the import file.
 #[derive(Debug, Clone, Copy)]
-enum Place {
+pub(super) enum Place {
     /// The physical line a CSV record starts on.
     Line(usize),
     /// The position in a JSON document's `incidents`.
@@ -34,7 +36,7 @@ enum Place {
 }
 
 impl Place {
-    fn at(self) -> String {
+    pub(super) fn at(self) -> String {
         match self {
             Place::Line(n) => format!("line {n}"),
             Place::Index(i) => format!("incidents[{i}]"),
@@ -111,7 +113,24 @@ impl Store {
         let book = self.material_book()?;
         let mut seen: HashMap<(String, String, NaiveDate), String> = HashMap::new();
         let mut incidents = Vec::with_capacity(records.len());
-        for CsvRecord { line, mut incident } in records {
+        let mut doc = ExportDoc::empty();
+        let mut soak_lines: HashMap<(String, String, String), usize> = HashMap::new();
+        for CsvRecord {
+            line,
+            mut incident,
+            lot_heat_soak,
+        } in records
+        {
+            if let Some(h) = lot_heat_soak {
+                super::csv::gather_heat_soak(
+                    line,
+                    &incident,
+                    h,
+                    &mut doc.lot_heat_soak,
+                    &mut soak_lines,
+                    &mut early,
+                );
+            }
             vocabulary.resolve(&mut incident);
             early.extend(onepass::compute_results(
                 &mut incident,
@@ -124,7 +143,7 @@ impl Store {
             }
             incidents.push((Place::Line(line), incident));
         }
-        let result = self.import_placed(ExportDoc::empty(), incidents, early, options, stamp);
+        let result = self.import_placed(doc, incidents, early, options, stamp);
         match result {
             Ok(Err(mut rejected)) => {
                 for p in &mut rejected.problems {
@@ -291,6 +310,9 @@ impl Store {
         options: ImportOptions,
         stamp: &Stamp,
     ) -> ImportResult {
+        if incidents.len() > self.bulk_import_above {
+            return self.write_import_bulk(doc, incidents, seen_refs, options, stamp);
+        }
         let mut summary = ImportSummary {
             dry_run: options.dry_run,
             ..ImportSummary::default()
@@ -530,15 +552,23 @@ impl Checker {
 }
 
 /// A failure while writing, with the place in the file it belongs to.
-type WriteError = (String, StoreError);
+pub(super) type WriteError = (String, StoreError);
 
 /// The writing half of an import, inside its transaction.
-struct Writer<'a> {
-    tx: &'a Connection,
-    ids: &'a mut IdGen,
-    stamp: &'a Stamp,
-    summary: &'a mut ImportSummary,
-    progress: &'a ProgressSlot,
+pub(super) struct Writer<'a> {
+    pub tx: &'a Connection,
+    pub ids: &'a mut IdGen,
+    pub stamp: &'a Stamp,
+    pub summary: &'a mut ImportSummary,
+    pub progress: &'a ProgressSlot,
+}
+
+/// What numbering the incidents of one import carries from one to the next: the last
+/// reference number given per day, and the keys of the codes met so far.
+#[derive(Default)]
+pub(super) struct Numbering {
+    per_day: HashMap<NaiveDate, u32>,
+    refs: RefCache,
 }
 
 /// Put each item of a reference-data section that is not already present.
@@ -575,10 +605,47 @@ impl Writer<'_> {
         let mut bulk = Bulk::new(INCIDENT, self.ids.next_u64());
         self.write_incidents(&mut chain, &mut bulk, incidents, seen_refs, strict)?;
         bulk.flush(self.tx, &mut chain, self.stamp).map_err(audit)?;
+        self.write_lot_heat_soak(&mut chain, doc)?;
         chain.finish(self.tx).map_err(audit)
     }
 
-    fn write_lookups(&mut self, chain: &mut Chain, doc: &ExportDoc) -> Result<(), WriteError> {
+    /// The heat-soak records of lots, set once the lots exist (an unchanged one writes
+    /// nothing).
+    pub(super) fn write_lot_heat_soak(
+        &mut self,
+        chain: &mut Chain,
+        doc: &ExportDoc,
+    ) -> Result<(), WriteError> {
+        let given = doc
+            .lot_heat_soak
+            .iter()
+            .map(|l| ("lot heat-soak", l))
+            .chain(
+                doc.lots
+                    .iter()
+                    .filter(|l| l.heat_soak.is_some())
+                    .map(|l| ("lots", l)),
+            );
+        for (i, (place, l)) in given.enumerate() {
+            crate::store::practice::put_lot_heat_soak(
+                self.tx,
+                chain,
+                &l.supplier,
+                &l.product,
+                &l.code,
+                l.heat_soak.as_ref(),
+                self.stamp,
+            )
+            .map_err(|e| (format!("{place}[{i}]"), e))?;
+        }
+        Ok(())
+    }
+
+    pub(super) fn write_lookups(
+        &mut self,
+        chain: &mut Chain,
+        doc: &ExportDoc,
+    ) -> Result<(), WriteError> {
         let existing = refdata::load_lookups(self.tx, None).map_err(|e| ("lookups".into(), e))?;
         for (i, e) in doc.lookups.iter().enumerate() {
             if existing
@@ -595,7 +662,7 @@ impl Writer<'_> {
         Ok(())
     }
 
-    fn write_reference_data(
+    pub(super) fn write_reference_data(
         &mut self,
         chain: &mut Chain,
         doc: &ExportDoc,
@@ -680,41 +747,56 @@ impl Writer<'_> {
         seen_refs: &HashSet<String>,
         strict: bool,
     ) -> Result<(), WriteError> {
-        let stamp = self.stamp;
-        let mut day_counter: HashMap<NaiveDate, u32> = HashMap::new();
-        let mut ref_cache = RefCache::default();
+        let mut numbering = Numbering::default();
         let total = Some(incidents.len() as u64);
-        for (i, (place, mut inc)) in incidents.into_iter().enumerate() {
+        for (i, (place, inc)) in incidents.into_iter().enumerate() {
             self.progress.tell("importing", i as u64, total);
-            let here = |x: StoreError| (place.at(), x);
-            if inc.revision < 1 {
-                inc.revision = 1;
-                inc.created_at = stamp.at;
-                inc.updated_at = stamp.at;
-            }
-            Store::normalize(self.ids, &mut inc, stamp);
-            if inc.id.is_empty() {
-                inc.id = self.ids.uuid_v7(stamp.at.timestamp_millis());
-            }
-            if inc.reference.is_empty() {
-                inc.reference = self
-                    .new_reference(inc.found_on, &mut day_counter, seen_refs)
-                    .map_err(here)?;
-            }
-            let refs = Store::resolve_refs(
-                self.tx,
-                chain,
-                self.ids,
-                &inc,
-                stamp,
-                strict,
-                &mut ref_cache,
-            )
-            .map_err(here)?;
-            incidents::insert_new(self.tx, chain, &inc, &refs, stamp, Some(bulk)).map_err(here)?;
+            let (inc, refs) = self.ready(chain, &mut numbering, place, inc, seen_refs, strict)?;
+            incidents::insert_new(self.tx, chain, &inc, &refs, self.stamp, Some(bulk))
+                .map_err(|x| (place.at(), x))?;
             self.summary.incidents += 1;
         }
         Ok(())
+    }
+
+    /// An incident made ready to write: revision and times, keys, its reference, and the
+    /// keys of the records it names (made when new, with their audit rows).
+    pub(super) fn ready(
+        &mut self,
+        chain: &mut Chain,
+        numbering: &mut Numbering,
+        place: Place,
+        mut inc: Incident,
+        seen_refs: &HashSet<String>,
+        strict: bool,
+    ) -> Result<(Incident, Refs), WriteError> {
+        let stamp = self.stamp;
+        let here = |x: StoreError| (place.at(), x);
+        if inc.revision < 1 {
+            inc.revision = 1;
+            inc.created_at = stamp.at;
+            inc.updated_at = stamp.at;
+        }
+        Store::normalize(self.ids, &mut inc, stamp);
+        if inc.id.is_empty() {
+            inc.id = self.ids.uuid_v7(stamp.at.timestamp_millis());
+        }
+        if inc.reference.is_empty() {
+            inc.reference = self
+                .new_reference(inc.found_on, &mut numbering.per_day, seen_refs)
+                .map_err(here)?;
+        }
+        let refs = Store::resolve_refs(
+            self.tx,
+            chain,
+            self.ids,
+            &inc,
+            stamp,
+            strict,
+            &mut numbering.refs,
+        )
+        .map_err(here)?;
+        Ok((inc, refs))
     }
 
     /// The next free reference of the day, skipping references taken by other rows of the

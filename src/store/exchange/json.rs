@@ -6,7 +6,9 @@ use serde_json::Value;
 use super::{decode_utf8, ExportDoc, Problem, JSON_FORMAT, JSON_VERSION};
 
 /// The sections of an export document, in order.
-const SECTIONS: [&str; 10] = [
+/// (`signed_head`, the signed audit head of a signed export, is read by `verify --export`
+/// and passed over by import.)
+const SECTIONS: [&str; 11] = [
     "format",
     "version",
     "lookups",
@@ -17,6 +19,7 @@ const SECTIONS: [&str; 10] = [
     "lots",
     "exposure",
     "incidents",
+    "signed_head",
 ];
 
 /// Parse a JSON import (an export document, or a bare array of incidents).

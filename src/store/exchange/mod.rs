@@ -12,17 +12,21 @@ use serde::{Deserialize, Serialize};
 use super::model::*;
 
 mod admission;
+mod bulk_import;
 mod csv;
 mod export;
 mod exposure;
 mod import;
 mod json;
 mod onepass;
+mod witness;
 
+pub use bulk_import::BULK_IMPORT_ABOVE;
 pub use csv::{csv_guard, csv_header, csv_row, csv_unguard, parse_csv, CsvRecord, CSV_COLUMNS};
 pub use export::Damaged;
 pub use exposure::{exposure_csv_row, EXPOSURE_COLUMNS};
 pub use json::parse_json;
+pub use witness::{check_export, ExportCheck, SignedExport, CSV_SIGNED_PREFIX, JSON_SIGNED_FIELD};
 
 /// The `format` field of a JSON export.
 pub const JSON_FORMAT: &str = "shardlog-export";
@@ -52,6 +56,14 @@ pub struct ExportDoc {
     pub exposure: Vec<Exposure>,
     #[serde(default)]
     pub incidents: Vec<Incident>,
+    /// The audit head the export was read at, signed with the database's key (none when
+    /// the private key was not at hand). Import does not need it; `verify --export` checks it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub signed_head: Option<super::signing::SignedHead>,
+    /// Heat-soak records to set on lots once the incidents are written (the rows of a CSV
+    /// import carry them; a JSON document's `lots` carry theirs). Never written out.
+    #[serde(skip)]
+    pub lot_heat_soak: Vec<Lot>,
 }
 
 impl ExportDoc {
@@ -68,6 +80,8 @@ impl ExportDoc {
             lots: vec![],
             exposure: vec![],
             incidents: vec![],
+            signed_head: None,
+            lot_heat_soak: vec![],
         }
     }
 }

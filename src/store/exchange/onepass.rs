@@ -28,6 +28,8 @@ pub fn csv_column(path: &str) -> Option<&'static str> {
         "cause.responsibility" => "responsibility",
         "broken_on" => "broken_on",
         "found_on" => "found_on",
+        "installed_on" => "installed_on",
+        "pattern.fragment_count" => "fragment_count",
         "site" => "site",
         "asset" => "asset",
         "reference" => "ref",
@@ -41,6 +43,7 @@ pub fn csv_column(path: &str) -> Option<&'static str> {
         p if p.starts_with("examinations[") && p.contains(".readings[") => match tail {
             "magnification" => "magnification",
             "analyst" => "analyst",
+            "viewing" => "viewing",
             // the boundary is the column itself; the radius is in that column
             _ => return None,
         },
@@ -136,6 +139,11 @@ impl Vocabulary {
             if let Some(o) = &e.origin_type {
                 e.origin_type = Some(self.code(LookupKind::OriginType, o));
             }
+            for r in &mut e.readings {
+                if let Some(v) = &r.viewing {
+                    r.viewing = Some(self.code(LookupKind::ViewingMode, v));
+                }
+            }
         }
         if let Some(c) = &mut inc.cause {
             c.category = self.code(LookupKind::CauseCategory, &c.category);
@@ -157,6 +165,7 @@ pub fn column_kind(column: &str) -> Option<LookupKind> {
         "cause" => LookupKind::CauseCategory,
         "confidence" => LookupKind::Confidence,
         "responsibility" => LookupKind::Responsibility,
+        "viewing" => LookupKind::ViewingMode,
         _ => return None,
     })
 }

@@ -4,6 +4,7 @@ use std::collections::HashMap;
 
 use rusqlite::Connection;
 
+use super::damage::{decode, number_at, text_at};
 use super::derive;
 use super::read::{
     attachment_row, custody_row, exam_row, incident_row_with, ply_row, reading_row, result_row,
@@ -23,10 +24,11 @@ struct ChildScan<'s, T> {
 impl<'s, T> ChildScan<'s, T> {
     fn new(
         stmt: &'s mut rusqlite::Statement<'_>,
+        range: (i64, i64),
         read: fn(&rusqlite::Row<'_>) -> rusqlite::Result<(i64, T)>,
     ) -> Result<Self, StoreError> {
         let mut scan = ChildScan {
-            rows: stmt.query([])?,
+            rows: stmt.query([range.0, range.1])?,
             next: None,
             read,
         };
@@ -62,6 +64,17 @@ impl<'s, T> ChildScan<'s, T> {
     }
 }
 
+/// The value of a child row, or None with its damage noted in `bad` (the first is kept).
+fn keep<T>(bad: &mut Option<String>, v: Result<T, String>) -> Option<T> {
+    match v {
+        Ok(v) => Some(v),
+        Err(why) => {
+            bad.get_or_insert(why);
+            None
+        }
+    }
+}
+
 /// Call `f` with every incident in row order, and whether its derived columns agree.
 ///
 /// The same incidents as [`load`] gives for each id, read in one ordered scan of
@@ -72,19 +85,21 @@ pub(crate) fn for_each_incident(
     conn: &Connection,
     f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
 ) -> Result<(), StoreError> {
-    for_each_readable_incident(conn, f, |reference, why| {
+    for_each_readable_incident(conn, (i64::MIN, i64::MAX), f, |_, reference, why| {
         Err(StoreError::Database(format!(
             "incident {reference} cannot be read: {why}"
         )))
     })
 }
 
-/// [`for_each_incident`], handing an incident whose row cannot be read (a date or time that
-/// is not one) to `damaged` with its reference and why, and going on with the others.
+/// [`for_each_incident`], handing an incident whose row or one of whose child rows cannot be
+/// read (a date or time that is not one) to `damaged` with its id, reference and why, and
+/// going on with the others. Only the incidents whose seq is in `range` (both ends in).
 pub(crate) fn for_each_readable_incident(
     conn: &Connection,
+    range: (i64, i64),
     mut f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
-    mut damaged: impl FnMut(String, String) -> Result<(), StoreError>,
+    mut damaged: impl FnMut(String, String, String) -> Result<(), StoreError>,
 ) -> Result<(), StoreError> {
     // the codes of sites, assets, suppliers, products and lots by key, looked up here
     // rather than joined per incident in SQL (five index searches each: an eighth of the time)
@@ -101,66 +116,98 @@ pub(crate) fn for_each_readable_incident(
         (18, code_map("SELECT id, code FROM lots")?),
     ];
     // the columns of `incident_select`, with the keys in place of the codes
-    let mut incidents = conn.prepare(
+    let legacy = !crate::store::sqlite::columns_present(conn);
+    let mut incidents = conn.prepare(&[
         "SELECT i.seq, i.id, i.reference, i.revision, i.created_at, i.updated_at, i.asset_id, i.position, i.site_id,
                 i.found_on, i.broken_on, i.temperature_c, i.sun, i.weather, i.reporter, i.how_found,
                 i.supplier_id, i.product_id, i.lot_id, i.makeup, i.width_m, i.height_m, i.crack_count, i.branching,
                 i.fragment_count, i.origin_location, i.tension_face, i.cause_category, i.cause_factors,
                 i.cause_confidence, i.cause_responsibility, i.cause_note, i.status, i.description, i.notes,
-                i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper
-         FROM incidents i ORDER BY i.seq",
-    )?;
+                i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper, ",
+        if legacy { "NULL" } else { "i.installed_on" },
+        " FROM incidents i WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq",
+    ]
+    .concat())?;
     let mut plies = conn.prepare(concat!(
         "SELECT ",
         ply_cols!(),
-        ", i.seq FROM incidents i JOIN plies p ON p.incident_id = i.id
-         ORDER BY i.seq, p.ply_no"
+        ", i.seq, p.ply_no FROM incidents i JOIN plies p ON p.incident_id = i.id
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, p.ply_no"
     ))?;
     let mut exams = conn.prepare(concat!(
         "SELECT ",
         exam_cols!(),
         ", i.seq FROM incidents i JOIN examinations e ON e.incident_id = i.id
-         ORDER BY i.seq, e.exam_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no"
     ))?;
-    let mut readings = conn.prepare(concat!(
-        "SELECT ",
-        reading_cols!(),
-        ", i.seq, e.id FROM incidents i JOIN examinations e ON e.incident_id = i.id
+    let mut readings = conn.prepare(
+        &[
+            "SELECT ",
+            if legacy {
+                reading_cols!(legacy)
+            } else {
+                reading_cols!()
+            },
+            ", i.seq, e.id, m.reading_no FROM incidents i JOIN examinations e ON e.incident_id = i.id
          JOIN mirror_readings m ON m.examination_id = e.id
-         ORDER BY i.seq, e.exam_no, m.reading_no"
-    ))?;
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no, m.reading_no",
+        ]
+        .concat(),
+    )?;
     let mut results = conn.prepare(concat!(
         "SELECT ",
         result_cols!(),
         ", i.seq, e.id FROM incidents i JOIN examinations e ON e.incident_id = i.id
          JOIN results r ON r.examination_id = e.id
-         ORDER BY i.seq, e.exam_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no"
     ))?;
     let mut custody = conn.prepare(concat!(
         "SELECT ",
         custody_cols!(),
         ", i.seq FROM incidents i JOIN custody c ON c.incident_id = i.id
-         ORDER BY i.seq, c.entry_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, c.entry_no"
     ))?;
     let mut attachments = conn.prepare(concat!(
         "SELECT ",
         attachment_cols!(),
         ", i.seq FROM incidents i JOIN attachments t ON t.incident_id = i.id
-         ORDER BY i.seq, t.entry_no"
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, t.entry_no"
     ))?;
     // every scan starts before any is stepped to its end, so they share one read snapshot
-    let mut rows = incidents.query([])?;
-    let mut plies = ChildScan::new(&mut plies, |r| Ok((r.get(5)?, ply_row(r)?)))?;
-    let mut exams = ChildScan::new(&mut exams, |r| Ok((r.get(14)?, exam_row(r)?)))?;
-    let mut readings = ChildScan::new(&mut readings, |r| {
-        Ok((r.get(7)?, (r.get::<_, String>(8)?, reading_row(r)?)))
+    let mut rows = incidents.query([range.0, range.1])?;
+    // each child decoded, or the message that names the row and field it cannot read
+    let mut plies = ChildScan::new(&mut plies, range, |r| {
+        let row = || format!("ply {}", number_at(r, 6));
+        Ok((r.get(5)?, decode(r, "plies", row, ply_row)?))
     })?;
-    let mut results = ChildScan::new(&mut results, |r| {
-        Ok((r.get(10)?, (r.get::<_, String>(11)?, result_row(r)?)))
+    let mut exams = ChildScan::new(&mut exams, range, |r| {
+        let row = || format!("id {}", text_at(r, 0));
+        Ok((r.get(14)?, decode(r, "examinations", row, exam_row)?))
     })?;
-    let mut custody = ChildScan::new(&mut custody, |r| Ok((r.get(6)?, custody_row(r)?)))?;
-    let mut attachments =
-        ChildScan::new(&mut attachments, |r| Ok((r.get(7)?, attachment_row(r)?)))?;
+    let mut readings = ChildScan::new(&mut readings, range, |r| {
+        let row = || {
+            format!(
+                "examination {}, reading {}",
+                text_at(r, 9),
+                number_at(r, 10)
+            )
+        };
+        let m = decode(r, "mirror_readings", row, reading_row)?;
+        Ok((r.get(8)?, (r.get::<_, String>(9)?, m)))
+    })?;
+    let mut results = ChildScan::new(&mut results, range, |r| {
+        let row = || format!("examination {}", text_at(r, 11));
+        let res = decode(r, "results", row, result_row)?;
+        Ok((r.get(10)?, (r.get::<_, String>(11)?, res)))
+    })?;
+    let mut custody = ChildScan::new(&mut custody, range, |r| {
+        let row = || format!("id {}", text_at(r, 0));
+        Ok((r.get(6)?, decode(r, "custody", row, custody_row)?))
+    })?;
+    let mut attachments = ChildScan::new(&mut attachments, range, |r| {
+        let row = || format!("id {}", text_at(r, 0));
+        Ok((r.get(7)?, decode(r, "attachments", row, attachment_row)?))
+    })?;
     while let Some(r) = rows.next()? {
         let code = |k: usize| -> rusqlite::Result<Option<String>> {
             let Some(key) = text_ref(r, k)? else {
@@ -176,25 +223,39 @@ pub(crate) fn for_each_readable_incident(
             Ok(x) => x,
             Err(e) => {
                 // its children are passed over by the next incident's scans
-                damaged(r.get::<_, String>(2)?, e.to_string())?;
+                damaged(
+                    r.get::<_, String>(1)?,
+                    r.get::<_, String>(2)?,
+                    e.to_string(),
+                )?;
                 continue;
             }
         };
-        plies.take(seq, |p| inc.glass.plies.push(p))?;
-        exams.take(seq, |e| inc.examinations.push(e))?;
+        // the first child row that cannot be read makes the incident damaged
+        let mut bad: Option<String> = None;
+        plies.take(seq, |p| inc.glass.plies.extend(keep(&mut bad, p)))?;
+        exams.take(seq, |e| inc.examinations.extend(keep(&mut bad, e)))?;
         let exams = &mut inc.examinations;
         readings.take(seq, |(exam, m)| {
-            if let Some(e) = exams.iter_mut().find(|e| e.id == exam) {
-                e.readings.push(m);
+            if let Some(m) = keep(&mut bad, m) {
+                if let Some(e) = exams.iter_mut().find(|e| e.id == exam) {
+                    e.readings.push(m);
+                }
             }
         })?;
         results.take(seq, |(exam, res)| {
-            if let Some(e) = exams.iter_mut().find(|e| e.id == exam) {
-                e.result = Some(res);
+            if let Some(res) = keep(&mut bad, res) {
+                if let Some(e) = exams.iter_mut().find(|e| e.id == exam) {
+                    e.result = Some(res);
+                }
             }
         })?;
-        custody.take(seq, |c| inc.custody.push(c))?;
-        attachments.take(seq, |a| inc.attachments.push(a))?;
+        custody.take(seq, |c| inc.custody.extend(keep(&mut bad, c)))?;
+        attachments.take(seq, |a| inc.attachments.extend(keep(&mut bad, a)))?;
+        if let Some(why) = bad {
+            damaged(inc.id, inc.reference, why)?;
+            continue;
+        }
         let ok = derive(&inc) == d;
         f(inc, ok)?;
     }

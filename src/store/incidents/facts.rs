@@ -254,6 +254,12 @@ impl Store {
 /// number in `fleet_values` the first time it is met. Fills in the same numbers the
 /// triggers would.
 pub(crate) fn fill_fleet_facts(tx: &Connection) -> Result<(), StoreError> {
+    fill_fleet_facts_after(tx, 0)
+}
+
+/// [`fill_fleet_facts`] for the incidents after row `after_seq` only (a bulk load into a
+/// database that already has incidents, with the triggers dropped for the load).
+pub(crate) fn fill_fleet_facts_after(tx: &Connection, after_seq: i64) -> Result<(), StoreError> {
     let mut numbers: HashMap<String, i64> = {
         let mut stmt = tx.prepare("SELECT value, n FROM fleet_values")?;
         let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
@@ -268,9 +274,9 @@ pub(crate) fn fill_fleet_facts(tx: &Connection) -> Result<(), StoreError> {
     let mut stmt = tx.prepare(
         "SELECT seq, found_on, cause_category, origin_type, temper, supplier_id, product_id,
                 lot_id, site_id, asset_id, stress_pa, applied_stress_pa
-         FROM incidents ORDER BY seq",
+         FROM incidents WHERE seq > ?1 ORDER BY seq",
     )?;
-    let mut rows = stmt.query([])?;
+    let mut rows = stmt.query([after_seq])?;
     while let Some(r) = rows.next()? {
         let mut n: [Option<i64>; 8] = [None; 8];
         for (k, slot) in n.iter_mut().enumerate() {

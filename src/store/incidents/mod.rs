@@ -18,13 +18,22 @@ use super::model::*;
 /// supplier, product and lot (a macro so that the queries can `concat!` it).
 macro_rules! incident_select {
     () => {
+        concat!(incident_select!(cols), ", i.installed_on", incident_select!(from))
+    };
+    // a database held before schema 0008 (the upgrade tests): no installed_on column
+    (legacy) => {
+        concat!(incident_select!(cols), ", NULL", incident_select!(from))
+    };
+    (cols) => {
         "SELECT i.seq, i.id, i.reference, i.revision, i.created_at, i.updated_at, a.code, i.position, s.code,
                 i.found_on, i.broken_on, i.temperature_c, i.sun, i.weather, i.reporter, i.how_found,
                 su.code, p.code, l.code, i.makeup, i.width_m, i.height_m, i.crack_count, i.branching,
                 i.fragment_count, i.origin_location, i.tension_face, i.cause_category, i.cause_factors,
                 i.cause_confidence, i.cause_responsibility, i.cause_note, i.status, i.description, i.notes,
-                i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper
-         FROM incidents i
+                i.stress_pa, i.applied_stress_pa, i.origin_type, i.temper"
+    };
+    (from) => {
+        " FROM incidents i
          LEFT JOIN assets a ON a.id = i.asset_id
          LEFT JOIN sites s ON s.id = i.site_id
          LEFT JOIN suppliers su ON su.id = i.supplier_id
@@ -52,7 +61,10 @@ macro_rules! exam_cols {
 /// Columns of a mirror reading (alias `m`), read by `read::reading_row`.
 macro_rules! reading_cols {
     () => {
-        "m.boundary, m.value_text, m.unit, m.value_m, m.magnification, m.analyst, m.note"
+        "m.boundary, m.value_text, m.unit, m.value_m, m.magnification, m.analyst, m.note, m.viewing"
+    };
+    (legacy) => {
+        "m.boundary, m.value_text, m.unit, m.value_m, m.magnification, m.analyst, m.note, NULL"
     };
 }
 
@@ -80,6 +92,7 @@ macro_rules! attachment_cols {
 
 mod as_of;
 mod children;
+mod damage;
 mod facts;
 mod history;
 mod list;
@@ -91,7 +104,7 @@ mod write;
 
 pub(crate) use children::for_each_incident;
 pub(crate) use children::for_each_readable_incident;
-pub(crate) use facts::{fill_fleet_facts, fleet_facts_problems};
+pub(crate) use facts::{fill_fleet_facts, fill_fleet_facts_after, fleet_facts_problems};
 pub(crate) use read::load;
 pub(crate) use refs::{RefCache, Refs};
 pub(crate) use validate::validate;

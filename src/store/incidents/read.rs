@@ -3,6 +3,7 @@
 use chrono::NaiveDate;
 use rusqlite::{Connection, OptionalExtension};
 
+use super::damage::{decode, number_at, text_at};
 use super::Derived;
 use crate::store::dates::{parse_date, parse_time};
 use crate::store::model::*;
@@ -77,6 +78,7 @@ pub(super) fn incident_row_with(
         site: code(8)?,
         found_on: date(9)?.unwrap_or_default(),
         broken_on: date(10)?,
+        installed_on: date(39)?,
         environment: Environment {
             temperature_c: r.get(11)?,
             sun: r.get(12)?,
@@ -121,7 +123,12 @@ pub(super) fn load_row(
     conn: &Connection,
     id: &str,
 ) -> Result<Option<(i64, Incident, Derived)>, StoreError> {
-    let mut stmt = conn.prepare_cached(concat!(incident_select!(), " WHERE i.id = ?1"))?;
+    let legacy = !crate::store::sqlite::columns_present(conn);
+    let mut stmt = conn.prepare_cached(if legacy {
+        concat!(incident_select!(legacy), " WHERE i.id = ?1")
+    } else {
+        concat!(incident_select!(), " WHERE i.id = ?1")
+    })?;
     let row = stmt.query_row([id], incident_row).optional()?;
     let Some((seq, mut inc, d)) = row else {
         return Ok(None);
@@ -211,6 +218,7 @@ pub(super) fn reading_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<MirrorReadi
         magnification: r.get(4)?,
         analyst: r.get(5)?,
         note: r.get(6)?,
+        viewing: r.get(7)?,
     })
 }
 
@@ -259,39 +267,70 @@ pub(super) fn attachment_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Attachme
     })
 }
 
+/// The values of a child query, or the first row that cannot be read, as the damage of the
+/// incident (named by table, row and field).
+fn all_read<T>(
+    rows: impl Iterator<Item = rusqlite::Result<Result<T, String>>>,
+) -> Result<Vec<T>, StoreError> {
+    let mut out = Vec::new();
+    for r in rows {
+        out.push(r?.map_err(StoreError::Database)?);
+    }
+    Ok(out)
+}
+
 fn load_children(conn: &Connection, inc: &mut Incident) -> Result<(), StoreError> {
     let mut stmt = conn.prepare_cached(concat!(
         "SELECT ",
         ply_cols!(),
-        " FROM plies p WHERE p.incident_id = ?1 ORDER BY p.ply_no"
+        ", p.ply_no FROM plies p WHERE p.incident_id = ?1 ORDER BY p.ply_no"
     ))?;
-    inc.glass.plies = stmt
-        .query_map([&inc.id], ply_row)?
-        .collect::<Result<_, _>>()?;
+    inc.glass.plies = all_read(stmt.query_map([&inc.id], |r| {
+        decode(r, "plies", || format!("ply {}", number_at(r, 5)), ply_row)
+    })?)?;
 
     let mut stmt = conn.prepare_cached(concat!(
         "SELECT ",
         exam_cols!(),
         " FROM examinations e WHERE e.incident_id = ?1 ORDER BY e.exam_no"
     ))?;
-    inc.examinations = stmt
-        .query_map([&inc.id], exam_row)?
-        .collect::<Result<_, _>>()?;
+    inc.examinations = all_read(stmt.query_map([&inc.id], |r| {
+        decode(
+            r,
+            "examinations",
+            || format!("id {}", text_at(r, 0)),
+            exam_row,
+        )
+    })?)?;
     for e in &mut inc.examinations {
-        let mut stmt = conn.prepare_cached(concat!(
-            "SELECT ",
-            reading_cols!(),
-            " FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
-        ))?;
-        e.readings = stmt
-            .query_map([&e.id], reading_row)?
-            .collect::<Result<_, _>>()?;
+        let mut stmt = conn.prepare_cached(if crate::store::sqlite::columns_present(conn) {
+            concat!(
+                "SELECT ",
+                reading_cols!(),
+                ", m.reading_no FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
+            )
+        } else {
+            concat!(
+                "SELECT ",
+                reading_cols!(legacy),
+                ", m.reading_no FROM mirror_readings m WHERE m.examination_id = ?1 ORDER BY m.reading_no"
+            )
+        })?;
+        let exam = e.id.clone();
+        e.readings = all_read(stmt.query_map([&e.id], |r| {
+            let row = || format!("examination {exam}, reading {}", number_at(r, 8));
+            decode(r, "mirror_readings", row, reading_row)
+        })?)?;
         let mut stmt = conn.prepare_cached(concat!(
             "SELECT ",
             result_cols!(),
             " FROM results r WHERE r.examination_id = ?1"
         ))?;
-        e.result = stmt.query_row([&e.id], result_row).optional()?;
+        e.result = all_read(stmt.query_map([&e.id], |r| {
+            decode(r, "results", || format!("examination {exam}"), result_row)
+        })?)?
+        .into_iter()
+        .next();
     }
 
     let mut stmt = conn.prepare_cached(concat!(
@@ -299,17 +338,27 @@ fn load_children(conn: &Connection, inc: &mut Incident) -> Result<(), StoreError
         custody_cols!(),
         " FROM custody c WHERE c.incident_id = ?1 ORDER BY c.entry_no"
     ))?;
-    inc.custody = stmt
-        .query_map([&inc.id], custody_row)?
-        .collect::<Result<_, _>>()?;
+    inc.custody = all_read(stmt.query_map([&inc.id], |r| {
+        decode(
+            r,
+            "custody",
+            || format!("id {}", text_at(r, 0)),
+            custody_row,
+        )
+    })?)?;
     let mut stmt = conn.prepare_cached(concat!(
         "SELECT ",
         attachment_cols!(),
         " FROM attachments t WHERE t.incident_id = ?1 ORDER BY t.entry_no"
     ))?;
-    inc.attachments = stmt
-        .query_map([&inc.id], attachment_row)?
-        .collect::<Result<_, _>>()?;
+    inc.attachments = all_read(stmt.query_map([&inc.id], |r| {
+        decode(
+            r,
+            "attachments",
+            || format!("id {}", text_at(r, 0)),
+            attachment_row,
+        )
+    })?)?;
     Ok(())
 }
 

@@ -209,6 +209,7 @@ impl Store {
                                 product: pcode.clone(),
                                 code: lcode.clone(),
                                 made_on: None,
+                                heat_soak: None,
                             };
                             refdata::insert_lot(conn, chain, &l, stamp)?;
                             cache

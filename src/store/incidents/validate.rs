@@ -106,6 +106,15 @@ fn check_record(lookups: &Lookups, p: &mut Vec<(String, String)>, inc: &Incident
     );
     in_range(p, "found_on", Some(inc.found_on));
     in_range(p, "broken_on", inc.broken_on);
+    in_range(p, "installed_on", inc.installed_on);
+    if let Some(i) = inc.installed_on {
+        if i > inc.broken_on.unwrap_or(inc.found_on) {
+            p.push((
+                "installed_on".into(),
+                "is after the pane broke (or was found)".into(),
+            ));
+        }
+    }
     time_in_range(p, "created_at", inc.created_at);
     time_in_range(p, "updated_at", inc.updated_at);
     if let Some(b) = inc.broken_on {
@@ -229,6 +238,13 @@ fn check_examinations(
             );
             check_measured(p, &format!("{g}.radius"), &r.radius, Dimension::Length);
             positive(p, &format!("{g}.magnification"), r.magnification);
+            check_code(
+                lookups,
+                p,
+                &format!("{g}.viewing"),
+                LookupKind::ViewingMode,
+                r.viewing.as_deref(),
+            );
         }
         if let Some(fl) = &e.flaw {
             if let Some(m) = &fl.depth {

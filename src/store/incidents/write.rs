@@ -16,7 +16,7 @@ use crate::store::model::*;
 use crate::store::sqlite;
 use crate::store::{IdGen, Store, StoreError};
 
-const COLS: [&str; 39] = [
+const COLS: [&str; 40] = [
     "id",
     "reference",
     "revision",
@@ -55,34 +55,56 @@ const COLS: [&str; 39] = [
     "applied_stress_pa",
     "origin_type",
     "temper",
+    "installed_on",
     "seq",
 ];
 
-fn insert_sql() -> &'static str {
-    static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
-    SQL.get_or_init(build_insert_sql)
+/// The columns written: all but `seq`, or, in a database held before schema 0008 (the
+/// upgrade tests), all but `seq` and the last one (`installed_on`, last for that reason).
+fn written(legacy: bool) -> usize {
+    if legacy {
+        COLS.len() - 2
+    } else {
+        COLS.len() - 1
+    }
 }
 
-fn update_sql() -> &'static str {
+fn insert_sql(legacy: bool) -> &'static str {
     static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
-    SQL.get_or_init(build_update_sql)
+    static LEGACY: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    if legacy {
+        LEGACY.get_or_init(|| build_insert_sql(written(true)))
+    } else {
+        SQL.get_or_init(|| build_insert_sql(written(false)))
+    }
 }
 
-fn build_insert_sql() -> String {
-    let cols = COLS[..38].join(", ");
-    let qs: Vec<String> = (1..=38).map(|i| format!("?{i}")).collect();
+fn update_sql(legacy: bool) -> &'static str {
+    static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    static LEGACY: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    if legacy {
+        LEGACY.get_or_init(|| build_update_sql(written(true)))
+    } else {
+        SQL.get_or_init(|| build_update_sql(written(false)))
+    }
+}
+
+fn build_insert_sql(n: usize) -> String {
+    let cols = COLS[..n].join(", ");
+    let qs: Vec<String> = (1..=n).map(|i| format!("?{i}")).collect();
     format!("INSERT INTO incidents ({cols}) VALUES ({})", qs.join(", "))
 }
 
-fn build_update_sql() -> String {
-    let sets: Vec<String> = COLS[..38]
+fn build_update_sql(n: usize) -> String {
+    let sets: Vec<String> = COLS[..n]
         .iter()
         .enumerate()
         .map(|(i, c)| format!("{c} = ?{}", i + 1))
         .collect();
     format!(
-        "UPDATE incidents SET {} WHERE id = ?1 AND revision = ?39",
-        sets.join(", ")
+        "UPDATE incidents SET {} WHERE id = ?1 AND revision = ?{}",
+        sets.join(", "),
+        n + 1
     )
 }
 
@@ -98,6 +120,7 @@ struct RowText {
     updated_at: String,
     found_on: String,
     broken_on: Option<String>,
+    installed_on: Option<String>,
     factors: Option<String>,
 }
 
@@ -107,6 +130,7 @@ fn row_text(inc: &Incident) -> Result<RowText, StoreError> {
         updated_at: fmt_time(inc.updated_at),
         found_on: fmt_date(inc.found_on),
         broken_on: inc.broken_on.map(fmt_date),
+        installed_on: inc.installed_on.map(fmt_date),
         factors: match &inc.cause {
             Some(c) => Some(serde_json::to_string(&c.factors)?),
             None => None,
@@ -176,6 +200,7 @@ fn row_values<'a>(
             ofr(d.applied_stress_pa),
             ot(d.origin_type.as_deref()),
             ot(d.temper.as_deref()),
+            ot(owned.installed_on.as_deref()),
         ],
     }
 }
@@ -226,13 +251,18 @@ fn insert_children(conn: &Connection, inc: &Incident) -> Result<(), StoreError> 
             flaw.map_or("", |f| f.shape.as_str()),
             e.notes
         ])?;
-        let mut rd = conn.prepare_cached(
+        let legacy = !crate::store::sqlite::columns_present(conn);
+        let mut rd = conn.prepare_cached(if legacy {
             "INSERT INTO mirror_readings (examination_id, reading_no, boundary, value_text, unit, value_m,
                  magnification, analyst, note)
-             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
-        )?;
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)"
+        } else {
+            "INSERT INTO mirror_readings (examination_id, reading_no, boundary, value_text, unit, value_m,
+                 magnification, analyst, note, viewing)
+             VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)"
+        })?;
         for (j, r) in e.readings.iter().enumerate() {
-            rd.execute(params![
+            let values = params![
                 e.id,
                 j as i64 + 1,
                 r.boundary,
@@ -241,8 +271,10 @@ fn insert_children(conn: &Connection, inc: &Incident) -> Result<(), StoreError> 
                 r.radius.si,
                 r.magnification,
                 r.analyst,
-                r.note
-            ])?;
+                r.note,
+                r.viewing
+            ];
+            rd.execute(&values[..if legacy { 9 } else { 10 }])?;
         }
         if let Some(res) = &e.result {
             conn.prepare_cached(
@@ -416,8 +448,9 @@ fn write_rows_with(
     owned: &RowText,
 ) -> Result<i64, StoreError> {
     let values = row_values(inc, refs, d, owned);
-    conn.prepare_cached(insert_sql())?
-        .execute(params_from_iter(values.values.iter()))
+    let legacy = !crate::store::sqlite::columns_present(conn);
+    conn.prepare_cached(insert_sql(legacy))?
+        .execute(params_from_iter(values.values.iter().take(written(legacy))))
         .map_err(|e| match e {
             rusqlite::Error::SqliteFailure(f, _)
                 if f.code == rusqlite::ErrorCode::ConstraintViolation =>
@@ -630,11 +663,13 @@ impl Store {
         let d = derive(&new);
         let owned = row_text(&new)?;
         let mut values = row_values(&new, &refs, &d, &owned);
+        let legacy = !crate::store::sqlite::columns_present(conn);
+        values.values.truncate(written(legacy));
         values
             .values
             .push(ToSqlOutput::Borrowed(ValueRef::Integer(current.revision)));
         let n = conn
-            .prepare_cached(update_sql())?
+            .prepare_cached(update_sql(legacy))?
             .execute(params_from_iter(values.values.iter()))?;
         if n != 1 {
             return Err(StoreError::StaleRevision {

@@ -14,8 +14,8 @@ pub use open::{
     open_in_memory, set_bulk_pragmas, set_file_pragmas,
 };
 pub use schema::{
-    migrate, schema_differences, user_version, APPLICATION_ID, FLEET_FACTS_MIGRATION,
-    SCHEMA_VERSION,
+    columns_present, migrate, schema_differences, user_version, APPLICATION_ID,
+    BENCH_PRACTICE_MIGRATION, FLEET_FACTS_MIGRATION, SCHEMA_VERSION,
 };
 #[cfg(test)]
 pub(crate) use search::fts_shadow_tables;

@@ -176,6 +176,7 @@ fn section_lines(app: &App, state: &IncidentState, th: &Theme) -> Vec<Line<'stat
                 p.fragment_count.map(|c| c.to_string()).unwrap_or_default(),
                 th,
             ));
+            fragmentation_lines(inc, l, th, &mut out);
         }
         Section::Examination => examination_lines(app, inc, th, &mut out),
         Section::Cause => {
@@ -332,6 +333,33 @@ fn glass_lines(inc: &Incident, l: &Lists, th: &Theme, out: &mut Vec<Line<'static
         },
         th,
     ));
+    out.push(kv(
+        "Installed on",
+        inc.installed_on.map(|d| d.to_string()).unwrap_or_default(),
+        th,
+    ));
+    let key = (g.supplier.clone(), g.product.clone(), g.lot.clone());
+    let soak = match key {
+        (Some(s), Some(p), Some(lot)) => l.lot_heat_soak.get(&(s, p, lot)),
+        _ => None,
+    };
+    out.push(kv(
+        "Lot heat-soak",
+        match soak {
+            Some(h) if h.soaked => format!(
+                "tested (EN 14179-1){}{}",
+                h.on.map(|d| format!(" {d}")).unwrap_or_default(),
+                if h.reference.is_empty() {
+                    String::new()
+                } else {
+                    format!(", cert. {}", clean(&h.reference))
+                }
+            ),
+            Some(_) => "not tested".to_string(),
+            None => String::new(),
+        },
+        th,
+    ));
     if g.plies.is_empty() {
         out.push(kv("Plies", "none recorded", th));
     }
@@ -392,7 +420,14 @@ fn examination_lines(app: &App, inc: &Incident, th: &Theme, out: &mut Vec<Line<'
                 .readings
                 .iter()
                 .filter(|r| r.boundary == code)
-                .map(|r| r.radius.display())
+                .map(|r| match &r.viewing {
+                    Some(v) => format!(
+                        "{} ({})",
+                        r.radius.display(),
+                        l.label(LookupKind::ViewingMode, v)
+                    ),
+                    None => r.radius.display(),
+                })
                 .collect();
             if !r.is_empty() {
                 out.push(kv(
@@ -448,6 +483,18 @@ fn examination_lines(app: &App, inc: &Incident, th: &Theme, out: &mut Vec<Line<'
         if !e.notes.is_empty() {
             out.push(kv("Notes", e.notes.clone(), th));
         }
+    }
+}
+
+/// The fragmentation check of a thermally toughened pane: verdict, count and the minimum
+/// used, then where the minimum comes from.
+fn fragmentation_lines(inc: &Incident, l: &Lists, th: &Theme, out: &mut Vec<Line<'static>>) {
+    let Some(c) = crate::store::practice::fragmentation_check(inc, &l.fragmentation) else {
+        return;
+    };
+    out.push(kv("Fragmentation", clean(&c.summary()), th));
+    if let Some(row) = c.row() {
+        out.push(kv("Minimum from", clean(&row.provenance), th));
     }
 }
 

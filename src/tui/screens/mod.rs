@@ -5,5 +5,7 @@ pub mod edit;
 pub mod hypothesis;
 pub mod incident;
 pub mod log;
+pub mod lookups;
 pub mod materials;
 pub mod review;
+pub mod review_soak;

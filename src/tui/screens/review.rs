@@ -48,6 +48,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         Panel::Stress => stress(d, f, note, content, th),
         Panel::Weibull => weibull(r, d, &labels, f, note, content, th),
         Panel::Groups => groups(r, d, &labels, f, note, content, th),
+        Panel::HeatSoak => super::review_soak::draw(d, f, note, content, th),
     }
 }
 

@@ -263,6 +263,7 @@ pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile:
                 magnification: Some(20.0),
                 analyst: "R. Quennell".into(),
                 note: String::new(),
+                viewing: None,
             },
             MirrorReading {
                 boundary: "mirror_mist".into(),
@@ -270,6 +271,7 @@ pub fn demo_db(dir: &std::path::Path, n_claimed: usize, n_other: usize, hostile:
                 magnification: Some(20.0),
                 analyst: "R. Quennell".into(),
                 note: String::new(),
+                viewing: None,
             },
         ];
         let mut exam = store::Examination {

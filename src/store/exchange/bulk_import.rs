@@ -1,0 +1,138 @@
+//! A large import (more than [`BULK_IMPORT_ABOVE`] incidents) takes the bulk path of the demo
+//! generator (store::bulk): the same checks before anything is written (they ran already,
+//! in import.rs, with the same one-pass report), the same records, audit rows, text index
+//! and fleet statistics, in one transaction (all or nothing), but with the incidents' audit
+//! digests and texts made on a second thread, the fleet statistics' triggers (and, when the
+//! import is at least as large as the database, the indexes) dropped for the load and put
+//! back after it.
+
+use std::collections::HashSet;
+
+use super::super::bulk::{AuditRows, NewIncident};
+use super::super::model::*;
+use super::super::{Store, StoreError};
+use super::import::{ImportResult, Numbering, Place, WriteError, Writer};
+use super::{ExportDoc, ImportOptions, ImportRejected, ImportSummary, Problem};
+
+/// Imports of more incidents than this take the bulk path.
+pub const BULK_IMPORT_ABOVE: usize = 10_000;
+
+impl Store {
+    /// Imports of more than `n` incidents take the bulk path (tests and benchmarks set a small
+    /// `n` to exercise it; the default is [`BULK_IMPORT_ABOVE`]).
+    pub fn set_bulk_import_above(&mut self, n: usize) {
+        self.bulk_import_above = n;
+    }
+
+    /// The writing of a checked import by the bulk path; the same outcome as
+    /// `write_import` (import.rs), problems and summary included.
+    pub(super) fn write_import_bulk(
+        &mut self,
+        doc: &ExportDoc,
+        incidents: Vec<(Place, Incident)>,
+        seen_refs: &HashSet<String>,
+        options: ImportOptions,
+        stamp: &Stamp,
+    ) -> ImportResult {
+        let existing = self.incident_count()?;
+        let drop_indexes = existing <= incidents.len() as u64;
+        let mut summary = ImportSummary {
+            dry_run: options.dry_run,
+            ..ImportSummary::default()
+        };
+        // keys made by this import ascend (they all carry the import's millisecond)
+        self.ids.set_monotonic(true);
+        let files = self.files_dir().map(|p| p.to_path_buf());
+        let outcome = write_bulk(
+            self,
+            files,
+            drop_indexes,
+            doc,
+            incidents,
+            seen_refs,
+            &options,
+            stamp,
+            &mut summary,
+        );
+        self.ids.set_monotonic(false);
+        match outcome {
+            // the machine, not a line of the file, refused: say so as such
+            Err((_, e @ StoreError::Storage(_))) => Err(e),
+            Err((place, e)) => Ok(Err(ImportRejected {
+                problems: vec![Problem::new(place, e.to_string())],
+            })),
+            Ok(()) => {
+                if !options.dry_run {
+                    self.load_lookups()?;
+                }
+                Ok(Ok(summary))
+            }
+        }
+    }
+}
+
+/// The bulk load itself: reference data and each incident made ready (keys, reference, the
+/// records it names) here, in the file's order, as the ordinary path does; then the
+/// incidents written by the bulk path.
+#[allow(clippy::too_many_arguments)]
+fn write_bulk(
+    store: &mut Store,
+    files: Option<std::path::PathBuf>,
+    drop_indexes: bool,
+    doc: &ExportDoc,
+    incidents: Vec<(Place, Incident)>,
+    seen_refs: &HashSet<String>,
+    options: &ImportOptions,
+    stamp: &Stamp,
+    summary: &mut ImportSummary,
+) -> Result<(), WriteError> {
+    let whole = |e: StoreError| ("import".to_string(), e);
+    let progress = &store.progress;
+    let mut load = super::super::bulk::begin_bulk(
+        &mut store.conn,
+        &mut store.ids,
+        files.as_deref(),
+        drop_indexes,
+    )
+    .map_err(whole)?;
+    let total = Some(incidents.len() as u64);
+    let (ready, seed) = {
+        let (tx, chain, ids) = load.writing();
+        let mut writer = Writer {
+            tx,
+            ids,
+            stamp,
+            summary: &mut *summary,
+            progress,
+        };
+        writer.write_lookups(chain, doc)?;
+        writer.write_reference_data(chain, doc)?;
+        // the batch audit rows' keys, drawn where the ordinary path draws them
+        let seed = writer.ids.next_u64();
+        let mut numbering = Numbering::default();
+        let mut ready = Vec::with_capacity(incidents.len());
+        for (i, (place, inc)) in incidents.into_iter().enumerate() {
+            progress.tell("importing", i as u64, total);
+            let (incident, refs) =
+                writer.ready(chain, &mut numbering, place, inc, seen_refs, options.strict)?;
+            ready.push(NewIncident {
+                incident,
+                refs,
+                stamp: stamp.clone(),
+            });
+        }
+        // the lots the rows named exist now (made ready above): their heat-soak records
+        writer.write_lot_heat_soak(chain, doc)?;
+        (ready, seed)
+    };
+    if options.dry_run {
+        load.roll_back_at_end();
+    }
+    progress.tell("writing", 0, total);
+    let mut next = ready.into_iter();
+    let written = load
+        .write_incidents(AuditRows::Batched { seed }, move |_| next.next().map(Ok))
+        .map_err(whole)?;
+    summary.incidents += written as usize;
+    Ok(())
+}
