@@ -15,7 +15,7 @@ use std::fmt;
 
 mod property;
 mod range;
-pub use property::{parse_density, parse_expansion, parse_poisson};
+pub use property::{parse_density, parse_expansion, parse_modulus, parse_poisson, MAX_MODULUS};
 pub use range::{physical_range, PhysicalRange};
 
 /// What a quantity measures. Stress and pressure share one dimension (Pa).

@@ -132,7 +132,7 @@ pub fn save(
                     materials::keys().join(", ")
                 ))
             })?;
-            m.name = format!("{}, calibrated by {lab}", m.name);
+            m.name = format!("{}, calibrated by {lab} ({code})", m.name);
             apply(&mut m);
             store
                 .add_own_material(code, Some(&m.key.clone()), &m, &stamp)

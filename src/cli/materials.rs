@@ -261,7 +261,7 @@ fn add(a: AddArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         },
     };
     if a.from.is_some() && a.values.name.is_none() {
-        m.name = format!("{} (own copy)", m.name);
+        m.name = format!("{} ({}, own copy)", m.name, a.code);
     }
     if a.from.is_none() && a.values.name.is_none() {
         return Err(CliError::usage(

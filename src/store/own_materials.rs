@@ -23,7 +23,7 @@ use super::model::*;
 use super::refdata::{self, LOOKUP};
 use super::{Store, StoreError};
 use shardlog_core::fracture::materials::{self, Constant, Material};
-use shardlog_core::units::{physical_range, Dimension};
+use shardlog_core::units::{self, physical_range, Dimension};
 
 /// The audit entity of an own material.
 pub(crate) const MATERIAL: &str = "material";
@@ -169,7 +169,6 @@ pub fn check_material(m: &Material) -> Result<(), StoreError> {
         ));
     }
     let toughness = physical_range(Dimension::Toughness);
-    let stress = physical_range(Dimension::Stress);
     let in_toughness = |v: f64| v > 0.0 && toughness.contains(v);
     let tough_text = format!("more than 0, {}", toughness.text());
     for (field, c) in [("A_i", &m.a_i), ("A_o", &m.a_o), ("A_b", &m.a_b)] {
@@ -179,8 +178,8 @@ pub fn check_material(m: &Material) -> Result<(), StoreError> {
     check_constant(
         "E",
         &m.youngs_modulus,
-        |v| v > 0.0 && stress.contains(v),
-        &format!("more than 0, {}", stress.text()),
+        |v| v > 0.0 && v <= units::MAX_MODULUS,
+        "more than 0, up to 2000 GPa",
     )?;
     check_constant("ν", &m.poisson, |v| (-1.0..=0.5).contains(&v), "-1 to 0.5")?;
     check_constant("α", &m.expansion, |v| v.abs() <= 1e-3, "up to 0.001 /K")?;
@@ -310,9 +309,21 @@ fn write_lookup(
     name: &str,
     stamp: &Stamp,
 ) -> Result<(), StoreError> {
-    let existing = refdata::load_lookups(conn, Some(LookupKind::Material))?
-        .into_iter()
-        .find(|e| e.code == code);
+    let entries = refdata::load_lookups(conn, Some(LookupKind::Material))?;
+    // imports and filters read a material by code or by name: each must name one material
+    let wanted = name.to_lowercase();
+    if let Some(other) = entries.iter().find(|e| {
+        e.code != code && (e.label.to_lowercase() == wanted || e.code.to_lowercase() == wanted)
+    }) {
+        return Err(StoreError::invalid(
+            "material name",
+            format!(
+                "\"{name}\" already names {}; choose another name",
+                other.code
+            ),
+        ));
+    }
+    let existing = entries.into_iter().find(|e| e.code == code);
     match existing {
         None => {
             let last: Option<i64> = conn

@@ -200,6 +200,10 @@ fn a_library_material_can_only_be_copied_and_refusals_write_nothing() {
             "--name: a new material needs a name",
         ),
         (
+            vec!["materials", "add", "tile_y", "--from", "alumina", "--name", "Soda-lime silicate glass"],
+            "material name: \"Soda-lime silicate glass\" already names soda_lime",
+        ),
+        (
             vec!["materials", "edit", "no_such", "--a-i", "2 MPa√m"],
             "no own material \"no_such\"; the own materials are lab_float",
         ),
@@ -209,6 +213,18 @@ fn a_library_material_can_only_be_copied_and_refusals_write_nothing() {
         assert!(text(&o).contains(expected), "{args:?}: {}", text(&o));
     }
     assert_eq!(audit_count(&db), before, "a refusal wrote to the audit log");
+    // every library material can be copied as it is (dense alumina's E, 380 GPa, lies above
+    // the range of a stress: a modulus has its own)
+    for (i, key) in materials::keys().iter().enumerate() {
+        let code = format!("copy_{i}");
+        let o = run(&db, &["materials", "add", &code, "--from", key]);
+        assert!(o.status.success(), "{key}: {}", text(&o));
+    }
+    let o = run(
+        &db,
+        &["materials", "edit", "copy_0", "--youngs-modulus", "380 GPa"],
+    );
+    assert!(o.status.success(), "{}", text(&o));
 }
 
 #[test]

@@ -442,7 +442,7 @@ impl Quantity {
     pub fn parse(self, text: &str) -> Result<f64, UnitError> {
         match self {
             Quantity::Toughness => units::parse_positive(text, Dimension::Toughness),
-            Quantity::Modulus => units::parse_positive(text, Dimension::Stress),
+            Quantity::Modulus => units::parse_modulus(text),
             Quantity::Ratio => units::parse_poisson(text),
             Quantity::Expansion => units::parse_expansion(text),
             Quantity::Density => units::parse_density(text),
@@ -453,7 +453,10 @@ impl Quantity {
     pub fn parse_spread(self, text: &str) -> Result<f64, UnitError> {
         let v = match self {
             Quantity::Toughness => units::parse_non_negative(text, Dimension::Toughness),
-            Quantity::Modulus => units::parse_non_negative(text, Dimension::Stress),
+            Quantity::Modulus => match units::parse_modulus(text) {
+                Err(UnitError::NotPositive { .. }) => Ok(0.0),
+                other => other,
+            },
             Quantity::Density => units::parse_density(text),
             other => other.parse(text),
         }?;

@@ -9,8 +9,9 @@
 //! | expansion coefficient | 1e-3 /K | ten times the most expansive polymers; glasses and ceramics sit near 1e-6 to 1e-5 /K |
 //! | density | 30 000 kg/m³ | above the densest element (about 22 600 kg/m³) |
 //! | Poisson's ratio | −1 to 0.5 | the bounds of an isotropic elastic solid (common practice) |
+//! | Young's modulus | 2000 GPa | about twice diamond's (about 1050 GPa, from memory); dense alumina is 380 GPa, above the 100 GPa range of a stress |
 
-use super::{split_number, UnitError};
+use super::{split_number, Dimension, Unit, UnitError};
 
 /// A property typed with a unit: its name, an example, its units (spelling → factor to SI)
 /// and the largest magnitude.
@@ -152,6 +153,44 @@ pub fn parse_density(input: &str) -> Result<f64, UnitError> {
     Ok(si)
 }
 
+/// The largest Young's modulus accepted, Pa.
+pub const MAX_MODULUS: f64 = 2e12;
+
+/// Young's modulus, Pa, typed in a unit of stress (`70 GPa`, `10.2e6 psi`), greater than zero
+/// and up to 2000 GPa (a modulus is larger than any stress a part bears, so the stress range
+/// does not apply).
+pub fn parse_modulus(input: &str) -> Result<f64, UnitError> {
+    // within the stress range the ordinary reading applies, with all its messages
+    match super::parse_positive(input, Dimension::Stress) {
+        Err(UnitError::OutOfRange { .. }) => {}
+        other => return other,
+    }
+    let text = input.trim();
+    let (number, unit) = split_number(text);
+    let value: f64 = number.parse().map_err(|_| UnitError::NotANumber {
+        input: text.to_string(),
+        dim: "Young's modulus",
+        example: "70GPa",
+    })?;
+    let si = Unit::lookup(unit)
+        .filter(|u| u.dimension() == Dimension::Stress)
+        .map(|u| u.to_si(value))
+        .ok_or_else(|| UnitError::WrongUnit {
+            input: text.to_string(),
+            unit: unit.to_string(),
+            dim: "Young's modulus",
+            units: "GPa, MPa, psi, ksi".to_string(),
+        })?;
+    if !(si > 0.0 && si <= MAX_MODULUS) {
+        return Err(UnitError::OutOfRange {
+            input: text.to_string(),
+            dim: "Young's modulus",
+            range: "more than 0, up to 2000 GPa".to_string(),
+        });
+    }
+    Ok(si)
+}
+
 /// Poisson's ratio: a plain number from −1 to 0.5.
 pub fn parse_poisson(input: &str) -> Result<f64, UnitError> {
     let text = input.trim();
@@ -238,6 +277,17 @@ mod tests {
         assert!(matches!(
             parse_density("2,5 g/cm3"),
             Err(UnitError::DecimalComma { .. })
+        ));
+        // dense alumina, 380 GPa (the library's value), is above the stress range
+        assert_eq!(parse_modulus("380 GPa"), Ok(380e9));
+        assert_eq!(parse_modulus("70GPa"), Ok(70e9));
+        assert!(matches!(
+            parse_modulus("3000 GPa"),
+            Err(UnitError::OutOfRange { .. })
+        ));
+        assert!(matches!(
+            parse_modulus("70"),
+            Err(UnitError::MissingUnit { .. })
         ));
         assert_eq!(parse_poisson("0.22"), Ok(0.22));
         assert!(matches!(
