@@ -234,9 +234,23 @@ pub(crate) fn attachment_hashes(
     conn: &Connection,
     ids: Option<&HashSet<String>>,
 ) -> Result<Vec<String>, StoreError> {
+    let mut out = HashSet::new();
+    // a few incidents (an incremental push): through the index, not a pass over every file
+    if let Some(set) = ids.filter(|set| set.len() < 5000) {
+        let mut stmt =
+            conn.prepare_cached("SELECT DISTINCT sha256 FROM attachments WHERE incident_id = ?1")?;
+        for id in set {
+            let rows = stmt.query_map([id], |r| r.get::<_, String>(0))?;
+            for sha in rows {
+                out.insert(sha?);
+            }
+        }
+        let mut out: Vec<String> = out.into_iter().collect();
+        out.sort();
+        return Ok(out);
+    }
     let mut stmt = conn.prepare("SELECT DISTINCT incident_id, sha256 FROM attachments")?;
     let rows = stmt.query_map([], |r| Ok((r.get::<_, String>(0)?, r.get::<_, String>(1)?)))?;
-    let mut out = HashSet::new();
     for row in rows {
         let (incident, sha) = row?;
         if ids.is_none_or(|set| set.contains(&incident)) {

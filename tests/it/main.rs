@@ -13,6 +13,7 @@ mod fleet;
 mod fleet_crash;
 mod fleet_facts;
 mod fleet_moves;
+mod fleet_pull_mark;
 mod fleet_sync;
 mod found_bugs;
 mod fuzz_regressions;

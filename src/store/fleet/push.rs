@@ -97,13 +97,16 @@ fn push_once(
     let (local_seq, _) = store.audit_head_entry()?;
     let from_seq = head_seq.min(local_seq).max(1);
     let to_seq = cut.unwrap_or(i64::MAX);
+    // the fleet applies only the rows after its head: the records and files of the head row
+    // (a bulk load lists a thousand) went with the push that brought it
+    let new_from = head_seq.max(0) + 1;
     let files_dir = store.files_dir().map(Path::to_path_buf);
     store.in_snapshot(|conn| {
         let mut tx = fleet.client.transaction()?;
         let rows_sent = stage_rows(&mut tx, conn, from_seq, to_seq)?;
-        let listed = outbox::batch_listed(conn, from_seq)?;
+        let listed = outbox::batch_listed(conn, new_from)?;
         stage_images(&mut tx, conn, &listed)?;
-        let files = stage_files(&mut tx, conn, from_seq, &listed, files_dir.as_deref())?
+        let files = stage_files(&mut tx, conn, new_from, &listed, files_dir.as_deref())?
             + stage_analyses(&mut tx, conn, from_seq, to_seq)?;
         let row = tx.query_one(
             "SELECT status, detail, receipt_seq, receipt_hash, head_seq, head_hash, records,

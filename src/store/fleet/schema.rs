@@ -15,6 +15,10 @@ const MIGRATIONS: &[(&str, &str)] = &[
         include_str!("../../../schema/fleet/0002_push.sql"),
     ),
     (
+        "0003_push_speed.sql",
+        include_str!("../../../schema/fleet/0003_push_speed.sql"),
+    ),
+    (
         "0004_moves.sql",
         include_str!("../../../schema/fleet/0004_moves.sql"),
     ),
