@@ -150,12 +150,17 @@ BEGIN
     RETURN v_n;
 END $$;
 
--- fleet_push() as schema 2 made it, with the three calls above (login, transfer check,
+-- fleet_push() as schema 3 made it, with the three calls above (login, transfer check,
 -- moves) and without closing conflicts on any edit of the owner.
 CREATE OR REPLACE FUNCTION fleet_push(p_bench text)
 RETURNS TABLE (status text, detail text, receipt_seq bigint, receipt_hash text,
                head_seq bigint, head_hash text, records bigint, conflicts bigint)
-LANGUAGE plpgsql SECURITY DEFINER SET search_path = public, pg_temp AS $$
+LANGUAGE plpgsql SECURITY DEFINER
+SET search_path = public, pg_temp
+SET work_mem = '256MB'
+SET enable_nestloop = on
+SET default_toast_compression = 'lz4'
+AS $$
 DECLARE
     v_push      bigint := txid_current();
     v_head_seq  bigint;
@@ -294,23 +299,34 @@ BEGIN
         CROSS JOIN LATERAL jsonb_array_elements(m.list) AS r(item)
         WHERE e.push = v_push AND e.seq > v_head_seq AND e.entity = 'batch'
           AND e.actor <> 'fleet:pull';
+    -- each record's last touch, with the image it left (a row's `after`, or the staged
+    -- image whose SHA-256 the manifest lists: each staged image read and hashed once), and its
+    -- first touch (the operation and the image it started from); the joins hash whatever
+    -- the planner guesses of the staging tables (they hold no statistics of this push)
+    PERFORM set_config('enable_nestloop', 'off', true);
     CREATE TEMP TABLE fleet_apply ON COMMIT DROP AS
         SELECT l.entity, l.id, l.seq AS last_seq, l.batched, l.digest,
-               CASE WHEN l.batched THEN NULL ELSE l.after END AS image,
+               CASE WHEN l.batched THEN p.image ELSE l.after END AS image,
                f.op AS first_op,
                CASE WHEN f.before IS NULL THEN NULL
                     ELSE encode(sha256(convert_to(f.before, 'UTF8')), 'hex') END AS base
         FROM (SELECT DISTINCT ON (t.entity, t.id) t.* FROM fleet_touch t
               ORDER BY t.entity, t.id, t.seq DESC) l
         JOIN (SELECT DISTINCT ON (t.entity, t.id) t.* FROM fleet_touch t
-              ORDER BY t.entity, t.id, t.seq) f ON f.entity = l.entity AND f.id = l.id;
-    CREATE UNIQUE INDEX ON fleet_apply (entity, id);
-    ANALYZE fleet_apply;
-    -- a bulk-loaded record's image is the staged one with the digest its row lists
-    UPDATE fleet_apply a SET image = p.image
-        FROM push_records p
-        WHERE a.batched AND p.push = v_push AND p.entity = a.entity AND p.id = a.id
-          AND encode(sha256(convert_to(p.image, 'UTF8')), 'hex') = a.digest;
+              ORDER BY t.entity, t.id, t.seq) f ON f.entity = l.entity AND f.id = l.id
+        LEFT JOIN push_records p ON l.batched AND p.push = v_push AND p.entity = l.entity
+             AND p.id = l.id AND encode(sha256(convert_to(p.image, 'UTF8')), 'hex') = l.digest;
+    PERFORM set_config('enable_nestloop', 'on', true);
+    BEGIN
+        CREATE UNIQUE INDEX fleet_apply_key ON fleet_apply (entity, id);
+    EXCEPTION WHEN unique_violation THEN
+        -- a record staged twice with the content its row lists is one record: keep one
+        DELETE FROM fleet_apply a USING (
+            SELECT ctid, row_number() OVER (PARTITION BY entity, id) AS n FROM fleet_apply
+        ) d WHERE a.ctid = d.ctid AND d.n > 1;
+        CREATE UNIQUE INDEX fleet_apply_key ON fleet_apply (entity, id);
+    END;
+    ANALYZE fleet_apply (entity, id, batched, first_op);
     SELECT a.entity, a.id, a.last_seq INTO v_bad FROM fleet_apply a
         WHERE a.batched AND a.image IS NULL LIMIT 1;
     IF FOUND THEN
@@ -380,9 +396,11 @@ BEGIN
                                fleet_seq)
         SELECT a.entity, a.id, p_bench, p_bench, a.image, a.digest,
                CASE WHEN a.entity = 'incident' AND a.image IS NOT NULL
-                    THEN fleet_reference(p_bench, a.image) END,
+                    THEN CASE WHEN x.r ~ '^BR-[0-9]{6}-[0-9]+$' THEN p_bench || '/' || x.r ELSE x.r END END,
                a.last_seq, v_fleet_seq
         FROM fleet_apply a
+        -- the reference as fleet_reference() reads it, without a call per record
+        CROSS JOIN LATERAL (SELECT split_part(split_part(a.image, '"reference":"', 2), '"', 1) AS r) x
         WHERE a.entity <> 'lookup'
           AND NOT EXISTS (SELECT 1 FROM fleet_records r WHERE r.entity = a.entity AND r.id = a.id);
     GET DIAGNOSTICS v_n = ROW_COUNT;
