@@ -22,7 +22,9 @@ pub fn row(i: usize) -> Row {
     Row {
         found_on: d.to_string(),
         asset: format!("car {}", 100 + i % 300),
-        position: format!("left side bay {}", i % 8),
+        // unique per row: the import refuses a second incident on the same asset, position
+        // and date as a possible duplicate
+        position: format!("left side bay {} pane {i}", i % 8),
         lot: format!("OS-22{:02}", i % 12),
         readings: [
             ("mirror_mist", format!("0.{:02} mm", 40 + i % 50)),

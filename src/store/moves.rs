@@ -142,7 +142,7 @@ impl Store {
                      SELECT 1 FROM audit p WHERE p.entity = 'incident' AND p.entity_id = ?1
                         AND p.actor = ?2 AND p.seq > a.seq)
                  ORDER BY a.seq DESC LIMIT 1",
-                params![id, super::outbox::PULL_ACTOR],
+                params![id, crate::store::PULL_ACTOR],
                 |r| r.get(0),
             )
             .optional()?;
