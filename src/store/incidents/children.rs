@@ -92,32 +92,28 @@ pub(crate) fn for_each_incident(
     })
 }
 
-/// [`for_each_incident`], handing an incident whose row or one of whose child rows cannot be
-/// read (a date or time that is not one) to `damaged` with its id, reference and why, and
-/// going on with the others. Only the incidents whose seq is in `range` (both ends in).
-pub(crate) fn for_each_readable_incident(
-    conn: &Connection,
-    range: (i64, i64),
-    mut f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
-    mut damaged: impl FnMut(String, String, String) -> Result<(), StoreError>,
-) -> Result<(), StoreError> {
-    // the codes of sites, assets, suppliers, products and lots by key, looked up here
-    // rather than joined per incident in SQL (five index searches each: an eighth of the time)
+/// The codes of sites, assets, suppliers, products and lots by key (with the column of the
+/// scan that holds each key), looked up here rather than joined per incident in SQL (five
+/// index searches each: an eighth of the time).
+fn code_maps(conn: &Connection) -> Result<[(usize, HashMap<String, String>); 5], StoreError> {
     let code_map = |sql: &str| -> Result<HashMap<String, String>, StoreError> {
         let mut stmt = conn.prepare(sql)?;
         let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
         Ok(rows.collect::<Result<_, _>>()?)
     };
-    let maps = [
+    Ok([
         (6, code_map("SELECT id, code FROM assets")?),
         (8, code_map("SELECT id, code FROM sites")?),
         (16, code_map("SELECT id, code FROM suppliers")?),
         (17, code_map("SELECT id, code FROM products")?),
         (18, code_map("SELECT id, code FROM lots")?),
-    ];
-    // the columns of `incident_select`, with the keys in place of the codes
-    let legacy = !crate::store::sqlite::columns_present(conn);
-    let mut incidents = conn.prepare(&[
+    ])
+}
+
+/// The incidents of a seq range: the columns of `incident_select`, with the keys in place of
+/// the codes (`legacy`: a database from before the install date).
+fn scan_incidents_sql(legacy: bool) -> String {
+    [
         "SELECT i.seq, i.id, i.reference, i.revision, i.created_at, i.updated_at, i.asset_id, i.position, i.site_id,
                 i.found_on, i.broken_on, i.temperature_c, i.sun, i.weather, i.reporter, i.how_found,
                 i.supplier_id, i.product_id, i.lot_id, i.makeup, i.width_m, i.height_m, i.crack_count, i.branching,
@@ -127,7 +123,38 @@ pub(crate) fn for_each_readable_incident(
         if legacy { "NULL" } else { "i.installed_on" },
         " FROM incidents i WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq",
     ]
-    .concat())?;
+    .concat()
+}
+
+/// The mirror readings of a seq range's incidents (`legacy`: from before the viewing mode).
+fn scan_readings_sql(legacy: bool) -> String {
+    [
+        "SELECT ",
+        if legacy {
+            reading_cols!(legacy)
+        } else {
+            reading_cols!()
+        },
+        ", i.seq, e.id, m.reading_no FROM incidents i JOIN examinations e ON e.incident_id = i.id
+         JOIN mirror_readings m ON m.examination_id = e.id
+         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no, m.reading_no",
+    ]
+    .concat()
+}
+
+/// [`for_each_incident`], handing an incident whose row or one of whose child rows cannot be
+/// read (a date or time that is not one) to `damaged` with its id, reference and why, and
+/// going on with the others. Only the incidents whose seq is in `range` (both ends in).
+pub(crate) fn for_each_readable_incident(
+    conn: &Connection,
+    range: (i64, i64),
+    mut f: impl FnMut(Incident, bool) -> Result<(), StoreError>,
+    mut damaged: impl FnMut(String, String, String) -> Result<(), StoreError>,
+) -> Result<(), StoreError> {
+    let maps = code_maps(conn)?;
+    // the columns of `incident_select`, with the keys in place of the codes
+    let legacy = !crate::store::sqlite::columns_present(conn);
+    let mut incidents = conn.prepare(&scan_incidents_sql(legacy))?;
     let mut plies = conn.prepare(concat!(
         "SELECT ",
         ply_cols!(),
@@ -140,20 +167,7 @@ pub(crate) fn for_each_readable_incident(
         ", i.seq FROM incidents i JOIN examinations e ON e.incident_id = i.id
          WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no"
     ))?;
-    let mut readings = conn.prepare(
-        &[
-            "SELECT ",
-            if legacy {
-                reading_cols!(legacy)
-            } else {
-                reading_cols!()
-            },
-            ", i.seq, e.id, m.reading_no FROM incidents i JOIN examinations e ON e.incident_id = i.id
-         JOIN mirror_readings m ON m.examination_id = e.id
-         WHERE i.seq BETWEEN ?1 AND ?2 ORDER BY i.seq, e.exam_no, m.reading_no",
-        ]
-        .concat(),
-    )?;
+    let mut readings = conn.prepare(&scan_readings_sql(legacy))?;
     let mut results = conn.prepare(concat!(
         "SELECT ",
         result_cols!(),
