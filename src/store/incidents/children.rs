@@ -92,10 +92,13 @@ pub(crate) fn for_each_incident(
     })
 }
 
+/// A scan column holding keys, and the code of each key.
+type CodeMap = (usize, HashMap<String, String>);
+
 /// The codes of sites, assets, suppliers, products and lots by key (with the column of the
 /// scan that holds each key), looked up here rather than joined per incident in SQL (five
 /// index searches each: an eighth of the time).
-fn code_maps(conn: &Connection) -> Result<[(usize, HashMap<String, String>); 5], StoreError> {
+fn code_maps(conn: &Connection) -> Result<[CodeMap; 5], StoreError> {
     let code_map = |sql: &str| -> Result<HashMap<String, String>, StoreError> {
         let mut stmt = conn.prepare(sql)?;
         let rows = stmt.query_map([], |r| Ok((r.get(0)?, r.get(1)?)))?;
