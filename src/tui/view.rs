@@ -75,7 +75,7 @@ pub fn draw(app: &App, f: &mut Frame) {
 
 /// The first-use question: the analyst's name, in a box over the screen.
 fn draw_name_entry(entry: &crate::app::field::Field, f: &mut Frame, body: Rect, th: &Theme) {
-    let area = widgets::centered(body, 60, 7);
+    let area = widgets::centered(body, 60, 8);
     if area.width < 10 || area.height < 5 {
         return;
     }
@@ -86,8 +86,10 @@ fn draw_name_entry(entry: &crate::app::field::Field, f: &mut Frame, body: Rect, 
     let before: String = text.chars().take(col).collect();
     let after: String = text.chars().skip(col).collect();
     let lines = vec![
-        Line::from("Who is at the bench? Your name goes into the history of every"),
-        Line::from("change and beside every reading (SHARDLOG_USER sets it too)."),
+        // each line fits the box's 58 columns: a wrapped line would push the name out of it
+        Line::from("Who is at the bench? Your name goes into the history"),
+        Line::from("of every change and beside every reading"),
+        Line::from("(SHARDLOG_USER sets it too)."),
         Line::from(""),
         Line::from(vec![
             Span::styled("Your name: ", th.label),

@@ -623,3 +623,14 @@ fn escape_sequences_in_stored_text_show_as_symbols_not_dropped() {
         assert!(t.contains("then a bell␇"), "{w}×{h}: {t}");
     }
 }
+
+/// The first-use question fits 80×24 whole: its text does not wrap the name line out of
+/// the box, and what is typed shows.
+#[test]
+fn the_first_use_name_box_shows_its_name_line_at_80x24() {
+    let (_f, mut app) = fixture(30);
+    app.ask_name(Some("ivh"));
+    let screen = text(&render(&mut app, 80, 24));
+    assert!(screen.contains("Your name: ivh"), "{screen}");
+    assert!(screen.contains("(SHARDLOG_USER sets it too)."), "{screen}");
+}
