@@ -137,11 +137,7 @@ fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result
             "--anchor checks the database's chain; with --bundle the bundle's own head is the anchor",
         ));
     }
-    let store = if ctx.db.exists() {
-        Some(open_to_read(&ctx.db)?)
-    } else {
-        None
-    };
+    let store = open_if_there(ctx)?;
     let check = crate::report::bundle::verify_bundle_with(dir, store.as_ref(), key.as_ref())?;
     let shown = clean(&dir.display().to_string());
     writeln!(
@@ -155,9 +151,7 @@ fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result
             " (no database: the records were not compared)".to_string()
         }
     )?;
-    for n in &check.notes {
-        writeln!(ctx.out, "note: {}", clean(n))?;
-    }
+    write_notes(ctx, &check.notes)?;
     if check.ok() {
         writeln!(
             ctx.out,
@@ -175,14 +169,7 @@ fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result
         )?;
         return Ok(());
     }
-    for p in &check.problems {
-        writeln!(ctx.out, "DIFFERS: {}", clean(p))?;
-    }
-    Err(CliError::work(format!(
-        "the bundle does not verify: {} difference{} (listed above)",
-        check.problems.len(),
-        if check.problems.len() == 1 { "" } else { "s" }
-    )))
+    differences(ctx, "bundle", &check.problems)
 }
 
 /// `verify --export FILE`: a signed JSON or CSV export, alone and against the database when
@@ -197,11 +184,7 @@ fn verify_export(file: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Resul
     let shown = clean(&file.display().to_string());
     let bytes = crate::store::safe_file::read_regular(file, MAX_IMPORT_BYTES as u64)
         .map_err(|e| CliError::work(format!("--export: {}", clean(&e.to_string()))))?;
-    let store = if ctx.db.exists() {
-        Some(open_to_read(&ctx.db)?)
-    } else {
-        None
-    };
+    let store = open_if_there(ctx)?;
     let fingerprint = key.as_ref().map(|k| k.fingerprint());
     let check = crate::store::exchange::check_export(
         &file.display().to_string(),
@@ -220,9 +203,7 @@ fn verify_export(file: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Resul
             " (no database: the records were not compared)".to_string()
         }
     )?;
-    for n in &check.notes {
-        writeln!(ctx.out, "note: {}", clean(n))?;
-    }
+    write_notes(ctx, &check.notes)?;
     if check.ok() {
         writeln!(
             ctx.out,
@@ -240,13 +221,35 @@ fn verify_export(file: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Resul
         )?;
         return Ok(());
     }
-    for p in &check.problems {
+    differences(ctx, "export", &check.problems)
+}
+
+/// The database `--db` names, opened to read, when it exists (a bundle or an export is also
+/// checked alone).
+fn open_if_there(ctx: &Context<'_>) -> Result<Option<crate::store::Store>, CliError> {
+    if ctx.db.exists() {
+        Ok(Some(open_to_read(&ctx.db)?))
+    } else {
+        Ok(None)
+    }
+}
+
+fn write_notes(ctx: &mut Context<'_>, notes: &[String]) -> Result<(), CliError> {
+    for n in notes {
+        writeln!(ctx.out, "note: {}", clean(n))?;
+    }
+    Ok(())
+}
+
+/// Each difference a checked copy (bundle or export) shows, then the failure that counts them.
+fn differences(ctx: &mut Context<'_>, what: &str, problems: &[String]) -> Result<(), CliError> {
+    for p in problems {
         writeln!(ctx.out, "DIFFERS: {}", clean(p))?;
     }
     Err(CliError::work(format!(
-        "the export does not verify: {} difference{} (listed above)",
-        check.problems.len(),
-        if check.problems.len() == 1 { "" } else { "s" }
+        "the {what} does not verify: {} difference{} (listed above)",
+        problems.len(),
+        if problems.len() == 1 { "" } else { "s" }
     )))
 }
 
