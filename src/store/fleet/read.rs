@@ -145,6 +145,33 @@ impl FleetReader {
         self.client.borrow_mut().query(sql, &[]).map_err(pg)
     }
 
+    /// The rows of a statement with its parameters.
+    pub(super) fn query_with(
+        &self,
+        sql: &str,
+        params: &[&(dyn ToSql + Sync)],
+    ) -> Result<Vec<postgres::Row>, StoreError> {
+        self.client.borrow_mut().query(sql, params).map_err(pg)
+    }
+
+    /// The one bench this reader is narrowed to.
+    pub(super) fn scope(&self) -> Option<&str> {
+        self.scope.as_deref()
+    }
+
+    /// The exposure rows (panes in service) of the reader's benches, as the statistics
+    /// take them.
+    pub(super) fn fleet_exposures(
+        &self,
+    ) -> Result<Vec<shardlog_core::fleet::Exposure>, StoreError> {
+        Ok(self
+            .refdata()?
+            .exposure
+            .iter()
+            .map(Exposure::to_fleet)
+            .collect())
+    }
+
     fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
         if let Some(r) = self.refdata.borrow().as_ref() {
             return Ok(r.clone());
@@ -752,6 +779,13 @@ impl RecordSource for FleetReader {
         extra: &[shardlog_core::fleet::Key],
     ) -> Result<StatsInput, StoreError> {
         self.facts(q, extra)
+    }
+    fn stats_counted(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        today: chrono::NaiveDate,
+    ) -> Result<Option<crate::store::read::CountedInput>, StoreError> {
+        self.counted(q, today)
     }
 }
 
