@@ -31,7 +31,11 @@ fn incidents() -> Vec<IncidentFacts> {
         let cause = (r / 7 % 5 < 4).then(|| Rc::from(causes[r / 7 % 5 % 4]));
         out.push(IncidentFacts {
             cause,
-            origin_type: Some(Rc::from(if r.is_multiple_of(3) { "edge" } else { "surface" })),
+            origin_type: Some(Rc::from(if r.is_multiple_of(3) {
+                "edge"
+            } else {
+                "surface"
+            })),
             supplier: Some(Rc::from(suppliers[r / 11 % 3])),
             site: Some(Rc::from(if i % 2 == 0 { "YARD-A" } else { "YARD-B" })),
             found,
