@@ -109,8 +109,49 @@ const STATS: &[&[&str]] = &[
     &["--by", "origin-type", "--trend", "--rates"],
 ];
 
+/// Filters whose total the fleet takes from its counts (whole months) and facts (cut ones),
+/// and two it counts over the facts (status, words).
+const LISTS: &[&[&str]] = &[
+    &[],
+    &["--supplier", "KESTREL"],
+    &["--cause", "none", "--since", "2024-03-17"],
+    &["--site", "TVL-ASH", "--until", "2025-08-09"],
+    &[
+        "--since",
+        "2024-02-01",
+        "--until",
+        "2025-06-30",
+        "--lot",
+        "BS-2207",
+    ],
+    &["--since", "2025-03-05", "--until", "2025-03-28"],
+    &[
+        "--since",
+        "2025-03-05",
+        "--until",
+        "2025-04-02",
+        "--cause",
+        "impact",
+    ],
+    &["--since", "2025-04-01", "--until", "2025-04-30"],
+    &["--status", "closed"],
+    &["--search", "inspection"],
+];
+
 fn compare(db: &Path, url: &str, code: &str) {
     let file = db.to_str().unwrap();
+    // the line under the first page: "N of M incidents shown, …"
+    for extra in LISTS {
+        let mut args = vec!["list", "--limit", "5"];
+        args.extend_from_slice(extra);
+        let last = |s: String| s.lines().last().unwrap_or_default().to_string();
+        let at_bench = last(text(&[&["--db", file][..], &args[..]].concat()));
+        let at_fleet = last(text(
+            &[&["--db", url][..], &args[..], &["--bench", code][..]].concat(),
+        ));
+        assert!(at_bench.contains(" incidents shown"), "{at_bench}");
+        assert_eq!(at_fleet, at_bench, "{code}: list {extra:?}");
+    }
     for extra in STATS {
         let mut args = vec!["stats", "--json"];
         args.extend_from_slice(extra);

@@ -56,6 +56,10 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("fleet/read_stats.rs", "SELECT month{cols}, sum(n)::bigint", "cols: names from the column() match; fixed condition texts; a placeholder number"),
     ("fleet/read_stats.rs", "SELECT found_on{cols}, count(*) FROM fleet_facts", "cols: names from the column() match; fixed condition texts; placeholder numbers"),
     ("fleet/read_stats.rs", "SELECT found_on, {stress}{cols} FROM fleet_facts", "stress: one of two literal column names by the StressKind enum; cols: names from the column() match; fixed condition texts; placeholder numbers"),
+    ("fleet/read_stats.rs", "month >= ${}", "a placeholder number"),
+    ("fleet/read_stats.rs", "month < ${}", "a placeholder number"),
+    ("fleet/read_stats.rs", "SELECT coalesce(sum(n), 0)::bigint FROM fleet_fact_months WHERE {}", "fixed condition texts with $n placeholders"),
+    ("fleet/read_stats.rs", "SELECT count(*) FROM fleet_facts WHERE {}", "fixed condition texts with $n placeholders; placeholder numbers"),
     ("sqlite/open.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),
 ];
 

@@ -503,6 +503,15 @@ impl FleetReader {
             _ => None,
         };
         let total = if page.with_total {
+            // from the counts by month where they can answer, not a count over millions
+            if let Some(n) = self.counted_total(&mut tx, filter)? {
+                tx.commit().map_err(pg)?;
+                return Ok(Page {
+                    rows: rows.into_iter().map(|(_, r)| r).collect(),
+                    next,
+                    total: Some(n),
+                });
+            }
             let sql = format!(
                 "SELECT count(*) FROM fleet_facts f {}",
                 where_clause(&conds)

@@ -357,3 +357,130 @@ impl FleetReader {
         Ok(())
     }
 }
+
+/// The months and days a date filter covers, for counting: the whole months as a range of
+/// month keys (from, inclusive; below, exclusive; either end open), and the days of the
+/// months it cuts.
+struct Span {
+    whole: bool,
+    months_from: Option<String>,
+    months_below: Option<String>,
+    cut: Vec<(NaiveDate, NaiveDate)>,
+}
+
+fn month_key(d: NaiveDate) -> String {
+    day(d)[..7].to_string()
+}
+
+fn span(since: Option<NaiveDate>, until: Option<NaiveDate>) -> Option<Span> {
+    use chrono::Datelike;
+    let bounds = |d: NaiveDate| month_bounds(d.year(), d.month());
+    let mut out = Span {
+        whole: true,
+        months_from: None,
+        months_below: None,
+        cut: Vec::new(),
+    };
+    if let (Some(s), Some(u)) = (since, until) {
+        let (start, end) = bounds(s)?;
+        if s > u || (u <= end && !(s == start && u == end)) {
+            // nothing, or the days of one month
+            out.whole = false;
+            if s <= u {
+                out.cut.push((s, u));
+            }
+            return Some(out);
+        }
+    }
+    if let Some(s) = since {
+        let (start, end) = bounds(s)?;
+        if s == start {
+            out.months_from = Some(month_key(s));
+        } else {
+            out.cut.push((s, end));
+            out.months_from = Some(month_key(end.succ_opt()?));
+        }
+    }
+    if let Some(u) = until {
+        let (start, end) = bounds(u)?;
+        if u == end {
+            out.months_below = Some(month_key(end.succ_opt()?));
+        } else {
+            out.cut.push((start, u));
+            out.months_below = Some(month_key(u));
+        }
+    }
+    Some(out)
+}
+
+impl FleetReader {
+    /// How many incidents match `filter`, from the counts by month (whole months) and the
+    /// facts (the days of the months the dates cut); None when the filter has what the counts
+    /// do not hold (a status, words to search).
+    pub(super) fn counted_total(
+        &self,
+        client: &mut impl postgres::GenericClient,
+        filter: &crate::store::Filter,
+    ) -> Result<Option<u64>, StoreError> {
+        if filter.status.is_some() || filter.text.is_some() {
+            return Ok(None);
+        }
+        let Some(span) = span(filter.since, filter.until) else {
+            return Ok(None);
+        };
+        let mut conds = Conditions::default();
+        if let Some(code) = self.scope() {
+            conds.equal("owner", code);
+        }
+        match filter.cause.as_deref() {
+            Some(crate::store::NO_CAUSE) => conds.texts.push("cause IS NULL".into()),
+            Some(c) => conds.equal("cause", c),
+            None => {}
+        }
+        for (col, value) in [
+            ("origin_type", &filter.origin_type),
+            ("supplier", &filter.supplier),
+            ("lot", &filter.lot),
+            ("site", &filter.site),
+        ] {
+            if let Some(v) = value {
+                conds.equal(col, v);
+            }
+        }
+        let pg = |e: postgres::Error| StoreError::Database(format!("fleet database: {e}"));
+        let mut total: i64 = 0;
+        if span.whole {
+            let mut params = conds.params();
+            let mut texts = vec![conds.sql()];
+            if let Some(from) = &span.months_from {
+                params.push(from);
+                texts.push(format!("month >= ${}", params.len()));
+            }
+            if let Some(below) = &span.months_below {
+                params.push(below);
+                texts.push(format!("month < ${}", params.len()));
+            }
+            let sql = format!(
+                "SELECT coalesce(sum(n), 0)::bigint FROM fleet_fact_months WHERE {}",
+                texts.join(" AND ")
+            );
+            let n: i64 = client.query_one(&sql, &params).map_err(pg)?.get(0);
+            total += n;
+        }
+        for (first, last) in &span.cut {
+            let (from, to) = (day(*first), day(*last));
+            let mut params = conds.params();
+            params.push(&from);
+            params.push(&to);
+            let sql = format!(
+                "SELECT count(*) FROM fleet_facts WHERE {} AND found_on >= ${} AND found_on <= ${}",
+                conds.sql(),
+                params.len() - 1,
+                params.len()
+            );
+            let n: i64 = client.query_one(&sql, &params).map_err(pg)?.get(0);
+            total += n;
+        }
+        Ok(Some(total.unsigned_abs()))
+    }
+}
