@@ -22,6 +22,7 @@ mod pull;
 mod pull_incidents;
 mod push;
 mod read;
+mod read_need;
 mod read_stats;
 mod resolve;
 mod schema;

@@ -11,6 +11,7 @@ use std::rc::Rc;
 use postgres::types::ToSql;
 use postgres::Client;
 
+use super::read_need::Need;
 use super::{Fleet, FleetError};
 use crate::store::canon;
 use crate::store::model::*;
@@ -24,8 +25,8 @@ pub struct FleetReader {
     shown: String,
     /// Only this bench's incidents and reference data.
     scope: Option<String>,
-    /// The reference data, read once.
-    refdata: RefCell<Option<Rc<RefData>>>,
+    /// The reference data, read once (as much of it as was needed).
+    refdata: RefCell<Option<(Need, Rc<RefData>)>>,
 }
 
 /// The benches' reference data, one entry per code (the first bench in code order gives
@@ -165,7 +166,7 @@ impl FleetReader {
         &self,
     ) -> Result<Vec<shardlog_core::fleet::Exposure>, StoreError> {
         Ok(self
-            .refdata()?
+            .refdata_with(Need::Exposure)?
             .exposure
             .iter()
             .map(Exposure::to_fleet)
@@ -173,24 +174,29 @@ impl FleetReader {
     }
 
     fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
-        if let Some(r) = self.refdata.borrow().as_ref() {
-            return Ok(r.clone());
+        self.refdata_with(Need::Codes)
+    }
+
+    fn refdata_with(&self, need: Need) -> Result<Rc<RefData>, StoreError> {
+        if let Some((had, r)) = self.refdata.borrow().as_ref() {
+            if *had >= need {
+                return Ok(r.clone());
+            }
         }
-        let loaded = Rc::new(self.load_refdata()?);
-        *self.refdata.borrow_mut() = Some(loaded.clone());
+        let loaded = Rc::new(self.load_refdata(need)?);
+        *self.refdata.borrow_mut() = Some((need, loaded.clone()));
         Ok(loaded)
     }
 
-    fn load_refdata(&self) -> Result<RefData, StoreError> {
+    fn load_refdata(&self, need: Need) -> Result<RefData, StoreError> {
         let rows = self
             .client
             .borrow_mut()
             .query(
                 "SELECT entity, origin, image, id FROM fleet_records
-                 WHERE entity IN ('lookup', 'site', 'asset', 'supplier', 'product', 'lot', 'exposure')
-                   AND image IS NOT NULL AND ($1::text IS NULL OR origin = $1)
+                 WHERE entity = ANY($2) AND image IS NOT NULL AND ($1::text IS NULL OR origin = $1)
                  ORDER BY origin, entity, id",
-                &[&self.scope],
+                &[&self.scope, &need.entities()],
             )
             .map_err(pg)?;
         let mut out = RefData::default();
@@ -621,7 +627,7 @@ impl FleetReader {
         StoreError,
     > {
         let (incidents, damaged) = self.matching_incidents(filter)?;
-        let refdata = self.refdata()?;
+        let refdata = self.refdata_with(Need::Assets)?;
         let mut doc = crate::store::exchange::ExportDoc::empty();
         doc.lookups = refdata.lookups.clone();
         doc.sites = refdata.sites.clone();
@@ -812,7 +818,11 @@ impl FleetReader {
         if q.origin_type.is_some() {
             keys.push(Key::OriginType);
         }
-        let refdata = self.refdata()?;
+        let refdata = self.refdata_with(if keys.contains(&Key::AssetType) {
+            Need::Assets
+        } else {
+            Need::Exposure
+        })?;
         let mut args = Vec::new();
         let filter = Filter {
             since: q.since,
