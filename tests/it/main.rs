@@ -50,6 +50,7 @@ mod store_tamper;
 mod terminal_output;
 mod tui;
 mod tui_bench;
+mod tui_fleet;
 mod tui_loads;
 mod tui_lookups;
 mod tui_materials;

@@ -336,7 +336,8 @@ fn only_field(key: Key) -> Option<super::codes::Field> {
         Key::Site => Field::Site,
         Key::AssetType => Field::AssetType,
         Key::Temper => Field::Temper,
-        Key::Month | Key::Season => return None,
+        // bench codes are the fleet's own: taken as typed
+        Key::Bench | Key::Month | Key::Season => return None,
     })
 }
 
@@ -499,6 +500,7 @@ mod tests {
             });
         }
         let ex = |s: &str, lot: &str, n: f64| Exposure {
+            bench: None,
             supplier: Some(s.into()),
             product: None,
             lot: Some(lot.into()),

@@ -42,6 +42,8 @@ pub(super) struct RefData {
     products: Vec<Product>,
     pub(super) lots: Vec<Lot>,
     pub(super) exposure: Vec<Exposure>,
+    /// exposure id -> the bench that entered it
+    pub(super) exposure_bench: HashMap<String, String>,
     pub(super) assets: Vec<Asset>,
     /// The fragmentation table (audited as lookup entries keyed `fragmentation_minimum/…`).
     fragmentation: Vec<FragmentationMinimum>,
@@ -89,7 +91,7 @@ pub(super) fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
 /// The columns of a log row, in the order `log_row` reads them.
 const LOG_COLUMNS: &str =
     "SELECT f.ord, f.id, f.reference, f.found_on, f.asset, f.position, f.site, \
-     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa FROM fleet_facts f";
+     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa, f.owner FROM fleet_facts f";
 
 impl FleetReader {
     /// Connect to the fleet at `url` in a read-only session; `scope`: one bench's records.
@@ -230,6 +232,7 @@ impl FleetReader {
                 }
                 _ => {
                     let e: Exposure = serde_json::from_value(value).map_err(bad)?;
+                    out.exposure_bench.insert(e.id.clone(), origin);
                     out.exposure.push(e);
                 }
             }
@@ -285,6 +288,7 @@ impl FleetReader {
             }
         };
         bind("f.owner", self.scope.as_deref(), &mut conds);
+        bind("f.owner", filter.bench.as_deref(), &mut conds);
         bind("f.status", filter.status.as_deref(), &mut conds);
         match filter.cause.as_deref() {
             Some(NO_CAUSE) => conds.push("f.cause IS NULL".into()),
@@ -366,6 +370,7 @@ fn log_row(r: &postgres::Row) -> (i64, LogRow) {
             cause: r.get(11),
             stress_mpa: r.get::<_, Option<f64>>(12).map(|x| x / 1e6),
             damaged: occurred.is_none().then_some(found),
+            bench: r.get(13),
         },
     )
 }
@@ -685,6 +690,14 @@ impl RecordSource for FleetReader {
     fn get(&self, key: &str) -> Result<Incident, StoreError> {
         self.incident(key)
     }
+    fn owner_of(&self, id: &str) -> Result<Option<String>, StoreError> {
+        let row = self
+            .client
+            .borrow_mut()
+            .query_opt("SELECT owner FROM fleet_facts WHERE id = $1", &[&id])
+            .map_err(pg)?;
+        Ok(row.map(|r| r.get(0)))
+    }
     fn export_json_readable(
         &self,
         filter: &Filter,
@@ -761,7 +774,7 @@ impl FleetReader {
         };
         let sql = format!(
             "SELECT f.found_on, {stress}, f.cause, f.origin_type, f.temper, f.supplier, f.product, \
-             f.lot, f.site, f.origin, f.asset FROM fleet_facts f {} ORDER BY f.ord",
+             f.lot, f.site, f.origin, f.asset, f.owner FROM fleet_facts f {} ORDER BY f.ord",
             where_clause(&conds)
         );
         let rows = self
@@ -792,6 +805,9 @@ impl FleetReader {
                 ..Default::default()
             };
             let col = |k: usize| r.get::<_, Option<String>>(k);
+            if wanted(Key::Bench) {
+                f.bench = shared(col(11));
+            }
             if wanted(Key::Cause) {
                 f.cause = shared(col(2));
             }
@@ -821,7 +837,14 @@ impl FleetReader {
             }
             out.push(f);
         }
-        let exposure = refdata.exposure.iter().map(Exposure::to_fleet).collect();
+        let exposure = refdata
+            .exposure
+            .iter()
+            .map(|e| shardlog_core::fleet::Exposure {
+                bench: refdata.exposure_bench.get(&e.id).cloned(),
+                ..e.to_fleet()
+            })
+            .collect();
         Ok((out, exposure))
     }
 }
