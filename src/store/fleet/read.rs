@@ -532,7 +532,7 @@ impl FleetReader {
             .query(
                 "SELECT r.reference, r.image FROM fleet_records r
                  WHERE r.entity = 'incident' AND r.image IS NOT NULL
-                   AND (r.reference = $1 OR r.id = $1 OR lower(r.id) = lower($1))
+                   AND (r.reference = $1 OR r.id = $1 OR r.id = lower($1))
                    AND ($2::text IS NULL OR r.owner = $2)
                  LIMIT 2",
                 &[&key, &self.scope],
