@@ -48,6 +48,7 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("fleet/read.rs", "JOIN fleet_records r ON r.entity = 'incident' AND r.id = f.id {}", "where_clause of fixed condition texts"),
     ("fleet/read.rs", "SELECT count(*) FROM fleet_facts f {}", "where_clause of fixed condition texts"),
     ("fleet/read.rs", "SELECT f.found_on, {stress}", "stress: one of two literal column names by the StressKind enum; where_clause of fixed texts"),
+    ("fleet/bulk_fill.rs", "DROP INDEX {name}", "name: an index of the fleet's own tables read from pg_index, quoted by quote_ident"),
     ("sqlite/open.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),
 ];
 
