@@ -159,7 +159,11 @@ pub fn stream_for_bench(
     let mut maker = Maker::new(&world, &keys, &mut rng, &mut summary, attachments);
     maker.bench = bench.clone();
     let mut next = plans.iter();
-    let written = load.stream_incidents(audit, |ids| next.next().map(|plan| maker.make(plan, ids)), sink)?;
+    let written = load.stream_incidents(
+        audit,
+        |ids| next.next().map(|plan| maker.make(plan, ids)),
+        sink,
+    )?;
     summary.incidents += written;
     file.finish()?;
     if let Some(code) = bench {

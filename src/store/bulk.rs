@@ -440,9 +440,13 @@ impl<'s> BulkLoad<'s> {
                     for (n, image, digest) in ready {
                         let before = chain.seq();
                         match bulk.as_mut() {
-                            Some(b) => {
-                                b.add_digest(&tx, &mut chain, &n.stamp, &n.incident.id, digest.clone())?
-                            }
+                            Some(b) => b.add_digest(
+                                &tx,
+                                &mut chain,
+                                &n.stamp,
+                                &n.incident.id,
+                                digest.clone(),
+                            )?,
                             None => chain.record(
                                 &tx,
                                 &n.stamp,
@@ -458,7 +462,12 @@ impl<'s> BulkLoad<'s> {
                         if chain.seq() != before {
                             for (incident, image, digest) in waiting.drain(..) {
                                 let seq = chain.seq();
-                                sink(StreamedIncident { incident, image, digest, seq })?;
+                                sink(StreamedIncident {
+                                    incident,
+                                    image,
+                                    digest,
+                                    seq,
+                                })?;
                             }
                         }
                     }
@@ -476,7 +485,12 @@ impl<'s> BulkLoad<'s> {
             }
             for (incident, image, digest) in waiting.drain(..) {
                 let seq = chain.seq();
-                sink(StreamedIncident { incident, image, digest, seq })?;
+                sink(StreamedIncident {
+                    incident,
+                    image,
+                    digest,
+                    seq,
+                })?;
             }
             chain.finish(&tx)?;
             for (_, sql) in triggers.iter().chain(&indexes) {

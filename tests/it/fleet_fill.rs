@@ -93,7 +93,9 @@ fn same_fleet(incidents: u64, benches: u32, least_incidents: i64) {
     fill(&synced, incidents, benches, true);
     let said = fill(&filled, incidents, benches, false);
     assert!(
-        said.contains(&format!("filled the fleet: {incidents} incidents over {benches} benches")),
+        said.contains(&format!(
+            "filled the fleet: {incidents} incidents over {benches} benches"
+        )),
         "{said}"
     );
     let (a, b) = (tables(&synced), tables(&filled));
@@ -108,12 +110,24 @@ fn same_fleet(incidents: u64, benches: u32, least_incidents: i64) {
     // each record against its digest, the read tables against the images
     let url = filled.owner_url();
     let o = run(&["--db", &url, "verify", "--json"]);
-    assert!(o.status.success(), "verify on the filled fleet: {}{}", out(&o), err(&o));
+    assert!(
+        o.status.success(),
+        "verify on the filled fleet: {}{}",
+        out(&o),
+        err(&o)
+    );
     let v: serde_json::Value = serde_json::from_str(&out(&o)).expect("verify --json");
     assert_eq!(v["problems"], serde_json::json!([]), "{v}");
     // the fill only makes new benches
     let o = run(&[
-        "fleet", "demo", "--url", &url, "--incidents", "10", "--benches", "1",
+        "fleet",
+        "demo",
+        "--url",
+        &url,
+        "--incidents",
+        "10",
+        "--benches",
+        "1",
     ]);
     assert_eq!(o.status.code(), Some(1), "{}", out(&o));
     assert!(err(&o).contains("already holds bench B01"), "{}", err(&o));

@@ -117,7 +117,7 @@ impl BulkFill {
             .map(|r| r.get(0))
             .collect();
         if !known.is_empty() {
-            return Err(FleetError::Usage(format!(
+            return Err(FleetError::Bench(format!(
                 "the fleet already holds bench {}; the bulk fill only makes new benches (use a new fleet database, or --through-sync)",
                 known.join(", ")
             )));
@@ -131,7 +131,10 @@ impl BulkFill {
             None => (1, canon::GENESIS.to_string()),
         };
         let ord: i64 = c
-            .query_one("SELECT coalesce(max(ord), 0) FROM fleet_incident_order", &[])?
+            .query_one(
+                "SELECT coalesce(max(ord), 0) FROM fleet_incident_order",
+                &[],
+            )?
             .get(0);
         let held: i64 = b.query_one("SELECT count(*) FROM fleet_facts", &[])?.get(0);
         let rebuild = u64::try_from(held).unwrap_or(0) < incidents;
@@ -523,7 +526,11 @@ fn take_row(row: &outbox::ChainRow, out: &mut ChainCopied) -> Result<(), FleetEr
         return refuse("a row pulled from the fleet");
     }
     if row.entity == BATCH {
-        let listed = row.after.as_deref().and_then(manifest_records).unwrap_or_default();
+        let listed = row
+            .after
+            .as_deref()
+            .and_then(manifest_records)
+            .unwrap_or_default();
         if listed.iter().any(|(entity, _, _)| entity != INCIDENT) {
             return refuse("a bulk-load row of records other than incidents");
         }
@@ -574,7 +581,9 @@ fn copy_others(
     let none: Option<String> = None;
     for ((entity, id), (seq, image)) in others {
         let digest = image.as_ref().map(|i| canon::sha256_hex(i.as_bytes()));
-        writer.write(&[entity, id, &code, &code, image, &digest, &none, seq, &fleet_seq])?;
+        writer.write(&[
+            entity, id, &code, &code, image, &digest, &none, seq, &fleet_seq,
+        ])?;
         if entity != "lookup" {
             counted += 1;
         }

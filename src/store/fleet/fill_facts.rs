@@ -78,7 +78,11 @@ fn elements(v: Option<&Value>) -> &[Value] {
 fn f64_of(v: Option<&Value>) -> Option<f64> {
     let t = v?.as_str()?;
     let hex = t.strip_prefix("f64:")?;
-    if hex.len() != 16 || !hex.bytes().all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c)) {
+    if hex.len() != 16
+        || !hex
+            .bytes()
+            .all(|c| c.is_ascii_digit() || (b'a'..=b'f').contains(&c))
+    {
         return None;
     }
     u64::from_str_radix(hex, 16).ok().map(f64::from_bits)
@@ -106,10 +110,18 @@ pub(crate) fn fact_row(origin: &str, image: &str) -> Result<Option<FactRow>, ser
         return Ok(None);
     };
     let exams = elements(j.get("examinations"));
-    let current = exams.iter().rev().find(|e| e.get("result").is_some_and(Value::is_object));
+    let current = exams
+        .iter()
+        .rev()
+        .find(|e| e.get("result").is_some_and(Value::is_object));
     let origin_type = current
         .and_then(|c| text_of(c.get("origin_type")))
-        .or_else(|| exams.iter().rev().find_map(|e| text_of(e.get("origin_type"))));
+        .or_else(|| {
+            exams
+                .iter()
+                .rev()
+                .find_map(|e| text_of(e.get("origin_type")))
+        });
     let glass = j.get("glass");
     let result = current.and_then(|c| c.get("result"));
     let cause = j.get("cause").filter(|c| c.is_object());
@@ -131,8 +143,16 @@ pub(crate) fn fact_row(origin: &str, image: &str) -> Result<Option<FactRow>, ser
         text_of(j.get("cause").and_then(|c| c.get("note"))),
         factors,
         joined(exams.iter().map(|e| text_of(e.get("notes")))),
-        joined(elements(j.get("custody")).iter().map(|c| text_of(c.get("note")))),
-        joined(elements(j.get("attachments")).iter().map(|a| text_of(a.get("caption")))),
+        joined(
+            elements(j.get("custody"))
+                .iter()
+                .map(|c| text_of(c.get("note"))),
+        ),
+        joined(
+            elements(j.get("attachments"))
+                .iter()
+                .map(|a| text_of(a.get("caption"))),
+        ),
     ]
     .into_iter()
     .flatten()
@@ -169,14 +189,20 @@ mod tests {
     #[test]
     fn the_reference_is_read_and_qualified_as_the_fleet_does() {
         assert_eq!(
-            fleet_reference("WEST", r#"{"asset":"x","reference":"BR-260314-0007","z":1}"#),
+            fleet_reference(
+                "WEST",
+                r#"{"asset":"x","reference":"BR-260314-0007","z":1}"#
+            ),
             "WEST/BR-260314-0007"
         );
         assert_eq!(
             fleet_reference("WEST", r#"{"reference":"NORTH-260314-0007"}"#),
             "NORTH-260314-0007"
         );
-        assert_eq!(fleet_reference("WEST", r#"{"reference":"BR-2603-1"}"#), "BR-2603-1");
+        assert_eq!(
+            fleet_reference("WEST", r#"{"reference":"BR-2603-1"}"#),
+            "BR-2603-1"
+        );
         assert_eq!(fleet_reference("WEST", "{}"), "");
     }
 
@@ -185,6 +211,9 @@ mod tests {
         let v = Value::String(format!("f64:{:016x}", 41.5e6f64.to_bits()));
         assert_eq!(f64_of(Some(&v)), Some(41.5e6));
         assert_eq!(f64_of(Some(&Value::String("f64:12".into()))), None);
-        assert_eq!(f64_of(Some(&Value::String("f64:ABCDEF0123456789".into()))), None);
+        assert_eq!(
+            f64_of(Some(&Value::String("f64:ABCDEF0123456789".into()))),
+            None
+        );
     }
 }
