@@ -14,6 +14,7 @@ mod filter_codes;
 mod fleet;
 mod fleet_crash;
 mod fleet_facts;
+mod fleet_fill;
 mod fleet_moves;
 mod fleet_pull_mark;
 mod fleet_read;

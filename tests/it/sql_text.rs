@@ -51,6 +51,7 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("fleet/read_report.rs", "SELECT f.id FROM fleet_facts f {} ORDER BY f.found_on, f.ord", "where_clause of fixed condition texts with $n placeholders"),
     ("fleet/read_report.rs", "SELECT f.cause FROM fleet_facts f {}", "where_clause of fixed condition texts with $n placeholders"),
     ("fleet/read_report.rs", "{} ORDER BY f.ord", "where_clause of fixed condition texts with $n placeholders"),
+    ("fleet/bulk_fill.rs", "DROP INDEX {name}", "name: an index of the fleet's own tables read from pg_index, quoted by quote_ident"),
     ("sqlite/open.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),
 ];
 
