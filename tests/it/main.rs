@@ -12,6 +12,7 @@ mod exposure_cli;
 mod faults;
 mod filter_codes;
 mod fleet;
+mod fleet_counts;
 mod fleet_crash;
 mod fleet_facts;
 mod fleet_fill;

@@ -52,6 +52,18 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("fleet/read_report.rs", "SELECT f.cause FROM fleet_facts f {}", "where_clause of fixed condition texts with $n placeholders"),
     ("fleet/read_report.rs", "{} ORDER BY f.ord", "where_clause of fixed condition texts with $n placeholders"),
     ("fleet/bulk_fill.rs", "DROP INDEX {name}", "name: an index of the fleet's own tables read from pg_index, quoted by quote_ident"),
+    ("fleet/read_stats.rs", "{column} = ${}", "column: a name from the column() match of the Key enum; a placeholder number"),
+    ("fleet/read_stats.rs", "{col} IS NULL", "col: a name from the column() match of the Key enum"),
+    ("fleet/read_stats.rs", ", {c}", "c: a name from the column() match of the Key enum"),
+    ("fleet/read_stats.rs", "SELECT min(month) FROM fleet_fact_months WHERE {}", "fixed condition texts with $n placeholders; a placeholder number"),
+    ("fleet/read_stats.rs", "SELECT min(found_on) FROM fleet_facts WHERE {}", "fixed condition texts with $n placeholders; placeholder numbers"),
+    ("fleet/read_stats.rs", "SELECT month{cols}, sum(n)::bigint", "cols: names from the column() match; fixed condition texts; a placeholder number"),
+    ("fleet/read_stats.rs", "SELECT found_on{cols}, count(*) FROM fleet_facts", "cols: names from the column() match; fixed condition texts; placeholder numbers"),
+    ("fleet/read_stats.rs", "SELECT found_on, {stress}{cols} FROM fleet_facts", "stress: one of two literal column names by the StressKind enum; cols: names from the column() match; fixed condition texts; placeholder numbers"),
+    ("fleet/read_stats.rs", "month >= ${}", "a placeholder number"),
+    ("fleet/read_stats.rs", "month < ${}", "a placeholder number"),
+    ("fleet/read_stats.rs", "SELECT coalesce(sum(n), 0)::bigint FROM fleet_fact_months WHERE {}", "fixed condition texts with $n placeholders"),
+    ("fleet/read_stats.rs", "SELECT count(*) FROM fleet_facts WHERE {}", "fixed condition texts with $n placeholders; placeholder numbers"),
     ("sqlite/open.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),
 ];
 

@@ -28,6 +28,7 @@ mod push;
 mod read;
 mod read_materials;
 mod read_report;
+mod read_stats;
 mod resolve;
 mod schema;
 mod status;
