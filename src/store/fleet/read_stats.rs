@@ -424,26 +424,39 @@ impl FleetReader {
         client: &mut impl postgres::GenericClient,
         filter: &crate::store::Filter,
     ) -> Result<Option<u64>, StoreError> {
-        if filter.status.is_some() || filter.text.is_some() {
+        // every field named, so that a new one cannot be left out of the count unnoticed
+        let crate::store::Filter {
+            status,
+            cause,
+            origin_type,
+            supplier,
+            lot,
+            site,
+            since,
+            until,
+            text,
+            bench,
+        } = filter;
+        if status.is_some() || text.is_some() {
             return Ok(None);
         }
-        let Some(span) = span(filter.since, filter.until) else {
+        let Some(span) = span(*since, *until) else {
             return Ok(None);
         };
         let mut conds = Conditions::default();
-        if let Some(code) = self.scope() {
+        for code in [self.scope(), bench.as_deref()].into_iter().flatten() {
             conds.equal("owner", code);
         }
-        match filter.cause.as_deref() {
+        match cause.as_deref() {
             Some(crate::store::NO_CAUSE) => conds.texts.push("cause IS NULL".into()),
             Some(c) => conds.equal("cause", c),
             None => {}
         }
         for (col, value) in [
-            ("origin_type", &filter.origin_type),
-            ("supplier", &filter.supplier),
-            ("lot", &filter.lot),
-            ("site", &filter.site),
+            ("origin_type", origin_type),
+            ("supplier", supplier),
+            ("lot", lot),
+            ("site", site),
         ] {
             if let Some(v) = value {
                 conds.equal(col, v);
