@@ -88,6 +88,9 @@ const COLS: &[Col] = &[
 const ORDER: [usize; 10] = [0, BENCH_COL, 1, 2, 3, 4, 5, 6, 7, 8];
 const BENCH_COL: usize = 9;
 
+/// The widest a reference is shown (longer ones are cut with an ellipsis).
+const MAX_REFERENCE_WIDTH: u16 = 26;
+
 /// Status and cause get more room on wide screens.
 fn col_width(i: usize, screen: u16) -> u16 {
     match i {
@@ -185,8 +188,26 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         .filter(|&i| body.width >= COLS[i].min_screen)
         .filter(|&i| i != BENCH_COL || app.on_fleet())
         .collect();
-    let fixed: u16 = cols.iter().map(|&i| col_width(i, body.width)).sum::<u16>()
-        + cols.len().saturating_sub(1) as u16;
+    // a reference is shown whole: one with a bench code (BR-NORTH-260314-0007) or qualified
+    // by its bench on the fleet (NORTH/BR-260314-0007) is wider than the plain 14 characters
+    let reference_width = app
+        .log
+        .rows
+        .iter()
+        .map(|r| unicode_width::UnicodeWidthStr::width(r.reference.as_str()))
+        .max()
+        .map_or(COLS[0].width, |w| {
+            (w as u16).clamp(COLS[0].width, MAX_REFERENCE_WIDTH)
+        });
+    let width_of = |i: usize| {
+        if i == 0 {
+            reference_width
+        } else {
+            col_width(i, body.width)
+        }
+    };
+    let fixed: u16 =
+        cols.iter().map(|&i| width_of(i)).sum::<u16>() + cols.len().saturating_sub(1) as u16;
     let fill = body.width.saturating_sub(fixed).max(6);
     let widths: Vec<u16> = cols
         .iter()
@@ -194,7 +215,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
             if COLS[i].width == 0 {
                 fill
             } else {
-                col_width(i, body.width)
+                width_of(i)
             }
         })
         .collect();
