@@ -50,6 +50,8 @@ pub(super) struct RefData {
     products: Vec<Product>,
     pub(super) lots: Vec<Lot>,
     pub(super) exposure: Vec<Exposure>,
+    /// exposure id -> the bench that entered it
+    pub(super) exposure_bench: HashMap<String, String>,
     pub(super) assets: Vec<Asset>,
     /// The fragmentation table (audited as lookup entries keyed `fragmentation_minimum/…`).
     fragmentation: Vec<FragmentationMinimum>,
@@ -97,7 +99,7 @@ pub(super) fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
 /// The columns of a log row, in the order `log_row` reads them.
 const LOG_COLUMNS: &str =
     "SELECT f.ord, f.id, f.reference, f.found_on, f.asset, f.position, f.site, \
-     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa FROM fleet_facts f";
+     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa, f.owner FROM fleet_facts f";
 
 impl FleetReader {
     /// Connect to the fleet at `url` in a read-only session; `scope`: one bench's records.
@@ -157,6 +159,36 @@ impl FleetReader {
     /// The rows of a fixed statement without parameters.
     pub(super) fn query(&self, sql: &str) -> Result<Vec<postgres::Row>, StoreError> {
         self.client.borrow_mut().query(sql, &[]).map_err(pg)
+    }
+
+    /// The rows of a statement with its parameters.
+    pub(super) fn query_with(
+        &self,
+        sql: &str,
+        params: &[&(dyn ToSql + Sync)],
+    ) -> Result<Vec<postgres::Row>, StoreError> {
+        self.client.borrow_mut().query(sql, params).map_err(pg)
+    }
+
+    /// The one bench this reader is narrowed to.
+    pub(super) fn scope(&self) -> Option<&str> {
+        self.scope.as_deref()
+    }
+
+    /// The exposure rows (panes in service) of the reader's benches, as the statistics
+    /// take them.
+    pub(super) fn fleet_exposures(
+        &self,
+    ) -> Result<Vec<shardlog_core::fleet::Exposure>, StoreError> {
+        let refdata = self.refdata()?;
+        Ok(refdata
+            .exposure
+            .iter()
+            .map(|e| shardlog_core::fleet::Exposure {
+                bench: refdata.exposure_bench.get(&e.id).cloned(),
+                ..e.to_fleet()
+            })
+            .collect())
     }
 
     pub(super) fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
@@ -238,6 +270,7 @@ impl FleetReader {
                 }
                 _ => {
                     let e: Exposure = serde_json::from_value(value).map_err(bad)?;
+                    out.exposure_bench.insert(e.id.clone(), origin);
                     out.exposure.push(e);
                 }
             }
@@ -293,6 +326,7 @@ impl FleetReader {
             }
         };
         bind("f.owner", self.scope.as_deref(), &mut conds);
+        bind("f.owner", filter.bench.as_deref(), &mut conds);
         bind("f.status", filter.status.as_deref(), &mut conds);
         match filter.cause.as_deref() {
             Some(NO_CAUSE) => conds.push("f.cause IS NULL".into()),
@@ -374,6 +408,7 @@ fn log_row(r: &postgres::Row) -> (i64, LogRow) {
             cause: r.get(11),
             stress_mpa: r.get::<_, Option<f64>>(12).map(|x| x / 1e6),
             damaged: occurred.is_none().then_some(found),
+            bench: r.get(13),
         },
     )
 }
@@ -490,6 +525,15 @@ impl FleetReader {
             _ => None,
         };
         let total = if page.with_total {
+            // from the counts by month where they can answer, not a count over millions
+            if let Some(n) = self.counted_total(&mut tx, filter)? {
+                tx.commit().map_err(pg)?;
+                return Ok(Page {
+                    rows: rows.into_iter().map(|(_, r)| r).collect(),
+                    next,
+                    total: Some(n),
+                });
+            }
             let sql = format!(
                 "SELECT count(*) FROM fleet_facts f {}",
                 where_clause(&conds)
@@ -693,6 +737,14 @@ impl RecordSource for FleetReader {
     fn get(&self, key: &str) -> Result<Incident, StoreError> {
         self.incident(key)
     }
+    fn owner_of(&self, id: &str) -> Result<Option<String>, StoreError> {
+        let row = self
+            .client
+            .borrow_mut()
+            .query_opt("SELECT owner FROM fleet_facts WHERE id = $1", &[&id])
+            .map_err(pg)?;
+        Ok(row.map(|r| r.get(0)))
+    }
     fn export_json_readable(
         &self,
         filter: &Filter,
@@ -739,6 +791,13 @@ impl RecordSource for FleetReader {
     ) -> Result<StatsInput, StoreError> {
         self.facts(q, extra)
     }
+    fn stats_counted(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        today: chrono::NaiveDate,
+    ) -> Result<Option<crate::store::read::CountedInput>, StoreError> {
+        self.counted(q, today)
+    }
 }
 
 impl FleetReader {
@@ -769,7 +828,7 @@ impl FleetReader {
         };
         let sql = format!(
             "SELECT f.found_on, {stress}, f.cause, f.origin_type, f.temper, f.supplier, f.product, \
-             f.lot, f.site, f.origin, f.asset FROM fleet_facts f {} ORDER BY f.ord",
+             f.lot, f.site, f.origin, f.asset, f.owner FROM fleet_facts f {} ORDER BY f.ord",
             where_clause(&conds)
         );
         let rows = self
@@ -800,6 +859,9 @@ impl FleetReader {
                 ..Default::default()
             };
             let col = |k: usize| r.get::<_, Option<String>>(k);
+            if wanted(Key::Bench) {
+                f.bench = shared(col(11));
+            }
             if wanted(Key::Cause) {
                 f.cause = shared(col(2));
             }
@@ -829,7 +891,6 @@ impl FleetReader {
             }
             out.push(f);
         }
-        let exposure = refdata.exposure.iter().map(Exposure::to_fleet).collect();
-        Ok((out, exposure))
+        Ok((out, self.fleet_exposures()?))
     }
 }
