@@ -173,6 +173,24 @@ fn a_bench_bundle_verifies_against_the_fleet_once_synced_and_a_tampered_one_does
     assert!(said.contains("not signed: made from the fleet"), "{said}");
     let ok = text(&["--db", &url, "verify", "--bundle", m]);
     assert!(ok.contains("the fleet's own chain of receipts"), "{ok}");
+    // the photos come from the fleet's file table, the very bytes the bench holds
+    let photos = |d: &Path| -> Vec<(String, Vec<u8>)> {
+        let mut v: Vec<_> = std::fs::read_dir(d.join("attachments"))
+            .unwrap()
+            .map(|e| {
+                let e = e.unwrap();
+                (
+                    e.file_name().to_string_lossy().into_owned(),
+                    std::fs::read(e.path()).unwrap(),
+                )
+            })
+            .collect();
+        v.sort();
+        v
+    };
+    let from_fleet = photos(&made);
+    assert!(!from_fleet.is_empty());
+    assert_eq!(from_fleet, photos(&bundle));
     tamper(&made);
     let o = run(&["--db", &url, "verify", "--bundle", m]);
     assert_eq!(o.status.code(), Some(1), "{}", out(&o));

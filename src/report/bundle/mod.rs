@@ -19,7 +19,6 @@ mod cover;
 mod figures;
 mod gather;
 mod verify;
-mod verify_fleet;
 mod write;
 
 use std::path::{Path, PathBuf};
@@ -34,8 +33,9 @@ use crate::store::StoreError;
 
 pub use cover::cover_document;
 pub use gather::{gather, selected_ids};
-pub use verify::{first_difference, verify_bundle, verify_bundle_with, BundleCheck, ExpectedKey};
-pub use verify_fleet::head_bench;
+pub use verify::{
+    first_difference, head_bench, verify_bundle, verify_bundle_with, BundleCheck, ExpectedKey,
+};
 pub use write::{figures_csv, render_files, write_bundle};
 
 pub const BUNDLE_FORMAT: &str = "shardlog dispute bundle 1";

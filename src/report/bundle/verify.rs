@@ -7,6 +7,10 @@ use std::sync::Arc;
 
 use serde::Serialize;
 
+mod fleet;
+
+pub use fleet::head_bench;
+
 use super::write::{render_files, threads};
 use super::{io, BundleContent, BundleError, BundleFile, BUNDLE_FORMAT};
 use crate::report::source::{incident_content, Labels};
@@ -209,7 +213,7 @@ pub fn verify_bundle_with(
                 compare_with_records(bench, c, &mut check)?;
             }
             // the fleet holds no bench's key: the signature was checked alone above
-            None => super::verify_fleet::compare_with_fleet(s, c, &mut check)?,
+            None => fleet::compare_with_fleet(s, c, &mut check)?,
         }
     }
     Ok(check)

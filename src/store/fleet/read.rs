@@ -15,7 +15,7 @@ use super::{Fleet, FleetError};
 use crate::store::canon;
 use crate::store::model::*;
 use crate::store::read::{RecordSource, StatsInput};
-use crate::store::StoreError;
+use crate::store::{OwnMaterial, StoreError};
 use shardlog_core::fracture::fragmentation::FragmentationMinimum;
 
 /// A read-only view of the fleet database, of every bench or of one.
@@ -27,9 +27,17 @@ pub struct FleetReader {
     /// The reference data, read once.
     refdata: RefCell<Option<Rc<RefData>>>,
     /// The own materials, read once when needed.
-    pub(super) materials: RefCell<Option<Rc<super::read_materials::FleetMaterials>>>,
+    pub(super) materials: RefCell<Option<Rc<FleetMaterials>>>,
     /// Inside a report's read snapshot (one read-only transaction).
     pub(super) in_snapshot: std::cell::Cell<bool>,
+}
+
+/// Every revision of every own material the fleet witnessed (current ones first, by bench
+/// code), and the current revisions alone (read by `read_materials`).
+#[derive(Default)]
+pub(super) struct FleetMaterials {
+    pub(super) revisions: Vec<OwnMaterial>,
+    pub(super) current: Vec<OwnMaterial>,
 }
 
 /// The benches' reference data, one entry per code (the first bench in code order gives

@@ -8,19 +8,11 @@
 
 use std::rc::Rc;
 
-use super::read::FleetReader;
+use super::read::{FleetMaterials, FleetReader};
 use crate::store::analysis;
 use crate::store::canon;
 use crate::store::model::Incident;
 use crate::store::{MaterialBook, OwnMaterial, StoreError};
-
-/// Every revision of every own material the fleet witnessed (current ones first, by bench
-/// code), and the current revisions alone.
-#[derive(Default)]
-pub(super) struct FleetMaterials {
-    pub(super) revisions: Vec<OwnMaterial>,
-    pub(super) current: Vec<OwnMaterial>,
-}
 
 impl FleetReader {
     /// The fleet's own materials, read once.

@@ -8,8 +8,8 @@
 use std::collections::BTreeSet;
 use std::path::Path;
 
-use super::verify::{first_difference, BundleCheck};
-use super::{BundleContent, BundleError};
+use super::super::{BundleContent, BundleError};
+use super::{first_difference, BundleCheck};
 use crate::report::source::{incident_content, Labels};
 use crate::store::{ReportSource, StoreError};
 
@@ -18,7 +18,7 @@ use crate::store::{ReportSource, StoreError};
 /// records and reference data.
 pub fn head_bench(s: &dyn ReportSource, dir: &Path) -> Result<Option<String>, BundleError> {
     let mut scratch = BundleCheck::default();
-    let Some((_, bf)) = super::verify::read_bundle_file(dir, &mut scratch) else {
+    let Some((_, bf)) = super::read_bundle_file(dir, &mut scratch) else {
         return Ok(None);
     };
     let Some(seq) = bf.content.audit_head_seq else {
@@ -100,7 +100,7 @@ pub(super) fn compare_with_fleet(
     let in_bundle: BTreeSet<&str> = c.incidents.iter().map(|i| i.reference.as_str()).collect();
     let qualifier = bench.as_ref().map(|b| format!("{b}/"));
     let mut added_later = 0;
-    for f in super::gather::selection_filters(&c.selection) {
+    for f in super::super::gather::selection_filters(&c.selection) {
         for id in s.matching_ids(&f)? {
             let inc = s.get(&id)?;
             let reference = match &qualifier {
