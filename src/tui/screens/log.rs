@@ -185,6 +185,27 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         .filter(|&i| body.width >= COLS[i].min_screen)
         .filter(|&i| i != BENCH_COL || app.on_fleet())
         .collect();
+    // the fleet's references carry their bench's code (BR-NORTH-…): the column fits the
+    // longest one shown, so none is cut to a prefix that several incidents share
+    let ref_width = if app.on_fleet() {
+        let longest = app
+            .log
+            .rows
+            .iter()
+            .map(|r| unicode_width::UnicodeWidthStr::width(clean(&r.reference).as_str()))
+            .max()
+            .unwrap_or(0);
+        (longest as u16).clamp(COLS[0].width, 26)
+    } else {
+        COLS[0].width
+    };
+    let col_width = |i: usize, screen: u16| {
+        if i == 0 {
+            ref_width
+        } else {
+            col_width(i, screen)
+        }
+    };
     let fixed: u16 = cols.iter().map(|&i| col_width(i, body.width)).sum::<u16>()
         + cols.len().saturating_sub(1) as u16;
     let fill = body.width.saturating_sub(fixed).max(6);
