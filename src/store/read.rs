@@ -55,8 +55,13 @@ pub trait RecordSource {
     fn fragmentation_minimums(
         &self,
     ) -> Result<Vec<shardlog_core::fracture::fragmentation::FragmentationMinimum>, StoreError>;
-    /// The bench file itself, for the work not yet done on the fleet database (None there).
-    fn as_bench(&self) -> Option<&Store>;
+    /// The incidents found inside `[since, until]` and the lots the heat-soak comparison
+    /// reads (`stats --heat-soak`).
+    fn soak_input(
+        &self,
+        since: Option<chrono::NaiveDate>,
+        until: Option<chrono::NaiveDate>,
+    ) -> Result<super::practice::SoakInput, StoreError>;
     /// The facts and exposure `stats` works on.
     fn stats_input(
         &self,
@@ -100,8 +105,12 @@ impl RecordSource for Store {
     ) -> Result<Vec<shardlog_core::fracture::fragmentation::FragmentationMinimum>, StoreError> {
         Store::fragmentation_minimums(self)
     }
-    fn as_bench(&self) -> Option<&Store> {
-        Some(self)
+    fn soak_input(
+        &self,
+        since: Option<chrono::NaiveDate>,
+        until: Option<chrono::NaiveDate>,
+    ) -> Result<super::practice::SoakInput, StoreError> {
+        Store::soak_input(self, since, until)
     }
     fn list(&self, filter: &Filter, sort: Sort, page: &PageRequest) -> Result<Page, StoreError> {
         // a bench file holds its own bench's incidents only

@@ -17,6 +17,7 @@ mod fleet_facts;
 mod fleet_moves;
 mod fleet_pull_mark;
 mod fleet_read;
+mod fleet_report;
 mod fleet_sync;
 mod found_bugs;
 mod fuzz_regressions;

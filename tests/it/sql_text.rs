@@ -48,6 +48,9 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("fleet/read.rs", "JOIN fleet_records r ON r.entity = 'incident' AND r.id = f.id {}", "where_clause of fixed condition texts"),
     ("fleet/read.rs", "SELECT count(*) FROM fleet_facts f {}", "where_clause of fixed condition texts"),
     ("fleet/read.rs", "SELECT f.found_on, {stress}", "stress: one of two literal column names by the StressKind enum; where_clause of fixed texts"),
+    ("fleet/read_report.rs", "SELECT f.id FROM fleet_facts f {} ORDER BY f.found_on, f.ord", "where_clause of fixed condition texts with $n placeholders"),
+    ("fleet/read_report.rs", "SELECT f.cause FROM fleet_facts f {}", "where_clause of fixed condition texts with $n placeholders"),
+    ("fleet/read_report.rs", "{} ORDER BY f.ord", "where_clause of fixed condition texts with $n placeholders"),
     ("sqlite/open.rs", "PRAGMA max_page_count = {n}", "n: a u32 parsed from SHARDLOG_TEST_MAX_PAGE_COUNT, debug builds only"),
 ];
 

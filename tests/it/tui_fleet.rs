@@ -207,7 +207,7 @@ fn the_fleet_at_80x24_shows_read_only_the_bench_column_and_filters_by_bench() {
         status(&lines)
     );
 
-    // an incident: the owner named on each edit key; its history stays at the bench
+    // an incident: the owner named on each edit key
     send(&mut app, &key(KeyCode::Enter));
     assert_eq!(app.screen(), Screen::Incident);
     let state = app.incident.as_ref().unwrap();
@@ -219,6 +219,8 @@ fn the_fleet_at_80x24_shows_read_only_the_bench_column_and_filters_by_bench() {
         .incident
         .reference
         .starts_with(&format!("BR-{owner}-")));
+    // the history as the fleet holds it (newest first, as at the bench)
+    assert!(!state.history.is_empty(), "no history from the fleet");
     send(&mut app, &key(KeyCode::Char('e')));
     assert_eq!(app.screen(), Screen::Incident, "no form opens on the fleet");
     let lines = render(&mut app, 80, 24);

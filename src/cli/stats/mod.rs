@@ -436,12 +436,7 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         let window = q
             .window(&incidents, &exposures, today)
             .map_err(CliError::usage)?;
-        let Some(bench) = store.as_bench() else {
-            return Err(CliError::usage(
-                "--heat-soak is not yet on the fleet database; run it on a bench file",
-            ));
-        };
-        let c = soak::comparison(bench, &exposures, &window)?;
+        let c = soak::comparison(store, &exposures, &window)?;
         if q.json {
             let mut v: Value =
                 serde_json::from_str(&text).map_err(|e| CliError::work(format!("json: {e}")))?;

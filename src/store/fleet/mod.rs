@@ -22,6 +22,8 @@ mod pull;
 mod pull_incidents;
 mod push;
 mod read;
+mod read_materials;
+mod read_report;
 mod resolve;
 mod schema;
 mod status;

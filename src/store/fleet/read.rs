@@ -20,27 +20,31 @@ use shardlog_core::fracture::fragmentation::FragmentationMinimum;
 
 /// A read-only view of the fleet database, of every bench or of one.
 pub struct FleetReader {
-    client: RefCell<Client>,
+    pub(super) client: RefCell<Client>,
     shown: String,
     /// Only this bench's incidents and reference data.
-    scope: Option<String>,
+    pub(super) scope: Option<String>,
     /// The reference data, read once.
     refdata: RefCell<Option<Rc<RefData>>>,
+    /// The own materials, read once when needed.
+    pub(super) materials: RefCell<Option<Rc<super::read_materials::FleetMaterials>>>,
+    /// Inside a report's read snapshot (one read-only transaction).
+    pub(super) in_snapshot: std::cell::Cell<bool>,
 }
 
 /// The benches' reference data, one entry per code (the first bench in code order gives
 /// an entry several benches hold).
 #[derive(Default)]
-struct RefData {
+pub(super) struct RefData {
     lookups: Vec<LookupEntry>,
     sites: Vec<Site>,
     suppliers: Vec<Supplier>,
     products: Vec<Product>,
-    lots: Vec<Lot>,
-    exposure: Vec<Exposure>,
+    pub(super) lots: Vec<Lot>,
+    pub(super) exposure: Vec<Exposure>,
     /// exposure id -> the bench that entered it
-    exposure_bench: HashMap<String, String>,
-    assets: Vec<Asset>,
+    pub(super) exposure_bench: HashMap<String, String>,
+    pub(super) assets: Vec<Asset>,
     /// The fragmentation table (audited as lookup entries keyed `fragmentation_minimum/…`).
     fragmentation: Vec<FragmentationMinimum>,
     /// (bench, asset code) -> asset type
@@ -59,12 +63,12 @@ fn store_error(e: FleetError) -> StoreError {
     }
 }
 
-fn pg(e: postgres::Error) -> StoreError {
+pub(super) fn pg(e: postgres::Error) -> StoreError {
     store_error(FleetError::from(e))
 }
 
 /// A value bound to a statement.
-enum Bound {
+pub(super) enum Bound {
     Text(String),
     Real(f64),
     Int(i64),
@@ -80,7 +84,7 @@ impl Bound {
     }
 }
 
-fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
+pub(super) fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
     args.iter().map(Bound::as_sql).collect()
 }
 
@@ -139,6 +143,8 @@ impl FleetReader {
             client: RefCell::new(fleet.client),
             scope,
             refdata: RefCell::new(None),
+            materials: RefCell::new(None),
+            in_snapshot: std::cell::Cell::new(false),
         })
     }
 
@@ -147,7 +153,7 @@ impl FleetReader {
         self.client.borrow_mut().query(sql, &[]).map_err(pg)
     }
 
-    fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
+    pub(super) fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
         if let Some(r) = self.refdata.borrow().as_ref() {
             return Ok(r.clone());
         }
@@ -273,7 +279,7 @@ impl FleetReader {
     }
 
     /// The conditions of a filter on `fleet_facts f`, with `$n` placeholders from `args`.
-    fn conditions(&self, filter: &Filter, args: &mut Vec<Bound>) -> Vec<String> {
+    pub(super) fn conditions(&self, filter: &Filter, args: &mut Vec<Bound>) -> Vec<String> {
         let mut conds = Vec::new();
         let mut bind = |column: &str, value: Option<&str>, conds: &mut Vec<String>| {
             if let Some(v) = value {
@@ -337,7 +343,7 @@ fn text_query(text: &str) -> Option<String> {
     (!terms.is_empty()).then(|| terms.join(" & "))
 }
 
-fn where_clause(conds: &[String]) -> String {
+pub(super) fn where_clause(conds: &[String]) -> String {
     if conds.is_empty() {
         String::new()
     } else {
@@ -542,9 +548,11 @@ impl FleetReader {
                 ))
             }
         };
-        incident_from(row.get(0), row.get(1)).map_err(|reference| {
+        let mut inc = incident_from(row.get(0), row.get(1)).map_err(|reference| {
             StoreError::Database(format!("the fleet's image of {reference} cannot be read"))
-        })
+        })?;
+        self.restore_analyses(&mut inc)?;
+        Ok(inc)
     }
 
     /// The incidents matching `filter` in the order found (the bench's export order), and
@@ -569,7 +577,10 @@ impl FleetReader {
         let mut damaged = Vec::new();
         for r in &rows {
             match incident_from(r.get(0), r.get(1)) {
-                Ok(inc) => good.push(inc),
+                Ok(mut inc) => {
+                    self.restore_analyses(&mut inc)?;
+                    good.push(inc)
+                }
                 Err(reference) => damaged.push(crate::store::exchange::Damaged {
                     reference,
                     why: "the fleet's image of it cannot be read".into(),
@@ -613,44 +624,7 @@ fn incident_from(reference: String, image: &str) -> Result<Incident, String> {
         return Err(reference);
     };
     inc.reference = reference;
-    restore_analyses(&mut inc);
     Ok(inc)
-}
-
-/// The fleet holds each result's analysis as the digest its image pins ("sha256:…"), not the
-/// analysis itself. Where this build recomputes an analysis whose canonical text has that
-/// digest, it is the very analysis the bench stored, and is put back; any other stays the
-/// pinned digest, as the fleet holds it.
-fn restore_analyses(inc: &mut Incident) {
-    let snapshot = inc.clone();
-    for (k, exam) in inc.examinations.iter_mut().enumerate() {
-        let Some(result) = exam.result.as_mut() else {
-            continue;
-        };
-        let Some(pinned) = result
-            .analysis
-            .as_str()
-            .and_then(|s| s.strip_prefix("sha256:"))
-            .map(str::to_string)
-        else {
-            continue;
-        };
-        let Some(Ok(analysis)) = crate::store::analysis::recompute_stored(
-            &snapshot,
-            &snapshot.examinations[k],
-            &crate::store::MaterialBook::library_only(),
-        ) else {
-            continue;
-        };
-        let Ok(fresh) = crate::store::analysis::to_result(&analysis, result.computed_at) else {
-            continue;
-        };
-        let analysis = canon::unsigned_zeros(fresh.analysis);
-        let text = canon::canonical_value(&analysis);
-        if canon::sha256_hex(text.as_bytes()) == pinned {
-            result.analysis = analysis;
-        }
-    }
 }
 
 impl RecordSource for FleetReader {
@@ -700,8 +674,12 @@ impl RecordSource for FleetReader {
     fn fragmentation_minimums(&self) -> Result<Vec<FragmentationMinimum>, StoreError> {
         Ok(self.refdata()?.fragmentation.clone())
     }
-    fn as_bench(&self) -> Option<&crate::store::Store> {
-        None
+    fn soak_input(
+        &self,
+        since: Option<chrono::NaiveDate>,
+        until: Option<chrono::NaiveDate>,
+    ) -> Result<crate::store::practice::SoakInput, StoreError> {
+        self.fleet_soak_input(since, until)
     }
     fn lots(&self) -> Result<Vec<Lot>, StoreError> {
         Ok(self.refdata()?.lots.clone())
