@@ -170,6 +170,9 @@ fn draw_footer(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
     let ctx = app.ctx();
     let mut all = keys::footer_for(ctx);
     all.retain(|b| keys::works_on(b, app));
+    if app.on_fleet() {
+        all.retain(|b| !keys::edits_records(b, app));
+    }
     // the help key is always shown, at the end; the others as many as fit before it
     let help = all
         .iter()

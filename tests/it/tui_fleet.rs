@@ -142,6 +142,9 @@ fn the_fleet_at_80x24_shows_read_only_the_bench_column_and_filters_by_bench() {
         status(&lines).contains("fleet · 120 incidents match"),
         "{lines:#?}"
     );
+    // the footer offers what works here: the bench key, not the new-incident key
+    let footer = lines.last().unwrap();
+    assert!(footer.contains("B bench") && !footer.contains("new incident"), "{footer}");
     let header = lines.iter().find(|l| l.contains("Reference")).unwrap();
     assert!(header.contains("Bench"), "{header}");
     let codes: std::collections::BTreeSet<&str> = app
