@@ -68,6 +68,26 @@ pub trait RecordSource {
         q: &shardlog_core::fleet::StatsQuery,
         extra: &[shardlog_core::fleet::Key],
     ) -> Result<StatsInput, StoreError>;
+    /// The facts `stats` works on counted where they are kept, when the records can count
+    /// them (the fleet database, from its counts by month); None: read [`Self::stats_input`].
+    /// `today` is the default end of the window.
+    fn stats_counted(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        today: chrono::NaiveDate,
+    ) -> Result<Option<CountedInput>, StoreError>;
+}
+
+/// Facts counted where they are kept: `facts[i]` stands for `counts[i]` incidents of its key
+/// values and date (a row of count 0 brings only its fracture stress, in the order the bench
+/// keeps them); the exposure rows the `--only` values leave; and the first date found of the
+/// incidents up to the end of the window (the default start of the window).
+#[derive(Debug, Clone, Default)]
+pub struct CountedInput {
+    pub facts: Vec<shardlog_core::fleet::IncidentFacts>,
+    pub counts: Vec<u64>,
+    pub exposures: Vec<shardlog_core::fleet::Exposure>,
+    pub earliest: Option<chrono::NaiveDate>,
 }
 
 impl RecordSource for Store {
@@ -155,5 +175,13 @@ impl RecordSource for Store {
         extra: &[shardlog_core::fleet::Key],
     ) -> Result<StatsInput, StoreError> {
         Store::stats_input(self, q, extra)
+    }
+    fn stats_counted(
+        &self,
+        _q: &shardlog_core::fleet::StatsQuery,
+        _today: chrono::NaiveDate,
+    ) -> Result<Option<CountedInput>, StoreError> {
+        // a bench file reads its narrow facts table in process
+        Ok(None)
     }
 }

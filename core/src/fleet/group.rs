@@ -91,6 +91,8 @@ pub enum FleetError {
     UnknownKey(String),
     #[error("the same key is given twice: {0}")]
     RepeatedKey(&'static str),
+    #[error("{facts} counted fact rows but {counts} counts")]
+    CountsMismatch { facts: usize, counts: usize },
 }
 
 /// A grouping key.
@@ -481,27 +483,46 @@ fn time_cells(k: Option<Key>, v: Option<&Val<'_>>, window: &Window) -> Vec<(Naiv
     }
 }
 
+/// How many incidents each fact row stands for: one each, or a count per row (facts counted
+/// where they are kept, a row per cell; a row of count 0 brings only its fracture stress).
+#[derive(Debug, Clone, Copy)]
+pub(super) enum Counts<'a> {
+    One,
+    Each(&'a [u64]),
+}
+
+impl Counts<'_> {
+    pub(super) fn of(self, i: usize) -> u64 {
+        match self {
+            Counts::One => 1,
+            Counts::Each(c) => c.get(i).copied().unwrap_or(0),
+        }
+    }
+}
+
 /// The incidents of the window by the values of the keys (with their fracture stresses when
 /// a Weibull fit is asked for), and how many incidents the window holds.
 fn count_groups<'a>(
     incidents: &'a [IncidentFacts],
+    counts: Counts<'_>,
     opts: &GroupOptions,
 ) -> (FxMap<[Val<'a>; 2], Acc>, u64) {
     let keys = &opts.keys;
     let mut map: FxMap<[Val<'_>; 2], Acc> = FxMap::default();
     let mut total = 0u64;
     let target = opts.origin_type.as_deref();
-    for f in incidents {
+    for (i, f) in incidents.iter().enumerate() {
         if !opts.window.contains(f.found) {
             continue;
         }
-        total += 1;
+        let n = counts.of(i);
+        total += n;
         let k = [
             val_of(f, keys[0]),
             keys.get(1).map_or(Val::Text(None), |&k| val_of(f, k)),
         ];
         let acc = map.entry(k).or_default();
-        acc.count += 1;
+        acc.count += n;
         if opts.weibull {
             if let Some(s) = f.stress_pa {
                 let censored = match target {
@@ -573,10 +594,38 @@ pub fn group(
     exposures: &[Exposure],
     opts: &GroupOptions,
 ) -> Result<GroupTable, FleetError> {
+    group_with(incidents, Counts::One, exposures, opts)
+}
+
+/// Group facts counted where they are kept: `incidents[i]` stands for `counts[i]` incidents
+/// with its key values and date (a row of count 0 brings only its fracture stress, for the
+/// Weibull fit). The same table as [`group`] over the incidents one by one, when the rows
+/// with stresses come in the same order.
+pub fn group_counted(
+    incidents: &[IncidentFacts],
+    counts: &[u64],
+    exposures: &[Exposure],
+    opts: &GroupOptions,
+) -> Result<GroupTable, FleetError> {
+    if counts.len() != incidents.len() {
+        return Err(FleetError::CountsMismatch {
+            facts: incidents.len(),
+            counts: counts.len(),
+        });
+    }
+    group_with(incidents, Counts::Each(counts), exposures, opts)
+}
+
+fn group_with(
+    incidents: &[IncidentFacts],
+    counts: Counts<'_>,
+    exposures: &[Exposure],
+    opts: &GroupOptions,
+) -> Result<GroupTable, FleetError> {
     check_keys(&opts.keys)?;
     let window = opts.window;
     let keys = &opts.keys;
-    let (map, total) = count_groups(incidents, opts);
+    let (map, total) = count_groups(incidents, counts, opts);
 
     let total_pane_years: f64 = exposures
         .iter()
@@ -751,7 +800,11 @@ pub fn round_histogram(values: &[f64], about: usize) -> Vec<(f64, f64, u64)> {
 
 /// The found dates of the incidents of each row of `table` inside its window, one list per
 /// row, in its order; the rows are found by the same key values the table was built from.
-pub(super) fn dates_by_row(incidents: &[IncidentFacts], table: &GroupTable) -> Vec<Vec<NaiveDate>> {
+pub(super) fn dates_by_row(
+    incidents: &[IncidentFacts],
+    counts: Counts<'_>,
+    table: &GroupTable,
+) -> Vec<Vec<NaiveDate>> {
     let keys = &table.keys;
     fn as_val(v: &GroupValue) -> Val<'_> {
         match v {
@@ -769,7 +822,7 @@ pub(super) fn dates_by_row(incidents: &[IncidentFacts], table: &GroupTable) -> V
         index.insert(k, i);
     }
     let mut dates: Vec<Vec<NaiveDate>> = vec![Vec::new(); table.rows.len()];
-    for f in incidents {
+    for (j, f) in incidents.iter().enumerate() {
         if !table.window.contains(f.found) {
             continue;
         }
@@ -778,7 +831,8 @@ pub(super) fn dates_by_row(incidents: &[IncidentFacts], table: &GroupTable) -> V
             keys.get(1).map_or(Val::Text(None), |&k| val_of(f, k)),
         ];
         if let Some(&i) = index.get(&k) {
-            dates[i].push(f.found);
+            let n = counts.of(j) as usize;
+            dates[i].extend(std::iter::repeat_n(f.found, n));
         }
     }
     dates

@@ -153,6 +153,36 @@ impl FleetReader {
         self.client.borrow_mut().query(sql, &[]).map_err(pg)
     }
 
+    /// The rows of a statement with its parameters.
+    pub(super) fn query_with(
+        &self,
+        sql: &str,
+        params: &[&(dyn ToSql + Sync)],
+    ) -> Result<Vec<postgres::Row>, StoreError> {
+        self.client.borrow_mut().query(sql, params).map_err(pg)
+    }
+
+    /// The one bench this reader is narrowed to.
+    pub(super) fn scope(&self) -> Option<&str> {
+        self.scope.as_deref()
+    }
+
+    /// The exposure rows (panes in service) of the reader's benches, as the statistics
+    /// take them.
+    pub(super) fn fleet_exposures(
+        &self,
+    ) -> Result<Vec<shardlog_core::fleet::Exposure>, StoreError> {
+        let refdata = self.refdata()?;
+        Ok(refdata
+            .exposure
+            .iter()
+            .map(|e| shardlog_core::fleet::Exposure {
+                bench: refdata.exposure_bench.get(&e.id).cloned(),
+                ..e.to_fleet()
+            })
+            .collect())
+    }
+
     pub(super) fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
         if let Some(r) = self.refdata.borrow().as_ref() {
             return Ok(r.clone());
@@ -487,6 +517,15 @@ impl FleetReader {
             _ => None,
         };
         let total = if page.with_total {
+            // from the counts by month where they can answer, not a count over millions
+            if let Some(n) = self.counted_total(&mut tx, filter)? {
+                tx.commit().map_err(pg)?;
+                return Ok(Page {
+                    rows: rows.into_iter().map(|(_, r)| r).collect(),
+                    next,
+                    total: Some(n),
+                });
+            }
             let sql = format!(
                 "SELECT count(*) FROM fleet_facts f {}",
                 where_clause(&conds)
@@ -532,7 +571,7 @@ impl FleetReader {
             .query(
                 "SELECT r.reference, r.image FROM fleet_records r
                  WHERE r.entity = 'incident' AND r.image IS NOT NULL
-                   AND (r.reference = $1 OR r.id = $1 OR lower(r.id) = lower($1))
+                   AND (r.reference = $1 OR r.id = $1 OR r.id = lower($1))
                    AND ($2::text IS NULL OR r.owner = $2)
                  LIMIT 2",
                 &[&key, &self.scope],
@@ -744,6 +783,13 @@ impl RecordSource for FleetReader {
     ) -> Result<StatsInput, StoreError> {
         self.facts(q, extra)
     }
+    fn stats_counted(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        today: chrono::NaiveDate,
+    ) -> Result<Option<crate::store::read::CountedInput>, StoreError> {
+        self.counted(q, today)
+    }
 }
 
 impl FleetReader {
@@ -837,14 +883,6 @@ impl FleetReader {
             }
             out.push(f);
         }
-        let exposure = refdata
-            .exposure
-            .iter()
-            .map(|e| shardlog_core::fleet::Exposure {
-                bench: refdata.exposure_bench.get(&e.id).cloned(),
-                ..e.to_fleet()
-            })
-            .collect();
-        Ok((out, exposure))
+        Ok((out, self.fleet_exposures()?))
     }
 }

@@ -58,7 +58,7 @@ impl FleetReader {
             .query(
                 "SELECT id, origin, owner, image, bench_seq FROM fleet_records
                  WHERE entity = 'incident' AND image IS NOT NULL
-                   AND (reference = $1 OR id = $1 OR lower(id) = lower($1))
+                   AND (reference = $1 OR id = $1 OR id = lower($1))
                    AND ($2::text IS NULL OR owner = $2)
                  LIMIT 2",
                 &[&key, &self.scope],
