@@ -434,6 +434,10 @@ impl FleetReader {
         if let Some(code) = self.scope() {
             conds.equal("owner", code);
         }
+        // the log's bench (the interface's bench filter): the counts carry the owner too
+        if let Some(code) = filter.bench.as_deref() {
+            conds.equal("owner", code);
+        }
         match filter.cause.as_deref() {
             Some(crate::store::NO_CAUSE) => conds.texts.push("cause IS NULL".into()),
             Some(c) => conds.equal("cause", c),
