@@ -32,7 +32,7 @@ use picklist::PickItem;
 use review::ReviewState;
 
 use crate::store::model::{LookupKind, Stamp};
-use crate::store::{RecordSource, Store, StoreError};
+use crate::store::{RecordSource, ReportSource, Store, StoreError};
 
 /// The screens. The first one on the stack is the top screen (`q` quits from there).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -219,7 +219,7 @@ pub struct App {
     /// The bench file: read and edited.
     pub store: Option<Store>,
     /// The fleet database, read only: edits are made at the owning bench (None on a bench).
-    pub fleet: Option<Box<dyn RecordSource>>,
+    pub fleet: Option<Box<dyn ReportSource>>,
     pub lists: Lists,
     /// Who the audit log records as the author of changes.
     pub actor: String,
@@ -260,11 +260,11 @@ pub struct App {
 /// the two fields, so that a caller may change another field of the app while reading.)
 pub(crate) fn read_side<'a>(
     store: &'a Option<Store>,
-    fleet: &'a Option<Box<dyn RecordSource>>,
+    fleet: &'a Option<Box<dyn ReportSource>>,
 ) -> Option<&'a dyn RecordSource> {
     match (store, fleet) {
         (Some(s), _) => Some(s),
-        (None, Some(f)) => Some(f.as_ref()),
+        (None, Some(f)) => Some(f.as_ref() as &dyn RecordSource),
         (None, None) => None,
     }
 }
@@ -386,14 +386,16 @@ impl App {
 
     /// Open the interface on the fleet database at the URL `db`, read only.
     pub fn open_fleet(db: &Path) -> anyhow::Result<Self> {
-        let fleet = crate::store::open_records(db, None)?;
+        let fleet = crate::store::open_reports(db, None)?;
         App::with_fleet(fleet, db)
     }
 
     /// The interface over the fleet's records (read only); the log is the top screen.
-    pub fn with_fleet(fleet: Box<dyn RecordSource>, db: &Path) -> anyhow::Result<Self> {
+    pub fn with_fleet(fleet: Box<dyn ReportSource>, db: &Path) -> anyhow::Result<Self> {
         let mut app = App::new(db);
         app.lists = lists_from(fleet.as_ref())?;
+        // the benches' own materials, as they pushed them: analyses show as at the bench
+        app.bench.set_materials(fleet.material_book()?);
         app.log.reload(fleet.as_ref())?;
         app.review.by_bench = true;
         app.fleet = Some(fleet);

@@ -7,7 +7,7 @@
 use chrono::{Months, NaiveDate};
 
 use crate::store::model::Filter;
-use crate::store::{RecordSource, Store};
+use crate::store::RecordSource;
 use shardlog_core::fleet::query::{self, StatsQuery, StressKind};
 use shardlog_core::fleet::{
     monthly_counts, round_histogram, GroupOptions, GroupTable, GroupValue, Key, MonthCount, Trend,
@@ -252,9 +252,8 @@ impl ReviewState {
     }
 
     /// Recompute everything from the store (`today` is the window's end).
-    /// `bench`: the bench file, when the records are one (the heat-soak comparison reads it).
-    pub fn load(&mut self, store: &dyn RecordSource, bench: Option<&Store>, today: NaiveDate) {
-        match compute(store, bench, &self.keys, self.window, today) {
+    pub fn load(&mut self, store: &dyn RecordSource, today: NaiveDate) {
+        match compute(store, &self.keys, self.window, today) {
             Ok(d) => {
                 self.data = Some(d);
                 self.error = None;
@@ -420,7 +419,6 @@ fn window_for(
 
 fn compute(
     store: &dyn RecordSource,
-    bench: Option<&Store>,
     keys: &[Key],
     choice: WindowChoice,
     today: NaiveDate,
@@ -500,15 +498,12 @@ fn compute(
         weibull,
         exposure_rows: exposures.len(),
         group_trends: r.group_trends.unwrap_or_default(),
-        soak: match bench {
-            Some(bench) => bench
-                .soak_input(Some(window.since), Some(window.until))
-                .map(|(facts, lots)| {
-                    shardlog_core::fleet::heat_soak::compare(&facts, &lots, &exposures, &window)
-                })
-                .map_err(|e| e.to_string()),
-            None => Err("the heat-soak comparison is not yet on the fleet database".to_string()),
-        },
+        soak: store
+            .soak_input(Some(window.since), Some(window.until))
+            .map(|(facts, lots)| {
+                shardlog_core::fleet::heat_soak::compare(&facts, &lots, &exposures, &window)
+            })
+            .map_err(|e| e.to_string()),
     })
 }
 

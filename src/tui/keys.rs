@@ -271,7 +271,7 @@ pub static TABLE: &[Binding] = &[
         label: "B",
         desc: "bench: one bench's incidents, or every bench's",
         action: Action::FilterBench,
-        footer: false,
+        footer: true,
     },
     Binding {
         ctxs: &[Log],
@@ -684,6 +684,29 @@ pub fn works_on(b: &Binding, app: &crate::app::App) -> bool {
         // a bench file holds its own bench's incidents only
         Action::FilterBench => app.on_fleet(),
         _ => true,
+    }
+}
+
+/// Whether the footer leaves the binding out on the fleet database, where it would change
+/// the records (the key still answers, saying where the edit is made; help lists it).
+pub fn edits_records(b: &Binding, app: &crate::app::App) -> bool {
+    use crate::app::Screen;
+    match b.action {
+        Action::NewIncident
+        | Action::Attach
+        | Action::AddCustody
+        | Action::Revert
+        | Action::AddExposure
+        | Action::AddEntry
+        | Action::RetireOrRestore
+        | Action::AddMaterial
+        | Action::CopyMaterial => true,
+        Action::Edit => matches!(
+            app.screen(),
+            Screen::Incident | Screen::Lookups | Screen::Materials
+        ),
+        Action::Save => app.screen() == Screen::Bench,
+        _ => false,
     }
 }
 

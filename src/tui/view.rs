@@ -109,11 +109,16 @@ fn draw_name_entry(entry: &crate::app::field::Field, f: &mut Frame, body: Rect, 
 }
 
 fn draw_title(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
-    let left = format!(
-        " shardlog · {} · {}",
-        screen_title(app),
-        fit(&widgets::clean(&app.actor), 24)
-    );
+    // on the fleet nothing is recorded under a name
+    let left = if app.on_fleet() {
+        format!(" shardlog · {}", screen_title(app))
+    } else {
+        format!(
+            " shardlog · {} · {}",
+            screen_title(app),
+            fit(&widgets::clean(&app.actor), 24)
+        )
+    };
     // where the records are (the fleet: its host and database, never a password), then
     // what may be done there, which is never cut
     let (place, what) = match &app.fleet {
@@ -165,6 +170,9 @@ fn draw_footer(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
     let ctx = app.ctx();
     let mut all = keys::footer_for(ctx);
     all.retain(|b| keys::works_on(b, app));
+    if app.on_fleet() {
+        all.retain(|b| !keys::edits_records(b, app));
+    }
     // the help key is always shown, at the end; the others as many as fit before it
     let help = all
         .iter()

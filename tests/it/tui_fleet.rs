@@ -142,6 +142,12 @@ fn the_fleet_at_80x24_shows_read_only_the_bench_column_and_filters_by_bench() {
         status(&lines).contains("fleet · 120 incidents match"),
         "{lines:#?}"
     );
+    // the footer offers what works here: the bench key, not the new-incident key
+    let footer = lines.last().unwrap();
+    assert!(
+        footer.contains("B bench") && !footer.contains("new incident"),
+        "{footer}"
+    );
     let header = lines.iter().find(|l| l.contains("Reference")).unwrap();
     assert!(header.contains("Bench"), "{header}");
     let codes: std::collections::BTreeSet<&str> = app
@@ -207,7 +213,7 @@ fn the_fleet_at_80x24_shows_read_only_the_bench_column_and_filters_by_bench() {
         status(&lines)
     );
 
-    // an incident: the owner named on each edit key; its history stays at the bench
+    // an incident: the owner named on each edit key
     send(&mut app, &key(KeyCode::Enter));
     assert_eq!(app.screen(), Screen::Incident);
     let state = app.incident.as_ref().unwrap();
@@ -219,6 +225,8 @@ fn the_fleet_at_80x24_shows_read_only_the_bench_column_and_filters_by_bench() {
         .incident
         .reference
         .starts_with(&format!("BR-{owner}-")));
+    // the history as the fleet holds it (newest first, as at the bench)
+    assert!(!state.history.is_empty(), "no history from the fleet");
     send(&mut app, &key(KeyCode::Char('e')));
     assert_eq!(app.screen(), Screen::Incident, "no form opens on the fleet");
     let lines = render(&mut app, 80, 24);
@@ -318,4 +326,17 @@ fn the_review_on_the_fleet_groups_by_bench_and_opens_a_bench_in_the_log() {
         .rows
         .iter()
         .all(|r| r.bench.as_deref() == Some(first.as_str())));
+}
+
+#[test]
+fn a_fleet_that_cannot_be_reached_fails_plainly_before_the_terminal_is_taken() {
+    let dir = tempfile::tempdir().unwrap();
+    // a socket folder with no server in it
+    let url = format!("postgresql:///nofleet?host={}", dir.path().display());
+    let o = crate::fleet_sync::run(&["--db", &url]);
+    assert_eq!(o.status.code(), Some(1), "{}", crate::fleet_sync::err(&o));
+    let err = crate::fleet_sync::err(&o);
+    assert!(err.contains("cannot open the fleet database"), "{err}");
+    // no terminal set-up was written (the alternate screen is never entered)
+    assert!(!crate::fleet_sync::out(&o).contains("\u{1b}[?1049h"));
 }

@@ -9,11 +9,12 @@ impl App {
         let Some(records) = crate::app::read_side(&self.store, &self.fleet) else {
             return;
         };
-        // the history is kept by the bench file (on the fleet: at the owning bench)
         let loaded = records.get(key).and_then(|inc| {
-            let history = match self.store.as_ref() {
-                Some(store) => store.history(&inc.id)?,
-                None => Vec::new(),
+            let history = match (self.store.as_ref(), self.fleet.as_ref()) {
+                (Some(store), _) => store.history(&inc.id)?,
+                // the history as the fleet holds it, oldest first as the bench gives it
+                (None, Some(fleet)) => fleet.history(&inc.id)?,
+                (None, None) => Vec::new(),
             };
             let owner = match self.fleet.as_ref() {
                 Some(fleet) => fleet.owner_of(&inc.id)?,

@@ -25,7 +25,7 @@ impl App {
             self.error("no database is open: the review needs the incident records");
             return;
         };
-        self.review.load(records, self.store.as_ref(), today);
+        self.review.load(records, today);
     }
 
     pub(super) fn update_review(&mut self, action: Action) {
