@@ -26,6 +26,8 @@ use super::weibull::{fit, Specimen, WeibullError, WeibullFit};
 /// distinct values, and the store hands out one copy of each (`"x".into()` makes one).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct IncidentFacts {
+    /// The bench that owns the incident (the fleet database; a bench file: its own code).
+    pub bench: Option<Rc<str>>,
     pub cause: Option<Rc<str>>,
     pub origin_type: Option<Rc<str>>,
     pub supplier: Option<Rc<str>>,
@@ -44,6 +46,9 @@ pub struct IncidentFacts {
 /// `until` (inclusive; `None` = still in service at the end of the window).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Exposure {
+    /// The bench that entered the panes (its incidents are counted against them when
+    /// grouped by bench).
+    pub bench: Option<String>,
     pub supplier: Option<String>,
     pub product: Option<String>,
     pub lot: Option<String>,
@@ -86,11 +91,15 @@ pub enum FleetError {
     UnknownKey(String),
     #[error("the same key is given twice: {0}")]
     RepeatedKey(&'static str),
+    #[error("{facts} counted fact rows but {counts} counts")]
+    CountsMismatch { facts: usize, counts: usize },
 }
 
 /// A grouping key.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum Key {
+    /// The bench that owns the incident (a fleet of benches).
+    Bench,
     Cause,
     OriginType,
     Supplier,
@@ -106,7 +115,8 @@ pub enum Key {
 }
 
 impl Key {
-    pub const ALL: [Key; 10] = [
+    pub const ALL: [Key; 11] = [
+        Key::Bench,
         Key::Cause,
         Key::OriginType,
         Key::Supplier,
@@ -119,10 +129,11 @@ impl Key {
         Key::Season,
     ];
     const LIST: &'static str =
-        "cause, origin-type, supplier, product, lot, site, asset-type, temper, month, season";
+        "bench, cause, origin-type, supplier, product, lot, site, asset-type, temper, month, season";
 
     pub fn name(self) -> &'static str {
         match self {
+            Key::Bench => "bench",
             Key::Cause => "cause",
             Key::OriginType => "origin-type",
             Key::Supplier => "supplier",
@@ -140,6 +151,7 @@ impl Key {
     pub fn parse(text: &str) -> Result<Key, FleetError> {
         let t = text.trim().to_ascii_lowercase().replace('_', "-");
         let k = match t.as_str() {
+            "bench" => Key::Bench,
             "cause" => Key::Cause,
             "origin-type" | "origin" => Key::OriginType,
             "supplier" => Key::Supplier,
@@ -167,7 +179,10 @@ impl Key {
 
     /// Keys that exposure rows carry.
     pub fn is_exposure(self) -> bool {
-        matches!(self, Key::Supplier | Key::Product | Key::Lot | Key::Site)
+        matches!(
+            self,
+            Key::Bench | Key::Supplier | Key::Product | Key::Lot | Key::Site
+        )
     }
 
     /// Keys that cut time.
@@ -263,6 +278,7 @@ impl Val<'_> {
 
 fn text_of(f: &IncidentFacts, k: Key) -> Option<&str> {
     match k {
+        Key::Bench => f.bench.as_deref(),
         Key::Cause => f.cause.as_deref(),
         Key::OriginType => f.origin_type.as_deref(),
         Key::Supplier => f.supplier.as_deref(),
@@ -285,6 +301,7 @@ fn val_of(f: &IncidentFacts, k: Key) -> Val<'_> {
 
 fn exposure_text(e: &Exposure, k: Key) -> Option<&str> {
     match k {
+        Key::Bench => e.bench.as_deref(),
         Key::Supplier => e.supplier.as_deref(),
         Key::Product => e.product.as_deref(),
         Key::Lot => e.lot.as_deref(),
@@ -466,27 +483,46 @@ fn time_cells(k: Option<Key>, v: Option<&Val<'_>>, window: &Window) -> Vec<(Naiv
     }
 }
 
+/// How many incidents each fact row stands for: one each, or a count per row (facts counted
+/// where they are kept, a row per cell; a row of count 0 brings only its fracture stress).
+#[derive(Debug, Clone, Copy)]
+pub(super) enum Counts<'a> {
+    One,
+    Each(&'a [u64]),
+}
+
+impl Counts<'_> {
+    pub(super) fn of(self, i: usize) -> u64 {
+        match self {
+            Counts::One => 1,
+            Counts::Each(c) => c.get(i).copied().unwrap_or(0),
+        }
+    }
+}
+
 /// The incidents of the window by the values of the keys (with their fracture stresses when
 /// a Weibull fit is asked for), and how many incidents the window holds.
 fn count_groups<'a>(
     incidents: &'a [IncidentFacts],
+    counts: Counts<'_>,
     opts: &GroupOptions,
 ) -> (FxMap<[Val<'a>; 2], Acc>, u64) {
     let keys = &opts.keys;
     let mut map: FxMap<[Val<'_>; 2], Acc> = FxMap::default();
     let mut total = 0u64;
     let target = opts.origin_type.as_deref();
-    for f in incidents {
+    for (i, f) in incidents.iter().enumerate() {
         if !opts.window.contains(f.found) {
             continue;
         }
-        total += 1;
+        let n = counts.of(i);
+        total += n;
         let k = [
             val_of(f, keys[0]),
             keys.get(1).map_or(Val::Text(None), |&k| val_of(f, k)),
         ];
         let acc = map.entry(k).or_default();
-        acc.count += 1;
+        acc.count += n;
         if opts.weibull {
             if let Some(s) = f.stress_pa {
                 let censored = match target {
@@ -558,10 +594,38 @@ pub fn group(
     exposures: &[Exposure],
     opts: &GroupOptions,
 ) -> Result<GroupTable, FleetError> {
+    group_with(incidents, Counts::One, exposures, opts)
+}
+
+/// Group facts counted where they are kept: `incidents[i]` stands for `counts[i]` incidents
+/// with its key values and date (a row of count 0 brings only its fracture stress, for the
+/// Weibull fit). The same table as [`group`] over the incidents one by one, when the rows
+/// with stresses come in the same order.
+pub fn group_counted(
+    incidents: &[IncidentFacts],
+    counts: &[u64],
+    exposures: &[Exposure],
+    opts: &GroupOptions,
+) -> Result<GroupTable, FleetError> {
+    if counts.len() != incidents.len() {
+        return Err(FleetError::CountsMismatch {
+            facts: incidents.len(),
+            counts: counts.len(),
+        });
+    }
+    group_with(incidents, Counts::Each(counts), exposures, opts)
+}
+
+fn group_with(
+    incidents: &[IncidentFacts],
+    counts: Counts<'_>,
+    exposures: &[Exposure],
+    opts: &GroupOptions,
+) -> Result<GroupTable, FleetError> {
     check_keys(&opts.keys)?;
     let window = opts.window;
     let keys = &opts.keys;
-    let (map, total) = count_groups(incidents, opts);
+    let (map, total) = count_groups(incidents, counts, opts);
 
     let total_pane_years: f64 = exposures
         .iter()
@@ -736,7 +800,11 @@ pub fn round_histogram(values: &[f64], about: usize) -> Vec<(f64, f64, u64)> {
 
 /// The found dates of the incidents of each row of `table` inside its window, one list per
 /// row, in its order; the rows are found by the same key values the table was built from.
-pub(super) fn dates_by_row(incidents: &[IncidentFacts], table: &GroupTable) -> Vec<Vec<NaiveDate>> {
+pub(super) fn dates_by_row(
+    incidents: &[IncidentFacts],
+    counts: Counts<'_>,
+    table: &GroupTable,
+) -> Vec<Vec<NaiveDate>> {
     let keys = &table.keys;
     fn as_val(v: &GroupValue) -> Val<'_> {
         match v {
@@ -754,7 +822,7 @@ pub(super) fn dates_by_row(incidents: &[IncidentFacts], table: &GroupTable) -> V
         index.insert(k, i);
     }
     let mut dates: Vec<Vec<NaiveDate>> = vec![Vec::new(); table.rows.len()];
-    for f in incidents {
+    for (j, f) in incidents.iter().enumerate() {
         if !table.window.contains(f.found) {
             continue;
         }
@@ -763,7 +831,8 @@ pub(super) fn dates_by_row(incidents: &[IncidentFacts], table: &GroupTable) -> V
             keys.get(1).map_or(Val::Text(None), |&k| val_of(f, k)),
         ];
         if let Some(&i) = index.get(&k) {
-            dates[i].push(f.found);
+            let n = counts.of(j) as usize;
+            dates[i].extend(std::iter::repeat_n(f.found, n));
         }
     }
     dates

@@ -19,14 +19,14 @@ pub mod trend;
 pub mod weibull;
 
 pub use group::{
-    group, histogram, round_histogram, specimens, Exposure, FleetError, GroupOptions, GroupRow,
-    GroupTable, GroupValue, IncidentFacts, Key, Window,
+    group, group_counted, histogram, round_histogram, specimens, Exposure, FleetError,
+    GroupOptions, GroupRow, GroupTable, GroupValue, IncidentFacts, Key, Window,
 };
 pub use query::{StatsQuery, StressKind};
 pub use rates::{poisson_interval, rate_per_1000, rate_ratio, Rate, RateRatio};
 pub use trend::{
-    group_trends, monthly_counts, seasonality, seasonality_of_months, trend, GroupTrend,
-    MonthCount, Seasonality, Trend,
+    group_trends, group_trends_counted, monthly_counts, seasonality, seasonality_of_months, trend,
+    GroupTrend, MonthCount, Seasonality, Trend,
 };
 pub use weibull::{
     fit, fit_population, fit_values, BoundMethod, Interval, Specimen, WeibullError, WeibullFit,
@@ -35,3 +35,6 @@ pub use weibull::{
 /// The one word that marks a group significantly above the rest of the fleet (exact test,
 /// Holm-adjusted), in the command line, the interface and the reports alike.
 pub const FLAG_WORD: &str = "HIGH";
+
+#[cfg(test)]
+mod counted_tests;

@@ -6,6 +6,7 @@
 
 use chrono::NaiveDate;
 
+use super::group::{group_counted, Counts};
 use super::trend::{seasonality, trend, Seasonality, Trend};
 use super::{group, Exposure, GroupOptions, GroupTable, IncidentFacts, Key, Window};
 
@@ -52,11 +53,27 @@ impl StatsQuery {
         today: NaiveDate,
     ) -> Result<Window, String> {
         let until = self.until.unwrap_or(today);
+        let earliest = incidents
+            .iter()
+            .map(|f| f.found)
+            .filter(|d| *d <= until)
+            .min();
+        self.window_from(earliest, exposures, today)
+    }
+
+    /// The window when the facts are counted where they are kept: `earliest` is the first
+    /// date found of the incidents up to the end of the window (the default end: `today`).
+    pub fn window_from(
+        &self,
+        earliest: Option<NaiveDate>,
+        exposures: &[Exposure],
+        today: NaiveDate,
+    ) -> Result<Window, String> {
+        let until = self.until.unwrap_or(today);
         let since = match self.since {
             Some(s) => s,
-            None => incidents
-                .iter()
-                .map(|f| f.found)
+            None => earliest
+                .into_iter()
                 .chain(exposures.iter().map(|e| e.from))
                 .filter(|d| *d <= until)
                 .min()
@@ -122,6 +139,36 @@ pub fn compute(
     exposures: &[Exposure],
     window: Window,
 ) -> Result<StatsResult, String> {
+    compute_with(q, incidents, Counts::One, exposures, window)
+}
+
+/// Compute the statistics of facts counted where they are kept: `incidents[i]` stands for
+/// `counts[i]` incidents (see [`super::group::group_counted`]); the same figures as
+/// [`compute`] over the incidents one by one.
+pub fn compute_counted(
+    q: &StatsQuery,
+    incidents: &[IncidentFacts],
+    counts: &[u64],
+    exposures: &[Exposure],
+    window: Window,
+) -> Result<StatsResult, String> {
+    if counts.len() != incidents.len() {
+        return Err(format!(
+            "{} counted fact rows but {} counts",
+            incidents.len(),
+            counts.len()
+        ));
+    }
+    compute_with(q, incidents, Counts::Each(counts), exposures, window)
+}
+
+fn compute_with(
+    q: &StatsQuery,
+    incidents: &[IncidentFacts],
+    counts: Counts<'_>,
+    exposures: &[Exposure],
+    window: Window,
+) -> Result<StatsResult, String> {
     let opts = GroupOptions {
         keys: q.keys.clone(),
         window,
@@ -130,13 +177,18 @@ pub fn compute(
         origin_type: q.origin_type.clone(),
         flag_level: 0.05,
     };
-    let table = group(incidents, exposures, &opts).map_err(|e| e.to_string())?;
+    let table = match counts {
+        Counts::One => group(incidents, exposures, &opts),
+        Counts::Each(c) => group_counted(incidents, c, exposures, &opts),
+    }
+    .map_err(|e| e.to_string())?;
     let (trend_r, season) = if q.trend {
-        let dates: Vec<NaiveDate> = incidents
-            .iter()
-            .map(|f| f.found)
-            .filter(|d| window.contains(*d))
-            .collect();
+        let mut dates: Vec<NaiveDate> = Vec::new();
+        for (i, f) in incidents.iter().enumerate() {
+            if window.contains(f.found) {
+                dates.extend(std::iter::repeat_n(f.found, counts.of(i) as usize));
+            }
+        }
         (
             Some(trend(&dates, exposures, &window).map_err(|e| e.to_string())),
             Some(seasonality(&dates, exposures, &window)),
@@ -150,8 +202,10 @@ pub fn compute(
     } else {
         None
     };
-    let group_trends = (q.trend && !q.keys.iter().any(|k| k.is_time()))
-        .then(|| super::group_trends(incidents, exposures, &table));
+    let group_trends = (q.trend && !q.keys.iter().any(|k| k.is_time())).then(|| match counts {
+        Counts::One => super::group_trends(incidents, exposures, &table),
+        Counts::Each(c) => super::trend::group_trends_counted(incidents, c, exposures, &table),
+    });
     Ok(StatsResult {
         table,
         trend: trend_r,

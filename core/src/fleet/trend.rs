@@ -21,7 +21,8 @@
 use chrono::{Datelike, NaiveDate};
 
 use super::group::{
-    dates_by_row, months_in, pane_years, row_exposures, Exposure, GroupTable, IncidentFacts, Window,
+    dates_by_row, months_in, pane_years, row_exposures, Counts, Exposure, GroupTable,
+    IncidentFacts, Window,
 };
 use super::rates::holm_adjust;
 use super::special::{chi2_sf, normal_quantile};
@@ -350,12 +351,32 @@ pub fn group_trends(
     exposures: &[Exposure],
     table: &GroupTable,
 ) -> Vec<Option<GroupTrend>> {
+    group_trends_with(incidents, Counts::One, exposures, table)
+}
+
+/// [`group_trends`] of facts counted where they are kept: `incidents[i]` stands for
+/// `counts[i]` incidents (see [`super::group::group_counted`]).
+pub fn group_trends_counted(
+    incidents: &[IncidentFacts],
+    counts: &[u64],
+    exposures: &[Exposure],
+    table: &GroupTable,
+) -> Vec<Option<GroupTrend>> {
+    group_trends_with(incidents, Counts::Each(counts), exposures, table)
+}
+
+fn group_trends_with(
+    incidents: &[IncidentFacts],
+    counts: Counts<'_>,
+    exposures: &[Exposure],
+    table: &GroupTable,
+) -> Vec<Option<GroupTrend>> {
     let keys = &table.keys;
     if keys.iter().any(|k| k.is_time()) {
         return vec![None; table.rows.len()];
     }
     let window = table.window;
-    let dates = dates_by_row(incidents, table);
+    let dates = dates_by_row(incidents, counts, table);
     let mut out: Vec<Option<GroupTrend>> = table
         .rows
         .iter()

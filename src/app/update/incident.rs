@@ -6,14 +6,23 @@ use crate::app::{Action, App, Screen};
 impl App {
     /// Load an incident (by id or reference) with its history and show it.
     pub fn open_incident(&mut self, key: &str) {
-        let Some(store) = self.store.as_ref() else {
+        let Some(records) = crate::app::read_side(&self.store, &self.fleet) else {
             return;
         };
-        let loaded = store
-            .get(key)
-            .and_then(|inc| store.history(&inc.id).map(|h| (inc, h)));
+        // the history is kept by the bench file (on the fleet: at the owning bench)
+        let loaded = records.get(key).and_then(|inc| {
+            let history = match self.store.as_ref() {
+                Some(store) => store.history(&inc.id)?,
+                None => Vec::new(),
+            };
+            let owner = match self.fleet.as_ref() {
+                Some(fleet) => fleet.owner_of(&inc.id)?,
+                None => None,
+            };
+            Ok((inc, history, owner))
+        });
         match loaded {
-            Ok((incident, mut history)) => {
+            Ok((incident, mut history, owner)) => {
                 history.reverse();
                 let section = self
                     .incident
@@ -27,6 +36,7 @@ impl App {
                     scroll: 0,
                     history_cursor: 0,
                     scroll_max: std::cell::Cell::new(u16::MAX),
+                    owner,
                 });
                 if self.screen() != Screen::Incident {
                     self.stack.push(Screen::Incident);
@@ -42,7 +52,7 @@ impl App {
             self.open_incident(&id);
             self.stack = keep;
         }
-        if let Some(store) = self.store.as_ref() {
+        if let Some(store) = crate::app::read_side(&self.store, &self.fleet) {
             let r = self.log.refresh(store);
             self.report(r);
         }

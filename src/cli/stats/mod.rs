@@ -14,7 +14,10 @@ use serde_json::{json, Value};
 
 use super::weibull::fit_json;
 use super::{parse_day, CliError, Context};
-use shardlog_core::fleet::query::{apply_only, compute, StatsQuery, StatsResult, StressKind};
+use crate::store::read::CountedInput;
+use shardlog_core::fleet::query::{
+    apply_only, compute, compute_counted, StatsQuery, StatsResult, StressKind,
+};
 use shardlog_core::fleet::query::{
     METHOD_FLAG, METHOD_GROUP_TREND, METHOD_RATE, METHOD_RATIO, METHOD_SEASON, METHOD_TREND,
 };
@@ -315,12 +318,31 @@ pub fn render(
         .window(incidents, exposures, today)
         .map_err(CliError::usage)?;
     let r = compute(q, incidents, exposures, window).map_err(CliError::usage)?;
+    printed(q, &r)
+}
+
+/// Render the statistics of facts counted where they are kept (the same text and JSON as
+/// [`render`] of the incidents one by one).
+pub fn render_counted(
+    q: &StatsQuery,
+    c: &CountedInput,
+    today: NaiveDate,
+) -> Result<String, CliError> {
+    let window = q
+        .window_from(c.earliest, &c.exposures, today)
+        .map_err(CliError::usage)?;
+    let r =
+        compute_counted(q, &c.facts, &c.counts, &c.exposures, window).map_err(CliError::usage)?;
+    printed(q, &r)
+}
+
+fn printed(q: &StatsQuery, r: &StatsResult) -> Result<String, CliError> {
     if q.json {
-        serde_json::to_string_pretty(&to_json(q, &r))
+        serde_json::to_string_pretty(&to_json(q, r))
             .map(|s| s + "\n")
             .map_err(|e| CliError::work(format!("JSON output: {e}")))
     } else {
-        Ok(to_text(q, &r))
+        Ok(to_text(q, r))
     }
 }
 
@@ -336,7 +358,8 @@ fn only_field(key: Key) -> Option<super::codes::Field> {
         Key::Site => Field::Site,
         Key::AssetType => Field::AssetType,
         Key::Temper => Field::Temper,
-        Key::Month | Key::Season => return None,
+        // bench codes are the fleet's own: taken as typed
+        Key::Bench | Key::Month | Key::Season => return None,
     })
 }
 
@@ -420,6 +443,22 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let store = super::records::open_records(&ctx.db, args.bench.as_deref())?;
     let store = store.as_ref();
     resolve_codes(store, &mut q)?;
+    // The clock is read here, at the edge: the default end of the window is today.
+    let today = chrono::Utc::now().date_naive();
+    if !args.heat_soak {
+        // the fleet database counts where the data is
+        let counted = store
+            .stats_counted(&q, today)
+            .map_err(|e| CliError::work(e.to_string()))?;
+        if let Some(mut c) = counted {
+            if !q.json {
+                readable(store, &mut q, &mut c.facts)?;
+            }
+            let text = render_counted(&q, &c, today)?;
+            ctx.out.write_all(text.as_bytes())?;
+            return Ok(());
+        }
+    }
     let (mut incidents, mut exposures) = store
         .stats_input(&q, &[])
         .map_err(|e| CliError::work(e.to_string()))?;
@@ -428,19 +467,12 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         // the text shows the labels people read; --json keeps the codes
         readable(store, &mut q, &mut incidents)?;
     }
-    // The clock is read here, at the edge: the default end of the window is today.
-    let today = chrono::Utc::now().date_naive();
     let mut text = render(&q, &incidents, &exposures, today)?;
     if args.heat_soak {
         let window = q
             .window(&incidents, &exposures, today)
             .map_err(CliError::usage)?;
-        let Some(bench) = store.as_bench() else {
-            return Err(CliError::usage(
-                "--heat-soak is not yet on the fleet database; run it on a bench file",
-            ));
-        };
-        let c = soak::comparison(bench, &exposures, &window)?;
+        let c = soak::comparison(store, &exposures, &window)?;
         if q.json {
             let mut v: Value =
                 serde_json::from_str(&text).map_err(|e| CliError::work(format!("json: {e}")))?;
@@ -504,6 +536,7 @@ mod tests {
             });
         }
         let ex = |s: &str, lot: &str, n: f64| Exposure {
+            bench: None,
             supplier: Some(s.into()),
             product: None,
             lot: Some(lot.into()),

@@ -170,6 +170,9 @@ pub fn column_kind(column: &str) -> Option<LookupKind> {
     })
 }
 
+/// What an analysis computed on import says of itself (its `source`).
+pub(crate) const COMPUTED_ON_IMPORT: &str = "computed from the readings of a CSV import";
+
 /// Compute each examination's results from its readings, as the bench does, replacing
 /// figures typed in the file's stress columns. A refusal of the calculation is a problem of
 /// the record's line.
@@ -194,10 +197,7 @@ pub fn compute_results(
                 Ok(mut result) => {
                     super::super::analysis::keep_own_material(&mut result, &input, book);
                     if let serde_json::Value::Object(map) = &mut result.analysis {
-                        map.insert(
-                            "source".to_string(),
-                            "computed from the readings of a CSV import".into(),
-                        );
+                        map.insert("source".to_string(), COMPUTED_ON_IMPORT.into());
                     }
                     exam.material = Some(input.material.key.replace('-', "_"));
                     exam.result = Some(result);

@@ -1,7 +1,8 @@
 //! `verify` on the fleet database: every bench's witnessed chain (each row's hash is its
 //! content and its link, the rows numbered without a gap, the head where the chain ends), the
-//! fleet's own chain of receipts, every record against its digest, and the read tables kept on
-//! ingest against the images they come from. Read-only: run as the reader role or anyone.
+//! fleet's own chain of receipts, every record against its digest, the read tables kept on
+//! ingest against the images they come from, and the counts by month against those facts.
+//! Read-only: run as the reader role or anyone.
 
 use super::read::FleetReader;
 use crate::store::StoreError;
@@ -98,6 +99,22 @@ ORDER BY 1 LIMIT 20";
 
 const FACT_COUNT: &str = "SELECT count(*) FROM fleet_facts";
 
+/// Cells of the counts by month (schema/fleet/0007_counts.sql) that differ from the facts
+/// counted afresh: the bench, the month and what the counts hold against the facts.
+const COUNT_PROBLEMS: &str = "
+WITH fresh AS (
+    SELECT owner, left(found_on, 7) AS month, cause, origin_type, supplier, product, lot, site,
+           temper, count(*) AS n
+    FROM fleet_facts GROUP BY 1, 2, 3, 4, 5, 6, 7, 8, 9
+), kept AS (
+    SELECT owner, month, cause, origin_type, supplier, product, lot, site, temper, n
+    FROM fleet_fact_months
+)
+SELECT owner, month::text, 'counts' AS side, n FROM (SELECT * FROM kept EXCEPT ALL SELECT * FROM fresh) a
+UNION ALL
+SELECT owner, month::text, 'facts', n FROM (SELECT * FROM fresh EXCEPT ALL SELECT * FROM kept) b
+ORDER BY 1, 2, 3 LIMIT 20";
+
 impl FleetReader {
     /// Check the whole fleet database (every bench, whatever the reader's scope).
     pub fn check(&self) -> Result<FleetCheck, StoreError> {
@@ -144,6 +161,13 @@ impl FleetReader {
             problems.push(format!(
                 "incident {}: the fleet's read tables (fleet_facts, fleet_search) differ from its image",
                 reference.unwrap_or_else(|| "(no reference)".into())
+            ));
+        }
+        for r in &self.query(COUNT_PROBLEMS)? {
+            let (bench, month, side, n): (String, String, String, i64) =
+                (r.get(0), r.get(1), r.get(2), r.get(3));
+            problems.push(format!(
+                "bench {bench}, {month}: a cell of the counts by month (fleet_fact_months) is not what the facts give ({side}: {n} incidents)"
             ));
         }
         let incidents: i64 = self.query(FACT_COUNT)?[0].get(0);

@@ -20,25 +20,31 @@ use shardlog_core::fracture::fragmentation::FragmentationMinimum;
 
 /// A read-only view of the fleet database, of every bench or of one.
 pub struct FleetReader {
-    client: RefCell<Client>,
+    pub(super) client: RefCell<Client>,
     shown: String,
     /// Only this bench's incidents and reference data.
-    scope: Option<String>,
+    pub(super) scope: Option<String>,
     /// The reference data, read once.
     refdata: RefCell<Option<Rc<RefData>>>,
+    /// The own materials, read once when needed.
+    pub(super) materials: RefCell<Option<Rc<super::read_materials::FleetMaterials>>>,
+    /// Inside a report's read snapshot (one read-only transaction).
+    pub(super) in_snapshot: std::cell::Cell<bool>,
 }
 
 /// The benches' reference data, one entry per code (the first bench in code order gives
 /// an entry several benches hold).
 #[derive(Default)]
-struct RefData {
+pub(super) struct RefData {
     lookups: Vec<LookupEntry>,
     sites: Vec<Site>,
     suppliers: Vec<Supplier>,
     products: Vec<Product>,
-    lots: Vec<Lot>,
-    exposure: Vec<Exposure>,
-    assets: Vec<Asset>,
+    pub(super) lots: Vec<Lot>,
+    pub(super) exposure: Vec<Exposure>,
+    /// exposure id -> the bench that entered it
+    pub(super) exposure_bench: HashMap<String, String>,
+    pub(super) assets: Vec<Asset>,
     /// The fragmentation table (audited as lookup entries keyed `fragmentation_minimum/…`).
     fragmentation: Vec<FragmentationMinimum>,
     /// (bench, asset code) -> asset type
@@ -57,12 +63,12 @@ fn store_error(e: FleetError) -> StoreError {
     }
 }
 
-fn pg(e: postgres::Error) -> StoreError {
+pub(super) fn pg(e: postgres::Error) -> StoreError {
     store_error(FleetError::from(e))
 }
 
 /// A value bound to a statement.
-enum Bound {
+pub(super) enum Bound {
     Text(String),
     Real(f64),
     Int(i64),
@@ -78,14 +84,14 @@ impl Bound {
     }
 }
 
-fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
+pub(super) fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
     args.iter().map(Bound::as_sql).collect()
 }
 
 /// The columns of a log row, in the order `log_row` reads them.
 const LOG_COLUMNS: &str =
     "SELECT f.ord, f.id, f.reference, f.found_on, f.asset, f.position, f.site, \
-     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa FROM fleet_facts f";
+     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa, f.owner FROM fleet_facts f";
 
 impl FleetReader {
     /// Connect to the fleet at `url` in a read-only session; `scope`: one bench's records.
@@ -137,6 +143,8 @@ impl FleetReader {
             client: RefCell::new(fleet.client),
             scope,
             refdata: RefCell::new(None),
+            materials: RefCell::new(None),
+            in_snapshot: std::cell::Cell::new(false),
         })
     }
 
@@ -145,7 +153,37 @@ impl FleetReader {
         self.client.borrow_mut().query(sql, &[]).map_err(pg)
     }
 
-    fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
+    /// The rows of a statement with its parameters.
+    pub(super) fn query_with(
+        &self,
+        sql: &str,
+        params: &[&(dyn ToSql + Sync)],
+    ) -> Result<Vec<postgres::Row>, StoreError> {
+        self.client.borrow_mut().query(sql, params).map_err(pg)
+    }
+
+    /// The one bench this reader is narrowed to.
+    pub(super) fn scope(&self) -> Option<&str> {
+        self.scope.as_deref()
+    }
+
+    /// The exposure rows (panes in service) of the reader's benches, as the statistics
+    /// take them.
+    pub(super) fn fleet_exposures(
+        &self,
+    ) -> Result<Vec<shardlog_core::fleet::Exposure>, StoreError> {
+        let refdata = self.refdata()?;
+        Ok(refdata
+            .exposure
+            .iter()
+            .map(|e| shardlog_core::fleet::Exposure {
+                bench: refdata.exposure_bench.get(&e.id).cloned(),
+                ..e.to_fleet()
+            })
+            .collect())
+    }
+
+    pub(super) fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
         if let Some(r) = self.refdata.borrow().as_ref() {
             return Ok(r.clone());
         }
@@ -224,6 +262,7 @@ impl FleetReader {
                 }
                 _ => {
                     let e: Exposure = serde_json::from_value(value).map_err(bad)?;
+                    out.exposure_bench.insert(e.id.clone(), origin);
                     out.exposure.push(e);
                 }
             }
@@ -270,7 +309,7 @@ impl FleetReader {
     }
 
     /// The conditions of a filter on `fleet_facts f`, with `$n` placeholders from `args`.
-    fn conditions(&self, filter: &Filter, args: &mut Vec<Bound>) -> Vec<String> {
+    pub(super) fn conditions(&self, filter: &Filter, args: &mut Vec<Bound>) -> Vec<String> {
         let mut conds = Vec::new();
         let mut bind = |column: &str, value: Option<&str>, conds: &mut Vec<String>| {
             if let Some(v) = value {
@@ -279,6 +318,7 @@ impl FleetReader {
             }
         };
         bind("f.owner", self.scope.as_deref(), &mut conds);
+        bind("f.owner", filter.bench.as_deref(), &mut conds);
         bind("f.status", filter.status.as_deref(), &mut conds);
         match filter.cause.as_deref() {
             Some(NO_CAUSE) => conds.push("f.cause IS NULL".into()),
@@ -333,7 +373,7 @@ fn text_query(text: &str) -> Option<String> {
     (!terms.is_empty()).then(|| terms.join(" & "))
 }
 
-fn where_clause(conds: &[String]) -> String {
+pub(super) fn where_clause(conds: &[String]) -> String {
     if conds.is_empty() {
         String::new()
     } else {
@@ -360,6 +400,7 @@ fn log_row(r: &postgres::Row) -> (i64, LogRow) {
             cause: r.get(11),
             stress_mpa: r.get::<_, Option<f64>>(12).map(|x| x / 1e6),
             damaged: occurred.is_none().then_some(found),
+            bench: r.get(13),
         },
     )
 }
@@ -476,6 +517,15 @@ impl FleetReader {
             _ => None,
         };
         let total = if page.with_total {
+            // from the counts by month where they can answer, not a count over millions
+            if let Some(n) = self.counted_total(&mut tx, filter)? {
+                tx.commit().map_err(pg)?;
+                return Ok(Page {
+                    rows: rows.into_iter().map(|(_, r)| r).collect(),
+                    next,
+                    total: Some(n),
+                });
+            }
             let sql = format!(
                 "SELECT count(*) FROM fleet_facts f {}",
                 where_clause(&conds)
@@ -521,7 +571,7 @@ impl FleetReader {
             .query(
                 "SELECT r.reference, r.image FROM fleet_records r
                  WHERE r.entity = 'incident' AND r.image IS NOT NULL
-                   AND (r.reference = $1 OR r.id = $1 OR lower(r.id) = lower($1))
+                   AND (r.reference = $1 OR r.id = $1 OR r.id = lower($1))
                    AND ($2::text IS NULL OR r.owner = $2)
                  LIMIT 2",
                 &[&key, &self.scope],
@@ -537,9 +587,11 @@ impl FleetReader {
                 ))
             }
         };
-        incident_from(row.get(0), row.get(1)).map_err(|reference| {
+        let mut inc = incident_from(row.get(0), row.get(1)).map_err(|reference| {
             StoreError::Database(format!("the fleet's image of {reference} cannot be read"))
-        })
+        })?;
+        self.restore_analyses(&mut inc)?;
+        Ok(inc)
     }
 
     /// The incidents matching `filter` in the order found (the bench's export order), and
@@ -564,7 +616,10 @@ impl FleetReader {
         let mut damaged = Vec::new();
         for r in &rows {
             match incident_from(r.get(0), r.get(1)) {
-                Ok(inc) => good.push(inc),
+                Ok(mut inc) => {
+                    self.restore_analyses(&mut inc)?;
+                    good.push(inc)
+                }
                 Err(reference) => damaged.push(crate::store::exchange::Damaged {
                     reference,
                     why: "the fleet's image of it cannot be read".into(),
@@ -608,44 +663,7 @@ fn incident_from(reference: String, image: &str) -> Result<Incident, String> {
         return Err(reference);
     };
     inc.reference = reference;
-    restore_analyses(&mut inc);
     Ok(inc)
-}
-
-/// The fleet holds each result's analysis as the digest its image pins ("sha256:…"), not the
-/// analysis itself. Where this build recomputes an analysis whose canonical text has that
-/// digest, it is the very analysis the bench stored, and is put back; any other stays the
-/// pinned digest, as the fleet holds it.
-fn restore_analyses(inc: &mut Incident) {
-    let snapshot = inc.clone();
-    for (k, exam) in inc.examinations.iter_mut().enumerate() {
-        let Some(result) = exam.result.as_mut() else {
-            continue;
-        };
-        let Some(pinned) = result
-            .analysis
-            .as_str()
-            .and_then(|s| s.strip_prefix("sha256:"))
-            .map(str::to_string)
-        else {
-            continue;
-        };
-        let Some(Ok(analysis)) = crate::store::analysis::recompute_stored(
-            &snapshot,
-            &snapshot.examinations[k],
-            &crate::store::MaterialBook::library_only(),
-        ) else {
-            continue;
-        };
-        let Ok(fresh) = crate::store::analysis::to_result(&analysis, result.computed_at) else {
-            continue;
-        };
-        let analysis = canon::unsigned_zeros(fresh.analysis);
-        let text = canon::canonical_value(&analysis);
-        if canon::sha256_hex(text.as_bytes()) == pinned {
-            result.analysis = analysis;
-        }
-    }
 }
 
 impl RecordSource for FleetReader {
@@ -695,8 +713,12 @@ impl RecordSource for FleetReader {
     fn fragmentation_minimums(&self) -> Result<Vec<FragmentationMinimum>, StoreError> {
         Ok(self.refdata()?.fragmentation.clone())
     }
-    fn as_bench(&self) -> Option<&crate::store::Store> {
-        None
+    fn soak_input(
+        &self,
+        since: Option<chrono::NaiveDate>,
+        until: Option<chrono::NaiveDate>,
+    ) -> Result<crate::store::practice::SoakInput, StoreError> {
+        self.fleet_soak_input(since, until)
     }
     fn lots(&self) -> Result<Vec<Lot>, StoreError> {
         Ok(self.refdata()?.lots.clone())
@@ -706,6 +728,14 @@ impl RecordSource for FleetReader {
     }
     fn get(&self, key: &str) -> Result<Incident, StoreError> {
         self.incident(key)
+    }
+    fn owner_of(&self, id: &str) -> Result<Option<String>, StoreError> {
+        let row = self
+            .client
+            .borrow_mut()
+            .query_opt("SELECT owner FROM fleet_facts WHERE id = $1", &[&id])
+            .map_err(pg)?;
+        Ok(row.map(|r| r.get(0)))
     }
     fn export_json_readable(
         &self,
@@ -753,6 +783,13 @@ impl RecordSource for FleetReader {
     ) -> Result<StatsInput, StoreError> {
         self.facts(q, extra)
     }
+    fn stats_counted(
+        &self,
+        q: &shardlog_core::fleet::StatsQuery,
+        today: chrono::NaiveDate,
+    ) -> Result<Option<crate::store::read::CountedInput>, StoreError> {
+        self.counted(q, today)
+    }
 }
 
 impl FleetReader {
@@ -783,7 +820,7 @@ impl FleetReader {
         };
         let sql = format!(
             "SELECT f.found_on, {stress}, f.cause, f.origin_type, f.temper, f.supplier, f.product, \
-             f.lot, f.site, f.origin, f.asset FROM fleet_facts f {} ORDER BY f.ord",
+             f.lot, f.site, f.origin, f.asset, f.owner FROM fleet_facts f {} ORDER BY f.ord",
             where_clause(&conds)
         );
         let rows = self
@@ -814,6 +851,9 @@ impl FleetReader {
                 ..Default::default()
             };
             let col = |k: usize| r.get::<_, Option<String>>(k);
+            if wanted(Key::Bench) {
+                f.bench = shared(col(11));
+            }
             if wanted(Key::Cause) {
                 f.cause = shared(col(2));
             }
@@ -843,7 +883,6 @@ impl FleetReader {
             }
             out.push(f);
         }
-        let exposure = refdata.exposure.iter().map(Exposure::to_fleet).collect();
-        Ok((out, exposure))
+        Ok((out, self.fleet_exposures()?))
     }
 }

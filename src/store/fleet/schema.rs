@@ -33,6 +33,16 @@ const MIGRATIONS: &[(i64, &str, &str)] = &[
         "0005_read.sql",
         include_str!("../../../schema/fleet/0005_read.sql"),
     ),
+    (
+        7,
+        "0007_counts.sql",
+        include_str!("../../../schema/fleet/0007_counts.sql"),
+    ),
+    (
+        9,
+        "0009_report_reads.sql",
+        include_str!("../../../schema/fleet/0009_report_reads.sql"),
+    ),
 ];
 
 /// The fleet schema version this build writes: the number of its last migration.
@@ -93,15 +103,15 @@ $roles$;
 "#;
 
 /// What both roles may read beside the history: the facts, words and order kept on ingest
-/// (schema/fleet/0005_read.sql).
+/// (schema/fleet/0005_read.sql) and the incidents counted by month (0007_counts.sql).
 const READ_GRANTS: &str = r#"
 DO $grants$
 DECLARE
     b text := current_database() || '_bench';
     r text := current_database() || '_reader';
 BEGIN
-    EXECUTE format('GRANT SELECT ON fleet_facts, fleet_search, fleet_incident_order, fleet_facts_source
-        TO %I, %I',
+    EXECUTE format('GRANT SELECT ON fleet_facts, fleet_search, fleet_incident_order, fleet_facts_source,
+        fleet_fact_months TO %I, %I',
         b, r);
     EXECUTE format('GRANT EXECUTE ON FUNCTION fleet_f64(text) TO %I, %I', b, r);
 END
