@@ -112,6 +112,7 @@ fn fill_bulk(
     let mut total = 0;
     for b in 0..k {
         let (code, n) = bench_share(args, b);
+        let started = std::time::Instant::now();
         // the bench's reference records and chain (no incidents), and its photos
         let path = dir.join(format!("{code}.db"));
         let options = crate::demo::DemoOptions {
@@ -135,12 +136,19 @@ fn fill_bulk(
         let done = fill.end_bench(streamed, &store).map_err(fleet_error)?;
         writeln!(
             ctx.out,
-            "bench {code}: {n} incidents, {} records written",
-            done.records
+            "bench {code}: {n} incidents, {} records written ({:.1} s)",
+            done.records,
+            started.elapsed().as_secs_f64()
         )?;
         total += n;
     }
+    let started = std::time::Instant::now();
     fill.commit().map_err(fleet_error)?;
+    writeln!(
+        ctx.out,
+        "read tables, indexes and statistics: {:.1} s",
+        started.elapsed().as_secs_f64()
+    )?;
     Ok(total)
 }
 

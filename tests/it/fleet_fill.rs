@@ -1,6 +1,7 @@
 //! `fleet demo`'s bulk fill against the sync path, on a real PostgreSQL server: the same
 //! seeds and sizes give the same fleet, table by table (records, witnessed chains, receipts
-//! but their times, files, and the read tables), and `verify` passes on the filled fleet.
+//! but their times, files, and the read tables with the counts by month), and `verify`
+//! passes on the filled fleet.
 
 use crate::fleet_sync::{err, out, run, TestFleet};
 use crate::support::fleet::Cluster;
@@ -43,6 +44,10 @@ fn tables(f: &TestFleet<'_>) -> Vec<(String, i64, String)> {
         (
             "fleet_incident_order",
             "SELECT * FROM fleet_incident_order ORDER BY ord",
+        ),
+        (
+            "fleet_fact_months",
+            "SELECT * FROM fleet_fact_months WHERE n <> 0 ORDER BY 1, 2, 3, 4, 5, 6, 7, 8, 9",
         ),
         (
             "fleet_conflicts and fleet_refusals",
