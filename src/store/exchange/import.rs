@@ -115,11 +115,15 @@ impl Store {
         let mut incidents = Vec::with_capacity(records.len());
         let mut doc = ExportDoc::empty();
         let mut soak_lines: HashMap<(String, String, String), usize> = HashMap::new();
-        for CsvRecord {
-            line,
-            mut incident,
-            lot_heat_soak,
-        } in records
+        let read = onepass::read_records(records, &vocabulary, &book, stamp.at);
+        for (
+            CsvRecord {
+                line,
+                incident,
+                lot_heat_soak,
+            },
+            computed,
+        ) in read
         {
             if let Some(h) = lot_heat_soak {
                 super::csv::gather_heat_soak(
@@ -131,13 +135,7 @@ impl Store {
                     &mut early,
                 );
             }
-            vocabulary.resolve(&mut incident);
-            early.extend(onepass::compute_results(
-                &mut incident,
-                line,
-                stamp.at,
-                &book,
-            ));
+            early.extend(computed);
             if !options.allow_duplicates {
                 self.note_duplicates(Place::Line(line), &incident, &mut seen, &mut early)?;
             }

@@ -216,6 +216,58 @@ pub fn compute_results(
     problems
 }
 
+/// Records at least this many are read on more than one thread by [`read_records`].
+const SPLIT_ABOVE: usize = 2_000;
+
+/// Each CSV record's lookup cells read as codes ([`Vocabulary::resolve`]) and its results
+/// computed ([`compute_results`]), with the problems of each record beside it, in the file's
+/// order. A large file is cut into consecutive parts read on up to four threads (one per
+/// core); every record's outcome is the one a single thread gives, as each depends on its
+/// own record only.
+pub(super) fn read_records(
+    records: Vec<super::csv::CsvRecord>,
+    vocabulary: &Vocabulary,
+    book: &crate::store::MaterialBook,
+    at: DateTime<Utc>,
+) -> Vec<(super::csv::CsvRecord, Vec<Problem>)> {
+    let one = |mut r: super::csv::CsvRecord| {
+        vocabulary.resolve(&mut r.incident);
+        let problems = compute_results(&mut r.incident, r.line, at, book);
+        (r, problems)
+    };
+    let threads = std::thread::available_parallelism()
+        .map_or(1, usize::from)
+        .clamp(1, 4);
+    if records.len() < SPLIT_ABOVE || threads == 1 {
+        return records.into_iter().map(one).collect();
+    }
+    let per = records.len().div_ceil(threads);
+    let mut parts = Vec::with_capacity(threads);
+    let mut rest = records;
+    while rest.len() > per {
+        let tail = rest.split_off(per);
+        parts.push(rest);
+        rest = tail;
+    }
+    parts.push(rest);
+    std::thread::scope(|scope| {
+        let mut parts = parts.into_iter();
+        let first = parts.next().unwrap_or_default();
+        let others: Vec<_> = parts
+            .map(|part| scope.spawn(move || part.into_iter().map(one).collect::<Vec<_>>()))
+            .collect();
+        let mut out: Vec<_> = first.into_iter().map(one).collect();
+        for handle in others {
+            match handle.join() {
+                Ok(done) => out.extend(done),
+                // a panic on a helper thread is the program's fault: raise it here
+                Err(panic) => std::panic::resume_unwind(panic),
+            }
+        }
+        out
+    })
+}
+
 /// An incident's key for the duplicate check: asset, position and date found (none
 /// without an asset).
 pub fn duplicate_key(inc: &Incident) -> Option<(String, String, NaiveDate)> {
