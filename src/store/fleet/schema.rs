@@ -33,6 +33,11 @@ const MIGRATIONS: &[(i64, &str, &str)] = &[
         "0005_read.sql",
         include_str!("../../../schema/fleet/0005_read.sql"),
     ),
+    (
+        6,
+        "0006_push_parallel.sql",
+        include_str!("../../../schema/fleet/0006_push_parallel.sql"),
+    ),
 ];
 
 /// The fleet schema version this build writes: the number of its last migration.
