@@ -131,6 +131,7 @@ print(scipy.__version__, ts[len(ts) // 2], c, s)
     let exposures: Vec<Exposure> = suppliers
         .iter()
         .map(|s| Exposure {
+            bench: None,
             supplier: Some(s.clone()),
             product: None,
             lot: None,

@@ -196,5 +196,12 @@ fn main() {
         line("import (ordinary path, forced)", med(&ordinaries));
     }
     println!("goal: import at no less than 0.12 of the plain floor's rate");
+    // SAFETY: getrusage fills the struct it is given; an all-zero rusage is a valid value
+    let mut usage: libc::rusage = unsafe { std::mem::zeroed() };
+    unsafe { libc::getrusage(libc::RUSAGE_SELF, &mut usage) };
+    println!(
+        "peak resident memory of this process (every round, the verify after each import included): {} MB",
+        usage.ru_maxrss / 1024
+    );
     let _ = std::fs::remove_dir_all(&dir);
 }

@@ -74,7 +74,11 @@ fn main() {
         t.elapsed().as_secs_f64()
     );
     let t = Instant::now();
-    let check = verify_bundle(&dir, Some(&demo.store)).expect("verify runs");
+    let check = verify_bundle(
+        &dir,
+        Some(&demo.store as &dyn shardlog::store::ReportSource),
+    )
+    .expect("verify runs");
     println!(
         "verify --bundle with the database: {} in {:.2} s",
         if check.ok() { "ok" } else { "FAILED" },

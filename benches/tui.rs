@@ -11,6 +11,9 @@
 //! 2. Keystroke to frame: in process, `update()` plus a full draw into a 100×30 TestBackend,
 //!    for log moves (↓, PgDn, PgUp, End, Home), a sort change and a filter change.
 //! 3. Resident memory: peak RSS (VmHWM) of the real binary after paging through the log.
+//!
+//! SHARDLOG_BENCH_DB may also be a fleet database's URL (postgres://…): the same figures
+//! for the interface on the fleet (read only), e.g. after `shardlog fleet demo --url URL`.
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -47,6 +50,15 @@ fn make_db(dir: &Path, n: usize) -> PathBuf {
         store.create_incident(&d, &stamp).expect("create");
     }
     path
+}
+
+/// A one-row page that asks for the count of matches.
+fn count_only() -> shardlog::store::model::PageRequest {
+    shardlog::store::model::PageRequest {
+        limit: 1,
+        after: None,
+        with_total: true,
+    }
 }
 
 fn percentile(sorted: &[Duration], p: f64) -> Duration {
@@ -152,12 +164,19 @@ fn first_frame_and_rss(db: &Path) -> (Duration, Duration, Option<u64>) {
 }
 
 fn keystrokes(db: &Path) {
-    let t = Instant::now();
-    let store = Store::open_existing(db).expect("open");
-    let t_open = t.elapsed();
-    let t = Instant::now();
-    let mut app = App::with_store(store, db).expect("app");
-    let t_app = t.elapsed();
+    let (mut app, t_open, t_app) = if shardlog::store::is_fleet_url(db) {
+        // connecting and the first page come together on the fleet
+        let t = Instant::now();
+        let app = App::open_fleet(db).expect("open the fleet database");
+        (app, Duration::ZERO, t.elapsed())
+    } else {
+        let t = Instant::now();
+        let store = Store::open_existing(db).expect("open");
+        let t_open = t.elapsed();
+        let t = Instant::now();
+        let app = App::with_store(store, db).expect("app");
+        (app, t_open, t.elapsed())
+    };
     let mut term = match Terminal::new(TestBackend::new(100, 30)) {
         Ok(t) => t,
         Err(e) => match e {},
@@ -273,9 +292,17 @@ fn main() {
             make_db(tmp.path(), n)
         }
     };
-    let count = Store::open_existing(&db)
-        .and_then(|s| s.incident_count())
-        .unwrap_or(0);
+    let count = if shardlog::store::is_fleet_url(&db) {
+        shardlog::store::open_records(&db, None)
+            .and_then(|f| f.list(&Default::default(), Default::default(), &count_only()))
+            .ok()
+            .and_then(|p| p.total)
+            .unwrap_or(0)
+    } else {
+        Store::open_existing(&db)
+            .and_then(|s| s.incident_count())
+            .unwrap_or(0)
+    };
     println!("database {} ({count} incidents)", db.display());
     let base = spawn_baseline();
     let (first, counted, rss) = first_frame_and_rss(&db);

@@ -393,7 +393,7 @@ impl BenchState {
         let material = self.material()?;
         let (Some(e), Some(a)) = (&material.youngs_modulus, &material.expansion) else {
             return Some(Err(format!(
-                "{} has no Young's modulus or expansion coefficient in the library",
+                "{} has no Young's modulus or expansion coefficient among its constants",
                 material.name
             )));
         };

@@ -360,7 +360,7 @@ fn elastic(
         .ok_or_else(|| "Material: pick one from the list".to_string())?;
     let (Some(e), Some(nu)) = (&m.youngs_modulus, &m.poisson) else {
         return Err(format!(
-            "{} has no Young's modulus or Poisson's ratio in the library",
+            "{} has no Young's modulus or Poisson's ratio among its constants",
             m.name
         ));
     };
@@ -497,7 +497,7 @@ fn build(
                 .ok_or_else(|| "Material: pick one from the list".to_string())?;
             let (Some(e), Some(a)) = (&m.youngs_modulus, &m.expansion) else {
                 return Err(format!(
-                    "{} has no Young's modulus or expansion coefficient in the library",
+                    "{} has no Young's modulus or expansion coefficient among its constants",
                     m.name
                 ));
             };

@@ -76,6 +76,9 @@ pub struct IncidentState {
     pub history_cursor: usize,
     /// The largest useful `scroll` for the section shown, as the last frame measured it.
     pub scroll_max: std::cell::Cell<u16>,
+    /// On the fleet database: the bench that owns the incident (where it is edited, and
+    /// whose file keeps its history).
+    pub owner: Option<String>,
 }
 
 /// What a form edits.
@@ -88,6 +91,8 @@ pub enum EditKind {
     Attach,
     /// The log's filters (no incident).
     Filter,
+    /// The log's bench (the fleet database): one pick, applied when chosen.
+    BenchFilter,
     /// Panes in service (from the review; no incident).
     Exposure,
     /// A new entry of a lookup list.
@@ -120,6 +125,7 @@ impl EditState {
             EditKind::Custody => format!("Add custody entry · {r}"),
             EditKind::Attach => format!("Attach a file · {r}"),
             EditKind::Filter => "Filter the log".to_string(),
+            EditKind::BenchFilter => "Show one bench's incidents".to_string(),
             EditKind::Exposure => "Panes in service (exposure)".to_string(),
             EditKind::LookupAdd(k) => format!("Add to the {} list", k.as_str().replace('_', " ")),
             EditKind::LookupRename(k) => {
@@ -144,6 +150,8 @@ pub struct Lists {
     pub lot_heat_soak: crate::app::practice::LotHeatSoak,
     /// The least fragment counts of thermally toughened glass, per thickness.
     pub fragmentation: Vec<crate::store::practice::FragmentationMinimum>,
+    /// The codes of the benches the records come from (the fleet: every bench's).
+    pub benches: Vec<String>,
     pub sites: Vec<PickItem>,
     pub assets: Vec<PickItem>,
 }

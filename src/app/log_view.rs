@@ -2,7 +2,7 @@
 //! with keyset cursors in either direction, sorted and filtered by the store.
 
 use crate::store::model::{Cursor, Filter, LogRow, PageRequest, Sort, SortColumn};
-use crate::store::{Store, StoreError};
+use crate::store::{RecordSource, StoreError};
 
 /// The log's state. `rows` holds only what the screen shows.
 #[derive(Debug, Default)]
@@ -62,7 +62,7 @@ impl LogState {
 
     fn fetch(
         &mut self,
-        store: &Store,
+        store: &dyn RecordSource,
         after: Option<Cursor>,
         count: bool,
     ) -> Result<bool, StoreError> {
@@ -92,7 +92,7 @@ impl LogState {
     }
 
     /// Load the first page (after a filter, sort or size change); the count follows.
-    pub fn reload(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn reload(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         self.flipped = false;
         self.starts.clear();
         self.selected = 0;
@@ -105,7 +105,7 @@ impl LogState {
 
     /// Reload the page being shown (after an edit), keeping the selection where possible;
     /// the count follows.
-    pub fn refresh(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn refresh(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         let keep = self.selected;
         let start = self.current_start.clone();
         self.fetch(store, start, false)?;
@@ -115,7 +115,7 @@ impl LogState {
     }
 
     /// Count the matching incidents (deferred work after a frame).
-    pub fn count(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn count(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         let page = store.list(
             &self.filter,
             self.sort,
@@ -138,7 +138,7 @@ impl LogState {
     }
 
     /// Page forward in query order. Returns false at the end.
-    fn query_forward(&mut self, store: &Store) -> Result<bool, StoreError> {
+    fn query_forward(&mut self, store: &dyn RecordSource) -> Result<bool, StoreError> {
         let Some(next) = self.next.clone() else {
             return Ok(false);
         };
@@ -153,7 +153,7 @@ impl LogState {
     }
 
     /// Page back in query order. Returns false at the start.
-    fn query_back(&mut self, store: &Store) -> Result<bool, StoreError> {
+    fn query_back(&mut self, store: &dyn RecordSource) -> Result<bool, StoreError> {
         let Some(start) = self.starts.pop() else {
             return Ok(false);
         };
@@ -162,7 +162,7 @@ impl LogState {
     }
 
     /// Next page down the screen.
-    pub fn page_down(&mut self, store: &Store) -> Result<bool, StoreError> {
+    pub fn page_down(&mut self, store: &dyn RecordSource) -> Result<bool, StoreError> {
         let len = self.rows.len() as u64;
         let moved = if self.flipped {
             self.query_back(store)?
@@ -176,7 +176,7 @@ impl LogState {
     }
 
     /// Next page up the screen.
-    pub fn page_up(&mut self, store: &Store) -> Result<bool, StoreError> {
+    pub fn page_up(&mut self, store: &dyn RecordSource) -> Result<bool, StoreError> {
         let moved = if self.flipped {
             self.query_forward(store)?
         } else {
@@ -189,7 +189,7 @@ impl LogState {
         Ok(moved)
     }
 
-    pub fn down(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn down(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         if self.selected + 1 < self.rows.len() {
             self.selected += 1;
         } else if self.page_down(store)? {
@@ -198,7 +198,7 @@ impl LogState {
         Ok(())
     }
 
-    pub fn up(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn up(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         if self.selected > 0 {
             self.selected -= 1;
         } else if self.page_up(store)? {
@@ -207,14 +207,14 @@ impl LogState {
         Ok(())
     }
 
-    pub fn pg_down(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn pg_down(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         if !self.page_down(store)? {
             self.selected = self.rows.len().saturating_sub(1);
         }
         Ok(())
     }
 
-    pub fn pg_up(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn pg_up(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         if !self.page_up(store)? {
             self.selected = 0;
         }
@@ -222,7 +222,7 @@ impl LogState {
     }
 
     /// The first page, first row (the count stays: nothing changed but the position).
-    pub fn home(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn home(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         self.flipped = false;
         self.starts.clear();
         self.selected = 0;
@@ -232,7 +232,7 @@ impl LogState {
     }
 
     /// The last page, last row: fetched with the sort reversed and shown the right way up.
-    pub fn end(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn end(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         self.flipped = true;
         self.starts.clear();
         self.fetch(store, None, false)?;
@@ -242,7 +242,11 @@ impl LogState {
     }
 
     /// Change the number of rows per page; reloads from the current first row's page.
-    pub fn set_page_size(&mut self, n: usize, store: Option<&Store>) -> Result<(), StoreError> {
+    pub fn set_page_size(
+        &mut self,
+        n: usize,
+        store: Option<&dyn RecordSource>,
+    ) -> Result<(), StoreError> {
         let n = n.max(1);
         if n == self.page_size {
             return Ok(());
@@ -353,6 +357,7 @@ fn summary_of(f: &Filter, lists: &super::incident::Lists) -> String {
     add("supplier", &f.supplier, None);
     add("lot", &f.lot, None);
     add("site", &f.site, None);
+    add("bench", &f.bench, None);
     if let Some(d) = f.since {
         parts.push(format!("since {d}"));
     }

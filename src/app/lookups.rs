@@ -3,7 +3,7 @@
 //! audits every change; this holds only what the screen shows.
 
 use crate::store::model::{LookupEntry, LookupKind};
-use crate::store::{Store, StoreError};
+use crate::store::{RecordSource, StoreError};
 
 /// The lists the screen offers, in the order Tab walks them, with their titles.
 pub const LISTS: [(LookupKind, &str); 5] = [
@@ -34,7 +34,7 @@ impl LookupsState {
     }
 
     /// Read the shown list again, keeping the highlight on the same code when it is still there.
-    pub fn load(&mut self, store: &Store) -> Result<(), StoreError> {
+    pub fn load(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
         let keep = self.selected().map(|e| e.code.clone());
         self.entries = store.lookups(self.kind())?;
         self.cursor = keep
@@ -45,7 +45,7 @@ impl LookupsState {
     }
 
     /// Show the next (or previous) list.
-    pub fn switch(&mut self, store: &Store, forward: bool) -> Result<(), StoreError> {
+    pub fn switch(&mut self, store: &dyn RecordSource, forward: bool) -> Result<(), StoreError> {
         let n = LISTS.len();
         self.list = if forward {
             (self.list + 1) % n

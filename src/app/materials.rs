@@ -189,13 +189,18 @@ impl MaterialsState {
 
 impl App {
     pub(super) fn open_materials(&mut self) {
-        let book = match self.store.as_ref().map(|s| s.material_book()) {
-            Some(Ok(b)) => b,
-            Some(Err(e)) => {
+        let book = match (self.store.as_ref(), self.fleet.as_ref()) {
+            (Some(s), _) => s.material_book(),
+            // the benches' own materials as they pushed them (read only here)
+            (None, Some(f)) => f.material_book(),
+            (None, None) => Ok(MaterialBook::library_only()),
+        };
+        let book = match book {
+            Ok(b) => b,
+            Err(e) => {
                 self.error(e.to_string());
                 return;
             }
-            None => MaterialBook::library_only(),
         };
         self.materials.load(&book);
         self.materials.form = None;

@@ -32,7 +32,7 @@ use picklist::PickItem;
 use review::ReviewState;
 
 use crate::store::model::{LookupKind, Stamp};
-use crate::store::{Store, StoreError};
+use crate::store::{RecordSource, ReportSource, Store, StoreError};
 
 /// The screens. The first one on the stack is the top screen (`q` quits from there).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -129,6 +129,8 @@ pub enum Action {
     Edit,
     Search,
     Filter,
+    /// The log on the fleet database: one bench's incidents, or every bench's.
+    FilterBench,
     ClearFilter,
     SortNext,
     SortReverse,
@@ -214,7 +216,10 @@ pub const LOG_CHROME_ROWS: u16 = 5;
 /// The whole state of the interface.
 pub struct App {
     pub db_path: PathBuf,
+    /// The bench file: read and edited.
     pub store: Option<Store>,
+    /// The fleet database, read only: edits are made at the owning bench (None on a bench).
+    pub fleet: Option<Box<dyn ReportSource>>,
     pub lists: Lists,
     /// Who the audit log records as the author of changes.
     pub actor: String,
@@ -251,7 +256,32 @@ pub struct App {
     pub height: u16,
 }
 
+/// The records the screens read: the bench file, else the fleet database. (A function of
+/// the two fields, so that a caller may change another field of the app while reading.)
+pub(crate) fn read_side<'a>(
+    store: &'a Option<Store>,
+    fleet: &'a Option<Box<dyn ReportSource>>,
+) -> Option<&'a dyn RecordSource> {
+    match (store, fleet) {
+        (Some(s), _) => Some(s),
+        (None, Some(f)) => Some(f.as_ref() as &dyn RecordSource),
+        (None, None) => None,
+    }
+}
+
+/// The pick-lists of a bench file (the fleet's lists and its assets).
 pub(crate) fn load_lists(store: &Store) -> Result<Lists, StoreError> {
+    let mut lists = lists_from(store)?;
+    lists.assets = store
+        .assets()?
+        .into_iter()
+        .map(|a| PickItem::new(a.code.clone(), format!("{} ({})", a.name, a.code)))
+        .collect();
+    Ok(lists)
+}
+
+/// The pick-lists any records give (assets only matter to edits, made at a bench).
+pub(crate) fn lists_from(store: &dyn RecordSource) -> Result<Lists, StoreError> {
     let mut lists = Lists::default();
     for kind in LookupKind::ALL {
         let (retired, in_use): (Vec<_>, Vec<_>) =
@@ -274,18 +304,17 @@ pub(crate) fn load_lists(store: &Store) -> Result<Lists, StoreError> {
         .map(|s| PickItem::new(s.code.clone(), format!("{} ({})", s.name, s.code)))
         .collect();
     lists.products = store
-        .products(None)?
+        .products()?
         .into_iter()
         .map(|p| PickItem::new(p.code.clone(), format!("{} ({})", p.name, p.code)))
         .collect();
     lists.products.dedup_by(|a, b| a.code == b.code);
-    lists.lots = store
-        .lots(None, None)?
-        .into_iter()
+    let lots = store.lots()?;
+    lists.lots = lots
+        .iter()
         .map(|l| PickItem::new(l.code.clone(), format!("{} · {}", l.code, l.supplier)))
         .collect();
-    lists.lot_heat_soak = store
-        .lots(None, None)?
+    lists.lot_heat_soak = lots
         .into_iter()
         .filter_map(|l| Some(((l.supplier, l.product, l.code), l.heat_soak?)))
         .collect();
@@ -296,11 +325,7 @@ pub(crate) fn load_lists(store: &Store) -> Result<Lists, StoreError> {
         .into_iter()
         .map(|s| PickItem::new(s.code.clone(), format!("{} ({})", s.name, s.code)))
         .collect();
-    lists.assets = store
-        .assets()?
-        .into_iter()
-        .map(|a| PickItem::new(a.code.clone(), format!("{} ({})", a.name, a.code)))
-        .collect();
+    lists.benches = store.bench_codes()?;
     Ok(lists)
 }
 
@@ -310,6 +335,7 @@ impl App {
         App {
             db_path: db.to_path_buf(),
             store: None,
+            fleet: None,
             lists: Lists::default(),
             actor: "analyst".to_string(),
             name_entry: None,
@@ -358,6 +384,36 @@ impl App {
         Ok(app)
     }
 
+    /// Open the interface on the fleet database at the URL `db`, read only.
+    pub fn open_fleet(db: &Path) -> anyhow::Result<Self> {
+        let fleet = crate::store::open_reports(db, None)?;
+        App::with_fleet(fleet, db)
+    }
+
+    /// The interface over the fleet's records (read only); the log is the top screen.
+    pub fn with_fleet(fleet: Box<dyn ReportSource>, db: &Path) -> anyhow::Result<Self> {
+        let mut app = App::new(db);
+        app.lists = lists_from(fleet.as_ref())?;
+        // the benches' own materials, as they pushed them: analyses show as at the bench
+        app.bench.set_materials(fleet.material_book()?);
+        app.log.reload(fleet.as_ref())?;
+        app.review.by_bench = true;
+        app.fleet = Some(fleet);
+        app.stack = vec![Screen::Log];
+        Ok(app)
+    }
+
+    /// Whether the records are the fleet database's (read only: edits are made at the
+    /// owning bench).
+    pub fn on_fleet(&self) -> bool {
+        self.fleet.is_some()
+    }
+
+    /// The records the screens read, if any are open.
+    pub fn records(&self) -> Option<&dyn RecordSource> {
+        read_side(&self.store, &self.fleet)
+    }
+
     /// Ask for the analyst's name before anything else (first use); `suggestion` (e.g. the
     /// login name) is shown and replaced by typing.
     pub fn ask_name(&mut self, suggestion: Option<&str>) {
@@ -375,7 +431,7 @@ impl App {
 
     /// Whether the open database can only be read (the file or its folder is not writable).
     pub fn read_only(&self) -> bool {
-        self.store.as_ref().is_some_and(|s| s.is_read_only())
+        self.on_fleet() || self.store.as_ref().is_some_and(|s| s.is_read_only())
     }
 
     pub fn screen(&self) -> Screen {
@@ -452,7 +508,11 @@ impl App {
                 } else {
                     format!(" · filter: {filt}")
                 };
-                format!("{total}{rows} · sort: {}{filt}", self.log.sort_label())
+                let fleet = if self.on_fleet() { "fleet · " } else { "" };
+                format!(
+                    "{fleet}{total}{rows} · sort: {}{filt}",
+                    self.log.sort_label()
+                )
             }
             Screen::Incident => match &self.incident {
                 Some(s) => format!(
@@ -473,6 +533,13 @@ impl App {
                 None => String::new(),
             },
             Screen::Bench => match &self.bench_target {
+                Some(t) if self.on_fleet() => format!(
+                    "bench calculator for {} · read-only fleet: saves nothing",
+                    t.reference
+                ),
+                None if self.on_fleet() => {
+                    "bench calculator: nothing is saved on the fleet (read-only)".to_string()
+                }
                 Some(t) => format!(
                     "bench calculator for {} · Ctrl-S saves into it",
                     t.reference
@@ -515,7 +582,9 @@ impl App {
     pub fn has_unsaved(&self) -> bool {
         match self.screen() {
             Screen::Edit => self.edit.as_ref().is_some_and(|e| e.form.is_dirty()),
-            Screen::Bench => self.bench_target.is_some() && self.bench.form.is_dirty(),
+            Screen::Bench => {
+                self.bench_target.is_some() && self.bench.form.is_dirty() && !self.on_fleet()
+            }
             Screen::Materials => self.materials.is_dirty(),
             _ => false,
         }
@@ -532,7 +601,7 @@ impl App {
         if !self.log.count_pending {
             return false;
         }
-        let Some(store) = self.store.as_ref() else {
+        let Some(store) = read_side(&self.store, &self.fleet) else {
             self.log.count_pending = false;
             return false;
         };

@@ -7,7 +7,7 @@
 use chrono::{Months, NaiveDate};
 
 use crate::store::model::Filter;
-use crate::store::Store;
+use crate::store::RecordSource;
 use shardlog_core::fleet::query::{self, StatsQuery, StressKind};
 use shardlog_core::fleet::{
     monthly_counts, round_histogram, GroupOptions, GroupTable, GroupValue, Key, MonthCount, Trend,
@@ -79,9 +79,11 @@ impl WindowChoice {
 }
 
 /// The keys the review groups by: those the log can also filter by (so Enter can open a
-/// group), plus month and season.
-pub const GROUP_KEYS: [Key; 7] = [
+/// group), plus month and season. The bench only on the fleet database (a bench file is one
+/// bench).
+pub const GROUP_KEYS: [Key; 8] = [
     Key::Cause,
+    Key::Bench,
     Key::Supplier,
     Key::Lot,
     Key::Site,
@@ -133,6 +135,8 @@ pub struct ReviewState {
     pub error: Option<String>,
     /// The per-month panel shows the group highlighted on the Groups panel, not the fleet.
     pub group_months: bool,
+    /// The records are the fleet database's, of several benches: the bench is a grouping key.
+    pub by_bench: bool,
 }
 
 impl Default for ReviewState {
@@ -151,6 +155,7 @@ impl ReviewState {
             data: None,
             error: None,
             group_months: false,
+            by_bench: false,
         }
     }
 
@@ -195,11 +200,20 @@ impl ReviewState {
         self.selected[self.panel.index()] = n.saturating_sub(1);
     }
 
+    /// The keys this review groups by, in the order the keys cycle through them.
+    pub fn group_keys(&self) -> Vec<Key> {
+        GROUP_KEYS
+            .into_iter()
+            .filter(|k| *k != Key::Bench || self.by_bench)
+            .collect()
+    }
+
     /// Next first grouping key (the second is dropped when it would repeat the first).
     pub fn next_first_key(&mut self) {
         let cur = self.keys.first().copied().unwrap_or(Key::Cause);
-        let i = GROUP_KEYS.iter().position(|k| *k == cur).unwrap_or(0);
-        let next = GROUP_KEYS[(i + 1) % GROUP_KEYS.len()];
+        let keys = self.group_keys();
+        let i = keys.iter().position(|k| *k == cur).unwrap_or(0);
+        let next = keys[(i + 1) % keys.len()];
         let second = self.keys.get(1).copied().filter(|k| *k != next);
         self.keys = std::iter::once(next).chain(second).collect();
     }
@@ -208,7 +222,12 @@ impl ReviewState {
     pub fn next_second_key(&mut self) {
         let first = self.keys.first().copied().unwrap_or(Key::Cause);
         let choices: Vec<Option<Key>> = std::iter::once(None)
-            .chain(GROUP_KEYS.iter().copied().filter(|k| *k != first).map(Some))
+            .chain(
+                self.group_keys()
+                    .into_iter()
+                    .filter(|k| *k != first)
+                    .map(Some),
+            )
             .collect();
         let cur = self.keys.get(1).copied();
         let i = choices.iter().position(|k| *k == cur).unwrap_or(0);
@@ -233,7 +252,7 @@ impl ReviewState {
     }
 
     /// Recompute everything from the store (`today` is the window's end).
-    pub fn load(&mut self, store: &Store, today: NaiveDate) {
+    pub fn load(&mut self, store: &dyn RecordSource, today: NaiveDate) {
         match compute(store, &self.keys, self.window, today) {
             Ok(d) => {
                 self.data = Some(d);
@@ -349,6 +368,7 @@ fn apply_value(f: &mut Filter, key: Key, v: &GroupValue, window: &Window) -> Res
         )),
         GroupValue::Text(Some(s)) => {
             let slot = match key {
+                Key::Bench => &mut f.bench,
                 Key::Cause => &mut f.cause,
                 Key::OriginType => &mut f.origin_type,
                 Key::Supplier => &mut f.supplier,
@@ -398,7 +418,7 @@ fn window_for(
 }
 
 fn compute(
-    store: &Store,
+    store: &dyn RecordSource,
     keys: &[Key],
     choice: WindowChoice,
     today: NaiveDate,

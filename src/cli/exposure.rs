@@ -78,7 +78,7 @@ fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             ctx.out,
             "no exposure recorded; `shardlog exposure import FILE.csv` adds panes in service"
         )?;
-        return Ok(());
+        return list_pulled(&store, ctx);
     }
     let clean = |s: &str| shardlog_core::text::sanitize_for_terminal(s, false);
     writeln!(
@@ -104,5 +104,50 @@ fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         )?;
     }
     writeln!(ctx.out, "{} rows, {total} panes", rows.len())?;
+    list_pulled(&store, ctx)
+}
+
+/// Other benches' rows a sync pulled, each marked with its bench: shown, never counted in
+/// this bench's rates (nor written by `--csv`, which is this bench's own for import).
+fn list_pulled(store: &crate::store::Store, ctx: &mut Context<'_>) -> Result<(), CliError> {
+    let rows = store
+        .pulled_exposure()
+        .map_err(|e| CliError::work(e.to_string()))?;
+    if rows.is_empty() {
+        return Ok(());
+    }
+    let clean = |s: &str| shardlog_core::text::sanitize_for_terminal(s, false);
+    writeln!(
+        ctx.out,
+        "\nfrom other benches of the fleet (not in this bench's rates):"
+    )?;
+    writeln!(
+        ctx.out,
+        "{:<8} {:<12} {:<12} {:<10} {:<10} {:<10} {:<10} {:>8}",
+        "bench", "supplier", "product", "lot", "site", "installed", "removed", "panes"
+    )?;
+    let mut total = 0i64;
+    for e in &rows {
+        total += e.panes;
+        writeln!(
+            ctx.out,
+            "{:<8} {:<12} {:<12} {:<10} {:<10} {:<10} {:<10} {:>8}",
+            clean(&e.bench),
+            clean(&e.supplier),
+            clean(e.product.as_deref().unwrap_or("—")),
+            clean(e.lot.as_deref().unwrap_or("—")),
+            clean(e.site.as_deref().unwrap_or("—")),
+            e.installed_on,
+            e.removed_on
+                .map(|d| d.to_string())
+                .unwrap_or_else(|| "in service".into()),
+            e.panes
+        )?;
+    }
+    writeln!(
+        ctx.out,
+        "{} rows of other benches, {total} panes",
+        rows.len()
+    )?;
     Ok(())
 }

@@ -68,6 +68,13 @@ pub fn sync(args: SyncArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         q.products,
         q.lots
     )?;
+    if q.exposure > 0 {
+        writeln!(
+            ctx.out,
+            "pulled {} exposure rows of other benches (kept apart: `exposure list` shows them; this bench's rates use its own only)",
+            q.exposure
+        )?;
+    }
     Ok(())
 }
 

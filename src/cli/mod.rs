@@ -432,13 +432,16 @@ impl Write for TerminalGuard<'_> {
 /// bench file only), None for those that read it or never open a database.
 fn fleet_refuses(command: Option<&Command>) -> Option<&'static str> {
     let Some(command) = command else {
-        return Some("the interface (not yet on the fleet)");
+        // the interface reads the fleet and says where each edit is made
+        return None;
     };
     Some(match command {
         Command::List(_)
         | Command::Show(_)
         | Command::Stats(_)
         | Command::Export(_)
+        | Command::Report(_)
+        | Command::Dispute(_)
         | Command::Verify(_) => return None,
         Command::Mirror(_)
         | Command::Materials(_)
@@ -456,8 +459,6 @@ fn fleet_refuses(command: Option<&Command>) -> Option<&'static str> {
         Command::Attach(_) => "`attach`",
         Command::Key(_) => "`key`",
         Command::Backup(_) => "`backup`",
-        Command::Report(_) => "`report` (not yet on the fleet)",
-        Command::Dispute(_) => "`dispute` (not yet on the fleet)",
         Command::Sync(_) => "`sync` (run it with --db naming the bench file)",
         Command::Bench(_) => "`bench`",
         Command::Fragmentation(_) => "`fragmentation`",
@@ -471,7 +472,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
     if crate::store::is_fleet_url(&db) {
         if let Some(name) = fleet_refuses(cli.command.as_ref()) {
             return Err(CliError::usage(format!(
-                "--db names the fleet database, which {name} cannot use: the fleet is read-only for its users (an edit is made at the bench that owns the incident, and reaches the fleet when that bench syncs); on the fleet database: list, show, stats, export, verify"
+                "--db names the fleet database, which {name} cannot use: the fleet is read-only for its users (an edit is made at the bench that owns the incident, and reaches the fleet when that bench syncs); on the fleet database: list, show, stats, export, report, dispute, verify"
             )));
         }
     }

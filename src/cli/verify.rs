@@ -137,8 +137,13 @@ fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result
             "--anchor checks the database's chain; with --bundle the bundle's own head is the anchor",
         ));
     }
-    let store = open_if_there(ctx)?;
-    let check = crate::report::bundle::verify_bundle_with(dir, store.as_ref(), key.as_ref())?;
+    let store: Option<Box<dyn crate::store::ReportSource>> = if crate::store::is_fleet_url(&ctx.db)
+    {
+        Some(open_fleet_for_bundle(dir, ctx)?)
+    } else {
+        open_if_there(ctx)?.map(|s| Box::new(s) as Box<dyn crate::store::ReportSource>)
+    };
+    let check = crate::report::bundle::verify_bundle_with(dir, store.as_deref(), key.as_ref())?;
     let shown = clean(&dir.display().to_string());
     writeln!(
         ctx.out,
@@ -146,7 +151,10 @@ fn verify_bundle(dir: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Result
         check.incidents,
         check.files_checked,
         if check.compared_with_records {
-            format!(", compared with the records in {}", ctx.db.display())
+            format!(
+                ", compared with the records in {}",
+                super::report::without_password(&ctx.db.to_string_lossy())
+            )
         } else {
             " (no database: the records were not compared)".to_string()
         }
@@ -222,6 +230,25 @@ fn verify_export(file: &Path, args: &VerifyArgs, ctx: &mut Context<'_>) -> Resul
         return Ok(());
     }
     differences(ctx, "export", &check.problems)
+}
+
+/// The fleet database for a bundle check: read as the bench whose witnessed chain holds the
+/// bundle's head sees it (its incidents, its names), else whole.
+fn open_fleet_for_bundle(
+    dir: &Path,
+    ctx: &Context<'_>,
+) -> Result<Box<dyn crate::store::ReportSource>, CliError> {
+    let open = |bench: Option<&str>| {
+        crate::store::open_reports(&ctx.db, bench).map_err(|e| match e {
+            crate::store::StoreError::Invalid { .. } => CliError::usage(e.to_string()),
+            other => work(other),
+        })
+    };
+    let whole = open(None)?;
+    match crate::report::bundle::head_bench(whole.as_ref(), dir)? {
+        Some(bench) => open(Some(&bench)),
+        None => Ok(whole),
+    }
 }
 
 /// The database `--db` names, opened to read, when it exists (a bundle or an export is also

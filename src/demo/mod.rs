@@ -19,7 +19,7 @@
 
 use std::path::{Path, PathBuf};
 
-use crate::store::bulk::{AuditRows, BulkFile};
+use crate::store::bulk::{AuditRows, BulkFile, StreamedIncident};
 use crate::store::progress::Progress;
 use crate::store::{Stamp, StoreError};
 
@@ -76,22 +76,8 @@ pub fn generate_for_bench(
     bench: Option<&str>,
     progress: &mut (dyn FnMut(Progress) + Send),
 ) -> Result<DemoSummary, StoreError> {
-    let bench = match bench {
-        Some(b) => Some(
-            crate::store::check_bench_code(b).map_err(|m| StoreError::invalid("bench code", m))?,
-        ),
-        None => None,
-    };
-    let o = &DemoOptions {
-        incidents: o.incidents,
-        seed: match &bench {
-            // FNV-1a over the code's bytes (a fixed mix, not a secret)
-            Some(code) => code.bytes().fold(o.seed ^ 0xcbf2_9ce4_8422_2325, |h, b| {
-                (h ^ u64::from(b)).wrapping_mul(0x0100_0000_01b3)
-            }),
-            None => o.seed,
-        },
-    };
+    let (o, bench) = for_bench(o, bench)?;
+    let o = &o;
     if out.exists() {
         return Err(StoreError::File {
             path: out.display().to_string(),
@@ -117,6 +103,89 @@ pub fn generate_for_bench(
     }
 }
 
+/// The options and checked code of a bench's demo: the code is mixed into the seed.
+fn for_bench(
+    o: &DemoOptions,
+    bench: Option<&str>,
+) -> Result<(DemoOptions, Option<String>), StoreError> {
+    let bench = match bench {
+        Some(b) => Some(
+            crate::store::check_bench_code(b).map_err(|m| StoreError::invalid("bench code", m))?,
+        ),
+        None => None,
+    };
+    let o = DemoOptions {
+        incidents: o.incidents,
+        seed: match &bench {
+            // FNV-1a over the code's bytes (a fixed mix, not a secret)
+            Some(code) => code.bytes().fold(o.seed ^ 0xcbf2_9ce4_8422_2325, |h, b| {
+                (h ^ u64::from(b)).wrapping_mul(0x0100_0000_01b3)
+            }),
+            None => o.seed,
+        },
+    };
+    Ok((o, bench))
+}
+
+/// The demo of bench `bench` made as [`generate_for_bench`] makes it, except that the
+/// incidents are not written to the file at `out` (which must not exist) but handed to
+/// `sink` in the order of the audit chain, each with its image and the audit row covering
+/// it. The file keeps the reference records, the whole audit chain and the attachment files
+/// (beside it): with the streamed incidents, everything a first push of that bench would
+/// send. For filling the fleet in bulk (`fleet demo`).
+pub fn stream_for_bench(
+    out: &Path,
+    o: &DemoOptions,
+    bench: &str,
+    sink: impl FnMut(StreamedIncident) -> Result<(), StoreError>,
+) -> Result<DemoSummary, StoreError> {
+    let (o, bench) = for_bench(o, Some(bench))?;
+    if out.exists() {
+        return Err(StoreError::File {
+            path: out.display().to_string(),
+            message: "already exists; the demo writes a new file".into(),
+        });
+    }
+    let mut file = BulkFile::create(out, out, o.seed ^ 0x5EED_0000_0000_0001)?;
+    let mut rng = Rng(o.seed);
+    let world = build_world(&mut rng, o.incidents);
+    let setup_stamp = Stamp::new("tomas", at_time(ymd(2023, 12, 15), 9 * 60));
+    let mut summary = DemoSummary::default();
+    let mut load = file.begin()?;
+    let keys = world.write(&mut load, &setup_stamp, &mut summary)?;
+    let plans = story::plan_incidents(&mut rng, &world, o.incidents);
+    let audit = audit_rows(&o);
+    let attachments = load.attachments();
+    let mut maker = Maker::new(&world, &keys, &mut rng, &mut summary, attachments);
+    maker.bench = bench.clone();
+    let mut next = plans.iter();
+    let written = load.stream_incidents(
+        audit,
+        |ids| next.next().map(|plan| maker.make(plan, ids)),
+        sink,
+    )?;
+    summary.incidents += written;
+    file.finish()?;
+    if let Some(code) = bench {
+        crate::store::Store::open_existing(out)?.set_bench_code(&code)?;
+    }
+    Ok(summary)
+}
+
+/// How a demo of this size audits its incidents.
+fn audit_rows(o: &DemoOptions) -> AuditRows {
+    // a demo log of a real size carries one audit row per incident, stamped by the analyst
+    // who entered it when it was entered, as the interface writes them; only at benchmark
+    // scale are the rows batched (one per 1,000 incidents, each listing their digests)
+    if o.incidents <= PER_RECORD_AUDIT_UP_TO {
+        AuditRows::OnePerIncident
+    } else {
+        AuditRows::Batched {
+            seed: o.seed ^ 0xB0B,
+        }
+    }
+}
+
 fn generate_into(
     tmp: &Path,
     out: &Path,
@@ -132,16 +201,7 @@ fn generate_into(
     let mut load = file.begin()?;
     let keys = world.write(&mut load, &setup_stamp, &mut summary)?;
     let plans = story::plan_incidents(&mut rng, &world, o.incidents);
-    // a demo log of a real size carries one audit row per incident, stamped by the analyst
-    // who entered it when it was entered, as the interface writes them; only at benchmark
-    // scale are the rows batched (one per 1,000 incidents, each listing their digests)
-    let audit = if o.incidents <= PER_RECORD_AUDIT_UP_TO {
-        AuditRows::OnePerIncident
-    } else {
-        AuditRows::Batched {
-            seed: o.seed ^ 0xB0B,
-        }
-    };
+    let audit = audit_rows(o);
     let attachments = load.attachments();
     let mut maker = Maker::new(&world, &keys, &mut rng, &mut summary, attachments);
     maker.bench = bench.map(String::from);

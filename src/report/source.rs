@@ -5,7 +5,7 @@
 use std::collections::HashMap;
 use std::sync::Arc;
 
-use crate::store::{self, Incident, LookupKind, Store, StoreError};
+use crate::store::{self, Incident, LookupKind, ReportSource, StoreError};
 use shardlog_core::fracture::{self, Analysis, Boundary};
 use shardlog_core::units;
 
@@ -24,7 +24,7 @@ pub struct Labels {
 }
 
 impl Labels {
-    pub fn load(s: &Store) -> Result<Labels, StoreError> {
+    pub fn load(s: &dyn ReportSource) -> Result<Labels, StoreError> {
         let lookups = s
             .all_lookups()?
             .into_iter()
@@ -36,7 +36,7 @@ impl Labels {
             .map(|x| (x.code, x.name))
             .collect();
         let products = s
-            .products(None)?
+            .products()?
             .into_iter()
             .map(|x| (x.code, x.name))
             .collect();
@@ -106,11 +106,11 @@ fn time(t: &chrono::DateTime<chrono::Utc>) -> String {
 /// The content of one incident's summary, and the bytes of its attachments that are present
 /// (keyed by SHA-256; a file whose bytes no longer match its hash is left out and noted).
 pub fn incident_content(
-    s: &Store,
+    s: &dyn ReportSource,
     labels: &Labels,
     inc: &Incident,
 ) -> Result<(IncidentContent, Pictures), StoreError> {
-    let (attachments, pictures) = attachments(s, inc);
+    let (attachments, pictures) = attachments(s, inc)?;
     Ok((
         IncidentContent {
             reference: inc.reference.clone(),
@@ -318,21 +318,22 @@ fn cause(l: &Labels, inc: &Incident) -> Cause {
 }
 
 /// The attachments by hash, and the bytes of each stored file that still matches its hash.
-fn attachments(s: &Store, inc: &Incident) -> (Vec<AttachmentRef>, Pictures) {
+fn attachments(
+    s: &dyn ReportSource,
+    inc: &Incident,
+) -> Result<(Vec<AttachmentRef>, Pictures), StoreError> {
     let mut pictures = HashMap::new();
     let mut attachments = Vec::new();
     for a in &inc.attachments {
         let mut caption = nonempty(&a.caption);
-        if let Some(path) = s.attachment_path(&a.sha256) {
-            if let Ok(bytes) = std::fs::read(&path) {
-                if sha256_hex(&bytes) == a.sha256.to_ascii_lowercase() {
-                    pictures.insert(a.sha256.clone(), Arc::new(bytes));
-                } else {
-                    caption = Some(format!(
-                        "{} [the stored file no longer matches this hash]",
-                        caption.unwrap_or_default()
-                    ));
-                }
+        if let Some(bytes) = s.attachment_bytes(&a.sha256)? {
+            if sha256_hex(&bytes) == a.sha256.to_ascii_lowercase() {
+                pictures.insert(a.sha256.clone(), Arc::new(bytes));
+            } else {
+                caption = Some(format!(
+                    "{} [the stored file no longer matches this hash]",
+                    caption.unwrap_or_default()
+                ));
             }
         }
         attachments.push(AttachmentRef {
@@ -345,7 +346,7 @@ fn attachments(s: &Store, inc: &Incident) -> (Vec<AttachmentRef>, Pictures) {
             added_by: None,
         });
     }
-    (attachments, pictures)
+    Ok((attachments, pictures))
 }
 
 /// The custody log of the physical specimen.
@@ -375,7 +376,7 @@ fn custody(l: &Labels, inc: &Incident) -> Vec<CustodyEntry> {
 }
 
 /// The audit history: who created or changed the record, and which fields.
-fn history(s: &Store, inc: &Incident) -> Result<Vec<HistoryEntry>, StoreError> {
+fn history(s: &dyn ReportSource, inc: &Incident) -> Result<Vec<HistoryEntry>, StoreError> {
     Ok(s.history(&inc.id)?
         .into_iter()
         .map(|h| HistoryEntry {

@@ -176,6 +176,10 @@ pub struct Proof {
     /// (a summary made alone; in a bundle, bundle.json carries the signature).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub signed_head: Option<crate::store::signing::SignedHead>,
+    /// The fleet database the summary was made from (host and database, and benches); absent
+    /// for a bench file's summary.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub made_from: Option<String>,
 }
 
 impl Proof {
@@ -192,6 +196,11 @@ impl Proof {
             ("Produced by".into(), self.generator.clone()),
         ]
         .into_iter()
+        .chain(
+            self.made_from
+                .iter()
+                .map(|f| ("Made from".to_string(), format!("the {f}"))),
+        )
         .chain(self.signed_head.iter().flat_map(|h| {
             [
                 ("Anchor (entry:hash)".to_string(), h.anchor()),
@@ -923,6 +932,7 @@ pub fn proof_for(
         exported_at: exported_at.to_string(),
         generator: generator(),
         signed_head: None,
+        made_from: None,
     })
 }
 

@@ -90,6 +90,7 @@ pub fn to_result(
     analysis: &fracture::Analysis,
     computed_at: DateTime<Utc>,
 ) -> Result<ComputedResult, serde_json::Error> {
+    let figures = to_figures(analysis, computed_at);
     let mut constants = serde_json::Map::new();
     for b in &analysis.boundaries {
         constants.insert(
@@ -105,6 +106,16 @@ pub fn to_result(
     }
     constants.insert("residual".into(), serde_json::to_value(&analysis.residual)?);
     Ok(ComputedResult {
+        constants: serde_json::Value::Object(constants),
+        analysis: serde_json::to_value(analysis)?,
+        ..figures
+    })
+}
+
+/// The figures of [`to_result`] (stresses, flaw size, time, code version) without its two
+/// JSON values, which are left null: what the checks of an import read.
+pub fn to_figures(analysis: &fracture::Analysis, computed_at: DateTime<Utc>) -> ComputedResult {
+    ComputedResult {
         computed_at: truncate_ms(computed_at),
         code_version: super::CODE_VERSION.to_string(),
         stress_pa: Some(analysis.stress_pa),
@@ -113,9 +124,9 @@ pub fn to_result(
         residual_pa: Some(analysis.residual.at_origin_pa),
         applied_stress_pa: Some(analysis.applied_stress_pa),
         flaw_size_m: analysis.flaw.as_ref().map(|f| f.size_m),
-        constants: serde_json::Value::Object(constants),
-        analysis: serde_json::to_value(analysis)?,
-    })
+        constants: serde_json::Value::Null,
+        analysis: serde_json::Value::Null,
+    }
 }
 
 /// Why a result could not be computed.

@@ -369,6 +369,142 @@ impl<'s> BulkLoad<'s> {
     }
 }
 
+/// An incident of a streamed load ([`BulkLoad::stream_incidents`]): the record, its canonical
+/// image and that image's SHA-256 (hex), and the audit row that covers it.
+pub struct StreamedIncident {
+    pub incident: Incident,
+    pub image: String,
+    pub digest: String,
+    /// The sequence number of the audit row that lists it (its batch row, or its own row).
+    pub seq: i64,
+}
+
+impl<'s> BulkLoad<'s> {
+    /// [`BulkLoad::write_incidents`] without writing the incidents: each one's audit row (or
+    /// its place in a batch row) is written exactly as there, the file's chain ends where
+    /// that load's would, and the incidents go to `sink` in the order of the chain, each with
+    /// its image and the row that covers it (a batch's incidents once that row is written).
+    /// The database keeps no incident: it is a source of the chain and the reference
+    /// records for a bulk fill of another store (the fleet), not a bench to work on.
+    pub(crate) fn stream_incidents<F>(
+        self,
+        audit: AuditRows,
+        make: F,
+        mut sink: impl FnMut(StreamedIncident) -> Result<(), StoreError>,
+    ) -> Result<u64, StoreError>
+    where
+        F: FnMut(&mut IdGen) -> Option<Result<NewIncident, StoreError>> + Send,
+    {
+        let BulkLoad {
+            tx,
+            ids,
+            mut chain,
+            indexes,
+            triggers,
+            mut last_stamp,
+            commit,
+            ..
+        } = self;
+        let mut bulk = match audit {
+            AuditRows::OnePerIncident => None,
+            AuditRows::Batched { seed } => Some(Bulk::new(INCIDENT, seed)),
+        };
+        type Imaged = Vec<(NewIncident, String, String)>;
+        let (to_writer, from_maker) = mpsc::sync_channel::<Imaged>(4);
+        let mut written = 0u64;
+        // a batch's incidents wait for the row that lists them
+        let mut waiting: Vec<(Incident, String, String)> = Vec::new();
+        std::thread::scope(|scope| -> Result<(), StoreError> {
+            let maker = scope.spawn(move || {
+                let mut make = make;
+                let mut batch = Vec::with_capacity(HAND_OVER);
+                while let Some(next) = make(ids) {
+                    let n = next?;
+                    let image = super::canon::incident_image(&n.incident)?;
+                    let digest = super::canon::sha256_hex(image.as_bytes());
+                    batch.push((n, image, digest));
+                    if batch.len() == HAND_OVER {
+                        let full = std::mem::replace(&mut batch, Vec::with_capacity(HAND_OVER));
+                        if to_writer.send(full).is_err() {
+                            return Ok(()); // the writer stopped on an error: it reports it
+                        }
+                    }
+                }
+                if !batch.is_empty() {
+                    let _ = to_writer.send(batch);
+                }
+                Ok::<(), StoreError>(())
+            });
+            let mut write = || -> Result<(), StoreError> {
+                for ready in from_maker.iter() {
+                    for (n, image, digest) in ready {
+                        let before = chain.seq();
+                        match bulk.as_mut() {
+                            Some(b) => b.add_digest(
+                                &tx,
+                                &mut chain,
+                                &n.stamp,
+                                &n.incident.id,
+                                digest.clone(),
+                            )?,
+                            None => chain.record(
+                                &tx,
+                                &n.stamp,
+                                INCIDENT,
+                                &n.incident.id,
+                                None,
+                                Some(&image),
+                            )?,
+                        }
+                        last_stamp = Some(n.stamp);
+                        written += 1;
+                        waiting.push((n.incident, image, digest));
+                        if chain.seq() != before {
+                            for (incident, image, digest) in waiting.drain(..) {
+                                let seq = chain.seq();
+                                sink(StreamedIncident {
+                                    incident,
+                                    image,
+                                    digest,
+                                    seq,
+                                })?;
+                            }
+                        }
+                    }
+                }
+                Ok(())
+            };
+            let wrote = write();
+            drop(from_maker); // lets a maker blocked on a full channel finish
+            let made = maker
+                .join()
+                .map_err(|_| StoreError::Database("the demo generator thread panicked".into()))?;
+            wrote.and(made)?;
+            if let (Some(bulk), Some(stamp)) = (bulk.as_mut(), &last_stamp) {
+                bulk.flush(&tx, &mut chain, stamp)?;
+            }
+            for (incident, image, digest) in waiting.drain(..) {
+                let seq = chain.seq();
+                sink(StreamedIncident {
+                    incident,
+                    image,
+                    digest,
+                    seq,
+                })?;
+            }
+            chain.finish(&tx)?;
+            for (_, sql) in triggers.iter().chain(&indexes) {
+                tx.execute_batch(sql)?;
+            }
+            Ok(())
+        })?;
+        if commit {
+            tx.commit()?;
+        }
+        Ok(written)
+    }
+}
+
 /// The maker thread: each incident `make` returns, made ready (audit digest, searchable
 /// text) and handed to the writer in batches.
 fn make_ready<F>(

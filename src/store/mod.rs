@@ -67,7 +67,9 @@ mod outbox;
 mod own_materials;
 pub mod practice;
 pub mod progress;
+pub(crate) mod pulled_exposure;
 pub mod read;
+pub mod read_report;
 mod refdata;
 pub mod safe_file;
 pub mod signing;
@@ -85,7 +87,9 @@ pub use model::*;
 pub use moves::{Resolution, Transfer};
 pub use outbox::{ChainRow, Receipt, PULL_ACTOR};
 pub use own_materials::{check_material, check_material_code, MaterialBook, OwnMaterial};
+pub use pulled_exposure::PulledExposure;
 pub use read::RecordSource;
+pub use read_report::{consistent, ChainHolder, ReportSource};
 pub use sqlite::{APPLICATION_ID, SCHEMA_VERSION};
 pub use verify::Anchor;
 
@@ -395,6 +399,12 @@ pub fn is_fleet_url(db: &Path) -> bool {
 /// `bench`: only the records of this bench (the fleet's incidents it owns and the reference
 /// data it pushed); on a bench file it must be the file's own code.
 pub fn open_records(db: &Path, bench: Option<&str>) -> Result<Box<dyn RecordSource>, StoreError> {
+    Ok(open_reports(db, bench)?)
+}
+
+/// [`open_records`] for a report, a dispute bundle or a bundle check, which read more than
+/// the log ([`ReportSource`]).
+pub fn open_reports(db: &Path, bench: Option<&str>) -> Result<Box<dyn ReportSource>, StoreError> {
     if is_fleet_url(db) {
         let url = db.to_string_lossy();
         let reader = fleet::FleetReader::open(&url, bench)?;

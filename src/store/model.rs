@@ -502,6 +502,9 @@ pub struct Filter {
     pub until: Option<NaiveDate>,
     /// Free text over reference, position, description, notes and examination notes.
     pub text: Option<String>,
+    /// The owning bench's code (the fleet database; a bench file holds only its own).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bench: Option<String>,
 }
 
 /// Columns the log can be sorted by.
@@ -578,6 +581,10 @@ pub struct LogRow {
     /// then 1970-01-01 and means nothing); the row is still listed, so that it can be found.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub damaged: Option<String>,
+    /// The bench that owns the incident, on the fleet database (None from a bench file).
+    /// Not part of `list --json`, which a bench file and the fleet answer alike.
+    #[serde(skip)]
+    pub bench: Option<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -668,6 +675,8 @@ impl FleetRow {
     /// net, filtered as it needs). One mapping for every caller (stats, dispute bundles).
     pub fn into_facts(self, stress_pa: Option<f64>) -> shardlog_core::fleet::IncidentFacts {
         shardlog_core::fleet::IncidentFacts {
+            // a dispute bundle's figures are one bench's
+            bench: None,
             cause: self.cause.map(Into::into),
             origin_type: self.origin_type.map(Into::into),
             supplier: self.supplier.map(Into::into),
@@ -686,6 +695,7 @@ impl Exposure {
     /// The same panes as the fleet statistics count them.
     pub fn to_fleet(&self) -> shardlog_core::fleet::Exposure {
         shardlog_core::fleet::Exposure {
+            bench: None,
             supplier: Some(self.supplier.clone()),
             product: self.product.clone(),
             lot: self.lot.clone(),

@@ -80,7 +80,7 @@ impl MaterialBook {
 
     /// The own material of a key, None for a library key or an unknown one.
     pub fn own(&self, key: &str) -> Option<&OwnMaterial> {
-        if materials::find(key).is_some() {
+        if materials::find_ref(key).is_some() {
             return None;
         }
         let want = materials::normal_key(key);

@@ -34,6 +34,9 @@ pub trait RecordSource {
     fn list(&self, filter: &Filter, sort: Sort, page: &PageRequest) -> Result<Page, StoreError>;
     /// The full incident by reference or id.
     fn get(&self, key: &str) -> Result<Incident, StoreError>;
+    /// The code of the bench that owns the incident `id` (where its edits are made); a
+    /// bench file answers its own code.
+    fn owner_of(&self, id: &str) -> Result<Option<String>, StoreError>;
     /// The export document (JSON, pretty, ending with a newline) of the incidents matching
     /// `filter` that can be read, in the order found, and those that cannot.
     fn export_json_readable(
@@ -52,8 +55,13 @@ pub trait RecordSource {
     fn fragmentation_minimums(
         &self,
     ) -> Result<Vec<shardlog_core::fracture::fragmentation::FragmentationMinimum>, StoreError>;
-    /// The bench file itself, for the work not yet done on the fleet database (None there).
-    fn as_bench(&self) -> Option<&Store>;
+    /// The incidents found inside `[since, until]` and the lots the heat-soak comparison
+    /// reads (`stats --heat-soak`).
+    fn soak_input(
+        &self,
+        since: Option<chrono::NaiveDate>,
+        until: Option<chrono::NaiveDate>,
+    ) -> Result<super::practice::SoakInput, StoreError>;
     /// The facts and exposure `stats` works on.
     fn stats_input(
         &self,
@@ -117,14 +125,36 @@ impl RecordSource for Store {
     ) -> Result<Vec<shardlog_core::fracture::fragmentation::FragmentationMinimum>, StoreError> {
         Store::fragmentation_minimums(self)
     }
-    fn as_bench(&self) -> Option<&Store> {
-        Some(self)
+    fn soak_input(
+        &self,
+        since: Option<chrono::NaiveDate>,
+        until: Option<chrono::NaiveDate>,
+    ) -> Result<super::practice::SoakInput, StoreError> {
+        Store::soak_input(self, since, until)
     }
     fn list(&self, filter: &Filter, sort: Sort, page: &PageRequest) -> Result<Page, StoreError> {
-        Store::list(self, filter, sort, page)
+        // a bench file holds its own bench's incidents only
+        let Some(code) = &filter.bench else {
+            return Store::list(self, filter, sort, page);
+        };
+        if self.bench_code()?.as_ref() != Some(code) {
+            return Ok(Page {
+                rows: Vec::new(),
+                next: None,
+                total: page.with_total.then_some(0),
+            });
+        }
+        let all = Filter {
+            bench: None,
+            ..filter.clone()
+        };
+        Store::list(self, &all, sort, page)
     }
     fn get(&self, key: &str) -> Result<Incident, StoreError> {
         Store::get(self, key)
+    }
+    fn owner_of(&self, _id: &str) -> Result<Option<String>, StoreError> {
+        self.bench_code()
     }
     fn export_json_readable(
         &self,

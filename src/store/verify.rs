@@ -60,6 +60,7 @@ impl Store {
                 .chain(own)
                 .chain(practice)
                 .chain(super::moves::all_images(&self.conn)?)
+                .chain(super::pulled_exposure::all_images(&self.conn)?)
             {
                 v.check_record(entity, &id, &shown, &img);
             }

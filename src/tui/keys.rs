@@ -267,6 +267,14 @@ pub static TABLE: &[Binding] = &[
     },
     Binding {
         ctxs: &[Log],
+        keys: &[c('B')],
+        label: "B",
+        desc: "bench: one bench's incidents, or every bench's",
+        action: Action::FilterBench,
+        footer: true,
+    },
+    Binding {
+        ctxs: &[Log],
         keys: &[c('x')],
         label: "x",
         desc: "clear filters and search",
@@ -359,7 +367,7 @@ pub static TABLE: &[Binding] = &[
         ctxs: &[Review],
         keys: &[c('1')],
         label: "1",
-        desc: "group by: cause, supplier, lot, site, origin, month, season",
+        desc: "group by: cause, bench (fleet), supplier, lot, site, origin, month, season",
         action: Action::GroupFirst,
         footer: true,
     },
@@ -670,8 +678,36 @@ fn out_keys(ctx: Ctx) -> Vec<K> {
 
 /// Whether a binding does something on `screen` (the text keys are shared by every form;
 /// F2 only works in the bench calculator).
-pub fn works_on(b: &Binding, screen: crate::app::Screen) -> bool {
-    b.action != Action::JumpHypothesis || screen == crate::app::Screen::Bench
+pub fn works_on(b: &Binding, app: &crate::app::App) -> bool {
+    match b.action {
+        Action::JumpHypothesis => app.screen() == crate::app::Screen::Bench,
+        // a bench file holds its own bench's incidents only
+        Action::FilterBench => app.on_fleet(),
+        _ => true,
+    }
+}
+
+/// Whether the footer leaves the binding out on the fleet database, where it would change
+/// the records (the key still answers, saying where the edit is made; help lists it).
+pub fn edits_records(b: &Binding, app: &crate::app::App) -> bool {
+    use crate::app::Screen;
+    match b.action {
+        Action::NewIncident
+        | Action::Attach
+        | Action::AddCustody
+        | Action::Revert
+        | Action::AddExposure
+        | Action::AddEntry
+        | Action::RetireOrRestore
+        | Action::AddMaterial
+        | Action::CopyMaterial => true,
+        Action::Edit => matches!(
+            app.screen(),
+            Screen::Incident | Screen::Lookups | Screen::Materials
+        ),
+        Action::Save => app.screen() == Screen::Bench,
+        _ => false,
+    }
 }
 
 /// The footer entries for `ctx`.

@@ -35,6 +35,8 @@ pub enum Analyst {
 /// Open the terminal interface on the database at `db`.
 pub fn run(db: &Path, who: Analyst) -> anyhow::Result<()> {
     let (mut app, keep_in) = match who {
+        // the fleet is read only: nothing is recorded under a name there
+        _ if crate::store::is_fleet_url(db) => (App::open_fleet(db)?, None),
         Analyst::Known(name) => (App::open(db, &name)?, None),
         Analyst::Ask {
             suggestion,

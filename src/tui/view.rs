@@ -109,18 +109,41 @@ fn draw_name_entry(entry: &crate::app::field::Field, f: &mut Frame, body: Rect, 
 }
 
 fn draw_title(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
-    let left = format!(
-        " shardlog · {} · {}",
-        screen_title(app),
-        fit(&widgets::clean(&app.actor), 24)
-    );
-    let mut right = widgets::clean(&app.db_path.display().to_string());
-    if app.read_only() {
-        right.push_str(" (read-only)");
-    }
+    // on the fleet nothing is recorded under a name
+    let left = if app.on_fleet() {
+        format!(" shardlog · {}", screen_title(app))
+    } else {
+        format!(
+            " shardlog · {} · {}",
+            screen_title(app),
+            fit(&widgets::clean(&app.actor), 24)
+        )
+    };
+    // where the records are (the fleet: its host and database, never a password), then
+    // what may be done there, which is never cut
+    let (place, what) = match &app.fleet {
+        Some(fleet) => {
+            let bench = match &app.log.filter.bench {
+                Some(code) => format!(" · bench {code}"),
+                None => String::new(),
+            };
+            (fleet.shown(), format!(" (fleet, read-only){bench}"))
+        }
+        None if app.read_only() => (app.db_path.display().to_string(), " (read-only)".into()),
+        None => (app.db_path.display().to_string(), String::new()),
+    };
     let w = area.width as usize;
     let lw = unicode_width::UnicodeWidthStr::width(left.as_str());
     let room = w.saturating_sub(lw + 2);
+    let what_w = unicode_width::UnicodeWidthStr::width(what.as_str());
+    let right = if room > what_w + 8 {
+        format!(
+            "{}{what}",
+            fit(&widgets::clean(&place), room.saturating_sub(what_w))
+        )
+    } else {
+        widgets::clean(&format!("{place}{what}"))
+    };
     let text = if room > 8 {
         let r = fit(&right, room);
         let rw = unicode_width::UnicodeWidthStr::width(r.as_str());
@@ -146,7 +169,10 @@ fn draw_status(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
 fn draw_footer(app: &App, f: &mut Frame, area: Rect, th: &Theme) {
     let ctx = app.ctx();
     let mut all = keys::footer_for(ctx);
-    all.retain(|b| keys::works_on(b, app.screen()));
+    all.retain(|b| keys::works_on(b, app));
+    if app.on_fleet() {
+        all.retain(|b| !keys::edits_records(b, app));
+    }
     // the help key is always shown, at the end; the others as many as fit before it
     let help = all
         .iter()
@@ -212,10 +238,15 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     if let Some(n) = typing_note(ctx) {
         lines.push(Line::from(n));
     }
+    if app.on_fleet() {
+        lines.push(Line::from(
+            "Fleet database, read only: edit keys say at which bench an edit is made.",
+        ));
+    }
     let kw = 12usize;
     for b in keys::bindings_for(ctx)
         .into_iter()
-        .filter(|b| keys::works_on(b, app.screen()))
+        .filter(|b| keys::works_on(b, app))
     {
         lines.push(Line::from(vec![
             Span::styled(widgets::fit_left(b.label, kw), th.focus_label),

@@ -536,11 +536,80 @@ fn facts(supplier: &str, lot: &str, cause: &str, found: NaiveDate) -> IncidentFa
 }
 
 #[test]
+fn grouped_by_bench_each_bench_is_counted_against_its_own_panes() {
+    // Invented fleet of two benches for 2025: NORTH entered 1,000 panes and logged 10
+    // breaks, SOUTH 500 panes and 30 breaks, all of one supplier. Computed: 365 days ×
+    // 1,000 panes / 365.25 = 999.316 pane-years, so NORTH's rate is 10 × 1000 / 999.316 =
+    // 10.007 per 1,000 pane-years and SOUTH's 30 × 1000 / 499.658 = 60.041. Counted against
+    // the whole fleet's 1,500 panes (as a key exposure rows do not carry is), NORTH would
+    // show 6.67.
+    let w = Window::new(d(2025, 1, 1), d(2025, 12, 31)).unwrap();
+    let exp = |bench: &str, panes: f64| Exposure {
+        bench: Some(bench.into()),
+        supplier: Some("Alder Float".into()),
+        product: None,
+        lot: None,
+        site: None,
+        panes,
+        from: d(2024, 6, 1),
+        until: None,
+    };
+    let exposures = vec![exp("NORTH", 1000.0), exp("SOUTH", 500.0)];
+    let mut inc = Vec::new();
+    for (bench, n) in [("NORTH", 10), ("SOUTH", 30)] {
+        for i in 0..n {
+            inc.push(IncidentFacts {
+                bench: Some(bench.into()),
+                ..facts("Alder Float", "L1", "thermal", d(2025, 1 + i % 12, 5))
+            });
+        }
+    }
+    assert_eq!(Key::parse("bench").unwrap(), Key::Bench);
+    assert!(Key::Bench.is_exposure());
+    let opts = GroupOptions {
+        keys: vec![Key::Bench],
+        window: w,
+        rates: true,
+        weibull: false,
+        origin_type: None,
+        flag_level: 0.05,
+    };
+    let t = group(&inc, &exposures, &opts).unwrap();
+    assert_eq!(t.total, 40);
+    let row = |code: &str| {
+        t.rows
+            .iter()
+            .find(|r| r.key == vec![code.to_string()])
+            .unwrap_or_else(|| panic!("no row {code}"))
+    };
+    let north = row("NORTH").rate.unwrap();
+    assert_eq!(north.count, 10);
+    close(
+        "NORTH pane-years",
+        north.exposure,
+        1000.0 * 365.0 / 365.25,
+        1e-9,
+    );
+    close("NORTH rate", north.rate, 10.007, 1e-3);
+    let south = row("SOUTH").rate.unwrap();
+    close(
+        "SOUTH pane-years",
+        south.exposure,
+        500.0 * 365.0 / 365.25,
+        1e-9,
+    );
+    close("SOUTH rate", south.rate, 60.041, 1e-3);
+    // each bench against the other: SOUTH's rate is six times NORTH's
+    close("ratio", row("SOUTH").ratio.unwrap().ratio, 6.0, 1e-12);
+}
+
+#[test]
 fn grouped_rates_and_flags() {
     // Invented fleet: supplier "Alder Float" 1,000 panes, "Birch Glassworks" 1,000 panes,
     // "Cedar Panes" 1,000 panes, all for 2025. Alder has 30 breaks, the others 5 each.
     let w = Window::new(d(2025, 1, 1), d(2025, 12, 31)).unwrap();
     let exp = |s: &str| Exposure {
+        bench: None,
         supplier: Some(s.into()),
         product: None,
         lot: None,
@@ -739,6 +808,7 @@ fn each_group_gets_its_own_trend() {
         }
     }
     let exp = |s: &str| Exposure {
+        bench: None,
         supplier: Some(s.into()),
         product: None,
         lot: None,

@@ -75,6 +75,7 @@ fn list_show_stats_and_export_give_the_bench_files_bytes_from_the_fleet() {
     );
 
     let mut shown_with_results = 0;
+    let mut reported = 0;
     for (code, db) in &benches {
         let file = db.to_str().unwrap();
         // the fleet's qualifier of the references the bench made before its code
@@ -160,7 +161,114 @@ fn list_show_stats_and_export_give_the_bench_files_bytes_from_the_fleet() {
                 shown_with_results += 1;
             }
         }
+        // the summary of one incident in thirty-five: the same content, from the same head
+        for reference in listed.iter().step_by(35) {
+            let in_fleet = if reference.starts_with("BR-") && !reference.contains(code) {
+                format!("{code}/{reference}")
+            } else {
+                reference.clone()
+            };
+            let bench: serde_json::Value = serde_json::from_str(&text(&[
+                "--db", file, "report", reference, "--format", "json",
+            ]))
+            .unwrap();
+            let fleet_text = text(&["--db", &url, "report", &in_fleet, "--format", "json"]);
+            let fleet_json: serde_json::Value = serde_json::from_str(&fleet_text).unwrap();
+            let content = |v: &serde_json::Value| {
+                unqualify(serde_json::to_string_pretty(&v["content"]).unwrap())
+            };
+            assert_eq!(content(&fleet_json), content(&bench), "report {reference}");
+            if !reference.starts_with("BR-") || reference.contains(code) {
+                assert_eq!(
+                    fleet_json["proof"]["content_sha256"], bench["proof"]["content_sha256"],
+                    "report {reference}"
+                );
+            }
+            // the fleet's summary names the fleet and its benches, never a password
+            let made_from = fleet_json["proof"]["made_from"].as_str().unwrap();
+            assert!(
+                made_from.contains("fleet") && made_from.contains("NORTH, SOUTH, WEST"),
+                "{made_from}"
+            );
+            assert!(bench["proof"].get("made_from").is_none());
+            reported += 1;
+        }
+        // a dispute bundle: at the bench, and on the fleet as that bench's records
+        let bundle = |db: &str, name: &str, bench_flag: &[&str]| {
+            let out_dir = dir.path().join(format!("{code}-{name}"));
+            let lot = lots_of(file, "KESTREL");
+            let args = [
+                &["--db", db, "dispute", "--supplier", "KESTREL", "--lot"][..],
+                &[lot.as_str()][..],
+                &["--cause", "impact", "--cause", "thermal", "-o"][..],
+                &[out_dir.to_str().unwrap()][..],
+                bench_flag,
+            ]
+            .concat();
+            text(&args);
+            let json = std::fs::read_to_string(out_dir.join("bundle.json")).unwrap();
+            let csv = std::fs::read_to_string(out_dir.join("figures.csv")).unwrap();
+            let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+            (v, csv)
+        };
+        let (at_bench_bundle, bench_csv) = bundle(file, "bench", &[]);
+        let (at_fleet_bundle, fleet_csv) = bundle(&url, "fleet", &["--bench", code]);
+        let part = |v: &serde_json::Value, key: &str| {
+            let mut v = v["content"][key].clone();
+            if let Some(incidents) = v.as_array_mut().filter(|_| key == "incidents") {
+                for i in incidents {
+                    // the digest of a summary whose reference the fleet qualifies is that of
+                    // other text; every field it is taken over is compared
+                    if i["reference"].as_str().is_some_and(|r| r.contains('/')) {
+                        i["content_sha256"] = serde_json::Value::Null;
+                    }
+                }
+            }
+            unqualify(serde_json::to_string_pretty(&v).unwrap())
+                .replace(&format!("incidents/{code}_BR-"), "incidents/BR-")
+        };
+        let part_at_bench = |v: &serde_json::Value, key: &str| {
+            let mut v = v.clone();
+            if key == "incidents" && *code == "WEST" {
+                for i in v["content"]["incidents"].as_array_mut().unwrap() {
+                    i["content_sha256"] = serde_json::Value::Null;
+                }
+            }
+            part(&v, key)
+        };
+        for key in ["selection", "cover", "incidents", "attachments"] {
+            assert_eq!(
+                part(&at_fleet_bundle, key),
+                part_at_bench(&at_bench_bundle, key),
+                "{code}: the bundle's {key}"
+            );
+        }
+        let incidents = at_bench_bundle["content"]["incidents"].as_array().unwrap();
+        assert!(incidents.len() > 2, "{code}: {} incidents", incidents.len());
+        // the last column is each summary's digest (see above)
+        let csv = |t: &str| -> String {
+            t.lines()
+                .map(|l| match (*code == "WEST", l.rsplit_once(',')) {
+                    (true, Some((rest, _))) => rest.to_string(),
+                    _ => l.to_string(),
+                })
+                .collect::<Vec<_>>()
+                .join("\n")
+        };
+        assert_eq!(
+            csv(&fleet_csv.replace(&format!("\n{code}/BR-"), "\nBR-")),
+            csv(&bench_csv),
+            "{code}: figures.csv"
+        );
+        // the fleet's bundle is made from the bench's witnessed head
+        assert_eq!(
+            at_fleet_bundle["content"]["audit_head_seq"],
+            fleet.count(&format!(
+                "SELECT head_seq FROM fleet_benches WHERE code = '{code}'"
+            ))
+        );
     }
+    assert!(reported >= 60, "{reported}");
     // analyses (the fleet holds their digests) were among those compared
     assert!(shown_with_results > 15, "{shown_with_results}");
 }
@@ -280,6 +388,7 @@ fn fleet_demo_fills_a_fleet_through_the_benches_push() {
         "301",
         "--benches",
         "3",
+        "--through-sync",
         "--keep-benches",
         keep.to_str().unwrap(),
     ]);
@@ -376,6 +485,19 @@ fn the_fleets_reading_of_an_image_number_is_bit_exact() {
 
 /// A bench file's export without its signed head (the CSV's first line, the JSON document's
 /// top-level `signed_head` member), every other byte as written.
+/// The code of the lot of `supplier` with the most incidents at the bench.
+fn lots_of(file: &str, supplier: &str) -> String {
+    let c = rusqlite::Connection::open(file).unwrap();
+    c.query_row(
+        "SELECT l.code FROM incidents i JOIN lots l ON l.id = i.lot_id
+         JOIN suppliers s ON s.id = i.supplier_id
+         WHERE s.code = ?1 GROUP BY l.code ORDER BY count(*) DESC, l.code LIMIT 1",
+        [supplier],
+        |r| r.get(0),
+    )
+    .unwrap()
+}
+
 fn without_signed_head(export: &str) -> String {
     if let Some(rest) = export.strip_prefix("# shardlog signed head ") {
         let (_, body) = rest.split_once('\n').expect("a line after the signed head");

@@ -84,6 +84,12 @@ fn assert_same(ordinary: &Store, bulk: &Store, word: &str) {
         let r = s.verify().unwrap();
         assert!(r.ok(), "{:?}", r.first_problem);
     }
+    // the same audit rows, in the same order, with the same hashes: the heads are equal
+    assert_eq!(
+        ordinary.audit_head_entry().unwrap(),
+        bulk.audit_head_entry().unwrap(),
+        "the audit chain"
+    );
     for kind in [StressKind::Applied, StressKind::Net] {
         assert_eq!(
             ordinary.fleet_facts(None, None, kind, None).unwrap(),
@@ -170,4 +176,61 @@ fn a_refused_or_dry_run_bulk_import_writes_nothing() {
     // and then for real
     import(&mut bulk, good.as_bytes(), ImportOptions::default());
     assert_eq!(bulk.incident_count().unwrap(), 60);
+}
+
+/// `n` rows with unique positions, a heat-soak record on every row of one lot, and assets
+/// first named after row `late` (made, with their audit rows, after the first thousand
+/// incidents: past the first batch row of the incidents' audit).
+fn late_assets_csv(n: usize, late: usize) -> Vec<u8> {
+    let mut s = String::from(
+        "found_on,site,asset,position,supplier,product,lot,makeup,material,temper,thickness,status,origin_location,origin_type,analyst,mirror_mist,mist_hackle,cause,confidence,responsibility,description,heat_soaked,heat_soak_on,heat_soak_ref\n",
+    );
+    for i in 0..n {
+        let asset = if i < late {
+            format!("car {}", 100 + i % 7)
+        } else {
+            format!("late car {i}")
+        };
+        let soak = if i % 12 == 3 {
+            "yes,2024-05-02,HS-77"
+        } else {
+            ",,"
+        };
+        s.push_str(&format!(
+            "2025-0{}-{:02},TVL-CEN,{asset},bay {i},ORVALE,SW6-FT,OS-22{:02},monolithic,soda_lime,fully_tempered,6 mm,cause_assigned,edge,edge_chip,mira,0.{} mm,0.{} mm,thermal,probable,undetermined,basalt crack number {i},{soak}\n",
+            1 + i % 9,
+            1 + i % 28,
+            i % 12,
+            40 + i % 50,
+            60 + i % 30,
+        ));
+    }
+    s.into_bytes()
+}
+
+/// Both paths write the audit rows of a file in one order: the records the rows name (here
+/// assets first named after the thousandth row), the lots' heat-soak records, then the
+/// incidents' batch rows. Before, the ordinary path wrote a batch row after each thousand
+/// incidents, between the records, and the heat-soak records last, so the chains differed.
+#[test]
+fn a_large_file_gives_one_audit_chain_by_either_path() {
+    let dir = tempfile::tempdir().unwrap();
+    let csv = late_assets_csv(1_100, 1_050);
+    let mut ordinary = store(dir.path(), "ordinary.db", None);
+    let mut bulk = store(dir.path(), "bulk.db", Some(1_000));
+    let (a, b) = (
+        import(&mut ordinary, &csv, ImportOptions::default()),
+        import(&mut bulk, &csv, ImportOptions::default()),
+    );
+    assert_eq!(a, b);
+    assert_eq!(b.incidents, 1_100);
+    assert_eq!(bulk.assets().unwrap().len(), 7 + 50);
+    let soaked = bulk
+        .lots(None, None)
+        .unwrap()
+        .into_iter()
+        .filter(|l| l.heat_soak.as_ref().is_some_and(|h| h.soaked))
+        .count();
+    assert_eq!(soaked, 1, "one lot has its heat-soak record");
+    assert_same(&ordinary, &bulk, "basalt");
 }

@@ -343,3 +343,28 @@ fn viewing_modes_import_by_label_or_code_one_per_reading_and_come_back_on_export
     assert!(t.contains("line 3, column viewing"), "{t}");
     assert!(t.contains("unknown viewing mode code \"x-ray\""), "{t}");
 }
+
+#[test]
+fn a_json_import_refuses_a_heat_soak_date_outside_the_kept_range_by_its_path() {
+    let (dir, db) = imported();
+    let o = run(&db, &["export", "--format", "json"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let json = String::from_utf8_lossy(&o.stdout).to_string();
+    assert!(json.contains("\"on\": \"2019-11-04\""), "{json}");
+    // a typing slip in the year: 1019 for 2019
+    let slipped = json.replace("\"on\": \"2019-11-04\"", "\"on\": \"1019-11-04\"");
+    let f = dir.path().join("slipped.json");
+    std::fs::write(&f, slipped).unwrap();
+    let db2 = dir.path().join("y.db");
+    assert!(run(&db2, &["init"]).status.success());
+    let o = run(&db2, &["import", f.to_str().unwrap()]);
+    let t = text(&o);
+    assert_eq!(o.status.code(), Some(1), "{t}");
+    assert!(t.contains(".heat_soak.on"), "{t}");
+    assert!(
+        t.contains("1019-11-04 is outside the dates shardlog keeps"),
+        "{t}"
+    );
+    // nothing of the file was written
+    assert!(!text(&run(&db2, &["list"])).contains("tower 3"));
+}

@@ -634,3 +634,23 @@ fn the_first_use_name_box_shows_its_name_line_at_80x24() {
     assert!(screen.contains("Your name: ivh"), "{screen}");
     assert!(screen.contains("(SHARDLOG_USER sets it too)."), "{screen}");
 }
+
+#[test]
+fn the_log_at_80_columns_shows_a_bench_coded_reference_whole() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("bench.db");
+    let mut store = Store::open(&path).unwrap();
+    store.set_bench_code("WESTYARD").unwrap();
+    seed(&mut store, 3);
+    let mut app = App::with_store(store, &path).unwrap();
+    let reference = app.log.rows[0].reference.clone();
+    assert!(reference.starts_with("BR-WESTYARD-"), "{reference}");
+    assert_eq!(reference.len(), 23);
+    let t = text(&render(&mut app, 80, 24));
+    assert!(t.contains(&format!("{reference} ")), "{t}");
+    // the asset and position keep some room, and the row still fits the screen
+    assert!(t.contains("car 20"), "{t}");
+    for line in t.lines() {
+        assert!(line.width() <= 80, "{line}");
+    }
+}

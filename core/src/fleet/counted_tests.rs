@@ -58,6 +58,7 @@ fn exposures() -> Vec<Exposure> {
             panes: 1000.0 * (i + 1) as f64,
             from: d(2023, 6, 1),
             until: None,
+            bench: None,
         })
         .collect()
 }

@@ -26,6 +26,8 @@ use super::weibull::{fit, Specimen, WeibullError, WeibullFit};
 /// distinct values, and the store hands out one copy of each (`"x".into()` makes one).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct IncidentFacts {
+    /// The bench that owns the incident (the fleet database; a bench file: its own code).
+    pub bench: Option<Rc<str>>,
     pub cause: Option<Rc<str>>,
     pub origin_type: Option<Rc<str>>,
     pub supplier: Option<Rc<str>>,
@@ -44,6 +46,9 @@ pub struct IncidentFacts {
 /// `until` (inclusive; `None` = still in service at the end of the window).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Exposure {
+    /// The bench that entered the panes (its incidents are counted against them when
+    /// grouped by bench).
+    pub bench: Option<String>,
     pub supplier: Option<String>,
     pub product: Option<String>,
     pub lot: Option<String>,
@@ -93,6 +98,8 @@ pub enum FleetError {
 /// A grouping key.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum Key {
+    /// The bench that owns the incident (a fleet of benches).
+    Bench,
     Cause,
     OriginType,
     Supplier,
@@ -108,7 +115,8 @@ pub enum Key {
 }
 
 impl Key {
-    pub const ALL: [Key; 10] = [
+    pub const ALL: [Key; 11] = [
+        Key::Bench,
         Key::Cause,
         Key::OriginType,
         Key::Supplier,
@@ -121,10 +129,11 @@ impl Key {
         Key::Season,
     ];
     const LIST: &'static str =
-        "cause, origin-type, supplier, product, lot, site, asset-type, temper, month, season";
+        "bench, cause, origin-type, supplier, product, lot, site, asset-type, temper, month, season";
 
     pub fn name(self) -> &'static str {
         match self {
+            Key::Bench => "bench",
             Key::Cause => "cause",
             Key::OriginType => "origin-type",
             Key::Supplier => "supplier",
@@ -142,6 +151,7 @@ impl Key {
     pub fn parse(text: &str) -> Result<Key, FleetError> {
         let t = text.trim().to_ascii_lowercase().replace('_', "-");
         let k = match t.as_str() {
+            "bench" => Key::Bench,
             "cause" => Key::Cause,
             "origin-type" | "origin" => Key::OriginType,
             "supplier" => Key::Supplier,
@@ -169,7 +179,10 @@ impl Key {
 
     /// Keys that exposure rows carry.
     pub fn is_exposure(self) -> bool {
-        matches!(self, Key::Supplier | Key::Product | Key::Lot | Key::Site)
+        matches!(
+            self,
+            Key::Bench | Key::Supplier | Key::Product | Key::Lot | Key::Site
+        )
     }
 
     /// Keys that cut time.
@@ -265,6 +278,7 @@ impl Val<'_> {
 
 fn text_of(f: &IncidentFacts, k: Key) -> Option<&str> {
     match k {
+        Key::Bench => f.bench.as_deref(),
         Key::Cause => f.cause.as_deref(),
         Key::OriginType => f.origin_type.as_deref(),
         Key::Supplier => f.supplier.as_deref(),
@@ -287,6 +301,7 @@ fn val_of(f: &IncidentFacts, k: Key) -> Val<'_> {
 
 fn exposure_text(e: &Exposure, k: Key) -> Option<&str> {
     match k {
+        Key::Bench => e.bench.as_deref(),
         Key::Supplier => e.supplier.as_deref(),
         Key::Product => e.product.as_deref(),
         Key::Lot => e.lot.as_deref(),

@@ -204,6 +204,7 @@ mod tests {
             f(SoakClass::Unknown, true, Some(d(2026, 1, 1))),
         ];
         let exposure = vec![Exposure {
+            bench: None,
             supplier: Some("S".into()),
             product: Some("P".into()),
             lot: Some("B".into()),

@@ -387,10 +387,37 @@ pub fn normal_key(key: &str) -> String {
         .collect()
 }
 
+/// The built-in library, made once and kept: a look-up per imported row or per verified
+/// result would otherwise format every material's sources again.
+fn library_kept() -> &'static [Material] {
+    static KEPT: std::sync::OnceLock<Vec<Material>> = std::sync::OnceLock::new();
+    KEPT.get_or_init(library)
+}
+
+/// Whether `key` names `library_key` by the rule of [`normal_key`], without making a string.
+fn key_matches(key: &str, library_key: &str) -> bool {
+    let mut typed = key.trim().chars().map(|c| match c {
+        '_' | ' ' => '-',
+        c => c.to_ascii_lowercase(),
+    });
+    let mut kept = library_key.chars();
+    loop {
+        match (typed.next(), kept.next()) {
+            (None, None) => return true,
+            (Some(a), Some(b)) if a == b => {}
+            _ => return false,
+        }
+    }
+}
+
 /// Look a material up by key (case-insensitive; `_` and spaces read as `-`).
 pub fn find(key: &str) -> Option<Material> {
-    let want = normal_key(key);
-    library().into_iter().find(|m| m.key == want)
+    find_ref(key).cloned()
+}
+
+/// [`find`] without the copy: the kept library's entry.
+pub fn find_ref(key: &str) -> Option<&'static Material> {
+    library_kept().iter().find(|m| key_matches(key, &m.key))
 }
 
 /// Look a material up in the library, then among a lab's own materials (`own`), by the same
@@ -419,7 +446,7 @@ pub fn constants(m: &Material) -> [(&'static str, &Option<Constant>); 8] {
 
 /// The keys of the library, for error messages.
 pub fn keys() -> Vec<String> {
-    library().into_iter().map(|m| m.key).collect()
+    library_kept().iter().map(|m| m.key.clone()).collect()
 }
 
 /// How a constant is typed and shown: the quantity it is.
@@ -530,6 +557,21 @@ mod tests {
             assert_eq!(lib.iter().filter(|o| o.key == m.key).count(), 1);
         }
         assert!(find("Soda_Lime").is_some());
+        // the look-up compares by the rule of normal_key without making the string
+        for typed in [
+            "soda-lime",
+            " Soda Lime ",
+            "SODA_LIME",
+            "soda-lim",
+            "soda-limes",
+            "",
+        ] {
+            assert_eq!(
+                find(typed).is_some(),
+                normal_key(typed) == "soda-lime",
+                "{typed:?}"
+            );
+        }
         assert!(find("unobtainium").is_none());
         let mut own = find("soda-lime").unwrap();
         own.key = "lab_float".into();

@@ -16,6 +16,15 @@ impl App {
             return;
         }
         let Some(edit) = &mut self.edit else { return };
+        if edit.kind == EditKind::BenchFilter && action == Action::Confirm {
+            let bench = edit
+                .form
+                .pick("bench")
+                .and_then(|p| p.highlighted().or(p.chosen_item()))
+                .map(|i| i.code.clone());
+            self.apply_bench_filter(bench.filter(|b| !b.is_empty()));
+            return;
+        }
         if edit.kind == EditKind::Filter && action == Action::Confirm {
             if let Some(form::FormItem::Field(_)) = edit.form.items.get(edit.form.focus) {
                 self.apply_filter();
@@ -37,6 +46,15 @@ impl App {
         };
         if edit.kind == EditKind::Filter {
             self.apply_filter();
+            return;
+        }
+        if edit.kind == EditKind::BenchFilter {
+            let bench = edit
+                .form
+                .pick("bench")
+                .and_then(|p| p.highlighted().or(p.chosen_item()))
+                .map(|i| i.code.clone());
+            self.apply_bench_filter(bench.filter(|b| !b.is_empty()));
             return;
         }
         if matches!(

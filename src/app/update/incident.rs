@@ -6,14 +6,24 @@ use crate::app::{Action, App, Screen};
 impl App {
     /// Load an incident (by id or reference) with its history and show it.
     pub fn open_incident(&mut self, key: &str) {
-        let Some(store) = self.store.as_ref() else {
+        let Some(records) = crate::app::read_side(&self.store, &self.fleet) else {
             return;
         };
-        let loaded = store
-            .get(key)
-            .and_then(|inc| store.history(&inc.id).map(|h| (inc, h)));
+        let loaded = records.get(key).and_then(|inc| {
+            let history = match (self.store.as_ref(), self.fleet.as_ref()) {
+                (Some(store), _) => store.history(&inc.id)?,
+                // the history as the fleet holds it, oldest first as the bench gives it
+                (None, Some(fleet)) => fleet.history(&inc.id)?,
+                (None, None) => Vec::new(),
+            };
+            let owner = match self.fleet.as_ref() {
+                Some(fleet) => fleet.owner_of(&inc.id)?,
+                None => None,
+            };
+            Ok((inc, history, owner))
+        });
         match loaded {
-            Ok((incident, mut history)) => {
+            Ok((incident, mut history, owner)) => {
                 history.reverse();
                 let section = self
                     .incident
@@ -27,6 +37,7 @@ impl App {
                     scroll: 0,
                     history_cursor: 0,
                     scroll_max: std::cell::Cell::new(u16::MAX),
+                    owner,
                 });
                 if self.screen() != Screen::Incident {
                     self.stack.push(Screen::Incident);
@@ -42,7 +53,7 @@ impl App {
             self.open_incident(&id);
             self.stack = keep;
         }
-        if let Some(store) = self.store.as_ref() {
+        if let Some(store) = crate::app::read_side(&self.store, &self.fleet) {
             let r = self.log.refresh(store);
             self.report(r);
         }

@@ -29,7 +29,7 @@ impl App {
             }
             return;
         }
-        let Some(store) = self.store.as_ref() else {
+        let Some(store) = crate::app::read_side(&self.store, &self.fleet) else {
             return;
         };
         let r = match action {
@@ -66,6 +66,10 @@ impl App {
                 self.open_filter();
                 Ok(())
             }
+            Action::FilterBench => {
+                self.open_bench_filter();
+                Ok(())
+            }
             Action::Confirm | Action::Right => {
                 if let Some(row) = self.log.selected_row() {
                     let id = row.id.clone();
@@ -97,13 +101,52 @@ impl App {
     }
 
     pub(super) fn reload_log(&mut self) {
-        if let Some(store) = self.store.as_ref() {
+        if let Some(store) = crate::app::read_side(&self.store, &self.fleet) {
             let r = self.log.reload(store);
             self.report(r);
         }
     }
 
+    /// The benches as pick items (the fleet's bench codes).
+    fn bench_items(&self) -> Vec<PickItem> {
+        self.lists
+            .benches
+            .iter()
+            .map(|b| PickItem::new(b.clone(), b.clone()))
+            .collect()
+    }
+
+    /// One pick of the fleet's benches; the log shows the chosen bench's incidents.
+    pub(super) fn open_bench_filter(&mut self) {
+        if !self.on_fleet() {
+            self.info("B chooses a bench on the fleet database; a bench file holds its own");
+            return;
+        }
+        let mut items = vec![PickItem::new("", "every bench")];
+        items.extend(self.bench_items());
+        let pick = PickList::new("bench", "Bench", items)
+            .with_choice(self.log.filter.bench.as_deref().unwrap_or(""));
+        let mut form = Form::default();
+        form.push_pick(pick);
+        form.mark_clean();
+        self.edit = Some(EditState {
+            kind: EditKind::BenchFilter,
+            form,
+            base: None,
+            conflict: false,
+        });
+        self.stack.push(Screen::Edit);
+    }
+
+    pub(super) fn apply_bench_filter(&mut self, bench: Option<String>) {
+        self.log.filter.bench = bench;
+        self.edit = None;
+        self.stack.pop();
+        self.reload_log();
+    }
+
     pub(super) fn open_filter(&mut self) {
+        let benches = self.bench_items();
         let f = &self.log.filter;
         let mut form = Form::default();
         let any = |items: Vec<PickItem>| {
@@ -114,6 +157,9 @@ impl App {
         let pick = |key, label, items: Vec<PickItem>, cur: &Option<String>| {
             PickList::new(key, label, any(items)).with_choice(cur.as_deref().unwrap_or(""))
         };
+        if self.on_fleet() {
+            form.push_pick(pick("bench", "Bench", benches, &f.bench));
+        }
         form.push_pick(pick(
             "status",
             "Status",
@@ -193,6 +239,7 @@ impl App {
             since: date("since"),
             until: date("until"),
             text: opt("text"),
+            bench: opt("bench"),
         };
         self.log.filter = filter;
         self.edit = None;

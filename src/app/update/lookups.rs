@@ -9,7 +9,7 @@ use crate::app::{Action, App, Screen};
 impl App {
     /// Open the lookup lists (from the log).
     pub fn open_lookups(&mut self) {
-        let Some(store) = self.store.as_ref() else {
+        let Some(store) = crate::app::read_side(&self.store, &self.fleet) else {
             self.error("no database is open: the lookup lists live in it");
             return;
         };
@@ -29,7 +29,7 @@ impl App {
             Action::Home => self.lookups.cursor = 0,
             Action::End => self.lookups.move_by(i64::MAX / 2),
             Action::NextSection | Action::PrevSection => {
-                if let Some(store) = self.store.as_ref() {
+                if let Some(store) = crate::app::read_side(&self.store, &self.fleet) {
                     let r = self.lookups.switch(store, action == Action::NextSection);
                     self.report(r);
                 }

@@ -3,6 +3,7 @@
 
 mod bench;
 mod edit;
+mod fleet;
 mod incident;
 mod log;
 mod lookups;
@@ -20,7 +21,9 @@ impl App {
             self.width = width;
             self.height = height;
             let rows = height.saturating_sub(LOG_CHROME_ROWS).max(1) as usize;
-            let r = self.log.set_page_size(rows, self.store.as_ref());
+            let r = self
+                .log
+                .set_page_size(rows, crate::app::read_side(&self.store, &self.fleet));
             self.report(r);
             return;
         }
@@ -118,6 +121,9 @@ impl App {
                 return;
             }
             _ => {}
+        }
+        if self.refuse_fleet_edit(&action) {
+            return;
         }
         match self.screen() {
             Screen::Log => self.update_log(action),

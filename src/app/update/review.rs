@@ -19,13 +19,13 @@ impl App {
     }
 
     pub(super) fn reload_review(&mut self) {
-        let Some(store) = self.store.as_ref() else {
+        // the window ends today
+        let today = self.stamp().at.date_naive();
+        let Some(records) = crate::app::read_side(&self.store, &self.fleet) else {
             self.error("no database is open: the review needs the incident records");
             return;
         };
-        // the window ends today
-        let today = self.stamp().at.date_naive();
-        self.review.load(store, today);
+        self.review.load(records, today);
     }
 
     pub(super) fn update_review(&mut self, action: Action) {

@@ -358,7 +358,8 @@ fn only_field(key: Key) -> Option<super::codes::Field> {
         Key::Site => Field::Site,
         Key::AssetType => Field::AssetType,
         Key::Temper => Field::Temper,
-        Key::Month | Key::Season => return None,
+        // bench codes are the fleet's own: taken as typed
+        Key::Bench | Key::Month | Key::Season => return None,
     })
 }
 
@@ -471,12 +472,7 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         let window = q
             .window(&incidents, &exposures, today)
             .map_err(CliError::usage)?;
-        let Some(bench) = store.as_bench() else {
-            return Err(CliError::usage(
-                "--heat-soak is not yet on the fleet database; run it on a bench file",
-            ));
-        };
-        let c = soak::comparison(bench, &exposures, &window)?;
+        let c = soak::comparison(store, &exposures, &window)?;
         if q.json {
             let mut v: Value =
                 serde_json::from_str(&text).map_err(|e| CliError::work(format!("json: {e}")))?;
@@ -540,6 +536,7 @@ mod tests {
             });
         }
         let ex = |s: &str, lot: &str, n: f64| Exposure {
+            bench: None,
             supplier: Some(s.into()),
             product: None,
             lot: Some(lot.into()),

@@ -8,11 +8,11 @@ use shardlog_core::fleet::Exposure;
 use shardlog_core::units::fmt_sig;
 
 use super::super::CliError;
-use crate::store::Store;
+use crate::store::RecordSource;
 
 /// The comparison over `window`, the exposure matched to lots.
 pub fn comparison(
-    store: &Store,
+    store: &dyn RecordSource,
     exposures: &[Exposure],
     window: &Window,
 ) -> Result<SoakComparison, CliError> {

@@ -630,4 +630,7 @@ fn contents_section(d: &mut Document, c: &BundleContent) {
         ("Exported".into(), c.exported_at.clone()),
         ("Produced by".into(), c.generator.clone()),
     ];
+    if let Some(f) = &c.made_from {
+        d.proof.push(("Made from".into(), format!("the {f}")));
+    }
 }

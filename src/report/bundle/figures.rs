@@ -9,7 +9,7 @@ use super::{
     VerdictCounts, WeibullRow,
 };
 use crate::report::source::Labels;
-use crate::store::{self, Store};
+use crate::store::{self, ReportSource};
 use shardlog_core::fleet;
 
 fn counts(items: impl Iterator<Item = String>) -> Vec<Count> {
@@ -48,7 +48,7 @@ fn claim_matches(opts: &DisputeOptions, f: &fleet::IncidentFacts) -> bool {
 }
 
 pub(super) fn cover(
-    s: &Store,
+    s: &dyn ReportSource,
     labels: &Labels,
     sup: &store::Supplier,
     opts: &DisputeOptions,
@@ -177,7 +177,7 @@ pub(super) const NO_CAUSE_LABEL: &str = "no cause recorded yet";
 /// With a cause or origin selection: what the claim is about and, by cause, the incidents
 /// of the supplier (lot, window) it left out.
 fn excluded(
-    s: &Store,
+    s: &dyn ReportSource,
     labels: &Labels,
     sup: &store::Supplier,
     opts: &DisputeOptions,
@@ -196,31 +196,15 @@ fn excluded(
     };
     let mut before = 0u64;
     let mut left_out: BTreeMap<String, u64> = BTreeMap::new();
-    let mut after = None;
-    loop {
-        let page = s.list(
-            &every,
-            store::Sort::default(),
-            &store::PageRequest {
-                limit: 5000,
-                after: after.take(),
-                with_total: false,
-            },
-        )?;
-        for r in &page.rows {
-            before += 1;
-            let cause_ok = opts.causes.is_empty()
-                || opts.causes.iter().any(|c| match r.cause.as_deref() {
-                    Some(x) => x == c,
-                    None => c == store::NO_CAUSE,
-                });
-            if !cause_ok {
-                *left_out.entry(cause_label(r.cause.as_deref())).or_default() += 1;
-            }
-        }
-        match page.next {
-            Some(n) => after = Some(n),
-            None => break,
+    for cause in s.causes_matching(&every)? {
+        before += 1;
+        let cause_ok = opts.causes.is_empty()
+            || opts.causes.iter().any(|c| match cause.as_deref() {
+                Some(x) => x == c,
+                None => c == store::NO_CAUSE,
+            });
+        if !cause_ok {
+            *left_out.entry(cause_label(cause.as_deref())).or_default() += 1;
         }
     }
     // incidents of a claimed cause left out by the origin type
@@ -388,7 +372,7 @@ impl FleetInWindow {
     /// supplier; with a lot, the lot and the cause too), and only positive applied stresses
     /// (the Weibull fit takes no others). The window runs from `--since` (else the earliest
     /// date recorded) to `--until` (else today).
-    fn load(s: &Store, opts: &DisputeOptions) -> Result<Self, BundleError> {
+    fn load(s: &dyn ReportSource, opts: &DisputeOptions) -> Result<Self, BundleError> {
         let mut keys = vec![fleet::Key::Supplier, fleet::Key::Cause];
         if opts.lot.is_some() {
             keys.push(fleet::Key::Lot);
@@ -396,11 +380,11 @@ impl FleetInWindow {
         if opts.origin_type.is_some() {
             keys.push(fleet::Key::OriginType);
         }
-        let mut facts = s.fleet_facts(
+        let mut facts = s.facts_in_window(
             opts.since,
             opts.until,
             shardlog_core::fleet::StressKind::Applied,
-            Some(&keys),
+            &keys,
         )?;
         let exposure = s.exposure()?;
         let earliest = facts

@@ -9,7 +9,7 @@ use super::{
 use crate::report::doc::Paper;
 use crate::report::source::{incident_content, Labels};
 use crate::report::summary::{self, Pictures};
-use crate::store::{self, Filter, Store};
+use crate::store::{self, Filter, ReportSource};
 use shardlog_core::canonical::{digest, Numbers};
 
 /// The extension an attachment gets in the bundle: from what its bytes are for photos, from
@@ -51,7 +51,7 @@ fn ref_file(reference: &str) -> String {
     )
 }
 
-fn resolve_supplier(s: &Store, wanted: &str) -> Result<store::Supplier, BundleError> {
+fn resolve_supplier(s: &dyn ReportSource, wanted: &str) -> Result<store::Supplier, BundleError> {
     let all = s.suppliers()?;
     let w = wanted.trim();
     if let Some(x) = all
@@ -98,7 +98,7 @@ pub(super) fn selection_filters(sel: &Selection) -> Vec<Filter> {
 
 /// The ids of the incidents a selection chooses, in the order of their dates found: what
 /// `dispute` put in the bundle, and what a later check runs again against the database.
-pub fn selected_ids(s: &Store, sel: &Selection) -> Result<Vec<String>, BundleError> {
+pub fn selected_ids(s: &dyn ReportSource, sel: &Selection) -> Result<Vec<String>, BundleError> {
     let mut ids = Vec::new();
     for f in selection_filters(sel) {
         ids.extend(s.matching_ids(&f)?);
@@ -108,12 +108,18 @@ pub fn selected_ids(s: &Store, sel: &Selection) -> Result<Vec<String>, BundleErr
 }
 
 /// Everything the bundle's files are rendered from, gathered from the store.
-pub fn gather(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictures), BundleError> {
+pub fn gather(
+    s: &dyn ReportSource,
+    opts: &DisputeOptions,
+) -> Result<(BundleContent, Pictures), BundleError> {
     // the head and the incidents it vouches for are read from one snapshot
-    s.consistent_read(|s| gather_in(s, opts))
+    store::consistent(s, || gather_in(s, opts))
 }
 
-fn gather_in(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Pictures), BundleError> {
+fn gather_in(
+    s: &dyn ReportSource,
+    opts: &DisputeOptions,
+) -> Result<(BundleContent, Pictures), BundleError> {
     if let (Some(a), Some(b)) = (opts.since, opts.until) {
         if a > b {
             return Err(BundleError::Usage(format!(
@@ -123,7 +129,7 @@ fn gather_in(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Picture
     }
     let sup = resolve_supplier(s, &opts.supplier)?;
     let labels = Labels::load(s)?;
-    let (head_seq, head) = s.audit_head_entry()?;
+    let (head_seq, head) = s.head_entry()?;
     let selection = Selection {
         supplier_code: sup.code.clone(),
         supplier_name: sup.name.clone(),
@@ -139,7 +145,7 @@ fn gather_in(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Picture
     let mut attachments: BTreeMap<String, BundleAttachment> = BTreeMap::new();
     let mut raw = Vec::with_capacity(ids.len());
     for (i, id) in ids.iter().enumerate() {
-        s.report_progress("gathering", i as u64, Some(ids.len() as u64));
+        s.progress("gathering", i as u64, Some(ids.len() as u64));
         let inc = s.get(id)?;
         let (content, pics) = incident_content(s, &labels, &inc)?;
         for a in &content.attachments {
@@ -179,6 +185,7 @@ fn gather_in(s: &Store, opts: &DisputeOptions) -> Result<(BundleContent, Picture
         cover,
         incidents,
         attachments: attachments.into_values().collect(),
+        made_from: s.made_from()?,
     };
     Ok((content, pictures))
 }

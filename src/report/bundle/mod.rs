@@ -33,7 +33,9 @@ use crate::store::StoreError;
 
 pub use cover::cover_document;
 pub use gather::{gather, selected_ids};
-pub use verify::{first_difference, verify_bundle, verify_bundle_with, BundleCheck, ExpectedKey};
+pub use verify::{
+    first_difference, head_bench, verify_bundle, verify_bundle_with, BundleCheck, ExpectedKey,
+};
 pub use write::{figures_csv, render_files, write_bundle};
 
 pub const BUNDLE_FORMAT: &str = "shardlog dispute bundle 1";
@@ -250,6 +252,10 @@ pub struct BundleContent {
     pub cover: Cover,
     pub incidents: Vec<BundleIncident>,
     pub attachments: Vec<BundleAttachment>,
+    /// The fleet database the bundle was made from (its host and database, and benches);
+    /// absent for a bench file's bundle (and in bundles made before it was recorded).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub made_from: Option<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

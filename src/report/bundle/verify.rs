@@ -7,13 +7,17 @@ use std::sync::Arc;
 
 use serde::Serialize;
 
+mod fleet;
+
+pub use fleet::head_bench;
+
 use super::write::{render_files, threads};
 use super::{io, BundleContent, BundleError, BundleFile, BUNDLE_FORMAT};
 use crate::report::source::{incident_content, Labels};
 use crate::report::summary::Pictures;
 use crate::store::safe_file::{is_missing, read_regular_within, SafeReadError};
 use crate::store::signing::{normalise_fingerprint, PublicKey};
-use crate::store::{Anchor, Filter, Store};
+use crate::store::{Anchor, Filter, ReportSource, Store};
 use shardlog_core::canonical::{digest, digest_value, sha256_hex, Numbers};
 
 #[derive(Debug, Clone, Default, Serialize)]
@@ -147,7 +151,10 @@ impl ExpectedKey {
 }
 
 /// [`verify_bundle_with`] without an expected key.
-pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, BundleError> {
+pub fn verify_bundle(
+    dir: &Path,
+    store: Option<&dyn ReportSource>,
+) -> Result<BundleCheck, BundleError> {
     verify_bundle_with(dir, store, None)
 }
 
@@ -158,7 +165,7 @@ pub fn verify_bundle(dir: &Path, store: Option<&Store>) -> Result<BundleCheck, B
 /// records as they stood at the bundle's head.
 pub fn verify_bundle_with(
     dir: &Path,
-    store: Option<&Store>,
+    store: Option<&dyn ReportSource>,
     key: Option<&ExpectedKey>,
 ) -> Result<BundleCheck, BundleError> {
     if !dir.is_dir() {
@@ -200,8 +207,14 @@ pub fn verify_bundle_with(
     // 5. the records
     if let Some(s) = store {
         check.compared_with_records = true;
-        check_signer(s, &bf, &mut check)?;
-        compare_with_records(s, c, &mut check)?;
+        match s.signing_store() {
+            Some(bench) => {
+                check_signer(bench, &bf, &mut check)?;
+                compare_with_records(bench, c, &mut check)?;
+            }
+            // the fleet holds no bench's key: the signature was checked alone above
+            None => fleet::compare_with_fleet(s, c, &mut check)?,
+        }
     }
     Ok(check)
 }
@@ -280,7 +293,7 @@ fn check_signer(s: &Store, bf: &BundleFile, check: &mut BundleCheck) -> Result<(
 
 /// bundle.json read as JSON and as a bundle file; `None` (with the problem noted) when it
 /// cannot be read or is not a bundle.
-fn read_bundle_file(
+pub(super) fn read_bundle_file(
     dir: &Path,
     check: &mut BundleCheck,
 ) -> Option<(serde_json::Value, BundleFile)> {

@@ -8,7 +8,7 @@ use super::{
 };
 use crate::report::doc::Paper;
 use crate::report::summary::{self, Pictures, Proof};
-use crate::store::Store;
+use crate::store::ReportSource;
 use shardlog_core::canonical::{digest, sha256_hex, Numbers};
 
 /// figures.csv: one row per incident.
@@ -138,6 +138,7 @@ fn incident_proof(c: &BundleContent, i: &BundleIncident) -> Proof {
         exported_at: c.exported_at.clone(),
         generator: c.generator.clone(),
         signed_head: None,
+        made_from: c.made_from.clone(),
     }
 }
 
@@ -226,7 +227,11 @@ pub(super) fn threads() -> usize {
 /// Write the bundle into `dir` (which must not exist, or be an empty folder). The files are
 /// written into a sibling temporary folder first and moved into place at the end, so an
 /// interrupted export leaves no half bundle under the requested name.
-pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Written, BundleError> {
+pub fn write_bundle(
+    s: &dyn ReportSource,
+    opts: &DisputeOptions,
+    dir: &Path,
+) -> Result<Written, BundleError> {
     if dir.exists() {
         let empty = std::fs::read_dir(dir)
             .map_err(|e| io(dir, e))?
@@ -265,7 +270,7 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
         });
     }
     let signed_head = sign(s, opts, &content)?;
-    let mut tell = |done: u64, total: u64| s.report_progress("rendering", done, Some(total));
+    let mut tell = |done: u64, total: u64| s.progress("rendering", done, Some(total));
     let files = render_files_told(&content, &pictures, threads(), Some(&mut tell));
     let parent = match dir.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
@@ -353,11 +358,14 @@ pub fn write_bundle(s: &Store, opts: &DisputeOptions, dir: &Path) -> Result<Writ
 
 /// The bundle's audit head signed with its content digest, when the key is here.
 fn sign(
-    s: &Store,
+    s: &dyn ReportSource,
     opts: &DisputeOptions,
     content: &BundleContent,
 ) -> Result<Option<crate::store::signing::SignedHead>, BundleError> {
-    let (Some(dir), Some(seq)) = (&opts.key_dir, content.audit_head_seq) else {
+    // the fleet holds no bench's key: what it reports is not signed
+    let (Some(s), Some(dir), Some(seq)) =
+        (s.signing_store(), &opts.key_dir, content.audit_head_seq)
+    else {
         return Ok(None);
     };
     let content_sha256 = digest(content, Numbers::Shortest)?;

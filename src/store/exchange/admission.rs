@@ -279,6 +279,10 @@ pub(crate) fn reference_dates_out_of_range(doc: &ExportDoc) -> Vec<Problem> {
     };
     for (i, l) in doc.lots.iter().enumerate() {
         check(format!("lots[{i}].made_on"), l.made_on);
+        check(
+            format!("lots[{i}].heat_soak.on"),
+            l.heat_soak.as_ref().and_then(|h| h.on),
+        );
     }
     for (i, e) in doc.exposure.iter().enumerate() {
         check(format!("exposure[{i}].installed_on"), Some(e.installed_on));

@@ -11,7 +11,7 @@ use std::collections::HashSet;
 use super::super::bulk::{AuditRows, NewIncident};
 use super::super::model::*;
 use super::super::{Store, StoreError};
-use super::import::{ImportResult, Numbering, Place, WriteError, Writer};
+use super::import::{ImportResult, Place, WriteError, Writer};
 use super::{ExportDoc, ImportOptions, ImportRejected, ImportSummary, Problem};
 
 /// Imports of more incidents than this take the bulk path.
@@ -33,6 +33,7 @@ impl Store {
         seen_refs: &HashSet<String>,
         options: ImportOptions,
         stamp: &Stamp,
+        deferred: Option<super::super::MaterialBook>,
     ) -> ImportResult {
         let existing = self.incident_count()?;
         let drop_indexes = existing <= incidents.len() as u64;
@@ -52,6 +53,7 @@ impl Store {
             seen_refs,
             &options,
             stamp,
+            deferred.as_ref(),
             &mut summary,
         );
         self.ids.set_monotonic(false);
@@ -84,6 +86,7 @@ fn write_bulk(
     seen_refs: &HashSet<String>,
     options: &ImportOptions,
     stamp: &Stamp,
+    deferred: Option<&super::super::MaterialBook>,
     summary: &mut ImportSummary,
 ) -> Result<(), WriteError> {
     let whole = |e: StoreError| ("import".to_string(), e);
@@ -109,18 +112,16 @@ fn write_bulk(
         writer.write_reference_data(chain, doc)?;
         // the batch audit rows' keys, drawn where the ordinary path draws them
         let seed = writer.ids.next_u64();
-        let mut numbering = Numbering::default();
-        let mut ready = Vec::with_capacity(incidents.len());
-        for (i, (place, inc)) in incidents.into_iter().enumerate() {
-            progress.tell("importing", i as u64, total);
-            let (incident, refs) =
-                writer.ready(chain, &mut numbering, place, inc, seen_refs, options.strict)?;
-            ready.push(NewIncident {
+        // every audit row in the order of the ordinary path (import.rs, Writer::write_all)
+        let ready: Vec<NewIncident> = writer
+            .ready_all(chain, incidents, seen_refs, options.strict)?
+            .into_iter()
+            .map(|(_, incident, refs)| NewIncident {
                 incident,
                 refs,
                 stamp: stamp.clone(),
-            });
-        }
+            })
+            .collect();
         // the lots the rows named exist now (made ready above): their heat-soak records
         writer.write_lot_heat_soak(chain, doc)?;
         (ready, seed)
@@ -130,8 +131,18 @@ fn write_bulk(
     }
     progress.tell("writing", 0, total);
     let mut next = ready.into_iter();
+    // on the maker thread: results kept as figures computed whole again, then made ready
+    let at = stamp.at;
+    let make = move |_: &mut super::super::IdGen| {
+        next.next().map(|mut n| {
+            if let Some(book) = deferred {
+                super::onepass::complete_results(&mut n.incident, at, book)?;
+            }
+            Ok(n)
+        })
+    };
     let written = load
-        .write_incidents(AuditRows::Batched { seed }, move |_| next.next().map(Ok))
+        .write_incidents(AuditRows::Batched { seed }, make)
         .map_err(whole)?;
     summary.incidents += written as usize;
     Ok(())

@@ -115,11 +115,21 @@ impl Store {
         let mut incidents = Vec::with_capacity(records.len());
         let mut doc = ExportDoc::empty();
         let mut soak_lines: HashMap<(String, String, String), usize> = HashMap::new();
-        for CsvRecord {
-            line,
-            mut incident,
-            lot_heat_soak,
-        } in records
+        // a file that takes the bulk path keeps its results' figures only until it is written
+        let keep = if records.len() > self.bulk_import_above {
+            onepass::Keep::Figures
+        } else {
+            onepass::Keep::Whole
+        };
+        let read = onepass::read_records(records, &vocabulary, &book, stamp.at, keep);
+        for (
+            CsvRecord {
+                line,
+                incident,
+                lot_heat_soak,
+            },
+            computed,
+        ) in read
         {
             if let Some(h) = lot_heat_soak {
                 super::csv::gather_heat_soak(
@@ -131,19 +141,14 @@ impl Store {
                     &mut early,
                 );
             }
-            vocabulary.resolve(&mut incident);
-            early.extend(onepass::compute_results(
-                &mut incident,
-                line,
-                stamp.at,
-                &book,
-            ));
+            early.extend(computed);
             if !options.allow_duplicates {
                 self.note_duplicates(Place::Line(line), &incident, &mut seen, &mut early)?;
             }
             incidents.push((Place::Line(line), incident));
         }
-        let result = self.import_placed(doc, incidents, early, options, stamp);
+        let deferred = (keep == onepass::Keep::Figures).then_some(book);
+        let result = self.import_placed(doc, incidents, early, options, stamp, deferred);
         match result {
             Ok(Err(mut rejected)) => {
                 for p in &mut rejected.problems {
@@ -206,11 +211,13 @@ impl Store {
                 self.note_duplicates(*place, inc, &mut seen, &mut early)?;
             }
         }
-        self.import_placed(doc, incidents, early, options, stamp)
+        self.import_placed(doc, incidents, early, options, stamp, None)
     }
 
     /// Check the reference data of `doc` and the incidents, then write them all or nothing;
-    /// `early` holds the problems found before the checks (reported with theirs).
+    /// `early` holds the problems found before the checks (reported with theirs). With
+    /// `deferred`, the incidents' computed results are figures only, completed with that
+    /// material book as they are written ([`onepass::Keep::Figures`]).
     fn import_placed(
         &mut self,
         doc: ExportDoc,
@@ -218,6 +225,7 @@ impl Store {
         early: Vec<Problem>,
         options: ImportOptions,
         stamp: &Stamp,
+        deferred: Option<MaterialBook>,
     ) -> ImportResult {
         for (_, inc) in &mut incidents {
             admission::normalize_keys(inc);
@@ -268,7 +276,14 @@ impl Store {
                 return Ok(Err(ImportRejected { problems: vec![p] }));
             }
         }
-        self.write_import(&doc, incidents, &checker.seen_refs, options, stamp)
+        self.write_import(
+            &doc,
+            incidents,
+            &checker.seen_refs,
+            options,
+            stamp,
+            deferred,
+        )
     }
 
     /// Copy the checked files of the attachment rows into the attachment folder, before
@@ -305,13 +320,20 @@ impl Store {
     fn write_import(
         &mut self,
         doc: &ExportDoc,
-        incidents: Vec<(Place, Incident)>,
+        mut incidents: Vec<(Place, Incident)>,
         seen_refs: &HashSet<String>,
         options: ImportOptions,
         stamp: &Stamp,
+        deferred: Option<MaterialBook>,
     ) -> ImportResult {
         if incidents.len() > self.bulk_import_above {
-            return self.write_import_bulk(doc, incidents, seen_refs, options, stamp);
+            // the bulk path completes deferred results on its maker thread
+            return self.write_import_bulk(doc, incidents, seen_refs, options, stamp, deferred);
+        }
+        if let Some(book) = &deferred {
+            for (_, inc) in &mut incidents {
+                onepass::complete_results(inc, stamp.at, book)?;
+            }
         }
         let mut summary = ImportSummary {
             dry_run: options.dry_run,
@@ -603,9 +625,13 @@ impl Writer<'_> {
         self.write_lookups(&mut chain, doc)?;
         self.write_reference_data(&mut chain, doc)?;
         let mut bulk = Bulk::new(INCIDENT, self.ids.next_u64());
-        self.write_incidents(&mut chain, &mut bulk, incidents, seen_refs, strict)?;
-        bulk.flush(self.tx, &mut chain, self.stamp).map_err(audit)?;
+        // every incident made ready (the records it names, with their audit rows), then the
+        // lots' heat-soak records, then the incidents with their batch rows: the order of the
+        // bulk path (bulk_import.rs), so that both give the same audit chain for one file
+        let ready = self.ready_all(&mut chain, incidents, seen_refs, strict)?;
         self.write_lot_heat_soak(&mut chain, doc)?;
+        self.write_incidents(&mut chain, &mut bulk, ready)?;
+        bulk.flush(self.tx, &mut chain, self.stamp).map_err(audit)?;
         chain.finish(self.tx).map_err(audit)
     }
 
@@ -739,19 +765,32 @@ impl Writer<'_> {
         Ok(())
     }
 
+    /// Each incident made ready ([`Writer::ready`]), in the file's order.
+    pub(super) fn ready_all(
+        &mut self,
+        chain: &mut Chain,
+        incidents: Vec<(Place, Incident)>,
+        seen_refs: &HashSet<String>,
+        strict: bool,
+    ) -> Result<Vec<(Place, Incident, Refs)>, WriteError> {
+        let mut numbering = Numbering::default();
+        let total = Some(incidents.len() as u64);
+        let mut ready = Vec::with_capacity(incidents.len());
+        for (i, (place, inc)) in incidents.into_iter().enumerate() {
+            self.progress.tell("importing", i as u64, total);
+            let (inc, refs) = self.ready(chain, &mut numbering, place, inc, seen_refs, strict)?;
+            ready.push((place, inc, refs));
+        }
+        Ok(ready)
+    }
+
     fn write_incidents(
         &mut self,
         chain: &mut Chain,
         bulk: &mut Bulk,
-        incidents: Vec<(Place, Incident)>,
-        seen_refs: &HashSet<String>,
-        strict: bool,
+        ready: Vec<(Place, Incident, Refs)>,
     ) -> Result<(), WriteError> {
-        let mut numbering = Numbering::default();
-        let total = Some(incidents.len() as u64);
-        for (i, (place, inc)) in incidents.into_iter().enumerate() {
-            self.progress.tell("importing", i as u64, total);
-            let (inc, refs) = self.ready(chain, &mut numbering, place, inc, seen_refs, strict)?;
+        for (place, inc, refs) in ready {
             incidents::insert_new(self.tx, chain, &inc, &refs, self.stamp, Some(bulk))
                 .map_err(|x| (place.at(), x))?;
             self.summary.incidents += 1;

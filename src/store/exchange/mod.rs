@@ -18,7 +18,7 @@ mod export;
 mod exposure;
 mod import;
 mod json;
-mod onepass;
+pub(crate) mod onepass;
 mod witness;
 
 pub use bulk_import::BULK_IMPORT_ABOVE;

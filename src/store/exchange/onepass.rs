@@ -170,6 +170,9 @@ pub fn column_kind(column: &str) -> Option<LookupKind> {
     })
 }
 
+/// What an analysis computed on import says of itself (its `source`).
+pub(crate) const COMPUTED_ON_IMPORT: &str = "computed from the readings of a CSV import";
+
 /// Compute each examination's results from its readings, as the bench does, replacing
 /// figures typed in the file's stress columns. A refusal of the calculation is a problem of
 /// the record's line.
@@ -178,6 +181,45 @@ pub fn compute_results(
     line: usize,
     at: DateTime<Utc>,
     book: &crate::store::MaterialBook,
+) -> Vec<Problem> {
+    compute_results_keeping(inc, line, at, book, Keep::Whole)
+}
+
+/// How much of each computed result the reading of a file keeps.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(super) enum Keep {
+    /// The whole result.
+    Whole,
+    /// Its figures only (stresses, flaw size, time), which the checks read; the analysis
+    /// and constants JSON stay null until [`complete_results`] computes the results again
+    /// where the incident is written. A large import holds all its incidents at once, and
+    /// the whole analyses of 20,000 took most of a 0.9 GB peak.
+    Figures,
+}
+
+/// The results [`compute_results_keeping`] left as figures, computed whole from the same
+/// record, material book and clock (so the same figures). A refusal now of what was taken
+/// when the file was read is the machine's failure, not the file's.
+pub(super) fn complete_results(
+    inc: &mut Incident,
+    at: DateTime<Utc>,
+    book: &crate::store::MaterialBook,
+) -> Result<(), StoreError> {
+    match compute_results(inc, 0, at, book).into_iter().next() {
+        None => Ok(()),
+        Some(p) => Err(StoreError::Database(format!(
+            "incident {}: computing its results again: {}",
+            inc.reference, p.message
+        ))),
+    }
+}
+
+fn compute_results_keeping(
+    inc: &mut Incident,
+    line: usize,
+    at: DateTime<Utc>,
+    book: &crate::store::MaterialBook,
+    keep: Keep,
 ) -> Vec<Problem> {
     let mut problems = Vec::new();
     let snapshot = inc.clone();
@@ -190,14 +232,15 @@ pub fn compute_results(
             continue;
         };
         match fracture::analyze(&input) {
+            Ok(analysis) if keep == Keep::Figures => {
+                exam.material = Some(input.material.key.replace('-', "_"));
+                exam.result = Some(super::super::analysis::to_figures(&analysis, at));
+            }
             Ok(analysis) => match super::super::analysis::to_result(&analysis, at) {
                 Ok(mut result) => {
                     super::super::analysis::keep_own_material(&mut result, &input, book);
                     if let serde_json::Value::Object(map) = &mut result.analysis {
-                        map.insert(
-                            "source".to_string(),
-                            "computed from the readings of a CSV import".into(),
-                        );
+                        map.insert("source".to_string(), COMPUTED_ON_IMPORT.into());
                     }
                     exam.material = Some(input.material.key.replace('-', "_"));
                     exam.result = Some(result);
@@ -214,6 +257,59 @@ pub fn compute_results(
         }
     }
     problems
+}
+
+/// Records at least this many are read on more than one thread by [`read_records`].
+const SPLIT_ABOVE: usize = 2_000;
+
+/// Each CSV record's lookup cells read as codes ([`Vocabulary::resolve`]) and its results
+/// computed ([`compute_results`]), with the problems of each record beside it, in the file's
+/// order. A large file is cut into consecutive parts read on up to four threads (one per
+/// core); every record's outcome is the one a single thread gives, as each depends on its
+/// own record only.
+pub(super) fn read_records(
+    records: Vec<super::csv::CsvRecord>,
+    vocabulary: &Vocabulary,
+    book: &crate::store::MaterialBook,
+    at: DateTime<Utc>,
+    keep: Keep,
+) -> Vec<(super::csv::CsvRecord, Vec<Problem>)> {
+    let one = |mut r: super::csv::CsvRecord| {
+        vocabulary.resolve(&mut r.incident);
+        let problems = compute_results_keeping(&mut r.incident, r.line, at, book, keep);
+        (r, problems)
+    };
+    let threads = std::thread::available_parallelism()
+        .map_or(1, usize::from)
+        .clamp(1, 4);
+    if records.len() < SPLIT_ABOVE || threads == 1 {
+        return records.into_iter().map(one).collect();
+    }
+    let per = records.len().div_ceil(threads);
+    let mut parts = Vec::with_capacity(threads);
+    let mut rest = records;
+    while rest.len() > per {
+        let tail = rest.split_off(per);
+        parts.push(rest);
+        rest = tail;
+    }
+    parts.push(rest);
+    std::thread::scope(|scope| {
+        let mut parts = parts.into_iter();
+        let first = parts.next().unwrap_or_default();
+        let others: Vec<_> = parts
+            .map(|part| scope.spawn(move || part.into_iter().map(one).collect::<Vec<_>>()))
+            .collect();
+        let mut out: Vec<_> = first.into_iter().map(one).collect();
+        for handle in others {
+            match handle.join() {
+                Ok(done) => out.extend(done),
+                // a panic on a helper thread is the program's fault: raise it here
+                Err(panic) => std::panic::resume_unwind(panic),
+            }
+        }
+        out
+    })
 }
 
 /// An incident's key for the duplicate check: asset, position and date found (none

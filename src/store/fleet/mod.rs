@@ -14,21 +14,28 @@
 //! - `pull_incidents`: the incidents other benches sent to this one, as the fleet holds them.
 //! - `status`: also the open conflicts with both versions.
 //! - `resolve`: the owning bench settles a conflict with a new edit that names it.
+//! - `bulk_fill`: new benches written straight into the fleet's tables (`fleet demo`), the
+//!   rows their first pushes would leave; `fill_facts` their read-table rows.
 //! - `sync`: push then pull, with the bench's receipts and `verify --fleet`.
 
+mod bulk_fill;
 mod check;
 mod connect;
+mod fill_facts;
 mod pull;
 mod pull_incidents;
 mod push;
 mod read;
+mod read_materials;
 mod read_need;
+mod read_report;
 mod read_stats;
 mod resolve;
 mod schema;
 mod status;
 mod sync;
 
+pub use bulk_fill::{BenchFill, BenchFilled, BulkFill, Streamed};
 pub use check::{BenchChainCheck, FleetCheck};
 pub use connect::Fleet;
 pub use pull::PullReport;

@@ -4,8 +4,9 @@
 //! this bench took from the fleet follows the fleet afterwards: an own material moves to the
 //! fleet's newer revision, a lookup entry to the label and retirement of the fleet's latest
 //! change of that code (an entry this bench made or edited itself never changes). Exposure
-//! rows are not pulled: a bench's rates divide its own incidents by its own panes in service,
-//! which another bench's rows would inflate. Every change is audited here as coming from the
+//! rows of other benches are pulled apart from the bench's own (`pulled_exposure`, each with
+//! its bench): a bench's rates divide its own incidents by its own panes in service, which
+//! another bench's rows would inflate. Every change is audited here as coming from the
 //! fleet (actor `fleet:pull`), in one transaction; the fleet witnesses those rows on the next
 //! push but never applies them.
 //!
@@ -21,6 +22,7 @@ use super::{Fleet, FleetError};
 use crate::store::audit::Chain;
 use crate::store::model::*;
 use crate::store::outbox::PULL_ACTOR;
+use crate::store::pulled_exposure::{self, PulledExposure};
 use crate::store::{canon, own_materials, refdata, OwnMaterial, Store, StoreError};
 
 /// What a pull added to this bench.
@@ -35,6 +37,9 @@ pub struct PullReport {
     pub materials: u64,
     /// Lookup entries taken from the fleet earlier, changed to the fleet's newer version.
     pub lookup_edits: u64,
+    /// Exposure rows of other benches added or brought to the fleet's version (kept apart
+    /// from this bench's own; never in its rates).
+    pub exposure: u64,
 }
 
 impl PullReport {
@@ -47,6 +52,7 @@ impl PullReport {
             + self.lots
             + self.materials
             + self.lookup_edits
+            + self.exposure
     }
 }
 
@@ -70,6 +76,26 @@ fn images(
         )?
         .into_iter()
         .map(|r| (r.get(0), r.get(1)))
+        .collect())
+}
+
+/// The images of the exposure rows other benches recorded, accepted after receipt `after`,
+/// oldest first, each with its receipt and the bench that recorded it.
+fn exposure_images(
+    fleet: &mut Fleet,
+    bench: &str,
+    after: i64,
+) -> Result<Vec<(i64, String, String)>, FleetError> {
+    Ok(fleet
+        .client
+        .query(
+            "SELECT fleet_seq, origin, image FROM fleet_records
+             WHERE entity = $1 AND origin <> $2 AND image IS NOT NULL AND fleet_seq > $3
+             ORDER BY fleet_seq, id",
+            &[&refdata::EXPOSURE, &bench, &after],
+        )?
+        .into_iter()
+        .map(|r| (r.get(0), r.get(1), r.get(2)))
         .collect())
 }
 
@@ -189,6 +215,7 @@ pub(crate) fn pull(
     let products = images(fleet, bench, refdata::PRODUCT, mark)?;
     let lots = images(fleet, bench, refdata::LOT, mark)?;
     let materials = images(fleet, bench, own_materials::MATERIAL, mark)?;
+    let exposure = exposure_images(fleet, bench, mark)?;
     let stamp = Stamp::new(PULL_ACTOR, chrono::Utc::now());
     // the mark moves to the fleet's newest receipt, or stays before a record to try again
     let mut next = top;
@@ -270,6 +297,17 @@ pub(crate) fn pull(
                 &mut next,
             )?);
         }
+    }
+    // other benches' panes in service: apart from this bench's own, each with its bench
+    for (seq, origin, i) in &exposure {
+        let Some(e) = decode::<Exposure>(i) else {
+            continue;
+        };
+        report.exposure += u64::from(taken_or_not(
+            pulled_exposure::put(&tx, &mut chain, &PulledExposure::of(origin, e), &stamp),
+            *seq,
+            &mut next,
+        )?);
     }
     report.lookup_edits = follow_lookup_edits(&tx, &mut chain, &lookups, &stamp)?;
     if report.total() > 0 {

@@ -16,30 +16,44 @@ use super::{Fleet, FleetError};
 use crate::store::canon;
 use crate::store::model::*;
 use crate::store::read::{RecordSource, StatsInput};
-use crate::store::StoreError;
+use crate::store::{OwnMaterial, StoreError};
 use shardlog_core::fracture::fragmentation::FragmentationMinimum;
 
 /// A read-only view of the fleet database, of every bench or of one.
 pub struct FleetReader {
-    client: RefCell<Client>,
+    pub(super) client: RefCell<Client>,
     shown: String,
     /// Only this bench's incidents and reference data.
-    scope: Option<String>,
+    pub(super) scope: Option<String>,
     /// The reference data, read once (as much of it as was needed).
     refdata: RefCell<Option<(Need, Rc<RefData>)>>,
+    /// The own materials, read once when needed.
+    pub(super) materials: RefCell<Option<Rc<FleetMaterials>>>,
+    /// Inside a report's read snapshot (one read-only transaction).
+    pub(super) in_snapshot: std::cell::Cell<bool>,
+}
+
+/// Every revision of every own material the fleet witnessed (current ones first, by bench
+/// code), and the current revisions alone (read by `read_materials`).
+#[derive(Default)]
+pub(super) struct FleetMaterials {
+    pub(super) revisions: Vec<OwnMaterial>,
+    pub(super) current: Vec<OwnMaterial>,
 }
 
 /// The benches' reference data, one entry per code (the first bench in code order gives
 /// an entry several benches hold).
 #[derive(Default)]
-struct RefData {
+pub(super) struct RefData {
     lookups: Vec<LookupEntry>,
     sites: Vec<Site>,
     suppliers: Vec<Supplier>,
     products: Vec<Product>,
-    lots: Vec<Lot>,
-    exposure: Vec<Exposure>,
-    assets: Vec<Asset>,
+    pub(super) lots: Vec<Lot>,
+    pub(super) exposure: Vec<Exposure>,
+    /// exposure id -> the bench that entered it
+    pub(super) exposure_bench: HashMap<String, String>,
+    pub(super) assets: Vec<Asset>,
     /// The fragmentation table (audited as lookup entries keyed `fragmentation_minimum/…`).
     fragmentation: Vec<FragmentationMinimum>,
     /// (bench, asset code) -> asset type
@@ -58,12 +72,12 @@ fn store_error(e: FleetError) -> StoreError {
     }
 }
 
-fn pg(e: postgres::Error) -> StoreError {
+pub(super) fn pg(e: postgres::Error) -> StoreError {
     store_error(FleetError::from(e))
 }
 
 /// A value bound to a statement.
-enum Bound {
+pub(super) enum Bound {
     Text(String),
     Real(f64),
     Int(i64),
@@ -79,14 +93,14 @@ impl Bound {
     }
 }
 
-fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
+pub(super) fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
     args.iter().map(Bound::as_sql).collect()
 }
 
 /// The columns of a log row, in the order `log_row` reads them.
 const LOG_COLUMNS: &str =
     "SELECT f.ord, f.id, f.reference, f.found_on, f.asset, f.position, f.site, \
-     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa FROM fleet_facts f";
+     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa, f.owner FROM fleet_facts f";
 
 impl FleetReader {
     /// Connect to the fleet at `url` in a read-only session; `scope`: one bench's records.
@@ -138,6 +152,8 @@ impl FleetReader {
             client: RefCell::new(fleet.client),
             scope,
             refdata: RefCell::new(None),
+            materials: RefCell::new(None),
+            in_snapshot: std::cell::Cell::new(false),
         })
     }
 
@@ -165,19 +181,23 @@ impl FleetReader {
     pub(super) fn fleet_exposures(
         &self,
     ) -> Result<Vec<shardlog_core::fleet::Exposure>, StoreError> {
-        Ok(self
-            .refdata_with(Need::Exposure)?
+        let refdata = self.refdata_with(Need::Exposure)?;
+        Ok(refdata
             .exposure
             .iter()
-            .map(Exposure::to_fleet)
+            .map(|e| shardlog_core::fleet::Exposure {
+                bench: refdata.exposure_bench.get(&e.id).cloned(),
+                ..e.to_fleet()
+            })
             .collect())
     }
 
-    fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
+    /// The codes and lookups (no exposure rows, no assets): ask `refdata_with` for more.
+    pub(super) fn refdata(&self) -> Result<Rc<RefData>, StoreError> {
         self.refdata_with(Need::Codes)
     }
 
-    fn refdata_with(&self, need: Need) -> Result<Rc<RefData>, StoreError> {
+    pub(super) fn refdata_with(&self, need: Need) -> Result<Rc<RefData>, StoreError> {
         if let Some((had, r)) = self.refdata.borrow().as_ref() {
             if *had >= need {
                 return Ok(r.clone());
@@ -257,6 +277,7 @@ impl FleetReader {
                 }
                 _ => {
                     let e: Exposure = serde_json::from_value(value).map_err(bad)?;
+                    out.exposure_bench.insert(e.id.clone(), origin);
                     out.exposure.push(e);
                 }
             }
@@ -303,7 +324,7 @@ impl FleetReader {
     }
 
     /// The conditions of a filter on `fleet_facts f`, with `$n` placeholders from `args`.
-    fn conditions(&self, filter: &Filter, args: &mut Vec<Bound>) -> Vec<String> {
+    pub(super) fn conditions(&self, filter: &Filter, args: &mut Vec<Bound>) -> Vec<String> {
         let mut conds = Vec::new();
         let mut bind = |column: &str, value: Option<&str>, conds: &mut Vec<String>| {
             if let Some(v) = value {
@@ -312,6 +333,7 @@ impl FleetReader {
             }
         };
         bind("f.owner", self.scope.as_deref(), &mut conds);
+        bind("f.owner", filter.bench.as_deref(), &mut conds);
         bind("f.status", filter.status.as_deref(), &mut conds);
         match filter.cause.as_deref() {
             Some(NO_CAUSE) => conds.push("f.cause IS NULL".into()),
@@ -366,7 +388,7 @@ fn text_query(text: &str) -> Option<String> {
     (!terms.is_empty()).then(|| terms.join(" & "))
 }
 
-fn where_clause(conds: &[String]) -> String {
+pub(super) fn where_clause(conds: &[String]) -> String {
     if conds.is_empty() {
         String::new()
     } else {
@@ -393,6 +415,7 @@ fn log_row(r: &postgres::Row) -> (i64, LogRow) {
             cause: r.get(11),
             stress_mpa: r.get::<_, Option<f64>>(12).map(|x| x / 1e6),
             damaged: occurred.is_none().then_some(found),
+            bench: r.get(13),
         },
     )
 }
@@ -563,7 +586,7 @@ impl FleetReader {
             .query(
                 "SELECT r.reference, r.image FROM fleet_records r
                  WHERE r.entity = 'incident' AND r.image IS NOT NULL
-                   AND (r.reference = $1 OR r.id = $1 OR lower(r.id) = lower($1))
+                   AND (r.reference = $1 OR r.id = $1 OR r.id = lower($1))
                    AND ($2::text IS NULL OR r.owner = $2)
                  LIMIT 2",
                 &[&key, &self.scope],
@@ -579,9 +602,11 @@ impl FleetReader {
                 ))
             }
         };
-        incident_from(row.get(0), row.get(1)).map_err(|reference| {
+        let mut inc = incident_from(row.get(0), row.get(1)).map_err(|reference| {
             StoreError::Database(format!("the fleet's image of {reference} cannot be read"))
-        })
+        })?;
+        self.restore_analyses(&mut inc)?;
+        Ok(inc)
     }
 
     /// The incidents matching `filter` in the order found (the bench's export order), and
@@ -606,7 +631,10 @@ impl FleetReader {
         let mut damaged = Vec::new();
         for r in &rows {
             match incident_from(r.get(0), r.get(1)) {
-                Ok(inc) => good.push(inc),
+                Ok(mut inc) => {
+                    self.restore_analyses(&mut inc)?;
+                    good.push(inc)
+                }
                 Err(reference) => damaged.push(crate::store::exchange::Damaged {
                     reference,
                     why: "the fleet's image of it cannot be read".into(),
@@ -650,44 +678,7 @@ fn incident_from(reference: String, image: &str) -> Result<Incident, String> {
         return Err(reference);
     };
     inc.reference = reference;
-    restore_analyses(&mut inc);
     Ok(inc)
-}
-
-/// The fleet holds each result's analysis as the digest its image pins ("sha256:…"), not the
-/// analysis itself. Where this build recomputes an analysis whose canonical text has that
-/// digest, it is the very analysis the bench stored, and is put back; any other stays the
-/// pinned digest, as the fleet holds it.
-fn restore_analyses(inc: &mut Incident) {
-    let snapshot = inc.clone();
-    for (k, exam) in inc.examinations.iter_mut().enumerate() {
-        let Some(result) = exam.result.as_mut() else {
-            continue;
-        };
-        let Some(pinned) = result
-            .analysis
-            .as_str()
-            .and_then(|s| s.strip_prefix("sha256:"))
-            .map(str::to_string)
-        else {
-            continue;
-        };
-        let Some(Ok(analysis)) = crate::store::analysis::recompute_stored(
-            &snapshot,
-            &snapshot.examinations[k],
-            &crate::store::MaterialBook::library_only(),
-        ) else {
-            continue;
-        };
-        let Ok(fresh) = crate::store::analysis::to_result(&analysis, result.computed_at) else {
-            continue;
-        };
-        let analysis = canon::unsigned_zeros(fresh.analysis);
-        let text = canon::canonical_value(&analysis);
-        if canon::sha256_hex(text.as_bytes()) == pinned {
-            result.analysis = analysis;
-        }
-    }
 }
 
 impl RecordSource for FleetReader {
@@ -737,8 +728,12 @@ impl RecordSource for FleetReader {
     fn fragmentation_minimums(&self) -> Result<Vec<FragmentationMinimum>, StoreError> {
         Ok(self.refdata()?.fragmentation.clone())
     }
-    fn as_bench(&self) -> Option<&crate::store::Store> {
-        None
+    fn soak_input(
+        &self,
+        since: Option<chrono::NaiveDate>,
+        until: Option<chrono::NaiveDate>,
+    ) -> Result<crate::store::practice::SoakInput, StoreError> {
+        self.fleet_soak_input(since, until)
     }
     fn lots(&self) -> Result<Vec<Lot>, StoreError> {
         Ok(self.refdata()?.lots.clone())
@@ -748,6 +743,14 @@ impl RecordSource for FleetReader {
     }
     fn get(&self, key: &str) -> Result<Incident, StoreError> {
         self.incident(key)
+    }
+    fn owner_of(&self, id: &str) -> Result<Option<String>, StoreError> {
+        let row = self
+            .client
+            .borrow_mut()
+            .query_opt("SELECT owner FROM fleet_facts WHERE id = $1", &[&id])
+            .map_err(pg)?;
+        Ok(row.map(|r| r.get(0)))
     }
     fn export_json_readable(
         &self,
@@ -836,7 +839,7 @@ impl FleetReader {
         };
         let sql = format!(
             "SELECT f.found_on, {stress}, f.cause, f.origin_type, f.temper, f.supplier, f.product, \
-             f.lot, f.site, f.origin, f.asset FROM fleet_facts f {} ORDER BY f.ord",
+             f.lot, f.site, f.origin, f.asset, f.owner FROM fleet_facts f {} ORDER BY f.ord",
             where_clause(&conds)
         );
         let rows = self
@@ -867,6 +870,9 @@ impl FleetReader {
                 ..Default::default()
             };
             let col = |k: usize| r.get::<_, Option<String>>(k);
+            if wanted(Key::Bench) {
+                f.bench = shared(col(11));
+            }
             if wanted(Key::Cause) {
                 f.cause = shared(col(2));
             }
@@ -896,7 +902,6 @@ impl FleetReader {
             }
             out.push(f);
         }
-        let exposure = refdata.exposure.iter().map(Exposure::to_fleet).collect();
-        Ok((out, exposure))
+        Ok((out, self.fleet_exposures()?))
     }
 }

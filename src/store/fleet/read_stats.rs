@@ -28,6 +28,7 @@ fn column(key: Key) -> Option<&'static str> {
         Key::Lot => "lot",
         Key::Site => "site",
         Key::Temper => "temper",
+        Key::Bench => "owner",
         Key::AssetType | Key::Month | Key::Season => return None,
     })
 }
@@ -93,6 +94,7 @@ fn set(f: &mut IncidentFacts, key: Key, v: Option<Rc<str>>) {
         Key::Lot => f.lot = v,
         Key::Site => f.site = v,
         Key::Temper => f.temper = v,
+        Key::Bench => f.bench = v,
         Key::AssetType | Key::Month | Key::Season => {}
     }
 }
@@ -422,26 +424,39 @@ impl FleetReader {
         client: &mut impl postgres::GenericClient,
         filter: &crate::store::Filter,
     ) -> Result<Option<u64>, StoreError> {
-        if filter.status.is_some() || filter.text.is_some() {
+        // every field named, so that a new one cannot be left out of the count unnoticed
+        let crate::store::Filter {
+            status,
+            cause,
+            origin_type,
+            supplier,
+            lot,
+            site,
+            since,
+            until,
+            text,
+            bench,
+        } = filter;
+        if status.is_some() || text.is_some() {
             return Ok(None);
         }
-        let Some(span) = span(filter.since, filter.until) else {
+        let Some(span) = span(*since, *until) else {
             return Ok(None);
         };
         let mut conds = Conditions::default();
-        if let Some(code) = self.scope() {
+        for code in [self.scope(), bench.as_deref()].into_iter().flatten() {
             conds.equal("owner", code);
         }
-        match filter.cause.as_deref() {
+        match cause.as_deref() {
             Some(crate::store::NO_CAUSE) => conds.texts.push("cause IS NULL".into()),
             Some(c) => conds.equal("cause", c),
             None => {}
         }
         for (col, value) in [
-            ("origin_type", &filter.origin_type),
-            ("supplier", &filter.supplier),
-            ("lot", &filter.lot),
-            ("site", &filter.site),
+            ("origin_type", origin_type),
+            ("supplier", supplier),
+            ("lot", lot),
+            ("site", site),
         ] {
             if let Some(v) = value {
                 conds.equal(col, v);

@@ -34,9 +34,19 @@ const MIGRATIONS: &[(i64, &str, &str)] = &[
         include_str!("../../../schema/fleet/0005_read.sql"),
     ),
     (
+        6,
+        "0006_push_parallel.sql",
+        include_str!("../../../schema/fleet/0006_push_parallel.sql"),
+    ),
+    (
         7,
         "0007_counts.sql",
         include_str!("../../../schema/fleet/0007_counts.sql"),
+    ),
+    (
+        9,
+        "0009_report_reads.sql",
+        include_str!("../../../schema/fleet/0009_report_reads.sql"),
     ),
 ];
 

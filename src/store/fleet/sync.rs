@@ -77,7 +77,7 @@ pub struct FleetVerify {
 
 /// The canonical text of a receipt (as `fleet_receipt_text` in schema/fleet/0001_fleet.sql).
 #[allow(clippy::too_many_arguments)]
-fn receipt_text(
+pub(crate) fn receipt_text(
     fleet_seq: i64,
     at: &str,
     bench: &str,
@@ -98,7 +98,7 @@ fn receipt_text(
     out
 }
 
-fn link_hash(prev_hex: &str, body: &str) -> String {
+pub(crate) fn link_hash(prev_hex: &str, body: &str) -> String {
     let mut h = Sha256::new();
     let prev: Vec<u8> = (0..prev_hex.len() / 2)
         .filter_map(|i| u8::from_str_radix(prev_hex.get(2 * i..2 * i + 2)?, 16).ok())

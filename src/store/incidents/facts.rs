@@ -29,8 +29,19 @@ impl Store {
         if q.origin_type.is_some() {
             keys.push(shardlog_core::fleet::Key::OriginType);
         }
-        let incidents = self.fleet_facts(q.since, q.until, q.stress, Some(&keys))?;
-        let exposures = self.exposure()?.iter().map(|e| e.to_fleet()).collect();
+        let mut incidents = self.fleet_facts(q.since, q.until, q.stress, Some(&keys))?;
+        let mut exposures: Vec<_> = self.exposure()?.iter().map(|e| e.to_fleet()).collect();
+        if keys.contains(&shardlog_core::fleet::Key::Bench) {
+            // a bench file's incidents and panes are all its own bench's
+            let code = self.bench_code()?;
+            let shared: Option<std::rc::Rc<str>> = code.as_deref().map(Into::into);
+            for f in &mut incidents {
+                f.bench = shared.clone();
+            }
+            for e in &mut exposures {
+                e.bench = code.clone();
+            }
+        }
         Ok((incidents, exposures))
     }
 
@@ -233,7 +244,8 @@ impl Store {
                     Key::Lot => f.lot = v,
                     Key::Site => f.site = v,
                     Key::AssetType => f.asset_type = v,
-                    Key::Month | Key::Season => {}
+                    // the bench's code is the same on every row: set by stats_input
+                    Key::Bench | Key::Month | Key::Season => {}
                 }
             }
             out.push(f);

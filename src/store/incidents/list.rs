@@ -249,6 +249,7 @@ impl Store {
                     cause: r.get(11)?,
                     stress_mpa: r.get::<_, Option<f64>>(12)?.map(|x| x / 1e6),
                     damaged: occurred.is_none().then_some(found),
+                    bench: None,
                 },
             ))
         })?;

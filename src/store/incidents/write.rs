@@ -114,7 +114,8 @@ struct RowValues<'a> {
     values: Vec<ToSqlOutput<'a>>,
 }
 
-/// Text values an incident row needs formatted (times, dates, the factor list).
+/// Text values an incident row and its children need formatted (times, dates, the factor
+/// list, each examination's result as stored JSON).
 struct RowText {
     created_at: String,
     updated_at: String,
@@ -122,6 +123,23 @@ struct RowText {
     broken_on: Option<String>,
     installed_on: Option<String>,
     factors: Option<String>,
+    /// Per examination, in order: its result's `constants_json` and `analysis_json`.
+    results: Vec<Option<ResultText>>,
+}
+
+/// A result's two JSON columns, as stored.
+struct ResultText {
+    constants: String,
+    analysis: String,
+}
+
+/// The JSON text of a stored value, written into a buffer sized for a whole analysis at once
+/// (growing one from empty copies it a dozen times).
+fn json_text(v: &serde_json::Value) -> Result<String, StoreError> {
+    let mut out = Vec::with_capacity(8 * 1024);
+    serde_json::to_writer(&mut out, v)?;
+    // serde_json writes UTF-8 only
+    String::from_utf8(out).map_err(|e| StoreError::Database(e.to_string()))
 }
 
 fn row_text(inc: &Incident) -> Result<RowText, StoreError> {
@@ -135,6 +153,21 @@ fn row_text(inc: &Incident) -> Result<RowText, StoreError> {
             Some(c) => Some(serde_json::to_string(&c.factors)?),
             None => None,
         },
+        results: inc
+            .examinations
+            .iter()
+            .map(|e| {
+                e.result
+                    .as_ref()
+                    .map(|r| {
+                        Ok(ResultText {
+                            constants: json_text(&r.constants)?,
+                            analysis: json_text(&r.analysis)?,
+                        })
+                    })
+                    .transpose()
+            })
+            .collect::<Result<_, StoreError>>()?,
     })
 }
 
@@ -205,7 +238,7 @@ fn row_values<'a>(
     }
 }
 
-fn insert_children(conn: &Connection, inc: &Incident) -> Result<(), StoreError> {
+fn insert_children(conn: &Connection, inc: &Incident, owned: &RowText) -> Result<(), StoreError> {
     {
         let mut ply = conn.prepare_cached(
             "INSERT INTO plies (incident_id, ply_no, material, temper, thickness_m, coating, edge_finish)
@@ -276,7 +309,7 @@ fn insert_children(conn: &Connection, inc: &Incident) -> Result<(), StoreError> 
             ];
             rd.execute(&values[..if legacy { 9 } else { 10 }])?;
         }
-        if let Some(res) = &e.result {
+        if let (Some(res), Some(Some(text))) = (&e.result, owned.results.get(i)) {
             conn.prepare_cached(
                 "INSERT INTO results (examination_id, computed_at, code_version, stress_pa, stress_low_pa,
                      stress_high_pa, residual_pa, applied_stress_pa, flaw_size_m, constants_json, analysis_json)
@@ -292,8 +325,8 @@ fn insert_children(conn: &Connection, inc: &Incident) -> Result<(), StoreError> 
                 res.residual_pa,
                 res.applied_stress_pa,
                 res.flaw_size_m,
-                serde_json::to_string(&res.constants)?,
-                serde_json::to_string(&res.analysis)?
+                text.constants,
+                text.analysis
             ])?;
         }
     }
@@ -463,7 +496,7 @@ fn write_rows_with(
             other => other.into(),
         })?;
     let seq = conn.last_insert_rowid();
-    insert_children(conn, inc)?;
+    insert_children(conn, inc, owned)?;
     Ok(seq)
 }
 
@@ -679,7 +712,7 @@ impl Store {
             });
         }
         delete_children(conn, &new.id)?;
-        insert_children(conn, &new)?;
+        insert_children(conn, &new, &owned)?;
         sqlite::fts_put(conn, seq, &search_body(&new))?;
         let before = canon::incident_image(&current)?;
         let after = canon::incident_image(&new)?;
@@ -871,7 +904,7 @@ pub(crate) fn put_from_fleet(
     conn.prepare_cached(update_sql(legacy))?
         .execute(params_from_iter(values.values.iter()))?;
     delete_children(conn, &inc.id)?;
-    insert_children(conn, inc)?;
+    insert_children(conn, inc, &owned)?;
     sqlite::fts_put(conn, seq, &search_body(inc))?;
     chain.record(conn, stamp, INCIDENT, &inc.id, Some(&before), Some(&after))?;
     Ok(true)

@@ -47,6 +47,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0010_fleet_moves.sql",
         include_str!("../../../schema/0010_fleet_moves.sql"),
     ),
+    (
+        "0011_pulled_exposure.sql",
+        include_str!("../../../schema/0011_pulled_exposure.sql"),
+    ),
 ];
 
 /// The migration that adds the viewing modes (lookup rows the store audits) and the

@@ -220,6 +220,20 @@ fn section_lines(app: &App, state: &IncidentState, th: &Theme) -> Vec<Line<'stat
 
 /// The lines of the history section.
 fn history_lines(state: &IncidentState, th: &Theme, out: &mut Vec<Line<'static>>) {
+    if let (true, Some(owner)) = (state.history.is_empty(), &state.owner) {
+        // the fleet holds each record as its bench pushed it, not the bench's audit trail
+        out.push(Line::styled(" History".to_string(), th.header));
+        out.push(Line::raw(format!(
+            " The history of {} is kept at its owning bench {}:",
+            clean(&state.incident.reference),
+            clean(owner)
+        )));
+        out.push(Line::raw(format!(
+            " open that bench's file to see it or restore a revision (here: revision {}).",
+            state.incident.revision
+        )));
+        return;
+    }
     out.push(Line::styled(
         format!(
             " History, newest first ({} {})",

@@ -75,12 +75,27 @@ const COLS: &[Col] = &[
         sort: Some(SortColumn::Stress),
         min_screen: 0,
     },
+    // on the fleet database only: the bench that owns the incident
+    Col {
+        header: "Bench",
+        width: 6,
+        sort: None,
+        min_screen: 0,
+    },
 ];
+
+/// The columns in the order shown (the bench, on the fleet, next to the reference).
+const ORDER: [usize; 10] = [0, BENCH_COL, 1, 2, 3, 4, 5, 6, 7, 8];
+const BENCH_COL: usize = 9;
+
+/// The widest a reference is shown (longer ones are cut with an ellipsis).
+const MAX_REFERENCE_WIDTH: u16 = 26;
 
 /// Status and cause get more room on wide screens.
 fn col_width(i: usize, screen: u16) -> u16 {
     match i {
         6 | 7 if screen >= 100 => 13,
+        BENCH_COL if screen >= 100 => 8,
         _ => COLS[i].width,
     }
 }
@@ -132,6 +147,7 @@ fn cell(app: &App, row: &LogRow, col: usize, screen: u16) -> String {
             let w = unicode_width::UnicodeWidthStr::width(t.as_str());
             format!("{}{t}", " ".repeat(9usize.saturating_sub(w)))
         }
+        BENCH_COL => row.bench.clone().unwrap_or_default(),
         _ => String::new(),
     };
     clean(&t)
@@ -154,10 +170,12 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
             let room = (top.width as usize).saturating_sub(20);
             let filt = app.log.filter_summary_within(&app.lists, room);
             if filt.is_empty() {
-                Line::styled(
-                    " All incidents · / search · f filter · s sort · n new · r review · ? help",
-                    th.muted,
-                )
+                let text = if app.on_fleet() {
+                    " Every bench · / search · f filter · B bench · s sort · r review · ? help"
+                } else {
+                    " All incidents · / search · f filter · s sort · n new · r review · ? help"
+                };
+                Line::styled(text, th.muted)
             } else {
                 Line::styled(format!(" Filter: {} (x clears)", clean(&filt)), th.warning)
             }
@@ -165,11 +183,31 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
     };
     widgets::para(vec![line]).render(top, f.buffer_mut());
 
-    let cols: Vec<usize> = (0..COLS.len())
+    let cols: Vec<usize> = ORDER
+        .into_iter()
         .filter(|&i| body.width >= COLS[i].min_screen)
+        .filter(|&i| i != BENCH_COL || app.on_fleet())
         .collect();
-    let fixed: u16 = cols.iter().map(|&i| col_width(i, body.width)).sum::<u16>()
-        + cols.len().saturating_sub(1) as u16;
+    // a reference is shown whole: one with a bench code (BR-NORTH-260314-0007) or qualified
+    // by its bench on the fleet (NORTH/BR-260314-0007) is wider than the plain 14 characters
+    let reference_width = app
+        .log
+        .rows
+        .iter()
+        .map(|r| unicode_width::UnicodeWidthStr::width(r.reference.as_str()))
+        .max()
+        .map_or(COLS[0].width, |w| {
+            (w as u16).clamp(COLS[0].width, MAX_REFERENCE_WIDTH)
+        });
+    let width_of = |i: usize| {
+        if i == 0 {
+            reference_width
+        } else {
+            col_width(i, body.width)
+        }
+    };
+    let fixed: u16 =
+        cols.iter().map(|&i| width_of(i)).sum::<u16>() + cols.len().saturating_sub(1) as u16;
     let fill = body.width.saturating_sub(fixed).max(6);
     let widths: Vec<u16> = cols
         .iter()
@@ -177,7 +215,7 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
             if COLS[i].width == 0 {
                 fill
             } else {
-                col_width(i, body.width)
+                width_of(i)
             }
         })
         .collect();
@@ -206,7 +244,11 @@ pub fn draw(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         .collect();
     if app.log.rows.is_empty() {
         let msg = if app.log.filter == Default::default() {
-            "No incidents yet. Press n to log a new breakage."
+            if app.on_fleet() {
+                "No incidents on the fleet yet: they arrive when the benches sync."
+            } else {
+                "No incidents yet. Press n to log a new breakage."
+            }
         } else {
             "Nothing matches. x clears the filters and search."
         };
