@@ -388,6 +388,7 @@ fn fleet_demo_fills_a_fleet_through_the_benches_push() {
         "301",
         "--benches",
         "3",
+        "--through-sync",
         "--keep-benches",
         keep.to_str().unwrap(),
     ]);
