@@ -16,7 +16,10 @@
 //! triggers of the loaded tables are disabled for the load, and their secondary indexes are
 //! dropped and made again at the end when the fleet is smaller than what is added (one
 //! build instead of millions of index inserts). Nothing is visible to others before the
-//! end; an error rolls everything back. The fill only makes benches the fleet does not know.
+//! end; an error before it rolls everything back. The three commits come one after another:
+//! a server lost between them would leave records without their read tables, which `verify`
+//! on the fleet reports. The fill only makes benches the fleet does not know, and holds the
+//! loaded tables to itself until it ends (disabling triggers locks a table).
 
 use std::collections::{BTreeMap, HashSet};
 
