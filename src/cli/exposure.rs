@@ -80,7 +80,6 @@ fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         )?;
         return list_pulled(&store, ctx);
     }
-    let clean = |s: &str| shardlog_core::text::sanitize_for_terminal(s, false);
     writeln!(
         ctx.out,
         "{:<12} {:<12} {:<10} {:<10} {:<10} {:<10} {:>8}",
@@ -91,20 +90,43 @@ fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         total += e.panes;
         writeln!(
             ctx.out,
-            "{:<12} {:<12} {:<10} {:<10} {:<10} {:<10} {:>8}",
-            clean(&e.supplier),
-            clean(e.product.as_deref().unwrap_or("—")),
-            clean(e.lot.as_deref().unwrap_or("—")),
-            clean(e.site.as_deref().unwrap_or("—")),
-            e.installed_on,
-            e.removed_on
-                .map(|d| d.to_string())
-                .unwrap_or_else(|| "in service".into()),
-            e.panes
+            "{}",
+            row_text(
+                &e.supplier,
+                [&e.product, &e.lot, &e.site],
+                e.installed_on,
+                e.removed_on,
+                e.panes
+            )
         )?;
     }
     writeln!(ctx.out, "{} rows, {total} panes", rows.len())?;
     list_pulled(&store, ctx)
+}
+
+fn clean(s: &str) -> String {
+    shardlog_core::text::sanitize_for_terminal(s, false)
+}
+
+/// One exposure row as `exposure list` prints it (own and pulled rows alike).
+fn row_text(
+    supplier: &str,
+    [product, lot, site]: [&Option<String>; 3],
+    installed: chrono::NaiveDate,
+    removed: Option<chrono::NaiveDate>,
+    panes: i64,
+) -> String {
+    let or_dash = |v: &Option<String>| clean(v.as_deref().unwrap_or("—"));
+    format!(
+        "{:<12} {:<12} {:<10} {:<10} {:<10} {:<10} {:>8}",
+        clean(supplier),
+        or_dash(product),
+        or_dash(lot),
+        or_dash(site),
+        installed,
+        removed.map_or_else(|| "in service".to_string(), |d| d.to_string()),
+        panes
+    )
 }
 
 /// Other benches' rows a sync pulled, each marked with its bench: shown, never counted in
@@ -116,7 +138,6 @@ fn list_pulled(store: &crate::store::Store, ctx: &mut Context<'_>) -> Result<(),
     if rows.is_empty() {
         return Ok(());
     }
-    let clean = |s: &str| shardlog_core::text::sanitize_for_terminal(s, false);
     writeln!(
         ctx.out,
         "\nfrom other benches of the fleet (not in this bench's rates):"
@@ -131,17 +152,15 @@ fn list_pulled(store: &crate::store::Store, ctx: &mut Context<'_>) -> Result<(),
         total += e.panes;
         writeln!(
             ctx.out,
-            "{:<8} {:<12} {:<12} {:<10} {:<10} {:<10} {:<10} {:>8}",
+            "{:<8} {}",
             clean(&e.bench),
-            clean(&e.supplier),
-            clean(e.product.as_deref().unwrap_or("—")),
-            clean(e.lot.as_deref().unwrap_or("—")),
-            clean(e.site.as_deref().unwrap_or("—")),
-            e.installed_on,
-            e.removed_on
-                .map(|d| d.to_string())
-                .unwrap_or_else(|| "in service".into()),
-            e.panes
+            row_text(
+                &e.supplier,
+                [&e.product, &e.lot, &e.site],
+                e.installed_on,
+                e.removed_on,
+                e.panes
+            )
         )?;
     }
     writeln!(
