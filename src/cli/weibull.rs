@@ -234,6 +234,8 @@ pub fn read_strengths(
                 "the file is empty; expected a header line naming the columns, e.g. 'stress_mpa'",
             )),
             Some((_, l)) if l.trim().is_empty() => continue,
+            // a signed export's first line: the head it was signed at, not data
+            Some((_, l)) if l.starts_with(crate::store::exchange::CSV_SIGNED_PREFIX) => continue,
             Some((n, l)) => break (n, l),
         }
     };

@@ -301,3 +301,25 @@ fn a_column_suffix_decides_the_unit_and_conflicts_are_refused() {
     assert_eq!(r.code, 2);
     assert!(r.stderr.contains("did you mean MPa?"), "{}", r.stderr);
 }
+
+#[test]
+fn a_signed_exports_head_line_is_passed_over_and_line_numbers_stay_real() {
+    let dir = tempfile::tempdir().unwrap();
+    let head = "# shardlog signed head {\"seq\":12,\"hash\":\"ab\"}\n";
+    let p = csv(&dir, "signed.csv", &format!("{head}{}", ref_csv()));
+    let plain = csv(&dir, "plain.csv", &ref_csv());
+    let r = run(&["weibull", "--input", p.to_str().unwrap(), "--json"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let again = run(&["weibull", "--input", plain.to_str().unwrap(), "--json"]);
+    assert_eq!(r.stdout, again.stdout);
+    // a bad cell is named by its line in the file, the head line counted
+    let bad = ref_csv().replacen("S2,9.41", "S2,nine", 1);
+    let p = csv(&dir, "bad.csv", &format!("{head}{bad}"));
+    let r = run(&["weibull", "--input", p.to_str().unwrap()]);
+    assert_eq!(r.code, 1, "{}", r.stderr);
+    assert!(
+        r.stderr.contains("line 4, column 'stress_mpa'"),
+        "{}",
+        r.stderr
+    );
+}
