@@ -155,6 +155,30 @@ impl FleetReader {
         out.extend(rows.into_iter().map(ChainRow::entry));
         Ok(out)
     }
+
+    /// One column of the facts of the incidents `filter` selects. `column` and `order` are
+    /// fixed texts of the callers.
+    fn column_matching<T: for<'a> postgres::types::FromSql<'a>>(
+        &self,
+        filter: &Filter,
+        column: &str,
+        order: &str,
+    ) -> Result<Vec<T>, StoreError> {
+        let mut args = Vec::new();
+        let conds = self.conditions(filter, &mut args);
+        let sql = format!(
+            "SELECT {column} FROM fleet_facts f {}{order}",
+            super::read::where_clause(&conds)
+        );
+        Ok(self
+            .client
+            .borrow_mut()
+            .query(&sql, &super::read::refs(&args))
+            .map_err(pg)?
+            .iter()
+            .map(|r| r.get(0))
+            .collect())
+    }
 }
 
 impl ReportSource for FleetReader {
@@ -180,36 +204,10 @@ impl ReportSource for FleetReader {
             .map(|r| r.get(0)))
     }
     fn matching_ids(&self, filter: &Filter) -> Result<Vec<String>, StoreError> {
-        let mut args = Vec::new();
-        let conds = self.conditions(filter, &mut args);
-        let sql = format!(
-            "SELECT f.id FROM fleet_facts f {} ORDER BY f.found_on, f.ord",
-            super::read::where_clause(&conds)
-        );
-        Ok(self
-            .client
-            .borrow_mut()
-            .query(&sql, &super::read::refs(&args))
-            .map_err(pg)?
-            .iter()
-            .map(|r| r.get(0))
-            .collect())
+        self.column_matching(filter, "f.id", " ORDER BY f.found_on, f.ord")
     }
     fn causes_matching(&self, filter: &Filter) -> Result<Vec<Option<String>>, StoreError> {
-        let mut args = Vec::new();
-        let conds = self.conditions(filter, &mut args);
-        let sql = format!(
-            "SELECT f.cause FROM fleet_facts f {}",
-            super::read::where_clause(&conds)
-        );
-        Ok(self
-            .client
-            .borrow_mut()
-            .query(&sql, &super::read::refs(&args))
-            .map_err(pg)?
-            .iter()
-            .map(|r| r.get(0))
-            .collect())
+        self.column_matching(filter, "f.cause", "")
     }
     fn exposure(&self) -> Result<Vec<Exposure>, StoreError> {
         Ok(self
