@@ -17,6 +17,7 @@ pub mod materials;
 pub mod picklist;
 pub mod practice;
 pub mod review;
+mod review_counted;
 pub mod text_input;
 mod update;
 
@@ -489,6 +490,9 @@ impl App {
         match self.screen() {
             Screen::Log => {
                 let total = match self.log.total {
+                    Some(n) if self.log.more_than_total => {
+                        format!("more than {} incidents match", group_thousands(n))
+                    }
                     Some(1) => "1 incident matches".to_string(),
                     Some(n) => format!("{} incidents match", group_thousands(n)),
                     None => "counting…".to_string(),

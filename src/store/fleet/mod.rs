@@ -30,6 +30,7 @@ mod read_materials;
 mod read_need;
 mod read_report;
 mod read_stats;
+mod read_total;
 mod resolve;
 mod schema;
 mod status;

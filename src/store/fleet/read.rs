@@ -531,30 +531,24 @@ impl FleetReader {
             }),
             _ => None,
         };
-        let total = if page.with_total {
-            // from the counts by month where they can answer, not a count over millions
-            if let Some(n) = self.counted_total(&mut tx, filter)? {
-                tx.commit().map_err(pg)?;
-                return Ok(Page {
-                    rows: rows.into_iter().map(|(_, r)| r).collect(),
-                    next,
-                    total: Some(n),
-                });
-            }
-            let sql = format!(
-                "SELECT count(*) FROM fleet_facts f {}",
-                where_clause(&conds)
-            );
-            let n: i64 = tx.query_one(&sql, &refs(&args)).map_err(pg)?.get(0);
-            Some(n as u64)
+        let (total, more_than_total) = if page.with_total {
+            // from the counts by month where they can answer, else the matches read up to
+            // the cap: never a count over millions
+            let n = match self.counted_total(&mut tx, filter)? {
+                Some(n) => n,
+                None => self.capped_total(&mut tx, filter, &conds, &args)?,
+            };
+            let (n, more) = filter.total_of(n);
+            (Some(n), more)
         } else {
-            None
+            (None, false)
         };
         tx.commit().map_err(pg)?;
         Ok(Page {
             rows: rows.into_iter().map(|(_, r)| r).collect(),
             next,
             total,
+            more_than_total,
         })
     }
 }
