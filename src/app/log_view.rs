@@ -150,7 +150,9 @@ impl LogState {
         self.counted = Some(self.filter.clone());
         self.count_pending = false;
         if self.flipped && self.starts.is_empty() {
-            self.offset = self.exact_total().map(|t| t.saturating_sub(self.rows.len() as u64));
+            self.offset = self
+                .exact_total()
+                .map(|t| t.saturating_sub(self.rows.len() as u64));
         }
         Ok(())
     }
@@ -264,7 +266,9 @@ impl LogState {
         self.starts.clear();
         self.fetch(store, None, false)?;
         self.selected = self.rows.len().saturating_sub(1);
-        self.offset = self.exact_total().map(|t| t.saturating_sub(self.rows.len() as u64));
+        self.offset = self
+            .exact_total()
+            .map(|t| t.saturating_sub(self.rows.len() as u64));
         Ok(())
     }
 

@@ -17,7 +17,6 @@ pub mod materials;
 pub mod picklist;
 pub mod practice;
 pub mod review;
-mod review_counted;
 pub mod text_input;
 mod update;
 

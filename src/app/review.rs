@@ -5,6 +5,8 @@
 //! store through `RecordSource::stats_input`, or on the fleet database from its counts
 //! through `stats_counted`; the figures by `shardlog_core::fleet`); the view only reads.
 
+mod counted;
+
 use chrono::{Months, NaiveDate};
 
 use crate::store::model::Filter;
@@ -470,7 +472,7 @@ fn compute(
 ) -> Result<ReviewData, String> {
     let q = review_query(keys);
     // the fleet database counts where the data is
-    if let Some(d) = super::review_counted::compute(store, &q, choice, today)? {
+    if let Some(d) = counted::compute(store, &q, choice, today)? {
         return Ok(d);
     }
     let (incidents, exposures) = store

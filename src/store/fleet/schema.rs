@@ -273,11 +273,9 @@ fn missing_message(v: i64, missing: &[&str]) -> String {
         ("migrations", "them")
     };
     let names = missing.join(", ");
-    let newer_only = missing.iter().all(|name| {
-        MIGRATIONS
-            .iter()
-            .any(|m| m.1 == *name && m.0 > v)
-    });
+    let newer_only = missing
+        .iter()
+        .all(|name| MIGRATIONS.iter().any(|m| m.1 == *name && m.0 > v));
     if newer_only {
         format!(
             "the fleet database has schema version {v} and lacks fleet {them} {names}; its owner must run `shardlog fleet init --url URL` to upgrade it to {FLEET_SCHEMA_VERSION}"
@@ -296,10 +294,24 @@ mod tests {
     #[test]
     fn a_missing_migration_is_named_with_the_command_that_applies_it() {
         let m = missing_message(9, &["0006_push_parallel.sql"]);
-        assert!(m.contains("version 9 but lacks the earlier fleet migration 0006_push_parallel.sql"), "{m}");
-        assert!(m.contains("`shardlog fleet init --url URL` to apply it"), "{m}");
+        assert!(
+            m.contains("version 9 but lacks the earlier fleet migration 0006_push_parallel.sql"),
+            "{m}"
+        );
+        assert!(
+            m.contains("`shardlog fleet init --url URL` to apply it"),
+            "{m}"
+        );
         let m = missing_message(5, &["0006_push_parallel.sql", "0007_counts.sql"]);
-        assert!(m.contains("version 5 and lacks fleet migrations 0006_push_parallel.sql, 0007_counts.sql"), "{m}");
-        assert!(m.contains(&format!("to upgrade it to {FLEET_SCHEMA_VERSION}")), "{m}");
+        assert!(
+            m.contains(
+                "version 5 and lacks fleet migrations 0006_push_parallel.sql, 0007_counts.sql"
+            ),
+            "{m}"
+        );
+        assert!(
+            m.contains(&format!("to upgrade it to {FLEET_SCHEMA_VERSION}")),
+            "{m}"
+        );
     }
 }

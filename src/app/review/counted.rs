@@ -5,7 +5,7 @@
 
 use chrono::{Datelike, NaiveDate};
 
-use super::review::{by_cause, finish, last_12_months, Computed, ReviewData, WindowChoice};
+use super::{by_cause, finish, last_12_months, Computed, ReviewData, WindowChoice};
 use crate::store::RecordSource;
 use shardlog_core::fleet::query::{self, StatsQuery};
 use shardlog_core::fleet::{monthly_counts, Key};
