@@ -31,6 +31,8 @@ pub struct FleetReader {
     pub(super) materials: RefCell<Option<Rc<FleetMaterials>>>,
     /// Inside a report's read snapshot (one read-only transaction).
     pub(super) in_snapshot: std::cell::Cell<bool>,
+    /// Told how far a long read (a dispute bundle) has come.
+    pub(super) progress: crate::store::progress::ProgressSlot,
 }
 
 /// Every revision of every own material the fleet witnessed (current ones first, by bench
@@ -154,6 +156,7 @@ impl FleetReader {
             refdata: RefCell::new(None),
             materials: RefCell::new(None),
             in_snapshot: std::cell::Cell::new(false),
+            progress: Default::default(),
         })
     }
 
@@ -671,7 +674,7 @@ impl FleetReader {
 
 /// An incident from its fleet image, shown by the fleet's reference; the reference when the
 /// image cannot be read.
-fn incident_from(reference: String, image: &str) -> Result<Incident, String> {
+pub(super) fn incident_from(reference: String, image: &str) -> Result<Incident, String> {
     let Some(mut inc) =
         canon::decanonical(image).and_then(|v| serde_json::from_value::<Incident>(v).ok())
     else {
