@@ -17,7 +17,7 @@ mod listed;
 mod verify;
 
 pub(crate) use chain::{Bulk, Chain, BATCH};
-pub(crate) use image::{changed_keys, digest, manifest_records};
+pub(crate) use image::{digest, manifest_records};
 pub(crate) use listed::{listed_ids, plain_id, starts_at_a_manifest, AuditRow, Manifest};
 pub(crate) use verify::Verification;
 

@@ -19,9 +19,9 @@ impl Store {
     pub fn history(&self, key: &str) -> Result<Vec<HistoryEntry>, StoreError> {
         let id = resolve_key(&self.conn, key)?;
         let image = || -> Result<Option<String>, StoreError> {
-            load(&self.conn, &id)?
+            Ok(load(&self.conn, &id)?
                 .map(|inc| canon::incident_image(&inc))
-                .transpose()
+                .transpose()?)
         };
         let rows = self.incident_audit_rows(&id)?;
         let mut found = HashMap::new();
