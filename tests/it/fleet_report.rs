@@ -262,11 +262,22 @@ fn bulk_loaded_bench(dir: &Path, code: &str, edited: usize) -> std::path::PathBu
     let json = dir.join("all.json");
     let db = dir.join(format!("{code}.db"));
     let path = |p: &Path| p.to_str().expect("a UTF-8 path").to_string();
-    text(&["demo", "--incidents", "160", "--seed", "7", "--out", &path(&src)]);
+    text(&[
+        "demo",
+        "--incidents",
+        "160",
+        "--seed",
+        "7",
+        "--out",
+        &path(&src),
+    ]);
     at_bench(&src, &["export", "--format", "json", "-o", &path(&json)]);
     at_bench(&db, &["init"]);
     let files = dir.join("source.db.files");
-    at_bench(&db, &["import", &path(&json), "--attachments", &path(&files)]);
+    at_bench(
+        &db,
+        &["import", &path(&json), "--attachments", &path(&files)],
+    );
     at_bench(&db, &["bench", "code", code]);
     let listed = at_bench(&db, &["list", "--json", "--all", "--supplier", "KESTREL"]);
     let v: serde_json::Value = serde_json::from_str(&listed).unwrap();
@@ -314,12 +325,18 @@ fn a_bundle_of_bulk_loaded_incidents_gives_each_history_as_its_own_report_does()
     let bundle = |db: &str, name: &str, extra: &[&str]| -> serde_json::Value {
         let out_dir = dir.path().join(name);
         let o = out_dir.to_str().unwrap();
-        text(&[&["--db", db, "dispute", "--supplier", "KESTREL", "-o", o][..], extra].concat());
+        text(
+            &[
+                &["--db", db, "dispute", "--supplier", "KESTREL", "-o", o][..],
+                extra,
+            ]
+            .concat(),
+        );
         serde_json::from_str(&std::fs::read_to_string(out_dir.join("bundle.json")).unwrap())
             .unwrap()
     };
-    let at_bench = bundle(file, "bench", &[]);
-    let at_fleet = bundle(&url, "fleet", &["--bench", code]);
+    let bench_bundle = bundle(file, "bench", &[]);
+    let fleet_bundle = bundle(&url, "fleet", &["--bench", code]);
     // the fleet qualifies the imported references with the bench's code; the digest of a
     // summary is over its reference too, every other field is compared
     let unqualify = |s: String| {
@@ -337,12 +354,12 @@ fn a_bundle_of_bulk_loaded_incidents_gives_each_history_as_its_own_report_does()
     };
     for key in ["selection", "cover", "incidents", "attachments"] {
         assert_eq!(
-            part(&at_fleet, key),
-            part(&at_bench, key),
+            part(&fleet_bundle, key),
+            part(&bench_bundle, key),
             "the bundle's {key}"
         );
     }
-    let incidents = at_bench["content"]["incidents"].as_array().unwrap();
+    let incidents = bench_bundle["content"]["incidents"].as_array().unwrap();
     assert!(incidents.len() > 12, "{} incidents", incidents.len());
     let history = |i: &serde_json::Value| i["content"]["history"].as_array().unwrap().clone();
     // every incident's history starts at the bulk-load row that listed it
@@ -358,10 +375,13 @@ fn a_bundle_of_bulk_loaded_incidents_gives_each_history_as_its_own_report_does()
         let alone: serde_json::Value =
             serde_json::from_str(&at_bench(&db, &["report", reference, "--format", "json"]))
                 .unwrap();
-        assert_eq!(alone["content"]["history"], i["content"]["history"], "{reference}");
+        assert_eq!(
+            alone["content"]["history"], i["content"]["history"],
+            "{reference}"
+        );
         if k % 4 == 0 || history(i).len() == 2 {
             // the same place in the fleet's bundle: its references sort as the bench's do
-            let on_fleet = at_fleet["content"]["incidents"][k]["reference"]
+            let on_fleet = fleet_bundle["content"]["incidents"][k]["reference"]
                 .as_str()
                 .unwrap();
             assert_eq!(unqualify(format!("\"{on_fleet}")), format!("\"{reference}"));
@@ -369,7 +389,10 @@ fn a_bundle_of_bulk_loaded_incidents_gives_each_history_as_its_own_report_does()
                 "--db", &url, "report", on_fleet, "--format", "json",
             ]))
             .unwrap();
-            assert_eq!(alone["content"]["history"], i["content"]["history"], "{reference}");
+            assert_eq!(
+                alone["content"]["history"], i["content"]["history"],
+                "{reference}"
+            );
         }
     }
 }

@@ -142,9 +142,18 @@ mod tests {
         let image = "{\"id\":\"a-1\"}".to_string();
         let d = canon::sha256_hex(image.as_bytes());
         let text = format!("{{\"entity\":\"incident\",\"records\":[[\"a-1\",\"{d}\"]]}}");
-        let m = Manifest::new(7, "2026-01-02T03:04:05.000Z".into(), "ana".into(), &text, "h".into());
+        let m = Manifest::new(
+            7,
+            "2026-01-02T03:04:05.000Z".into(),
+            "ana".into(),
+            &text,
+            "h".into(),
+        );
         let e = m.insert_entry("a-1", Some(image.clone()));
-        assert_eq!((e.seq, e.op.as_str(), e.actor.as_str()), (7, "insert", "ana"));
+        assert_eq!(
+            (e.seq, e.op.as_str(), e.actor.as_str()),
+            (7, "insert", "ana")
+        );
         assert!(e.after.is_some());
         assert!(m.insert_entry("a-1", Some("{}".into())).after.is_none());
         assert!(m.insert_entry("b-2", Some(image)).after.is_none());

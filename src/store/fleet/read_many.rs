@@ -124,7 +124,10 @@ impl FleetReader {
             .map(|h| {
                 let rows = rows_of(h);
                 let mut out = Vec::with_capacity(rows.len() + 1);
-                if let Some(m) = first.get(h.id.as_str()).filter(|_| starts_at_a_manifest(&rows)) {
+                if let Some(m) = first
+                    .get(h.id.as_str())
+                    .filter(|_| starts_at_a_manifest(&rows))
+                {
                     let image = match rows.first() {
                         Some(r) => r.before.clone(),
                         None => Some(h.image.clone()),

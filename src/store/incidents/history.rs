@@ -91,10 +91,7 @@ impl Store {
         let mut pending: HashMap<String, Vec<&str>> = HashMap::new();
         for &id in ids {
             if plain_id(id) {
-                pending
-                    .entry(id.to_ascii_lowercase())
-                    .or_default()
-                    .push(id);
+                pending.entry(id.to_ascii_lowercase()).or_default().push(id);
             } else if let Some(m) = self.first_manifest_by_pattern(id)? {
                 found.insert(id.to_string(), Rc::new(m));
             }
