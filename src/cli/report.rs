@@ -184,10 +184,9 @@ pub fn dispute(args: DisputeArgs, ctx: &mut Context<'_>) -> Result<(), CliError>
         allow_missing_attachments: args.allow_missing_attachments,
     };
     let meter = super::progress::Meter::on_stderr();
-    if let Some(bench) = store.signing_store() {
-        bench.set_progress(meter.as_ref().map(|m| m.callback()));
-    }
+    store.set_progress(meter.as_ref().map(|m| m.callback()));
     let w = report::bundle::write_bundle(store, &opts, &args.output);
+    store.set_progress(None);
     drop(meter);
     let w = w.map_err(CliError::from)?;
     writeln!(

@@ -103,6 +103,24 @@ fn time(t: &chrono::DateTime<chrono::Utc>) -> String {
     t.format("%Y-%m-%d %H:%M UTC").to_string()
 }
 
+/// The bytes held for an attachment, and whether they still have its SHA-256.
+#[derive(Clone)]
+pub struct HeldFile {
+    bytes: Arc<Vec<u8>>,
+    intact: bool,
+}
+
+/// The files held for attachments, by SHA-256 as the records give it (None: no bytes held).
+pub type HeldFiles = HashMap<String, Option<HeldFile>>;
+
+/// What is held for the attachment of hash `sha256`: its bytes, checked against the hash.
+pub fn held_file(sha256: &str, bytes: Option<Vec<u8>>) -> Option<HeldFile> {
+    bytes.map(|b| HeldFile {
+        intact: sha256_hex(&b) == sha256.to_ascii_lowercase(),
+        bytes: Arc::new(b),
+    })
+}
+
 /// The content of one incident's summary, and the bytes of its attachments that are present
 /// (keyed by SHA-256; a file whose bytes no longer match its hash is left out and noted).
 pub fn incident_content(
@@ -110,22 +128,46 @@ pub fn incident_content(
     labels: &Labels,
     inc: &Incident,
 ) -> Result<(IncidentContent, Pictures), StoreError> {
-    let (attachments, pictures) = attachments(s, inc)?;
-    Ok((
+    let mut files = HeldFiles::new();
+    for a in &inc.attachments {
+        if !files.contains_key(&a.sha256) {
+            let held = held_file(&a.sha256, s.attachment_bytes(&a.sha256)?);
+            files.insert(a.sha256.clone(), held);
+        }
+    }
+    let minimums = s.fragmentation_minimums()?;
+    let history = s.history(&inc.id)?;
+    Ok(incident_content_read(
+        labels, inc, history, &minimums, &files,
+    ))
+}
+
+/// [`incident_content`] from what was read already: the incident's audit history, the
+/// fragmentation table and the files held for its attachments (every one of them a key of
+/// `files`).
+pub fn incident_content_read(
+    labels: &Labels,
+    inc: &Incident,
+    history: Vec<store::HistoryEntry>,
+    minimums: &[crate::store::practice::FragmentationMinimum],
+    files: &HeldFiles,
+) -> (IncidentContent, Pictures) {
+    let (attachments, pictures) = attachments(inc, files);
+    (
         IncidentContent {
             reference: inc.reference.clone(),
             identification: identification(labels, inc),
             glass: glass(labels, inc),
-            pattern: pattern(labels, inc, &s.fragmentation_minimums()?),
+            pattern: pattern(labels, inc, minimums),
             examination: examination(labels, inc),
             cause: cause(labels, inc),
             attachments,
             custody: custody(labels, inc),
-            history: history(s, inc)?,
+            history: history_entries(history),
             notes: notes(inc),
         },
         pictures,
-    ))
+    )
 }
 
 /// Asset, position, site, dates, environment and who reported it.
@@ -318,17 +360,14 @@ fn cause(l: &Labels, inc: &Incident) -> Cause {
 }
 
 /// The attachments by hash, and the bytes of each stored file that still matches its hash.
-fn attachments(
-    s: &dyn ReportSource,
-    inc: &Incident,
-) -> Result<(Vec<AttachmentRef>, Pictures), StoreError> {
+fn attachments(inc: &Incident, files: &HeldFiles) -> (Vec<AttachmentRef>, Pictures) {
     let mut pictures = HashMap::new();
     let mut attachments = Vec::new();
     for a in &inc.attachments {
         let mut caption = nonempty(&a.caption);
-        if let Some(bytes) = s.attachment_bytes(&a.sha256)? {
-            if sha256_hex(&bytes) == a.sha256.to_ascii_lowercase() {
-                pictures.insert(a.sha256.clone(), Arc::new(bytes));
+        if let Some(Some(held)) = files.get(&a.sha256) {
+            if held.intact {
+                pictures.insert(a.sha256.clone(), held.bytes.clone());
             } else {
                 caption = Some(format!(
                     "{} [the stored file no longer matches this hash]",
@@ -346,7 +385,7 @@ fn attachments(
             added_by: None,
         });
     }
-    Ok((attachments, pictures))
+    (attachments, pictures)
 }
 
 /// The custody log of the physical specimen.
@@ -376,8 +415,8 @@ fn custody(l: &Labels, inc: &Incident) -> Vec<CustodyEntry> {
 }
 
 /// The audit history: who created or changed the record, and which fields.
-fn history(s: &dyn ReportSource, inc: &Incident) -> Result<Vec<HistoryEntry>, StoreError> {
-    Ok(s.history(&inc.id)?
+fn history_entries(history: Vec<store::HistoryEntry>) -> Vec<HistoryEntry> {
+    history
         .into_iter()
         .map(|h| HistoryEntry {
             at: time(&h.at),
@@ -400,7 +439,7 @@ fn history(s: &dyn ReportSource, inc: &Incident) -> Result<Vec<HistoryEntry>, St
                 )
             },
         })
-        .collect())
+        .collect()
 }
 
 /// The incident's note and each examination's note.

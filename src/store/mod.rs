@@ -78,8 +78,8 @@ mod verify;
 mod verify_scan;
 
 pub use files::{
-    file_mode, make_dir_private, remove_stale_partials, sync_dir, temporary_sibling,
-    write_atomically, write_new_synced,
+    file_mode, make_dir_private, remove_stale_partials, sync_dir, sync_written, temporary_sibling,
+    write_atomically, write_new, write_new_synced,
 };
 pub(crate) use ids::IdGen;
 pub use incidents::check_bench_code;

@@ -8,7 +8,10 @@
 use chrono::NaiveDate;
 use shardlog_core::fleet::{IncidentFacts, Key, StressKind};
 
-use super::model::{Asset, Exposure, Filter, HistoryEntry, Sort};
+use std::collections::HashMap;
+
+use super::model::{Asset, Exposure, Filter, HistoryEntry, Incident, Sort};
+use super::progress::ProgressFn;
 use super::read::RecordSource;
 use super::{MaterialBook, Store, StoreError};
 
@@ -22,6 +25,31 @@ pub trait ReportSource: RecordSource {
     fn history(&self, key: &str) -> Result<Vec<HistoryEntry>, StoreError>;
     /// The bytes held for an attachment's SHA-256 (not checked here), None when none are.
     fn attachment_bytes(&self, sha256: &str) -> Result<Option<Vec<u8>>, StoreError>;
+    /// The incidents of `ids` (as `matching_ids` gives them), in that order, each with its
+    /// audit history: what `get` and `history` give one by one, read for many at once.
+    fn incidents_with_history(
+        &self,
+        ids: &[String],
+    ) -> Result<Vec<(Incident, Vec<HistoryEntry>)>, StoreError> {
+        ids.iter()
+            .map(|id| {
+                let inc = self.get(id)?;
+                let history = self.history(&inc.id)?;
+                Ok((inc, history))
+            })
+            .collect()
+    }
+    /// The bytes held for each of `hashes` (not checked here), keyed as given; a hash with
+    /// no bytes held is left out. What `attachment_bytes` gives one by one.
+    fn attachments_held(&self, hashes: &[String]) -> Result<HashMap<String, Vec<u8>>, StoreError> {
+        let mut out = HashMap::new();
+        for h in hashes {
+            if let Some(b) = self.attachment_bytes(h)? {
+                out.insert(h.clone(), b);
+            }
+        }
+        Ok(out)
+    }
     /// The ids of the incidents matching `filter`, in the order of their dates found.
     fn matching_ids(&self, filter: &Filter) -> Result<Vec<String>, StoreError>;
     /// The cause code (None: none recorded) of each incident matching `filter`.
@@ -50,6 +78,9 @@ pub trait ReportSource: RecordSource {
     fn signing_store(&self) -> Option<&Store>;
     /// Tell the progress meter, if any.
     fn progress(&self, stage: &'static str, done: u64, total: Option<u64>);
+    /// Be told how far long work (a dispute bundle, a bundle check) has come; `None` stops
+    /// it. Returns the callback that was set before.
+    fn set_progress(&self, f: Option<ProgressFn>) -> Option<ProgressFn>;
     /// Start one read snapshot (true), or false when one is open already (nested reads
     /// share it).
     fn begin_snapshot(&self) -> Result<bool, StoreError>;
@@ -150,6 +181,20 @@ impl ReportSource for Store {
     }
     fn progress(&self, stage: &'static str, done: u64, total: Option<u64>) {
         self.report_progress(stage, done, total)
+    }
+    fn set_progress(&self, f: Option<ProgressFn>) -> Option<ProgressFn> {
+        Store::set_progress(self, f)
+    }
+    fn incidents_with_history(
+        &self,
+        ids: &[String],
+    ) -> Result<Vec<(Incident, Vec<HistoryEntry>)>, StoreError> {
+        let incidents = ids
+            .iter()
+            .map(|id| self.get(id))
+            .collect::<Result<Vec<_>, _>>()?;
+        let histories = self.histories_of(&incidents)?;
+        Ok(incidents.into_iter().zip(histories).collect())
     }
     fn begin_snapshot(&self) -> Result<bool, StoreError> {
         if !self.conn.is_autocommit() {

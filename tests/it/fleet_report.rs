@@ -253,3 +253,181 @@ fn stats_heat_soak_on_the_fleet_is_the_bench_files_comparison() {
         }
     }
 }
+
+/// A bench whose incidents a bulk load made (an import writes one audit row per 1,000
+/// records, listing their digests), coded `code` after the import, with `edited` incidents of
+/// KESTREL edited since.
+fn bulk_loaded_bench(dir: &Path, code: &str, edited: usize) -> std::path::PathBuf {
+    let src = dir.join("source.db");
+    let json = dir.join("all.json");
+    let db = dir.join(format!("{code}.db"));
+    let path = |p: &Path| p.to_str().expect("a UTF-8 path").to_string();
+    text(&[
+        "demo",
+        "--incidents",
+        "160",
+        "--seed",
+        "7",
+        "--out",
+        &path(&src),
+    ]);
+    at_bench(&src, &["export", "--format", "json", "-o", &path(&json)]);
+    at_bench(&db, &["init"]);
+    let files = dir.join("source.db.files");
+    at_bench(
+        &db,
+        &["import", &path(&json), "--attachments", &path(&files)],
+    );
+    at_bench(&db, &["bench", "code", code]);
+    let listed = at_bench(&db, &["list", "--json", "--all", "--supplier", "KESTREL"]);
+    let v: serde_json::Value = serde_json::from_str(&listed).unwrap();
+    let mut s = shardlog::store::Store::open_existing(&db).unwrap();
+    for r in v.as_array().unwrap().iter().step_by(3).take(edited) {
+        s.modify_incident(
+            r["ref"].as_str().unwrap(),
+            None,
+            &shardlog::store::Stamp::new("test-runner", chrono::Utc::now()),
+            |inc| {
+                inc.notes = format!("{} (looked at again)", inc.notes);
+                Ok(())
+            },
+        )
+        .unwrap();
+    }
+    db
+}
+
+/// The histories of a dispute bundle's incidents are read for all of them at once (the
+/// bulk-load rows listing them found in one pass at the bench, a few statements on the
+/// fleet): each is the history `report` gives for that incident alone, at the bench and on
+/// the fleet, and the two bundles are the same.
+#[test]
+fn a_bundle_of_bulk_loaded_incidents_gives_each_history_as_its_own_report_does() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let code = "BULKY";
+    // more edited incidents than the fleet searches for one by one
+    let edited = 7;
+    let db = bulk_loaded_bench(dir.path(), code, edited);
+    let batches = rusqlite::Connection::open(&db)
+        .unwrap()
+        .query_row(
+            "SELECT count(*) FROM audit WHERE entity = 'batch'",
+            [],
+            |r| r.get::<_, i64>(0),
+        )
+        .unwrap();
+    assert!(batches >= 1, "the import wrote no bulk-load row");
+    sync_ok(&db, &fleet.owner_url());
+    let url = cluster.url_as(&fleet.name, &format!("{}_reader", fleet.name));
+    let file = db.to_str().unwrap();
+    let bundle = |db: &str, name: &str, extra: &[&str]| -> serde_json::Value {
+        let out_dir = dir.path().join(name);
+        let o = out_dir.to_str().unwrap();
+        text(
+            &[
+                &["--db", db, "dispute", "--supplier", "KESTREL", "-o", o][..],
+                extra,
+            ]
+            .concat(),
+        );
+        serde_json::from_str(&std::fs::read_to_string(out_dir.join("bundle.json")).unwrap())
+            .unwrap()
+    };
+    let bench_bundle = bundle(file, "bench", &[]);
+    let fleet_bundle = bundle(&url, "fleet", &["--bench", code]);
+    // the fleet qualifies the imported references with the bench's code; the digest of a
+    // summary is over its reference too, every other field is compared
+    let unqualify = |s: String| {
+        s.replace(&format!("\"{code}/BR-"), "\"BR-")
+            .replace(&format!("incidents/{code}_BR-"), "incidents/BR-")
+    };
+    let part = |v: &serde_json::Value, key: &str| {
+        let mut v = v["content"][key].clone();
+        if let Some(incidents) = v.as_array_mut().filter(|_| key == "incidents") {
+            for i in incidents {
+                i["content_sha256"] = serde_json::Value::Null;
+            }
+        }
+        unqualify(serde_json::to_string_pretty(&v).unwrap())
+    };
+    for key in ["selection", "cover", "incidents", "attachments"] {
+        assert_eq!(
+            part(&fleet_bundle, key),
+            part(&bench_bundle, key),
+            "the bundle's {key}"
+        );
+    }
+    let incidents = bench_bundle["content"]["incidents"].as_array().unwrap();
+    assert!(incidents.len() > 12, "{} incidents", incidents.len());
+    let history = |i: &serde_json::Value| i["content"]["history"].as_array().unwrap().clone();
+    // every incident's history starts at the bulk-load row that listed it
+    assert!(incidents
+        .iter()
+        .all(|i| history(i).first().is_some_and(|h| h["action"] == "created")));
+    let changed = incidents.iter().filter(|i| history(i).len() == 2).count();
+    assert_eq!(changed, edited);
+    // each history is the one the incident's own summary gives, at the bench and on the
+    // fleet (one in four on the fleet, every edited one among them)
+    for (k, i) in incidents.iter().enumerate() {
+        let reference = i["reference"].as_str().unwrap();
+        let alone: serde_json::Value =
+            serde_json::from_str(&at_bench(&db, &["report", reference, "--format", "json"]))
+                .unwrap();
+        assert_eq!(
+            alone["content"]["history"], i["content"]["history"],
+            "{reference}"
+        );
+        if k % 4 == 0 || history(i).len() == 2 {
+            // the same place in the fleet's bundle: its references sort as the bench's do
+            let on_fleet = fleet_bundle["content"]["incidents"][k]["reference"]
+                .as_str()
+                .unwrap();
+            assert_eq!(unqualify(format!("\"{on_fleet}")), format!("\"{reference}"));
+            let alone: serde_json::Value = serde_json::from_str(&text(&[
+                "--db", &url, "report", on_fleet, "--format", "json",
+            ]))
+            .unwrap();
+            assert_eq!(
+                alone["content"]["history"], i["content"]["history"],
+                "{reference}"
+            );
+        }
+    }
+}
+
+/// A dispute on the fleet shows how far it has come on a terminal, as a bench's does.
+#[test]
+fn a_fleet_dispute_shows_its_progress_on_a_terminal() {
+    let cluster = Cluster::shared();
+    let fleet = TestFleet::new(cluster);
+    let dir = tempfile::tempdir().unwrap();
+    let db = demo_bench(dir.path(), "NORTH", 200);
+    sync_ok(&db, &fleet.owner_url());
+    let url = cluster.url_as(&fleet.name, &format!("{}_reader", fleet.name));
+    let out_dir = dir.path().join("claim");
+    let (seen, code) = crate::progress::in_a_terminal(&[
+        "--db",
+        &url,
+        "dispute",
+        "--supplier",
+        "KESTREL",
+        "-o",
+        out_dir.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{seen}");
+    let result_at = seen.find("wrote ").expect("the result");
+    let n: u64 = seen[result_at..]
+        .split(": ")
+        .nth(1)
+        .and_then(|t| t.split(' ').next())
+        .and_then(|t| t.parse().ok())
+        .expect("the number of summaries");
+    assert!(n > 10, "{seen}");
+    // the summaries are rendered with a line telling how many of them are done
+    assert!(seen.contains("rendering "), "{seen:?}");
+    assert!(seen.contains(&format!(" of {n} rows · ")), "{seen:?}");
+    // and it is wiped before the result is printed
+    assert!(seen[..result_at].ends_with("\r\x1b[2K"), "{seen:?}");
+}

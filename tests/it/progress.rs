@@ -11,7 +11,7 @@ use expectrl::Session;
 use crate::support::pty::{BIN, TIMEOUT};
 
 /// Run `shardlog ARGS` in a pseudo-terminal; every byte it wrote, and its exit code.
-fn in_a_terminal(args: &[&str]) -> (String, i32) {
+pub(crate) fn in_a_terminal(args: &[&str]) -> (String, i32) {
     let mut cmd = Command::new(BIN);
     cmd.args(args).env("SHARDLOG_USER", "pty-user");
     let mut session = Session::spawn(cmd).expect("spawn shardlog in a pty");

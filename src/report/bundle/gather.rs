@@ -1,16 +1,19 @@
 //! Choosing the incidents of a bundle and gathering everything its files are rendered from.
 
-use std::collections::{BTreeMap, HashMap};
+use std::collections::{BTreeMap, BTreeSet, HashMap};
 
 use super::figures::cover;
 use super::{
     BundleAttachment, BundleContent, BundleError, BundleIncident, DisputeOptions, Selection,
 };
 use crate::report::doc::Paper;
-use crate::report::source::{incident_content, Labels};
+use crate::report::source::{held_file, incident_content_read, HeldFiles, Labels};
 use crate::report::summary::{self, Pictures};
 use crate::store::{self, Filter, ReportSource};
 use shardlog_core::canonical::{digest, Numbers};
+
+/// Incidents read at once (with their histories and files) while a bundle is gathered.
+const READ_AT_ONCE: usize = 500;
 
 /// The extension an attachment gets in the bundle: from what its bytes are for photos, from
 /// its name only for a few inert kinds, else `.bin` — a file named `x.html` or `x.exe` is
@@ -139,38 +142,59 @@ fn gather_in(
         causes: opts.causes.clone(),
         origin_type: opts.origin_type.clone(),
     };
+    s.progress("selecting", 0, None);
     let ids = selected_ids(s, &selection)?;
+    let total = Some(ids.len() as u64);
+    let minimums = s.fragmentation_minimums()?;
+    let mut files = HeldFiles::new();
     let mut incidents = Vec::with_capacity(ids.len());
     let mut pictures: Pictures = HashMap::new();
     let mut attachments: BTreeMap<String, BundleAttachment> = BTreeMap::new();
     let mut raw = Vec::with_capacity(ids.len());
-    for (i, id) in ids.iter().enumerate() {
-        s.progress("gathering", i as u64, Some(ids.len() as u64));
-        let inc = s.get(id)?;
-        let (content, pics) = incident_content(s, &labels, &inc)?;
-        for a in &content.attachments {
-            let file = pics
-                .get(&a.sha256)
-                .map(|b| format!("attachments/{}{}", a.sha256, safe_ext(&a.name, Some(b))));
-            attachments
-                .entry(a.sha256.clone())
-                .or_insert_with(|| BundleAttachment {
-                    sha256: a.sha256.clone(),
-                    name: a.name.clone(),
-                    bytes: a.bytes,
-                    file,
-                });
+    // the incidents, their histories and their files are read a part at a time, each part
+    // in a few statements
+    for part in ids.chunks(READ_AT_ONCE) {
+        s.progress("gathering", raw.len() as u64, total);
+        let read = s.incidents_with_history(part)?;
+        let wanted: BTreeSet<&String> = read
+            .iter()
+            .flat_map(|(inc, _)| inc.attachments.iter().map(|a| &a.sha256))
+            .filter(|h| !files.contains_key(*h))
+            .collect();
+        let wanted: Vec<String> = wanted.into_iter().cloned().collect();
+        let mut bytes = s.attachments_held(&wanted)?;
+        for h in wanted {
+            let held = held_file(&h, bytes.remove(&h));
+            files.insert(h, held);
         }
-        pictures.extend(pics);
-        incidents.push(BundleIncident {
-            reference: content.reference.clone(),
-            content_sha256: digest(&content, Numbers::Shortest)?,
-            file: ref_file(&content.reference),
-            content,
-        });
-        raw.push(inc);
+        for (inc, history) in read {
+            let (content, pics) = incident_content_read(&labels, &inc, history, &minimums, &files);
+            for a in &content.attachments {
+                let file = pics
+                    .get(&a.sha256)
+                    .map(|b| format!("attachments/{}{}", a.sha256, safe_ext(&a.name, Some(b))));
+                attachments
+                    .entry(a.sha256.clone())
+                    .or_insert_with(|| BundleAttachment {
+                        sha256: a.sha256.clone(),
+                        name: a.name.clone(),
+                        bytes: a.bytes,
+                        file,
+                    });
+            }
+            pictures.extend(pics);
+            incidents.push(BundleIncident {
+                reference: content.reference.clone(),
+                content_sha256: digest(&content, Numbers::Shortest)?,
+                file: ref_file(&content.reference),
+                content,
+            });
+            raw.push(inc);
+            s.progress("gathering", raw.len() as u64, total);
+        }
     }
     incidents.sort_by(|a, b| a.reference.cmp(&b.reference));
+    s.progress("comparing", 0, None);
     let cover = cover(s, &labels, &sup, opts, &raw)?;
     let content = BundleContent {
         selection,

@@ -158,26 +158,39 @@ pub fn render_files_told(
     c: &BundleContent,
     pictures: &Pictures,
     threads: usize,
-    mut tell: Option<&mut dyn FnMut(u64, u64)>,
+    tell: Option<&mut dyn FnMut(u64, u64)>,
 ) -> Vec<(String, Vec<u8>)> {
+    render_each(c, pictures, threads, tell, &|path, bytes| (path, bytes))
+}
+
+/// Render every file of the bundle except bundle.json and hand each to `each` (path, bytes)
+/// as it is made, the summaries on up to `threads` threads (each handed on by the thread
+/// that rendered it); what `each` returned, in the bundle's order.
+fn render_each<T: Send>(
+    c: &BundleContent,
+    pictures: &Pictures,
+    threads: usize,
+    mut tell: Option<&mut dyn FnMut(u64, u64)>,
+    each: &(dyn Fn(String, Vec<u8>) -> T + Sync),
+) -> Vec<T> {
     let paper = paper_of(c);
     let cover = cover_document(c);
     let mut files = vec![
-        (
+        each(
             "cover.pdf".to_string(),
             crate::report::pdf::render(&cover, paper),
         ),
-        (
+        each(
             "cover.html".to_string(),
             crate::report::html::render(&cover, paper).into_bytes(),
         ),
-        ("figures.csv".to_string(), figures_csv(c).into_bytes()),
+        each("figures.csv".to_string(), figures_csv(c).into_bytes()),
     ];
     let threads = threads.clamp(1, 16);
     let chunk = c.incidents.len().div_ceil(threads).max(1);
     let total = c.incidents.len() as u64;
     let done = std::sync::atomic::AtomicU64::new(0);
-    let rendered: Vec<Vec<(String, Vec<u8>)>> = std::thread::scope(|scope| {
+    let rendered: Vec<Vec<T>> = std::thread::scope(|scope| {
         let done = &done;
         let handles: Vec<_> = c
             .incidents
@@ -188,7 +201,8 @@ pub fn render_files_told(
                         .map(|i| {
                             let doc =
                                 summary::document(&i.content, &incident_proof(c, i), pictures);
-                            let file = (i.file.clone(), crate::report::pdf::render(&doc, paper));
+                            let file =
+                                each(i.file.clone(), crate::report::pdf::render(&doc, paper));
                             done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
                             file
                         })
@@ -212,7 +226,7 @@ pub fn render_files_told(
     }
     for a in &c.attachments {
         if let (Some(path), Some(bytes)) = (&a.file, pictures.get(&a.sha256)) {
-            files.push((path.clone(), bytes.as_ref().clone()));
+            files.push(each(path.clone(), bytes.as_ref().clone()));
         }
     }
     files
@@ -270,8 +284,6 @@ pub fn write_bundle(
         });
     }
     let signed_head = sign(s, opts, &content)?;
-    let mut tell = |done: u64, total: u64| s.progress("rendering", done, Some(total));
-    let files = render_files_told(&content, &pictures, threads(), Some(&mut tell));
     let parent = match dir.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),
@@ -287,17 +299,25 @@ pub fn write_bundle(
         std::fs::create_dir_all(&d).map_err(|e| io(&d, e))?;
         crate::store::make_dir_private(&d).map_err(|e| io(&d, e))?;
     }
-    let mut entries = Vec::with_capacity(files.len());
+    let mut entries = Vec::new();
     let result = (|| -> Result<(), BundleError> {
-        for (path, bytes) in &files {
-            let p = tmp.join(path);
-            crate::store::write_new_synced(&p, bytes, true).map_err(|e| io(&p, e))?;
-            entries.push(FileEntry {
-                path: path.clone(),
-                sha256: sha256_hex(bytes),
+        // each file is written by the thread that rendered it, then all are flushed at once
+        let write = |path: String, bytes: Vec<u8>| -> Result<FileEntry, BundleError> {
+            let p = tmp.join(&path);
+            crate::store::write_new(&p, &bytes, true).map_err(|e| io(&p, e))?;
+            Ok(FileEntry {
+                sha256: sha256_hex(&bytes),
                 bytes: bytes.len() as u64,
-            });
+                path,
+            })
+        };
+        let mut tell = |done: u64, total: u64| s.progress("rendering", done, Some(total));
+        for entry in render_each(&content, &pictures, threads(), Some(&mut tell), &write) {
+            entries.push(entry?);
         }
+        let written: Vec<PathBuf> = entries.iter().map(|e| tmp.join(&e.path)).collect();
+        s.progress("writing", 0, None);
+        crate::store::sync_written(&tmp, &written).map_err(|e| io(&tmp, e))?;
         entries.sort_by(|a, b| a.path.cmp(&b.path));
         let content_sha256 = digest(&content, Numbers::Shortest)?;
         let bf = BundleFile {

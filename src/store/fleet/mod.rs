@@ -10,7 +10,8 @@
 //! - `pull`: reference data of other benches merged into this bench by code.
 //! - `check`: `verify` on the fleet: the witnessed chains, receipts, records, read tables.
 //! - `read`: the fleet as its users read it (`--db postgres://…`), read-only; `read_page` the
-//!   log's pages, `read_total` and `read_stats` what is counted.
+//!   log's pages, `read_total` and `read_stats` what is counted, `read_many` many incidents
+//!   with their histories and files at once (a dispute bundle).
 //! - `status`: per bench its witnessed head, last sync, incidents, conflicts, refusals.
 //! - `pull_incidents`: the incidents other benches sent to this one, as the fleet holds them.
 //! - `status`: also the open conflicts with both versions.
@@ -27,6 +28,7 @@ mod pull;
 mod pull_incidents;
 mod push;
 mod read;
+mod read_many;
 mod read_materials;
 mod read_need;
 mod read_page;

@@ -33,6 +33,8 @@ pub struct FleetReader {
     pub(super) in_snapshot: std::cell::Cell<bool>,
     /// The log's statements, prepared once on this connection (read_page.rs).
     pub(super) statements: RefCell<HashMap<String, postgres::Statement>>,
+    /// Told how far a long read (a dispute bundle) has come.
+    pub(super) progress: crate::store::progress::ProgressSlot,
 }
 
 /// Every revision of every own material the fleet witnessed (current ones first, by bench
@@ -152,6 +154,7 @@ impl FleetReader {
             materials: RefCell::new(None),
             in_snapshot: std::cell::Cell::new(false),
             statements: RefCell::new(HashMap::new()),
+            progress: Default::default(),
         })
     }
 
@@ -488,7 +491,7 @@ impl FleetReader {
 
 /// An incident from its fleet image, shown by the fleet's reference; the reference when the
 /// image cannot be read.
-fn incident_from(reference: String, image: &str) -> Result<Incident, String> {
+pub(super) fn incident_from(reference: String, image: &str) -> Result<Incident, String> {
     let Some(mut inc) =
         canon::decanonical(image).and_then(|v| serde_json::from_value::<Incident>(v).ok())
     else {

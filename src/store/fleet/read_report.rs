@@ -3,14 +3,15 @@
 //! file table, facts and exposure from the read tables and the pushed reference data, the
 //! head from the one bench's witnessed chain (with `--bench`) or the fleet's own receipts.
 
-use chrono::{DateTime, NaiveDate, Utc};
+use std::collections::HashMap;
+
+use chrono::NaiveDate;
 use shardlog_core::fleet::{IncidentFacts, Key, StressKind};
 
 use super::read::FleetReader;
-use crate::store::audit::{changed_keys, digest, manifest_records, BATCH, INCIDENT};
-use crate::store::canon;
-use crate::store::dates::parse_time;
-use crate::store::model::{Asset, Exposure, Filter, HistoryEntry};
+use super::read_many::Held;
+use crate::store::model::{Asset, Exposure, Filter, HistoryEntry, Incident};
+use crate::store::progress::ProgressFn;
 use crate::store::read::RecordSource;
 use crate::store::read_report::{ChainHolder, ReportSource};
 use crate::store::{MaterialBook, Store, StoreError};
@@ -19,53 +20,20 @@ fn pg(e: postgres::Error) -> StoreError {
     super::read::pg(e)
 }
 
-/// A history row as the chain holds it.
-struct ChainRow {
-    seq: i64,
-    at: String,
-    actor: String,
-    op: String,
-    before: Option<String>,
-    after: Option<String>,
-    hash: String,
-}
-
-impl ChainRow {
-    fn entry(self) -> HistoryEntry {
-        let before = self.before.as_deref().and_then(canon::decanonical);
-        let after = self.after.as_deref().and_then(canon::decanonical);
-        HistoryEntry {
-            seq: self.seq,
-            at: parse_time(&self.at).unwrap_or(DateTime::<Utc>::UNIX_EPOCH),
-            actor: self.actor,
-            changed: changed_keys(before.as_ref(), after.as_ref()),
-            op: self.op,
-            before,
-            after,
-            hash: self.hash,
-        }
-    }
-}
-
 impl FleetReader {
-    /// The incident's id, its origin and owner benches, its image and the owner's chain
-    /// row that made the image.
-    fn incident_row(&self, key: &str) -> Result<(String, String, String, String, i64), StoreError> {
+    /// The incident (by reference or id) as the fleet holds it.
+    fn incident_row(&self, key: &str) -> Result<Held, StoreError> {
         let key = key.trim();
-        let rows = self
-            .client
-            .borrow_mut()
-            .query(
-                "SELECT id, origin, owner, image, bench_seq FROM fleet_records
-                 WHERE entity = 'incident' AND image IS NOT NULL
-                   AND (reference = $1 OR id = $1 OR id = lower($1))
-                   AND ($2::text IS NULL OR owner = $2)
-                 LIMIT 2",
-                &[&key, &self.scope],
-            )
-            .map_err(pg)?;
+        let rows = self.query_with(
+            "SELECT id, reference, origin, owner, image, bench_seq FROM fleet_records
+             WHERE entity = 'incident' AND image IS NOT NULL
+               AND (reference = $1 OR id = $1 OR id = lower($1))
+               AND ($2::text IS NULL OR owner = $2)
+             LIMIT 2",
+            &[&key, &self.scope],
+        )?;
         match rows.as_slice() {
-            [r] => Ok((r.get(0), r.get(1), r.get(2), r.get(3), r.get(4))),
+            [r] => Ok(Held::from_row(r)),
             [] => Err(StoreError::NotFound(key.to_string())),
             _ => Err(StoreError::invalid(
                 "reference",
@@ -77,83 +45,9 @@ impl FleetReader {
     /// The audit history of one incident from the witnessed chains, as the bench gives it
     /// (`Store::history`): an incident a bulk load made starts at the manifest row naming
     /// it, with its image when the digest there vouches for it.
-    fn fleet_history(&self, key: &str) -> Result<Vec<HistoryEntry>, StoreError> {
-        let (id, origin, owner, image, bench_seq) = self.incident_row(key)?;
-        let row = |r: &postgres::Row| ChainRow {
-            seq: r.get(0),
-            at: r.get(1),
-            actor: r.get(2),
-            op: r.get(3),
-            before: r.get(4),
-            after: r.get(5),
-            hash: r.get(6),
-        };
-        let rows: Vec<ChainRow> = self
-            .client
-            .borrow_mut()
-            .query(
-                "SELECT seq, at, actor, op, before, after, hash FROM bench_chain
-                 WHERE entity = $1 AND entity_id = $2 ORDER BY fleet_seq, seq",
-                &[&INCIDENT, &id],
-            )
-            .map_err(pg)?
-            .iter()
-            .map(row)
-            .collect();
-        let mut out = Vec::new();
-        if rows.first().is_none_or(|r| r.op != "insert") {
-            // a never-edited incident's image was made by the manifest row itself; else the
-            // first manifest of its bench that names it
-            let quoted = format!("%[\"{id}\",%");
-            let mut found = self
-                .client
-                .borrow_mut()
-                .query_opt(
-                    "SELECT seq, at, actor, after, hash FROM bench_chain
-                     WHERE bench = $1 AND seq = $2 AND entity = $3 AND after LIKE $4",
-                    &[&owner, &bench_seq, &BATCH, &quoted],
-                )
-                .map_err(pg)?;
-            if found.is_none() {
-                found = self
-                    .client
-                    .borrow_mut()
-                    .query_opt(
-                        "SELECT seq, at, actor, after, hash FROM bench_chain
-                         WHERE bench = $1 AND entity = $2 AND after LIKE $3
-                         ORDER BY seq LIMIT 1",
-                        &[&origin, &BATCH, &quoted],
-                    )
-                    .map_err(pg)?;
-            }
-            if let Some(m) = found {
-                let manifest: String = m.get(3);
-                let first_image = match rows.first() {
-                    Some(r) => r.before.clone(),
-                    None => Some(image),
-                };
-                let want = manifest_records(&manifest).and_then(|rs| {
-                    rs.into_iter()
-                        .find(|(_, rid, _)| *rid == id)
-                        .map(|(_, _, d)| d)
-                });
-                let first_image = first_image.filter(|img| Some(digest(img)) == want);
-                out.push(
-                    ChainRow {
-                        seq: m.get(0),
-                        at: m.get(1),
-                        actor: m.get(2),
-                        op: "insert".into(),
-                        before: None,
-                        after: first_image,
-                        hash: m.get(4),
-                    }
-                    .entry(),
-                );
-            }
-        }
-        out.extend(rows.into_iter().map(ChainRow::entry));
-        Ok(out)
+    pub(super) fn fleet_history(&self, key: &str) -> Result<Vec<HistoryEntry>, StoreError> {
+        let held = self.incident_row(key)?;
+        Ok(self.histories_held(&[&held])?.pop().unwrap_or_default())
     }
 
     /// One column of the facts of the incidents `filter` selects. `column` and `order` are
@@ -193,6 +87,15 @@ impl ReportSource for FleetReader {
     }
     fn history(&self, key: &str) -> Result<Vec<HistoryEntry>, StoreError> {
         self.fleet_history(key)
+    }
+    fn incidents_with_history(
+        &self,
+        ids: &[String],
+    ) -> Result<Vec<(Incident, Vec<HistoryEntry>)>, StoreError> {
+        self.incidents_with_history_many(ids)
+    }
+    fn attachments_held(&self, hashes: &[String]) -> Result<HashMap<String, Vec<u8>>, StoreError> {
+        self.files_held(hashes)
     }
     fn attachment_bytes(&self, sha256: &str) -> Result<Option<Vec<u8>>, StoreError> {
         let sha = sha256.to_ascii_lowercase();
@@ -308,7 +211,12 @@ impl ReportSource for FleetReader {
     fn signing_store(&self) -> Option<&Store> {
         None
     }
-    fn progress(&self, _stage: &'static str, _done: u64, _total: Option<u64>) {}
+    fn progress(&self, stage: &'static str, done: u64, total: Option<u64>) {
+        self.progress.tell(stage, done, total)
+    }
+    fn set_progress(&self, f: Option<ProgressFn>) -> Option<ProgressFn> {
+        self.progress.set(f)
+    }
     fn begin_snapshot(&self) -> Result<bool, StoreError> {
         if self.in_snapshot.get() {
             return Ok(false);
