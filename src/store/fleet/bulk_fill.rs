@@ -13,9 +13,10 @@
 //!
 //! Three connections share the work (records and chain; facts; words and order), each in
 //! one transaction, so that the server's work runs on more than one core. The ingest
-//! triggers of the loaded tables are disabled for the load, and their secondary indexes are
-//! dropped and made again at the end when the fleet is smaller than what is added (one
-//! build instead of millions of index inserts). Nothing is visible to others before the
+//! triggers of the loaded tables are disabled for the load, and the secondary indexes of the
+//! chain and the read tables are dropped and made again at the end when the fleet is
+//! smaller than what is added (one build instead of millions of index inserts; see
+//! [`REBUILT`]). Nothing is visible to others before the
 //! end; an error before it rolls everything back. The three commits come one after another:
 //! a server lost between them would leave records without their read tables, which `verify`
 //! on the fleet reports. The fill only makes benches the fleet does not know, and holds the
@@ -34,12 +35,12 @@ use crate::store::audit::{manifest_records, BATCH, INCIDENT};
 use crate::store::bulk::StreamedIncident;
 use crate::store::{canon, outbox, Store};
 
-/// The tables each connection loads: records and chain; facts; words and order.
-const TABLES: [&[&str]; 3] = [
-    &["fleet_records", "bench_chain"],
-    &["fleet_facts"],
-    &["fleet_search", "fleet_incident_order"],
-];
+/// The tables whose secondary indexes each connection drops for the load and builds again
+/// at its end (records and chain; facts; words and order). The indexes of `fleet_records`
+/// stay: their keys come in nearly in order (time-ordered ids, each bench's references and
+/// receipt in turn), so keeping them costs little while the client makes the incidents,
+/// where building them again would read the largest table three times at the end.
+const REBUILT: [&[&str]; 3] = [&["bench_chain"], &["fleet_facts"], &["fleet_search"]];
 
 /// The secondary indexes of a table (not those behind a key or constraint): name, statement.
 const SECONDARY_INDEXES: &str = "
@@ -147,13 +148,17 @@ impl BulkFill {
              ALTER TABLE bench_chain DISABLE TRIGGER USER;",
         )?;
         c.batch_execute(
+            // the words become a tsvector as they arrive (the server works on them while
+            // the client makes the next incidents), not all at the end
             "CREATE TEMP TABLE fill_words (id text NOT NULL, bench text NOT NULL,
-                 ord bigint NOT NULL, words text) ON COMMIT DROP",
+                 ord bigint NOT NULL, words text,
+                 doc tsvector GENERATED ALWAYS AS (to_tsvector('simple', words)) STORED)
+                 ON COMMIT DROP",
         )?;
         let mut dropped: [Vec<(String, String)>; 3] = Default::default();
         if rebuild {
             for (k, client) in links.iter_mut().enumerate() {
-                for table in TABLES[k] {
+                for table in REBUILT[k] {
                     for r in client.query(SECONDARY_INDEXES, &[table])? {
                         let (name, def): (String, String) = (r.get(0), r.get(1));
                         // the name comes from the catalog, quoted as an identifier
@@ -312,34 +317,44 @@ impl BulkFill {
         let BulkFill {
             mut links, dropped, ..
         } = self;
-        let results: Vec<Result<(), FleetError>> = std::thread::scope(|scope| {
-            let handles: Vec<_> = links
-                .iter_mut()
-                .zip(&dropped)
-                .enumerate()
-                .map(|(k, (client, indexes))| scope.spawn(move || finish_link(k, client, indexes)))
-                .collect();
-            handles
-                .into_iter()
-                .map(|h| {
-                    h.join().unwrap_or_else(|_| {
-                        Err(FleetError::Database("a fill thread panicked".into()))
-                    })
-                })
-                .collect()
-        });
-        for r in results {
-            r?;
-        }
+        on_each_link(&mut links, |k, client| finish_link(k, client, &dropped[k]))?;
         for client in links.iter_mut() {
             client.batch_execute("COMMIT")?;
         }
-        let [a, b, c] = &mut links;
-        a.batch_execute("ANALYZE fleet_records; ANALYZE bench_chain; ANALYZE fleet_benches")?;
-        b.batch_execute("ANALYZE fleet_facts")?;
-        c.batch_execute("ANALYZE fleet_search; ANALYZE fleet_incident_order")?;
-        Ok(())
+        const ANALYZE: [&str; 3] = [
+            "ANALYZE fleet_records; ANALYZE bench_chain; ANALYZE fleet_benches",
+            "ANALYZE fleet_facts",
+            "ANALYZE fleet_search; ANALYZE fleet_incident_order",
+        ];
+        on_each_link(&mut links, |k, client| {
+            client.batch_execute(ANALYZE[k])?;
+            Ok(())
+        })
     }
+}
+
+/// `work` on each connection at once, each in its own thread (the server works on all
+/// three); the first error.
+fn on_each_link(
+    links: &mut [Client; 3],
+    work: impl Fn(usize, &mut Client) -> Result<(), FleetError> + Sync,
+) -> Result<(), FleetError> {
+    let work = &work;
+    let results: Vec<Result<(), FleetError>> = std::thread::scope(|scope| {
+        let handles: Vec<_> = links
+            .iter_mut()
+            .enumerate()
+            .map(|(k, client)| scope.spawn(move || work(k, client)))
+            .collect();
+        handles
+            .into_iter()
+            .map(|h| {
+                h.join()
+                    .unwrap_or_else(|_| Err(FleetError::Database("a fill thread panicked".into())))
+            })
+            .collect()
+    });
+    results.into_iter().collect()
 }
 
 /// One connection's end of the fill (in its own thread).
@@ -358,7 +373,7 @@ fn finish_link(
         client.batch_execute(
             "INSERT INTO fleet_incident_order (id, bench, ord) SELECT id, bench, ord FROM fill_words;
              INSERT INTO fleet_search (id, doc)
-                 SELECT id, to_tsvector('simple', words) FROM fill_words WHERE words IS NOT NULL;",
+                 SELECT id, doc FROM fill_words WHERE words IS NOT NULL;",
         )?;
     }
     for (_, def) in indexes {
