@@ -23,8 +23,12 @@ pub struct LogState {
     current_start: Option<Cursor>,
     /// Where the current page ended (None: no more in query order).
     next: Option<Cursor>,
-    /// Matching incidents (counted when the filter or sort changes).
+    /// Matching incidents (counted when the filter changes).
     pub total: Option<u64>,
+    /// More than `total` match: the count stopped at its cap (a filter by status or words).
+    pub more_than_total: bool,
+    /// The filter `total` counted.
+    counted: Option<Filter>,
     /// The count is out of date: it is taken after the next frame is drawn, so a new page
     /// never waits for a count over a large table.
     pub count_pending: bool,
@@ -87,6 +91,7 @@ impl LogState {
         self.next = page.next;
         if count {
             self.total = page.total;
+            self.more_than_total = page.more_than_total;
         }
         Ok(true)
     }
@@ -98,8 +103,23 @@ impl LogState {
         self.selected = 0;
         self.offset = Some(0);
         self.total = None;
+        self.more_than_total = false;
         self.fetch(store, None, false)?;
         self.count_pending = true;
+        Ok(())
+    }
+
+    /// Load the first page in another sort order. The matches are the same ones, so a count
+    /// already taken stays (on a large fleet a new count is a read the key need not wait for).
+    pub fn resort(&mut self, store: &dyn RecordSource) -> Result<(), StoreError> {
+        let same = !self.count_pending && self.counted.as_ref() == Some(&self.filter);
+        let kept = same.then_some((self.total, self.more_than_total));
+        self.reload(store)?;
+        if let Some((Some(total), more)) = kept {
+            self.total = Some(total);
+            self.more_than_total = more;
+            self.count_pending = false;
+        }
         Ok(())
     }
 
@@ -126,11 +146,20 @@ impl LogState {
             },
         )?;
         self.total = page.total;
+        self.more_than_total = page.more_than_total;
+        self.counted = Some(self.filter.clone());
         self.count_pending = false;
         if self.flipped && self.starts.is_empty() {
-            self.offset = self.total.map(|t| t.saturating_sub(self.rows.len() as u64));
+            self.offset = self
+                .exact_total()
+                .map(|t| t.saturating_sub(self.rows.len() as u64));
         }
         Ok(())
+    }
+
+    /// The count of matches when it is exact (not cut at its cap).
+    fn exact_total(&self) -> Option<u64> {
+        self.total.filter(|_| !self.more_than_total)
     }
 
     pub fn selected_row(&self) -> Option<&LogRow> {
@@ -237,7 +266,9 @@ impl LogState {
         self.starts.clear();
         self.fetch(store, None, false)?;
         self.selected = self.rows.len().saturating_sub(1);
-        self.offset = self.total.map(|t| t.saturating_sub(self.rows.len() as u64));
+        self.offset = self
+            .exact_total()
+            .map(|t| t.saturating_sub(self.rows.len() as u64));
         Ok(())
     }
 

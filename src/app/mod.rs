@@ -489,6 +489,9 @@ impl App {
         match self.screen() {
             Screen::Log => {
                 let total = match self.log.total {
+                    Some(n) if self.log.more_than_total => {
+                        format!("more than {} incidents match", group_thousands(n))
+                    }
                     Some(1) => "1 incident matches".to_string(),
                     Some(n) => format!("{} incidents match", group_thousands(n)),
                     None => "counting…".to_string(),

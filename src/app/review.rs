@@ -2,7 +2,10 @@
 //! histogram, the Weibull plot and the table of groups with rates and flags.
 //!
 //! Everything is computed when the screen opens or the grouping or window changes (from the
-//! store through `Store::stats_input`, the figures by `shardlog_core::fleet`); the view only reads.
+//! store through `RecordSource::stats_input`, or on the fleet database from its counts
+//! through `stats_counted`; the figures by `shardlog_core::fleet`); the view only reads.
+
+mod counted;
 
 use chrono::{Months, NaiveDate};
 
@@ -120,6 +123,11 @@ pub struct ReviewData {
     /// Heat-soaked lots against lots not soaked, and the nickel sulfide failures' time in
     /// service (over the window, whatever the grouping).
     pub soak: Result<shardlog_core::fleet::heat_soak::SoakComparison, String>,
+    /// Computed from the counts the fleet database keeps (not from every incident's facts).
+    pub from_counts: bool,
+    /// The window holds more fracture stresses than the fleet reads one by one (this many):
+    /// no histogram, no fit.
+    pub stresses_over_cap: Option<u64>,
 }
 
 /// The review screen's state.
@@ -395,6 +403,51 @@ fn apply_value(f: &mut Filter, key: Key, v: &GroupValue, window: &Window) -> Res
     }
 }
 
+/// The window of the last twelve months up to `today`.
+pub(super) fn last_12_months(today: NaiveDate) -> Result<Window, String> {
+    let since = today
+        .checked_sub_months(Months::new(12))
+        .and_then(|d| d.succ_opt())
+        .unwrap_or(today);
+    Window::new(since, today).map_err(|e| e.to_string())
+}
+
+/// The chart ranks the causes found; incidents without a cause yet (a backlog, not a cause)
+/// come last whatever their count, as a Pareto chart puts "other" last.
+fn backlog_last(causes: &mut GroupTable) {
+    causes
+        .rows
+        .sort_by_key(|g| g.values.iter().all(|v| matches!(v, GroupValue::Text(None))));
+}
+
+/// Grouped by cause alone, counts only (the bar chart).
+pub(super) fn by_cause(window: Window) -> GroupOptions {
+    GroupOptions {
+        keys: vec![Key::Cause],
+        window,
+        rates: false,
+        weibull: false,
+        origin_type: None,
+        flag_level: 0.05,
+    }
+}
+
+/// The review's statistics query for the grouping `keys` (the window is given apart).
+fn review_query(keys: &[Key]) -> StatsQuery {
+    StatsQuery {
+        keys: keys.to_vec(),
+        since: None,
+        until: None,
+        rates: true,
+        trend: true,
+        weibull: true,
+        origin_type: None,
+        only: Vec::new(),
+        stress: StressKind::Applied,
+        json: false,
+    }
+}
+
 /// The start of the window for `choice`.
 fn window_for(
     choice: WindowChoice,
@@ -404,13 +457,7 @@ fn window_for(
     today: NaiveDate,
 ) -> Result<Window, String> {
     match choice {
-        WindowChoice::Last12 => {
-            let since = today
-                .checked_sub_months(Months::new(12))
-                .and_then(|d| d.succ_opt())
-                .unwrap_or(today);
-            Window::new(since, today).map_err(|e| e.to_string())
-        }
+        WindowChoice::Last12 => last_12_months(today),
         WindowChoice::All => q
             .window(incidents, exposures, today)
             .map_err(|e| e.to_string()),
@@ -423,58 +470,83 @@ fn compute(
     choice: WindowChoice,
     today: NaiveDate,
 ) -> Result<ReviewData, String> {
-    let q = StatsQuery {
-        keys: keys.to_vec(),
-        since: None,
-        until: None,
-        rates: true,
-        trend: true,
-        weibull: true,
-        origin_type: None,
-        only: Vec::new(),
-        stress: StressKind::Applied,
-        json: false,
-    };
+    let q = review_query(keys);
+    // the fleet database counts where the data is
+    if let Some(d) = counted::compute(store, &q, choice, today)? {
+        return Ok(d);
+    }
     let (incidents, exposures) = store
         .stats_input(&q, &[Key::Cause])
         .map_err(|e| e.to_string())?;
     let window = window_for(choice, &q, &incidents, &exposures, today)?;
     let r = query::compute(&q, &incidents, &exposures, window)?;
-    let mut causes = shardlog_core::fleet::group(
-        &incidents,
-        &exposures,
-        &GroupOptions {
-            keys: vec![Key::Cause],
-            window,
-            rates: false,
-            weibull: false,
-            origin_type: None,
-            flag_level: 0.05,
-        },
-    )
-    .map_err(|e| e.to_string())?;
-    // the chart ranks the causes found; incidents without a cause yet (a backlog, not a
-    // cause) come last whatever their count, as a Pareto chart puts "other" last
-    causes
-        .rows
-        .sort_by_key(|g| g.values.iter().all(|v| matches!(v, GroupValue::Text(None))));
+    let causes = shardlog_core::fleet::group(&incidents, &exposures, &by_cause(window))
+        .map_err(|e| e.to_string())?;
     let dates: Vec<NaiveDate> = incidents
         .iter()
         .map(|f| f.found)
         .filter(|d| window.contains(*d))
         .collect();
-    let mut months = monthly_counts(&dates, &exposures, &window);
-    if choice == WindowChoice::All {
-        // "all records" starts with the exposure; the list starts at the first incident
-        let first = months.iter().position(|m| m.count > 0).unwrap_or(0);
-        months.drain(..first);
-    }
+    let months = monthly_counts(&dates, &exposures, &window);
     let in_window: Vec<&shardlog_core::fleet::IncidentFacts> = incidents
         .iter()
         .filter(|f| window.contains(f.found))
         .collect();
     let stresses: Vec<f64> = in_window.iter().filter_map(|f| f.stress_pa).collect();
     let without_stress = in_window.len() - stresses.len();
+    Ok(finish(
+        store,
+        choice,
+        Computed {
+            window,
+            result: r,
+            causes,
+            months,
+            stresses,
+            without_stress,
+            exposures,
+            from_counts: false,
+            stresses_over_cap: None,
+        },
+    ))
+}
+
+/// What both ways of reading compute, before the figures every review shows are made.
+pub(super) struct Computed {
+    pub window: Window,
+    pub result: query::StatsResult,
+    /// Grouped by cause alone.
+    pub causes: GroupTable,
+    /// Every month of the window with its count.
+    pub months: Vec<MonthCount>,
+    /// The applied stresses in the window.
+    pub stresses: Vec<f64>,
+    pub without_stress: usize,
+    pub exposures: Vec<shardlog_core::fleet::Exposure>,
+    pub from_counts: bool,
+    pub stresses_over_cap: Option<u64>,
+}
+
+/// The review's figures from what was computed: the chart's order of causes, the months from
+/// the first incident for "all records", the stress histogram, the heat-soak comparison.
+pub(super) fn finish(store: &dyn RecordSource, choice: WindowChoice, c: Computed) -> ReviewData {
+    let Computed {
+        window,
+        result: r,
+        mut causes,
+        mut months,
+        stresses,
+        without_stress,
+        exposures,
+        from_counts,
+        stresses_over_cap,
+    } = c;
+    backlog_last(&mut causes);
+    if choice == WindowChoice::All {
+        // "all records" starts with the exposure; the list starts at the first incident
+        let first = months.iter().position(|m| m.count > 0).unwrap_or(0);
+        months.drain(..first);
+    }
     // round bins (1, 2, 2.5 or 5 × a power of ten in pascals: round in MPa too)
     let bins = round_histogram(&stresses, HISTOGRAM_BINS);
     let edges: Vec<f64> = bins.iter().map(|b| b.0).collect();
@@ -483,10 +555,17 @@ fn compute(
     let trend = r
         .trend
         .unwrap_or_else(|| Err("no trend was computed".to_string()));
-    let weibull = r
-        .overall_weibull
-        .unwrap_or_else(|| Err("no fit was computed".to_string()));
-    Ok(ReviewData {
+    let weibull = match stresses_over_cap {
+        Some(cap) => Err(format!(
+            "the window holds more than {} fracture stresses, which the fleet database does \
+             not read one by one",
+            crate::app::group_thousands(cap)
+        )),
+        None => r
+            .overall_weibull
+            .unwrap_or_else(|| Err("no fit was computed".to_string())),
+    };
+    ReviewData {
         window,
         table: r.table,
         causes,
@@ -504,7 +583,9 @@ fn compute(
                 shardlog_core::fleet::heat_soak::compare(&facts, &lots, &exposures, &window)
             })
             .map_err(|e| e.to_string()),
-    })
+        from_counts,
+        stresses_over_cap,
+    }
 }
 
 impl ReviewState {

@@ -572,6 +572,7 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     // page by page: only one page is held at a time, whatever the number of matches
     let mut shown: u64 = 0;
     let mut total = None;
+    let mut more_than_total = false;
     let mut after = None;
     loop {
         let want = match limit {
@@ -591,6 +592,7 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             .map_err(work)?;
         if shown == 0 {
             total = page.total;
+            more_than_total = page.more_than_total;
         }
         for r in &page.rows {
             if let Some(found) = &r.damaged {
@@ -626,10 +628,16 @@ pub fn list(args: ListArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let total = total.unwrap_or(shown);
     writeln!(
         ctx.out,
-        "{} of {} incident{} shown, {}",
+        "{} of {}{} incident{} shown, {}",
         shown,
+        // a filter by status or words counts its matches up to a cap (store::COUNT_CAP)
+        if more_than_total { "more than " } else { "" },
         total,
-        if total == 1 { "" } else { "s" },
+        if total == 1 && !more_than_total {
+            ""
+        } else {
+            "s"
+        },
         match (args.sort, args.asc) {
             (SortArg::Found, false) => "newest first",
             (SortArg::Found, true) => "oldest first",

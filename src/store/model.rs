@@ -507,6 +507,44 @@ pub struct Filter {
     pub bench: Option<String>,
 }
 
+/// Where the count of matches under a page stops when the filter has a status or words:
+/// neither is counted ahead of time on the fleet database (an exact count there reads every
+/// match, millions on a large fleet), so the count reads at most this many and one more, and
+/// the page says "more than 10000". A bench file counts the same way, so that both give the
+/// same answer for the same records.
+pub const COUNT_CAP: u64 = 10_000;
+
+/// The cap in force: [`COUNT_CAP`]; in debug builds only, `SHARDLOG_TEST_COUNT_CAP=N`, so
+/// that the test suite reaches it with a few hundred incidents.
+pub fn count_cap() -> u64 {
+    #[cfg(debug_assertions)]
+    if let Some(n) = std::env::var("SHARDLOG_TEST_COUNT_CAP")
+        .ok()
+        .and_then(|v| v.parse::<u64>().ok())
+    {
+        return n;
+    }
+    COUNT_CAP
+}
+
+impl Filter {
+    /// Whether the count of this filter's matches stops at [`COUNT_CAP`] (a status or words).
+    pub fn count_is_capped(&self) -> bool {
+        self.status.is_some() || self.text.is_some()
+    }
+
+    /// The count of matches a page gives from `counted`, the number of matches read (at most
+    /// [`count_cap`] + 1 when the count is capped): (total, whether more than it match).
+    pub fn total_of(&self, counted: u64) -> (u64, bool) {
+        let cap = count_cap();
+        if self.count_is_capped() && counted > cap {
+            (cap, true)
+        } else {
+            (counted, false)
+        }
+    }
+}
+
 /// Columns the log can be sorted by.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
@@ -592,8 +630,13 @@ pub struct Page {
     pub rows: Vec<LogRow>,
     /// Pass back as `PageRequest::after` for the next page; None on the last page.
     pub next: Option<Cursor>,
-    /// Number of matching incidents, when asked for.
+    /// Number of matching incidents, when asked for (with `more_than_total`: the count
+    /// stopped there).
     pub total: Option<u64>,
+    /// More than `total` incidents match: the count stopped at [`COUNT_CAP`] (a filter by
+    /// status or words; see [`Filter::count_is_capped`]).
+    #[serde(default)]
+    pub more_than_total: bool,
 }
 
 /// One flat row per incident for fleet statistics. [`Store::fleet_rows`] returns them in

@@ -88,6 +88,27 @@ pub struct CountedInput {
     pub counts: Vec<u64>,
     pub exposures: Vec<shardlog_core::fleet::Exposure>,
     pub earliest: Option<chrono::NaiveDate>,
+    /// The fracture stresses were not read: the selection holds more than this many (see
+    /// [`stress_cap`]); a Weibull fit or a histogram of them cannot be made.
+    pub stresses_over_cap: Option<u64>,
+}
+
+/// The most fracture stresses the fleet database reads one by one for a Weibull fit (each is
+/// a row read and held; a whole large fleet holds millions). A selection with more is
+/// refused, with what to narrow.
+pub const STRESS_CAP: u64 = 500_000;
+
+/// The cap in force: [`STRESS_CAP`]; in debug builds only, `SHARDLOG_TEST_STRESS_CAP=N`, so
+/// that the test suite reaches it with a few hundred incidents.
+pub fn stress_cap() -> u64 {
+    #[cfg(debug_assertions)]
+    if let Some(n) = std::env::var("SHARDLOG_TEST_STRESS_CAP")
+        .ok()
+        .and_then(|v| v.parse::<u64>().ok())
+    {
+        return n;
+    }
+    STRESS_CAP
 }
 
 impl RecordSource for Store {
@@ -142,6 +163,7 @@ impl RecordSource for Store {
                 rows: Vec::new(),
                 next: None,
                 total: page.with_total.then_some(0),
+                more_than_total: false,
             });
         }
         let all = Filter {

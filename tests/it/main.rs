@@ -20,6 +20,7 @@ mod fleet_fill;
 mod fleet_moves;
 mod fleet_pull_mark;
 mod fleet_push_locks;
+mod fleet_query;
 mod fleet_read;
 mod fleet_report;
 mod fleet_sync;

@@ -41,11 +41,11 @@ impl App {
             Action::End => self.log.end(store),
             Action::SortNext => {
                 self.log.next_sort();
-                self.log.reload(store)
+                self.log.resort(store)
             }
             Action::SortReverse => {
                 self.log.reverse_sort();
-                self.log.reload(store)
+                self.log.resort(store)
             }
             Action::ClearFilter => {
                 self.log.filter = Default::default();

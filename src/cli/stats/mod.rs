@@ -451,6 +451,13 @@ pub fn run(args: StatsArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
             .stats_counted(&q, today)
             .map_err(|e| CliError::work(e.to_string()))?;
         if let Some(mut c) = counted {
+            if let Some(cap) = c.stresses_over_cap {
+                return Err(CliError::usage(format!(
+                    "--weibull on the fleet database reads each fracture stress of the selection, \
+                     and this one holds more than {cap}: narrow it (--since and --until, \
+                     --only KEY=VALUE, --bench CODE)"
+                )));
+            }
             if !q.json {
                 readable(store, &mut q, &mut c.facts)?;
             }

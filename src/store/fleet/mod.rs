@@ -9,8 +9,9 @@
 //! - `push`: a bench's chain, records and files staged by binary COPY, then `fleet_push()`.
 //! - `pull`: reference data of other benches merged into this bench by code.
 //! - `check`: `verify` on the fleet: the witnessed chains, receipts, records, read tables.
-//! - `read`: the fleet as its users read it (`--db postgres://…`), read-only; `read_many`
-//!   many incidents with their histories and files at once (a dispute bundle).
+//! - `read`: the fleet as its users read it (`--db postgres://…`), read-only; `read_page` the
+//!   log's pages, `read_total` and `read_stats` what is counted, `read_many` many incidents
+//!   with their histories and files at once (a dispute bundle).
 //! - `status`: per bench its witnessed head, last sync, incidents, conflicts, refusals.
 //! - `pull_incidents`: the incidents other benches sent to this one, as the fleet holds them.
 //! - `status`: also the open conflicts with both versions.
@@ -30,8 +31,10 @@ mod read;
 mod read_many;
 mod read_materials;
 mod read_need;
+mod read_page;
 mod read_report;
 mod read_stats;
+mod read_total;
 mod resolve;
 mod schema;
 mod status;

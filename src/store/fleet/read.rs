@@ -31,6 +31,8 @@ pub struct FleetReader {
     pub(super) materials: RefCell<Option<Rc<FleetMaterials>>>,
     /// Inside a report's read snapshot (one read-only transaction).
     pub(super) in_snapshot: std::cell::Cell<bool>,
+    /// The log's statements, prepared once on this connection (read_page.rs).
+    pub(super) statements: RefCell<HashMap<String, postgres::Statement>>,
     /// Told how far a long read (a dispute bundle) has come.
     pub(super) progress: crate::store::progress::ProgressSlot,
 }
@@ -99,11 +101,6 @@ pub(super) fn refs(args: &[Bound]) -> Vec<&(dyn ToSql + Sync)> {
     args.iter().map(Bound::as_sql).collect()
 }
 
-/// The columns of a log row, in the order `log_row` reads them.
-const LOG_COLUMNS: &str =
-    "SELECT f.ord, f.id, f.reference, f.found_on, f.asset, f.position, f.site, \
-     f.product, f.supplier, f.lot, f.status, f.cause, f.stress_pa, f.owner FROM fleet_facts f";
-
 impl FleetReader {
     /// Connect to the fleet at `url` in a read-only session; `scope`: one bench's records.
     pub fn open(url: &str, scope: Option<&str>) -> Result<FleetReader, StoreError> {
@@ -156,6 +153,7 @@ impl FleetReader {
             refdata: RefCell::new(None),
             materials: RefCell::new(None),
             in_snapshot: std::cell::Cell::new(false),
+            statements: RefCell::new(HashMap::new()),
             progress: Default::default(),
         })
     }
@@ -396,187 +394,6 @@ pub(super) fn where_clause(conds: &[String]) -> String {
         String::new()
     } else {
         format!("WHERE {}", conds.join(" AND "))
-    }
-}
-
-fn log_row(r: &postgres::Row) -> (i64, LogRow) {
-    let found: String = r.get(3);
-    let occurred = crate::store::dates::parse_date(&found);
-    (
-        r.get(0),
-        LogRow {
-            id: r.get(1),
-            reference: r.get(2),
-            occurred: occurred.unwrap_or_default(),
-            asset: r.get(4),
-            position: r.get(5),
-            site: r.get(6),
-            product: r.get(7),
-            supplier: r.get(8),
-            lot: r.get(9),
-            status: r.get(10),
-            cause: r.get(11),
-            stress_mpa: r.get::<_, Option<f64>>(12).map(|x| x / 1e6),
-            damaged: occurred.is_none().then_some(found),
-            bench: r.get(13),
-        },
-    )
-}
-
-impl FleetReader {
-    fn page(&self, filter: &Filter, sort: Sort, page: &PageRequest) -> Result<Page, StoreError> {
-        let limit = i64::from(page.limit.clamp(1, 10_000));
-        let mut args = Vec::new();
-        let conds = self.conditions(filter, &mut args);
-        let (dir, cmp) = if sort.descending {
-            ("DESC", "<")
-        } else {
-            ("ASC", ">")
-        };
-        let mut client = self.client.borrow_mut();
-        let mut tx = client
-            .build_transaction()
-            .read_only(true)
-            .isolation_level(postgres::IsolationLevel::RepeatableRead)
-            .start()
-            .map_err(pg)?;
-        let mut rows: Vec<(i64, LogRow)> = Vec::new();
-        let after = page.after.as_ref();
-        if sort.column == SortColumn::Stress {
-            let in_nulls =
-                matches!(after, Some(c) if matches!(c.key.first(), Some(CursorKey::Real(None))));
-            if !in_nulls {
-                let mut c2 = conds.clone();
-                let mut a2 = copy(&args);
-                c2.push("f.stress_pa IS NOT NULL".into());
-                if let Some(c) = after {
-                    if let Some(CursorKey::Real(Some(x))) = c.key.first() {
-                        a2.push(Bound::Real(*x));
-                        a2.push(Bound::Int(c.seq));
-                        c2.push(format!(
-                            "(f.stress_pa, f.ord) {cmp} (${}, ${})",
-                            a2.len() - 1,
-                            a2.len()
-                        ));
-                    }
-                }
-                let sql = format!(
-                    "{LOG_COLUMNS} {} ORDER BY f.stress_pa {dir}, f.ord {dir} LIMIT {limit}",
-                    where_clause(&c2)
-                );
-                rows.extend(tx.query(&sql, &refs(&a2)).map_err(pg)?.iter().map(log_row));
-            }
-            if (rows.len() as i64) < limit {
-                let mut c2 = conds.clone();
-                let mut a2 = copy(&args);
-                c2.push("f.stress_pa IS NULL".into());
-                if let (true, Some(c)) = (in_nulls, after) {
-                    a2.push(Bound::Int(c.seq));
-                    c2.push(format!("f.ord {cmp} ${}", a2.len()));
-                }
-                let sql = format!(
-                    "{LOG_COLUMNS} {} ORDER BY f.ord {dir} LIMIT {}",
-                    where_clause(&c2),
-                    limit - rows.len() as i64
-                );
-                rows.extend(tx.query(&sql, &refs(&a2)).map_err(pg)?.iter().map(log_row));
-            }
-        } else {
-            let (order, keys): (&str, &[&str]) = match sort.column {
-                SortColumn::Reference => ("f.reference {d}, f.ord {d}", &["f.reference"]),
-                SortColumn::Status => (
-                    "f.status {d}, f.found_on {d}, f.ord {d}",
-                    &["f.status", "f.found_on"],
-                ),
-                _ => ("f.found_on {d}, f.ord {d}", &["f.found_on"]),
-            };
-            let mut c2 = conds.clone();
-            let mut a2 = copy(&args);
-            if let Some(c) = after {
-                let mut lhs: Vec<&str> = keys.to_vec();
-                lhs.push("f.ord");
-                for k in &c.key {
-                    a2.push(match k {
-                        CursorKey::Text(s) => Bound::Text(s.clone()),
-                        CursorKey::Real(x) => Bound::Real(x.unwrap_or(f64::NAN)),
-                    });
-                }
-                a2.push(Bound::Int(c.seq));
-                let first = a2.len() - lhs.len() + 1;
-                let marks: Vec<String> = (first..=a2.len()).map(|n| format!("${n}")).collect();
-                c2.push(format!("({}) {cmp} ({})", lhs.join(", "), marks.join(", ")));
-            }
-            let sql = format!(
-                "{LOG_COLUMNS} {} ORDER BY {} LIMIT {limit}",
-                where_clause(&c2),
-                order.replace("{d}", dir)
-            );
-            rows.extend(tx.query(&sql, &refs(&a2)).map_err(pg)?.iter().map(log_row));
-        }
-        let next = match rows.last() {
-            Some((ord, row)) if rows.len() as i64 == limit => Some(Cursor {
-                key: match sort.column {
-                    SortColumn::Found => vec![CursorKey::Text(found_text(row))],
-                    SortColumn::Reference => vec![CursorKey::Text(row.reference.clone())],
-                    SortColumn::Status => vec![
-                        CursorKey::Text(row.status.clone()),
-                        CursorKey::Text(found_text(row)),
-                    ],
-                    SortColumn::Stress => {
-                        let stress: Option<f64> = tx
-                            .query_one("SELECT stress_pa FROM fleet_facts WHERE ord = $1", &[ord])
-                            .map_err(pg)?
-                            .get(0);
-                        vec![CursorKey::Real(stress)]
-                    }
-                },
-                seq: *ord,
-            }),
-            _ => None,
-        };
-        let total = if page.with_total {
-            // from the counts by month where they can answer, not a count over millions
-            if let Some(n) = self.counted_total(&mut tx, filter)? {
-                tx.commit().map_err(pg)?;
-                return Ok(Page {
-                    rows: rows.into_iter().map(|(_, r)| r).collect(),
-                    next,
-                    total: Some(n),
-                });
-            }
-            let sql = format!(
-                "SELECT count(*) FROM fleet_facts f {}",
-                where_clause(&conds)
-            );
-            let n: i64 = tx.query_one(&sql, &refs(&args)).map_err(pg)?.get(0);
-            Some(n as u64)
-        } else {
-            None
-        };
-        tx.commit().map_err(pg)?;
-        Ok(Page {
-            rows: rows.into_iter().map(|(_, r)| r).collect(),
-            next,
-            total,
-        })
-    }
-}
-
-fn copy(args: &[Bound]) -> Vec<Bound> {
-    args.iter()
-        .map(|a| match a {
-            Bound::Text(s) => Bound::Text(s.clone()),
-            Bound::Real(x) => Bound::Real(*x),
-            Bound::Int(n) => Bound::Int(*n),
-        })
-        .collect()
-}
-
-/// The date found as the log's cursor holds it (the stored text of a damaged row).
-fn found_text(row: &LogRow) -> String {
-    match &row.damaged {
-        Some(text) => text.clone(),
-        None => row.occurred.format("%Y-%m-%d").to_string(),
     }
 }
 

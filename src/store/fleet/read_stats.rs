@@ -335,6 +335,21 @@ impl FleetReader {
         let mut params = conds.params();
         params.push(&from);
         params.push(&to);
+        // how many, up to the cap, before any is read
+        let cap = crate::store::read::stress_cap();
+        let sql = format!(
+            "SELECT count(*) FROM (SELECT 1 FROM fleet_facts
+             WHERE {} AND found_on >= ${} AND found_on <= ${} AND {stress} IS NOT NULL LIMIT {}) x",
+            conds.sql(),
+            params.len() - 1,
+            params.len(),
+            cap + 1
+        );
+        let n: i64 = self.query_with(&sql, &params)?[0].get(0);
+        if n.unsigned_abs() > cap {
+            out.stresses_over_cap = Some(cap);
+            return Ok(());
+        }
         let sql = format!(
             "SELECT found_on, {stress}{cols} FROM fleet_facts
              WHERE {} AND found_on >= ${} AND found_on <= ${} AND {stress} IS NOT NULL ORDER BY ord",

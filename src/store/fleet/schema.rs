@@ -222,30 +222,96 @@ impl Fleet {
         })
     }
 
-    /// Whether every migration of this build is applied.
-    fn has_every_migration(&mut self) -> Result<bool, FleetError> {
-        for &(version, _, _) in MIGRATIONS {
-            if !applied(&mut self.client, version)? {
-                return Ok(false);
-            }
+    /// The migrations of this build the fleet has not applied, by file name, in order.
+    fn missing_migrations(&mut self) -> Result<Vec<&'static str>, FleetError> {
+        if version_in(&mut self.client)? == 0 {
+            return Ok(MIGRATIONS.iter().map(|m| m.1).collect());
         }
-        Ok(true)
+        let applied: Vec<i64> = self
+            .client
+            .query("SELECT version::bigint FROM fleet_schema", &[])?
+            .iter()
+            .map(|r| r.get(0))
+            .collect();
+        Ok(MIGRATIONS
+            .iter()
+            .filter(|m| !applied.contains(&m.0))
+            .map(|m| m.1)
+            .collect())
     }
 
-    /// Refuse to work on a database that `fleet init` has not prepared (or a newer one).
+    /// Refuse to work on a database that `fleet init` has not prepared (or a newer one), or
+    /// one that lacks a migration of this build (named, with what to run).
     pub(crate) fn check_schema(&mut self) -> Result<(), FleetError> {
-        match self.schema_version()? {
-            0 => Err(FleetError::Usage(format!(
+        let v = self.schema_version()?;
+        if v == 0 {
+            return Err(FleetError::Usage(format!(
                 "{} is not a shardlog fleet database yet; run `shardlog fleet init --url URL` as its owner first",
                 self.shown
-            ))),
-            v if v > FLEET_SCHEMA_VERSION => Err(FleetError::Usage(format!(
-                "the fleet database has schema version {v}, newer than this shardlog understands ({FLEET_SCHEMA_VERSION}); use a newer shardlog"
-            ))),
-            v if v < FLEET_SCHEMA_VERSION || !self.has_every_migration()? => Err(FleetError::Usage(format!(
-                "the fleet database has schema version {v}; its owner must run `shardlog fleet init --url URL` to upgrade it to {FLEET_SCHEMA_VERSION}"
-            ))),
-            _ => Ok(()),
+            )));
         }
+        if v > FLEET_SCHEMA_VERSION {
+            return Err(FleetError::Usage(format!(
+                "the fleet database has schema version {v}, newer than this shardlog understands ({FLEET_SCHEMA_VERSION}); use a newer shardlog"
+            )));
+        }
+        let missing = self.missing_migrations()?;
+        if missing.is_empty() {
+            return Ok(());
+        }
+        Err(FleetError::Usage(missing_message(v, &missing)))
+    }
+}
+
+/// What a fleet at version `v` that lacks the `missing` migrations is told: which ones, and
+/// the command that applies them (`fleet init` applies every migration a fleet lacks, an
+/// earlier one too).
+fn missing_message(v: i64, missing: &[&str]) -> String {
+    let (them, it) = if missing.len() == 1 {
+        ("migration", "it")
+    } else {
+        ("migrations", "them")
+    };
+    let names = missing.join(", ");
+    let newer_only = missing
+        .iter()
+        .all(|name| MIGRATIONS.iter().any(|m| m.1 == *name && m.0 > v));
+    if newer_only {
+        format!(
+            "the fleet database has schema version {v} and lacks fleet {them} {names}; its owner must run `shardlog fleet init --url URL` to upgrade it to {FLEET_SCHEMA_VERSION}"
+        )
+    } else {
+        format!(
+            "the fleet database has schema version {v} but lacks the earlier fleet {them} {names}; its owner must run `shardlog fleet init --url URL` to apply {it}"
+        )
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_missing_migration_is_named_with_the_command_that_applies_it() {
+        let m = missing_message(9, &["0006_push_parallel.sql"]);
+        assert!(
+            m.contains("version 9 but lacks the earlier fleet migration 0006_push_parallel.sql"),
+            "{m}"
+        );
+        assert!(
+            m.contains("`shardlog fleet init --url URL` to apply it"),
+            "{m}"
+        );
+        let m = missing_message(5, &["0006_push_parallel.sql", "0007_counts.sql"]);
+        assert!(
+            m.contains(
+                "version 5 and lacks fleet migrations 0006_push_parallel.sql, 0007_counts.sql"
+            ),
+            "{m}"
+        );
+        assert!(
+            m.contains(&format!("to upgrade it to {FLEET_SCHEMA_VERSION}")),
+            "{m}"
+        );
     }
 }

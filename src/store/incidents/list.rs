@@ -69,15 +69,17 @@ impl Store {
             _ => self.page_by_key(&query)?,
         };
         let next = self.next_cursor(&rows, sort, limit)?;
-        let total = if page.with_total {
-            Some(self.filtered_total(filter, text_hits)?)
+        let (total, more_than_total) = if page.with_total {
+            let (n, more) = filter.total_of(self.filtered_total(filter, text_hits)?);
+            (Some(n), more)
         } else {
-            None
+            (None, false)
         };
         Ok(Page {
             rows: rows.into_iter().map(|(_, r)| r).collect(),
             next,
             total,
+            more_than_total,
         })
     }
 
@@ -203,8 +205,9 @@ impl Store {
         })
     }
 
-    /// How many incidents match the filter. `text_hits`: the text index's count of the text
-    /// filter's matches, if there is one.
+    /// How many incidents match the filter: all of them, or at most [`COUNT_CAP`] + 1 when
+    /// the filter's count is capped (as the fleet counts). `text_hits`: the text index's
+    /// count of the text filter's matches, if there is one.
     fn filtered_total(&self, filter: &Filter, text_hits: Option<u64>) -> Result<u64, StoreError> {
         let text_only = Filter {
             text: None,
@@ -215,7 +218,15 @@ impl Store {
             return Ok(hits);
         }
         let (from, where_sql, args) = filter_sql(&self.conn, filter, TextPlan::IndexDrives)?;
-        let sql = format!("SELECT count(*) FROM {from} {}", where_clause(&where_sql));
+        let sql = if filter.count_is_capped() {
+            format!(
+                "SELECT count(*) FROM (SELECT 1 FROM {from} {} LIMIT {})",
+                where_clause(&where_sql),
+                count_cap() + 1
+            )
+        } else {
+            format!("SELECT count(*) FROM {from} {}", where_clause(&where_sql))
+        };
         let n: i64 = self
             .conn
             .prepare_cached(&sql)?

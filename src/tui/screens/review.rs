@@ -445,6 +445,20 @@ fn months(
 fn stress(d: &ReviewData, f: &mut Frame, note: Rect, area: Rect, th: &Theme) {
     let (edges, counts, width) = &d.histogram;
     let n: u64 = counts.iter().sum();
+    if let Some(cap) = d.stresses_over_cap {
+        put_wrapped(
+            f,
+            note,
+            &format!(
+                "Applied stress at fracture: more than {} incidents of this window have a \
+                 back-calculated stress, more than the fleet database reads one by one: \
+                 `stats --weibull` over a narrower selection fits them",
+                group_thousands(cap)
+            ),
+            th.warning,
+        );
+        return;
+    }
     put_wrapped(
         f,
         note,
