@@ -105,7 +105,12 @@ pub(crate) fn plain_id(id: &str) -> bool {
 /// `%["id",%` matches), in the order listed.
 pub(crate) fn listed_ids(text: &str, mut each: impl FnMut(&str)) {
     let mut rest = text;
-    while let Some(at) = rest.find("[\"") {
+    // a one-byte search (memchr) for each '[', then the quote after it
+    while let Some(at) = rest.find('[') {
+        if !rest[at + 1..].starts_with('"') {
+            rest = &rest[at + 1..];
+            continue;
+        }
         let tail = &rest[at + 2..];
         let Some(end) = tail.find('"') else {
             return;
