@@ -510,9 +510,9 @@ pub struct Filter {
 /// Where the count of matches under a page stops when the filter has a status or words:
 /// neither is counted ahead of time on the fleet database (an exact count there reads every
 /// match, millions on a large fleet), so the count reads at most this many and one more, and
-/// the page says "more than 10000". A bench file counts the same way, so that both give the
+/// the page says "more than 1000". A bench file counts the same way, so that both give the
 /// same answer for the same records.
-pub const COUNT_CAP: u64 = 10_000;
+pub const COUNT_CAP: u64 = 1_000;
 
 /// The cap in force: [`COUNT_CAP`]; in debug builds only, `SHARDLOG_TEST_COUNT_CAP=N`, so
 /// that the test suite reaches it with a few hundred incidents.

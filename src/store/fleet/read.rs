@@ -380,7 +380,7 @@ fn kind_name(kind: LookupKind) -> String {
 /// The words of a free-text filter as a tsquery: every word, each as a prefix, all required
 /// (the bench's FTS5 query is the same: quoted prefix terms, all required). None when the
 /// text has no word.
-fn text_query(text: &str) -> Option<String> {
+pub(super) fn text_query(text: &str) -> Option<String> {
     let terms: Vec<String> = text
         .split(|c: char| !c.is_alphanumeric() && c != '_')
         .filter(|w| !w.is_empty())
