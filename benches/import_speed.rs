@@ -39,15 +39,43 @@ fn process_cpu() -> Duration {
 struct Took {
     wall: Duration,
     cpu: Duration,
+    /// Peak resident memory of the process while it ran, bytes (VmHWM after a reset).
+    peak: u64,
+}
+
+/// Reset the process's peak resident memory to what it holds now (Linux: writing 5 to
+/// /proc/self/clear_refs); false where that cannot be done.
+fn reset_peak() -> bool {
+    std::fs::write("/proc/self/clear_refs", "5").is_ok()
+}
+
+/// The process's peak resident memory since the last reset (VmHWM), bytes.
+fn peak_memory() -> u64 {
+    let status = std::fs::read_to_string("/proc/self/status").unwrap_or_default();
+    status
+        .lines()
+        .find_map(|l| l.strip_prefix("VmHWM:"))
+        .and_then(|v| v.trim().trim_end_matches("kB").trim().parse::<u64>().ok())
+        .map_or(0, |kb| kb * 1024)
 }
 
 fn timed(f: impl FnOnce()) -> Took {
+    let reset = reset_peak();
     let (w, c) = (Instant::now(), process_cpu());
     f();
     Took {
         wall: w.elapsed(),
         cpu: process_cpu() - c,
+        peak: if reset { peak_memory() } else { 0 },
     }
+}
+
+/// The machine's load average (1, 5 and 15 minutes), as /proc/loadavg gives it.
+fn load_average() -> (String, String, String) {
+    let text = std::fs::read_to_string("/proc/loadavg").unwrap_or_default();
+    let mut f = text.split_whitespace().map(str::to_string);
+    let mut next = || f.next().unwrap_or_else(|| "?".into());
+    (next(), next(), next())
 }
 
 fn median(mut v: Vec<Duration>) -> Duration {
@@ -163,6 +191,7 @@ fn main() {
     let med = |v: &[Took]| Took {
         wall: median(v.iter().map(|t| t.wall).collect()),
         cpu: median(v.iter().map(|t| t.cpu).collect()),
+        peak: v.iter().map(|t| t.peak).max().unwrap_or(0),
     };
     let floor = med(&plains);
     let rate = |d: Duration| n as f64 / d.as_secs_f64();
@@ -171,18 +200,23 @@ fn main() {
         rounds.max(1)
     );
     println!(
-        "| what | wall s | rows/s | CPU s | rows/s of CPU | ratio to plain (wall) | ratio (CPU) |"
+        "| what | wall s | rows/s | CPU s | rows/s of CPU | ratio to plain (wall) | ratio (CPU) | peak memory MB |"
     );
-    println!("|---|---|---|---|---|---|---|");
+    println!("|---|---|---|---|---|---|---|---|");
     let line = |label: &str, t: Took| {
         println!(
-            "| {label} | {:.2} | {:.0} | {:.2} | {:.0} | {:.3} | {:.3} |",
+            "| {label} | {:.2} | {:.0} | {:.2} | {:.0} | {:.3} | {:.3} | {} |",
             t.wall.as_secs_f64(),
             rate(t.wall),
             t.cpu.as_secs_f64(),
             rate(t.cpu),
             rate(t.wall) / rate(floor.wall),
             rate(t.cpu) / rate(floor.cpu),
+            if t.peak > 0 {
+                format!("{:.0}", t.peak as f64 / 1048576.0)
+            } else {
+                "not measured".to_string()
+            },
         )
     };
     line("plain CSV-to-SQLite insert (floor)", floor);
@@ -200,8 +234,11 @@ fn main() {
     let mut usage: libc::rusage = unsafe { std::mem::zeroed() };
     unsafe { libc::getrusage(libc::RUSAGE_SELF, &mut usage) };
     println!(
-        "peak resident memory of this process (every round, the verify after each import included): {} MB",
+        "peak memory: resident memory while each step ran (the highest of the rounds; the CSV bytes, {:.0} MB, are held throughout); of the whole process (every round, the verify after each import included): {} MB",
+        csv.len() as f64 / 1048576.0,
         usage.ru_maxrss / 1024
     );
+    let (load1, load5, load15) = load_average();
+    println!("load average at the end (1, 5, 15 min): {load1} {load5} {load15}");
     let _ = std::fs::remove_dir_all(&dir);
 }

@@ -32,24 +32,64 @@ pub enum Numbers {
     Shortest,
 }
 
-/// What the writer does besides the fixed form: the number rule, and optionally one field
-/// name whose value is written as `"sha256:<hex of its canonical text>"` wherever it occurs.
-#[derive(Debug, Clone, Copy)]
-struct Rules {
+/// What the writer does besides the fixed form: the number rule, optionally one field name
+/// whose value is written as `"sha256:<hex of its canonical text>"` wherever it occurs, and
+/// optionally texts given for some fields ([`to_canonical_with_given`]).
+#[derive(Clone, Copy)]
+struct Rules<'g> {
     numbers: Numbers,
     digested_field: Option<&'static str>,
+    given: Option<&'g Given<'g>>,
+}
+
+/// Texts given for object fields: the k-th field named `fields[i].0` that is written gets
+/// `fields[i].1[k]`, verbatim; `used[i]` counts how many were taken.
+struct Given<'g> {
+    fields: &'g [(&'static str, &'g [&'g str])],
+    used: Vec<std::cell::Cell<usize>>,
+}
+
+impl<'g> Rules<'g> {
+    fn plain(numbers: Numbers) -> Rules<'g> {
+        Rules {
+            numbers,
+            digested_field: None,
+            given: None,
+        }
+    }
+
+    /// The text given for the next field named `key`, when texts are given for that name.
+    fn given_text(&self, key: &str) -> Result<Option<&'g str>, Error> {
+        let Some(given) = self.given else {
+            return Ok(None);
+        };
+        let Some(i) = given.fields.iter().position(|(name, _)| *name == key) else {
+            return Ok(None);
+        };
+        let k = given.used[i].get();
+        let text = *given.fields[i].1.get(k).ok_or_else(|| {
+            <Error as serde::ser::Error>::custom(format!(
+                "more fields \"{key}\" are written than texts are given for it"
+            ))
+        })?;
+        given.used[i].set(k + 1);
+        Ok(Some(text))
+    }
 }
 
 /// The canonical text of any serializable value, written directly (no `serde_json::Value`
 /// tree in between; the same text as [`value_to_canonical`] of its `serde_json::to_value`).
 pub fn to_canonical<T: Serialize + ?Sized>(value: &T, numbers: Numbers) -> Result<String, Error> {
-    direct::to_string(
-        value,
-        Rules {
-            numbers,
-            digested_field: None,
-        },
-    )
+    direct::to_string(value, Rules::plain(numbers))
+}
+
+/// [`to_canonical`] appended to `out` (a buffer the caller reuses).
+pub fn to_canonical_into<T: Serialize + ?Sized>(
+    value: &T,
+    numbers: Numbers,
+    out: &mut String,
+) -> Result<(), Error> {
+    direct::write(value, Rules::plain(numbers), out)
 }
 
 /// [`to_canonical`], except that the value of every object field named `field` is replaced by
@@ -63,10 +103,43 @@ pub fn to_canonical_with_digested_field<T: Serialize + ?Sized>(
     direct::to_string(
         value,
         Rules {
-            numbers,
             digested_field: Some(field),
+            ..Rules::plain(numbers)
         },
     )
+}
+
+/// [`to_canonical`] with the texts of some fields given: the k-th object field named `name`
+/// that the value writes (in the order serde visits them) is written as `texts[k]`, verbatim,
+/// whatever its value holds. The caller vouches that each text is canonical JSON (the text
+/// of what the field stands for, or its digest as a string). Every text given must be used
+/// exactly once, else an error.
+pub fn to_canonical_with_given<T: Serialize + ?Sized>(
+    value: &T,
+    numbers: Numbers,
+    fields: &[(&'static str, &[&str])],
+) -> Result<String, Error> {
+    let given = Given {
+        fields,
+        used: fields.iter().map(|_| std::cell::Cell::new(0)).collect(),
+    };
+    let out = direct::to_string(
+        value,
+        Rules {
+            given: Some(&given),
+            ..Rules::plain(numbers)
+        },
+    )?;
+    for ((name, texts), used) in fields.iter().zip(&given.used) {
+        if used.get() != texts.len() {
+            return Err(<Error as serde::ser::Error>::custom(format!(
+                "{} texts are given for the field \"{name}\", and {} such fields are written",
+                texts.len(),
+                used.get()
+            )));
+        }
+    }
+    Ok(out)
 }
 
 /// The canonical text of a JSON value.
@@ -245,24 +318,29 @@ mod direct {
 
     pub(super) fn to_string<T: Serialize + ?Sized>(
         value: &T,
-        rules: Rules,
+        rules: Rules<'_>,
     ) -> Result<String, Error> {
         let mut out = String::with_capacity(256);
-        value.serialize(Ser {
-            out: &mut out,
-            rules,
-        })?;
+        write(value, rules, &mut out)?;
         Ok(out)
+    }
+
+    pub(super) fn write<T: Serialize + ?Sized>(
+        value: &T,
+        rules: Rules<'_>,
+        out: &mut String,
+    ) -> Result<(), Error> {
+        value.serialize(Ser { out, rules })
     }
 
     struct Ser<'a> {
         out: &'a mut String,
-        rules: Rules,
+        rules: Rules<'a>,
     }
 
     struct Seq<'a> {
         out: &'a mut String,
-        rules: Rules,
+        rules: Rules<'a>,
         first: bool,
         /// for tuple and struct variants: close the wrapping object too
         close_variant: bool,
@@ -272,7 +350,7 @@ mod direct {
     /// object, not one string per field), then the fields are copied out in key order.
     struct Obj<'a> {
         out: &'a mut String,
-        rules: Rules,
+        rules: Rules<'a>,
         scratch: String,
         fields: Vec<(Cow<'static, str>, usize, usize)>,
         pending_key: Option<String>,
@@ -665,7 +743,9 @@ mod direct {
                 self.scratch.reserve(256);
             }
             let from = self.scratch.len();
-            if self.rules.digested_field == Some(&*key) {
+            if let Some(text) = self.rules.given_text(&key)? {
+                self.scratch.push_str(text);
+            } else if self.rules.digested_field == Some(&*key) {
                 let inner = to_string(
                     value,
                     Rules {
@@ -742,6 +822,9 @@ mod direct {
         }
     }
 }
+
+#[cfg(test)]
+mod given_tests;
 
 #[cfg(test)]
 mod tests {

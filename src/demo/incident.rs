@@ -111,6 +111,7 @@ impl<'a> Maker<'a> {
             incident: inc,
             refs,
             stamp,
+            rendered: None,
         })
     }
 

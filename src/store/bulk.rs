@@ -11,7 +11,9 @@ use std::sync::mpsc;
 use rusqlite::{Transaction, TransactionBehavior};
 
 use super::audit::{Bulk, Chain, INCIDENT};
-use super::incidents::{fill_fleet_facts_after, insert_prepared, prepare, Prepared};
+use super::incidents::{
+    fill_fleet_facts_after, insert_prepared, prepare, prepare_rendered, Prepared,
+};
 use super::model::*;
 use super::{files, refdata, sqlite, IdGen, Store, StoreError};
 
@@ -33,6 +35,9 @@ pub(crate) struct NewIncident {
     pub incident: Incident,
     pub refs: Refs,
     pub stamp: Stamp,
+    /// The stored texts of its results, rendered aside (per examination) while the record
+    /// holds their figures only; None: the record holds its results whole.
+    pub rendered: Option<Vec<Option<super::rendered::RenderedResult>>>,
 }
 
 /// How the incidents of a bulk load are audited.
@@ -88,6 +93,10 @@ impl BulkFile {
             TransactionBehavior::Deferred,
             true,
         )
+        .map(|mut load| {
+            load.text_in_memory = true;
+            load
+        })
     }
 }
 
@@ -162,6 +171,7 @@ fn begin_load<'s>(
         last_stamp: None,
         facts_after: last_seq,
         text_aside: last_seq == 0,
+        text_in_memory: false,
         commit: true,
     })
 }
@@ -209,6 +219,10 @@ pub struct BulkLoad<'s> {
     facts_after: i64,
     /// Build the text index aside and copy it in (only into a database without incidents).
     text_aside: bool,
+    /// Build it aside in memory, its texts queued without a bound (the demo, whose writer
+    /// never waits); else in a temporary file, the queue bounded (an import: memory bounded
+    /// whatever the file's size).
+    text_in_memory: bool,
     /// Commit at the end (else roll back: a dry run).
     commit: bool,
 }
@@ -291,6 +305,7 @@ impl<'s> BulkLoad<'s> {
             mut last_stamp,
             facts_after,
             text_aside,
+            text_in_memory,
             commit,
             ..
         } = self;
@@ -308,10 +323,11 @@ impl<'s> BulkLoad<'s> {
         // queue up without a bound, so the writer never waits for that thread, which catches
         // up while the writer builds the fleet facts and the indexes.
         let text_sql = sqlite::fts_create_sql(&tx)?;
-        let (to_text, from_writer) = mpsc::channel::<Vec<(i64, String)>>();
+        let (to_text, from_writer) = TextQueue::new(text_in_memory);
         let mut written = 0u64;
         std::thread::scope(|scope| -> Result<(), StoreError> {
-            let texter = scope.spawn(move || build_text_index(&text_sql, from_writer));
+            let texter =
+                scope.spawn(move || build_text_index(&text_sql, from_writer, text_in_memory));
             let maker = scope.spawn(move || make_ready(make, ids, to_writer, spent_back));
             let mut write = || -> Result<(), StoreError> {
                 for mut prepared in from_maker.iter() {
@@ -420,6 +436,11 @@ impl<'s> BulkLoad<'s> {
                 let mut batch = Vec::with_capacity(HAND_OVER);
                 while let Some(next) = make(ids) {
                     let n = next?;
+                    if n.rendered.is_some() {
+                        return Err(StoreError::Database(
+                            "a streamed load takes incidents that hold their results whole".into(),
+                        ));
+                    }
                     let image = super::canon::incident_image(&n.incident)?;
                     let digest = super::canon::sha256_hex(image.as_bytes());
                     batch.push((n, image, digest));
@@ -519,7 +540,10 @@ where
     let mut batch = Vec::with_capacity(HAND_OVER);
     while let Some(next) = make(ids) {
         let n = next?;
-        batch.push(Box::new(prepare(n.incident, n.refs, n.stamp)?));
+        batch.push(Box::new(match n.rendered {
+            Some(r) => prepare_rendered(n.incident, n.refs, n.stamp, r)?,
+            None => prepare(n.incident, n.refs, n.stamp)?,
+        }));
         if batch.len() == HAND_OVER {
             drop(spent_back.try_iter().collect::<Vec<_>>());
             let full = std::mem::replace(&mut batch, Vec::with_capacity(HAND_OVER));
@@ -534,12 +558,50 @@ where
     Ok(())
 }
 
-/// The text thread: the index of every (seq, text) received, in a database in memory.
+/// Texts for the text thread: queued without a bound, or with one.
+enum TextQueue {
+    Unbounded(mpsc::Sender<Vec<(i64, String)>>),
+    Bounded(mpsc::SyncSender<Vec<(i64, String)>>),
+}
+
+impl TextQueue {
+    /// The queue and its receiving end; `unbounded` or bounded to a few hand-overs.
+    fn new(unbounded: bool) -> (TextQueue, mpsc::Receiver<Vec<(i64, String)>>) {
+        if unbounded {
+            let (tx, rx) = mpsc::channel();
+            (TextQueue::Unbounded(tx), rx)
+        } else {
+            let (tx, rx) = mpsc::sync_channel(16);
+            (TextQueue::Bounded(tx), rx)
+        }
+    }
+
+    /// Err: the text thread stopped (it reports its own error).
+    fn send(&self, texts: Vec<(i64, String)>) -> Result<(), ()> {
+        match self {
+            TextQueue::Unbounded(tx) => tx.send(texts).map_err(|_| ()),
+            TextQueue::Bounded(tx) => tx.send(texts).map_err(|_| ()),
+        }
+    }
+}
+
+/// The text thread: the index of every (seq, text) received, in a database of its own, in
+/// memory or in a temporary file (deleted when closed).
 fn build_text_index(
     create_sql: &str,
     from_writer: mpsc::Receiver<Vec<(i64, String)>>,
+    in_memory: bool,
 ) -> Result<rusqlite::Connection, StoreError> {
-    let aside = rusqlite::Connection::open_in_memory()?;
+    let aside = if in_memory {
+        rusqlite::Connection::open_in_memory()?
+    } else {
+        // an empty name: a private temporary file, its pages beyond the cache on disk
+        let aside = rusqlite::Connection::open("")?;
+        aside.execute_batch(
+            "PRAGMA journal_mode = OFF; PRAGMA synchronous = OFF; PRAGMA cache_size = -16384;",
+        )?;
+        aside
+    };
     aside.execute_batch(create_sql)?;
     let atx = aside.unchecked_transaction()?;
     for batch in from_writer.iter() {

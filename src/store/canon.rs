@@ -32,6 +32,28 @@ pub fn incident_image(inc: &crate::store::model::Incident) -> Result<String, ser
     core_canonical::to_canonical_with_digested_field(inc, Numbers::BitPattern, "analysis")
 }
 
+/// [`incident_image`] of an incident whose results' `analysis` and `constants` are given as
+/// rendered texts (`rendered`: one per examination with a result, in order), whatever the
+/// record's values of them hold: the same text, without a value tree of either.
+pub(crate) fn incident_image_rendered(
+    inc: &crate::store::model::Incident,
+    rendered: &[&crate::store::rendered::RenderedResult],
+) -> Result<String, serde_json::Error> {
+    let pins: Vec<&str> = rendered.iter().map(|r| r.analysis_pin.as_str()).collect();
+    let constants: Vec<&str> = rendered
+        .iter()
+        .map(|r| r.constants_image.as_str())
+        .collect();
+    core_canonical::to_canonical_with_given(
+        inc,
+        Numbers::BitPattern,
+        &[
+            ("analysis", pins.as_slice()),
+            ("constants", constants.as_slice()),
+        ],
+    )
+}
+
 /// `v` with every negative zero made zero. The canonical form writes -0.0 as 0.0, so the
 /// audit image (and a digest of it) pins a zero without its sign; a value read back from a
 /// stored JSON text is shown as the image pins it, the same at the bench and in the fleet.

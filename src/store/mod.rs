@@ -71,6 +71,7 @@ pub(crate) mod pulled_exposure;
 pub mod read;
 pub mod read_report;
 mod refdata;
+pub(crate) mod rendered;
 pub mod safe_file;
 pub mod signing;
 mod sqlite;

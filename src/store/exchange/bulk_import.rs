@@ -120,6 +120,7 @@ fn write_bulk(
                 incident,
                 refs,
                 stamp: stamp.clone(),
+                rendered: None,
             })
             .collect();
         // the lots the rows named exist now (made ready above): their heat-soak records

@@ -9,11 +9,13 @@ use serde_json::Value;
 
 use super::super::dates::{fmt_date, parse_date};
 use super::super::model::*;
-use super::{decode_utf8, Problem};
+use super::Problem;
 use shardlog_core::units::{self, Dimension};
 
 mod practice;
+mod split;
 pub(super) use practice::gather_heat_soak;
+pub(super) use split::CsvStream;
 
 /// The CSV columns, in export order. Documented in README ("CSV columns").
 pub const CSV_COLUMNS: &[&str] = &[
@@ -265,87 +267,10 @@ pub(super) fn csv_records(text: &str) -> Result<Vec<(usize, Vec<String>)>, Probl
 
 /// [`csv_records`] of text that starts on line `first_line` of its file.
 fn csv_records_from(text: &str, first_line: usize) -> Result<Vec<(usize, Vec<String>)>, Problem> {
-    // A byte scanner: every character that ends a run (quote, comma, CR, LF) is ASCII, so
-    // the runs between them are copied as whole slices on character boundaries.
+    let mut splitter = split::Splitter::new(text, first_line);
     let mut records = Vec::new();
-    let mut field = String::new();
-    let mut record: Vec<String> = Vec::new();
-    let mut line = first_line;
-    let mut start_line = first_line;
-    let mut in_quotes = false;
-    let b = text.as_bytes();
-    let mut i = 0usize;
-    let mut any = false;
-    while i < b.len() {
-        any = true;
-        if in_quotes {
-            let run = b[i..]
-                .iter()
-                .position(|&c| c == b'"' || c == b'\n')
-                .map_or(b.len(), |k| i + k);
-            field.push_str(&text[i..run]);
-            i = run;
-            match b.get(i) {
-                Some(b'"') if b.get(i + 1) == Some(&b'"') => {
-                    field.push('"');
-                    i += 2;
-                }
-                Some(b'"') => {
-                    in_quotes = false;
-                    i += 1;
-                }
-                Some(_) => {
-                    line += 1;
-                    field.push('\n');
-                    i += 1;
-                }
-                None => {}
-            }
-            continue;
-        }
-        let run = b[i..]
-            .iter()
-            .position(|&c| matches!(c, b'"' | b',' | b'\r' | b'\n'))
-            .map_or(b.len(), |k| i + k);
-        if run > i {
-            field.push_str(&text[i..run]);
-            i = run;
-            continue;
-        }
-        match b[i] {
-            b'"' if field.is_empty() => in_quotes = true,
-            b'"' => {
-                return Err(Problem::new(
-                    format!("line {line}"),
-                    "a quote inside an unquoted field; quote the whole field and double the quote",
-                ))
-            }
-            b',' => record.push(std::mem::take(&mut field)),
-            b'\r' if b.get(i + 1) == Some(&b'\n') => {}
-            b'\r' => field.push('\r'),
-            _ => {
-                record.push(std::mem::take(&mut field));
-                let width = record.len();
-                records.push((
-                    start_line,
-                    std::mem::replace(&mut record, Vec::with_capacity(width)),
-                ));
-                line += 1;
-                start_line = line;
-                any = false;
-            }
-        }
-        i += 1;
-    }
-    if in_quotes {
-        return Err(Problem::new(
-            format!("line {start_line}"),
-            "a quoted field is not closed before the end of the file (truncated file?)",
-        ));
-    }
-    if any {
-        record.push(field);
-        records.push((start_line, record));
+    while let Some(next) = splitter.next_record() {
+        records.push(next?);
     }
     Ok(records)
 }
@@ -368,60 +293,12 @@ pub fn parse_csv_all(
     bytes: &[u8],
     stamp: &Stamp,
 ) -> Result<(Vec<CsvRecord>, Vec<Problem>), Vec<Problem>> {
-    let text = decode_utf8(bytes).map_err(|e| vec![e])?;
-    if text.trim().is_empty() {
-        return Err(vec![Problem::new(
-            "file",
-            format!("is empty; expected a header line: {}", csv_header()),
-        )]);
-    }
-    // a signed export's first line (its signed audit head, checked by `verify --export`)
-    let records = match split_csv_signed_line(text) {
-        Some((_, body)) => csv_records_from(body, 2),
-        None => csv_records(text),
-    }
-    .map_err(|e| vec![e])?;
-    let mut iter = records.into_iter();
-    let Some((header_line, header)) = iter.next() else {
-        return Err(vec![Problem::new("file", "is empty")]);
-    };
-    let columns = read_header(&header, header_line)?;
-    let width = header.len();
+    let mut stream = CsvStream::open(bytes)?;
     let mut problems = Vec::new();
-    let mut out = Vec::with_capacity(iter.len());
-    for (line, mut cells) in iter {
-        if cells.len() == 1 && cells[0].trim().is_empty() {
-            continue; // blank line
-        }
-        if cells.len() != width {
-            problems.push(Problem::new(
-                format!("line {line}"),
-                format!("has {} fields; the header has {width}", cells.len()),
-            ));
-            continue;
-        }
-        // undo the export's formula guard on text cells (a leading apostrophe)
-        for (name, &i) in &columns {
-            if cells[i].starts_with('\'') {
-                cells[i] = csv_unguard(name, &cells[i]);
-            }
-        }
-        let mut row = Row {
-            line,
-            cells: &cells,
-            columns: &columns,
-            problems: &mut problems,
-        };
-        if let Some(mut incident) = row.incident(stamp) {
-            let lot_heat_soak = row.practice(&mut incident);
-            out.push(CsvRecord {
-                line,
-                incident,
-                lot_heat_soak,
-            });
-        }
-    }
-    Ok((out, problems))
+    let records = stream
+        .next_records(usize::MAX, stamp, &mut problems)
+        .map_err(|e| vec![e])?;
+    Ok((records, problems))
 }
 
 /// The header line: each known column's position, or every problem with it.

@@ -79,6 +79,7 @@ impl Store {
                 Ok(doc) => self.import_json(doc, options, stamp),
                 Err(problems) => Ok(Err(ImportRejected { problems })),
             },
+            FileKind::Csv if self.streams(bytes) => self.import_csv_streamed(bytes, options, stamp),
             FileKind::Csv => match parse_csv_all(bytes, stamp) {
                 Ok((records, problems)) => {
                     self.import_csv_reporting(records, problems, options, stamp)
@@ -163,7 +164,7 @@ impl Store {
 
     /// A problem for a record with the same asset, position and date found as one recorded
     /// or one earlier in the file.
-    fn note_duplicates(
+    pub(super) fn note_duplicates(
         &self,
         place: Place,
         inc: &Incident,
@@ -230,29 +231,9 @@ impl Store {
         for (_, inc) in &mut incidents {
             admission::normalize_keys(inc);
         }
-        let mut checker = Checker {
-            known: KnownCodes::after_import(self, &doc)?,
-            book: self.material_book()?,
-            strict: options.strict,
-            seen_ids: HashSet::new(),
-            seen_refs: HashSet::new(),
-            reference_case: ReferenceCase::default(),
-            files: AttachmentFiles::new(options.attachments.as_deref(), self.files_dir()),
-            now: stamp.at,
-            problems: {
-                let mut problems = early;
-                problems.extend(admission::reference_dates_out_of_range(&doc));
-                problems
-            },
-        };
-        for (i, e) in doc.lookups.iter().enumerate() {
-            if e.code.trim().is_empty() {
-                checker.problems.push(Problem::new(
-                    format!("lookups[{i}].code"),
-                    "must not be empty",
-                ));
-            }
-        }
+        let mut checker = Checker::new(self, &doc, &options, stamp)?;
+        checker.problems = early;
+        checker.check_doc_head(&doc);
         let total = Some(incidents.len() as u64);
         for (i, (place, inc)) in incidents.iter().enumerate() {
             self.report_progress("checking", i as u64, total);
@@ -288,7 +269,7 @@ impl Store {
 
     /// Copy the checked files of the attachment rows into the attachment folder, before
     /// the rows are written (a file without a row is harmless; a row without its file is not).
-    fn copy_attachment_files(&self, files: &AttachmentFiles) -> Result<(), Problem> {
+    pub(super) fn copy_attachment_files(&self, files: &AttachmentFiles) -> Result<(), Problem> {
         if files.to_copy.is_empty() {
             return Ok(());
         }
@@ -376,7 +357,7 @@ impl Store {
 }
 
 /// A refusal of an unknown code in a CSV column says which codes (and labels) it takes.
-fn list_valid_codes(vocabulary: &Vocabulary, p: &mut Problem) {
+pub(super) fn list_valid_codes(vocabulary: &Vocabulary, p: &mut Problem) {
     let Some(column) = p.place.split(", column ").nth(1) else {
         return;
     };
@@ -448,27 +429,67 @@ impl KnownCodes {
 }
 
 /// The checks of an import's incidents, before anything is written.
-struct Checker {
+pub(super) struct Checker {
     known: KnownCodes,
     /// The library and this bench's own materials, for recomputing stored results.
     book: MaterialBook,
     strict: bool,
     seen_ids: HashSet<String>,
-    seen_refs: HashSet<String>,
+    pub(super) seen_refs: HashSet<String>,
     reference_case: ReferenceCase,
-    files: AttachmentFiles,
+    pub(super) files: AttachmentFiles,
     /// The import's clock.
     now: chrono::DateTime<chrono::Utc>,
-    problems: Vec<Problem>,
+    pub(super) problems: Vec<Problem>,
 }
 
 impl Checker {
+    /// The checks of an import of `doc` (its reference data) and its incidents.
+    pub(super) fn new(
+        store: &Store,
+        doc: &ExportDoc,
+        options: &ImportOptions,
+        stamp: &Stamp,
+    ) -> Result<Checker, StoreError> {
+        Ok(Checker {
+            known: KnownCodes::after_import(store, doc)?,
+            book: store.material_book()?,
+            strict: options.strict,
+            seen_ids: HashSet::new(),
+            seen_refs: HashSet::new(),
+            reference_case: ReferenceCase::default(),
+            files: AttachmentFiles::new(options.attachments.as_deref(), store.files_dir()),
+            now: stamp.at,
+            problems: Vec::new(),
+        })
+    }
+
+    /// The problems of the document's reference data found before its incidents' (its
+    /// dates, its lookup codes).
+    pub(super) fn check_doc_head(&mut self, doc: &ExportDoc) {
+        self.problems
+            .extend(admission::reference_dates_out_of_range(doc));
+        for (i, e) in doc.lookups.iter().enumerate() {
+            if e.code.trim().is_empty() {
+                self.problems.push(Problem::new(
+                    format!("lookups[{i}].code"),
+                    "must not be empty",
+                ));
+            }
+        }
+    }
+
     fn push(&mut self, place: String, message: impl Into<String>) {
         self.problems.push(Problem::new(place, message));
     }
 
     /// Validation, keys and references, and in strict mode the codes, of one incident.
-    fn check(&mut self, store: &Store, place: Place, inc: &Incident) -> Result<(), StoreError> {
+    pub(super) fn check(
+        &mut self,
+        store: &Store,
+        place: Place,
+        inc: &Incident,
+    ) -> Result<(), StoreError> {
         for (field, msg) in incidents::validate(&self.known.lookups, inc) {
             self.problems.push(place.field_problem(&field, msg));
         }
@@ -590,7 +611,49 @@ pub(super) struct Writer<'a> {
 #[derive(Default)]
 pub(super) struct Numbering {
     per_day: HashMap<NaiveDate, u32>,
-    refs: RefCache,
+    /// The number each day started from, as the database said when the day was first met.
+    first: HashMap<NaiveDate, u32>,
+    /// The bench's code in references (asked once).
+    code: Option<Option<String>>,
+    pub(super) refs: RefCache,
+}
+
+impl Numbering {
+    /// The next free reference of the day found, skipping references taken by other rows
+    /// of the file; a day not met before starts where the database said ([`Numbering::first`]).
+    pub(super) fn next(
+        &mut self,
+        found_on: NaiveDate,
+        seen_refs: &HashSet<String>,
+    ) -> Result<String, StoreError> {
+        let code = self.code.clone().flatten();
+        let code = code.as_deref();
+        let mut n = match self.per_day.get(&found_on) {
+            Some(n) => *n + 1,
+            None => self.first.get(&found_on).copied().unwrap_or(1),
+        };
+        let mut r = format_reference(code, found_on, n)?;
+        while seen_refs.contains(&r) {
+            n += 1;
+            r = format_reference(code, found_on, n)?;
+        }
+        self.per_day.insert(found_on, n);
+        Ok(r)
+    }
+
+    /// The same numbering again from its start, without the database: what this one met of
+    /// it (the bench code, each day's first number) is kept; its codes' keys are handed back.
+    pub(super) fn again(self) -> (Numbering, RefCache) {
+        (
+            Numbering {
+                per_day: HashMap::new(),
+                first: self.first,
+                code: self.code,
+                refs: RefCache::default(),
+            },
+            self.refs,
+        )
+    }
 }
 
 /// Put each item of a reference-data section that is not already present.
@@ -811,18 +874,10 @@ impl Writer<'_> {
     ) -> Result<(Incident, Refs), WriteError> {
         let stamp = self.stamp;
         let here = |x: StoreError| (place.at(), x);
-        if inc.revision < 1 {
-            inc.revision = 1;
-            inc.created_at = stamp.at;
-            inc.updated_at = stamp.at;
-        }
-        Store::normalize(self.ids, &mut inc, stamp);
-        if inc.id.is_empty() {
-            inc.id = self.ids.uuid_v7(stamp.at.timestamp_millis());
-        }
+        ready_keys(self.ids, &mut inc, stamp);
         if inc.reference.is_empty() {
             inc.reference = self
-                .new_reference(inc.found_on, &mut numbering.per_day, seen_refs)
+                .new_reference(inc.found_on, numbering, seen_refs)
                 .map_err(here)?;
         }
         let refs = Store::resolve_refs(
@@ -843,26 +898,34 @@ impl Writer<'_> {
     fn new_reference(
         &self,
         found_on: NaiveDate,
-        day_counter: &mut HashMap<NaiveDate, u32>,
+        numbering: &mut Numbering,
         seen_refs: &HashSet<String>,
     ) -> Result<String, StoreError> {
-        let code = incidents::bench_code(self.tx)?;
-        let code = code.as_deref();
-        let mut n = match day_counter.get(&found_on) {
-            Some(n) => *n + 1,
-            None => {
-                let r = next_reference(self.tx, found_on)?;
-                r[reference_prefix(code, found_on).len()..]
-                    .parse::<u32>()
-                    .unwrap_or(1)
-            }
-        };
-        let mut r = format_reference(code, found_on, n)?;
-        while seen_refs.contains(&r) {
-            n += 1;
-            r = format_reference(code, found_on, n)?;
+        if numbering.code.is_none() {
+            numbering.code = Some(incidents::bench_code(self.tx)?);
         }
-        day_counter.insert(found_on, n);
-        Ok(r)
+        if !numbering.per_day.contains_key(&found_on) && !numbering.first.contains_key(&found_on) {
+            let code = numbering.code.clone().flatten();
+            let r = next_reference(self.tx, found_on)?;
+            let n = r[reference_prefix(code.as_deref(), found_on).len()..]
+                .parse::<u32>()
+                .unwrap_or(1);
+            numbering.first.insert(found_on, n);
+        }
+        numbering.next(found_on, seen_refs)
+    }
+}
+
+/// The first part of making an incident ready: revision and times of a new one, its keys and
+/// its children's (the keys drawn from `ids` in one order, which a replay repeats).
+pub(super) fn ready_keys(ids: &mut IdGen, inc: &mut Incident, stamp: &Stamp) {
+    if inc.revision < 1 {
+        inc.revision = 1;
+        inc.created_at = stamp.at;
+        inc.updated_at = stamp.at;
+    }
+    Store::normalize(ids, inc, stamp);
+    if inc.id.is_empty() {
+        inc.id = ids.uuid_v7(stamp.at.timestamp_millis());
     }
 }

@@ -19,6 +19,7 @@ mod exposure;
 mod import;
 mod json;
 pub(crate) mod onepass;
+mod stream_import;
 mod witness;
 
 pub use bulk_import::BULK_IMPORT_ABOVE;

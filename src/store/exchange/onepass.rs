@@ -274,20 +274,101 @@ pub(super) fn read_records(
     at: DateTime<Utc>,
     keep: Keep,
 ) -> Vec<(super::csv::CsvRecord, Vec<Problem>)> {
-    let one = |mut r: super::csv::CsvRecord| {
+    in_parts(records, |_: &mut (), mut r: super::csv::CsvRecord| {
         vocabulary.resolve(&mut r.incident);
         let problems = compute_results_keeping(&mut r.incident, r.line, at, book, keep);
         (r, problems)
-    };
+    })
+}
+
+/// Each CSV record's lookup cells read as codes and its results computed whole, as
+/// [`read_records`] with [`Keep::Whole`] computes them, but kept as figures with their stored
+/// texts rendered beside the record ([`compute_rendered`]), in the file's order, on up to
+/// four threads. For records the checks accepted: a refusal now is the machine's failure.
+pub(super) fn render_records(
+    records: Vec<super::csv::CsvRecord>,
+    vocabulary: &Vocabulary,
+    book: &crate::store::MaterialBook,
+    at: DateTime<Utc>,
+) -> Vec<Result<(super::csv::CsvRecord, Rendered), StoreError>> {
+    in_parts(
+        records,
+        |scratch: &mut String, mut r: super::csv::CsvRecord| {
+            vocabulary.resolve(&mut r.incident);
+            let rendered = compute_rendered(&mut r.incident, r.line, at, book, scratch)?;
+            Ok((r, rendered))
+        },
+    )
+}
+
+/// Per examination, the stored texts of its result where one was computed.
+pub(super) type Rendered = Vec<Option<crate::store::rendered::RenderedResult>>;
+
+/// Each examination's result computed from its readings as [`compute_results`] computes it
+/// (the own material kept, the import's `source` added), the record holding its figures
+/// only and the stored texts rendered beside it; `scratch` is a buffer kept by the caller.
+fn compute_rendered(
+    inc: &mut Incident,
+    line: usize,
+    at: DateTime<Utc>,
+    book: &crate::store::MaterialBook,
+    scratch: &mut String,
+) -> Result<Rendered, StoreError> {
+    let snapshot = inc.clone();
+    let mut out = Vec::with_capacity(inc.examinations.len());
+    for exam in &mut inc.examinations {
+        if exam.readings.is_empty() {
+            out.push(None);
+            continue;
+        }
+        let Ok(input) = super::super::analysis::analysis_input(&snapshot, exam, book) else {
+            out.push(None);
+            continue;
+        };
+        let analysis = fracture::analyze(&input).map_err(|e| {
+            StoreError::Database(format!(
+                "line {line}: computing its results again: the readings cannot be computed: {e}"
+            ))
+        })?;
+        let texts = crate::store::rendered::render(
+            &analysis,
+            &input,
+            book,
+            Some(COMPUTED_ON_IMPORT),
+            scratch,
+        )?;
+        exam.material = Some(input.material.key.replace('-', "_"));
+        exam.result = Some(super::super::analysis::to_figures(&analysis, at));
+        out.push(Some(texts));
+    }
+    Ok(out)
+}
+
+/// `f` over `items`, in order: a long list cut into consecutive parts done on up to four
+/// threads (one per core), each part with its own state `S` (a buffer to reuse); every item's
+/// outcome is the one a single thread gives, as each depends on its own item only.
+fn in_parts<T, U, S, F>(items: Vec<T>, f: F) -> Vec<U>
+where
+    T: Send,
+    U: Send,
+    S: Default,
+    F: Fn(&mut S, T) -> U + Sync,
+{
     let threads = std::thread::available_parallelism()
         .map_or(1, usize::from)
         .clamp(1, 4);
-    if records.len() < SPLIT_ABOVE || threads == 1 {
-        return records.into_iter().map(one).collect();
+    let run = |part: Vec<T>| {
+        let mut state = S::default();
+        part.into_iter()
+            .map(|x| f(&mut state, x))
+            .collect::<Vec<U>>()
+    };
+    if items.len() < SPLIT_ABOVE || threads == 1 {
+        return run(items);
     }
-    let per = records.len().div_ceil(threads);
+    let per = items.len().div_ceil(threads);
     let mut parts = Vec::with_capacity(threads);
-    let mut rest = records;
+    let mut rest = items;
     while rest.len() > per {
         let tail = rest.split_off(per);
         parts.push(rest);
@@ -297,10 +378,9 @@ pub(super) fn read_records(
     std::thread::scope(|scope| {
         let mut parts = parts.into_iter();
         let first = parts.next().unwrap_or_default();
-        let others: Vec<_> = parts
-            .map(|part| scope.spawn(move || part.into_iter().map(one).collect::<Vec<_>>()))
-            .collect();
-        let mut out: Vec<_> = first.into_iter().map(one).collect();
+        let run = &run;
+        let others: Vec<_> = parts.map(|part| scope.spawn(move || run(part))).collect();
+        let mut out = run(first);
         for handle in others {
             match handle.join() {
                 Ok(done) => out.extend(done),

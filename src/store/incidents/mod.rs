@@ -112,7 +112,7 @@ pub(crate) use validate::validate;
 pub use write::check_bench_code;
 pub(crate) use write::{
     bench_code, format_reference, insert_new, insert_prepared, next_reference, prepare,
-    put_from_fleet, reference_prefix, Prepared,
+    prepare_rendered, put_from_fleet, reference_prefix, Prepared,
 };
 
 /// Columns kept for the log and statistics, derived from the aggregate.

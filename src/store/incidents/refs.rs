@@ -33,6 +33,30 @@ pub(crate) struct RefCache {
 }
 
 impl RefCache {
+    /// The keys [`Store::resolve_refs`] gives `inc` when every code it names is held here
+    /// (without the database); None when one is not.
+    pub(crate) fn known(&self, inc: &Incident) -> Option<Refs> {
+        let mut refs = Refs::default();
+        if let Some(code) = &inc.site {
+            refs.site = Some(self.sites.get(code)?.clone());
+        }
+        if let Some(code) = &inc.asset {
+            refs.asset = Some(self.assets.get(code)?.clone());
+        }
+        if let Some(code) = &inc.glass.supplier {
+            let sid = self.suppliers.get(code)?;
+            if let Some(pcode) = &inc.glass.product {
+                let pid = self.products.get(&(sid.clone(), pcode.clone()))?;
+                if let Some(lcode) = &inc.glass.lot {
+                    refs.lot = Some(self.lots.get(&(pid.clone(), lcode.clone()))?.clone());
+                }
+                refs.product = Some(pid.clone());
+            }
+            refs.supplier = Some(sid.clone());
+        }
+        Some(refs)
+    }
+
     fn site(&mut self, conn: &Connection, code: &str) -> Result<Option<String>, StoreError> {
         cached(
             &mut self.sites,

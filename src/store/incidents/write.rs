@@ -13,6 +13,7 @@ use crate::store::audit::{Bulk, Chain, INCIDENT};
 use crate::store::canon;
 use crate::store::dates::{fmt_date, fmt_time};
 use crate::store::model::*;
+use crate::store::rendered::{self, RenderedResult};
 use crate::store::sqlite;
 use crate::store::{IdGen, Store, StoreError};
 
@@ -143,6 +144,27 @@ fn json_text(v: &serde_json::Value) -> Result<String, StoreError> {
 }
 
 fn row_text(inc: &Incident) -> Result<RowText, StoreError> {
+    let mut text = row_text_of_row(inc)?;
+    text.results = inc
+        .examinations
+        .iter()
+        .map(|e| {
+            e.result
+                .as_ref()
+                .map(|r| {
+                    Ok(ResultText {
+                        constants: json_text(&r.constants)?,
+                        analysis: json_text(&r.analysis)?,
+                    })
+                })
+                .transpose()
+        })
+        .collect::<Result<_, StoreError>>()?;
+    Ok(text)
+}
+
+/// The texts of the incident row (its results' texts left empty).
+fn row_text_of_row(inc: &Incident) -> Result<RowText, StoreError> {
     Ok(RowText {
         created_at: fmt_time(inc.created_at),
         updated_at: fmt_time(inc.updated_at),
@@ -153,21 +175,7 @@ fn row_text(inc: &Incident) -> Result<RowText, StoreError> {
             Some(c) => Some(serde_json::to_string(&c.factors)?),
             None => None,
         },
-        results: inc
-            .examinations
-            .iter()
-            .map(|e| {
-                e.result
-                    .as_ref()
-                    .map(|r| {
-                        Ok(ResultText {
-                            constants: json_text(&r.constants)?,
-                            analysis: json_text(&r.analysis)?,
-                        })
-                    })
-                    .transpose()
-            })
-            .collect::<Result<_, StoreError>>()?,
+        results: Vec::new(),
     })
 }
 
@@ -423,6 +431,9 @@ pub(crate) struct Prepared {
     body: String,
     derived: Derived,
     text: RowText,
+    /// Its results are held as figures, their texts rendered aside ([`prepare_rendered`]):
+    /// only its digest stands for its image.
+    rendered: bool,
 }
 
 pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepared, StoreError> {
@@ -435,6 +446,50 @@ pub(crate) fn prepare(inc: Incident, refs: Refs, stamp: Stamp) -> Result<Prepare
         inc,
         refs,
         stamp,
+        rendered: false,
+    })
+}
+
+/// [`prepare`] of an incident whose results hold their figures only, with the stored texts
+/// of each rendered beside it (`texts`, per examination: `Some` for a result computed
+/// from the core's analysis; a result held as JSON values is rendered from them): the same
+/// rows and the same image digest as [`prepare`] of the incident holding the values.
+pub(crate) fn prepare_rendered(
+    inc: Incident,
+    refs: Refs,
+    stamp: Stamp,
+    texts: Vec<Option<RenderedResult>>,
+) -> Result<Prepared, StoreError> {
+    let mut given = texts.into_iter();
+    let mut all = Vec::with_capacity(inc.examinations.len());
+    for e in &inc.examinations {
+        let r = given.next().flatten();
+        all.push(match (&e.result, r) {
+            (None, _) => None,
+            (Some(_), Some(r)) => Some(r),
+            (Some(values), None) => Some(rendered::from_values(values)?),
+        });
+    }
+    let img = canon::incident_image_rendered(&inc, &all.iter().flatten().collect::<Vec<_>>())?;
+    let mut text = row_text_of_row(&inc)?;
+    text.results = all
+        .into_iter()
+        .map(|r| {
+            r.map(|r| ResultText {
+                constants: r.constants,
+                analysis: r.analysis,
+            })
+        })
+        .collect();
+    Ok(Prepared {
+        digest: canon::sha256_hex(img.as_bytes()),
+        body: search_body(&inc),
+        derived: derive(&inc),
+        text,
+        inc,
+        refs,
+        stamp,
+        rendered: true,
     })
 }
 
@@ -458,6 +513,11 @@ pub(crate) fn insert_prepared(
     let seq = write_rows_with(conn, &p.inc, &p.refs, &p.derived, &p.text)?;
     match bulk {
         Some(b) => b.add_digest(conn, chain, &p.stamp, &p.inc.id, p.digest.clone())?,
+        None if p.rendered => {
+            return Err(StoreError::Database(
+                "an incident with rendered results is audited in a batch row only".into(),
+            ))
+        }
         None => {
             let img = canon::incident_image(&p.inc)?;
             chain.record(conn, &p.stamp, INCIDENT, &p.inc.id, None, Some(&img))?
