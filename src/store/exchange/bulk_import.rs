@@ -56,6 +56,18 @@ impl Store {
             deferred.as_ref(),
             &mut summary,
         );
+        self.bulk_outcome(outcome, options.dry_run, summary)
+    }
+
+    /// A bulk load's outcome as the import's answer (either bulk path): a refusal by the
+    /// machine is an error, one by a line of the file the import's problem; once written, the
+    /// lookups are read again.
+    pub(super) fn bulk_outcome(
+        &mut self,
+        outcome: Result<(), WriteError>,
+        dry_run: bool,
+        summary: ImportSummary,
+    ) -> ImportResult {
         self.ids.set_monotonic(false);
         match outcome {
             // the machine, not a line of the file, refused: say so as such
@@ -64,7 +76,7 @@ impl Store {
                 problems: vec![Problem::new(place, e.to_string())],
             })),
             Ok(()) => {
-                if !options.dry_run {
+                if !dry_run {
                     self.load_lookups()?;
                 }
                 Ok(Ok(summary))

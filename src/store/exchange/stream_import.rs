@@ -209,20 +209,7 @@ impl Store {
             },
             &mut summary,
         );
-        self.ids.set_monotonic(false);
-        match outcome {
-            // the machine, not a line of the file, refused: say so as such
-            Err((_, e @ StoreError::Storage(_))) => Err(e),
-            Err((place, e)) => Ok(Err(ImportRejected {
-                problems: vec![Problem::new(place, e.to_string())],
-            })),
-            Ok(()) => {
-                if !options.dry_run {
-                    self.load_lookups()?;
-                }
-                Ok(Ok(summary))
-            }
-        }
+        self.bulk_outcome(outcome, options.dry_run, summary)
     }
 }
 
