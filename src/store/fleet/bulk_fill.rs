@@ -35,6 +35,21 @@ use crate::store::audit::{manifest_records, BATCH, INCIDENT};
 use crate::store::bulk::StreamedIncident;
 use crate::store::{canon, outbox, Store};
 
+/// The fleet's records as both parts of a fill copy them in, and their columns' types.
+const RECORDS_COPY: &str = "COPY fleet_records (entity, id, origin, owner, image, digest, \
+     reference, bench_seq, fleet_seq) FROM STDIN (FORMAT binary)";
+const RECORDS_TYPES: [Type; 9] = [
+    Type::TEXT,
+    Type::TEXT,
+    Type::TEXT,
+    Type::TEXT,
+    Type::TEXT,
+    Type::TEXT,
+    Type::TEXT,
+    Type::INT8,
+    Type::INT8,
+];
+
 /// The tables whose secondary indexes each connection drops for the load and builds again
 /// at its end (records and chain; facts; words and order). The indexes of `fleet_records`
 /// stay: their keys come in nearly in order (time-ordered ids, each bench's references and
@@ -181,23 +196,7 @@ impl BulkFill {
     pub fn bench(&mut self, code: &str) -> Result<BenchFill<'_>, FleetError> {
         let [a, b, c] = &mut self.links;
         a.execute("INSERT INTO fleet_benches (code) VALUES ($1)", &[&code])?;
-        let records = BinaryCopyInWriter::new(
-            a.copy_in(
-                "COPY fleet_records (entity, id, origin, owner, image, digest, reference,
-                                     bench_seq, fleet_seq) FROM STDIN (FORMAT binary)",
-            )?,
-            &[
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::INT8,
-                Type::INT8,
-            ],
-        );
+        let records = BinaryCopyInWriter::new(a.copy_in(RECORDS_COPY)?, &RECORDS_TYPES);
         let facts = BinaryCopyInWriter::new(
             b.copy_in(
                 "COPY fleet_facts (id, origin, owner, ord, reference, found_on, asset, position,
@@ -577,24 +576,7 @@ fn copy_others(
     fleet_seq: i64,
     others: &Others,
 ) -> Result<i64, FleetError> {
-    let sink = a.copy_in(
-        "COPY fleet_records (entity, id, origin, owner, image, digest, reference, bench_seq,
-                             fleet_seq) FROM STDIN (FORMAT binary)",
-    )?;
-    let mut writer = BinaryCopyInWriter::new(
-        sink,
-        &[
-            Type::TEXT,
-            Type::TEXT,
-            Type::TEXT,
-            Type::TEXT,
-            Type::TEXT,
-            Type::TEXT,
-            Type::TEXT,
-            Type::INT8,
-            Type::INT8,
-        ],
-    );
+    let mut writer = BinaryCopyInWriter::new(a.copy_in(RECORDS_COPY)?, &RECORDS_TYPES);
     let mut counted = 0i64;
     let none: Option<String> = None;
     for ((entity, id), (seq, image)) in others {
