@@ -696,23 +696,48 @@ fn compare_by_time(
         if in_bundle.contains(inc.reference.as_str()) {
             continue;
         }
-        let created = inc.created_at.format("%Y-%m-%d %H:%M:%S UTC").to_string();
-        if created.as_str() > c.exported_at.as_str() {
-            added_later += 1;
-        } else {
-            check.problems.push(format!(
+        missing_one(
+            &inc.created_at,
+            &c.exported_at,
+            &mut added_later,
+            check,
+            || {
+                format!(
                 "incident {}: matches the bundle's selection in the records but is missing from the bundle",
                 inc.reference
-            ));
-        }
+            )
+            },
+        );
     }
+    note_added_later(check, added_later);
+    Ok(())
+}
+
+/// One incident that matches the bundle's selection now but is missing from it: recorded
+/// after the export (counted in `added_later`), or before it (the problem `missing` words).
+fn missing_one(
+    created_at: &chrono::DateTime<chrono::Utc>,
+    exported_at: &str,
+    added_later: &mut usize,
+    check: &mut BundleCheck,
+    missing: impl FnOnce() -> String,
+) {
+    let created = created_at.format("%Y-%m-%d %H:%M:%S UTC").to_string();
+    if created.as_str() > exported_at {
+        *added_later += 1;
+    } else {
+        check.problems.push(missing());
+    }
+}
+
+/// The note of how many matching incidents were recorded after the export, when any were.
+fn note_added_later(check: &mut BundleCheck, added_later: usize) {
     if added_later > 0 {
         check.notes.push(format!(
             "{added_later} incident{} matching the selection were recorded after the export",
             if added_later == 1 { "" } else { "s" }
         ));
     }
-    Ok(())
 }
 
 #[cfg(test)]

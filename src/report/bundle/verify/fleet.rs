@@ -9,7 +9,7 @@ use std::collections::BTreeSet;
 use std::path::Path;
 
 use super::super::{BundleContent, BundleError};
-use super::{first_difference, BundleCheck};
+use super::{first_difference, missing_one, note_added_later, BundleCheck};
 use crate::report::source::{incident_content, Labels};
 use crate::store::{ReportSource, StoreError};
 
@@ -113,23 +113,21 @@ pub(super) fn compare_with_fleet(
             if in_bundle.contains(reference) {
                 continue;
             }
-            let created = inc.created_at.format("%Y-%m-%d %H:%M:%S UTC").to_string();
-            if created.as_str() > c.exported_at.as_str() {
-                added_later += 1;
-            } else {
-                check.problems.push(format!(
+            missing_one(
+                &inc.created_at,
+                &c.exported_at,
+                &mut added_later,
+                check,
+                || {
+                    format!(
                     "incident {}: matches the bundle's selection in the fleet's records and was recorded before the export, but is missing from the bundle",
                     inc.reference
-                ));
-            }
+                )
+                },
+            );
         }
     }
-    if added_later > 0 {
-        check.notes.push(format!(
-            "{added_later} incident{} matching the selection were recorded after the export",
-            if added_later == 1 { "" } else { "s" }
-        ));
-    }
+    note_added_later(check, added_later);
     check.notes.push(
         "compared with the fleet database's current records (`verify --db` on the fleet checks its witnessed chains)".into(),
     );
