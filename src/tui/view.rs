@@ -244,30 +244,36 @@ fn draw_help(app: &App, f: &mut Frame, body: Rect, th: &Theme) {
         ));
     }
     let kw = 12usize;
+    // a description too long for its line goes on under itself, not under the keys
+    let text_w = usize::from(area.width.saturating_sub(2));
+    let key_line = |lines: &mut Vec<Line<'static>>, key: &str, w: usize, desc: &str| {
+        let mut parts = widgets::wrap(desc, text_w.saturating_sub(w).max(10));
+        if parts.is_empty() {
+            parts.push(String::new());
+        }
+        for (i, part) in parts.into_iter().enumerate() {
+            let shown = if i == 0 { key } else { "" };
+            lines.push(Line::from(vec![
+                Span::styled(widgets::fit_left(shown, w), th.focus_label),
+                Span::raw(part),
+            ]));
+        }
+    };
     for b in keys::bindings_for(ctx)
         .into_iter()
         .filter(|b| keys::works_on(b, app))
     {
-        lines.push(Line::from(vec![
-            Span::styled(widgets::fit_left(b.label, kw), th.focus_label),
-            Span::raw(b.desc),
-        ]));
+        key_line(&mut lines, b.label, kw, b.desc);
     }
     if matches!(ctx, Ctx::Field | Ctx::MultiField) {
         lines.push(Line::styled("Editing keys in a field", th.header));
         for (k, d) in crate::app::text_input::EDITING_KEYS {
-            lines.push(Line::from(vec![
-                Span::styled(widgets::fit_left(k, kw + 2), th.focus_label),
-                Span::raw(*d),
-            ]));
+            key_line(&mut lines, k, kw + 2, d);
         }
     }
     if ctx.has_global() {
         let (k, d) = keys::MOUSE_HELP;
-        lines.push(Line::from(vec![
-            Span::styled(widgets::fit_left(k, kw), th.focus_label),
-            Span::raw(d),
-        ]));
+        key_line(&mut lines, k, kw, d);
     }
     lines.push(Line::raw(""));
     lines.push(Line::styled("Cautions", th.header));

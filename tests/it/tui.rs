@@ -66,6 +66,38 @@ fn help_lists_the_keys_of_the_table_and_the_cautions() {
 }
 
 #[test]
+fn a_long_key_description_wraps_under_itself_not_under_the_keys() {
+    let mut app = bench_app();
+    send(&mut app, &key(KeyCode::F(1)));
+    let lines = render(&mut app, 50, 60);
+    // the box fills the 50 columns: its rows start with the border
+    let rows: Vec<String> = lines
+        .iter()
+        .map(|l| l.chars().skip(1).collect::<String>())
+        .collect();
+    let mut wrapped = 0;
+    for b in keys::bindings_for(app.ctx_beneath_help()) {
+        let Some(i) = rows
+            .iter()
+            .position(|r| r.starts_with(&format!("{:<12}", b.label)))
+        else {
+            continue;
+        };
+        if rows[i].contains(b.desc) {
+            continue;
+        }
+        wrapped += 1;
+        assert!(
+            rows[i + 1].starts_with(&" ".repeat(12)),
+            "the rest of '{}' is not under its description:\n{}",
+            b.desc,
+            lines.join("\n")
+        );
+    }
+    assert!(wrapped > 0, "no description wrapped at 50 columns");
+}
+
+#[test]
 fn footer_comes_from_the_key_table() {
     let mut app = bench_app();
     let lines = render(&mut app, 100, 30);
