@@ -578,27 +578,14 @@ fn compare_with_records(
             chain.first_problem.clone().unwrap_or_default()
         ));
     }
-    let labels = Labels::load(s)?;
-    for i in &c.incidents {
-        let Some(inc) = s.find(&i.reference)? else {
-            check.problems.push(format!(
-                "incident {}: in the bundle but no longer in the database",
-                i.reference
-            ));
-            continue;
-        };
-        let (now, _) = incident_content(s, &labels, &inc)?;
-        if now != i.content {
-            let a = serde_json::to_value(&i.content)?;
-            let b = serde_json::to_value(&now)?;
-            let diff =
-                first_difference(&a, &b, "content").unwrap_or_else(|| "a value differs".into());
-            check.problems.push(format!(
-                "incident {}: the bundle does not match the records: {diff}",
-                i.reference
-            ));
-        }
-    }
+    compare_incidents(
+        s,
+        c,
+        |reference| Ok(s.find(reference)?),
+        "in the bundle but no longer in the database",
+        "the records",
+        check,
+    )?;
     let filters = super::gather::selection_filters(&c.selection);
     if let Some(seq) = c.audit_head_seq {
         compare_at_head(s, c, &filters, seq, check)?;
@@ -620,6 +607,40 @@ fn compare_with_records(
 
 /// The bundle's head is in the chain, its selection re-run over the records as they stood
 /// then gives exactly its incidents, and none of them was stamped after the export.
+/// Each incident of the bundle against the same incident as `find` gives it now: one that
+/// is gone is said to be `absent`, one that differs does not match `records` (with the first
+/// difference).
+fn compare_incidents(
+    s: &dyn ReportSource,
+    c: &BundleContent,
+    mut find: impl FnMut(&str) -> Result<Option<crate::store::Incident>, BundleError>,
+    absent: &str,
+    records: &str,
+    check: &mut BundleCheck,
+) -> Result<(), BundleError> {
+    let labels = Labels::load(s)?;
+    for i in &c.incidents {
+        let Some(inc) = find(&i.reference)? else {
+            check
+                .problems
+                .push(format!("incident {}: {absent}", i.reference));
+            continue;
+        };
+        let (now, _) = incident_content(s, &labels, &inc)?;
+        if now != i.content {
+            let a = serde_json::to_value(&i.content)?;
+            let b = serde_json::to_value(&now)?;
+            let diff =
+                first_difference(&a, &b, "content").unwrap_or_else(|| "a value differs".into());
+            check.problems.push(format!(
+                "incident {}: the bundle does not match {records}: {diff}",
+                i.reference
+            ));
+        }
+    }
+    Ok(())
+}
+
 fn compare_at_head(
     s: &Store,
     c: &BundleContent,

@@ -9,8 +9,7 @@ use std::collections::BTreeSet;
 use std::path::Path;
 
 use super::super::{BundleContent, BundleError};
-use super::{first_difference, missing_one, note_added_later, BundleCheck};
-use crate::report::source::{incident_content, Labels};
+use super::{compare_incidents, missing_one, note_added_later, BundleCheck};
 use crate::store::{ReportSource, StoreError};
 
 /// The bench whose witnessed chain holds the head of the bundle in `dir` (None: another
@@ -75,27 +74,14 @@ pub(super) fn compare_with_fleet(
         ),
     }
     let bench = holder.as_ref().and_then(|h| h.bench.clone());
-    let labels = Labels::load(s)?;
-    for i in &c.incidents {
-        let Some(inc) = find(s, &i.reference, bench.as_deref())? else {
-            check.problems.push(format!(
-                "incident {}: in the bundle but not in the fleet database",
-                i.reference
-            ));
-            continue;
-        };
-        let (now, _) = incident_content(s, &labels, &inc)?;
-        if now != i.content {
-            let a = serde_json::to_value(&i.content)?;
-            let b = serde_json::to_value(&now)?;
-            let diff =
-                first_difference(&a, &b, "content").unwrap_or_else(|| "a value differs".into());
-            check.problems.push(format!(
-                "incident {}: the bundle does not match the fleet's records: {diff}",
-                i.reference
-            ));
-        }
-    }
+    compare_incidents(
+        s,
+        c,
+        |reference| Ok(find(s, reference, bench.as_deref())?),
+        "in the bundle but not in the fleet database",
+        "the fleet's records",
+        check,
+    )?;
     // the selection run again on the records as they are now
     let in_bundle: BTreeSet<&str> = c.incidents.iter().map(|i| i.reference.as_str()).collect();
     let qualifier = bench.as_ref().map(|b| format!("{b}/"));
