@@ -229,11 +229,7 @@ impl FleetReader {
         let months: Vec<String> = whole.iter().map(|(m, _)| m.clone()).collect();
         let mut params = conds.params();
         params.push(&months);
-        let cols: String = keys
-            .iter()
-            .filter_map(|k| column(*k))
-            .map(|c| format!(", {c}"))
-            .collect();
+        let cols = key_columns(keys);
         let sql = format!(
             "SELECT month{cols}, sum(n)::bigint FROM fleet_fact_months WHERE {} AND month = ANY(${})
              GROUP BY month{cols}",
@@ -243,13 +239,7 @@ impl FleetReader {
         for r in self.query_with(&sql, &params)? {
             let month: String = r.get(0);
             let found = *dated.get(month.as_str()).ok_or_else(|| bad_date(&month))?;
-            let mut f = IncidentFacts {
-                found,
-                ..IncidentFacts::default()
-            };
-            for (i, k) in keys.iter().enumerate() {
-                set(&mut f, *k, texts.get(r.get(i + 1)));
-            }
+            let f = keyed_facts(found, None, keys, &r, 1, texts);
             let n: i64 = r.get(keys.len() + 1);
             out.facts.push(f);
             out.counts.push(u64::try_from(n).map_err(|_| {
@@ -271,11 +261,7 @@ impl FleetReader {
         texts: &mut Texts,
         out: &mut CountedInput,
     ) -> Result<(), StoreError> {
-        let cols: String = keys
-            .iter()
-            .filter_map(|k| column(*k))
-            .map(|c| format!(", {c}"))
-            .collect();
+        let cols = key_columns(keys);
         for (first, last) in cut {
             let (from, to) = (day(*first), day(*last));
             let mut params = conds.params();
@@ -289,16 +275,7 @@ impl FleetReader {
                 params.len()
             );
             for r in self.query_with(&sql, &params)? {
-                let text: String = r.get(0);
-                let found =
-                    crate::store::dates::parse_date(&text).ok_or_else(|| bad_date(&text))?;
-                let mut f = IncidentFacts {
-                    found,
-                    ..IncidentFacts::default()
-                };
-                for (i, k) in keys.iter().enumerate() {
-                    set(&mut f, *k, texts.get(r.get(i + 1)));
-                }
+                let f = keyed_facts(found_on(&r)?, None, keys, &r, 1, texts);
                 let n: i64 = r.get(keys.len() + 1);
                 out.facts.push(f);
                 out.counts.push(n.unsigned_abs());
@@ -326,11 +303,7 @@ impl FleetReader {
             StressKind::Applied => "applied_stress_pa",
             StressKind::Net => "stress_pa",
         };
-        let cols: String = keys
-            .iter()
-            .filter_map(|k| column(*k))
-            .map(|c| format!(", {c}"))
-            .collect();
+        let cols = key_columns(&keys);
         let (from, to) = (day(since), day(until));
         let mut params = conds.params();
         params.push(&from);
@@ -358,21 +331,47 @@ impl FleetReader {
             params.len()
         );
         for r in self.query_with(&sql, &params)? {
-            let text: String = r.get(0);
-            let found = crate::store::dates::parse_date(&text).ok_or_else(|| bad_date(&text))?;
-            let mut f = IncidentFacts {
-                found,
-                stress_pa: r.get(1),
-                ..IncidentFacts::default()
-            };
-            for (i, k) in keys.iter().enumerate() {
-                set(&mut f, *k, texts.get(r.get(i + 2)));
-            }
+            let f = keyed_facts(found_on(&r)?, r.get(1), &keys, &r, 2, texts);
             out.facts.push(f);
             out.counts.push(0);
         }
         Ok(())
     }
+}
+
+/// The columns of `keys` after a query's first ones (`, supplier, cause`).
+fn key_columns(keys: &[Key]) -> String {
+    keys.iter()
+        .filter_map(|k| column(*k))
+        .map(|c| format!(", {c}"))
+        .collect()
+}
+
+/// A counted row's date, from its first column (`found_on`).
+fn found_on(r: &postgres::Row) -> Result<NaiveDate, StoreError> {
+    let text: String = r.get(0);
+    crate::store::dates::parse_date(&text).ok_or_else(|| bad_date(&text))
+}
+
+/// The facts of a counted row: its date, its stress when given, and the values of `keys`
+/// from column `first` on.
+fn keyed_facts(
+    found: NaiveDate,
+    stress_pa: Option<f64>,
+    keys: &[Key],
+    r: &postgres::Row,
+    first: usize,
+    texts: &mut Texts,
+) -> IncidentFacts {
+    let mut f = IncidentFacts {
+        found,
+        stress_pa,
+        ..IncidentFacts::default()
+    };
+    for (i, k) in keys.iter().enumerate() {
+        set(&mut f, *k, texts.get(r.get(i + first)));
+    }
+    f
 }
 
 /// The months and days a date filter covers, for counting: the whole months as a range of
