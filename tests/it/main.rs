@@ -36,6 +36,7 @@ mod lookups_cli;
 mod materials_cli;
 mod mirror_cli;
 mod packaging;
+mod plain_statistics;
 mod plausibility;
 mod practice_cli;
 mod progress;

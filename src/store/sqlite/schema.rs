@@ -51,6 +51,10 @@ pub const MIGRATIONS: &[(&str, &str)] = &[
         "0011_pulled_exposure.sql",
         include_str!("../../../schema/0011_pulled_exposure.sql"),
     ),
+    (
+        "0013_plain_statistics.sql",
+        include_str!("../../../schema/0013_plain_statistics.sql"),
+    ),
 ];
 
 /// The migration that adds the viewing modes (lookup rows the store audits) and the
