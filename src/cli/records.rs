@@ -304,19 +304,29 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     let key_dir = super::key::key_dir();
     // an incident whose row cannot be read is left out and named; the others are exported;
     // the head the records were read at goes with them, signed
-    let out = match args.format {
-        ExportFormat::Json => s.export_json_signed(&filter, &key_dir),
-        ExportFormat::Csv => s.export_csv_signed(&filter, &key_dir),
-    }
-    .map_err(work)?;
-    match &args.output {
-        None => ctx.out.write_all(&out.bytes)?,
+    // written as the incidents are read: a large export is never held whole
+    let export = |w: &mut dyn std::io::Write| match args.format {
+        ExportFormat::Json => s.export_json_signed(&filter, &key_dir, w),
+        ExportFormat::Csv => s.export_csv_signed(&filter, &key_dir, w),
+    };
+    let out = match &args.output {
+        None => {
+            let mut w = std::io::BufWriter::new(&mut *ctx.out);
+            let out = export(&mut w).map_err(work)?;
+            std::io::Write::flush(&mut w)?;
+            out
+        }
         Some(path) => {
             refuse_database_files(path, &ctx.db, "-o")?;
             // an export is a copy of the records: owner-only
-            write_whole(path, &out.bytes, true)?
+            store::write_atomically_with(path, true, export).map_err(|e| {
+                CliError::work(format!(
+                    "{}: not written ({e}); a file already there is unchanged",
+                    path.display()
+                ))
+            })?
         }
-    }
+    };
     // to stderr, and only beside a file: the export itself may be on standard output, and
     // a pipe gets nothing but the data
     match &out.signed_head {

@@ -215,13 +215,8 @@ pub fn write_new_synced(path: &Path, bytes: &[u8], private: bool) -> std::io::Re
     write_new_then(path, bytes, private, fs::File::sync_all)
 }
 
-/// [`write_new`], then `finish` on the written file.
-fn write_new_then(
-    path: &Path,
-    bytes: &[u8],
-    private: bool,
-    finish: fn(&fs::File) -> std::io::Result<()>,
-) -> std::io::Result<()> {
+/// Create `path` new (it must not exist) with [`file_mode`]: owner-only when `private`.
+fn create_new_file(path: &Path, private: bool) -> std::io::Result<fs::File> {
     let mut opts = fs::OpenOptions::new();
     opts.write(true).create_new(true);
     #[cfg(unix)]
@@ -229,7 +224,7 @@ fn write_new_then(
         use std::os::unix::fs::OpenOptionsExt;
         opts.mode(0o600);
     }
-    let mut f = opts.open(path)?;
+    let f = opts.open(path)?;
     #[cfg(unix)]
     let r = {
         use std::os::unix::fs::PermissionsExt;
@@ -240,14 +235,59 @@ fn write_new_then(
         let _ = private;
         Ok(())
     };
-    let r = r
-        .and_then(|()| f.write_all(bytes))
-        .and_then(|()| finish(&f));
+    if let Err(e) = r {
+        drop(f);
+        let _ = fs::remove_file(path);
+        return Err(e);
+    }
+    Ok(f)
+}
+
+/// [`write_new`], then `finish` on the written file.
+fn write_new_then(
+    path: &Path,
+    bytes: &[u8],
+    private: bool,
+    finish: fn(&fs::File) -> std::io::Result<()>,
+) -> std::io::Result<()> {
+    let mut f = create_new_file(path, private)?;
+    let r = f.write_all(bytes).and_then(|()| finish(&f));
     if r.is_err() {
         drop(f);
         let _ = fs::remove_file(path);
     }
     r
+}
+
+/// [`write_atomically`] of what `write` writes, as it writes it (a large output is never
+/// held whole): on any failure, `write`'s own included, the temporary file is removed and
+/// whatever was at `path` before is untouched.
+pub fn write_atomically_with<T>(
+    path: &Path,
+    private: bool,
+    write: impl FnOnce(&mut dyn Write) -> Result<T, StoreError>,
+) -> Result<T, StoreError> {
+    let tmp = temporary_sibling(path);
+    let f = create_new_file(&tmp, private).map_err(|e| io_err(path, e))?;
+    let written = (|| {
+        let mut w = std::io::BufWriter::new(f);
+        let t = write(&mut w)?;
+        let f = w.into_inner().map_err(|e| io_err(path, e.into_error()))?;
+        f.sync_all().map_err(|e| io_err(path, e))?;
+        drop(f);
+        fs::rename(&tmp, path).map_err(|e| io_err(path, e))?;
+        Ok(t)
+    })();
+    match written {
+        Ok(t) => {
+            sync_dir(path.parent().unwrap_or(Path::new("."))).map_err(|e| io_err(path, e))?;
+            Ok(t)
+        }
+        Err(e) => {
+            let _ = fs::remove_file(&tmp);
+            Err(e)
+        }
+    }
 }
 
 /// Replace (or create) `path` with `bytes` so that a reader, a crash or a failed write never

@@ -80,7 +80,7 @@ mod verify_scan;
 
 pub use files::{
     file_mode, make_dir_private, remove_stale_partials, sync_dir, sync_written, temporary_sibling,
-    write_atomically, write_new, write_new_synced,
+    write_atomically, write_atomically_with, write_new, write_new_synced,
 };
 pub(crate) use ids::IdGen;
 pub use incidents::check_bench_code;

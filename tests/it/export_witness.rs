@@ -217,3 +217,67 @@ fn an_incident_changed_after_the_export_is_noted_not_failed() {
         "{out}"
     );
 }
+
+/// The whole document serialized at once, as exports were written before they were streamed:
+/// the streamed file must be these very bytes, and its signed digest the document's.
+fn whole_document(db: &Path, filter: &Filter, streamed: &[u8]) -> Vec<u8> {
+    let s = Store::open(db).unwrap();
+    let mut doc = s.export_doc(filter).unwrap();
+    let written: serde_json::Value = serde_json::from_slice(streamed).unwrap();
+    let head: shardlog::store::signing::SignedHead =
+        serde_json::from_value(written["signed_head"].clone()).unwrap();
+    assert_eq!(
+        head.content_sha256,
+        shardlog_core::canonical::digest(&doc, shardlog_core::canonical::Numbers::Shortest)
+            .unwrap(),
+        "the signed digest is not the document's"
+    );
+    doc.signed_head = Some(head);
+    let mut text = serde_json::to_string_pretty(&doc).unwrap();
+    text.push('\n');
+    text.into_bytes()
+}
+
+#[test]
+fn a_streamed_json_export_is_byte_for_byte_the_whole_document() {
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("demo.db");
+    let keys = dir.path().join("keys");
+    let (code, text) = run(
+        &db,
+        &keys,
+        &["demo", "--incidents", "300", "--out", db.to_str().unwrap()],
+    );
+    assert_eq!(code, 0, "{text}");
+    // all of them, some of them, none of them (an empty array is written apart)
+    for (args, filter) in [
+        (vec![], Filter::default()),
+        (
+            vec!["--since", "2026-06-01"],
+            Filter {
+                since: Some(chrono::NaiveDate::from_ymd_opt(2026, 6, 1).unwrap()),
+                ..Filter::default()
+            },
+        ),
+        (
+            vec!["--since", "2099-01-01"],
+            Filter {
+                since: Some(chrono::NaiveDate::from_ymd_opt(2099, 1, 1).unwrap()),
+                ..Filter::default()
+            },
+        ),
+    ] {
+        let out = dir.path().join("export.json");
+        let mut all = vec!["export", "--format", "json", "-o", out.to_str().unwrap()];
+        all.extend(args.iter().copied());
+        let (code, text) = run(&db, &keys, &all);
+        assert_eq!(code, 0, "{text}");
+        let streamed = std::fs::read(&out).unwrap();
+        assert!(
+            streamed == whole_document(&db, &filter, &streamed),
+            "{args:?}: the streamed export differs from the whole document"
+        );
+        let (code, text) = verify_export(&db, &keys, &out, None);
+        assert_eq!(code, 0, "{args:?}: {text}");
+    }
+}

@@ -25,16 +25,22 @@ impl std::fmt::Display for Damaged {
 }
 
 impl Store {
-    /// The incidents matching `filter` that can be read, and those that cannot.
-    fn readable_incidents(
+    /// Hand each incident matching `filter` that can be read to `each` as it is read (in
+    /// the order of the export, one at a time: memory stays flat however many there are);
+    /// returns how many were handed and the damaged ones, named.
+    pub(super) fn each_readable_incident(
         &self,
         filter: &Filter,
-    ) -> Result<(Vec<Incident>, Vec<Damaged>), StoreError> {
-        let mut good = Vec::new();
+        mut each: impl FnMut(Incident) -> Result<(), StoreError>,
+    ) -> Result<(usize, Vec<Damaged>), StoreError> {
+        let mut n = 0;
         let mut damaged = Vec::new();
         for id in self.matching_ids(filter)? {
             match incidents::load(&self.conn, &id) {
-                Ok(Some(inc)) => good.push(inc),
+                Ok(Some(inc)) => {
+                    each(inc)?;
+                    n += 1;
+                }
                 Ok(None) => {}
                 Err(e @ StoreError::Storage(_)) => return Err(e),
                 Err(e) => damaged.push(Damaged {
@@ -43,7 +49,25 @@ impl Store {
                 }),
             }
         }
-        Ok((good, damaged))
+        Ok((n, damaged))
+    }
+
+    /// The export document without its incidents: the reference data, all of it.
+    pub(super) fn reference_doc(&self) -> Result<ExportDoc, StoreError> {
+        Ok(ExportDoc {
+            format: JSON_FORMAT.into(),
+            version: JSON_VERSION,
+            lookups: self.all_lookups()?,
+            sites: self.sites()?,
+            assets: self.assets()?,
+            suppliers: self.suppliers()?,
+            products: self.products(None)?,
+            lots: self.lots(None, None)?,
+            exposure: self.exposure()?,
+            incidents: vec![],
+            signed_head: None,
+            lot_heat_soak: vec![],
+        })
     }
 
     /// The full export document for incidents matching `filter` (all reference data). An
@@ -62,21 +86,11 @@ impl Store {
         &self,
         filter: &Filter,
     ) -> Result<(ExportDoc, Vec<Damaged>), StoreError> {
-        let (incidents, damaged) = self.readable_incidents(filter)?;
-        let doc = ExportDoc {
-            format: JSON_FORMAT.into(),
-            version: JSON_VERSION,
-            lookups: self.all_lookups()?,
-            sites: self.sites()?,
-            assets: self.assets()?,
-            suppliers: self.suppliers()?,
-            products: self.products(None)?,
-            lots: self.lots(None, None)?,
-            exposure: self.exposure()?,
-            incidents,
-            signed_head: None,
-            lot_heat_soak: vec![],
-        };
+        let mut doc = self.reference_doc()?;
+        let (_, damaged) = self.each_readable_incident(filter, |inc| {
+            doc.incidents.push(inc);
+            Ok(())
+        })?;
         Ok((doc, damaged))
     }
 
@@ -103,12 +117,10 @@ impl Store {
             message: e.to_string(),
         };
         writeln!(out, "{}", csv_header()).map_err(io)?;
-        let (incidents, damaged) = self.readable_incidents(filter)?;
         let soak = self.lot_heat_soaks()?;
-        for inc in &incidents {
-            writeln!(out, "{}", csv_row(inc, heat_soak_of(&soak, inc))).map_err(io)?;
-        }
-        Ok((incidents.len(), damaged))
+        self.each_readable_incident(filter, |inc| {
+            writeln!(out, "{}", csv_row(&inc, heat_soak_of(&soak, &inc))).map_err(io)
+        })
     }
 
     /// JSON export text (pretty, stable order, ends with a newline).

@@ -11,9 +11,11 @@
 //!   the rows). `import` skips the line.
 
 use std::collections::{BTreeMap, HashSet};
+use std::io::{Seek, SeekFrom, Write};
 use std::path::Path;
 
 use rusqlite::params;
+use sha2::{Digest, Sha256};
 use shardlog_core::canonical::{self, Numbers};
 
 use super::super::audit::INCIDENT;
@@ -22,15 +24,14 @@ use super::super::signing::SignedHead;
 use super::super::{Anchor, Store, StoreError};
 use super::csv::{csv_header, csv_records, csv_row, split_csv_signed_line, CSV_SIGNED_PREFIX};
 use super::export::Damaged;
-use super::FileKind;
+use super::{ExportDoc, FileKind};
 
 /// The JSON field that holds an export's signed head.
 pub const JSON_SIGNED_FIELD: &str = "signed_head";
 
-/// A signed export, ready to write.
+/// What a signed export wrote.
 #[derive(Debug, Clone)]
 pub struct SignedExport {
-    pub bytes: Vec<u8>,
     pub incidents: usize,
     /// None when this machine does not hold the database's private key.
     pub signed_head: Option<SignedHead>,
@@ -55,54 +56,204 @@ impl ExportCheck {
 
 impl Store {
     /// The JSON export of `filter` with the head it was read at, signed with the key in
-    /// `key_dir` (the head and the records are read in one read transaction).
+    /// `key_dir` (the head and the records are read in one read transaction), written to
+    /// `out` as the incidents are read: memory stays flat however many there are, and the
+    /// bytes are those of the whole document serialized at once (see [`JsonFrame`]).
     pub fn export_json_signed(
         &self,
         filter: &Filter,
         key_dir: &Path,
+        out: &mut dyn Write,
     ) -> Result<SignedExport, StoreError> {
         let tx = self.conn.unchecked_transaction()?;
         let (seq, hash) = self.audit_head_entry()?;
-        let (mut doc, damaged) = self.export_doc_readable(filter)?;
+        let mut doc = self.reference_doc()?;
+        let frame = JsonFrame::of(&doc)?;
+        let mut digest = Sha256::new();
+        digest.update(frame.canonical_head.as_bytes());
+        digest.update(b"[");
+        put(out, frame.pretty_head.as_bytes())?;
+        put(out, b"[")?;
+        let mut canon = String::new();
+        let mut first = true;
+        let (incidents, damaged) = self.each_readable_incident(filter, |inc| {
+            canon.clear();
+            canonical::to_canonical_into(&inc, Numbers::Shortest, &mut canon)?;
+            if !first {
+                digest.update(b",");
+            }
+            digest.update(canon.as_bytes());
+            // an element of the document's array: on its own line, four spaces in (JSON text
+            // holds no line break but those of its layout)
+            let text = serde_json::to_string_pretty(&inc)?;
+            put(out, if first { b"\n    " } else { b",\n    " })?;
+            put(out, text.replace('\n', "\n    ").as_bytes())?;
+            first = false;
+            Ok(())
+        })?;
         tx.commit()?;
-        let digest = canonical::digest(&doc, Numbers::Shortest)?;
-        doc.signed_head = self.sign_head_at(key_dir, seq, &hash, &digest)?;
-        let mut text = serde_json::to_string_pretty(&doc)?;
-        text.push('\n');
+        digest.update(b"]");
+        digest.update(frame.canonical_tail.as_bytes());
+        let content = canonical::hex(&digest.finalize());
+        doc.signed_head = self.sign_head_at(key_dir, seq, &hash, &content)?;
+        put(out, if first { b"]" } else { b"\n  ]" })?;
+        put(out, JsonFrame::pretty_tail(&doc)?.as_bytes())?;
+        put(out, b"\n")?;
         Ok(SignedExport {
-            bytes: text.into_bytes(),
-            incidents: doc.incidents.len(),
+            incidents,
             signed_head: doc.signed_head,
             damaged,
         })
     }
 
-    /// The CSV export of `filter`, its first line the signed head (see the module notes).
+    /// The CSV export of `filter`, its first line the signed head (see the module notes),
+    /// written to `out`. The head signs the bytes after it, so those are spooled to a
+    /// private temporary file while their digest is taken, then copied out after the line:
+    /// memory stays flat however many incidents there are.
     pub fn export_csv_signed(
         &self,
         filter: &Filter,
         key_dir: &Path,
+        out: &mut dyn Write,
     ) -> Result<SignedExport, StoreError> {
+        let mut spool = Spool::new()?;
         let tx = self.conn.unchecked_transaction()?;
         let (seq, hash) = self.audit_head_entry()?;
-        let mut body = Vec::new();
-        let (incidents, damaged) = self.export_csv_readable(filter, &mut body)?;
+        let (incidents, damaged, digest) = {
+            let mut body = Hashing {
+                inner: std::io::BufWriter::new(&mut spool.file),
+                digest: Sha256::new(),
+            };
+            let (incidents, damaged) = self.export_csv_readable(filter, &mut body)?;
+            body.inner.flush().map_err(spool_err)?;
+            (incidents, damaged, canonical::hex(&body.digest.finalize()))
+        };
         tx.commit()?;
-        let digest = canonical::sha256_hex(&body);
         let signed_head = self.sign_head_at(key_dir, seq, &hash, &digest)?;
-        let mut bytes = Vec::with_capacity(body.len() + 512);
         if let Some(h) = &signed_head {
-            bytes.extend_from_slice(CSV_SIGNED_PREFIX.as_bytes());
-            bytes.extend_from_slice(serde_json::to_string(h)?.as_bytes());
-            bytes.push(b'\n');
+            put(out, CSV_SIGNED_PREFIX.as_bytes())?;
+            put(out, serde_json::to_string(h)?.as_bytes())?;
+            put(out, b"\n")?;
         }
-        bytes.extend_from_slice(&body);
+        spool.file.seek(SeekFrom::Start(0)).map_err(spool_err)?;
+        std::io::copy(&mut spool.file, out).map_err(output_err)?;
         Ok(SignedExport {
-            bytes,
             incidents,
             signed_head,
             damaged,
         })
+    }
+}
+
+/// The parts of an export document around its incidents, from the document without them:
+/// the canonical text up to the array's place and after it (for the content digest), and
+/// the pretty text up to it. Each incident's own text goes between; the array's brackets
+/// and separators are written as `serde_json` and the canonical form write them.
+struct JsonFrame {
+    canonical_head: String,
+    canonical_tail: String,
+    pretty_head: String,
+}
+
+/// Where the (empty) incidents stand in the pretty text of the document: a field of the
+/// top object, two spaces in.
+const PRETTY_INCIDENTS: &str = "\n  \"incidents\": []";
+
+impl JsonFrame {
+    fn of(doc: &ExportDoc) -> Result<JsonFrame, StoreError> {
+        // a NUL is never written raw in canonical text: it marks the array's place alone
+        let marked =
+            canonical::to_canonical_with_given(doc, Numbers::Shortest, &[("incidents", &["\0"])])?;
+        let (head, tail) = marked
+            .split_once('\0')
+            .ok_or_else(|| frame_err("canonical"))?;
+        let pretty = serde_json::to_string_pretty(doc)?;
+        let at = pretty
+            .find(PRETTY_INCIDENTS)
+            .ok_or_else(|| frame_err("pretty"))?;
+        Ok(JsonFrame {
+            canonical_head: head.to_string(),
+            canonical_tail: tail.to_string(),
+            pretty_head: pretty[..at + PRETTY_INCIDENTS.len() - 2].to_string(),
+        })
+    }
+
+    /// The pretty text after the incidents' array (the signed head, when there is one).
+    fn pretty_tail(doc: &ExportDoc) -> Result<String, StoreError> {
+        let pretty = serde_json::to_string_pretty(doc)?;
+        let at = pretty
+            .find(PRETTY_INCIDENTS)
+            .ok_or_else(|| frame_err("pretty"))?;
+        Ok(pretty[at + PRETTY_INCIDENTS.len()..].to_string())
+    }
+}
+
+fn frame_err(which: &str) -> StoreError {
+    StoreError::Database(format!(
+        "the export's {which} text has no place for its incidents"
+    ))
+}
+
+fn output_err(e: std::io::Error) -> StoreError {
+    StoreError::File {
+        path: "output".into(),
+        message: e.to_string(),
+    }
+}
+
+fn spool_err(e: std::io::Error) -> StoreError {
+    StoreError::File {
+        path: "the export's temporary file".into(),
+        message: e.to_string(),
+    }
+}
+
+fn put(out: &mut dyn Write, bytes: &[u8]) -> Result<(), StoreError> {
+    out.write_all(bytes).map_err(output_err)
+}
+
+/// A writer that takes the SHA-256 of what passes through it.
+struct Hashing<W: Write> {
+    inner: W,
+    digest: Sha256,
+}
+
+impl<W: Write> Write for Hashing<W> {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        let n = self.inner.write(buf)?;
+        self.digest.update(&buf[..n]);
+        Ok(n)
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.inner.flush()
+    }
+}
+
+/// A private temporary file in the system's temporary folder, removed when dropped.
+struct Spool {
+    path: std::path::PathBuf,
+    file: std::fs::File,
+}
+
+impl Spool {
+    fn new() -> Result<Spool, StoreError> {
+        let path =
+            super::super::temporary_sibling(&std::env::temp_dir().join("shardlog-export.csv"));
+        let mut opts = std::fs::OpenOptions::new();
+        opts.read(true).write(true).create_new(true);
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::OpenOptionsExt;
+            opts.mode(0o600);
+        }
+        let file = opts.open(&path).map_err(spool_err)?;
+        Ok(Spool { path, file })
+    }
+}
+
+impl Drop for Spool {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_file(&self.path);
     }
 }
 
