@@ -316,14 +316,20 @@ fn read_json_export(text: &str) -> Result<ReadExport, String> {
         ),
     };
     let content_sha256 = canonical::digest_value(&v, Numbers::Shortest);
+    // the incidents taken out of the document, not copied: each is held once
+    let list = match v.get_mut("incidents").map(serde_json::Value::take) {
+        Some(serde_json::Value::Array(list)) => list,
+        _ => vec![],
+    };
+    drop(v);
     let mut incidents = BTreeMap::new();
-    let list = v.get("incidents").and_then(|i| i.as_array());
-    for (i, inc) in list.into_iter().flatten().enumerate() {
+    for (i, inc) in list.into_iter().enumerate() {
         let reference = inc
             .get("reference")
             .and_then(|r| r.as_str())
-            .ok_or_else(|| format!("incidents[{i}]: has no reference"))?;
-        incidents.insert(reference.to_string(), inc.clone());
+            .ok_or_else(|| format!("incidents[{i}]: has no reference"))?
+            .to_string();
+        incidents.insert(reference, inc);
     }
     Ok(ReadExport {
         signed_head,
