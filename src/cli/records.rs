@@ -311,9 +311,19 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
     };
     let out = match &args.output {
         None => {
-            let mut w = std::io::BufWriter::new(&mut *ctx.out);
-            let out = export(&mut w).map_err(work)?;
-            std::io::Write::flush(&mut w)?;
+            let mut w = ReaderWatch {
+                inner: std::io::BufWriter::new(&mut *ctx.out),
+                closed: false,
+            };
+            let out = match export(&mut w) {
+                Ok(out) => out,
+                // the reader went away (`| head`): quiet, as for any other output
+                Err(_) if w.closed => {
+                    return Err(std::io::Error::from(std::io::ErrorKind::BrokenPipe).into())
+                }
+                Err(e) => return Err(work(e)),
+            };
+            std::io::Write::flush(&mut w.inner)?;
             out
         }
         Some(path) => {
@@ -341,6 +351,26 @@ pub fn export(args: ExportArgs, ctx: &mut Context<'_>) -> Result<(), CliError> {
         None => eprintln!("{}", super::key::unsigned_note(&s)),
     }
     damaged_left_out(out.damaged)
+}
+
+/// A writer that notes whether its reader went away (a closed pipe), which the export
+/// reports as a failure of its own writing.
+struct ReaderWatch<W: std::io::Write> {
+    inner: W,
+    closed: bool,
+}
+
+impl<W: std::io::Write> std::io::Write for ReaderWatch<W> {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        let r = self.inner.write(buf);
+        if matches!(&r, Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe) {
+            self.closed = true;
+        }
+        r
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.inner.flush()
+    }
 }
 
 /// `export` on the fleet database: the same documents as the bench file's, unsigned (the

@@ -281,3 +281,39 @@ fn a_streamed_json_export_is_byte_for_byte_the_whole_document() {
         assert_eq!(code, 0, "{args:?}: {text}");
     }
 }
+
+#[test]
+fn an_export_whose_reader_goes_away_ends_quietly() {
+    use std::io::Read;
+    use std::process::{Command, Stdio};
+    let dir = tempfile::tempdir().unwrap();
+    let db = dir.path().join("demo.db");
+    let keys = dir.path().join("keys");
+    let (code, text) = run(
+        &db,
+        &keys,
+        &["demo", "--incidents", "2000", "--out", db.to_str().unwrap()],
+    );
+    assert_eq!(code, 0, "{text}");
+    for format in ["json", "csv"] {
+        let mut child = Command::new(env!("CARGO_BIN_EXE_shardlog"))
+            .env("SHARDLOG_KEY_DIR", &keys)
+            .args(["--db", db.to_str().unwrap(), "export", "--format", format])
+            .stdout(Stdio::piped())
+            .stderr(Stdio::piped())
+            .spawn()
+            .expect("the binary runs");
+        // read a little, then go away as `| head` does
+        let mut first = [0u8; 64];
+        child
+            .stdout
+            .take()
+            .expect("piped")
+            .read_exact(&mut first)
+            .unwrap();
+        let out = child.wait_with_output().unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(0), "{format}: {err}");
+        assert!(!err.contains("Broken pipe"), "{format}: {err}");
+    }
+}
