@@ -27,6 +27,7 @@ mod fill_facts;
 mod pull;
 mod pull_incidents;
 mod push;
+mod push_facts;
 mod read;
 mod read_many;
 mod read_materials;
