@@ -19,6 +19,7 @@ mod fleet_facts;
 mod fleet_fill;
 mod fleet_moves;
 mod fleet_pull_mark;
+mod fleet_push_facts;
 mod fleet_push_locks;
 mod fleet_query;
 mod fleet_read;

@@ -6,7 +6,8 @@
 //! - `connect`: the URL, TLS (rustls) for `sslmode=require`, a clear message when the server
 //!   cannot be reached.
 //! - `schema`: the fleet's numbered migrations, its two roles and a login per bench.
-//! - `push`: a bench's chain, records and files staged by binary COPY, then `fleet_push()`.
+//! - `push`: a bench's chain, records and files staged by binary COPY, then `fleet_push()`;
+//!   `push_facts` a large push's incident images with their read-table rows beside them.
 //! - `pull`: reference data of other benches merged into this bench by code.
 //! - `check`: `verify` on the fleet: the witnessed chains, receipts, records, read tables.
 //! - `read`: the fleet as its users read it (`--db postgres://…`), read-only; `read_page` the
@@ -27,6 +28,7 @@ mod fill_facts;
 mod pull;
 mod pull_incidents;
 mod push;
+mod push_facts;
 mod read;
 mod read_many;
 mod read_materials;

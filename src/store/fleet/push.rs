@@ -105,7 +105,7 @@ fn push_once(
         let mut tx = fleet.client.transaction()?;
         let rows_sent = stage_rows(&mut tx, conn, from_seq, to_seq)?;
         let listed = outbox::batch_listed(conn, new_from)?;
-        stage_images(&mut tx, conn, &listed)?;
+        stage_images(&mut tx, conn, bench, &listed)?;
         let files = stage_files(&mut tx, conn, new_from, &listed, files_dir.as_deref())?
             + stage_analyses(&mut tx, conn, from_seq, to_seq)?;
         let row = tx.query_one(
@@ -242,10 +242,17 @@ fn stage_rows(
 fn stage_images(
     tx: &mut Transaction<'_>,
     conn: &Connection,
+    bench: &str,
     listed: &std::collections::HashMap<String, HashSet<String>>,
 ) -> Result<(), FleetError> {
     if listed.is_empty() {
         return Ok(());
+    }
+    if listed
+        .get(INCIDENT)
+        .is_some_and(|ids| ids.len() >= super::push_facts::FACTS_FROM)
+    {
+        return super::push_facts::stage_images_with_facts(tx, conn, bench, listed);
     }
     let sink = tx.copy_in("COPY push_records (entity, id, image) FROM STDIN (FORMAT binary)")?;
     let mut writer = BinaryCopyInWriter::new(sink, &[Type::TEXT, Type::TEXT, Type::TEXT]);

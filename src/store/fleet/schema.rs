@@ -48,6 +48,11 @@ const MIGRATIONS: &[(i64, &str, &str)] = &[
         "0009_report_reads.sql",
         include_str!("../../../schema/fleet/0009_report_reads.sql"),
     ),
+    (
+        10,
+        "0010_push_facts.sql",
+        include_str!("../../../schema/fleet/0010_push_facts.sql"),
+    ),
 ];
 
 /// The fleet schema version this build writes: the number of its last migration.
