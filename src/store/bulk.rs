@@ -40,6 +40,16 @@ pub(crate) struct NewIncident {
     pub rendered: Option<Vec<Option<super::rendered::RenderedResult>>>,
 }
 
+impl NewIncident {
+    /// Made ready for the writer: its audit digest, searchable text and row texts.
+    pub(crate) fn prepare(self) -> Result<Prepared, StoreError> {
+        match self.rendered {
+            Some(r) => prepare_rendered(self.incident, self.refs, self.stamp, r),
+            None => prepare(self.incident, self.refs, self.stamp),
+        }
+    }
+}
+
 /// How the incidents of a bulk load are audited.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum AuditRows {
@@ -298,6 +308,19 @@ impl<'s> BulkLoad<'s> {
     where
         F: FnMut(&mut IdGen) -> Option<Result<NewIncident, StoreError>> + Send,
     {
+        let mut make = make;
+        self.write_prepared(audit, move |ids: &mut IdGen| {
+            make(ids).map(|n| n.and_then(|n| n.prepare().map(Box::new)))
+        })
+    }
+
+    /// [`BulkLoad::write_incidents`] of incidents `make` returns made ready already
+    /// (`incidents::prepare`, `prepare_rendered`): a caller that makes them ready on
+    /// several threads of its own.
+    pub(crate) fn write_prepared<F>(self, audit: AuditRows, make: F) -> Result<u64, StoreError>
+    where
+        F: FnMut(&mut IdGen) -> Option<Result<Box<Prepared>, StoreError>> + Send,
+    {
         let BulkLoad {
             tx,
             ids,
@@ -537,15 +560,11 @@ fn make_ready<F>(
     spent_back: mpsc::Receiver<Ready>,
 ) -> Result<(), StoreError>
 where
-    F: FnMut(&mut IdGen) -> Option<Result<NewIncident, StoreError>>,
+    F: FnMut(&mut IdGen) -> Option<Result<Box<Prepared>, StoreError>>,
 {
     let mut batch = Vec::with_capacity(HAND_OVER);
     while let Some(next) = make(ids) {
-        let n = next?;
-        batch.push(Box::new(match n.rendered {
-            Some(r) => prepare_rendered(n.incident, n.refs, n.stamp, r)?,
-            None => prepare(n.incident, n.refs, n.stamp)?,
-        }));
+        batch.push(next?);
         if batch.len() == HAND_OVER {
             drop(spent_back.try_iter().collect::<Vec<_>>());
             let full = std::mem::replace(&mut batch, Vec::with_capacity(HAND_OVER));

@@ -234,3 +234,35 @@ fn a_large_file_gives_one_audit_chain_by_either_path() {
     assert_eq!(soaked, 1, "one lot has its heat-soak record");
     assert_same(&ordinary, &bulk, "basalt");
 }
+
+/// A large import takes the rollback journal for its transaction only when no other
+/// connection has the file open, else it keeps the write-ahead log (a reader meanwhile still
+/// reads); either way the same records and audit chain, and the file is in WAL mode after.
+#[test]
+fn a_bulk_import_gives_the_same_whoever_else_has_the_file_open() {
+    let dir = tempfile::tempdir().unwrap();
+    let csv = plain_csv(80, "porphyry");
+    let mut alone = store(dir.path(), "alone.db", Some(10));
+    let mut shared = store(dir.path(), "shared.db", Some(10));
+    let reader = rusqlite::Connection::open(dir.path().join("shared.db")).unwrap();
+    let count = |c: &rusqlite::Connection| -> i64 {
+        c.query_row("SELECT count(*) FROM incidents", [], |r| r.get(0))
+            .unwrap()
+    };
+    assert_eq!(count(&reader), 0);
+    let (a, b) = (
+        import(&mut alone, &csv, ImportOptions::default()),
+        import(&mut shared, &csv, ImportOptions::default()),
+    );
+    assert_eq!(a, b);
+    assert_eq!(b.incidents, 80);
+    assert_eq!(count(&reader), 80);
+    assert_same(&alone, &shared, "porphyry");
+    for name in ["alone.db", "shared.db"] {
+        let c = rusqlite::Connection::open(dir.path().join(name)).unwrap();
+        let mode: String = c
+            .query_row("PRAGMA journal_mode", [], |r| r.get(0))
+            .unwrap();
+        assert_eq!(mode, "wal", "{name}");
+    }
+}

@@ -41,6 +41,7 @@ impl Store {
             dry_run: options.dry_run,
             ..ImportSummary::default()
         };
+        let left_wal = super::super::sqlite::leave_wal_for_load(&self.conn)?;
         // keys made by this import ascend (they all carry the import's millisecond)
         self.ids.set_monotonic(true);
         let files = self.files_dir().map(|p| p.to_path_buf());
@@ -56,19 +57,24 @@ impl Store {
             deferred.as_ref(),
             &mut summary,
         );
-        self.bulk_outcome(outcome, options.dry_run, summary)
+        self.bulk_outcome(outcome, left_wal, options.dry_run, summary)
     }
 
     /// A bulk load's outcome as the import's answer (either bulk path): a refusal by the
     /// machine is an error, one by a line of the file the import's problem; once written, the
-    /// lookups are read again.
+    /// lookups are read again. `left_wal`: the load ran with the rollback journal
+    /// (`sqlite::leave_wal_for_load`), and the file goes back to the write-ahead log.
     pub(super) fn bulk_outcome(
         &mut self,
         outcome: Result<(), WriteError>,
+        left_wal: bool,
         dry_run: bool,
         summary: ImportSummary,
     ) -> ImportResult {
         self.ids.set_monotonic(false);
+        if left_wal {
+            super::super::sqlite::rejoin_wal(&self.conn)?;
+        }
         match outcome {
             // the machine, not a line of the file, refused: say so as such
             Err((_, e @ StoreError::Storage(_))) => Err(e),

@@ -112,7 +112,7 @@ impl Store {
     ) -> ImportResult {
         let vocabulary = Vocabulary::new(self.all_lookups()?);
         let book = self.material_book()?;
-        let mut seen: HashMap<(String, String, NaiveDate), String> = HashMap::new();
+        let mut seen = DuplicatesSeen::default();
         let mut incidents = Vec::with_capacity(records.len());
         let mut doc = ExportDoc::empty();
         let mut soak_lines: HashMap<(String, String, String), usize> = HashMap::new();
@@ -168,17 +168,26 @@ impl Store {
         &self,
         place: Place,
         inc: &Incident,
-        seen: &mut HashMap<(String, String, NaiveDate), String>,
+        seen: &mut DuplicatesSeen,
         problems: &mut Vec<Problem>,
     ) -> Result<(), StoreError> {
         let Some(key) = onepass::duplicate_key(inc) else {
             return Ok(());
         };
-        let mut same: Vec<String> = self.possible_duplicates(inc)?;
-        if let Some(first) = seen.get(&key) {
+        let recorded = match seen.recorded {
+            Some(r) => r,
+            None => *seen.recorded.insert(self.incident_count()? > 0),
+        };
+        // a database without incidents holds no duplicate: not asked row by row
+        let mut same: Vec<String> = if recorded {
+            self.possible_duplicates(inc)?
+        } else {
+            Vec::new()
+        };
+        if let Some(first) = seen.keys.get(&key) {
             same.push(format!("{first} of this file"));
         } else {
-            seen.insert(key, place.at());
+            seen.keys.insert(key, place.at());
         }
         if !same.is_empty() {
             problems.push(Problem::new(
@@ -207,7 +216,7 @@ impl Store {
             .collect();
         let mut early = Vec::new();
         if !options.allow_duplicates {
-            let mut seen = HashMap::new();
+            let mut seen = DuplicatesSeen::default();
             for (place, inc) in &incidents {
                 self.note_duplicates(*place, inc, &mut seen, &mut early)?;
             }
@@ -354,6 +363,14 @@ impl Store {
             }
         }
     }
+}
+
+/// The duplicate check's memory over one import: each key met (asset, position, date found)
+/// with the first place it was met, and whether the database held incidents when asked.
+#[derive(Default)]
+pub(super) struct DuplicatesSeen {
+    keys: HashMap<(String, String, NaiveDate), String>,
+    recorded: Option<bool>,
 }
 
 /// A refusal of an unknown code in a CSV column says which codes (and labels) it takes.

@@ -281,33 +281,13 @@ pub(super) fn read_records(
     })
 }
 
-/// Each CSV record's lookup cells read as codes and its results computed whole, as
-/// [`read_records`] with [`Keep::Whole`] computes them, but kept as figures with their stored
-/// texts rendered beside the record ([`compute_rendered`]), in the file's order, on up to
-/// four threads. For records the checks accepted: a refusal now is the machine's failure.
-pub(super) fn render_records(
-    records: Vec<super::csv::CsvRecord>,
-    vocabulary: &Vocabulary,
-    book: &crate::store::MaterialBook,
-    at: DateTime<Utc>,
-) -> Vec<Result<(super::csv::CsvRecord, Rendered), StoreError>> {
-    in_parts(
-        records,
-        |scratch: &mut String, mut r: super::csv::CsvRecord| {
-            vocabulary.resolve(&mut r.incident);
-            let rendered = compute_rendered(&mut r.incident, r.line, at, book, scratch)?;
-            Ok((r, rendered))
-        },
-    )
-}
-
 /// Per examination, the stored texts of its result where one was computed.
 pub(super) type Rendered = Vec<Option<crate::store::rendered::RenderedResult>>;
 
 /// Each examination's result computed from its readings as [`compute_results`] computes it
 /// (the own material kept, the import's `source` added), the record holding its figures
 /// only and the stored texts rendered beside it; `scratch` is a buffer kept by the caller.
-fn compute_rendered(
+pub(super) fn compute_rendered(
     inc: &mut Incident,
     line: usize,
     at: DateTime<Utc>,
@@ -347,7 +327,7 @@ fn compute_rendered(
 /// `f` over `items`, in order: a long list cut into consecutive parts done on up to four
 /// threads (one per core), each part with its own state `S` (a buffer to reuse); every item's
 /// outcome is the one a single thread gives, as each depends on its own item only.
-fn in_parts<T, U, S, F>(items: Vec<T>, f: F) -> Vec<U>
+pub(super) fn in_parts<T, U, S, F>(items: Vec<T>, f: F) -> Vec<U>
 where
     T: Send,
     U: Send,

@@ -16,13 +16,14 @@ use std::path::PathBuf;
 
 use super::super::audit::Chain;
 use super::super::bulk::{begin_bulk, AuditRows, NewIncident};
-use super::super::incidents::{RefCache, Refs};
+use super::super::incidents::{Prepared, RefCache, Refs};
 use super::super::model::*;
 use super::super::{IdGen, MaterialBook, Store, StoreError};
 use super::admission::{self, AttachmentFiles};
 use super::csv::{gather_heat_soak, CsvRecord, CsvStream};
 use super::import::{
-    list_valid_codes, ready_keys, Checker, ImportResult, Numbering, Place, WriteError, Writer,
+    list_valid_codes, ready_keys, Checker, DuplicatesSeen, ImportResult, Numbering, Place,
+    WriteError, Writer,
 };
 use super::onepass::{self, Vocabulary};
 use super::{ExportDoc, ImportOptions, ImportRejected, ImportSummary, Problem};
@@ -111,7 +112,7 @@ impl Store {
         // the problems of reading the records, found before the checks (as the whole-file
         // path finds them): reported before the checks' own, line by line
         let mut early = Vec::new();
-        let mut seen = HashMap::new();
+        let mut seen = DuplicatesSeen::default();
         let mut soak_lines = HashMap::new();
         let total = Some(bytes.iter().filter(|&&b| b == b'\n').count() as u64);
         let mut records = 0usize;
@@ -192,6 +193,7 @@ impl Store {
             dry_run: options.dry_run,
             ..ImportSummary::default()
         };
+        let left_wal = super::super::sqlite::leave_wal_for_load(&self.conn)?;
         // keys made by this import ascend (they all carry the import's millisecond)
         self.ids.set_monotonic(true);
         let files = self.files_dir().map(|p| p.to_path_buf());
@@ -209,7 +211,7 @@ impl Store {
             },
             &mut summary,
         );
-        self.bulk_outcome(outcome, options.dry_run, summary)
+        self.bulk_outcome(outcome, left_wal, options.dry_run, summary)
     }
 }
 
@@ -276,7 +278,7 @@ fn load_streamed(
         ready: Vec::new().into_iter(),
     };
     let written = bulk
-        .write_incidents(AuditRows::Batched { seed }, move |_: &mut IdGen| {
+        .write_prepared(AuditRows::Batched { seed }, move |_: &mut IdGen| {
             maker.next()
         })
         .map_err(whole)?;
@@ -384,7 +386,9 @@ impl Replay {
 }
 
 /// The third pass, on the bulk path's maker thread: the file read again a chunk at a time,
-/// each record's results computed and rendered, its keys made again, handed on one by one.
+/// each record's keys made again (in the file's order, here), then its results computed and
+/// rendered and the record made ready for the writer (audit digest, searchable and row
+/// texts) on up to four threads (`onepass::in_parts`), handed on one by one.
 struct Maker<'a> {
     stream: CsvStream<'a>,
     replay: Replay,
@@ -392,11 +396,11 @@ struct Maker<'a> {
     book: &'a MaterialBook,
     seen_refs: &'a HashSet<String>,
     stamp: Stamp,
-    ready: std::vec::IntoIter<NewIncident>,
+    ready: std::vec::IntoIter<Box<Prepared>>,
 }
 
 impl Maker<'_> {
-    fn next(&mut self) -> Option<Result<NewIncident, StoreError>> {
+    fn next(&mut self) -> Option<Result<Box<Prepared>, StoreError>> {
         if let Some(n) = self.ready.next() {
             return Some(Ok(n));
         }
@@ -417,21 +421,34 @@ impl Maker<'_> {
         if chunk.is_empty() {
             return Ok(false);
         }
-        let made = onepass::render_records(chunk, self.vocabulary, self.book, self.stamp.at);
-        let mut out = Vec::with_capacity(made.len());
-        for m in made {
-            let (record, rendered) = m?;
+        // the keys do not depend on the results (nor on the lookup cells read as codes)
+        let mut keyed = Vec::with_capacity(chunk.len());
+        for record in chunk {
             let mut inc = record.incident;
             admission::normalize_keys(&mut inc);
             let (incident, refs) = self.replay.ready(inc, &self.stamp, self.seen_refs)?;
-            out.push(NewIncident {
-                incident,
-                refs,
-                stamp: self.stamp.clone(),
-                rendered: Some(rendered),
-            });
+            keyed.push((record.line, incident, refs));
         }
-        self.ready = out.into_iter();
+        let (vocabulary, book, stamp) = (self.vocabulary, self.book, &self.stamp);
+        let made = onepass::in_parts(
+            keyed,
+            |scratch: &mut String, (line, mut inc, refs): (usize, Incident, Refs)| {
+                vocabulary.resolve(&mut inc);
+                let rendered = onepass::compute_rendered(&mut inc, line, stamp.at, book, scratch)?;
+                NewIncident {
+                    incident: inc,
+                    refs,
+                    stamp: stamp.clone(),
+                    rendered: Some(rendered),
+                }
+                .prepare()
+                .map(Box::new)
+            },
+        );
+        self.ready = made
+            .into_iter()
+            .collect::<Result<Vec<_>, StoreError>>()?
+            .into_iter();
         Ok(true)
     }
 }

@@ -10,8 +10,8 @@ mod search;
 
 pub use backup::copy_database;
 pub use open::{
-    environment_failure, integrity_check, is_read_only, open_checked, open_for_reading,
-    open_in_memory, set_bulk_pragmas, set_file_pragmas,
+    environment_failure, integrity_check, is_read_only, leave_wal_for_load, open_checked,
+    open_for_reading, open_in_memory, rejoin_wal, set_bulk_pragmas, set_file_pragmas,
 };
 pub use schema::{
     columns_present, migrate, schema_differences, user_version, APPLICATION_ID,

@@ -297,6 +297,69 @@ pub fn set_file_pragmas(conn: &Connection) -> Result<(), StoreError> {
     Ok(())
 }
 
+/// For a large load's one transaction into a file no other connection has open: the
+/// rollback journal instead of the write-ahead log. A page the load adds past the file's
+/// end is written once, into the file, and needs no journal entry (only the pages the file
+/// had are copied to the journal before they change), where the log takes every page
+/// twice (into the log, then into the file at the checkpoint) and looks each written page
+/// up in a log that grows with the load. All or nothing still: a transaction rolled back,
+/// or a process killed mid-way, leaves the file as it was (the journal is rolled back when
+/// the file is next opened). Returns whether the journal was switched; false (the log
+/// kept) when the file is not in WAL mode (in memory) or another connection has it open
+/// (SQLite then refuses to leave WAL at once, without waiting). [`rejoin_wal`] after.
+pub fn leave_wal_for_load(conn: &Connection) -> Result<bool, StoreError> {
+    let mode: String = conn.query_row("PRAGMA journal_mode", [], |r| r.get(0))?;
+    if !mode.eq_ignore_ascii_case("wal") {
+        return Ok(false);
+    }
+    match conn.query_row("PRAGMA journal_mode = DELETE", [], |r| {
+        r.get::<_, String>(0)
+    }) {
+        Ok(now) if now.eq_ignore_ascii_case("delete") => {
+            // the pages the load writes into the file would be read back through the read
+            // map, counting the whole load in this process's resident memory
+            conn.execute_batch("PRAGMA mmap_size = 0;")?;
+            Ok(true)
+        }
+        Ok(_) => Ok(false),
+        Err(e)
+            if matches!(
+                e.sqlite_error_code(),
+                Some(rusqlite::ErrorCode::DatabaseBusy | rusqlite::ErrorCode::DatabaseLocked)
+            ) =>
+        {
+            Ok(false)
+        }
+        Err(e) => Err(e.into()),
+    }
+}
+
+/// Back to the write-ahead log after [`leave_wal_for_load`] (outside any transaction).
+/// Another connection that opened the file meanwhile may hold it a moment: the file is
+/// then left as it is, whole, and the next opening switches it (`set_file_pragmas`).
+pub fn rejoin_wal(conn: &Connection) -> Result<(), StoreError> {
+    let mode: String = match conn.query_row("PRAGMA journal_mode = WAL", [], |r| r.get(0)) {
+        Ok(mode) => mode,
+        Err(e)
+            if matches!(
+                e.sqlite_error_code(),
+                Some(rusqlite::ErrorCode::DatabaseBusy | rusqlite::ErrorCode::DatabaseLocked)
+            ) =>
+        {
+            conn.execute_batch(READ_MAP)?;
+            return Ok(());
+        }
+        Err(e) => return Err(e.into()),
+    };
+    if !mode.eq_ignore_ascii_case("wal") {
+        return Err(StoreError::Database(format!(
+            "could not switch the journal back to WAL after the load (got {mode})"
+        )));
+    }
+    conn.execute_batch(READ_MAP)?;
+    Ok(())
+}
+
 /// Pragmas for a database in memory.
 pub fn set_memory_pragmas(conn: &Connection) -> Result<(), StoreError> {
     conn.execute_batch("PRAGMA foreign_keys = ON;")?;
@@ -344,5 +407,58 @@ mod tests {
         let ro = environment_failure(&err(ffi::SQLITE_READONLY)).unwrap();
         assert!(ro.contains("read-only"), "{ro}");
         assert_eq!(environment_failure(&err(ffi::SQLITE_CONSTRAINT)), None);
+    }
+
+    fn mode(conn: &Connection) -> String {
+        conn.query_row("PRAGMA journal_mode", [], |r| r.get(0))
+            .unwrap()
+    }
+
+    /// A load leaves the write-ahead log only when no other connection has the file open
+    /// (then at once, without waiting for it), writes all or nothing with the rollback
+    /// journal, and the file is back in WAL mode after; a database in memory keeps its own.
+    #[test]
+    fn a_load_leaves_the_log_only_for_a_file_nobody_else_has_open() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("load.db");
+        let conn = Connection::open(&path).unwrap();
+        conn.busy_timeout(BUSY_TIMEOUT).unwrap();
+        set_file_pragmas(&conn).unwrap();
+        conn.execute_batch("CREATE TABLE t (x TEXT); INSERT INTO t VALUES ('before');")
+            .unwrap();
+        // another connection has the file open: the log is kept, at once
+        let other = Connection::open(&path).unwrap();
+        let n: i64 = other
+            .query_row("SELECT count(*) FROM t", [], |r| r.get(0))
+            .unwrap();
+        assert_eq!(n, 1);
+        let start = std::time::Instant::now();
+        assert!(!leave_wal_for_load(&conn).unwrap());
+        assert!(start.elapsed() < BUSY_TIMEOUT / 2, "{:?}", start.elapsed());
+        assert_eq!(mode(&conn), "wal");
+        drop(other);
+        // alone: the rollback journal, and a load rolled back leaves nothing
+        assert!(leave_wal_for_load(&conn).unwrap());
+        assert_eq!(mode(&conn), "delete");
+        conn.execute_batch("BEGIN IMMEDIATE; INSERT INTO t VALUES ('rolled back'); ROLLBACK;")
+            .unwrap();
+        conn.execute_batch("BEGIN IMMEDIATE; INSERT INTO t VALUES ('kept'); COMMIT;")
+            .unwrap();
+        rejoin_wal(&conn).unwrap();
+        assert_eq!(mode(&conn), "wal");
+        let fresh = Connection::open(&path).unwrap();
+        assert_eq!(mode(&fresh), "wal");
+        let rows: Vec<String> = fresh
+            .prepare("SELECT x FROM t ORDER BY rowid")
+            .unwrap()
+            .query_map([], |r| r.get(0))
+            .unwrap()
+            .collect::<Result<_, _>>()
+            .unwrap();
+        assert_eq!(rows, ["before", "kept"]);
+        // in memory: nothing to leave
+        let memory = open_in_memory().unwrap();
+        assert!(!leave_wal_for_load(&memory).unwrap());
+        assert_eq!(mode(&memory), "memory");
     }
 }
