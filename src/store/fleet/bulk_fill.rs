@@ -12,11 +12,14 @@
 //! fleet recomputes the read tables from the images.
 //!
 //! Three connections share the work (records and chain; facts; words and order), each in
-//! one transaction, so that the server's work runs on more than one core. The ingest
-//! triggers of the loaded tables are disabled for the load, and the secondary indexes of the
-//! chain and the read tables are dropped and made again at the end when the fleet is
-//! smaller than what is added (one build instead of millions of index inserts; see
-//! [`REBUILT`]). Nothing is visible to others before the
+//! one transaction, so that the server's work runs on more than one core; while a bench's
+//! incidents stream in, each connection sends from its own thread (`fill_stream`). The ingest
+//! triggers of the loaded tables are disabled for the load, and when the fleet is smaller
+//! than what is added the secondary indexes of the chain and the read tables are dropped
+//! and made again at the end (one build instead of millions of index inserts; see
+//! [`REBUILT`]), as are the records' foreign keys to the benches (one check of the whole
+//! table instead of two lookups per row; the fill holds the records and benches tables to
+//! itself until it ends, readers included). Nothing is visible to others before the
 //! end; an error before it rolls everything back. The three commits come one after another:
 //! a server lost between them would leave records without their read tables, which `verify`
 //! on the fleet reports. The fill only makes benches the fleet does not know, and holds the
@@ -192,7 +195,13 @@ impl BulkFill {
         produce: impl FnOnce(&mut BenchRows<'_>) -> Result<(), FleetError>,
     ) -> Result<Streamed, FleetError> {
         self.links[0].execute("INSERT INTO fleet_benches (code) VALUES ($1)", &[&code])?;
-        stream_bench(&mut self.links, code, self.fleet_seq, &mut self.ord, produce)
+        stream_bench(
+            &mut self.links,
+            code,
+            self.fleet_seq,
+            &mut self.ord,
+            produce,
+        )
     }
 
     /// After a bench's stream: its chain and other records from `bench` (the file the

@@ -234,7 +234,11 @@ impl Image<'static> {
             cause: Some(CausePart {
                 // the category only of a cause that is an object; its note and factors as
                 // `j->'cause'->…` reads them
-                category: text_of(cause.filter(|c| c.is_object()).and_then(|c| c.get("category"))),
+                category: text_of(
+                    cause
+                        .filter(|c| c.is_object())
+                        .and_then(|c| c.get("category")),
+                ),
                 note: text_of(cause.and_then(|c| c.get("note"))),
                 factors: Some(
                     elements(cause.and_then(|c| c.get("factors")))
@@ -249,10 +253,13 @@ impl Image<'static> {
                     .map(|e| ExamPart {
                         origin_type: text_of(e.get("origin_type")),
                         notes: text_of(e.get("notes")),
-                        result: e.get("result").filter(|r| r.is_object()).map(|r| ResultPart {
-                            stress_pa: text_of(r.get("stress_pa")),
-                            applied_stress_pa: text_of(r.get("applied_stress_pa")),
-                        }),
+                        result: e
+                            .get("result")
+                            .filter(|r| r.is_object())
+                            .map(|r| ResultPart {
+                                stress_pa: text_of(r.get("stress_pa")),
+                                applied_stress_pa: text_of(r.get("applied_stress_pa")),
+                            }),
                     })
                     .collect(),
             ),
@@ -348,16 +355,35 @@ fn row_of(origin: &str, image: &str, j: &Image<'_>) -> Option<FactRow> {
         owned(&j.reporter),
         owned(&j.how_found),
         owned(cause.map_or(&none, |c| &c.note)),
-        joined(cause.and_then(|c| c.factors.as_deref()).unwrap_or_default().iter()),
+        joined(
+            cause
+                .and_then(|c| c.factors.as_deref())
+                .unwrap_or_default()
+                .iter(),
+        ),
         joined(exams.iter().map(|e| &e.notes)),
-        joined(j.custody.as_deref().unwrap_or_default().iter().map(|c| &c.note)),
-        joined(j.attachments.as_deref().unwrap_or_default().iter().map(|a| &a.caption)),
+        joined(
+            j.custody
+                .as_deref()
+                .unwrap_or_default()
+                .iter()
+                .map(|c| &c.note),
+        ),
+        joined(
+            j.attachments
+                .as_deref()
+                .unwrap_or_default()
+                .iter()
+                .map(|a| &a.caption),
+        ),
     ]
     .into_iter()
     .flatten()
     .collect::<Vec<_>>()
     .join(" ");
-    let first_ply = glass.and_then(|g| g.plies.as_deref()).and_then(<[_]>::first);
+    let first_ply = glass
+        .and_then(|g| g.plies.as_deref())
+        .and_then(<[_]>::first);
     Some(FactRow {
         reference,
         found_on,

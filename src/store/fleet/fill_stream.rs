@@ -183,7 +183,9 @@ impl BenchRows<'_> {
         self.to_records
             .send(Piece::Last(records.end()))
             .map_err(stopped)?;
-        self.to_facts.send(Piece::Last(facts.end())).map_err(stopped)?;
+        self.to_facts
+            .send(Piece::Last(facts.end()))
+            .map_err(stopped)?;
         let batch = std::mem::take(&mut self.words);
         if !batch.ids.is_empty() {
             self.to_words.send(Some(batch)).map_err(stopped)?;
