@@ -119,19 +119,33 @@ fn fill_bulk(
             incidents: n,
             seed: args.seed.wrapping_add(b),
         };
-        let mut bench = fill.bench(&code).map_err(fleet_error)?;
-        let mut failure: Option<FleetError> = None;
-        let made = crate::demo::stream_for_bench(&path, &options, &code, |s| {
-            bench.add(&s).map_err(|e| {
-                let shown = e.to_string();
-                failure = Some(e);
-                StoreError::Database(shown)
-            })
+        // a failure of the demo's own making, told as it is (the fill only hears that it
+        // stopped)
+        let mut source: Option<StoreError> = None;
+        let streamed = fill.fill_bench(&code, |rows| {
+            let mut failure: Option<FleetError> = None;
+            let made = crate::demo::stream_for_bench(&path, &options, &code, |s| {
+                rows.add(s).map_err(|e| {
+                    let shown = e.to_string();
+                    failure = Some(e);
+                    StoreError::Database(shown)
+                })
+            });
+            match (made, failure) {
+                (Ok(_), _) => Ok(()),
+                (Err(_), Some(e)) => Err(e),
+                (Err(e), None) => {
+                    let shown = FleetError::Bench(e.to_string());
+                    source = Some(e);
+                    Err(shown)
+                }
+            }
         });
-        if let Err(e) = made {
-            return Err(failure.map(fleet_error).unwrap_or_else(|| work(e)));
-        }
-        let streamed = bench.finish().map_err(fleet_error)?;
+        let streamed = match (streamed, source) {
+            (Ok(s), _) => s,
+            (Err(_), Some(e)) => return Err(work(e)),
+            (Err(e), None) => return Err(fleet_error(e)),
+        };
         let store = Store::open_existing(&path).map_err(work)?;
         let done = fill.end_bench(streamed, &store).map_err(fleet_error)?;
         writeln!(

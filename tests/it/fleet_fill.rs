@@ -1,7 +1,7 @@
 //! `fleet demo`'s bulk fill against the sync path, on a real PostgreSQL server: the same
 //! seeds and sizes give the same fleet, table by table (records, witnessed chains, receipts
-//! but their times, files, and the read tables with the counts by month), and `verify`
-//! passes on the filled fleet.
+//! but their times, files, and the read tables with the counts by month, and the tables'
+//! constraints, indexes and triggers), and `verify` passes on the filled fleet.
 
 use crate::fleet_sync::{err, out, run, TestFleet};
 use crate::support::fleet::Cluster;
@@ -52,6 +52,23 @@ fn tables(f: &TestFleet<'_>) -> Vec<(String, i64, String)> {
         (
             "fleet_conflicts and fleet_refusals",
             "SELECT 'conflict', id FROM fleet_conflicts UNION ALL SELECT 'refusal', id FROM fleet_refusals",
+        ),
+        (
+            // what the fill drops and makes again (indexes, the records' foreign keys) and
+            // the triggers it turns off for the load: all back, checked and on
+            "constraints, indexes and triggers",
+            "SELECT 'constraint', conrelid::regclass::text, conname::text,
+                    pg_get_constraintdef(oid), convalidated::text
+             FROM pg_constraint WHERE connamespace = 'public'::regnamespace
+             UNION ALL
+             SELECT 'index', i.indrelid::regclass::text, c.relname::text,
+                    pg_get_indexdef(i.indexrelid), i.indisvalid::text
+             FROM pg_index i JOIN pg_class c ON c.oid = i.indexrelid
+             WHERE c.relnamespace = 'public'::regnamespace
+             UNION ALL
+             SELECT 'trigger', tgrelid::regclass::text, tgname::text, tgenabled::text, ''
+             FROM pg_trigger WHERE NOT tgisinternal
+             ORDER BY 1, 2, 3",
         ),
     ];
     let mut c = f.admin();

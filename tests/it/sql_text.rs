@@ -50,6 +50,8 @@ const REVIEWED: &[(&str, &str, &str)] = &[
     ("fleet/read_report.rs", "SELECT {column} FROM fleet_facts f {}{order}", "column, order: fixed texts of matching_ids and causes_matching; where_clause of fixed condition texts with $n placeholders"),
     ("fleet/read_report.rs", "{} ORDER BY f.ord", "where_clause of fixed condition texts with $n placeholders"),
     ("fleet/bulk_fill.rs", "DROP INDEX {name}", "name: an index of the fleet's own tables read from pg_index, quoted by quote_ident"),
+    ("fleet/bulk_fill.rs", "ALTER TABLE fleet_records DROP CONSTRAINT {name}", "name: a foreign key of fleet_records read from pg_constraint, quoted by quote_ident"),
+    ("fleet/bulk_fill.rs", "ALTER TABLE fleet_records ADD CONSTRAINT {name} {def}", "name: as above; def: that constraint's pg_get_constraintdef, read before it was dropped"),
     ("fleet/read_total.rs", "SELECT count(*) FROM (SELECT 1 FROM fleet_facts f {} LIMIT {}) x", "where_clause of fixed condition texts with $n placeholders; count_cap(): the COUNT_CAP constant (a test setting in debug builds) plus one"),
     ("fleet/read_total.rs", "SELECT count(*) FROM fleet_facts f {}", "where_clause of fixed condition texts with $n placeholders"),
     ("incidents/list.rs", "SELECT count(*) FROM (SELECT 1 FROM {from} {} LIMIT {})", "from: the literal \"incidents i\" or the sqlite::FTS_FROM constant; where_clause of fixed condition texts; count_cap(): the COUNT_CAP constant (a test setting in debug builds) plus one"),

@@ -12,32 +12,33 @@
 //! fleet recomputes the read tables from the images.
 //!
 //! Three connections share the work (records and chain; facts; words and order), each in
-//! one transaction, so that the server's work runs on more than one core. The ingest
-//! triggers of the loaded tables are disabled for the load, and the secondary indexes of the
-//! chain and the read tables are dropped and made again at the end when the fleet is
-//! smaller than what is added (one build instead of millions of index inserts; see
-//! [`REBUILT`]). Nothing is visible to others before the
+//! one transaction, so that the server's work runs on more than one core; while a bench's
+//! incidents stream in, each connection sends from its own thread (`fill_stream`). The ingest
+//! triggers of the loaded tables are disabled for the load, and when the fleet is smaller
+//! than what is added the secondary indexes of the chain and the read tables are dropped
+//! and made again at the end (one build instead of millions of index inserts; see
+//! [`REBUILT`]), as are the records' foreign keys to the benches (one check of the whole
+//! table instead of two lookups per row; the fill holds the records and benches tables to
+//! itself until it ends, readers included). Nothing is visible to others before the
 //! end; an error before it rolls everything back. The three commits come one after another:
 //! a server lost between them would leave records without their read tables, which `verify`
 //! on the fleet reports. The fill only makes benches the fleet does not know, and holds the
 //! loaded tables to itself until it ends (disabling triggers locks a table).
 
-use std::collections::{BTreeMap, HashSet};
+use std::collections::BTreeMap;
 
 use postgres::binary_copy::BinaryCopyInWriter;
-use postgres::types::{ToSql, Type};
+use postgres::types::Type;
 use postgres::Client;
 
-use super::fill_facts::{fact_row, fleet_reference};
+use super::fill_stream::{stream_bench, RECORDS_COPY};
+pub use super::fill_stream::{BenchRows, Streamed};
 use super::sync::{link_hash, receipt_text};
 use super::{Fleet, FleetError};
 use crate::store::audit::{manifest_records, BATCH, INCIDENT};
-use crate::store::bulk::StreamedIncident;
 use crate::store::{canon, outbox, Store};
 
-/// The fleet's records as both parts of a fill copy them in, and their columns' types.
-const RECORDS_COPY: &str = "COPY fleet_records (entity, id, origin, owner, image, digest, \
-     reference, bench_seq, fleet_seq) FROM STDIN (FORMAT binary)";
+/// The types of the columns of [`RECORDS_COPY`].
 const RECORDS_TYPES: [Type; 9] = [
     Type::TEXT,
     Type::TEXT,
@@ -67,35 +68,24 @@ WHERE c.relname = $1 AND c.relnamespace = 'public'::regnamespace
   AND NOT EXISTS (SELECT 1 FROM pg_constraint k WHERE k.conindid = i.indexrelid)
 ORDER BY x.relname";
 
+/// The foreign keys of `fleet_records` (to the benches): name, definition.
+const FOREIGN_KEYS: &str = "
+SELECT quote_ident(conname), pg_get_constraintdef(oid)
+FROM pg_constraint
+WHERE conrelid = 'public.fleet_records'::regclass AND contype = 'f'
+ORDER BY conname";
+
 /// A fill in progress: three connections, each in its own transaction.
 pub struct BulkFill {
     links: [Client; 3],
-    /// Indexes dropped for the load, per connection: (name, statement that makes it).
+    /// Indexes (and, on the first, the records' foreign keys) dropped for the load, per
+    /// connection: (name, statement that makes it again).
     dropped: [Vec<(String, String)>; 3],
     /// The next receipt number and the fleet chain's last hash.
     fleet_seq: i64,
     prev_hash: String,
     /// The last place in the fleet's order of creation.
     ord: i64,
-}
-
-/// One bench's incidents being streamed in.
-pub struct BenchFill<'f> {
-    code: String,
-    fleet_seq: i64,
-    ord: &'f mut i64,
-    records: BinaryCopyInWriter<'f>,
-    facts: BinaryCopyInWriter<'f>,
-    words: BinaryCopyInWriter<'f>,
-    count: u64,
-    files: HashSet<String>,
-}
-
-/// What a bench's stream left for [`BulkFill::end_bench`].
-pub struct Streamed {
-    code: String,
-    count: u64,
-    files: HashSet<String>,
 }
 
 /// What a bench's fill wrote.
@@ -162,14 +152,6 @@ impl BulkFill {
             "ALTER TABLE fleet_records DISABLE TRIGGER USER;
              ALTER TABLE bench_chain DISABLE TRIGGER USER;",
         )?;
-        c.batch_execute(
-            // the words become a tsvector as they arrive (the server works on them while
-            // the client makes the next incidents), not all at the end
-            "CREATE TEMP TABLE fill_words (id text NOT NULL, bench text NOT NULL,
-                 ord bigint NOT NULL, words text,
-                 doc tsvector GENERATED ALWAYS AS (to_tsvector('simple', words)) STORED)
-                 ON COMMIT DROP",
-        )?;
         let mut dropped: [Vec<(String, String)>; 3] = Default::default();
         if rebuild {
             for (k, client) in links.iter_mut().enumerate() {
@@ -182,6 +164,18 @@ impl BulkFill {
                     }
                 }
             }
+            // the records' two checks that their benches exist, one lookup per row and
+            // check (about a third of the records' COPY), become one check of the whole
+            // table at the end, on a connection that has nothing else to do then
+            let [a, _, _] = &mut links;
+            for r in a.query(FOREIGN_KEYS, &[])? {
+                let (name, def): (String, String) = (r.get(0), r.get(1));
+                // the name comes from the catalog, quoted as an identifier
+                a.batch_execute(&format!("ALTER TABLE fleet_records DROP CONSTRAINT {name}"))?;
+                // the definition pg_get_constraintdef gave for the constraint dropped
+                let add = format!("ALTER TABLE fleet_records ADD CONSTRAINT {name} {def}");
+                dropped[0].push((name, add));
+            }
         }
         Ok(BulkFill {
             links,
@@ -192,53 +186,22 @@ impl BulkFill {
         })
     }
 
-    /// Start bench `code`: its row, and the streams of its incidents' records and read rows.
-    pub fn bench(&mut self, code: &str) -> Result<BenchFill<'_>, FleetError> {
-        let [a, b, c] = &mut self.links;
-        a.execute("INSERT INTO fleet_benches (code) VALUES ($1)", &[&code])?;
-        let records = BinaryCopyInWriter::new(a.copy_in(RECORDS_COPY)?, &RECORDS_TYPES);
-        let facts = BinaryCopyInWriter::new(
-            b.copy_in(
-                "COPY fleet_facts (id, origin, owner, ord, reference, found_on, asset, position,
-                                   site, product, supplier, lot, status, cause, origin_type,
-                                   temper, stress_pa, applied_stress_pa)
-                 FROM STDIN (FORMAT binary)",
-            )?,
-            &[
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::INT8,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::TEXT,
-                Type::FLOAT8,
-                Type::FLOAT8,
-            ],
-        );
-        let words = BinaryCopyInWriter::new(
-            c.copy_in("COPY fill_words (id, bench, ord, words) FROM STDIN (FORMAT binary)")?,
-            &[Type::TEXT, Type::TEXT, Type::INT8, Type::TEXT],
-        );
-        Ok(BenchFill {
-            code: code.to_string(),
-            fleet_seq: self.fleet_seq,
-            ord: &mut self.ord,
-            records,
-            facts,
-            words,
-            count: 0,
-            files: HashSet::new(),
-        })
+    /// Bench `code`: its row, then its incidents, which `produce` hands to
+    /// [`BenchRows::add`] in the order of the bench's chain, streamed in as they come (see
+    /// `fill_stream`). What is left for [`BulkFill::end_bench`].
+    pub fn fill_bench(
+        &mut self,
+        code: &str,
+        produce: impl FnOnce(&mut BenchRows<'_>) -> Result<(), FleetError>,
+    ) -> Result<Streamed, FleetError> {
+        self.links[0].execute("INSERT INTO fleet_benches (code) VALUES ($1)", &[&code])?;
+        stream_bench(
+            &mut self.links,
+            code,
+            self.fleet_seq,
+            &mut self.ord,
+            produce,
+        )
     }
 
     /// After a bench's stream: its chain and other records from `bench` (the file the
@@ -368,82 +331,11 @@ fn finish_link(
              ALTER TABLE bench_chain ENABLE TRIGGER USER;",
         )?;
     }
-    if k == 2 {
-        client.batch_execute(
-            "INSERT INTO fleet_incident_order (id, bench, ord) SELECT id, bench, ord FROM fill_words;
-             INSERT INTO fleet_search (id, doc)
-                 SELECT id, doc FROM fill_words WHERE words IS NOT NULL;",
-        )?;
-    }
     for (_, def) in indexes {
-        // the statement pg_get_indexdef gave for the index this fill dropped
+        // the statement that makes again an index (or foreign key) this fill dropped
         client.batch_execute(def)?;
     }
     Ok(())
-}
-
-impl BenchFill<'_> {
-    /// Add one incident of the stream (in the order of the bench's chain).
-    pub fn add(&mut self, s: &StreamedIncident) -> Result<(), FleetError> {
-        let code = self.code.as_str();
-        let reference = fleet_reference(code, &s.image);
-        *self.ord += 1;
-        let ord = *self.ord;
-        self.records.write(&[
-            &INCIDENT,
-            &s.incident.id,
-            &code,
-            &code,
-            &s.image,
-            &s.digest,
-            &reference,
-            &s.seq,
-            &self.fleet_seq,
-        ])?;
-        let row = fact_row(code, &s.image)?;
-        if let Some(f) = &row {
-            let values: [&(dyn ToSql + Sync); 18] = [
-                &s.incident.id,
-                &code,
-                &code,
-                &ord,
-                &f.reference,
-                &f.found_on,
-                &f.asset,
-                &f.position,
-                &f.site,
-                &f.product,
-                &f.supplier,
-                &f.lot,
-                &f.status,
-                &f.cause,
-                &f.origin_type,
-                &f.temper,
-                &f.stress_pa,
-                &f.applied_stress_pa,
-            ];
-            self.facts.write(&values)?;
-        }
-        let words = row.map(|f| f.words);
-        self.words.write(&[&s.incident.id, &code, &ord, &words])?;
-        for a in &s.incident.attachments {
-            self.files.insert(a.sha256.clone());
-        }
-        self.count += 1;
-        Ok(())
-    }
-
-    /// End the streams of this bench.
-    pub fn finish(self) -> Result<Streamed, FleetError> {
-        self.records.finish()?;
-        self.facts.finish()?;
-        self.words.finish()?;
-        Ok(Streamed {
-            code: self.code,
-            count: self.count,
-            files: self.files,
-        })
-    }
 }
 
 /// A record other than a streamed incident, at its last touch: the row's seq and image.

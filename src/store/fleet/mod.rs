@@ -18,13 +18,16 @@
 //! - `status`: also the open conflicts with both versions.
 //! - `resolve`: the owning bench settles a conflict with a new edit that names it.
 //! - `bulk_fill`: new benches written straight into the fleet's tables (`fleet demo`), the
-//!   rows their first pushes would leave; `fill_facts` their read-table rows.
+//!   rows their first pushes would leave; `fill_facts` their read-table rows, `fill_stream`
+//!   a bench's incidents sent over three connections at once, `copy_rows` binary COPY rows.
 //! - `sync`: push then pull, with the bench's receipts and `verify --fleet`.
 
 mod bulk_fill;
 mod check;
 mod connect;
+mod copy_rows;
 mod fill_facts;
+mod fill_stream;
 mod pull;
 mod pull_incidents;
 mod push;
@@ -42,7 +45,7 @@ mod schema;
 mod status;
 mod sync;
 
-pub use bulk_fill::{BenchFill, BenchFilled, BulkFill, Streamed};
+pub use bulk_fill::{BenchFilled, BenchRows, BulkFill, Streamed};
 pub use check::{BenchChainCheck, FleetCheck};
 pub use connect::Fleet;
 pub use pull::PullReport;
