@@ -11,7 +11,7 @@
 //!   the rows). `import` skips the line.
 
 use std::collections::{BTreeMap, HashSet};
-use std::io::{Seek, SeekFrom, Write};
+use std::io::Write;
 use std::path::Path;
 
 use rusqlite::params;
@@ -107,36 +107,42 @@ impl Store {
     }
 
     /// The CSV export of `filter`, its first line the signed head (see the module notes),
-    /// written to `out`. The head signs the bytes after it, so those are spooled to a
-    /// private temporary file while their digest is taken, then copied out after the line:
-    /// memory stays flat however many incidents there are.
+    /// written to `out`. The head signs the bytes after it, so the rows are read twice in
+    /// one read transaction: once for their digest, then to write them after the line.
+    /// Memory stays flat however many incidents there are, and nothing is written but `out`
+    /// (an export to standard output works on a full disk).
     pub fn export_csv_signed(
         &self,
         filter: &Filter,
         key_dir: &Path,
         out: &mut dyn Write,
     ) -> Result<SignedExport, StoreError> {
-        let mut spool = Spool::new()?;
         let tx = self.conn.unchecked_transaction()?;
         let (seq, hash) = self.audit_head_entry()?;
-        let (incidents, damaged, digest) = {
-            let mut body = Hashing {
-                inner: std::io::BufWriter::new(&mut spool.file),
-                digest: Sha256::new(),
-            };
-            let (incidents, damaged) = self.export_csv_readable(filter, &mut body)?;
-            body.inner.flush().map_err(spool_err)?;
-            (incidents, damaged, canonical::hex(&body.digest.finalize()))
+        let mut read = Hashing {
+            inner: std::io::sink(),
+            digest: Sha256::new(),
         };
-        tx.commit()?;
+        let (incidents, damaged) = self.export_csv_readable(filter, &mut read)?;
+        let digest = canonical::hex(&read.digest.finalize());
         let signed_head = self.sign_head_at(key_dir, seq, &hash, &digest)?;
         if let Some(h) = &signed_head {
             put(out, CSV_SIGNED_PREFIX.as_bytes())?;
             put(out, serde_json::to_string(h)?.as_bytes())?;
             put(out, b"\n")?;
         }
-        spool.file.seek(SeekFrom::Start(0)).map_err(spool_err)?;
-        std::io::copy(&mut spool.file, out).map_err(output_err)?;
+        let mut written = Hashing {
+            inner: out,
+            digest: Sha256::new(),
+        };
+        self.export_csv_readable(filter, &mut written)?;
+        tx.commit()?;
+        // the same snapshot read twice gives the same bytes; said, not assumed
+        if canonical::hex(&written.digest.finalize()) != digest {
+            return Err(StoreError::Database(
+                "the export's rows changed between their digest and their writing; the export is not good: make it again".into(),
+            ));
+        }
         Ok(SignedExport {
             incidents,
             signed_head,
@@ -201,13 +207,6 @@ fn output_err(e: std::io::Error) -> StoreError {
     }
 }
 
-fn spool_err(e: std::io::Error) -> StoreError {
-    StoreError::File {
-        path: "the export's temporary file".into(),
-        message: e.to_string(),
-    }
-}
-
 fn put(out: &mut dyn Write, bytes: &[u8]) -> Result<(), StoreError> {
     out.write_all(bytes).map_err(output_err)
 }
@@ -226,34 +225,6 @@ impl<W: Write> Write for Hashing<W> {
     }
     fn flush(&mut self) -> std::io::Result<()> {
         self.inner.flush()
-    }
-}
-
-/// A private temporary file in the system's temporary folder, removed when dropped.
-struct Spool {
-    path: std::path::PathBuf,
-    file: std::fs::File,
-}
-
-impl Spool {
-    fn new() -> Result<Spool, StoreError> {
-        let path =
-            super::super::temporary_sibling(&std::env::temp_dir().join("shardlog-export.csv"));
-        let mut opts = std::fs::OpenOptions::new();
-        opts.read(true).write(true).create_new(true);
-        #[cfg(unix)]
-        {
-            use std::os::unix::fs::OpenOptionsExt;
-            opts.mode(0o600);
-        }
-        let file = opts.open(&path).map_err(spool_err)?;
-        Ok(Spool { path, file })
-    }
-}
-
-impl Drop for Spool {
-    fn drop(&mut self) {
-        let _ = std::fs::remove_file(&self.path);
     }
 }
 
