@@ -15,6 +15,7 @@ pub mod attach;
 pub mod calibrate;
 mod calibrate_save;
 pub mod codes;
+pub mod export;
 pub mod exposure;
 pub mod fleet;
 pub mod fleet_demo;
@@ -62,7 +63,7 @@ pub enum Command {
     /// Import incidents from CSV or JSON (all or nothing).
     Import(records::ImportArgs),
     /// Export incidents as CSV or JSON.
-    Export(records::ExportArgs),
+    Export(export::ExportArgs),
     /// Panes in service (the denominator of rates): import from CSV, list.
     Exposure(exposure::ExposureArgs),
     /// The lab's own lists (causes, origin types, custody events, statuses, viewing modes):
@@ -495,7 +496,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Calibrate(a) => calibrate::run(a, &mut ctx),
         Command::Init(a) => records::init(a, &mut ctx),
         Command::Import(a) => records::import(a, &mut ctx),
-        Command::Export(a) => records::export(a, &mut ctx),
+        Command::Export(a) => export::export(a, &mut ctx),
         Command::Exposure(a) => exposure::run(a, &mut ctx),
         Command::Lookups(a) => lookups::run(a, &mut ctx),
         Command::Fragmentation(a) => fragmentation::run(a, &mut ctx),
