@@ -218,6 +218,25 @@ fn an_incident_changed_after_the_export_is_noted_not_failed() {
     );
 }
 
+/// A demo database of `n` incidents in `dir`, and the folder of its key.
+fn demo(dir: &Path, n: usize) -> (PathBuf, PathBuf) {
+    let db = dir.join("demo.db");
+    let keys = dir.join("keys");
+    let (code, text) = run(
+        &db,
+        &keys,
+        &[
+            "demo",
+            "--incidents",
+            &n.to_string(),
+            "--out",
+            db.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(code, 0, "{text}");
+    (db, keys)
+}
+
 /// The whole document serialized at once, as exports were written before they were streamed:
 /// the streamed file must be these very bytes, and its signed digest the document's.
 fn whole_document(db: &Path, filter: &Filter, streamed: &[u8]) -> Vec<u8> {
@@ -241,14 +260,7 @@ fn whole_document(db: &Path, filter: &Filter, streamed: &[u8]) -> Vec<u8> {
 #[test]
 fn a_streamed_json_export_is_byte_for_byte_the_whole_document() {
     let dir = tempfile::tempdir().unwrap();
-    let db = dir.path().join("demo.db");
-    let keys = dir.path().join("keys");
-    let (code, text) = run(
-        &db,
-        &keys,
-        &["demo", "--incidents", "300", "--out", db.to_str().unwrap()],
-    );
-    assert_eq!(code, 0, "{text}");
+    let (db, keys) = demo(dir.path(), 300);
     // all of them, some of them, none of them (an empty array is written apart)
     for (args, filter) in [
         (vec![], Filter::default()),
@@ -287,14 +299,7 @@ fn an_export_whose_reader_goes_away_ends_quietly() {
     use std::io::Read;
     use std::process::{Command, Stdio};
     let dir = tempfile::tempdir().unwrap();
-    let db = dir.path().join("demo.db");
-    let keys = dir.path().join("keys");
-    let (code, text) = run(
-        &db,
-        &keys,
-        &["demo", "--incidents", "2000", "--out", db.to_str().unwrap()],
-    );
-    assert_eq!(code, 0, "{text}");
+    let (db, keys) = demo(dir.path(), 2000);
     for format in ["json", "csv"] {
         let mut child = Command::new(env!("CARGO_BIN_EXE_shardlog"))
             .env("SHARDLOG_KEY_DIR", &keys)

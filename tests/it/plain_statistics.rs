@@ -33,14 +33,13 @@ fn stat_tables(db: &Path) -> Vec<(String, i64)> {
         .collect()
 }
 
-#[test]
-fn the_demo_keeps_row_counts_and_no_key_samples() {
-    let dir = tempfile::tempdir().expect("temp dir");
-    let db = dir.path().join("demo.db");
+/// A demo database of `n` incidents in `dir` (made by the bulk path, with its ANALYZE).
+fn demo(dir: &Path, n: usize) -> std::path::PathBuf {
+    let db = dir.join("demo.db");
     let out = shardlog(&[
         "demo",
         "--incidents",
-        "3000",
+        &n.to_string(),
         "--out",
         db.to_str().expect("utf-8"),
     ]);
@@ -49,6 +48,13 @@ fn the_demo_keeps_row_counts_and_no_key_samples() {
         "{}",
         String::from_utf8_lossy(&out.stderr)
     );
+    db
+}
+
+#[test]
+fn the_demo_keeps_row_counts_and_no_key_samples() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let db = demo(dir.path(), 3000);
     let tables = stat_tables(&db);
     assert!(
         tables
@@ -65,19 +71,7 @@ fn the_demo_keeps_row_counts_and_no_key_samples() {
 #[test]
 fn a_database_with_key_samples_loses_them_on_upgrade_and_keeps_its_records() {
     let dir = tempfile::tempdir().expect("temp dir");
-    let db = dir.path().join("old.db");
-    let out = shardlog(&[
-        "demo",
-        "--incidents",
-        "2000",
-        "--out",
-        db.to_str().expect("utf-8"),
-    ]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    let db = demo(dir.path(), 2000);
     let listed = |db: &Path| {
         let out = shardlog(&["--db", db.to_str().expect("utf-8"), "list", "--limit", "5"]);
         assert!(
