@@ -155,6 +155,9 @@ fn a_command_line_change_is_audited_under_shardlog_user() {
     let import = |user: Option<&str>| {
         let mut c = Command::new(env!("CARGO_BIN_EXE_shardlog"));
         c.env_remove("SHARDLOG_USER")
+            // the name kept from the interface's first use lives under the data folder: an
+            // empty one here, so a name kept on this machine does not stand in for $USER
+            .env("XDG_DATA_HOME", dir.path().join("data"))
             .env("USER", "login-name")
             .env("USERNAME", "other-login")
             // an old name for the setting is not read
