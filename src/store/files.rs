@@ -267,27 +267,7 @@ pub fn write_atomically_with<T>(
     private: bool,
     write: impl FnOnce(&mut dyn Write) -> Result<T, StoreError>,
 ) -> Result<T, StoreError> {
-    let tmp = temporary_sibling(path);
-    let f = create_new_file(&tmp, private).map_err(|e| io_err(path, e))?;
-    let written = (|| {
-        let mut w = std::io::BufWriter::new(f);
-        let t = write(&mut w)?;
-        let f = w.into_inner().map_err(|e| io_err(path, e.into_error()))?;
-        f.sync_all().map_err(|e| io_err(path, e))?;
-        drop(f);
-        fs::rename(&tmp, path).map_err(|e| io_err(path, e))?;
-        Ok(t)
-    })();
-    match written {
-        Ok(t) => {
-            sync_dir(path.parent().unwrap_or(Path::new("."))).map_err(|e| io_err(path, e))?;
-            Ok(t)
-        }
-        Err(e) => {
-            let _ = fs::remove_file(&tmp);
-            Err(e)
-        }
-    }
+    replace_file(path, private, write, |e| io_err(path, e))
 }
 
 /// Replace (or create) `path` with `bytes` so that a reader, a crash or a failed write never
@@ -295,13 +275,40 @@ pub fn write_atomically_with<T>(
 /// rename it over `path`, flush the folder. On failure the temporary file is removed and
 /// whatever was at `path` before is untouched.
 pub fn write_atomically(path: &Path, bytes: &[u8], private: bool) -> std::io::Result<()> {
+    replace_file(path, private, |w| w.write_all(bytes), |e| e)
+}
+
+/// The one sequence behind [`write_atomically`] and [`write_atomically_with`]: a new temporary
+/// sibling, `write` into it through a buffer, flush it to the disk, rename it over `path`, flush
+/// the folder; on any failure before the rename the temporary file is removed. `io` turns an
+/// I/O failure into the caller's error type.
+fn replace_file<T, E>(
+    path: &Path,
+    private: bool,
+    write: impl FnOnce(&mut dyn Write) -> Result<T, E>,
+    io: impl Fn(std::io::Error) -> E,
+) -> Result<T, E> {
     let tmp = temporary_sibling(path);
-    write_new_synced(&tmp, bytes, private)?;
-    if let Err(e) = fs::rename(&tmp, path) {
-        let _ = fs::remove_file(&tmp);
-        return Err(e);
+    let f = create_new_file(&tmp, private).map_err(&io)?;
+    let written = (|| {
+        let mut w = std::io::BufWriter::new(f);
+        let t = write(&mut w)?;
+        let f = w.into_inner().map_err(|e| io(e.into_error()))?;
+        f.sync_all().map_err(&io)?;
+        drop(f);
+        fs::rename(&tmp, path).map_err(&io)?;
+        Ok(t)
+    })();
+    match written {
+        Ok(t) => {
+            sync_dir(path.parent().unwrap_or(Path::new("."))).map_err(&io)?;
+            Ok(t)
+        }
+        Err(e) => {
+            let _ = fs::remove_file(&tmp);
+            Err(e)
+        }
     }
-    sync_dir(path.parent().unwrap_or(Path::new(".")))
 }
 
 pub(crate) fn copy_dir(src: &Path, dest: &Path) -> Result<(), StoreError> {
